@@ -1,0 +1,121 @@
+//! The one configuration error type.
+//!
+//! Configuration is validated once, at construction; the per-scan update path
+//! never returns an error (bad measurements become bad *quality*, see
+//! [`crate::quality`]).
+
+use core::fmt;
+
+/// A configuration that cannot be right, naming the offending field.
+///
+/// `stage` fields are zero-based stage indices.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
+pub enum ConfigError {
+    /// `gas.molar_mass` is not a finite positive number (kg/kmol).
+    MolarMass,
+    /// `gas.k`, the heat-capacity ratio, is not finite or not above 1.
+    HeatCapacityRatio,
+    /// `gas.cp_polynomial` gives a non-positive or non-finite cp, or a
+    /// heat-capacity ratio not above 1, somewhere in its validity range, or
+    /// the range itself is empty.
+    HeatCapacityPolynomial,
+    /// `gas.compressibility` is not in (0, 2].
+    Compressibility,
+    /// `stages[stage].design_suction_pressure` is not finite and positive.
+    DesignSuctionPressure {
+        /// Stage index.
+        stage: u8,
+    },
+    /// `stages[stage].design_discharge_pressure` is not above the stage's
+    /// design suction pressure.
+    DesignDischargePressure {
+        /// Stage index.
+        stage: u8,
+    },
+    /// `stages[stage].design_suction_pressure` does not chain with the
+    /// previous stage's design discharge pressure: it is above it, or lower
+    /// than `max_interstage_pressure_drop` allows.
+    PressureChain {
+        /// Stage index.
+        stage: u8,
+    },
+    /// `max_interstage_pressure_drop` is not in [0, 0.9].
+    MaxInterstagePressureDrop,
+    /// A pump stage's `density` is not finite and positive (kg/m3).
+    PumpDensity {
+        /// Stage index.
+        stage: u8,
+    },
+    /// A pump stage's `efficiency` is not in (0, 1].
+    PumpEfficiency {
+        /// Stage index.
+        stage: u8,
+    },
+    /// A compressor stage follows a pump stage: pumps may only end a train.
+    PumpPosition {
+        /// Stage index of the offending compressor.
+        stage: u8,
+    },
+    /// A cooler's `coolant_cp` is not finite and positive (J/(kg K)).
+    CoolantSpecificHeat {
+        /// Index of the stage the cooler follows.
+        stage: u8,
+    },
+    /// A `steady_state` tolerance is not finite and positive.
+    SteadyStateTolerance,
+    /// The train has no compressor stage.
+    NoCompressorStage,
+}
+
+impl fmt::Display for ConfigError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        use ConfigError::*;
+        match *self {
+            MolarMass => f.write_str("gas.molar_mass must be finite and > 0 (kg/kmol)"),
+            HeatCapacityRatio => f.write_str("gas.k must be finite and > 1"),
+            HeatCapacityPolynomial => f.write_str(
+                "gas.cp_polynomial must give finite cp > R over a non-empty validity range",
+            ),
+            Compressibility => f.write_str("gas.compressibility must be in (0, 2]"),
+            DesignSuctionPressure { stage } => write!(
+                f,
+                "stages[{stage}].design_suction_pressure must be finite and > 0 Pa"
+            ),
+            DesignDischargePressure { stage } => write!(
+                f,
+                "stages[{stage}].design_discharge_pressure must exceed its design suction pressure"
+            ),
+            PressureChain { stage } => write!(
+                f,
+                "stages[{stage}].design_suction_pressure does not chain with stage {} discharge",
+                stage.saturating_sub(1)
+            ),
+            MaxInterstagePressureDrop => {
+                f.write_str("max_interstage_pressure_drop must be in [0, 0.9]")
+            }
+            PumpDensity { stage } => {
+                write!(
+                    f,
+                    "stages[{stage}] pump density must be finite and > 0 kg/m3"
+                )
+            }
+            PumpEfficiency { stage } => {
+                write!(f, "stages[{stage}] pump efficiency must be in (0, 1]")
+            }
+            PumpPosition { stage } => write!(
+                f,
+                "stages[{stage}] is a compressor after a pump: pumps may only end a train"
+            ),
+            CoolantSpecificHeat { stage } => write!(
+                f,
+                "stages[{stage}].cooler.coolant_cp must be finite and > 0 J/(kg K)"
+            ),
+            SteadyStateTolerance => f.write_str("steady_state tolerances must be finite and > 0"),
+            NoCompressorStage => f.write_str("the train needs at least one compressor stage"),
+        }
+    }
+}
+
+impl core::error::Error for ConfigError {}

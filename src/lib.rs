@@ -1,0 +1,82 @@
+//! # polytrope
+//!
+//! A `no_std`, no-heap, panic-free calculation kernel for multistage gas
+//! compressor trains. From one scan of measured pressures, temperatures and
+//! flows it computes, per stage, the pressure ratio, the isentropic,
+//! polytropic and isothermal heads, the actual work from the temperature
+//! rise, both efficiencies, the polytropic exponent and the gas power; per
+//! cooler, the temperature drop, approach, effectiveness, duty, pressure drop
+//! and (with coolant outlet and flow) LMTD, UA and heat balance; and for the
+//! whole train, total work and power against the isothermal ideal, the
+//! equal-ratio interstage pressures and what staging with intercooling saves
+//! against one uncooled stage. Every value carries a [`Quality`].
+//!
+//! **Caution.** This crate is not a certified safety function (IEC 61508 /
+//! IEC 61511). Machine limits come from the machine maker's data; follow
+//! local codes and licensed engineering practice.
+//!
+//! ```
+//! use polytrope::gas::{IdealGas, AIR};
+//! use polytrope::scan::{Scan, StageScan};
+//! use polytrope::steady::SteadyStateConfig;
+//! use polytrope::train::{StageConfig, StageKind, Train, TrainConfig};
+//! use polytrope::units::PressureAbs;
+//! use polytrope::Quality;
+//!
+//! let stage = |p1: f32, p2: f32| StageConfig {
+//!     kind: StageKind::Compressor,
+//!     design_suction_pressure: PressureAbs::from_bar(p1),
+//!     design_discharge_pressure: PressureAbs::from_bar(p2),
+//!     cooler: None,
+//! };
+//! let config = TrainConfig {
+//!     gas: IdealGas::from_spec(&AIR, false, 1.0)?,
+//!     stages: [stage(1.0, 3.0), stage(2.9, 9.0)],
+//!     max_interstage_pressure_drop: 0.1,
+//!     steady_state: SteadyStateConfig::default(),
+//! };
+//! // Two stages, an 8-scan steady-state window, f32 as on the device.
+//! let mut train = Train::<f32, _, 2, 8>::new(config)?;
+//! let scan = Scan {
+//!     stages: [
+//!         StageScan::from_si(1.0e5, 300.0, 3.0e5, 430.0),
+//!         StageScan::from_si(2.9e5, 305.0, 9.0e5, 440.0),
+//!     ],
+//! };
+//! let snapshot = train.update(&scan);
+//! let first = snapshot.stages[0].compressor().unwrap();
+//! assert_eq!(first.isentropic_efficiency.quality, Quality::Good);
+//! assert!((first.isentropic_efficiency.value - 0.851).abs() < 0.001);
+//! assert!(snapshot.totals.isothermal_efficiency.value < 1.0);
+//! # Ok::<(), polytrope::ConfigError>(())
+//! ```
+//!
+//! Module map: [`real`] (the f32/f64 seam), [`units`], [`quality`],
+//! [`error`], [`gas`] (gas models), [`compression`] (ideal heads),
+//! [`stage`] (compressor and pump), [`steady`], [`cooler`], [`staging`]
+//! (whole-train ideals), [`scan`] (inputs and the sensor boundary),
+//! [`train`] (configuration and update), [`tolerance`] (the f32-vs-f64
+//! accuracy table), [`demo`] (an invented scenario).
+#![no_std]
+#![cfg_attr(docsrs, feature(doc_auto_cfg))]
+#[cfg(test)]
+extern crate std;
+
+pub mod compression;
+pub mod cooler;
+pub mod demo;
+pub mod error;
+pub mod gas;
+pub mod quality;
+pub mod real;
+pub mod scan;
+pub mod stage;
+pub mod staging;
+pub mod steady;
+pub mod tolerance;
+pub mod train;
+pub mod units;
+
+pub use error::ConfigError;
+pub use quality::{Measured, Quality};
+pub use real::Real;

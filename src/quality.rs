@@ -1,0 +1,141 @@
+//! Signal and result quality: every value the kernel reports carries one.
+//!
+//! Three levels, ordered from best to worst, as in common process-control
+//! practice (good / uncertain / bad). A derived value takes the worst quality
+//! of the values it was computed from ([`Quality::worst`]).
+
+use crate::real::Real;
+
+/// How far a value can be trusted.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Quality {
+    /// Valid input, consistent result.
+    #[default]
+    Good,
+    /// Usable with care: substituted, outside a validated range, or
+    /// physically suspicious (for example an efficiency above 1).
+    Uncertain,
+    /// Not usable. The value is a finite placeholder (zero) and must not be
+    /// trended, alarmed on or controlled with.
+    Bad,
+}
+
+impl Quality {
+    /// The worse of two qualities.
+    #[inline]
+    #[must_use]
+    pub fn worst(self, other: Quality) -> Quality {
+        if other > self {
+            other
+        } else {
+            self
+        }
+    }
+
+    /// `true` for [`Quality::Good`].
+    #[inline]
+    pub fn is_good(self) -> bool {
+        self == Quality::Good
+    }
+
+    /// `true` unless [`Quality::Bad`].
+    #[inline]
+    pub fn is_usable(self) -> bool {
+        self != Quality::Bad
+    }
+}
+
+/// A value with its quality.
+///
+/// Construct kernel outputs with [`Measured::derived`], which never lets a NaN
+/// or an infinity through: a non-finite value becomes `0` with
+/// [`Quality::Bad`].
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Measured<V> {
+    /// The value, in the unit the field documents.
+    pub value: V,
+    /// How far the value can be trusted.
+    pub quality: Quality,
+}
+
+impl<V> Measured<V> {
+    /// A value with [`Quality::Good`].
+    #[inline]
+    pub const fn good(value: V) -> Self {
+        Measured {
+            value,
+            quality: Quality::Good,
+        }
+    }
+
+    /// A value with an explicit quality.
+    #[inline]
+    pub const fn new(value: V, quality: Quality) -> Self {
+        Measured { value, quality }
+    }
+
+    /// Applies `f` to the value, keeping the quality (unit conversions).
+    #[inline]
+    pub fn map<U>(self, f: impl FnOnce(V) -> U) -> Measured<U> {
+        Measured {
+            value: f(self.value),
+            quality: self.quality,
+        }
+    }
+}
+
+impl<T: Real> Measured<T> {
+    /// A placeholder for a value that could not be computed: `0`, bad.
+    #[inline]
+    pub fn bad() -> Self {
+        Measured {
+            value: T::ZERO,
+            quality: Quality::Bad,
+        }
+    }
+
+    /// A computed value: keeps `quality` if `value` is finite and `quality`
+    /// is not bad; otherwise `0` with [`Quality::Bad`].
+    #[inline]
+    pub fn derived(value: T, quality: Quality) -> Self {
+        if T::is_finite(value) && quality != Quality::Bad {
+            Measured { value, quality }
+        } else {
+            Self::bad()
+        }
+    }
+
+    /// Downgrades the quality to at least `q`.
+    #[inline]
+    #[must_use]
+    pub fn at_most(self, q: Quality) -> Self {
+        Self::derived(self.value, self.quality.worst(q))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn worst_is_ordered() {
+        use Quality::*;
+        assert_eq!(Good.worst(Uncertain), Uncertain);
+        assert_eq!(Bad.worst(Good), Bad);
+        assert_eq!(Uncertain.worst(Good), Uncertain);
+    }
+
+    #[test]
+    fn derived_never_lets_non_finite_through() {
+        for v in [f32::NAN, f32::INFINITY, f32::NEG_INFINITY] {
+            let m = Measured::derived(v, Quality::Good);
+            assert_eq!(m.value, 0.0);
+            assert_eq!(m.quality, Quality::Bad);
+        }
+        let m = Measured::derived(5.0_f32, Quality::Uncertain);
+        assert_eq!((m.value, m.quality), (5.0, Quality::Uncertain));
+        assert_eq!(Measured::derived(5.0_f32, Quality::Bad).value, 0.0);
+    }
+}

@@ -1,0 +1,7 @@
+//! Stage kinds: a gas compressor stage and a liquid / dense-phase pump stage.
+
+pub mod compressor;
+pub mod pump;
+
+pub use compressor::{evaluate_compressor, CompressorInputs, CompressorResult, StageCondition};
+pub use pump::{evaluate_pump, PumpResult};

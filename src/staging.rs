@@ -1,0 +1,172 @@
+//! Staging with intercooling: the whole-train ideal references.
+//!
+//! Sources: Çengel & Boles, *Thermodynamics: An Engineering Approach*,
+//! ch. 7, "Multistage compression with intercooling": with perfect
+//! intercooling back to the suction temperature, the total work of N ideal
+//! stages is least when every stage has the same pressure ratio,
+//! r_stage = r^(1/N), so the optimum interstage pressures are
+//! p_i = p_suction · r^(i/N). The isothermal work Z·R·T1·ln r is the limit as
+//! N grows; one uncooled isentropic stage is the other extreme.
+
+use crate::compression::{isentropic_head, isothermal_head};
+use crate::quality::{Measured, Quality};
+use crate::real::Real;
+
+/// Optimum discharge pressure of stage `i` (zero-based) of `stages` equal-
+/// ratio stages: p_suction · r^((i+1)/stages), Pa.
+#[inline]
+pub fn equal_ratio_interstage_pressure<T: Real>(
+    p_suction: T,
+    overall_ratio: T,
+    stages: u32,
+    i: u32,
+) -> T {
+    let f = T::of((i as f64 + 1.0) / stages as f64);
+    p_suction * T::exp(f * T::ln(overall_ratio))
+}
+
+/// Interstage pressure of one compressor stage against the equal-ratio
+/// optimum.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct InterstagePressure<T> {
+    /// Measured discharge pressure, Pa.
+    pub measured: Measured<T>,
+    /// Equal-ratio optimum, Pa.
+    pub optimum: Measured<T>,
+    /// measured / optimum - 1, -.
+    pub deviation: Measured<T>,
+}
+
+/// Whole-train totals and ideal references.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct TrainTotals<T> {
+    /// Number of compressor stages (pumps excluded).
+    pub compressor_stages: u8,
+    /// Last compressor discharge over first suction pressure, -.
+    pub overall_pressure_ratio: Measured<T>,
+    /// Sum of the compressor stages' actual specific work, J/kg.
+    pub compressor_work: Measured<T>,
+    /// Sum of the compressor stages' gas power, W.
+    pub compressor_power: Measured<T>,
+    /// Sum of the pump stages' shaft power, W.
+    pub pump_power: Measured<T>,
+    /// Compressor plus pump power, W.
+    pub total_power: Measured<T>,
+    /// Isothermal work for the overall ratio at the first suction
+    /// temperature, J/kg.
+    pub isothermal_work: Measured<T>,
+    /// isothermal_work / compressor_work, -.
+    pub isothermal_efficiency: Measured<T>,
+    /// Isentropic work of one uncooled stage for the overall ratio, J/kg.
+    pub single_stage_isentropic_work: Measured<T>,
+    /// Isentropic work of the same number of equal-ratio stages with perfect
+    /// intercooling, J/kg.
+    pub ideal_staged_isentropic_work: Measured<T>,
+    /// Sum of the stages' isentropic heads at their measured suction
+    /// temperatures and ratios, J/kg.
+    pub measured_staged_isentropic_work: Measured<T>,
+    /// single-stage minus measured-staged isentropic work: what staging and
+    /// intercooling save now, J/kg.
+    pub staging_saving: Measured<T>,
+    /// single-stage minus ideal-staged isentropic work: the most staging
+    /// could save, J/kg.
+    pub ideal_staging_saving: Measured<T>,
+}
+
+impl<T: Real> TrainTotals<T> {
+    /// All totals bad.
+    pub fn bad(compressor_stages: u8) -> Self {
+        let b = Measured::bad();
+        TrainTotals {
+            compressor_stages,
+            overall_pressure_ratio: b,
+            compressor_work: b,
+            compressor_power: b,
+            pump_power: b,
+            total_power: b,
+            isothermal_work: b,
+            isothermal_efficiency: b,
+            single_stage_isentropic_work: b,
+            ideal_staged_isentropic_work: b,
+            measured_staged_isentropic_work: b,
+            staging_saving: b,
+            ideal_staging_saving: b,
+        }
+    }
+}
+
+/// Ideal references for the overall duty: (isothermal, one uncooled
+/// isentropic stage, `stages` ideal intercooled isentropic stages), J/kg.
+#[inline]
+pub fn ideal_references<T: Real>(
+    z: T,
+    gas_constant: T,
+    t1: T,
+    overall_ratio: T,
+    k: T,
+    stages: u32,
+) -> (T, T, T) {
+    let iso = isothermal_head(z, gas_constant, t1, overall_ratio);
+    let single = isentropic_head(z, gas_constant, t1, overall_ratio, k);
+    let s = T::of(stages as f64);
+    let stage_ratio = T::exp(T::ln(overall_ratio) / s);
+    let staged = s * isentropic_head(z, gas_constant, t1, stage_ratio, k);
+    (iso, single, staged)
+}
+
+/// Sum of values with the worst of their qualities.
+#[derive(Clone, Copy, Debug)]
+pub(crate) struct Sum<T> {
+    pub value: T,
+    pub quality: Quality,
+    pub count: u8,
+}
+
+impl<T: Real> Sum<T> {
+    pub fn new() -> Self {
+        Sum {
+            value: T::ZERO,
+            quality: Quality::Good,
+            count: 0,
+        }
+    }
+    pub fn add(&mut self, m: Measured<T>) {
+        self.value += m.value;
+        self.quality = self.quality.worst(m.quality);
+        self.count = self.count.saturating_add(1);
+    }
+    pub fn get(&self) -> Measured<T> {
+        if self.count == 0 {
+            Measured::bad()
+        } else {
+            Measured::derived(self.value, self.quality)
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn equal_ratio_pressures_give_equal_stage_ratios() {
+        // Çengel & Boles: 100 -> 900 kPa in two stages, interstage 300 kPa.
+        let p = equal_ratio_interstage_pressure(100e3_f64, 9.0, 2, 0);
+        assert!((p - 300e3).abs() < 1e-6);
+        let ps: std::vec::Vec<f64> = (0..4)
+            .map(|i| equal_ratio_interstage_pressure(1e5, 16.0, 4, i))
+            .collect();
+        for w in ps.windows(2) {
+            assert!((w[1] / w[0] - 2.0).abs() < 1e-12);
+        }
+        assert!((ps[3] - 16e5).abs() < 1e-6);
+    }
+
+    #[test]
+    fn isothermal_below_staged_below_single() {
+        let (iso, single, staged) = ideal_references(1.0_f64, 287.0, 300.0, 9.0, 1.4, 2);
+        assert!(iso < staged && staged < single);
+    }
+}

@@ -1,0 +1,70 @@
+//! The accuracy table: how far the f32 device build may differ from the f64
+//! reference build, per output quantity. The one source of truth used by
+//! `tests/f32_vs_f64.rs` and quoted in the README (a test checks the README
+//! quotes these numbers).
+//!
+//! A value `a` (f32 build) agrees with `b` (f64 build) when
+//! `|a - b| <= atol + rtol·|b|`.
+
+/// Tolerance for one quantity.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Tolerance {
+    /// Quantity name (as in the README table).
+    pub quantity: &'static str,
+    /// Relative tolerance, -.
+    pub rtol: f64,
+    /// Absolute tolerance, in the quantity's SI unit.
+    pub atol: f64,
+}
+
+impl Tolerance {
+    /// `true` if `device` agrees with `reference`.
+    pub fn accepts(&self, device: f64, reference: f64) -> bool {
+        let d = device - reference;
+        let d = if d < 0.0 { -d } else { d };
+        let r = if reference < 0.0 {
+            -reference
+        } else {
+            reference
+        };
+        d <= self.atol + self.rtol * r
+    }
+}
+
+const fn tol(quantity: &'static str, rtol: f64, atol: f64) -> Tolerance {
+    Tolerance {
+        quantity,
+        rtol,
+        atol,
+    }
+}
+
+/// Pressure ratio, -.
+pub const PRESSURE_RATIO: Tolerance = tol("pressure ratio", 1e-6, 0.0);
+/// Temperatures, K.
+pub const TEMPERATURE: Tolerance = tol("temperature (K)", 1e-6, 1e-3);
+/// Temperature differences (rise, drop, approach, LMTD), K.
+pub const TEMPERATURE_DIFFERENCE: Tolerance = tol("temperature difference (K)", 1e-4, 2e-3);
+/// Heads and specific work, J/kg.
+pub const SPECIFIC_WORK: Tolerance = tol("head / specific work (J/kg)", 2e-5, 0.5);
+/// Efficiencies and effectiveness, -.
+pub const EFFICIENCY: Tolerance = tol("efficiency / effectiveness", 2e-5, 2e-5);
+/// Polytropic exponent, -.
+pub const EXPONENT: Tolerance = tol("polytropic exponent", 2e-5, 2e-5);
+/// Power and heat duty, W.
+pub const POWER: Tolerance = tol("power / duty (W)", 2e-5, 1.0);
+/// Pressures and pressure differences, Pa.
+pub const PRESSURE: Tolerance = tol("pressure (Pa)", 1e-6, 0.05);
+
+/// The whole table, in README order.
+pub const TABLE: [Tolerance; 8] = [
+    PRESSURE_RATIO,
+    TEMPERATURE,
+    TEMPERATURE_DIFFERENCE,
+    SPECIFIC_WORK,
+    EFFICIENCY,
+    EXPONENT,
+    POWER,
+    PRESSURE,
+];

@@ -1,0 +1,513 @@
+//! A train of `N` stages (compressors, optionally ending in pumps) with a
+//! cooler after any stage: configuration, validation and the per-scan update.
+//!
+//! `N` is fixed at compile time; the train owns all state (steady-state
+//! windows, the last snapshot) in fixed memory. [`Train::update`] never
+//! allocates, never panics and runs bounded loops over `N` stages and `W`
+//! window samples.
+
+use crate::cooler::{evaluate_cooler, CoolerConfig, CoolerInputs, CoolerResult};
+use crate::error::ConfigError;
+use crate::gas::GasModel;
+use crate::quality::{Measured, Quality};
+use crate::real::Real;
+use crate::scan::{compressibility, mass_flow_kg_s, pressure_pa, temperature_k, Scan, StageScan};
+use crate::stage::{
+    evaluate_compressor, evaluate_pump, CompressorInputs, CompressorResult, PumpResult,
+};
+use crate::staging::{
+    equal_ratio_interstage_pressure, ideal_references, InterstagePressure, Sum, TrainTotals,
+};
+use crate::steady::{SteadyState, SteadyStateConfig, SteadyStateDetector};
+use crate::units::PressureAbs;
+
+/// What a stage is.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum StageKind<T> {
+    /// A gas compressor stage.
+    Compressor,
+    /// A pump for a liquid or dense phase (only at the end of a train).
+    Pump {
+        /// Liquid density, kg/m3.
+        density: T,
+        /// Pump efficiency, (0, 1].
+        efficiency: T,
+    },
+}
+
+/// Configuration of one stage.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct StageConfig<T> {
+    /// Compressor or pump.
+    pub kind: StageKind<T>,
+    /// Design suction pressure (used to check that stages chain).
+    pub design_suction_pressure: PressureAbs<T>,
+    /// Design discharge pressure.
+    pub design_discharge_pressure: PressureAbs<T>,
+    /// The cooler after this stage, if any.
+    pub cooler: Option<CoolerConfig<T>>,
+}
+
+/// Configuration of a train: plain data, validated by [`Train::new`].
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct TrainConfig<T, G, const N: usize> {
+    /// Gas model of the compressed gas.
+    pub gas: G,
+    /// Stages in flow order.
+    pub stages: [StageConfig<T>; N],
+    /// Largest design pressure drop between a stage's discharge and the next
+    /// stage's suction, as a fraction of the discharge pressure (coolers,
+    /// separators, piping); in [0, 0.9].
+    pub max_interstage_pressure_drop: T,
+    /// Steady-state test tolerances.
+    pub steady_state: SteadyStateConfig<T>,
+}
+
+/// Results of one stage.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum StageWork<T> {
+    /// A compressor stage.
+    Compressor(CompressorResult<T>),
+    /// A pump stage.
+    Pump(PumpResult<T>),
+}
+
+/// Results of one stage with its steady-state mark.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct StageResult<T> {
+    /// Work, efficiencies and power.
+    pub work: StageWork<T>,
+    /// Whether this scan's performance numbers were taken at steady state.
+    pub steady_state: SteadyState<T>,
+}
+
+impl<T: Real> StageResult<T> {
+    /// Pressure ratio of either kind of stage.
+    pub fn pressure_ratio(&self) -> Measured<T> {
+        match &self.work {
+            StageWork::Compressor(c) => c.pressure_ratio,
+            StageWork::Pump(p) => p.pressure_ratio,
+        }
+    }
+    /// Actual (shaft) specific work of either kind of stage, J/kg.
+    pub fn actual_work(&self) -> Measured<T> {
+        match &self.work {
+            StageWork::Compressor(c) => c.actual_work,
+            StageWork::Pump(p) => p.shaft_work,
+        }
+    }
+    /// Power of either kind of stage, W.
+    pub fn power(&self) -> Measured<T> {
+        match &self.work {
+            StageWork::Compressor(c) => c.gas_power,
+            StageWork::Pump(p) => p.power,
+        }
+    }
+    /// The compressor results, if this is a compressor stage.
+    pub fn compressor(&self) -> Option<&CompressorResult<T>> {
+        match &self.work {
+            StageWork::Compressor(c) => Some(c),
+            StageWork::Pump(_) => None,
+        }
+    }
+    /// The pump results, if this is a pump stage.
+    pub fn pump(&self) -> Option<&PumpResult<T>> {
+        match &self.work {
+            StageWork::Compressor(_) => None,
+            StageWork::Pump(p) => Some(p),
+        }
+    }
+}
+
+/// Everything one scan produced.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Snapshot<T, const N: usize> {
+    /// Per stage.
+    pub stages: [StageResult<T>; N],
+    /// Per stage: the cooler after it (`None` if none is configured).
+    pub coolers: [Option<CoolerResult<T>>; N],
+    /// Per compressor stage except the last: interstage pressure against
+    /// the equal-ratio optimum.
+    pub interstage: [Option<InterstagePressure<T>>; N],
+    /// Whole-train totals.
+    pub totals: TrainTotals<T>,
+    /// Scans processed since construction (wraps).
+    pub scan_count: u32,
+}
+
+/// A validated train with its state.
+#[derive(Clone, Debug)]
+pub struct Train<T, G, const N: usize, const W: usize> {
+    config: TrainConfig<T, G, N>,
+    compressor_stages: u8,
+    detectors: [SteadyStateDetector<T, W>; N],
+    snapshot: Snapshot<T, N>,
+}
+
+/// Per-stage inputs after the sensor boundary, SI.
+#[derive(Clone, Copy)]
+struct StageSi<T> {
+    p1: Measured<T>,
+    t1: Measured<T>,
+    p2: Measured<T>,
+    t2: Measured<T>,
+    flow: Measured<T>,
+    flow_measured: bool,
+}
+
+fn validate_stages<T: Real, const N: usize>(
+    stages: &[StageConfig<T>; N],
+    max_drop: T,
+) -> Result<u8, ConfigError> {
+    if !(T::is_finite(max_drop) && max_drop >= T::ZERO && max_drop <= T::of(0.9)) {
+        return Err(ConfigError::MaxInterstagePressureDrop);
+    }
+    let mut compressors: u8 = 0;
+    let mut seen_pump = false;
+    let mut previous_discharge: Option<T> = None;
+    for (i, s) in stages.iter().enumerate() {
+        let stage = u8::try_from(i).unwrap_or(u8::MAX);
+        let p1 = s.design_suction_pressure.pa();
+        let p2 = s.design_discharge_pressure.pa();
+        if !(T::is_finite(p1) && p1 > T::ZERO) {
+            return Err(ConfigError::DesignSuctionPressure { stage });
+        }
+        if !(T::is_finite(p2) && p2 > p1) {
+            return Err(ConfigError::DesignDischargePressure { stage });
+        }
+        if let Some(prev) = previous_discharge {
+            let lowest = prev * (T::ONE - max_drop);
+            if p1 > prev || p1 < lowest {
+                return Err(ConfigError::PressureChain { stage });
+            }
+        }
+        previous_discharge = Some(p2);
+        match s.kind {
+            StageKind::Compressor => {
+                if seen_pump {
+                    return Err(ConfigError::PumpPosition { stage });
+                }
+                compressors = compressors.saturating_add(1);
+            }
+            StageKind::Pump {
+                density,
+                efficiency,
+            } => {
+                seen_pump = true;
+                if !(T::is_finite(density) && density > T::ZERO) {
+                    return Err(ConfigError::PumpDensity { stage });
+                }
+                if !(T::is_finite(efficiency) && efficiency > T::ZERO && efficiency <= T::ONE) {
+                    return Err(ConfigError::PumpEfficiency { stage });
+                }
+            }
+        }
+        if let Some(c) = s.cooler {
+            if !(T::is_finite(c.coolant_cp) && c.coolant_cp > T::ZERO) {
+                return Err(ConfigError::CoolantSpecificHeat { stage });
+            }
+        }
+    }
+    if compressors == 0 {
+        return Err(ConfigError::NoCompressorStage);
+    }
+    Ok(compressors)
+}
+
+impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> {
+    /// Validates `config` and builds the train.
+    ///
+    /// `N` (stages) must be at least 1 and at most 255, and `W`
+    /// (steady-state window, scans) at least 2; both are checked at compile
+    /// time:
+    ///
+    /// ```compile_fail
+    /// use polytrope::{gas::{IdealGas, AIR}, steady::SteadyStateConfig, train::{Train, TrainConfig}};
+    /// let gas = IdealGas::<f32>::from_spec(&AIR, false, 1.0).unwrap();
+    /// let cfg = TrainConfig { gas, stages: [], max_interstage_pressure_drop: 0.1, steady_state: SteadyStateConfig::default() };
+    /// let _ = Train::<f32, _, 0, 8>::new(cfg); // N = 0 does not compile
+    /// ```
+    pub fn new(config: TrainConfig<T, G, N>) -> Result<Self, ConfigError> {
+        const { assert!(N >= 1 && N <= 255, "a train needs 1 to 255 stages") };
+        config.steady_state.validate()?;
+        let compressor_stages =
+            validate_stages(&config.stages, config.max_interstage_pressure_drop)?;
+        let stages = config.stages.map(|s| StageResult {
+            work: match s.kind {
+                StageKind::Compressor => StageWork::Compressor(CompressorResult::bad()),
+                StageKind::Pump { .. } => StageWork::Pump(PumpResult::bad()),
+            },
+            steady_state: SteadyState::unknown(),
+        });
+        let coolers = config.stages.map(|s| s.cooler.map(|_| CoolerResult::bad()));
+        Ok(Train {
+            config,
+            compressor_stages,
+            detectors: core::array::from_fn(|_| SteadyStateDetector::new()),
+            snapshot: Snapshot {
+                stages,
+                coolers,
+                interstage: [None; N],
+                totals: TrainTotals::bad(compressor_stages),
+                scan_count: 0,
+            },
+        })
+    }
+
+    /// The validated configuration.
+    pub fn config(&self) -> &TrainConfig<T, G, N> {
+        &self.config
+    }
+
+    /// The last snapshot (all bad before the first scan).
+    pub fn snapshot(&self) -> &Snapshot<T, N> {
+        &self.snapshot
+    }
+
+    /// Processes one scan and returns the new snapshot.
+    ///
+    /// Never panics, never allocates; every number in the snapshot is finite
+    /// and carries its quality.
+    pub fn update(&mut self, scan: &Scan<T, N>) -> &Snapshot<T, N> {
+        let si = self.boundary(scan);
+        self.evaluate_stages(scan, &si);
+        self.evaluate_coolers(scan, &si);
+        self.evaluate_totals(&si);
+        self.snapshot.scan_count = self.snapshot.scan_count.wrapping_add(1);
+        &self.snapshot
+    }
+
+    /// Sensor boundary: units stripped, impossible values bad, flows
+    /// inherited from upstream where a stage has none.
+    fn boundary(&self, scan: &Scan<T, N>) -> [StageSi<T>; N] {
+        let mut upstream_flow = Measured::bad();
+        scan.stages.map(|s: StageScan<T>| {
+            let (flow, flow_measured) = match s.mass_flow {
+                Some(m) => (mass_flow_kg_s(m), true),
+                None => (upstream_flow, false),
+            };
+            upstream_flow = flow;
+            StageSi {
+                p1: pressure_pa(s.suction_pressure),
+                t1: temperature_k(s.suction_temperature),
+                p2: pressure_pa(s.discharge_pressure),
+                t2: temperature_k(s.discharge_temperature),
+                flow,
+                flow_measured,
+            }
+        })
+    }
+
+    fn evaluate_stages(&mut self, scan: &Scan<T, N>, si: &[StageSi<T>; N]) {
+        let parts = self
+            .config
+            .stages
+            .iter()
+            .zip(scan.stages.iter())
+            .zip(si.iter())
+            .zip(self.detectors.iter_mut())
+            .zip(self.snapshot.stages.iter_mut());
+        for ((((cfg, raw), s), detector), out) in parts {
+            let flow = if s.flow_measured { Some(s.flow) } else { None };
+            match cfg.kind {
+                StageKind::Compressor => {
+                    let inputs = CompressorInputs {
+                        suction_pressure: s.p1,
+                        suction_temperature: s.t1,
+                        discharge_pressure: s.p2,
+                        discharge_temperature: s.t2,
+                        mass_flow: s.flow,
+                        compressibility: compressibility(raw.compressibility),
+                    };
+                    let r = evaluate_compressor(&self.config.gas, &inputs);
+                    let steady = detector.update(
+                        &self.config.steady_state,
+                        r.pressure_ratio,
+                        Some(s.t2),
+                        flow,
+                    );
+                    *out = StageResult {
+                        work: StageWork::Compressor(r),
+                        steady_state: steady,
+                    };
+                }
+                StageKind::Pump {
+                    density,
+                    efficiency,
+                } => {
+                    let r = evaluate_pump(
+                        &self.config.gas,
+                        density,
+                        efficiency,
+                        s.p1,
+                        s.p2,
+                        s.t1,
+                        s.flow,
+                    );
+                    let steady =
+                        detector.update(&self.config.steady_state, r.pressure_ratio, None, flow);
+                    *out = StageResult {
+                        work: StageWork::Pump(r),
+                        steady_state: steady,
+                    };
+                }
+            }
+        }
+    }
+
+    fn evaluate_coolers(&mut self, scan: &Scan<T, N>, si: &[StageSi<T>; N]) {
+        for (i, (cfg, out)) in self
+            .config
+            .stages
+            .iter()
+            .zip(self.snapshot.coolers.iter_mut())
+            .enumerate()
+        {
+            let (Some(cooler_cfg), Some(s)) = (cfg.cooler, si.get(i)) else {
+                *out = None;
+                continue;
+            };
+            let next = si.get(i + 1);
+            let next_rise = self
+                .snapshot
+                .stages
+                .get(i + 1)
+                .and_then(StageResult::compressor)
+                .map_or(Measured::bad(), |c| c.temperature_rise);
+            let Some(raw) = scan.stages.get(i).and_then(|s| s.cooler) else {
+                *out = Some(CoolerResult {
+                    next_stage_temperature_rise: next_rise,
+                    ..CoolerResult::bad()
+                });
+                continue;
+            };
+            let gas_out_p = match raw.gas_outlet_pressure {
+                Some(p) => pressure_pa(p),
+                None => next.map_or(Measured::bad(), |n| n.p1),
+            };
+            let tout = temperature_k(raw.gas_outlet_temperature);
+            let cp_t_out = if tout.quality.is_usable() {
+                tout.value
+            } else {
+                s.t2.value
+            };
+            let gas_cp = self
+                .config
+                .gas
+                .path(s.p2.value, s.t2.value, gas_out_p.value, cp_t_out, None)
+                .cp;
+            let inputs = CoolerInputs {
+                gas_inlet_temperature: s.t2,
+                gas_outlet_temperature: tout,
+                coolant_inlet_temperature: temperature_k(raw.coolant_inlet_temperature),
+                coolant_outlet_temperature: raw
+                    .coolant_outlet_temperature
+                    .map_or(Measured::bad(), temperature_k),
+                gas_inlet_pressure: s.p2,
+                gas_outlet_pressure: gas_out_p,
+                gas_mass_flow: s.flow,
+                coolant_mass_flow: raw
+                    .coolant_mass_flow
+                    .map_or(Measured::bad(), mass_flow_kg_s),
+                gas_cp,
+                coolant_cp: cooler_cfg.coolant_cp,
+            };
+            let mut r = evaluate_cooler(&inputs);
+            r.next_stage_temperature_rise = next_rise;
+            *out = Some(r);
+        }
+    }
+
+    fn evaluate_totals(&mut self, si: &[StageSi<T>; N]) {
+        let nc = self.compressor_stages;
+        let mut totals = TrainTotals::bad(nc);
+        let mut work = Sum::new();
+        let mut comp_power = Sum::new();
+        let mut pump_power = Sum::new();
+        let mut staged_s = Sum::new();
+        for st in self.snapshot.stages.iter() {
+            match &st.work {
+                StageWork::Compressor(c) => {
+                    work.add(c.actual_work);
+                    comp_power.add(c.gas_power);
+                    staged_s.add(c.isentropic_head);
+                }
+                StageWork::Pump(p) => pump_power.add(p.power),
+            }
+        }
+        totals.compressor_work = work.get();
+        totals.compressor_power = comp_power.get();
+        totals.pump_power = pump_power.get();
+        let mut all_power = comp_power;
+        if pump_power.count > 0 {
+            all_power.add(pump_power.get());
+        }
+        totals.total_power = all_power.get();
+        totals.measured_staged_isentropic_work = staged_s.get();
+
+        let last = usize::from(nc).saturating_sub(1);
+        self.snapshot.interstage = [None; N];
+        let (Some(first), Some(last_c)) = (si.first(), si.get(last)) else {
+            self.snapshot.totals = totals;
+            return;
+        };
+        let q_ref = first
+            .p1
+            .quality
+            .worst(first.t1.quality)
+            .worst(last_c.p2.quality);
+        let ratio = last_c.p2.value / first.p1.value;
+        if q_ref == Quality::Bad || !(ratio > T::ONE) {
+            self.snapshot.totals = totals;
+            return;
+        }
+        totals.overall_pressure_ratio = Measured::derived(ratio, q_ref);
+        let t1 = first.t1.value;
+        let props = self
+            .config
+            .gas
+            .path(first.p1.value, t1, last_c.p2.value, t1, None);
+        let (iso, single, staged) = ideal_references(
+            props.z,
+            props.gas_constant,
+            t1,
+            ratio,
+            props.k,
+            u32::from(nc),
+        );
+        totals.isothermal_work = Measured::derived(iso, q_ref);
+        totals.single_stage_isentropic_work = Measured::derived(single, q_ref);
+        totals.ideal_staged_isentropic_work = Measured::derived(staged, q_ref);
+        totals.ideal_staging_saving = Measured::derived(single - staged, q_ref);
+        let w = totals.compressor_work;
+        if w.quality.is_usable() && w.value > T::ZERO {
+            totals.isothermal_efficiency = Measured::derived(iso / w.value, q_ref.worst(w.quality));
+        }
+        let ms = totals.measured_staged_isentropic_work;
+        if ms.quality.is_usable() {
+            totals.staging_saving = Measured::derived(single - ms.value, q_ref.worst(ms.quality));
+        }
+        for (i, (s, out)) in si
+            .iter()
+            .zip(self.snapshot.interstage.iter_mut())
+            .take(last)
+            .enumerate()
+        {
+            let idx = u32::try_from(i).unwrap_or(u32::MAX);
+            let opt = equal_ratio_interstage_pressure(first.p1.value, ratio, u32::from(nc), idx);
+            let q = q_ref.worst(s.p2.quality);
+            *out = Some(InterstagePressure {
+                measured: s.p2,
+                optimum: Measured::derived(opt, q_ref),
+                deviation: Measured::derived(s.p2.value / opt - T::ONE, q),
+            });
+        }
+        self.snapshot.totals = totals;
+    }
+}
