@@ -1,0 +1,42 @@
+#!/usr/bin/env bash
+# Every check of the project, in the order a failure is cheapest to find.
+# Installs what it needs (rustup targets and components); safe to re-run.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+
+step() { printf '\n==> %s\n' "$*"; }
+
+step "toolchain: targets and components"
+rustup component add clippy rustfmt >/dev/null 2>&1 || true
+rustup target add thumbv6m-none-eabi thumbv7em-none-eabihf riscv32imac-unknown-none-elf
+
+step "format"
+cargo fmt --all --check
+
+step "no_std cross builds (every target x every feature set)"
+for target in thumbv6m-none-eabi thumbv7em-none-eabihf riscv32imac-unknown-none-elf; do
+  for features in "" "defmt" "approx-math" "defmt,approx-math"; do
+    echo "  $target [${features:-no features}]"
+    cargo build -q -p polytrope --lib --release --target "$target" --no-default-features --features "$features"
+  done
+done
+
+step "clippy (deny warnings)"
+cargo clippy -q --workspace --all-targets -- -D warnings
+cargo clippy -q -p polytrope --all-targets --all-features -- -D warnings
+
+step "docs (deny warnings)"
+RUSTDOCFLAGS="-D warnings" cargo doc -q --workspace --no-deps --all-features
+
+step "host tests (f64 reference, f32 device build, external references)"
+cargo test -q --workspace
+step "host tests with approximate maths"
+cargo test -q -p polytrope --features approx-math
+
+for extra in ci/checks.d/*.sh; do
+  [ -e "$extra" ] || continue
+  step "extra check: $extra"
+  bash "$extra"
+done
+
+step "all checks passed"
