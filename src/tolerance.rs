@@ -4,7 +4,10 @@
 //! quotes these numbers).
 //!
 //! A value `a` (f32 build) agrees with `b` (f64 build) when
-//! `|a - b| <= atol + rtol·|b|`.
+//! `|a - b| <= atol + rtol·|b|`. With the `approx-math` feature the f32
+//! build uses `micromath` approximations; their looser bounds are the
+//! `approx_*` columns, and [`Tolerance::accepts`] applies them automatically
+//! when the feature is on.
 
 /// Tolerance for one quantity.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -16,6 +19,10 @@ pub struct Tolerance {
     pub rtol: f64,
     /// Absolute tolerance, in the quantity's SI unit.
     pub atol: f64,
+    /// Relative tolerance with `approx-math`, -.
+    pub approx_rtol: f64,
+    /// Absolute tolerance with `approx-math`, SI unit.
+    pub approx_atol: f64,
 }
 
 impl Tolerance {
@@ -41,21 +48,22 @@ const fn tol(quantity: &'static str, rtol: f64, atol: f64) -> Tolerance {
 }
 
 /// Pressure ratio, -.
-pub const PRESSURE_RATIO: Tolerance = tol("pressure ratio", 1e-6, 0.0);
+pub const PRESSURE_RATIO: Tolerance = tol("pressure ratio", 1e-6, 0.0, 1e-6, 0.0);
 /// Temperatures, K.
-pub const TEMPERATURE: Tolerance = tol("temperature (K)", 1e-6, 1e-3);
+pub const TEMPERATURE: Tolerance = tol("temperature (K)", 1e-6, 1e-3, 5e-3, 1e-3);
 /// Temperature differences (rise, drop, approach, LMTD), K.
-pub const TEMPERATURE_DIFFERENCE: Tolerance = tol("temperature difference (K)", 1e-4, 2e-3);
+pub const TEMPERATURE_DIFFERENCE: Tolerance =
+    tol("temperature difference (K)", 1e-4, 2e-3, 5e-2, 2.0);
 /// Heads and specific work, J/kg.
-pub const SPECIFIC_WORK: Tolerance = tol("head / specific work (J/kg)", 2e-5, 0.5);
+pub const SPECIFIC_WORK: Tolerance = tol("head / specific work (J/kg)", 2e-5, 0.5, 5e-2, 50.0);
 /// Efficiencies and effectiveness, -.
-pub const EFFICIENCY: Tolerance = tol("efficiency / effectiveness", 2e-5, 2e-5);
+pub const EFFICIENCY: Tolerance = tol("efficiency / effectiveness", 2e-5, 2e-5, 5e-2, 1e-2);
 /// Polytropic exponent, -.
-pub const EXPONENT: Tolerance = tol("polytropic exponent", 2e-5, 2e-5);
+pub const EXPONENT: Tolerance = tol("polytropic exponent", 2e-5, 2e-5, 5e-2, 1e-2);
 /// Power and heat duty, W.
-pub const POWER: Tolerance = tol("power / duty (W)", 2e-5, 1.0);
+pub const POWER: Tolerance = tol("power / duty (W)", 2e-5, 1.0, 5e-2, 50.0);
 /// Pressures and pressure differences, Pa.
-pub const PRESSURE: Tolerance = tol("pressure (Pa)", 1e-6, 0.05);
+pub const PRESSURE: Tolerance = tol("pressure (Pa)", 1e-6, 0.05, 5e-3, 0.05);
 
 /// The whole table, in README order.
 pub const TABLE: [Tolerance; 8] = [

@@ -4,14 +4,20 @@
 use polytrope::tolerance::TABLE;
 
 fn parse(s: &str) -> f64 {
-    s.trim().parse().unwrap_or_else(|_| panic!("not a number in README table: {s:?}"))
+    s.trim()
+        .parse()
+        .unwrap_or_else(|_| panic!("not a number in README table: {s:?}"))
 }
 
 #[test]
 fn readme_table_matches_code() {
     let readme = include_str!("../README.md");
-    let start = readme.find("<!-- tolerance-table:start -->").expect("start marker");
-    let end = readme.find("<!-- tolerance-table:end -->").expect("end marker");
+    let start = readme
+        .find("<!-- tolerance-table:start -->")
+        .expect("start marker");
+    let end = readme
+        .find("<!-- tolerance-table:end -->")
+        .expect("end marker");
     let rows: Vec<Vec<&str>> = readme[start..end]
         .lines()
         .filter(|l| l.starts_with('|') && !l.starts_with("|---") && !l.starts_with("| quantity"))
@@ -22,5 +28,7 @@ fn readme_table_matches_code() {
         assert_eq!(row[0], tol.quantity);
         assert_eq!(parse(row[1]), tol.rtol, "{}", tol.quantity);
         assert_eq!(parse(row[2]), tol.atol, "{}", tol.quantity);
+        assert_eq!(parse(row[3]), tol.approx_rtol, "{}", tol.quantity);
+        assert_eq!(parse(row[4]), tol.approx_atol, "{}", tol.quantity);
     }
 }
