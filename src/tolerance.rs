@@ -26,8 +26,9 @@ pub struct Tolerance {
 }
 
 impl Tolerance {
-    /// `true` if `device` agrees with `reference`.
+    /// `true` if `device` agrees with `reference` (this build's bounds).
     pub fn accepts(&self, device: f64, reference: f64) -> bool {
+        let (rtol, atol) = self.active();
         let d = device - reference;
         let d = if d < 0.0 { -d } else { d };
         let r = if reference < 0.0 {
@@ -35,15 +36,32 @@ impl Tolerance {
         } else {
             reference
         };
-        d <= self.atol + self.rtol * r
+        d <= atol + rtol * r
+    }
+
+    /// (rtol, atol) of this build: the `approx_*` pair with `approx-math`.
+    pub const fn active(&self) -> (f64, f64) {
+        if cfg!(feature = "approx-math") {
+            (self.approx_rtol, self.approx_atol)
+        } else {
+            (self.rtol, self.atol)
+        }
     }
 }
 
-const fn tol(quantity: &'static str, rtol: f64, atol: f64) -> Tolerance {
+const fn tol(
+    quantity: &'static str,
+    rtol: f64,
+    atol: f64,
+    approx_rtol: f64,
+    approx_atol: f64,
+) -> Tolerance {
     Tolerance {
         quantity,
         rtol,
         atol,
+        approx_rtol,
+        approx_atol,
     }
 }
 
