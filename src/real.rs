@@ -4,9 +4,11 @@
 //! Every transcendental function forwards to a `libm` free function, so the
 //! host runs exactly the maths the device runs (calling `x.powf(y)` on a host
 //! would silently use the platform's `std` maths instead). With the
-//! `approx-math` feature the `f32` logarithm, exponential and square root go to
-//! `micromath` approximations; their error is measured separately (see
-//! [`crate::tolerance`]).
+//! `approx-math` feature the `f32` logarithm, exponential and power go to
+//! `micromath` approximations (measured here: relative error at most 9.3e-4
+//! for `ln` and 7.6e-4 for `exp`; the bounds the tests enforce are 1.2e-3);
+//! the square root stays `libm`. The resulting output bounds are the
+//! `approx_*` columns of [`crate::tolerance`].
 //!
 //! Call the functions as associated functions (`T::ln(x)`), never as methods:
 //! for a concrete `f32` on a `std` host a method call would resolve to the
@@ -140,21 +142,20 @@ mod approx {
         F32Ext::exp(x)
     }
     #[inline]
-    pub fn sqrt(x: f32) -> f32 {
-        F32Ext::sqrt(x)
-    }
-    #[inline]
     pub fn pow(x: f32, y: f32) -> f32 {
         F32Ext::powf(x, y)
     }
 }
 
+// The square root stays exact: micromath's approximation was measured at
+// 6 % relative error by the sweep below, too coarse for flow from a
+// differential pressure, and libm's is cheap.
 #[cfg(feature = "approx-math")]
 impl_real!(
     f32,
     approx::ln,
     approx::exp,
-    approx::sqrt,
+    libm::sqrtf,
     approx::pow,
     libm::fabsf
 );
@@ -162,17 +163,47 @@ impl_real!(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use std::println;
+
+    /// Largest relative error of the f32 function against the f64 one over
+    /// a log-spaced sweep of `x` in [lo, hi].
+    fn max_rel_err(f32f: fn(f32) -> f32, f64f: fn(f64) -> f64, lo: f64, hi: f64) -> f64 {
+        let n = 20_000;
+        (0..=n)
+            .map(|i| {
+                let x = lo * (hi / lo).powf(i as f64 / n as f64);
+                let a = f32f(x as f32) as f64;
+                let b = f64f((x as f32) as f64);
+                ((a - b) / b.abs().max(1e-30)).abs()
+            })
+            .fold(0.0, f64::max)
+    }
+
+    // Bounds: libm f32 is within a few ulp (2^-23 = 1.2e-7) of the exact
+    // value; the micromath bounds were measured by this sweep and are kept
+    // with a small margin (the tolerance table builds on them).
+    #[cfg(not(feature = "approx-math"))]
+    const BOUNDS: [f64; 3] = [4.0e-7, 4.0e-7, 4.0e-7];
+    #[cfg(feature = "approx-math")]
+    const BOUNDS: [f64; 3] = [APPROX_LN, APPROX_EXP, APPROX_SQRT];
+    #[cfg(feature = "approx-math")]
+    const APPROX_LN: f64 = 1.2e-3;
+    #[cfg(feature = "approx-math")]
+    const APPROX_EXP: f64 = 1.2e-3;
+    #[cfg(feature = "approx-math")]
+    const APPROX_SQRT: f64 = 4.0e-7;
 
     #[test]
-    fn f32_and_f64_agree_on_basic_functions() {
-        for &x in &[0.5_f64, 1.0, 2.0, 10.0, 300.0] {
-            let a = <f32 as Real>::ln(x as f32) as f64;
-            let b = <f64 as Real>::ln(x);
-            assert!((a - b).abs() <= 1e-6 * (1.0 + b.abs()), "ln({x})");
-            let a = <f32 as Real>::exp((x / 100.0) as f32) as f64;
-            let b = <f64 as Real>::exp(x / 100.0);
-            assert!((a - b).abs() <= 2e-3 * b, "exp({x})");
-        }
+    fn f32_functions_track_f64_within_bounds() {
+        // ln over the range the kernel uses (ratios, temperature ratios,
+        // LMTD ratios); ln's relative error is taken away from x = 1.
+        let ln = max_rel_err(<f32 as Real>::ln, <f64 as Real>::ln, 1.05, 1.0e3);
+        let exp = max_rel_err(<f32 as Real>::exp, <f64 as Real>::exp, 1.0e-3, 5.0);
+        let sqrt = max_rel_err(<f32 as Real>::sqrt, <f64 as Real>::sqrt, 1.0e-3, 1.0e9);
+        println!("max relative error f32 vs f64: ln {ln:.3e}, exp {exp:.3e}, sqrt {sqrt:.3e}");
+        assert!(ln <= BOUNDS[0], "ln {ln}");
+        assert!(exp <= BOUNDS[1], "exp {exp}");
+        assert!(sqrt <= BOUNDS[2], "sqrt {sqrt}");
         assert!(!<f32 as Real>::is_finite(f32::NAN));
         assert_eq!(<f64 as Real>::min(1.0, 2.0), 1.0);
         assert_eq!(<f64 as Real>::max(1.0, 2.0), 2.0);
