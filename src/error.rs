@@ -67,6 +67,84 @@ pub enum ConfigError {
     SteadyStateTolerance,
     /// The train has no compressor stage.
     NoCompressorStage,
+    /// Signal channel `channel`: `range_low` / `range_high` (engineering
+    /// range) not finite or `range_high <= range_low`.
+    SignalRange {
+        /// Channel id.
+        channel: u8,
+    },
+    /// Signal channel `channel`: the `signal` span (ADC counts, volts) is
+    /// not finite or empty.
+    SignalSpan {
+        /// Channel id.
+        channel: u8,
+    },
+    /// Signal channel `channel`: `plausible_low` / `plausible_high` not
+    /// finite or not increasing.
+    PlausibilityLimits {
+        /// Channel id.
+        channel: u8,
+    },
+    /// Signal channel `channel`: `noise_floor` or the instrument tolerance
+    /// is not finite and non-negative.
+    NoiseFloor {
+        /// Channel id.
+        channel: u8,
+    },
+    /// Signal channel `channel`: `max_rate` is not finite and positive.
+    RateLimit {
+        /// Channel id.
+        channel: u8,
+    },
+    /// Signal channel `channel`: `filter_time_constant_s` is not finite and
+    /// non-negative.
+    FilterTimeConstant {
+        /// Channel id.
+        channel: u8,
+    },
+    /// Signal channel `channel`: the gauge unit's `atmosphere` is not finite
+    /// and positive.
+    AtmosphericPressure {
+        /// Channel id.
+        channel: u8,
+    },
+    /// A cross-check tolerance is not finite and non-negative.
+    CrossCheckTolerance,
+    /// Orifice `pipe_diameter` is not finite and positive (m).
+    OrificePipeDiameter,
+    /// Orifice `bore_diameter` is not finite, positive and below the pipe
+    /// diameter (m).
+    OrificeBoreDiameter,
+    /// Flow `viscosity` is not finite and positive (Pa s).
+    FlowViscosity,
+    /// Flow `isentropic_exponent` is not finite and above 1.
+    FlowIsentropicExponent,
+    /// Flow `gas_constant` is not finite and positive (J/(kg K)).
+    FlowGasConstant,
+    /// Flow element `coefficient` is not finite and positive.
+    FlowCoefficient,
+    /// Low-flow `cutoff_dp` / `zero_tolerance` not finite and non-negative.
+    LowFlowCutoff,
+    /// The surge-line table has fewer than 2 points or more than its
+    /// capacity.
+    SurgeLineLength,
+    /// `points[point]` of the surge-line table has a speed, flow, pressure
+    /// ratio or control margin that is not finite and in range.
+    SurgeLinePoint {
+        /// Point index.
+        point: u8,
+    },
+    /// `points[point]` of the surge-line table does not rise above the
+    /// previous point in speed, reduced head and reduced flow.
+    SurgeLineNotMonotonic {
+        /// Point index.
+        point: u8,
+    },
+    /// A surge-protection or recycle-control setting is out of range.
+    SurgeSetting {
+        /// The offending field, as named in its configuration struct.
+        field: &'static str,
+    },
 }
 
 impl fmt::Display for ConfigError {
@@ -114,6 +192,62 @@ impl fmt::Display for ConfigError {
             ),
             SteadyStateTolerance => f.write_str("steady_state tolerances must be finite and > 0"),
             NoCompressorStage => f.write_str("the train needs at least one compressor stage"),
+            SignalRange { channel } => write!(
+                f,
+                "channel {channel}: range_low/range_high must be finite with range_high > range_low"
+            ),
+            SignalSpan { channel } => {
+                write!(
+                    f,
+                    "channel {channel}: signal span must be finite and non-empty"
+                )
+            }
+            PlausibilityLimits { channel } => write!(
+                f,
+                "channel {channel}: plausible_low/plausible_high must be finite and increasing"
+            ),
+            NoiseFloor { channel } => write!(
+                f,
+                "channel {channel}: noise_floor and instrument tolerance must be finite and >= 0"
+            ),
+            RateLimit { channel } => {
+                write!(f, "channel {channel}: max_rate must be finite and > 0")
+            }
+            FilterTimeConstant { channel } => write!(
+                f,
+                "channel {channel}: filter_time_constant_s must be finite and >= 0"
+            ),
+            AtmosphericPressure { channel } => write!(
+                f,
+                "channel {channel}: gauge atmosphere must be finite and > 0 Pa"
+            ),
+            CrossCheckTolerance => f.write_str("cross-check tolerances must be finite and >= 0"),
+            OrificePipeDiameter => f.write_str("orifice pipe_diameter must be finite and > 0 m"),
+            OrificeBoreDiameter => {
+                f.write_str("orifice bore_diameter must be finite, > 0 and below pipe_diameter (m)")
+            }
+            FlowViscosity => f.write_str("flow viscosity must be finite and > 0 Pa s"),
+            FlowIsentropicExponent => {
+                f.write_str("flow isentropic_exponent must be finite and > 1")
+            }
+            FlowGasConstant => f.write_str("flow gas_constant must be finite and > 0 J/(kg K)"),
+            FlowCoefficient => f.write_str("flow element coefficient must be finite and > 0"),
+            LowFlowCutoff => {
+                f.write_str("low-flow cutoff_dp and zero_tolerance must be finite and >= 0")
+            }
+            SurgeLineLength => {
+                f.write_str("the surge line needs at least 2 points and at most its capacity")
+            }
+            SurgeLinePoint { point } => write!(
+                f,
+                "surge line points[{point}]: speed, flow and control margin must be finite and in range, ratio > 1"
+            ),
+            SurgeLineNotMonotonic { point } => write!(
+                f,
+                "surge line points[{point}] must rise above points[{}] in speed, reduced head and reduced flow",
+                point.saturating_sub(1)
+            ),
+            SurgeSetting { field } => write!(f, "surge/recycle setting {field} is out of range"),
         }
     }
 }

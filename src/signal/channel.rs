@@ -1,0 +1,219 @@
+//! Channel configuration and scaling: raw signal (mA, V, ADC counts or an
+//! engineering value from a fieldbus) to an SI value (Pa absolute, K, Pa
+//! differential, or any other SI quantity).
+//!
+//! Linear scaling of a live-zero or zero-based signal onto the engineering
+//! range is common practice; the 4–20 mA diagnostics follow NAMUR NE 43
+//! ([`super::ne43`]).
+
+use super::ne43;
+use super::rtd_class::RtdClass;
+use super::FaultCode;
+use crate::error::ConfigError;
+use crate::real::Real;
+use crate::units::{PressureAbs, ZERO_CELSIUS_K};
+
+/// A voltage or count signal may lie this far outside its span (fraction of
+/// span) before it is a fault (a small over- and under-range is normal;
+/// common practice, value chosen here).
+pub const SPAN_ALLOWANCE: f64 = 0.025;
+
+/// What the raw number is.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum SignalKind<T> {
+    /// Loop current in mA, 4–20 mA over the engineering range, with NAMUR
+    /// NE 43 diagnostics.
+    Current4To20,
+    /// Voltage in V, 0–10 V over the engineering range. (A broken 0–10 V
+    /// wire reads 0 V, which is indistinguishable from 0 % of span.)
+    Voltage0To10,
+    /// ADC counts: `zero` counts at `range_low`, `full` counts at
+    /// `range_high`.
+    Counts {
+        /// Counts at the low end of the range.
+        zero: T,
+        /// Counts at the high end of the range.
+        full: T,
+    },
+    /// Already an engineering value in the channel's [`Unit`] (fieldbus).
+    Engineering,
+}
+
+/// The unit of the engineering range (and of an [`SignalKind::Engineering`]
+/// value). The channel output is always SI: Pa absolute, K, Pa, or the
+/// unit of [`Unit::Other`].
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Unit<T> {
+    /// Absolute pressure, Pa.
+    PressureAbs,
+    /// Gauge pressure, Pa; converted to absolute with `atmosphere`.
+    PressureGauge {
+        /// Local atmospheric pressure.
+        atmosphere: PressureAbs<T>,
+    },
+    /// Temperature, K.
+    Kelvin,
+    /// Temperature, °C; converted to K.
+    Celsius,
+    /// Differential pressure, Pa.
+    DifferentialPressure,
+    /// Any other quantity already in its SI unit (kg/s, -, ...).
+    Other,
+}
+
+/// Instrument accuracy, used by the cross-checks as the allowance of one
+/// reading.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum InstrumentClass<T> {
+    /// A platinum resistance thermometer of an IEC 60751 class.
+    Rtd(RtdClass),
+    /// A fraction of the engineering span (0.001 = 0.1 % of span).
+    FractionOfSpan(T),
+    /// A fixed allowance in the SI output unit.
+    Absolute(T),
+}
+
+/// Configuration of one channel (plain data, validated by
+/// [`ChannelConfig::validate`] and [`super::Channel::new`]).
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct ChannelConfig<T> {
+    /// Channel id (in statuses, events and errors).
+    pub id: u8,
+    /// Raw signal type.
+    pub signal: SignalKind<T>,
+    /// Unit of `range_low` / `range_high`.
+    pub unit: Unit<T>,
+    /// Engineering value at 0 % of the signal span, in `unit`.
+    pub range_low: T,
+    /// Engineering value at 100 % of the signal span, in `unit`.
+    pub range_high: T,
+    /// Lowest plausible value, SI output unit (Pa abs, K, ...).
+    pub plausible_low: T,
+    /// Highest plausible value, SI output unit.
+    pub plausible_high: T,
+    /// Noise floor, SI output unit: a channel whose values stay within this
+    /// band over the whole frozen window is frozen. 0 flags only exact
+    /// repeats.
+    pub noise_floor: T,
+    /// Instrument accuracy (cross-check allowance).
+    pub instrument: InstrumentClass<T>,
+    /// Largest plausible rate of change, SI unit per second; faster is a
+    /// spike.
+    pub max_rate: T,
+    /// First-order low-pass time constant, s (0: no low-pass).
+    pub filter_time_constant_s: T,
+    /// How long a bad channel holds its last good value as uncertain, ms.
+    pub hold_ms: u32,
+}
+
+fn finite<T: Real>(x: T) -> bool {
+    T::is_finite(x)
+}
+
+impl<T: Real> ChannelConfig<T> {
+    /// Checks every field; the error names the first bad one.
+    pub fn validate(&self) -> Result<(), ConfigError> {
+        let channel = self.id;
+        if !(finite(self.range_low) && finite(self.range_high) && self.range_high > self.range_low)
+        {
+            return Err(ConfigError::SignalRange { channel });
+        }
+        if let SignalKind::Counts { zero, full } = self.signal {
+            if !(finite(zero) && finite(full) && zero != full) {
+                return Err(ConfigError::SignalSpan { channel });
+            }
+        }
+        if let Unit::PressureGauge { atmosphere } = self.unit {
+            let a = atmosphere.pa();
+            if !(finite(a) && a > T::ZERO) {
+                return Err(ConfigError::AtmosphericPressure { channel });
+            }
+        }
+        if !(finite(self.plausible_low)
+            && finite(self.plausible_high)
+            && self.plausible_high > self.plausible_low)
+        {
+            return Err(ConfigError::PlausibilityLimits { channel });
+        }
+        let tol_ok = match self.instrument {
+            InstrumentClass::Rtd(_) => true,
+            InstrumentClass::FractionOfSpan(x) | InstrumentClass::Absolute(x) => {
+                finite(x) && x >= T::ZERO
+            }
+        };
+        if !(finite(self.noise_floor) && self.noise_floor >= T::ZERO && tol_ok) {
+            return Err(ConfigError::NoiseFloor { channel });
+        }
+        if !(finite(self.max_rate) && self.max_rate > T::ZERO) {
+            return Err(ConfigError::RateLimit { channel });
+        }
+        if !(finite(self.filter_time_constant_s) && self.filter_time_constant_s >= T::ZERO) {
+            return Err(ConfigError::FilterTimeConstant { channel });
+        }
+        Ok(())
+    }
+
+    /// Converts an engineering value in `unit` to SI.
+    #[inline]
+    pub fn to_si(&self, engineering: T) -> T {
+        match self.unit {
+            Unit::PressureGauge { atmosphere } => engineering + atmosphere.pa(),
+            Unit::Celsius => engineering + T::of(ZERO_CELSIUS_K),
+            Unit::PressureAbs | Unit::Kelvin | Unit::DifferentialPressure | Unit::Other => {
+                engineering
+            }
+        }
+    }
+
+    /// Scales a raw sample to SI and classifies the signal level. The value
+    /// is meaningful unless the fault's quality is bad.
+    pub fn scale(&self, raw: T) -> (T, FaultCode) {
+        if !T::is_finite(raw) {
+            return (T::ZERO, FaultCode::NotFinite);
+        }
+        let (fraction, fault) = match self.signal {
+            SignalKind::Current4To20 => (ne43::fraction(raw), ne43::classify(raw)),
+            SignalKind::Voltage0To10 => span_fraction(raw / T::of(10.0)),
+            SignalKind::Counts { zero, full } => span_fraction((raw - zero) / (full - zero)),
+            SignalKind::Engineering => {
+                let v = self.to_si(raw);
+                return if T::is_finite(v) {
+                    (v, FaultCode::None)
+                } else {
+                    (T::ZERO, FaultCode::NotFinite)
+                };
+            }
+        };
+        let eng = self.range_low + fraction * (self.range_high - self.range_low);
+        let v = self.to_si(eng);
+        if T::is_finite(v) {
+            (v, fault)
+        } else if fault != FaultCode::None {
+            (T::ZERO, fault)
+        } else {
+            (T::ZERO, FaultCode::NotFinite)
+        }
+    }
+
+    /// The instrument allowance (half-width) at SI value `si`.
+    pub fn tolerance(&self, si: T) -> T {
+        match self.instrument {
+            InstrumentClass::Rtd(class) => class.tolerance(si - T::of(ZERO_CELSIUS_K)),
+            InstrumentClass::FractionOfSpan(f) => f * (self.range_high - self.range_low),
+            InstrumentClass::Absolute(a) => a,
+        }
+    }
+}
+
+fn span_fraction<T: Real>(f: T) -> (T, FaultCode) {
+    let a = T::of(SPAN_ALLOWANCE);
+    if T::is_finite(f) && f >= -a && f <= T::ONE + a {
+        (f, FaultCode::None)
+    } else {
+        (f, FaultCode::SignalOutOfRange)
+    }
+}

@@ -1,0 +1,119 @@
+//! Filters on fixed memory: a short running median (spike rejection) and a
+//! first-order low-pass (noise).
+//!
+//! The low-pass is the discretised first-order lag y += a·(x − y) with
+//! a = Δt/(τ + Δt) (backward-Euler discretisation; a textbook form, e.g.
+//! Seborg, Edgar & Mellichamp, *Process Dynamics and Control*, exponential
+//! filter). The median of the last `M` samples is the classic
+//! impulse-noise filter (common practice). Both delay the signal; see the
+//! module note in [`super`] on the surge path.
+
+use heapless::HistoryBuffer;
+
+use crate::real::Real;
+
+/// First-order low-pass with time constant `tau_s`, driven by sample
+/// timestamps.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct LowPass<T> {
+    state: Option<(T, u64)>,
+}
+
+impl<T: Real> Default for LowPass<T> {
+    fn default() -> Self {
+        Self::new()
+    }
+}
+
+impl<T: Real> LowPass<T> {
+    /// Uninitialised: the first sample passes through.
+    pub const fn new() -> Self {
+        LowPass { state: None }
+    }
+
+    /// Filters sample `x` taken at `t_ms`. Assumes `x` finite and
+    /// `tau_s >= 0` (validated configuration); a time that does not advance
+    /// leaves the output unchanged.
+    pub fn update(&mut self, x: T, t_ms: u64, tau_s: T) -> T {
+        let y = match self.state {
+            None => x,
+            Some((y, t_last)) => {
+                let dt = T::of(t_ms.saturating_sub(t_last) as f64) * T::of(1.0e-3);
+                let denom = tau_s + dt;
+                if denom > T::ZERO {
+                    y + dt / denom * (x - y)
+                } else {
+                    y
+                }
+            }
+        };
+        let y = if T::is_finite(y) { y } else { x };
+        self.state = Some((y, t_ms));
+        y
+    }
+
+    /// Current output, if any sample was seen.
+    pub fn value(&self) -> Option<T> {
+        self.state.map(|(y, _)| y)
+    }
+
+    /// Forgets the state.
+    pub fn reset(&mut self) {
+        self.state = None;
+    }
+}
+
+/// Running median of the last `M` samples (`M` odd, 1..=15; checked at
+/// compile time).
+#[derive(Clone, Debug)]
+pub struct Median<T, const M: usize> {
+    window: HistoryBuffer<T, M>,
+}
+
+impl<T: Real, const M: usize> Default for Median<T, M> {
+    fn default() -> Self {
+        Self::new()
+    }
+}
+
+impl<T: Real, const M: usize> Median<T, M> {
+    /// Empty window.
+    pub fn new() -> Self {
+        const {
+            assert!(
+                M % 2 == 1 && M <= 15,
+                "median window must be odd and at most 15"
+            )
+        };
+        Median {
+            window: HistoryBuffer::new(),
+        }
+    }
+
+    /// Adds finite sample `x` and returns the median of the samples held
+    /// (the lower middle while fewer than `M`, even count).
+    pub fn update(&mut self, x: T) -> T {
+        self.window.write(x);
+        let mut sorted = [T::ZERO; M];
+        let n = self.window.len();
+        for (dst, &src) in sorted.iter_mut().zip(self.window.as_slice()) {
+            *dst = src;
+        }
+        let used = sorted.get_mut(..n).unwrap_or(&mut []);
+        // Insertion sort: at most M·M/2 = 112 comparisons.
+        for i in 1..used.len() {
+            let mut j = i;
+            while j > 0 && used.get(j - 1) > used.get(j) {
+                used.swap(j - 1, j);
+                j -= 1;
+            }
+        }
+        used.get(n.saturating_sub(1) / 2).copied().unwrap_or(x)
+    }
+
+    /// Forgets the window.
+    pub fn reset(&mut self) {
+        self.window.clear();
+    }
+}

@@ -1,0 +1,171 @@
+//! One channel end to end: scale, diagnose, filter, substitute, log.
+//!
+//! Order per sample: scaling and signal-level diagnostics (NE 43), then
+//! plausibility (time, finite, range, spike, frozen), then — for accepted
+//! samples only — median and low-pass, then substitution of a bad sample
+//! by the held last good value. Fixed memory: a `W`-sample frozen window
+//! and an `M`-sample median.
+
+use super::channel::ChannelConfig;
+use super::events::{Event, EventLog};
+use super::filter::{LowPass, Median};
+use super::plausibility::Plausibility;
+use super::substitution::Substitution;
+use super::{ChannelStatus, FaultCode};
+use crate::error::ConfigError;
+use crate::quality::{Measured, Quality};
+use crate::real::Real;
+use crate::units::{Kelvin, PressureAbs};
+
+/// What a channel reports for one sample.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct ChannelOutput<T> {
+    /// Validated, unfiltered value, SI (for the surge path).
+    pub raw: Measured<T>,
+    /// Median- and low-pass-filtered value, SI (for performance).
+    pub filtered: Measured<T>,
+    /// Status with fault code.
+    pub status: ChannelStatus,
+}
+
+impl<T: Real> ChannelOutput<T> {
+    /// All bad, nothing seen.
+    pub fn bad(channel: u8) -> Self {
+        ChannelOutput {
+            raw: Measured::bad(),
+            filtered: Measured::bad(),
+            status: ChannelStatus {
+                channel,
+                quality: Quality::Bad,
+                fault: FaultCode::InputBad,
+                substituted: false,
+                last_good_ms: 0,
+            },
+        }
+    }
+
+    /// The filtered value as an absolute pressure (for a pressure channel).
+    pub fn pressure(&self) -> Measured<PressureAbs<T>> {
+        self.filtered.map(PressureAbs::from_pa)
+    }
+
+    /// The unfiltered value as an absolute pressure.
+    pub fn raw_pressure(&self) -> Measured<PressureAbs<T>> {
+        self.raw.map(PressureAbs::from_pa)
+    }
+
+    /// The filtered value as a temperature (for a temperature channel).
+    pub fn temperature(&self) -> Measured<Kelvin<T>> {
+        self.filtered.map(Kelvin::new)
+    }
+
+    /// Marks the output at most `q` with `fault` (used by cross-checks).
+    pub fn downgrade(&mut self, q: Quality, fault: FaultCode) {
+        if q > self.status.quality {
+            self.status.quality = q;
+            self.status.fault = fault;
+        }
+        self.raw = self.raw.at_most(q);
+        self.filtered = self.filtered.at_most(q);
+    }
+}
+
+/// A configured channel with its state.
+#[derive(Clone, Debug)]
+pub struct Channel<T, const W: usize, const M: usize> {
+    config: ChannelConfig<T>,
+    plausibility: Plausibility<T, W>,
+    median: Median<T, M>,
+    low_pass: LowPass<T>,
+    substitution: Substitution<T>,
+    last: ChannelOutput<T>,
+}
+
+impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
+    /// Validates `config` and builds the channel. `W` (frozen window) must
+    /// be at least 2 and `M` (median) odd and at most 15, checked at
+    /// compile time:
+    ///
+    /// ```compile_fail
+    /// use polytrope::signal::{Channel, ChannelConfig, InstrumentClass, SignalKind, Unit};
+    /// let cfg = ChannelConfig { id: 0, signal: SignalKind::Engineering, unit: Unit::Other,
+    ///     range_low: 0.0_f32, range_high: 1.0, plausible_low: 0.0, plausible_high: 1.0,
+    ///     noise_floor: 0.0, instrument: InstrumentClass::Absolute(0.0), max_rate: 1.0,
+    ///     filter_time_constant_s: 0.0, hold_ms: 0 };
+    /// let _ = Channel::<f32, 8, 4>::new(cfg); // an even median window does not compile
+    /// ```
+    pub fn new(config: ChannelConfig<T>) -> Result<Self, ConfigError> {
+        config.validate()?;
+        Ok(Channel {
+            config,
+            plausibility: Plausibility::new(),
+            median: Median::new(),
+            low_pass: LowPass::new(),
+            substitution: Substitution::new(),
+            last: ChannelOutput::bad(config.id),
+        })
+    }
+
+    /// The validated configuration.
+    pub fn config(&self) -> &ChannelConfig<T> {
+        &self.config
+    }
+
+    /// The latest output (all bad before the first sample).
+    pub fn output(&self) -> &ChannelOutput<T> {
+        &self.last
+    }
+
+    /// Processes raw sample `raw` taken at `t_ms`. Any `raw` is accepted
+    /// (NaN, infinities, anything): the output is always finite.
+    pub fn update(&mut self, raw: T, t_ms: u64) -> ChannelOutput<T> {
+        let (v, signal_fault) = self.config.scale(raw);
+        let fault = self.plausibility.check(&self.config, v, t_ms, signal_fault);
+        let q = fault.quality();
+        let (r, f) = if q == Quality::Bad {
+            (T::ZERO, T::ZERO)
+        } else {
+            let m = self.median.update(v);
+            let f = self
+                .low_pass
+                .update(m, t_ms, self.config.filter_time_constant_s);
+            (v, f)
+        };
+        let s = self.substitution.apply(r, f, q, t_ms, self.config.hold_ms);
+        let out = ChannelOutput {
+            raw: Measured::derived(s.raw, s.quality),
+            filtered: Measured::derived(s.filtered, s.quality),
+            status: ChannelStatus {
+                channel: self.config.id,
+                quality: s.quality,
+                fault,
+                substituted: s.held,
+                last_good_ms: self.substitution.last_good_ms().unwrap_or(0),
+            },
+        };
+        self.last = out;
+        out
+    }
+
+    /// As [`Channel::update`], and logs a quality transition in `log`.
+    pub fn update_logged<const E: usize>(
+        &mut self,
+        raw: T,
+        t_ms: u64,
+        log: &mut EventLog<E>,
+    ) -> ChannelOutput<T> {
+        let before = self.last.status.quality;
+        let out = self.update(raw, t_ms);
+        if out.status.quality != before {
+            log.push(Event {
+                time_ms: t_ms,
+                channel: self.config.id,
+                from: before,
+                to: out.status.quality,
+                fault: out.status.fault,
+            });
+        }
+        out
+    }
+}

@@ -1,0 +1,87 @@
+//! Substitution of a failed channel: hold the last good value, marked
+//! uncertain, for a configured time; after that the channel is bad.
+//!
+//! Hold-last-good-value with a timeout is common practice in control
+//! systems (a short transmitter glitch must not trip a machine; a long one
+//! must not be hidden).
+
+use crate::quality::Quality;
+use crate::real::Real;
+
+/// The last good values of a channel.
+#[derive(Clone, Copy, Debug, PartialEq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Substitution<T> {
+    last_good: Option<(T, T, u64)>,
+}
+
+/// What a channel reports after substitution.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Substituted<T> {
+    /// Raw (validated, unfiltered) value.
+    pub raw: T,
+    /// Filtered value.
+    pub filtered: T,
+    /// Quality after substitution.
+    pub quality: Quality,
+    /// `true` if the values are held ones.
+    pub held: bool,
+}
+
+impl<T: Real> Substitution<T> {
+    /// Nothing held yet.
+    pub const fn new() -> Self {
+        Substitution { last_good: None }
+    }
+
+    /// Applies substitution to a sample of quality `q` at `t_ms`. A good or
+    /// uncertain sample passes (a good one is remembered); a bad one is
+    /// replaced by the last good values, uncertain, while no more than
+    /// `hold_ms` have passed since that good sample, and by `0`, bad, after.
+    pub fn apply(
+        &mut self,
+        raw: T,
+        filtered: T,
+        q: Quality,
+        t_ms: u64,
+        hold_ms: u32,
+    ) -> Substituted<T> {
+        match q {
+            Quality::Good => {
+                self.last_good = Some((raw, filtered, t_ms));
+                Substituted {
+                    raw,
+                    filtered,
+                    quality: q,
+                    held: false,
+                }
+            }
+            Quality::Uncertain => Substituted {
+                raw,
+                filtered,
+                quality: q,
+                held: false,
+            },
+            Quality::Bad => match self.last_good {
+                Some((r, f, t)) if t_ms.saturating_sub(t) <= u64::from(hold_ms) => Substituted {
+                    raw: r,
+                    filtered: f,
+                    quality: Quality::Uncertain,
+                    held: true,
+                },
+                _ => Substituted {
+                    raw: T::ZERO,
+                    filtered: T::ZERO,
+                    quality: Quality::Bad,
+                    held: false,
+                },
+            },
+        }
+    }
+
+    /// Time of the last good sample, ms.
+    pub fn last_good_ms(&self) -> Option<u64> {
+        self.last_good.map(|(_, _, t)| t)
+    }
+}
