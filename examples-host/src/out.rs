@@ -1,0 +1,435 @@
+//! Output helpers shared by every subcommand: values with their quality,
+//! a small JSON tree with a writer, and a plain-text grid.
+//!
+//! Text output marks qualities with a suffix: nothing for good, `?` for
+//! uncertain, and `--` in place of the number for bad (a bad value is a
+//! placeholder and must not be read). JSON output carries every result as
+//! `{"value": <number or null>, "quality": "good" | "uncertain" | "bad"}`;
+//! `value` is `null` whenever the quality is bad.
+
+use polytrope::{Measured, Quality, Real};
+
+use crate::keys::Key;
+
+/// The caution shown with every result a user sees.
+pub const CAUTION: &str = "Caution: not a certified safety function. Machine limits come from the \
+machine maker's data; follow local codes and licensed engineering practice.";
+
+/// Legend of the quality marks in text tables.
+pub const LEGEND: &str = "Quality marks: plain = good, ? = uncertain, -- = bad (no usable value).";
+
+/// A result widened to `f64` with its quality.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Val {
+    /// The value in its SI unit.
+    pub value: f64,
+    /// Its quality.
+    pub quality: Quality,
+}
+
+impl Val {
+    /// Widens a kernel value. The shortest decimal form of the value in its
+    /// own precision is kept (an f32 0.8 prints as 0.8, not 0.800000011920929).
+    pub fn of<T: Real>(m: Measured<T>) -> Val {
+        let wide = m.value.to_f64();
+        let value = format!("{}", m.value).parse::<f64>().unwrap_or(wide);
+        let quality = if value.is_finite() {
+            m.quality
+        } else {
+            Quality::Bad
+        };
+        Val { value, quality }
+    }
+
+    /// A good value.
+    #[cfg(test)]
+    pub fn good(value: f64) -> Val {
+        Val {
+            value,
+            quality: Quality::Good,
+        }
+    }
+
+    /// The quality as a JSON / text word.
+    pub fn quality_word(&self) -> &'static str {
+        quality_word(self.quality)
+    }
+}
+
+/// `good`, `uncertain` or `bad`.
+pub fn quality_word(q: Quality) -> &'static str {
+    match q {
+        Quality::Good => "good",
+        Quality::Uncertain => "uncertain",
+        Quality::Bad => "bad",
+    }
+}
+
+/// How a quantity is shown in a text table: unit label, scale from SI, decimals.
+#[derive(Clone, Copy, Debug)]
+pub struct Disp {
+    /// Unit shown in the table.
+    pub unit: &'static str,
+    /// Multiplier from the SI value.
+    pub scale: f64,
+    /// Decimals shown.
+    pub decimals: usize,
+}
+
+/// Display conventions used by the tables.
+pub mod disp {
+    use super::Disp;
+    const fn d(unit: &'static str, scale: f64, decimals: usize) -> Disp {
+        Disp {
+            unit,
+            scale,
+            decimals,
+        }
+    }
+    /// Dimensionless ratio.
+    pub const RATIO: Disp = d("-", 1.0, 3);
+    /// Dimensionless, 4 decimals.
+    pub const RATIO4: Disp = d("-", 1.0, 4);
+    /// Fraction shown in percent.
+    pub const PERCENT: Disp = d("%", 100.0, 1);
+    /// Kelvin.
+    pub const KELVIN: Disp = d("K", 1.0, 1);
+    /// Kelvin, two decimals.
+    pub const KELVIN2: Disp = d("K", 1.0, 2);
+    /// Specific work.
+    pub const KJ_PER_KG: Disp = d("kJ/kg", 1e-3, 1);
+    /// Power.
+    pub const KW: Disp = d("kW", 1e-3, 1);
+    /// Conductance.
+    pub const KW_PER_K: Disp = d("kW/K", 1e-3, 2);
+    /// Absolute pressure.
+    pub const BAR_A: Disp = d("bar a", 1e-5, 3);
+    /// Pressure difference, bar.
+    pub const BAR: Disp = d("bar", 1e-5, 2);
+    /// Pressure difference.
+    pub const KPA: Disp = d("kPa", 1e-3, 1);
+    /// Mass flow.
+    pub const KG_PER_S: Disp = d("kg/s", 1.0, 3);
+}
+
+/// A value as a table cell: `--` if bad, `?` appended if uncertain.
+pub fn cell(v: Val, d: Disp) -> String {
+    match v.quality {
+        Quality::Bad => "--".to_string(),
+        Quality::Uncertain => format!("{:.*}?", d.decimals, v.value * d.scale),
+        Quality::Good => format!("{:.*}", d.decimals, v.value * d.scale),
+    }
+}
+
+/// A JSON value.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Json {
+    /// `null`
+    Null,
+    /// `true` / `false`
+    Bool(bool),
+    /// A number (non-finite numbers are written as `null`).
+    Num(f64),
+    /// An integer.
+    Int(i64),
+    /// A string.
+    Str(String),
+    /// An array.
+    Arr(Vec<Json>),
+    /// An object with ordered keys.
+    Obj(Obj),
+}
+
+/// A JSON object whose keys come from the key registry ([`crate::keys`]),
+/// so every key written is documented.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct Obj(Vec<(&'static str, Json)>);
+
+impl Obj {
+    /// An empty object.
+    pub fn new() -> Obj {
+        Obj(Vec::new())
+    }
+    /// Any JSON value.
+    pub fn put(&mut self, k: &Key, v: Json) -> &mut Obj {
+        self.0.push((k.name, v));
+        self
+    }
+    /// A result with its quality: `{"value": .., "quality": ..}`.
+    pub fn val(&mut self, k: &Key, v: Val) -> &mut Obj {
+        self.put(k, measured(v))
+    }
+    /// A plain number (a model parameter or an echoed input).
+    pub fn num(&mut self, k: &Key, v: f64) -> &mut Obj {
+        self.put(k, Json::Num(v))
+    }
+    /// A string.
+    pub fn str(&mut self, k: &Key, v: &str) -> &mut Obj {
+        self.put(k, Json::Str(v.to_string()))
+    }
+    /// Finishes the object.
+    pub fn done(&mut self) -> Json {
+        Json::Obj(core::mem::take(self))
+    }
+}
+
+/// `{"value": .., "quality": ..}` with `null` for a bad value.
+pub fn measured(v: Val) -> Json {
+    let value = if v.quality == Quality::Bad || !v.value.is_finite() {
+        Json::Null
+    } else {
+        Json::Num(v.value)
+    };
+    let mut o = Obj::new();
+    o.put(&crate::keys::VALUE, value);
+    o.put(
+        &crate::keys::QUALITY,
+        Json::Str(v.quality_word().to_string()),
+    );
+    o.done()
+}
+
+impl Json {
+    /// Pretty-printed JSON text with a trailing newline.
+    pub fn to_text(&self) -> String {
+        let mut s = String::new();
+        self.write(&mut s, 0);
+        s.push('\n');
+        s
+    }
+
+    fn write(&self, s: &mut String, indent: usize) {
+        match self {
+            Json::Null => s.push_str("null"),
+            Json::Bool(b) => s.push_str(if *b { "true" } else { "false" }),
+            Json::Num(x) => {
+                if x.is_finite() {
+                    // `{:?}` is the shortest round-trip form and always valid JSON
+                    // for finite values (e.g. 263195.0, 1e-7, 1e21).
+                    s.push_str(&format!("{x:?}"));
+                } else {
+                    s.push_str("null");
+                }
+            }
+            Json::Int(i) => s.push_str(&i.to_string()),
+            Json::Str(t) => write_string(s, t),
+            Json::Arr(items) => {
+                if items.is_empty() {
+                    s.push_str("[]");
+                    return;
+                }
+                s.push('[');
+                for (i, item) in items.iter().enumerate() {
+                    if i > 0 {
+                        s.push(',');
+                    }
+                    newline(s, indent + 1);
+                    item.write(s, indent + 1);
+                }
+                newline(s, indent);
+                s.push(']');
+            }
+            Json::Obj(Obj(fields)) => {
+                // A {value, quality} pair stays on one line.
+                let compact = fields.len() == 2
+                    && fields
+                        .first()
+                        .is_some_and(|f| f.0 == crate::keys::VALUE.name);
+                if fields.is_empty() {
+                    s.push_str("{}");
+                    return;
+                }
+                s.push('{');
+                for (i, (k, v)) in fields.iter().enumerate() {
+                    if i > 0 {
+                        s.push(',');
+                        if compact {
+                            s.push(' ');
+                        }
+                    }
+                    if !compact {
+                        newline(s, indent + 1);
+                    }
+                    write_string(s, k);
+                    s.push_str(": ");
+                    v.write(s, indent + 1);
+                }
+                if !compact {
+                    newline(s, indent);
+                }
+                s.push('}');
+            }
+        }
+    }
+}
+
+fn newline(s: &mut String, indent: usize) {
+    s.push('\n');
+    for _ in 0..indent {
+        s.push_str("  ");
+    }
+}
+
+fn write_string(s: &mut String, t: &str) {
+    s.push('"');
+    for c in t.chars() {
+        match c {
+            '"' => s.push_str("\\\""),
+            '\\' => s.push_str("\\\\"),
+            '\n' => s.push_str("\\n"),
+            '\r' => s.push_str("\\r"),
+            '\t' => s.push_str("\\t"),
+            c if (c as u32) < 0x20 => s.push_str(&format!("\\u{:04x}", c as u32)),
+            c => s.push(c),
+        }
+    }
+    s.push('"');
+}
+
+/// A plain-text table: first column left-aligned, the others right-aligned.
+#[derive(Debug, Default)]
+pub struct Grid {
+    rows: Vec<Vec<String>>,
+}
+
+impl Grid {
+    /// A grid with a header row.
+    pub fn new(header: &[&str]) -> Grid {
+        Grid {
+            rows: vec![header.iter().map(|h| h.to_string()).collect()],
+        }
+    }
+    /// Appends a row.
+    pub fn row(&mut self, cells: Vec<String>) {
+        self.rows.push(cells);
+    }
+    /// Renders the grid, with a rule under the header.
+    pub fn render(&self, out: &mut String) {
+        let cols = self.rows.iter().map(Vec::len).max().unwrap_or(0);
+        let mut width = vec![0usize; cols];
+        for r in &self.rows {
+            for (w, c) in width.iter_mut().zip(r) {
+                *w = (*w).max(c.chars().count());
+            }
+        }
+        for (i, r) in self.rows.iter().enumerate() {
+            let mut line = String::new();
+            for (j, (c, w)) in r.iter().zip(&width).enumerate() {
+                if j == 0 {
+                    line.push_str(&format!("{c:<w$}"));
+                } else {
+                    line.push_str(&format!("  {c:>w$}"));
+                }
+            }
+            out.push_str(line.trim_end());
+            out.push('\n');
+            if i == 0 {
+                let total: usize = width.iter().sum::<usize>() + 2 * cols.saturating_sub(1);
+                out.push_str(&"-".repeat(total));
+                out.push('\n');
+            }
+        }
+    }
+}
+
+/// One reported quantity: its JSON key, table label, display and accessor.
+pub struct Row<R> {
+    /// JSON key (with its SI unit).
+    pub key: Key,
+    /// Table label.
+    pub label: &'static str,
+    /// Table display.
+    pub disp: Disp,
+    /// Reads the value from a result.
+    pub get: fn(&R) -> Val,
+}
+
+/// Rows as a table with one column per item (`items`: column title, result).
+pub fn column_table<R>(rows: &[Row<R>], items: &[(String, R)]) -> Grid {
+    let mut header: Vec<&str> = vec!["quantity", "unit"];
+    header.extend(items.iter().map(|(t, _)| t.as_str()));
+    let mut g = Grid::new(&header);
+    for r in rows {
+        let mut cells = vec![r.label.to_string(), r.disp.unit.to_string()];
+        cells.extend(items.iter().map(|(_, it)| cell((r.get)(it), r.disp)));
+        g.row(cells);
+    }
+    g
+}
+
+/// Rows as a two-column list (label, value, unit) for one result.
+pub fn list_table<R>(rows: &[Row<R>], item: &R) -> Grid {
+    let mut g = Grid::new(&["quantity", "value", "unit"]);
+    for r in rows {
+        g.row(vec![
+            r.label.to_string(),
+            cell((r.get)(item), r.disp),
+            r.disp.unit.to_string(),
+        ]);
+    }
+    g
+}
+
+/// Writes every row of one result into a JSON object.
+pub fn put_rows<R>(o: &mut Obj, rows: &[Row<R>], item: &R) {
+    for r in rows {
+        o.val(&r.key, (r.get)(item));
+    }
+}
+
+/// Converts `CamelCase` enum debug names into `kebab-case` words.
+pub fn kebab(debug_name: &str) -> String {
+    let mut s = String::new();
+    for (i, c) in debug_name.chars().enumerate() {
+        if c.is_ascii_uppercase() {
+            if i > 0 {
+                s.push('-');
+            }
+            s.push(c.to_ascii_lowercase());
+        } else {
+            s.push(c);
+        }
+    }
+    s
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn f32_values_keep_their_short_form() {
+        let v = Val::of(Measured::good(0.8_f32));
+        assert_eq!(v.value, 0.8);
+        let v = Val::of(Measured::new(263_195.3_f64, Quality::Uncertain));
+        assert_eq!(v.value, 263_195.3);
+        assert_eq!(v.quality, Quality::Uncertain);
+    }
+
+    #[test]
+    fn cells_mark_quality() {
+        let d = disp::KJ_PER_KG;
+        assert_eq!(cell(Val::good(263_195.0), d), "263.2");
+        let u = Val {
+            value: 1.0002,
+            quality: Quality::Uncertain,
+        };
+        assert_eq!(cell(u, disp::RATIO), "1.000?");
+        let b = Val {
+            value: 0.0,
+            quality: Quality::Bad,
+        };
+        assert_eq!(cell(b, disp::RATIO), "--");
+    }
+
+    #[test]
+    fn json_writer_escapes_and_nulls() {
+        let mut o = Obj::new();
+        o.str(&crate::keys::NOTES, "a \"quoted\"\nline");
+        o.num(&crate::keys::SCANS, f64::NAN);
+        let t = o.done().to_text();
+        assert!(t.contains(r#""a \"quoted\"\nline""#), "{t}");
+        assert!(t.contains("null"), "{t}");
+        assert_eq!(kebab("EfficiencyAboveOne"), "efficiency-above-one");
+    }
+}
