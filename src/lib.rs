@@ -78,6 +78,7 @@ pub mod steady;
 pub mod tolerance;
 pub mod train;
 pub mod units;
+mod window;
 
 pub use error::ConfigError;
 pub use quality::{Measured, Quality};

@@ -13,11 +13,10 @@
 //! on-line identification of steady state", J. Process Control 5 (1995),
 //! for the family of such tests). Cost: 3·W comparisons per scan.
 
-use heapless::HistoryBuffer;
-
 use crate::error::ConfigError;
 use crate::quality::Measured;
 use crate::real::Real;
+use crate::window::Window;
 
 /// Tolerances of the steady-state test.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -86,9 +85,9 @@ impl<T: Real> SteadyState<T> {
 /// Rolling-window steady-state detector for one stage; `W` scans.
 #[derive(Clone, Debug)]
 pub struct SteadyStateDetector<T, const W: usize> {
-    temperature: HistoryBuffer<T, W>,
-    ratio: HistoryBuffer<T, W>,
-    flow: HistoryBuffer<T, W>,
+    temperature: Window<T, W>,
+    ratio: Window<T, W>,
+    flow: Window<T, W>,
 }
 
 impl<T: Real, const W: usize> Default for SteadyStateDetector<T, W> {
@@ -116,9 +115,9 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
     pub const fn new() -> Self {
         const { assert!(W >= 2, "a steady-state window needs at least 2 scans") };
         SteadyStateDetector {
-            temperature: HistoryBuffer::new(),
-            ratio: HistoryBuffer::new(),
-            flow: HistoryBuffer::new(),
+            temperature: Window::filled_with(T::ZERO),
+            ratio: Window::filled_with(T::ZERO),
+            flow: Window::filled_with(T::ZERO),
         }
     }
 

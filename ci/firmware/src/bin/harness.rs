@@ -1,0 +1,312 @@
+//! The on-target harness. Runs the demo train (an invented scenario) over
+//! the committed scan table and prints every output as f32 bit patterns for
+//! `tests/firmware_outputs.rs`; then runs the regions the instruction-count
+//! plugin measures, the stack high-water test and the state sizes.
+//!
+//! Output lines (semihosting stdout):
+//! - `V scan index name bits quality` a value (bits = `f32::to_bits`, hex)
+//! - `C scan index name code` an exact code
+//! - `M region name` the n-th measured region (the plugin numbers them)
+//! - `S key value` a size or stack figure, bytes
+//! - `END ok` the run completed
+#![no_std]
+#![no_main]
+
+use core::fmt::Write as _;
+use core::hint::black_box;
+
+use cortex_m_rt::entry;
+use cortex_m_semihosting::{debug, hio};
+use heapless::String;
+use polytrope::cooler::{evaluate_cooler, CoolerInputs};
+use polytrope::demo::{self, DemoTrain};
+use polytrope::gas::{GasModel, IdealGas};
+use polytrope::quality::{Measured, Quality};
+use polytrope::scan::Scan;
+use polytrope::stage::{evaluate_compressor, evaluate_pump, CompressorInputs};
+use polytrope::train::{Snapshot, Train, TrainConfig};
+use polytrope_firmware::codec::{decode_scan, quality_code, visit, Out, RawStage};
+use polytrope_firmware::measure;
+use polytrope_firmware::table::SCANS;
+
+/// Stages of the budget train: four compressors, three intercoolers.
+const BUDGET_STAGES: usize = 4;
+type BudgetTrain = Train<f32, IdealGas<f32>, BUDGET_STAGES, { demo::WINDOW }>;
+
+struct Host(Option<hio::HostStream>);
+
+impl Host {
+    fn line(&mut self, args: core::fmt::Arguments) {
+        let mut s: String<160> = String::new();
+        let _ = s.write_fmt(args);
+        let _ = s.push('\n');
+        if let Some(out) = self.0.as_mut() {
+            let _ = out.write_all(s.as_bytes());
+        }
+    }
+}
+
+macro_rules! out {
+    ($h:expr, $($t:tt)*) => { $h.line(format_args!($($t)*)) };
+}
+
+fn fail(h: &mut Host, what: &str) -> ! {
+    out!(h, "ERROR {}", what);
+    debug::exit(debug::EXIT_FAILURE);
+    #[allow(clippy::empty_loop)]
+    loop {}
+}
+
+fn print_snapshot<const N: usize>(h: &mut Host, scan: usize, s: &Snapshot<f32, N>) {
+    visit(s, |i, o| match o {
+        Out::Value(name, m, _) => {
+            out!(
+                h,
+                "V {} {} {} {:08x} {}",
+                scan,
+                i,
+                name,
+                m.value.to_bits(),
+                quality_code(m.quality)
+            )
+        }
+        Out::Code(name, c) => out!(h, "C {} {} {} {}", scan, i, name, c),
+    });
+}
+
+/// The budget train's configuration: the demo's first four stages, the
+/// fourth without its aftercooler.
+fn budget_config() -> Option<TrainConfig<f32, IdealGas<f32>, BUDGET_STAGES>> {
+    let demo = demo::config::<f32>().ok()?;
+    let mut stages = [*demo.stages.first()?; BUDGET_STAGES];
+    for (i, s) in stages.iter_mut().enumerate() {
+        *s = *demo.stages.get(i)?;
+    }
+    if let Some(last) = stages.last_mut() {
+        last.cooler = None;
+    }
+    Some(TrainConfig {
+        gas: demo.gas,
+        stages,
+        max_interstage_pressure_drop: demo.max_interstage_pressure_drop,
+        steady_state: demo.steady_state,
+    })
+}
+
+fn budget_scan(raw: &[RawStage; demo::STAGES]) -> Scan<f32, BUDGET_STAGES> {
+    let full = decode_scan::<f32, { demo::STAGES }>(raw);
+    let mut stages = [full.stages[0]; BUDGET_STAGES];
+    for (i, s) in stages.iter_mut().enumerate() {
+        *s = full.stages[i];
+    }
+    stages[BUDGET_STAGES - 1].cooler = None;
+    Scan { stages }
+}
+
+#[inline(never)]
+fn update_demo(t: &mut DemoTrain<f32>, s: &Scan<f32, { demo::STAGES }>) -> f32 {
+    t.update(s).totals.total_power.value
+}
+
+#[inline(never)]
+fn update_budget(t: &mut BudgetTrain, s: &Scan<f32, BUDGET_STAGES>) -> f32 {
+    t.update(s).totals.total_power.value
+}
+
+/// Stack bytes used by `f`: paints the free stack below the current stack
+/// pointer, runs `f`, and finds the lowest word that changed.
+#[inline(never)]
+fn stack_used(f: impl FnOnce()) -> usize {
+    const PAINT: u32 = 0xC0FF_EE55;
+    extern "C" {
+        static mut __ebss: u32;
+    }
+    let sp: usize;
+    // SAFETY: reads the stack pointer only.
+    unsafe { core::arch::asm!("mov {}, sp", out(reg) sp) };
+    let floor = core::ptr::addr_of!(__ebss) as usize + 64;
+    let bottom = (sp.saturating_sub(12 * 1024)).max(floor) & !3;
+    let top = sp & !3;
+    let mut a = bottom;
+    while a < top {
+        // SAFETY: [bottom, sp) is free stack between the end of .bss and the
+        // stack pointer; no interrupts are enabled in the harness.
+        unsafe { core::ptr::write_volatile(a as *mut u32, PAINT) };
+        a += 4;
+    }
+    f();
+    let mut a = bottom;
+    // SAFETY: as above, reading back the painted words.
+    while a < top && unsafe { core::ptr::read_volatile(a as *const u32) } == PAINT {
+        a += 4;
+    }
+    if a == bottom {
+        usize::MAX // overflowed the painted area: not measurable
+    } else {
+        top - a
+    }
+}
+
+#[entry]
+fn main() -> ! {
+    let mut h = Host(hio::hstdout().ok());
+    out!(h, "polytrope firmware harness (invented demo scenario)");
+
+    // 1. Outputs over the committed scans, for the host comparison.
+    let Ok(mut train) = demo::train::<f32>() else {
+        fail(&mut h, "demo train config");
+    };
+    for (i, raw) in SCANS.iter().enumerate() {
+        let scan = decode_scan::<f32, { demo::STAGES }>(black_box(raw));
+        let snapshot = train.update(&scan);
+        print_snapshot(&mut h, i, snapshot);
+    }
+
+    // 2. Measured regions (instruction-count plugin). Region 0 is empty: its
+    //    count is the marker overhead the script subtracts.
+    let Ok(config) = demo::config::<f32>() else {
+        fail(&mut h, "demo config");
+    };
+    let gas = config.gas;
+    let raw = black_box(&SCANS[12]);
+    let scan = decode_scan::<f32, { demo::STAGES }>(raw);
+    let mut region = 0_u32;
+    let mut label = |h: &mut Host, name: &str| {
+        out!(h, "M {} {}", region, name);
+        region += 1;
+        region - 1
+    };
+
+    let r = label(&mut h, "empty");
+    measure(r, || black_box(0_u32));
+
+    let s1 = &scan.stages[1];
+    let g = |x: f32| Measured::new(x, Quality::Good);
+    let inputs = black_box(CompressorInputs {
+        suction_pressure: g(s1.suction_pressure.value.pa()),
+        suction_temperature: g(s1.suction_temperature.value.kelvin()),
+        discharge_pressure: g(s1.discharge_pressure.value.pa()),
+        discharge_temperature: g(s1.discharge_temperature.value.kelvin()),
+        mass_flow: g(11.5),
+        compressibility: Some((0.97, Quality::Good)),
+    });
+    let gas_ref = black_box(&gas);
+    let r = label(&mut h, "compressor_stage");
+    let res = measure(r, || evaluate_compressor(gas_ref, &inputs));
+    black_box(res);
+
+    let s0 = &scan.stages[0];
+    let Some(c0) = s0.cooler else {
+        fail(&mut h, "scan without cooler");
+    };
+    let t2 = s0.discharge_temperature.value.kelvin();
+    let tout = c0.gas_outlet_temperature.value.kelvin();
+    let p2 = s0.discharge_pressure.value.pa();
+    let p_next = scan.stages[1].suction_pressure.value.pa();
+    let cp = gas.path(p2, t2, p_next, tout, None).cp;
+    let cooler_inputs = black_box(CoolerInputs {
+        gas_inlet_temperature: g(t2),
+        gas_outlet_temperature: g(tout),
+        coolant_inlet_temperature: g(c0.coolant_inlet_temperature.value.kelvin()),
+        coolant_outlet_temperature: c0
+            .coolant_outlet_temperature
+            .map_or(Measured::bad(), |t| g(t.value.kelvin())),
+        gas_inlet_pressure: g(p2),
+        gas_outlet_pressure: g(p_next),
+        gas_mass_flow: g(11.5),
+        coolant_mass_flow: c0.coolant_mass_flow.unwrap_or(Measured::bad()),
+        gas_cp: cp,
+        coolant_cp: 4180.0,
+    });
+    let r = label(&mut h, "intercooler");
+    let res = measure(r, || evaluate_cooler(&cooler_inputs));
+    black_box(res);
+
+    let s4 = &scan.stages[4];
+    let (pp1, pp2, pt1) = black_box((
+        g(s4.suction_pressure.value.pa()),
+        g(s4.discharge_pressure.value.pa()),
+        g(s4.suction_temperature.value.kelvin()),
+    ));
+    let r = label(&mut h, "pump_stage");
+    let res = measure(r, || {
+        evaluate_pump(gas_ref, 780.0, 0.72, pp1, pp2, pt1, g(11.5))
+    });
+    black_box(res);
+
+    // Full updates in steady operation: a fresh train warmed with the first
+    // ten (normal) scans of the table, then three measured scans.
+    let Ok(mut demo_train) = demo::train::<f32>() else {
+        fail(&mut h, "demo train");
+    };
+    let Some(budget_cfg) = budget_config() else {
+        fail(&mut h, "budget config");
+    };
+    let Ok(mut budget) = BudgetTrain::new(budget_cfg) else {
+        fail(&mut h, "budget train");
+    };
+    for raw in SCANS.iter().take(10) {
+        let raw = black_box(raw);
+        update_demo(&mut demo_train, &decode_scan(raw));
+        update_budget(&mut budget, &budget_scan(raw));
+    }
+    for raw in SCANS.iter().skip(10).take(3) {
+        let s = black_box(decode_scan::<f32, { demo::STAGES }>(black_box(raw)));
+        let r = label(&mut h, "update_demo_5_stages");
+        measure(r, || update_demo(&mut demo_train, &s));
+        let s = black_box(budget_scan(black_box(raw)));
+        let r = label(&mut h, "update_4_stages_3_intercoolers");
+        measure(r, || update_budget(&mut budget, &s));
+    }
+    let r = label(&mut h, "train_new_demo_5_stages");
+    let cfg = black_box(config);
+    let built = measure(r, || DemoTrain::<f32>::new(cfg).is_ok());
+    black_box(built);
+
+    // 3. Stack high-water mark of one update (the wrapper frame included).
+    let s = black_box(decode_scan::<f32, { demo::STAGES }>(black_box(&SCANS[13])));
+    let used = stack_used(|| {
+        update_demo(&mut demo_train, &s);
+    });
+    out!(h, "S stack_update_demo_5_stages {}", used);
+    let s = black_box(budget_scan(black_box(&SCANS[13])));
+    let used = stack_used(|| {
+        update_budget(&mut budget, &s);
+    });
+    out!(h, "S stack_update_4_stages_3_intercoolers {}", used);
+
+    // 4. State sizes.
+    out!(
+        h,
+        "S state_demo_5_stages {}",
+        core::mem::size_of::<DemoTrain<f32>>()
+    );
+    out!(
+        h,
+        "S state_4_stages_3_intercoolers {}",
+        core::mem::size_of::<BudgetTrain>()
+    );
+    out!(
+        h,
+        "S snapshot_demo_5_stages {}",
+        core::mem::size_of::<Snapshot<f32, 5>>()
+    );
+    out!(
+        h,
+        "S scan_demo_5_stages {}",
+        core::mem::size_of::<Scan<f32, 5>>()
+    );
+    out!(h, "END ok");
+    debug::exit(debug::EXIT_SUCCESS);
+    #[allow(clippy::empty_loop)]
+    loop {}
+}
+
+#[panic_handler]
+fn panic(info: &core::panic::PanicInfo) -> ! {
+    let mut h = Host(hio::hstdout().ok());
+    out!(h, "PANIC {}", info);
+    debug::exit(debug::EXIT_FAILURE);
+    #[allow(clippy::empty_loop)]
+    loop {}
+}

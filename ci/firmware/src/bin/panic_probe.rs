@@ -1,0 +1,31 @@
+//! The panic-freedom check's own test: a deliberately panicking program
+//! with the same link-time panic handler as `minimal`. It MUST fail to link
+//! (`ci/checks.d/firmware.sh` fails if it links), which proves the check
+//! can fail.
+#![no_std]
+#![no_main]
+
+use cortex_m_rt::entry;
+use cortex_m_semihosting::debug;
+
+#[entry]
+fn main() -> ! {
+    let values = [1_u32, 2, 3];
+    let i = core::hint::black_box(7_usize);
+    let missing: Option<u32> = core::hint::black_box(None);
+    #[allow(clippy::indexing_slicing, clippy::unwrap_used)]
+    let v = values[i] + missing.unwrap();
+    core::hint::black_box(v);
+    debug::exit(debug::EXIT_SUCCESS);
+    #[allow(clippy::empty_loop)]
+    loop {}
+}
+
+#[panic_handler]
+fn panic(_: &core::panic::PanicInfo) -> ! {
+    extern "C" {
+        fn polytrope_reachable_panic_path() -> !;
+    }
+    // SAFETY: never defined; a reachable panic fails the link (by design).
+    unsafe { polytrope_reachable_panic_path() }
+}

@@ -1,0 +1,104 @@
+//! A fixed-capacity rolling window with no panic path.
+//!
+//! Same behaviour as the subset of `heapless::HistoryBuffer` (0.8) the kernel
+//! uses (`new`, `write`, `len`, `as_slice`, `recent`, `clear`; `as_slice` in
+//! storage order, not chronological), but `HistoryBuffer::write` indexes its
+//! array with a bounds check the optimiser cannot remove, which leaves a
+//! panic path in every caller (found by the link-time panic check of
+//! `ci/firmware`). Here every access goes through `get`/`get_mut`.
+
+/// The last `W` values written.
+#[derive(Clone, Debug)]
+pub(crate) struct Window<T, const W: usize> {
+    data: [T; W],
+    /// Slot of the next write, always `< W`.
+    next: usize,
+    /// Values held, `<= W`.
+    len: usize,
+}
+
+impl<T: Copy + Default, const W: usize> Default for Window<T, W> {
+    fn default() -> Self {
+        Window {
+            data: [T::default(); W],
+            next: 0,
+            len: 0,
+        }
+    }
+}
+
+impl<T: Copy, const W: usize> Window<T, W> {
+    /// An empty window whose unused slots hold `fill`.
+    pub(crate) const fn filled_with(fill: T) -> Self {
+        const { assert!(W > 0, "a window needs at least one slot") };
+        Window {
+            data: [fill; W],
+            next: 0,
+            len: 0,
+        }
+    }
+
+    /// Writes a value, overwriting the oldest once full.
+    #[inline]
+    pub(crate) fn write(&mut self, v: T) {
+        if let Some(slot) = self.data.get_mut(self.next) {
+            *slot = v;
+        }
+        self.next = if self.next + 1 >= W { 0 } else { self.next + 1 };
+        if self.len < W {
+            self.len += 1;
+        }
+    }
+
+    /// Values held.
+    #[inline]
+    pub(crate) fn len(&self) -> usize {
+        self.len
+    }
+
+    /// The values held, in storage order.
+    #[inline]
+    pub(crate) fn as_slice(&self) -> &[T] {
+        self.data.get(..self.len).unwrap_or(&[])
+    }
+
+    /// The most recent value, if any.
+    #[inline]
+    #[allow(dead_code)]
+    pub(crate) fn recent(&self) -> Option<&T> {
+        if self.len == 0 {
+            return None;
+        }
+        let last = if self.next == 0 { W - 1 } else { self.next - 1 };
+        self.data.get(last)
+    }
+
+    /// Forgets every value.
+    #[inline]
+    pub(crate) fn clear(&mut self) {
+        self.next = 0;
+        self.len = 0;
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn behaves_like_a_history_buffer() {
+        let mut w = Window::<u32, 3>::filled_with(0);
+        let mut h = heapless::HistoryBuffer::<u32, 3>::new();
+        assert_eq!(w.recent(), None);
+        for v in 1..=7 {
+            w.write(v);
+            h.write(v);
+            assert_eq!(w.as_slice(), h.as_slice());
+            assert_eq!(w.len(), h.len());
+            assert_eq!(w.recent(), h.recent());
+        }
+        w.clear();
+        assert_eq!((w.len(), w.as_slice()), (0, &[][..]));
+        assert_eq!(Window::<u8, 2>::default().len(), 0);
+    }
+}
