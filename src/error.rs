@@ -125,6 +125,26 @@ pub enum ConfigError {
     FlowCoefficient,
     /// Low-flow `cutoff_dp` / `zero_tolerance` not finite and non-negative.
     LowFlowCutoff,
+    /// The surge-line table has fewer than 2 points or more than its
+    /// capacity.
+    SurgeLineLength,
+    /// `points[point]` of the surge-line table has a speed, flow, pressure
+    /// ratio or control margin that is not finite and in range.
+    SurgeLinePoint {
+        /// Point index.
+        point: u8,
+    },
+    /// `points[point]` of the surge-line table does not rise above the
+    /// previous point in speed, reduced head and reduced flow.
+    SurgeLineNotMonotonic {
+        /// Point index.
+        point: u8,
+    },
+    /// A surge-protection or recycle-control setting is out of range.
+    SurgeSetting {
+        /// The offending field, as named in its configuration struct.
+        field: &'static str,
+    },
 }
 
 impl fmt::Display for ConfigError {
@@ -215,6 +235,19 @@ impl fmt::Display for ConfigError {
             LowFlowCutoff => {
                 f.write_str("low-flow cutoff_dp and zero_tolerance must be finite and >= 0")
             }
+            SurgeLineLength => {
+                f.write_str("the surge line needs at least 2 points and at most its capacity")
+            }
+            SurgeLinePoint { point } => write!(
+                f,
+                "surge line points[{point}]: speed, flow and control margin must be finite and in range, ratio > 1"
+            ),
+            SurgeLineNotMonotonic { point } => write!(
+                f,
+                "surge line points[{point}] must rise above points[{}] in speed, reduced head and reduced flow",
+                point.saturating_sub(1)
+            ),
+            SurgeSetting { field } => write!(f, "surge/recycle setting {field} is out of range"),
         }
     }
 }

@@ -75,6 +75,7 @@ pub mod signal;
 pub mod stage;
 pub mod staging;
 pub mod steady;
+pub mod surge;
 pub mod tolerance;
 pub mod train;
 pub mod units;

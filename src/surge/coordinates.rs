@@ -1,0 +1,140 @@
+//! Reduced (invariant) compressor-map coordinates.
+//!
+//! Sources (all from memory; the derivation below is complete, so nothing
+//! hangs on the citations):
+//! - Similarity (fan) laws of turbomachines: for a given machine and a given
+//!   machine Mach number the flow coefficient φ = Q/(N D³) and the head
+//!   coefficient ψ = h/(N² D²) fix the aerodynamic state, and so the surge
+//!   point (e.g. Dixon & Hall, *Fluid Mechanics and Thermodynamics of
+//!   Turbomachinery*, ch. 1 and 2).
+//! - Reduced flow from the flow element's differential pressure over suction
+//!   pressure, and reduced head from the pressure ratio with a polytropic
+//!   exponent, as used for surge lines in published compressor-map practice
+//!   (Gresh, *Compressor Performance: Aerodynamics for the User*; Botros &
+//!   Henderson, "Developments in centrifugal compressor surge control — a
+//!   technology assessment", ASME J. Turbomachinery 116 (1994)).
+//!
+//! # The transform
+//!
+//! Suction flow element (orifice, venturi, nozzle; ISO 5167 form):
+//! `Δp = ρs · (Qs / C)²`, with `C` the element's flow coefficient in m²
+//! (`C = Cd · E · ε · A · √2` in ISO 5167 terms) and `ρs = ps / (Z R Ts)`.
+//!
+//! Polytropic head: `hp = Z R Ts · (r^σ − 1)/σ`, `σ = (n − 1)/n`.
+//!
+//! Reduced coordinates:
+//!
+//! ```text
+//! reduced flow squared   qr² = Δp / ps           = (Qs / C)² / (Z R Ts)
+//! reduced head           hr  = (r^σ − 1) / σ      = hp / (Z R Ts)
+//! ```
+//!
+//! Both are `(velocity / speed of sound)²`-like groups: with
+//! `Qs = φ N D³` and `hp = ψ N² D²`, `qr² = φ² (N D / a*)² D⁴/C²` and
+//! `hr = ψ (N D / a*)²`, where `a*² = Z R Ts`. So a given aerodynamic state
+//! (φ, ψ, machine Mach number) maps to the same (qr², hr) whatever the
+//! suction pressure, temperature, compressibility or molar mass: a surge line
+//! drawn in them does not move when the gas or the suction conditions
+//! change, while one drawn in uncorrected flow (kg/s, or Δp alone) does.
+//! `hr/qr²` equals `hp/Qs² · C²`, the speed-independent ratio the fan laws
+//! keep constant along a parabola through the origin.
+//!
+//! Limits (common practice): σ is a configured constant; a large swing in
+//! the isentropic exponent k changes the true σ and moves points slightly.
+//! The flow element sits in the compressor suction, downstream of the recycle
+//! tie-in, so it measures the compressor flow including recycle.
+
+use crate::real::Real;
+
+/// Molar gas constant in J/(kmol K) (CODATA 2018, exact), for molar masses in
+/// kg/kmol.
+pub const MOLAR_GAS_CONSTANT_KMOL: f64 = 8_314.462_618_153_24;
+
+/// σ = (n − 1)/n from a polytropic exponent `n > 1`.
+#[inline]
+pub fn sigma_from_exponent<T: Real>(n: T) -> T {
+    (n - T::ONE) / n
+}
+
+/// Reduced flow squared from the live measurement: `qr² = Δp / ps`.
+/// Negative when the element sees reverse flow (bidirectional transmitter).
+#[inline]
+pub fn reduced_flow_squared<T: Real>(flow_dp: T, suction_pressure: T) -> T {
+    flow_dp / suction_pressure
+}
+
+/// Reduced head `hr = (r^σ − 1)/σ` from the pressure ratio `r > 0` and
+/// `σ > 0` (computed as `exp(σ ln r)`).
+#[inline]
+pub fn reduced_head<T: Real>(ratio: T, sigma: T) -> T {
+    (T::exp(sigma * T::ln(ratio)) - T::ONE) / sigma
+}
+
+/// Inverse of [`reduced_head`]: the pressure ratio giving `hr`.
+#[inline]
+pub fn ratio_from_reduced_head<T: Real>(reduced_head: T, sigma: T) -> T {
+    T::exp(T::ln(T::ONE + sigma * reduced_head) / sigma)
+}
+
+/// `Z R Ts`, J/kg, from the molar mass in kg/kmol (the square of the
+/// reference velocity `a*`).
+#[inline]
+pub fn z_r_t<T: Real>(compressibility: T, molar_mass: T, suction_temperature: T) -> T {
+    compressibility * T::of(MOLAR_GAS_CONSTANT_KMOL) / molar_mass * suction_temperature
+}
+
+/// Reduced flow squared of a map point given as actual volume flow at
+/// suction `Qs` (m³/s): `qr² = (Qs / C)² / (Z R Ts)`, `C` in m².
+#[inline]
+pub fn reduced_flow_squared_from_volume_flow<T: Real>(
+    volume_flow: T,
+    flow_coefficient: T,
+    z_r_t: T,
+) -> T {
+    let v = volume_flow / flow_coefficient;
+    v * v / z_r_t
+}
+
+/// Flow element differential pressure for a volume flow at suction:
+/// `Δp = ρs (Qs / C)²` with `ρs = ps / (Z R Ts)`, Pa.
+#[inline]
+pub fn flow_element_dp<T: Real>(
+    volume_flow: T,
+    flow_coefficient: T,
+    suction_pressure: T,
+    z_r_t: T,
+) -> T {
+    let v = volume_flow / flow_coefficient;
+    suction_pressure / z_r_t * v * v
+}
+
+/// Reduced speed `N / a*` (rpm per (m/s)): the machine Mach number up to
+/// the impeller diameter. Equal reduced speed means equal Mach number.
+#[inline]
+pub fn reduced_speed<T: Real>(speed_rpm: T, z_r_t: T) -> T {
+    speed_rpm / T::sqrt(z_r_t)
+}
+
+/// `sign(x) · √|x|`: reduced flow from reduced flow squared, keeping the
+/// direction of flow.
+#[inline]
+pub fn signed_sqrt<T: Real>(x: T) -> T {
+    if x < T::ZERO {
+        -T::sqrt(-x)
+    } else {
+        T::sqrt(x)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn head_round_trips() {
+        let s = sigma_from_exponent(1.5_f64);
+        let h = reduced_head(2.3, s);
+        assert!((ratio_from_reduced_head(h, s) - 2.3).abs() < 1e-12);
+        assert_eq!(signed_sqrt(-4.0_f64), -2.0);
+    }
+}

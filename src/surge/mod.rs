@@ -1,0 +1,71 @@
+//! Surge protection: a surge line in reduced (invariant) coordinates, the
+//! live surge margin, the deviation from a control line, rate of approach and
+//! time to surge, and surge-cycle detection with a trip request.
+//!
+//! **Caution.** Anti-surge control protects machinery and people. This crate
+//! is not a certified safety function (IEC 61508 / IEC 61511). Surge data
+//! come from the machine maker and from commissioning (surge) tests, not from
+//! this crate; follow local codes and licensed engineering practice. A trip
+//! request from this module is advisory input to a separately engineered
+//! protection system.
+//!
+//! # Surge margin
+//!
+//! In reduced coordinates (see [`coordinates`]) — reduced flow squared
+//! `qr² = Δp / ps` (flow element differential pressure over suction
+//! pressure) and reduced head `hr = (r^σ − 1)/σ`, `σ = (n−1)/n` — the surge
+//! margin is
+//!
+//! ```text
+//! SM = qr / qr,s(hr) − 1,    qr = sign(qr²) √|qr²|
+//! ```
+//!
+//! the fractional excess of flow over the surge flow at the same reduced
+//! head: 0 on the surge line, 0.10 at 10 % more flow (see [`margin`]). The
+//! control line sits at a per-speed-line control margin (common practice:
+//! about 10 % in flow); [`surge_line`] explains how line and margin vary
+//! with speed.
+//!
+//! ```
+//! use polytrope::surge::{MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig,
+//!     SurgeMonitor, SurgePoint, SurgeScan};
+//! use polytrope::units::{Kelvin, PressureAbs};
+//! use polytrope::Measured;
+//!
+//! // An invented two-speed map, for illustration only.
+//! let pt = |rpm: f64, q: f64, r: f64| SurgePoint {
+//!     speed_rpm: rpm, suction_volume_flow: q, pressure_ratio: r, control_margin: 0.10 };
+//! let points = [pt(8000.0, 1.6, 1.9), pt(10000.0, 2.0, 2.4)];
+//! let line = SurgeLine::<f64, 4>::new(&SurgeLineConfig {
+//!     points: &points,
+//!     map: MapConditions {
+//!         suction_pressure: PressureAbs::from_bar(1.0),
+//!         suction_temperature: Kelvin::new(300.0),
+//!         molar_mass: 28.96,
+//!         compressibility: 1.0,
+//!     },
+//!     polytropic_exponent: 1.5,
+//!     flow_coefficient: 0.05,
+//! })?;
+//! let mut monitor = SurgeMonitor::<f64, 4, 8>::new(line, MonitorConfig {
+//!     scan_period: 0.02, time_to_surge_horizon: 60.0 })?;
+//! let state = monitor.update(&SurgeScan {
+//!     suction_pressure: Measured::good(PressureAbs::from_bar(1.0)),
+//!     discharge_pressure: Measured::good(PressureAbs::from_bar(2.2)),
+//!     flow_dp: Measured::good(2500.0),
+//! }, 0.0);
+//! assert!(state.margin.quality.is_good());
+//! assert!(state.margin.value > 0.0);
+//! # Ok::<(), polytrope::ConfigError>(())
+//! ```
+
+pub mod coordinates;
+pub mod detection;
+pub mod margin;
+pub mod surge_line;
+
+pub use detection::{DetectionConfig, DetectionScan, DetectionState, SurgeDetector};
+pub use margin::{MonitorConfig, SurgeMonitor, SurgeScan, SurgeState};
+pub use surge_line::{
+    LineLookup, MapConditions, ReducedPoint, SurgeLine, SurgeLineConfig, SurgePoint,
+};

@@ -1,0 +1,256 @@
+//! The surge line: the machine maker's surge points, one per speed line,
+//! transformed once into reduced coordinates (see [`super::coordinates`]).
+//!
+//! Source of the method: piecewise-linear interpolation of the surge line in
+//! reduced coordinates, one surge point and one control margin per map speed
+//! line (published compressor-map practice; Gresh, *Compressor Performance*,
+//! from memory). Linear interpolation of a strictly increasing table is
+//! monotonic: a higher reduced head never gives a lower surge flow.
+//!
+//! # How the line and the margin vary with speed
+//!
+//! Each map speed line contributes one point: its surge flow and pressure
+//! ratio, and the control margin chosen for that speed. In reduced
+//! coordinates the points rise with speed (`hr` roughly ∝ N², `qr²` ∝ N²,
+//! the fan-law parabola). The live operating point is placed on the line by
+//! its reduced head, so between two speed lines both the surge flow and the
+//! control margin are interpolated linearly in `hr`. A per-speed margin lets
+//! the low-speed end, where speed lines are flat and the line bends, carry a
+//! wider margin than the high-speed end (one margin for all speeds is known
+//! to misbehave at low speed: common practice).
+//!
+//! Outside the mapped heads nothing is extrapolated silently: below the
+//! lowest point the lowest surge flow is held (conservative: the true line
+//! keeps falling); above the highest the last segment is extended (it
+//! rises, conservative). Both are reported [`Quality::Uncertain`].
+
+use heapless::Vec;
+
+use super::coordinates::{
+    reduced_flow_squared_from_volume_flow, reduced_head, reduced_speed, sigma_from_exponent, z_r_t,
+};
+use crate::error::ConfigError;
+use crate::quality::Quality;
+use crate::real::Real;
+use crate::units::{Kelvin, PressureAbs};
+
+/// One surge point from the machine maker's map (one speed line).
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct SurgePoint<T> {
+    /// Speed of the map line, rpm.
+    pub speed_rpm: T,
+    /// Actual volume flow at suction at surge, m³/s (at the map's suction
+    /// conditions).
+    pub suction_volume_flow: T,
+    /// Pressure ratio at surge, -.
+    pub pressure_ratio: T,
+    /// Control margin for this speed line, as a fraction of the surge flow
+    /// (0.10 = control line at 10 % more flow than surge; common practice
+    /// puts it around 10 %). In [0, 1).
+    pub control_margin: T,
+}
+
+/// The gas and suction conditions the map was drawn for.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct MapConditions<T> {
+    /// Suction pressure of the map.
+    pub suction_pressure: PressureAbs<T>,
+    /// Suction temperature of the map.
+    pub suction_temperature: Kelvin<T>,
+    /// Molar mass of the map gas, kg/kmol.
+    pub molar_mass: T,
+    /// Suction compressibility factor of the map gas, -.
+    pub compressibility: T,
+}
+
+/// Configuration of a surge line.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct SurgeLineConfig<'a, T> {
+    /// Surge points, one per speed line, in rising speed.
+    pub points: &'a [SurgePoint<T>],
+    /// Conditions of the map.
+    pub map: MapConditions<T>,
+    /// Polytropic exponent n used for the reduced head (map and live), > 1.
+    pub polytropic_exponent: T,
+    /// Suction flow element coefficient `C` in `Δp = ρ (Q/C)²`, m².
+    pub flow_coefficient: T,
+}
+
+/// A surge-line point in reduced coordinates.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct ReducedPoint<T> {
+    /// Reduced head hr, -.
+    pub reduced_head: T,
+    /// Reduced flow squared qr² = Δp/ps, -.
+    pub reduced_flow_squared: T,
+    /// Control margin of this speed line, -.
+    pub control_margin: T,
+    /// Reduced speed N/√(Z R Ts), rpm/(m/s).
+    pub reduced_speed: T,
+}
+
+/// The surge line on the reduced head at one operating point.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct LineLookup<T> {
+    /// Surge reduced flow squared at this reduced head.
+    pub surge_reduced_flow_squared: T,
+    /// Control margin of the speed lines around this head.
+    pub control_margin: T,
+    /// `Good` inside the mapped heads, `Uncertain` outside.
+    pub quality: Quality,
+}
+
+/// A validated surge line with at most `N` points (`N >= 2`).
+#[derive(Clone, Debug)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct SurgeLine<T, const N: usize> {
+    points: Vec<ReducedPoint<T>, N>,
+    sigma: T,
+}
+
+fn finite_pos<T: Real>(x: T) -> bool {
+    T::is_finite(x) && x > T::ZERO
+}
+
+impl<T: Real, const N: usize> SurgeLine<T, N> {
+    /// Transforms and validates the map's surge points.
+    ///
+    /// Errors: [`ConfigError::SurgeLineLength`] (fewer than 2 or more than
+    /// `N` points), [`ConfigError::SurgeLinePoint`],
+    /// [`ConfigError::SurgeLineNotMonotonic`] (speed, reduced head and reduced
+    /// flow must all rise strictly), [`ConfigError::SurgeSetting`] (map
+    /// conditions, exponent, flow coefficient).
+    pub fn new(config: &SurgeLineConfig<'_, T>) -> Result<Self, ConfigError> {
+        const { assert!(N >= 2, "a surge line needs room for 2 points") };
+        let bad = |field| Err(ConfigError::SurgeSetting { field });
+        let m = &config.map;
+        if !finite_pos(m.suction_pressure.pa()) {
+            return bad("map.suction_pressure");
+        }
+        if !finite_pos(m.suction_temperature.kelvin()) {
+            return bad("map.suction_temperature");
+        }
+        if !finite_pos(m.molar_mass) {
+            return bad("map.molar_mass");
+        }
+        if !(finite_pos(m.compressibility) && m.compressibility <= T::of(2.0)) {
+            return bad("map.compressibility");
+        }
+        let n = config.polytropic_exponent;
+        if !(T::is_finite(n) && n > T::ONE && n < T::of(10.0)) {
+            return bad("polytropic_exponent");
+        }
+        if !finite_pos(config.flow_coefficient) {
+            return bad("flow_coefficient");
+        }
+        if config.points.len() < 2 || config.points.len() > N {
+            return Err(ConfigError::SurgeLineLength);
+        }
+        let sigma = sigma_from_exponent(n);
+        let zrt = z_r_t(
+            m.compressibility,
+            m.molar_mass,
+            m.suction_temperature.kelvin(),
+        );
+        let mut points = Vec::new();
+        for (i, p) in config.points.iter().enumerate() {
+            let idx = u8::try_from(i).unwrap_or(u8::MAX);
+            let ok = finite_pos(p.speed_rpm)
+                && finite_pos(p.suction_volume_flow)
+                && T::is_finite(p.pressure_ratio)
+                && p.pressure_ratio > T::ONE
+                && T::is_finite(p.control_margin)
+                && p.control_margin >= T::ZERO
+                && p.control_margin < T::ONE;
+            if !ok {
+                return Err(ConfigError::SurgeLinePoint { point: idx });
+            }
+            let r = ReducedPoint {
+                reduced_head: reduced_head(p.pressure_ratio, sigma),
+                reduced_flow_squared: reduced_flow_squared_from_volume_flow(
+                    p.suction_volume_flow,
+                    config.flow_coefficient,
+                    zrt,
+                ),
+                control_margin: p.control_margin,
+                reduced_speed: reduced_speed(p.speed_rpm, zrt),
+            };
+            if !(finite_pos(r.reduced_head) && finite_pos(r.reduced_flow_squared)) {
+                return Err(ConfigError::SurgeLinePoint { point: idx });
+            }
+            if let Some(prev) = points.last() {
+                let prev: &ReducedPoint<T> = prev;
+                if !(r.reduced_head > prev.reduced_head
+                    && r.reduced_flow_squared > prev.reduced_flow_squared
+                    && r.reduced_speed > prev.reduced_speed)
+                {
+                    return Err(ConfigError::SurgeLineNotMonotonic { point: idx });
+                }
+            }
+            if points.push(r).is_err() {
+                return Err(ConfigError::SurgeLineLength);
+            }
+        }
+        Ok(SurgeLine { points, sigma })
+    }
+
+    /// σ = (n − 1)/n used for the reduced head.
+    pub fn sigma(&self) -> T {
+        self.sigma
+    }
+
+    /// The transformed points, in rising head.
+    pub fn points(&self) -> &[ReducedPoint<T>] {
+        &self.points
+    }
+
+    /// Surge flow and control margin at reduced head `hr` (finite assumed).
+    /// At most `N` iterations.
+    pub fn lookup(&self, hr: T) -> LineLookup<T> {
+        let pts = self.points.as_slice();
+        let (Some(first), Some(last)) = (pts.first(), pts.last()) else {
+            // Unreachable after validation; answer "no line" as bad data.
+            return LineLookup {
+                surge_reduced_flow_squared: T::ZERO,
+                control_margin: T::ZERO,
+                quality: Quality::Bad,
+            };
+        };
+        if hr < first.reduced_head {
+            return LineLookup {
+                surge_reduced_flow_squared: first.reduced_flow_squared,
+                control_margin: first.control_margin,
+                quality: Quality::Uncertain,
+            };
+        }
+        let mut quality = Quality::Uncertain;
+        let mut segment = (first, last);
+        for pair in pts.windows(2) {
+            if let [a, b] = pair {
+                segment = (a, b);
+                if hr <= b.reduced_head {
+                    quality = Quality::Good;
+                    break;
+                }
+            }
+        }
+        let (a, b) = segment;
+        let f = (hr - a.reduced_head) / (b.reduced_head - a.reduced_head);
+        let q2 = a.reduced_flow_squared + f * (b.reduced_flow_squared - a.reduced_flow_squared);
+        let cm = if quality == Quality::Good {
+            a.control_margin + f * (b.control_margin - a.control_margin)
+        } else {
+            b.control_margin
+        };
+        LineLookup {
+            surge_reduced_flow_squared: q2,
+            control_margin: cm,
+            quality,
+        }
+    }
+}
