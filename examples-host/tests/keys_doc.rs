@@ -1,0 +1,68 @@
+//! The JSON key reference `README-keys.md` is the output of
+//! `polytrope-host keys`, and every key the tool writes is in it.
+
+mod common;
+
+use common::{ok, parse};
+
+const README: &str = include_str!("../README-keys.md");
+
+#[test]
+fn readme_keys_is_the_keys_output() {
+    assert_eq!(
+        ok(&["keys"]),
+        README,
+        "README-keys.md is stale: regenerate with `cargo run -p polytrope-host -- keys > examples-host/README-keys.md`"
+    );
+}
+
+#[test]
+fn every_written_key_is_documented_with_a_unit() {
+    let documented: Vec<&str> = README
+        .lines()
+        .filter_map(|l| l.strip_prefix("| `"))
+        .filter_map(|l| l.split('`').next())
+        .collect();
+    assert!(documented.len() > 60, "{}", documented.len());
+    let runs: [&[&str]; 3] = [
+        &["demo", "--json", "--scans", "3"],
+        &[
+            "stage", "--gas", "air", "--p1", "1barg", "--p2", "9bara", "--t1", "300K", "--t2",
+            "560K", "--flow", "1kg/s", "--stages", "3", "--json",
+        ],
+        &[
+            "stage", "--gas", "air", "--p1", "1bara", "--p2", "9bara", "--t1", "300K", "--json",
+        ],
+    ];
+    let mut seen = 0;
+    for args in runs {
+        let mut keys = Vec::new();
+        parse(&ok(args)).all_keys(&mut keys);
+        for k in keys {
+            assert!(
+                documented.contains(&k.as_str()),
+                "{k} not in README-keys.md"
+            );
+            seen += 1;
+        }
+    }
+    assert!(seen > 200, "{seen}");
+}
+
+#[test]
+fn parser_reads_what_it_should_and_rejects_garbage() {
+    let v = parse(r#"{"a": [1, -2.5e3, true, null], "b": {"c": "x\"y\u00e9"}}"#);
+    assert_eq!(v.at("a").arr()[1].num(), -2500.0);
+    assert_eq!(v.at("b").at("c").str(), "x\"yé");
+    for bad in [
+        "{",
+        "[1,]",
+        "{\"a\" 1}",
+        "nul",
+        "1 2",
+        "NaN",
+        "{\"a\":1,\"a\":2}",
+    ] {
+        assert!(std::panic::catch_unwind(|| parse(bad)).is_err(), "{bad}");
+    }
+}
