@@ -178,7 +178,13 @@ fn read_inputs(args: &Parsed) -> Result<Inputs, CliError> {
                 ))
                 .pa(),
         };
-        check_pressure(option, pa)
+        check_pressure(option, pa).map_err(|e| match (p, e) {
+            (Pressure::Gauge(_), CliError::Input(m)) => CliError::Input(format!(
+                "{m} (gauge value plus atmosphere {} Pa)",
+                atmosphere.unwrap_or(STANDARD_ATMOSPHERE_PA)
+            )),
+            (_, e) => e,
+        })
     };
     let p1 = to_abs("p1", p1)?;
     let p2 = to_abs("p2", p2)?;
