@@ -21,7 +21,9 @@ pub fn equal_ratio_interstage_pressure<T: Real>(
     stages: u32,
     i: u32,
 ) -> T {
-    let f = T::of((i as f64 + 1.0) / stages as f64);
+    // Divide in T: an f64 division is soft-float (about 120 instructions) on
+    // Cortex-M4F, and the f32 quotient of two small integers is correctly rounded.
+    let f = T::of(f64::from(i) + 1.0) / T::of(f64::from(stages));
     p_suction * T::exp(f * T::ln(overall_ratio))
 }
 
