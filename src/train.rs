@@ -431,9 +431,11 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         let mut comp_power = Sum::new();
         let mut pump_power = Sum::new();
         let mut staged_s = Sum::new();
+        let mut z_sum = Sum::new();
         for st in self.snapshot.stages.iter() {
             match &st.work {
                 StageWork::Compressor(c) => {
+                    z_sum.add(Measured::good(c.compressibility));
                     work.add(c.actual_work);
                     comp_power.add(c.gas_power);
                     staged_s.add(c.isentropic_head);
@@ -469,10 +471,13 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         }
         totals.overall_pressure_ratio = Measured::derived(ratio, q_ref);
         let t1 = first.t1.value;
+        // The whole-train references use the mean of the stages' Z (each the
+        // mean over its own stage), so they compare like with like.
+        let z_mean = z_sum.value / T::of(f64::from(z_sum.count.max(1)));
         let props = self
             .config
             .gas
-            .path(first.p1.value, t1, last_c.p2.value, t1, None);
+            .path(first.p1.value, t1, last_c.p2.value, t1, Some(z_mean));
         let (iso, single, staged) = ideal_references(
             props.z,
             props.gas_constant,
