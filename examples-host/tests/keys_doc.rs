@@ -66,3 +66,18 @@ fn parser_reads_what_it_should_and_rejects_garbage() {
         assert!(std::panic::catch_unwind(|| parse(bad)).is_err(), "{bad}");
     }
 }
+
+#[test]
+fn top_level_readme_lists_the_same_keys() {
+    let top = include_str!("../../README.md");
+    let start = top.find("<!-- json-keys:start -->").expect("start marker");
+    let end = top.find("<!-- json-keys:end -->").expect("end marker");
+    let section = &top[start..end];
+    let body = &README[README.find("## Document structure").expect("section")..];
+    let demote = |s: &str| s.trim().replace("\n## ", "\n### ");
+    let want = format!("#{}", demote(body));
+    assert!(
+        section.contains(want.trim()),
+        "README.md's JSON key list differs from examples-host/README-keys.md"
+    );
+}
