@@ -63,6 +63,7 @@
 extern crate std;
 
 pub mod compression;
+pub mod control;
 pub mod cooler;
 pub mod demo;
 pub mod error;

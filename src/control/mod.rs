@@ -1,0 +1,27 @@
+//! Recycle (anti-surge) valve control: the PI controller on the deviation
+//! from the control line ([`recycle_pi`]), the field outputs through
+//! embedded-hal 1.0 ([`outputs`]) and the power lost to recirculation
+//! ([`recycle_power`]).
+//!
+//! **Caution.** Anti-surge control protects machinery and people. This crate
+//! is not a certified safety function (IEC 61508 / IEC 61511). Surge data
+//! come from the machine maker and from commissioning tests; controller
+//! tuning, valve sizing and stroke times are verified on the machine; follow
+//! local codes and licensed engineering practice.
+//!
+//! One scan of a protected section:
+//!
+//! ```text
+//! detector.update(fast signals)          -> control_line_shift, trip_request
+//! monitor.update(scan, shift)            -> SurgeState (margin, deviation, ...)
+//! controller.update(&state, inputs)      -> valve demand
+//! outputs.write(demand, alarm, trip)     -> PWM + pins
+//! ```
+
+pub mod outputs;
+pub mod recycle_pi;
+pub mod recycle_power;
+
+pub use outputs::{OutputConfig, OutputError, RecycleOutputs, WriteError};
+pub use recycle_pi::{ControllerInputs, ControllerOutput, Mode, RecycleConfig, RecycleController};
+pub use recycle_power::{recycle_power, valve_mass_flow};
