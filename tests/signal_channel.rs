@@ -1,4 +1,10 @@
 //! Channel scaling, configuration errors, filters and the event log.
+#![allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing
+)]
 
 use polytrope::signal::filter::{LowPass, Median};
 use polytrope::signal::{

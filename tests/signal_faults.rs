@@ -2,6 +2,12 @@
 //! the invented two-stage front end (tests/signal_support), and asserts it
 //! is flagged within one scan, that the outputs depending on it degrade and
 //! that the others stay good.
+#![allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing
+)]
 
 mod signal_support;
 

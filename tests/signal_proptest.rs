@@ -9,6 +9,12 @@
 //! Cases: `SIGNAL_PROPTEST_CASES` (default 128); seed:
 //! `SIGNAL_PROPTEST_SEED` (default fixed). `ci/checks.d/signal_long_proptest.sh`
 //! runs a long, time-bounded batch.
+#![allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing
+)]
 
 mod signal_support;
 

@@ -1,5 +1,5 @@
 //! The signal front end: from raw transmitter signals to validated
-//! engineering values, each with a [`Quality`](crate::Quality) and a
+//! engineering values, each with a [`Quality`] and a
 //! [`FaultCode`] saying why not good.
 //!
 //! Per channel ([`Channel`]): scaling ([`channel`]), NAMUR NE 43 current

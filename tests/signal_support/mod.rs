@@ -1,7 +1,13 @@
 //! Test harness: an invented two-stage air compressor front end (nine raw
 //! channels, an orifice on the first-stage suction, a low-flow cut-off,
 //! cross-checks) feeding `Train::update`. Demo data, not a real machine.
-#![allow(dead_code)]
+#![allow(
+    dead_code,
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing
+)]
 
 use polytrope::flow::low_flow::LowFlowOutput;
 use polytrope::flow::orifice::OrificeInputs;
