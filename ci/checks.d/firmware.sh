@@ -1,0 +1,49 @@
+#!/usr/bin/env bash
+# On-target check (run by ci/test.sh): the kernel on emulated Cortex-M4F
+# (QEMU mps2-an386) and Cortex-M0 (QEMU microbit).
+#  1. builds ci/firmware for both targets; the `minimal` bin links only if
+#     no panic path of Train::new / Train::update survives (link-time check);
+#  2. runs the harness under QEMU and re-takes the instruction counts, sizes
+#     and stack (ci/measure.sh; the table is printed, not committed here);
+#  3. compares every printed output with the f64 reference build within
+#     polytrope::tolerance (tests/firmware_outputs.rs);
+#  4. proves the panic check can fail: a deliberately panicking probe must
+#     NOT link.
+set -euo pipefail
+cd "$(dirname "$0")/../.."
+
+as_root() { if [ "$(id -u)" = 0 ]; then "$@"; else sudo "$@"; fi; }
+if ! command -v qemu-system-arm >/dev/null; then
+  echo "firmware: installing qemu-system-arm"
+  as_root apt-get update -qq
+  DEBIAN_FRONTEND=noninteractive as_root apt-get install -y -qq qemu-system-arm >/dev/null
+fi
+for tool in gcc nm size python3; do
+  command -v "$tool" >/dev/null || { echo "firmware: missing $tool" >&2; exit 1; }
+done
+rustup target add thumbv7em-none-eabihf thumbv6m-none-eabi >/dev/null 2>&1 || true
+
+# 1 + 2: build (panic-freedom link included), run, measure.
+table=$(mktemp)
+trap 'rm -f "$table"' EXIT
+ci/measure.sh "$table" >/dev/null
+cat "$table"
+
+# 3: device outputs against the f64 reference.
+logs=ci/firmware/target/measure
+POLYTROPE_FIRMWARE_OUTPUTS="$PWD/$logs/thumbv7em-none-eabihf.log:$PWD/$logs/thumbv6m-none-eabi.log" \
+  cargo test -q -p polytrope --test firmware_outputs -- --nocapture 2>&1 | grep -Ev '^\s*$'
+
+# 4: the probe must fail to link, and for the intended reason.
+probe_log=$(mktemp)
+if (cd ci/firmware && cargo build -q --release --features probe --bin panic_probe) >"$probe_log" 2>&1; then
+  echo "firmware: FAIL: the deliberately panicking probe linked; the panic check is broken" >&2
+  exit 1
+fi
+if ! grep -q polytrope_reachable_panic_path "$probe_log"; then
+  echo "firmware: FAIL: the probe failed to build for another reason:" >&2
+  tail -20 "$probe_log" >&2
+  exit 1
+fi
+rm -f "$probe_log"
+echo "firmware: panic probe fails to link as it must; all firmware checks passed"
