@@ -125,15 +125,22 @@ fn f64_matches_fluids() {
     assert!(em < 1e-9, "m {em}");
 }
 
+/// f32 relative-error bounds: libm maths, or the `approx-math` feature's
+/// micromath approximations (measured: C 4.0e-5, eps 2.0e-5, m 3.7e-5).
+#[cfg(not(feature = "approx-math"))]
+const F32_BOUNDS: (f64, f64, f64) = (1e-6, 1e-6, 2e-6);
+#[cfg(feature = "approx-math")]
+const F32_BOUNDS: (f64, f64, f64) = (1e-4, 5e-5, 1e-4);
+
 #[test]
 fn f32_matches_fluids() {
     let (ec, ee, em, n) = max_errors::<f32>();
     println!(
         "f32 vs fluids 1.3.1 over {n} cases: max rel err C {ec:.2e}, eps {ee:.2e}, m {em:.2e}"
     );
-    assert!(ec < 1e-6, "C {ec}");
-    assert!(ee < 1e-6, "eps {ee}");
-    assert!(em < 2e-6, "m {em}");
+    assert!(ec < F32_BOUNDS.0, "C {ec}");
+    assert!(ee < F32_BOUNDS.1, "eps {ee}");
+    assert!(em < F32_BOUNDS.2, "m {em}");
 }
 
 /// The `fluids` docstring examples: C_Reader_Harris_Gallagher(D=0.07391,
@@ -154,7 +161,7 @@ fn fluids_docstring_values() {
         d_pipe as f32,
         TapType::Flange,
     );
-    assert!(rel(c32 as f64, 0.5990326277163659) < 2e-6, "{c32}");
+    assert!(rel(c32 as f64, 0.5990326277163659) < F32_BOUNDS.0, "{c32}");
 }
 
 /// ISO 5167-2:2003 clause 5.3.1 limits at their edges.
