@@ -159,6 +159,11 @@ pub fn evaluate_compressor<T: Real, G: GasModel<T>>(
     let ratio = p2.value / p1.value;
     out.pressure_ratio = Measured::derived(ratio, q_ratio);
     out.temperature_rise = Measured::derived(t2.value - t1.value, q_temps);
+    if !T::is_finite(ratio) {
+        // A subnormal suction pressure passes the sensor boundary but
+        // overflows the ratio: nothing downstream of it is usable.
+        return out;
+    }
     if !(ratio > T::ONE) {
         out.condition = StageCondition::NoCompression;
         return out;

@@ -1,0 +1,691 @@
+//! Edge inputs through `Train::update`: zero, negative, NaN, ±infinity,
+//! subnormal and huge values, discharge below suction, cooler outlet above
+//! inlet, missing flow; on the invented demo train (`polytrope::demo`) and
+//! a two-stage air train. The update must never panic, every number in the
+//! snapshot must stay finite (a bad value reads 0), the affected results
+//! must degrade and the unaffected ones stay good. Also: every
+//! `ConfigError` variant of the train and gas configuration, each naming
+//! its field.
+
+#![allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing
+)]
+
+#[path = "reference/snapshot_fields.rs"]
+mod snapshot_fields;
+
+use polytrope::cooler::{CoolerCondition, CoolerConfig};
+use polytrope::gas::{HeatCapacity, IdealGas, AIR};
+use polytrope::scan::{CoolerScan, Scan, StageScan};
+use polytrope::stage::StageCondition;
+use polytrope::steady::SteadyStateConfig;
+use polytrope::train::{Snapshot, StageConfig, StageKind, Train, TrainConfig};
+use polytrope::units::{Kelvin, PressureAbs};
+use polytrope::{ConfigError, Measured, Quality, Real};
+use proptest::prelude::*;
+use proptest::test_runner::{FileFailurePersistence, RngSeed};
+use snapshot_fields::{assert_all_finite, fields, get};
+
+type Air2<T> = Train<T, IdealGas<T>, 2, 4>;
+
+fn air2_config<T: Real>() -> TrainConfig<T, IdealGas<T>, 2> {
+    let st = |a: f64, b: f64, cooled: bool| StageConfig {
+        kind: StageKind::Compressor,
+        design_suction_pressure: PressureAbs::from_pa(T::of(a)),
+        design_discharge_pressure: PressureAbs::from_pa(T::of(b)),
+        cooler: cooled.then(|| CoolerConfig {
+            coolant_cp: T::of(4180.0),
+        }),
+    };
+    TrainConfig {
+        gas: IdealGas::from_spec(&AIR, true, T::ONE).unwrap(),
+        stages: [st(1e5, 3e5, true), st(2.95e5, 9e5, false)],
+        max_interstage_pressure_drop: T::of(0.1),
+        steady_state: SteadyStateConfig::default(),
+    }
+}
+
+fn air2<T: Real>() -> Air2<T> {
+    Train::new(air2_config()).unwrap()
+}
+
+/// A consistent scan of the air train: flow measured at stage 0, cooler
+/// with coolant outlet and flow after stage 0.
+fn air2_scan<T: Real>() -> Scan<T, 2> {
+    let g = |x: f64| Measured::good(T::of(x));
+    let k = |x: f64| Measured::good(Kelvin::new(T::of(x)));
+    let mut a = StageScan::from_si(T::of(1e5), T::of(300.0), T::of(3e5), T::of(445.0));
+    a.mass_flow = Some(g(2.0));
+    a.compressibility = Some(g(0.99));
+    a.cooler = Some(CoolerScan {
+        gas_outlet_temperature: k(308.0),
+        gas_outlet_pressure: None,
+        coolant_inlet_temperature: k(298.0),
+        coolant_outlet_temperature: Some(k(306.0)),
+        coolant_mass_flow: Some(g(6.0)),
+    });
+    let b = StageScan::from_si(T::of(2.95e5), T::of(308.0), T::of(9e5), T::of(460.0));
+    Scan { stages: [a, b] }
+}
+
+fn edge_values<T: Real>() -> Vec<(&'static str, T)> {
+    let subnormal = if core::mem::size_of::<T>() == 4 {
+        T::of(1.0e-40)
+    } else {
+        T::of(5.0e-324)
+    };
+    vec![
+        ("zero", T::ZERO),
+        ("negative zero", T::of(-0.0)),
+        ("negative", T::of(-350.0)),
+        ("NaN", T::of(f64::NAN)),
+        ("+inf", T::of(f64::INFINITY)),
+        ("-inf", T::of(f64::NEG_INFINITY)),
+        ("subnormal", subnormal),
+        ("huge", T::of(1.0e30)),
+        ("max", T::of(f64::from(f32::MAX))),
+    ]
+}
+
+/// Every scalar input slot of the two-stage air scan, by name.
+fn set_slot<T: Real>(s: &mut Scan<T, 2>, slot: usize, v: T) -> &'static str {
+    let p = |v: T| Measured::good(PressureAbs::from_pa(v));
+    let k = |v: T| Measured::good(Kelvin::new(v));
+    let c = s.stages[0].cooler.as_mut().unwrap();
+    match slot {
+        0 => {
+            s.stages[0].suction_pressure = p(v);
+            "stage0.suction_pressure"
+        }
+        1 => {
+            s.stages[0].suction_temperature = k(v);
+            "stage0.suction_temperature"
+        }
+        2 => {
+            s.stages[0].discharge_pressure = p(v);
+            "stage0.discharge_pressure"
+        }
+        3 => {
+            s.stages[0].discharge_temperature = k(v);
+            "stage0.discharge_temperature"
+        }
+        4 => {
+            s.stages[0].mass_flow = Some(Measured::good(v));
+            "stage0.mass_flow"
+        }
+        5 => {
+            s.stages[0].compressibility = Some(Measured::good(v));
+            "stage0.compressibility"
+        }
+        6 => {
+            c.gas_outlet_temperature = k(v);
+            "cooler0.gas_outlet_temperature"
+        }
+        7 => {
+            c.coolant_inlet_temperature = k(v);
+            "cooler0.coolant_inlet_temperature"
+        }
+        8 => {
+            c.coolant_outlet_temperature = Some(k(v));
+            "cooler0.coolant_outlet_temperature"
+        }
+        9 => {
+            c.coolant_mass_flow = Some(Measured::good(v));
+            "cooler0.coolant_mass_flow"
+        }
+        10 => {
+            c.gas_outlet_pressure = Some(p(v));
+            "cooler0.gas_outlet_pressure"
+        }
+        11 => {
+            s.stages[1].suction_pressure = p(v);
+            "stage1.suction_pressure"
+        }
+        12 => {
+            s.stages[1].suction_temperature = k(v);
+            "stage1.suction_temperature"
+        }
+        13 => {
+            s.stages[1].discharge_pressure = p(v);
+            "stage1.discharge_pressure"
+        }
+        14 => {
+            s.stages[1].discharge_temperature = k(v);
+            "stage1.discharge_temperature"
+        }
+        _ => unreachable!(),
+    }
+}
+const SLOTS: usize = 15;
+
+/// No result computed from a bad pressure ratio may be good.
+fn ratio_consistency<T: Real, const N: usize>(s: &Snapshot<T, N>, context: &str) {
+    for (i, st) in s.stages.iter().enumerate() {
+        if let Some(c) = st.compressor() {
+            if c.pressure_ratio.quality == Quality::Bad {
+                for (n, m) in [
+                    ("isentropic_head", c.isentropic_head),
+                    ("polytropic_head", c.polytropic_head),
+                    ("isothermal_head", c.isothermal_head),
+                    ("polytropic_exponent", c.polytropic_exponent),
+                    ("isentropic_efficiency", c.isentropic_efficiency),
+                    ("polytropic_efficiency", c.polytropic_efficiency),
+                ] {
+                    assert_eq!(
+                        m.quality,
+                        Quality::Bad,
+                        "{context}: stage{i}.{n} with a bad pressure ratio"
+                    );
+                }
+            }
+        }
+    }
+}
+
+fn every_slot_every_edge<T: Real>() -> usize {
+    let mut runs = 0;
+    for slot in 0..SLOTS {
+        for (what, v) in edge_values::<T>() {
+            let mut train = air2::<T>();
+            let mut scan = air2_scan::<T>();
+            let name = set_slot(&mut scan, slot, v);
+            // Several scans: the steady-state windows carry state.
+            for _ in 0..5 {
+                let snap = train.update(&scan);
+                let ctx = format!("{name} = {what}");
+                assert_all_finite(&fields(snap), &ctx);
+                ratio_consistency(snap, &ctx);
+                runs += 1;
+            }
+            // A good scan afterwards recovers fully: no lost state.
+            let good = *train.update(&air2_scan());
+            let c0 = good.stages[0].compressor().unwrap();
+            assert_eq!(c0.isentropic_efficiency.quality, Quality::Good, "{name}");
+            assert_eq!(good.totals.compressor_power.quality, Quality::Good);
+        }
+    }
+    runs
+}
+
+#[test]
+fn air_train_survives_every_edge_value_in_every_slot_f32() {
+    assert_eq!(every_slot_every_edge::<f32>(), SLOTS * 9 * 5);
+}
+
+#[test]
+fn air_train_survives_every_edge_value_in_every_slot_f64() {
+    assert_eq!(every_slot_every_edge::<f64>(), SLOTS * 9 * 5);
+}
+
+#[test]
+fn demo_train_survives_edge_values() {
+    for (what, v) in edge_values::<f32>() {
+        for stage in 0..polytrope::demo::STAGES {
+            for slot in 0..5 {
+                let mut train = polytrope::demo::train::<f32>().unwrap();
+                let mut scan = polytrope::demo::scan::<f32>(0);
+                let s = &mut scan.stages[stage];
+                match slot {
+                    0 => s.suction_pressure = Measured::good(PressureAbs::from_pa(v)),
+                    1 => s.suction_temperature = Measured::good(Kelvin::new(v)),
+                    2 => s.discharge_pressure = Measured::good(PressureAbs::from_pa(v)),
+                    3 => s.discharge_temperature = Measured::good(Kelvin::new(v)),
+                    _ => s.mass_flow = Some(Measured::good(v)),
+                }
+                for _ in 0..3 {
+                    let snap = train.update(&scan);
+                    let ctx = format!("demo stage{stage} slot {slot} = {what}");
+                    assert_all_finite(&fields(snap), &ctx);
+                    ratio_consistency(snap, &ctx);
+                }
+            }
+        }
+    }
+}
+
+fn good(fields: &[snapshot_fields::Field], name: &str) {
+    assert_eq!(get(fields, name).quality, Quality::Good, "{name}");
+}
+fn bad(fields: &[snapshot_fields::Field], name: &str) {
+    assert_eq!(get(fields, name).quality, Quality::Bad, "{name}");
+}
+
+#[test]
+fn baseline_scan_is_all_good() {
+    let mut t = air2::<f64>();
+    let snap = *t.update(&air2_scan());
+    let f = fields(&snap);
+    for x in &f {
+        // A train without pumps has no pump power: that total is bad.
+        let want = if x.name == "totals.pump_power" {
+            Quality::Bad
+        } else {
+            Quality::Good
+        };
+        assert_eq!(x.quality, want, "{}", x.name);
+    }
+}
+
+#[test]
+fn bad_suction_temperature_of_stage_1_degrades_only_what_uses_it() {
+    let mut t = air2::<f64>();
+    let mut s = air2_scan();
+    set_slot(&mut s, 12, f64::NAN);
+    let f = fields(t.update(&s));
+    for n in [
+        "stage1.isentropic_head",
+        "stage1.actual_work",
+        "stage1.isentropic_efficiency",
+        "stage1.gas_power",
+        "cooler0.next_stage_temperature_rise",
+        "totals.compressor_work",
+        "totals.compressor_power",
+        "totals.isothermal_efficiency",
+    ] {
+        bad(&f, n);
+    }
+    for n in [
+        "stage0.isentropic_head",
+        "stage0.isentropic_efficiency",
+        "stage0.gas_power",
+        "cooler0.effectiveness",
+        "cooler0.heat_duty",
+        "cooler0.ua",
+        "totals.isothermal_work",
+        "totals.single_stage_isentropic_work",
+        "interstage0.optimum",
+    ] {
+        good(&f, n);
+    }
+}
+
+#[test]
+fn missing_or_bad_flow_degrades_power_only() {
+    for flow in [
+        None,
+        Some(Measured::good(f64::NAN)),
+        Some(Measured::good(-1.0)),
+    ] {
+        let mut t = air2::<f64>();
+        let mut s = air2_scan();
+        s.stages[0].mass_flow = flow;
+        let f = fields(t.update(&s));
+        for n in [
+            "stage0.gas_power",
+            "stage1.gas_power",
+            "stage0.power_above_isothermal",
+            "cooler0.heat_duty",
+            "cooler0.ua",
+            "totals.compressor_power",
+            "totals.total_power",
+        ] {
+            bad(&f, n);
+        }
+        for n in [
+            "stage0.isentropic_head",
+            "stage0.actual_work",
+            "stage0.isentropic_efficiency",
+            "stage1.polytropic_efficiency",
+            "cooler0.effectiveness",
+            "cooler0.lmtd",
+            "totals.compressor_work",
+            "totals.isothermal_efficiency",
+        ] {
+            good(&f, n);
+        }
+    }
+}
+
+#[test]
+fn discharge_below_suction_is_no_compression() {
+    let mut t = air2::<f64>();
+    let mut s = air2_scan();
+    set_slot(&mut s, 2, 0.9e5);
+    let snap = *t.update(&s);
+    let c0 = snap.stages[0].compressor().unwrap();
+    assert_eq!(c0.condition, StageCondition::NoCompression);
+    assert_eq!(c0.pressure_ratio.quality, Quality::Good);
+    assert!(c0.pressure_ratio.value < 1.0);
+    let f = fields(&snap);
+    bad(&f, "stage0.isentropic_head");
+    bad(&f, "stage0.actual_work");
+    good(&f, "stage1.isentropic_head");
+    good(&f, "stage1.isentropic_efficiency");
+    // The cooler's gas-side pressure drop goes negative: flagged, not bad.
+    assert_eq!(get(&f, "cooler0.pressure_drop").quality, Quality::Uncertain);
+}
+
+#[test]
+fn cooler_outlet_above_inlet_is_flagged() {
+    let mut t = air2::<f64>();
+    let mut s = air2_scan();
+    set_slot(&mut s, 6, 460.0);
+    let snap = *t.update(&s);
+    let c = snap.coolers[0].unwrap();
+    assert_eq!(c.condition, CoolerCondition::OutletAboveInlet);
+    let f = fields(&snap);
+    assert_eq!(
+        get(&f, "cooler0.gas_temperature_drop").quality,
+        Quality::Uncertain
+    );
+    bad(&f, "cooler0.effectiveness");
+    bad(&f, "cooler0.heat_duty");
+    good(&f, "stage0.isentropic_efficiency");
+    good(&f, "stage1.isentropic_efficiency");
+}
+
+#[test]
+fn bad_first_suction_pressure_degrades_train_references() {
+    for v in [0.0, -1.0, f64::NAN, f64::INFINITY, 1e30] {
+        let mut t = air2::<f64>();
+        let mut s = air2_scan();
+        set_slot(&mut s, 0, v);
+        let snap = *t.update(&s);
+        let f = fields(&snap);
+        bad(&f, "stage0.pressure_ratio");
+        bad(&f, "totals.overall_pressure_ratio");
+        bad(&f, "totals.isothermal_work");
+        assert!(snap.interstage[0].is_none(), "{v}");
+        good(&f, "stage1.isentropic_head");
+        good(&f, "stage1.isentropic_efficiency");
+        good(&f, "cooler0.effectiveness");
+    }
+}
+
+#[test]
+fn input_quality_propagates() {
+    // An uncertain discharge temperature makes the stage's efficiency
+    // uncertain, never good, and leaves the heads good.
+    let mut t = air2::<f64>();
+    let mut s = air2_scan();
+    s.stages[0].discharge_temperature.quality = Quality::Uncertain;
+    let f = fields(t.update(&s));
+    assert_eq!(
+        get(&f, "stage0.isentropic_efficiency").quality,
+        Quality::Uncertain
+    );
+    good(&f, "stage0.isentropic_head");
+    // A bad-quality value is not used even if its number is plausible.
+    let mut s = air2_scan();
+    s.stages[0].suction_temperature.quality = Quality::Bad;
+    let f = fields(t.update(&s));
+    bad(&f, "stage0.isentropic_head");
+    bad(&f, "totals.isothermal_work");
+}
+
+// ---- configuration errors: each variant names its field ----
+
+fn err_of<const N: usize>(cfg: TrainConfig<f64, IdealGas<f64>, N>) -> ConfigError {
+    Train::<f64, _, N, 4>::new(cfg).map(|_| ()).unwrap_err()
+}
+
+fn compressor(p1: f64, p2: f64) -> StageConfig<f64> {
+    StageConfig {
+        kind: StageKind::Compressor,
+        design_suction_pressure: PressureAbs::from_pa(p1),
+        design_discharge_pressure: PressureAbs::from_pa(p2),
+        cooler: None,
+    }
+}
+
+fn pump(p1: f64, p2: f64, density: f64, efficiency: f64) -> StageConfig<f64> {
+    StageConfig {
+        kind: StageKind::Pump {
+            density,
+            efficiency,
+        },
+        ..compressor(p1, p2)
+    }
+}
+
+#[test]
+fn every_configuration_error_names_its_field() {
+    let gas_err = |m: f64, hc: HeatCapacity<f64>, z: f64| IdealGas::new(m, hc, z).unwrap_err();
+    let k14 = HeatCapacity::ConstantK(1.4);
+    let base = air2_config::<f64>();
+    let with = |f: &dyn Fn(&mut TrainConfig<f64, IdealGas<f64>, 2>)| {
+        let mut c = base;
+        f(&mut c);
+        err_of(c)
+    };
+    let cases: Vec<(ConfigError, ConfigError, &str)> = vec![
+        (gas_err(0.0, k14, 1.0), ConfigError::MolarMass, "molar_mass"),
+        (
+            gas_err(f64::NAN, k14, 1.0),
+            ConfigError::MolarMass,
+            "molar_mass",
+        ),
+        (
+            gas_err(28.0, HeatCapacity::ConstantK(1.0), 1.0),
+            ConfigError::HeatCapacityRatio,
+            "gas.k",
+        ),
+        (
+            gas_err(28.0, HeatCapacity::ConstantK(f64::INFINITY), 1.0),
+            ConfigError::HeatCapacityRatio,
+            "gas.k",
+        ),
+        (
+            gas_err(
+                28.0,
+                HeatCapacity::Polynomial {
+                    coefficients: [29.0, 0.0, 0.0, 0.0],
+                    t_min: 500.0,
+                    t_max: 300.0,
+                },
+                1.0,
+            ),
+            ConfigError::HeatCapacityPolynomial,
+            "cp_polynomial",
+        ),
+        (
+            gas_err(28.0, k14, 2.5),
+            ConfigError::Compressibility,
+            "compressibility",
+        ),
+        (
+            gas_err(28.0, k14, -0.1),
+            ConfigError::Compressibility,
+            "compressibility",
+        ),
+        (
+            with(&|c| c.stages[1].design_suction_pressure = PressureAbs::from_pa(f64::NAN)),
+            ConfigError::DesignSuctionPressure { stage: 1 },
+            "stages[1].design_suction_pressure",
+        ),
+        (
+            with(&|c| c.stages[0].design_discharge_pressure = PressureAbs::from_pa(0.5e5)),
+            ConfigError::DesignDischargePressure { stage: 0 },
+            "stages[0].design_discharge_pressure",
+        ),
+        (
+            with(&|c| c.stages[1].design_suction_pressure = PressureAbs::from_pa(3.5e5)),
+            ConfigError::PressureChain { stage: 1 },
+            "stages[1].design_suction_pressure",
+        ),
+        (
+            with(&|c| c.stages[1].design_suction_pressure = PressureAbs::from_pa(2.0e5)),
+            ConfigError::PressureChain { stage: 1 },
+            "stages[1].design_suction_pressure",
+        ),
+        (
+            with(&|c| c.max_interstage_pressure_drop = 0.95),
+            ConfigError::MaxInterstagePressureDrop,
+            "max_interstage_pressure_drop",
+        ),
+        (
+            with(&|c| c.stages[1] = pump(2.95e5, 9e5, 0.0, 0.7)),
+            ConfigError::PumpDensity { stage: 1 },
+            "stages[1] pump density",
+        ),
+        (
+            with(&|c| c.stages[1] = pump(2.95e5, 9e5, 800.0, 1.5)),
+            ConfigError::PumpEfficiency { stage: 1 },
+            "stages[1] pump efficiency",
+        ),
+        (
+            with(&|c| c.stages[0] = pump(1e5, 3e5, 800.0, 0.7)),
+            ConfigError::PumpPosition { stage: 1 },
+            "stages[1]",
+        ),
+        (
+            with(&|c| {
+                c.stages[0].cooler = Some(CoolerConfig {
+                    coolant_cp: -4180.0,
+                });
+            }),
+            ConfigError::CoolantSpecificHeat { stage: 0 },
+            "stages[0].cooler.coolant_cp",
+        ),
+        (
+            with(&|c| c.steady_state.max_ratio_spread = 0.0),
+            ConfigError::SteadyStateTolerance,
+            "steady_state",
+        ),
+        (
+            with(&|c| c.steady_state.max_temperature_spread = f64::NAN),
+            ConfigError::SteadyStateTolerance,
+            "steady_state",
+        ),
+        (
+            err_of(TrainConfig {
+                gas: base.gas,
+                stages: [pump(1e5, 3e5, 800.0, 0.7)],
+                max_interstage_pressure_drop: 0.1,
+                steady_state: SteadyStateConfig::default(),
+            }),
+            ConfigError::NoCompressorStage,
+            "compressor stage",
+        ),
+    ];
+    for (got, want, field) in cases {
+        assert_eq!(got, want);
+        let text = got.to_string();
+        assert!(text.contains(field), "{want:?}: '{text}' lacks '{field}'");
+    }
+    // The base configuration itself is valid, in both builds.
+    assert!(Train::<f64, _, 2, 4>::new(base).is_ok());
+    assert!(Train::<f32, _, 2, 4>::new(air2_config::<f32>()).is_ok());
+}
+
+// ---- arbitrary bit patterns ----
+
+fn quality_of(q: u8) -> Quality {
+    match q % 3 {
+        0 => Quality::Good,
+        1 => Quality::Uncertain,
+        _ => Quality::Bad,
+    }
+}
+
+/// A demo-shaped f32 scan whose every number is an arbitrary bit pattern.
+fn wild_scan(bits: &[u32], q: &[u8]) -> Scan<f32, { polytrope::demo::STAGES }> {
+    let mut i = 0;
+    let mut next = || {
+        let v = (
+            f32::from_bits(bits[i % bits.len()]),
+            quality_of(q[i % q.len()]),
+        );
+        i += 1;
+        v
+    };
+    Scan {
+        stages: core::array::from_fn(|_| {
+            let mut m = || {
+                let (v, qq) = next();
+                Measured::new(v, qq)
+            };
+            let p = |m: Measured<f32>| m.map(PressureAbs::from_pa);
+            let k = |m: Measured<f32>| m.map(Kelvin::new);
+            let (a, b, c, d, e, f) = (m(), m(), m(), m(), m(), m());
+            let (g, h, j, l, n, o) = (m(), m(), m(), m(), m(), m());
+            let present = o.value.to_bits();
+            StageScan {
+                suction_pressure: p(a),
+                suction_temperature: k(b),
+                discharge_pressure: p(c),
+                discharge_temperature: k(d),
+                mass_flow: (present & 1 != 0).then_some(e),
+                compressibility: (present & 2 != 0).then_some(f),
+                cooler: (present & 4 != 0).then_some(CoolerScan {
+                    gas_outlet_temperature: k(g),
+                    gas_outlet_pressure: (present & 8 != 0).then_some(p(h)),
+                    coolant_inlet_temperature: k(j),
+                    coolant_outlet_temperature: (present & 16 != 0).then_some(k(l)),
+                    coolant_mass_flow: (present & 32 != 0).then_some(n),
+                }),
+            }
+        }),
+    }
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig {
+        cases: 600,
+        rng_seed: RngSeed::Fixed(0x6564_6765_5f62_6974),
+        failure_persistence: Some(Box::new(FileFailurePersistence::WithSource("proptest-regressions"))),
+        ..ProptestConfig::default()
+    })]
+
+    /// Arbitrary f32 bit patterns (NaNs with payloads, subnormals, ±0,
+    /// infinities, anything) in every input of the demo train, over three
+    /// scans: no panic, nothing non-finite.
+    #[test]
+    fn arbitrary_bit_patterns_through_the_demo_train(
+        bits in proptest::collection::vec(any::<u32>(), 90),
+        q in proptest::collection::vec(any::<u8>(), 90),
+        shift in 0usize..90,
+    ) {
+        let mut train = polytrope::demo::train::<f32>().unwrap();
+        for s in 0..3 {
+            let mut b = bits.clone();
+            b.rotate_left((shift * s) % 90);
+            let scan = wild_scan(&b, &q);
+            let snap = train.update(&scan);
+            let f = fields(snap);
+            for x in &f {
+                prop_assert!(x.value.is_finite(), "{} = {}", x.name, x.value);
+                if x.quality == Quality::Bad {
+                    prop_assert_eq!(x.value, 0.0, "{}", x.name);
+                }
+            }
+        }
+        // And the train still works on good data afterwards.
+        let snap = train.update(&polytrope::demo::scan::<f32>(0));
+        prop_assert_eq!(
+            snap.stages[0].compressor().unwrap().isentropic_efficiency.quality,
+            Quality::Good
+        );
+    }
+
+    /// Mixed: a good demo scan with arbitrary bit patterns in a few slots
+    /// (closer to a single failing transmitter).
+    #[test]
+    fn a_few_wild_values_in_a_good_demo_scan(
+        slots in proptest::collection::vec((0usize..5, 0usize..4, any::<u32>()), 1..4),
+    ) {
+        let mut train = polytrope::demo::train::<f32>().unwrap();
+        let mut scan = polytrope::demo::scan::<f32>(7);
+        for (stage, slot, b) in &slots {
+            let v = f32::from_bits(*b);
+            let s = &mut scan.stages[*stage];
+            match slot {
+                0 => s.suction_pressure.value = PressureAbs::from_pa(v),
+                1 => s.suction_temperature.value = Kelvin::new(v),
+                2 => s.discharge_pressure.value = PressureAbs::from_pa(v),
+                _ => s.discharge_temperature.value = Kelvin::new(v),
+            }
+        }
+        for _ in 0..2 {
+            let snap = train.update(&scan);
+            let f = fields(snap);
+            for x in &f {
+                prop_assert!(x.value.is_finite(), "{} = {}", x.name, x.value);
+            }
+            ratio_consistency(snap, "wild slots");
+        }
+    }
+}
