@@ -28,6 +28,7 @@ fn config() -> RecycleConfig<f64> {
         min_output: 0.0,
         max_output: 1.0,
         fail_safe_output: 1.0,
+        rate_allowance: 0.0,
     }
 }
 
@@ -185,4 +186,26 @@ fn recycle_power_and_valve_flow_by_hand() {
         valve_mass_flow(f64::NAN, 0.7, 0.5, 5e5, 2e5, 5.8, 1.4).quality,
         Quality::Bad
     );
+}
+
+#[test]
+fn rate_allowance_opens_earlier_when_approaching() {
+    let mut cfg = config();
+    cfg.rate_allowance = 1.0;
+    let mut with = RecycleController::new(cfg, Mode::Automatic, 0.0).unwrap();
+    let mut without = RecycleController::new(config(), Mode::Automatic, 0.0).unwrap();
+    // Margin 0.16 (above the 0.10 control line) falling at 0.2 /s.
+    let mut s = state(0.16);
+    s.rate_of_approach = Measured::good(0.2);
+    with.update(&s, &AUTO);
+    without.update(&s, &AUTO);
+    // Effective control line 0.10 + 0.2 = 0.30: error 0.14, integral step
+    // (above the step line 0.5 * 0.30).
+    assert!((with.output() - 2.0 * DT * 0.14).abs() < 1e-15);
+    assert_eq!(without.output(), 0.0);
+    // Moving away from surge gives no allowance.
+    s.rate_of_approach = Measured::good(-0.2);
+    let mut away = RecycleController::new(cfg, Mode::Automatic, 0.0).unwrap();
+    away.update(&s, &AUTO);
+    assert_eq!(away.output(), 0.0);
 }

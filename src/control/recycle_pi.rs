@@ -9,9 +9,11 @@
 //! closing rate and fail-safe open on bad margin are common anti-surge
 //! practice (Botros & Henderson 1994, from memory).
 //!
-//! Per scan, with `e = −deviation` (positive when the operating point is on
-//! the surge side of the control line) and `u` the valve demand (0 closed, 1
-//! open):
+//! Per scan, with `e = −deviation + max(a, 0) · Ta` (positive when the
+//! operating point is on the surge side of the control line; `a` the rate of
+//! approach, `Ta` the rate allowance, which moves the control line out while
+//! the point approaches surge, a derivative-like action common in practice)
+//! and `u` the valve demand (0 closed, 1 open):
 //!
 //! ```text
 //! Δu = Kp · (e − e_prev) + Kp · dt / Ti · e
@@ -61,6 +63,10 @@ pub struct RecycleConfig<T> {
     pub max_output: T,
     /// Demand on bad margin or a forced-open request, in [0, 1] (1 = open).
     pub fail_safe_output: T,
+    /// Rate allowance, s (>= 0): while approaching surge the control line
+    /// moves out by `rate_of_approach · rate_allowance` (the margin the
+    /// operating point would lose in that time; 0 disables it).
+    pub rate_allowance: T,
 }
 
 /// Operating mode.
@@ -150,6 +156,10 @@ impl<T: Real> RecycleController<T> {
                 "max_output",
             ),
             (unit(c.fail_safe_output), "fail_safe_output"),
+            (
+                fin(c.rate_allowance) && c.rate_allowance >= T::ZERO,
+                "rate_allowance",
+            ),
         ];
         for (ok, field) in checks {
             if !ok {
@@ -191,7 +201,13 @@ impl<T: Real> RecycleController<T> {
         let prev = self.output;
         self.step_timer = T::max(self.step_timer - dt, T::ZERO);
         let usable = state.deviation.quality.is_usable() && state.margin.quality.is_usable();
-        let error = -state.deviation.value;
+        // Rate allowance: only from a usable rate, only when approaching.
+        let allowance = if state.rate_of_approach.quality.is_usable() {
+            T::max(state.rate_of_approach.value, T::ZERO) * c.rate_allowance
+        } else {
+            T::ZERO
+        };
+        let error = allowance - state.deviation.value;
         let mut out = ControllerOutput {
             demand: Measured::good(prev),
             fail_safe: false,
@@ -216,7 +232,7 @@ impl<T: Real> RecycleController<T> {
                         u = floor;
                         out.rate_limited = true;
                     }
-                    let step_line = c.step_line_fraction * state.control_margin.value;
+                    let step_line = c.step_line_fraction * (state.control_margin.value + allowance);
                     if state.margin.value < step_line && self.step_timer <= T::ZERO {
                         let stepped = T::min(prev + c.step, c.max_output);
                         if stepped > u {

@@ -1,0 +1,403 @@
+//! Closed-loop surge simulation of one compressor section: the lumped
+//! compression-system model of Greitzer with a recycle valve, driven by the
+//! kernel's surge monitor, surge detector and recycle controller.
+//!
+//! Model (Greitzer, "Surge and rotating stall in axial flow compressors,
+//! Part I: Theoretical compression system model", ASME J. Eng. Power 98
+//! (1976) 190–198; cubic characteristic as in Moore & Greitzer, ASME J. Eng.
+//! Gas Turbines Power 108 (1986); both from memory; the compressor-lag
+//! equation is left out). Time t~ = ω_H t, flow coefficient Φ, pressure-rise
+//! coefficient Ψ = Δp / (½ ρ U²):
+//!
+//! ```text
+//! dΦc/dt~ = B (Ψc(Φc) − Ψ)                       (duct momentum)
+//! dΨ/dt~  = (Φc − Φt(Ψ) − Φr(Ψ, v)) / B           (plenum mass)
+//! Ψc(Φ)   = ψ0 + H (1 + 1.5 (Φ/W − 1) − 0.5 (Φ/W − 1)³)
+//! Φt      = γt √Ψ,   Φr = γr v √Ψ                (throttle, recycle valve)
+//! B       = U / (2 ω_H Lc)
+//! ```
+//!
+//! The peak of Ψc (Φ = 2W) is the surge point of this speed line. The
+//! recycle returns plenum gas to the compressor inlet, upstream of the
+//! suction flow element. The valve has a dead time and a stroke-rate limit;
+//! the flow transmitter a first-order lag (published practice: flow
+//! collapses in about 0.05 s, surge cycles repeat every 1–3 s; valve dead
+//! time under about 0.2 s, full stroke under about 1 s, flow measurement lag
+//! under about 0.2 s; Botros & Henderson 1994, from memory).
+//!
+//! Every number here is an invented demo scenario (an air blower), not a
+//! real machine. Not a certified safety function; surge data come from the
+//! machine maker and from commissioning tests.
+
+use std::collections::VecDeque;
+
+use polytrope::control::{recycle_power, ControllerInputs, Mode, RecycleConfig, RecycleController};
+use polytrope::surge::{
+    DetectionConfig, DetectionScan, MapConditions, MonitorConfig, SurgeDetector, SurgeLine,
+    SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
+};
+use polytrope::units::{Kelvin, PressureAbs};
+use polytrope::{ConfigError, Measured};
+
+/// Greitzer B parameter (surge, not rotating stall, for B above about 0.8).
+pub const B: f64 = 4.0;
+/// Helmholtz frequency ω_H, rad/s.
+pub const OMEGA_H: f64 = 4.0;
+/// Effective duct length Lc, m.
+pub const DUCT_LENGTH: f64 = 11.0;
+/// Tip speed U = 2 B ω_H Lc, m/s.
+pub const TIP_SPEED: f64 = 2.0 * B * OMEGA_H * DUCT_LENGTH;
+/// Duct flow area, m².
+pub const DUCT_AREA: f64 = 0.08;
+/// Characteristic: shut-off head ψ0.
+pub const PSI_0: f64 = 0.30;
+/// Characteristic: semi-height H.
+pub const SEMI_HEIGHT: f64 = 0.14;
+/// Characteristic: semi-width W (peak at Φ = 2W).
+pub const SEMI_WIDTH: f64 = 0.25;
+/// Recycle valve fully open: γr.
+pub const RECYCLE_GAMMA: f64 = 0.9;
+/// Suction pressure (large suction volume, constant), Pa.
+pub const SUCTION_PRESSURE: f64 = 1.0e5;
+/// Suction temperature, K.
+pub const SUCTION_TEMPERATURE: f64 = 293.15;
+/// Air molar mass, kg/kmol.
+pub const MOLAR_MASS: f64 = 28.96;
+/// Suction flow element coefficient C in Δp = ρ (Q/C)², m².
+pub const FLOW_COEFFICIENT: f64 = 0.35;
+/// Polytropic exponent for the reduced head.
+pub const POLYTROPIC_EXPONENT: f64 = 1.5;
+/// Assumed polytropic efficiency for the recycle power, -.
+pub const EFFICIENCY: f64 = 0.8;
+/// Controller rate allowance, s.
+pub const RATE_ALLOWANCE: f64 = 1.0;
+/// Integration step, s.
+pub const STEP: f64 = 0.0005;
+
+const RU: f64 = 8_314.462_618_153_24;
+
+/// Suction density, kg/m³.
+pub fn suction_density() -> f64 {
+    SUCTION_PRESSURE * MOLAR_MASS / (RU * SUCTION_TEMPERATURE)
+}
+
+/// Dynamic pressure ½ ρ U², Pa.
+pub fn dynamic_pressure() -> f64 {
+    0.5 * suction_density() * TIP_SPEED * TIP_SPEED
+}
+
+/// Compressor characteristic Ψc(Φ).
+pub fn characteristic(phi: f64) -> f64 {
+    let x = phi / SEMI_WIDTH - 1.0;
+    PSI_0 + SEMI_HEIGHT * (1.0 + 1.5 * x - 0.5 * x * x * x)
+}
+
+fn valve_flow(gamma: f64, psi: f64) -> f64 {
+    if psi >= 0.0 {
+        gamma * psi.sqrt()
+    } else {
+        -gamma * (-psi).sqrt()
+    }
+}
+
+/// Scenario of one run.
+#[derive(Clone, Copy, Debug)]
+pub struct Scenario {
+    /// Controller scan period, s.
+    pub scan_period: f64,
+    /// Recycle control in automatic (false: valve held closed).
+    pub protection: bool,
+    /// Run length, s.
+    pub duration: f64,
+    /// Load loss starts, s.
+    pub load_loss_at: f64,
+    /// Load loss duration (throttle closing time), s.
+    pub load_loss_time: f64,
+    /// Throttle γt before / after the load loss.
+    pub throttle_before: f64,
+    /// Throttle γt after the load loss.
+    pub throttle_after: f64,
+    /// Valve dead time, s.
+    pub valve_dead_time: f64,
+    /// Valve full-stroke time, s.
+    pub valve_stroke_time: f64,
+    /// Flow transmitter first-order lag, s.
+    pub flow_lag: f64,
+}
+
+impl Default for Scenario {
+    /// 20 ms scan, protection on, throttle closed from 0.8 to 0.3 in 0.5 s
+    /// at t = 2 s; valve 0.1 s dead time, 0.8 s stroke; flow lag 0.1 s.
+    fn default() -> Self {
+        Scenario {
+            scan_period: 0.02,
+            protection: true,
+            duration: 20.0,
+            load_loss_at: 2.0,
+            load_loss_time: 0.5,
+            throttle_before: 0.8,
+            throttle_after: 0.3,
+            valve_dead_time: 0.1,
+            valve_stroke_time: 0.8,
+            flow_lag: 0.1,
+        }
+    }
+}
+
+/// One logged instant.
+#[derive(Clone, Copy, Debug, Default)]
+pub struct Sample {
+    /// Time, s.
+    pub t: f64,
+    /// Compressor flow coefficient Φc.
+    pub phi: f64,
+    /// Plenum pressure-rise coefficient Ψ.
+    pub psi: f64,
+    /// Surge margin of the true (unlagged) state, from the kernel.
+    pub margin_true: f64,
+    /// Surge margin the controller saw (lagged flow).
+    pub margin_measured: f64,
+    /// Effective control margin (with shift after surge events).
+    pub control_margin: f64,
+    /// Valve demand, 0..1.
+    pub demand: f64,
+    /// Valve position, 0..1.
+    pub position: f64,
+    /// Power spent recirculating, kW.
+    pub recycle_power_kw: f64,
+    /// Surge events counted.
+    pub events: u32,
+    /// Trip requested.
+    pub trip: bool,
+}
+
+/// Result of one run.
+#[derive(Clone, Debug, Default)]
+pub struct Outcome {
+    /// Logged trajectory (every controller scan).
+    pub samples: Vec<Sample>,
+    /// Lowest true surge margin after the load loss starts.
+    pub min_margin: f64,
+    /// Lowest compressor flow coefficient.
+    pub min_flow: f64,
+    /// Sign changes of the compressor flow (flow reversals and recoveries).
+    pub flow_sign_changes: u32,
+    /// Surge cycles the kernel's detector counted.
+    pub events: u32,
+    /// Trip requested by the detector.
+    pub trip: bool,
+}
+
+/// The surge line the kernel uses: the characteristic's peak (Φ = 2W) on
+/// speed lines at 70–105 % by the fan laws (Φ fixed, Ψ·U² and Q ∝ speed).
+pub fn surge_points() -> [SurgePoint<f64>; 5] {
+    let q = dynamic_pressure();
+    let psi_peak = characteristic(2.0 * SEMI_WIDTH);
+    let mut out = [SurgePoint {
+        speed_rpm: 0.0,
+        suction_volume_flow: 0.0,
+        pressure_ratio: 0.0,
+        control_margin: 0.0,
+    }; 5];
+    let speeds = [0.70, 0.80, 0.90, 1.00, 1.05];
+    for (p, s) in out.iter_mut().zip(speeds) {
+        *p = SurgePoint {
+            speed_rpm: 9000.0 * s,
+            suction_volume_flow: 2.0 * SEMI_WIDTH * s * TIP_SPEED * DUCT_AREA,
+            pressure_ratio: 1.0 + psi_peak * q * s * s / SUCTION_PRESSURE,
+            // Wider at low speed (common practice).
+            control_margin: if s < 0.85 { 0.12 } else { 0.10 },
+        };
+    }
+    out
+}
+
+/// Measured signals (ps, pd, Δp) of a state (Φc, Ψ).
+pub fn signals(phi: f64, psi: f64) -> (f64, f64, f64) {
+    let qv = phi * TIP_SPEED * DUCT_AREA;
+    let v = qv / FLOW_COEFFICIENT;
+    let dp = suction_density() * v * v.abs();
+    let pd = SUCTION_PRESSURE + psi * dynamic_pressure();
+    (SUCTION_PRESSURE, pd, dp)
+}
+
+fn surge_scan(s: (f64, f64, f64)) -> SurgeScan<f64> {
+    SurgeScan {
+        suction_pressure: Measured::good(PressureAbs::from_pa(s.0)),
+        discharge_pressure: Measured::good(PressureAbs::from_pa(s.1)),
+        flow_dp: Measured::good(s.2),
+    }
+}
+
+/// Steady operating point (Φ, Ψ) on throttle γ with the valve closed.
+pub fn steady_point(gamma: f64) -> (f64, f64) {
+    // Φ on the falling branch right of the peak: bisection, 60 steps.
+    let f = |phi: f64| characteristic(phi) - (phi / gamma) * (phi / gamma);
+    let (mut lo, mut hi) = (2.0 * SEMI_WIDTH, 4.0 * SEMI_WIDTH);
+    for _ in 0..60 {
+        let mid = 0.5 * (lo + hi);
+        if f(mid) > 0.0 {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    let phi = 0.5 * (lo + hi);
+    (phi, characteristic(phi))
+}
+
+/// Runs one scenario.
+pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
+    let points = surge_points();
+    let line = SurgeLine::<f64, 8>::new(&SurgeLineConfig {
+        points: &points,
+        map: MapConditions {
+            suction_pressure: PressureAbs::from_pa(SUCTION_PRESSURE),
+            suction_temperature: Kelvin::new(SUCTION_TEMPERATURE),
+            molar_mass: MOLAR_MASS,
+            compressibility: 1.0,
+        },
+        polytropic_exponent: POLYTROPIC_EXPONENT,
+        flow_coefficient: FLOW_COEFFICIENT,
+    })?;
+    let monitor_cfg = MonitorConfig {
+        scan_period: sc.scan_period,
+        time_to_surge_horizon: 60.0,
+    };
+    let truth = SurgeMonitor::<f64, 8, 8>::new(line.clone(), monitor_cfg)?;
+    let mut monitor = SurgeMonitor::<f64, 8, 8>::new(line, monitor_cfg)?;
+    let mut detector = SurgeDetector::<f64, 32, 4>::new(DetectionConfig {
+        scan_period: sc.scan_period,
+        flow_dp_drop: 0.5,
+        min_flow_dp: 200.0,
+        discharge_pressure_drop: 0.02,
+        suction_temperature_rise: 3.0,
+        holdoff: 0.5,
+        shift_per_event: 0.03,
+        max_shift: 0.09,
+        trip_count: 3,
+        trip_window: 60.0,
+    })?;
+    let mut controller = RecycleController::new(
+        RecycleConfig {
+            scan_period: sc.scan_period,
+            gain: 2.0,
+            integral_time: 2.0,
+            closing_rate: 0.05,
+            step: 0.15,
+            step_line_fraction: 0.5,
+            step_interval: 1.0,
+            min_output: 0.0,
+            max_output: 1.0,
+            fail_safe_output: 1.0,
+            rate_allowance: RATE_ALLOWANCE,
+        },
+        if sc.protection {
+            Mode::Automatic
+        } else {
+            Mode::Manual
+        },
+        0.0,
+    )?;
+    let inputs = ControllerInputs {
+        manual_output: 0.0,
+        tracking_value: 0.0,
+        force_open: false,
+    };
+
+    let (mut phi, mut psi) = steady_point(sc.throttle_before);
+    let mut dp_meas = signals(phi, psi).2;
+    let mut position = 0.0_f64;
+    let delay_steps = (sc.valve_dead_time / STEP).round() as usize;
+    let mut delay: VecDeque<f64> = VecDeque::from(vec![0.0; delay_steps.max(1)]);
+    let scan_steps = ((sc.scan_period / STEP).round() as usize).max(1);
+    let total = (sc.duration / STEP).round() as usize;
+    let dtn = STEP * OMEGA_H;
+    let mut demand = 0.0;
+    let mut out = Outcome {
+        min_margin: f64::INFINITY,
+        min_flow: phi,
+        ..Outcome::default()
+    };
+    let mut last_sign = phi >= 0.0;
+    let mut shift = 0.0;
+    for i in 0..total {
+        let t = i as f64 * STEP;
+        // Controller scan (zero-order hold between scans).
+        if i % scan_steps == 0 {
+            let (ps, pd, _) = signals(phi, psi);
+            let meas = (ps, pd, dp_meas);
+            let det = *detector.update(&DetectionScan {
+                flow_dp: Measured::good(dp_meas),
+                discharge_pressure: Measured::good(PressureAbs::from_pa(pd)),
+                suction_temperature: None,
+            });
+            shift = det.control_line_shift;
+            let st = *monitor.update(&surge_scan(meas), shift);
+            let c = controller.update(&st, &inputs);
+            demand = c.demand.value;
+            let true_state = truth.evaluate(&surge_scan(signals(phi, psi)), shift);
+            let rho_d = suction_density() * (pd / ps).powf(1.0 / POLYTROPIC_EXPONENT);
+            let recycle_mass =
+                rho_d * valve_flow(RECYCLE_GAMMA * position, psi).max(0.0) * TIP_SPEED * DUCT_AREA;
+            let work =
+                true_state.reduced_head.value * RU / MOLAR_MASS * SUCTION_TEMPERATURE / EFFICIENCY;
+            let loss = recycle_power(Measured::good(recycle_mass), Measured::good(work));
+            out.events = det.event_count;
+            out.trip |= det.trip_request;
+            out.samples.push(Sample {
+                t,
+                phi,
+                psi,
+                margin_true: true_state.margin.value,
+                margin_measured: st.margin.value,
+                control_margin: st.control_margin.value,
+                demand,
+                position,
+                recycle_power_kw: loss.value / 1e3,
+                events: det.event_count,
+                trip: det.trip_request,
+            });
+        }
+        // Valve: dead time, then stroke-rate limit.
+        delay.push_back(demand);
+        let delayed = delay.pop_front().unwrap_or(demand);
+        let max_move = STEP / sc.valve_stroke_time;
+        position += (delayed - position).clamp(-max_move, max_move);
+        // Throttle schedule: the load loss.
+        let f = ((t - sc.load_loss_at) / sc.load_loss_time).clamp(0.0, 1.0);
+        let gamma_t = sc.throttle_before + f * (sc.throttle_after - sc.throttle_before);
+        let gamma_r = RECYCLE_GAMMA * position;
+        // RK4 on (Φc, Ψ) in Greitzer time.
+        let deriv = |phi: f64, psi: f64| {
+            (
+                B * (characteristic(phi) - psi),
+                (phi - valve_flow(gamma_t, psi) - valve_flow(gamma_r, psi)) / B,
+            )
+        };
+        let k1 = deriv(phi, psi);
+        let k2 = deriv(phi + 0.5 * dtn * k1.0, psi + 0.5 * dtn * k1.1);
+        let k3 = deriv(phi + 0.5 * dtn * k2.0, psi + 0.5 * dtn * k2.1);
+        let k4 = deriv(phi + dtn * k3.0, psi + dtn * k3.1);
+        phi += dtn / 6.0 * (k1.0 + 2.0 * k2.0 + 2.0 * k3.0 + k4.0);
+        psi += dtn / 6.0 * (k1.1 + 2.0 * k2.1 + 2.0 * k3.1 + k4.1);
+        // Flow transmitter lag.
+        let dp_true = signals(phi, psi).2;
+        dp_meas += (dp_true - dp_meas) * (STEP / sc.flow_lag.max(STEP));
+        // Bookkeeping on the true state.
+        out.min_flow = out.min_flow.min(phi);
+        let sign = phi >= 0.0;
+        if sign != last_sign {
+            out.flow_sign_changes += 1;
+            last_sign = sign;
+        }
+        if t >= sc.load_loss_at {
+            let m = truth
+                .evaluate(&surge_scan(signals(phi, psi)), shift)
+                .margin
+                .value;
+            out.min_margin = out.min_margin.min(m);
+        }
+    }
+    Ok(out)
+}
