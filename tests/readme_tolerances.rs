@@ -3,10 +3,9 @@
 
 use polytrope::tolerance::TABLE;
 
+/// The number in a table cell; NaN (which fails every comparison) if none.
 fn parse(s: &str) -> f64 {
-    s.trim()
-        .parse()
-        .unwrap_or_else(|_| panic!("not a number in README table: {s:?}"))
+    s.trim().parse().unwrap_or(f64::NAN)
 }
 
 #[test]
