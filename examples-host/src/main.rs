@@ -35,6 +35,9 @@ mod keys;
 mod out;
 mod quantity;
 mod stage;
+// Surge simulation: the Greitzer model core and its subcommand.
+mod greitzer;
+mod surge_sim;
 
 use std::io::Write;
 use std::process::ExitCode;
@@ -45,7 +48,12 @@ use cli::{CliError, Command};
 pub const BIN: &str = "polytrope-host";
 
 /// Every subcommand, in the order `help` lists them.
-const COMMANDS: &[Command] = &[demo::COMMAND, stage::COMMAND, keys::COMMAND];
+const COMMANDS: &[Command] = &[
+    demo::COMMAND,
+    stage::COMMAND,
+    surge_sim::COMMAND,
+    keys::COMMAND,
+];
 
 fn usage() -> String {
     let mut s = format!(
