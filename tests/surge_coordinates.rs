@@ -10,7 +10,12 @@
 //! 1.8^σ = exp(0.259 259 · 0.587 787) = exp(0.152 389) = 1.164 617;
 //! hr = 0.164 617 / 0.259 259 = 0.634 95.
 
-#![allow(clippy::unwrap_used, clippy::expect_used, clippy::indexing_slicing, clippy::panic)]
+#![allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::indexing_slicing,
+    clippy::panic
+)]
 
 use polytrope::surge::coordinates::{
     flow_element_dp, reduced_flow_squared, reduced_head, sigma_from_exponent, z_r_t,
