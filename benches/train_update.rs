@@ -10,6 +10,8 @@
 
 use criterion::{black_box, criterion_group, criterion_main, Criterion};
 use polytrope::demo;
+use polytrope::quality::Measured;
+use polytrope::stage::{evaluate_compressor, CompressorInputs};
 use polytrope::Real;
 
 const MATHS: &str = if cfg!(feature = "approx-math") {
@@ -34,9 +36,29 @@ fn bench_update<T: Real>(c: &mut Criterion, name: &str) {
     });
 }
 
+/// One compressor stage (the demo's second), for the side-by-side with the
+/// Python package `fluids` (`ci/bench_fluids.py`).
+fn bench_stage<T: Real>(c: &mut Criterion, name: &str) {
+    let config = demo::config::<T>().expect("demo config");
+    let s = demo::scan::<T>(0).stages[1];
+    let inputs = CompressorInputs {
+        suction_pressure: s.suction_pressure.map(|p| p.pa()),
+        suction_temperature: s.suction_temperature.map(|t| t.kelvin()),
+        discharge_pressure: s.discharge_pressure.map(|p| p.pa()),
+        discharge_temperature: s.discharge_temperature.map(|t| t.kelvin()),
+        mass_flow: Measured::good(T::of(11.5)),
+        compressibility: s.compressibility.map(|z| (z.value, z.quality)),
+    };
+    c.bench_function(&format!("compressor_stage/{name}/{MATHS}"), |b| {
+        b.iter(|| evaluate_compressor(black_box(&config.gas), black_box(&inputs)))
+    });
+}
+
 fn benches(c: &mut Criterion) {
     bench_update::<f32>(c, "f32");
     bench_update::<f64>(c, "f64");
+    bench_stage::<f32>(c, "f32");
+    bench_stage::<f64>(c, "f64");
 }
 
 criterion_group!(train_update, benches);
