@@ -1,7 +1,7 @@
 //! Recycle (anti-surge) valve control: the PI controller on the deviation
 //! from the control line ([`recycle_pi`]), the field outputs through
 //! embedded-hal 1.0 ([`outputs`]) and the power lost to recirculation
-//! ([`recycle_power`]).
+//! ([`mod@recycle_power`]).
 //!
 //! **Caution.** Anti-surge control protects machinery and people. This crate
 //! is not a certified safety function (IEC 61508 / IEC 61511). Surge data
