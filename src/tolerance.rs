@@ -66,20 +66,20 @@ const fn tol(
 }
 
 /// Pressure ratio, -.
-pub const PRESSURE_RATIO: Tolerance = tol("pressure ratio", 1e-6, 0.0, 1e-6, 0.0);
+pub const PRESSURE_RATIO: Tolerance = tol("pressure ratio", 1e-7, 0.0, 1e-6, 0.0);
 /// Temperatures, K.
 pub const TEMPERATURE: Tolerance = tol("temperature (K)", 1e-6, 1e-3, 5e-3, 1e-3);
 /// Temperature differences (rise, drop, approach, LMTD), K.
 pub const TEMPERATURE_DIFFERENCE: Tolerance =
-    tol("temperature difference (K)", 1e-4, 2e-3, 5e-2, 2.0);
+    tol("temperature difference (K)", 2e-5, 5e-4, 5e-2, 2.0);
 /// Heads and specific work, J/kg.
 pub const SPECIFIC_WORK: Tolerance = tol("head / specific work (J/kg)", 2e-5, 0.5, 5e-2, 50.0);
 /// Efficiencies and effectiveness, -.
 pub const EFFICIENCY: Tolerance = tol("efficiency / effectiveness", 2e-5, 2e-5, 5e-2, 1e-2);
 /// Polytropic exponent, -.
-pub const EXPONENT: Tolerance = tol("polytropic exponent", 2e-5, 2e-5, 5e-2, 1e-2);
+pub const EXPONENT: Tolerance = tol("polytropic exponent", 5e-6, 5e-6, 5e-2, 1e-2);
 /// Power and heat duty, W.
-pub const POWER: Tolerance = tol("power / duty (W)", 2e-5, 1.0, 5e-2, 50.0);
+pub const POWER: Tolerance = tol("power / duty (W)", 2e-6, 0.1, 5e-2, 50.0);
 /// Pressures and pressure differences, Pa.
 pub const PRESSURE: Tolerance = tol("pressure (Pa)", 1e-6, 0.05, 5e-3, 0.05);
 
