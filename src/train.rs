@@ -325,17 +325,16 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                         mass_flow: s.flow,
                         compressibility: compressibility(raw.compressibility),
                     };
-                    let r = evaluate_compressor(&self.config.gas, &inputs);
-                    let steady = detector.update(
+                    // Written in place: building a StageResult and copying
+                    // it costs a ~130-byte memcpy per stage on the device.
+                    out.work =
+                        StageWork::Compressor(evaluate_compressor(&self.config.gas, &inputs));
+                    out.steady_state = detector.update(
                         &self.config.steady_state,
-                        r.pressure_ratio,
+                        out.pressure_ratio(),
                         Some(s.t2),
                         flow,
                     );
-                    *out = StageResult {
-                        work: StageWork::Compressor(r),
-                        steady_state: steady,
-                    };
                 }
                 StageKind::Pump {
                     density,
