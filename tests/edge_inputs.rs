@@ -30,6 +30,7 @@ use proptest::test_runner::{FileFailurePersistence, RngSeed};
 use snapshot_fields::{assert_all_finite, fields, get};
 
 type Air2<T> = Train<T, IdealGas<T>, 2, 4>;
+type Air2Config = TrainConfig<f64, IdealGas<f64>, 2>;
 
 fn air2_config<T: Real>() -> TrainConfig<T, IdealGas<T>, 2> {
     let st = |a: f64, b: f64, cooled: bool| StageConfig {
@@ -446,7 +447,7 @@ fn every_configuration_error_names_its_field() {
     let gas_err = |m: f64, hc: HeatCapacity<f64>, z: f64| IdealGas::new(m, hc, z).unwrap_err();
     let k14 = HeatCapacity::ConstantK(1.4);
     let base = air2_config::<f64>();
-    let with = |f: &dyn Fn(&mut TrainConfig<f64, IdealGas<f64>, 2>)| {
+    let with = |f: &dyn Fn(&mut Air2Config)| {
         let mut c = base;
         f(&mut c);
         err_of(c)
