@@ -11,9 +11,17 @@
 //! equal-ratio interstage pressures and what staging with intercooling saves
 //! against one uncooled stage. Every value carries a [`Quality`].
 //!
+//! Around that core: a signal front end ([`signal`], [`flow`]) that turns raw
+//! transmitter values into validated measurements and ISO 5167 mass flow, and
+//! a surge-margin monitor with surge detection and a recycle-valve controller
+//! ([`surge`], [`control`]).
+//!
 //! **Caution.** This crate is not a certified safety function (IEC 61508 /
-//! IEC 61511). Machine limits come from the machine maker's data; follow
-//! local codes and licensed engineering practice.
+//! IEC 61511). Anti-surge control protects machinery and people: surge data
+//! come from the machine maker and from commissioning tests, and the trip
+//! request is advisory input to a separately engineered protection system.
+//! Machine limits come from the machine maker's data; follow local codes and
+//! licensed engineering practice.
 //!
 //! ```
 //! use polytrope::gas::{IdealGas, AIR};
@@ -56,7 +64,12 @@
 //! [`stage`] (compressor and pump), [`steady`], [`cooler`], [`staging`]
 //! (whole-train ideals), [`scan`] (inputs and the sensor boundary),
 //! [`train`] (configuration and update), [`tolerance`] (the f32-vs-f64
-//! accuracy table), [`demo`] (an invented scenario).
+//! accuracy table), [`demo`] (an invented scenario), [`signal`] (channels,
+//! NAMUR NE 43, plausibility, filters, substitution, cross-checks, events),
+//! [`flow`] (ISO 5167-2 orifices, flow elements, low-flow cut-off),
+//! [`surge`] (reduced coordinates, surge line, margin, detection),
+//! [`control`] (recycle-valve controller, embedded-hal outputs, recycle
+//! power).
 #![no_std]
 #![cfg_attr(docsrs, feature(doc_auto_cfg))]
 #[cfg(test)]
