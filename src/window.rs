@@ -1,11 +1,12 @@
 //! A fixed-capacity rolling window with no panic path.
 //!
 //! Same behaviour as the subset of `heapless::HistoryBuffer` (0.8) the kernel
-//! uses (`new`, `write`, `len`, `as_slice`, `recent`, `clear`; `as_slice` in
-//! storage order, not chronological), but `HistoryBuffer::write` indexes its
-//! array with a bounds check the optimiser cannot remove, which leaves a
-//! panic path in every caller (found by the link-time panic check of
-//! `ci/firmware`). Here every access goes through `get`/`get_mut`.
+//! uses (`new`, `write`, `len`, `as_slice`, `oldest_ordered`, `recent`,
+//! `clear`; `as_slice` in storage order, not chronological), but
+//! `HistoryBuffer::write` indexes its array with a bounds check the optimiser
+//! cannot remove, which leaves a panic path in every caller (found by the
+//! link-time panic check of `ci/firmware`). Here every access goes through
+//! `get`/`get_mut`.
 
 /// The last `W` values written.
 #[derive(Clone, Debug)]
@@ -62,6 +63,22 @@ impl<T: Copy, const W: usize> Window<T, W> {
         self.data.get(..self.len).unwrap_or(&[])
     }
 
+    /// The values held, oldest first.
+    #[inline]
+    pub(crate) fn oldest_ordered(&self) -> impl Iterator<Item = &T> {
+        // Until full, storage order is chronological; once full, the oldest
+        // value sits at `next`.
+        let (older, newer) = if self.len < W {
+            (&[][..], self.as_slice())
+        } else {
+            (
+                self.data.get(self.next..).unwrap_or(&[]),
+                self.data.get(..self.next).unwrap_or(&[]),
+            )
+        };
+        older.iter().chain(newer)
+    }
+
     /// The most recent value, if any.
     #[inline]
     #[allow(dead_code)]
@@ -96,6 +113,7 @@ mod tests {
             assert_eq!(w.as_slice(), h.as_slice());
             assert_eq!(w.len(), h.len());
             assert_eq!(w.recent(), h.recent());
+            assert!(w.oldest_ordered().eq(h.oldest_ordered()));
         }
         w.clear();
         assert_eq!((w.len(), w.as_slice()), (0, &[][..]));

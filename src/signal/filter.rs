@@ -8,9 +8,8 @@
 //! impulse-noise filter (common practice). Both delay the signal; see the
 //! module note in [`super`] on the surge path.
 
-use heapless::HistoryBuffer;
-
 use crate::real::Real;
+use crate::window::Window;
 
 /// First-order low-pass with time constant `tau_s`, driven by sample
 /// timestamps.
@@ -68,7 +67,7 @@ impl<T: Real> LowPass<T> {
 /// compile time).
 #[derive(Clone, Debug)]
 pub struct Median<T, const M: usize> {
-    window: HistoryBuffer<T, M>,
+    window: Window<T, M>,
 }
 
 impl<T: Real, const M: usize> Default for Median<T, M> {
@@ -87,7 +86,7 @@ impl<T: Real, const M: usize> Median<T, M> {
             )
         };
         Median {
-            window: HistoryBuffer::new(),
+            window: Window::filled_with(T::ZERO),
         }
     }
 

@@ -5,16 +5,15 @@
 //! and "stuck value" checks); the thresholds are per-channel configuration.
 //! Cost per sample: one pass over the `W`-sample window.
 
-use heapless::HistoryBuffer;
-
 use super::channel::ChannelConfig;
 use super::FaultCode;
 use crate::real::Real;
+use crate::window::Window;
 
 /// Plausibility state of one channel with a frozen window of `W` samples.
 #[derive(Clone, Debug)]
 pub struct Plausibility<T, const W: usize> {
-    window: HistoryBuffer<T, W>,
+    window: Window<T, W>,
     last_time_ms: Option<u64>,
     last_accepted: Option<(T, u64)>,
 }
@@ -31,7 +30,7 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
     pub fn new() -> Self {
         const { assert!(W >= 2, "the frozen window needs at least 2 samples") };
         Plausibility {
-            window: HistoryBuffer::new(),
+            window: Window::filled_with(T::ZERO),
             last_time_ms: None,
             last_accepted: None,
         }

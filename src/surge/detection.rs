@@ -27,12 +27,11 @@
 //! decides to trip (this crate is not a certified safety function, IEC 61508 /
 //! IEC 61511).
 
-use heapless::HistoryBuffer;
-
 use crate::error::ConfigError;
 use crate::quality::Measured;
 use crate::real::Real;
 use crate::units::{Kelvin, PressureAbs};
+use crate::window::Window;
 
 /// Detection settings.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -102,8 +101,8 @@ struct Sample<T> {
 #[derive(Clone, Debug)]
 pub struct SurgeDetector<T, const W: usize, const E: usize> {
     config: DetectionConfig<T>,
-    window: HistoryBuffer<Sample<T>, W>,
-    events: HistoryBuffer<u64, E>,
+    window: Window<Sample<T>, W>,
+    events: Window<u64, E>,
     scan: u64,
     holdoff_left: u32,
     holdoff_scans: u32,
@@ -168,8 +167,8 @@ impl<T: Real, const W: usize, const E: usize> SurgeDetector<T, W, E> {
             holdoff_scans: scans_of(c.holdoff, c.scan_period),
             trip_window_scans: u64::from(scans_of(c.trip_window, c.scan_period)),
             config,
-            window: HistoryBuffer::new(),
-            events: HistoryBuffer::new(),
+            window: Window::default(),
+            events: Window::filled_with(0),
             scan: 0,
             holdoff_left: 0,
             state: DetectionState {

@@ -22,14 +22,13 @@
 //! Cost per scan: one `ln`, one `exp`, two `sqrt`, at most `N` table steps and
 //! `W` additions for the slope.
 
-use heapless::HistoryBuffer;
-
 use super::coordinates::{reduced_flow_squared, reduced_head, signed_sqrt};
 use super::surge_line::SurgeLine;
 use crate::error::ConfigError;
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::units::PressureAbs;
+use crate::window::Window;
 
 /// One scan of the signals the margin needs.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -99,7 +98,7 @@ impl<T: Real> SurgeState<T> {
 pub struct SurgeMonitor<T, const N: usize, const W: usize> {
     line: SurgeLine<T, N>,
     config: MonitorConfig<T>,
-    history: HistoryBuffer<T, W>,
+    history: Window<T, W>,
     state: SurgeState<T>,
 }
 
@@ -121,7 +120,7 @@ impl<T: Real, const N: usize, const W: usize> SurgeMonitor<T, N, W> {
         Ok(SurgeMonitor {
             line,
             config,
-            history: HistoryBuffer::new(),
+            history: Window::filled_with(T::ZERO),
             state: SurgeState::bad(),
         })
     }
