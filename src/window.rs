@@ -42,13 +42,26 @@ impl<T: Copy, const W: usize> Window<T, W> {
     /// Writes a value, overwriting the oldest once full.
     #[inline]
     pub(crate) fn write(&mut self, v: T) {
+        self.push(v);
+    }
+
+    /// Writes a value and returns the one it overwrote (the oldest) when the
+    /// window was full.
+    #[inline]
+    pub(crate) fn push(&mut self, v: T) -> Option<T> {
+        let full = self.len >= W;
+        let mut evicted = None;
         if let Some(slot) = self.data.get_mut(self.next) {
+            if full {
+                evicted = Some(*slot);
+            }
             *slot = v;
         }
         self.next = if self.next + 1 >= W { 0 } else { self.next + 1 };
         if self.len < W {
             self.len += 1;
         }
+        evicted
     }
 
     /// Values held.
@@ -108,7 +121,12 @@ mod tests {
         let mut h = heapless::HistoryBuffer::<u32, 3>::new();
         assert_eq!(w.recent(), None);
         for v in 1..=7 {
-            w.write(v);
+            let oldest = if h.len() == 3 {
+                h.oldest_ordered().next().copied()
+            } else {
+                None
+            };
+            assert_eq!(w.push(v), oldest);
             h.write(v);
             assert_eq!(w.as_slice(), h.as_slice());
             assert_eq!(w.len(), h.len());
