@@ -140,9 +140,17 @@ pub fn lmtd_counterflow<T: Real>(dt_a: T, dt_b: T) -> Option<T> {
     Some(diff / T::ln(dt_a / dt_b))
 }
 
-/// Evaluates one cooler. Inputs passed the sensor boundary; never panics.
+/// Evaluates one cooler; [`evaluate_cooler_into`] returning the result.
 pub fn evaluate_cooler<T: Real>(inp: &CoolerInputs<T>) -> CoolerResult<T> {
     let mut out = CoolerResult::bad();
+    evaluate_cooler_into(inp, &mut out);
+    out
+}
+
+/// Evaluates one cooler into `out` (every field overwritten; no result
+/// copy). Inputs passed the sensor boundary; never panics.
+pub fn evaluate_cooler_into<T: Real>(inp: &CoolerInputs<T>, out: &mut CoolerResult<T>) {
+    *out = CoolerResult::bad();
     let (tin, tout, tc) = (
         inp.gas_inlet_temperature,
         inp.gas_outlet_temperature,
@@ -166,13 +174,13 @@ pub fn evaluate_cooler<T: Real>(inp: &CoolerInputs<T>) -> CoolerResult<T> {
 
     let q_gas = tin.quality.worst(tout.quality);
     if q_gas == Quality::Bad {
-        return out;
+        return;
     }
     let drop = tin.value - tout.value;
     if drop < -T::of(TEMPERATURE_NOISE_K) {
         out.condition = CoolerCondition::OutletAboveInlet;
         out.gas_temperature_drop = Measured::derived(drop, Quality::Uncertain.worst(q_gas));
-        return out;
+        return;
     }
     out.gas_temperature_drop = Measured::derived(drop, q_gas);
     let q_flow = q_gas.worst(inp.gas_mass_flow.quality);
@@ -185,7 +193,7 @@ pub fn evaluate_cooler<T: Real>(inp: &CoolerInputs<T>) -> CoolerResult<T> {
     let q_c = q_gas.worst(tc.quality);
     if q_c == Quality::Bad {
         out.condition = CoolerCondition::InputBad;
-        return out;
+        return;
     }
     let approach = tout.value - tc.value;
     let span = tin.value - tc.value;
@@ -226,7 +234,6 @@ pub fn evaluate_cooler<T: Real>(inp: &CoolerInputs<T>) -> CoolerResult<T> {
             out.heat_balance_error = Measured::derived((duty - coolant_duty) / duty, q_bal);
         }
     }
-    out
 }
 
 #[cfg(test)]

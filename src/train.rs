@@ -6,14 +6,14 @@
 //! allocates, never panics and runs bounded loops over `N` stages and `W`
 //! window samples.
 
-use crate::cooler::{evaluate_cooler, CoolerConfig, CoolerInputs, CoolerResult};
+use crate::cooler::{evaluate_cooler_into, CoolerConfig, CoolerInputs, CoolerResult};
 use crate::error::ConfigError;
 use crate::gas::GasModel;
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
-use crate::scan::{compressibility, mass_flow_kg_s, pressure_pa, temperature_k, Scan, StageScan};
+use crate::scan::{compressibility, mass_flow_kg_s, pressure_pa, temperature_k, Scan};
 use crate::stage::{
-    evaluate_compressor, evaluate_pump, CompressorInputs, CompressorResult, PumpResult,
+    evaluate_compressor_into, evaluate_pump, CompressorInputs, CompressorResult, PumpResult,
 };
 use crate::staging::{
     equal_ratio_interstage_pressure, ideal_references, InterstagePressure, Sum, TrainTotals,
@@ -161,6 +161,20 @@ struct StageSi<T> {
     flow_measured: bool,
 }
 
+impl<T: Real> StageSi<T> {
+    fn bad() -> Self {
+        let b = Measured::bad();
+        StageSi {
+            p1: b,
+            t1: b,
+            p2: b,
+            t2: b,
+            flow: b,
+            flow_measured: false,
+        }
+    }
+}
+
 fn validate_stages<T: Real, const N: usize>(
     stages: &[StageConfig<T>; N],
     max_drop: T,
@@ -275,7 +289,8 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     /// Never panics, never allocates; every number in the snapshot is finite
     /// and carries its quality.
     pub fn update(&mut self, scan: &Scan<T, N>) -> &Snapshot<T, N> {
-        let si = self.boundary(scan);
+        let mut si = [StageSi::bad(); N];
+        Self::boundary(scan, &mut si);
         self.evaluate_stages(scan, &si);
         self.evaluate_coolers(scan, &si);
         self.evaluate_totals(&si);
@@ -285,25 +300,33 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
 
     /// Sensor boundary: units stripped, impossible values bad, flows
     /// inherited from upstream where a stage has none.
-    fn boundary(&self, scan: &Scan<T, N>) -> [StageSi<T>; N] {
+    /// Not inlined: unrolled into `update`, its spills would add to the
+    /// stack peak of the phases after it.
+    #[inline(never)]
+    fn boundary(scan: &Scan<T, N>, si: &mut [StageSi<T>; N]) {
         let mut upstream_flow = Measured::bad();
-        scan.stages.map(|s: StageScan<T>| {
+        // By reference: `scan.stages.map` would copy the whole scan onto
+        // the stack first.
+        for (out, s) in si.iter_mut().zip(scan.stages.iter()) {
             let (flow, flow_measured) = match s.mass_flow {
                 Some(m) => (mass_flow_kg_s(m), true),
                 None => (upstream_flow, false),
             };
             upstream_flow = flow;
-            StageSi {
+            *out = StageSi {
                 p1: pressure_pa(s.suction_pressure),
                 t1: temperature_k(s.suction_temperature),
                 p2: pressure_pa(s.discharge_pressure),
                 t2: temperature_k(s.discharge_temperature),
                 flow,
                 flow_measured,
-            }
-        })
+            };
+        }
     }
 
+    // The three phases stay separate functions: inlined into `update` their
+    // locals share one frame and the stack peak is their sum, not their max.
+    #[inline(never)]
     fn evaluate_stages(&mut self, scan: &Scan<T, N>, si: &[StageSi<T>; N]) {
         let parts = self
             .config
@@ -325,10 +348,15 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                         mass_flow: s.flow,
                         compressibility: compressibility(raw.compressibility),
                     };
-                    // Written in place: building a StageResult and copying
-                    // it costs a ~130-byte memcpy per stage on the device.
-                    out.work =
-                        StageWork::Compressor(evaluate_compressor(&self.config.gas, &inputs));
+                    // Evaluated in place: building a result and copying it
+                    // costs a ~124-byte memcpy per stage on the device. The
+                    // variant only changes on the first scan.
+                    if !matches!(out.work, StageWork::Compressor(_)) {
+                        out.work = StageWork::Compressor(CompressorResult::bad());
+                    }
+                    if let StageWork::Compressor(c) = &mut out.work {
+                        evaluate_compressor_into(&self.config.gas, &inputs, c);
+                    }
                     out.steady_state = detector.update(
                         &self.config.steady_state,
                         out.pressure_ratio(),
@@ -360,6 +388,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         }
     }
 
+    #[inline(never)]
     fn evaluate_coolers(&mut self, scan: &Scan<T, N>, si: &[StageSi<T>; N]) {
         for (i, (cfg, out)) in self
             .config
@@ -417,12 +446,14 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 gas_cp,
                 coolant_cp: cooler_cfg.coolant_cp,
             };
-            let mut r = evaluate_cooler(&inputs);
+            // In place, as for the stages (saves a ~92-byte copy).
+            let r = out.get_or_insert_with(CoolerResult::bad);
+            evaluate_cooler_into(&inputs, r);
             r.next_stage_temperature_rise = next_rise;
-            *out = Some(r);
         }
     }
 
+    #[inline(never)]
     fn evaluate_totals(&mut self, si: &[StageSi<T>; N]) {
         let nc = self.compressor_stages;
         let mut totals = TrainTotals::bad(nc);

@@ -129,15 +129,28 @@ fn efficiency<T: Real>(eta: T, q: Quality) -> Measured<T> {
     }
 }
 
-/// Evaluates one compressor stage.
-///
-/// Assumes inputs passed the sensor boundary ([`crate::scan`]): a value that
-/// is not bad is finite and positive. Never panics; every output is finite.
+/// Evaluates one compressor stage; [`evaluate_compressor_into`] returning
+/// the result.
 pub fn evaluate_compressor<T: Real, G: GasModel<T>>(
     gas: &G,
     inp: &CompressorInputs<T>,
 ) -> CompressorResult<T> {
     let mut out = CompressorResult::bad();
+    evaluate_compressor_into(gas, inp, &mut out);
+    out
+}
+
+/// Evaluates one compressor stage into `out` (every field overwritten;
+/// no result copy, which matters on small devices).
+///
+/// Assumes inputs passed the sensor boundary ([`crate::scan`]): a value that
+/// is not bad is finite and positive. Never panics; every output is finite.
+pub fn evaluate_compressor_into<T: Real, G: GasModel<T>>(
+    gas: &G,
+    inp: &CompressorInputs<T>,
+    out: &mut CompressorResult<T>,
+) {
+    *out = CompressorResult::bad();
     let (p1, t1, p2, t2) = (
         inp.suction_pressure,
         inp.suction_temperature,
@@ -153,7 +166,7 @@ pub fn evaluate_compressor<T: Real, G: GasModel<T>>(
     let q_temps = t1.quality.worst(t2.quality);
     let q_all = q_ideal.worst(t2.quality);
     if q_ideal == Quality::Bad {
-        return out;
+        return;
     }
 
     let ratio = p2.value / p1.value;
@@ -162,11 +175,11 @@ pub fn evaluate_compressor<T: Real, G: GasModel<T>>(
     if !T::is_finite(ratio) {
         // A subnormal suction pressure passes the sensor boundary but
         // overflows the ratio: nothing downstream of it is usable.
-        return out;
+        return;
     }
     if !(ratio > T::ONE) {
         out.condition = StageCondition::NoCompression;
-        return out;
+        return;
     }
 
     let ln_r = T::ln(ratio);
@@ -191,12 +204,12 @@ pub fn evaluate_compressor<T: Real, G: GasModel<T>>(
 
     if t2.quality == Quality::Bad {
         out.condition = StageCondition::InputBad;
-        return out;
+        return;
     }
     let dt = t2.value - t1.value;
     if !(dt > T::ZERO) {
         out.condition = StageCondition::NoTemperatureRise;
-        return out;
+        return;
     }
     // sigma = (n-1)/n = ln(T2/T1)/ln(r); polytropic head along the measured
     // path = Z·R·(T2 - T1)/sigma (no further exponential needed).
@@ -225,7 +238,6 @@ pub fn evaluate_compressor<T: Real, G: GasModel<T>>(
         out.gas_power = Measured::derived(m.value * actual, q_power);
         out.power_above_isothermal = Measured::derived(m.value * (actual - h_iso), q_power);
     }
-    out
 }
 
 #[cfg(test)]

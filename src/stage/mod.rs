@@ -3,5 +3,8 @@
 pub mod compressor;
 pub mod pump;
 
-pub use compressor::{evaluate_compressor, CompressorInputs, CompressorResult, StageCondition};
+pub use compressor::{
+    evaluate_compressor, evaluate_compressor_into, CompressorInputs, CompressorResult,
+    StageCondition,
+};
 pub use pump::{evaluate_pump, PumpResult};
