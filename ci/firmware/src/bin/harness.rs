@@ -18,12 +18,14 @@ use core::hint::black_box;
 use cortex_m_rt::entry;
 use cortex_m_semihosting::{debug, hio};
 use heapless::String;
-use polytrope::cooler::{evaluate_cooler, CoolerInputs};
+use polytrope::cooler::{evaluate_cooler_into, CoolerInputs, CoolerResult};
 use polytrope::demo::{self, DemoTrain};
 use polytrope::gas::{GasModel, IdealGas};
 use polytrope::quality::{Measured, Quality};
 use polytrope::scan::Scan;
-use polytrope::stage::{evaluate_compressor, evaluate_pump, CompressorInputs};
+use polytrope::stage::{
+    evaluate_compressor_into, evaluate_pump, CompressorInputs, CompressorResult,
+};
 use polytrope::train::{Snapshot, Train, TrainConfig};
 use polytrope_firmware::codec::{decode_scan, quality_code, visit, Out, RawStage};
 use polytrope_firmware::measure;
@@ -191,9 +193,12 @@ fn main() -> ! {
         compressibility: Some((0.97, Quality::Good)),
     });
     let gas_ref = black_box(&gas);
+    // The in-place forms `Train::update` uses (the returning wrappers add
+    // a result copy).
     let r = label(&mut h, "compressor_stage");
-    let res = measure(r, || evaluate_compressor(gas_ref, &inputs));
-    black_box(res);
+    let mut res = CompressorResult::bad();
+    measure(r, || evaluate_compressor_into(gas_ref, &inputs, &mut res));
+    black_box(&res);
 
     let s0 = &scan.stages[0];
     let Some(c0) = s0.cooler else {
@@ -219,8 +224,9 @@ fn main() -> ! {
         coolant_cp: 4180.0,
     });
     let r = label(&mut h, "intercooler");
-    let res = measure(r, || evaluate_cooler(&cooler_inputs));
-    black_box(res);
+    let mut res = CoolerResult::bad();
+    measure(r, || evaluate_cooler_into(&cooler_inputs, &mut res));
+    black_box(&res);
 
     let s4 = &scan.stages[4];
     let (pp1, pp2, pt1) = black_box((
