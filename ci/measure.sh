@@ -27,8 +27,9 @@ declare -A machine=([thumbv7em-none-eabihf]="-cpu cortex-m4 -machine mps2-an386"
                     [thumbv6m-none-eabi]="-cpu cortex-m0 -machine microbit")
 for target in thumbv7em-none-eabihf thumbv6m-none-eabi; do
   echo "measure: building firmware for $target"
-  # `minimal` links only if no panic path of Train::new / Train::update
-  # survives (its panic handler calls an undefined symbol).
+  # `minimal` links only if no panic path of Train::new / Train::update,
+  # SurgeMonitor::new / update or Channel::new / update survives (its panic
+  # handler calls an undefined symbol).
   if ! (cd $fw && cargo build -q --release --target $target --bins); then
     echo "measure: firmware build failed for $target (a reachable panic shows as an" >&2
     echo "         undefined symbol polytrope_reachable_panic_path)" >&2
@@ -61,6 +62,8 @@ labels_doc = {
     "update_4_stages_3_intercoolers": "**full update, 4 stages + 3 intercoolers**",
     "update_demo_5_stages": "full update, demo train (4 compressors, 3 intercoolers, aftercooler, pump)",
     "train_new_demo_5_stages": "`Train::new` of the demo train (once, at start-up)",
+    "surge_margin_update": "surge margin, one `SurgeMonitor::update` (4-point line, 10-scan rate window full)",
+    "signal_channel_4_20ma": "signal front end, one 4–20 mA channel `Channel::update` (scaling, plausibility, 5-sample median, low-pass)",
 }
 res = {}
 for t, _, _ in targets:
@@ -124,13 +127,21 @@ row("stack high-water mark of one update, 4 stages + 3 intercoolers, bytes",
     lambda t: f"{res[t][1]['stack_update_4_stages_3_intercoolers']:,}")
 row("stack high-water mark of one update, demo train, bytes",
     lambda t: f"{res[t][1]['stack_update_demo_5_stages']:,}")
+row("stack high-water mark of one surge-margin update, bytes",
+    lambda t: f"{res[t][1]['stack_surge_margin_update']:,}")
+row("stack high-water mark of one 4–20 mA channel update, bytes",
+    lambda t: f"{res[t][1]['stack_signal_channel_4_20ma']:,}")
 L.append("")
 L.append("Static RAM is zero because the minimal firmware keeps the train on the stack; "
          "the train state is the RAM a caller reserves (a `static` or a stack slot). "
          "The stack figure is measured by painting the free stack, running one update "
          "and finding the lowest overwritten word (it includes the 8-byte call wrapper). "
+         "The minimal firmware also builds and updates a surge-margin monitor and a "
+         "4–20 mA channel (invented demo settings, `ci/firmware/src/front.rs`), so the "
+         "kernel flash row includes them. "
          "Panic-freedom: the minimal firmware links with a panic handler that calls an "
-         "undefined symbol, so no panic path of `Train::new` / `Train::update` survives; "
+         "undefined symbol, so no panic path of `Train::new` / `Train::update`, "
+         "`SurgeMonitor::new` / `update` or `Channel::new` / `update` survives; "
          "`ci/checks.d/firmware.sh` also checks that a deliberately panicking probe fails "
          "to link.")
 open(out_md, "w").write("\n".join(L) + "\n")

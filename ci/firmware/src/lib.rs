@@ -4,6 +4,7 @@
 #![no_std]
 
 pub mod codec;
+pub mod front;
 pub mod table;
 
 /// Start of a measured region; the plugin starts counting at its first

@@ -28,6 +28,7 @@ use polytrope::stage::{
 };
 use polytrope::train::{Snapshot, Train, TrainConfig};
 use polytrope_firmware::codec::{decode_scan, quality_code, visit, Out, RawStage};
+use polytrope_firmware::front::{self, Monitor, PressureChannel};
 use polytrope_firmware::measure;
 use polytrope_firmware::table::SCANS;
 
@@ -108,6 +109,16 @@ fn budget_scan(raw: &[RawStage; demo::STAGES]) -> Scan<f32, BUDGET_STAGES> {
 #[inline(never)]
 fn update_demo(t: &mut DemoTrain<f32>, s: &Scan<f32, { demo::STAGES }>) -> f32 {
     t.update(s).totals.total_power.value
+}
+
+#[inline(never)]
+fn update_surge(m: &mut Monitor, s: &polytrope::surge::SurgeScan<f32>) -> f32 {
+    m.update(s, 0.0).margin.value
+}
+
+#[inline(never)]
+fn update_channel(c: &mut PressureChannel, raw: f32, t_ms: u64) -> f32 {
+    c.update(raw, t_ms).filtered.value
 }
 
 #[inline(never)]
@@ -269,6 +280,33 @@ fn main() -> ! {
     let built = measure(r, || DemoTrain::<f32>::new(cfg).is_ok());
     black_box(built);
 
+    // Surge margin (one SurgeMonitor::update with a full rate window) and
+    // the signal front end (one 4-20 mA channel), warmed, three scans each.
+    let Ok(mut monitor) = front::surge_monitor() else {
+        fail(&mut h, "surge monitor");
+    };
+    let Ok(mut channel) = front::pressure_channel() else {
+        fail(&mut h, "pressure channel");
+    };
+    for k in 0..front::WARM_SCANS {
+        update_surge(&mut monitor, &front::surge_scan(k));
+        let (raw, t) = front::raw_sample(k);
+        update_channel(&mut channel, raw, t);
+    }
+    for k in front::WARM_SCANS..front::WARM_SCANS + 3 {
+        let s = black_box(front::surge_scan(k));
+        let r = label(&mut h, "surge_margin_update");
+        measure(r, || update_surge(&mut monitor, &s));
+        let (raw, t) = black_box(front::raw_sample(k));
+        let r = label(&mut h, "signal_channel_4_20ma");
+        measure(r, || update_channel(&mut channel, raw, t));
+    }
+    let margin = monitor.state().margin;
+    let filtered = channel.output().filtered;
+    if !(margin.quality.is_usable() && filtered.quality.is_usable()) {
+        fail(&mut h, "surge margin or channel not usable after warm-up");
+    }
+
     // 3. Stack high-water mark of one update (the wrapper frame included).
     let s = black_box(decode_scan::<f32, { demo::STAGES }>(black_box(&SCANS[13])));
     let used = stack_used(|| {
@@ -280,6 +318,16 @@ fn main() -> ! {
         update_budget(&mut budget, &s);
     });
     out!(h, "S stack_update_4_stages_3_intercoolers {}", used);
+    let s = black_box(front::surge_scan(20));
+    let used = stack_used(|| {
+        update_surge(&mut monitor, &s);
+    });
+    out!(h, "S stack_surge_margin_update {}", used);
+    let (raw, t) = black_box(front::raw_sample(20));
+    let used = stack_used(|| {
+        update_channel(&mut channel, raw, t);
+    });
+    out!(h, "S stack_signal_channel_4_20ma {}", used);
 
     // 4. State sizes.
     out!(

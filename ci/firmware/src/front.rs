@@ -1,0 +1,92 @@
+//! The surge-margin monitor and a 4–20 mA signal channel as the harness and
+//! the minimal firmware run them. Everything here is an invented scenario
+//! (demo data): a 4-point surge line and a suction-pressure transmitter.
+
+use polytrope::signal::{Channel, ChannelConfig, InstrumentClass, SignalKind, Unit};
+use polytrope::surge::{
+    MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
+};
+use polytrope::units::{Kelvin, PressureAbs};
+use polytrope::{ConfigError, Measured};
+
+/// Surge monitor: a 4-point line and a 10-scan rate window.
+pub type Monitor = SurgeMonitor<f32, 4, 10>;
+
+/// One transmitter channel: 8-sample frozen window, 5-sample median.
+pub type PressureChannel = Channel<f32, 8, 5>;
+
+/// Scans to run before measuring, so the rate window is full.
+pub const WARM_SCANS: u32 = 12;
+
+/// The monitor on an invented 4-speed surge line (demo data).
+pub fn surge_monitor() -> Result<Monitor, ConfigError> {
+    let p = |rpm: f32, q: f32, r: f32, m: f32| SurgePoint {
+        speed_rpm: rpm,
+        suction_volume_flow: q,
+        pressure_ratio: r,
+        control_margin: m,
+    };
+    let points = [
+        p(7000.0, 1.40, 1.55, 0.14),
+        p(8000.0, 1.60, 1.75, 0.12),
+        p(9000.0, 1.82, 2.00, 0.10),
+        p(10000.0, 2.05, 2.30, 0.10),
+    ];
+    let line = SurgeLine::new(&SurgeLineConfig {
+        points: &points,
+        map: MapConditions {
+            suction_pressure: PressureAbs::from_pa(1.0e5),
+            suction_temperature: Kelvin::new(293.15),
+            molar_mass: 28.96,
+            compressibility: 1.0,
+        },
+        polytropic_exponent: 1.45,
+        flow_coefficient: 0.04,
+    })?;
+    SurgeMonitor::new(
+        line,
+        MonitorConfig {
+            scan_period: 0.02,
+            time_to_surge_horizon: 60.0,
+        },
+    )
+}
+
+/// Scan `k` of an invented slow approach to the line (flow falling, head
+/// rising), all signals good.
+pub fn surge_scan(k: u32) -> SurgeScan<f32> {
+    let k = (k % 64) as f32;
+    SurgeScan {
+        suction_pressure: Measured::good(PressureAbs::from_pa(1.0e5)),
+        discharge_pressure: Measured::good(PressureAbs::from_pa(1.85e5 + 300.0 * k)),
+        flow_dp: Measured::good(2_600.0 - 15.0 * k),
+    }
+}
+
+/// An invented suction-pressure transmitter: 4–20 mA over 0..10 bar gauge.
+pub fn pressure_channel() -> Result<PressureChannel, ConfigError> {
+    PressureChannel::new(ChannelConfig {
+        id: 1,
+        signal: SignalKind::Current4To20,
+        unit: Unit::PressureGauge {
+            atmosphere: PressureAbs::from_pa(101_325.0),
+        },
+        range_low: 0.0,
+        range_high: 10.0e5,
+        plausible_low: 0.5e5,
+        plausible_high: 12.0e5,
+        noise_floor: 20.0,
+        instrument: InstrumentClass::FractionOfSpan(0.001),
+        max_rate: 5.0e5,
+        filter_time_constant_s: 0.1,
+        hold_ms: 500,
+    })
+}
+
+/// Raw sample `k` (mA) of the transmitter, with a little invented noise,
+/// taken every 20 ms.
+pub fn raw_sample(k: u32) -> (f32, u64) {
+    let noise = [0.0, 0.004, -0.003, 0.006, -0.005, 0.002, -0.001];
+    let n = noise.get((k % 7) as usize).copied().unwrap_or(0.0);
+    (8.0 + n, u64::from(k) * 20)
+}
