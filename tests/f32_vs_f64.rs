@@ -430,8 +430,12 @@ fn measured_maxima() {
             w.rel, w.rel_at, w.abs, w.abs_at, w.used, w.used_at
         );
     }
-    // Every table entry was exercised.
-    for t in tolerance::TABLE {
+    // Every train entry of the table was exercised (the surge margin is
+    // exercised by tests/surge_margin.rs).
+    for t in tolerance::TABLE
+        .iter()
+        .filter(|t| t.quantity != tolerance::SURGE_MARGIN.quantity)
+    {
         assert!(
             table.iter().any(|e| e.0 == t.quantity),
             "{} never compared",

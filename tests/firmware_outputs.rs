@@ -183,11 +183,11 @@ fn comparison_catches_a_wrong_value_and_a_wrong_quality() {
         )
         .unwrap();
     if let Line::V(_, _, _, v, _) = &mut device[at] {
-        *v *= 1.001;
+        *v *= 1.2; // beyond the efficiency bound of either build (default or approx-math)
     }
     assert_eq!(compare(&device, &reference).len(), 1);
     if let Line::V(_, _, _, v, q) = &mut device[at] {
-        *v /= 1.001;
+        *v /= 1.2;
         *q = 1;
     }
     assert_eq!(compare(&device, &reference).len(), 1);

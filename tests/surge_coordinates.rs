@@ -86,5 +86,8 @@ fn map_point_transform_matches_iso5167_orifice_and_fluids_head() {
     );
     // f32 device build of the same transform.
     let h32 = reduced_head(1.8_f32, sigma_from_exponent(1.35_f32)) as f64;
-    assert!(rel(h32, REDUCED_HEAD) < 1e-5);
+    // Relative bound of a head in this build (src/tolerance.rs; looser with
+    // approx-math).
+    let (rtol, _) = polytrope::tolerance::SPECIFIC_WORK.active();
+    assert!(rel(h32, REDUCED_HEAD) < rtol);
 }

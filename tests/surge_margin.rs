@@ -161,7 +161,10 @@ fn margin_is_invariant_over_a_sweep_and_reports_its_error() {
     }
     println!("margin invariance over {cases} cases: max |dSM| f64 {e64:.3e}, f32 {e32:.3e}");
     assert!(e64 < 1e-12, "f64 invariance error {e64}");
-    assert!(e32 < 2e-5, "f32 invariance error {e32}");
+    // The surge-margin entry of src/tolerance.rs (measured: 3.2e-7 with
+    // libm, 6.5e-5 with approx-math).
+    let (_, atol) = polytrope::tolerance::SURGE_MARGIN.active();
+    assert!(e32 < atol, "f32 invariance error {e32}");
 }
 
 #[test]
