@@ -165,6 +165,11 @@ pub fn evaluate_compressor_into<T: Real, G: GasModel<T>>(
     let q_ideal = q_ratio.worst(t1.quality).worst(q_z);
     let q_temps = t1.quality.worst(t2.quality);
     let q_all = q_ideal.worst(t2.quality);
+    // The ratio needs only the pressures: report it even when a temperature
+    // is bad.
+    if q_ratio.is_usable() {
+        out.pressure_ratio = Measured::derived(p2.value / p1.value, q_ratio);
+    }
     if q_ideal == Quality::Bad {
         return;
     }
@@ -307,5 +312,17 @@ mod tests {
         assert_eq!(r.condition, StageCondition::EfficiencyAboveOne);
         assert_eq!(r.isentropic_efficiency.quality, Quality::Uncertain);
         assert!(r.isentropic_efficiency.value > 1.0);
+    }
+
+    #[test]
+    fn bad_suction_temperature_keeps_the_ratio_but_not_the_heads() {
+        let gas = IdealGas::<f64>::from_spec(&AIR, false, 1.0).unwrap();
+        let mut i = inputs(100e3, 300.0, 300e3, 420.0);
+        i.suction_temperature = Measured::new(300.0, Quality::Bad);
+        let r = evaluate_compressor(&gas, &i);
+        assert_eq!(r.pressure_ratio.quality, Quality::Good);
+        assert!((r.pressure_ratio.value - 3.0).abs() < 1e-12);
+        assert_eq!(r.isentropic_head.quality, Quality::Bad);
+        assert_eq!(r.isentropic_efficiency.quality, Quality::Bad);
     }
 }
