@@ -167,15 +167,12 @@ pub fn evaluate_compressor_into<T: Real, G: GasModel<T>>(
     let q_all = q_ideal.worst(t2.quality);
     // The ratio needs only the pressures: report it even when a temperature
     // is bad.
-    if q_ratio.is_usable() {
-        out.pressure_ratio = Measured::derived(p2.value / p1.value, q_ratio);
-    }
+    let ratio = p2.value / p1.value;
+    out.pressure_ratio = Measured::derived(ratio, q_ratio);
     if q_ideal == Quality::Bad {
         return;
     }
 
-    let ratio = p2.value / p1.value;
-    out.pressure_ratio = Measured::derived(ratio, q_ratio);
     out.temperature_rise = Measured::derived(t2.value - t1.value, q_temps);
     if !T::is_finite(ratio) {
         // A subnormal suction pressure passes the sensor boundary but
