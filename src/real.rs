@@ -74,6 +74,11 @@ pub trait Real:
             a
         }
     }
+    /// `x` limited to [lo, hi] (NaN-free inputs assumed, lo <= hi).
+    #[inline]
+    fn clamp(x: Self, lo: Self, hi: Self) -> Self {
+        Self::min(Self::max(x, lo), hi)
+    }
 }
 
 macro_rules! impl_real {

@@ -85,7 +85,7 @@ impl<T: Real, V: SetDutyCycle, A: OutputPin, R: OutputPin> RecycleOutputs<T, V, 
     pub fn duty_for(&self, demand: T) -> u16 {
         let c = &self.config;
         let u = if T::is_finite(demand) {
-            T::min(T::max(demand, T::ZERO), T::ONE)
+            T::clamp(demand, T::ZERO, T::ONE)
         } else {
             T::ONE
         };

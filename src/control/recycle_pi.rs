@@ -226,7 +226,7 @@ impl<T: Real> RecycleController<T> {
                 Mode::Automatic => {
                     let de = self.previous_error.map_or(T::ZERO, |p| error - p);
                     let du = c.gain * de + c.gain * dt / c.integral_time * error;
-                    let mut u = clamp(prev + du, c.min_output, c.max_output);
+                    let mut u = T::clamp(prev + du, c.min_output, c.max_output);
                     let floor = prev - c.closing_rate * dt;
                     if u < floor {
                         u = floor;
@@ -259,14 +259,10 @@ impl<T: Real> RecycleController<T> {
     }
 }
 
-fn clamp<T: Real>(x: T, lo: T, hi: T) -> T {
-    T::min(T::max(x, lo), hi)
-}
-
 /// Clamps to [0, 1]; a non-finite value becomes `fallback`.
 fn clamp01<T: Real>(x: T, fallback: T) -> T {
     if T::is_finite(x) {
-        clamp(x, T::ZERO, T::ONE)
+        T::clamp(x, T::ZERO, T::ONE)
     } else {
         fallback
     }

@@ -136,17 +136,12 @@ impl<T: Real> IdealGas<T> {
                 t_min,
                 t_max,
             } => {
-                let a = clamp(t1, t_min, t_max);
-                let b = clamp(t2, t_min, t_max);
+                let a = T::clamp(t1, t_min, t_max);
+                let b = T::clamp(t2, t_min, t_max);
                 mean_cubic(&c, a, b)
             }
         }
     }
-}
-
-#[inline]
-fn clamp<T: Real>(x: T, lo: T, hi: T) -> T {
-    T::min(T::max(x, lo), hi)
 }
 
 #[inline]
