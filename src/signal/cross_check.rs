@@ -255,7 +255,7 @@ pub fn mass_balance<T: Real, const N: usize>(
     if count < 2 {
         return 0;
     }
-    // Median of the referred usable flows (insertion sort, N·N/2 steps).
+    // Median of the referred usable flows (N·N/2 comparisons at most).
     let mut sorted = [T::ZERO; N];
     let mut n = 0usize;
     for (r, _) in referred.iter().zip(used.iter()).filter(|(_, u)| **u) {
@@ -265,13 +265,7 @@ pub fn mass_balance<T: Real, const N: usize>(
         }
     }
     let s = sorted.get_mut(..n).unwrap_or(&mut []);
-    for i in 1..s.len() {
-        let mut j = i;
-        while j > 0 && s.get(j - 1) > s.get(j) {
-            s.swap(j - 1, j);
-            j -= 1;
-        }
-    }
+    super::filter::sort_ascending(s);
     let lo = s.first().copied().unwrap_or(T::ZERO);
     let hi = s.last().copied().unwrap_or(T::ZERO);
     let scale = |a: T, b: T| T::max(T::max(T::abs(a), T::abs(b)), T::EPSILON);

@@ -100,19 +100,26 @@ impl<T: Real, const M: usize> Median<T, M> {
             *dst = src;
         }
         let used = sorted.get_mut(..n).unwrap_or(&mut []);
-        // Insertion sort: at most M·M/2 = 112 comparisons.
-        for i in 1..used.len() {
-            let mut j = i;
-            while j > 0 && used.get(j - 1) > used.get(j) {
-                used.swap(j - 1, j);
-                j -= 1;
-            }
-        }
+        // At most M·M/2 = 112 comparisons.
+        sort_ascending(used);
         used.get(n.saturating_sub(1) / 2).copied().unwrap_or(x)
     }
 
     /// Forgets the window.
     pub fn reset(&mut self) {
         self.window.clear();
+    }
+}
+
+/// Sorts a short slice in place, ascending (insertion sort: at most
+/// len·len/2 comparisons, no allocation; NaN-free values assumed). Shared by
+/// the median filter and the mass-balance median.
+pub(crate) fn sort_ascending<T: PartialOrd + Copy>(s: &mut [T]) {
+    for i in 1..s.len() {
+        let mut j = i;
+        while j > 0 && s.get(j - 1) > s.get(j) {
+            s.swap(j - 1, j);
+            j -= 1;
+        }
     }
 }
