@@ -46,9 +46,10 @@
 
 use crate::real::Real;
 
-/// Molar gas constant in J/(kmol K) (CODATA 2018, exact), for molar masses in
-/// kg/kmol.
-pub const MOLAR_GAS_CONSTANT_KMOL: f64 = 8_314.462_618_153_24;
+/// Molar gas constant in J/(kmol K), for molar masses in kg/kmol: the
+/// kernel's one value ([`crate::gas::MOLAR_GAS_CONSTANT`], CODATA 2018)
+/// scaled from mol to kmol.
+pub const MOLAR_GAS_CONSTANT_KMOL: f64 = crate::gas::MOLAR_GAS_CONSTANT * 1.0e3;
 
 /// σ = (n − 1)/n from a polytropic exponent `n > 1`.
 #[inline]
