@@ -349,11 +349,9 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                         compressibility: compressibility(raw.compressibility),
                     };
                     // Evaluated in place: building a result and copying it
-                    // costs a ~124-byte memcpy per stage on the device. The
-                    // variant only changes on the first scan.
-                    if !matches!(out.work, StageWork::Compressor(_)) {
-                        out.work = StageWork::Compressor(CompressorResult::bad());
-                    }
+                    // costs a ~124-byte memcpy per stage on the device.
+                    // `Train::new` set this slot's variant from the same
+                    // (immutable) configuration, so it is a compressor.
                     if let StageWork::Compressor(c) = &mut out.work {
                         evaluate_compressor_into(&self.config.gas, &inputs, c);
                     }
