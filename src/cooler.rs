@@ -13,6 +13,11 @@
 //!   measured; a falling UA at steady state is the usual fouling indicator
 //!   (common practice).
 //! - Approach temperature, gas outlet minus coolant inlet (common practice).
+//! - Heat duty from the gas side as m·(h_in − h_out) with the enthalpies of
+//!   the configured gas model (first law, steady flow), the same basis as the
+//!   stage work, so a stage's gas power and the following cooler's duty
+//!   balance. For the ideal gas with compressibility Z this is m·Z·cp·ΔT
+//!   (before the gas-model seam it was m·cp·ΔT, without Z).
 
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
@@ -57,7 +62,7 @@ pub struct CoolerResult<T> {
     pub approach: Measured<T>,
     /// Thermal effectiveness, -.
     pub effectiveness: Measured<T>,
-    /// Heat removed from the gas, m·cp·(Tg,in - Tg,out), W.
+    /// Heat removed from the gas, m·(h_in − h_out), W.
     pub heat_duty: Measured<T>,
     /// Gas-side pressure drop, Pa.
     pub pressure_drop: Measured<T>,
@@ -119,8 +124,9 @@ pub struct CoolerInputs<T> {
     pub gas_mass_flow: Measured<T>,
     /// Coolant mass flow, kg/s (bad if not measured).
     pub coolant_mass_flow: Measured<T>,
-    /// Mean gas cp over the cooler, J/(kg K).
-    pub gas_cp: T,
+    /// Gas enthalpy drop h(inlet) − h(outlet) from the gas model, J/kg,
+    /// with the model's quality for the two states.
+    pub gas_enthalpy_drop: Measured<T>,
     /// Coolant cp, J/(kg K).
     pub coolant_cp: T,
 }
@@ -183,8 +189,10 @@ pub fn evaluate_cooler_into<T: Real>(inp: &CoolerInputs<T>, out: &mut CoolerResu
         return;
     }
     out.gas_temperature_drop = Measured::derived(drop, q_gas);
-    let q_flow = q_gas.worst(inp.gas_mass_flow.quality);
-    let duty = inp.gas_mass_flow.value * inp.gas_cp * drop;
+    let q_flow = q_gas
+        .worst(inp.gas_mass_flow.quality)
+        .worst(inp.gas_enthalpy_drop.quality);
+    let duty = inp.gas_mass_flow.value * inp.gas_enthalpy_drop.value;
     if q_flow.is_usable() {
         out.heat_duty = Measured::derived(duty, q_flow);
     }
@@ -251,7 +259,7 @@ mod tests {
             gas_outlet_pressure: g(2.95e5),
             gas_mass_flow: g(2.0),
             coolant_mass_flow: g(3.5),
-            gas_cp: 1005.0,
+            gas_enthalpy_drop: g(1005.0 * 110.0),
             coolant_cp: 4180.0,
         }
     }

@@ -23,6 +23,15 @@ pub enum ConfigError {
     HeatCapacityPolynomial,
     /// `gas.compressibility` is not in (0, 2].
     Compressibility,
+    /// `gas.critical_pressure` is not finite and positive (Pa).
+    CriticalPressure,
+    /// `gas.composition[component]`: a mole fraction is not finite and in
+    /// [0, 1], the fractions do not sum to 1 within 1e-4, or a component
+    /// appears twice.
+    Composition {
+        /// Component index.
+        component: u8,
+    },
     /// `stages[stage].design_suction_pressure` is not finite and positive.
     DesignSuctionPressure {
         /// Stage index.
@@ -157,6 +166,11 @@ impl fmt::Display for ConfigError {
                 "gas.cp_polynomial must give finite cp > R over a non-empty validity range",
             ),
             Compressibility => f.write_str("gas.compressibility must be in (0, 2]"),
+            CriticalPressure => f.write_str("gas.critical_pressure must be finite and > 0 Pa"),
+            Composition { component } => write!(
+                f,
+                "gas.composition[{component}]: mole fractions must be in [0, 1], sum to 1 within 1e-4, no component twice"
+            ),
             DesignSuctionPressure { stage } => write!(
                 f,
                 "stages[{stage}].design_suction_pressure must be finite and > 0 Pa"

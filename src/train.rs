@@ -418,16 +418,15 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 None => next.map_or(Measured::bad(), |n| n.p1),
             };
             let tout = temperature_k(raw.gas_outlet_temperature);
-            let cp_t_out = if tout.quality.is_usable() {
-                tout.value
-            } else {
-                s.t2.value
-            };
-            let gas_cp = self
-                .config
-                .gas
-                .path(s.p2.value, s.t2.value, gas_out_p.value, cp_t_out, None)
-                .cp;
+            // Enthalpy drop on the stage's basis (same model, same supplied
+            // Z), so stage power and cooler duty balance.
+            let z = compressibility(scan.stages.get(i).and_then(|s| s.compressibility))
+                .map(|(z, _)| z);
+            let (drop, validity) =
+                self.config
+                    .gas
+                    .enthalpy_drop(s.p2.value, s.t2.value, gas_out_p.value, tout.value, z);
+            let gas_enthalpy_drop = Measured::derived(drop, validity.quality);
             let inputs = CoolerInputs {
                 gas_inlet_temperature: s.t2,
                 gas_outlet_temperature: tout,
@@ -441,7 +440,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 coolant_mass_flow: raw
                     .coolant_mass_flow
                     .map_or(Measured::bad(), mass_flow_kg_s),
-                gas_cp,
+                gas_enthalpy_drop,
                 coolant_cp: cooler_cfg.coolant_cp,
             };
             // In place, as for the stages (saves a ~92-byte copy).

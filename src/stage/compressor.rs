@@ -1,17 +1,21 @@
 //! Live performance of one compressor stage from its measured end states.
 //!
-//! Sources: the head relations of [`crate::compression`] (Çengel & Boles
-//! ch. 7; `fluids.compressible`); the temperature-rise ("enthalpy-rise")
-//! method of stage efficiency for ideal gases: actual work = Z·cp·(T2 - T1),
-//! isentropic efficiency = Hs / actual work, polytropic efficiency
-//! = ((k-1)/k) / ((n-1)/n) with n inferred from the measured pressures and
-//! temperatures (common practice for field performance testing, e.g. the
-//! ideal-gas route of ASME PTC 10).
+//! Sources: enthalpy-based stage work (first law for an adiabatic stage,
+//! common practice; ASME PTC 10): actual work = h2 − h1, isentropic head
+//! = h(p2, s1) − h1, isentropic efficiency = isentropic head / actual work,
+//! with the states from the configured [`GasModel`]; the polytropic head and
+//! efficiency by a named method of [`crate::polytropic`] (Schultz by
+//! default). For the ideal gas these reduce to the relations of
+//! [`crate::compression`] (Çengel & Boles ch. 7; `fluids.compressible`):
+//! actual work Z·cp·(T2 − T1), polytropic efficiency ((k−1)/k)/((n−1)/n).
+//! The isothermal head is Z1·R·T1·ln(p2/p1) with the suction Z.
 //!
-//! Cost per call: two logarithms, one exponential, about a dozen divisions.
+//! Cost per call (ideal gas): two logarithms, one exponential, about a dozen
+//! divisions; Peng–Robinson: see the README's device figures.
 
-use crate::compression::{isentropic_exponent_term, isothermal_head};
-use crate::gas::GasModel;
+use crate::compression::isothermal_head;
+use crate::gas::{GasModel, Validity};
+use crate::polytropic::{schultz, PolytropicMethod};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 
@@ -31,6 +35,9 @@ pub enum StageCondition {
     /// Discharge temperature below the isentropic one (efficiency above 1):
     /// a temperature or pressure measurement is suspect.
     EfficiencyAboveOne,
+    /// The gas model has no valid state for these inputs (no vapour root,
+    /// non-finite): see [`CompressorResult::gas_validity`].
+    OutsideGasModel,
 }
 
 /// Results of one compressor stage; every value carries its quality.
@@ -49,7 +56,8 @@ pub struct CompressorResult<T> {
     pub polytropic_head: Measured<T>,
     /// Isothermal head (the ideal), J/kg.
     pub isothermal_head: Measured<T>,
-    /// Actual specific work from the temperature rise, Z·cp·(T2 - T1), J/kg.
+    /// Actual specific work, the enthalpy rise h2 − h1 (ideal gas:
+    /// Z·cp·(T2 − T1)), J/kg.
     pub actual_work: Measured<T>,
     /// Isentropic efficiency, -.
     pub isentropic_efficiency: Measured<T>,
@@ -65,10 +73,16 @@ pub struct CompressorResult<T> {
     pub work_above_isothermal: Measured<T>,
     /// Gas power minus isothermal power, W.
     pub power_above_isothermal: Measured<T>,
-    /// Mean compressibility factor used, -.
+    /// Compressibility factor at suction (ideal gas: the mean Z used), -.
     pub compressibility: T,
-    /// Mean heat-capacity ratio used, -.
+    /// Isentropic exponent used: the isentropic volume exponent
+    /// ns = ln(p2/p1)/ln(v1/v2s) (ideal gas: the mean k), -.
     pub k: T,
+    /// Which method produced the polytropic head, efficiency and exponent.
+    pub polytropic_method: PolytropicMethod,
+    /// Validity of the gas model's states (worst of suction, isentropic and
+    /// discharge), with its reason; already folded into every quality above.
+    pub gas_validity: Validity,
     /// What the evaluation found.
     pub condition: StageCondition,
 }
@@ -94,6 +108,8 @@ impl<T: Real> CompressorResult<T> {
             power_above_isothermal: b,
             compressibility: T::ONE,
             k: T::ONE,
+            polytropic_method: PolytropicMethod::Schultz,
+            gas_validity: Validity::INVALID,
             condition: StageCondition::InputBad,
         }
     }
@@ -185,46 +201,54 @@ pub fn evaluate_compressor_into<T: Real, G: GasModel<T>>(
     }
 
     let ln_r = T::ln(ratio);
-    // Properties over the measured path (or to an isentropic T2 estimate when
-    // the discharge temperature is bad; only cp(T) models care).
-    let t2_path = if t2.quality.is_usable() {
-        t2.value
-    } else {
-        t1.value
-    };
-    let props = gas.path(p1.value, t1.value, p2.value, t2_path, z_supplied);
-    let m_k = isentropic_exponent_term(props.k);
-    let zrt1 = props.z * props.gas_constant * t1.value;
-    let t2s_over_t1 = T::exp(m_k * ln_r);
-    out.compressibility = props.z;
-    out.k = props.k;
-    out.isentropic_discharge_temperature = Measured::derived(t1.value * t2s_over_t1, q_ideal);
-    let hs = zrt1 * (t2s_over_t1 - T::ONE) / m_k;
+    let t2_usable = t2.quality != Quality::Bad;
+    let cs = gas.compression(
+        p1.value,
+        t1.value,
+        p2.value,
+        ln_r,
+        if t2_usable { Some(t2.value) } else { None },
+        z_supplied,
+    );
+    out.gas_validity = cs.isentropic_validity;
+    if cs.isentropic_validity.quality == Quality::Bad {
+        out.condition = StageCondition::OutsideGasModel;
+        return;
+    }
+    let q_ideal = q_ideal.worst(cs.isentropic_validity.quality);
+    out.compressibility = cs.suction_z;
+    out.k = ln_r / (ln_r - cs.isentropic_ln_pv_ratio);
+    out.isentropic_discharge_temperature =
+        Measured::derived(cs.isentropic_temperature, q_ideal);
+    let hs = cs.isentropic_enthalpy_rise;
     out.isentropic_head = Measured::derived(hs, q_ideal);
-    let h_iso = isothermal_head(props.z, props.gas_constant, t1.value, ratio);
+    let h_iso = isothermal_head(cs.suction_z, gas.gas_constant(), t1.value, ratio);
     out.isothermal_head = Measured::derived(h_iso, q_ideal);
 
-    if t2.quality == Quality::Bad {
+    if !t2_usable {
         out.condition = StageCondition::InputBad;
         return;
     }
+    out.gas_validity = cs.validity;
+    if cs.validity.quality == Quality::Bad {
+        out.condition = StageCondition::OutsideGasModel;
+        return;
+    }
+    let q_all = q_all.worst(cs.validity.quality);
     let dt = t2.value - t1.value;
     if !(dt > T::ZERO) {
         out.condition = StageCondition::NoTemperatureRise;
         return;
     }
-    // sigma = (n-1)/n = ln(T2/T1)/ln(r); polytropic head along the measured
-    // path = Z·R·(T2 - T1)/sigma (no further exponential needed).
-    let sigma = T::ln(t2.value / t1.value) / ln_r;
-    let actual = props.z * props.cp * dt;
+    let actual = cs.enthalpy_rise;
     out.actual_work = Measured::derived(actual, q_all);
     let eta_s = hs / actual;
     out.isentropic_efficiency = efficiency(eta_s, q_all);
-    if sigma < T::ONE {
-        let hp = props.z * props.gas_constant * dt / sigma;
-        out.polytropic_head = Measured::derived(hp, q_all);
-        out.polytropic_exponent = Measured::derived(T::ONE / (T::ONE - sigma), q_all);
-        out.polytropic_efficiency = efficiency(m_k / sigma, q_all);
+    if let Some(poly) = schultz(&cs, ln_r) {
+        out.polytropic_method = poly.method;
+        out.polytropic_head = Measured::derived(poly.head, q_all);
+        out.polytropic_exponent = Measured::derived(poly.exponent, q_all);
+        out.polytropic_efficiency = efficiency(poly.efficiency, q_all);
     }
     out.condition = if eta_s > T::ONE {
         StageCondition::EfficiencyAboveOne

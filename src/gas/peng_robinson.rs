@@ -1,0 +1,503 @@
+//! Peng–Robinson equation of state for pure gases and mixtures.
+//!
+//! Sources:
+//! - D.-Y. Peng and D. B. Robinson, "A New Two-Constant Equation of State",
+//!   *Ind. Eng. Chem. Fundam.* 15 (1976) 59–64: P = RT/(v−b) − a(T)/(v² + 2bv
+//!   − b²), a = 0.45724 R²Tc²/Pc·α(T), b = 0.07780 R Tc/Pc,
+//!   α = (1 + κ(1 − √Tr))², κ = 0.37464 + 1.54226ω − 0.26992ω² (the exact
+//!   Ω_a = 0.457235529, Ω_b = 0.0777960739 are used), the cubic in Z and the
+//!   enthalpy and entropy departure functions.
+//! - van der Waals one-fluid mixing: a = ΣΣ yᵢyⱼ√(aᵢaⱼ)(1 − kᵢⱼ),
+//!   b = Σ yᵢbᵢ (same paper; Poling, Prausnitz & O'Connell, *The Properties
+//!   of Gases and Liquids*, 5th ed., ch. 5). With temperature-independent
+//!   kᵢⱼ the mixture a(T) is exactly a₀ − a₁√T + a₂T, so a state needs one
+//!   square root whatever the number of components; a₀, a₁, a₂ are computed
+//!   once per composition ([`PengRobinson::set_composition`]), outside the
+//!   scan path.
+//! - Residual cv and cp, speed of sound, X and Y from the standard
+//!   thermodynamic identities (Poling et al. ch. 4; Schultz 1962 for X and Y).
+//! - No Péneloux volume translation: it shifts v (and h by p·c) but leaves
+//!   every stage head, efficiency and entropy match unchanged except through
+//!   p·v, and the checked gas densities are within the stated bounds without
+//!   it (see README); dense-phase densities are flagged uncertain instead.
+//!
+//! Roots: Newton on the cubic from Z = 1 + B, an upper bound of the largest
+//! root (Z − B ≤ 1 for any PR root), converges monotonically to the largest
+//! (vapour-like) root, at most [`CUBIC_ITERATIONS`] steps. A root with
+//! v < 3.95·b (the PR critical v/b) is liquid-like: no vapour root, bad.
+//! When three real roots exist the fugacities of the largest and smallest
+//! decide whether the vapour is the stable phase (pseudo-pure one-fluid test
+//! for mixtures; no phase split on the device).
+
+use super::components::{binary_interaction, Component, CP0_T_MAX, CP0_T_MIN};
+use super::{
+    GasModel, GasState, PathProperties, Validity, ValidityReason, MOLAR_GAS_CONSTANT,
+    REFERENCE_PRESSURE, REFERENCE_TEMPERATURE,
+};
+use crate::error::ConfigError;
+use crate::quality::Quality;
+use crate::real::Real;
+
+/// Ω_a of Peng–Robinson (exact value of the critical-point condition).
+pub const OMEGA_A: f64 = 0.457_235_529;
+/// Ω_b of Peng–Robinson.
+pub const OMEGA_B: f64 = 0.077_796_073_9;
+/// Critical v/b of Peng–Robinson (Z_c/B_c = 0.307401/0.0777961): roots
+/// below it are liquid-like.
+pub const CRITICAL_VOLUME_RATIO: f64 = 3.951;
+/// Iteration cap of the cubic root.
+pub const CUBIC_ITERATIONS: usize = 24;
+/// Iteration cap of the entropy match.
+pub const ISENTROPIC_ITERATIONS: usize = 12;
+/// Tolerance on the sum of mole fractions.
+pub const FRACTION_SUM_TOLERANCE: f64 = 1.0e-4;
+/// Largest pressure of the model's declared range, Pa.
+pub const MAX_PRESSURE: f64 = 1.0e8;
+/// Near-critical band, pseudo-reduced (Kay's rule): temperature
+/// [`NEAR_CRITICAL_TR`] and pressure [`NEAR_CRITICAL_PR`]; uncertain inside.
+pub const NEAR_CRITICAL_TR: (f64, f64) = (0.93, 1.10);
+/// See [`NEAR_CRITICAL_TR`].
+pub const NEAR_CRITICAL_PR: (f64, f64) = (0.70, 1.60);
+/// Vapour fugacity within this margin (ln φ) of the liquid root's: near
+/// saturation, uncertain.
+pub const SATURATION_MARGIN: f64 = 0.05;
+
+const SQRT2: f64 = core::f64::consts::SQRT_2;
+
+/// A Peng–Robinson gas of up to `C` components with precomputed mixture
+/// constants. Construct with [`PengRobinson::new`]; replace the composition
+/// at run time with [`PengRobinson::set_composition`] (no allocation).
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct PengRobinson<T, const C: usize> {
+    components: [Component; C],
+    fractions: [T; C],
+    /// kg/mol
+    molar_mass: T,
+    /// J/(kg K)
+    gas_constant: T,
+    /// mol/kg
+    per_kg: T,
+    /// a(T) = a0 − a1·√T + a2·T, Pa m⁶/mol².
+    a: [T; 3],
+    /// m³/mol
+    b: T,
+    /// cp0 coefficients, J/(mol K).
+    cp0: [T; 4],
+    pseudo_critical_temperature: T,
+    pseudo_critical_pressure: T,
+}
+
+/// Intermediate results of one (p, T) evaluation, molar.
+#[derive(Clone, Copy)]
+struct Core<T> {
+    z: T,
+    /// J/mol
+    h: T,
+    /// J/(mol K)
+    s: T,
+    cp: T,
+    cv: T,
+    /// m³/mol
+    v: T,
+    /// (∂P/∂v)_T, Pa mol/m³
+    dp_dv: T,
+    /// (∂P/∂T)_v, Pa/K
+    dp_dt: T,
+    validity: Validity,
+}
+
+impl<T: Real, const C: usize> PengRobinson<T, C> {
+    /// A mixture of `components` with mole `fractions` (validated: each in
+    /// [0, 1] and finite, sum 1 within [`FRACTION_SUM_TOLERANCE`], no
+    /// component twice; the fractions are then normalised to sum 1).
+    pub fn new(components: [Component; C], fractions: [T; C]) -> Result<Self, ConfigError> {
+        const { assert!(C >= 1 && C <= 32, "1 to 32 components") };
+        for (i, ci) in components.iter().enumerate() {
+            if components.iter().take(i).any(|cj| cj.id == ci.id) {
+                return Err(ConfigError::Composition {
+                    component: u8::try_from(i).unwrap_or(u8::MAX),
+                });
+            }
+        }
+        let mut gas = PengRobinson {
+            components,
+            fractions,
+            molar_mass: T::ONE,
+            gas_constant: T::ONE,
+            per_kg: T::ONE,
+            a: [T::ZERO; 3],
+            b: T::ONE,
+            cp0: [T::ZERO; 4],
+            pseudo_critical_temperature: T::ONE,
+            pseudo_critical_pressure: T::ONE,
+        };
+        gas.set_composition(fractions)?;
+        Ok(gas)
+    }
+
+    /// A pure gas.
+    pub fn pure(component: Component) -> PengRobinson<T, 1> {
+        // One component with fraction 1 always validates; the fallback is
+        // never taken but keeps the path panic-free.
+        match PengRobinson::<T, 1>::new([component], [T::ONE]) {
+            Ok(g) => g,
+            Err(_) => PengRobinson {
+                components: [component],
+                fractions: [T::ONE],
+                molar_mass: T::ONE,
+                gas_constant: T::ONE,
+                per_kg: T::ONE,
+                a: [T::ZERO; 3],
+                b: T::ONE,
+                cp0: [T::ZERO; 4],
+                pseudo_critical_temperature: T::ONE,
+                pseudo_critical_pressure: T::ONE,
+            },
+        }
+    }
+
+    /// Replaces the mole fractions (same components, same order), e.g. after
+    /// a gas-chromatograph update, and recomputes the mixture constants
+    /// (O(C²), no allocation). On error the previous composition stays.
+    pub fn set_composition(&mut self, fractions: [T; C]) -> Result<(), ConfigError> {
+        let mut sum = 0.0;
+        for (i, y) in fractions.iter().enumerate() {
+            let y = y.to_f64();
+            if !(y.is_finite() && (0.0..=1.0).contains(&y)) {
+                return Err(ConfigError::Composition {
+                    component: u8::try_from(i).unwrap_or(u8::MAX),
+                });
+            }
+            sum += y;
+        }
+        if !((sum - 1.0).abs() <= FRACTION_SUM_TOLERANCE) {
+            return Err(ConfigError::Composition {
+                component: u8::try_from(C.saturating_sub(1)).unwrap_or(u8::MAX),
+            });
+        }
+        let y: [f64; C] = fractions.map(|f| f.to_f64() / sum);
+        let r = MOLAR_GAS_CONSTANT;
+        // √aᵢ(T) = Aᵢ − Bᵢ√T.
+        let ab: [(f64, f64); C] = self.components.map(|c| {
+            let tc = c.critical_temperature;
+            let ac = OMEGA_A * r * r * tc * tc / c.critical_pressure;
+            let w = c.acentric_factor;
+            let kappa = 0.37464 + 1.54226 * w - 0.26992 * w * w;
+            let sa = <f64 as Real>::sqrt(ac);
+            (sa * (1.0 + kappa), sa * kappa / <f64 as Real>::sqrt(tc))
+        });
+        let (mut a0, mut a1, mut a2, mut b, mut m, mut tpc, mut ppc) =
+            (0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0);
+        let mut cp0 = [0.0; 4];
+        for ((ci, &yi), &(ai, bi)) in self.components.iter().zip(y.iter()).zip(ab.iter()) {
+            for ((cj, &yj), &(aj, bj)) in self.components.iter().zip(y.iter()).zip(ab.iter()) {
+                let w = yi * yj * (1.0 - binary_interaction(ci.id, cj.id));
+                a0 += w * ai * aj;
+                a1 += w * (ai * bj + aj * bi);
+                a2 += w * bi * bj;
+            }
+            b += yi * OMEGA_B * r * ci.critical_temperature / ci.critical_pressure;
+            m += yi * ci.molar_mass * 1.0e-3;
+            tpc += yi * ci.critical_temperature;
+            ppc += yi * ci.critical_pressure;
+            for (acc, c) in cp0.iter_mut().zip(ci.cp0.iter()) {
+                *acc += yi * c;
+            }
+        }
+        self.fractions = y.map(T::of);
+        self.a = [T::of(a0), T::of(a1), T::of(a2)];
+        self.b = T::of(b);
+        self.molar_mass = T::of(m);
+        self.per_kg = T::of(1.0 / m);
+        self.gas_constant = T::of(r / m);
+        self.cp0 = cp0.map(T::of);
+        self.pseudo_critical_temperature = T::of(tpc);
+        self.pseudo_critical_pressure = T::of(ppc);
+        Ok(())
+    }
+
+    /// The components.
+    pub fn components(&self) -> &[Component; C] {
+        &self.components
+    }
+
+    /// The (normalised) mole fractions.
+    pub fn fractions(&self) -> &[T; C] {
+        &self.fractions
+    }
+
+    /// Molar mass, kg/kmol.
+    pub fn molar_mass(&self) -> T {
+        self.molar_mass * T::of(1.0e3)
+    }
+
+    /// Pseudo-critical temperature (K) and pressure (Pa), Kay's rule.
+    pub fn pseudo_critical(&self) -> (T, T) {
+        (self.pseudo_critical_temperature, self.pseudo_critical_pressure)
+    }
+
+    /// Schultz's compressibility functions at (p, t):
+    /// X = (T/v)(∂v/∂T)_p − 1 and Y = −(p/v)(∂v/∂p)_T.
+    pub fn compressibility_functions(&self, p: T, t: T) -> (T, T) {
+        let c = self.core(p, t);
+        let x = -t * c.dp_dt / (c.v * c.dp_dv) - T::ONE;
+        let y = -p / (c.v * c.dp_dv);
+        (x, y)
+    }
+
+    /// Ideal-gas cp0 (J/(mol K)) and the ideal-gas h (J/mol) and s at p0
+    /// (J/(mol K)) from the reference temperature.
+    #[inline]
+    fn ideal(&self, t: T) -> (T, T, T) {
+        let [c0, c1, c2, c3] = self.cp0;
+        let t0 = T::of(REFERENCE_TEMPERATURE);
+        let d = t - t0;
+        let sum = t + t0;
+        let sq = t * t + t0 * t0;
+        let cube = sq + t * t0;
+        let cp0 = c0 + t * (c1 + t * (c2 + t * c3));
+        let h = d
+            * (c0
+                + c1 * T::of(0.5) * sum
+                + c2 * T::of(1.0 / 3.0) * cube
+                + c3 * T::of(0.25) * sum * sq);
+        let s = c0 * T::ln(t / t0)
+            + d * (c1 + c2 * T::of(0.5) * sum + c3 * T::of(1.0 / 3.0) * cube);
+        (cp0, h, s)
+    }
+
+    fn core(&self, p: T, t: T) -> Core<T> {
+        let r = T::of(MOLAR_GAS_CONSTANT);
+        let invalid = Core {
+            z: T::ONE,
+            h: T::ZERO,
+            s: T::ZERO,
+            cp: T::ONE,
+            cv: T::ONE,
+            v: T::ONE,
+            dp_dv: -T::ONE,
+            dp_dt: T::ZERO,
+            validity: Validity::INVALID,
+        };
+        if !(T::is_finite(p) && T::is_finite(t) && p > T::ZERO && t > T::ZERO) {
+            return invalid;
+        }
+        let sqrt_t = T::sqrt(t);
+        let [a0, a1, a2] = self.a;
+        let a = a0 - a1 * sqrt_t + a2 * t;
+        let da = a2 - T::of(0.5) * a1 / sqrt_t;
+        let d2a = T::of(0.25) * a1 / (sqrt_t * t);
+        let b = self.b;
+        let rt = r * t;
+        let big_a = a * p / (rt * rt);
+        let big_b = b * p / rt;
+        // Z³ + c2 Z² + c1 Z + c0 = 0
+        let c2 = big_b - T::ONE;
+        let c1 = big_a - T::of(3.0) * big_b * big_b - T::of(2.0) * big_b;
+        let c0 = -(big_a * big_b - big_b * big_b - big_b * big_b * big_b);
+        let mut z = T::ONE + big_b;
+        let tol = T::of(16.0) * T::EPSILON;
+        let mut converged = false;
+        for _ in 0..CUBIC_ITERATIONS {
+            let f = ((z + c2) * z + c1) * z + c0;
+            let df = (T::of(3.0) * z + T::of(2.0) * c2) * z + c1;
+            let step = f / df;
+            if !T::is_finite(step) {
+                break;
+            }
+            z = z - step;
+            if T::abs(step) <= tol * z {
+                converged = true;
+                break;
+            }
+        }
+        if !(T::is_finite(z) && z > big_b) {
+            return invalid;
+        }
+        let mut validity = if converged {
+            Validity::IN_RANGE
+        } else {
+            Validity::uncertain(ValidityReason::NotConverged)
+        };
+        let s2 = T::of(SQRT2);
+        let log_term = |zz: T| {
+            T::ln((zz + (T::ONE + s2) * big_b) / (zz + (T::ONE - s2) * big_b))
+        };
+        let l = log_term(z);
+        if z < T::of(CRITICAL_VOLUME_RATIO) * big_b {
+            validity = Validity::bad(ValidityReason::NoVapourRoot);
+        } else {
+            // Other real roots: deflate to Z² + q1 Z + q0.
+            let q1 = c2 + z;
+            let q0 = c1 + z * q1;
+            let disc = q1 * q1 - T::of(4.0) * q0;
+            if disc > T::ZERO {
+                let zl = T::of(0.5) * (-q1 - T::sqrt(disc));
+                if zl > big_b {
+                    let k = big_a / (T::of(2.0) * s2 * big_b);
+                    let ln_phi =
+                        |zz: T, ll: T| zz - T::ONE - T::ln(zz - big_b) - k * ll;
+                    let margin = ln_phi(z, l) - ln_phi(zl, log_term(zl));
+                    if margin > T::ZERO {
+                        validity = Validity::bad(ValidityReason::NoVapourRoot);
+                    } else if margin > -T::of(SATURATION_MARGIN) {
+                        validity =
+                            validity.worst(Validity::uncertain(ValidityReason::NearSaturation));
+                    }
+                }
+            }
+        }
+        let tr = t / self.pseudo_critical_temperature;
+        let pr = p / self.pseudo_critical_pressure;
+        if tr > T::of(NEAR_CRITICAL_TR.0)
+            && tr < T::of(NEAR_CRITICAL_TR.1)
+            && pr > T::of(NEAR_CRITICAL_PR.0)
+            && pr < T::of(NEAR_CRITICAL_PR.1)
+        {
+            validity = validity.worst(Validity::uncertain(ValidityReason::NearCritical));
+        }
+        if t < T::of(CP0_T_MIN) || t > T::of(CP0_T_MAX) {
+            validity = validity.worst(Validity::uncertain(ValidityReason::TemperatureOutOfRange));
+        }
+        if p > T::of(MAX_PRESSURE) {
+            validity = validity.worst(Validity::uncertain(ValidityReason::PressureOutOfRange));
+        }
+
+        let (cp0, h0, s0) = self.ideal(t);
+        let k = l / (T::of(2.0) * s2 * b);
+        let v = z * rt / p;
+        let h = h0 + rt * (z - T::ONE) + (t * da - a) * k;
+        let s = s0 + r * T::ln((z - big_b) * T::of(REFERENCE_PRESSURE) / p) + da * k;
+        let cv = cp0 - r + t * d2a * k;
+        let vb = v - b;
+        let den = v * v + T::of(2.0) * b * v - b * b;
+        let dp_dt = r / vb - da / den;
+        let dp_dv = -rt / (vb * vb) + T::of(2.0) * a * (v + b) / (den * den);
+        let cp = cv - t * dp_dt * dp_dt / dp_dv;
+        Core {
+            z,
+            h,
+            s,
+            cp,
+            cv,
+            v,
+            dp_dv,
+            dp_dt,
+            validity,
+        }
+    }
+
+    fn to_state(&self, p: T, t: T, c: &Core<T>) -> GasState<T> {
+        if c.validity == Validity::INVALID {
+            return GasState::invalid(p, t);
+        }
+        let w2 = -(c.v * c.v / self.molar_mass) * (c.cp / c.cv) * c.dp_dv;
+        let out = GasState {
+            pressure: p,
+            temperature: t,
+            z: c.z,
+            volume: c.v / self.molar_mass,
+            enthalpy: c.h * self.per_kg,
+            entropy: c.s * self.per_kg,
+            cp: c.cp * self.per_kg,
+            speed_of_sound: T::sqrt(T::max(w2, T::ZERO)),
+            validity: c.validity,
+        };
+        let finite = T::is_finite(out.enthalpy)
+            && T::is_finite(out.entropy)
+            && T::is_finite(out.cp)
+            && T::is_finite(out.speed_of_sound)
+            && out.cp > T::ZERO;
+        if finite {
+            out
+        } else {
+            GasState::invalid(p, t)
+        }
+    }
+}
+
+impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
+    #[inline]
+    fn gas_constant(&self) -> T {
+        self.gas_constant
+    }
+
+    /// Ideal-gas cp0 averaged over the two ends, k = cp0/(cp0 − R), and the
+    /// mean of the two ends' Z from the equation of state.
+    fn path(&self, p1: T, t1: T, p2: T, t2: T, _z_supplied: Option<T>) -> PathProperties<T> {
+        let cp = T::of(0.5) * (self.ideal(t1).0 + self.ideal(t2).0) * self.per_kg;
+        let z = T::of(0.5) * (self.core(p1, t1).z + self.core(p2, t2).z);
+        PathProperties {
+            gas_constant: self.gas_constant,
+            k: cp / (cp - self.gas_constant),
+            cp,
+            z,
+        }
+    }
+
+    fn state(&self, p: T, t: T, _z_supplied: Option<T>) -> GasState<T> {
+        let c = self.core(p, t);
+        self.to_state(p, t, &c)
+    }
+
+    /// Newton on T with (∂s/∂T)_p = cp/T from T1·(p2/p1)^(Z·R/cp), steps
+    /// limited to ±20 %, bisection inside the bracket the iterates have
+    /// established whenever a step leaves it; at most
+    /// [`ISENTROPIC_ITERATIONS`], else uncertain (not converged).
+    fn isentropic_state(&self, inlet: &GasState<T>, p2: T, _z_supplied: Option<T>) -> GasState<T> {
+        if inlet.validity.quality == Quality::Bad {
+            return GasState::invalid(p2, inlet.temperature);
+        }
+        let t1 = inlet.temperature;
+        let ln_r = T::ln(p2 / inlet.pressure);
+        let m = inlet.z * self.gas_constant / inlet.cp;
+        let mut t = t1 * T::exp(m * ln_r);
+        let (mut lo, mut hi) = (t1 * T::of(0.3), t1 * T::of(4.0));
+        let tol = T::of(64.0) * T::EPSILON;
+        let mut converged = false;
+        let mut c = self.core(p2, t);
+        for _ in 0..ISENTROPIC_ITERATIONS {
+            let target = inlet.entropy * self.molar_mass;
+            let ds = target - c.s;
+            if ds > T::ZERO {
+                lo = T::max(lo, t);
+            } else {
+                hi = T::min(hi, t);
+            }
+            let step = ds * t / c.cp;
+            let mut next = t + T::clamp(step, -t * T::of(0.2), t * T::of(0.2));
+            if !(T::is_finite(next) && next > lo && next < hi) {
+                next = T::of(0.5) * (lo + hi);
+            }
+            let done = T::abs(next - t) <= tol * t;
+            t = next;
+            c = self.core(p2, t);
+            if done {
+                converged = true;
+                break;
+            }
+        }
+        let mut out = self.to_state(p2, t, &c);
+        if !converged {
+            out.validity = out
+                .validity
+                .worst(Validity::uncertain(ValidityReason::NotConverged));
+        }
+        out
+    }
+
+    fn dense_density(&self, p: T, t: T) -> Option<(T, Validity)> {
+        let c = self.core(p, t);
+        if c.validity == Validity::INVALID {
+            return Some((T::ZERO, Validity::INVALID));
+        }
+        // PR liquid-like densities carry errors of several per cent without
+        // volume translation: never better than uncertain.
+        let validity = match c.validity.reason {
+            ValidityReason::NoVapourRoot => Validity::uncertain(ValidityReason::DenseEstimate),
+            _ => c.validity.worst(Validity::uncertain(ValidityReason::DenseEstimate)),
+        };
+        Some((self.molar_mass / c.v, validity))
+    }
+}
