@@ -7,12 +7,12 @@
 //! an interval is the exact integral of the cp polynomial divided by the
 //! interval.
 
-use crate::compression::isentropic_exponent_term;
 use super::{
     builtin::GasSpec, CompressionStates, GasModel, GasState, PathProperties, Validity,
     ValidityReason, MOLAR_GAS_CONSTANT, REFERENCE_PRESSURE, REFERENCE_TEMPERATURE,
 };
-use crate::error::ConfigError;
+use crate::compression::isentropic_exponent_term;
+use crate::error::{check_positive, ConfigError, Problem};
 use crate::real::Real;
 
 /// Largest value of Pr/Tr³ (reduced pressure over the cube of the reduced
@@ -70,23 +70,33 @@ impl<T: Real> IdealGas<T> {
         heat_capacity: HeatCapacity<T>,
         compressibility: T,
     ) -> Result<Self, ConfigError> {
-        if !(T::is_finite(molar_mass) && molar_mass > T::ZERO) {
-            return Err(ConfigError::MolarMass);
-        }
+        check_positive("gas.molar_mass", molar_mass)?;
         if !(T::is_finite(compressibility)
             && compressibility > T::ZERO
             && compressibility <= T::of(2.0))
         {
-            return Err(ConfigError::Compressibility);
+            return Err(if T::is_finite(compressibility) {
+                ConfigError::out_of_range("gas.compressibility", 0.0, 2.0)
+            } else {
+                ConfigError::not_finite("gas.compressibility")
+            });
         }
         let gas_constant = T::of(MOLAR_GAS_CONSTANT * 1.0e3) / molar_mass;
         if !T::is_finite(gas_constant) {
-            return Err(ConfigError::MolarMass);
+            return Err(ConfigError::out_of_range(
+                "gas.molar_mass",
+                0.0,
+                f64::INFINITY,
+            ));
         }
         let heat_capacity = match heat_capacity {
             HeatCapacity::ConstantK(k) => {
                 if !(T::is_finite(k) && k > T::ONE && k < T::of(3.0)) {
-                    return Err(ConfigError::HeatCapacityRatio);
+                    return Err(if T::is_finite(k) {
+                        ConfigError::out_of_range("gas.k", 1.0, 3.0)
+                    } else {
+                        ConfigError::not_finite("gas.k")
+                    });
                 }
                 HeatCapacity::ConstantK(k)
             }
@@ -99,7 +109,12 @@ impl<T: Real> IdealGas<T> {
                 let c = coefficients.map(|c| c * per_kg);
                 if !(T::is_finite(t_min) && T::is_finite(t_max) && t_min > T::ZERO && t_max > t_min)
                 {
-                    return Err(ConfigError::HeatCapacityPolynomial);
+                    return Err(ConfigError::new(
+                        "gas.cp_polynomial.t_max",
+                        Problem::NotAbove {
+                            other: "gas.cp_polynomial.t_min",
+                        },
+                    ));
                 }
                 // cp must exceed R (k > 1) and stay finite across the range.
                 let steps = 32;
@@ -109,7 +124,12 @@ impl<T: Real> IdealGas<T> {
                     let k = cp / (cp - gas_constant);
                     if !(T::is_finite(cp) && T::is_finite(k) && cp > gas_constant && k < T::of(3.0))
                     {
-                        return Err(ConfigError::HeatCapacityPolynomial);
+                        return Err(ConfigError::new(
+                            "gas.cp_polynomial.coefficients",
+                            Problem::NotAbove {
+                                other: "gas constant R (cp must exceed R)",
+                            },
+                        ));
                     }
                 }
                 HeatCapacity::Polynomial {
@@ -134,13 +154,8 @@ impl<T: Real> IdealGas<T> {
         critical_temperature: T,
         critical_pressure: T,
     ) -> Result<Self, ConfigError> {
-        if !(T::is_finite(critical_pressure) && critical_pressure > T::ZERO) {
-            return Err(ConfigError::CriticalPressure);
-        }
-        if !(T::is_finite(critical_temperature) && critical_temperature > T::ZERO) {
-            return Err(ConfigError::CriticalPressure);
-        }
-        let tc = critical_temperature;
+        let critical_pressure = check_positive("gas.critical_pressure", critical_pressure)?;
+        let tc = check_positive("gas.critical_temperature", critical_temperature)?;
         self.reduced_limit =
             tc * tc * tc / (critical_pressure * T::of(IDEAL_GAS_MAX_REDUCED_PRESSURE));
         Ok(self)
@@ -429,31 +444,39 @@ mod tests {
         let k = HeatCapacity::ConstantK(1.4);
         assert_eq!(
             IdealGas::<f64>::new(0.0, k, 1.0),
-            Err(ConfigError::MolarMass)
+            Err(ConfigError::out_of_range(
+                "gas.molar_mass",
+                0.0,
+                f64::INFINITY
+            ))
         );
         assert_eq!(
             IdealGas::<f64>::new(-28.0, k, 1.0),
-            Err(ConfigError::MolarMass)
+            Err(ConfigError::out_of_range(
+                "gas.molar_mass",
+                0.0,
+                f64::INFINITY
+            ))
         );
         assert_eq!(
             IdealGas::<f64>::new(f64::NAN, k, 1.0),
-            Err(ConfigError::MolarMass)
+            Err(ConfigError::not_finite("gas.molar_mass"))
         );
         assert_eq!(
             IdealGas::<f64>::new(28.0, HeatCapacity::ConstantK(1.0), 1.0),
-            Err(ConfigError::HeatCapacityRatio)
+            Err(ConfigError::out_of_range("gas.k", 1.0, 3.0))
         );
         assert_eq!(
             IdealGas::<f64>::new(28.0, HeatCapacity::ConstantK(0.9), 1.0),
-            Err(ConfigError::HeatCapacityRatio)
+            Err(ConfigError::out_of_range("gas.k", 1.0, 3.0))
         );
         assert_eq!(
             IdealGas::<f64>::new(28.0, k, 0.0),
-            Err(ConfigError::Compressibility)
+            Err(ConfigError::out_of_range("gas.compressibility", 0.0, 2.0))
         );
         assert_eq!(
             IdealGas::<f64>::new(28.0, k, f64::INFINITY),
-            Err(ConfigError::Compressibility)
+            Err(ConfigError::not_finite("gas.compressibility"))
         );
         let bad_poly = HeatCapacity::Polynomial {
             coefficients: [1.0, 0.0, 0.0, 0.0],
@@ -462,7 +485,12 @@ mod tests {
         };
         assert_eq!(
             IdealGas::<f64>::new(28.0, bad_poly, 1.0),
-            Err(ConfigError::HeatCapacityPolynomial)
+            Err(ConfigError::new(
+                "gas.cp_polynomial.coefficients",
+                Problem::NotAbove {
+                    other: "gas constant R (cp must exceed R)"
+                }
+            ))
         );
     }
 

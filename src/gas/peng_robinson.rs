@@ -34,7 +34,7 @@ use super::{
     GasModel, GasState, PathProperties, Validity, ValidityReason, MOLAR_GAS_CONSTANT,
     REFERENCE_PRESSURE, REFERENCE_TEMPERATURE,
 };
-use crate::error::ConfigError;
+use crate::error::{ConfigError, Problem};
 use crate::quality::Quality;
 use crate::real::Real;
 
@@ -115,9 +115,13 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         const { assert!(C >= 1 && C <= 32, "1 to 32 components") };
         for (i, ci) in components.iter().enumerate() {
             if components.iter().take(i).any(|cj| cj.id == ci.id) {
-                return Err(ConfigError::Composition {
-                    component: u8::try_from(i).unwrap_or(u8::MAX),
-                });
+                return Err(ConfigError::new(
+                    "gas.composition.component",
+                    Problem::Inconsistent {
+                        with: "gas.composition.component",
+                    },
+                )
+                .at(i));
             }
         }
         let mut gas = PengRobinson {
@@ -164,17 +168,21 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         let mut sum = 0.0;
         for (i, y) in fractions.iter().enumerate() {
             let y = y.to_f64();
-            if !(y.is_finite() && (0.0..=1.0).contains(&y)) {
-                return Err(ConfigError::Composition {
-                    component: u8::try_from(i).unwrap_or(u8::MAX),
-                });
+            if !y.is_finite() {
+                return Err(ConfigError::not_finite("gas.composition.fraction").at(i));
+            }
+            if !(0.0..=1.0).contains(&y) {
+                return Err(ConfigError::out_of_range("gas.composition.fraction", 0.0, 1.0).at(i));
             }
             sum += y;
         }
         if !((sum - 1.0).abs() <= FRACTION_SUM_TOLERANCE) {
-            return Err(ConfigError::Composition {
-                component: u8::try_from(C.saturating_sub(1)).unwrap_or(u8::MAX),
-            });
+            // The sum is the problem, not one entry: no index.
+            return Err(ConfigError::out_of_range(
+                "gas.composition.fraction_sum",
+                1.0 - FRACTION_SUM_TOLERANCE,
+                1.0 + FRACTION_SUM_TOLERANCE,
+            ));
         }
         let y: [f64; C] = fractions.map(|f| f.to_f64() / sum);
         let r = MOLAR_GAS_CONSTANT;
