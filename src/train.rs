@@ -442,12 +442,15 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             let tout = temperature_k(raw.gas_outlet_temperature);
             // Enthalpy drop on the stage's basis (same model, same supplied
             // Z), so stage power and cooler duty balance.
-            let z = compressibility(scan.stages.get(i).and_then(|s| s.compressibility))
-                .map(|(z, _)| z);
-            let (drop, validity) =
-                self.config
-                    .gas
-                    .enthalpy_drop(s.p2.value, s.t2.value, gas_out_p.value, tout.value, z);
+            let z =
+                compressibility(scan.stages.get(i).and_then(|s| s.compressibility)).map(|(z, _)| z);
+            let (drop, validity) = self.config.gas.enthalpy_drop(
+                s.p2.value,
+                s.t2.value,
+                gas_out_p.value,
+                tout.value,
+                z,
+            );
             let gas_enthalpy_drop = Measured::derived(drop, validity.quality);
             let inputs = CoolerInputs {
                 gas_inlet_temperature: s.t2,

@@ -93,41 +93,113 @@ const fn c(
 use ComponentId as I;
 
 /// Nitrogen (cp0 fit error 0.06 %).
-pub const NITROGEN: Component = c(I::Nitrogen, 28.013480, 126.192, 3_395_800.4, 0.0372,
-    [2.9738505e+01, -4.5083240e-03, 7.7112469e-06, 1.3560350e-09]);
+pub const NITROGEN: Component = c(
+    I::Nitrogen,
+    28.013480,
+    126.192,
+    3_395_800.4,
+    0.0372,
+    [2.9738505e+01, -4.5083240e-03, 7.7112469e-06, 1.3560350e-09],
+);
 /// Oxygen (cp0 fit error 0.04 %).
-pub const OXYGEN: Component = c(I::Oxygen, 31.998800, 154.59939, 5_046_410.5, 0.0222,
-    [3.1132659e+01, -2.0260991e-02, 5.9808087e-05, -3.8921518e-08]);
+pub const OXYGEN: Component = c(
+    I::Oxygen,
+    31.998800,
+    154.59939,
+    5_046_410.5,
+    0.0222,
+    [3.1132659e+01, -2.0260991e-02, 5.9808087e-05, -3.8921518e-08],
+);
 /// Argon (cp0 = 5R/2, exact).
-pub const ARGON: Component = c(I::Argon, 39.948000, 150.687, 4_863_000.5, -0.00219,
-    [2.0786275e+01, 0.0, 0.0, 0.0]);
+pub const ARGON: Component = c(
+    I::Argon,
+    39.948000,
+    150.687,
+    4_863_000.5,
+    -0.00219,
+    [2.0786275e+01, 0.0, 0.0, 0.0],
+);
 /// Methane (cp0 fit error 0.25 %).
-pub const METHANE: Component = c(I::Methane, 16.042800, 190.564003, 4_599_200.5, 0.01142,
-    [3.9833330e+01, -8.0962010e-02, 2.8046616e-04, -1.8371110e-07]);
+pub const METHANE: Component = c(
+    I::Methane,
+    16.042800,
+    190.564003,
+    4_599_200.5,
+    0.01142,
+    [3.9833330e+01, -8.0962010e-02, 2.8046616e-04, -1.8371110e-07],
+);
 /// Ethane (cp0 fit error 0.36 %).
-pub const ETHANE: Component = c(I::Ethane, 30.069040, 305.322, 4_872_200.0, 0.099,
-    [2.9653543e+01, 1.3480441e-02, 2.8144042e-04, -2.3052200e-07]);
+pub const ETHANE: Component = c(
+    I::Ethane,
+    30.069040,
+    305.322,
+    4_872_200.0,
+    0.099,
+    [2.9653543e+01, 1.3480441e-02, 2.8144042e-04, -2.3052200e-07],
+);
 /// Propane (cp0 fit error 0.40 %).
-pub const PROPANE: Component = c(I::Propane, 44.095620, 369.890009, 4_251_165.3, 0.1521,
-    [2.7381962e+01, 8.9921318e-02, 3.0238863e-04, -2.8581189e-07]);
+pub const PROPANE: Component = c(
+    I::Propane,
+    44.095620,
+    369.890009,
+    4_251_165.3,
+    0.1521,
+    [2.7381962e+01, 8.9921318e-02, 3.0238863e-04, -2.8581189e-07],
+);
 /// n-Butane (cp0 fit error 0.47 %).
-pub const N_BUTANE: Component = c(I::NButane, 58.122200, 425.125, 3_796_000.0, 0.20081,
-    [4.0004867e+01, 1.0862079e-01, 4.1250159e-04, -3.8975875e-07]);
+pub const N_BUTANE: Component = c(
+    I::NButane,
+    58.122200,
+    425.125,
+    3_796_000.0,
+    0.20081,
+    [4.0004867e+01, 1.0862079e-01, 4.1250159e-04, -3.8975875e-07],
+);
 /// Isobutane (cp0 fit error 0.39 %).
-pub const ISO_BUTANE: Component = c(I::IsoButane, 58.122200, 407.81, 3_629_000.0, 0.183532,
-    [2.7508012e+01, 1.6381969e-01, 3.3571244e-04, -3.5231634e-07]);
+pub const ISO_BUTANE: Component = c(
+    I::IsoButane,
+    58.122200,
+    407.81,
+    3_629_000.0,
+    0.183532,
+    [2.7508012e+01, 1.6381969e-01, 3.3571244e-04, -3.5231634e-07],
+);
 /// Carbon dioxide (cp0 fit error 0.08 %).
-pub const CARBON_DIOXIDE: Component = c(I::CarbonDioxide, 44.009800, 304.1282, 7_377_298.4, 0.22394,
-    [1.8626661e+01, 8.1144024e-02, -7.1949738e-05, 2.7402641e-08]);
+pub const CARBON_DIOXIDE: Component = c(
+    I::CarbonDioxide,
+    44.009800,
+    304.1282,
+    7_377_298.4,
+    0.22394,
+    [1.8626661e+01, 8.1144024e-02, -7.1949738e-05, 2.7402641e-08],
+);
 /// Hydrogen sulfide (cp0 fit error 0.09 %).
-pub const HYDROGEN_SULFIDE: Component = c(I::HydrogenSulfide, 34.080880, 373.100875, 8_998_871.6, 0.1005,
-    [3.4026665e+01, -1.3807487e-02, 5.7831310e-05, -3.4903058e-08]);
+pub const HYDROGEN_SULFIDE: Component = c(
+    I::HydrogenSulfide,
+    34.080880,
+    373.100875,
+    8_998_871.6,
+    0.1005,
+    [3.4026665e+01, -1.3807487e-02, 5.7831310e-05, -3.4903058e-08],
+);
 /// Normal hydrogen (cp0 fit error 0.33 %).
-pub const HYDROGEN: Component = c(I::Hydrogen, 2.015880, 33.144333, 1_296_357.6, -0.219,
-    [2.1427634e+01, 4.7564718e-02, -9.5879944e-05, 6.4135626e-08]);
+pub const HYDROGEN: Component = c(
+    I::Hydrogen,
+    2.015880,
+    33.144333,
+    1_296_357.6,
+    -0.219,
+    [2.1427634e+01, 4.7564718e-02, -9.5879944e-05, 6.4135626e-08],
+);
 /// Water vapour (cp0 fit error 0.03 %).
-pub const WATER: Component = c(I::Water, 18.015268, 647.096, 22_064_000.0, 0.344292,
-    [3.4884902e+01, -1.5509235e-02, 4.4909155e-05, -2.5075436e-08]);
+pub const WATER: Component = c(
+    I::Water,
+    18.015268,
+    647.096,
+    22_064_000.0,
+    0.344292,
+    [3.4884902e+01, -1.5509235e-02, 4.4909155e-05, -2.5075436e-08],
+);
 
 /// Every component, in [`ComponentId`] order.
 pub const COMPONENTS: [Component; 12] = [

@@ -219,11 +219,10 @@ impl<T: Real> IdealGas<T> {
         } else {
             HeatCapacity::ConstantK(T::of(spec.k))
         };
-        Self::new(T::of(spec.molar_mass), hc, compressibility)?
-            .with_critical_point(
-                T::of(spec.critical_temperature),
-                T::of(spec.critical_pressure),
-            )
+        Self::new(T::of(spec.molar_mass), hc, compressibility)?.with_critical_point(
+            T::of(spec.critical_temperature),
+            T::of(spec.critical_pressure),
+        )
     }
 
     /// Mean compressibility factor used when none is supplied per scan.
