@@ -57,6 +57,7 @@ work, out_md = sys.argv[1], sys.argv[2]
 targets = [("thumbv7em-none-eabihf", "Cortex-M4F", 120), ("thumbv6m-none-eabi", "Cortex-M0", 48)]
 labels_doc = {
     "compressor_stage": "one compressor stage (ideal gas with Z)",
+    "compressor_stage_peng_robinson": "one compressor stage, Peng–Robinson 5-component natural gas (two states, entropy match, Schultz)",
     "intercooler": "one intercooler",
     "pump_stage": "one pump stage",
     "update_4_stages_3_intercoolers": "**full update, 4 stages + 3 intercoolers**",

@@ -139,7 +139,7 @@ pub fn path_discharge_temperature<T: Real, G: GasModel<T>>(
             if !T::is_finite(dt) {
                 return None;
             }
-            t = t + dt;
+            t += dt;
             next = gas.state(p_next, t, None);
             if T::abs(dt) <= T::of(1e-6) * t {
                 break;
@@ -157,6 +157,7 @@ pub fn path_discharge_temperature<T: Real, G: GasModel<T>>(
 /// The reference path: the constant polytropic efficiency whose path from
 /// (p1, t1) ends at (p2, t2), by the secant method from `start` (at most 12
 /// iterations); Hp = η·(h2 − h1).
+#[allow(clippy::too_many_arguments)]
 pub fn reference_path<T: Real, G: GasModel<T>>(
     gas: &G,
     cs: &CompressionStates<T>,

@@ -12,6 +12,12 @@
 //! `--nocapture`; the README quotes them), not targets: Peng–Robinson
 //! without volume translation is a few per cent off in Z near the critical
 //! region and for hydrogen.
+#![allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing
+)]
 
 use polytrope::gas::components::{
     ARGON, CARBON_DIOXIDE, ETHANE, HYDROGEN, METHANE, NITROGEN, OXYGEN, PROPANE,

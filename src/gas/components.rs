@@ -273,9 +273,7 @@ pub fn binary_interaction(a: ComponentId, b: ComponentId) -> f64 {
         0.03
     } else if pair(Nitrogen, Ethane) {
         0.05
-    } else if pair(Nitrogen, Propane) {
-        0.08
-    } else if pair(Methane, HydrogenSulfide) {
+    } else if pair(Nitrogen, Propane) || pair(Methane, HydrogenSulfide) {
         0.08
     } else if pair(CarbonDioxide, HydrogenSulfide) {
         0.10

@@ -400,7 +400,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         }
     }
 
-    fn to_state(&self, p: T, t: T, c: &Core<T>) -> GasState<T> {
+    fn make_state(&self, p: T, t: T, c: &Core<T>) -> GasState<T> {
         if c.validity == Validity::INVALID {
             return GasState::invalid(p, t);
         }
@@ -450,7 +450,7 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
 
     fn state(&self, p: T, t: T, _z_supplied: Option<T>) -> GasState<T> {
         let c = self.core(p, t);
-        self.to_state(p, t, &c)
+        self.make_state(p, t, &c)
     }
 
     /// Newton on T with (∂s/∂T)_p = cp/T from T1·(p2/p1)^(Z·R/cp), steps
@@ -490,7 +490,7 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
                 break;
             }
         }
-        let mut out = self.to_state(p2, t, &c);
+        let mut out = self.make_state(p2, t, &c);
         if !converged {
             out.validity = out
                 .validity

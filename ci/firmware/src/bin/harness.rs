@@ -20,7 +20,8 @@ use cortex_m_semihosting::{debug, hio};
 use heapless::String;
 use polytrope::cooler::{evaluate_cooler_into, CoolerInputs, CoolerResult};
 use polytrope::demo::{self, DemoTrain};
-use polytrope::gas::{GasModel, IdealGas};
+use polytrope::gas::components::{CARBON_DIOXIDE, ETHANE, METHANE, NITROGEN, PROPANE};
+use polytrope::gas::{GasModel, IdealGas, PengRobinson};
 use polytrope::quality::{Measured, Quality};
 use polytrope::scan::Scan;
 use polytrope::stage::{
@@ -211,6 +212,29 @@ fn main() -> ! {
     measure(r, || evaluate_compressor_into(gas_ref, &inputs, &mut res));
     black_box(&res);
 
+    // One Peng-Robinson stage: a 5-component natural gas (invented
+    // composition), both measured states, the entropy-matched isentropic
+    // state, heads and the default (Schultz) polytropic method.
+    let Ok(pr) = PengRobinson::<f32, 5>::new(
+        [METHANE, ETHANE, PROPANE, NITROGEN, CARBON_DIOXIDE],
+        [0.90, 0.05, 0.02, 0.01, 0.02],
+    ) else {
+        fail(&mut h, "peng-robinson gas");
+    };
+    let pr_inputs = black_box(CompressorInputs {
+        suction_pressure: g(10.0e5),
+        suction_temperature: g(300.0),
+        discharge_pressure: g(25.0e5),
+        discharge_temperature: g(383.3),
+        mass_flow: g(11.5),
+        compressibility: None,
+    });
+    let pr_ref = black_box(&pr);
+    let r = label(&mut h, "compressor_stage_peng_robinson");
+    let mut pr_res = CompressorResult::bad();
+    measure(r, || evaluate_compressor_into(pr_ref, &pr_inputs, &mut pr_res));
+    black_box(&pr_res);
+
     let s0 = &scan.stages[0];
     let Some(c0) = s0.cooler else {
         fail(&mut h, "scan without cooler");
@@ -219,7 +243,7 @@ fn main() -> ! {
     let tout = c0.gas_outlet_temperature.value.kelvin();
     let p2 = s0.discharge_pressure.value.pa();
     let p_next = scan.stages[1].suction_pressure.value.pa();
-    let cp = gas.path(p2, t2, p_next, tout, None).cp;
+    let (drop, drop_validity) = gas.enthalpy_drop(p2, t2, p_next, tout, Some(0.97));
     let cooler_inputs = black_box(CoolerInputs {
         gas_inlet_temperature: g(t2),
         gas_outlet_temperature: g(tout),
@@ -231,7 +255,7 @@ fn main() -> ! {
         gas_outlet_pressure: g(p_next),
         gas_mass_flow: g(11.5),
         coolant_mass_flow: c0.coolant_mass_flow.unwrap_or(Measured::bad()),
-        gas_cp: cp,
+        gas_enthalpy_drop: Measured::new(drop, drop_validity.quality),
         coolant_cp: 4180.0,
     });
     let r = label(&mut h, "intercooler");
