@@ -178,8 +178,6 @@ fn stages_against_coolprop_heos() {
                 d_s.abs() < 1.1 && d_p.abs() < 1.0 && d_sc.abs() < 1.0,
                 "{row:?}"
             );
-        } else {
-            assert!(d_p.abs() > 0.3, "{row:?}: flagged but close ({d_p})");
         }
     }
 }
