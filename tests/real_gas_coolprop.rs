@@ -420,3 +420,55 @@ fn composition_is_validated_and_replaceable() {
     );
     assert!(Component::by_name("isobutane").is_some() && Component::by_name("xenon").is_none());
 }
+
+/// The entropy match (bounded Newton with a first-order last step) against a
+/// converged bisection on the model's own entropy: a consistency check of
+/// the solver, not of the equation of state.
+#[test]
+fn entropy_match_against_bisection() {
+    let mut worst = 0.0_f64;
+    for name in [
+        "methane",
+        "natural-gas-5",
+        "carbon-dioxide",
+        "hydrogen",
+        "air",
+    ] {
+        let g = gas(name);
+        for (p1, t1, r) in [
+            (1e5, 300.0, 3.0),
+            (10e5, 300.0, 2.5),
+            (40e5, 320.0, 2.0),
+            (20e5, 290.0, 4.0),
+        ] {
+            let s1 = g.state(p1, t1, None);
+            if s1.validity.quality == Quality::Bad {
+                continue;
+            }
+            let p2 = p1 * r;
+            let (mut lo, mut hi) = (t1, t1 * 3.0);
+            for _ in 0..200 {
+                let mid = 0.5 * (lo + hi);
+                if g.state(p2, mid, None).entropy < s1.entropy {
+                    lo = mid;
+                } else {
+                    hi = mid;
+                }
+            }
+            let cs = g.compression(p1, t1, p2, r.ln(), None, None);
+            let iso = g.isentropic_state(&s1, p2, None);
+            worst = worst
+                .max((cs.isentropic_temperature - lo).abs())
+                .max((iso.temperature - lo).abs());
+            let dh = g.state(p2, lo, None).enthalpy - s1.enthalpy;
+            assert!(
+                (cs.isentropic_enthalpy_rise / dh - 1.0).abs() < 1e-4,
+                "{name} {p1} {t1} {r}: T2s {} vs {lo}, dh {} vs {dh}",
+                cs.isentropic_temperature,
+                cs.isentropic_enthalpy_rise
+            );
+        }
+    }
+    println!("entropy match vs bisection: largest |dT2s| = {worst:.2e} K");
+    assert!(worst < 0.01, "{worst}");
+}
