@@ -60,8 +60,9 @@ labels_doc = {
     "compressor_stage_peng_robinson": "one compressor stage, Peng–Robinson 5-component natural gas (two states, entropy match, Schultz)",
     "intercooler": "one intercooler",
     "pump_stage": "one pump stage",
-    "update_4_stages_3_intercoolers": "**full update, 4 stages + 3 intercoolers**",
-    "update_demo_5_stages": "full update, demo train (4 compressors, 3 intercoolers, aftercooler, pump)",
+    "update_4_stages_3_intercoolers": "**full update, 4 stages + 3 intercoolers** (ideal gas, CO2 with constant k)",
+    "update_4_stages_3_intercoolers_peng_robinson": "**full update, 4 stages + 3 intercoolers, Peng–Robinson CO2**",
+    "update_demo_5_stages": "full update, demo train (Peng–Robinson CO2: 4 compressors, 3 intercoolers, aftercooler, pump)",
     "train_new_demo_5_stages": "`Train::new` of the demo train (once, at start-up)",
     "surge_margin_update": "surge margin, one `SurgeMonitor::update` (4-point line, 10-scan rate window full)",
     "signal_channel_4_20ma": "signal front end, one 4–20 mA channel `Channel::update` (scaling, plausibility, 5-sample median, low-pass)",
@@ -126,6 +127,8 @@ row("train state, demo train (5 stages), bytes",
     lambda t: f"{res[t][1]['state_demo_5_stages']:,}")
 row("stack high-water mark of one update, 4 stages + 3 intercoolers, bytes",
     lambda t: f"{res[t][1]['stack_update_4_stages_3_intercoolers']:,}")
+row("stack high-water mark of one update, 4 stages + 3 intercoolers, Peng–Robinson, bytes",
+    lambda t: f"{res[t][1]['stack_update_4_stages_3_intercoolers_peng_robinson']:,}")
 row("stack high-water mark of one update, demo train, bytes",
     lambda t: f"{res[t][1]['stack_update_demo_5_stages']:,}")
 row("stack high-water mark of one surge-margin update, bytes",

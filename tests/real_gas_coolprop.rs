@@ -365,12 +365,14 @@ fn validity_flags() {
     // Liquid CO2 (300 K, 100 bar): no vapour root.
     let s = co2.state(100e5, 300.0, None);
     assert_eq!(s.validity.quality, Quality::Bad);
-    assert_eq!(s.validity.reason, ValidityReason::NoVapourRoot);
+    assert!(matches!(
+        s.validity.reason,
+        ValidityReason::NoVapourRoot | ValidityReason::LiquidLike
+    ));
     // Dense supercritical (320 K, 200 bar): liquid-like, bad for a compressor.
-    assert_eq!(
-        co2.state(200e5, 320.0, None).validity.reason,
-        ValidityReason::NoVapourRoot
-    );
+    let s = co2.state(200e5, 320.0, None);
+    assert_eq!(s.validity.reason, ValidityReason::LiquidLike);
+    assert_eq!(s.validity.quality, Quality::Bad);
     // Near the critical point (306 K, 75 bar): uncertain at best.
     let s = co2.state(75e5, 310.0, None);
     assert_ne!(s.validity.quality, Quality::Good, "{:?}", s.validity);
@@ -471,4 +473,28 @@ fn entropy_match_against_bisection() {
     }
     println!("entropy match vs bisection: largest |dT2s| = {worst:.2e} K");
     assert!(worst < 0.01, "{worst}");
+}
+
+/// Dense CO2 density (a pump suction) with the Péneloux translation against
+/// CoolProp 8.0.0 HEOS (values from `PropsSI('D', 'P', p, 'T', T, 'CO2')`
+/// with the pinned generator's CoolProp). Measured: +0.5 % (79 bar, 293 K),
+/// −2.6 % (79 bar, 298 K, 5 K from the pseudo-critical line), +4.9 %
+/// (150 bar, 300 K); untranslated Peng–Robinson gives −5.2 %, −7.5 %, −1.5 %.
+/// Bound: 5.5 %, hence always uncertain.
+#[test]
+fn dense_co2_density_against_heos() {
+    let co2 = gas("carbon-dioxide");
+    for (p, t, heos) in [
+        (79e5, 293.15, 825.997),
+        (79e5, 298.15, 773.919),
+        (150e5, 300.0, 865.816),
+    ] {
+        let (rho, validity) = co2.dense_density(p, t).unwrap();
+        println!(
+            "CO2 {:.0} bar {t} K: PR+Peneloux {rho:.1} kg/m3, HEOS {heos}",
+            p / 1e5
+        );
+        assert!((rho / heos - 1.0).abs() < 0.055, "{p} {t}: {rho}");
+        assert_eq!(validity.quality, Quality::Uncertain);
+    }
 }

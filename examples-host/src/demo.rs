@@ -193,6 +193,12 @@ fn pump_rows<T: Real>() -> Vec<Row<Pump<T>>> {
             p.1.pressure_rise
         )),
         row!(
+            SUCTION_DENSITY,
+            "Suction density (gas model)",
+            KG_PER_M3,
+            |p: &Pump<T>| Val::of(p.1.density)
+        ),
+        row!(
             REVERSIBLE_WORK,
             "Reversible work v dP",
             KJ_PER_KG,
@@ -429,6 +435,8 @@ fn to_json<T: Real, const N: usize>(
             &k::HEAT_CAPACITY_RATIO,
             Val::of(Measured::good(c.1.k)).value,
         )
+        .str(&k::POLYTROPIC_METHOD, &condition(c.1.polytropic_method))
+        .str(&k::GAS_MODEL_VALIDITY, &condition(c.1.gas_validity.reason))
         .put(&k::STEADY_STATE, Json::Bool(st.steady_state.steady))
         .put(
             &k::STEADY_SAMPLES,
@@ -519,7 +527,7 @@ fn to_text<T: Real, const N: usize>(
         .map(|(n, c, _)| (format!("S{n}"), *c))
         .collect();
     let mut g = out::column_table(&compressor_rows::<T>(), &items);
-    let extra: [(&str, Vec<String>); 4] = [
+    let extra: [(&str, Vec<String>); 6] = [
         (
             "Compressibility Z used",
             parts
@@ -529,11 +537,27 @@ fn to_text<T: Real, const N: usize>(
                 .collect(),
         ),
         (
-            "Heat-capacity ratio k used",
+            "Isentropic exponent used",
             parts
                 .compressors
                 .iter()
                 .map(|(_, c, _)| format!("{:.3}", c.1.k))
+                .collect(),
+        ),
+        (
+            "Polytropic method",
+            parts
+                .compressors
+                .iter()
+                .map(|(_, c, _)| condition(c.1.polytropic_method))
+                .collect(),
+        ),
+        (
+            "Gas model",
+            parts
+                .compressors
+                .iter()
+                .map(|(_, c, _)| condition(c.1.gas_validity.reason))
                 .collect(),
         ),
         (

@@ -71,25 +71,28 @@ keys! { STAGE_KEYS:
     PRESSURE_RATIO = "pressure_ratio", "-", "Discharge over suction pressure (absolute).";
     ISENTROPIC_T2 = "isentropic_discharge_temperature_K", "K", "Discharge temperature of an isentropic compression over the same ratio.";
     TEMPERATURE_RISE = "temperature_rise_K", "K", "Measured temperature rise T2 - T1.";
-    ISENTROPIC_HEAD = "isentropic_head_J_per_kg", "J/kg", "Isentropic head Z R T1 k/(k-1) (r^((k-1)/k) - 1).";
-    POLYTROPIC_HEAD = "polytropic_head_J_per_kg", "J/kg", "Polytropic head along the measured path.";
-    ISOTHERMAL_HEAD = "isothermal_head_J_per_kg", "J/kg", "Isothermal head Z R T1 ln r (the ideal).";
-    ACTUAL_WORK = "actual_work_J_per_kg", "J/kg", "Actual specific work from the temperature rise, Z cp (T2 - T1).";
+    ISENTROPIC_HEAD = "isentropic_head_J_per_kg", "J/kg", "Isentropic head h(p2, s1) - h1 from the gas model (ideal gas: Z R T1 k/(k-1) (r^((k-1)/k) - 1)).";
+    POLYTROPIC_HEAD = "polytropic_head_J_per_kg", "J/kg", "Polytropic head along the measured path, by the method in `polytropic_method`.";
+    ISOTHERMAL_HEAD = "isothermal_head_J_per_kg", "J/kg", "Isothermal head Z1 R T1 ln r with the suction Z (the ideal).";
+    ACTUAL_WORK = "actual_work_J_per_kg", "J/kg", "Actual specific work, the enthalpy rise h2 - h1 from the gas model (ideal gas: Z cp (T2 - T1)).";
     ISENTROPIC_EFFICIENCY = "isentropic_efficiency", "-", "Isentropic head over actual work.";
-    POLYTROPIC_EFFICIENCY = "polytropic_efficiency", "-", "((k-1)/k) / ((n-1)/n).";
+    POLYTROPIC_EFFICIENCY = "polytropic_efficiency", "-", "Polytropic head over actual work (ideal gas: ((k-1)/k) / ((n-1)/n)).";
     POLYTROPIC_EXPONENT = "polytropic_exponent", "-", "Polytropic exponent n inferred from the measured end states.";
     MASS_FLOW = "mass_flow_kg_per_s", "kg/s", "Mass flow used for the power.";
     GAS_POWER = "gas_power_W", "W", "Gas power, mass flow times actual work.";
     WORK_ABOVE_ISOTHERMAL = "work_above_isothermal_J_per_kg", "J/kg", "Actual work minus the isothermal head.";
     POWER_ABOVE_ISOTHERMAL = "power_above_isothermal_W", "W", "Gas power minus isothermal power.";
-    COMPRESSIBILITY = "compressibility", "-", "Mean compressibility factor Z used (plain number: a model parameter).";
-    HEAT_CAPACITY_RATIO = "heat_capacity_ratio", "-", "Mean heat-capacity ratio k used (plain number: a model parameter).";
+    COMPRESSIBILITY = "compressibility", "-", "Suction compressibility factor Z (ideal gas: the configured or supplied mean Z; Peng-Robinson: computed).";
+    HEAT_CAPACITY_RATIO = "heat_capacity_ratio", "-", "Isentropic exponent used: the mean k (ideal gas) or the isentropic volume exponent ln(p2/p1)/ln(v1/v2s) (Peng-Robinson).";
+    POLYTROPIC_METHOD = "polytropic_method", "string", "Method of the polytropic head, efficiency and exponent: `schultz`, `sandberg-colby` or `reference-path`.";
+    GAS_MODEL_VALIDITY = "gas_model_validity", "string", "The gas model's validity for this stage's states: `in-range` or why not (`near-critical`, `ideal-gas-reduced-pressure`, `liquid-like`, ...); folded into every quality.";
     STEADY_STATE = "steady_state", "boolean", "Whether the stage was at steady state over the detector window at the last scan.";
     STEADY_SAMPLES = "steady_state_samples", "integer", "Scans in the steady-state window so far.";
 }
 
 keys! { PUMP_KEYS:
     PRESSURE_RISE = "pressure_rise_Pa", "Pa", "Pump pressure rise.";
+    SUCTION_DENSITY = "suction_density_kg_per_m3", "kg/m3", "Suction density used: from the gas model (Peng-Robinson with Peneloux translation) or the configured value.";
     REVERSIBLE_WORK = "reversible_work_J_per_kg", "J/kg", "Reversible pump work v dP.";
     SHAFT_WORK = "shaft_work_J_per_kg", "J/kg", "Pump shaft work v dP / efficiency.";
     PUMP_POWER_STAGE = "power_W", "W", "Pump shaft power.";

@@ -15,6 +15,11 @@
 //!   least-squares fit (relative weights) to CoolProp 8.0.0's `cp0molar` over
 //!   230–650 K by the same script; the largest fit error is stated beside
 //!   each component (at most 0.5 %, the butanes).
+//! - Rackett compressibility factors Z_RA (for the Péneloux volume shift):
+//!   the tabulated values of Spencer & Danner (1972) as reprinted in Reid,
+//!   Prausnitz & Poling, *The Properties of Gases and Liquids*, 4th ed.
+//!   (from memory; only the dense-phase density uses them, checked against
+//!   CoolProp HEOS for CO2 in `tests/real_gas_coolprop.rs`).
 //! - Binary interaction parameters k_ij: see [`binary_interaction`].
 
 /// A pure component.
@@ -34,6 +39,8 @@ pub struct Component {
     /// Ideal-gas cp0 = a + bT + cT² + dT³, J/(mol K), valid
     /// [`CP0_T_MIN`]..[`CP0_T_MAX`].
     pub cp0: [f64; 4],
+    /// Rackett compressibility Z_RA, -, for the Péneloux volume shift.
+    pub rackett_z: f64,
 }
 
 /// Lowest temperature of the cp0 fits, K.
@@ -79,6 +86,7 @@ const fn c(
     critical_pressure: f64,
     acentric_factor: f64,
     cp0: [f64; 4],
+    rackett_z: f64,
 ) -> Component {
     Component {
         id,
@@ -87,6 +95,7 @@ const fn c(
         critical_pressure,
         acentric_factor,
         cp0,
+        rackett_z,
     }
 }
 
@@ -100,6 +109,7 @@ pub const NITROGEN: Component = c(
     3_395_800.4,
     0.0372,
     [2.9738505e+01, -4.5083240e-03, 7.7112469e-06, 1.3560350e-09],
+    0.2900,
 );
 /// Oxygen (cp0 fit error 0.04 %).
 pub const OXYGEN: Component = c(
@@ -109,6 +119,7 @@ pub const OXYGEN: Component = c(
     5_046_410.5,
     0.0222,
     [3.1132659e+01, -2.0260991e-02, 5.9808087e-05, -3.8921518e-08],
+    0.2905,
 );
 /// Argon (cp0 = 5R/2, exact).
 pub const ARGON: Component = c(
@@ -118,6 +129,7 @@ pub const ARGON: Component = c(
     4_863_000.5,
     -0.00219,
     [2.0786275e+01, 0.0, 0.0, 0.0],
+    0.2923,
 );
 /// Methane (cp0 fit error 0.25 %).
 pub const METHANE: Component = c(
@@ -127,6 +139,7 @@ pub const METHANE: Component = c(
     4_599_200.5,
     0.01142,
     [3.9833330e+01, -8.0962010e-02, 2.8046616e-04, -1.8371110e-07],
+    0.2892,
 );
 /// Ethane (cp0 fit error 0.36 %).
 pub const ETHANE: Component = c(
@@ -136,6 +149,7 @@ pub const ETHANE: Component = c(
     4_872_200.0,
     0.099,
     [2.9653543e+01, 1.3480441e-02, 2.8144042e-04, -2.3052200e-07],
+    0.2808,
 );
 /// Propane (cp0 fit error 0.40 %).
 pub const PROPANE: Component = c(
@@ -145,6 +159,7 @@ pub const PROPANE: Component = c(
     4_251_165.3,
     0.1521,
     [2.7381962e+01, 8.9921318e-02, 3.0238863e-04, -2.8581189e-07],
+    0.2766,
 );
 /// n-Butane (cp0 fit error 0.47 %).
 pub const N_BUTANE: Component = c(
@@ -154,6 +169,7 @@ pub const N_BUTANE: Component = c(
     3_796_000.0,
     0.20081,
     [4.0004867e+01, 1.0862079e-01, 4.1250159e-04, -3.8975875e-07],
+    0.2730,
 );
 /// Isobutane (cp0 fit error 0.39 %).
 pub const ISO_BUTANE: Component = c(
@@ -163,6 +179,7 @@ pub const ISO_BUTANE: Component = c(
     3_629_000.0,
     0.183532,
     [2.7508012e+01, 1.6381969e-01, 3.3571244e-04, -3.5231634e-07],
+    0.2754,
 );
 /// Carbon dioxide (cp0 fit error 0.08 %).
 pub const CARBON_DIOXIDE: Component = c(
@@ -172,6 +189,7 @@ pub const CARBON_DIOXIDE: Component = c(
     7_377_298.4,
     0.22394,
     [1.8626661e+01, 8.1144024e-02, -7.1949738e-05, 2.7402641e-08],
+    0.2722,
 );
 /// Hydrogen sulfide (cp0 fit error 0.09 %).
 pub const HYDROGEN_SULFIDE: Component = c(
@@ -181,6 +199,7 @@ pub const HYDROGEN_SULFIDE: Component = c(
     8_998_871.6,
     0.1005,
     [3.4026665e+01, -1.3807487e-02, 5.7831310e-05, -3.4903058e-08],
+    0.2855,
 );
 /// Normal hydrogen (cp0 fit error 0.33 %).
 pub const HYDROGEN: Component = c(
@@ -190,6 +209,7 @@ pub const HYDROGEN: Component = c(
     1_296_357.6,
     -0.219,
     [2.1427634e+01, 4.7564718e-02, -9.5879944e-05, 6.4135626e-08],
+    0.3218,
 );
 /// Water vapour (cp0 fit error 0.03 %).
 pub const WATER: Component = c(
@@ -199,6 +219,7 @@ pub const WATER: Component = c(
     22_064_000.0,
     0.344292,
     [3.4884902e+01, -1.5509235e-02, 4.4909155e-05, -2.5075436e-08],
+    0.2338,
 );
 
 /// Every component, in [`ComponentId`] order.

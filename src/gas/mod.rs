@@ -70,9 +70,13 @@ pub enum ValidityReason {
     /// be metastable or condensing (uncertain; the device runs no phase
     /// split).
     NearSaturation,
-    /// No vapour-like root: the state is liquid-like or dense, or the liquid
-    /// is the stable phase (bad for gas compression).
+    /// Three roots and the liquid is the stable phase: the gas would
+    /// condense (bad).
     NoVapourRoot,
+    /// The only root is liquid-like (v below the critical v/b): a liquid or
+    /// dense supercritical state; bad for a gas compressor, uncertain as a
+    /// cooler outlet or pump suction.
+    LiquidLike,
     /// A liquid-like dense state whose density comes from the cubic (a pump
     /// suction): several per cent uncertain without volume translation.
     DenseEstimate,

@@ -5,9 +5,14 @@
 //! comparison of pump and compressor work for the same pressure rise), and
 //! shaft work = v·ΔP / η with a configured pump efficiency.
 //!
+//! The density is the gas model's at the suction state when the model gives
+//! one for a dense phase ([`GasModel::dense_density`], Peng–Robinson), with
+//! its validity; otherwise the configured density.
+//!
 //! For the comparison the user sees live, the result also carries the
-//! isentropic work an ideal-gas compressor would need for the same pressure
-//! ratio from the pump's suction temperature, with the train's gas.
+//! isentropic work an ideal-gas compressor (Z = 1) would need for the same
+//! pressure ratio from the pump's suction temperature, with the train's gas
+//! constant and ideal-gas heat-capacity ratio.
 
 use crate::compression::isentropic_head;
 use crate::gas::GasModel;
@@ -20,6 +25,8 @@ use crate::real::Real;
 pub struct PumpResult<T> {
     /// Discharge over suction pressure, -.
     pub pressure_ratio: Measured<T>,
+    /// Suction density used, kg/m³ (from the gas model, or configured).
+    pub density: Measured<T>,
     /// Pressure rise, Pa.
     pub pressure_rise: Measured<T>,
     /// Reversible work v·ΔP, J/kg.
@@ -43,6 +50,7 @@ impl<T: Real> PumpResult<T> {
         let b = Measured::bad();
         PumpResult {
             pressure_ratio: b,
+            density: b,
             pressure_rise: b,
             reversible_work: b,
             shaft_work: b,
@@ -54,9 +62,10 @@ impl<T: Real> PumpResult<T> {
     }
 }
 
-/// Evaluates a pump stage. `density` (kg/m3) and `efficiency` were
-/// validated at construction (finite, positive, efficiency <= 1); pressures
-/// and temperature passed the sensor boundary.
+/// Evaluates a pump stage. `density` (kg/m3, used when the gas model gives
+/// no dense-phase density) and `efficiency` were validated at construction
+/// (finite, positive, efficiency <= 1); pressures and temperature passed the
+/// sensor boundary.
 pub fn evaluate_pump<T: Real, G: GasModel<T>>(
     gas: &G,
     density: T,
@@ -78,6 +87,14 @@ pub fn evaluate_pump<T: Real, G: GasModel<T>>(
     if !(dp > T::ZERO) {
         return out;
     }
+    let (density, q) = match gas.dense_density(p1.value, t1.value) {
+        Some((rho, validity)) => (rho, q.worst(t1.quality).worst(validity.quality)),
+        None => (density, q),
+    };
+    out.density = Measured::derived(density, q);
+    if q == Quality::Bad {
+        return out;
+    }
     let w_rev = dp / density;
     let w = w_rev / efficiency;
     out.reversible_work = Measured::derived(w_rev, q);
@@ -89,7 +106,7 @@ pub fn evaluate_pump<T: Real, G: GasModel<T>>(
     let q_gas = q.worst(t1.quality);
     if q_gas != Quality::Bad {
         let props = gas.path(p1.value, t1.value, p2.value, t1.value, None);
-        let h = isentropic_head(props.z, props.gas_constant, t1.value, ratio, props.k);
+        let h = isentropic_head(T::ONE, props.gas_constant, t1.value, ratio, props.k);
         out.gas_compression_equivalent = Measured::derived(h, q_gas);
         out.work_ratio_to_gas = Measured::derived(w / h, q_gas);
     }

@@ -128,8 +128,8 @@ impl Walker {
 }
 
 use tolerance::{
-    EFFICIENCY, EXPONENT, POWER, PRESSURE, PRESSURE_RATIO, SPECIFIC_WORK, TEMPERATURE,
-    TEMPERATURE_DIFFERENCE,
+    COMPRESSIBILITY, EFFICIENCY, EXPONENT, POWER, PRESSURE, PRESSURE_RATIO, SPECIFIC_WORK,
+    TEMPERATURE, TEMPERATURE_DIFFERENCE,
 };
 const fn t(x: Tolerance) -> Kind {
     Kind::Table(x)
@@ -181,7 +181,9 @@ fn compressor<T: Real>(w: &mut Walker, c: &CompressorResult<T>) {
         },
         c.power_above_isothermal,
     );
-    w.plain("compressibility", Kind::PassThrough, c.compressibility);
+    // Suction Z: configuration or scan input for the ideal gas, computed by
+    // Peng-Robinson.
+    w.plain("compressibility", t(COMPRESSIBILITY), c.compressibility);
     // k of a constant-k gas is configuration; of a cp(T) gas it is computed
     // (an exponent).
     w.plain("k", t(EXPONENT), c.k);
@@ -190,6 +192,7 @@ fn compressor<T: Real>(w: &mut Walker, c: &CompressorResult<T>) {
 fn pump<T: Real>(w: &mut Walker, p: &PumpResult<T>) {
     w.m("pressure_ratio", t(PRESSURE_RATIO), p.pressure_ratio);
     w.m("pressure_rise", t(PRESSURE), p.pressure_rise);
+    w.m("density", t(COMPRESSIBILITY), p.density);
     w.m("reversible_work", t(SPECIFIC_WORK), p.reversible_work);
     w.m("shaft_work", t(SPECIFIC_WORK), p.shaft_work);
     w.m("mass_flow", Kind::PassThrough, p.mass_flow);

@@ -21,7 +21,7 @@ use heapless::String;
 use polytrope::cooler::{evaluate_cooler_into, CoolerInputs, CoolerResult};
 use polytrope::demo::{self, DemoTrain};
 use polytrope::gas::components::{CARBON_DIOXIDE, ETHANE, METHANE, NITROGEN, PROPANE};
-use polytrope::gas::{GasModel, IdealGas, PengRobinson};
+use polytrope::gas::{GasModel, IdealGas, PengRobinson, CARBON_DIOXIDE as CO2_IDEAL};
 use polytrope::quality::{Measured, Quality};
 use polytrope::scan::Scan;
 use polytrope::stage::{
@@ -36,6 +36,8 @@ use polytrope_firmware::table::SCANS;
 /// Stages of the budget train: four compressors, three intercoolers.
 const BUDGET_STAGES: usize = 4;
 type BudgetTrain = Train<f32, IdealGas<f32>, BUDGET_STAGES, { demo::WINDOW }>;
+/// The same train on the demo's Peng–Robinson CO2.
+type BudgetTrainPr = Train<f32, PengRobinson<f32, 1>, BUDGET_STAGES, { demo::WINDOW }>;
 
 struct Host(Option<hio::HostStream>);
 
@@ -79,8 +81,10 @@ fn print_snapshot<const N: usize>(h: &mut Host, scan: usize, s: &Snapshot<f32, N
 }
 
 /// The budget train's configuration: the demo's first four stages, the
-/// fourth without its aftercooler.
-fn budget_config() -> Option<TrainConfig<f32, IdealGas<f32>, BUDGET_STAGES>> {
+/// fourth without its aftercooler, on `gas` (the ideal-gas budget uses CO2
+/// with constant k and Z = 1, the gas of the demo before it moved to
+/// Peng–Robinson).
+fn budget_config<G: Copy>(gas: G) -> Option<TrainConfig<f32, G, BUDGET_STAGES>> {
     let demo = demo::config::<f32>().ok()?;
     let mut stages = [*demo.stages.first()?; BUDGET_STAGES];
     for (i, s) in stages.iter_mut().enumerate() {
@@ -90,7 +94,7 @@ fn budget_config() -> Option<TrainConfig<f32, IdealGas<f32>, BUDGET_STAGES>> {
         last.cooler = None;
     }
     Some(TrainConfig {
-        gas: demo.gas,
+        gas,
         stages,
         max_interstage_pressure_drop: demo.max_interstage_pressure_drop,
         steady_state: demo.steady_state,
@@ -124,6 +128,11 @@ fn update_channel(c: &mut PressureChannel, raw: f32, t_ms: u64) -> f32 {
 
 #[inline(never)]
 fn update_budget(t: &mut BudgetTrain, s: &Scan<f32, BUDGET_STAGES>) -> f32 {
+    t.update(s).totals.total_power.value
+}
+
+#[inline(never)]
+fn update_budget_pr(t: &mut BudgetTrainPr, s: &Scan<f32, BUDGET_STAGES>) -> f32 {
     t.update(s).totals.total_power.value
 }
 
@@ -181,7 +190,11 @@ fn main() -> ! {
     let Ok(config) = demo::config::<f32>() else {
         fail(&mut h, "demo config");
     };
-    let gas = config.gas;
+    // The single-stage and cooler regions use the ideal gas (CO2, constant
+    // k, a supplied Z); the Peng-Robinson stage is measured separately below.
+    let Ok(gas) = IdealGas::<f32>::from_spec(&CO2_IDEAL, false, 1.0) else {
+        fail(&mut h, "ideal co2");
+    };
     let raw = black_box(&SCANS[12]);
     let scan = decode_scan::<f32, { demo::STAGES }>(raw);
     let mut region = 0_u32;
@@ -280,16 +293,26 @@ fn main() -> ! {
     let Ok(mut demo_train) = demo::train::<f32>() else {
         fail(&mut h, "demo train");
     };
-    let Some(budget_cfg) = budget_config() else {
+    let Some(budget_cfg) = budget_config(gas) else {
         fail(&mut h, "budget config");
     };
     let Ok(mut budget) = BudgetTrain::new(budget_cfg) else {
         fail(&mut h, "budget train");
     };
+    let Ok(co2_pr) = demo::gas::<f32>() else {
+        fail(&mut h, "pr co2");
+    };
+    let Some(budget_pr_cfg) = budget_config(co2_pr) else {
+        fail(&mut h, "budget config pr");
+    };
+    let Ok(mut budget_pr) = BudgetTrainPr::new(budget_pr_cfg) else {
+        fail(&mut h, "budget train pr");
+    };
     for raw in SCANS.iter().take(10) {
         let raw = black_box(raw);
         update_demo(&mut demo_train, &decode_scan(raw));
         update_budget(&mut budget, &budget_scan(raw));
+        update_budget_pr(&mut budget_pr, &budget_scan(raw));
     }
     for raw in SCANS.iter().skip(10).take(3) {
         let s = black_box(decode_scan::<f32, { demo::STAGES }>(black_box(raw)));
@@ -298,6 +321,8 @@ fn main() -> ! {
         let s = black_box(budget_scan(black_box(raw)));
         let r = label(&mut h, "update_4_stages_3_intercoolers");
         measure(r, || update_budget(&mut budget, &s));
+        let r = label(&mut h, "update_4_stages_3_intercoolers_peng_robinson");
+        measure(r, || update_budget_pr(&mut budget_pr, &s));
     }
     let r = label(&mut h, "train_new_demo_5_stages");
     let cfg = black_box(config);
@@ -342,6 +367,11 @@ fn main() -> ! {
         update_budget(&mut budget, &s);
     });
     out!(h, "S stack_update_4_stages_3_intercoolers {}", used);
+    let s = black_box(budget_scan(black_box(&SCANS[13])));
+    let used = stack_used(|| {
+        update_budget_pr(&mut budget_pr, &s);
+    });
+    out!(h, "S stack_update_4_stages_3_intercoolers_peng_robinson {}", used);
     let s = black_box(front::surge_scan(20));
     let used = stack_used(|| {
         update_surge(&mut monitor, &s);
