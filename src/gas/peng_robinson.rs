@@ -610,12 +610,17 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
         }
         let zt1 = c1.z * t1;
         let r = self.gas_constant;
+        let dhs = (c2s.h - c1.h) * self.per_kg;
+        let iso_pv_rise = r * (c2s.z * t2s - zt1);
+        let iso_ln_pv = T::ln(c2s.z * t2s / zt1);
         let mut out = CompressionStates {
             suction_z: c1.z,
             isentropic_temperature: t2s,
-            isentropic_enthalpy_rise: (c2s.h - c1.h) * self.per_kg,
-            isentropic_pv_rise: r * (c2s.z * t2s - zt1),
-            isentropic_ln_pv_ratio: T::ln(c2s.z * t2s / zt1),
+            isentropic_enthalpy_rise: dhs,
+            isentropic_pv_rise: iso_pv_rise,
+            isentropic_ln_pv_ratio: iso_ln_pv,
+            isentropic_exponent: ln_ratio / (ln_ratio - iso_ln_pv),
+            head_factor: dhs * iso_ln_pv / (ln_ratio * iso_pv_rise),
             isentropic_validity: iso_validity,
             validity: iso_validity,
             ..CompressionStates::invalid()
