@@ -80,6 +80,7 @@ pub mod control;
 pub mod cooler;
 pub mod demo;
 pub mod error;
+pub mod fields;
 pub mod flow;
 pub mod gas;
 pub mod quality;
