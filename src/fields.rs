@@ -793,6 +793,17 @@ impl<T: Real> StageScan<T> {
     }
 }
 
+impl<T: Real> StageScan<T> {
+    /// Replaces one input (SI; `None` makes an optional input absent, a
+    /// required one bad, and the cooler scan absent for its gas outlet
+    /// temperature). A cooler input set on a stage without a cooler scan
+    /// has no effect unless it is the gas outlet temperature.
+    pub fn set_input(&mut self, which: StageInput, value: Option<Measured<T>>) {
+        let old = *self;
+        *self = StageScan::from_inputs(|w| if w == which { value } else { old.input(w) });
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
