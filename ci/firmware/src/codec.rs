@@ -55,7 +55,8 @@ fn quality(code: u8) -> Quality {
     }
 }
 
-/// Decodes one stage scan.
+/// Decodes one stage scan (kept out of line: one copy for every stage).
+#[inline(never)]
 pub fn decode_stage<T: FromF32>(raw: &RawStage) -> StageScan<T> {
     StageScan::from_inputs(|w| {
         let i = w.index();
