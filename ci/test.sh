@@ -15,7 +15,7 @@ cargo fmt --all --check
 
 step "no_std cross builds (every target x every feature set)"
 for target in thumbv6m-none-eabi thumbv7em-none-eabihf riscv32imac-unknown-none-elf; do
-  for features in "" "defmt" "approx-math" "defmt,approx-math"; do
+  for features in "" "defmt" "approx-math" "defmt,approx-math" "embedded-hal,demo"; do
     echo "  $target [${features:-no features}]"
     cargo build -q -p polytrope --lib --release --target "$target" --no-default-features --features "$features"
   done
@@ -28,10 +28,14 @@ cargo clippy -q -p polytrope --all-targets --all-features -- -D warnings
 step "docs (deny warnings)"
 RUSTDOCFLAGS="-D warnings" cargo doc -q --workspace --no-deps --all-features
 
+step "docs as docs.rs builds them (nightly, --cfg docsrs, every feature)"
+rustup toolchain install nightly --profile minimal >/dev/null 2>&1 || true
+RUSTDOCFLAGS="-D warnings --cfg docsrs" cargo +nightly doc -q -p polytrope --no-deps --all-features
+
 step "host tests (f64 reference, f32 device build, external references)"
 cargo test -q --workspace
 step "host tests with approximate maths"
-cargo test -q -p polytrope --features approx-math
+cargo test -q -p polytrope --features approx-math,demo
 
 for extra in ci/checks.d/*.sh; do
   [ -e "$extra" ] || continue

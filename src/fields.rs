@@ -71,7 +71,7 @@ impl QuantityKind {
     /// exact kinds (flags, counts, conditions) and for kinds no computed
     /// output has yet (mass flow and conductance are passed through or
     /// derived; a new computed one adds its entry to
-    /// [`tolerance`](crate::tolerance)).
+    /// [`tolerance`]).
     pub const fn tolerance(self) -> Option<Tolerance> {
         match self {
             QuantityKind::PressureRatio => Some(tolerance::PRESSURE_RATIO),

@@ -15,7 +15,7 @@
 //! The table is generated, not hand-written, and a test checks it is what
 //! the generator writes (demo scans from `polytrope::demo::scan`, then edge
 //! cases, listed below); to rewrite it:
-//! `POLYTROPE_WRITE_SCAN_TABLE=1 cargo test --test firmware_outputs scan_table`.
+//! `POLYTROPE_WRITE_SCAN_TABLE=1 cargo test --features demo --test firmware_outputs scan_table`.
 
 #![allow(
     clippy::unwrap_used,
@@ -395,7 +395,7 @@ fn scan_table_is_what_the_generator_writes() {
     };
     let mut out = String::from(
         "//! The committed scan table (GENERATED: `POLYTROPE_WRITE_SCAN_TABLE=1 cargo test\n\
-         //! --test firmware_outputs scan_table`; do not edit; the test checks it). Demo scans of the\n\
+         //! --features demo --test firmware_outputs scan_table`; do not edit; the test checks it). Demo scans of the\n\
          //! invented scenario in `polytrope::demo`, then edge cases, then demo scans\n\
          //! again; f32 bit patterns and quality codes (see `codec`).\n\n\
          use crate::codec::RawStage;\n\n",
@@ -439,7 +439,7 @@ fn scan_table_is_what_the_generator_writes() {
         assert!(
             committed == generated,
             "{path} differs from what the generator writes; if the change is intended, \
-             regenerate with POLYTROPE_WRITE_SCAN_TABLE=1 cargo test --test firmware_outputs scan_table"
+             regenerate with POLYTROPE_WRITE_SCAN_TABLE=1 cargo test --features demo --test firmware_outputs scan_table"
         );
     }
 }

@@ -33,7 +33,7 @@ cat "$table"
 # 3: device outputs against the f64 reference.
 logs=ci/firmware/target/measure
 POLYTROPE_FIRMWARE_OUTPUTS="$PWD/$logs/thumbv7em-none-eabihf.log:$PWD/$logs/thumbv6m-none-eabi.log" \
-  cargo test -q -p polytrope --test firmware_outputs -- --nocapture 2>&1 | grep -Ev '^\s*$'
+  cargo test -q -p polytrope --features demo --test firmware_outputs -- --nocapture 2>&1 | grep -Ev '^\s*$'
 
 # 4: the probe must fail to link, and for the intended reason.
 probe_log=$(mktemp)

@@ -1,5 +1,5 @@
 //! The committed scan table (GENERATED: `POLYTROPE_WRITE_SCAN_TABLE=1 cargo test
-//! --test firmware_outputs scan_table`; do not edit; the test checks it). Demo scans of the
+//! --features demo --test firmware_outputs scan_table`; do not edit; the test checks it). Demo scans of the
 //! invented scenario in `polytrope::demo`, then edge cases, then demo scans
 //! again; f32 bit patterns and quality codes (see `codec`).
 
