@@ -8,6 +8,12 @@
 //! build uses `micromath` approximations; their looser bounds are the
 //! `approx_*` columns, and [`Tolerance::accepts`] applies them automatically
 //! when the feature is on.
+//!
+//! It stays in the device library although tests are its main reader: it is
+//! the published accuracy contract of the f32 build (the README quotes it),
+//! [`QuantityKind::tolerance`](crate::fields::QuantityKind::tolerance) ties
+//! every output field to an entry, and tools on the device or host may
+//! report it; it is constant data that costs nothing unless used.
 
 /// Tolerance for one quantity.
 #[derive(Clone, Copy, Debug, PartialEq)]
