@@ -18,7 +18,7 @@ use core::fmt::Write as _;
 use core::hint::black_box;
 
 use cortex_m_rt::entry;
-use cortex_m_semihosting::{debug, hio};
+use cortex_m_semihosting::hio;
 use heapless::String;
 use polytrope::cooler::{evaluate_cooler_into, CoolerInputs, CoolerResult};
 use polytrope::demo::{self, DemoTrain};
@@ -58,9 +58,7 @@ macro_rules! out {
 
 fn fail(h: &mut Host, what: &str) -> ! {
     out!(h, "ERROR {}", what);
-    debug::exit(debug::EXIT_FAILURE);
-    #[allow(clippy::empty_loop)]
-    loop {}
+    polytrope_firmware::exit(false)
 }
 
 fn print_snapshot<const N: usize>(h: &mut Host, scan: usize, s: &Snapshot<f32, N>) {
@@ -367,16 +365,12 @@ fn main() -> ! {
         core::mem::size_of::<Scan<f32, 5>>()
     );
     out!(h, "END ok");
-    debug::exit(debug::EXIT_SUCCESS);
-    #[allow(clippy::empty_loop)]
-    loop {}
+    polytrope_firmware::exit(true)
 }
 
 #[panic_handler]
 fn panic(info: &core::panic::PanicInfo) -> ! {
     let mut h = Host(hio::hstdout().ok());
     out!(h, "PANIC {}", info);
-    debug::exit(debug::EXIT_FAILURE);
-    #[allow(clippy::empty_loop)]
-    loop {}
+    polytrope_firmware::exit(false)
 }
