@@ -154,6 +154,13 @@ fn compare(device: &[Line], reference: &[(Line, Option<Kind>)]) -> Vec<String> {
 fn firmware_outputs_match_the_f64_reference() {
     let reference = run::<f64>();
     assert!(reference.len() > 1000, "the table exercises the train");
+    // The README quotes how many outputs each firmware run prints.
+    let n = reference.len();
+    let quoted = format!("({},{:03} values each)", n / 1000, n % 1000);
+    assert!(
+        include_str!("../README.md").contains(&quoted),
+        "README.md should say {quoted}"
+    );
     let paths = std::env::var("POLYTROPE_FIRMWARE_OUTPUTS").unwrap_or_default();
     let mut checked = 0;
     for path in paths.split(':').filter(|p| !p.is_empty()) {

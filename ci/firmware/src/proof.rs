@@ -1,7 +1,7 @@
 //! Every public entry point of the kernel besides the train, the surge
 //! monitor and the signal channel (those are in `minimal` and `front`),
-//! called once with invented settings (demo data) so the minimal firmware's
-//! link-time panic check covers them: surge detection, the recycle
+//! called once with invented settings (demo data) by the `proof` firmware,
+//! whose link-time panic check then covers them: surge detection, the recycle
 //! controller and its embedded-hal outputs, the ISO 5167 orifice, the
 //! generic flow element, the low-flow cut-off, the cross-checks, the event
 //! log and the recycle-loss helpers.
