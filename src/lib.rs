@@ -62,7 +62,7 @@
 //! Module map: [`real`] (the f32/f64 seam), [`units`], [`quality`],
 //! [`error`], [`gas`] (gas models), [`compression`] (ideal heads),
 //! [`stage`] (compressor and pump), [`steady`], [`cooler`], [`staging`]
-//! (whole-train ideals), [`scan`] (inputs and the sensor boundary),
+//! (whole-train ideals), [`scan`] (inputs), [`boundary`] (the sensor boundary),
 //! [`train`] (configuration and update), [`tolerance`] (the f32-vs-f64
 //! accuracy table), `demo` (an invented scenario, with the `demo` feature), [`signal`] (channels,
 //! NAMUR NE 43, plausibility, filters, substitution, cross-checks, events),
@@ -75,6 +75,7 @@
 #[cfg(test)]
 extern crate std;
 
+pub mod boundary;
 pub mod compression;
 pub mod control;
 pub mod cooler;
