@@ -21,6 +21,19 @@ for target in thumbv6m-none-eabi thumbv7em-none-eabihf riscv32imac-unknown-none-
   done
 done
 
+step "MSRV: the kernel for both thumb targets with rust-version from Cargo.toml"
+msrv=$(sed -n 's/^rust-version *= *"\([^"]*\)".*/\1/p' Cargo.toml | head -1)
+[ -n "$msrv" ] || { echo "no rust-version in Cargo.toml" >&2; exit 1; }
+rustup toolchain install "$msrv" --profile minimal \
+  --target thumbv6m-none-eabi --target thumbv7em-none-eabihf >/dev/null 2>&1 || true
+for target in thumbv6m-none-eabi thumbv7em-none-eabihf; do
+  for features in "" "defmt,approx-math,embedded-hal,demo"; do
+    echo "  $msrv $target [${features:-no features}]"
+    cargo "+$msrv" build -q -p polytrope --lib --release --target "$target" --no-default-features --features "$features" \
+      --target-dir target/msrv
+  done
+done
+
 step "clippy (deny warnings)"
 cargo clippy -q --workspace --all-targets -- -D warnings
 cargo clippy -q -p polytrope --all-targets --all-features -- -D warnings
