@@ -846,6 +846,53 @@ mod tests {
         }
     }
 
+    /// The struct's own field names, from its `Debug` text (depth 1 only).
+    fn struct_fields(debug: &str) -> Vec<std::string::String> {
+        let mut out = Vec::new();
+        let mut depth = 0;
+        let mut word = std::string::String::new();
+        let mut chars = debug.chars().peekable();
+        while let Some(c) = chars.next() {
+            match c {
+                '{' | '(' | '[' => depth += 1,
+                '}' | ')' | ']' => depth -= 1,
+                ':' if depth == 1 && chars.peek() == Some(&' ') => {
+                    out.push(word.trim().trim_start_matches(',').trim().into());
+                }
+                _ => {}
+            }
+            if c == ',' || c == '{' {
+                word.clear();
+            } else {
+                word.push(c);
+            }
+        }
+        out
+    }
+
+    fn list_is_complete<R: ResultFields<f32> + core::fmt::Debug>(r: &R) {
+        let listed: Vec<&str> = R::FIELDS.iter().map(|f| f.name).collect();
+        let declared = struct_fields(&std::format!("{r:?}"));
+        assert_eq!(
+            declared, listed,
+            "every struct field is listed in fields.rs, in declaration order"
+        );
+    }
+
+    #[test]
+    fn every_struct_field_is_in_its_list() {
+        list_is_complete(&CompressorResult::<f32>::bad());
+        list_is_complete(&PumpResult::<f32>::bad());
+        list_is_complete(&SteadyState::<f32>::unknown());
+        list_is_complete(&CoolerResult::<f32>::bad());
+        list_is_complete(&InterstagePressure::<f32> {
+            measured: Measured::bad(),
+            optimum: Measured::bad(),
+            deviation: Measured::bad(),
+        });
+        list_is_complete(&TrainTotals::<f32>::bad(2));
+    }
+
     #[test]
     fn inputs_round_trip_through_the_list() {
         let mut s = StageScan::from_si(1.0e5_f64, 300.0, 3.0e5, 420.0);
