@@ -12,12 +12,14 @@
 //! Host tables, JSON keys, the firmware codec and the test walkers are
 //! generated from these lists: adding a result field is one edit here (and
 //! the struct field itself). Condition enums have stable kebab-case names
-//! ([`StageCondition::as_str`], ...), used wherever they are printed.
+//! ([`StageCondition::as_str`], [`CoolerCondition::as_str`],
+//! [`FaultCode::as_str`], [`Quality::as_str`]), used wherever they are
+//! printed.
 //!
 //! Keys are stable: a host tool, a log or a historian may store them.
 
 use crate::cooler::{CoolerCondition, CoolerResult};
-use crate::quality::{Measured, Quality};
+use crate::quality::{FaultCode, Measured, Quality};
 use crate::real::Real;
 use crate::scan::{CoolerScan, StageScan};
 use crate::stage::{CompressorResult, PumpResult, StageCondition};
@@ -534,6 +536,30 @@ impl CoolerCondition {
             CoolerCondition::OutletAboveInlet => "outlet-above-inlet",
             CoolerCondition::OutletBelowCoolant => "outlet-below-coolant",
             CoolerCondition::NoDrivingDifference => "no-driving-difference",
+        }
+    }
+}
+
+impl FaultCode {
+    /// Stable kebab-case name (`none`, `ne43-failure-low`, ...,
+    /// `input-bad`), for logs and host output; [`FaultCode::code`] is the
+    /// number for registers.
+    pub const fn as_str(self) -> &'static str {
+        match self {
+            FaultCode::None => "none",
+            FaultCode::Ne43FailureLow => "ne43-failure-low",
+            FaultCode::Ne43FailureHigh => "ne43-failure-high",
+            FaultCode::Ne43SaturatedLow => "ne43-saturated-low",
+            FaultCode::Ne43SaturatedHigh => "ne43-saturated-high",
+            FaultCode::SignalOutOfRange => "signal-out-of-range",
+            FaultCode::NotFinite => "not-finite",
+            FaultCode::TimeNotAdvancing => "time-not-advancing",
+            FaultCode::OutOfRange => "out-of-range",
+            FaultCode::Spike => "spike",
+            FaultCode::Frozen => "frozen",
+            FaultCode::CrossCheck => "cross-check",
+            FaultCode::ZeroOffset => "zero-offset",
+            FaultCode::InputBad => "input-bad",
         }
     }
 }
