@@ -148,7 +148,7 @@ L.append("Static RAM is zero because the minimal firmware keeps the train on the
          "`SurgeMonitor::new` / `update` or `Channel::new` / `update` survives, and the "
          "`proof` firmware does the same for every other public entry point (surge "
          "detection, recycle controller and outputs, orifice, flow element, low-flow "
-         "cut-off, cross-checks, event log, recycle loss: `ci/firmware/src/proof.rs`); "
+         "cut-off, cross-checks, event log, recycle loss, the gas models: Peng–Robinson construction and composition update, state functions, entropy match, polytropic methods: `ci/firmware/src/proof.rs`); "
          "`ci/checks.d/firmware.sh` also checks that a deliberately panicking probe fails "
          "to link.")
 open(out_md, "w").write("\n".join(L) + "\n")
