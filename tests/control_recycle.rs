@@ -23,12 +23,12 @@ fn config() -> RecycleConfig<f64> {
         integral_time: 1.0,
         closing_rate: 0.1,
         step: 0.2,
-        step_line_fraction: 0.5,
-        step_interval: 1.0,
+        quick_open_fraction: 0.5,
+        quick_open_interval: 1.0,
         min_output: 0.0,
         max_output: 1.0,
         fail_safe_output: 1.0,
-        rate_allowance: 0.0,
+        anticipation_time: 0.0,
     }
 }
 
@@ -37,7 +37,7 @@ fn state(margin: f64) -> SurgeState<f64> {
     let mut s = SurgeState::bad();
     s.margin = Measured::good(margin);
     s.control_margin = Measured::good(0.10);
-    s.deviation = Measured::good(margin - 0.10);
+    s.clearance = Measured::good(margin - 0.10);
     s
 }
 
@@ -84,16 +84,16 @@ fn open_loop_step_is_fast_and_rationed() {
     let before = c.output();
     // Below the step line (0.5 * 0.10 = 0.05): one step now...
     let out = c.update(&state(0.04), &AUTO);
-    assert!(out.step_applied);
+    assert!(out.quick_opened);
     assert!(out.demand.value >= before + 0.2 - 1e-12);
-    // ...and none again before step_interval has passed.
+    // ...and none again before quick_open_interval has passed.
     let mut steps = 0;
     for _ in 0..(0.9 / DT) as usize {
-        steps += usize::from(c.update(&state(0.04), &AUTO).step_applied);
+        steps += usize::from(c.update(&state(0.04), &AUTO).quick_opened);
     }
     assert_eq!(steps, 0);
     for _ in 0..10 {
-        steps += usize::from(c.update(&state(0.04), &AUTO).step_applied);
+        steps += usize::from(c.update(&state(0.04), &AUTO).quick_opened);
     }
     assert_eq!(steps, 1);
 }
@@ -129,7 +129,7 @@ fn fail_safe_open_on_bad_margin_and_forced_open() {
     assert_eq!(out.demand.quality, Quality::Uncertain);
     // NaN in a hand-made state with good quality is still never output.
     let mut s = state(0.2);
-    s.deviation = Measured::new(f64::NAN, Quality::Good);
+    s.clearance = Measured::new(f64::NAN, Quality::Good);
     assert!(c.update(&s, &AUTO).demand.value.is_finite());
     // Manual is not overridden by bad margin, but is by a forced open.
     c.set_mode(Mode::Manual);
@@ -189,9 +189,9 @@ fn recycle_power_and_valve_flow_by_hand() {
 }
 
 #[test]
-fn rate_allowance_opens_earlier_when_approaching() {
+fn anticipation_time_opens_earlier_when_approaching() {
     let mut cfg = config();
-    cfg.rate_allowance = 1.0;
+    cfg.anticipation_time = 1.0;
     let mut with = RecycleController::new(cfg, Mode::Automatic, 0.0).unwrap();
     let mut without = RecycleController::new(config(), Mode::Automatic, 0.0).unwrap();
     // Margin 0.16 (above the 0.10 control line) falling at 0.2 /s.

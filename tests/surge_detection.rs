@@ -23,8 +23,8 @@ fn config() -> DetectionConfig<f64> {
         discharge_pressure_drop: 0.03,
         suction_temperature_rise: 3.0,
         holdoff: 0.5,
-        shift_per_event: 0.03,
-        max_shift: 0.08,
+        added_margin_per_cycle: 0.03,
+        max_added_margin: 0.08,
         trip_count: 3,
         trip_window: 60.0,
     }
@@ -74,7 +74,7 @@ fn one_cycle_counts_once_and_shifts_the_control_line() {
     assert_eq!(surge_cycle(&mut d, true, 0.0), 1);
     let s = *d.state();
     assert_eq!(s.event_count, 1);
-    assert!((s.control_line_shift - 0.03).abs() < 1e-15);
+    assert!((s.added_margin - 0.03).abs() < 1e-15);
     assert!(!s.trip_request);
 }
 
@@ -99,13 +99,13 @@ fn three_cycles_in_a_minute_request_a_trip_and_resets_work() {
     assert!(s.trip_request);
     assert_eq!(s.events_in_window, 3);
     assert!(
-        (s.control_line_shift - 0.08).abs() < 1e-15,
-        "capped at max_shift"
+        (s.added_margin - 0.08).abs() < 1e-15,
+        "capped at max_added_margin"
     );
     d.reset_trip();
-    d.reset_shift();
+    d.reset_added_margin();
     assert!(!d.state().trip_request);
-    assert_eq!(d.state().control_line_shift, 0.0);
+    assert_eq!(d.state().added_margin, 0.0);
     // Two cycles more than a minute apart do not trip.
     surge_cycle(&mut d, true, 0.0);
     for _ in 0..6100 {
@@ -126,8 +126,8 @@ fn bad_data_blinds_without_panic_and_config_is_checked() {
         discharge_pressure_drop: 0.03,
         suction_temperature_rise: 3.0,
         holdoff: 0.5,
-        shift_per_event: 0.03,
-        max_shift: 0.08,
+        added_margin_per_cycle: 0.03,
+        max_added_margin: 0.08,
         trip_count: 2,
         trip_window: 60.0,
     })

@@ -209,8 +209,8 @@ proptest! {
     #[test]
     fn surge_flow_rises_with_head(h1 in 0.0_f64..2.0, dh in 0.0_f64..1.0) {
         let m = monitor::<f64>();
-        let a = m.line().lookup(h1).surge_reduced_flow_squared;
-        let b = m.line().lookup(h1 + dh).surge_reduced_flow_squared;
+        let a = m.line().lookup(h1).surge_flow_number;
+        let b = m.line().lookup(h1 + dh).surge_flow_number;
         prop_assert!(b >= a);
     }
 }
@@ -231,7 +231,7 @@ fn outside_the_mapped_heads_the_margin_is_uncertain() {
     // 10 % more flow at the same ratio (same head): SM = 0.10.
     let st = m.evaluate(&scan::<f64>(signals(1.82 * 1.1, 2.0, MAP_GAS)), 0.02);
     assert!((st.margin.value - 0.10).abs() < 1e-12);
-    assert!((st.deviation.value - (0.10 - 0.12)).abs() < 1e-12);
+    assert!((st.clearance.value - (0.10 - 0.12)).abs() < 1e-12);
     // Between speed lines the control margin is interpolated.
     let st = m.evaluate(&scan::<f64>(signals(2.0, 1.65, MAP_GAS)), 0.0);
     assert!(st.control_margin.value < 0.14 && st.control_margin.value > 0.12);

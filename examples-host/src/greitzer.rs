@@ -70,7 +70,7 @@ pub const POLYTROPIC_EXPONENT: f64 = 1.5;
 /// Assumed polytropic efficiency for the recycle power, -.
 pub const EFFICIENCY: f64 = 0.8;
 /// Controller rate allowance, s.
-pub const RATE_ALLOWANCE: f64 = 1.0;
+pub const ANTICIPATION_TIME: f64 = 1.0;
 /// Integration step, s.
 pub const STEP: f64 = 0.0005;
 
@@ -273,8 +273,8 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
         discharge_pressure_drop: 0.02,
         suction_temperature_rise: 3.0,
         holdoff: 0.5,
-        shift_per_event: 0.03,
-        max_shift: 0.09,
+        added_margin_per_cycle: 0.03,
+        max_added_margin: 0.09,
         trip_count: 3,
         trip_window: 60.0,
     })?;
@@ -285,12 +285,12 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
             integral_time: 2.0,
             closing_rate: 0.05,
             step: 0.15,
-            step_line_fraction: 0.5,
-            step_interval: 1.0,
+            quick_open_fraction: 0.5,
+            quick_open_interval: 1.0,
             min_output: 0.0,
             max_output: 1.0,
             fail_safe_output: 1.0,
-            rate_allowance: RATE_ALLOWANCE,
+            anticipation_time: ANTICIPATION_TIME,
         },
         if sc.protection {
             Mode::Automatic
@@ -332,7 +332,7 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
                 discharge_pressure: Measured::good(PressureAbs::from_pa(pd)),
                 suction_temperature: None,
             });
-            shift = det.control_line_shift;
+            shift = det.added_margin;
             let st = *monitor.update(&surge_scan(meas), shift);
             let c = controller.update(&st, &inputs);
             demand = c.demand.value;
@@ -341,7 +341,7 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
             let recycle_mass =
                 rho_d * valve_flow(RECYCLE_GAMMA * position, psi).max(0.0) * TIP_SPEED * DUCT_AREA;
             let work =
-                true_state.reduced_head.value * RU / MOLAR_MASS * SUCTION_TEMPERATURE / EFFICIENCY;
+                true_state.head_number.value * RU / MOLAR_MASS * SUCTION_TEMPERATURE / EFFICIENCY;
             let loss = recycle_power(Measured::good(recycle_mass), Measured::good(work));
             out.events = det.event_count;
             out.trip |= det.trip_request;

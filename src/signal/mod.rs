@@ -22,9 +22,12 @@
 //! diagnostics, the machine maker's data and licensed practice.
 //!
 //! Time is a millisecond counter passed in by the caller (no clocks in the
-//! kernel); it must advance between samples of one channel.
+//! kernel); it should advance between samples of one channel. A frozen,
+//! backward or jumping counter is handled by [`clock`]: it ends in bad (frozen)
+//! or in a bounded uncertain resynchronisation, never in a stuck channel.
 
 pub mod channel;
+pub mod clock;
 pub mod cross_check;
 pub mod events;
 pub mod filter;
@@ -81,6 +84,9 @@ pub enum FaultCode {
     OutsideValidity = 13,
     /// A derived value whose input was bad.
     InputBad = 14,
+    /// The sample clock stepped back and the channel resynchronised; the
+    /// first samples after it are uncertain (see [`clock`]).
+    ClockStep = 15,
 }
 
 impl FaultCode {
@@ -90,7 +96,7 @@ impl FaultCode {
         match self {
             None => Quality::Good,
             Ne43SaturatedLow | Ne43SaturatedHigh | Frozen | CrossCheck | ZeroOffset
-            | OutsideValidity => Quality::Uncertain,
+            | OutsideValidity | ClockStep => Quality::Uncertain,
             Ne43FailureLow | Ne43FailureHigh | SignalOutOfRange | NotFinite | TimeNotAdvancing
             | OutOfRange | Spike | InputBad => Quality::Bad,
         }
