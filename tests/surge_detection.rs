@@ -18,9 +18,11 @@ const DT: f64 = 0.01;
 fn config() -> DetectionConfig<f64> {
     DetectionConfig {
         scan_period: DT,
+        window: 0.16,
+        flow_lag: 0.0,
         flow_dp_drop: 0.5,
         min_flow_dp: 500.0,
-        discharge_pressure_drop: 0.03,
+        pressure_rise_drop: 0.05,
         suction_temperature_rise: 3.0,
         holdoff: 0.5,
         added_margin_per_cycle: 0.03,
@@ -33,6 +35,7 @@ fn config() -> DetectionConfig<f64> {
 fn scan(dp: f64, pd: f64, ts: Option<f64>) -> DetectionScan<f64> {
     DetectionScan {
         flow_dp: Measured::good(dp),
+        suction_pressure: Measured::good(PressureAbs::from_pa(1.0e5)),
         discharge_pressure: Measured::good(PressureAbs::from_pa(pd)),
         suction_temperature: ts.map(|t| Measured::good(Kelvin::new(t))),
     }
@@ -43,7 +46,7 @@ fn scan(dp: f64, pd: f64, ts: Option<f64>) -> DetectionScan<f64> {
 fn surge_cycle(d: &mut SurgeDetector<f64, 16, 4>, with_pressure: bool, ts_rise: f64) -> u32 {
     let mut hits = 0;
     let mut feed = |d: &mut SurgeDetector<f64, 16, 4>, dp: f64, pd: f64, ts: f64| {
-        if d.update(&scan(dp, pd, Some(ts))).surge_this_scan {
+        if d.update(&scan(dp, pd, Some(ts)), DT).surge_this_scan {
             hits += 1;
         }
     };
@@ -109,7 +112,7 @@ fn three_cycles_in_a_minute_request_a_trip_and_resets_work() {
     // Two cycles more than a minute apart do not trip.
     surge_cycle(&mut d, true, 0.0);
     for _ in 0..6100 {
-        d.update(&scan(5000.0, 3.0e5, None));
+        d.update(&scan(5000.0, 3.0e5, None), DT);
     }
     surge_cycle(&mut d, true, 0.0);
     surge_cycle(&mut d, true, 0.0);
@@ -121,9 +124,11 @@ fn three_cycles_in_a_minute_request_a_trip_and_resets_work() {
 fn bad_data_blinds_without_panic_and_config_is_checked() {
     let mut d = SurgeDetector::<f32, 8, 2>::new(DetectionConfig {
         scan_period: 0.01,
+        window: 0.08,
+        flow_lag: 0.0,
         flow_dp_drop: 0.5,
         min_flow_dp: 500.0,
-        discharge_pressure_drop: 0.03,
+        pressure_rise_drop: 0.05,
         suction_temperature_rise: 3.0,
         holdoff: 0.5,
         added_margin_per_cycle: 0.03,
@@ -135,9 +140,10 @@ fn bad_data_blinds_without_panic_and_config_is_checked() {
     for v in [f32::NAN, f32::INFINITY, -1.0] {
         let s = d.update(&DetectionScan {
             flow_dp: Measured::new(v, Quality::Bad),
+            suction_pressure: Measured::good(PressureAbs::from_pa(1.0e5)),
             discharge_pressure: Measured::good(PressureAbs::from_pa(v)),
             suction_temperature: None,
-        });
+        }, 0.01);
         assert!(s.blind && !s.surge_this_scan);
     }
     let mut c = config();
@@ -145,7 +151,7 @@ fn bad_data_blinds_without_panic_and_config_is_checked() {
     assert_eq!(
         SurgeDetector::<f64, 16, 4>::new(c).err(),
         Some(ConfigError::SurgeSetting {
-            field: "trip_count"
+            field: "surge_detection.trip_count"
         })
     );
     let mut c = config();
@@ -153,7 +159,7 @@ fn bad_data_blinds_without_panic_and_config_is_checked() {
     assert_eq!(
         SurgeDetector::<f64, 16, 4>::new(c).err(),
         Some(ConfigError::SurgeSetting {
-            field: "flow_dp_drop"
+            field: "surge_detection.flow_dp_drop"
         })
     );
 }

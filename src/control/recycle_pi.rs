@@ -21,11 +21,12 @@
 //! ```text
 //! s_a = max(T_a · (a − a_0),  s_a,prev · T_a / (T_a + dt))   (a good; else decays)
 //! e   = s_a − c                                  (> 0: open further)
-//! I   = clamp(I + K · dt / T_i · e, u_min, u_max)   (no integration into a held limit)
-//! u   = clamp(K · e + I, u_min, u_max)
-//! u   = max(u, u_prev − r_close · dt)            (net demand closes slowly)
+//! I   = clamp(I + K · dt / T_i · e, u_min, u_max)
+//! v   = clamp(K · e + I, u_min, u_max)            (unlimited demand)
+//! u   = max(v, u_prev − r_close · dt)            (net demand closes slowly)
 //! if m < f_q · (m_c + s_a) and the quick-open timer ran out:
 //!     u = max(u, min(u_prev + Δu_q, u_max))      (open fast)
+//! I   = clamp(I + dt / T_t · (u − v), u_min, u_max)   (tracking, T_t = T_i)
 //! ```
 //!
 //! Why this shape. The earlier velocity form added `K · (e − e_prev)` to the
@@ -33,10 +34,14 @@
 //! noise on the raw margin was rectified into opening (a valve 25 % in flow
 //! on the safe side crept open). Here the proportional and integral terms
 //! are computed from the margin alone and never from the rate-limited
-//! output, so noise moves the unlimited demand `K·e + I` symmetrically about
-//! its mean; far from the line that demand sits below `u_min` and the valve
-//! stays shut. Near the line the rate limit lifts the output by roughly the
-//! proportional noise band, which the integral then removes. The
+//! output, so noise moves the unlimited demand `v` symmetrically about its
+//! mean; far from the line `v` sits at `u_min` and the valve stays shut.
+//! The integral follows the limited output only through the tracking term
+//! with time constant `T_t = T_i` (back-calculation; Åström & Hägglund
+//! recommend `T_t` up to `T_i`), so a slow close after a fast opening hands
+//! over to the PI without a limit cycle, while near the line the noise
+//! envelope the rate limit leaves (about the proportional noise band) shifts
+//! the settled margin by only `band / K` to the safe side. The
 //! anticipation margin `s_a` moves the control line out while the point
 //! approaches surge faster than `a_0` and then decays with time constant
 //! `T_a`, so the loop settles on the control line (no lasting rate term) and
@@ -277,20 +282,14 @@ impl<T: Real> RecycleController<T> {
             && T::is_finite(state.control_margin.value);
         let margin_q = if finite { margin_q } else { Quality::Bad };
 
-        // Anticipation: from a good rate only; otherwise it decays.
-        let decayed = if c.anticipation_time > T::ZERO {
-            self.anticipation * c.anticipation_time / (c.anticipation_time + dt)
-        } else {
-            T::ZERO
-        };
+        // Anticipation: from a good rate only.
         let rate = state.rate_of_approach;
         let rate_used = rate.quality.is_good() && T::is_finite(rate.value);
-        let target = if rate_used {
+        self.anticipation = if rate_used {
             c.anticipation_time * T::max(rate.value - c.anticipation_threshold, T::ZERO)
         } else {
             T::ZERO
         };
-        self.anticipation = T::max(decayed, target);
         let error = self.anticipation - state.clearance.value;
 
         let mut out = ControllerOutput {
@@ -385,6 +384,7 @@ impl<T: Real> RecycleController<T> {
         if !T::is_finite(u) {
             u = prev;
         }
+        let unlimited = u;
         let floor = prev - c.closing_rate * dt;
         if u < floor {
             u = floor;
@@ -398,6 +398,14 @@ impl<T: Real> RecycleController<T> {
             }
             out.quick_opened = true;
             self.quick_open_timer = c.quick_open_interval;
+        }
+        // Back-calculation: the integral follows the limited output with
+        // the tracking time constant T_t = T_i, so a long slow close hands
+        // over to the PI without a limit cycle, while a one-scan noise
+        // excursion moves it by only dt/T_i of the difference.
+        let tracked = self.integral + dt / c.integral_time * (u - unlimited);
+        if T::is_finite(tracked) {
+            self.integral = T::clamp(tracked, c.min_output, c.max_output);
         }
         u
     }
