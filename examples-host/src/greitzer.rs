@@ -263,6 +263,10 @@ pub struct Sample {
     pub demand: f64,
     /// Valve position, 0..1.
     pub position: f64,
+    /// Recycle mass flow, kg/s.
+    pub recycle_mass_flow: f64,
+    /// Throttle flow coefficient Φt.
+    pub throttle_flow: f64,
     /// Power spent recirculating, kW.
     pub recycle_power_kw: f64,
     /// Surge events counted.
@@ -282,6 +286,8 @@ pub struct Outcome {
     pub min_flow: f64,
     /// Sign changes of the compressor flow (flow reversals and recoveries).
     pub flow_sign_changes: u32,
+    /// Flow reversals (forward to reverse): one per deep-surge cycle.
+    pub flow_reversals: u32,
     /// Surge cycles the kernel's detector counted.
     pub events: u32,
     /// Trip requested by the detector.
@@ -352,6 +358,12 @@ pub fn steady_point(gamma: f64) -> (f64, f64) {
     }
     let phi = 0.5 * (lo + hi);
     (phi, characteristic(phi))
+}
+
+/// Throttle γt at time `t`: the load loss schedule.
+fn throttle_at(sc: &Scenario, t: f64) -> f64 {
+    let f = ((t - sc.load_loss_at) / sc.load_loss_time).clamp(0.0, 1.0);
+    sc.throttle_before + f * (sc.throttle_after - sc.throttle_before)
 }
 
 /// Runs one scenario.
@@ -504,6 +516,8 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
                 anticipation: c.anticipation,
                 demand,
                 position,
+                recycle_mass_flow: recycle_mass,
+                throttle_flow: valve_flow(throttle_at(sc, t), psi),
                 recycle_power_kw: loss.value / 1e3,
                 events: det.event_count,
                 trip: det.trip_request,
@@ -514,9 +528,7 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
         let delayed = delay.pop_front().unwrap_or(demand);
         let max_move = STEP / sc.valve_stroke_time;
         position += (delayed - position).clamp(-max_move, max_move);
-        // Throttle schedule: the load loss.
-        let f = ((t - sc.load_loss_at) / sc.load_loss_time).clamp(0.0, 1.0);
-        let gamma_t = sc.throttle_before + f * (sc.throttle_after - sc.throttle_before);
+        let gamma_t = throttle_at(sc, t);
         let gamma_r = RECYCLE_GAMMA * position;
         // RK4 on (Φc, Ψ) in Greitzer time.
         let deriv = |phi: f64, psi: f64| {
@@ -539,6 +551,7 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
         let sign = phi >= 0.0;
         if sign != last_sign {
             out.flow_sign_changes += 1;
+            out.flow_reversals += u32::from(!sign);
             last_sign = sign;
         }
         if t >= sc.load_loss_at {

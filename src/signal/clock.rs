@@ -14,7 +14,9 @@
 //!   to the new stamp (one estimated period counts), and the caller marks a
 //!   bounded number of samples uncertain.
 //!
-//! The period estimate is the last normal interval (1 ms before any).
+//! The period estimate is the last normal interval (1 ms before any). The
+//! first interval after a start or reset is never a gap: it sets the
+//! estimate.
 
 /// What one stamp did.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -37,7 +39,7 @@ pub enum Tick {
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct SampleClock {
     last_ms: Option<u64>,
-    period_ms: u64,
+    period_ms: Option<u64>,
 }
 
 impl SampleClock {
@@ -45,13 +47,19 @@ impl SampleClock {
     pub const fn new() -> Self {
         SampleClock {
             last_ms: None,
-            period_ms: 1,
+            period_ms: None,
         }
     }
 
-    /// The estimated sample period, ms (at least 1).
+    /// The estimated sample period, ms (at least 1; 1 before any normal
+    /// interval was seen).
     pub fn period_ms(&self) -> u64 {
-        self.period_ms.max(1)
+        self.period_ms.unwrap_or(1).max(1)
+    }
+
+    /// `true` once a normal interval has given a period estimate.
+    pub fn has_period(&self) -> bool {
+        self.period_ms.is_some()
     }
 
     /// Classifies stamp `t_ms`, with a gap above `gap_ms`, and returns the
@@ -64,10 +72,10 @@ impl SampleClock {
         if t_ms > last {
             let dt = t_ms - last;
             self.last_ms = Some(t_ms);
-            if dt > gap_ms {
+            if dt > gap_ms && self.period_ms.is_some() {
                 (Tick::Gap, dt)
             } else {
-                self.period_ms = dt;
+                self.period_ms = Some(dt);
                 (Tick::Normal, dt)
             }
         } else if t_ms == last {
