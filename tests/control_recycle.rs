@@ -16,7 +16,7 @@ use polytrope::control::{
     ControllerInputs, Mode, RecycleConfig, RecycleController, UncertainMargin,
 };
 use polytrope::surge::SurgeState;
-use polytrope::{ConfigError, Measured, Quality};
+use polytrope::{Measured, Problem, Quality};
 
 const DT: f64 = 0.02;
 
@@ -175,9 +175,11 @@ fn settings_are_validated_with_the_field_named() {
     let err = |f: &dyn Fn(&mut RecycleConfig<f64>)| {
         let mut cfg = config();
         f(&mut cfg);
-        RecycleController::new(cfg, Mode::Automatic, 0.0).err()
+        RecycleController::new(cfg, Mode::Automatic, 0.0)
+            .err()
+            .map(|e| e.field)
     };
-    let named = |field: &'static str| Some(ConfigError::SurgeSetting { field });
+    let named = |field: &'static str| Some(field);
     assert_eq!(err(&|_| ()), None);
     assert_eq!(err(&|c| c.integral_time = 0.0), named("recycle.integral_time"));
     assert_eq!(err(&|c| c.max_output = 0.0), named("recycle.max_output"));
@@ -206,6 +208,19 @@ fn settings_are_validated_with_the_field_named() {
     assert_eq!(err(&|c| c.gain = f64::NAN), named("recycle.gain"));
     assert_eq!(err(&|c| c.anticipation_time = 1e3), named("recycle.anticipation_time"));
     assert_eq!(err(&|c| c.quick_open_fraction = 1.0), named("recycle.quick_open_fraction"));
+    // The problem says what is wrong, with the range.
+    let mut cfg = config();
+    cfg.fail_safe_output = 0.5;
+    let e = RecycleController::new(cfg, Mode::Automatic, 0.0).err().unwrap();
+    assert_eq!(e.problem, Problem::OutOfRange { min: 1.0, max: 1.0 });
+    let mut cfg = config();
+    cfg.gain = f64::NAN;
+    let e = RecycleController::new(cfg, Mode::Automatic, 0.0).err().unwrap();
+    assert_eq!(e.problem, Problem::NotFinite);
+    let mut cfg = config();
+    cfg.max_output = 0.0;
+    let e = RecycleController::new(cfg, Mode::Automatic, 0.0).err().unwrap();
+    assert!(matches!(e.problem, Problem::NotAbove { .. }));
 }
 
 #[test]

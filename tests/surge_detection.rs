@@ -150,16 +150,16 @@ fn bad_data_blinds_without_panic_and_config_is_checked() {
     c.trip_count = 5; // more than the 4 event slots
     assert_eq!(
         SurgeDetector::<f64, 16, 4>::new(c).err(),
-        Some(ConfigError::SurgeSetting {
-            field: "surge_detection.trip_count"
-        })
+        Some(ConfigError::out_of_range("surge_detection.trip_count", 1.0, 4.0))
     );
     let mut c = config();
     c.flow_dp_drop = 1.2;
     assert_eq!(
         SurgeDetector::<f64, 16, 4>::new(c).err(),
-        Some(ConfigError::SurgeSetting {
-            field: "surge_detection.flow_dp_drop"
-        })
+        Some(ConfigError::out_of_range(
+            "surge_detection.flow_dp_drop",
+            0.05,
+            0.95
+        ))
     );
 }

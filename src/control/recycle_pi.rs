@@ -59,7 +59,7 @@
 //! **Caution.** Not a certified safety function (IEC 61508 / IEC 61511);
 //! tuning comes from commissioning tests on the machine.
 
-use crate::error::ConfigError;
+use crate::error::{ConfigError, Problem};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::surge::{check_setting, SurgeState};
@@ -207,9 +207,12 @@ impl<T: Real> RecycleController<T> {
         check_setting("recycle.min_output", c.min_output, 0.0, 0.99)?;
         check_setting("recycle.max_output", c.max_output, 0.0, 1.0)?;
         if c.max_output <= c.min_output {
-            return Err(ConfigError::SurgeSetting {
-                field: "recycle.max_output",
-            });
+            return Err(ConfigError::new(
+                "recycle.max_output",
+                Problem::NotAbove {
+                    other: "recycle.min_output",
+                },
+            ));
         }
         check_setting(
             "recycle.fail_safe_output",

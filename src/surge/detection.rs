@@ -230,9 +230,11 @@ impl<T: Real, const W: usize, const E: usize> SurgeDetector<T, W, E> {
         )?;
         check_setting("surge_detection.max_added_margin", c.max_added_margin, 0.0, 0.5)?;
         if !(c.trip_count >= 1 && usize::from(c.trip_count) <= E) {
-            return Err(ConfigError::SurgeSetting {
-                field: "surge_detection.trip_count",
-            });
+            return Err(ConfigError::out_of_range(
+                "surge_detection.trip_count",
+                1.0,
+                E as f64,
+            ));
         }
         check_setting("surge_detection.trip_window", c.trip_window, 1.0, 3600.0)?;
         let window_us = micros(c.window);

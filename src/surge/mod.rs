@@ -71,7 +71,8 @@ pub use surge_line::{
 };
 
 /// Configuration range check shared by the surge and control settings: NaN
-/// or infinity, or a value outside `[min, max]`, is refused naming `field`
+/// or infinity ([`crate::Problem::NotFinite`]) or a value outside
+/// `[min, max]` ([`crate::Problem::OutOfRange`]) is refused naming `field`
 /// (a dotted configuration path, e.g. `"recycle.gain"`).
 pub(crate) fn check_setting<T: crate::real::Real>(
     field: &'static str,
@@ -79,10 +80,5 @@ pub(crate) fn check_setting<T: crate::real::Real>(
     min: f64,
     max: f64,
 ) -> Result<T, crate::error::ConfigError> {
-    let v = value.to_f64();
-    if T::is_finite(value) && v >= min && v <= max {
-        Ok(value)
-    } else {
-        Err(crate::error::ConfigError::SurgeSetting { field })
-    }
+    crate::error::check_range(field, value, min, max)
 }
