@@ -181,11 +181,17 @@ fn settings_are_validated_with_the_field_named() {
     };
     let named = |field: &'static str| Some(field);
     assert_eq!(err(&|_| ()), None);
-    assert_eq!(err(&|c| c.integral_time = 0.0), named("recycle.integral_time"));
+    assert_eq!(
+        err(&|c| c.integral_time = 0.0),
+        named("recycle.integral_time")
+    );
     assert_eq!(err(&|c| c.max_output = 0.0), named("recycle.max_output"));
     // Issue 9, defect 4: today fail_safe_output = 0 (or below min_output)
     // is accepted, so forced-open and bad-margin fail-safe close the valve.
-    assert_eq!(err(&|c| c.fail_safe_output = 0.0), named("recycle.fail_safe_output"));
+    assert_eq!(
+        err(&|c| c.fail_safe_output = 0.0),
+        named("recycle.fail_safe_output")
+    );
     assert_eq!(
         err(&|c| {
             c.min_output = 0.2;
@@ -202,24 +208,39 @@ fn settings_are_validated_with_the_field_named() {
     );
     // Issue 9: nonsense accepted today (scan period 1e-30 or 1e30 s, gain
     // 1e30).
-    assert_eq!(err(&|c| c.scan_period = 1e-30), named("recycle.scan_period"));
+    assert_eq!(
+        err(&|c| c.scan_period = 1e-30),
+        named("recycle.scan_period")
+    );
     assert_eq!(err(&|c| c.scan_period = 1e30), named("recycle.scan_period"));
     assert_eq!(err(&|c| c.gain = 1e30), named("recycle.gain"));
     assert_eq!(err(&|c| c.gain = f64::NAN), named("recycle.gain"));
-    assert_eq!(err(&|c| c.anticipation_time = 1e3), named("recycle.anticipation_time"));
-    assert_eq!(err(&|c| c.quick_open_fraction = 1.0), named("recycle.quick_open_fraction"));
+    assert_eq!(
+        err(&|c| c.anticipation_time = 1e3),
+        named("recycle.anticipation_time")
+    );
+    assert_eq!(
+        err(&|c| c.quick_open_fraction = 1.0),
+        named("recycle.quick_open_fraction")
+    );
     // The problem says what is wrong, with the range.
     let mut cfg = config();
     cfg.fail_safe_output = 0.5;
-    let e = RecycleController::new(cfg, Mode::Automatic, 0.0).err().unwrap();
+    let e = RecycleController::new(cfg, Mode::Automatic, 0.0)
+        .err()
+        .unwrap();
     assert_eq!(e.problem, Problem::OutOfRange { min: 1.0, max: 1.0 });
     let mut cfg = config();
     cfg.gain = f64::NAN;
-    let e = RecycleController::new(cfg, Mode::Automatic, 0.0).err().unwrap();
+    let e = RecycleController::new(cfg, Mode::Automatic, 0.0)
+        .err()
+        .unwrap();
     assert_eq!(e.problem, Problem::NotFinite);
     let mut cfg = config();
     cfg.max_output = 0.0;
-    let e = RecycleController::new(cfg, Mode::Automatic, 0.0).err().unwrap();
+    let e = RecycleController::new(cfg, Mode::Automatic, 0.0)
+        .err()
+        .unwrap();
     assert!(matches!(e.problem, Problem::NotAbove { .. }));
 }
 

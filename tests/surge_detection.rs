@@ -138,19 +138,26 @@ fn bad_data_blinds_without_panic_and_config_is_checked() {
     })
     .unwrap();
     for v in [f32::NAN, f32::INFINITY, -1.0] {
-        let s = d.update(&DetectionScan {
-            flow_dp: Measured::new(v, Quality::Bad),
-            suction_pressure: Measured::good(PressureAbs::from_pa(1.0e5)),
-            discharge_pressure: Measured::good(PressureAbs::from_pa(v)),
-            suction_temperature: None,
-        }, 0.01);
+        let s = d.update(
+            &DetectionScan {
+                flow_dp: Measured::new(v, Quality::Bad),
+                suction_pressure: Measured::good(PressureAbs::from_pa(1.0e5)),
+                discharge_pressure: Measured::good(PressureAbs::from_pa(v)),
+                suction_temperature: None,
+            },
+            0.01,
+        );
         assert!(s.blind && !s.surge_this_scan);
     }
     let mut c = config();
     c.trip_count = 5; // more than the 4 event slots
     assert_eq!(
         SurgeDetector::<f64, 16, 4>::new(c).err(),
-        Some(ConfigError::out_of_range("surge_detection.trip_count", 1.0, 4.0))
+        Some(ConfigError::out_of_range(
+            "surge_detection.trip_count",
+            1.0,
+            4.0
+        ))
     );
     let mut c = config();
     c.flow_dp_drop = 1.2;

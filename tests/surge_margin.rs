@@ -282,7 +282,11 @@ fn rate_of_approach_and_time_to_surge_from_a_ramp() {
     }
     let st = last.unwrap();
     assert_eq!(st.rate_of_approach.quality, Quality::Good);
-    assert!((st.rate_of_approach.value - 0.5).abs() < 1e-6, "{}", st.rate_of_approach.value);
+    assert!(
+        (st.rate_of_approach.value - 0.5).abs() < 1e-6,
+        "{}",
+        st.rate_of_approach.value
+    );
     assert!((st.time_to_surge.value - st.margin.value / st.rate_of_approach.value).abs() < 1e-9);
     // The same ramp sampled every 40 ms (a missed scan each time) gives the
     // same rate: the filter works in seconds.

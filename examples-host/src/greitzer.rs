@@ -155,7 +155,11 @@ impl Gauss {
     /// A generator from a seed (0 is replaced).
     pub fn new(seed: u64) -> Self {
         Gauss {
-            state: if seed == 0 { 0x9e37_79b9_7f4a_7c15 } else { seed },
+            state: if seed == 0 {
+                0x9e37_79b9_7f4a_7c15
+            } else {
+                seed
+            },
             spare: None,
         }
     }

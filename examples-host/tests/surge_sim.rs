@@ -145,7 +145,8 @@ fn each_surge_cycle_counts_once_at_every_scan_period() {
             .unwrap();
             assert!(out.flow_reversals >= 6, "{ms} ms");
             assert_eq!(
-                out.events, out.flow_reversals,
+                out.events,
+                out.flow_reversals,
                 "{ms} ms, noise {}",
                 noise.is_some()
             );

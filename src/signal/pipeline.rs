@@ -180,9 +180,9 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             (T::ZERO, T::ZERO)
         } else {
             let m = self.median.update(v);
-            let f = self
-                .low_pass
-                .update(m, self.filter_time_ms, self.config.filter_time_constant_s);
+            let f =
+                self.low_pass
+                    .update(m, self.filter_time_ms, self.config.filter_time_constant_s);
             (v, f)
         };
         let s = self

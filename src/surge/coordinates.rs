@@ -88,11 +88,7 @@ pub fn z_r_t<T: Real>(compressibility: T, molar_mass: T, suction_temperature: T)
 /// Flow number of a map point given as actual volume flow at
 /// suction `Qs` (m³/s): `X = (Qs / C)² / (Z R Ts)`, `C` in m².
 #[inline]
-pub fn flow_number_from_volume_flow<T: Real>(
-    volume_flow: T,
-    flow_coefficient: T,
-    z_r_t: T,
-) -> T {
+pub fn flow_number_from_volume_flow<T: Real>(volume_flow: T, flow_coefficient: T, z_r_t: T) -> T {
     let v = volume_flow / flow_coefficient;
     v * v / z_r_t
 }

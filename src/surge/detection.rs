@@ -228,7 +228,12 @@ impl<T: Real, const W: usize, const E: usize> SurgeDetector<T, W, E> {
             0.0,
             0.2,
         )?;
-        check_setting("surge_detection.max_added_margin", c.max_added_margin, 0.0, 0.5)?;
+        check_setting(
+            "surge_detection.max_added_margin",
+            c.max_added_margin,
+            0.0,
+            0.5,
+        )?;
         if !(c.trip_count >= 1 && usize::from(c.trip_count) <= E) {
             return Err(ConfigError::out_of_range(
                 "surge_detection.trip_count",
@@ -335,9 +340,8 @@ impl<T: Real, const W: usize, const E: usize> SurgeDetector<T, W, E> {
         };
         if !self.state.armed {
             self.low_since_event = T::min(self.low_since_event, s.dp);
-            let recovered = s.dp
-                >= self.low_since_event
-                    + T::of(0.5) * c.flow_dp_drop * self.peak_at_event;
+            let recovered =
+                s.dp >= self.low_since_event + T::of(0.5) * c.flow_dp_drop * self.peak_at_event;
             if self.now_us >= self.holdoff_until_us && recovered {
                 self.state.armed = true;
                 self.clear_window();

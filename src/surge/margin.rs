@@ -265,18 +265,19 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         let pd = scan.discharge_pressure.map(|p| p.pa());
         let dp = scan.flow_dp;
         let usable = |m: Measured<T>| m.quality.is_usable() && T::is_finite(m.value);
-        let inputs_ok = usable(ps)
-            && ps.value > T::ZERO
-            && usable(pd)
-            && pd.value > T::ZERO
-            && usable(dp);
+        let inputs_ok =
+            usable(ps) && ps.value > T::ZERO && usable(pd) && pd.value > T::ZERO && usable(dp);
         if !inputs_ok {
             return (Measured::bad(), Measured::bad(), SurgeFault::InputBad);
         }
         let x = flow_number(dp.value, ps.value);
         let ratio = pd.value / ps.value;
         if !(T::is_finite(x) && T::abs(x) <= T::of(FLOW_DP_RATIO_IMPOSSIBLE)) {
-            return (Measured::bad(), Measured::bad(), SurgeFault::FlowDpImpossible);
+            return (
+                Measured::bad(),
+                Measured::bad(),
+                SurgeFault::FlowDpImpossible,
+            );
         }
         if !(T::is_finite(ratio) && ratio >= T::ONE) {
             return (
@@ -314,7 +315,8 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         }
         let lq = look.quality.worst(y.quality);
         let surge_q = T::sqrt(look.surge_flow_number);
-        let margin = Measured::derived(signed_sqrt(x.value) / surge_q - T::ONE, lq.worst(x.quality));
+        let margin =
+            Measured::derived(signed_sqrt(x.value) / surge_q - T::ONE, lq.worst(x.quality));
         let added = if T::is_finite(added_margin) {
             T::max(added_margin, T::ZERO)
         } else {

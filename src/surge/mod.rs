@@ -67,7 +67,7 @@ pub mod surge_line;
 pub use detection::{DetectionConfig, DetectionScan, DetectionState, SurgeDetector};
 pub use margin::{MonitorConfig, SurgeFault, SurgeMonitor, SurgeScan, SurgeState};
 pub use surge_line::{
-    LineLookup, MapConditions, LinePoint, SurgeLine, SurgeLineConfig, SurgePoint,
+    LineLookup, LinePoint, MapConditions, SurgeLine, SurgeLineConfig, SurgePoint,
 };
 
 /// Configuration range check shared by the surge and control settings: NaN
