@@ -21,7 +21,7 @@ use polytrope::surge::{
 use polytrope::units::{Kelvin, PressureAbs};
 use polytrope::{Measured, Quality};
 
-const RU: f64 = 8314.462618153241; // J/(kmol K), CODATA 2018 (exact)
+const RU: f64 = 8_314.462_618_153_24; // J/(kmol K), CODATA 2018 (exact)
 const C_ELEM: f64 = 0.04; // m2, flow element coefficient in Δp = ρ (Q/C)²
 const PS: f64 = 1.0e5;
 const TS: f64 = 293.15;
