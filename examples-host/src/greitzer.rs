@@ -130,8 +130,8 @@ pub struct Noise {
 
 impl Noise {
     /// Stated realistic levels (common practice, from memory): flow element
-    /// Δp 1 % of the design reading (turbulence at the tappings plus the
-    /// transmitter; a fast, unfiltered Δp signal is rarely quieter), suction
+    /// Δp 0.5 % of the design reading (turbulence at the tappings plus the
+    /// transmitter, for a fast, undamped Δp signal), suction
     /// pressure 100 Pa and discharge pressure 200 Pa (about 0.05 % of a
     /// 0–2 bar and 0–4 bar span, a 0.1 %-class transmitter's resolution and
     /// noise at this bandwidth).
