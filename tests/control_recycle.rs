@@ -229,7 +229,12 @@ fn settings_are_validated_with_the_field_named() {
     let e = RecycleController::new(cfg, Mode::Automatic, 0.0)
         .err()
         .unwrap();
-    assert_eq!(e.problem, Problem::OutOfRange { min: 1.0, max: 1.0 });
+    assert_eq!(
+        e.problem,
+        Problem::Inconsistent {
+            with: "recycle.max_output"
+        }
+    );
     let mut cfg = config();
     cfg.gain = f64::NAN;
     let e = RecycleController::new(cfg, Mode::Automatic, 0.0)

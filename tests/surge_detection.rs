@@ -72,7 +72,7 @@ fn surge_cycle(d: &mut SurgeDetector<f64, 16, 4>, with_pressure: bool, ts_rise: 
 }
 
 #[test]
-fn one_cycle_counts_once_and_shifts_the_control_line() {
+fn one_cycle_counts_once_and_adds_margin_to_the_control_line() {
     let mut d = SurgeDetector::<f64, 16, 4>::new(config()).unwrap();
     assert_eq!(surge_cycle(&mut d, true, 0.0), 1);
     let s = *d.state();

@@ -71,7 +71,7 @@ pub const SUCTION_TEMPERATURE: f64 = 293.15;
 pub const MOLAR_MASS: f64 = 28.96;
 /// Suction flow element coefficient C in Δp = ρ (Q/C)², m².
 pub const FLOW_COEFFICIENT: f64 = 0.35;
-/// Polytropic exponent for the reduced head.
+/// Polytropic exponent for the head number.
 pub const POLYTROPIC_EXPONENT: f64 = 1.5;
 /// Assumed polytropic efficiency for the recycle power, -.
 pub const EFFICIENCY: f64 = 0.8;
@@ -257,7 +257,7 @@ pub struct Sample {
     pub margin_true: f64,
     /// Surge margin the controller saw (lagged flow).
     pub margin_measured: f64,
-    /// Effective control margin (with shift after surge events).
+    /// Effective control margin (with margin added after surge events).
     pub control_margin: f64,
     /// Rate of approach the controller saw, 1/s.
     pub rate_of_approach: f64,

@@ -214,12 +214,16 @@ impl<T: Real> RecycleController<T> {
                 },
             ));
         }
-        check_setting(
-            "recycle.fail_safe_output",
-            c.fail_safe_output,
-            c.max_output.to_f64(),
-            1.0,
-        )?;
+        check_setting("recycle.fail_safe_output", c.fail_safe_output, 0.0, 1.0)?;
+        if c.fail_safe_output < c.max_output {
+            // Fail-safe must be at least as open as automatic may go.
+            return Err(ConfigError::new(
+                "recycle.fail_safe_output",
+                Problem::Inconsistent {
+                    with: "recycle.max_output",
+                },
+            ));
+        }
         check_setting("recycle.anticipation_time", c.anticipation_time, 0.0, 10.0)?;
         check_setting(
             "recycle.anticipation_threshold",

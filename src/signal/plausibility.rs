@@ -60,7 +60,10 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
             return FaultCode::OutOfRange;
         }
         if let Some(last) = self.last_accepted {
-            let dt_s = T::of(self.since_accepted_ms as f64) * T::of(1.0e-3);
+            // Through u32 (saturating at 49 days): an exact u32 -> f64 lets
+            // the f32 build convert in one instruction.
+            let ms = u32::try_from(self.since_accepted_ms).unwrap_or(u32::MAX);
+            let dt_s = T::of(f64::from(ms)) * T::of(1.0e-3);
             if T::abs(v - last) > cfg.max_rate * dt_s {
                 return FaultCode::Spike;
             }

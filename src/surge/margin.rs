@@ -50,7 +50,7 @@
 use super::check_setting;
 use super::coordinates::{flow_number, head_number, signed_sqrt};
 use super::surge_line::SurgeLine;
-use crate::error::ConfigError;
+use crate::error::{ConfigError, Problem};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::units::PressureAbs;
@@ -230,9 +230,17 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         check_setting(
             "surge_monitor.rate_filter_time",
             config.rate_filter_time,
-            config.scan_period.to_f64(),
+            5.0e-4,
             2.0,
         )?;
+        if config.rate_filter_time < config.scan_period {
+            return Err(ConfigError::new(
+                "surge_monitor.rate_filter_time",
+                Problem::Inconsistent {
+                    with: "surge_monitor.scan_period",
+                },
+            ));
+        }
         Ok(SurgeMonitor {
             line,
             config,
