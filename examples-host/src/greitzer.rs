@@ -192,6 +192,9 @@ impl Gauss {
 pub struct Scenario {
     /// Measurement noise (None: exact signals).
     pub noise: Option<Noise>,
+    /// Greitzer B of the run at the same tip speed (plenum volume changes
+    /// the Helmholtz frequency); [`B`] by default.
+    pub greitzer_b: f64,
     /// Controller anticipation time, s.
     pub anticipation_time: f64,
     /// Controller anticipation threshold, 1/s.
@@ -227,6 +230,7 @@ impl Default for Scenario {
     fn default() -> Self {
         Scenario {
             noise: None,
+            greitzer_b: B,
             anticipation_time: ANTICIPATION_TIME,
             anticipation_threshold: ANTICIPATION_THRESHOLD,
             rate_filter_time: RATE_FILTER_TIME,
@@ -446,7 +450,9 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
     let mut delay: VecDeque<f64> = VecDeque::from(vec![0.0; delay_steps.max(1)]);
     let scan_steps = ((sc.scan_period / STEP).round() as usize).max(1);
     let total = (sc.duration / STEP).round() as usize;
-    let dtn = STEP * OMEGA_H;
+    // Greitzer B of this run at the same tip speed: ω_H = U / (2 B Lc).
+    let b = sc.greitzer_b;
+    let dtn = STEP * TIP_SPEED / (2.0 * b * DUCT_LENGTH);
     let mut demand = 0.0;
     let mut out = Outcome {
         min_margin: f64::INFINITY,
@@ -537,8 +543,8 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
         // RK4 on (Φc, Ψ) in Greitzer time.
         let deriv = |phi: f64, psi: f64| {
             (
-                B * (characteristic(phi) - psi),
-                (phi - valve_flow(gamma_t, psi) - valve_flow(gamma_r, psi)) / B,
+                b * (characteristic(phi) - psi),
+                (phi - valve_flow(gamma_t, psi) - valve_flow(gamma_r, psi)) / b,
             )
         };
         let k1 = deriv(phi, psi);
