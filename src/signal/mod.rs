@@ -3,8 +3,9 @@
 //! [`FaultCode`] saying why not good.
 //!
 //! Per channel ([`Channel`]): scaling ([`channel`]), NAMUR NE 43 current
-//! diagnostics ([`ne43`]), plausibility — not finite, sample time not
-//! advancing, range, rate of change (spike), frozen value ([`plausibility`],
+//! diagnostics ([`ne43`]), the sample clock — frozen, stepped back or
+//! jumping stamps ([`clock`]) — plausibility — not finite, range, rate of
+//! change (spike), frozen value ([`plausibility`],
 //! with instrument tolerances from IEC 60751 in [`rtd_class`]) — filtering
 //! (short median, then first-order low-pass, [`filter`]) and substitution
 //! (hold the last good value as uncertain, then bad, [`substitution`]).
