@@ -7,11 +7,11 @@
 //! check that the transmitter reads zero; a zero offset that persists is
 //! flagged ([`FaultCode::ZeroOffset`]) until a later no-flow check passes.
 
+use crate::clock::SampleClock;
 use crate::error::{check_range, ConfigError};
+use crate::quality::FaultCode;
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
-use crate::signal::clock::SampleClock;
-use crate::signal::FaultCode;
 
 /// Settings of the cut-off and the zero check.
 #[derive(Clone, Copy, Debug, PartialEq)]
