@@ -105,11 +105,11 @@ fn signals(q_ref: f64, r_ref: f64, gas: Gas) -> (f64, f64, f64) {
 }
 
 fn scan<T: Real>(s: (f64, f64, f64)) -> SurgeScan<T> {
-    SurgeScan {
-        suction_pressure: Measured::good(PressureAbs::from_pa(T::of(s.0))),
-        discharge_pressure: Measured::good(PressureAbs::from_pa(T::of(s.1))),
-        flow_dp: Measured::good(T::of(s.2)),
-    }
+    SurgeScan::pressures_only(
+        Measured::good(PressureAbs::from_pa(T::of(s.0))),
+        Measured::good(PressureAbs::from_pa(T::of(s.1))),
+        Measured::good(T::of(s.2)),
+    )
 }
 
 fn margin<T: Real>(m: &SurgeMonitor<T, 6>, s: (f64, f64, f64)) -> (f64, Quality) {

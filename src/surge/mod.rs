@@ -49,11 +49,11 @@
 //! })?;
 //! let mut monitor = SurgeMonitor::<f64, 4>::new(line, MonitorConfig {
 //!     scan_period: 0.02, time_to_surge_horizon: 60.0, rate_filter_time: 0.1 })?;
-//! let state = monitor.update(&SurgeScan {
-//!     suction_pressure: Measured::good(PressureAbs::from_bar(1.0)),
-//!     discharge_pressure: Measured::good(PressureAbs::from_bar(2.2)),
-//!     flow_dp: Measured::good(2500.0),
-//! }, 0.0, 0.02);
+//! let state = monitor.update(&SurgeScan::pressures_only(
+//!     Measured::good(PressureAbs::from_bar(1.0)),
+//!     Measured::good(PressureAbs::from_bar(2.2)),
+//!     Measured::good(2500.0),
+//! ), 0.0, 0.02);
 //! assert!(state.margin.quality.is_good());
 //! assert!(state.margin.value > 0.0);
 //! # Ok::<(), polytrope::ConfigError>(())
@@ -61,10 +61,12 @@
 
 pub mod coordinates;
 pub mod detection;
+pub mod exponent;
 pub mod margin;
 pub mod surge_line;
 
 pub use detection::{DetectionConfig, DetectionScan, DetectionState, SurgeDetector};
+pub use exponent::{ExponentConfig, ExponentFault, ExponentSource, ExponentState};
 pub use margin::{MonitorConfig, SurgeFault, SurgeMonitor, SurgeScan, SurgeState};
 pub use surge_line::{
     LineLookup, LinePoint, MapConditions, SurgeLine, SurgeLineConfig, SurgePoint,

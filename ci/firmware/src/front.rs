@@ -57,11 +57,11 @@ pub fn surge_monitor() -> Result<Monitor, ConfigError> {
 /// rising), all signals good.
 pub fn surge_scan(k: u32) -> SurgeScan<f32> {
     let k = (k % 64) as f32;
-    SurgeScan {
-        suction_pressure: Measured::good(PressureAbs::from_pa(1.0e5)),
-        discharge_pressure: Measured::good(PressureAbs::from_pa(1.85e5 + 300.0 * k)),
-        flow_dp: Measured::good(2_600.0 - 15.0 * k),
-    }
+    SurgeScan::pressures_only(
+        Measured::good(PressureAbs::from_pa(1.0e5)),
+        Measured::good(PressureAbs::from_pa(1.85e5 + 300.0 * k)),
+        Measured::good(2_600.0 - 15.0 * k),
+    )
 }
 
 /// An invented suction-pressure transmitter: 4–20 mA over 0..10 bar gauge.
