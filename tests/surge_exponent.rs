@@ -196,7 +196,10 @@ fn measured_exponent_keeps_the_margin_across_real_gases() {
         // f32 device build: same answer to the surge-margin tolerance
         // (src/tolerance.rs).
         let (_, atol) = polytrope::tolerance::SURGE_MARGIN.active();
-        assert!((em32 - em).abs() < atol.max(1e-4), "{p:?} f32 {em32} f64 {em}");
+        assert!(
+            (em32 - em).abs() < atol.max(1e-4),
+            "{p:?} f32 {em32} f64 {em}"
+        );
         let w = worst.entry(p.case.clone()).or_insert((0.0, 0.0));
         if ec.abs() > w.0.abs() {
             w.0 = ec;
@@ -217,8 +220,16 @@ fn measured_exponent_keeps_the_margin_across_real_gases() {
     // configured σ was the only mode): the configured exponent is within
     // 0.035 for the light gases and 0.09-0.10 off, pessimistic, for heavy gases.
     let w = |c: &str| worst[c];
-    assert!((w("n-butane").0 - -0.1023).abs() < 5e-4, "{:?}", w("n-butane"));
-    assert!((w("propane").0 - -0.0895).abs() < 5e-4, "{:?}", w("propane"));
+    assert!(
+        (w("n-butane").0 - -0.1023).abs() < 5e-4,
+        "{:?}",
+        w("n-butane")
+    );
+    assert!(
+        (w("propane").0 - -0.0895).abs() < 5e-4,
+        "{:?}",
+        w("propane")
+    );
     assert!((w("co2").0 - -0.0348).abs() < 5e-4, "{:?}", w("co2"));
     assert!((w("air").0 - 0.0303).abs() < 5e-4, "{:?}", w("air"));
     assert!((w("hydrogen-rich").0 - 0.0262).abs() < 5e-4);
@@ -373,7 +384,10 @@ fn filter_works_in_seconds_and_survives_clock_faults() {
         );
         let st = *m.update(&s32, 0.0, dt);
         let sg = st.exponent.sigma.value as f64;
-        assert!(sg.is_finite() && (SIGMA_MIN..=SIGMA_MAX).contains(&sg), "{dt}: {sg}");
+        assert!(
+            sg.is_finite() && (SIGMA_MIN..=SIGMA_MAX).contains(&sg),
+            "{dt}: {sg}"
+        );
         assert!(st.margin.value.is_finite());
     }
 }

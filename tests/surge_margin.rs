@@ -5,9 +5,12 @@
 //! (Dixon & Hall, *Fluid Mechanics and Thermodynamics of Turbomachinery*,
 //! ch. 1-2, from memory): a machine at the same flow coefficient, head
 //! coefficient and machine Mach number is in the same aerodynamic state, so
-//! it is the same distance from surge. The tests build that "same physical
-//! operating point" for other gases with their own formulas (ρ = p M /(Z Ru T),
-//! polytropic head, orifice law), not with the kernel's.
+//! it is the same distance from surge. The tests here build that "same
+//! operating point" for other gases with the ideal-gas polytropic head at
+//! the *configured* exponent and Z·R·T: a consistency check of the
+//! transform's algebra (suction pressure, temperature, molar mass, Z), not of
+//! the physics of a gas with another exponent. That check, against CoolProp
+//! real-gas paths, is tests/surge_exponent.rs.
 //! The map is invented demo data.
 
 #![allow(

@@ -297,7 +297,10 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
     /// without a discharge temperature. Errors name
     /// `surge_monitor.exponent.filter_time` (in [1, 3600] s) or
     /// `surge_monitor.exponent.temperature_accuracy` (in [0.01, 5] K).
-    pub fn with_measured_exponent(mut self, config: ExponentConfig<T>) -> Result<Self, ConfigError> {
+    pub fn with_measured_exponent(
+        mut self,
+        config: ExponentConfig<T>,
+    ) -> Result<Self, ConfigError> {
         check_setting(
             "surge_monitor.exponent.filter_time",
             config.filter_time,

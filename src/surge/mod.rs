@@ -21,7 +21,11 @@
 //! ```
 //!
 //! the fractional excess of flow over the surge flow at the same head
-//! number: 0 on the surge line, 0.10 at 10 % more flow (see [`margin`]). The
+//! number: 0 on the surge line, 0.10 at 10 % more flow (see [`margin`]).
+//! σ is the configured one, or, with
+//! [`SurgeMonitor::with_measured_exponent`], the one the measured suction
+//! and discharge temperatures give (filtered, bounded, with a fallback to the
+//! configured σ; see [`exponent`]). The
 //! control line sits at a per-speed-line control margin (common practice:
 //! about 10 % in flow); [`surge_line`] explains how line and margin vary
 //! with speed. The clearance is the margin above the control line.
