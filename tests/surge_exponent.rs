@@ -245,7 +245,14 @@ fn sigma_bounds_and_rise_threshold() {
     let s = measured_sigma(t(300.0), t(300.0 * 3.0_f64.powf(0.3)), 3.0, 0.5).unwrap();
     assert!((s - 0.3).abs() < 1e-12);
     // The bounds follow from k in [1.05, 5/3] and η_p in [0.5, 1].
-    assert!(SIGMA_MIN <= (1.05 - 1.0) / 1.05 && SIGMA_MAX >= (2.0 / 3.0) / (5.0 / 3.0) / 0.5);
+    // (k − 1)/(k η_p) at the corners: k = 1.05 with η_p = 1, and k = 5/3
+    // with η_p = 0.5 (just inside 0.80), are accepted.
+    for (k, eta) in [(1.05_f64, 1.0_f64), (5.0 / 3.0, 0.5001)] {
+        let sg = (k - 1.0) / (k * eta);
+        let r = 4.0_f64;
+        let got = measured_sigma(t(300.0), t(300.0 * r.powf(sg)), r, 0.5).unwrap();
+        assert!((got - sg).abs() < 1e-12 && (SIGMA_MIN..=SIGMA_MAX).contains(&got));
+    }
     assert_eq!(
         measured_sigma(t(300.0), t(300.0 * 3.0_f64.powf(0.9)), 3.0, 0.5),
         Err(ExponentFault::OutOfBounds)
