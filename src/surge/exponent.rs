@@ -52,9 +52,9 @@
 //! the filter has run one τ_σ after a start the measured σ is used but
 //! reported uncertain ([`ExponentFault::Settling`]).
 //!
-//! Cost per scan in measured mode: one `ln` and one division more than the
-//! configured mode (ln r is shared with the head number's computation only
-//! in f64 accuracy terms; it is recomputed here).
+//! Cost per scan in measured mode: two `ln` and four divisions more than the
+//! configured mode (`ln r` is recomputed, not shared with the head number);
+//! the configured mode skips the estimator.
 
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
@@ -201,6 +201,11 @@ impl<T: Real> ExponentEstimator<T> {
             },
             ..Self::configured(configured)
         }
+    }
+
+    /// Whether σ comes from the measured temperatures (else configured).
+    pub fn is_measured(&self) -> bool {
+        self.measured.is_some()
     }
 
     /// The σ of the last scan.

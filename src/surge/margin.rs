@@ -462,6 +462,9 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
 
     /// Advances the σ estimator (measured-exponent mode only).
     fn update_exponent(&mut self, scan: &SurgeScan<T>, dt: T) {
+        if !self.exponent.is_measured() {
+            return;
+        }
         let ps = scan.suction_pressure;
         let pd = scan.discharge_pressure;
         let ratio = if ps.quality.is_good() && pd.quality.is_good() && ps.value.pa() > T::ZERO {
