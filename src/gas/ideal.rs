@@ -7,7 +7,7 @@
 //! an interval is the exact integral of the cp polynomial divided by the
 //! interval.
 
-use super::{builtin::GasSpec, GasModel, PathProperties, MOLAR_GAS_CONSTANT};
+use super::{builtin::GasSpec, GasModel, PathProperties, PropertyInputs, MOLAR_GAS_CONSTANT};
 use crate::error::ConfigError;
 use crate::real::Real;
 
@@ -182,6 +182,15 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
             k,
             cp,
             z,
+        }
+    }
+
+    #[inline]
+    fn property_inputs(&self) -> PropertyInputs {
+        PropertyInputs {
+            temperature: matches!(self.heat_capacity, HeatCapacity::Polynomial { .. }),
+            pressure: false,
+            compressibility_from_state: false,
         }
     }
 }

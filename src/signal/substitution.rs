@@ -63,7 +63,8 @@ impl<T: Real> Substitution<T> {
                 quality: q,
                 held: false,
             },
-            Quality::Bad => match self.last_good {
+            // A channel never reports "not applicable"; treat it as a fault.
+            Quality::Bad | Quality::NotApplicable => match self.last_good {
                 Some((r, f, t)) if t_ms.saturating_sub(t) <= u64::from(hold_ms) => Substituted {
                     raw: r,
                     filtered: f,

@@ -1,0 +1,443 @@
+//! The dependency rule, written down once.
+//!
+//! **An output's quality is the worst of exactly the inputs and
+//! intermediate results it uses, and no more.** Each output of a stage,
+//! pump or cooler names here the input *slots* its value is computed from
+//! and the plausibility *checks* (intermediate results over other slots)
+//! whose failure makes it suspect. [`Grades::settle`] applies the rule to
+//! every output from these tables; the evaluation code computes values only
+//! and never sets an output's quality by hand. `tests/quality_oracle.rs`
+//! checks the tables by perturbing every input slot of a train.
+//!
+//! A check that cannot be evaluated (one of its inputs is bad) does not
+//! downgrade anything: the outputs that use the bad input are bad by their
+//! own slots.
+
+use crate::gas::PropertyInputs;
+use crate::quality::{Measured, Quality};
+use crate::real::Real;
+
+/// A set of input slots (a bit set).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Slots(pub u16);
+
+impl Slots {
+    /// No slot.
+    pub const NONE: Slots = Slots(0);
+    /// The union of two sets.
+    #[inline]
+    #[must_use]
+    pub const fn or(self, other: Slots) -> Slots {
+        Slots(self.0 | other.0)
+    }
+    /// `true` if every slot of `other` is in `self`.
+    #[inline]
+    pub const fn contains(self, other: Slots) -> bool {
+        self.0 & other.0 == other.0
+    }
+}
+
+/// Input slots of one stage and the cooler after it.
+pub mod slot {
+    use super::Slots;
+    /// Suction pressure (for a cooler: unused).
+    pub const P1: Slots = Slots(1 << 0);
+    /// Suction temperature.
+    pub const T1: Slots = Slots(1 << 1);
+    /// Discharge pressure (a cooler's gas inlet pressure).
+    pub const P2: Slots = Slots(1 << 2);
+    /// Discharge temperature (a cooler's gas inlet temperature).
+    pub const T2: Slots = Slots(1 << 3);
+    /// Mass flow through the stage (measured or inherited).
+    pub const FLOW: Slots = Slots(1 << 4);
+    /// Supplied compressibility factor (or the configured one).
+    pub const Z: Slots = Slots(1 << 5);
+    /// Cooler gas outlet temperature.
+    pub const GAS_OUT_T: Slots = Slots(1 << 6);
+    /// Cooler gas outlet pressure (measured, or the next suction pressure).
+    pub const GAS_OUT_P: Slots = Slots(1 << 7);
+    /// Coolant inlet temperature.
+    pub const COOLANT_IN_T: Slots = Slots(1 << 8);
+    /// Coolant outlet temperature.
+    pub const COOLANT_OUT_T: Slots = Slots(1 << 9);
+    /// Coolant mass flow.
+    pub const COOLANT_FLOW: Slots = Slots(1 << 10);
+    /// Number of slot bits.
+    pub const COUNT: usize = 11;
+}
+
+/// A set of plausibility checks (intermediate results).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Checks(pub u8);
+
+/// The checks of a compressor stage, with the slots each uses.
+pub mod check {
+    use super::{slot, Checks, Slots};
+    /// The stage's pressure ratio is within the configured maximum
+    /// (uses P1, P2).
+    pub const RATIO: Checks = Checks(1 << 0);
+    /// The measured states are a consistent compression: efficiencies in
+    /// (0, 1] with the rounding allowance, n > 1 (uses P1, T1, P2, T2).
+    pub const CONSISTENT: Checks = Checks(1 << 1);
+    /// The temperature rise and the ratio clear the stated instrument
+    /// accuracy (uses P1, T1, P2, T2).
+    pub const RESOLVED: Checks = Checks(1 << 2);
+    /// The machine is running: flow above the stationary threshold (uses
+    /// FLOW).
+    pub const RUNNING: Checks = Checks(1 << 3);
+    /// Number of check bits.
+    pub const COUNT: usize = 4;
+    /// The slots each check uses, by bit.
+    pub const SLOTS: [Slots; COUNT] = [
+        slot::P1.or(slot::P2),
+        slot::P1.or(slot::P2).or(slot::T1).or(slot::T2),
+        slot::P1.or(slot::P2).or(slot::T1).or(slot::T2),
+        slot::FLOW,
+    ];
+}
+
+impl Checks {
+    /// No check.
+    pub const NONE: Checks = Checks(0);
+    /// The union of two sets.
+    #[inline]
+    #[must_use]
+    pub const fn or(self, other: Checks) -> Checks {
+        Checks(self.0 | other.0)
+    }
+}
+
+/// What one output uses: the slots its value is computed from, the checks
+/// whose grade it takes in full, and the checks that can make it at most
+/// uncertain (suspect, not impossible).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Use {
+    /// Slots the value is computed from.
+    pub slots: Slots,
+    /// Checks taken in full.
+    pub checks: Checks,
+    /// Checks that cap at uncertain.
+    pub soft: Checks,
+}
+
+impl Use {
+    const fn of(slots: Slots) -> Use {
+        Use {
+            slots,
+            checks: Checks::NONE,
+            soft: Checks::NONE,
+        }
+    }
+    const fn full(self, c: Checks) -> Use {
+        Use {
+            checks: self.checks.or(c),
+            ..self
+        }
+    }
+    const fn soft(self, c: Checks) -> Use {
+        Use {
+            soft: self.soft.or(c),
+            ..self
+        }
+    }
+    /// Every slot the output's quality can depend on (its own and its
+    /// checks').
+    pub fn all_slots(self) -> Slots {
+        let mut s = self.slots;
+        let c = self.checks.or(self.soft).0;
+        for (i, cs) in check::SLOTS.iter().enumerate() {
+            if c & (1 << i) != 0 {
+                s = s.or(*cs);
+            }
+        }
+        s
+    }
+}
+
+/// The slots the gas properties (k, cp) and the compressibility factor
+/// depend on, from what the gas model says it uses. `t2_used` is false for
+/// a rating-point query (no discharge temperature: the path is evaluated
+/// without it).
+#[inline]
+pub fn property_slots(p: PropertyInputs, t2_used: bool) -> (Slots, Slots) {
+    let mut props = Slots::NONE;
+    if p.temperature {
+        props = props.or(slot::T1);
+        if t2_used {
+            props = props.or(slot::T2);
+        }
+    }
+    if p.pressure {
+        props = props.or(slot::P1).or(slot::P2);
+    }
+    let z = if p.compressibility_from_state {
+        props.or(slot::Z)
+    } else {
+        slot::Z
+    };
+    (props, z)
+}
+
+/// What each compressor-stage output uses.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[allow(missing_docs)] // one entry per `CompressorResult` field, same name
+pub struct CompressorUses {
+    pub pressure_ratio: Use,
+    pub isentropic_discharge_temperature: Use,
+    pub temperature_rise: Use,
+    pub isentropic_head: Use,
+    pub polytropic_head: Use,
+    pub isothermal_head: Use,
+    pub actual_work: Use,
+    pub isentropic_efficiency: Use,
+    pub polytropic_efficiency: Use,
+    pub polytropic_exponent: Use,
+    pub mass_flow: Use,
+    pub gas_power: Use,
+    pub work_above_isothermal: Use,
+    pub power_above_isothermal: Use,
+    pub compressibility: Use,
+    pub k: Use,
+}
+
+/// The compressor table, given the property slots ([`property_slots`]).
+pub const fn compressor_uses(props: Slots, z: Slots) -> CompressorUses {
+    use check::{CONSISTENT, RATIO, RESOLVED, RUNNING};
+    use slot::{FLOW, P1, P2, T1, T2};
+    let ratio = Use::of(P1.or(P2)).full(RATIO);
+    let states = P1.or(P2).or(T1).or(T2);
+    // Efficiencies and the exponent: the four states and k; Z cancels.
+    let eff = Use::of(states.or(props))
+        .full(RATIO.or(CONSISTENT))
+        .soft(RESOLVED.or(RUNNING));
+    // Work from the temperature rise: T1, T2, Z, cp; suspect when the
+    // compression is inconsistent or the machine is stationary.
+    let actual = Use::of(T1.or(T2).or(z).or(props)).soft(CONSISTENT.or(RUNNING));
+    let isothermal = Use::of(P1.or(P2).or(T1).or(z)).full(RATIO);
+    let above = Use::of(states.or(z).or(props))
+        .full(RATIO)
+        .soft(CONSISTENT.or(RUNNING));
+    CompressorUses {
+        pressure_ratio: ratio,
+        isentropic_discharge_temperature: Use::of(P1.or(P2).or(T1).or(props)).full(RATIO),
+        temperature_rise: Use::of(T1.or(T2)),
+        isentropic_head: Use::of(P1.or(P2).or(T1).or(z).or(props)).full(RATIO),
+        polytropic_head: Use::of(states.or(z))
+            .full(RATIO.or(CONSISTENT))
+            .soft(RESOLVED.or(RUNNING)),
+        isothermal_head: isothermal,
+        actual_work: actual,
+        isentropic_efficiency: eff,
+        polytropic_efficiency: eff,
+        polytropic_exponent: Use::of(states)
+            .full(RATIO.or(CONSISTENT))
+            .soft(RESOLVED.or(RUNNING)),
+        mass_flow: Use::of(FLOW),
+        gas_power: Use {
+            slots: actual.slots.or(FLOW),
+            ..actual
+        },
+        work_above_isothermal: above,
+        power_above_isothermal: Use {
+            slots: above.slots.or(FLOW),
+            ..above
+        },
+        compressibility: Use::of(z),
+        k: Use::of(props),
+    }
+}
+
+/// What each pump output uses (a pump's slots: P1, T1, P2, FLOW).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[allow(missing_docs)] // one entry per `PumpResult` field, same name
+pub struct PumpUses {
+    pub pressure_ratio: Use,
+    pub pressure_rise: Use,
+    pub reversible_work: Use,
+    pub shaft_work: Use,
+    pub mass_flow: Use,
+    pub power: Use,
+    pub gas_compression_equivalent: Use,
+    pub work_ratio_to_gas: Use,
+}
+
+/// The pump table, given the gas property slots (the gas comparison).
+pub const fn pump_uses(props: Slots) -> PumpUses {
+    use check::RATIO;
+    use slot::{FLOW, P1, P2, T1};
+    let dp = Use::of(P1.or(P2));
+    let gas = Use::of(P1.or(P2).or(T1).or(props)).full(RATIO);
+    PumpUses {
+        pressure_ratio: dp.full(RATIO),
+        pressure_rise: dp,
+        reversible_work: dp,
+        shaft_work: dp,
+        mass_flow: Use::of(FLOW),
+        power: Use::of(P1.or(P2).or(FLOW)),
+        gas_compression_equivalent: gas,
+        work_ratio_to_gas: gas,
+    }
+}
+
+/// What each cooler output uses (a cooler's gas inlet is the stage's P2, T2
+/// and flow).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[allow(missing_docs)] // one entry per `CoolerResult` field, same name
+pub struct CoolerUses {
+    pub gas_temperature_drop: Use,
+    pub approach: Use,
+    pub effectiveness: Use,
+    pub heat_duty: Use,
+    pub pressure_drop: Use,
+    pub relative_pressure_drop: Use,
+    pub coolant_temperature_rise: Use,
+    pub lmtd: Use,
+    pub ua: Use,
+    pub heat_balance_error: Use,
+}
+
+/// The cooler table, given the slots the gas cp depends on (in cooler
+/// terms: the gas inlet T2/P2 and the outlet).
+pub const fn cooler_uses(cp: Slots) -> CoolerUses {
+    use slot::{COOLANT_FLOW, COOLANT_IN_T, COOLANT_OUT_T, FLOW, GAS_OUT_P, GAS_OUT_T, P2, T2};
+    let duty = Use::of(T2.or(GAS_OUT_T).or(FLOW).or(cp));
+    let lmtd = Use::of(T2.or(GAS_OUT_T).or(COOLANT_IN_T).or(COOLANT_OUT_T));
+    let dp = Use::of(P2.or(GAS_OUT_P));
+    CoolerUses {
+        gas_temperature_drop: Use::of(T2.or(GAS_OUT_T)),
+        approach: Use::of(GAS_OUT_T.or(COOLANT_IN_T)),
+        effectiveness: Use::of(T2.or(GAS_OUT_T).or(COOLANT_IN_T)),
+        heat_duty: duty,
+        pressure_drop: dp,
+        relative_pressure_drop: dp,
+        coolant_temperature_rise: Use::of(COOLANT_IN_T.or(COOLANT_OUT_T)),
+        lmtd,
+        ua: Use::of(duty.slots.or(lmtd.slots)),
+        heat_balance_error: Use::of(duty.slots.or(lmtd.slots).or(COOLANT_FLOW)),
+    }
+}
+
+/// The cooler's gas cp slots, in cooler terms.
+#[inline]
+pub fn cooler_cp_slots(p: PropertyInputs) -> Slots {
+    let mut s = Slots::NONE;
+    if p.temperature {
+        s = s.or(slot::T2).or(slot::GAS_OUT_T);
+    }
+    if p.pressure {
+        s = s.or(slot::P2).or(slot::GAS_OUT_P);
+    }
+    s
+}
+
+/// The qualities of one evaluation's slots and checks.
+#[derive(Clone, Copy, Debug)]
+pub struct Grades {
+    slots: [Quality; slot::COUNT],
+    checks: [Quality; check::COUNT],
+}
+
+impl Default for Grades {
+    fn default() -> Self {
+        Self::new()
+    }
+}
+
+impl Grades {
+    /// Everything good.
+    pub const fn new() -> Self {
+        Grades {
+            slots: [Quality::Good; slot::COUNT],
+            checks: [Quality::Good; check::COUNT],
+        }
+    }
+
+    /// Sets the quality of the slots in `s`.
+    pub fn slot(&mut self, s: Slots, q: Quality) -> &mut Self {
+        for (i, g) in self.slots.iter_mut().enumerate() {
+            if s.0 & (1 << i) != 0 {
+                *g = q;
+            }
+        }
+        self
+    }
+
+    /// Records the outcome of the checks in `c` (worst kept).
+    pub fn check(&mut self, c: Checks, q: Quality) {
+        for (i, g) in self.checks.iter_mut().enumerate() {
+            if c.0 & (1 << i) != 0 {
+                *g = g.worst(q);
+            }
+        }
+    }
+
+    /// The quality the rule gives an output with use `u`.
+    pub fn of(&self, u: Use) -> Quality {
+        let mut q = Quality::Good;
+        for (i, g) in self.slots.iter().enumerate() {
+            if u.slots.0 & (1 << i) != 0 {
+                q = q.worst(*g);
+            }
+        }
+        for (i, g) in self.checks.iter().enumerate() {
+            let bit = 1 << i;
+            if u.checks.0 & bit != 0 {
+                q = q.worst(*g);
+            } else if u.soft.0 & bit != 0 && *g != Quality::Good {
+                q = q.worst(Quality::Uncertain);
+            }
+        }
+        q
+    }
+
+    /// Applies the rule to one output: its quality becomes the worst of its
+    /// uses and of any field-local plausibility grade the evaluation set
+    /// (uncertain); a value that was not computed stays bad (or becomes
+    /// not applicable when it uses a slot that does not apply).
+    pub fn settle<T: Real>(&self, m: &mut Measured<T>, u: Use) {
+        let q = self.of(u);
+        *m = if q == Quality::NotApplicable {
+            Measured::not_applicable()
+        } else if !m.quality.is_usable() {
+            Measured::bad()
+        } else {
+            Measured::derived(m.value, q.worst(m.quality))
+        };
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_rule_takes_the_worst_of_exactly_the_uses() {
+        let u = compressor_uses(Slots::NONE, slot::Z);
+        let mut g = Grades::new();
+        g.slot(slot::P1, Quality::Bad);
+        // The temperature rise does not use P1; the ratio does.
+        assert_eq!(g.of(u.temperature_rise), Quality::Good);
+        assert_eq!(g.of(u.pressure_ratio), Quality::Bad);
+        // A failed consistency check caps the work at uncertain but takes
+        // the efficiencies down in full.
+        let mut g = Grades::new();
+        g.check(check::CONSISTENT, Quality::Bad);
+        assert_eq!(g.of(u.actual_work), Quality::Uncertain);
+        assert_eq!(g.of(u.isentropic_efficiency), Quality::Bad);
+        assert_eq!(g.of(u.isothermal_head), Quality::Good);
+        // Z is used by the heads, not by the efficiencies.
+        let mut g = Grades::new();
+        g.slot(slot::Z, Quality::Uncertain);
+        assert_eq!(g.of(u.isentropic_head), Quality::Uncertain);
+        assert_eq!(g.of(u.isentropic_efficiency), Quality::Good);
+        assert!(u.actual_work.all_slots().contains(slot::P1));
+        assert!(!u.actual_work.slots.contains(slot::P1));
+        let mut m = Measured::good(2.0_f32);
+        g.slot(slot::T2, Quality::NotApplicable);
+        g.settle(&mut m, u.actual_work);
+        assert_eq!(m.quality, Quality::NotApplicable);
+    }
+}
