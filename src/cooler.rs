@@ -267,10 +267,8 @@ pub fn evaluate_cooler_within<T: Real>(
         let duty = out.heat_duty;
         if duty.quality.is_usable() && duty.value > T::ZERO && ok(mc) {
             let coolant_duty = mc.value * inp.coolant_cp * rise;
-            out.heat_balance_error = Measured::derived(
-                (duty.value - coolant_duty) / duty.value,
-                duty.quality,
-            );
+            out.heat_balance_error =
+                Measured::derived((duty.value - coolant_duty) / duty.value, duty.quality);
         }
     }
 
@@ -306,7 +304,10 @@ pub fn evaluate_cooler_within<T: Real>(
     g.settle(&mut out.heat_duty, u.heat_duty);
     g.settle(&mut out.pressure_drop, u.pressure_drop);
     g.settle(&mut out.relative_pressure_drop, u.relative_pressure_drop);
-    g.settle(&mut out.coolant_temperature_rise, u.coolant_temperature_rise);
+    g.settle(
+        &mut out.coolant_temperature_rise,
+        u.coolant_temperature_rise,
+    );
     g.settle(&mut out.lmtd, u.lmtd);
     g.settle(&mut out.ua, u.ua);
     g.settle(&mut out.heat_balance_error, u.heat_balance_error);

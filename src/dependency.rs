@@ -78,8 +78,9 @@ pub mod check {
     /// The stage's pressure ratio is within the configured maximum
     /// (uses P1, P2).
     pub const RATIO: Checks = Checks(1 << 0);
-    /// The measured states are a consistent compression: efficiencies in
-    /// (0, 1] with the rounding allowance, n > 1 (uses P1, T1, P2, T2).
+    /// The measured states are a consistent adiabatic compression:
+    /// efficiencies in (0, 1] with the rounding allowance (uses P1, T1, P2,
+    /// T2).
     pub const CONSISTENT: Checks = Checks(1 << 1);
     /// The temperature rise and the ratio clear the stated instrument
     /// accuracy (uses P1, T1, P2, T2).
@@ -87,15 +88,15 @@ pub mod check {
     /// The machine is running: flow above the stationary threshold (uses
     /// FLOW).
     pub const RUNNING: Checks = Checks(1 << 3);
+    /// The polytropic exponent inferred from the states is above one (the
+    /// temperature rise is not too large for the ratio; uses P1, T1, P2,
+    /// T2).
+    pub const EXPONENT: Checks = Checks(1 << 4);
     /// Number of check bits.
-    pub const COUNT: usize = 4;
+    pub const COUNT: usize = 5;
+    const STATES: Slots = slot::P1.or(slot::P2).or(slot::T1).or(slot::T2);
     /// The slots each check uses, by bit.
-    pub const SLOTS: [Slots; COUNT] = [
-        slot::P1.or(slot::P2),
-        slot::P1.or(slot::P2).or(slot::T1).or(slot::T2),
-        slot::P1.or(slot::P2).or(slot::T1).or(slot::T2),
-        slot::FLOW,
-    ];
+    pub const SLOTS: [Slots; COUNT] = [slot::P1.or(slot::P2), STATES, STATES, slot::FLOW, STATES];
 }
 
 impl Checks {
@@ -205,36 +206,42 @@ pub struct CompressorUses {
 
 /// The compressor table, given the property slots ([`property_slots`]).
 pub const fn compressor_uses(props: Slots, z: Slots) -> CompressorUses {
-    use check::{CONSISTENT, RATIO, RESOLVED, RUNNING};
+    use check::{CONSISTENT, EXPONENT, RATIO, RESOLVED, RUNNING};
     use slot::{FLOW, P1, P2, T1, T2};
     let ratio = Use::of(P1.or(P2)).full(RATIO);
     let states = P1.or(P2).or(T1).or(T2);
-    // Efficiencies and the exponent: the four states and k; Z cancels.
+    // Efficiencies: the four states and k (Z cancels); impossible when the
+    // states are inconsistent, suspect below resolution or at standstill.
     let eff = Use::of(states.or(props))
-        .full(RATIO.or(CONSISTENT))
+        .full(RATIO.or(CONSISTENT).or(EXPONENT))
         .soft(RESOLVED.or(RUNNING));
+    // The exponent and the polytropic head describe the measured path: a
+    // cooled compression (efficiency above one) leaves them meaningful but
+    // suspect; n not above one makes them impossible.
+    let path = Use::of(states)
+        .full(RATIO.or(EXPONENT))
+        .soft(CONSISTENT.or(RESOLVED).or(RUNNING));
     // Work from the temperature rise: T1, T2, Z, cp; suspect when the
     // compression is inconsistent or the machine is stationary.
-    let actual = Use::of(T1.or(T2).or(z).or(props)).soft(CONSISTENT.or(RUNNING));
+    let actual = Use::of(T1.or(T2).or(z).or(props)).soft(CONSISTENT.or(EXPONENT).or(RUNNING));
     let isothermal = Use::of(P1.or(P2).or(T1).or(z)).full(RATIO);
     let above = Use::of(states.or(z).or(props))
         .full(RATIO)
-        .soft(CONSISTENT.or(RUNNING));
+        .soft(CONSISTENT.or(EXPONENT).or(RUNNING));
     CompressorUses {
         pressure_ratio: ratio,
         isentropic_discharge_temperature: Use::of(P1.or(P2).or(T1).or(props)).full(RATIO),
         temperature_rise: Use::of(T1.or(T2)),
         isentropic_head: Use::of(P1.or(P2).or(T1).or(z).or(props)).full(RATIO),
-        polytropic_head: Use::of(states.or(z))
-            .full(RATIO.or(CONSISTENT))
-            .soft(RESOLVED.or(RUNNING)),
+        polytropic_head: Use {
+            slots: states.or(z),
+            ..path
+        },
         isothermal_head: isothermal,
         actual_work: actual,
         isentropic_efficiency: eff,
         polytropic_efficiency: eff,
-        polytropic_exponent: Use::of(states)
-            .full(RATIO.or(CONSISTENT))
-            .soft(RESOLVED.or(RUNNING)),
+        polytropic_exponent: path,
         mass_flow: Use::of(FLOW),
         gas_power: Use {
             slots: actual.slots.or(FLOW),

@@ -300,7 +300,8 @@ mod tests {
         assert_eq!(d.first_invalid(), None);
         assert!((d.min_temperature_rise() - 5.0).abs() < 1e-12);
         assert!((d.min_log_ratio() - 0.014_142_135_623_730_95).abs() < 1e-15);
-        let cases: [(fn(&mut Limits<f64>), &str); 12] = [
+        type Case = (fn(&mut Limits<f64>), &'static str);
+        let cases: [Case; 12] = [
             (|l| l.min_pressure = 0.0, "limits.min_pressure"),
             (|l| l.max_pressure = 50.0, "limits.max_pressure"),
             (|l| l.min_temperature = f64::NAN, "limits.min_temperature"),
@@ -308,11 +309,17 @@ mod tests {
             (|l| l.max_mass_flow = 0.0, "limits.max_mass_flow"),
             (|l| l.max_stage_ratio = 1.0, "limits.max_stage_ratio"),
             (|l| l.max_overall_ratio = 1e30, "limits.max_overall_ratio"),
-            (|l| l.temperature_accuracy = -0.1, "limits.temperature_accuracy"),
+            (
+                |l| l.temperature_accuracy = -0.1,
+                "limits.temperature_accuracy",
+            ),
             (|l| l.pressure_accuracy = 0.5, "limits.pressure_accuracy"),
             (|l| l.resolution_factor = 0.5, "limits.resolution_factor"),
             (|l| l.stationary_flow = 2e5, "limits.stationary_flow"),
-            (|l| l.temperature_noise = f64::INFINITY, "limits.temperature_noise"),
+            (
+                |l| l.temperature_noise = f64::INFINITY,
+                "limits.temperature_noise",
+            ),
         ];
         for (set, name) in cases {
             let mut l = d;
@@ -352,7 +359,7 @@ mod tests {
         assert_eq!(efficiency_grade(1.3_f32), Quality::Bad);
         assert_eq!(efficiency_grade(0.0_f32), Quality::Bad);
         assert_eq!(efficiency_grade(f32::NAN), Quality::Bad);
-        assert_eq!(efficiency_grade(1.0 + 1e-12_f64), Quality::Good);
-        assert_eq!(efficiency_grade(1.0 + 1e-9_f64), Quality::Uncertain);
+        assert_eq!(efficiency_grade(1.0 + 1e-14_f64), Quality::Good);
+        assert_eq!(efficiency_grade(1.0 + 1e-12_f64), Quality::Uncertain);
     }
 }

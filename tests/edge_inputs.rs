@@ -389,7 +389,12 @@ fn bad_first_suction_pressure_degrades_train_references() {
         bad(&f, "stage0.pressure_ratio");
         bad(&f, "totals.overall_pressure_ratio");
         bad(&f, "totals.isothermal_work");
-        assert!(snap.interstage[0].is_none(), "{v}");
+        // The interstage entry exists; its optimum uses the bad pressure,
+        // its measured value does not (issue 11: quality follows use).
+        let entry = snap.interstage[0].expect("entry for every stage but the last");
+        assert_eq!(entry.optimum.quality, Quality::Bad, "{v}");
+        assert_eq!(entry.deviation.quality, Quality::Bad, "{v}");
+        assert_eq!(entry.measured.quality, Quality::Good, "{v}");
         good(&f, "stage1.isentropic_head");
         good(&f, "stage1.isentropic_efficiency");
         good(&f, "cooler0.effectiveness");
@@ -399,7 +404,9 @@ fn bad_first_suction_pressure_degrades_train_references() {
 #[test]
 fn input_quality_propagates() {
     // An uncertain discharge temperature makes the stage's efficiency
-    // uncertain, never good, and leaves the heads good.
+    // uncertain, never good. With this cp(T) gas the isentropic head's k is
+    // the mean over the measured path, so it uses T2 and is uncertain too
+    // (issue 11: it used to stay good); the isothermal head does not use T2.
     let mut t = air2::<f64>();
     let mut s = air2_scan();
     s.stages[0].discharge_temperature.quality = Quality::Uncertain;
@@ -408,7 +415,12 @@ fn input_quality_propagates() {
         get(&f, "stage0.isentropic_efficiency").quality,
         Quality::Uncertain
     );
-    good(&f, "stage0.isentropic_head");
+    assert_eq!(
+        get(&f, "stage0.isentropic_head").quality,
+        Quality::Uncertain
+    );
+    good(&f, "stage0.isothermal_head");
+    good(&f, "stage0.pressure_ratio");
     // A bad-quality value is not used even if its number is plausible.
     let mut s = air2_scan();
     s.stages[0].suction_temperature.quality = Quality::Bad;

@@ -121,6 +121,11 @@ fn case_from(u: &[f64]) -> Case {
     for s in 0..COMPRESSORS {
         let ratio = lerp(d(), 1.05, 8.0);
         let eta_p = lerp(d(), 0.6, 1.0);
+        // Keep the case physically plausible (issue 11: the sensor boundary
+        // now refuses a discharge above 1000 K and pressures above 1e9 Pa):
+        // T2 at most 950 K, p2 at most 2e8 Pa. Same random draws as before.
+        let max_ln_ratio = (950.0 / t1).ln() / ((k_path - 1.0) / k_path / eta_p);
+        let ratio = ratio.min(max_ln_ratio.exp()).min(2e8 / p1).max(1.05);
         let effectiveness = lerp(d(), 0.5, 0.98);
         let coolant_rise = lerp(d(), 2.0, 15.0);
         let coolant_flow = lerp(d(), 0.1, 200.0);

@@ -102,14 +102,15 @@ fn deps(name: &str, i: usize) -> (Set, Set) {
     // resolution, machine running) use all four states and the flow.
     let checks = s(&[F_P1, F_P2, F_T1, F_T2]).or(flow());
     match name {
-        "pressure_ratio" | "pump_pressure_ratio" | "pump_pressure_rise" | "pump_reversible_work"
+        "pressure_ratio"
+        | "pump_pressure_ratio"
+        | "pump_pressure_rise"
+        | "pump_reversible_work"
         | "pump_shaft_work" => (s(&[F_P1, F_P2]), none),
         "t2s" => (s(&[F_P1, F_P2, F_T1]), none),
         "temperature_rise" => (s(&[F_T1, F_T2]), none),
         "isentropic_head" | "isothermal_head" => (s(&[F_P1, F_P2, F_T1, F_Z]), none),
-        "polytropic_head" | "work_above_isothermal" => {
-            (s(&[F_P1, F_P2, F_T1, F_T2, F_Z]), flow())
-        }
+        "polytropic_head" | "work_above_isothermal" => (s(&[F_P1, F_P2, F_T1, F_T2, F_Z]), flow()),
         "actual_work" => (s(&[F_T1, F_T2, F_Z]), checks),
         "isentropic_efficiency" | "polytropic_efficiency" | "polytropic_exponent" => {
             (s(&[F_P1, F_P2, F_T1, F_T2]), flow())
@@ -121,6 +122,7 @@ fn deps(name: &str, i: usize) -> (Set, Set) {
         "k" => (none, none),
         "stage_condition" => (none, s(&[F_P1, F_P2, F_T1, F_T2, F_Z]).or(flow())),
         "pump_power" if i < N => (s(&[F_P1, F_P2]).or(flow()), none),
+        "pump_condition" => (none, s(&[F_P1, F_P2]).or(flow())),
         "pump_gas_equivalent" | "pump_work_ratio_to_gas" => (s(&[F_P1, F_P2, F_T1]), none),
         "steady" | "steady_samples" | "temperature_spread" | "ratio_spread" => {
             (none, s(&[F_P1, F_P2, F_T2]).or(flow()))
@@ -156,7 +158,10 @@ fn cooler_deps(name: &str, i: usize) -> (Set, Set) {
         }
         "cooler_condition" => (
             none,
-            duty.or(lmtd).or(p_out).or(c(&[F_MC])).or(Set::of(i, &[F_P2])),
+            duty.or(lmtd)
+                .or(p_out)
+                .or(c(&[F_MC]))
+                .or(Set::of(i, &[F_P2])),
         ),
         _ => (none, none),
     }
@@ -187,7 +192,9 @@ fn totals_deps(name: &str, i: usize) -> (Set, Set) {
         "compressor_power" => power,
         "pump_power" => pump,
         "total_power" => (power.0.or(pump.0), power.1.or(pump.1)),
-        "isothermal_work" | "single_stage_isentropic_work" | "ideal_staged_isentropic_work"
+        "isothermal_work"
+        | "single_stage_isentropic_work"
+        | "ideal_staged_isentropic_work"
         | "ideal_staging_saving" => (refs, Set(0)),
         "isothermal_efficiency" => (refs.or(work.0), work.1),
         "measured_staged_isentropic_work" => staged,
@@ -256,7 +263,11 @@ fn encode(s: &StageScan<f64>) -> RawStage {
         b[i] = (v as f32).to_bits();
         q[i] = qc(c);
     };
-    put(F_P1, s.suction_pressure.value.pa(), s.suction_pressure.quality);
+    put(
+        F_P1,
+        s.suction_pressure.value.pa(),
+        s.suction_pressure.quality,
+    );
     put(
         F_T1,
         s.suction_temperature.value.kelvin(),
@@ -326,10 +337,12 @@ fn implausible(o: &O, outs: &[O]) -> Option<&'static str> {
                 // 60751; a 0.1 %-of-reading transmitter).
                 let rise = value_of(outs, 0, o.idx, "temperature_rise").map(|o| o.value);
                 let ratio = value_of(outs, 0, o.idx, "pressure_ratio").map(|o| o.value);
-                if rise.is_some_and(|r| r < 5.0) || ratio.is_some_and(|r| r < 1.02) {
+                if rise.is_some_and(|r| r < 5.0) || ratio.is_some_and(|r| r < 1.014) {
                     return Some("efficiency good below instrument resolution");
                 }
-                let flow = value_of(outs, 0, o.idx, "mass_flow").map(|o| o.value);
+                let flow = value_of(outs, 0, o.idx, "mass_flow")
+                    .filter(|o| o.quality != Quality::Bad)
+                    .map(|o| o.value);
                 if flow.is_some_and(|f| f <= 0.0) {
                     return Some("efficiency good at zero flow");
                 }
@@ -338,10 +351,18 @@ fn implausible(o: &O, outs: &[O]) -> Option<&'static str> {
         "effectiveness" if !(0.0..=1.0).contains(&v) => {
             return Some("effectiveness outside [0, 1]")
         }
-        "isentropic_head" | "polytropic_head" | "isothermal_head" | "actual_work"
-        | "isothermal_work" | "single_stage_isentropic_work" | "ideal_staged_isentropic_work"
-        | "compressor_work" | "measured_staged_isentropic_work" | "pump_reversible_work"
-        | "pump_shaft_work" | "pump_gas_equivalent"
+        "isentropic_head"
+        | "polytropic_head"
+        | "isothermal_head"
+        | "actual_work"
+        | "isothermal_work"
+        | "single_stage_isentropic_work"
+        | "ideal_staged_isentropic_work"
+        | "compressor_work"
+        | "measured_staged_isentropic_work"
+        | "pump_reversible_work"
+        | "pump_shaft_work"
+        | "pump_gas_equivalent"
             if v <= 0.0 =>
         {
             return Some("head or work not positive")
@@ -351,7 +372,9 @@ fn implausible(o: &O, outs: &[O]) -> Option<&'static str> {
         }
         "polytropic_exponent" if v <= 1.0 => return Some("n not above 1"),
         "heat_duty" | "ua" if v < 0.0 => return Some("duty or UA negative"),
-        "ua" if value_of(outs, 0, 0, "mass_flow").is_some_and(|f| f.value <= 0.0) => {
+        "ua" if value_of(outs, 0, 0, "mass_flow")
+            .is_some_and(|f| f.quality != Quality::Bad && f.value <= 0.0) =>
+        {
             return Some("UA good at zero gas flow")
         }
         "lmtd" if v <= 0.0 => return Some("LMTD not positive"),
@@ -408,26 +431,26 @@ fn perturb(rng: &mut Rng, raw: &[RawStage; N], (s, f): Slot) -> (u32, u8) {
     let t1 = f32::from_bits(raw[s].bits[F_T1]);
     let p1 = f32::from_bits(raw[s].bits[F_P1]);
     let kinds: &[f32] = &[
-        v,                            // quality change only
-        v * 1.01,                     // plausible
-        v * 0.99,                     // plausible
-        1e-30,                        // underflow
-        1e-40,                        // subnormal
-        1e30,                         // overflow
-        0.0,                          // zero
-        -v,                           // negative
-        f32::NAN,                     // not a number
-        f32::INFINITY,                // overflow
-        v - 273.15,                   // degC passed as K
-        v / 1e5,                      // Pa passed as bar
-        v * 1e5,                      // bar passed as Pa
-        v * 3.0,                      // spike
-        v / 3.0,                      // dip
-        t1 + 0.1,                     // a temperature next to suction
-        p1 * 1.0001,                  // a pressure next to suction
-        0.01,                         // a tiny Z or flow
-        5.0,                          // a large Z
-        v + 0.3,                      // inside RTD tolerance
+        v,                               // quality change only
+        v * 1.01,                        // plausible
+        v * 0.99,                        // plausible
+        1e-30,                           // underflow
+        1e-40,                           // subnormal
+        1e30,                            // overflow
+        0.0,                             // zero
+        -v,                              // negative
+        f32::NAN,                        // not a number
+        f32::INFINITY,                   // overflow
+        v - 273.15,                      // degC passed as K
+        v / 1e5,                         // Pa passed as bar
+        v * 1e5,                         // bar passed as Pa
+        v * 3.0,                         // spike
+        v / 3.0,                         // dip
+        t1 + 0.1,                        // a temperature next to suction
+        p1 * 1.0001,                     // a pressure next to suction
+        0.01,                            // a tiny Z or flow
+        5.0,                             // a large Z
+        v + 0.3,                         // inside RTD tolerance
         f32::from_bits(v.to_bits() + 1), // one ulp
     ];
     let nv = kinds[rng.below(kinds.len())];
@@ -529,8 +552,7 @@ fn oracle(cases: u64, seed: u64) -> Counts {
                         o.value
                     ),
                 );
-            } else if vd.has(slot) && went_bad && o.quality == Quality::Good && o.code.is_none()
-            {
+            } else if vd.has(slot) && went_bad && o.quality == Quality::Good && o.code.is_none() {
                 if implausible_value {
                     c.implausible_input_dependent_good += 1;
                 } else {

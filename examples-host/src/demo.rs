@@ -421,20 +421,14 @@ fn to_json<T: Real, const N: usize>(
         o.put(&k::STAGE, Json::Int(*n as i64))
             .str(&k::KIND, "compressor");
         out::put_rows(&mut o, &crows, c);
-        o.num(
-            &k::COMPRESSIBILITY,
-            Val::of(Measured::good(c.1.compressibility)).value,
-        )
-        .num(
-            &k::HEAT_CAPACITY_RATIO,
-            Val::of(Measured::good(c.1.k)).value,
-        )
-        .put(&k::STEADY_STATE, Json::Bool(st.steady_state.steady))
-        .put(
-            &k::STEADY_SAMPLES,
-            Json::Int(i64::from(st.steady_state.samples)),
-        )
-        .str(&k::CONDITION, &condition(c.1.condition));
+        o.num(&k::COMPRESSIBILITY, Val::of(c.1.compressibility).value)
+            .num(&k::HEAT_CAPACITY_RATIO, Val::of(c.1.k).value)
+            .put(&k::STEADY_STATE, Json::Bool(st.steady_state.steady))
+            .put(
+                &k::STEADY_SAMPLES,
+                Json::Int(i64::from(st.steady_state.samples)),
+            )
+            .str(&k::CONDITION, &condition(c.1.condition));
         stages.push(o.done());
     }
     let prows = pump_rows::<T>();
@@ -525,7 +519,7 @@ fn to_text<T: Real, const N: usize>(
             parts
                 .compressors
                 .iter()
-                .map(|(_, c, _)| format!("{:.3}", c.1.compressibility))
+                .map(|(_, c, _)| format!("{:.3}", c.1.compressibility.value))
                 .collect(),
         ),
         (
@@ -533,7 +527,7 @@ fn to_text<T: Real, const N: usize>(
             parts
                 .compressors
                 .iter()
-                .map(|(_, c, _)| format!("{:.3}", c.1.k))
+                .map(|(_, c, _)| format!("{:.3}", c.1.k.value))
                 .collect(),
         ),
         (

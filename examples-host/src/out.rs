@@ -62,6 +62,7 @@ pub fn quality_word(q: Quality) -> &'static str {
         Quality::Good => "good",
         Quality::Uncertain => "uncertain",
         Quality::Bad => "bad",
+        Quality::NotApplicable => "not applicable",
     }
 }
 
@@ -116,6 +117,7 @@ pub mod disp {
 pub fn cell(v: Val, d: Disp) -> String {
     match v.quality {
         Quality::Bad => "--".to_string(),
+        Quality::NotApplicable => "n/a".to_string(),
         Quality::Uncertain => format!("{:.*}?", d.decimals, v.value * d.scale),
         Quality::Good => format!("{:.*}", d.decimals, v.value * d.scale),
     }

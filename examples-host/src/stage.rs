@@ -383,6 +383,23 @@ fn condition_note(c: StageCondition) -> Option<&'static str> {
             "discharge temperature is below the isentropic one (efficiency above 1): the process \
              is cooled or a reading is off; efficiencies are marked uncertain or bad",
         ),
+        StageCondition::RatingPoint => Some(
+            "no discharge temperature given: a rating point; the work and efficiencies do not apply",
+        ),
+        StageCondition::RatioOutOfRange => Some(
+            "the pressure ratio is above the plausible maximum for one stage: check the units",
+        ),
+        StageCondition::ImplausibleTemperatureRise => Some(
+            "the temperature rise is too large for the pressure ratio (n not above 1): a reading \
+             is off",
+        ),
+        StageCondition::Stationary => Some(
+            "zero flow: the machine is stationary; work and efficiencies are marked uncertain",
+        ),
+        StageCondition::BelowResolution => Some(
+            "the temperature rise or pressure ratio is small against the instrument accuracy: \
+             efficiencies are marked uncertain",
+        ),
     }
 }
 
@@ -414,7 +431,7 @@ fn calculate<T: Real>(inp: &Inputs, precision: Precision, json: bool) -> Result<
         suction_pressure: pressure_pa(Measured::good(PressureAbs::from_pa(T::of(inp.p1)))),
         suction_temperature: temperature_k(Measured::good(Kelvin::new(T::of(inp.t1)))),
         discharge_pressure: pressure_pa(Measured::good(PressureAbs::from_pa(T::of(inp.p2)))),
-        discharge_temperature: inp.t2.map_or(Measured::bad(), |t| {
+        discharge_temperature: inp.t2.map_or(Measured::not_applicable(), |t| {
             temperature_k(Measured::good(Kelvin::new(T::of(t))))
         }),
         mass_flow: inp.flow.map_or(Measured::bad(), |f| mass_flow_kg_s(g(f))),
@@ -456,8 +473,8 @@ fn calculate<T: Real>(inp: &Inputs, precision: Precision, json: bool) -> Result<
             .put(&k::ATMOSPHERE_ASSUMED, Json::Bool(inp.atmosphere_assumed));
         let mut res = Obj::new();
         out::put_rows(&mut res, &rows, &r);
-        res.num(&k::COMPRESSIBILITY, plain(r.compressibility))
-            .num(&k::HEAT_CAPACITY_RATIO, plain(r.k))
+        res.num(&k::COMPRESSIBILITY, plain(r.compressibility.value))
+            .num(&k::HEAT_CAPACITY_RATIO, plain(r.k.value))
             .str(&k::CONDITION, &kebab(&format!("{:?}", r.condition)));
         let mut o = Obj::new();
         o.str(&k::COMMAND_NAME, "stage")
@@ -530,7 +547,7 @@ fn calculate<T: Real>(inp: &Inputs, precision: Precision, json: bool) -> Result<
     let mut g = out::list_table(&rows, &r);
     g.row(vec![
         "Heat-capacity ratio k used".into(),
-        format!("{:.4}", plain(r.k)),
+        format!("{:.4}", plain(r.k.value)),
         "-".into(),
     ]);
     g.row(vec![

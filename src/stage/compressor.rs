@@ -290,7 +290,7 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
         g.check(check::RATIO, Quality::Bad);
     }
     if checks.exponent_implausible {
-        g.check(check::CONSISTENT, Quality::Bad);
+        g.check(check::EXPONENT, Quality::Bad);
     }
     g.check(check::CONSISTENT, checks.efficiency);
     if checks.below_resolution {

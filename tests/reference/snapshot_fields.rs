@@ -181,10 +181,10 @@ fn compressor<T: Real>(w: &mut Walker, c: &CompressorResult<T>) {
         },
         c.power_above_isothermal,
     );
-    w.plain("compressibility", Kind::PassThrough, c.compressibility);
+    w.m("compressibility", Kind::PassThrough, c.compressibility);
     // k of a constant-k gas is configuration; of a cp(T) gas it is computed
     // (an exponent).
-    w.plain("k", t(EXPONENT), c.k);
+    w.m("k", t(EXPONENT), c.k);
 }
 
 fn pump<T: Real>(w: &mut Walker, p: &PumpResult<T>) {

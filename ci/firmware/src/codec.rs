@@ -9,7 +9,7 @@
 use polytrope::cooler::CoolerCondition;
 use polytrope::quality::{Measured, Quality};
 use polytrope::scan::{CoolerScan, Scan, StageScan};
-use polytrope::stage::StageCondition;
+use polytrope::stage::{PumpCondition, StageCondition};
 use polytrope::tolerance::{self, Tolerance};
 use polytrope::train::{Snapshot, StageWork};
 use polytrope::units::{Kelvin, PressureAbs};
@@ -148,6 +148,11 @@ fn stage_condition(c: StageCondition) -> u32 {
         StageCondition::NoCompression => 2,
         StageCondition::NoTemperatureRise => 3,
         StageCondition::EfficiencyAboveOne => 4,
+        StageCondition::RatingPoint => 5,
+        StageCondition::RatioOutOfRange => 6,
+        StageCondition::ImplausibleTemperatureRise => 7,
+        StageCondition::Stationary => 8,
+        StageCondition::BelowResolution => 9,
         #[allow(unreachable_patterns)]
         _ => 99,
     }
@@ -160,6 +165,20 @@ fn cooler_condition(c: CoolerCondition) -> u32 {
         CoolerCondition::OutletAboveInlet => 2,
         CoolerCondition::OutletBelowCoolant => 3,
         CoolerCondition::NoDrivingDifference => 4,
+        CoolerCondition::DutyWithinNoise => 5,
+        CoolerCondition::NoGasFlow => 6,
+        #[allow(unreachable_patterns)]
+        _ => 99,
+    }
+}
+
+fn pump_condition(c: PumpCondition) -> u32 {
+    match c {
+        PumpCondition::Normal => 0,
+        PumpCondition::InputBad => 1,
+        PumpCondition::NoPressureRise => 2,
+        PumpCondition::RatioOutOfRange => 3,
+        PumpCondition::Stationary => 4,
         #[allow(unreachable_patterns)]
         _ => 99,
     }
@@ -198,8 +217,8 @@ pub fn visit<T: Real, const N: usize>(s: &Snapshot<T, N>, mut f: impl FnMut(usiz
                     SPECIFIC_WORK,
                 );
                 v("power_above_isothermal", c.power_above_isothermal, POWER);
-                v("compressibility", exact(c.compressibility), EXPONENT);
-                v("k", exact(c.k), EXPONENT);
+                v("compressibility", c.compressibility, EXPONENT);
+                v("k", c.k, EXPONENT);
                 f(
                     i,
                     Out::Code("stage_condition", stage_condition(c.condition)),
@@ -218,6 +237,7 @@ pub fn visit<T: Real, const N: usize>(s: &Snapshot<T, N>, mut f: impl FnMut(usiz
                     SPECIFIC_WORK,
                 );
                 v("pump_work_ratio_to_gas", p.work_ratio_to_gas, EFFICIENCY);
+                f(i, Out::Code("pump_condition", pump_condition(p.condition)));
             }
         }
         let ss = st.steady_state;
@@ -332,5 +352,6 @@ pub fn quality_code(q: Quality) -> u8 {
         Quality::Good => 0,
         Quality::Uncertain => 1,
         Quality::Bad => 2,
+        Quality::NotApplicable => 3,
     }
 }
