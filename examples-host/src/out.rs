@@ -175,9 +175,10 @@ impl Obj {
     }
 }
 
-/// `{"value": .., "quality": ..}` with `null` for a bad value.
+/// `{"value": .., "quality": ..}` with `null` for a bad or not-applicable
+/// value.
 pub fn measured(v: Val) -> Json {
-    let value = if v.quality == Quality::Bad || !v.value.is_finite() {
+    let value = if !v.quality.is_usable() || !v.value.is_finite() {
         Json::Null
     } else {
         Json::Num(v.value)
