@@ -143,9 +143,10 @@ pub struct CoolerInputs<T> {
 
 /// Counterflow LMTD from the two terminal differences; returns `None` unless
 /// both are positive. Well conditioned everywhere: near equal differences
-/// (|a - b| < 0.2·(a + b)) it uses the atanh series (module header; terms to
-/// u⁸, truncation below 1e-8 relative), else (a - b)/ln(a/b), whose
-/// logarithm is then of a ratio at least 1.5 away from one.
+/// (|u| = |a - b|/(a + b) below 0.2 in f32, 0.01 in f64) it uses the atanh
+/// series (module header; terms to u⁸, truncation about u¹⁰/11, below the
+/// type's rounding), else (a - b)/ln(a/b), whose logarithm is then of a
+/// ratio at least 1.5 (f32) or 1.02 (f64) away from one.
 #[inline]
 pub fn lmtd_counterflow<T: Real>(dt_a: T, dt_b: T) -> Option<T> {
     if !(dt_a > T::ZERO && dt_b > T::ZERO) {
@@ -154,7 +155,10 @@ pub fn lmtd_counterflow<T: Real>(dt_a: T, dt_b: T) -> Option<T> {
     let sum = dt_a + dt_b;
     let diff = dt_a - dt_b;
     let u = diff / sum;
-    if T::abs(u) < T::of(0.2) {
+    // Series range: where its truncation (about u^10/11) is below the
+    // type's rounding: |u| < 0.2 in f32, |u| < 0.01 in f64.
+    let series_below = if T::EPSILON > T::of(1e-10) { 0.2 } else { 0.01 };
+    if T::abs(u) < T::of(series_below) {
         let u2 = u * u;
         let series = T::ONE
             + u2 * (T::of(1.0 / 3.0)

@@ -45,7 +45,8 @@ pub enum StageCondition {
     /// (a unit slip such as bar taken as Pa): everything using it is bad.
     RatioOutOfRange,
     /// The temperature rise is too large for the pressure ratio
-    /// (ln(T2/T1) >= ln(p2/p1): n not above 1): a reading is wrong.
+    /// (ln(T2/T1) >= ln(p2/p1): n not above 1): a reading is suspect; n,
+    /// the polytropic head and efficiency bad, the rest uncertain.
     ImplausibleTemperatureRise,
     /// The machine is stationary (flow at or below the configured
     /// threshold): the temperature rise is not compression work; work and
@@ -290,7 +291,10 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
         g.check(check::RATIO, Quality::Bad);
     }
     if checks.exponent_implausible {
-        g.check(check::EXPONENT, Quality::Bad);
+        // n itself, the polytropic head and efficiency were not computed
+        // (bad); what remains (the isentropic efficiency, the work) is a
+        // number, but of a suspect reading.
+        g.check(check::EXPONENT, Quality::Uncertain);
     }
     g.check(check::CONSISTENT, checks.efficiency);
     if checks.below_resolution {
