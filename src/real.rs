@@ -149,7 +149,7 @@ mod approx {
     /// Stegun 4.6.33 / 4.1.27).
     #[inline]
     pub fn ln(x: f32) -> f32 {
-        if !(x >= f32::MIN_POSITIVE && x <= f32::MAX) {
+        if !(f32::MIN_POSITIVE..=f32::MAX).contains(&x) {
             return libm::logf(x);
         }
         let u = (x - 1.0) / (x + 1.0);
@@ -170,7 +170,7 @@ mod approx {
     /// zero, NaN) the exact `libm` value.
     #[inline]
     pub fn exp(x: f32) -> f32 {
-        if x >= -87.0 && x <= 88.0 {
+        if (-87.0..=88.0).contains(&x) {
             F32Ext::exp(x)
         } else {
             libm::expf(x)
@@ -181,7 +181,7 @@ mod approx {
     /// positive `x` and finite `y`; `libm` otherwise.
     #[inline]
     pub fn pow(x: f32, y: f32) -> f32 {
-        if x >= f32::MIN_POSITIVE && x <= f32::MAX && y.is_finite() {
+        if (f32::MIN_POSITIVE..=f32::MAX).contains(&x) && y.is_finite() {
             exp(y * ln(x))
         } else {
             libm::powf(x, y)
