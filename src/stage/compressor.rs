@@ -221,6 +221,20 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     out.k = good(props.k);
 
     let mut checks = CompressorChecks::default();
+    // Work from the temperature rise: T1, T2, Z and cp only (not the
+    // pressures).
+    let dt = t2.value - t1.value;
+    let rising = t1_ok && t2_ok && dt > T::ZERO;
+    let actual_per_z = props.cp * dt;
+    let actual = props.z * actual_per_z;
+    if rising {
+        out.actual_work = good(actual);
+        if flow.quality.is_usable() {
+            out.gas_power = good(flow.value * actual);
+        }
+    } else if t1_ok && t2_ok {
+        checks.no_rise = true;
+    }
     let ratio_ok = p_ok && T::is_finite(ratio);
     if ratio_ok && ratio > limits.max_stage_ratio {
         checks.ratio_out_of_range = true;
@@ -244,19 +258,14 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
                 ratio,
             ));
         }
-        let dt = t2.value - t1.value;
-        if t1_ok && t2_ok && dt > T::ZERO {
+        if rising {
             // sigma = (n-1)/n = ln(T2/T1)/ln(r); polytropic head along the
             // measured path = Z·R·(T2 - T1)/sigma.
             let sigma = T::ln(t2.value / t1.value) / ln_r;
-            let actual_per_z = props.cp * dt;
-            let actual = props.z * actual_per_z;
             let eta_s = hs_per_z / actual_per_z;
-            out.actual_work = good(actual);
             out.isentropic_efficiency = good(eta_s);
             out.work_above_isothermal = good(props.z * (actual_per_z - iso_per_z));
             if flow.quality.is_usable() {
-                out.gas_power = good(flow.value * actual);
                 out.power_above_isothermal =
                     good(flow.value * props.z * (actual_per_z - iso_per_z));
             }
@@ -271,8 +280,6 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
             }
             checks.below_resolution =
                 dt < limits.min_temperature_rise() || ln_r < limits.min_log_ratio();
-        } else if t1_ok && t2_ok {
-            checks.no_rise = true;
         }
     } else if ratio_ok {
         checks.no_compression = true;
