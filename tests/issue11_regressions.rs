@@ -44,9 +44,9 @@ fn efficiency_above_one_takes_down_everything_from_the_rise() {
     });
     let c = s.stages[1].compressor().unwrap();
     assert_eq!(c.condition, StageCondition::EfficiencyAboveOne);
-    // before: isentropic efficiency 20.1, bad; actual work 4.2 kJ/kg good,
-    // gas power 48 kW good, polytropic head 4.1 kJ/kg good, n 1.02 good,
-    // work above isothermal -105 kJ/kg good.
+    // before: isentropic efficiency bad, but actual work 4087 J/kg good, gas
+    // power 45.8 kW good, polytropic head 61.9 kJ/kg good, n 1.015 good,
+    // work above isothermal -57.3 kJ/kg good.
     assert_eq!(c.isentropic_efficiency.quality, Quality::Bad);
     for m in [
         c.actual_work,
@@ -59,7 +59,7 @@ fn efficiency_above_one_takes_down_everything_from_the_rise() {
         assert!(not_good(m), "{m:?}");
     }
     assert!(c.work_above_isothermal.value < 0.0);
-    // The train's isothermal efficiency uses that work: before 1.27, good.
+    // The train's isothermal efficiency uses that work: before 0.878, good.
     assert!(not_good(s.totals.isothermal_efficiency));
     // The pressure ratio and the ideal heads do not use T2: still good.
     assert_eq!(c.pressure_ratio.quality, Quality::Good);
@@ -70,7 +70,7 @@ fn efficiency_above_one_takes_down_everything_from_the_rise() {
 fn zero_flow_is_a_stationary_machine() {
     let s = run(|s| s.stages[0].mass_flow = Some(Measured::good(0.0)));
     let c = s.stages[0].compressor().unwrap();
-    // before: efficiencies good (0.77, 0.80), condition normal; UA 0 good.
+    // before: efficiencies 0.774 and 0.800 good, condition Normal; UA 0 good.
     assert_eq!(c.condition, StageCondition::Stationary);
     assert_eq!(c.isentropic_efficiency.quality, Quality::Uncertain);
     assert_eq!(c.mass_flow.quality, Quality::Good);
@@ -89,7 +89,7 @@ fn cooler_inside_the_noise_band_is_not_good() {
         c.gas_outlet_temperature = Measured::good(Kelvin::new(t2 + 0.3));
     });
     let c = s.coolers[0].unwrap();
-    // before: duty -1.2 kW good, UA negative good.
+    // before: duty -2831 W good, UA -25.8 W/K good, condition Normal.
     assert!(c.heat_duty.value < 0.0);
     assert_eq!(c.heat_duty.quality, Quality::Uncertain);
     assert!(not_good(c.ua));
@@ -98,7 +98,8 @@ fn cooler_inside_the_noise_band_is_not_good() {
 
 #[test]
 fn sensor_boundary_refuses_unit_slips_and_underflow() {
-    // Suction pressure 1e-30 Pa. before: ratio 3.1e35 good, T2s 4e12 K good.
+    // Suction pressure 1e-30 Pa. before: ratio 3.2e35 good, T2s 2.8e10 K
+    // good.
     let s = run(|s| s.stages[0].suction_pressure.value = PressureAbs::from_pa(1e-30));
     let c = s.stages[0].compressor().unwrap();
     assert_eq!(c.pressure_ratio, Measured::bad());
@@ -107,7 +108,7 @@ fn sensor_boundary_refuses_unit_slips_and_underflow() {
     // The temperature rise does not use the pressure: still good.
     assert_eq!(c.temperature_rise.quality, Quality::Good);
 
-    // degC passed as K on stage 1. before: isentropic efficiency 0.07 good.
+    // degC passed as K on stage 1. before: isentropic efficiency 0.077 good.
     let s = run(|s| {
         let st = &mut s.stages[0];
         let t1 = st.suction_temperature.value.celsius();
@@ -120,8 +121,8 @@ fn sensor_boundary_refuses_unit_slips_and_underflow() {
         Measured::bad()
     );
 
-    // bar passed as Pa for stage 1's suction. before: overall ratio 1.4e5
-    // good, isothermal efficiency 4.1 good.
+    // bar passed as Pa for stage 1's suction. before: overall ratio 6.4e6
+    // good, isothermal efficiency 2.45 good.
     let s = run(|s| {
         let p = s.stages[0].suction_pressure.value.pa() / 1e5;
         s.stages[0].suction_pressure.value = PressureAbs::from_pa(p);
@@ -129,7 +130,7 @@ fn sensor_boundary_refuses_unit_slips_and_underflow() {
     assert_eq!(s.totals.overall_pressure_ratio, Measured::bad());
     assert_eq!(s.totals.isothermal_efficiency, Measured::bad());
 
-    // A subnormal discharge pressure. before: ratio 0, good.
+    // A subnormal discharge pressure. before: ratio 3.2e-316, good.
     let s = run(|s| s.stages[1].discharge_pressure.value = PressureAbs::from_pa(1e-310));
     assert_eq!(
         s.stages[1].compressor().unwrap().pressure_ratio,
@@ -139,23 +140,27 @@ fn sensor_boundary_refuses_unit_slips_and_underflow() {
 
 #[test]
 fn a_bad_stage_does_not_move_good_totals() {
-    // A bad T2 on stage 3. before: the isothermal work moved 5.6 % (the
-    // mean Z took the bad stage's placeholder 1.0) and stayed good.
+    // A bad suction pressure on stage 3. before: the isothermal work moved
+    // from 219,441 to 224,211 J/kg (2.2 %; the mean Z took the bad stage's
+    // placeholder 1.0) and stayed good.
     let b = base();
-    let s = run(|s| s.stages[2].discharge_temperature.quality = Quality::Bad);
+    let s = run(|s| s.stages[2].suction_pressure.quality = Quality::Bad);
     assert_eq!(s.totals.isothermal_work, b.totals.isothermal_work);
     assert_eq!(s.totals.isothermal_work.quality, Quality::Good);
     assert_eq!(
         s.totals.single_stage_isentropic_work,
         b.totals.single_stage_isentropic_work
     );
-    // The sums that use that stage's work are bad.
-    assert_eq!(s.totals.compressor_work, Measured::bad());
+    // The stage's work does not use its pressures; its isentropic head
+    // does, and so does the sum of the heads.
+    assert_eq!(s.totals.compressor_work, b.totals.compressor_work);
+    assert_eq!(s.totals.measured_staged_isentropic_work, Measured::bad());
 }
 
 #[test]
 fn compressibility_quality_is_used_not_replaced() {
-    // Uncertain supplied Z on stage 2. before: totals good.
+    // Uncertain supplied Z on stage 2. before: isothermal work 219,441 J/kg
+    // good.
     let s = run(|s| s.stages[1].compressibility.as_mut().unwrap().quality = Quality::Uncertain);
     assert_eq!(s.totals.isothermal_work.quality, Quality::Uncertain);
     let c = s.stages[1].compressor().unwrap();
@@ -163,8 +168,8 @@ fn compressibility_quality_is_used_not_replaced() {
     assert_eq!(c.compressibility.quality, Quality::Uncertain);
     // Z cancels from the efficiencies: still good.
     assert_eq!(c.isentropic_efficiency.quality, Quality::Good);
-    // Bad supplied Z. before: silently replaced by the configured 1.0, heads
-    // good.
+    // Bad supplied Z. before: silently replaced by the configured 1.0;
+    // isentropic head 71.7 kJ/kg and actual work 93.9 kJ/kg good.
     let s = run(|s| s.stages[1].compressibility.as_mut().unwrap().quality = Quality::Bad);
     let c = s.stages[1].compressor().unwrap();
     assert_eq!(c.isentropic_head, Measured::bad());
@@ -176,7 +181,7 @@ fn compressibility_quality_is_used_not_replaced() {
 fn outputs_that_do_not_use_a_failed_input_stay_good() {
     let b = base();
     // Bad discharge pressure on stage 2. before: temperature rise, actual
-    // work and mass flow bad.
+    // work and mass flow 0, bad.
     let s = run(|s| s.stages[1].discharge_pressure.quality = Quality::Bad);
     let (c, c0) = (
         s.stages[1].compressor().unwrap(),
@@ -186,8 +191,7 @@ fn outputs_that_do_not_use_a_failed_input_stay_good() {
     assert_eq!(c.actual_work, c0.actual_work);
     assert_eq!(c.mass_flow, c0.mass_flow);
     assert_eq!(c.actual_work.quality, Quality::Good);
-    // Bad first-stage T1. before: overall ratio and every interstage entry
-    // bad.
+    // Bad first-stage T1. before: overall ratio 0 bad, no interstage entries.
     let s = run(|s| s.stages[0].suction_temperature.quality = Quality::Bad);
     assert_eq!(
         s.totals.overall_pressure_ratio,
@@ -195,7 +199,7 @@ fn outputs_that_do_not_use_a_failed_input_stay_good() {
     );
     assert_eq!(s.interstage[0], b.interstage[0]);
     assert_eq!(s.interstage[0].unwrap().optimum.quality, Quality::Good);
-    // Bad stage-1 T2. before: the cooler approach bad.
+    // Bad stage-1 T2. before: the cooler approach 0, bad.
     let s = run(|s| s.stages[0].discharge_temperature.quality = Quality::Bad);
     let (c, c0) = (s.coolers[0].unwrap(), b.coolers[0].unwrap());
     assert_eq!(c.approach, c0.approach);
@@ -204,7 +208,7 @@ fn outputs_that_do_not_use_a_failed_input_stay_good() {
 
 #[test]
 fn pump_has_a_condition_and_refuses_implausible_rises() {
-    // Discharge below suction. before: pressure rise -x Pa good, no
+    // Discharge below suction. before: pressure rise -659,160 Pa good, no
     // condition field.
     let s = run(|s| {
         let p1 = s.stages[4].suction_pressure.value.pa();
@@ -214,8 +218,8 @@ fn pump_has_a_condition_and_refuses_implausible_rises() {
     assert_eq!(p.condition, PumpCondition::NoPressureRise);
     assert_eq!(p.pressure_rise.quality, Quality::Uncertain);
     assert!(p.pressure_rise.value < 0.0);
-    // A subnormal suction pressure. before: ratio 0 (or huge) good.
-    let s = run(|s| s.stages[4].suction_pressure.value = PressureAbs::from_pa(1e-310));
+    // A subnormal discharge pressure. before: ratio 1.5e-317 good.
+    let s = run(|s| s.stages[4].discharge_pressure.value = PressureAbs::from_pa(1e-310));
     let p = s.stages[4].pump().unwrap();
     assert_eq!(p.pressure_ratio, Measured::bad());
     assert_eq!(p.condition, PumpCondition::InputBad);
@@ -224,15 +228,18 @@ fn pump_has_a_condition_and_refuses_implausible_rises() {
 #[test]
 fn not_applicable_is_not_bad() {
     let s = base();
-    // The aftercooler's next-stage rise (a pump follows). before: bad.
+    // The aftercooler's next-stage rise (a pump follows). before: 0, bad.
     let c = s.coolers[3].unwrap();
-    assert_eq!(c.next_stage_temperature_rise.quality, Quality::NotApplicable);
+    assert_eq!(
+        c.next_stage_temperature_rise.quality,
+        Quality::NotApplicable
+    );
     assert_eq!(
         s.coolers[0].unwrap().next_stage_temperature_rise.quality,
         Quality::Good
     );
-    // k and Z keep a quality when a stage stops early. before: 1.0 and 1.0
-    // with no quality.
+    // k and Z keep a quality when a stage stops early. before: k 1.0 and Z
+    // 1.0 (CO2 is 1.289 and the supplied Z 0.97), with no quality.
     let s = run(|s| s.stages[1].suction_pressure.quality = Quality::Bad);
     let c = s.stages[1].compressor().unwrap();
     assert_eq!(c.k.quality, Quality::Good);
@@ -243,8 +250,9 @@ fn not_applicable_is_not_bad() {
 
 #[test]
 fn rating_point_query_is_not_input_bad() {
-    // A design-point query without a discharge temperature. before:
-    // condition InputBad, efficiencies bad.
+    // A design-point query without a discharge temperature. before (as
+    // issue 11 reports; the host passed a bad T2): condition InputBad,
+    // efficiencies bad.
     let gas = IdealGas::<f64>::from_spec(&AIR, false, 1.0).unwrap();
     let g = Measured::good;
     let r = evaluate_compressor(

@@ -89,8 +89,8 @@ fn good_outputs_at_small_ratios_are_within_the_tolerance_table() {
 
 #[test]
 fn small_ratio_efficiency_is_not_good() {
-    // Issue 11 example (today's value, before the fix: 0.078, good): at a
-    // ratio of 1.0001 a T2 reading 0.1 K high gives an isentropic
+    // Issue 11 example (before the fix, as the issue reports: 0.078, good):
+    // at a ratio of 1.0001 a T2 reading 0.1 K high gives an isentropic
     // efficiency of about 0.078; it is now uncertain. The rise is also too
     // large for the ratio (ln(T2/T1) > ln r: n not above 1), which is the
     // first reason given.
