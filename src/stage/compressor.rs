@@ -304,6 +304,11 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
         g.check(check::EXPONENT, Quality::Uncertain);
     }
     g.check(check::CONSISTENT, checks.efficiency);
+    if checks.no_compression {
+        // A temperature rise without a pressure rise is not compression
+        // work: the work from it is suspect.
+        g.check(check::CONSISTENT, Quality::Uncertain);
+    }
     if checks.below_resolution {
         g.check(check::RESOLVED, Quality::Uncertain);
     }
