@@ -21,7 +21,7 @@
 //!
 //! Qualities follow the dependency rule ([`crate::dependency::cooler_uses`]).
 
-use crate::dependency::{cooler_cp_slots, cooler_uses, slot, Grades};
+use crate::dependency::{cooler_cp_slots, cooler_uses, slot, Grades, Use};
 use crate::gas::PropertyInputs;
 use crate::plausibility::Limits;
 use crate::quality::{Measured, Quality};
@@ -141,6 +141,18 @@ pub struct CoolerInputs<T> {
     pub coolant_cp: T,
 }
 
+// Bits of the computed / suspect masks, one per result field.
+const F_DROP: u16 = 1 << 0;
+const F_APPROACH: u16 = 1 << 1;
+const F_EFF: u16 = 1 << 2;
+const F_DUTY: u16 = 1 << 3;
+const F_DP: u16 = 1 << 4;
+const F_REL_DP: u16 = 1 << 5;
+const F_COOLANT_RISE: u16 = 1 << 6;
+const F_LMTD: u16 = 1 << 7;
+const F_UA: u16 = 1 << 8;
+const F_BALANCE: u16 = 1 << 9;
+
 /// Counterflow LMTD from the two terminal differences; returns `None` unless
 /// both are positive. Well conditioned everywhere: near equal differences
 /// (|u| = |a - b|/(a + b) below 0.2 in f32, 0.01 in f64) it uses the atanh
@@ -197,7 +209,6 @@ pub fn evaluate_cooler_within<T: Real>(
     cp_inputs: PropertyInputs,
     out: &mut CoolerResult<T>,
 ) {
-    *out = CoolerResult::bad();
     let (tin, tout, tc, tco) = (
         inp.gas_inlet_temperature,
         inp.gas_outlet_temperature,
@@ -212,67 +223,86 @@ pub fn evaluate_cooler_within<T: Real>(
     );
     let ok = |m: Measured<T>| m.quality.is_usable();
     let noise = limits.temperature_noise;
-    let with = |v: T, suspect: bool| {
-        Measured::derived(
-            v,
-            if suspect {
-                Quality::Uncertain
-            } else {
-                Quality::Good
-            },
-        )
+    // Computed outputs and those a field-local plausibility check makes
+    // suspect (bit i: the i-th field in declaration order).
+    let (mut done, mut suspect): (u16, u16) = (0, 0);
+    let mut set = |m: &mut Measured<T>, bit: u16, v: T, doubtful: bool| {
+        m.value = v;
+        done |= bit;
+        if doubtful {
+            suspect |= bit;
+        }
     };
     let mut condition = CoolerCondition::Normal;
 
     if ok(pin) && ok(pout) {
         let dp = pin.value - pout.value;
-        out.pressure_drop = with(dp, dp < T::ZERO);
-        out.relative_pressure_drop = with(dp / pin.value, dp < T::ZERO);
+        set(&mut out.pressure_drop, F_DP, dp, dp < T::ZERO);
+        set(
+            &mut out.relative_pressure_drop,
+            F_REL_DP,
+            dp / pin.value,
+            dp < T::ZERO,
+        );
     }
     let gas_ok = ok(tin) && ok(tout);
     let drop = tin.value - tout.value;
     let outlet_above_inlet = gas_ok && drop < -noise;
     let within_noise = gas_ok && !outlet_above_inlet && drop < noise;
     let stationary = ok(flow) && !(flow.value > limits.stationary_flow);
+    let duty = flow.value * inp.gas_cp * drop;
+    let duty_ok = gas_ok && !outlet_above_inlet && ok(flow);
     if gas_ok {
-        out.gas_temperature_drop = with(drop, outlet_above_inlet);
+        set(
+            &mut out.gas_temperature_drop,
+            F_DROP,
+            drop,
+            outlet_above_inlet,
+        );
         if outlet_above_inlet {
             condition = CoolerCondition::OutletAboveInlet;
-        } else if ok(flow) {
-            out.heat_duty = with(flow.value * inp.gas_cp * drop, within_noise);
+        } else if duty_ok {
+            set(&mut out.heat_duty, F_DUTY, duty, within_noise);
         }
     }
     let approach = tout.value - tc.value;
     let below_coolant = ok(tout) && ok(tc) && approach < -noise;
     if ok(tout) && ok(tc) {
-        out.approach = with(approach, below_coolant);
+        set(&mut out.approach, F_APPROACH, approach, below_coolant);
     }
     let span = tin.value - tc.value;
     let no_span = gas_ok && ok(tc) && !(span > T::of(MIN_EFFECTIVENESS_SPAN_K));
     if gas_ok && ok(tc) && !outlet_above_inlet && !no_span {
         let eff = drop / span;
-        out.effectiveness = with(eff, !(eff >= T::ZERO && eff <= T::ONE));
+        let outside = !(eff >= T::ZERO && eff <= T::ONE);
+        set(&mut out.effectiveness, F_EFF, eff, outside);
     }
     let rise = tco.value - tc.value;
     if ok(tc) && ok(tco) {
-        out.coolant_temperature_rise = with(rise, rise < -noise);
+        set(
+            &mut out.coolant_temperature_rise,
+            F_COOLANT_RISE,
+            rise,
+            rise < -noise,
+        );
     }
     if gas_ok && ok(tc) && ok(tco) {
         if let Some(lmtd) = lmtd_counterflow(tin.value - tco.value, tout.value - tc.value) {
-            out.lmtd = with(lmtd, false);
-            let duty = out.heat_duty;
-            if duty.quality.is_usable() {
+            set(&mut out.lmtd, F_LMTD, lmtd, false);
+            if duty_ok {
                 // A negative duty inside the noise band gives a negative UA:
                 // uncertain with the duty; no flow: UA undefined, uncertain.
-                let suspect = duty.quality != Quality::Good || stationary;
-                out.ua = with(duty.value / lmtd, suspect);
+                set(&mut out.ua, F_UA, duty / lmtd, within_noise || stationary);
             }
         }
-        let duty = out.heat_duty;
-        if duty.quality.is_usable() && duty.value > T::ZERO && ok(mc) {
+        if duty_ok && duty > T::ZERO && ok(mc) {
             let coolant_duty = mc.value * inp.coolant_cp * rise;
-            out.heat_balance_error =
-                Measured::derived((duty.value - coolant_duty) / duty.value, duty.quality);
+            set(
+                &mut out.heat_balance_error,
+                F_BALANCE,
+                (duty - coolant_duty) / duty,
+                within_noise,
+            );
         }
     }
 
@@ -302,19 +332,39 @@ pub fn evaluate_cooler_within<T: Real>(
         .slot(slot::FLOW, flow.quality)
         .slot(slot::COOLANT_FLOW, mc.quality);
     let u = cooler_uses(cooler_cp_slots(cp_inputs));
-    g.settle(&mut out.gas_temperature_drop, u.gas_temperature_drop);
-    g.settle(&mut out.approach, u.approach);
-    g.settle(&mut out.effectiveness, u.effectiveness);
-    g.settle(&mut out.heat_duty, u.heat_duty);
-    g.settle(&mut out.pressure_drop, u.pressure_drop);
-    g.settle(&mut out.relative_pressure_drop, u.relative_pressure_drop);
-    g.settle(
+    let settle = |m: &mut Measured<T>, bit: u16, use_: Use| {
+        let own = if suspect & bit != 0 {
+            Quality::Uncertain
+        } else {
+            Quality::Good
+        };
+        g.settle_computed(m, done & bit != 0, use_);
+        *m = m.at_most(own);
+    };
+    settle(
+        &mut out.gas_temperature_drop,
+        F_DROP,
+        u.gas_temperature_drop,
+    );
+    settle(&mut out.approach, F_APPROACH, u.approach);
+    settle(&mut out.effectiveness, F_EFF, u.effectiveness);
+    settle(&mut out.heat_duty, F_DUTY, u.heat_duty);
+    settle(&mut out.pressure_drop, F_DP, u.pressure_drop);
+    settle(
+        &mut out.relative_pressure_drop,
+        F_REL_DP,
+        u.relative_pressure_drop,
+    );
+    settle(
         &mut out.coolant_temperature_rise,
+        F_COOLANT_RISE,
         u.coolant_temperature_rise,
     );
-    g.settle(&mut out.lmtd, u.lmtd);
-    g.settle(&mut out.ua, u.ua);
-    g.settle(&mut out.heat_balance_error, u.heat_balance_error);
+    settle(&mut out.lmtd, F_LMTD, u.lmtd);
+    settle(&mut out.ua, F_UA, u.ua);
+    settle(&mut out.heat_balance_error, F_BALANCE, u.heat_balance_error);
+    // Set by the train (the next stage's result).
+    out.next_stage_temperature_rise = Measured::bad();
     out.condition = condition;
 }
 

@@ -340,70 +340,95 @@ pub fn cooler_cp_slots(p: PropertyInputs) -> Slots {
     s
 }
 
-/// The qualities of one evaluation's slots and checks.
-#[derive(Clone, Copy, Debug)]
+/// The qualities of one evaluation's slots and checks, as bit sets (one
+/// per quality level), so grading an output is a few mask operations.
+#[derive(Clone, Copy, Debug, Default)]
 pub struct Grades {
-    slots: [Quality; slot::COUNT],
-    checks: [Quality; check::COUNT],
-}
-
-impl Default for Grades {
-    fn default() -> Self {
-        Self::new()
-    }
+    slots_uncertain: u16,
+    slots_bad: u16,
+    slots_not_applicable: u16,
+    checks_uncertain: u8,
+    checks_bad: u8,
 }
 
 impl Grades {
     /// Everything good.
     pub const fn new() -> Self {
         Grades {
-            slots: [Quality::Good; slot::COUNT],
-            checks: [Quality::Good; check::COUNT],
+            slots_uncertain: 0,
+            slots_bad: 0,
+            slots_not_applicable: 0,
+            checks_uncertain: 0,
+            checks_bad: 0,
         }
     }
 
     /// Sets the quality of the slots in `s`.
+    #[inline]
     pub fn slot(&mut self, s: Slots, q: Quality) -> &mut Self {
-        for (i, g) in self.slots.iter_mut().enumerate() {
-            if s.0 & (1 << i) != 0 {
-                *g = q;
-            }
+        let m = s.0;
+        self.slots_uncertain &= !m;
+        self.slots_bad &= !m;
+        self.slots_not_applicable &= !m;
+        match q {
+            Quality::Good => {}
+            Quality::Uncertain => self.slots_uncertain |= m,
+            Quality::Bad => self.slots_bad |= m,
+            Quality::NotApplicable => self.slots_not_applicable |= m,
         }
         self
     }
 
-    /// Records the outcome of the checks in `c` (worst kept).
+    /// Records the outcome of the checks in `c` (worst kept; a check is
+    /// never "not applicable").
+    #[inline]
     pub fn check(&mut self, c: Checks, q: Quality) {
-        for (i, g) in self.checks.iter_mut().enumerate() {
-            if c.0 & (1 << i) != 0 {
-                *g = g.worst(q);
-            }
+        match q {
+            Quality::Good => {}
+            Quality::Uncertain => self.checks_uncertain |= c.0,
+            Quality::Bad | Quality::NotApplicable => self.checks_bad |= c.0,
         }
     }
 
     /// The quality the rule gives an output with use `u`.
+    #[inline]
     pub fn of(&self, u: Use) -> Quality {
-        let mut q = Quality::Good;
-        for (i, g) in self.slots.iter().enumerate() {
-            if u.slots.0 & (1 << i) != 0 {
-                q = q.worst(*g);
-            }
+        let s = u.slots.0;
+        let failed = self.checks_uncertain | self.checks_bad;
+        if s & self.slots_not_applicable != 0 {
+            Quality::NotApplicable
+        } else if s & self.slots_bad != 0 || u.checks.0 & self.checks_bad != 0 {
+            Quality::Bad
+        } else if s & self.slots_uncertain != 0
+            || u.checks.0 & self.checks_uncertain != 0
+            || u.soft.0 & failed != 0
+        {
+            Quality::Uncertain
+        } else {
+            Quality::Good
         }
-        for (i, g) in self.checks.iter().enumerate() {
-            let bit = 1 << i;
-            if u.checks.0 & bit != 0 {
-                q = q.worst(*g);
-            } else if u.soft.0 & bit != 0 && *g != Quality::Good {
-                q = q.worst(Quality::Uncertain);
-            }
-        }
-        q
+    }
+
+    /// Applies the rule to one output whose value was written in place
+    /// (`computed`) or not: not applicable if it uses a slot that does not
+    /// apply, bad if not computed or not finite, else the rule's quality.
+    #[inline]
+    pub fn settle_computed<T: Real>(&self, m: &mut Measured<T>, computed: bool, u: Use) {
+        let q = self.of(u);
+        *m = if q == Quality::NotApplicable {
+            Measured::not_applicable()
+        } else if computed {
+            Measured::derived(m.value, q)
+        } else {
+            Measured::bad()
+        };
     }
 
     /// Applies the rule to one output: its quality becomes the worst of its
     /// uses and of any field-local plausibility grade the evaluation set
     /// (uncertain); a value that was not computed stays bad (or becomes
     /// not applicable when it uses a slot that does not apply).
+    #[inline]
     pub fn settle<T: Real>(&self, m: &mut Measured<T>, u: Use) {
         let q = self.of(u);
         *m = if q == Quality::NotApplicable {

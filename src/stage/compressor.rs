@@ -181,7 +181,9 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     limits: &Limits<T>,
     out: &mut CompressorResult<T>,
 ) {
-    *out = CompressorResult::bad();
+    // Which outputs were computed (bit i: the i-th field in declaration
+    // order); the rest are bad or not applicable after `settle_compressor`.
+    let mut done: u16 = 0;
     let (p1, t1, p2, t2) = (
         inp.suction_pressure,
         inp.suction_temperature,
@@ -198,18 +200,20 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     let t1_ok = t1.quality.is_usable();
     let t2_ok = t2.quality.is_usable();
     let rating_point = t2.quality == Quality::NotApplicable;
-    let good = |v: T| Measured::derived(v, Quality::Good);
 
     // Values, each from what it uses.
     let ratio = p2.value / p1.value;
     if p_ok {
-        out.pressure_ratio = good(ratio);
+        done |= 1 << 0;
+        out.pressure_ratio.value = ratio;
     }
     if t1_ok && t2_ok {
-        out.temperature_rise = good(t2.value - t1.value);
+        done |= 1 << 2;
+        out.temperature_rise.value = t2.value - t1.value;
     }
     if flow.quality.is_usable() {
-        out.mass_flow = good(flow.value);
+        done |= 1 << 10;
+        out.mass_flow.value = flow.value;
     }
     // The path properties: at the measured end states; without a usable
     // T1 at a nominal temperature (only a temperature-independent model's
@@ -217,8 +221,10 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     let t1_path = if t1_ok { t1.value } else { T::of(288.15) };
     let t2_path = if t2_ok { t2.value } else { t1_path };
     let props = gas.path(p1.value, t1_path, p2.value, t2_path, z_supplied);
-    out.compressibility = good(props.z);
-    out.k = good(props.k);
+    done |= 1 << 14;
+    out.compressibility.value = props.z;
+    done |= 1 << 15;
+    out.k.value = props.k;
 
     let mut checks = CompressorChecks::default();
     // Work from the temperature rise: T1, T2, Z and cp only (not the
@@ -228,9 +234,11 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     let actual_per_z = props.cp * dt;
     let actual = props.z * actual_per_z;
     if rising {
-        out.actual_work = good(actual);
+        done |= 1 << 6;
+        out.actual_work.value = actual;
         if flow.quality.is_usable() {
-            out.gas_power = good(flow.value * actual);
+            done |= 1 << 11;
+            out.gas_power.value = flow.value * actual;
         }
     } else if t1_ok && t2_ok {
         checks.no_rise = true;
@@ -249,31 +257,36 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
         let hs_per_z = r_t1 * (t2s_over_t1 - T::ONE) / m_k;
         let iso_per_z = r_t1 * ln_r;
         if t1_ok {
-            out.isentropic_discharge_temperature = good(t1.value * t2s_over_t1);
-            out.isentropic_head = good(props.z * hs_per_z);
-            out.isothermal_head = good(isothermal_head(
-                props.z,
-                props.gas_constant,
-                t1.value,
-                ratio,
-            ));
+            done |= 1 << 1;
+            out.isentropic_discharge_temperature.value = t1.value * t2s_over_t1;
+            done |= 1 << 3;
+            out.isentropic_head.value = props.z * hs_per_z;
+            done |= 1 << 5;
+            out.isothermal_head.value =
+                isothermal_head(props.z, props.gas_constant, t1.value, ratio);
         }
         if rising {
             // sigma = (n-1)/n = ln(T2/T1)/ln(r); polytropic head along the
             // measured path = Z·R·(T2 - T1)/sigma.
             let sigma = T::ln(t2.value / t1.value) / ln_r;
             let eta_s = hs_per_z / actual_per_z;
-            out.isentropic_efficiency = good(eta_s);
-            out.work_above_isothermal = good(props.z * (actual_per_z - iso_per_z));
+            done |= 1 << 7;
+            out.isentropic_efficiency.value = eta_s;
+            done |= 1 << 12;
+            out.work_above_isothermal.value = props.z * (actual_per_z - iso_per_z);
             if flow.quality.is_usable() {
-                out.power_above_isothermal =
-                    good(flow.value * props.z * (actual_per_z - iso_per_z));
+                done |= 1 << 13;
+                out.power_above_isothermal.value =
+                    flow.value * props.z * (actual_per_z - iso_per_z);
             }
             if sigma < T::ONE {
                 let eta_p = m_k / sigma;
-                out.polytropic_head = good(props.z * props.gas_constant * dt / sigma);
-                out.polytropic_exponent = good(T::ONE / (T::ONE - sigma));
-                out.polytropic_efficiency = good(eta_p);
+                done |= 1 << 4;
+                out.polytropic_head.value = props.z * props.gas_constant * dt / sigma;
+                done |= 1 << 9;
+                out.polytropic_exponent.value = T::ONE / (T::ONE - sigma);
+                done |= 1 << 8;
+                out.polytropic_efficiency.value = eta_p;
                 checks.efficiency = efficiency_grade(eta_s).worst(efficiency_grade(eta_p));
             } else {
                 checks.exponent_implausible = true;
@@ -316,7 +329,7 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
         g.check(check::RUNNING, Quality::Uncertain);
     }
     let (props_slots, z_slots) = property_slots(gas.property_inputs(), !rating_point);
-    settle_compressor(&g, &compressor_uses(props_slots, z_slots), out);
+    settle_compressor(&g, &compressor_uses(props_slots, z_slots), done, out);
     out.condition = checks.condition(p1, t1, p2, t2, rating_point);
 }
 
@@ -368,27 +381,78 @@ impl CompressorChecks {
     }
 }
 
-/// Every output's quality from the table ([`crate::dependency`]).
-fn settle_compressor<T: Real>(g: &Grades, u: &CompressorUses, o: &mut CompressorResult<T>) {
-    g.settle(&mut o.pressure_ratio, u.pressure_ratio);
-    g.settle(
+/// Every output's quality from the table ([`crate::dependency`]); `done`
+/// has bit i set for each computed field (declaration order).
+fn settle_compressor<T: Real>(
+    g: &Grades,
+    u: &CompressorUses,
+    done: u16,
+    o: &mut CompressorResult<T>,
+) {
+    g.settle_computed(
+        &mut o.pressure_ratio,
+        done & (1 << 0) != 0,
+        u.pressure_ratio,
+    );
+    g.settle_computed(
         &mut o.isentropic_discharge_temperature,
+        done & (1 << 1) != 0,
         u.isentropic_discharge_temperature,
     );
-    g.settle(&mut o.temperature_rise, u.temperature_rise);
-    g.settle(&mut o.isentropic_head, u.isentropic_head);
-    g.settle(&mut o.polytropic_head, u.polytropic_head);
-    g.settle(&mut o.isothermal_head, u.isothermal_head);
-    g.settle(&mut o.actual_work, u.actual_work);
-    g.settle(&mut o.isentropic_efficiency, u.isentropic_efficiency);
-    g.settle(&mut o.polytropic_efficiency, u.polytropic_efficiency);
-    g.settle(&mut o.polytropic_exponent, u.polytropic_exponent);
-    g.settle(&mut o.mass_flow, u.mass_flow);
-    g.settle(&mut o.gas_power, u.gas_power);
-    g.settle(&mut o.work_above_isothermal, u.work_above_isothermal);
-    g.settle(&mut o.power_above_isothermal, u.power_above_isothermal);
-    g.settle(&mut o.compressibility, u.compressibility);
-    g.settle(&mut o.k, u.k);
+    g.settle_computed(
+        &mut o.temperature_rise,
+        done & (1 << 2) != 0,
+        u.temperature_rise,
+    );
+    g.settle_computed(
+        &mut o.isentropic_head,
+        done & (1 << 3) != 0,
+        u.isentropic_head,
+    );
+    g.settle_computed(
+        &mut o.polytropic_head,
+        done & (1 << 4) != 0,
+        u.polytropic_head,
+    );
+    g.settle_computed(
+        &mut o.isothermal_head,
+        done & (1 << 5) != 0,
+        u.isothermal_head,
+    );
+    g.settle_computed(&mut o.actual_work, done & (1 << 6) != 0, u.actual_work);
+    g.settle_computed(
+        &mut o.isentropic_efficiency,
+        done & (1 << 7) != 0,
+        u.isentropic_efficiency,
+    );
+    g.settle_computed(
+        &mut o.polytropic_efficiency,
+        done & (1 << 8) != 0,
+        u.polytropic_efficiency,
+    );
+    g.settle_computed(
+        &mut o.polytropic_exponent,
+        done & (1 << 9) != 0,
+        u.polytropic_exponent,
+    );
+    g.settle_computed(&mut o.mass_flow, done & (1 << 10) != 0, u.mass_flow);
+    g.settle_computed(&mut o.gas_power, done & (1 << 11) != 0, u.gas_power);
+    g.settle_computed(
+        &mut o.work_above_isothermal,
+        done & (1 << 12) != 0,
+        u.work_above_isothermal,
+    );
+    g.settle_computed(
+        &mut o.power_above_isothermal,
+        done & (1 << 13) != 0,
+        u.power_above_isothermal,
+    );
+    g.settle_computed(
+        &mut o.compressibility,
+        done & (1 << 14) != 0,
+        u.compressibility,
+    );
+    g.settle_computed(&mut o.k, done & (1 << 15) != 0, u.k);
 }
 
 #[cfg(test)]
