@@ -112,43 +112,36 @@ impl Checks {
 
 /// What one output uses: the slots its value is computed from, the checks
 /// whose grade it takes in full, and the checks that can make it at most
-/// uncertain (suspect, not impossible).
+/// uncertain (suspect, not impossible). One word: slots in bits 0-15, full
+/// checks in bits 16-23, soft checks in bits 24-31, so grading is three
+/// mask tests.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct Use {
-    /// Slots the value is computed from.
-    pub slots: Slots,
-    /// Checks taken in full.
-    pub checks: Checks,
-    /// Checks that cap at uncertain.
-    pub soft: Checks,
-}
+pub struct Use(u32);
 
 impl Use {
     const fn of(slots: Slots) -> Use {
-        Use {
-            slots,
-            checks: Checks::NONE,
-            soft: Checks::NONE,
-        }
+        Use(slots.0 as u32)
     }
     const fn full(self, c: Checks) -> Use {
-        Use {
-            checks: self.checks.or(c),
-            ..self
-        }
+        Use(self.0 | (c.0 as u32) << 16)
     }
     const fn soft(self, c: Checks) -> Use {
-        Use {
-            soft: self.soft.or(c),
-            ..self
-        }
+        Use(self.0 | (c.0 as u32) << 24)
+    }
+    /// The same use with more slots.
+    const fn and(self, s: Slots) -> Use {
+        Use(self.0 | s.0 as u32)
+    }
+    /// Slots the value is computed from.
+    pub const fn slots(self) -> Slots {
+        Slots(self.0 as u16)
     }
     /// Every slot the output's quality can depend on (its own and its
     /// checks').
     pub fn all_slots(self) -> Slots {
-        let mut s = self.slots;
-        let c = self.checks.or(self.soft).0;
+        let mut s = self.slots();
+        let c = (self.0 >> 16) as u8 | (self.0 >> 24) as u8;
         for (i, cs) in check::SLOTS.iter().enumerate() {
             if c & (1 << i) != 0 {
                 s = s.or(*cs);
@@ -233,25 +226,16 @@ pub const fn compressor_uses(props: Slots, z: Slots) -> CompressorUses {
         isentropic_discharge_temperature: Use::of(P1.or(P2).or(T1).or(props)).full(RATIO),
         temperature_rise: Use::of(T1.or(T2)),
         isentropic_head: Use::of(P1.or(P2).or(T1).or(z).or(props)).full(RATIO),
-        polytropic_head: Use {
-            slots: states.or(z),
-            ..path
-        },
+        polytropic_head: path.and(z),
         isothermal_head: isothermal,
         actual_work: actual,
         isentropic_efficiency: eff,
         polytropic_efficiency: eff,
         polytropic_exponent: path,
         mass_flow: Use::of(FLOW),
-        gas_power: Use {
-            slots: actual.slots.or(FLOW),
-            ..actual
-        },
+        gas_power: actual.and(FLOW),
         work_above_isothermal: above,
-        power_above_isothermal: Use {
-            slots: above.slots.or(FLOW),
-            ..above
-        },
+        power_above_isothermal: above.and(FLOW),
         compressibility: Use::of(z),
         k: Use::of(props),
     }
@@ -322,8 +306,8 @@ pub const fn cooler_uses(cp: Slots) -> CoolerUses {
         relative_pressure_drop: dp,
         coolant_temperature_rise: Use::of(COOLANT_IN_T.or(COOLANT_OUT_T)),
         lmtd,
-        ua: Use::of(duty.slots.or(lmtd.slots)),
-        heat_balance_error: Use::of(duty.slots.or(lmtd.slots).or(COOLANT_FLOW)),
+        ua: duty.and(lmtd.slots()),
+        heat_balance_error: duty.and(lmtd.slots()).and(COOLANT_FLOW),
     }
 }
 
@@ -340,69 +324,66 @@ pub fn cooler_cp_slots(p: PropertyInputs) -> Slots {
     s
 }
 
-/// The qualities of one evaluation's slots and checks, as bit sets (one
-/// per quality level), so grading an output is a few mask operations.
+/// The qualities of one evaluation's slots and checks, as bit sets in the
+/// layout of [`Use`] (one per quality level), so grading an output is three
+/// mask tests.
 #[derive(Clone, Copy, Debug, Default)]
 pub struct Grades {
-    slots_uncertain: u16,
-    slots_bad: u16,
-    slots_not_applicable: u16,
-    checks_uncertain: u8,
-    checks_bad: u8,
+    not_applicable: u32,
+    bad: u32,
+    uncertain: u32,
 }
 
 impl Grades {
     /// Everything good.
     pub const fn new() -> Self {
         Grades {
-            slots_uncertain: 0,
-            slots_bad: 0,
-            slots_not_applicable: 0,
-            checks_uncertain: 0,
-            checks_bad: 0,
+            not_applicable: 0,
+            bad: 0,
+            uncertain: 0,
         }
     }
 
     /// Sets the quality of the slots in `s`.
     #[inline]
     pub fn slot(&mut self, s: Slots, q: Quality) -> &mut Self {
-        let m = s.0;
-        self.slots_uncertain &= !m;
-        self.slots_bad &= !m;
-        self.slots_not_applicable &= !m;
+        let m = s.0 as u32;
+        self.uncertain &= !m;
+        self.bad &= !m;
+        self.not_applicable &= !m;
         match q {
             Quality::Good => {}
-            Quality::Uncertain => self.slots_uncertain |= m,
-            Quality::Bad => self.slots_bad |= m,
-            Quality::NotApplicable => self.slots_not_applicable |= m,
+            Quality::Uncertain => self.uncertain |= m,
+            Quality::Bad => self.bad |= m,
+            Quality::NotApplicable => self.not_applicable |= m,
         }
         self
     }
 
     /// Records the outcome of the checks in `c` (worst kept; a check is
-    /// never "not applicable").
+    /// never "not applicable"). A failed check caps its soft users at
+    /// uncertain.
     #[inline]
     pub fn check(&mut self, c: Checks, q: Quality) {
+        let (full, soft) = ((c.0 as u32) << 16, (c.0 as u32) << 24);
         match q {
             Quality::Good => {}
-            Quality::Uncertain => self.checks_uncertain |= c.0,
-            Quality::Bad | Quality::NotApplicable => self.checks_bad |= c.0,
+            Quality::Uncertain => self.uncertain |= full | soft,
+            Quality::Bad | Quality::NotApplicable => {
+                self.bad |= full;
+                self.uncertain |= soft;
+            }
         }
     }
 
     /// The quality the rule gives an output with use `u`.
     #[inline]
     pub fn of(&self, u: Use) -> Quality {
-        let s = u.slots.0;
-        let failed = self.checks_uncertain | self.checks_bad;
-        if s & self.slots_not_applicable != 0 {
+        if u.0 & self.not_applicable != 0 {
             Quality::NotApplicable
-        } else if s & self.slots_bad != 0 || u.checks.0 & self.checks_bad != 0 {
+        } else if u.0 & self.bad != 0 {
             Quality::Bad
-        } else if s & self.slots_uncertain != 0
-            || u.checks.0 & self.checks_uncertain != 0
-            || u.soft.0 & failed != 0
-        {
+        } else if u.0 & self.uncertain != 0 {
             Quality::Uncertain
         } else {
             Quality::Good
@@ -466,7 +447,7 @@ mod tests {
         assert_eq!(g.of(u.isentropic_head), Quality::Uncertain);
         assert_eq!(g.of(u.isentropic_efficiency), Quality::Good);
         assert!(u.actual_work.all_slots().contains(slot::P1));
-        assert!(!u.actual_work.slots.contains(slot::P1));
+        assert!(!u.actual_work.slots().contains(slot::P1));
         let mut m = Measured::good(2.0_f32);
         g.slot(slot::T2, Quality::NotApplicable);
         g.settle(&mut m, u.actual_work);
