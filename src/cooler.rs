@@ -24,7 +24,7 @@
 use crate::dependency::{cooler_cp_slots, cooler_uses, slot, Grades, Use};
 use crate::gas::PropertyInputs;
 use crate::plausibility::Limits;
-use crate::quality::{Measured, Quality};
+use crate::quality::Measured;
 use crate::real::Real;
 
 /// Smallest inlet temperature difference (gas in - coolant in) for which the
@@ -333,13 +333,7 @@ pub fn evaluate_cooler_within<T: Real>(
         .slot(slot::COOLANT_FLOW, mc.quality);
     let u = cooler_uses(cooler_cp_slots(cp_inputs));
     let settle = |m: &mut Measured<T>, bit: u16, use_: Use| {
-        let own = if suspect & bit != 0 {
-            Quality::Uncertain
-        } else {
-            Quality::Good
-        };
-        g.settle_computed(m, done & bit != 0, use_);
-        *m = m.at_most(own);
+        g.settle_suspect(m, done & bit != 0, suspect & bit != 0, use_);
     };
     settle(
         &mut out.gas_temperature_drop,
@@ -371,6 +365,7 @@ pub fn evaluate_cooler_within<T: Real>(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::quality::Quality;
 
     fn inputs() -> CoolerInputs<f64> {
         let g = Measured::good;

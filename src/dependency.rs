@@ -395,7 +395,23 @@ impl Grades {
     /// apply, bad if not computed or not finite, else the rule's quality.
     #[inline]
     pub fn settle_computed<T: Real>(&self, m: &mut Measured<T>, computed: bool, u: Use) {
-        let q = self.of(u);
+        self.settle_suspect(m, computed, false, u);
+    }
+
+    /// As [`Grades::settle_computed`], at most uncertain when `suspect` (a
+    /// field-local plausibility check over slots the output uses failed).
+    #[inline]
+    pub fn settle_suspect<T: Real>(
+        &self,
+        m: &mut Measured<T>,
+        computed: bool,
+        suspect: bool,
+        u: Use,
+    ) {
+        let mut q = self.of(u);
+        if suspect && q == Quality::Good {
+            q = Quality::Uncertain;
+        }
         *m = if q == Quality::NotApplicable {
             Measured::not_applicable()
         } else if computed {

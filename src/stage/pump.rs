@@ -102,7 +102,8 @@ pub fn evaluate_pump_within<T: Real, G: GasModel<T>>(
     limits: &Limits<T>,
 ) -> PumpResult<T> {
     let mut out = PumpResult::bad();
-    let good = |v: T| Measured::derived(v, Quality::Good);
+    // Computed outputs (bit i: the i-th field in declaration order).
+    let mut done: u8 = 0;
     let p_ok = p1.quality.is_usable() && p2.quality.is_usable();
     let dp = p2.value - p1.value;
     let ratio = p2.value / p1.value;
@@ -113,36 +114,40 @@ pub fn evaluate_pump_within<T: Real, G: GasModel<T>>(
         .slot(slot::FLOW, mass_flow.quality);
     let mut condition = PumpCondition::Normal;
     if mass_flow.quality.is_usable() {
-        out.mass_flow = good(mass_flow.value);
+        out.mass_flow.value = mass_flow.value;
+        done |= 1 << 4;
         if !(mass_flow.value > limits.stationary_flow) {
             condition = PumpCondition::Stationary;
         }
     }
     if p_ok {
-        out.pressure_ratio = good(ratio);
+        out.pressure_ratio.value = ratio;
+        out.pressure_rise.value = dp;
+        done |= 1 << 0 | 1 << 1;
         if !(ratio <= limits.max_stage_ratio) {
             g.check(check::RATIO, Quality::Bad);
             condition = PumpCondition::RatioOutOfRange;
         }
         if dp > T::ZERO {
-            out.pressure_rise = good(dp);
             let w_rev = dp / density;
             let w = w_rev / efficiency;
-            out.reversible_work = good(w_rev);
-            out.shaft_work = good(w);
+            out.reversible_work.value = w_rev;
+            out.shaft_work.value = w;
+            done |= 1 << 2 | 1 << 3;
             if mass_flow.quality.is_usable() {
-                out.power = good(mass_flow.value * w);
+                out.power.value = mass_flow.value * w;
+                done |= 1 << 5;
             }
             if t1.quality.is_usable() {
                 let props = gas.path(p1.value, t1.value, p2.value, t1.value, None);
                 let h = isentropic_head(props.z, props.gas_constant, t1.value, ratio, props.k);
-                out.gas_compression_equivalent = good(h);
-                out.work_ratio_to_gas = good(w / h);
+                out.gas_compression_equivalent.value = h;
+                out.work_ratio_to_gas.value = w / h;
+                done |= 1 << 6 | 1 << 7;
             }
         } else {
             // A pressure fall across a pump: possible (stopped, or flow
             // through it) but not pumping; the reading is suspect.
-            out.pressure_rise = Measured::new(dp, Quality::Uncertain);
             condition = PumpCondition::NoPressureRise;
         }
     } else {
@@ -150,17 +155,20 @@ pub fn evaluate_pump_within<T: Real, G: GasModel<T>>(
     }
     let (props, _) = property_slots(gas.property_inputs(), false);
     let u = pump_uses(props);
-    g.settle(&mut out.pressure_ratio, u.pressure_ratio);
-    g.settle(&mut out.pressure_rise, u.pressure_rise);
-    g.settle(&mut out.reversible_work, u.reversible_work);
-    g.settle(&mut out.shaft_work, u.shaft_work);
-    g.settle(&mut out.mass_flow, u.mass_flow);
-    g.settle(&mut out.power, u.power);
-    g.settle(
+    let c = |bit: u8| done & (1 << bit) != 0;
+    g.settle_computed(&mut out.pressure_ratio, c(0), u.pressure_ratio);
+    let falling = condition == PumpCondition::NoPressureRise;
+    g.settle_suspect(&mut out.pressure_rise, c(1), falling, u.pressure_rise);
+    g.settle_computed(&mut out.reversible_work, c(2), u.reversible_work);
+    g.settle_computed(&mut out.shaft_work, c(3), u.shaft_work);
+    g.settle_computed(&mut out.mass_flow, c(4), u.mass_flow);
+    g.settle_computed(&mut out.power, c(5), u.power);
+    g.settle_computed(
         &mut out.gas_compression_equivalent,
+        c(6),
         u.gas_compression_equivalent,
     );
-    g.settle(&mut out.work_ratio_to_gas, u.work_ratio_to_gas);
+    g.settle_computed(&mut out.work_ratio_to_gas, c(7), u.work_ratio_to_gas);
     out.condition = condition;
     out
 }
