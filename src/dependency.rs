@@ -395,7 +395,14 @@ impl Grades {
     /// apply, bad if not computed or not finite, else the rule's quality.
     #[inline]
     pub fn settle_computed<T: Real>(&self, m: &mut Measured<T>, computed: bool, u: Use) {
-        self.settle_suspect(m, computed, false, u);
+        let q = self.of(u);
+        *m = if q == Quality::NotApplicable {
+            Measured::not_applicable()
+        } else if computed {
+            Measured::derived(m.value, q)
+        } else {
+            Measured::bad()
+        };
     }
 
     /// As [`Grades::settle_computed`], at most uncertain when `suspect` (a
@@ -408,10 +415,11 @@ impl Grades {
         suspect: bool,
         u: Use,
     ) {
-        let mut q = self.of(u);
-        if suspect && q == Quality::Good {
-            q = Quality::Uncertain;
+        let mut g = *self;
+        if suspect {
+            g.uncertain |= u.0;
         }
+        let q = g.of(u);
         *m = if q == Quality::NotApplicable {
             Measured::not_applicable()
         } else if computed {

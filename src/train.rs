@@ -148,6 +148,9 @@ pub struct Snapshot<T, const N: usize> {
 pub struct Train<T, G, const N: usize, const W: usize> {
     config: TrainConfig<T, G, N>,
     limits: Limits<T>,
+    /// The gas model's Z without a supplied one (what a stage without a Z
+    /// reading uses), for the totals.
+    configured_z: T,
     compressor_stages: u8,
     detectors: [SteadyStateDetector<T, W>; N],
     snapshot: Snapshot<T, N>,
@@ -323,9 +326,14 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             steady_state: SteadyState::unknown(),
         });
         let coolers = config.stages.map(|s| s.cooler.map(|_| CoolerResult::bad()));
+        let configured_z = config
+            .gas
+            .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
+            .z;
         Ok(Train {
             config,
             limits,
+            configured_z,
             compressor_stages,
             detectors: core::array::from_fn(|_| SteadyStateDetector::new()),
             snapshot: Snapshot {
@@ -548,11 +556,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         let mut pump_power = Sum::new();
         let mut staged_s = Sum::new();
         let mut z_sum = Sum::new();
-        let configured_z = self
-            .config
-            .gas
-            .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
-            .z;
+        let configured_z = self.configured_z;
         for (st, s) in self.snapshot.stages.iter().zip(si.iter()) {
             match &st.work {
                 StageWork::Compressor(c) => {
