@@ -37,13 +37,22 @@
 #[allow(dead_code)]
 mod codec;
 
-use codec::{
-    decode_scan, visit, Out, RawStage, ABSENT, FIELDS, F_FLOW, F_MC, F_P1, F_P2, F_POUT, F_T1,
-    F_T2, F_TCIN, F_TCOUT, F_TOUT, F_Z,
-};
+use codec::{decode_scan, encode_stage, RawStage, ABSENT, FIELDS};
 use polytrope::demo;
+use polytrope::fields::{FieldValue, Group, StageInput};
 use polytrope::quality::{Measured, Quality};
-use polytrope::scan::StageScan;
+
+const F_P1: usize = StageInput::SuctionPressure.index();
+const F_T1: usize = StageInput::SuctionTemperature.index();
+const F_P2: usize = StageInput::DischargePressure.index();
+const F_T2: usize = StageInput::DischargeTemperature.index();
+const F_FLOW: usize = StageInput::MassFlow.index();
+const F_Z: usize = StageInput::Compressibility.index();
+const F_TOUT: usize = StageInput::CoolerGasOutletTemperature.index();
+const F_POUT: usize = StageInput::CoolerGasOutletPressure.index();
+const F_TCIN: usize = StageInput::CoolantInletTemperature.index();
+const F_TCOUT: usize = StageInput::CoolantOutletTemperature.index();
+const F_MC: usize = StageInput::CoolantMassFlow.index();
 
 const N: usize = demo::STAGES;
 /// Compressor stages of the demo train (the pump is stage 4).
@@ -94,20 +103,35 @@ fn flow() -> Set {
     Set::of(0, &[F_FLOW])
 }
 
-/// (value deps, quality-only deps) of one output of the demo train.
+/// (value deps, quality-only deps) of one output of stage `i` of the demo
+/// train (stages 0-3 compressors, 4 the pump).
 fn deps(name: &str, i: usize) -> (Set, Set) {
     let s = |f: &[usize]| Set::of(i, f);
     let none = Set(0);
+    let steady = ["steady", "samples", "temperature_spread", "ratio_spread"];
+    if steady.contains(&name) {
+        // The detector uses the ratio, T2 and the flow.
+        return (none, s(&[F_P1, F_P2, F_T2]).or(flow()));
+    }
+    if i == NC {
+        // The pump.
+        return match name {
+            "pressure_ratio" | "pressure_rise" | "reversible_work" | "shaft_work" => {
+                (s(&[F_P1, F_P2]), none)
+            }
+            "mass_flow" => (flow(), none),
+            "power" => (s(&[F_P1, F_P2]).or(flow()), none),
+            "gas_compression_equivalent" | "work_ratio_to_gas" => (s(&[F_P1, F_P2, F_T1]), none),
+            "condition" => (none, s(&[F_P1, F_P2]).or(flow())),
+            _ => (none, none),
+        };
+    }
     // The consistency checks of a compressor stage (efficiency <= 1, n > 1,
     // resolution, machine running) use all four states and the flow.
     let checks = s(&[F_P1, F_P2, F_T1, F_T2]).or(flow());
     match name {
-        "pressure_ratio"
-        | "pump_pressure_ratio"
-        | "pump_pressure_rise"
-        | "pump_reversible_work"
-        | "pump_shaft_work" => (s(&[F_P1, F_P2]), none),
-        "t2s" => (s(&[F_P1, F_P2, F_T1]), none),
+        "pressure_ratio" => (s(&[F_P1, F_P2]), none),
+        "isentropic_discharge_temperature" => (s(&[F_P1, F_P2, F_T1]), none),
         "temperature_rise" => (s(&[F_T1, F_T2]), none),
         "isentropic_head" | "isothermal_head" => (s(&[F_P1, F_P2, F_T1, F_Z]), none),
         "polytropic_head" | "work_above_isothermal" => (s(&[F_P1, F_P2, F_T1, F_T2, F_Z]), flow()),
@@ -115,18 +139,12 @@ fn deps(name: &str, i: usize) -> (Set, Set) {
         "isentropic_efficiency" | "polytropic_efficiency" | "polytropic_exponent" => {
             (s(&[F_P1, F_P2, F_T1, F_T2]), flow())
         }
-        "mass_flow" | "pump_mass_flow" => (flow(), none),
+        "mass_flow" => (flow(), none),
         "gas_power" => (s(&[F_T1, F_T2, F_Z]).or(flow()), checks),
         "power_above_isothermal" => (s(&[F_P1, F_P2, F_T1, F_T2, F_Z]).or(flow()), none),
         "compressibility" => (s(&[F_Z]), none),
         "k" => (none, none),
-        "stage_condition" => (none, s(&[F_P1, F_P2, F_T1, F_T2, F_Z]).or(flow())),
-        "pump_power" if i < N => (s(&[F_P1, F_P2]).or(flow()), none),
-        "pump_condition" => (none, s(&[F_P1, F_P2]).or(flow())),
-        "pump_gas_equivalent" | "pump_work_ratio_to_gas" => (s(&[F_P1, F_P2, F_T1]), none),
-        "steady" | "steady_samples" | "temperature_spread" | "ratio_spread" => {
-            (none, s(&[F_P1, F_P2, F_T2]).or(flow()))
-        }
+        "condition" => (none, s(&[F_P1, F_P2, F_T1, F_T2, F_Z]).or(flow())),
         _ => (none, none),
     }
 }
@@ -156,7 +174,7 @@ fn cooler_deps(name: &str, i: usize) -> (Set, Set) {
                 (none, none) // a pump follows: not applicable
             }
         }
-        "cooler_condition" => (
+        "condition" => (
             none,
             duty.or(lmtd)
                 .or(p_out)
@@ -174,19 +192,25 @@ fn union(f: impl Fn(usize) -> (Set, Set)) -> (Set, Set) {
     })
 }
 
-fn totals_deps(name: &str, i: usize) -> (Set, Set) {
+fn interstage_deps(name: &str, i: usize) -> (Set, Set) {
+    let first_last = Set::of(0, &[F_P1]).or(Set::of(NC - 1, &[F_P2]));
+    match name {
+        "measured" => (Set::of(i, &[F_P2]), Set(0)),
+        "optimum" => (first_last, Set(0)),
+        "deviation" => (first_last.or(Set::of(i, &[F_P2])), Set(0)),
+        _ => (Set(0), Set(0)),
+    }
+}
+
+fn totals_deps(name: &str) -> (Set, Set) {
     let first_last = Set::of(0, &[F_P1]).or(Set::of(NC - 1, &[F_P2]));
     let zs = union(|i| (Set::of(i, &[F_Z]), Set(0))).0;
     let refs = first_last.or(Set::of(0, &[F_T1])).or(zs);
     let work = union(|i| deps("actual_work", i));
     let power = union(|i| deps("gas_power", i));
-    let pump = deps("pump_power", NC);
+    let pump = deps("power", NC);
     let staged = union(|i| deps("isentropic_head", i));
     match name {
-        "interstage_measured" => (Set::of(i, &[F_P2]), Set(0)),
-        "interstage_optimum" => (first_last, Set(0)),
-        "interstage_deviation" => (first_last.or(Set::of(i, &[F_P2])), Set(0)),
-        "interstage_present" => (Set(0), first_last),
         "overall_pressure_ratio" => (first_last, Set(0)),
         "compressor_work" => work,
         "compressor_power" => power,
@@ -207,34 +231,38 @@ fn totals_deps(name: &str, i: usize) -> (Set, Set) {
 
 #[derive(Clone, Debug)]
 struct O {
-    section: u8, // 0 stage, 1 cooler, 2 interstage/totals
+    section: u8, // 0 stage, 1 cooler, 2 interstage, 3 totals, 4 snapshot
     idx: usize,
     name: &'static str,
     value: f64,
     quality: Quality,
-    code: Option<u32>,
+    /// Exact outputs (flags, counts, condition names).
+    code: Option<String>,
 }
 
 fn run(raw: &[RawStage; N]) -> Vec<O> {
     let mut train = demo::train::<f64>().unwrap();
     let scan = decode_scan::<f64, N>(raw);
     let mut out = Vec::new();
-    let mut section = 0u8;
-    visit(train.update(&scan), |idx, o| {
-        let (name, value, quality, code) = match o {
-            Out::Value(n, m, _) => (n, m.value, m.quality, None),
-            Out::Code(n, c) => (n, 0.0, Quality::Good, Some(c)),
+    train.update(&scan).visit_groups(&mut |g, spec, v| {
+        let (section, idx) = match g {
+            Group::Stage(i) => (0, usize::from(i)),
+            Group::Cooler(i) => (1, usize::from(i)),
+            Group::Interstage(i) => (2, usize::from(i)),
+            Group::Totals => (3, 0),
+            Group::Snapshot => (4, 0),
         };
-        if name == "cooler_present" {
-            section = 1;
-        }
-        if name.starts_with("interstage") || name == "overall_pressure_ratio" {
-            section = 2;
-        }
+        let (value, quality, code) = match v {
+            FieldValue::Real(m) => (m.value, m.quality, None),
+            FieldValue::Plain(x) => (x, Quality::Good, None),
+            FieldValue::Flag(b) => (0.0, Quality::Good, Some(b.to_string())),
+            FieldValue::Count(c) => (0.0, Quality::Good, Some(c.to_string())),
+            FieldValue::Tag(t) => (0.0, Quality::Good, Some(t.to_string())),
+        };
         out.push(O {
             section,
             idx,
-            name,
+            name: spec.name,
             value,
             quality,
             code,
@@ -247,68 +275,14 @@ fn deps_of(o: &O) -> (Set, Set) {
     match o.section {
         0 => deps(o.name, o.idx),
         1 => cooler_deps(o.name, o.idx),
-        _ => totals_deps(o.name, o.idx),
+        2 => interstage_deps(o.name, o.idx),
+        3 => totals_deps(o.name),
+        _ => (Set(0), Set(0)),
     }
-}
-
-fn encode(s: &StageScan<f64>) -> RawStage {
-    let mut b = [0_u32; FIELDS];
-    let mut q = [ABSENT; FIELDS];
-    let qc = |q: Quality| match q {
-        Quality::Good => 0,
-        Quality::Uncertain => 1,
-        _ => 2,
-    };
-    let mut put = |i: usize, v: f64, c: Quality| {
-        b[i] = (v as f32).to_bits();
-        q[i] = qc(c);
-    };
-    put(
-        F_P1,
-        s.suction_pressure.value.pa(),
-        s.suction_pressure.quality,
-    );
-    put(
-        F_T1,
-        s.suction_temperature.value.kelvin(),
-        s.suction_temperature.quality,
-    );
-    put(
-        F_P2,
-        s.discharge_pressure.value.pa(),
-        s.discharge_pressure.quality,
-    );
-    put(
-        F_T2,
-        s.discharge_temperature.value.kelvin(),
-        s.discharge_temperature.quality,
-    );
-    if let Some(m) = s.mass_flow {
-        put(F_FLOW, m.value, m.quality);
-    }
-    if let Some(m) = s.compressibility {
-        put(F_Z, m.value, m.quality);
-    }
-    if let Some(c) = s.cooler {
-        let m = c.gas_outlet_temperature;
-        put(F_TOUT, m.value.kelvin(), m.quality);
-        if let Some(p) = c.gas_outlet_pressure {
-            put(F_POUT, p.value.pa(), p.quality);
-        }
-        let m = c.coolant_inlet_temperature;
-        put(F_TCIN, m.value.kelvin(), m.quality);
-        if let Some(t) = c.coolant_outlet_temperature {
-            put(F_TCOUT, t.value.kelvin(), t.quality);
-        }
-        if let Some(m) = c.coolant_mass_flow {
-            put(F_MC, m.value, m.quality);
-        }
-    }
-    RawStage { bits: b, q }
 }
 
 fn base(i: u32) -> [RawStage; N] {
-    demo::scan::<f64>(i).stages.map(|s| encode(&s))
+    demo::scan::<f64>(i).stages.map(|s| encode_stage(&s))
 }
 
 // ---- plausibility of a good output ---------------------------------------
@@ -367,28 +341,26 @@ fn implausible(o: &O, outs: &[O]) -> Option<&'static str> {
         {
             return Some("head or work not positive")
         }
-        "work_above_isothermal" | "power_above_isothermal" | "gas_power" if v < 0.0 => {
+        "work_above_isothermal" | "power_above_isothermal" | "gas_power" | "power" if v < 0.0 => {
             return Some("work above isothermal or power negative")
         }
         "polytropic_exponent" if v <= 1.0 => return Some("n not above 1"),
-        "heat_duty" | "ua" if v < 0.0 => return Some("duty or UA negative"),
-        "ua" if value_of(outs, 0, 0, "mass_flow")
-            .is_some_and(|f| f.quality != Quality::Bad && f.value <= 0.0) =>
+        "heat_duty" | "ua" if o.section == 1 && v < 0.0 => return Some("duty or UA negative"),
+        "ua" if o.section == 1
+            && value_of(outs, 0, 0, "mass_flow")
+                .is_some_and(|f| f.quality != Quality::Bad && f.value <= 0.0) =>
         {
             return Some("UA good at zero gas flow")
         }
         "lmtd" if v <= 0.0 => return Some("LMTD not positive"),
-        "pump_pressure_rise" if v <= 0.0 => return Some("pump pressure rise not positive"),
-        "pressure_ratio" | "pump_pressure_ratio" if !(v > 0.0 && v <= MAX_STAGE_RATIO) => {
+        "pressure_rise" if v <= 0.0 => return Some("pump pressure rise not positive"),
+        "pressure_ratio" if o.section == 0 && !(v > 0.0 && v <= MAX_STAGE_RATIO) => {
             return Some("stage ratio outside (0, 50]")
         }
-        "t2s" if !(T_RANGE.0..=2.0 * T_RANGE.1).contains(&v) => {
+        "isentropic_discharge_temperature" if !(T_RANGE.0..=2.0 * T_RANGE.1).contains(&v) => {
             return Some("isentropic discharge temperature implausible")
         }
         _ => {}
-    }
-    if o.section == 0 && o.name.contains("efficiency") && o.name != "isentropic_efficiency" {
-        // both stage efficiencies share the checks above
     }
     None
 }

@@ -142,7 +142,7 @@ fn demo_json_is_complete_and_adds_up() {
         assert_eq!(last.at("after_stage").num(), 4.0);
         assert_eq!(
             last.at("next_stage_temperature_rise_K").measured().1,
-            "not applicable"
+            "not-applicable"
         );
         assert_eq!(
             last.at("next_stage_temperature_rise_K").at("value"),
