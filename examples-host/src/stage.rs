@@ -11,6 +11,7 @@ use polytrope::fields::StageInput;
 use polytrope::gas::{GasModel, GasSpec, HeatCapacity, IdealGas, BUILTIN_GASES};
 use polytrope::scan::{
     mass_flow_kg_s, pressure_pa, temperature_k, MAX_PRESSURE_PA, MAX_TEMPERATURE_K,
+    MIN_PRESSURE_PA, MIN_TEMPERATURE_K,
 };
 use polytrope::stage::{evaluate_compressor, CompressorInputs, StageCondition};
 use polytrope::staging::{equal_ratio_interstage_pressure, ideal_references};
@@ -125,7 +126,7 @@ fn check_pressure(option: &str, pa: f64) -> Result<f64, CliError> {
     let m = pressure_pa(Measured::good(PressureAbs::from_pa(pa)));
     if m.quality == Quality::Bad {
         return Err(CliError::Input(format!(
-            "--{option}: {pa} Pa absolute is outside the accepted range (0, {MAX_PRESSURE_PA:e}] Pa"
+            "--{option}: {pa} Pa absolute is outside the accepted range [{MIN_PRESSURE_PA}, {MAX_PRESSURE_PA:e}] Pa"
         )));
     }
     Ok(pa)
@@ -134,7 +135,7 @@ fn check_pressure(option: &str, pa: f64) -> Result<f64, CliError> {
 fn check_temperature(option: &str, t: Kelvin<f64>) -> Result<f64, CliError> {
     if temperature_k(Measured::good(t)).quality == Quality::Bad {
         return Err(CliError::Input(format!(
-            "--{option}: {} K is outside the accepted range (0, {MAX_TEMPERATURE_K}] K",
+            "--{option}: {} K is outside the accepted range [{MIN_TEMPERATURE_K}, {MAX_TEMPERATURE_K}] K",
             t.kelvin()
         )));
     }
