@@ -9,10 +9,10 @@
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 cases="${POLYTROPE_ORACLE_CASES:-30000}"
-cargo test -q -p polytrope --test quality_oracle --no-run
+cargo test -q -p polytrope --features demo --test quality_oracle --no-run
 start=$(date +%s)
 out=$(POLYTROPE_ORACLE_CASES="$cases" \
-  timeout 120 cargo test -q -p polytrope --test quality_oracle every_slot -- --nocapture 2>&1) || {
+  timeout 120 cargo test -q -p polytrope --features demo --test quality_oracle every_slot -- --nocapture 2>&1) || {
   echo "$out" | tail -40
   echo "quality oracle FAILED or timed out (120 s)"
   exit 1
