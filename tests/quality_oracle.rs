@@ -240,9 +240,19 @@ struct O {
     code: Option<String>,
 }
 
-fn run(raw: &[RawStage; N]) -> Vec<O> {
-    let mut train = demo::train::<f64>().unwrap();
-    let scan = decode_scan::<f64, N>(raw);
+/// Runs one scan through a fresh demo train: the f64 reference build, or
+/// the f32 device build with `f32`.
+fn run(raw: &[RawStage; N], f32: bool) -> Vec<O> {
+    if f32 {
+        run_in::<f32>(raw)
+    } else {
+        run_in::<f64>(raw)
+    }
+}
+
+fn run_in<T: codec::FromF32>(raw: &[RawStage; N]) -> Vec<O> {
+    let mut train = demo::train::<T>().unwrap();
+    let scan = decode_scan::<T, N>(raw);
     let mut out = Vec::new();
     train.update(&scan).visit_groups(&mut |g, spec, v| {
         let (section, idx) = match g {
@@ -253,8 +263,8 @@ fn run(raw: &[RawStage; N]) -> Vec<O> {
             Group::Snapshot => (4, 0),
         };
         let (value, quality, code) = match v {
-            FieldValue::Real(m) => (m.value, m.quality, None),
-            FieldValue::Plain(x) => (x, Quality::Good, None),
+            FieldValue::Real(m) => (m.value.to_f64(), m.quality, None),
+            FieldValue::Plain(x) => (x.to_f64(), Quality::Good, None),
             FieldValue::Flag(b) => (0.0, Quality::Good, Some(b.to_string())),
             FieldValue::Count(c) => (0.0, Quality::Good, Some(c.to_string())),
             FieldValue::Tag(t) => (0.0, Quality::Good, Some(t.to_string())),
@@ -446,14 +456,14 @@ struct Counts {
     first: Vec<String>,
 }
 
-fn oracle(cases: u64, seed: u64) -> Counts {
+fn oracle(cases: u64, seed: u64, f32: bool) -> Counts {
     let mut rng = Rng(seed);
     let mut c = Counts::default();
     let slots: Vec<Slot> = (0..N)
         .flat_map(|s| (0..FIELDS).map(move |f| (s, f)))
         .collect();
     let bases: Vec<[RawStage; N]> = [0, 150, 300, 450].iter().map(|&i| base(i)).collect();
-    let base_out: Vec<Vec<O>> = bases.iter().map(run).collect();
+    let base_out: Vec<Vec<O>> = bases.iter().map(|b| run(b, f32)).collect();
     let note = |c: &mut Counts, s: String| {
         if c.first.len() < 25 {
             c.first.push(s);
@@ -475,7 +485,7 @@ fn oracle(cases: u64, seed: u64) -> Counts {
         raw[slot.0].q[slot.1] = q;
         let went_bad = q != 0 || slot_implausible(slot.1, f32::from_bits(bits));
         let implausible_value = slot_implausible(slot.1, f32::from_bits(bits));
-        let out = run(&raw);
+        let out = run(&raw, f32);
         for o in &out {
             // Present in both runs (an absent interstage entry prints only
             // its presence code).
@@ -567,7 +577,7 @@ fn every_slot_perturbed_quality_follows_use_and_good_is_plausible() {
         .ok()
         .and_then(|s| s.parse().ok())
         .unwrap_or(6_000);
-    let c = oracle(cases, 0x5eed_0b5e_11ed_0011);
+    let c = oracle(cases, 0x5eed_0b5e_11ed_0011, false);
     eprintln!(
         "oracle: {} cases; unrelated outputs changed {}; check-only deps changed a value {}; \
          bad/uncertain input, dependent output good {}; implausible input, dependent output \
@@ -597,12 +607,47 @@ fn every_slot_perturbed_quality_follows_use_and_good_is_plausible() {
     );
 }
 
+/// The same run on the f32 device build (fewer cases: the rule is the same
+/// code; this catches a build-dependent threshold or finiteness slip).
+#[test]
+fn every_slot_perturbed_in_the_f32_build() {
+    let cases = std::env::var("POLYTROPE_ORACLE_CASES")
+        .ok()
+        .and_then(|s| s.parse().ok())
+        .unwrap_or(3_000);
+    let c = oracle(cases, 0x5eed_0b5e_11ed_0f32, true);
+    eprintln!(
+        "oracle f32: {} cases; {} {} {} {} {}",
+        c.cases,
+        c.unrelated_changed,
+        c.check_dep_value_changed,
+        c.bad_input_dependent_good,
+        c.implausible_input_dependent_good,
+        c.implausible_good
+    );
+    for l in &c.first {
+        eprintln!("  {l}");
+    }
+    assert!(c.cases > 500);
+    assert_eq!(
+        (
+            c.unrelated_changed,
+            c.check_dep_value_changed,
+            c.bad_input_dependent_good,
+            c.implausible_input_dependent_good,
+            c.implausible_good
+        ),
+        (0, 0, 0, 0, 0),
+        "see the listing above"
+    );
+}
+
 #[test]
 fn the_base_scans_are_good_and_plausible() {
     // The oracle is only as strong as its base: the demo scans are fully
     // good (except outputs that do not apply) and plausible.
     for i in [0, 150, 300, 450] {
-        let out = run(&base(i));
+        let out = run(&base(i), false);
         for o in &out {
             assert!(implausible(o, &out).is_none(), "{} [{}]", o.name, o.idx);
         }
