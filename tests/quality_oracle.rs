@@ -40,7 +40,9 @@ mod codec;
 use codec::{decode_scan, encode_stage, RawStage, ABSENT, FIELDS};
 use polytrope::demo;
 use polytrope::fields::{FieldValue, Group, StageInput};
+use polytrope::gas::{IdealGas, CARBON_DIOXIDE};
 use polytrope::quality::{Measured, Quality};
+use polytrope::train::{Train, TrainConfig};
 
 const F_P1: usize = StageInput::SuctionPressure.index();
 const F_T1: usize = StageInput::SuctionTemperature.index();
@@ -103,9 +105,29 @@ fn flow() -> Set {
     Set::of(0, &[F_FLOW])
 }
 
+std::thread_local! {
+    /// This thread's runs use the CO2 cp(T) polynomial instead of the demo's
+    /// constant k: k and cp then depend on the path temperatures.
+    static POLY: std::cell::Cell<bool> = const { std::cell::Cell::new(false) };
+}
+
 /// (value deps, quality-only deps) of one output of stage `i` of the demo
 /// train (stages 0-3 compressors, 4 the pump).
 fn deps(name: &str, i: usize) -> (Set, Set) {
+    let (v, q) = deps_constant_k(name, i);
+    if !POLY.with(|p| p.get()) || i == NC {
+        return (v, q);
+    }
+    // With cp(T), k is the mean over the measured path T1..T2: whatever uses
+    // k (the isentropic discharge temperature and head) uses T2 too.
+    match name {
+        "isentropic_discharge_temperature" | "isentropic_head" => (v.or(Set::of(i, &[F_T2])), q),
+        "k" => (Set::of(i, &[F_T1, F_T2]), q),
+        _ => (v, q),
+    }
+}
+
+fn deps_constant_k(name: &str, i: usize) -> (Set, Set) {
     let s = |f: &[usize]| Set::of(i, f);
     let none = Set(0);
     let steady = ["steady", "samples", "temperature_spread", "ratio_spread"];
@@ -251,7 +273,16 @@ fn run(raw: &[RawStage; N], f32: bool) -> Vec<O> {
 }
 
 fn run_in<T: codec::FromF32>(raw: &[RawStage; N]) -> Vec<O> {
-    let mut train = demo::train::<T>().unwrap();
+    let mut train = if POLY.with(|p| p.get()) {
+        let config = demo::config::<T>().unwrap();
+        Train::<T, _, N, { demo::WINDOW }>::new(TrainConfig {
+            gas: IdealGas::from_spec(&CARBON_DIOXIDE, true, T::ONE).unwrap(),
+            ..config
+        })
+        .unwrap()
+    } else {
+        demo::train::<T>().unwrap()
+    };
     let scan = decode_scan::<T, N>(raw);
     let mut out = Vec::new();
     train.update(&scan).visit_groups(&mut |g, spec, v| {
@@ -629,6 +660,38 @@ fn every_slot_perturbed_in_the_f32_build() {
         eprintln!("  {l}");
     }
     assert!(c.cases > 500);
+    assert_eq!(
+        (
+            c.unrelated_changed,
+            c.check_dep_value_changed,
+            c.bad_input_dependent_good,
+            c.implausible_input_dependent_good,
+            c.implausible_good
+        ),
+        (0, 0, 0, 0, 0),
+        "see the listing above"
+    );
+}
+
+/// The same run with a cp(T) gas (CO2's polynomial), where k and cp use the
+/// path temperatures.
+#[test]
+fn every_slot_perturbed_with_a_cp_polynomial_gas() {
+    POLY.with(|p| p.set(true));
+    let c = oracle(3_000, 0x5eed_0b5e_11ed_0c9e, false);
+    eprintln!(
+        "oracle cp(T): {} cases; {} {} {} {} {}",
+        c.cases,
+        c.unrelated_changed,
+        c.check_dep_value_changed,
+        c.bad_input_dependent_good,
+        c.implausible_input_dependent_good,
+        c.implausible_good
+    );
+    for l in &c.first {
+        eprintln!("  {l}");
+    }
+    assert!(c.cases > 1000);
     assert_eq!(
         (
             c.unrelated_changed,
