@@ -24,7 +24,7 @@
 use crate::dependency::{cooler_cp_slots, cooler_uses, slot, Grades, Use};
 use crate::gas::PropertyInputs;
 use crate::plausibility::Limits;
-use crate::quality::Measured;
+use crate::quality::{Measured, Quality};
 use crate::real::Real;
 
 /// Smallest inlet temperature difference (gas in - coolant in) for which the
@@ -198,15 +198,18 @@ pub fn evaluate_cooler_into<T: Real>(inp: &CoolerInputs<T>, out: &mut CoolerResu
         pressure: true,
         compressibility_from_state: true,
     };
-    evaluate_cooler_within(inp, &Limits::default(), all, out);
+    evaluate_cooler_within(inp, &Limits::default(), all, Quality::Good, out);
 }
 
 /// Evaluates one cooler into `out` against `limits`; `cp_inputs` says what
-/// the gas cp was evaluated from (the dependency rule).
+/// the gas cp was evaluated from (the dependency rule) and `cp_fit` whether
+/// the gas model was inside its fitted range there (uncertain: the duty,
+/// UA and heat balance are at most uncertain).
 pub fn evaluate_cooler_within<T: Real>(
     inp: &CoolerInputs<T>,
     limits: &Limits<T>,
     cp_inputs: PropertyInputs,
+    cp_fit: Quality,
     out: &mut CoolerResult<T>,
 ) {
     let (tin, tout, tc, tco) = (
@@ -251,6 +254,7 @@ pub fn evaluate_cooler_within<T: Real>(
     let within_noise = gas_ok && !outlet_above_inlet && drop < noise;
     let stationary = ok(flow) && !(flow.value > limits.stationary_flow);
     let duty = flow.value * inp.gas_cp * drop;
+    let cp_suspect = cp_fit != Quality::Good;
     let duty_ok = gas_ok && !outlet_above_inlet && ok(flow);
     if gas_ok {
         set(
@@ -262,7 +266,7 @@ pub fn evaluate_cooler_within<T: Real>(
         if outlet_above_inlet {
             condition = CoolerCondition::OutletAboveInlet;
         } else if duty_ok {
-            set(&mut out.heat_duty, F_DUTY, duty, within_noise);
+            set(&mut out.heat_duty, F_DUTY, duty, within_noise || cp_suspect);
         }
     }
     let approach = tout.value - tc.value;
@@ -292,7 +296,8 @@ pub fn evaluate_cooler_within<T: Real>(
             if duty_ok {
                 // A negative duty inside the noise band gives a negative UA:
                 // uncertain with the duty; no flow: UA undefined, uncertain.
-                set(&mut out.ua, F_UA, duty / lmtd, within_noise || stationary);
+                let suspect = within_noise || stationary || cp_suspect;
+                set(&mut out.ua, F_UA, duty / lmtd, suspect);
             }
         }
         if duty_ok && duty > T::ZERO && ok(mc) {
@@ -301,7 +306,7 @@ pub fn evaluate_cooler_within<T: Real>(
                 &mut out.heat_balance_error,
                 F_BALANCE,
                 (duty - coolant_duty) / duty,
-                within_noise,
+                within_noise || cp_suspect,
             );
         }
     }
@@ -365,7 +370,6 @@ pub fn evaluate_cooler_within<T: Real>(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::quality::Quality;
 
     fn inputs() -> CoolerInputs<f64> {
         let g = Measured::good;

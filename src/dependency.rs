@@ -92,11 +92,21 @@ pub mod check {
     /// temperature rise is not too large for the ratio; uses P1, T1, P2,
     /// T2).
     pub const EXPONENT: Checks = Checks(1 << 4);
+    /// The gas model's properties are inside its fitted range at the path
+    /// temperatures (uses the property slots; at most the four states).
+    pub const MODEL: Checks = Checks(1 << 5);
     /// Number of check bits.
-    pub const COUNT: usize = 5;
+    pub const COUNT: usize = 6;
     const STATES: Slots = slot::P1.or(slot::P2).or(slot::T1).or(slot::T2);
     /// The slots each check uses, by bit.
-    pub const SLOTS: [Slots; COUNT] = [slot::P1.or(slot::P2), STATES, STATES, slot::FLOW, STATES];
+    pub const SLOTS: [Slots; COUNT] = [
+        slot::P1.or(slot::P2),
+        STATES,
+        STATES,
+        slot::FLOW,
+        STATES,
+        STATES,
+    ];
 }
 
 impl Checks {
@@ -199,14 +209,14 @@ pub struct CompressorUses {
 
 /// The compressor table, given the property slots ([`property_slots`]).
 pub const fn compressor_uses(props: Slots, z: Slots) -> CompressorUses {
-    use check::{CONSISTENT, EXPONENT, RATIO, RESOLVED, RUNNING};
+    use check::{CONSISTENT, EXPONENT, MODEL, RATIO, RESOLVED, RUNNING};
     use slot::{FLOW, P1, P2, T1, T2};
     let ratio = Use::of(P1.or(P2)).full(RATIO);
     let states = P1.or(P2).or(T1).or(T2);
     // Efficiencies: the four states and k (Z cancels); impossible when the
     // states are inconsistent, suspect below resolution or at standstill.
     let eff = Use::of(states.or(props))
-        .full(RATIO.or(CONSISTENT).or(EXPONENT))
+        .full(RATIO.or(CONSISTENT).or(EXPONENT).or(MODEL))
         .soft(RESOLVED.or(RUNNING));
     // The exponent and the polytropic head describe the measured path: a
     // cooled compression (efficiency above one) leaves them meaningful but
@@ -216,16 +226,18 @@ pub const fn compressor_uses(props: Slots, z: Slots) -> CompressorUses {
         .soft(CONSISTENT.or(RESOLVED).or(RUNNING));
     // Work from the temperature rise: T1, T2, Z, cp; suspect when the
     // compression is inconsistent or the machine is stationary.
-    let actual = Use::of(T1.or(T2).or(z).or(props)).soft(CONSISTENT.or(EXPONENT).or(RUNNING));
+    let actual = Use::of(T1.or(T2).or(z).or(props))
+        .full(MODEL)
+        .soft(CONSISTENT.or(EXPONENT).or(RUNNING));
     let isothermal = Use::of(P1.or(P2).or(T1).or(z)).full(RATIO);
     let above = Use::of(states.or(z).or(props))
-        .full(RATIO)
+        .full(RATIO.or(MODEL))
         .soft(CONSISTENT.or(EXPONENT).or(RUNNING));
     CompressorUses {
         pressure_ratio: ratio,
-        isentropic_discharge_temperature: Use::of(P1.or(P2).or(T1).or(props)).full(RATIO),
+        isentropic_discharge_temperature: Use::of(P1.or(P2).or(T1).or(props)).full(RATIO.or(MODEL)),
         temperature_rise: Use::of(T1.or(T2)),
-        isentropic_head: Use::of(P1.or(P2).or(T1).or(z).or(props)).full(RATIO),
+        isentropic_head: Use::of(P1.or(P2).or(T1).or(z).or(props)).full(RATIO.or(MODEL)),
         polytropic_head: path.and(z),
         isothermal_head: isothermal,
         actual_work: actual,
@@ -237,7 +249,7 @@ pub const fn compressor_uses(props: Slots, z: Slots) -> CompressorUses {
         work_above_isothermal: above,
         power_above_isothermal: above.and(FLOW),
         compressibility: Use::of(z),
-        k: Use::of(props),
+        k: Use::of(props).full(MODEL),
     }
 }
 
@@ -257,10 +269,10 @@ pub struct PumpUses {
 
 /// The pump table, given the gas property slots (the gas comparison).
 pub const fn pump_uses(props: Slots) -> PumpUses {
-    use check::RATIO;
+    use check::{MODEL, RATIO};
     use slot::{FLOW, P1, P2, T1};
     let dp = Use::of(P1.or(P2));
-    let gas = Use::of(P1.or(P2).or(T1).or(props)).full(RATIO);
+    let gas = Use::of(P1.or(P2).or(T1).or(props)).full(RATIO.or(MODEL));
     PumpUses {
         pressure_ratio: dp.full(RATIO),
         pressure_rise: dp,

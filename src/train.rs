@@ -537,7 +537,8 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             };
             // In place, as for the stages (saves a ~92-byte copy).
             let r = out.get_or_insert_with(CoolerResult::bad);
-            evaluate_cooler_within(&inputs, limits, cp_inputs, r);
+            let cp_fit = self.config.gas.fit_quality(t_in, t_out);
+            evaluate_cooler_within(&inputs, limits, cp_inputs, cp_fit, r);
             r.next_stage_temperature_rise = next_rise;
         }
     }
@@ -626,7 +627,10 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         }
         totals.overall_pressure_ratio = Measured::derived(ratio, q_ratio);
         let z_mean = z_sum.get();
-        let q_ref = q_ratio.worst(first.t1.quality).worst(z_mean.quality);
+        let q_ref = q_ratio
+            .worst(first.t1.quality)
+            .worst(z_mean.quality)
+            .worst(self.config.gas.fit_quality(first.t1.value, first.t1.value));
         if !q_ref.is_usable() {
             self.snapshot.totals = totals;
             return;

@@ -273,3 +273,34 @@ fn rating_point_query_is_not_input_bad() {
     let t2s = isentropic_discharge_temperature(300.0, 3.0, 1.4);
     assert!((r.isentropic_discharge_temperature.value - t2s).abs() < 1e-9);
 }
+
+#[test]
+fn cp_polynomial_outside_its_fit_range_is_uncertain() {
+    // Methane at 120 K suction with the cp(T) polynomial (fitted from
+    // 273 K). before (issue 11; the model clamped cp to 273 K silently):
+    // every head and efficiency good.
+    use polytrope::gas::METHANE;
+    let gas = IdealGas::<f64>::from_spec(&METHANE, true, 1.0).unwrap();
+    let g = Measured::good;
+    let inputs = |t1: f64, t2: f64| CompressorInputs {
+        suction_pressure: g(1e5),
+        suction_temperature: g(t1),
+        discharge_pressure: g(3e5),
+        discharge_temperature: g(t2),
+        mass_flow: g(1.0),
+        compressibility: None,
+    };
+    let r = evaluate_compressor(&gas, &inputs(120.0, 170.0));
+    assert_eq!(r.isentropic_head.quality, Quality::Uncertain);
+    assert_eq!(r.isentropic_efficiency.quality, Quality::Uncertain);
+    assert_eq!(r.actual_work.quality, Quality::Uncertain);
+    assert_eq!(r.k.quality, Quality::Uncertain);
+    // What does not use cp or k stays good.
+    assert_eq!(r.pressure_ratio.quality, Quality::Good);
+    assert_eq!(r.isothermal_head.quality, Quality::Good);
+    assert_eq!(r.temperature_rise.quality, Quality::Good);
+    // Inside the fit range: good.
+    let r = evaluate_compressor(&gas, &inputs(300.0, 400.0));
+    assert_eq!(r.isentropic_head.quality, Quality::Good);
+    assert_eq!(r.k.quality, Quality::Good);
+}

@@ -10,6 +10,7 @@
 use super::{builtin::GasSpec, GasModel, PathProperties, PropertyInputs, MOLAR_GAS_CONSTANT};
 use crate::error::{check_range, ConfigError, Problem};
 use crate::plausibility::COMPRESSIBILITY_RANGE;
+use crate::quality::Quality;
 
 /// Largest heat-capacity ratio of an ideal gas: 5/3 (monatomic), as 1.67
 /// (tables quote it to two decimals).
@@ -226,6 +227,22 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
             k,
             cp,
             z,
+        }
+    }
+
+    /// A cp(T) polynomial is valid over its fit range only: outside it the
+    /// mean cp is that of the clamped temperature (uncertain).
+    #[inline]
+    fn fit_quality(&self, t_a: T, t_b: T) -> Quality {
+        match self.heat_capacity {
+            HeatCapacity::ConstantK(_) => Quality::Good,
+            HeatCapacity::Polynomial { t_min, t_max, .. } => {
+                if T::min(t_a, t_b) >= t_min && T::max(t_a, t_b) <= t_max {
+                    Quality::Good
+                } else {
+                    Quality::Uncertain
+                }
+            }
         }
     }
 

@@ -16,6 +16,7 @@ pub use builtin::{
 };
 pub use ideal::{HeatCapacity, IdealGas};
 
+use crate::quality::Quality;
 use crate::real::Real;
 
 /// Molar gas constant, J/(mol K) (CODATA 2018, exact since the 2019 SI
@@ -75,5 +76,12 @@ pub trait GasModel<T: Real> {
             pressure: true,
             compressibility_from_state: true,
         }
+    }
+
+    /// Quality of the properties over the temperatures `t_a`..`t_b` (either
+    /// order): good inside the model's fitted range, uncertain outside it
+    /// (the model extrapolates or clamps there). The default is good.
+    fn fit_quality(&self, _t_a: T, _t_b: T) -> Quality {
+        Quality::Good
     }
 }

@@ -221,6 +221,7 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     let t1_path = if t1_ok { t1.value } else { T::of(288.15) };
     let t2_path = if t2_ok { t2.value } else { t1_path };
     let props = gas.path(p1.value, t1_path, p2.value, t2_path, z_supplied);
+    let fit = gas.fit_quality(t1_path, t2_path);
     done |= 1 << 14;
     out.compressibility.value = props.z;
     done |= 1 << 15;
@@ -310,6 +311,7 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     if checks.ratio_out_of_range {
         g.check(check::RATIO, Quality::Bad);
     }
+    g.check(check::MODEL, fit);
     if checks.exponent_implausible {
         // n itself, the polytropic head and efficiency were not computed
         // (bad); what remains (the isentropic efficiency, the work) is a

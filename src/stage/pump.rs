@@ -140,6 +140,7 @@ pub fn evaluate_pump_within<T: Real, G: GasModel<T>>(
             }
             if t1.quality.is_usable() {
                 let props = gas.path(p1.value, t1.value, p2.value, t1.value, None);
+                g.check(check::MODEL, gas.fit_quality(t1.value, t1.value));
                 let h = isentropic_head(props.z, props.gas_constant, t1.value, ratio, props.k);
                 out.gas_compression_equivalent.value = h;
                 out.work_ratio_to_gas.value = w / h;
