@@ -678,7 +678,11 @@ fn every_slot_perturbed_in_the_f32_build() {
 #[test]
 fn every_slot_perturbed_with_a_cp_polynomial_gas() {
     POLY.with(|p| p.set(true));
-    let c = oracle(3_000, 0x5eed_0b5e_11ed_0c9e, false);
+    let cases = std::env::var("POLYTROPE_ORACLE_CASES")
+        .ok()
+        .and_then(|s| s.parse().ok())
+        .unwrap_or(3_000);
+    let c = oracle(cases, 0x5eed_0b5e_11ed_0c9e, false);
     eprintln!(
         "oracle cp(T): {} cases; {} {} {} {} {}",
         c.cases,
