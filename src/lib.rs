@@ -61,7 +61,8 @@
 //!
 //! Module map: [`real`] (the f32/f64 seam), [`units`], [`quality`],
 //! [`error`], [`gas`] (gas models), [`compression`] (ideal heads),
-//! [`stage`] (compressor and pump), [`steady`], [`cooler`], [`staging`]
+//! [`stage`] (compressor and pump), [`rating`] (performance from an
+//! assumed efficiency), [`steady`], [`cooler`], [`staging`]
 //! (whole-train ideals), [`scan`] (inputs and the sensor boundary),
 //! [`train`] (configuration and update), [`tolerance`] (the f32-vs-f64
 //! accuracy table), [`demo`] (an invented scenario), [`signal`] (channels,
@@ -83,6 +84,7 @@ pub mod error;
 pub mod flow;
 pub mod gas;
 pub mod quality;
+pub mod rating;
 pub mod real;
 pub mod scan;
 pub mod signal;

@@ -6,7 +6,7 @@
 //! so a key cannot be written without being documented. A module that adds
 //! a subcommand adds its keys here (to a `keys!` block and its group).
 
-use crate::cli::{CliError, Command, Parsed};
+use crate::cli::{CliError, Parsed};
 
 /// One JSON key.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -181,15 +181,8 @@ pub fn markdown() -> String {
     s
 }
 
-/// The `keys` subcommand.
-pub const COMMAND: Command = Command {
-    name: "keys",
-    summary: "print the Markdown reference of every JSON key (units and meaning)",
-    options: &[],
-    run,
-};
-
-fn run(_args: &Parsed) -> Result<String, CliError> {
+/// Runs the subcommand.
+pub fn run(_args: &Parsed) -> Result<String, CliError> {
     Ok(markdown())
 }
 

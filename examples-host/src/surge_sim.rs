@@ -6,40 +6,9 @@
 //! demonstration, not a certified safety function (IEC 61508 / IEC 61511).
 //! Surge data come from the machine maker and from commissioning tests.
 
-use crate::cli::{count, CliError, Command, Opt, Parsed};
+use crate::cli::{count, CliError, Parsed};
 use crate::greitzer::{run as simulate, Outcome, Scenario};
 use crate::out;
-
-/// The `surge-sim` subcommand.
-pub const COMMAND: Command = Command {
-    name: "surge-sim",
-    summary: "closed-loop surge simulation (Greitzer model, invented scenario): CSV trajectory or scan-period sweep",
-    options: OPTIONS,
-    run,
-};
-
-const OPTIONS: &[Opt] = &[
-    Opt {
-        name: "unprotected",
-        value: None,
-        help: "hold the recycle valve closed (shows the surge cycles)",
-    },
-    Opt {
-        name: "scan-ms",
-        value: Some("MS"),
-        help: "controller scan period in ms, 1 to 500 (default 20)",
-    },
-    Opt {
-        name: "every",
-        value: Some("N"),
-        help: "print every Nth controller scan (default 1)",
-    },
-    Opt {
-        name: "sweep",
-        value: None,
-        help: "print the minimum margin for scan periods 5, 20, 50 and 100 ms",
-    },
-];
 
 fn summary(label: &str, o: &Outcome) -> String {
     format!(
@@ -48,7 +17,8 @@ fn summary(label: &str, o: &Outcome) -> String {
     )
 }
 
-fn run(p: &Parsed) -> Result<String, CliError> {
+/// Runs the subcommand.
+pub fn run(p: &Parsed) -> Result<String, CliError> {
     let mut text = String::from(
         "# Invented demo scenario: air blower on the Greitzer (1976) lumped model; throttle 0.8 -> 0.3 in 0.5 s at t = 2 s.\n",
     );
