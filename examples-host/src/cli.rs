@@ -125,7 +125,7 @@ pub fn count(option: &str, text: &str, lo: u32, hi: u32) -> Result<u32, CliError
 /// Caution: not a certified safety function. Machine limits come from the
 /// machine maker's data; follow local codes and licensed engineering practice.
 #[derive(Debug, Parser)]
-#[command(name = "polytrope-host", version, about, long_about = None)]
+#[command(name = "polytrope-host", version, about, long_about = None, subcommand_required = true, arg_required_else_help = false)]
 pub struct Cli {
     /// What to do.
     #[command(subcommand)]

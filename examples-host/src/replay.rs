@@ -496,7 +496,8 @@ fn usable(v: f64, q: Quality) -> f64 {
     }
 }
 
-fn record_series<T: Real, const N: usize>(s: &mut Series, lane: &Lane<T, N>) {
+/// Appends the series of one scan.
+pub fn record_series<T: Real, const N: usize>(s: &mut Series, lane: &Lane<T, N>) {
     let snap = lane.train.snapshot();
     for (i, ss) in s.stages.iter_mut().enumerate() {
         let st = snap.stages.get(i);

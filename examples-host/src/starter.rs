@@ -143,7 +143,8 @@ fn readings(i: usize, cooler: bool, flow: bool) -> String {
     if flow {
         t.push_str(&format!(
             "mass_flow = {{ column = \"s{s}_flow\", unit = \"t/h\" }}   # later stages use the nearest flow upstream\n\
-             flow_differential_pressure = {{ column = \"s{s}_dp_flow\", unit = \"mbar\" }}   # for the surge margin\n"
+             flow_differential_pressure = {{ column = \"s{s}_dp_flow\", unit = \"mbar\" }}   # for the surge margin\n\
+             recycle_mass_flow = {{ column = \"s{s}_recycle\", unit = \"t/h\" }}   # recycle valve flow, for the recycle power\n"
         ));
     }
     if cooler {
@@ -276,7 +277,7 @@ pub fn example_log(n: usize, rows: usize) -> Result<String, CliError> {
     for s in 1..=n {
         let _ = write!(out, ",s{s}_p_in,s{s}_t_in,s{s}_p_out,s{s}_t_out");
         if s == 1 {
-            out.push_str(",s1_flow,s1_dp_flow");
+            out.push_str(",s1_flow,s1_dp_flow,s1_recycle");
         }
         let _ = write!(out, ",c{s}_t_gas_out,c{s}_t_water_in,c{s}_t_water_out");
     }
@@ -335,7 +336,8 @@ pub fn example_log(n: usize, rows: usize) -> Result<String, CliError> {
                 let dp_mbar = p1 * 1e5 * q2 * (1.0 + margin) * (1.0 + margin) / 100.0;
                 let flow = 5.2 * (1.0 + margin) / 1.28 * (1.0 + 0.003 * noise.next());
                 let flow_text = if r % 2203 == 500 { "n/a".to_string() } else { format!("{flow:.3}") };
-                let _ = write!(out, ",{flow_text},{dp_mbar:.3}");
+                let recycle = if margin < 0.15 { 1.2 * (0.15 - margin) / 0.15 } else { 0.0 };
+                let _ = write!(out, ",{flow_text},{dp_mbar:.3},{recycle:.3}");
             }
             let _ = write!(out, ",{gas_out:.2},{water:.2},{water_out:.2}");
             p1 = p2 * 0.98;

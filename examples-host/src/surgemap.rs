@@ -161,3 +161,54 @@ pub fn update<T: Real>(
         quality: crate::out::quality_word(s.margin.quality),
     }
 }
+
+/// The protected surge simulation (`crate::greitzer`, invented scenario) as
+/// a trajectory in the surge coordinates: (line, qr², hr, time s).
+pub fn sim_trajectory() -> Result<(Vec<LinePoint>, Vec<f64>, Vec<f64>, Vec<f64>), crate::cli::CliError> {
+    use crate::greitzer as g;
+    let points = g::surge_points();
+    let line = SurgeLine::<f64, MAX_POINTS>::new(&SurgeLineConfig {
+        points: &points,
+        map: MapConditions {
+            suction_pressure: PressureAbs::from_pa(g::SUCTION_PRESSURE),
+            suction_temperature: Kelvin::new(g::SUCTION_TEMPERATURE),
+            molar_mass: g::MOLAR_MASS,
+            compressibility: 1.0,
+        },
+        polytropic_exponent: g::POLYTROPIC_EXPONENT,
+        flow_coefficient: g::FLOW_COEFFICIENT,
+    })?;
+    let lp = line
+        .points()
+        .iter()
+        .map(|p| LinePoint {
+            reduced_head: p.reduced_head,
+            surge_flow_squared: p.reduced_flow_squared,
+            control_flow_squared: p.reduced_flow_squared
+                * (1.0 + p.control_margin)
+                * (1.0 + p.control_margin),
+            control_margin: p.control_margin,
+        })
+        .collect();
+    let mon = SurgeMonitor::<f64, MAX_POINTS, RATE_WINDOW>::new(
+        line,
+        MonitorConfig {
+            scan_period: 0.02,
+            time_to_surge_horizon: 60.0,
+        },
+    )?;
+    let out = g::run(&g::Scenario::default())?;
+    let (mut q2, mut hr, mut t) = (Vec::new(), Vec::new(), Vec::new());
+    for s in &out.samples {
+        let (ps, pd, dp) = g::signals(s.phi, s.psi);
+        let (a, b) = mon.reduced_point(&SurgeScan {
+            suction_pressure: Measured::good(PressureAbs::from_pa(ps)),
+            discharge_pressure: Measured::good(PressureAbs::from_pa(pd)),
+            flow_dp: Measured::good(dp),
+        });
+        q2.push(if a.quality.is_usable() { a.value } else { f64::NAN });
+        hr.push(if b.quality.is_usable() { b.value } else { f64::NAN });
+        t.push(s.t);
+    }
+    Ok((lp, q2, hr, t))
+}

@@ -154,14 +154,25 @@ pub fn distance(a: &str, b: &str) -> usize {
 
 /// The closest of `known` to `word` if it is close enough to be a typo.
 pub fn did_you_mean<'a>(word: &str, known: &[&'a str]) -> Option<&'a str> {
+    // Ties go to the candidate sharing the longest prefix with the word.
+    let prefix = |k: &str| {
+        k.to_lowercase()
+            .chars()
+            .zip(word.to_lowercase().chars())
+            .take_while(|(a, b)| a == b)
+            .count()
+    };
     let (best, d) = known
         .iter()
         .map(|k| (*k, distance(word, k)))
-        .min_by_key(|(_, d)| *d)?;
+        .min_by_key(|(k, d)| (*d, core::cmp::Reverse(prefix(k))))?;
     (d > 0 && d <= 2.max(word.chars().count() / 3)).then_some(best)
 }
 
 fn unknown(what: &str, text: &str, unit: &str, known: &[&str]) -> String {
+    if unit.starts_with(',') && unit.chars().nth(1).is_some_and(|c| c.is_ascii_digit()) {
+        return format!("'{text}' is not a finite number: write the decimal point as '.', not ','");
+    }
     let hint = match did_you_mean(unit, known) {
         Some(k) => format!("; did you mean '{k}'?"),
         None => String::new(),
