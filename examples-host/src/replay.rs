@@ -62,6 +62,10 @@ pub struct ReplayArgs {
     /// No progress bar.
     #[arg(long)]
     pub quiet: bool,
+    /// Only these result keys in the results CSV, comma-separated (e.g.
+    /// `polytropic_efficiency,gas_power_W,surge_margin`); all by default.
+    #[arg(long, value_name = "KEYS", value_delimiter = ',')]
+    pub fields: Vec<String>,
 }
 
 /// How one column's text becomes an SI value: `a + b * x`.
@@ -126,12 +130,10 @@ fn conversion(kind: ReadingKind, unit: &str, l: &Loaded) -> Result<Conv, String>
             }
         }
         ReadingKind::Temperature => {
-            let t0 = units::temperature(&at(300.0))?;
-            let t1 = units::temperature(&at(301.0))?;
-            Conv {
-                a: t0 - 300.0 * (t1 - t0),
-                b: t1 - t0,
-            }
+            units::temperature(&at(300.0))?;
+            let (a, b) = units::temperature_affine(unit)
+                .ok_or_else(|| format!("'{unit}' is not a temperature unit"))?;
+            Conv { a, b }
         }
         ReadingKind::Flow => Conv {
             a: 0.0,
@@ -635,6 +637,8 @@ fn replay_n<const N: usize>(l: &Loaded, a: &ReplayArgs) -> Result<Outcome, CliEr
     };
     let mut bad: Vec<(u64, u64)> = vec![(0, 0); mapping.sources.len()];
     let mut names: Vec<String> = Vec::new();
+    let mut keep: Vec<bool> = Vec::new();
+    let mut keys_seen: Vec<&'static str> = Vec::new();
     let mut diffs: Vec<(f64, u64)> = Vec::new();
     let mut vals32: Vec<(f64, Quality)> = Vec::new();
     let mut vals64: Vec<(f64, Quality)> = Vec::new();
@@ -702,6 +706,8 @@ fn replay_n<const N: usize>(l: &Loaded, a: &ReplayArgs) -> Result<Outcome, CliEr
         visit(lane32.train.snapshot(), &lane32.extra, &mut |p, n, key, v, q| {
             if first {
                 names.push(column_name(p, n, key));
+                keep.push(a.fields.is_empty() || a.fields.iter().any(|f| f == key));
+                keys_seen.push(key);
             }
             vals32.push((v, q));
         });
@@ -709,8 +715,22 @@ fn replay_n<const N: usize>(l: &Loaded, a: &ReplayArgs) -> Result<Outcome, CliEr
             vals64.push((v, q));
         });
         if first {
+            for f in &a.fields {
+                if !keys_seen.contains(&f.as_str()) {
+                    let mut known: Vec<&str> = keys_seen.clone();
+                    known.sort_unstable();
+                    known.dedup();
+                    let hint = did_you_mean(f, &known)
+                        .map(|n| format!("; did you mean '{n}'?"))
+                        .unwrap_or_default();
+                    return Err(CliError::Usage(format!(
+                        "--fields: no result '{f}' for this train{hint}; known: {}",
+                        known.join(", ")
+                    )));
+                }
+            }
             let mut head = vec!["line".to_string(), "time_s".to_string()];
-            for n in &names {
+            for n in names.iter().zip(&keep).filter(|(_, k)| **k).map(|(n, _)| n) {
                 head.push(n.clone());
                 head.push(format!("{n}_f64"));
                 head.push(format!("{n}_quality"));
@@ -724,7 +744,17 @@ fn replay_n<const N: usize>(l: &Loaded, a: &ReplayArgs) -> Result<Outcome, CliEr
         buf.clear();
         let _ = write!(buf, "{}", t - t0);
         w.write_field(&buf).map_err(|e| io(&output, e))?;
-        for (((v32, q32), (v64, q64)), d) in vals32.iter().zip(&vals64).zip(diffs.iter_mut()) {
+        for ((((v32, q32), (v64, q64)), d), kept) in
+            vals32.iter().zip(&vals64).zip(diffs.iter_mut()).zip(&keep)
+        {
+            if q32 != q64 {
+                d.1 += 1;
+            } else if *q32 != Quality::Bad {
+                d.0 = d.0.max((v32 - v64).abs());
+            }
+            if !kept {
+                continue;
+            }
             buf.clear();
             if *q32 != Quality::Bad {
                 let _ = write!(buf, "{}", *v32 as f32);
@@ -736,11 +766,6 @@ fn replay_n<const N: usize>(l: &Loaded, a: &ReplayArgs) -> Result<Outcome, CliEr
             }
             w.write_field(&buf).map_err(|e| io(&output, e))?;
             w.write_field(out::quality_word(*q32)).map_err(|e| io(&output, e))?;
-            if q32 != q64 {
-                d.1 += 1;
-            } else if *q32 != Quality::Bad {
-                d.0 = d.0.max((v32 - v64).abs());
-            }
         }
         w.write_record(None::<&[u8]>).map_err(|e| io(&output, e))?;
         series.time.push(t - t0);

@@ -275,6 +275,16 @@ pub fn temperature(text: &str) -> Result<f64, String> {
     Ok(k)
 }
 
+/// A temperature unit as an exact affine map to kelvin: K = a + b·x.
+pub fn temperature_affine(unit: &str) -> Option<(f64, f64)> {
+    match unit.trim() {
+        "K" | "k" => Some((0.0, 1.0)),
+        "degC" | "C" | "°C" | "degc" | "c" => Some((273.15, 1.0)),
+        "degF" | "F" | "°F" | "degf" | "f" => Some((273.15 - 32.0 * 5.0 / 9.0, 5.0 / 9.0)),
+        _ => None,
+    }
+}
+
 /// Parses a mass flow or standard volume flow; negative is refused.
 pub fn flow(text: &str) -> Result<FlowIn, String> {
     let Some((x, unit)) = split_number(text) else {
