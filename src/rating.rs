@@ -19,8 +19,7 @@
 //! σ = ln(T2/T1)/ln r, ηp = ((k−1)/k)/σ.
 
 use crate::compression::{
-    isentropic_discharge_temperature, isentropic_exponent_term, isentropic_head,
-    isothermal_head,
+    isentropic_discharge_temperature, isentropic_exponent_term, isentropic_head, isothermal_head,
 };
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
@@ -171,7 +170,11 @@ pub fn rate_compressor<T: Real>(inp: &RatingInputs<T>) -> RatingResult<T> {
         actual_work: d(work),
         polytropic_efficiency: d(eta_p),
         isentropic_efficiency: d(eta_s),
-        polytropic_exponent: if sigma < T::ONE { d(n) } else { Measured::bad() },
+        polytropic_exponent: if sigma < T::ONE {
+            d(n)
+        } else {
+            Measured::bad()
+        },
         gas_power: match inp.mass_flow {
             Some(f) if T::is_finite(f) && f >= T::ZERO => d(f * work),
             _ => Measured::bad(),
@@ -200,7 +203,10 @@ mod tests {
     fn reversible_rating_is_the_isentropic_case() {
         // Çengel & Boles ch. 7 worked example (air, 100 -> 900 kPa, 300 K,
         // k = 1.4, R = 0.287 kJ/(kg K)): isentropic T2 = 562 K, work 263.2 kJ/kg.
-        for e in [AssumedEfficiency::Polytropic(1.0), AssumedEfficiency::Isentropic(1.0)] {
+        for e in [
+            AssumedEfficiency::Polytropic(1.0),
+            AssumedEfficiency::Isentropic(1.0),
+        ] {
             let r = air(e);
             assert!((r.discharge_temperature.value - 562.0).abs() < 0.1);
             assert!((r.actual_work.value / 1e3 - 263.2).abs() < 0.05);

@@ -125,7 +125,12 @@ pub fn run(a: &CheckArgs) -> Result<String, CliError> {
             if n == 1 { "" } else { "s" },
             (p_out / p_in).powf(1.0 / f64::from(n))
         ));
-        let mut g = Grid::new(&["stage", "design discharge", "equal-ratio optimum", "deviation %"]);
+        let mut g = Grid::new(&[
+            "stage",
+            "design discharge",
+            "equal-ratio optimum",
+            "deviation %",
+        ]);
         for (k, &i) in comp.iter().enumerate() {
             let opt = equal_ratio_interstage_pressure(p_in, p_out / p_in, n, k as u32);
             let d = l.design.get(i).map_or(0.0, |d| d.1);

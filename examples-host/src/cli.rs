@@ -119,7 +119,6 @@ pub fn count(option: &str, text: &str, lo: u32, hi: u32) -> Result<u32, CliError
     }
 }
 
-
 /// `polytrope-host`: compressor-train calculations with the polytrope kernel.
 ///
 /// Caution: not a certified safety function. Machine limits come from the

@@ -378,7 +378,10 @@ pub const READINGS: &[(&str, ReadingKind)] = &[
     ("coolant_inlet_temperature", ReadingKind::Temperature),
     ("coolant_outlet_temperature", ReadingKind::Temperature),
     ("coolant_mass_flow", ReadingKind::Flow),
-    ("flow_differential_pressure", ReadingKind::DifferentialPressure),
+    (
+        "flow_differential_pressure",
+        ReadingKind::DifferentialPressure,
+    ),
     ("recycle_mass_flow", ReadingKind::Flow),
 ];
 
@@ -514,11 +517,7 @@ fn explain_toml(message: &str) -> String {
     let m = message.trim();
     if let Some(rest) = m.strip_prefix("unknown field `") {
         if let Some((word, tail)) = rest.split_once('`') {
-            let known: Vec<&str> = tail
-                .split('`')
-                .skip(1)
-                .step_by(2)
-                .collect::<Vec<&str>>();
+            let known: Vec<&str> = tail.split('`').skip(1).step_by(2).collect::<Vec<&str>>();
             if let Some(k) = did_you_mean(word, &known) {
                 return format!("{m}; did you mean `{k}`?");
             }
@@ -745,10 +744,9 @@ fn check(l: &mut Loaded) -> Result<(), FileError> {
                     ("efficiency", s.efficiency),
                 ] {
                     if v.is_some() {
-                        return Err(l.error(
-                            &key(k),
-                            "applies to a pump stage only (kind = \"pump\")",
-                        ));
+                        return Err(
+                            l.error(&key(k), "applies to a pump stage only (kind = \"pump\")")
+                        );
                     }
                 }
             }
@@ -789,7 +787,10 @@ fn check(l: &mut Loaded) -> Result<(), FileError> {
                     .unwrap_or_default();
                 return Err(l.error(
                     &key(&format!("readings.{name}")),
-                    format!("unknown reading '{name}'{hint}; known: {}", names.join(", ")),
+                    format!(
+                        "unknown reading '{name}'{hint}; known: {}",
+                        names.join(", ")
+                    ),
                 ));
             };
             if let Some(u) = src.unit() {
@@ -828,7 +829,9 @@ pub fn check_unit(kind: ReadingKind, unit: &str) -> Result<(), String> {
             if unit.trim().is_empty() || unit.trim() == "-" {
                 Ok(())
             } else {
-                Err(format!("'{unit}': this reading is a plain number without unit"))
+                Err(format!(
+                    "'{unit}': this reading is a plain number without unit"
+                ))
             }
         }
     }
@@ -953,7 +956,10 @@ impl Loaded {
     /// message (`stage` gives the stage for surge and flow-element errors).
     pub fn kernel_error(&self, e: &ConfigError, stage: Option<usize>) -> FileError {
         let (key, why) = kernel_key(self, e, stage);
-        self.error(&key, format!("{why} (the kernel refused it: {})", problem_text(e)))
+        self.error(
+            &key,
+            format!("{why} (the kernel refused it: {})", problem_text(e)),
+        )
     }
 }
 

@@ -341,7 +341,10 @@ pub(crate) struct Parts<T: Real> {
     coolers: Vec<(usize, Cool<T>)>,
 }
 
-pub(crate) fn split<T: Real, const N: usize>(scan: &[StageScan<T>; N], snap: &Snapshot<T, N>) -> Parts<T> {
+pub(crate) fn split<T: Real, const N: usize>(
+    scan: &[StageScan<T>; N],
+    snap: &Snapshot<T, N>,
+) -> Parts<T> {
     let mut parts = Parts {
         compressors: Vec::new(),
         pumps: Vec::new(),

@@ -122,7 +122,11 @@ impl StagesJob for Job<'_> {
     }
 }
 
-fn report<T: Real, const N: usize>(l: &Loaded, row: &Row, a: &EvaluateArgs) -> Result<String, CliError> {
+fn report<T: Real, const N: usize>(
+    l: &Loaded,
+    row: &Row,
+    a: &EvaluateArgs,
+) -> Result<String, CliError> {
     let mut train = train_any::build::<T, N>(l)?;
     let scan = train_any::scan::<T, N>(l, row);
     for _ in 0..a.scans {
@@ -139,7 +143,13 @@ fn report<T: Real, const N: usize>(l: &Loaded, row: &Row, a: &EvaluateArgs) -> R
     if a.json {
         Ok(crate::demo::to_json(head, a.scans, a.precision, snap, &parts).to_text())
     } else {
-        Ok(crate::demo::to_text(head, a.scans, a.precision, snap, &parts))
+        Ok(crate::demo::to_text(
+            head,
+            a.scans,
+            a.precision,
+            snap,
+            &parts,
+        ))
     }
 }
 
@@ -165,5 +175,12 @@ pub fn run(a: &EvaluateArgs) -> Result<String, CliError> {
             row
         }
     };
-    train_any::with_stages(l.stage_count(), Job { l: &l, row: &row, a })
+    train_any::with_stages(
+        l.stage_count(),
+        Job {
+            l: &l,
+            row: &row,
+            a,
+        },
+    )
 }

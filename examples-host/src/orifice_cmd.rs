@@ -40,6 +40,9 @@ pub struct OrificeArgs {
     /// Built-in gas (air, nitrogen, methane, ...).
     #[arg(long, value_name = "NAME", default_value = "air")]
     pub gas: String,
+    /// Isentropic exponent (default: the gas's k).
+    #[arg(long)]
+    pub kappa: Option<f64>,
     /// Compressibility at the upstream tapping.
     #[arg(long, default_value_t = 1.0)]
     pub z: f64,
@@ -84,7 +87,7 @@ pub fn run(a: &OrificeArgs) -> Result<String, CliError> {
         pipe_diameter: a.pipe_mm / 1e3,
         bore_diameter: a.bore_mm / 1e3,
         taps,
-        isentropic_exponent: spec.k,
+        isentropic_exponent: a.kappa.unwrap_or(spec.k),
         viscosity: a.viscosity,
         gas_constant: MOLAR_GAS_CONSTANT * 1e3 / spec.molar_mass,
     })
@@ -93,6 +96,7 @@ pub fn run(a: &OrificeArgs) -> Result<String, CliError> {
             "orifice.pipe_diameter" => ("pipe-mm", "a positive pipe diameter"),
             "orifice.bore_diameter" => ("bore-mm", "a bore above 0 and below the pipe diameter"),
             "flow.viscosity" => ("viscosity", "a positive viscosity in Pa s"),
+            _ if a.kappa.is_some_and(|k| !(k > 1.0)) => ("kappa", "an isentropic exponent above 1"),
             _ => ("gas", "a valid gas"),
         };
         CliError::Input(format!("--{opt}: needs {why}"))
@@ -104,11 +108,36 @@ pub fn run(a: &OrificeArgs) -> Result<String, CliError> {
         compressibility: Measured::good(a.z),
     });
     let rows: [(&str, &str, Measured<f64>, String); 5] = [
-        ("Mass flow", "mass_flow_kg_per_s", f.mass_flow, show.flow(f.mass_flow.value)),
-        ("Discharge coefficient C", "discharge_coefficient", f.discharge_coefficient, format!("{:.5}", f.discharge_coefficient.value)),
-        ("Expansibility factor", "expansibility", f.expansibility, format!("{:.5}", f.expansibility.value)),
-        ("Pipe Reynolds number", "reynolds_number", f.reynolds, sig(f.reynolds.value)),
-        ("Upstream density", "density_kg_per_m3", f.density, format!("{} kg/m3", sig(f.density.value))),
+        (
+            "Mass flow",
+            "mass_flow_kg_per_s",
+            f.mass_flow,
+            show.flow(f.mass_flow.value),
+        ),
+        (
+            "Discharge coefficient C",
+            "discharge_coefficient",
+            f.discharge_coefficient,
+            format!("{:.5}", f.discharge_coefficient.value),
+        ),
+        (
+            "Expansibility factor",
+            "expansibility",
+            f.expansibility,
+            format!("{:.5}", f.expansibility.value),
+        ),
+        (
+            "Pipe Reynolds number",
+            "reynolds_number",
+            f.reynolds,
+            sig(f.reynolds.value),
+        ),
+        (
+            "Upstream density",
+            "density_kg_per_m3",
+            f.density,
+            format!("{} kg/m3", sig(f.density.value)),
+        ),
     ];
     if a.json {
         let mut o = serde_json::Map::new();
@@ -145,7 +174,11 @@ pub fn run(a: &OrificeArgs) -> Result<String, CliError> {
     for (label, _, m, text) in rows {
         g.row(vec![
             label.into(),
-            if m.quality.is_usable() { text } else { "--".into() },
+            if m.quality.is_usable() {
+                text
+            } else {
+                "--".into()
+            },
             out::quality_word(m.quality).into(),
         ]);
     }

@@ -63,7 +63,11 @@ fn stage_colour(i: usize) -> RGBColor {
 
 /// Time colour ramp (deep blue -> teal -> amber), t in [0, 1].
 fn time_colour(t: f64) -> RGBColor {
-    let stops = [(20.0, 40.0, 110.0), (30.0, 150.0, 150.0), (235.0, 170.0, 40.0)];
+    let stops = [
+        (20.0, 40.0, 110.0),
+        (30.0, 150.0, 150.0),
+        (235.0, 170.0, 40.0),
+    ];
     let t = t.clamp(0.0, 1.0) * 2.0;
     let (a, b, f) = if t < 1.0 {
         (stops[0], stops[1], t)
@@ -99,7 +103,9 @@ fn runs(x: &[f64], y: &[f64], max: usize) -> Vec<Vec<(f64, f64)>> {
 fn range(values: impl Iterator<Item = f64>) -> Option<(f64, f64)> {
     let (lo, hi) = values
         .filter(|v| v.is_finite())
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), v| (l.min(v), h.max(v)));
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), v| {
+            (l.min(v), h.max(v))
+        });
     if !lo.is_finite() {
         return None;
     }
@@ -197,7 +203,10 @@ fn draw_panels<DB: DrawingBackend>(
 fn prepare(dir: &Path, name: &str) -> Result<(PathBuf, PathBuf), CliError> {
     fonts();
     std::fs::create_dir_all(dir).map_err(|e| err(dir, e))?;
-    Ok((dir.join(format!("{name}.png")), dir.join(format!("{name}.svg"))))
+    Ok((
+        dir.join(format!("{name}.png")),
+        dir.join(format!("{name}.svg")),
+    ))
 }
 
 /// Draws one figure as PNG and SVG: `both!(dir, name, (w, h), |root| body)`.
@@ -239,7 +248,10 @@ fn draw_map<DB: DrawingBackend>(
         .iter()
         .flat_map(|p| [p.surge_flow_squared, p.control_flow_squared])
         .chain(q2.iter().copied());
-    let ys = line.iter().map(|p| p.reduced_head).chain(hr.iter().copied());
+    let ys = line
+        .iter()
+        .map(|p| p.reduced_head)
+        .chain(hr.iter().copied());
     let (x0, x1) = range(xs).unwrap_or((0.0, 1.0));
     let (y0, y1) = range(ys).unwrap_or((0.0, 1.0));
     let mut chart = ChartBuilder::on(&plot)
@@ -273,20 +285,37 @@ fn draw_map<DB: DrawingBackend>(
                 .map(|(_, ((a, b), t))| Circle::new((*a, *b), 2, time_colour(t / t_max).filled())),
         )
         .map_err(|e| e.to_string())?;
-    let surge: Vec<(f64, f64)> = line.iter().map(|p| (p.surge_flow_squared, p.reduced_head)).collect();
-    let control: Vec<(f64, f64)> = line.iter().map(|p| (p.control_flow_squared, p.reduced_head)).collect();
+    let surge: Vec<(f64, f64)> = line
+        .iter()
+        .map(|p| (p.surge_flow_squared, p.reduced_head))
+        .collect();
+    let control: Vec<(f64, f64)> = line
+        .iter()
+        .map(|p| (p.control_flow_squared, p.reduced_head))
+        .collect();
     chart
         .draw_series(LineSeries::new(surge.clone(), SURGE_COLOUR.stroke_width(3)))
         .map_err(|e| e.to_string())?
         .label("surge line")
         .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], SURGE_COLOUR.stroke_width(3)));
     chart
-        .draw_series(DashedLineSeries::new(control, 10, 6, CONTROL_COLOUR.stroke_width(3)))
+        .draw_series(DashedLineSeries::new(
+            control,
+            10,
+            6,
+            CONTROL_COLOUR.stroke_width(3),
+        ))
         .map_err(|e| e.to_string())?
         .label("control line")
-        .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], CONTROL_COLOUR.stroke_width(3)));
+        .legend(|(x, y)| {
+            PathElement::new(vec![(x, y), (x + 24, y)], CONTROL_COLOUR.stroke_width(3))
+        });
     chart
-        .draw_series(surge.iter().map(|p| Cross::new(*p, 6, SURGE_COLOUR.stroke_width(2))))
+        .draw_series(
+            surge
+                .iter()
+                .map(|p| Cross::new(*p, 6, SURGE_COLOUR.stroke_width(2))),
+        )
         .map_err(|e| e.to_string())?;
     chart
         .configure_series_labels()
@@ -306,15 +335,29 @@ fn draw_map<DB: DrawingBackend>(
         let f0 = s as f64 / steps as f64;
         let y0 = bottom - ((bottom - top) as f64 * f0) as i32;
         let y1 = bottom - ((bottom - top) as f64 * (f0 + 1.0 / steps as f64)) as i32 - 1;
-        bar.draw(&Rectangle::new([(30, y1), (60, y0)], time_colour(f0).filled()))
-            .map_err(|e| e.to_string())?;
+        bar.draw(&Rectangle::new(
+            [(30, y1), (60, y0)],
+            time_colour(f0).filled(),
+        ))
+        .map_err(|e| e.to_string())?;
     }
     let label = |t: String, y: i32| Text::new(t, (68, y - 8), (FONT, 15).into_font().color(&INK));
-    bar.draw(&label(format!("{} {unit}", crate::units::sig((t_max * 10.0).round() / 10.0)), top))
+    bar.draw(&label(
+        format!(
+            "{} {unit}",
+            crate::units::sig((t_max * 10.0).round() / 10.0)
+        ),
+        top,
+    ))
+    .map_err(|e| e.to_string())?;
+    bar.draw(&label(format!("0 {unit}"), bottom))
         .map_err(|e| e.to_string())?;
-    bar.draw(&label(format!("0 {unit}"), bottom)).map_err(|e| e.to_string())?;
-    bar.draw(&Text::new("time".to_string(), (24, bottom + 20), (FONT, 16).into_font().color(&INK)))
-        .map_err(|e| e.to_string())?;
+    bar.draw(&Text::new(
+        "time".to_string(),
+        (24, bottom + 20),
+        (FONT, 16).into_font().color(&INK),
+    ))
+    .map_err(|e| e.to_string())?;
     let _ = bw;
     root.present().map_err(|e| e.to_string())
 }
@@ -342,16 +385,21 @@ pub fn replay_plots(dir: &Path, l: &Loaded, s: &Series) -> Result<Vec<PathBuf>, 
             continue;
         }
         let line = crate::surgemap::line_points(l, i)?;
-        let heading = format!("S{} operating points in the surge coordinates — {name}", i + 1);
-        files.extend(both!(dir, &format!("map_s{}", i + 1), (1200, 820), |root| {
-            draw_map(&root, &heading, &line, &ss.q2, &ss.hr, &s.time)
-        }));
+        let heading = format!(
+            "S{} operating points in the surge coordinates — {name}",
+            i + 1
+        );
+        files.extend(both!(
+            dir,
+            &format!("map_s{}", i + 1),
+            (1200, 820),
+            |root| { draw_map(&root, &heading, &line, &ss.q2, &ss.hr, &s.time) }
+        ));
     }
     files.extend(series_plots(dir, name, s, &h, |i| {
-        l.file
-            .stages
-            .get(i)
-            .map_or(format!("S{}", i + 1), |st| format!("S{} {}", i + 1, st.kind))
+        l.file.stages.get(i).map_or(format!("S{}", i + 1), |st| {
+            format!("S{} {}", i + 1, st.kind)
+        })
     })?);
     Ok(files)
 }
@@ -398,12 +446,19 @@ fn series_plots(
     }));
     let cooler_lines = per(|s| &s.approach);
     if !cooler_lines.is_empty() {
-        let cl = |f: fn(&crate::replay::StageSeries) -> &Vec<f64>| -> Vec<(String, RGBColor, &[f64])> {
-            per(f)
-                .into_iter()
-                .map(|(l, c, v)| (format!("cooler after {}", l.split(' ').next().unwrap_or("")), c, v))
-                .collect()
-        };
+        let cl =
+            |f: fn(&crate::replay::StageSeries) -> &Vec<f64>| -> Vec<(String, RGBColor, &[f64])> {
+                per(f)
+                    .into_iter()
+                    .map(|(l, c, v)| {
+                        (
+                            format!("cooler after {}", l.split(' ').next().unwrap_or("")),
+                            c,
+                            v,
+                        )
+                    })
+                    .collect()
+            };
         let panels = vec![
             Panel {
                 title: "Approach (gas out − coolant in)",

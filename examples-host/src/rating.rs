@@ -184,7 +184,12 @@ fn compute<T: Real>(i: &Inputs, z: f64) -> RatingResult<f64> {
     }
 }
 
-type Line = (&'static str, &'static str, Measured<f64>, fn(&Presentation, f64) -> String);
+type Line = (
+    &'static str,
+    &'static str,
+    Measured<f64>,
+    fn(&Presentation, f64) -> String,
+);
 
 fn lines(r: &RatingResult<f64>) -> Vec<Line> {
     fn temp(p: &Presentation, v: f64) -> String {
@@ -204,15 +209,55 @@ fn lines(r: &RatingResult<f64>) -> Vec<Line> {
     }
     vec![
         ("Pressure ratio", "pressure_ratio", r.pressure_ratio, plain),
-        ("Discharge temperature (predicted)", "discharge_temperature_K", r.discharge_temperature, temp),
-        ("Isentropic discharge temperature", "isentropic_discharge_temperature_K", r.isentropic_discharge_temperature, temp),
-        ("Isentropic head", "isentropic_head_J_per_kg", r.isentropic_head, work),
-        ("Polytropic head", "polytropic_head_J_per_kg", r.polytropic_head, work),
-        ("Isothermal head", "isothermal_head_J_per_kg", r.isothermal_head, work),
+        (
+            "Discharge temperature (predicted)",
+            "discharge_temperature_K",
+            r.discharge_temperature,
+            temp,
+        ),
+        (
+            "Isentropic discharge temperature",
+            "isentropic_discharge_temperature_K",
+            r.isentropic_discharge_temperature,
+            temp,
+        ),
+        (
+            "Isentropic head",
+            "isentropic_head_J_per_kg",
+            r.isentropic_head,
+            work,
+        ),
+        (
+            "Polytropic head",
+            "polytropic_head_J_per_kg",
+            r.polytropic_head,
+            work,
+        ),
+        (
+            "Isothermal head",
+            "isothermal_head_J_per_kg",
+            r.isothermal_head,
+            work,
+        ),
         ("Actual work", "actual_work_J_per_kg", r.actual_work, work),
-        ("Polytropic efficiency", "polytropic_efficiency", r.polytropic_efficiency, pct),
-        ("Isentropic efficiency", "isentropic_efficiency", r.isentropic_efficiency, pct),
-        ("Polytropic exponent n", "polytropic_exponent", r.polytropic_exponent, plain),
+        (
+            "Polytropic efficiency",
+            "polytropic_efficiency",
+            r.polytropic_efficiency,
+            pct,
+        ),
+        (
+            "Isentropic efficiency",
+            "isentropic_efficiency",
+            r.isentropic_efficiency,
+            pct,
+        ),
+        (
+            "Polytropic exponent n",
+            "polytropic_exponent",
+            r.polytropic_exponent,
+            plain,
+        ),
         ("Gas power", "gas_power_W", r.gas_power, power),
     ]
 }
@@ -229,11 +274,16 @@ pub fn run(a: &RateArgs) -> Result<String, CliError> {
         Precision::F64 => compute::<f64>(&i, a.z),
     };
     if i.flow.is_none() {
-        i.notes.push("no --flow: the gas power needs the mass flow".into());
+        i.notes
+            .push("no --flow: the gas power needs the mass flow".into());
     }
     let assumed = match i.eff {
-        AssumedEfficiency::Polytropic(e) => format!("polytropic efficiency {:.2} % assumed", 100.0 * e),
-        AssumedEfficiency::Isentropic(e) => format!("isentropic efficiency {:.2} % assumed", 100.0 * e),
+        AssumedEfficiency::Polytropic(e) => {
+            format!("polytropic efficiency {:.2} % assumed", 100.0 * e)
+        }
+        AssumedEfficiency::Isentropic(e) => {
+            format!("isentropic efficiency {:.2} % assumed", 100.0 * e)
+        }
     };
     if a.json {
         let mut o = serde_json::Map::new();
@@ -271,7 +321,9 @@ pub fn run(a: &RateArgs) -> Result<String, CliError> {
         show.pressure_abs(i.p1),
         show.temperature(i.t1),
         show.pressure_abs(i.p2),
-        i.flow.map(|f| format!(", flow {}", show.flow(f))).unwrap_or_default()
+        i.flow
+            .map(|f| format!(", flow {}", show.flow(f)))
+            .unwrap_or_default()
     ));
     let mut g = Grid::new(&["quantity", "predicted"]);
     for (label, _, m, f) in lines(&r) {

@@ -225,7 +225,11 @@ impl Mapping {
     }
 
     /// The readings of one row; `Err` says why the row is malformed.
-    pub fn row(&self, fields: &[&str], limits: &config::Limits) -> Result<(Option<f64>, Row), String> {
+    pub fn row(
+        &self,
+        fields: &[&str],
+        limits: &config::Limits,
+    ) -> Result<(Option<f64>, Row), String> {
         if fields.len() != self.width {
             return Err(format!(
                 "{} fields where the header has {}",
@@ -286,7 +290,12 @@ pub fn parse_time(text: &str) -> Option<f64> {
     let h = tp.next()?.parse::<i64>().ok()?;
     let min = tp.next()?.parse::<i64>().ok()?;
     let sec = tp.next().map_or(Some(0.0), |s| s.parse::<f64>().ok())?;
-    if !(1..=12).contains(&m) || !(1..=31).contains(&day) || !(0..24).contains(&h) || !(0..60).contains(&min) || !(0.0..61.0).contains(&sec) {
+    if !(1..=12).contains(&m)
+        || !(1..=31).contains(&day)
+        || !(0..24).contains(&h)
+        || !(0..60).contains(&min)
+        || !(0.0..61.0).contains(&sec)
+    {
         return None;
     }
     // Days from civil (H. Hinnant's algorithm, public domain).
@@ -329,16 +338,46 @@ pub fn visit<T: Real, const N: usize>(
         let n = i + 1;
         if let Some(c) = st.compressor() {
             put(f, "s", n, k::PRESSURE_RATIO.name, c.pressure_ratio);
-            put(f, "s", n, k::ISENTROPIC_T2.name, c.isentropic_discharge_temperature);
+            put(
+                f,
+                "s",
+                n,
+                k::ISENTROPIC_T2.name,
+                c.isentropic_discharge_temperature,
+            );
             put(f, "s", n, k::ISENTROPIC_HEAD.name, c.isentropic_head);
             put(f, "s", n, k::POLYTROPIC_HEAD.name, c.polytropic_head);
             put(f, "s", n, k::ACTUAL_WORK.name, c.actual_work);
-            put(f, "s", n, k::ISENTROPIC_EFFICIENCY.name, c.isentropic_efficiency);
-            put(f, "s", n, k::POLYTROPIC_EFFICIENCY.name, c.polytropic_efficiency);
-            put(f, "s", n, k::POLYTROPIC_EXPONENT.name, c.polytropic_exponent);
+            put(
+                f,
+                "s",
+                n,
+                k::ISENTROPIC_EFFICIENCY.name,
+                c.isentropic_efficiency,
+            );
+            put(
+                f,
+                "s",
+                n,
+                k::POLYTROPIC_EFFICIENCY.name,
+                c.polytropic_efficiency,
+            );
+            put(
+                f,
+                "s",
+                n,
+                k::POLYTROPIC_EXPONENT.name,
+                c.polytropic_exponent,
+            );
             put(f, "s", n, k::MASS_FLOW.name, c.mass_flow);
             put(f, "s", n, k::GAS_POWER.name, c.gas_power);
-            put(f, "s", n, k::POWER_ABOVE_ISOTHERMAL.name, c.power_above_isothermal);
+            put(
+                f,
+                "s",
+                n,
+                k::POWER_ABOVE_ISOTHERMAL.name,
+                c.power_above_isothermal,
+            );
         }
         if let Some(p) = st.pump() {
             put(f, "s", n, k::PRESSURE_RATIO.name, p.pressure_ratio);
@@ -361,7 +400,8 @@ pub fn visit<T: Real, const N: usize>(
                     "uncertain" => Quality::Uncertain,
                     _ => Quality::Bad,
                 };
-                let v = |x: Option<f64>| (x.unwrap_or(0.0), if x.is_some() { q } else { Quality::Bad });
+                let v =
+                    |x: Option<f64>| (x.unwrap_or(0.0), if x.is_some() { q } else { Quality::Bad });
                 let (a, qa) = v(s.margin);
                 f("s", n, "surge_margin", a, qa);
                 let (a, qa) = v(s.deviation);
@@ -379,7 +419,13 @@ pub fn visit<T: Real, const N: usize>(
     let t = &snap.totals;
     put(f, "train", 0, k::COMPRESSOR_POWER.name, t.compressor_power);
     put(f, "train", 0, k::TOTAL_POWER.name, t.total_power);
-    put(f, "train", 0, k::ISOTHERMAL_EFFICIENCY.name, t.isothermal_efficiency);
+    put(
+        f,
+        "train",
+        0,
+        k::ISOTHERMAL_EFFICIENCY.name,
+        t.isothermal_efficiency,
+    );
 }
 
 /// Column base name: `s1_gas_power_W`, `c2_approach_K`, `train_total_power_W`.
@@ -420,8 +466,16 @@ impl<T: Real, const N: usize> Lane<T, N> {
         let scan = train_any::scan::<T, N>(l, row);
         self.train.update(&scan);
         let snap = self.train.snapshot();
-        for (i, (mon, ex)) in self.monitors.iter_mut().zip(self.extra.iter_mut()).enumerate() {
-            let cells = row.get(i).copied().unwrap_or([Cell::Unmapped; READING_COUNT]);
+        for (i, (mon, ex)) in self
+            .monitors
+            .iter_mut()
+            .zip(self.extra.iter_mut())
+            .enumerate()
+        {
+            let cells = row
+                .get(i)
+                .copied()
+                .unwrap_or([Cell::Unmapped; READING_COUNT]);
             let m = |c: Option<&Cell>| match c {
                 Some(Cell::Value(v)) => Measured::good(T::of(*v)),
                 _ => Measured::bad(),
@@ -506,7 +560,10 @@ pub fn record_series<T: Real, const N: usize>(s: &mut Series, lane: &Lane<T, N>)
         let c = st.and_then(|s| s.compressor());
         let steady = st.is_some_and(|s| s.steady_state.steady);
         let eff = c.map_or(f64::NAN, |c| {
-            usable(c.polytropic_efficiency.value.to_f64(), c.polytropic_efficiency.quality)
+            usable(
+                c.polytropic_efficiency.value.to_f64(),
+                c.polytropic_efficiency.quality,
+            )
         });
         let good = c.is_some_and(|c| c.polytropic_efficiency.quality == Quality::Good);
         ss.efficiency
@@ -515,17 +572,19 @@ pub fn record_series<T: Real, const N: usize>(s: &mut Series, lane: &Lane<T, N>)
         let (w, p) = st.map_or((f64::NAN, f64::NAN), |s| {
             let w = s.actual_work();
             let p = s.power();
-            (usable(w.value.to_f64(), w.quality), usable(p.value.to_f64(), p.quality))
+            (
+                usable(w.value.to_f64(), w.quality),
+                usable(p.value.to_f64(), p.quality),
+            )
         });
         ss.work.push(w);
         ss.power.push(p);
         let cool = snap.coolers.get(i).copied().flatten();
         let cv = |f: fn(&polytrope::cooler::CoolerResult<T>) -> Measured<T>| {
-            cool.as_ref()
-                .map_or(f64::NAN, |c| {
-                    let m = f(c);
-                    usable(m.value.to_f64(), m.quality)
-                })
+            cool.as_ref().map_or(f64::NAN, |c| {
+                let m = f(c);
+                usable(m.value.to_f64(), m.quality)
+            })
         };
         ss.approach.push(cv(|c| c.approach));
         ss.effectiveness.push(cv(|c| c.effectiveness));
@@ -602,11 +661,16 @@ fn replay_n<const N: usize>(l: &Loaded, a: &ReplayArgs) -> Result<Outcome, CliEr
     let hrefs: Vec<&str> = header.iter().map(String::as_str).collect();
     let mapping = Mapping::new(l, &hrefs, &a.log)?;
     let output = a.output.clone().unwrap_or_else(|| {
-        let stem = a.log.file_stem().map_or("log".into(), |s| s.to_string_lossy().into_owned());
+        let stem = a
+            .log
+            .file_stem()
+            .map_or("log".into(), |s| s.to_string_lossy().into_owned());
         a.log.with_file_name(format!("{stem}.results.csv"))
     });
     if output == a.log {
-        return Err(CliError::Usage("--output must not be the log itself".into()));
+        return Err(CliError::Usage(
+            "--output must not be the log itself".into(),
+        ));
     }
     let mut w = csv::WriterBuilder::new()
         .from_path(&output)
@@ -656,7 +720,10 @@ fn replay_n<const N: usize>(l: &Loaded, a: &ReplayArgs) -> Result<Outcome, CliEr
                 counts.rows += 1;
                 counts.malformed.push((line, format!("unreadable: {e}")));
                 if a.on_malformed == OnMalformed::Stop {
-                    stop = Some(CliError::Input(format!("{}:{line}: malformed row: {e}", a.log.display())));
+                    stop = Some(CliError::Input(format!(
+                        "{}:{line}: malformed row: {e}",
+                        a.log.display()
+                    )));
                     break;
                 }
                 continue;
@@ -665,13 +732,15 @@ fn replay_n<const N: usize>(l: &Loaded, a: &ReplayArgs) -> Result<Outcome, CliEr
         counts.rows += 1;
         let line = record.position().map_or(0, |p| p.line());
         let fields: Vec<&str> = record.iter().collect();
-        let parsed = mapping.row(&fields, &l.limits).and_then(|(t, row)| match (t, last_time) {
-            (Some(t), Some(prev)) if t <= prev => Err(format!(
-                "time {} is not after the previous row's",
-                fields.get(mapping.time.unwrap_or(0)).copied().unwrap_or("")
-            )),
-            _ => Ok((t, row)),
-        });
+        let parsed = mapping
+            .row(&fields, &l.limits)
+            .and_then(|(t, row)| match (t, last_time) {
+                (Some(t), Some(prev)) if t <= prev => Err(format!(
+                    "time {} is not after the previous row's",
+                    fields.get(mapping.time.unwrap_or(0)).copied().unwrap_or("")
+                )),
+                _ => Ok((t, row)),
+            });
         let (time, row) = match parsed {
             Ok(x) => x,
             Err(why) => {
@@ -703,17 +772,25 @@ fn replay_n<const N: usize>(l: &Loaded, a: &ReplayArgs) -> Result<Outcome, CliEr
         vals32.clear();
         vals64.clear();
         let first = names.is_empty();
-        visit(lane32.train.snapshot(), &lane32.extra, &mut |p, n, key, v, q| {
-            if first {
-                names.push(column_name(p, n, key));
-                keep.push(a.fields.is_empty() || a.fields.iter().any(|f| f == key));
-                keys_seen.push(key);
-            }
-            vals32.push((v, q));
-        });
-        visit(lane64.train.snapshot(), &lane64.extra, &mut |_, _, _, v, q| {
-            vals64.push((v, q));
-        });
+        visit(
+            lane32.train.snapshot(),
+            &lane32.extra,
+            &mut |p, n, key, v, q| {
+                if first {
+                    names.push(column_name(p, n, key));
+                    keep.push(a.fields.is_empty() || a.fields.iter().any(|f| f == key));
+                    keys_seen.push(key);
+                }
+                vals32.push((v, q));
+            },
+        );
+        visit(
+            lane64.train.snapshot(),
+            &lane64.extra,
+            &mut |_, _, _, v, q| {
+                vals64.push((v, q));
+            },
+        );
         if first {
             for f in &a.fields {
                 if !keys_seen.contains(&f.as_str()) {
@@ -765,7 +842,8 @@ fn replay_n<const N: usize>(l: &Loaded, a: &ReplayArgs) -> Result<Outcome, CliEr
                 let _ = write!(buf, "{v64}");
             }
             w.write_field(&buf).map_err(|e| io(&output, e))?;
-            w.write_field(out::quality_word(*q32)).map_err(|e| io(&output, e))?;
+            w.write_field(out::quality_word(*q32))
+                .map_err(|e| io(&output, e))?;
         }
         w.write_record(None::<&[u8]>).map_err(|e| io(&output, e))?;
         series.time.push(t - t0);
@@ -866,7 +944,11 @@ pub fn summary(l: &Loaded, a: &ReplayArgs, o: &Outcome) -> (String, serde_json::
         let _ = writeln!(t, "  malformed line {line}: {why}");
     }
     if c.malformed.len() > 20 {
-        let _ = writeln!(t, "  ... and {} more malformed rows", c.malformed.len() - 20);
+        let _ = writeln!(
+            t,
+            "  ... and {} more malformed rows",
+            c.malformed.len() - 20
+        );
     }
     if !c.bad_cells.is_empty() {
         t.push_str("\nBad input cells (blank, non-numeric or outside [limits]):\n");
@@ -956,7 +1038,10 @@ pub fn summary(l: &Loaded, a: &ReplayArgs, o: &Outcome) -> (String, serde_json::
             }
             for (a0, a1) in intervals(&ss.deviation, |d| d < 0.0) {
                 let minm = ss.margin.get(a0..a1).map_or(f64::NAN, |v| {
-                    v.iter().copied().filter(|x| x.is_finite()).fold(f64::INFINITY, f64::min)
+                    v.iter()
+                        .copied()
+                        .filter(|x| x.is_finite())
+                        .fold(f64::INFINITY, f64::min)
                 });
                 events.push((
                     time_at(a0),
@@ -1058,7 +1143,10 @@ pub fn run(a: &ReplayArgs) -> Result<String, CliError> {
         }
     }
     if a.json {
-        return Ok(format!("{}\n", serde_json::to_string_pretty(&json).unwrap_or_default()));
+        return Ok(format!(
+            "{}\n",
+            serde_json::to_string_pretty(&json).unwrap_or_default()
+        ));
     }
     Ok(text)
 }

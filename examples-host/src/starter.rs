@@ -28,7 +28,12 @@ pub struct NewTrainArgs {
     #[arg(long, value_name = "CSV", conflicts_with = "demo")]
     pub example_log: Option<PathBuf>,
     /// Rows of the example log (default 8640: one day at 10 s).
-    #[arg(long, value_name = "N", default_value_t = 8640, requires = "example_log")]
+    #[arg(
+        long,
+        value_name = "N",
+        default_value_t = 8640,
+        requires = "example_log"
+    )]
     pub rows: usize,
 }
 
@@ -202,7 +207,11 @@ pub fn air_file(n: usize) -> String {
              [stage.cooler]                 # {} after this stage\n\
              coolant_specific_heat_J_per_kg_K = 4180\n",
             i + 1,
-            if i + 1 == n { "aftercooler" } else { "intercooler" }
+            if i + 1 == n {
+                "aftercooler"
+            } else {
+                "intercooler"
+            }
         ));
         t.push_str(&readings(i, true, i == 0));
         if i == 0 {
@@ -305,13 +314,21 @@ pub fn example_log(n: usize, rows: usize) -> Result<String, CliError> {
         let water = 24.0 + 2.0 * (2.0 * std::f64::consts::PI * (day - 0.4)).sin();
         // Low demand between 40 % and 45 % of the log: flow falls toward surge.
         let x = r as f64 / rows.max(1) as f64;
-        let low = if (0.40..0.45).contains(&x) { ((x - 0.40) / 0.05 * std::f64::consts::PI).sin() } else { 0.0 };
+        let low = if (0.40..0.45).contains(&x) {
+            ((x - 0.40) / 0.05 * std::f64::consts::PI).sin()
+        } else {
+            0.0
+        };
         let mut p1 = design.first().map_or(0.98, |d| d.0) * (1.0 + 0.002 * noise.next());
         let mut t1 = ambient + 0.1 * noise.next();
         for s in 0..n {
             let (d1, d2) = design.get(s).copied().unwrap_or((1.0, 2.0));
             let p2 = p1 * (d2 / d1) * (1.0 - 0.03 * low) * (1.0 + 0.001 * noise.next());
-            let eta = if s == 1 { 0.80 - 0.03 * x } else { 0.80 - 0.01 * s as f64 };
+            let eta = if s == 1 {
+                0.80 - 0.03 * x
+            } else {
+                0.80 - 0.01 * s as f64
+            };
             let t2k = (t1 + 273.15) * (p2 / p1).powf(m_k / eta);
             let mut t2 = t2k - 273.15 + 0.15 * noise.next();
             let approach = 8.0 + if s == 0 { 3.0 * x } else { 0.5 * s as f64 };
@@ -332,11 +349,21 @@ pub fn example_log(n: usize, rows: usize) -> Result<String, CliError> {
                     let sigma = 1.0 / 3.0; // (n-1)/n for n = 1.5 as in the starter file
                     ((p2 / p1).powf(sigma) - 1.0) / sigma
                 };
-                let q2 = line.as_ref().map_or(0.002, |l| l.lookup(hr).surge_reduced_flow_squared);
+                let q2 = line
+                    .as_ref()
+                    .map_or(0.002, |l| l.lookup(hr).surge_reduced_flow_squared);
                 let dp_mbar = p1 * 1e5 * q2 * (1.0 + margin) * (1.0 + margin) / 100.0;
                 let flow = 5.2 * (1.0 + margin) / 1.28 * (1.0 + 0.003 * noise.next());
-                let flow_text = if r % 2203 == 500 { "n/a".to_string() } else { format!("{flow:.3}") };
-                let recycle = if margin < 0.15 { 1.2 * (0.15 - margin) / 0.15 } else { 0.0 };
+                let flow_text = if r % 2203 == 500 {
+                    "n/a".to_string()
+                } else {
+                    format!("{flow:.3}")
+                };
+                let recycle = if margin < 0.15 {
+                    1.2 * (0.15 - margin) / 0.15
+                } else {
+                    0.0
+                };
                 let _ = write!(out, ",{flow_text},{dp_mbar:.3},{recycle:.3}");
             }
             let _ = write!(out, ",{gas_out:.2},{water:.2},{water_out:.2}");

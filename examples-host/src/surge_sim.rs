@@ -23,13 +23,20 @@ pub fn run(p: &Parsed) -> Result<String, CliError> {
         "# Invented demo scenario: air blower on the Greitzer (1976) lumped model; throttle 0.8 -> 0.3 in 0.5 s at t = 2 s.\n",
     );
     if p.has("sweep") {
-        text.push_str("scan_ms,min_margin_protected\n");
+        text.push_str("scan_ms,min_margin_protected,surged\n");
         for ms in [5u32, 20, 50, 100] {
             let o = simulate(&Scenario {
                 scan_period: f64::from(ms) / 1e3,
                 ..Scenario::default()
             })?;
-            text.push_str(&format!("{ms},{:.4}\n", o.min_margin));
+            // Surged: the true operating point crossed the surge line, the flow
+            // reversed or the detector counted a surge cycle.
+            let surged = o.min_margin < 0.0 || o.flow_sign_changes > 0 || o.events > 0;
+            text.push_str(&format!(
+                "{ms},{:.4},{}\n",
+                o.min_margin,
+                if surged { "yes" } else { "no" }
+            ));
         }
         text.push_str(&format!("# {}\n", out::CAUTION));
         return Ok(text);

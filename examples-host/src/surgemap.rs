@@ -164,7 +164,8 @@ pub fn update<T: Real>(
 
 /// The protected surge simulation (`crate::greitzer`, invented scenario) as
 /// a trajectory in the surge coordinates: (line, qr², hr, time s).
-pub fn sim_trajectory() -> Result<(Vec<LinePoint>, Vec<f64>, Vec<f64>, Vec<f64>), crate::cli::CliError> {
+pub fn sim_trajectory(
+) -> Result<(Vec<LinePoint>, Vec<f64>, Vec<f64>, Vec<f64>), crate::cli::CliError> {
     use crate::greitzer as g;
     let points = g::surge_points();
     let line = SurgeLine::<f64, MAX_POINTS>::new(&SurgeLineConfig {
@@ -206,8 +207,16 @@ pub fn sim_trajectory() -> Result<(Vec<LinePoint>, Vec<f64>, Vec<f64>, Vec<f64>)
             discharge_pressure: Measured::good(PressureAbs::from_pa(pd)),
             flow_dp: Measured::good(dp),
         });
-        q2.push(if a.quality.is_usable() { a.value } else { f64::NAN });
-        hr.push(if b.quality.is_usable() { b.value } else { f64::NAN });
+        q2.push(if a.quality.is_usable() {
+            a.value
+        } else {
+            f64::NAN
+        });
+        hr.push(if b.quality.is_usable() {
+            b.value
+        } else {
+            f64::NAN
+        });
         t.push(s.t);
     }
     Ok((lp, q2, hr, t))

@@ -10,8 +10,8 @@ use polytrope::units::{Kelvin, PressureAbs};
 use polytrope::{Measured, Real};
 
 use crate::cli::CliError;
-pub use crate::config::MAX_STAGES;
 use crate::config::Loaded;
+pub use crate::config::MAX_STAGES;
 
 /// Steady-state window of host trains, scans (fixed: one instantiation per stage count).
 pub const WINDOW: usize = 8;
@@ -116,15 +116,14 @@ fn optional<T: Real>(c: Cell) -> Option<Measured<T>> {
 /// outlet pressure) are `None` when unmapped.
 pub fn scan<T: Real, const N: usize>(l: &Loaded, row: &Row) -> Scan<T, N> {
     let stages = core::array::from_fn(|i| {
-        let cells = row.get(i).copied().unwrap_or([Cell::Unmapped; READING_COUNT]);
+        let cells = row
+            .get(i)
+            .copied()
+            .unwrap_or([Cell::Unmapped; READING_COUNT]);
         let c = |k: usize| cells.get(k).copied().unwrap_or(Cell::Unmapped);
         let p = |k: usize| measured::<T>(c(k)).map(PressureAbs::from_pa);
         let t = |k: usize| measured::<T>(c(k)).map(Kelvin::new);
-        let has_cooler = l
-            .file
-            .stages
-            .get(i)
-            .is_some_and(|s| s.cooler.is_some());
+        let has_cooler = l.file.stages.get(i).is_some_and(|s| s.cooler.is_some());
         StageScan {
             suction_pressure: p(ix::P1),
             suction_temperature: t(ix::T1),

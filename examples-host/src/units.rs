@@ -116,9 +116,7 @@ pub const PRESSURE_UNITS: &[(&str, f64)] = &[
 pub const TEMPERATURE_UNITS: &[&str] = &["K", "degC", "C", "°C", "degF", "F", "°F"];
 
 /// Mass and standard volume flow units as accepted.
-pub const FLOW_UNITS: &[&str] = &[
-    "kg/s", "kg/h", "t/h", "Nm3/h", "Nm³/h", "Sm3/h", "Sm³/h",
-];
+pub const FLOW_UNITS: &[&str] = &["kg/s", "kg/h", "t/h", "Nm3/h", "Nm³/h", "Sm3/h", "Sm³/h"];
 
 /// Splits `text` into its longest leading number and the rest (trimmed).
 fn split_number(text: &str) -> Option<(f64, &str)> {
@@ -203,7 +201,11 @@ fn pressure_scale(unit: &str) -> Option<f64> {
     PRESSURE_UNITS
         .iter()
         .find(|(u, _)| *u == unit)
-        .or_else(|| PRESSURE_UNITS.iter().find(|(u, _)| u.eq_ignore_ascii_case(unit)))
+        .or_else(|| {
+            PRESSURE_UNITS
+                .iter()
+                .find(|(u, _)| u.eq_ignore_ascii_case(unit))
+        })
         .map(|(_, s)| *s)
 }
 
@@ -211,7 +213,9 @@ fn pressure_scale(unit: &str) -> Option<f64> {
 pub fn pressure(text: &str) -> Result<PressureIn, String> {
     let hint = "write e.g. 1.013bara, 1013mbara, 14.7psia (absolute) or 4.5barg, 250kPag (gauge)";
     let Some((x, unit)) = split_number(text) else {
-        return Err(format!("'{text}' is not a number with a pressure unit; {hint}"));
+        return Err(format!(
+            "'{text}' is not a number with a pressure unit; {hint}"
+        ));
     };
     if unit.is_empty() {
         return Err(format!("'{text}' has no pressure unit; {hint}"));
@@ -393,14 +397,7 @@ impl Presentation {
                         p.pressure = None;
                     }
                     Some((u, s)) => p.pressure = Some((u, *s)),
-                    None => {
-                        return Err(unknown(
-                            "output",
-                            text,
-                            other,
-                            PRESENTATION_UNITS,
-                        ))
-                    }
+                    None => return Err(unknown("output", text, other, PRESENTATION_UNITS)),
                 },
             }
         }
@@ -517,7 +514,10 @@ mod tests {
         assert!(e.contains("did you mean 'psia'"), "{e}");
         assert!(e.contains("known: Paa, Pag"), "{e}");
         let e = pressure("5 torra").unwrap_err();
-        assert!(e.contains("unknown pressure unit") && !e.contains("did you mean"), "{e}");
+        assert!(
+            e.contains("unknown pressure unit") && !e.contains("did you mean"),
+            "{e}"
+        );
         for bad in ["", "abc", "NaNbara", "infkPaa", "100"] {
             assert!(pressure(bad).is_err(), "{bad}");
         }

@@ -21,7 +21,9 @@ use polytrope::cooler::CoolerConfig;
 use polytrope::gas::{IdealGas, AIR};
 use polytrope::scan::{CoolerScan, Scan, StageScan};
 use polytrope::steady::SteadyStateConfig;
-use polytrope::surge::{MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan};
+use polytrope::surge::{
+    MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
+};
 use polytrope::train::{StageConfig, StageKind, Train, TrainConfig};
 use polytrope::units::{Kelvin, PressureAbs};
 use polytrope::{Measured, Quality, Real};
@@ -33,7 +35,12 @@ const ATM: f64 = 101_300.0; // the starter's "1013 mbara"
 
 fn bara(v: &toml::Value) -> f64 {
     let t = v.as_str().unwrap();
-    t.strip_suffix("bara").unwrap().trim().parse::<f64>().unwrap() * 1e5
+    t.strip_suffix("bara")
+        .unwrap()
+        .trim()
+        .parse::<f64>()
+        .unwrap()
+        * 1e5
 }
 
 struct Kernel<T: Real> {
@@ -47,8 +54,12 @@ fn kernel<T: Real>(starter: &toml::Value) -> Kernel<T> {
         gas: IdealGas::from_spec(&AIR, true, T::ONE).unwrap(),
         stages: core::array::from_fn(|i| StageConfig {
             kind: StageKind::Compressor,
-            design_suction_pressure: PressureAbs::from_pa(T::of(bara(&stages[i]["design_suction"]))),
-            design_discharge_pressure: PressureAbs::from_pa(T::of(bara(&stages[i]["design_discharge"]))),
+            design_suction_pressure: PressureAbs::from_pa(T::of(bara(
+                &stages[i]["design_suction"],
+            ))),
+            design_discharge_pressure: PressureAbs::from_pa(T::of(bara(
+                &stages[i]["design_discharge"],
+            ))),
             cooler: Some(CoolerConfig {
                 coolant_cp: T::of(4180.0),
             }),
@@ -99,7 +110,15 @@ fn kernel<T: Real>(starter: &toml::Value) -> Kernel<T> {
 
 /// A cell as the host must read it: blank, non-numeric or outside the
 /// starter's [limits] -> None.
-fn cell(row: &csv::StringRecord, h: &HashMap<String, usize>, name: &str, a: f64, b: f64, lo: f64, hi: f64) -> Option<f64> {
+fn cell(
+    row: &csv::StringRecord,
+    h: &HashMap<String, usize>,
+    name: &str,
+    a: f64,
+    b: f64,
+    lo: f64,
+    hi: f64,
+) -> Option<f64> {
     let x: f64 = row.get(h[name])?.trim().parse().ok()?;
     let si = a + b * x;
     (x.is_finite() && (lo..=hi).contains(&si)).then_some(si)
@@ -110,7 +129,11 @@ fn m<T: Real>(v: Option<f64>) -> Measured<T> {
 }
 
 /// One kernel step on a log row; returns (column, value, quality) for the compared results.
-fn step<T: Real>(k: &mut Kernel<T>, row: &csv::StringRecord, h: &HashMap<String, usize>) -> Vec<(String, f64, Quality)> {
+fn step<T: Real>(
+    k: &mut Kernel<T>,
+    row: &csv::StringRecord,
+    h: &HashMap<String, usize>,
+) -> Vec<(String, f64, Quality)> {
     let (p_lo, p_hi) = (0.1e5, 100e5);
     let (t_lo, t_hi) = (233.15, 523.15);
     let p_abs = |n: &str| cell(row, h, n, 0.0, 1e5, p_lo, p_hi);
@@ -129,13 +152,19 @@ fn step<T: Real>(k: &mut Kernel<T>, row: &csv::StringRecord, h: &HashMap<String,
                 gas_outlet_temperature: m::<T>(t(&format!("c{s}_t_gas_out"))).map(Kelvin::new),
                 gas_outlet_pressure: None,
                 coolant_inlet_temperature: m::<T>(t(&format!("c{s}_t_water_in"))).map(Kelvin::new),
-                coolant_outlet_temperature: Some(m::<T>(t(&format!("c{s}_t_water_out"))).map(Kelvin::new)),
+                coolant_outlet_temperature: Some(
+                    m::<T>(t(&format!("c{s}_t_water_out"))).map(Kelvin::new),
+                ),
                 coolant_mass_flow: None,
             }),
         }
     });
     let snap = *k.train.update(&Scan { stages });
-    let dp = row.get(h["s1_dp_flow"]).and_then(|x| x.trim().parse::<f64>().ok()).filter(|x| x.is_finite()).map(|x| x * 100.0);
+    let dp = row
+        .get(h["s1_dp_flow"])
+        .and_then(|x| x.trim().parse::<f64>().ok())
+        .filter(|x| x.is_finite())
+        .map(|x| x * 100.0);
     let margin = k.monitor.update(
         &SurgeScan {
             suction_pressure: m::<T>(p_abs("s1_p_in")).map(PressureAbs::from_pa),
@@ -149,9 +178,15 @@ fn step<T: Real>(k: &mut Kernel<T>, row: &csv::StringRecord, h: &HashMap<String,
     for (i, st) in snap.stages.iter().enumerate() {
         let c = st.compressor().unwrap();
         put(format!("s{}_pressure_ratio", i + 1), c.pressure_ratio);
-        put(format!("s{}_polytropic_efficiency", i + 1), c.polytropic_efficiency);
+        put(
+            format!("s{}_polytropic_efficiency", i + 1),
+            c.polytropic_efficiency,
+        );
         put(format!("s{}_gas_power_W", i + 1), c.gas_power);
-        put(format!("c{}_approach_K", i + 1), snap.coolers[i].unwrap().approach);
+        put(
+            format!("c{}_approach_K", i + 1),
+            snap.coolers[i].unwrap().approach,
+        );
     }
     put("train_total_power_W".into(), snap.totals.total_power);
     put("s1_surge_margin".into(), margin.margin);
@@ -176,10 +211,31 @@ fn replay_of_100k_rows_matches_the_kernel_row_by_row() {
     let log = dir.join("log.csv");
     let results = dir.join("results.csv");
     let rows = ROWS.to_string();
-    let (t, l, r) = (train.to_str().unwrap(), log.to_str().unwrap(), results.to_str().unwrap());
-    ok(&["new-train", "--stages", "3", "-o", t, "--example-log", l, "--rows", &rows]);
+    let (t, l, r) = (
+        train.to_str().unwrap(),
+        log.to_str().unwrap(),
+        results.to_str().unwrap(),
+    );
+    ok(&[
+        "new-train",
+        "--stages",
+        "3",
+        "-o",
+        t,
+        "--example-log",
+        l,
+        "--rows",
+        &rows,
+    ]);
     let summary = ok(&[
-        "replay", t, l, "-o", r, "--quiet", "--json", "--fields",
+        "replay",
+        t,
+        l,
+        "-o",
+        r,
+        "--quiet",
+        "--json",
+        "--fields",
         "pressure_ratio,polytropic_efficiency,gas_power_W,approach_K,total_power_W,surge_margin",
     ]);
     let s: serde_json::Value = serde_json::from_str(&summary).unwrap();
@@ -194,19 +250,37 @@ fn replay_of_100k_rows_matches_the_kernel_row_by_row() {
     let mut k32 = kernel::<f32>(&starter);
     let mut k64 = kernel::<f64>(&starter);
     let mut logr = csv::Reader::from_path(&log).unwrap();
-    let lh: HashMap<String, usize> = logr.headers().unwrap().iter().enumerate().map(|(i, n)| (n.to_string(), i)).collect();
+    let lh: HashMap<String, usize> = logr
+        .headers()
+        .unwrap()
+        .iter()
+        .enumerate()
+        .map(|(i, n)| (n.to_string(), i))
+        .collect();
     let mut resr = csv::Reader::from_path(&results).unwrap();
-    let rh: HashMap<String, usize> = resr.headers().unwrap().iter().enumerate().map(|(i, n)| (n.to_string(), i)).collect();
+    let rh: HashMap<String, usize> = resr
+        .headers()
+        .unwrap()
+        .iter()
+        .enumerate()
+        .map(|(i, n)| (n.to_string(), i))
+        .collect();
     let mut res = resr.records();
     let (mut compared, mut bad_seen) = (0usize, 0usize);
-    let mut log_rows = csv::ReaderBuilder::new().flexible(true).from_path(&log).unwrap();
+    let mut log_rows = csv::ReaderBuilder::new()
+        .flexible(true)
+        .from_path(&log)
+        .unwrap();
     for rec in log_rows.records() {
         let rec = rec.unwrap();
         if rec.len() != lh.len() {
             continue; // the malformed row: skipped by the host too
         }
         let line = rec.position().unwrap().line();
-        let out = res.next().expect("a result row per replayed log row").unwrap();
+        let out = res
+            .next()
+            .expect("a result row per replayed log row")
+            .unwrap();
         assert_eq!(out[rh["line"]].parse::<u64>().unwrap(), line);
         let a32 = step(&mut k32, &rec, &lh);
         let a64 = step(&mut k64, &rec, &lh);
@@ -216,14 +290,25 @@ fn replay_of_100k_rows_matches_the_kernel_row_by_row() {
             let cell32 = &out[rh[name.as_str()]];
             let cell64 = &out[rh[&format!("{name}_f64")]];
             if *q32 == Quality::Bad {
-                assert!(cell32.is_empty(), "line {line} {name}: bad value written as '{cell32}'");
+                assert!(
+                    cell32.is_empty(),
+                    "line {line} {name}: bad value written as '{cell32}'"
+                );
                 bad_seen += 1;
             } else {
                 // f32 exactly as the device build computed it (written in its shortest form).
-                assert_eq!(cell32.parse::<f32>().unwrap(), *v32 as f32, "line {line} {name} f32");
+                assert_eq!(
+                    cell32.parse::<f32>().unwrap(),
+                    *v32 as f32,
+                    "line {line} {name} f32"
+                );
             }
             if *q64 != Quality::Bad {
-                assert_eq!(cell64.parse::<f64>().unwrap(), *v64, "line {line} {name} f64");
+                assert_eq!(
+                    cell64.parse::<f64>().unwrap(),
+                    *v64,
+                    "line {line} {name} f64"
+                );
             } else {
                 assert!(cell64.is_empty());
             }
