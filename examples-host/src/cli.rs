@@ -266,6 +266,10 @@ pub struct SurgeSimArgs {
     /// Print the minimum margin for scan periods 5, 20, 50 and 100 ms, and whether each run surged.
     #[arg(long, conflicts_with = "unprotected")]
     pub sweep: bool,
+    /// Take the recycle controller (gain, integral time, scan period, valve stroke time)
+    /// from this train file's `[stage.surge.control]`; the blower model stays the invented one.
+    #[arg(long, value_name = "TRAIN.toml")]
+    pub file: Option<std::path::PathBuf>,
 }
 
 impl SurgeSimArgs {
@@ -276,5 +280,6 @@ impl SurgeSimArgs {
             .opt("scan-ms", &self.scan_ms)
             .opt("every", &self.every)
             .flag("sweep", self.sweep)
+            .opt("file", &self.file.as_ref().map(|f| f.display().to_string()))
     }
 }

@@ -96,7 +96,9 @@ pub fn run(a: &OrificeArgs) -> Result<String, CliError> {
             "orifice.pipe_diameter" => ("pipe-mm", "a positive pipe diameter"),
             "orifice.bore_diameter" => ("bore-mm", "a bore above 0 and below the pipe diameter"),
             "flow.viscosity" => ("viscosity", "a positive viscosity in Pa s"),
-            _ if a.kappa.is_some_and(|k| !(k > 1.0)) => ("kappa", "an isentropic exponent above 1"),
+            _ if a.kappa.is_some_and(|k| k.is_nan() || k <= 1.0) => {
+                ("kappa", "an isentropic exponent above 1")
+            }
             _ => ("gas", "a valid gas"),
         };
         CliError::Input(format!("--{opt}: needs {why}"))

@@ -908,6 +908,12 @@ fn intervals(v: &[f64], pred: impl Fn(f64) -> bool) -> Vec<(usize, usize)> {
     out
 }
 
+fn put(o: &mut serde_json::Value, key: &str, v: serde_json::Value) {
+    if let Some(m) = o.as_object_mut() {
+        m.insert(key.to_string(), v);
+    }
+}
+
 /// The summary as text and JSON.
 pub fn summary(l: &Loaded, a: &ReplayArgs, o: &Outcome) -> (String, serde_json::Value) {
     use serde_json::json;
@@ -1032,9 +1038,9 @@ pub fn summary(l: &Loaded, a: &ReplayArgs, o: &Outcome) -> (String, serde_json::
                     line_at(k),
                     sig(below)
                 );
-                sj["worst_surge_margin"] = json!(m);
-                sj["worst_surge_margin_time_s"] = json!(time_at(k));
-                sj["time_below_control_line_s"] = json!(below);
+                put(&mut sj, "worst_surge_margin", json!(m));
+                put(&mut sj, "worst_surge_margin_time_s", json!(time_at(k)));
+                put(&mut sj, "time_below_control_line_s", json!(below));
             }
             for (a0, a1) in intervals(&ss.deviation, |d| d < 0.0) {
                 let minm = ss.margin.get(a0..a1).map_or(f64::NAN, |v| {
@@ -1083,8 +1089,8 @@ pub fn summary(l: &Loaded, a: &ReplayArgs, o: &Outcome) -> (String, serde_json::
                 sig(r),
                 sig(energy)
             );
-            sj["recycle_power_mean_W"] = json!(r);
-            sj["recycle_energy_J"] = json!(energy);
+            put(&mut sj, "recycle_power_mean_W", json!(r));
+            put(&mut sj, "recycle_energy_J", json!(energy));
         }
         stages_json.push(sj);
     }

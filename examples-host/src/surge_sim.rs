@@ -17,17 +17,79 @@ fn summary(label: &str, o: &Outcome) -> String {
     )
 }
 
+/// The scenario's controller settings from a train file's first
+/// `[stage.surge.control]` table (errors name the file, line and key).
+fn from_file(p: &Parsed) -> Result<(Scenario, Option<String>), CliError> {
+    let Some(path) = p.get("file") else {
+        return Ok((Scenario::default(), None));
+    };
+    let l = crate::config::load(std::path::Path::new(path))?;
+    let Some((i, c)) = l.file.stages.iter().enumerate().find_map(|(i, s)| {
+        s.surge
+            .as_ref()
+            .and_then(|g| g.control.as_ref())
+            .map(|c| (i, c))
+    }) else {
+        return Err(l
+            .error(
+                "stage",
+                "no [stage.surge.control] table: add one to a stage with a surge map",
+            )
+            .into());
+    };
+    if p.has("scan-ms") {
+        return Err(CliError::Usage(
+            "--scan-ms and --file do not apply together: the file sets the scan period".into(),
+        ));
+    }
+    let key = |k: &str| format!("stage[{i}].surge.control.{k}");
+    for (k, v, lo, hi) in [
+        ("scan_period_s", c.scan_period_s, 0.001, 0.5),
+        ("gain", c.gain, 1e-3, 100.0),
+        ("integral_time_s", c.integral_time_s, 0.01, 600.0),
+        ("valve_stroke_time_s", c.valve_stroke_time_s, 0.05, 60.0),
+    ] {
+        if !(lo..=hi).contains(&v) {
+            return Err(l
+                .error(&key(k), format!("{v} is outside [{lo}, {hi}]"))
+                .into());
+        }
+    }
+    let sc = Scenario {
+        scan_period: c.scan_period_s,
+        gain: c.gain,
+        integral_time: c.integral_time_s,
+        valve_stroke_time: c.valve_stroke_time_s,
+        ..Scenario::default()
+    };
+    Ok((
+        sc,
+        Some(format!(
+            "# Controller from {path} stage {}: gain {}, integral time {} s, scan {} s, valve stroke {} s.\n",
+            i + 1,
+            c.gain,
+            c.integral_time_s,
+            c.scan_period_s,
+            c.valve_stroke_time_s
+        )),
+    ))
+}
+
 /// Runs the subcommand.
 pub fn run(p: &Parsed) -> Result<String, CliError> {
+    let (base, note) = from_file(p)?;
     let mut text = String::from(
         "# Invented demo scenario: air blower on the Greitzer (1976) lumped model; throttle 0.8 -> 0.3 in 0.5 s at t = 2 s.\n",
     );
+    if let Some(n) = &note {
+        text.push_str(n);
+    }
     if p.has("sweep") {
         text.push_str("scan_ms,min_margin_protected,surged\n");
         for ms in [5u32, 20, 50, 100] {
             let o = simulate(&Scenario {
                 scan_period: f64::from(ms) / 1e3,
-                ..Scenario::default()
+                ..base
             })?;
             // Surged: the true operating point crossed the surge line, the flow
             // reversed or the detector counted a surge cycle.
@@ -50,9 +112,13 @@ pub fn run(p: &Parsed) -> Result<String, CliError> {
         None => 1,
     };
     let sc = Scenario {
-        scan_period: f64::from(ms) / 1e3,
+        scan_period: if note.is_some() {
+            base.scan_period
+        } else {
+            f64::from(ms) / 1e3
+        },
         protection: !p.has("unprotected"),
-        ..Scenario::default()
+        ..base
     };
     let o = simulate(&sc)?;
     text.push_str(&summary(

@@ -162,10 +162,12 @@ pub fn update<T: Real>(
     }
 }
 
+/// Surge and control lines, then qr², hr and time (s) of each sample.
+pub type Trajectory = (Vec<LinePoint>, Vec<f64>, Vec<f64>, Vec<f64>);
+
 /// The protected surge simulation (`crate::greitzer`, invented scenario) as
 /// a trajectory in the surge coordinates: (line, qr², hr, time s).
-pub fn sim_trajectory(
-) -> Result<(Vec<LinePoint>, Vec<f64>, Vec<f64>, Vec<f64>), crate::cli::CliError> {
+pub fn sim_trajectory() -> Result<Trajectory, crate::cli::CliError> {
     use crate::greitzer as g;
     let points = g::surge_points();
     let line = SurgeLine::<f64, MAX_POINTS>::new(&SurgeLineConfig {

@@ -583,5 +583,26 @@ fn demo_writes_plots_and_surge_sim_sweep_says_whether_it_surged() {
     assert_eq!(code, 2);
     let (code, _) = fails(&["surge-sim", "--sweep", "--unprotected"]);
     assert_eq!(code, 2);
+    // Controller settings from a train file; options that the file sets are refused.
+    let f = dir.join("air.toml");
+    ok(&["new-train", "--stages", "2", "-o", s(&f)]);
+    let out = ok(&["surge-sim", "--file", s(&f), "--every", "100"]);
+    assert!(
+        out.contains("Controller from") && out.contains("gain 2"),
+        "{out}"
+    );
+    let (code, msg) = fails(&["surge-sim", "--file", s(&f), "--scan-ms", "10"]);
+    assert_eq!(code, 2);
+    assert!(msg.contains("do not apply together"), "{msg}");
+    std::fs::write(
+        &f,
+        std::fs::read_to_string(&f)
+            .unwrap()
+            .replace("gain = 2.0", "gain = -1.0"),
+    )
+    .unwrap();
+    let (code, msg) = fails(&["surge-sim", "--file", s(&f)]);
+    assert_eq!(code, 1);
+    assert!(msg.contains("stage[0].surge.control.gain"), "{msg}");
     let _ = std::fs::remove_dir_all(&dir);
 }
