@@ -1,255 +1,216 @@
-//! The one configuration error type.
+//! The one configuration error shape.
 //!
 //! Configuration is validated once, at construction; the per-scan update path
 //! never returns an error (bad measurements become bad *quality*, see
-//! [`crate::quality`]).
+//! [`crate::quality`]). Every refusal is a [`ConfigError`]: the configuration
+//! path of the offending field, its index for array fields, and what is wrong
+//! ([`Problem`]). The field paths are stable (a host tool maps them to its own
+//! key names).
 
 use core::fmt;
 
-/// A configuration that cannot be right, naming the offending field.
+use crate::real::Real;
+
+/// A configuration that cannot be right: which field, and what is wrong.
 ///
-/// `stage` fields are zero-based stage indices.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+/// `field` is the dotted path of the field in the kernel's configuration
+/// structs, without indices (`"gas.molar_mass"`,
+/// `"stages.design_suction_pressure"`, `"channel.max_rate"`,
+/// `"surge_line.points"`); `index` is the stage, channel or table-point index
+/// for array fields.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct ConfigError {
+    /// Configuration path of the offending field (dotted, no indices).
+    pub field: &'static str,
+    /// Stage, channel or table-point index for array fields.
+    pub index: Option<u16>,
+    /// What is wrong with it.
+    pub problem: Problem,
+}
+
+/// What is wrong with a configuration field.
+#[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 #[non_exhaustive]
-pub enum ConfigError {
-    /// `gas.molar_mass` is not a finite positive number (kg/kmol).
-    MolarMass,
-    /// `gas.k`, the heat-capacity ratio, is not finite or not above 1.
-    HeatCapacityRatio,
-    /// `gas.cp_polynomial` gives a non-positive or non-finite cp, or a
-    /// heat-capacity ratio not above 1, somewhere in its validity range, or
-    /// the range itself is empty.
-    HeatCapacityPolynomial,
-    /// `gas.compressibility` is not in (0, 2].
-    Compressibility,
-    /// `stages[stage].design_suction_pressure` is not finite and positive.
-    DesignSuctionPressure {
-        /// Stage index.
-        stage: u8,
+pub enum Problem {
+    /// NaN or infinite.
+    NotFinite,
+    /// Outside the allowed range `[min, max]` (an infinite end means no bound
+    /// on that side; the field's documentation says if an end is open).
+    OutOfRange {
+        /// Lowest allowed value.
+        min: f64,
+        /// Highest allowed value.
+        max: f64,
     },
-    /// `stages[stage].design_discharge_pressure` is not above the stage's
-    /// design suction pressure.
-    DesignDischargePressure {
-        /// Stage index.
-        stage: u8,
+    /// Must exceed another field (a high limit over a low one, discharge over
+    /// suction).
+    NotAbove {
+        /// The field it must exceed.
+        other: &'static str,
     },
-    /// `stages[stage].design_suction_pressure` does not chain with the
-    /// previous stage's design discharge pressure: it is above it, or lower
-    /// than `max_interstage_pressure_drop` allows.
-    PressureChain {
-        /// Stage index.
-        stage: u8,
+    /// A table entry does not rise above the previous entry.
+    NotIncreasing,
+    /// The number of entries is outside `[min, max]`.
+    Count {
+        /// Fewest entries allowed.
+        min: u16,
+        /// Most entries allowed.
+        max: u16,
     },
-    /// `max_interstage_pressure_drop` is not in [0, 0.9].
-    MaxInterstagePressureDrop,
-    /// A pump stage's `density` is not finite and positive (kg/m3).
-    PumpDensity {
-        /// Stage index.
-        stage: u8,
+    /// Conflicts with another field.
+    Inconsistent {
+        /// The field it conflicts with.
+        with: &'static str,
     },
-    /// A pump stage's `efficiency` is not in (0, 1].
-    PumpEfficiency {
-        /// Stage index.
-        stage: u8,
-    },
-    /// A compressor stage follows a pump stage: pumps may only end a train.
-    PumpPosition {
-        /// Stage index of the offending compressor.
-        stage: u8,
-    },
-    /// A cooler's `coolant_cp` is not finite and positive (J/(kg K)).
-    CoolantSpecificHeat {
-        /// Index of the stage the cooler follows.
-        stage: u8,
-    },
-    /// A `steady_state` tolerance is not finite and positive.
-    SteadyStateTolerance,
-    /// The train has no compressor stage.
-    NoCompressorStage,
-    /// Signal channel `channel`: `range_low` / `range_high` (engineering
-    /// range) not finite or `range_high <= range_low`.
-    SignalRange {
-        /// Channel id.
-        channel: u8,
-    },
-    /// Signal channel `channel`: the `signal` span (ADC counts, volts) is
-    /// not finite or empty.
-    SignalSpan {
-        /// Channel id.
-        channel: u8,
-    },
-    /// Signal channel `channel`: `plausible_low` / `plausible_high` not
-    /// finite or not increasing.
-    PlausibilityLimits {
-        /// Channel id.
-        channel: u8,
-    },
-    /// Signal channel `channel`: `noise_floor` or the instrument tolerance
-    /// is not finite and non-negative.
-    NoiseFloor {
-        /// Channel id.
-        channel: u8,
-    },
-    /// Signal channel `channel`: `max_rate` is not finite and positive.
-    RateLimit {
-        /// Channel id.
-        channel: u8,
-    },
-    /// Signal channel `channel`: `filter_time_constant_s` is not finite and
-    /// non-negative.
-    FilterTimeConstant {
-        /// Channel id.
-        channel: u8,
-    },
-    /// Signal channel `channel`: the gauge unit's `atmosphere` is not finite
-    /// and positive.
-    AtmosphericPressure {
-        /// Channel id.
-        channel: u8,
-    },
-    /// A cross-check tolerance is not finite and non-negative.
-    CrossCheckTolerance,
-    /// Orifice `pipe_diameter` is not finite and positive (m).
-    OrificePipeDiameter,
-    /// Orifice `bore_diameter` is not finite, positive and below the pipe
-    /// diameter (m).
-    OrificeBoreDiameter,
-    /// Flow `viscosity` is not finite and positive (Pa s).
-    FlowViscosity,
-    /// Flow `isentropic_exponent` is not finite and above 1.
-    FlowIsentropicExponent,
-    /// Flow `gas_constant` is not finite and positive (J/(kg K)).
-    FlowGasConstant,
-    /// Flow element `coefficient` is not finite and positive.
-    FlowCoefficient,
-    /// Low-flow `cutoff_dp` / `zero_tolerance` not finite and non-negative.
-    LowFlowCutoff,
-    /// The surge-line table has fewer than 2 points or more than its
-    /// capacity.
-    SurgeLineLength,
-    /// `points[point]` of the surge-line table has a speed, flow, pressure
-    /// ratio or control margin that is not finite and in range.
-    SurgeLinePoint {
-        /// Point index.
-        point: u8,
-    },
-    /// `points[point]` of the surge-line table does not rise above the
-    /// previous point in speed, reduced head and reduced flow.
-    SurgeLineNotMonotonic {
-        /// Point index.
-        point: u8,
-    },
-    /// A surge-protection or recycle-control setting is out of range.
-    SurgeSetting {
-        /// The offending field, as named in its configuration struct.
-        field: &'static str,
-    },
+    /// An unknown name, component or identifier.
+    Unknown,
+}
+
+impl ConfigError {
+    /// An error for `field` with `problem`, no index.
+    pub const fn new(field: &'static str, problem: Problem) -> Self {
+        ConfigError {
+            field,
+            index: None,
+            problem,
+        }
+    }
+
+    /// The same error for entry `index` of an array field (saturating at
+    /// `u16::MAX`).
+    pub const fn at(self, index: usize) -> Self {
+        let index = if index > u16::MAX as usize {
+            u16::MAX
+        } else {
+            index as u16
+        };
+        ConfigError {
+            index: Some(index),
+            ..self
+        }
+    }
+
+    /// `field` is NaN or infinite.
+    pub const fn not_finite(field: &'static str) -> Self {
+        Self::new(field, Problem::NotFinite)
+    }
+
+    /// `field` is outside `[min, max]`.
+    pub const fn out_of_range(field: &'static str, min: f64, max: f64) -> Self {
+        Self::new(field, Problem::OutOfRange { min, max })
+    }
+}
+
+/// Checks that `value` is finite and in `[min, max]`; returns it.
+///
+/// NaN or infinity gives [`Problem::NotFinite`], anything else outside the
+/// range [`Problem::OutOfRange`].
+pub(crate) fn check_range<T: Real>(
+    field: &'static str,
+    value: T,
+    min: f64,
+    max: f64,
+) -> Result<T, ConfigError> {
+    if !T::is_finite(value) {
+        return Err(ConfigError::not_finite(field));
+    }
+    if value < T::of(min) || value > T::of(max) {
+        return Err(ConfigError::out_of_range(field, min, max));
+    }
+    Ok(value)
+}
+
+/// Checks that `value` is finite and strictly above zero (the range is
+/// reported as `[0, inf]`, open at 0); returns it.
+pub(crate) fn check_positive<T: Real>(field: &'static str, value: T) -> Result<T, ConfigError> {
+    if !T::is_finite(value) {
+        return Err(ConfigError::not_finite(field));
+    }
+    if !(value > T::ZERO) {
+        return Err(ConfigError::out_of_range(field, 0.0, f64::INFINITY));
+    }
+    Ok(value)
+}
+
+/// A setting outside the range its documentation states (used where a list
+/// of checks does not carry the range itself).
+pub(crate) const fn outside_documented_range(field: &'static str) -> ConfigError {
+    ConfigError::new(
+        field,
+        Problem::Inconsistent {
+            with: "the range in its documentation",
+        },
+    )
 }
 
 impl fmt::Display for ConfigError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        use ConfigError::*;
-        match *self {
-            MolarMass => f.write_str("gas.molar_mass must be finite and > 0 (kg/kmol)"),
-            HeatCapacityRatio => f.write_str("gas.k must be finite and > 1"),
-            HeatCapacityPolynomial => f.write_str(
-                "gas.cp_polynomial must give finite cp > R over a non-empty validity range",
-            ),
-            Compressibility => f.write_str("gas.compressibility must be in (0, 2]"),
-            DesignSuctionPressure { stage } => write!(
-                f,
-                "stages[{stage}].design_suction_pressure must be finite and > 0 Pa"
-            ),
-            DesignDischargePressure { stage } => write!(
-                f,
-                "stages[{stage}].design_discharge_pressure must exceed its design suction pressure"
-            ),
-            PressureChain { stage } => write!(
-                f,
-                "stages[{stage}].design_suction_pressure does not chain with stage {} discharge",
-                stage.saturating_sub(1)
-            ),
-            MaxInterstagePressureDrop => {
-                f.write_str("max_interstage_pressure_drop must be in [0, 0.9]")
-            }
-            PumpDensity { stage } => {
-                write!(
-                    f,
-                    "stages[{stage}] pump density must be finite and > 0 kg/m3"
-                )
-            }
-            PumpEfficiency { stage } => {
-                write!(f, "stages[{stage}] pump efficiency must be in (0, 1]")
-            }
-            PumpPosition { stage } => write!(
-                f,
-                "stages[{stage}] is a compressor after a pump: pumps may only end a train"
-            ),
-            CoolantSpecificHeat { stage } => write!(
-                f,
-                "stages[{stage}].cooler.coolant_cp must be finite and > 0 J/(kg K)"
-            ),
-            SteadyStateTolerance => f.write_str("steady_state tolerances must be finite and > 0"),
-            NoCompressorStage => f.write_str("the train needs at least one compressor stage"),
-            SignalRange { channel } => write!(
-                f,
-                "channel {channel}: range_low/range_high must be finite with range_high > range_low"
-            ),
-            SignalSpan { channel } => {
-                write!(
-                    f,
-                    "channel {channel}: signal span must be finite and non-empty"
-                )
-            }
-            PlausibilityLimits { channel } => write!(
-                f,
-                "channel {channel}: plausible_low/plausible_high must be finite and increasing"
-            ),
-            NoiseFloor { channel } => write!(
-                f,
-                "channel {channel}: noise_floor and instrument tolerance must be finite and >= 0"
-            ),
-            RateLimit { channel } => {
-                write!(f, "channel {channel}: max_rate must be finite and > 0")
-            }
-            FilterTimeConstant { channel } => write!(
-                f,
-                "channel {channel}: filter_time_constant_s must be finite and >= 0"
-            ),
-            AtmosphericPressure { channel } => write!(
-                f,
-                "channel {channel}: gauge atmosphere must be finite and > 0 Pa"
-            ),
-            CrossCheckTolerance => f.write_str("cross-check tolerances must be finite and >= 0"),
-            OrificePipeDiameter => f.write_str("orifice pipe_diameter must be finite and > 0 m"),
-            OrificeBoreDiameter => {
-                f.write_str("orifice bore_diameter must be finite, > 0 and below pipe_diameter (m)")
-            }
-            FlowViscosity => f.write_str("flow viscosity must be finite and > 0 Pa s"),
-            FlowIsentropicExponent => {
-                f.write_str("flow isentropic_exponent must be finite and > 1")
-            }
-            FlowGasConstant => f.write_str("flow gas_constant must be finite and > 0 J/(kg K)"),
-            FlowCoefficient => f.write_str("flow element coefficient must be finite and > 0"),
-            LowFlowCutoff => {
-                f.write_str("low-flow cutoff_dp and zero_tolerance must be finite and >= 0")
-            }
-            SurgeLineLength => {
-                f.write_str("the surge line needs at least 2 points and at most its capacity")
-            }
-            SurgeLinePoint { point } => write!(
-                f,
-                "surge line points[{point}]: speed, flow and control margin must be finite and in range, ratio > 1"
-            ),
-            SurgeLineNotMonotonic { point } => write!(
-                f,
-                "surge line points[{point}] must rise above points[{}] in speed, reduced head and reduced flow",
-                point.saturating_sub(1)
-            ),
-            SurgeSetting { field } => write!(f, "surge/recycle setting {field} is out of range"),
+        // Print the path with the index after its first segment that names
+        // an array ("stages[2].design_suction_pressure").
+        match (self.index, self.field.split_once('.')) {
+            (Some(i), Some((head, tail))) => write!(f, "{head}[{i}].{tail}")?,
+            (Some(i), None) => write!(f, "{}[{i}]", self.field)?,
+            (None, _) => f.write_str(self.field)?,
+        }
+        f.write_str(": ")?;
+        match self.problem {
+            Problem::NotFinite => f.write_str("must be a finite number"),
+            Problem::OutOfRange { min, max } => write!(f, "must be in [{min}, {max}]"),
+            Problem::NotAbove { other } => write!(f, "must be above {other}"),
+            Problem::NotIncreasing => f.write_str("must rise above the previous entry"),
+            Problem::Count { min, max } => write!(f, "needs {min} to {max} entries"),
+            Problem::Inconsistent { with } => write!(f, "conflicts with {with}"),
+            Problem::Unknown => f.write_str("unknown name"),
         }
     }
 }
 
 impl core::error::Error for ConfigError {}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn display_names_field_index_and_problem() {
+        extern crate std;
+        use std::string::ToString;
+        let e = ConfigError::out_of_range("stages.design_suction_pressure", 1.0, 1e8).at(2);
+        assert_eq!(
+            e.to_string(),
+            "stages[2].design_suction_pressure: must be in [1, 100000000]"
+        );
+        assert_eq!(
+            ConfigError::not_finite("gas.molar_mass").to_string(),
+            "gas.molar_mass: must be a finite number"
+        );
+        assert_eq!(
+            ConfigError::new("x", Problem::Unknown).at(70_000).index,
+            Some(u16::MAX)
+        );
+    }
+
+    #[test]
+    fn range_checks_refuse_nan_and_bounds() {
+        assert_eq!(check_range("f", 1.5f64, 1.0, 2.0), Ok(1.5));
+        assert_eq!(
+            check_range("f", f64::NAN, 1.0, 2.0),
+            Err(ConfigError::not_finite("f"))
+        );
+        assert_eq!(
+            check_range("f", 2.5f32, 1.0, 2.0),
+            Err(ConfigError::out_of_range("f", 1.0, 2.0))
+        );
+        assert_eq!(
+            check_positive("f", 0.0f64),
+            Err(ConfigError::out_of_range("f", 0.0, f64::INFINITY))
+        );
+        assert_eq!(
+            check_positive("f", f32::INFINITY),
+            Err(ConfigError::not_finite("f"))
+        );
+        assert_eq!(check_positive("f", 1e-30f64), Ok(1e-30));
+    }
+}

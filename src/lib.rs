@@ -97,6 +97,6 @@ pub mod train;
 pub mod units;
 mod window;
 
-pub use error::ConfigError;
+pub use error::{ConfigError, Problem};
 pub use quality::{Measured, Quality};
 pub use real::Real;

@@ -16,7 +16,7 @@
 //! the window was one of them and the new value does not replace it;
 //! otherwise a scan costs a few comparisons per window.
 
-use crate::error::ConfigError;
+use crate::error::{check_positive, ConfigError};
 use crate::quality::Measured;
 use crate::real::Real;
 use crate::window::Window;
@@ -46,15 +46,12 @@ impl<T: Real> Default for SteadyStateConfig<T> {
 
 impl<T: Real> SteadyStateConfig<T> {
     pub(crate) fn validate(&self) -> Result<(), ConfigError> {
-        for v in [
+        check_positive(
+            "steady_state.max_temperature_spread",
             self.max_temperature_spread,
-            self.max_ratio_spread,
-            self.max_flow_spread,
-        ] {
-            if !(T::is_finite(v) && v > T::ZERO) {
-                return Err(ConfigError::SteadyStateTolerance);
-            }
-        }
+        )?;
+        check_positive("steady_state.max_ratio_spread", self.max_ratio_spread)?;
+        check_positive("steady_state.max_flow_spread", self.max_flow_spread)?;
         Ok(())
     }
 }
@@ -307,7 +304,11 @@ mod tests {
                 ..cfg
             }
             .validate(),
-            Err(ConfigError::SteadyStateTolerance)
+            Err(ConfigError::out_of_range(
+                "steady_state.max_flow_spread",
+                0.0,
+                f64::INFINITY
+            ))
         );
     }
 }

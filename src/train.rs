@@ -7,7 +7,7 @@
 //! window samples.
 
 use crate::cooler::{evaluate_cooler_into, CoolerConfig, CoolerInputs, CoolerResult};
-use crate::error::ConfigError;
+use crate::error::{check_positive, check_range, ConfigError, Problem};
 use crate::gas::GasModel;
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
@@ -179,33 +179,49 @@ fn validate_stages<T: Real, const N: usize>(
     stages: &[StageConfig<T>; N],
     max_drop: T,
 ) -> Result<u8, ConfigError> {
-    if !(T::is_finite(max_drop) && max_drop >= T::ZERO && max_drop <= T::of(0.9)) {
-        return Err(ConfigError::MaxInterstagePressureDrop);
-    }
+    check_range("max_interstage_pressure_drop", max_drop, 0.0, 0.9)?;
     let mut compressors: u8 = 0;
     let mut seen_pump = false;
     let mut previous_discharge: Option<T> = None;
     for (i, s) in stages.iter().enumerate() {
-        let stage = u8::try_from(i).unwrap_or(u8::MAX);
         let p1 = s.design_suction_pressure.pa();
         let p2 = s.design_discharge_pressure.pa();
-        if !(T::is_finite(p1) && p1 > T::ZERO) {
-            return Err(ConfigError::DesignSuctionPressure { stage });
+        check_positive("stages.design_suction_pressure", p1).map_err(|e| e.at(i))?;
+        if !T::is_finite(p2) {
+            return Err(ConfigError::not_finite("stages.design_discharge_pressure").at(i));
         }
-        if !(T::is_finite(p2) && p2 > p1) {
-            return Err(ConfigError::DesignDischargePressure { stage });
+        if !(p2 > p1) {
+            return Err(ConfigError::new(
+                "stages.design_discharge_pressure",
+                Problem::NotAbove {
+                    other: "stages.design_suction_pressure",
+                },
+            )
+            .at(i));
         }
         if let Some(prev) = previous_discharge {
             let lowest = prev * (T::ONE - max_drop);
             if p1 > prev || p1 < lowest {
-                return Err(ConfigError::PressureChain { stage });
+                return Err(ConfigError::new(
+                    "stages.design_suction_pressure",
+                    Problem::Inconsistent {
+                        with: "previous stage's design_discharge_pressure and max_interstage_pressure_drop",
+                    },
+                )
+                .at(i));
             }
         }
         previous_discharge = Some(p2);
         match s.kind {
             StageKind::Compressor => {
                 if seen_pump {
-                    return Err(ConfigError::PumpPosition { stage });
+                    return Err(ConfigError::new(
+                        "stages.kind",
+                        Problem::Inconsistent {
+                            with: "a pump before it (pumps may only end a train)",
+                        },
+                    )
+                    .at(i));
                 }
                 compressors = compressors.saturating_add(1);
             }
@@ -214,22 +230,28 @@ fn validate_stages<T: Real, const N: usize>(
                 efficiency,
             } => {
                 seen_pump = true;
-                if !(T::is_finite(density) && density > T::ZERO) {
-                    return Err(ConfigError::PumpDensity { stage });
-                }
+                check_positive("stages.pump.density", density).map_err(|e| e.at(i))?;
                 if !(T::is_finite(efficiency) && efficiency > T::ZERO && efficiency <= T::ONE) {
-                    return Err(ConfigError::PumpEfficiency { stage });
+                    return Err(if T::is_finite(efficiency) {
+                        ConfigError::out_of_range("stages.pump.efficiency", 0.0, 1.0)
+                    } else {
+                        ConfigError::not_finite("stages.pump.efficiency")
+                    }
+                    .at(i));
                 }
             }
         }
         if let Some(c) = s.cooler {
-            if !(T::is_finite(c.coolant_cp) && c.coolant_cp > T::ZERO) {
-                return Err(ConfigError::CoolantSpecificHeat { stage });
-            }
+            check_positive("stages.cooler.coolant_cp", c.coolant_cp).map_err(|e| e.at(i))?;
         }
     }
     if compressors == 0 {
-        return Err(ConfigError::NoCompressorStage);
+        return Err(ConfigError::new(
+            "stages",
+            Problem::Inconsistent {
+                with: "the rule that a train has at least one compressor stage",
+            },
+        ));
     }
     Ok(compressors)
 }

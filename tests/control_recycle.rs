@@ -12,7 +12,7 @@
 
 use polytrope::control::{ControllerInputs, Mode, RecycleConfig, RecycleController};
 use polytrope::surge::SurgeState;
-use polytrope::{ConfigError, Measured, Quality};
+use polytrope::{Measured, Quality};
 
 const DT: f64 = 0.02;
 
@@ -150,18 +150,18 @@ fn settings_are_validated() {
     let mut cfg = config();
     cfg.integral_time = 0.0;
     assert_eq!(
-        RecycleController::new(cfg, Mode::Automatic, 0.0).err(),
-        Some(ConfigError::SurgeSetting {
-            field: "integral_time"
-        })
+        RecycleController::new(cfg, Mode::Automatic, 0.0)
+            .err()
+            .map(|e| e.field),
+        Some("recycle.integral_time")
     );
     let mut cfg = config();
     cfg.max_output = 0.0;
     assert_eq!(
-        RecycleController::new(cfg, Mode::Automatic, 0.0).err(),
-        Some(ConfigError::SurgeSetting {
-            field: "max_output"
-        })
+        RecycleController::new(cfg, Mode::Automatic, 0.0)
+            .err()
+            .map(|e| e.field),
+        Some("recycle.max_output")
     );
 }
 

@@ -11,7 +11,7 @@ use polytrope::signal::{
     Channel, ChannelConfig, Event, EventLog, FaultCode, InstrumentClass, RtdClass, SignalKind, Unit,
 };
 use polytrope::units::PressureAbs;
-use polytrope::{ConfigError, Quality};
+use polytrope::{ConfigError, Problem, Quality};
 
 fn base(signal: SignalKind<f64>, unit: Unit<f64>, lo: f64, hi: f64) -> ChannelConfig<f64> {
     ChannelConfig {
@@ -100,50 +100,65 @@ fn configuration_errors_name_the_field() {
     };
     assert_eq!(
         err(&|c| c.range_high = 0.0),
-        ConfigError::SignalRange { channel: 7 }
+        ConfigError::new(
+            "channel.range_high",
+            Problem::NotAbove {
+                other: "channel.range_low"
+            }
+        )
+        .at(7)
     );
     assert_eq!(
         err(&|c| c.range_low = f64::NAN),
-        ConfigError::SignalRange { channel: 7 }
+        ConfigError::not_finite("channel.range_low").at(7)
     );
     assert_eq!(
         err(&|c| c.signal = SignalKind::Counts {
             zero: 5.0,
             full: 5.0
         }),
-        ConfigError::SignalSpan { channel: 7 }
+        ConfigError::new(
+            "channel.signal",
+            Problem::Inconsistent {
+                with: "itself (zero and full scale are equal)"
+            }
+        )
+        .at(7)
     );
     assert_eq!(
         err(&|c| c.unit = Unit::PressureGauge {
             atmosphere: PressureAbs::from_pa(-1.0)
         }),
-        ConfigError::AtmosphericPressure { channel: 7 }
+        ConfigError::out_of_range("channel.unit.atmosphere", 0.0, f64::INFINITY).at(7)
     );
     assert_eq!(
         err(&|c| c.plausible_low = 2e9),
-        ConfigError::PlausibilityLimits { channel: 7 }
+        ConfigError::new(
+            "channel.plausible_high",
+            Problem::NotAbove {
+                other: "channel.plausible_low"
+            }
+        )
+        .at(7)
     );
     assert_eq!(
         err(&|c| c.noise_floor = -1.0),
-        ConfigError::NoiseFloor { channel: 7 }
+        ConfigError::out_of_range("channel.noise_floor", 0.0, f64::INFINITY).at(7)
     );
     assert_eq!(
         err(&|c| c.instrument = InstrumentClass::Absolute(f64::INFINITY)),
-        ConfigError::NoiseFloor { channel: 7 }
+        ConfigError::not_finite("channel.instrument").at(7)
     );
     assert_eq!(
         err(&|c| c.max_rate = 0.0),
-        ConfigError::RateLimit { channel: 7 }
+        ConfigError::out_of_range("channel.max_rate", 0.0, f64::INFINITY).at(7)
     );
     assert_eq!(
         err(&|c| c.filter_time_constant_s = -0.1),
-        ConfigError::FilterTimeConstant { channel: 7 }
+        ConfigError::out_of_range("channel.filter_time_constant_s", 0.0, f64::INFINITY).at(7)
     );
-    let msg = format!("{}", ConfigError::RateLimit { channel: 7 });
-    assert!(
-        msg.contains("channel 7") && msg.contains("max_rate"),
-        "{msg}"
-    );
+    let msg = format!("{}", err(&|c| c.max_rate = 0.0));
+    assert!(msg.contains("channel[7].max_rate"), "{msg}");
     assert!(Channel::<f64, 4, 3>::new(ChannelConfig {
         max_rate: -1.0,
         ..good

@@ -11,7 +11,7 @@
 
 use polytrope::surge::{DetectionConfig, DetectionScan, SurgeDetector};
 use polytrope::units::{Kelvin, PressureAbs};
-use polytrope::{ConfigError, Measured, Quality};
+use polytrope::{Measured, Quality};
 
 const DT: f64 = 0.01;
 
@@ -143,17 +143,13 @@ fn bad_data_blinds_without_panic_and_config_is_checked() {
     let mut c = config();
     c.trip_count = 5; // more than the 4 event slots
     assert_eq!(
-        SurgeDetector::<f64, 16, 4>::new(c).err(),
-        Some(ConfigError::SurgeSetting {
-            field: "trip_count"
-        })
+        SurgeDetector::<f64, 16, 4>::new(c).err().map(|e| e.field),
+        Some("surge_detection.trip_count")
     );
     let mut c = config();
     c.flow_dp_drop = 1.2;
     assert_eq!(
-        SurgeDetector::<f64, 16, 4>::new(c).err(),
-        Some(ConfigError::SurgeSetting {
-            field: "flow_dp_drop"
-        })
+        SurgeDetector::<f64, 16, 4>::new(c).err().map(|e| e.field),
+        Some("surge_detection.flow_dp_drop")
     );
 }

@@ -21,7 +21,7 @@ use polytrope::surge::{
     MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
 };
 use polytrope::units::{Kelvin, PressureAbs};
-use polytrope::{ConfigError, Measured, Quality, Real};
+use polytrope::{ConfigError, Measured, Problem, Quality, Real};
 use proptest::prelude::*;
 
 const RU: f64 = 8314.46261815324; // J/(kmol K), CODATA 2018 (exact)
@@ -306,25 +306,34 @@ fn table_validation_names_the_problem() {
     };
     let good = points::<f64>();
     assert_eq!(cfg(&good), None);
-    assert_eq!(cfg(&good[..1]), Some(ConfigError::SurgeLineLength));
+    assert_eq!(
+        cfg(&good[..1]).map(|e| e.problem),
+        Some(Problem::Count { min: 2, max: 4 })
+    );
     let mut five = [good[0]; 5];
     five[..4].copy_from_slice(&good);
-    assert_eq!(cfg(&five), Some(ConfigError::SurgeLineLength));
+    assert_eq!(
+        cfg(&five).map(|e| (e.field, e.problem)),
+        Some(("surge_line.points", Problem::Count { min: 2, max: 4 }))
+    );
     let mut bent = good;
     bent[2].suction_volume_flow = 1.5; // flow falls while head rises
     assert_eq!(
         cfg(&bent),
-        Some(ConfigError::SurgeLineNotMonotonic { point: 2 })
+        Some(ConfigError::new("surge_line.points", Problem::NotIncreasing).at(2))
     );
     let mut flat = good;
     flat[1].pressure_ratio = 1.55;
     assert_eq!(
         cfg(&flat),
-        Some(ConfigError::SurgeLineNotMonotonic { point: 1 })
+        Some(ConfigError::new("surge_line.points", Problem::NotIncreasing).at(1))
     );
     let mut nan = good;
     nan[3].control_margin = f64::NAN;
-    assert_eq!(cfg(&nan), Some(ConfigError::SurgeLinePoint { point: 3 }));
+    assert_eq!(
+        cfg(&nan).map(|e| (e.field, e.index)),
+        Some(("surge_line.points", Some(3)))
+    );
     let r = SurgeLine::<f64, 4>::new(&SurgeLineConfig {
         points: &good,
         map,
@@ -332,9 +341,7 @@ fn table_validation_names_the_problem() {
         flow_coefficient: C_ELEM,
     });
     assert_eq!(
-        r.err(),
-        Some(ConfigError::SurgeSetting {
-            field: "polytropic_exponent"
-        })
+        r.err().map(|e| e.field),
+        Some("surge_line.polytropic_exponent")
     );
 }

@@ -373,7 +373,7 @@ fn bad_input_exits_non_zero_with_a_message() {
                 "300K",
             ]),
             1,
-            "gas.k must be finite and > 1",
+            "gas.k: must be in [1, 3]",
         ),
         (
             with(&[

@@ -16,7 +16,7 @@
 use embedded_hal::digital::OutputPin;
 use embedded_hal::pwm::SetDutyCycle;
 
-use crate::error::ConfigError;
+use crate::error::{outside_documented_range, ConfigError};
 use crate::real::Real;
 
 /// Output scaling and pin polarity.
@@ -64,14 +64,10 @@ impl<T: Real, V: SetDutyCycle, A: OutputPin, R: OutputPin> RecycleOutputs<T, V, 
     pub fn new(config: OutputConfig<T>, valve: V, alarm: A, trip: R) -> Result<Self, ConfigError> {
         let unit = |x: T| T::is_finite(x) && x >= T::ZERO && x <= T::ONE;
         if !unit(config.signal_at_closed) {
-            return Err(ConfigError::SurgeSetting {
-                field: "signal_at_closed",
-            });
+            return Err(outside_documented_range("recycle_outputs.signal_at_closed"));
         }
         if !unit(config.signal_at_open) || config.signal_at_open == config.signal_at_closed {
-            return Err(ConfigError::SurgeSetting {
-                field: "signal_at_open",
-            });
+            return Err(outside_documented_range("recycle_outputs.signal_at_open"));
         }
         Ok(RecycleOutputs {
             config,

@@ -33,7 +33,7 @@
 //! **Caution.** Not a certified safety function (IEC 61508 / IEC 61511);
 //! tuning comes from commissioning tests on the machine.
 
-use crate::error::ConfigError;
+use crate::error::{outside_documented_range, ConfigError};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::surge::SurgeState;
@@ -131,39 +131,45 @@ impl<T: Real> RecycleController<T> {
         let fin = |x: T| T::is_finite(x);
         let unit = |x: T| fin(x) && x >= T::ZERO && x <= T::ONE;
         let checks = [
-            (fin(c.scan_period) && c.scan_period > T::ZERO, "scan_period"),
-            (fin(c.gain) && c.gain > T::ZERO, "gain"),
+            (
+                fin(c.scan_period) && c.scan_period > T::ZERO,
+                "recycle.scan_period",
+            ),
+            (fin(c.gain) && c.gain > T::ZERO, "recycle.gain"),
             (
                 fin(c.integral_time) && c.integral_time > T::ZERO,
-                "integral_time",
+                "recycle.integral_time",
             ),
             (
                 fin(c.closing_rate) && c.closing_rate > T::ZERO,
-                "closing_rate",
+                "recycle.closing_rate",
             ),
-            (unit(c.step), "step"),
+            (unit(c.step), "recycle.step"),
             (
                 unit(c.step_line_fraction) && c.step_line_fraction < T::ONE,
-                "step_line_fraction",
+                "recycle.step_line_fraction",
             ),
             (
                 fin(c.step_interval) && c.step_interval >= T::ZERO,
-                "step_interval",
+                "recycle.step_interval",
             ),
-            (unit(c.min_output) && c.min_output < T::ONE, "min_output"),
+            (
+                unit(c.min_output) && c.min_output < T::ONE,
+                "recycle.min_output",
+            ),
             (
                 unit(c.max_output) && c.max_output > c.min_output,
-                "max_output",
+                "recycle.max_output",
             ),
-            (unit(c.fail_safe_output), "fail_safe_output"),
+            (unit(c.fail_safe_output), "recycle.fail_safe_output"),
             (
                 fin(c.rate_allowance) && c.rate_allowance >= T::ZERO,
-                "rate_allowance",
+                "recycle.rate_allowance",
             ),
         ];
         for (ok, field) in checks {
             if !ok {
-                return Err(ConfigError::SurgeSetting { field });
+                return Err(outside_documented_range(field));
             }
         }
         Ok(RecycleController {

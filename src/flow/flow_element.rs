@@ -4,7 +4,7 @@
 //! expansibility and comes from the element's calibration). For nozzles,
 //! compressor-eye (inlet-bell) taps and elements outside ISO 5167.
 
-use crate::error::ConfigError;
+use crate::error::{check_positive, ConfigError};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 
@@ -18,11 +18,8 @@ pub struct FlowElement<T> {
 impl<T: Real> FlowElement<T> {
     /// A flow element with calibration `coefficient` C (m², finite, > 0).
     pub fn new(coefficient: T) -> Result<Self, ConfigError> {
-        if T::is_finite(coefficient) && coefficient > T::ZERO {
-            Ok(FlowElement { coefficient })
-        } else {
-            Err(ConfigError::FlowCoefficient)
-        }
+        check_positive("flow_element.coefficient", coefficient)?;
+        Ok(FlowElement { coefficient })
     }
 
     /// The calibration coefficient, m².

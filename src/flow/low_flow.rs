@@ -7,7 +7,7 @@
 //! check that the transmitter reads zero; a zero offset that persists is
 //! flagged ([`FaultCode::ZeroOffset`]) until a later no-flow check passes.
 
-use crate::error::ConfigError;
+use crate::error::{check_range, ConfigError};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::signal::FaultCode;
@@ -49,16 +49,18 @@ pub struct LowFlow<T> {
 impl<T: Real> LowFlow<T> {
     /// Validates the settings.
     pub fn new(config: LowFlowConfig<T>) -> Result<Self, ConfigError> {
-        let ok = |x: T| T::is_finite(x) && x >= T::ZERO;
-        if ok(config.cutoff_dp) && ok(config.zero_tolerance) {
-            Ok(LowFlow {
-                config,
-                offset_since: None,
-                zero_offset: false,
-            })
-        } else {
-            Err(ConfigError::LowFlowCutoff)
-        }
+        check_range("low_flow.cutoff_dp", config.cutoff_dp, 0.0, f64::INFINITY)?;
+        check_range(
+            "low_flow.zero_tolerance",
+            config.zero_tolerance,
+            0.0,
+            f64::INFINITY,
+        )?;
+        Ok(LowFlow {
+            config,
+            offset_since: None,
+            zero_offset: false,
+        })
     }
 
     /// `true` while a zero offset is flagged.

@@ -17,7 +17,7 @@
 
 use super::expansibility::{expansibility_valid, orifice_expansibility};
 use super::gas_density;
-use crate::error::ConfigError;
+use crate::error::{check_positive, ConfigError, Problem};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::scan::{pressure_pa, temperature_k};
@@ -190,22 +190,28 @@ impl<T: Real> Orifice<T> {
     /// is accepted (results are then uncertain); impossible geometry is an
     /// error.
     pub fn new(config: OrificeConfig<T>) -> Result<Self, ConfigError> {
-        let pos = |x: T| T::is_finite(x) && x > T::ZERO;
-        if !pos(config.pipe_diameter) {
-            return Err(ConfigError::OrificePipeDiameter);
+        check_positive("orifice.pipe_diameter", config.pipe_diameter)?;
+        check_positive("orifice.bore_diameter", config.bore_diameter)?;
+        if !(config.bore_diameter < config.pipe_diameter) {
+            return Err(ConfigError::new(
+                "orifice.pipe_diameter",
+                Problem::NotAbove {
+                    other: "orifice.bore_diameter",
+                },
+            ));
         }
-        if !(pos(config.bore_diameter) && config.bore_diameter < config.pipe_diameter) {
-            return Err(ConfigError::OrificeBoreDiameter);
+        if !T::is_finite(config.isentropic_exponent) {
+            return Err(ConfigError::not_finite("orifice.isentropic_exponent"));
         }
-        if !(T::is_finite(config.isentropic_exponent) && config.isentropic_exponent > T::ONE) {
-            return Err(ConfigError::FlowIsentropicExponent);
+        if !(config.isentropic_exponent > T::ONE) {
+            return Err(ConfigError::out_of_range(
+                "orifice.isentropic_exponent",
+                1.0,
+                f64::INFINITY,
+            ));
         }
-        if !pos(config.viscosity) {
-            return Err(ConfigError::FlowViscosity);
-        }
-        if !pos(config.gas_constant) {
-            return Err(ConfigError::FlowGasConstant);
-        }
+        check_positive("orifice.viscosity", config.viscosity)?;
+        check_positive("orifice.gas_constant", config.gas_constant)?;
         Ok(Orifice {
             config,
             beta: config.bore_diameter / config.pipe_diameter,

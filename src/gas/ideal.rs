@@ -8,7 +8,7 @@
 //! interval.
 
 use super::{builtin::GasSpec, GasModel, PathProperties, MOLAR_GAS_CONSTANT};
-use crate::error::ConfigError;
+use crate::error::{check_positive, ConfigError, Problem};
 use crate::real::Real;
 
 /// How the heat capacity is modelled.
@@ -48,23 +48,33 @@ impl<T: Real> IdealGas<T> {
         heat_capacity: HeatCapacity<T>,
         compressibility: T,
     ) -> Result<Self, ConfigError> {
-        if !(T::is_finite(molar_mass) && molar_mass > T::ZERO) {
-            return Err(ConfigError::MolarMass);
-        }
+        check_positive("gas.molar_mass", molar_mass)?;
         if !(T::is_finite(compressibility)
             && compressibility > T::ZERO
             && compressibility <= T::of(2.0))
         {
-            return Err(ConfigError::Compressibility);
+            return Err(if T::is_finite(compressibility) {
+                ConfigError::out_of_range("gas.compressibility", 0.0, 2.0)
+            } else {
+                ConfigError::not_finite("gas.compressibility")
+            });
         }
         let gas_constant = T::of(MOLAR_GAS_CONSTANT * 1.0e3) / molar_mass;
         if !T::is_finite(gas_constant) {
-            return Err(ConfigError::MolarMass);
+            return Err(ConfigError::out_of_range(
+                "gas.molar_mass",
+                0.0,
+                f64::INFINITY,
+            ));
         }
         let heat_capacity = match heat_capacity {
             HeatCapacity::ConstantK(k) => {
                 if !(T::is_finite(k) && k > T::ONE && k < T::of(3.0)) {
-                    return Err(ConfigError::HeatCapacityRatio);
+                    return Err(if T::is_finite(k) {
+                        ConfigError::out_of_range("gas.k", 1.0, 3.0)
+                    } else {
+                        ConfigError::not_finite("gas.k")
+                    });
                 }
                 HeatCapacity::ConstantK(k)
             }
@@ -77,7 +87,12 @@ impl<T: Real> IdealGas<T> {
                 let c = coefficients.map(|c| c * per_kg);
                 if !(T::is_finite(t_min) && T::is_finite(t_max) && t_min > T::ZERO && t_max > t_min)
                 {
-                    return Err(ConfigError::HeatCapacityPolynomial);
+                    return Err(ConfigError::new(
+                        "gas.cp_polynomial.t_max",
+                        Problem::NotAbove {
+                            other: "gas.cp_polynomial.t_min",
+                        },
+                    ));
                 }
                 // cp must exceed R (k > 1) and stay finite across the range.
                 let steps = 32;
@@ -87,7 +102,12 @@ impl<T: Real> IdealGas<T> {
                     let k = cp / (cp - gas_constant);
                     if !(T::is_finite(cp) && T::is_finite(k) && cp > gas_constant && k < T::of(3.0))
                     {
-                        return Err(ConfigError::HeatCapacityPolynomial);
+                        return Err(ConfigError::new(
+                            "gas.cp_polynomial.coefficients",
+                            Problem::NotAbove {
+                                other: "gas constant R (cp must exceed R)",
+                            },
+                        ));
                     }
                 }
                 HeatCapacity::Polynomial {
@@ -238,31 +258,39 @@ mod tests {
         let k = HeatCapacity::ConstantK(1.4);
         assert_eq!(
             IdealGas::<f64>::new(0.0, k, 1.0),
-            Err(ConfigError::MolarMass)
+            Err(ConfigError::out_of_range(
+                "gas.molar_mass",
+                0.0,
+                f64::INFINITY
+            ))
         );
         assert_eq!(
             IdealGas::<f64>::new(-28.0, k, 1.0),
-            Err(ConfigError::MolarMass)
+            Err(ConfigError::out_of_range(
+                "gas.molar_mass",
+                0.0,
+                f64::INFINITY
+            ))
         );
         assert_eq!(
             IdealGas::<f64>::new(f64::NAN, k, 1.0),
-            Err(ConfigError::MolarMass)
+            Err(ConfigError::not_finite("gas.molar_mass"))
         );
         assert_eq!(
             IdealGas::<f64>::new(28.0, HeatCapacity::ConstantK(1.0), 1.0),
-            Err(ConfigError::HeatCapacityRatio)
+            Err(ConfigError::out_of_range("gas.k", 1.0, 3.0))
         );
         assert_eq!(
             IdealGas::<f64>::new(28.0, HeatCapacity::ConstantK(0.9), 1.0),
-            Err(ConfigError::HeatCapacityRatio)
+            Err(ConfigError::out_of_range("gas.k", 1.0, 3.0))
         );
         assert_eq!(
             IdealGas::<f64>::new(28.0, k, 0.0),
-            Err(ConfigError::Compressibility)
+            Err(ConfigError::out_of_range("gas.compressibility", 0.0, 2.0))
         );
         assert_eq!(
             IdealGas::<f64>::new(28.0, k, f64::INFINITY),
-            Err(ConfigError::Compressibility)
+            Err(ConfigError::not_finite("gas.compressibility"))
         );
         let bad_poly = HeatCapacity::Polynomial {
             coefficients: [1.0, 0.0, 0.0, 0.0],
@@ -271,7 +299,12 @@ mod tests {
         };
         assert_eq!(
             IdealGas::<f64>::new(28.0, bad_poly, 1.0),
-            Err(ConfigError::HeatCapacityPolynomial)
+            Err(ConfigError::new(
+                "gas.cp_polynomial.coefficients",
+                Problem::NotAbove {
+                    other: "gas constant R (cp must exceed R)"
+                }
+            ))
         );
     }
 

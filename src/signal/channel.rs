@@ -9,7 +9,7 @@
 use super::ne43;
 use super::rtd_class::RtdClass;
 use super::FaultCode;
-use crate::error::ConfigError;
+use crate::error::{check_positive, check_range, ConfigError, Problem};
 use crate::real::Real;
 use crate::units::{PressureAbs, ZERO_CELSIUS_K};
 
@@ -117,43 +117,67 @@ fn finite<T: Real>(x: T) -> bool {
 impl<T: Real> ChannelConfig<T> {
     /// Checks every field; the error names the first bad one.
     pub fn validate(&self) -> Result<(), ConfigError> {
-        let channel = self.id;
-        if !(finite(self.range_low) && finite(self.range_high) && self.range_high > self.range_low)
-        {
-            return Err(ConfigError::SignalRange { channel });
+        let channel = usize::from(self.id);
+        let not_above =
+            |field, other| ConfigError::new(field, Problem::NotAbove { other }).at(channel);
+        let not_finite = |field| ConfigError::not_finite(field).at(channel);
+        for (field, v) in [
+            ("channel.range_low", self.range_low),
+            ("channel.range_high", self.range_high),
+        ] {
+            if !finite(v) {
+                return Err(not_finite(field));
+            }
+        }
+        if !(self.range_high > self.range_low) {
+            return Err(not_above("channel.range_high", "channel.range_low"));
         }
         if let SignalKind::Counts { zero, full } = self.signal {
-            if !(finite(zero) && finite(full) && zero != full) {
-                return Err(ConfigError::SignalSpan { channel });
+            if !(finite(zero) && finite(full)) {
+                return Err(not_finite("channel.signal"));
+            }
+            if zero == full {
+                return Err(ConfigError::new(
+                    "channel.signal",
+                    Problem::Inconsistent {
+                        with: "itself (zero and full scale are equal)",
+                    },
+                )
+                .at(channel));
             }
         }
         if let Unit::PressureGauge { atmosphere } = self.unit {
             let a = atmosphere.pa();
-            if !(finite(a) && a > T::ZERO) {
-                return Err(ConfigError::AtmosphericPressure { channel });
+            check_positive("channel.unit.atmosphere", a).map_err(|e| e.at(channel))?;
+        }
+        for (field, v) in [
+            ("channel.plausible_low", self.plausible_low),
+            ("channel.plausible_high", self.plausible_high),
+        ] {
+            if !finite(v) {
+                return Err(not_finite(field));
             }
         }
-        if !(finite(self.plausible_low)
-            && finite(self.plausible_high)
-            && self.plausible_high > self.plausible_low)
-        {
-            return Err(ConfigError::PlausibilityLimits { channel });
+        if !(self.plausible_high > self.plausible_low) {
+            return Err(not_above("channel.plausible_high", "channel.plausible_low"));
         }
-        let tol_ok = match self.instrument {
-            InstrumentClass::Rtd(_) => true,
+        match self.instrument {
+            InstrumentClass::Rtd(_) => {}
             InstrumentClass::FractionOfSpan(x) | InstrumentClass::Absolute(x) => {
-                finite(x) && x >= T::ZERO
+                check_range("channel.instrument", x, 0.0, f64::INFINITY)
+                    .map_err(|e| e.at(channel))?;
             }
-        };
-        if !(finite(self.noise_floor) && self.noise_floor >= T::ZERO && tol_ok) {
-            return Err(ConfigError::NoiseFloor { channel });
         }
-        if !(finite(self.max_rate) && self.max_rate > T::ZERO) {
-            return Err(ConfigError::RateLimit { channel });
-        }
-        if !(finite(self.filter_time_constant_s) && self.filter_time_constant_s >= T::ZERO) {
-            return Err(ConfigError::FilterTimeConstant { channel });
-        }
+        check_range("channel.noise_floor", self.noise_floor, 0.0, f64::INFINITY)
+            .map_err(|e| e.at(channel))?;
+        check_positive("channel.max_rate", self.max_rate).map_err(|e| e.at(channel))?;
+        check_range(
+            "channel.filter_time_constant_s",
+            self.filter_time_constant_s,
+            0.0,
+            f64::INFINITY,
+        )
+        .map_err(|e| e.at(channel))?;
         Ok(())
     }
 

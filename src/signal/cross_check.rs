@@ -18,7 +18,7 @@
 
 use super::pipeline::ChannelOutput;
 use super::FaultCode;
-use crate::error::ConfigError;
+use crate::error::{check_positive, check_range, ConfigError};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 
@@ -102,17 +102,15 @@ pub struct DischargeTemperatureConfig<T> {
 impl<T: Real> DischargeTemperatureConfig<T> {
     /// Checks the fields.
     pub fn validate(&self) -> Result<(), ConfigError> {
-        let s = self.smoothing;
-        if T::is_finite(self.tolerance_k)
-            && self.tolerance_k >= T::ZERO
-            && T::is_finite(s)
-            && s > T::ZERO
-            && s <= T::ONE
-        {
-            Ok(())
-        } else {
-            Err(ConfigError::CrossCheckTolerance)
-        }
+        check_range(
+            "cross_check.tolerance_k",
+            self.tolerance_k,
+            0.0,
+            f64::INFINITY,
+        )?;
+        check_positive("cross_check.smoothing", self.smoothing)?;
+        check_range("cross_check.smoothing", self.smoothing, 0.0, 1.0)?;
+        Ok(())
     }
 }
 

@@ -27,7 +27,7 @@
 //! decides to trip (this crate is not a certified safety function, IEC 61508 /
 //! IEC 61511).
 
-use crate::error::ConfigError;
+use crate::error::{outside_documented_range, ConfigError};
 use crate::quality::Measured;
 use crate::real::Real;
 use crate::units::{Kelvin, PressureAbs};
@@ -135,32 +135,47 @@ impl<T: Real, const W: usize, const E: usize> SurgeDetector<T, W, E> {
         let fin = |x: T| T::is_finite(x);
         let frac = |x: T| fin(x) && x > T::ZERO && x < T::ONE;
         let checks = [
-            (fin(c.scan_period) && c.scan_period > T::ZERO, "scan_period"),
-            (frac(c.flow_dp_drop), "flow_dp_drop"),
+            (
+                fin(c.scan_period) && c.scan_period > T::ZERO,
+                "surge_detection.scan_period",
+            ),
+            (frac(c.flow_dp_drop), "surge_detection.flow_dp_drop"),
             (
                 fin(c.min_flow_dp) && c.min_flow_dp >= T::ZERO,
-                "min_flow_dp",
+                "surge_detection.min_flow_dp",
             ),
-            (frac(c.discharge_pressure_drop), "discharge_pressure_drop"),
+            (
+                frac(c.discharge_pressure_drop),
+                "surge_detection.discharge_pressure_drop",
+            ),
             (
                 fin(c.suction_temperature_rise) && c.suction_temperature_rise > T::ZERO,
-                "suction_temperature_rise",
+                "surge_detection.suction_temperature_rise",
             ),
-            (fin(c.holdoff) && c.holdoff >= T::ZERO, "holdoff"),
+            (
+                fin(c.holdoff) && c.holdoff >= T::ZERO,
+                "surge_detection.holdoff",
+            ),
             (
                 fin(c.shift_per_event) && c.shift_per_event >= T::ZERO,
-                "shift_per_event",
+                "surge_detection.shift_per_event",
             ),
-            (fin(c.max_shift) && c.max_shift >= T::ZERO, "max_shift"),
+            (
+                fin(c.max_shift) && c.max_shift >= T::ZERO,
+                "surge_detection.max_shift",
+            ),
             (
                 c.trip_count >= 1 && usize::from(c.trip_count) <= E,
-                "trip_count",
+                "surge_detection.trip_count",
             ),
-            (fin(c.trip_window) && c.trip_window > T::ZERO, "trip_window"),
+            (
+                fin(c.trip_window) && c.trip_window > T::ZERO,
+                "surge_detection.trip_window",
+            ),
         ];
         for (ok, field) in checks {
             if !ok {
-                return Err(ConfigError::SurgeSetting { field });
+                return Err(outside_documented_range(field));
             }
         }
         Ok(SurgeDetector {

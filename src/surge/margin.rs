@@ -24,7 +24,7 @@
 
 use super::coordinates::{reduced_flow_squared, reduced_head, signed_sqrt};
 use super::surge_line::SurgeLine;
-use crate::error::ConfigError;
+use crate::error::{outside_documented_range, ConfigError};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::units::PressureAbs;
@@ -108,14 +108,12 @@ impl<T: Real, const N: usize, const W: usize> SurgeMonitor<T, N, W> {
     pub fn new(line: SurgeLine<T, N>, config: MonitorConfig<T>) -> Result<Self, ConfigError> {
         const { assert!(W >= 2, "the rate window needs at least 2 scans") };
         if !(T::is_finite(config.scan_period) && config.scan_period > T::ZERO) {
-            return Err(ConfigError::SurgeSetting {
-                field: "scan_period",
-            });
+            return Err(outside_documented_range("surge_monitor.scan_period"));
         }
         if !(T::is_finite(config.time_to_surge_horizon) && config.time_to_surge_horizon > T::ZERO) {
-            return Err(ConfigError::SurgeSetting {
-                field: "time_to_surge_horizon",
-            });
+            return Err(outside_documented_range(
+                "surge_monitor.time_to_surge_horizon",
+            ));
         }
         Ok(SurgeMonitor {
             line,

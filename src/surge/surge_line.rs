@@ -29,7 +29,7 @@ use heapless::Vec;
 use super::coordinates::{
     reduced_flow_squared_from_volume_flow, reduced_head, reduced_speed, sigma_from_exponent, z_r_t,
 };
-use crate::error::ConfigError;
+use crate::error::{outside_documented_range, ConfigError, Problem};
 use crate::quality::Quality;
 use crate::real::Real;
 use crate::units::{Kelvin, PressureAbs};
@@ -120,36 +120,46 @@ fn finite_pos<T: Real>(x: T) -> bool {
 impl<T: Real, const N: usize> SurgeLine<T, N> {
     /// Transforms and validates the map's surge points.
     ///
-    /// Errors: [`ConfigError::SurgeLineLength`] (fewer than 2 or more than
-    /// `N` points), [`ConfigError::SurgeLinePoint`],
-    /// [`ConfigError::SurgeLineNotMonotonic`] (speed, reduced head and reduced
-    /// flow must all rise strictly), [`ConfigError::SurgeSetting`] (map
-    /// conditions, exponent, flow coefficient).
+    /// Errors name `surge_line.points` ([`Problem::Count`]: fewer than 2 or
+    /// more than `N` points; [`Problem::NotIncreasing`]: speed, reduced head
+    /// and reduced flow must all rise strictly; otherwise a point out of
+    /// range), or the map conditions, exponent and flow coefficient.
     pub fn new(config: &SurgeLineConfig<'_, T>) -> Result<Self, ConfigError> {
         const { assert!(N >= 2, "a surge line needs room for 2 points") };
-        let bad = |field| Err(ConfigError::SurgeSetting { field });
+        let bad = |field| Err(outside_documented_range(field));
         let m = &config.map;
         if !finite_pos(m.suction_pressure.pa()) {
-            return bad("map.suction_pressure");
+            return bad("surge_line.map.suction_pressure");
         }
         if !finite_pos(m.suction_temperature.kelvin()) {
-            return bad("map.suction_temperature");
+            return bad("surge_line.map.suction_temperature");
         }
         if !finite_pos(m.molar_mass) {
-            return bad("map.molar_mass");
+            return bad("surge_line.map.molar_mass");
         }
         if !(finite_pos(m.compressibility) && m.compressibility <= T::of(2.0)) {
-            return bad("map.compressibility");
+            return bad("surge_line.map.compressibility");
         }
         let n = config.polytropic_exponent;
         if !(T::is_finite(n) && n > T::ONE && n < T::of(10.0)) {
-            return bad("polytropic_exponent");
+            return bad("surge_line.polytropic_exponent");
         }
         if !finite_pos(config.flow_coefficient) {
-            return bad("flow_coefficient");
+            return bad("surge_line.flow_coefficient");
         }
+        let count = ConfigError::new(
+            "surge_line.points",
+            Problem::Count {
+                min: 2,
+                max: if N > u16::MAX as usize {
+                    u16::MAX
+                } else {
+                    N as u16
+                },
+            },
+        );
         if config.points.len() < 2 || config.points.len() > N {
-            return Err(ConfigError::SurgeLineLength);
+            return Err(count);
         }
         let sigma = sigma_from_exponent(n);
         let zrt = z_r_t(
@@ -159,7 +169,6 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
         );
         let mut points = Vec::new();
         for (i, p) in config.points.iter().enumerate() {
-            let idx = u8::try_from(i).unwrap_or(u8::MAX);
             let ok = finite_pos(p.speed_rpm)
                 && finite_pos(p.suction_volume_flow)
                 && T::is_finite(p.pressure_ratio)
@@ -168,7 +177,7 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
                 && p.control_margin >= T::ZERO
                 && p.control_margin < T::ONE;
             if !ok {
-                return Err(ConfigError::SurgeLinePoint { point: idx });
+                return Err(outside_documented_range("surge_line.points").at(i));
             }
             let r = ReducedPoint {
                 reduced_head: reduced_head(p.pressure_ratio, sigma),
@@ -181,7 +190,7 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
                 reduced_speed: reduced_speed(p.speed_rpm, zrt),
             };
             if !(finite_pos(r.reduced_head) && finite_pos(r.reduced_flow_squared)) {
-                return Err(ConfigError::SurgeLinePoint { point: idx });
+                return Err(outside_documented_range("surge_line.points").at(i));
             }
             if let Some(prev) = points.last() {
                 let prev: &ReducedPoint<T> = prev;
@@ -189,11 +198,13 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
                     && r.reduced_flow_squared > prev.reduced_flow_squared
                     && r.reduced_speed > prev.reduced_speed)
                 {
-                    return Err(ConfigError::SurgeLineNotMonotonic { point: idx });
+                    return Err(
+                        ConfigError::new("surge_line.points", Problem::NotIncreasing).at(i),
+                    );
                 }
             }
             if points.push(r).is_err() {
-                return Err(ConfigError::SurgeLineLength);
+                return Err(count);
             }
         }
         Ok(SurgeLine { points, sigma })
