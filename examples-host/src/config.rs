@@ -12,6 +12,7 @@ use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
 use polytrope::cooler::CoolerConfig;
+use polytrope::error::Problem;
 use polytrope::flow::orifice::{OrificeConfig, TapType};
 use polytrope::gas::{GasSpec, HeatCapacity, IdealGas, BUILTIN_GASES};
 use polytrope::steady::SteadyStateConfig;
@@ -956,102 +957,108 @@ impl Loaded {
     /// message (`stage` gives the stage for surge and flow-element errors).
     pub fn kernel_error(&self, e: &ConfigError, stage: Option<usize>) -> FileError {
         let (key, why) = kernel_key(self, e, stage);
-        self.error(
-            &key,
-            format!("{why} (the kernel refused it: {})", problem_text(e)),
-        )
+        self.error(&key, format!("{why} (refused by the kernel)"))
     }
 }
 
-/// The file key for a kernel error, and what the key should be.
+/// The file key for a kernel error (`field` path + `index`, see
+/// `polytrope::error::ConfigError`), and what is wrong in the file's terms.
 pub fn kernel_key(l: &Loaded, e: &ConfigError, stage: Option<usize>) -> (String, String) {
     let (field, index) = kernel_path(e);
-    let st = |k: &str| format!("stage[{}].{k}", index.or(stage).unwrap_or(0));
-    let surge = |k: &str| format!("stage[{}].surge.{k}", stage.unwrap_or(0));
+    (file_key(l, field, index, stage), problem_text(l, e, stage))
+}
+
+/// The train-file key of a kernel field path.
+fn file_key(l: &Loaded, field: &str, index: Option<usize>, stage: Option<usize>) -> String {
+    let i = index.or(stage).unwrap_or(0);
+    let st = |k: &str| format!("stage[{i}].{k}");
+    let sg = |k: &str| format!("stage[{}].surge.{k}", stage.unwrap_or(0));
+    let fe = |k: &str| format!("stage[{}].flow_element.{k}", stage.unwrap_or(0));
     let custom = l.file.gas.name.is_none();
-    let (key, why): (String, &str) = match field {
-        "gas.molar_mass" if custom => ("gas.molar_mass_kg_per_kmol".into(), "a positive molar mass in kg/kmol"),
-        "gas.molar_mass" => ("gas.name".into(), "a gas with a positive molar mass"),
-        "gas.k" | "gas.heat_capacity_ratio" => ("gas.heat_capacity_ratio".into(), "a heat-capacity ratio above 1 and below 3"),
-        "gas.cp_polynomial" => ("gas.heat_capacity".into(), "a cp polynomial with positive cp and k above 1 over its range"),
-        "gas.compressibility" => ("gas.compressibility".into(), "a compressibility factor in (0, 2]"),
-        "stages.design_suction_pressure" => (st("design_suction"), "a finite positive design suction pressure"),
-        "stages.design_discharge_pressure" => (st("design_discharge"), "a design discharge pressure above the design suction pressure"),
-        "stages.pressure_chain" => (st("design_suction"), "a design suction pressure at or below the previous stage's design discharge, and not lower than train.max_interstage_pressure_drop allows"),
-        "max_interstage_pressure_drop" => ("train.max_interstage_pressure_drop".into(), "a fraction in [0, 0.9]"),
-        "stages.density" => (st("density_kg_per_m3"), "a positive liquid density in kg/m3"),
-        "stages.efficiency" => (st("efficiency"), "an efficiency in (0, 1]"),
-        "stages.kind" => (st("kind"), "pumps only at the end of the train"),
-        "stages.cooler.coolant_cp" => (st("cooler.coolant_specific_heat_J_per_kg_K"), "a positive coolant specific heat in J/(kg K)"),
-        "steady_state" => ("steady_state".into(), "positive tolerances"),
-        "stages" => ("stage".into(), "at least one compressor stage"),
-        "surge_line.points" => (
-            format!("stage[{}].surge.points[{}]", stage.unwrap_or(0), index.unwrap_or(0)),
-            "a point with positive speed and flow, pressure ratio above 1, control margin in [0, 1), each above the previous point in speed, head and flow",
-        ),
-        "surge_line.count" => (surge("points"), "2 to 8 surge points"),
-        "map.suction_pressure" => (surge("map_suction_pressure"), "a positive absolute pressure"),
-        "map.suction_temperature" => (surge("map_suction_temperature"), "a positive temperature"),
-        "map.molar_mass" => (surge("map_molar_mass_kg_per_kmol"), "a positive molar mass"),
-        "map.compressibility" => (surge("map_compressibility"), "a compressibility in (0, 2]"),
-        "polytropic_exponent" => (surge("polytropic_exponent"), "an exponent above 1 and below 10"),
-        "flow_coefficient" => (surge("flow_coefficient_m2"), "a positive flow coefficient in m2"),
-        "time_to_surge_horizon" => (surge("time_to_surge_horizon_s"), "a positive time in s"),
-        "orifice.pipe_diameter" => (format!("stage[{}].flow_element.pipe_diameter_mm", stage.unwrap_or(0)), "a positive pipe diameter"),
-        "orifice.bore_diameter" => (format!("stage[{}].flow_element.bore_diameter_mm", stage.unwrap_or(0)), "a bore below the pipe diameter"),
-        "flow.viscosity" => (format!("stage[{}].flow_element.viscosity_Pa_s", stage.unwrap_or(0)), "a positive viscosity in Pa s"),
-        other => (
-            match stage {
-                Some(s) => format!("stage[{s}]"),
-                None => String::new(),
-            },
-            // Unmapped: say which setting in plain words rather than a kernel path.
-            if other.contains("scan_period") { "a positive scan period" } else { "a value in the stated range" },
-        ),
-    };
-    (key, format!("needs {why}"))
+    match field {
+        "gas.molar_mass" if custom => "gas.molar_mass_kg_per_kmol".into(),
+        "gas.molar_mass" => "gas.name".into(),
+        "gas.k" if custom => "gas.heat_capacity_ratio".into(),
+        "gas.k" => "gas.name".into(),
+        f if f.starts_with("gas.cp_polynomial") => "gas.heat_capacity".into(),
+        "gas.compressibility" => "gas.compressibility".into(),
+        "stages.design_suction_pressure" => st("design_suction"),
+        "stages.design_discharge_pressure" => st("design_discharge"),
+        "stages.pump.density" => st("density_kg_per_m3"),
+        "stages.pump.efficiency" => st("efficiency"),
+        "stages.kind" => st("kind"),
+        "stages.cooler.coolant_cp" => {
+            if l.file
+                .stages
+                .get(i)
+                .and_then(|s| s.cooler.as_ref())
+                .is_some_and(|c| c.coolant_specific_heat.is_some())
+            {
+                st("cooler.coolant_specific_heat_J_per_kg_K")
+            } else {
+                "coolant.specific_heat_J_per_kg_K".into()
+            }
+        }
+        "stages" => "stage".into(),
+        "max_interstage_pressure_drop" => "train.max_interstage_pressure_drop".into(),
+        "steady_state.max_temperature_spread" => "steady_state.max_temperature_spread_K".into(),
+        "steady_state.max_ratio_spread" => "steady_state.max_ratio_spread".into(),
+        "steady_state.max_flow_spread" => "steady_state.max_flow_spread".into(),
+        "surge_line.points" => match index {
+            Some(j) => format!("stage[{}].surge.points[{j}]", stage.unwrap_or(0)),
+            None => sg("points"),
+        },
+        "surge_line.map.suction_pressure" => sg("map_suction_pressure"),
+        "surge_line.map.suction_temperature" => sg("map_suction_temperature"),
+        "surge_line.map.molar_mass" => sg("map_molar_mass_kg_per_kmol"),
+        "surge_line.map.compressibility" => sg("map_compressibility"),
+        "surge_line.polytropic_exponent" => sg("polytropic_exponent"),
+        "surge_line.flow_coefficient" => sg("flow_coefficient_m2"),
+        "surge_monitor.time_to_surge_horizon" => sg("time_to_surge_horizon_s"),
+        "orifice.pipe_diameter" => fe("pipe_diameter_mm"),
+        "orifice.bore_diameter" => fe("bore_diameter_mm"),
+        "orifice.viscosity" => fe("viscosity_Pa_s"),
+        "orifice.isentropic_exponent" | "orifice.gas_constant" => "gas".into(),
+        // Not a setting of the file (the host sets it): name the nearest section.
+        _ => match stage {
+            Some(s) => format!("stage[{s}]"),
+            None => "train".into(),
+        },
+    }
 }
 
 /// The kernel's field path and index of an error.
-///
-/// Shim until the one `ConfigError { field, index, problem }` shape lands:
-/// maps today's variants onto the same dotted paths.
 pub fn kernel_path(e: &ConfigError) -> (&'static str, Option<usize>) {
-    match *e {
-        ConfigError::MolarMass => ("gas.molar_mass", None),
-        ConfigError::HeatCapacityRatio => ("gas.k", None),
-        ConfigError::HeatCapacityPolynomial => ("gas.cp_polynomial", None),
-        ConfigError::Compressibility => ("gas.compressibility", None),
-        ConfigError::DesignSuctionPressure { stage } => {
-            ("stages.design_suction_pressure", Some(stage.into()))
-        }
-        ConfigError::DesignDischargePressure { stage } => {
-            ("stages.design_discharge_pressure", Some(stage.into()))
-        }
-        ConfigError::PressureChain { stage } => ("stages.pressure_chain", Some(stage.into())),
-        ConfigError::MaxInterstagePressureDrop => ("max_interstage_pressure_drop", None),
-        ConfigError::PumpDensity { stage } => ("stages.density", Some(stage.into())),
-        ConfigError::PumpEfficiency { stage } => ("stages.efficiency", Some(stage.into())),
-        ConfigError::PumpPosition { stage } => ("stages.kind", Some(stage.into())),
-        ConfigError::CoolantSpecificHeat { stage } => {
-            ("stages.cooler.coolant_cp", Some(stage.into()))
-        }
-        ConfigError::SteadyStateTolerance => ("steady_state", None),
-        ConfigError::NoCompressorStage => ("stages", None),
-        ConfigError::SurgeLineLength => ("surge_line.count", None),
-        ConfigError::SurgeLinePoint { point } | ConfigError::SurgeLineNotMonotonic { point } => {
-            ("surge_line.points", Some(point.into()))
-        }
-        ConfigError::SurgeSetting { field } => (field, None),
-        ConfigError::OrificePipeDiameter => ("orifice.pipe_diameter", None),
-        ConfigError::OrificeBoreDiameter => ("orifice.bore_diameter", None),
-        ConfigError::FlowViscosity => ("flow.viscosity", None),
-        _ => ("", None),
-    }
+    (e.field, e.index.map(usize::from))
 }
 
-fn problem_text(e: &ConfigError) -> String {
-    e.to_string()
+/// What is wrong, in the file's terms (kernel ranges are in SI units).
+fn problem_text(l: &Loaded, e: &ConfigError, stage: Option<usize>) -> String {
+    let other = |f: &str| {
+        if f.contains('.') {
+            format!("`{}`", file_key(l, f, kernel_path(e).1, stage))
+        } else {
+            f.to_string()
+        }
+    };
+    match e.problem {
+        Problem::NotFinite => "must be a finite number".into(),
+        Problem::OutOfRange { min, max } => {
+            if max.is_infinite() {
+                format!("must be above {min} (in SI units: Pa, K, kg/kmol, ...)")
+            } else {
+                format!("must lie in [{min}, {max}]")
+            }
+        }
+        Problem::NotAbove { other: o } => format!("must be above {}", other(o)),
+        Problem::NotIncreasing => {
+            "must rise above the previous point (in speed, reduced head and reduced flow)".into()
+        }
+        Problem::Count { min, max } => format!("needs {min} to {max} entries"),
+        Problem::Inconsistent { with } => format!("conflicts with {}", other(with)),
+        Problem::Unknown => "is not known".into(),
+        _ => format!("is refused ({e})"),
+    }
 }
 
 #[cfg(test)]

@@ -93,12 +93,13 @@ pub fn run(a: &OrificeArgs) -> Result<String, CliError> {
     })
     .map_err(|e| {
         let (opt, why) = match config::kernel_path(&e).0 {
+            "orifice.pipe_diameter" if matches!(e.problem, polytrope::Problem::NotAbove { .. }) => {
+                ("pipe-mm", "a pipe diameter above --bore-mm")
+            }
             "orifice.pipe_diameter" => ("pipe-mm", "a positive pipe diameter"),
             "orifice.bore_diameter" => ("bore-mm", "a bore above 0 and below the pipe diameter"),
-            "flow.viscosity" => ("viscosity", "a positive viscosity in Pa s"),
-            _ if a.kappa.is_some_and(|k| k.is_nan() || k <= 1.0) => {
-                ("kappa", "an isentropic exponent above 1")
-            }
+            "orifice.viscosity" => ("viscosity", "a positive viscosity in Pa s"),
+            "orifice.isentropic_exponent" => ("kappa", "an isentropic exponent above 1"),
             _ => ("gas", "a valid gas"),
         };
         CliError::Input(format!("--{opt}: needs {why}"))

@@ -232,7 +232,7 @@ fn train_file_errors_name_file_line_and_key() {
         (
             "order.toml",
             &AIR1.replace("\"9 bara\"", "\"0.5 bara\""),
-            &["order.toml:12", "stage[0].design_discharge", "above the design suction"],
+            &["order.toml:12", "stage[0].design_discharge", "must be above `stage[0].design_suction`"],
         ),
         (
             "gas.toml",
@@ -242,7 +242,7 @@ fn train_file_errors_name_file_line_and_key() {
         (
             "k.toml",
             &AIR1.replace("heat_capacity_ratio = 1.4", "heat_capacity_ratio = 0.9"),
-            &["k.toml:8", "gas.heat_capacity_ratio", "above 1"],
+            &["k.toml:8", "gas.heat_capacity_ratio", "must lie in [1, 3]"],
         ),
         (
             "kind.toml",
@@ -259,6 +259,28 @@ fn train_file_errors_name_file_line_and_key() {
             assert!(msg.contains(w), "{name}: expected '{w}' in {msg}");
         }
     }
+    // A kernel error on a surge point comes back as the file's key and line.
+    let f = dir.join("surge.toml");
+    ok(&["new-train", "--stages", "2", "-o", s(&f)]);
+    let text = std::fs::read_to_string(&f).unwrap();
+    let line = text
+        .lines()
+        .position(|l| l.contains("speed_rpm = 10500"))
+        .unwrap()
+        + 1;
+    std::fs::write(
+        &f,
+        text.replace("pressure_ratio = 2.05", "pressure_ratio = 1.60"),
+    )
+    .unwrap();
+    let (code, msg) = fails(&["check", s(&f)]);
+    assert_eq!(code, 1);
+    assert!(
+        msg.contains(&format!(
+            "surge.toml:{line}: stage[0].surge.points[1]: must rise"
+        )),
+        "{msg}"
+    );
     let (code, msg) = fails(&["check", "/nonexistent/train.toml"]);
     assert_eq!(code, 1);
     assert!(msg.contains("cannot read"), "{msg}");
