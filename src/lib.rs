@@ -59,7 +59,8 @@
 //! # Ok::<(), polytrope::ConfigError>(())
 //! ```
 //!
-//! Module map: [`real`] (the f32/f64 seam), [`units`], [`quality`],
+//! Module map: [`real`] (the f32/f64 seam), [`config_blob`] (the
+//! versioned, checksummed device configuration blob), [`units`], [`quality`],
 //! [`error`], [`gas`] (gas models), [`compression`] (ideal heads),
 //! [`stage`] (compressor and pump), [`rating`] (performance from an
 //! assumed efficiency), [`steady`], [`cooler`], [`staging`]
@@ -77,6 +78,7 @@
 extern crate std;
 
 pub mod compression;
+pub mod config_blob;
 pub mod control;
 pub mod cooler;
 pub mod demo;
