@@ -154,6 +154,8 @@ pub enum Cmd {
     Rate(crate::rating::RateArgs),
     /// ISO 5167-2 orifice-plate mass flow as a desk calculation.
     Orifice(crate::orifice_cmd::OrificeArgs),
+    /// Write the device configuration blob of a train file (versioned, checksummed).
+    Blob(crate::blob::BlobArgs),
 }
 
 /// Options of `demo`.

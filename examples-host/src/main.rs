@@ -29,6 +29,7 @@ macro_rules! row {
     };
 }
 
+mod blob;
 mod check;
 mod cli;
 mod config;
@@ -82,6 +83,7 @@ fn dispatch(cli: &Cli) -> Result<String, CliError> {
         Cmd::Replay(a) => replay::run(a),
         Cmd::Rate(a) => rating::run(a),
         Cmd::Orifice(a) => orifice_cmd::run(a),
+        Cmd::Blob(a) => blob::run(a),
     }
 }
 

@@ -102,6 +102,15 @@ fn starter_files_round_trip_through_check_and_evaluate() {
         }
         assert_eq!(d.at("coolers").arr().len(), n as usize);
     }
+    // Device blobs: the kernel decodes each to the host's configuration.
+    for n in [1u32, 3, 8] {
+        let f = dir.join(format!("t{n}.toml"));
+        let b = dir.join(format!("t{n}.bin"));
+        let out = ok(&["blob", s(&f), "-o", s(&b)]);
+        assert!(out.contains("same configuration"), "{out}");
+        let len = std::fs::metadata(&b).unwrap().len();
+        assert!((100..=256).contains(&len), "{len}");
+    }
     // The demo train file passes check too, and refuses to be overwritten.
     let f = dir.join("demo.toml");
     ok(&["new-train", "--demo", "-o", s(&f)]);
