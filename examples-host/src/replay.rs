@@ -975,6 +975,7 @@ pub fn summary(l: &Loaded, a: &ReplayArgs, o: &Outcome) -> (String, serde_json::
     };
     let mut stages_json = Vec::new();
     let mut events: Vec<(f64, String)> = Vec::new();
+    let mut after = String::new();
     t.push_str(&format!(
         "\nTrends: baseline = first {baseline} rows, compared with the last {baseline} rows \
          (efficiency only at steady state with good quality).\n"
@@ -1030,7 +1031,7 @@ pub fn summary(l: &Loaded, a: &ReplayArgs, o: &Outcome) -> (String, serde_json::
                 .sum();
             if let Some((k, m)) = worst {
                 let _ = writeln!(
-                    t,
+                    after,
                     "S{} surge margin: worst {:.4} at t = {} s (line {}); {} s below the control line.",
                     i + 1,
                     m,
@@ -1083,7 +1084,7 @@ pub fn summary(l: &Loaded, a: &ReplayArgs, o: &Outcome) -> (String, serde_json::
                 .map(|(k, x)| x * dt(k))
                 .sum();
             let _ = writeln!(
-                t,
+                after,
                 "S{} recycle: mean {} W, {} J over the log.",
                 i + 1,
                 sig(r),
@@ -1095,6 +1096,10 @@ pub fn summary(l: &Loaded, a: &ReplayArgs, o: &Outcome) -> (String, serde_json::
         stages_json.push(sj);
     }
     g.render(&mut t);
+    if !after.is_empty() {
+        t.push('\n');
+        t.push_str(&after);
+    }
     events.sort_by(|a, b| a.0.total_cmp(&b.0));
     t.push_str(&format!("\nEvents ({}):\n", events.len()));
     for (_, e) in events.iter().take(30) {
