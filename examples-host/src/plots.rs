@@ -507,6 +507,7 @@ pub fn demo_plots(dir: &Path) -> Result<Vec<PathBuf>, CliError> {
         train: polytrope::demo::train::<f32>()?,
         monitors: vec![None; polytrope::demo::STAGES],
         extra: vec![crate::replay::Extra::default(); polytrope::demo::STAGES],
+        orifices: vec![None; polytrope::demo::STAGES],
     };
     let mut s = Series {
         stages: vec![crate::replay::StageSeries::default(); polytrope::demo::STAGES],

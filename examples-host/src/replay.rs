@@ -17,6 +17,8 @@ use std::time::Instant;
 
 use clap::{Args, ValueEnum};
 use polytrope::control::recycle_power::recycle_power;
+use polytrope::flow::orifice::OrificeInputs;
+use polytrope::flow::Orifice;
 use polytrope::train::Snapshot;
 use polytrope::{Measured, Quality, Real};
 
@@ -445,6 +447,9 @@ pub struct Lane<T: Real, const N: usize> {
     pub monitors: Vec<Option<Monitor<T>>>,
     /// Per-stage extras of the last scan.
     pub extra: Vec<Extra>,
+    /// Orifices (`[stage.flow_element]`) that give the mass flow of a stage
+    /// without a mapped `mass_flow` reading, from its flow differential pressure.
+    pub orifices: Vec<Option<Orifice<T>>>,
 }
 
 impl<T: Real, const N: usize> Lane<T, N> {
@@ -454,16 +459,52 @@ impl<T: Real, const N: usize> Lane<T, N> {
         for i in 0..N {
             monitors.push(surgemap::monitor::<T>(l, i, scan_period)?);
         }
+        let mut orifices = Vec::new();
+        for i in 0..N {
+            let mapped = |r: &str| {
+                l.file
+                    .stages
+                    .get(i)
+                    .is_some_and(|s| s.readings.contains_key(r))
+            };
+            orifices.push(match l.orifice_config::<T>(i) {
+                Some(cfg) if !mapped("mass_flow") && mapped("flow_differential_pressure") => Some(
+                    Orifice::new(cfg).map_err(|e| CliError::from(l.kernel_error(&e, Some(i))))?,
+                ),
+                _ => None,
+            });
+        }
         Ok(Lane {
             train: train_any::build::<T, N>(l)?,
             monitors,
             extra: vec![Extra::default(); N],
+            orifices,
         })
     }
 
     /// One scan.
     pub fn step(&mut self, l: &Loaded, row: &Row) {
-        let scan = train_any::scan::<T, N>(l, row);
+        let mut scan = train_any::scan::<T, N>(l, row);
+        for (i, (st, orifice)) in scan.stages.iter_mut().zip(&self.orifices).enumerate() {
+            if let Some(o) = orifice {
+                let z = st
+                    .compressibility
+                    .unwrap_or(Measured::good(self.train.config().gas.compressibility()));
+                let dp = match row.get(i).and_then(|r| r.get(ix::FLOW_DP)) {
+                    Some(Cell::Value(v)) => Measured::good(T::of(*v)),
+                    _ => Measured::bad(),
+                };
+                st.mass_flow = Some(
+                    o.evaluate(&OrificeInputs {
+                        differential_pressure: dp,
+                        upstream_pressure: st.suction_pressure,
+                        upstream_temperature: st.suction_temperature,
+                        compressibility: z,
+                    })
+                    .mass_flow,
+                );
+            }
+        }
         self.train.update(&scan);
         let snap = self.train.snapshot();
         for (i, (mon, ex)) in self
