@@ -127,12 +127,12 @@ fn report<T: Real, const N: usize>(
     row: &Row,
     a: &EvaluateArgs,
 ) -> Result<String, CliError> {
-    let mut train = train_any::build::<T, N>(l)?;
-    let scan = train_any::scan::<T, N>(l, row);
+    let mut lane = crate::replay::Lane::<T, N>::new(l, 1.0)?;
+    let scan = lane.scan(l, row);
     for _ in 0..a.scans {
-        train.update(&scan);
+        lane.step(l, row);
     }
-    let snap = train.snapshot();
+    let snap = lane.train.snapshot();
     let parts = crate::demo::split(&scan.stages, snap);
     let scenario = format!(
         "Train file {}: {}. Readings as given; unmapped readings are bad inputs.",

@@ -484,6 +484,13 @@ impl<T: Real, const N: usize> Lane<T, N> {
 
     /// One scan.
     pub fn step(&mut self, l: &Loaded, row: &Row) {
+        let scan = self.scan(l, row);
+        self.train.update(&scan);
+        self.margins(row);
+    }
+
+    /// The kernel scan of a row, with orifice flows where configured.
+    pub fn scan(&self, l: &Loaded, row: &Row) -> polytrope::scan::Scan<T, N> {
         let mut scan = train_any::scan::<T, N>(l, row);
         for (i, (st, orifice)) in scan.stages.iter_mut().zip(&self.orifices).enumerate() {
             if let Some(o) = orifice {
@@ -505,7 +512,11 @@ impl<T: Real, const N: usize> Lane<T, N> {
                 );
             }
         }
-        self.train.update(&scan);
+        scan
+    }
+
+    /// Surge margins and recycle power of the last scan.
+    fn margins(&mut self, row: &Row) {
         let snap = self.train.snapshot();
         for (i, (mon, ex)) in self
             .monitors
