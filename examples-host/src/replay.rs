@@ -17,14 +17,15 @@ use std::time::Instant;
 
 use clap::{Args, ValueEnum};
 use polytrope::control::recycle_power::recycle_power;
+use polytrope::fields::{FieldValue, Group, ResultFields};
 use polytrope::flow::orifice::OrificeInputs;
 use polytrope::flow::Orifice;
+use polytrope::staging::InterstagePressure;
 use polytrope::train::Snapshot;
 use polytrope::{Measured, Quality, Real};
 
 use crate::cli::CliError;
 use crate::config::{self, Loaded, ReadingKind, READINGS};
-use crate::keys as k;
 use crate::out;
 use crate::surgemap::{self, Monitor};
 use crate::train_any::{self, ix, Cell, HostTrain, Row, StagesJob, READING_COUNT};
@@ -320,114 +321,73 @@ pub struct Extra {
     pub recycle: Option<(f64, Quality)>,
 }
 
-/// Calls `f(prefix, stage number, key, value)` for every result column of
-/// one snapshot, in a fixed order given by the train's layout.
+/// Calls `f(prefix, number, key, value, quality)` for every result column of
+/// one snapshot: the kernel's field list (`Snapshot::visit_groups`, keys
+/// with their SI unit suffix) by group (`s<i>` stage, `c<i>` cooler after
+/// stage i, `train` totals, `i<i>` interstage pressure after stage i), then
+/// the host's surge-margin and recycle columns per stage. Flags and counts
+/// are written as numbers; condition names (tags) are not columns.
 pub fn visit<T: Real, const N: usize>(
     snap: &Snapshot<T, N>,
     extra: &[Extra],
     f: &mut dyn FnMut(&'static str, usize, &'static str, f64, Quality),
 ) {
-    fn put<T: Real>(
-        f: &mut dyn FnMut(&'static str, usize, &'static str, f64, Quality),
-        p: &'static str,
-        i: usize,
-        key: &'static str,
-        v: Measured<T>,
-    ) {
-        f(p, i, key, v.value.to_f64(), v.quality);
+    snap.visit_groups(&mut |g, spec, value| {
+        let (p, n) = match g {
+            Group::Stage(i) => ("s", usize::from(i) + 1),
+            Group::Cooler(i) => ("c", usize::from(i) + 1),
+            Group::Totals => ("train", 0),
+            // Interstage pressures below, one fixed set of columns per scan.
+            _ => return,
+        };
+        match value {
+            FieldValue::Real(m) => f(p, n, spec.key, m.value.to_f64(), m.quality),
+            FieldValue::Plain(x) => f(p, n, spec.key, x.to_f64(), Quality::Good),
+            FieldValue::Flag(b) => f(p, n, spec.key, if b { 1.0 } else { 0.0 }, Quality::Good),
+            FieldValue::Count(c) => f(p, n, spec.key, f64::from(c), Quality::Good),
+            _ => {}
+        }
+    });
+    // Interstage pressure after each compressor stage but the last: the
+    // kernel has it only when its references are usable; bad otherwise.
+    let last = usize::from(snap.totals.compressor_stages).saturating_sub(1);
+    for (i, p) in snap.interstage.iter().enumerate().take(last) {
+        match p {
+            Some(p) => p.visit_fields(&mut |spec, value| {
+                if let Some(m) = value.measured() {
+                    f("i", i + 1, spec.key, m.value.to_f64(), m.quality);
+                }
+            }),
+            None => {
+                for spec in <InterstagePressure<T> as ResultFields<T>>::FIELDS {
+                    f("i", i + 1, spec.key, 0.0, Quality::Bad);
+                }
+            }
+        }
     }
-    for (i, st) in snap.stages.iter().enumerate() {
+    for (i, e) in extra.iter().enumerate() {
         let n = i + 1;
-        if let Some(c) = st.compressor() {
-            put(f, "s", n, k::PRESSURE_RATIO.name, c.pressure_ratio);
-            put(
-                f,
-                "s",
-                n,
-                k::ISENTROPIC_T2.name,
-                c.isentropic_discharge_temperature,
-            );
-            put(f, "s", n, k::ISENTROPIC_HEAD.name, c.isentropic_head);
-            put(f, "s", n, k::POLYTROPIC_HEAD.name, c.polytropic_head);
-            put(f, "s", n, k::ACTUAL_WORK.name, c.actual_work);
-            put(
-                f,
-                "s",
-                n,
-                k::ISENTROPIC_EFFICIENCY.name,
-                c.isentropic_efficiency,
-            );
-            put(
-                f,
-                "s",
-                n,
-                k::POLYTROPIC_EFFICIENCY.name,
-                c.polytropic_efficiency,
-            );
-            put(
-                f,
-                "s",
-                n,
-                k::POLYTROPIC_EXPONENT.name,
-                c.polytropic_exponent,
-            );
-            put(f, "s", n, k::MASS_FLOW.name, c.mass_flow);
-            put(f, "s", n, k::GAS_POWER.name, c.gas_power);
-            put(
-                f,
-                "s",
-                n,
-                k::POWER_ABOVE_ISOTHERMAL.name,
-                c.power_above_isothermal,
-            );
-        }
-        if let Some(p) = st.pump() {
-            put(f, "s", n, k::PRESSURE_RATIO.name, p.pressure_ratio);
-            put(f, "s", n, k::SHAFT_WORK.name, p.shaft_work);
-            put(f, "s", n, k::PUMP_POWER_STAGE.name, p.power);
-        }
-        let steady = if st.steady_state.steady { 1.0 } else { 0.0 };
-        f("s", n, k::STEADY_STATE.name, steady, Quality::Good);
-        if let Some(Some(c)) = snap.coolers.get(i) {
-            put(f, "c", n, k::GAS_DROP.name, c.gas_temperature_drop);
-            put(f, "c", n, k::APPROACH.name, c.approach);
-            put(f, "c", n, k::EFFECTIVENESS.name, c.effectiveness);
-            put(f, "c", n, k::HEAT_DUTY.name, c.heat_duty);
-            put(f, "c", n, k::LMTD.name, c.lmtd);
-        }
-        if let Some(e) = extra.get(i) {
-            if let Some(s) = e.margin {
-                let q = match s.quality {
-                    "good" => Quality::Good,
-                    "uncertain" => Quality::Uncertain,
-                    _ => Quality::Bad,
-                };
-                let v =
-                    |x: Option<f64>| (x.unwrap_or(0.0), if x.is_some() { q } else { Quality::Bad });
-                let (a, qa) = v(s.margin);
-                f("s", n, "surge_margin", a, qa);
-                let (a, qa) = v(s.deviation);
-                f("s", n, "control_line_deviation", a, qa);
-                let (a, qa) = v(s.reduced_flow_squared);
-                f("s", n, "reduced_flow_squared", a, qa);
-                let (a, qa) = v(s.reduced_head);
-                f("s", n, "reduced_head", a, qa);
+        if let Some(s) = e.margin {
+            let q = match s.quality {
+                "good" => Quality::Good,
+                "uncertain" => Quality::Uncertain,
+                _ => Quality::Bad,
+            };
+            let v = |x: Option<f64>| (x.unwrap_or(0.0), if x.is_some() { q } else { Quality::Bad });
+            for (key, x) in [
+                ("surge_margin", s.margin),
+                ("control_line_deviation", s.deviation),
+                ("reduced_flow_squared", s.reduced_flow_squared),
+                ("reduced_head", s.reduced_head),
+            ] {
+                let (a, qa) = v(x);
+                f("s", n, key, a, qa);
             }
-            if let Some((w, q)) = e.recycle {
-                f("s", n, "recycle_power_W", w, q);
-            }
+        }
+        if let Some((w, q)) = e.recycle {
+            f("s", n, "recycle_power_W", w, q);
         }
     }
-    let t = &snap.totals;
-    put(f, "train", 0, k::COMPRESSOR_POWER.name, t.compressor_power);
-    put(f, "train", 0, k::TOTAL_POWER.name, t.total_power);
-    put(
-        f,
-        "train",
-        0,
-        k::ISOTHERMAL_EFFICIENCY.name,
-        t.isothermal_efficiency,
-    );
 }
 
 /// Column base name: `s1_gas_power_W`, `c2_approach_K`, `train_total_power_W`.
