@@ -78,6 +78,7 @@
 extern crate std;
 
 pub mod boundary;
+pub mod clock;
 pub mod compression;
 pub mod config_blob;
 pub mod control;

@@ -150,15 +150,15 @@ pub fn run(a: &CheckArgs) -> Result<String, CliError> {
             continue;
         }
         s.push_str(&format!(
-            "\nS{} surge and control lines in the surge coordinates (reduced head hr = (r^s - 1)/s, \
-             s = (n-1)/n; reduced flow qr^2 = dp_flow / p_suction; control line qr^2 (1 + m)^2):\n",
+            "\nS{} surge and control lines in the surge coordinates (head number Y = (r^s - 1)/s, \
+             s = (n-1)/n; flow number X = dp_flow / p_suction; control line X (1 + m)^2):\n",
             i + 1
         ));
         let mut g = Grid::new(&[
             "point",
-            "hr -",
-            "surge qr^2 -",
-            "control qr^2 -",
+            "Y -",
+            "surge X -",
+            "control X -",
             "control margin %",
         ]);
         for (k, p) in pts.iter().enumerate() {

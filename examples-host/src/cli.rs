@@ -265,7 +265,11 @@ pub struct SurgeSimArgs {
     /// Print every Nth controller scan (default 1).
     #[arg(long, value_name = "N", conflicts_with = "sweep")]
     pub every: Option<String>,
-    /// Print the minimum margin for scan periods 5, 20, 50 and 100 ms, and whether each run surged.
+    /// Add the stated realistic measurement noise to every signal (seeded).
+    #[arg(long, conflicts_with = "sweep")]
+    pub noise: bool,
+    /// Print the minimum margin and surge cycles for scan periods 1 to 100 ms, without and
+    /// with noise, and whether each run surged.
     #[arg(long, conflicts_with = "unprotected")]
     pub sweep: bool,
     /// Take the recycle controller (gain, integral time, scan period, valve stroke time)
@@ -282,6 +286,7 @@ impl SurgeSimArgs {
             .opt("scan-ms", &self.scan_ms)
             .opt("every", &self.every)
             .flag("sweep", self.sweep)
+            .flag("noise", self.noise)
             .opt("file", &self.file.as_ref().map(|f| f.display().to_string()))
     }
 }

@@ -249,7 +249,7 @@ pub struct SurgeSection {
     /// Suction compressibility of the map gas (default 1).
     #[serde(default = "one")]
     pub map_compressibility: f64,
-    /// Polytropic exponent for the reduced head.
+    /// Polytropic exponent for the head number Y.
     pub polytropic_exponent: f64,
     /// Suction flow element coefficient C in dp = rho (Q/C)², m².
     pub flow_coefficient_m2: f64,
@@ -1052,7 +1052,7 @@ fn problem_text(l: &Loaded, e: &ConfigError, stage: Option<usize>) -> String {
         }
         Problem::NotAbove { other: o } => format!("must be above {}", other(o)),
         Problem::NotIncreasing => {
-            "must rise above the previous point (in speed, reduced head and reduced flow)".into()
+            "must rise above the previous point (in speed, head number and flow number)".into()
         }
         Problem::Count { min, max } => format!("needs {min} to {max} entries"),
         Problem::Inconsistent { with } => format!("conflicts with {}", other(with)),

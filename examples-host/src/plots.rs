@@ -4,9 +4,9 @@
 //! crate (registered with plotters' `ab_glyph` backend), so no system fonts
 //! are needed.
 //!
-//! - `map`: the operating trajectory in the surge coordinates (reduced flow
-//!   squared qr² against reduced head hr) with the surge and control lines,
-//!   points coloured by time.
+//! - `map`: the operating trajectory in the surge coordinates (flow number
+//!   X against head number Y) with the surge and control lines, points
+//!   coloured by time.
 //! - `stages`: polytropic efficiency, actual work and power per stage over time.
 //! - `coolers`: approach, effectiveness and duty per cooler over time.
 //! - `recycle`: power spent recirculating through the recycle valve.
@@ -265,8 +265,8 @@ fn draw_map<DB: DrawingBackend>(
         .light_line_style(GRID.mix(0.5))
         .bold_line_style(GRID)
         .axis_style(INK)
-        .x_desc("reduced flow squared qr² = Δp_flow / p_suction, -")
-        .y_desc("reduced head hr = (r^σ − 1)/σ, -")
+        .x_desc("flow number X = Δp_flow / p_suction, -")
+        .y_desc("head number Y = (r^σ − 1)/σ, -")
         .label_style((FONT, 16).into_font().color(&INK))
         .axis_desc_style((FONT, 17).into_font().color(&INK))
         .x_label_formatter(&|v| format!("{v:.4}"))

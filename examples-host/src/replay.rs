@@ -376,9 +376,9 @@ pub fn visit<T: Real, const N: usize>(
             let v = |x: Option<f64>| (x.unwrap_or(0.0), if x.is_some() { q } else { Quality::Bad });
             for (key, x) in [
                 ("surge_margin", s.margin),
-                ("control_line_deviation", s.deviation),
-                ("reduced_flow_squared", s.reduced_flow_squared),
-                ("reduced_head", s.reduced_head),
+                ("control_clearance", s.deviation),
+                ("flow_number", s.reduced_flow_squared),
+                ("head_number", s.reduced_head),
             ] {
                 let (a, qa) = v(x);
                 f("s", n, key, a, qa);

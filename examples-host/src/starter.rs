@@ -167,7 +167,7 @@ const SURGE: &str = r#"
 map_suction_pressure = "0.98 bara"
 map_suction_temperature = "20 degC"
 map_compressibility = 1.0
-polytropic_exponent = 1.5      # n used for the reduced head, on the map and live
+polytropic_exponent = 1.5      # n used for the head number Y, on the map and live
 flow_coefficient_m2 = 0.09     # suction flow element: dp = rho (Q / C)^2
 time_to_surge_horizon_s = 60
 points = [                     # one point per speed line, rising speed
@@ -351,7 +351,7 @@ pub fn example_log(n: usize, rows: usize) -> Result<String, CliError> {
                 };
                 let q2 = line
                     .as_ref()
-                    .map_or(0.002, |l| l.lookup(hr).surge_reduced_flow_squared);
+                    .map_or(0.002, |l| l.lookup(hr).surge_flow_number);
                 let dp_mbar = p1 * 1e5 * q2 * (1.0 + margin) * (1.0 + margin) / 100.0;
                 let flow = 5.2 * (1.0 + margin) / 1.28 * (1.0 + 0.003 * noise.next());
                 let flow_text = if r % 2203 == 500 {

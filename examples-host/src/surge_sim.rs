@@ -7,7 +7,7 @@
 //! Surge data come from the machine maker and from commissioning tests.
 
 use crate::cli::{count, CliError, Parsed};
-use crate::greitzer::{run as simulate, Outcome, Scenario};
+use crate::greitzer::{run as simulate, Noise, Outcome, Scenario};
 use crate::out;
 
 fn summary(label: &str, o: &Outcome) -> String {
@@ -79,25 +79,42 @@ fn from_file(p: &Parsed) -> Result<(Scenario, Option<String>), CliError> {
 pub fn run(p: &Parsed) -> Result<String, CliError> {
     let (base, note) = from_file(p)?;
     let mut text = String::from(
-        "# Invented demo scenario: air blower on the Greitzer (1976) lumped model; throttle 0.8 -> 0.3 in 0.5 s at t = 2 s.\n",
+        "# Invented demo scenario: air blower on the Greitzer (1976) lumped model; throttle 0.8 -> 0.3 in 1 s at t = 2 s.\n",
     );
     if let Some(n) = &note {
         text.push_str(n);
     }
     if p.has("sweep") {
-        text.push_str("scan_ms,min_margin_protected,surged\n");
-        for ms in [5u32, 20, 50, 100] {
-            let o = simulate(&Scenario {
+        text.push_str(
+            "scan_ms,min_margin,min_margin_noisy,surge_cycles,surge_cycles_noisy,surged,surged_noisy\n",
+        );
+        // Surged: the true operating point crossed the surge line, the flow
+        // reversed or the detector counted a surge cycle.
+        let surged = |o: &Outcome| {
+            if o.min_margin < 0.0 || o.flow_sign_changes > 0 || o.events > 0 {
+                "yes"
+            } else {
+                "no"
+            }
+        };
+        for ms in [1u32, 2, 5, 10, 20, 50, 100] {
+            let sc = Scenario {
                 scan_period: f64::from(ms) / 1e3,
                 ..base
+            };
+            let quiet = simulate(&sc)?;
+            let noisy = simulate(&Scenario {
+                noise: Some(Noise::REALISTIC),
+                ..sc
             })?;
-            // Surged: the true operating point crossed the surge line, the flow
-            // reversed or the detector counted a surge cycle.
-            let surged = o.min_margin < 0.0 || o.flow_sign_changes > 0 || o.events > 0;
             text.push_str(&format!(
-                "{ms},{:.4},{}\n",
-                o.min_margin,
-                if surged { "yes" } else { "no" }
+                "{ms},{:.4},{:.4},{},{},{},{}\n",
+                quiet.min_margin,
+                noisy.min_margin,
+                quiet.events,
+                noisy.events,
+                surged(&quiet),
+                surged(&noisy)
             ));
         }
         text.push_str(&format!("# {}\n", out::CAUTION));
@@ -118,6 +135,7 @@ pub fn run(p: &Parsed) -> Result<String, CliError> {
             f64::from(ms) / 1e3
         },
         protection: !p.has("unprotected"),
+        noise: p.has("noise").then_some(Noise::REALISTIC),
         ..base
     };
     let o = simulate(&sc)?;
@@ -129,18 +147,22 @@ pub fn run(p: &Parsed) -> Result<String, CliError> {
         },
         &o,
     ));
-    text.push_str("t_s,flow_coefficient,pressure_rise_coefficient,margin,margin_seen,control_margin,valve_demand,valve_position,recycle_power_kw,surge_cycles,trip_request\n");
+    text.push_str("t_s,flow_coefficient,throttle_flow_coefficient,pressure_rise_coefficient,margin,margin_seen,control_margin,rate_of_approach_per_s,anticipation,valve_demand,valve_position,recycle_kg_s,recycle_power_kw,surge_cycles,trip_request\n");
     for s in o.samples.iter().step_by(every) {
         text.push_str(&format!(
-            "{:.3},{:.5},{:.5},{:.5},{:.5},{:.4},{:.4},{:.4},{:.2},{},{}\n",
+            "{:.3},{:.5},{:.5},{:.5},{:.5},{:.5},{:.4},{:.4},{:.4},{:.4},{:.4},{:.3},{:.2},{},{}\n",
             s.t,
             s.phi,
+            s.throttle_flow,
             s.psi,
             s.margin_true,
             s.margin_measured,
             s.control_margin,
+            s.rate_of_approach,
+            s.anticipation,
             s.demand,
             s.position,
+            s.recycle_mass_flow,
             s.recycle_power_kw,
             s.events,
             u8::from(s.trip)

@@ -12,20 +12,21 @@ use crate::units;
 
 /// Surge points a stage may have.
 pub const MAX_POINTS: usize = 8;
-/// Scans in the rate-of-approach window.
-pub const RATE_WINDOW: usize = 10;
+/// Time constant of the margin monitor's rate filter, s (the host reports
+/// margins, not rates, for logged scans).
+const RATE_FILTER_TIME_S: f64 = 2.0;
 
 /// The margin monitor type used by the host.
-pub type Monitor<T> = SurgeMonitor<T, MAX_POINTS, RATE_WINDOW>;
+pub type Monitor<T> = SurgeMonitor<T, MAX_POINTS>;
 
 /// One point of the surge and control lines in the surge coordinates.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct LinePoint {
     /// Reduced head hr, -.
     pub reduced_head: f64,
-    /// Reduced flow squared qr² on the surge line, -.
+    /// Flow number X on the surge line, -.
     pub surge_flow_squared: f64,
-    /// Reduced flow squared on the control line, -: qr²(1 + m)².
+    /// Flow number on the control line, -: X(1 + m)².
     pub control_flow_squared: f64,
     /// Control margin, -.
     pub control_margin: f64,
@@ -86,9 +87,9 @@ pub fn line_points(l: &Loaded, i: usize) -> Result<Vec<LinePoint>, FileError> {
         .points()
         .iter()
         .map(|p| LinePoint {
-            reduced_head: p.reduced_head,
-            surge_flow_squared: p.reduced_flow_squared,
-            control_flow_squared: p.reduced_flow_squared
+            reduced_head: p.head_number,
+            surge_flow_squared: p.flow_number,
+            control_flow_squared: p.flow_number
                 * (1.0 + p.control_margin)
                 * (1.0 + p.control_margin),
             control_margin: p.control_margin,
@@ -116,6 +117,7 @@ pub fn monitor<T: Real>(
         MonitorConfig {
             scan_period: T::of(scan_period_s),
             time_to_surge_horizon: T::of(horizon),
+            rate_filter_time: T::of(RATE_FILTER_TIME_S.max(scan_period_s)),
         },
     )
     .map(Some)
@@ -151,22 +153,23 @@ pub fn update<T: Real>(
             flow_dp,
         },
         T::ZERO,
+        T::ONE,
     );
     let v = |x: Measured<T>| x.quality.is_usable().then(|| x.value.to_f64());
     MarginPoint {
-        reduced_flow_squared: v(s.reduced_flow_squared),
-        reduced_head: v(s.reduced_head),
+        reduced_flow_squared: v(s.flow_number),
+        reduced_head: v(s.head_number),
         margin: v(s.margin),
-        deviation: v(s.deviation),
+        deviation: v(s.clearance),
         quality: crate::out::quality_word(s.margin.quality),
     }
 }
 
-/// Surge and control lines, then qr², hr and time (s) of each sample.
+/// Surge and control lines, then X, Y and time (s) of each sample.
 pub type Trajectory = (Vec<LinePoint>, Vec<f64>, Vec<f64>, Vec<f64>);
 
 /// The protected surge simulation (`crate::greitzer`, invented scenario) as
-/// a trajectory in the surge coordinates: (line, qr², hr, time s).
+/// a trajectory in the surge coordinates: (line, X, Y, time s).
 pub fn sim_trajectory() -> Result<Trajectory, crate::cli::CliError> {
     use crate::greitzer as g;
     let points = g::surge_points();
@@ -185,26 +188,27 @@ pub fn sim_trajectory() -> Result<Trajectory, crate::cli::CliError> {
         .points()
         .iter()
         .map(|p| LinePoint {
-            reduced_head: p.reduced_head,
-            surge_flow_squared: p.reduced_flow_squared,
-            control_flow_squared: p.reduced_flow_squared
+            reduced_head: p.head_number,
+            surge_flow_squared: p.flow_number,
+            control_flow_squared: p.flow_number
                 * (1.0 + p.control_margin)
                 * (1.0 + p.control_margin),
             control_margin: p.control_margin,
         })
         .collect();
-    let mon = SurgeMonitor::<f64, MAX_POINTS, RATE_WINDOW>::new(
+    let mon = SurgeMonitor::<f64, MAX_POINTS>::new(
         line,
         MonitorConfig {
             scan_period: 0.02,
             time_to_surge_horizon: 60.0,
+            rate_filter_time: 0.1,
         },
     )?;
     let out = g::run(&g::Scenario::default())?;
     let (mut q2, mut hr, mut t) = (Vec::new(), Vec::new(), Vec::new());
     for s in &out.samples {
         let (ps, pd, dp) = g::signals(s.phi, s.psi);
-        let (a, b) = mon.reduced_point(&SurgeScan {
+        let (a, b, _) = mon.map_point(&SurgeScan {
             suction_pressure: Measured::good(PressureAbs::from_pa(ps)),
             discharge_pressure: Measured::good(PressureAbs::from_pa(pd)),
             flow_dp: Measured::good(dp),

@@ -45,7 +45,7 @@ fn bara(v: &toml::Value) -> f64 {
 
 struct Kernel<T: Real> {
     train: Train<T, IdealGas<T>, 3, 8>,
-    monitor: SurgeMonitor<T, 8, 10>,
+    monitor: SurgeMonitor<T, 8>,
 }
 
 fn kernel<T: Real>(starter: &toml::Value) -> Kernel<T> {
@@ -102,6 +102,7 @@ fn kernel<T: Real>(starter: &toml::Value) -> Kernel<T> {
             MonitorConfig {
                 scan_period: T::ONE,
                 time_to_surge_horizon: T::of(60.0),
+                rate_filter_time: T::of(2.0),
             },
         )
         .unwrap(),
@@ -172,6 +173,7 @@ fn step<T: Real>(
             flow_dp: m(dp),
         },
         T::ZERO,
+        T::ONE,
     );
     let mut out = Vec::new();
     let mut put = |name: String, v: Measured<T>| out.push((name, v.value.to_f64(), v.quality));
