@@ -147,11 +147,11 @@ pub fn update<T: Real>(
     flow_dp: Measured<T>,
 ) -> MarginPoint {
     let s = m.update(
-        &SurgeScan {
-            suction_pressure: suction.map(PressureAbs::from_pa),
-            discharge_pressure: discharge.map(PressureAbs::from_pa),
+        &SurgeScan::pressures_only(
+            suction.map(PressureAbs::from_pa),
+            discharge.map(PressureAbs::from_pa),
             flow_dp,
-        },
+        ),
         T::ZERO,
         T::ONE,
     );
@@ -208,11 +208,11 @@ pub fn sim_trajectory() -> Result<Trajectory, crate::cli::CliError> {
     let (mut q2, mut hr, mut t) = (Vec::new(), Vec::new(), Vec::new());
     for s in &out.samples {
         let (ps, pd, dp) = g::signals(s.phi, s.psi);
-        let (a, b, _) = mon.map_point(&SurgeScan {
-            suction_pressure: Measured::good(PressureAbs::from_pa(ps)),
-            discharge_pressure: Measured::good(PressureAbs::from_pa(pd)),
-            flow_dp: Measured::good(dp),
-        });
+        let (a, b, _) = mon.map_point(&SurgeScan::pressures_only(
+            Measured::good(PressureAbs::from_pa(ps)),
+            Measured::good(PressureAbs::from_pa(pd)),
+            Measured::good(dp),
+        ));
         q2.push(if a.quality.is_usable() {
             a.value
         } else {

@@ -167,11 +167,11 @@ fn step<T: Real>(
         .filter(|x| x.is_finite())
         .map(|x| x * 100.0);
     let margin = k.monitor.update(
-        &SurgeScan {
-            suction_pressure: m::<T>(p_abs("s1_p_in")).map(PressureAbs::from_pa),
-            discharge_pressure: m::<T>(p_g("s1_p_out")).map(PressureAbs::from_pa),
-            flow_dp: m(dp),
-        },
+        &SurgeScan::pressures_only(
+            m::<T>(p_abs("s1_p_in")).map(PressureAbs::from_pa),
+            m::<T>(p_g("s1_p_out")).map(PressureAbs::from_pa),
+            m(dp),
+        ),
         T::ZERO,
         T::ONE,
     );
