@@ -251,7 +251,7 @@ fn train_file_errors_name_file_line_and_key() {
         (
             "k.toml",
             &AIR1.replace("heat_capacity_ratio = 1.4", "heat_capacity_ratio = 0.9"),
-            &["k.toml:8", "gas.heat_capacity_ratio", "must lie in [1, 3]"],
+            &["k.toml:8", "gas.heat_capacity_ratio: must lie in [1, "],
         ),
         (
             "kind.toml",
