@@ -84,6 +84,7 @@ pub mod flow;
 pub mod gas;
 pub mod quality;
 pub mod real;
+pub mod registers;
 pub mod scan;
 pub mod signal;
 pub mod stage;
