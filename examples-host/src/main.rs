@@ -31,6 +31,8 @@ macro_rules! row {
 
 mod cli;
 mod demo;
+// Register image over Modbus TCP, and its map.
+mod gateway;
 mod keys;
 mod out;
 mod quantity;
@@ -52,6 +54,8 @@ const COMMANDS: &[Command] = &[
     demo::COMMAND,
     stage::COMMAND,
     surge_sim::COMMAND,
+    gateway::COMMAND,
+    gateway::MAP_COMMAND,
     keys::COMMAND,
 ];
 

@@ -184,8 +184,8 @@ fn map_covers_every_register_once() {
     let mut seen = [0u8; R];
     visit_map(N, 1, 1, &mut |r| {
         if r.table == "input" {
-            for a in r.address..r.address + usize::from(r.registers) {
-                seen[a] += 1;
+            for n in &mut seen[r.address..r.address + usize::from(r.registers)] {
+                *n += 1;
             }
         }
     });
