@@ -3,7 +3,8 @@
 # (QEMU mps2-an386) and Cortex-M0 (QEMU microbit).
 #  1. builds ci/firmware for both targets; the `minimal` bin links only if
 #     no panic path of Train::new / Train::update, SurgeMonitor::new / update
-#     or Channel::new / update survives (link-time check);
+#     or Channel::new / update survives, and the `gateway` bin only if none
+#     of RegisterImage::new / pack or decode_command does (link-time check);
 #  2. runs the harness under QEMU and re-takes the instruction counts, sizes
 #     and stack (ci/measure.sh; the table is printed, not committed here);
 #  3. compares every printed output with the f64 reference build within

@@ -70,18 +70,6 @@ impl Encoding {
             Encoding::Reserved => "reserved",
         }
     }
-    const fn code(self) -> u8 {
-        match self {
-            Encoding::U16 => 1,
-            Encoding::Status => 2,
-            Encoding::Quality => 3,
-            Encoding::F32 => 4,
-            Encoding::U32 => 5,
-            Encoding::I16 { .. } => 6,
-            Encoding::I32 { .. } => 7,
-            Encoding::Reserved => 8,
-        }
-    }
 }
 
 /// One register (or register pair) of the map.
@@ -230,7 +218,7 @@ const HEADER_ROWS: &[HeaderRow] = &[
         offset: header::MAP_CHECKSUM,
         encoding: Encoding::U32,
         key: "map_checksum",
-        label: "CRC-32 of this map (addresses, types, keys)",
+        label: "CRC-32 of this map's layout (version, block counts, keys and types of every block, scaled entries)",
     },
     HeaderRow {
         offset: header::HEARTBEAT,
@@ -593,19 +581,52 @@ pub fn visit_map(n: usize, m: usize, c: usize, visit: &mut dyn FnMut(&MapRow)) {
     }
 }
 
-/// CRC-32 over the map of an image (address, width, type and key of every
-/// row): a reader compares it with the map it was configured from.
-pub(crate) fn map_checksum(n: usize, m: usize, c: usize) -> u32 {
+/// CRC-32 of the map of an image with `n` stages, `m` surge monitors and
+/// `c` channels: over the layout version, the block counts, every block's
+/// field keys and kinds in order and the scaled entries, so it changes
+/// whenever an address or a type moves. Evaluated at compile time
+/// ([`super::RegisterImage::MAP_CHECKSUM`]).
+pub const fn map_checksum(n: usize, m: usize, c: usize) -> u32 {
     let mut crc = 0xFFFF_FFFF;
-    visit_map(n, m, c, &mut |r| {
-        let a = r.address as u32;
-        crc = crc32_update(crc, &a.to_le_bytes());
-        crc = crc32_update(crc, &[r.registers, r.encoding.code()]);
-        crc = crc32_update(crc, r.key.as_bytes());
-        if let Some(p) = r.pump {
-            crc = crc32_update(crc, p.key.as_bytes());
+    let v = super::LAYOUT_VERSION;
+    crc = crc32_update(crc, &[(v >> 8) as u8, v as u8]);
+    let mut counts: &[usize] = &[n, m, c];
+    while let [x, tail @ ..] = counts {
+        crc = crc32_update(crc, &(*x as u32).to_le_bytes());
+        counts = tail;
+    }
+    let lists: [&[FieldSpec]; 9] = [
+        COMPRESSOR,
+        PUMP,
+        STEADY,
+        COOLER,
+        INTERSTAGE,
+        TOTALS,
+        SURGE,
+        DETECTION,
+        CHANNEL_FIELDS,
+    ];
+    let mut ls: &[&[FieldSpec]] = &lists;
+    while let [list, tail @ ..] = ls {
+        let mut fs: &[FieldSpec] = list;
+        while let [f, rest @ ..] = fs {
+            crc = crc32_update(crc, f.key.as_bytes());
+            crc = crc32_update(crc, &[f.kind as u8]);
+            fs = rest;
         }
-    });
+        ls = tail;
+    }
+    let scaled: [&[Scaled]; 4] = [SCALED_STAGE, SCALED_TOTALS, SCALED_SURGE, SCALED_CHANNEL];
+    let mut ss: &[&[Scaled]] = &scaled;
+    while let [list, tail @ ..] = ss {
+        let mut es: &[Scaled] = list;
+        while let [e, rest @ ..] = es {
+            crc = crc32_update(crc, e.key.as_bytes());
+            crc = crc32_update(crc, &[e.wide as u8]);
+            es = rest;
+        }
+        ss = tail;
+    }
     !crc
 }
 

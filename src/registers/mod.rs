@@ -46,8 +46,8 @@ mod map;
 
 pub use fields::{FieldKind, FieldSpec, FieldValue, ResultFields};
 pub use map::{
-    derived_bits, state_codes, visit_map, write_map_csv, write_map_markdown, DerivedBit, Encoding,
-    MapRow,
+    derived_bits, map_checksum, state_codes, visit_map, write_map_csv, write_map_markdown,
+    DerivedBit, Encoding, MapRow,
 };
 
 use crate::cooler::CoolerResult;
@@ -422,27 +422,54 @@ fn get32(regs: &[u16], addr: usize, order: WordOrder) -> u32 {
     order.join([get(regs, addr), get(regs, addr + 1)])
 }
 
-/// Fills one block: status word, quality words, value slots.
+/// The value types an image takes: converts to the image's f32 without a
+/// detour through f64 (soft-float on a single-precision FPU).
+pub trait RegisterReal: Real {
+    /// The value as f32 (rounded to nearest for f64).
+    fn to_f32(self) -> f32;
+}
+impl RegisterReal for f32 {
+    #[inline]
+    fn to_f32(self) -> f32 {
+        self
+    }
+}
+impl RegisterReal for f64 {
+    #[inline]
+    fn to_f32(self) -> f32 {
+        self as f32
+    }
+}
+
+/// Fills one block: status word, quality words, value slots. Slots are
+/// visited in rising order; the current quality word is kept in a register
+/// and written once it is complete.
 struct Block<'a> {
     regs: &'a mut [u16],
     base: usize,
     head: usize,
     order: WordOrder,
     slot: usize,
+    qword: u16,
+    qindex: usize,
     flag: u16,
     status: u16,
     worst: Option<Quality>,
 }
 
+/// A quality word with every slot "not applicable".
+const ALL_NOT_APPLICABLE: u16 = 0xFFFF;
+
 impl<'a> Block<'a> {
-    /// Starts a block: every slot zero and "not applicable".
+    /// Starts a block: every value zero, every slot "not applicable".
     fn start(regs: &'a mut [u16], base: usize, slots: usize, order: WordOrder) -> Self {
         let head = block_head(slots);
-        for a in base + 1..base + block_len(slots) {
-            put(regs, a, 0);
+        let qwords = slots.div_ceil(8);
+        if let Some(q) = regs.get_mut(base + 1..base + 1 + qwords) {
+            q.fill(ALL_NOT_APPLICABLE);
         }
-        for s in 0..slots {
-            set_quality(regs, base, s, quality_code::NOT_APPLICABLE);
+        if let Some(r) = regs.get_mut(base + 1 + qwords..base + block_len(slots)) {
+            r.fill(0);
         }
         Block {
             regs,
@@ -450,39 +477,52 @@ impl<'a> Block<'a> {
             head,
             order,
             slot: 0,
+            qword: ALL_NOT_APPLICABLE,
+            qindex: 0,
             flag: 0,
             status: 0,
             worst: None,
         }
     }
 
-    fn slot_value(&mut self, bits: u32, code: u16) {
-        put32(
-            self.regs,
-            self.base + self.head + 2 * self.slot,
-            bits,
-            self.order,
-        );
-        set_quality(self.regs, self.base, self.slot, code);
-        self.slot += 1;
+    /// Moves to value slot `s` (not below the current one).
+    fn seek(&mut self, s: usize) {
+        self.slot = s;
     }
 
-    fn real<T: Real>(&mut self, m: Measured<T>) {
-        let q = if T::is_finite(m.value) {
-            m.quality
-        } else {
-            Quality::Bad
-        };
+    fn flush(&mut self) {
+        put(self.regs, self.base + 1 + self.qindex, self.qword);
+    }
+
+    fn slot_value(&mut self, bits: u32, code: u16) {
+        let s = self.slot;
+        if s / 8 != self.qindex {
+            self.flush();
+            self.qindex = s / 8;
+            self.qword = get(self.regs, self.base + 1 + self.qindex);
+        }
+        let shift = 2 * (s % 8);
+        self.qword = (self.qword & !(3 << shift)) | ((code & 3) << shift);
+        put32(self.regs, self.base + self.head + 2 * s, bits, self.order);
+        self.slot = s + 1;
+    }
+
+    fn real<T: RegisterReal>(&mut self, m: Measured<T>) {
+        let finite = T::is_finite(m.value);
+        let q = if finite { m.quality } else { Quality::Bad };
         let v = if q == Quality::Bad {
             0.0
         } else {
-            m.value.to_f64() as f32
+            m.value.to_f32()
         };
-        self.worst = Some(self.worst.map_or(q, |w| w.worst(q)));
+        self.worst = Some(match self.worst {
+            Some(w) => w.worst(q),
+            None => q,
+        });
         self.slot_value(v.to_bits(), quality_code(q));
     }
 
-    fn field<T: Real>(&mut self, value: FieldValue<T>) {
+    fn field<T: RegisterReal>(&mut self, value: FieldValue<T>) {
         match value {
             FieldValue::Real(m) => self.real(m),
             FieldValue::Plain(x) => self.real(Measured::good(x)),
@@ -502,8 +542,10 @@ impl<'a> Block<'a> {
             (self.status & !(0xF << STATUS_CODE_SHIFT)) | ((c & 0xF) << STATUS_CODE_SHIFT);
     }
 
-    /// Writes the status word; returns the block's worst quality.
-    fn finish(self, present: bool, derived: u16) -> Option<Quality> {
+    /// Writes the last quality word and the status word; returns the
+    /// block's worst quality.
+    fn finish(mut self, present: bool, derived: u16) -> Option<Quality> {
+        self.flush();
         let q = self
             .worst
             .map_or(quality_code::NOT_APPLICABLE, quality_code);
@@ -511,13 +553,6 @@ impl<'a> Block<'a> {
         put(self.regs, self.base, self.status | present | derived | q);
         self.worst
     }
-}
-
-fn set_quality(regs: &mut [u16], base: usize, slot: usize, code: u16) {
-    let addr = base + 1 + slot / 8;
-    let shift = 2 * (slot % 8);
-    let w = get(regs, addr);
-    put(regs, addr, (w & !(3 << shift)) | ((code & 3) << shift));
 }
 
 /// Reads slot `slot`'s quality code from a block at `base`.
@@ -630,24 +665,22 @@ pub fn scaled_stage_source(i: usize, pump: bool) -> Option<usize> {
         .map(usize::from)
 }
 
-/// Rounds `v × scale` to an integer within `[lo, hi]` (`v` finite).
-fn scale_round(v: f32, scale: f32, lo: f32, hi: f32) -> f32 {
+/// Rounds `v × scale` half away from zero to an integer within
+/// `[-limit, limit]` (`v` finite). Single-precision arithmetic and one
+/// float-to-int conversion (saturating), no 64-bit maths.
+fn scale_round(v: f32, scale: f32, limit: i32) -> i32 {
     let x = v * scale;
     let r = if x >= 0.0 { x + 0.5 } else { x - 0.5 };
-    // `as` truncates toward zero: with the half added this rounds half away.
-    let r = (r as i64) as f32;
-    if r < lo {
-        lo
-    } else if r > hi {
-        hi
-    } else {
-        r
-    }
+    // `as` truncates toward zero and saturates: with the half added this
+    // rounds half away from zero.
+    (r as i32).clamp(-limit, limit)
 }
 
 impl<const N: usize, const M: usize, const C: usize, const R: usize> RegisterImage<N, M, C, R> {
     /// The layout of this image.
     pub const LAYOUT: Layout = Layout::new(N, M, C);
+    /// The map checksum the header carries ([`map_checksum`]).
+    pub const MAP_CHECKSUM: u32 = map::map_checksum(N, M, C);
 
     /// An empty image (every value not applicable) with the given word order
     /// and configuration checksum (for example [`crc32`] of the stored
@@ -713,7 +746,7 @@ impl<const N: usize, const M: usize, const C: usize, const R: usize> RegisterIma
     }
 
     /// Packs one scan's results. Bounded: one pass over the image.
-    pub fn pack<T: Real>(
+    pub fn pack<T: RegisterReal>(
         &mut self,
         snapshot: &Snapshot<T, N>,
         surge: &[SurgeView<T>; M],
@@ -741,7 +774,7 @@ impl<const N: usize, const M: usize, const C: usize, const R: usize> RegisterIma
                     true
                 }
             };
-            b.slot = STAGE_WORK_SLOTS;
+            b.seek(STAGE_WORK_SLOTS);
             st.steady_state.visit_fields(&mut |_, v| b.field(v));
             worst(b.finish(true, if pump { derived::STAGE_PUMP } else { 0 }));
             let src = if pump { &SRC_PUMP } else { &SRC_COMPRESSOR };
@@ -786,7 +819,7 @@ impl<const N: usize, const M: usize, const C: usize, const R: usize> RegisterIma
             };
             let mut b = Block::start(&mut self.regs, base, SURGE_SLOTS, order);
             s.state.visit_fields(&mut |_, v| b.field(v));
-            b.slot = SURGE_STATE_SLOTS;
+            b.seek(SURGE_STATE_SLOTS);
             s.detection.visit_fields(&mut |_, v| b.field(v));
             let dev = s.state.deviation;
             let inside = dev.quality.is_usable() && dev.value < T::ZERO;
@@ -854,7 +887,7 @@ impl<const N: usize, const M: usize, const C: usize, const R: usize> RegisterIma
             let v = f32::from_bits(get32(&self.regs, base + head + 2 * s, self.order));
             if e.wide {
                 let raw = if usable {
-                    scale_round(v, e.scale, -2_147_483_520.0, 2_147_483_520.0) as i32
+                    scale_round(v, e.scale, i32::MAX)
                 } else {
                     SCALED_NO_VALUE_I32
                 };
@@ -862,7 +895,7 @@ impl<const N: usize, const M: usize, const C: usize, const R: usize> RegisterIma
                 addr += 2;
             } else {
                 let raw = if usable {
-                    scale_round(v, e.scale, -32_767.0, 32_767.0) as i16
+                    scale_round(v, e.scale, i32::from(i16::MAX)) as i16
                 } else {
                     SCALED_NO_VALUE_I16
                 };

@@ -252,10 +252,12 @@ fn scaled_block_rounds_saturates_and_marks_bad() {
     assert_eq!(regs[pump + 1] as i16, SCALED_NO_VALUE_I16);
     assert_ne!(regs[pump] as i16, SCALED_NO_VALUE_I16);
     // Saturation and rounding.
-    assert_eq!(scale_round(10.0, 10000.0, -32767.0, 32767.0), 32767.0);
-    assert_eq!(scale_round(-10.0, 10000.0, -32767.0, 32767.0), -32767.0);
-    assert_eq!(scale_round(0.81236, 10000.0, -32767.0, 32767.0), 8124.0);
-    assert_eq!(scale_round(-0.00005, 10000.0, -32767.0, 32767.0), -1.0);
+    assert_eq!(scale_round(10.0, 10000.0, 32767), 32767);
+    assert_eq!(scale_round(-10.0, 10000.0, 32767), -32767);
+    assert_eq!(scale_round(0.81236, 10000.0, 32767), 8124);
+    assert_eq!(scale_round(-0.00006, 10000.0, 32767), -1);
+    assert_eq!(scale_round(3.0e9, 1.0, i32::MAX), i32::MAX);
+    assert_eq!(scale_round(-3.0e9, 1.0, i32::MAX), -i32::MAX);
     // A bad surge margin: sentinel.
     let mut train = demo::train::<f32>().unwrap();
     let snap = *train.update(&demo::scan(1));

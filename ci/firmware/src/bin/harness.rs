@@ -122,6 +122,17 @@ fn update_channel(c: &mut PressureChannel, raw: f32, t_ms: u64) -> f32 {
 }
 
 #[inline(never)]
+fn pack(
+    image: &mut front::Image,
+    snap: &Snapshot<f32, { demo::STAGES }>,
+    view: &polytrope::registers::SurgeView<f32>,
+    outputs: &[polytrope::signal::ChannelOutput<f32>; 1],
+) -> u16 {
+    image.pack(snap, &[*view], outputs);
+    image.registers().first().copied().unwrap_or(0)
+}
+
+#[inline(never)]
 fn update_budget(t: &mut BudgetTrain, s: &Scan<f32, BUDGET_STAGES>) -> f32 {
     t.update(s).totals.total_power.value
 }
@@ -301,6 +312,30 @@ fn main() -> ! {
         let r = label(&mut h, "signal_channel_4_20ma");
         measure(r, || update_channel(&mut channel, raw, t));
     }
+    // The register image: one pack of the demo snapshot, the monitor's
+    // state and the channel's output.
+    let mut image = front::Image::new(polytrope::registers::WordOrder::HighWordFirst, 1);
+    let view = polytrope::registers::SurgeView {
+        state: *monitor.state(),
+        detection: front::quiet_detection(),
+    };
+    let outputs = [*channel.output()];
+    for _ in 0..3 {
+        let snap = black_box(demo_train.snapshot());
+        let r = label(&mut h, "register_pack_demo");
+        measure(r, || pack(&mut image, snap, &view, &outputs));
+    }
+    let snap = black_box(*demo_train.snapshot());
+    let used = stack_used(|| {
+        pack(&mut image, &snap, &view, &outputs);
+    });
+    out!(h, "S stack_register_pack {}", used);
+    out!(h, "S register_image_registers {}", image.registers().len());
+    out!(
+        h,
+        "S register_image_bytes {}",
+        core::mem::size_of::<front::Image>()
+    );
     let margin = monitor.state().margin;
     let filtered = channel.output().filtered;
     if !(margin.quality.is_usable() && filtered.quality.is_usable()) {
