@@ -122,14 +122,18 @@ const OPTIONS: &[Opt] = &[
 ];
 
 fn run_map(p: &Parsed) -> Result<String, CliError> {
+    register_map(p.has("csv")).ok_or_else(|| CliError::Input("could not format the map".into()))
+}
+
+/// The register map of the gateway's image, CSV or Markdown.
+pub fn register_map(csv: bool) -> Option<String> {
     let mut s = String::new();
-    let r = if p.has("csv") {
+    let r = if csv {
         registers::write_map_csv(&mut s, N, SURGE, CHANNELS)
     } else {
         registers::write_map_markdown(&mut s, N, SURGE, CHANNELS)
     };
-    r.map_err(|_| CliError::Input("could not format the map".into()))?;
-    Ok(s)
+    r.ok().map(|()| s)
 }
 
 // ---- the plant: demo train, surge monitor, detector, channels ------------
@@ -645,10 +649,44 @@ fn parse_range(text: &str) -> Result<(u32, u32), CliError> {
     Ok((a, b))
 }
 
+/// What the gateway does, independent of the command-line parser.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Options {
+    /// TCP port on 127.0.0.1 (0: any free port).
+    pub port: u16,
+    /// Scan period, ms.
+    pub scan_ms: u32,
+    /// Run time, s.
+    pub run_for_s: u32,
+    /// Word order of 32-bit values.
+    pub order: WordOrder,
+    /// Simultaneous connections.
+    pub max_connections: u32,
+    /// Requests per second per connection.
+    pub max_rate: u32,
+    /// Idle time after which a connection is closed, s.
+    pub idle_s: u32,
+    /// Print the kernel's results for these scan counters instead of serving.
+    pub results: Option<(u32, u32)>,
+}
+
+impl Default for Options {
+    fn default() -> Self {
+        Options {
+            port: 5020,
+            scan_ms: 100,
+            run_for_s: 60,
+            order: WordOrder::HighWordFirst,
+            max_connections: 128,
+            max_rate: 200,
+            idle_s: 10,
+            results: None,
+        }
+    }
+}
+
 fn run(p: &Parsed) -> Result<String, CliError> {
-    let scan_ms = p
-        .get("scan-ms")
-        .map_or(Ok(100), |t| count("scan-ms", t, 1, 10_000))?;
+    let d = Options::default();
     let order = match p.get("word-order") {
         None | Some("high-first") => WordOrder::HighWordFirst,
         Some("low-first") => WordOrder::LowWordFirst,
@@ -658,9 +696,55 @@ fn run(p: &Parsed) -> Result<String, CliError> {
             )))
         }
     };
+    let opt = |name: &str, default: u32, lo: u32, hi: u32| {
+        p.get(name).map_or(Ok(default), |t| count(name, t, lo, hi))
+    };
+    let o = Options {
+        port: opt("port", u32::from(d.port), 0, 65_535)? as u16,
+        scan_ms: opt("scan-ms", d.scan_ms, 1, 10_000)?,
+        run_for_s: opt("run-for-s", d.run_for_s, 1, 86_400)?,
+        order,
+        max_connections: opt("max-connections", d.max_connections, 1, 1000)?,
+        max_rate: opt("max-rate", d.max_rate, 1, 100_000)?,
+        idle_s: opt("idle-s", d.idle_s, 1, 3600)?,
+        results: p.get("results").map(parse_range).transpose()?,
+    };
+    run_gateway(&o).map_err(|e| match e {
+        GatewayError::Config(c) => CliError::Config(c),
+        GatewayError::Io(m) => CliError::Input(m),
+    })
+}
+
+/// Why the gateway stopped.
+#[derive(Debug)]
+pub enum GatewayError {
+    /// The kernel refused the (built-in) configuration.
+    Config(ConfigError),
+    /// A socket, thread or runtime could not be set up.
+    Io(String),
+}
+
+impl From<ConfigError> for GatewayError {
+    fn from(e: ConfigError) -> Self {
+        GatewayError::Config(e)
+    }
+}
+
+/// Runs the gateway (or prints results for `o.results`); returns the text
+/// to print: the JSON results lines, or the scan-loop statistics.
+pub fn run_gateway(o: &Options) -> Result<String, GatewayError> {
+    let Options {
+        port,
+        scan_ms,
+        run_for_s: run_for,
+        order,
+        max_connections,
+        max_rate,
+        idle_s: idle,
+        results,
+    } = *o;
     let mut plant = Plant::new(scan_ms, order)?;
-    if let Some(r) = p.get("results") {
-        let (from, to) = parse_range(r)?;
+    if let Some((from, to)) = results {
         let mut out = String::new();
         for k in 1..=to {
             plant.step();
@@ -670,21 +754,6 @@ fn run(p: &Parsed) -> Result<String, CliError> {
         }
         return Ok(out);
     }
-    let port = p
-        .get("port")
-        .map_or(Ok(5020), |t| count("port", t, 0, 65_535))?;
-    let run_for = p
-        .get("run-for-s")
-        .map_or(Ok(60), |t| count("run-for-s", t, 1, 86_400))?;
-    let max_connections = p
-        .get("max-connections")
-        .map_or(Ok(128), |t| count("max-connections", t, 1, 1000))?;
-    let max_rate = p
-        .get("max-rate")
-        .map_or(Ok(200), |t| count("max-rate", t, 1, 100_000))?;
-    let idle = p
-        .get("idle-s")
-        .map_or(Ok(10), |t| count("idle-s", t, 1, 3600))?;
 
     plant.step();
     let (tx, rx) = mpsc::sync_channel(16);
@@ -707,14 +776,14 @@ fn run(p: &Parsed) -> Result<String, CliError> {
         std::thread::Builder::new()
             .name("scan-loop".into())
             .spawn(move || scan_loop(plant, period, shared, rx, stop))
-            .map_err(|e| CliError::Input(format!("cannot start the scan loop: {e}")))?
+            .map_err(|e| GatewayError::Io(format!("cannot start the scan loop: {e}")))?
     };
     let runtime = tokio::runtime::Builder::new_current_thread()
         .enable_all()
         .build()
-        .map_err(|e| CliError::Input(format!("cannot start the server runtime: {e}")))?;
+        .map_err(|e| GatewayError::Io(format!("cannot start the server runtime: {e}")))?;
     let served = runtime.block_on(serve(
-        SocketAddr::from(([127, 0, 0, 1], port as u16)),
+        SocketAddr::from(([127, 0, 0, 1], port)),
         Arc::clone(&shared),
         Duration::from_secs(u64::from(idle)),
         Duration::from_secs(u64::from(run_for)),
@@ -722,8 +791,8 @@ fn run(p: &Parsed) -> Result<String, CliError> {
     stop.store(true, Ordering::Relaxed);
     let stats = loop_thread
         .join()
-        .map_err(|_| CliError::Input("the scan loop stopped abnormally".into()))?;
-    served.map_err(|e| CliError::Input(format!("server: {e}")))?;
+        .map_err(|_| GatewayError::Io("the scan loop stopped abnormally".into()))?;
+    served.map_err(|e| GatewayError::Io(format!("server: {e}")))?;
     let mean = stats.periods_ms.iter().sum::<f64>() / stats.periods_ms.len().max(1) as f64;
     let max = stats.periods_ms.iter().copied().fold(0.0, f64::max);
     Ok(format!(
