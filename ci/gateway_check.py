@@ -330,7 +330,7 @@ def main():
     print(f"load: 100 clients for {duration:.0f} s: {counts['ok']} responses checked against the kernel's results, "
           f"{counts['wrong']} wrong, {counts['errors']} errors; scan loop ({SCAN_MS} ms): "
           f"mean {stats['period_mean_ms']} ms, p99 {stats['period_p99_ms']} ms, max {stats['period_max_ms']} ms, "
-          f"late scans {stats['late_scans']}, requests served {stats['requests']}", flush=True)
+          f"late scans {stats['late_scans']}, work per scan p99 {stats['work_p99_ms']} ms, real-time priority {stats['realtime_priority']}, requests served {stats['requests']}", flush=True)
     check(counts["wrong"] == 0 and counts["errors"] == 0, f"load: {counts}")
     check(counts["ok"] > 1000, f"load: only {counts['ok']} responses")
     check(abs(stats["period_mean_ms"] - SCAN_MS) < 0.1 * SCAN_MS, f"scan period under load: {stats}")

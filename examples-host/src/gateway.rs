@@ -587,6 +587,26 @@ struct LoopStats {
     periods_ms: Vec<f64>,
     work_ms: Vec<f64>,
     late: u64,
+    realtime: bool,
+}
+
+/// Asks for a real-time (FIFO) priority for the calling thread, as a
+/// gateway runs its control loop; `false` where that is not permitted (the
+/// loop then runs at normal priority).
+fn realtime_priority() -> bool {
+    use thread_priority::{
+        set_thread_priority_and_policy, thread_native_id, RealtimeThreadSchedulePolicy,
+        ThreadPriority, ThreadSchedulePolicy,
+    };
+    let Ok(value) = 50u8.try_into() else {
+        return false;
+    };
+    set_thread_priority_and_policy(
+        thread_native_id(),
+        ThreadPriority::Crossplatform(value),
+        ThreadSchedulePolicy::Realtime(RealtimeThreadSchedulePolicy::Fifo),
+    )
+    .is_ok()
 }
 
 fn percentile(v: &[f64], p: f64) -> f64 {
@@ -604,7 +624,10 @@ fn scan_loop(
     commands: mpsc::Receiver<registers::Command>,
     stop: Arc<AtomicBool>,
 ) -> LoopStats {
-    let mut stats = LoopStats::default();
+    let mut stats = LoopStats {
+        realtime: realtime_priority(),
+        ..LoopStats::default()
+    };
     let mut next = Instant::now();
     let mut last: Option<Instant> = None;
     while !stop.load(Ordering::Relaxed) {
@@ -797,11 +820,12 @@ pub fn run_gateway(o: &Options) -> Result<String, GatewayError> {
     let max = stats.periods_ms.iter().copied().fold(0.0, f64::max);
     Ok(format!(
         "{{\"scans\":{},\"scan_ms\":{scan_ms},\"period_mean_ms\":{mean:.3},\"period_p99_ms\":{:.3},\"period_max_ms\":{max:.3},\
-         \"work_p99_ms\":{:.3},\"late_scans\":{},\"requests\":{},\"exceptions\":{},\"refused_connections\":{},\"idle_closed\":{}}}\n",
+         \"work_p99_ms\":{:.3},\"late_scans\":{},\"realtime_priority\":{},\"requests\":{},\"exceptions\":{},\"refused_connections\":{},\"idle_closed\":{}}}\n",
         stats.periods_ms.len() + 1,
         percentile(&stats.periods_ms, 0.99),
         percentile(&stats.work_ms, 0.99),
         stats.late,
+        stats.realtime,
         shared.requests.load(Ordering::Relaxed),
         shared.exceptions.load(Ordering::Relaxed),
         shared.refused_connections.load(Ordering::Relaxed),
