@@ -196,7 +196,7 @@ def raw_request(port, pdu):
 
 def main():
     print(f"gateway check: map of {IMAGE_LEN} input registers, {len(INPUT)} rows; binary {' '.join(BIN)}", flush=True)
-    gw, port = start("--run-for-s", "60", "--idle-s", "2", "--max-rate", "5000")
+    gw, port = start("--run-for-s", "60", "--idle-s", "2", "--max-rate", "5000", "--max-connections", "8")
     try:
         c = client(port)
         # 1. values and qualities of a live scan against the kernel's results.
@@ -266,6 +266,21 @@ def main():
         closed = stalled.recv(16) == b""  # blocks until the server closes it (idle 2 s) or 5 s pass
         check(closed, "stalled connection not closed")
         print(f"stalled client: {scans} scans in 1 s while it stalled; closed after {time.monotonic() - t0:.1f} s idle", flush=True)
+
+        # 5. bounded connections: with 8 open, a 9th is closed at once; the others keep working.
+        extra = [socket.create_connection(("127.0.0.1", port), timeout=5) for _ in range(7)]
+        time.sleep(0.2)
+        ninth = socket.create_connection(("127.0.0.1", port), timeout=5)
+        refused = ninth.recv(16) == b""
+        check(refused, "a 9th connection was not refused")
+        check(not c.read_input_registers(0, count=18).isError(), "serving while at the connection limit")
+        for s in extra + [ninth]:
+            s.close()
+        time.sleep(0.2)
+        again = client(port)
+        check(not again.read_input_registers(0, count=18).isError(), "a new connection after others closed")
+        again.close()
+        print("connections: with 8 open a 9th is closed at once; the 8 keep working; a slot frees when one closes", flush=True)
         c.close()
     finally:
         gw.terminate()
@@ -274,11 +289,18 @@ def main():
     if QUICK:
         finish()
         return
-    # 5. 100 clients reading in a loop; the scan loop's period measured by the gateway.
+    # 6. 100 clients reading in a loop; the scan loop's period measured by the gateway.
     duration = 4.0
-    gw, port = start("--run-for-s", "7", "--max-connections", "150", "--max-rate", "1000")
+    gw, port = start("--run-for-s", "8", "--max-connections", "150", "--max-rate", "200")
     first = client(port)
     k0 = u32(first.read_input_registers(0, count=18).registers[12:14], 0)
+    # The per-connection rate bound: 100 requests at 200 per second take at least 0.5 s.
+    t0 = time.monotonic()
+    for _ in range(100):
+        first.read_input_registers(0, count=2)
+    took = time.monotonic() - t0
+    check(took >= 0.45, f"rate bound: 100 requests in {took:.3f} s")
+    print(f"rate bound: 100 requests on one connection at --max-rate 200 took {took:.2f} s", flush=True)
     first.close()
     table = expected(k0, k0 + int(12 * 1000 / SCAN_MS))
     stage1 = [r for r in INPUT if r["block"] == "stage" and r["instance"] == "1" and r["quality_address"]]

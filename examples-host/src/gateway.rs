@@ -481,7 +481,9 @@ impl Shared {
                     .try_send(c)
                     .map_err(|_| ExceptionCode::ServerDeviceBusy)?;
                 let mut block = lock(&self.holding);
-                block.copy_from_slice(&words);
+                for (dst, w) in block.iter_mut().zip(words.iter()) {
+                    *dst = *w;
+                }
                 Ok(Response::WriteMultipleRegisters(addr, words.len() as u16))
             }
             Request::WriteSingleRegister(addr, _) => {
