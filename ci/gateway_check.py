@@ -148,14 +148,17 @@ def check_status_and_scaled(regs, exp, status, order):
         pump = bool(st & (1 << 15))
         check(pump == (i == 5), f"stage {i} pump bit")
         if not pump:
-            check((st >> 4) & 0xF == exp[f"stage.{i}.condition"], f"stage {i} condition code")
+            check((st >> 4) & 0xF == exp[f"stage.{i}.condition_code"][0], f"stage {i} condition code")
         check(bool(st & (1 << 8)) == exp[f"stage.{i}.steady_state"], f"stage {i} steady bit")
-        check(bool(status[("cooler", str(i))] & 4) == (f"cooler.{i}.condition" in exp), f"cooler {i} present bit")
+        present = f"cooler.{i}.condition" in exp
+        check(bool(status[("cooler", str(i))] & 4) == present, f"cooler {i} present bit")
+        if present:
+            check((status[("cooler", str(i))] >> 4) & 0xF == exp[f"cooler.{i}.condition_code"][0], f"cooler {i} condition code")
     s = status[("surge", "1")]
     check(bool(s & (1 << 9)) == exp["surge.1.trip_request"], "surge trip bit")
     check(bool(s & (1 << 10)) == exp["surge.1.detection_blind"], "surge blind bit")
     for i in (1, 2):
-        check((status[("channel", str(i))] >> 4) & 0xF == exp[f"channel.{i}.fault_code"], f"channel {i} fault code")
+        check((status[("channel", str(i))] >> 4) & 0xF == exp[f"channel.{i}.condition_code"][0], f"channel {i} fault code")
     n = 0
     for r in INPUT:
         if r["block"] != "scaled" or r["type"] == "reserved":

@@ -345,24 +345,31 @@ impl Plant {
         let snap = self.train.snapshot();
         let mut s = format!("{{\"scan_count\":{},\"fields\":{{", snap.scan_count);
         let mut first = true;
-        let mut put = |block: &str, inst: usize, key: &str, v: FieldValue<f32>| {
-            let text = match v {
-                FieldValue::Real(m) => format!("[{:?},\"{}\"]", m.value, quality_name(m.quality)),
-                FieldValue::Plain(x) => format!("[{x:?},\"good\"]"),
-                FieldValue::Count(n) => format!("[{n},\"good\"]"),
-                FieldValue::Flag(b) => format!("{b}"),
-                FieldValue::Condition(c) => format!("{c}"),
-            };
+        let mut raw = |block: &str, inst: usize, key: &str, text: &str| {
             if !first {
                 s.push(',');
             }
             first = false;
             let _ = write!(s, "\"{block}.{inst}.{key}\":{text}");
         };
+        let json = |v: FieldValue<f32>| match v {
+            FieldValue::Real(m) => format!("[{:?},\"{}\"]", m.value, quality_name(m.quality)),
+            FieldValue::Plain(x) => format!("[{x:?},\"good\"]"),
+            FieldValue::Count(n) => format!("[{n},\"good\"]"),
+            FieldValue::Flag(b) => format!("{b}"),
+            FieldValue::Tag(t) => format!("\"{t}\""),
+        };
+        let mut put = |block: &str, inst: usize, key: &str, v: FieldValue<f32>| {
+            raw(block, inst, key, &json(v));
+        };
         for (i, st) in snap.stages.iter().enumerate() {
             let mut v = |f: &registers::FieldSpec, x| put("stage", i + 1, f.key, x);
             match &st.work {
-                StageWork::Compressor(c) => c.visit_fields(&mut v),
+                StageWork::Compressor(c) => {
+                    c.visit_fields(&mut v);
+                    let code = registers::stage_condition_code(c.condition);
+                    v(&CODE, FieldValue::Count(u32::from(code)));
+                }
                 StageWork::Pump(p) => p.visit_fields(&mut v),
             }
             st.steady_state.visit_fields(&mut v);
@@ -370,6 +377,13 @@ impl Plant {
         for (i, c) in snap.coolers.iter().enumerate() {
             if let Some(c) = c {
                 c.visit_fields(&mut |f, x| put("cooler", i + 1, f.key, x));
+                let code = registers::cooler_condition_code(c.condition);
+                put(
+                    "cooler",
+                    i + 1,
+                    CODE.key,
+                    FieldValue::Count(u32::from(code)),
+                );
             }
         }
         for (i, p) in snap.interstage.iter().enumerate() {
@@ -386,25 +400,29 @@ impl Plant {
             .detection
             .visit_fields(&mut |f, x| put("surge", 1, f.key, x));
         for (i, out) in self.outputs.iter().enumerate() {
-            registers::fields::visit_channel(out, &mut |f, x| put("channel", i + 1, f.key, x));
-            put(
-                "channel",
-                i + 1,
-                "fault_code",
-                FieldValue::Condition(out.status.fault.code()),
-            );
+            out.visit_fields(&mut |f, x| put("channel", i + 1, f.key, x));
+            let code = u32::from(out.status.fault.code());
+            put("channel", i + 1, CODE.key, FieldValue::Count(code));
         }
         s.push_str("}}\n");
         s
     }
 }
 
+/// The status-word code in the results lines (`condition_code`: stage or
+/// cooler condition, channel fault code), as the register image carries it.
+static CODE: registers::FieldSpec = registers::FieldSpec {
+    name: "code",
+    key: "condition_code",
+    label: "Status-word code",
+    unit: "",
+    kind: registers::QuantityKind::Count,
+    derivation: polytrope::fields::Derivation::Exact,
+    meaning: "The state code of the block's status word.",
+};
+
 fn quality_name(q: Quality) -> &'static str {
-    match q {
-        Quality::Good => "good",
-        Quality::Uncertain => "uncertain",
-        Quality::Bad => "bad",
-    }
+    q.as_str()
 }
 
 // ---- the server ------------------------------------------------------------

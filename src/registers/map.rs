@@ -4,7 +4,6 @@
 
 use core::fmt::{self, Write};
 
-use super::fields::{FieldKind, FieldSpec, ResultFields, CHANNEL_FIELDS};
 use super::{
     block_head, block_len, command, crc32_update, derived, header, quality_code,
     scaled_stage_source, CommandKind, Layout, Scaled, COMMAND_REGISTERS, SCALED_CHANNEL,
@@ -12,8 +11,11 @@ use super::{
     STAGE_WORK_SLOTS, STATUS_CODE_SHIFT, STATUS_FIRST_FLAG, SUMMARY_CHANNEL_BAD,
     SUMMARY_EVENT_UNACKNOWLEDGED, SUMMARY_TRIP_REQUEST, SURGE_STATE_SLOTS,
 };
+use super::{registers_of, FieldSpec, QuantityKind, ResultFields};
 use crate::cooler::{CoolerCondition, CoolerResult};
-use crate::signal::FaultCode;
+use crate::fields::Derivation;
+use crate::quality::FaultCode;
+use crate::signal::ChannelOutput;
 use crate::stage::{CompressorResult, PumpResult, StageCondition};
 use crate::staging::{InterstagePressure, TrainTotals};
 use crate::steady::SteadyState;
@@ -28,6 +30,7 @@ const INTERSTAGE: &[FieldSpec] = <InterstagePressure<F> as ResultFields<F>>::FIE
 const TOTALS: &[FieldSpec] = <TrainTotals<F> as ResultFields<F>>::FIELDS;
 const SURGE: &[FieldSpec] = <SurgeState<F> as ResultFields<F>>::FIELDS;
 const DETECTION: &[FieldSpec] = <DetectionState<F> as ResultFields<F>>::FIELDS;
+const CHANNEL_FIELDS: &[FieldSpec] = <ChannelOutput<F> as ResultFields<F>>::FIELDS;
 
 /// How a register (or register pair) is encoded.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -260,12 +263,12 @@ const HEADER_ROWS: &[HeaderRow] = &[
 
 /// The `s`-th value slot of a field list.
 fn slot_field(fields: &'static [FieldSpec], s: usize) -> Option<&'static FieldSpec> {
-    fields.iter().filter(|f| f.kind.registers() == 2).nth(s)
+    fields.iter().filter(|f| registers_of(f.kind) == 2).nth(s)
 }
 
 fn value_encoding(f: &FieldSpec) -> Encoding {
     match f.kind {
-        FieldKind::Count => Encoding::U32,
+        QuantityKind::Count => Encoding::U32,
         _ => Encoding::F32,
     }
 }
@@ -349,10 +352,13 @@ fn block_rows(
 
 /// Placeholder for "no field in this place" (pump column).
 static NO_FIELD: FieldSpec = FieldSpec {
+    name: "",
     key: "",
     label: "(not used: quality 3)",
     unit: "",
-    kind: FieldKind::Real,
+    kind: QuantityKind::Fraction,
+    derivation: Derivation::Exact,
+    meaning: "",
 };
 
 fn scaled_rows(
@@ -649,51 +655,71 @@ fn encoding_text(w: &mut dyn Write, e: Encoding) -> fmt::Result {
     }
 }
 
-const STAGE_CONDITIONS: [(StageCondition, &str); 5] = [
-    (StageCondition::Normal, "normal"),
-    (StageCondition::InputBad, "input-bad"),
-    (StageCondition::NoCompression, "no-compression"),
-    (StageCondition::NoTemperatureRise, "no-temperature-rise"),
-    (StageCondition::EfficiencyAboveOne, "efficiency-above-one"),
+/// The status-word code of a stage condition (stable: a new condition
+/// gets the next code; the match fails to compile until it has one).
+pub const fn stage_condition_code(c: StageCondition) -> u8 {
+    match c {
+        StageCondition::Normal => 0,
+        StageCondition::InputBad => 1,
+        StageCondition::NoCompression => 2,
+        StageCondition::NoTemperatureRise => 3,
+        StageCondition::EfficiencyAboveOne => 4,
+    }
+}
+
+/// The status-word code of a cooler condition (stable, as above).
+pub const fn cooler_condition_code(c: CoolerCondition) -> u8 {
+    match c {
+        CoolerCondition::Normal => 0,
+        CoolerCondition::InputBad => 1,
+        CoolerCondition::OutletAboveInlet => 2,
+        CoolerCondition::OutletBelowCoolant => 3,
+        CoolerCondition::NoDrivingDifference => 4,
+    }
+}
+
+const STAGE_CONDITIONS: [StageCondition; 5] = [
+    StageCondition::Normal,
+    StageCondition::InputBad,
+    StageCondition::NoCompression,
+    StageCondition::NoTemperatureRise,
+    StageCondition::EfficiencyAboveOne,
 ];
-const COOLER_CONDITIONS: [(CoolerCondition, &str); 5] = [
-    (CoolerCondition::Normal, "normal"),
-    (CoolerCondition::InputBad, "input-bad"),
-    (CoolerCondition::OutletAboveInlet, "outlet-above-inlet"),
-    (CoolerCondition::OutletBelowCoolant, "outlet-below-coolant"),
-    (
-        CoolerCondition::NoDrivingDifference,
-        "no-driving-difference",
-    ),
+const COOLER_CONDITIONS: [CoolerCondition; 5] = [
+    CoolerCondition::Normal,
+    CoolerCondition::InputBad,
+    CoolerCondition::OutletAboveInlet,
+    CoolerCondition::OutletBelowCoolant,
+    CoolerCondition::NoDrivingDifference,
 ];
-const FAULTS: [(FaultCode, &str); 15] = [
-    (FaultCode::None, "none"),
-    (FaultCode::Ne43FailureLow, "ne43-failure-low"),
-    (FaultCode::Ne43FailureHigh, "ne43-failure-high"),
-    (FaultCode::Ne43SaturatedLow, "ne43-saturated-low"),
-    (FaultCode::Ne43SaturatedHigh, "ne43-saturated-high"),
-    (FaultCode::SignalOutOfRange, "signal-out-of-range"),
-    (FaultCode::NotFinite, "not-finite"),
-    (FaultCode::TimeNotAdvancing, "time-not-advancing"),
-    (FaultCode::OutOfRange, "out-of-range"),
-    (FaultCode::Spike, "spike"),
-    (FaultCode::Frozen, "frozen"),
-    (FaultCode::CrossCheck, "cross-check"),
-    (FaultCode::ZeroOffset, "zero-offset"),
-    (FaultCode::OutsideValidity, "outside-validity"),
-    (FaultCode::InputBad, "input-bad"),
+
+const FAULTS: [FaultCode; 14] = [
+    FaultCode::None,
+    FaultCode::Ne43FailureLow,
+    FaultCode::Ne43FailureHigh,
+    FaultCode::Ne43SaturatedLow,
+    FaultCode::Ne43SaturatedHigh,
+    FaultCode::SignalOutOfRange,
+    FaultCode::NotFinite,
+    FaultCode::TimeNotAdvancing,
+    FaultCode::OutOfRange,
+    FaultCode::Spike,
+    FaultCode::Frozen,
+    FaultCode::CrossCheck,
+    FaultCode::ZeroOffset,
+    FaultCode::InputBad,
 ];
 
 /// The state codes of the status words, as (block, code, name).
 pub fn state_codes(visit: &mut dyn FnMut(&'static str, u8, &'static str)) {
-    for (c, name) in STAGE_CONDITIONS {
-        visit("stage", c as u8, name);
+    for c in STAGE_CONDITIONS {
+        visit("stage", stage_condition_code(c), c.as_str());
     }
-    for (c, name) in COOLER_CONDITIONS {
-        visit("cooler", c as u8, name);
+    for c in COOLER_CONDITIONS {
+        visit("cooler", cooler_condition_code(c), c.as_str());
     }
-    for (c, name) in FAULTS {
-        visit("channel", c.code(), name);
+    for f in FAULTS {
+        visit("channel", f.code(), f.as_str());
     }
 }
 
@@ -709,7 +735,7 @@ fn flag_bits(block: &str) -> impl Iterator<Item = (u16, &'static FieldSpec)> {
     lists
         .iter()
         .flat_map(|l| l.iter())
-        .filter(|f| f.kind == FieldKind::Flag)
+        .filter(|f| f.kind == QuantityKind::Flag)
         .enumerate()
         .map(|(i, f)| (STATUS_FIRST_FLAG + i as u16, f))
 }

@@ -41,13 +41,12 @@
 //! **Caution.** The image carries advisory values and an advisory trip
 //! request; it is not a certified safety function (IEC 61508 / IEC 61511).
 
-pub mod fields;
 mod map;
 
-pub use fields::{FieldKind, FieldSpec, FieldValue, ResultFields};
+pub use crate::fields::{FieldSpec, FieldValue, QuantityKind, ResultFields};
 pub use map::{
-    derived_bits, map_checksum, state_codes, visit_map, write_map_csv, write_map_markdown,
-    DerivedBit, Encoding, MapRow,
+    cooler_condition_code, derived_bits, map_checksum, stage_condition_code, state_codes,
+    visit_map, write_map_csv, write_map_markdown, DerivedBit, Encoding, MapRow,
 };
 
 use crate::cooler::CoolerResult;
@@ -192,12 +191,22 @@ pub const SCALED_CHANNEL: &[Scaled] = &[scaled("filtered_value", 10.0, "0.1 SI",
 
 // ---- sizes, all known at compile time ----------------------------------
 
+/// Registers a field of this kind takes in its block's value area: two
+/// (IEEE 754 single precision, or unsigned 32-bit for counts), none for
+/// yes/no fields (status bits) and named states (the status word's code).
+pub const fn registers_of(kind: QuantityKind) -> usize {
+    match kind {
+        QuantityKind::Flag | QuantityKind::Condition => 0,
+        _ => 2,
+    }
+}
+
 /// Value slots (two registers each) a field list takes.
 pub const fn slots(fields: &[FieldSpec]) -> usize {
     let mut n = 0;
     let mut rest = fields;
     while let [f, tail @ ..] = rest {
-        n += f.kind.registers() / 2;
+        n += registers_of(f.kind) / 2;
         rest = tail;
     }
     n
@@ -254,7 +263,7 @@ pub const SURGE_STATE_SLOTS: usize = slots(<SurgeState<F> as ResultFields<F>>::F
 pub const SURGE_SLOTS: usize =
     SURGE_STATE_SLOTS + slots(<DetectionState<F> as ResultFields<F>>::FIELDS);
 /// Value slots of a channel block.
-pub const CHANNEL_SLOTS: usize = slots(fields::CHANNEL_FIELDS);
+pub const CHANNEL_SLOTS: usize = slots(<ChannelOutput<F> as ResultFields<F>>::FIELDS);
 
 /// Registers of the header.
 pub const HEADER_LEN: usize = 18;
@@ -376,13 +385,41 @@ pub struct SurgeView<T> {
 /// `R = image_len(N, M, C)` registers (checked at compile time).
 ///
 /// ```
-/// use polytrope::registers::{image_len, RegisterImage, WordOrder};
-/// use polytrope::demo;
-/// const R: usize = image_len(demo::STAGES, 0, 0);
-/// let mut train = demo::train::<f32>()?;
-/// let mut image = RegisterImage::<{ demo::STAGES }, 0, 0, R>::new(WordOrder::HighWordFirst, 0x1234_5678);
-/// image.pack(train.update(&demo::scan(0)), &[], &[]);
-/// assert_eq!(image.registers()[12..14], [0, 1]); // scan counter 1, high word first
+/// use polytrope::gas::{IdealGas, AIR};
+/// use polytrope::registers::{header, image_len, quality_code, RegisterImage, WordOrder};
+/// use polytrope::scan::{Scan, StageScan};
+/// use polytrope::steady::SteadyStateConfig;
+/// use polytrope::train::{StageConfig, StageKind, Train, TrainConfig};
+/// use polytrope::units::PressureAbs;
+///
+/// let stage = |p1: f32, p2: f32| StageConfig {
+///     kind: StageKind::Compressor,
+///     design_suction_pressure: PressureAbs::from_bar(p1),
+///     design_discharge_pressure: PressureAbs::from_bar(p2),
+///     cooler: None,
+/// };
+/// let config = TrainConfig {
+///     gas: IdealGas::from_spec(&AIR, false, 1.0)?,
+///     stages: [stage(1.0, 3.0), stage(2.9, 9.0)],
+///     max_interstage_pressure_drop: 0.1,
+///     steady_state: SteadyStateConfig::default(),
+/// };
+/// let mut train = Train::<f32, _, 2, 8>::new(config)?;
+/// let scan = Scan { stages: [
+///     StageScan::from_si(1.0e5, 300.0, 3.0e5, 430.0),
+///     StageScan::from_si(2.9e5, 305.0, 9.0e5, 440.0),
+/// ] };
+/// // Two stages, no surge monitor, no channel.
+/// const R: usize = image_len(2, 0, 0);
+/// let mut image = RegisterImage::<2, 0, 0, R>::new(WordOrder::HighWordFirst, 0x1234_5678);
+/// image.pack(train.update(&scan), &[], &[]);
+/// let regs = image.registers();
+/// assert_eq!(regs[header::SCAN_COUNT..header::SCAN_COUNT + 2], [0, 1]); // high word first
+/// let stage_1 = RegisterImage::<2, 0, 0, R>::LAYOUT.stages;
+/// // Value slot 0 (the pressure ratio) is good; the block's worst quality is
+/// // bad, because without a mass flow there is no gas power.
+/// assert_eq!(regs[stage_1 + 1] & 3, quality_code::GOOD);
+/// assert_eq!(regs[stage_1] & 3, quality_code::BAD);
 /// # Ok::<(), polytrope::ConfigError>(())
 /// ```
 ///
@@ -533,7 +570,8 @@ impl<'a> Block<'a> {
                 }
                 self.flag += 1;
             }
-            FieldValue::Condition(c) => self.code(u16::from(c)),
+            // Named states go into the status word from the typed value.
+            FieldValue::Tag(_) => {}
         }
     }
 
@@ -579,13 +617,13 @@ pub const fn slot_of(fields: &[FieldSpec], key: &str) -> Option<usize> {
     let mut rest = fields;
     while let [f, tail @ ..] = rest {
         if str_eq(f.key, key) {
-            return if f.kind.registers() == 2 {
+            return if registers_of(f.kind) == 2 {
                 Some(slot)
             } else {
                 None
             };
         }
-        slot += f.kind.registers() / 2;
+        slot += registers_of(f.kind) / 2;
         rest = tail;
     }
     None
@@ -653,7 +691,11 @@ const SRC_SURGE: [u8; N_SURGE] = resolve(
     <SurgeState<F> as ResultFields<F>>::FIELDS,
     false,
 );
-const SRC_CHANNEL: [u8; N_CHANNEL] = resolve(SCALED_CHANNEL, fields::CHANNEL_FIELDS, false);
+const SRC_CHANNEL: [u8; N_CHANNEL] = resolve(
+    SCALED_CHANNEL,
+    <ChannelOutput<F> as ResultFields<F>>::FIELDS,
+    false,
+);
 
 /// The scaled source slot of entry `i` of a stage of the given kind
 /// (`None`: the kind has no such field).
@@ -707,12 +749,7 @@ impl<const N: usize, const M: usize, const C: usize, const R: usize> RegisterIma
         put(regs, header::SURGE_BLOCKS, M as u16);
         put(regs, header::CHANNEL_BLOCKS, C as u16);
         put32(regs, header::CONFIG_CHECKSUM, config_checksum, order);
-        put32(
-            regs,
-            header::MAP_CHECKSUM,
-            map::map_checksum(N, M, C),
-            order,
-        );
+        put32(regs, header::MAP_CHECKSUM, Self::MAP_CHECKSUM, order);
         put(regs, header::SUMMARY, quality_code::NOT_APPLICABLE);
         image
     }
@@ -767,6 +804,7 @@ impl<const N: usize, const M: usize, const C: usize, const R: usize> RegisterIma
             let pump = match &st.work {
                 StageWork::Compressor(c) => {
                     c.visit_fields(&mut |_, v| b.field(v));
+                    b.code(u16::from(map::stage_condition_code(c.condition)));
                     false
                 }
                 StageWork::Pump(p) => {
@@ -786,6 +824,7 @@ impl<const N: usize, const M: usize, const C: usize, const R: usize> RegisterIma
             let mut b = Block::start(&mut self.regs, base, COOLER_SLOTS, order);
             if let Some(c) = c {
                 c.visit_fields(&mut |_, v| b.field(v));
+                b.code(u16::from(map::cooler_condition_code(c.condition)));
             }
             worst(b.finish(c.is_some(), 0));
         }
@@ -844,7 +883,7 @@ impl<const N: usize, const M: usize, const C: usize, const R: usize> RegisterIma
         for (i, ch) in channels.iter().enumerate() {
             let base = l.channels + i * block_len(CHANNEL_SLOTS);
             let mut b = Block::start(&mut self.regs, base, CHANNEL_SLOTS, order);
-            fields::visit_channel(ch, &mut |_, v| b.field(v));
+            ch.visit_fields(&mut |_, v| b.field(v));
             b.code(u16::from(ch.status.fault.code()));
             // The channel's own quality rules its block (a held value is
             // uncertain even when the held sample was good).
@@ -1042,4 +1081,5 @@ pub const fn crc32_update(mut crc: u32, bytes: &[u8]) -> u32 {
 }
 
 #[cfg(test)]
+#[cfg(feature = "demo")]
 mod tests;

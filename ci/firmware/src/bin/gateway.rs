@@ -11,7 +11,6 @@
 use core::hint::black_box;
 
 use cortex_m_rt::entry;
-use cortex_m_semihosting::debug;
 use polytrope::demo;
 use polytrope::registers::{decode_command, SurgeView, WordOrder};
 use polytrope_firmware::codec::decode_scan;
@@ -26,9 +25,7 @@ fn main() -> ! {
         front::surge_monitor(),
         front::pressure_channel(),
     ) else {
-        debug::exit(debug::EXIT_FAILURE);
-        #[allow(clippy::empty_loop)]
-        loop {}
+        polytrope_firmware::exit(false)
     };
     let scan = decode_scan::<f32, { demo::STAGES }>(black_box(&MINIMAL_SCAN));
     let state = *monitor.update(&front::surge_scan(k), black_box(0.0));
@@ -51,16 +48,7 @@ fn main() -> ! {
         image.record_command(c);
     }
     black_box(image.registers());
-    debug::exit(debug::EXIT_SUCCESS);
-    #[allow(clippy::empty_loop)]
-    loop {}
+    polytrope_firmware::exit(true)
 }
 
-#[panic_handler]
-fn panic(_: &core::panic::PanicInfo) -> ! {
-    extern "C" {
-        fn polytrope_reachable_panic_path() -> !;
-    }
-    // SAFETY: never defined; a reachable panic fails the link (by design).
-    unsafe { polytrope_reachable_panic_path() }
-}
+polytrope_firmware::link_time_panic_handler!();
