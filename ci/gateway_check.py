@@ -157,6 +157,8 @@ def check_status_and_scaled(regs, exp, status, order):
     s = status[("surge", "1")]
     check(bool(s & (1 << 9)) == exp["surge.1.trip_request"], "surge trip bit")
     check(bool(s & (1 << 10)) == exp["surge.1.detection_blind"], "surge blind bit")
+    check(bool(s & (1 << 11)) == exp["surge.1.detection_armed"], "surge armed bit")
+    check((s >> 4) & 0xF == exp["surge.1.condition_code"][0], "surge fault code")
     for i in (1, 2):
         check((status[("channel", str(i))] >> 4) & 0xF == exp[f"channel.{i}.condition_code"][0], f"channel {i} fault code")
     n = 0
@@ -243,7 +245,7 @@ def main():
         check(not c.read_input_registers(0, count=18).isError(), "serving after the exceptions")
         print(f"exceptions: {len(cases) + len(raw)} cases answered with the expected code; still serving", flush=True)
 
-        # 3. commands: reset the control-line shift, acknowledge surge events.
+        # 3. commands: reset the added margin, acknowledge surge events, reset the trip request.
         for code, seq in ((2, 4242), (1, 4243), (3, 4244)):
             r = c.write_registers(0, [code, 0, 0xFFFF ^ code, seq])
             check(not r.isError(), f"command {code} refused: {r}")
@@ -255,7 +257,7 @@ def main():
             check(h[HEADER["command_sequence"]] == seq and h[HEADER["command_code"]] == code, f"command {code} not echoed")
         hr = c.read_holding_registers(0, count=4).registers
         check(hr == [3, 0, 0xFFFF ^ 3, 4244], f"command block read-back {hr}")
-        print("commands: reset-control-line-shift, acknowledge-surge-events, reset-trip-request carried out and echoed", flush=True)
+        print("commands: reset-added-margin, acknowledge-surge-events, reset-trip-request carried out and echoed", flush=True)
 
         # 4. a stalled client (half a request, then silence) blocks nobody and is closed when idle.
         stalled = socket.create_connection(("127.0.0.1", port), timeout=5)

@@ -26,7 +26,7 @@ use crate::signal::ChannelOutput;
 use crate::stage::{CompressorResult, PumpResult, StageCondition};
 use crate::staging::{InterstagePressure, TrainTotals};
 use crate::steady::SteadyState;
-use crate::surge::{DetectionState, SurgeState};
+use crate::surge::{DetectionState, SurgeFault, SurgeState};
 use crate::tolerance::{self, Tolerance};
 use crate::train::{Snapshot, StageWork};
 use crate::units::{Kelvin, PressureAbs};
@@ -239,6 +239,12 @@ impl<T> IntoField<T> for CoolerCondition {
         FieldValue::Tag(self.as_str())
     }
 }
+impl<T> IntoField<T> for SurgeFault {
+    #[inline]
+    fn into_field(self) -> FieldValue<T> {
+        FieldValue::Tag(self.as_str())
+    }
+}
 /// A plain number (no quality) of the result's own type.
 struct Plain<T>(T);
 impl<T> IntoField<T> for Plain<T> {
@@ -418,37 +424,41 @@ result_fields!(TrainTotals {
 });
 
 result_fields!(SurgeState {
-    reduced_flow_squared: "reduced_flow_squared", "Reduced flow squared", "-", ReducedCoordinate,
-        Computed, "Flow-element differential pressure over suction pressure (reduced flow squared).";
-    reduced_head: "reduced_head", "Reduced head", "-", ReducedCoordinate, Computed,
-        "Reduced head (r^sigma - 1)/sigma, sigma = (n-1)/n.";
-    surge_reduced_flow_squared: "surge_reduced_flow_squared", "Reduced flow squared at surge", "-",
-        ReducedCoordinate, Computed, "The surge line's reduced flow squared at the same reduced head.";
+    flow_number: "flow_number", "Flow number X", "-", ReducedCoordinate, Computed,
+        "Live flow number X = flow-element differential pressure over suction pressure.";
+    head_number: "head_number", "Head number Y", "-", ReducedCoordinate, Computed,
+        "Live head number Y (reduced head from the pressure ratio).";
+    surge_flow_number: "surge_flow_number", "Surge-line flow number", "-", ReducedCoordinate,
+        Computed, "The surge line's flow number at the live head number.";
     margin: "surge_margin", "Surge margin", "-", SurgeMargin, Computed,
-        "Reduced flow over the surge line's at the same reduced head, minus 1 (0 on the surge line).";
-    control_margin: "control_margin", "Control margin", "-", SurgeMargin, PassThrough,
-        "Margin of the control line at this head (from the surge-line points).";
-    deviation: "control_line_deviation", "Deviation from the control line", "-", SurgeMargin,
-        Difference, "Surge margin minus control margin (and shift); below 0 inside the control line.";
+        "Surge margin m (0 on the surge line, 0.1 = 10 % more reduced flow than at surge).";
+    control_margin: "control_margin", "Control margin", "-", SurgeMargin, Computed,
+        "Effective control margin: the line's control margin plus the margin added after surge cycles.";
+    clearance: "control_line_clearance", "Clearance above the control line", "-", SurgeMargin,
+        Difference, "Surge margin minus control margin (above 0 safe, below 0 inside the control line).";
     rate_of_approach: "rate_of_approach_per_s", "Rate of approach", "1/s", Rate, Computed,
-        "Least-squares slope of the surge margin over the rate window (negative: approaching).";
+        "Rate of approach -dm/dt (above 0: approaching surge).";
     time_to_surge: "time_to_surge_s", "Time to surge", "s", Time, Computed,
-        "Margin over rate of approach, capped at the horizon.";
+        "Time to reach the surge line at the present rate, capped at the horizon.";
+    fault: "surge_fault", "Surge-margin fault", "", Condition, Exact,
+        "Why the margin is not good (`none`, `input-bad`, `input-uncertain`, `flow-dp-impossible`, `flow-dp-outside-validity`, `discharge-below-suction`, `beyond-map`).";
 });
 
 result_fields!(DetectionState {
     surge_this_scan: "surge_this_scan", "Surge cycle this scan", "", Flag, Exact,
-        "A surge cycle was detected at this scan.";
+        "A surge cycle was recognised at this scan.";
     event_count: "surge_event_count", "Surge events", "", Count, Exact,
-        "Surge cycles detected since the last reset of the control-line shift.";
+        "Surge cycles since the last operator reset of the count.";
     events_in_window: "surge_events_in_window", "Surge events in the trip window", "", Count, Exact,
         "Surge cycles within the trip window.";
-    control_line_shift [plain]: "control_line_shift", "Control-line shift", "-", SurgeMargin, Exact,
-        "How far detected surge cycles have moved the control line out.";
+    added_margin [plain]: "added_margin", "Margin added to the control line", "-", SurgeMargin,
+        Exact, "Margin the detected surge cycles have added to the control line.";
     trip_request: "trip_request", "Trip request", "", Flag, Exact,
-        "Advisory trip request: repeated surge cycles within the trip window.";
+        "Advisory trip request: repeated surge cycles within the trip window (latched until reset).";
     blind: "detection_blind", "Detection blind", "", Flag, Exact,
-        "Detection cannot see surge (bad flow or discharge pressure; window refilling).";
+        "The window holds too few good samples to detect (after bad data).";
+    armed: "detection_armed", "Detection armed", "", Flag, Exact,
+        "Ready to count a new cycle (false from a detection until the flow has recovered).";
 });
 
 /// The fields of a signal channel's output (its fault code and
@@ -659,6 +669,24 @@ impl FaultCode {
             FaultCode::CrossCheck => "cross-check",
             FaultCode::ZeroOffset => "zero-offset",
             FaultCode::InputBad => "input-bad",
+            FaultCode::ClockStep => "clock-step",
+        }
+    }
+}
+
+impl SurgeFault {
+    /// Stable kebab-case name (`none`, `input-bad`, `input-uncertain`,
+    /// `flow-dp-impossible`, `flow-dp-outside-validity`,
+    /// `discharge-below-suction`, `beyond-map`).
+    pub const fn as_str(self) -> &'static str {
+        match self {
+            SurgeFault::None => "none",
+            SurgeFault::InputBad => "input-bad",
+            SurgeFault::InputUncertain => "input-uncertain",
+            SurgeFault::FlowDpImpossible => "flow-dp-impossible",
+            SurgeFault::FlowDpOutsideValidity => "flow-dp-outside-validity",
+            SurgeFault::DischargeBelowSuction => "discharge-below-suction",
+            SurgeFault::BeyondMap => "beyond-map",
         }
     }
 }
@@ -1021,9 +1049,10 @@ mod tests {
             surge_this_scan: false,
             event_count: 0,
             events_in_window: 0,
-            control_line_shift: 0.0,
+            added_margin: 0.0,
             trip_request: false,
             blind: false,
+            armed: true,
         });
     }
 

@@ -87,7 +87,7 @@ const OPTIONS: &[Opt] = &[
     Opt {
         name: "scan-ms",
         value: Some("MS"),
-        help: "scan period in ms, 1 to 10000 (default 100)",
+        help: "scan period in ms, 1 to 1000 (default 100)",
     },
     Opt {
         name: "run-for-s",
@@ -138,8 +138,8 @@ pub fn register_map(csv: bool) -> Option<String> {
 
 // ---- the plant: demo train, surge monitor, detector, channels ------------
 
-type Monitor = SurgeMonitor<f32, 4, 10>;
-type Detector = SurgeDetector<f32, 10, 4>;
+type Monitor = SurgeMonitor<f32, 4>;
+type Detector = SurgeDetector<f32, 16, 4>;
 type Transmitter = Channel<f32, 8, 5>;
 
 /// Everything the scan loop owns.
@@ -214,6 +214,7 @@ fn surge_monitor(scan_s: f32) -> Result<Monitor, ConfigError> {
         MonitorConfig {
             scan_period: scan_s,
             time_to_surge_horizon: 60.0,
+            rate_filter_time: (0.1_f32).max(scan_s),
         },
     )
 }
@@ -229,15 +230,17 @@ impl Plant {
         let text = format!("{:?}|scan_ms={scan_ms}", train.config());
         let detector = Detector::new(DetectionConfig {
             scan_period: scan_s,
-            flow_dp_drop: 0.5,
+            window: (0.64_f32).max(4.0 * scan_s),
+            flow_lag: 0.1,
+            flow_dp_drop: 0.3,
             min_flow_dp: 500.0,
-            discharge_pressure_drop: 0.03,
-            suction_temperature_rise: 3.0,
-            holdoff: 0.5,
-            shift_per_event: 0.03,
-            max_shift: 0.08,
+            pressure_rise_drop: 0.1,
+            suction_temperature_rise: 2.0,
+            holdoff: 1.0,
+            added_margin_per_cycle: 0.02,
+            max_added_margin: 0.1,
             trip_count: 3,
-            trip_window: 60.0,
+            trip_window: 20.0,
         })?;
         let channels = [
             transmitter(1, Unit::PressureAbs, P_SPAN, (0.3e5, 1.9e5))?,
@@ -255,9 +258,10 @@ impl Plant {
                     surge_this_scan: false,
                     event_count: 0,
                     events_in_window: 0,
-                    control_line_shift: 0.0,
+                    added_margin: 0.0,
                     trip_request: false,
                     blind: true,
+                    armed: false,
                 },
             },
             image: Image::new(order, crc32(text.as_bytes())),
@@ -300,20 +304,26 @@ impl Plant {
             *out = ch.update(raw, t_ms);
         }
         let [pressure, flow_dp] = self.outputs;
-        let shift = self.view.detection.control_line_shift;
+        let added = self.view.detection.added_margin;
+        let dt = self.scan_ms as f32 / 1e3;
         let state = *self.monitor.update(
             &SurgeScan {
                 suction_pressure: pressure.raw_pressure(),
                 discharge_pressure: p2,
                 flow_dp: flow_dp.raw,
             },
-            shift,
+            added,
+            dt,
         );
-        let detection = *self.detector.update(&DetectionScan {
-            flow_dp: flow_dp.raw,
-            discharge_pressure: p2,
-            suction_temperature: Some(t1),
-        });
+        let detection = *self.detector.update(
+            &DetectionScan {
+                flow_dp: flow_dp.raw,
+                suction_pressure: pressure.raw_pressure(),
+                discharge_pressure: p2,
+                suction_temperature: Some(t1),
+            },
+            dt,
+        );
         self.view = SurgeView { state, detection };
         let snapshot = self.train.update(&scan);
         self.image.pack(snapshot, &[self.view], &self.outputs);
@@ -332,7 +342,7 @@ impl Plant {
                 self.image
                     .acknowledge_surge_events(usize::from(c.target), n);
             }
-            CommandKind::ResetControlLineShift => self.detector.reset_shift(),
+            CommandKind::ResetAddedMargin => self.detector.reset_added_margin(),
             CommandKind::ResetTripRequest => self.detector.reset_trip(),
         }
         self.image.record_command(c);
@@ -399,6 +409,8 @@ impl Plant {
         self.view
             .detection
             .visit_fields(&mut |f, x| put("surge", 1, f.key, x));
+        let code = registers::surge_fault_code(self.view.state.fault);
+        put("surge", 1, CODE.key, FieldValue::Count(u32::from(code)));
         for (i, out) in self.outputs.iter().enumerate() {
             out.visit_fields(&mut |f, x| put("channel", i + 1, f.key, x));
             let code = u32::from(out.status.fault.code());
@@ -410,7 +422,7 @@ impl Plant {
 }
 
 /// The status-word code in the results lines (`condition_code`: stage or
-/// cooler condition, channel fault code), as the register image carries it.
+/// cooler condition, surge-margin fault, channel fault code), as the register image carries it.
 static CODE: registers::FieldSpec = registers::FieldSpec {
     name: "code",
     key: "condition_code",
@@ -744,7 +756,7 @@ fn run(p: &Parsed) -> Result<String, CliError> {
     };
     let o = Options {
         port: opt("port", u32::from(d.port), 0, 65_535)? as u16,
-        scan_ms: opt("scan-ms", d.scan_ms, 1, 10_000)?,
+        scan_ms: opt("scan-ms", d.scan_ms, 1, 1000)?,
         run_for_s: opt("run-for-s", d.run_for_s, 1, 86_400)?,
         order,
         max_connections: opt("max-connections", d.max_connections, 1, 1000)?,

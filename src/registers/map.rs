@@ -19,7 +19,7 @@ use crate::signal::ChannelOutput;
 use crate::stage::{CompressorResult, PumpResult, StageCondition};
 use crate::staging::{InterstagePressure, TrainTotals};
 use crate::steady::SteadyState;
-use crate::surge::{DetectionState, SurgeState};
+use crate::surge::{DetectionState, SurgeFault, SurgeState};
 
 type F = f32;
 const COMPRESSOR: &[FieldSpec] = <CompressorResult<F> as ResultFields<F>>::FIELDS;
@@ -138,7 +138,7 @@ pub const fn derived_bits() -> &'static [DerivedBit] {
             block: "surge",
             mask: derived::SURGE_INSIDE_CONTROL_LINE,
             key: "inside_control_line",
-            label: "the operating point is inside the control line (deviation < 0, usable)",
+            label: "the operating point is inside the control line (clearance < 0, usable)",
         },
         DerivedBit {
             block: "channel",
@@ -678,6 +678,28 @@ pub const fn cooler_condition_code(c: CoolerCondition) -> u8 {
     }
 }
 
+/// The status-word code of a surge-margin fault (stable, as above).
+pub const fn surge_fault_code(f: SurgeFault) -> u8 {
+    match f {
+        SurgeFault::None => 0,
+        SurgeFault::InputBad => 1,
+        SurgeFault::InputUncertain => 2,
+        SurgeFault::FlowDpImpossible => 3,
+        SurgeFault::FlowDpOutsideValidity => 4,
+        SurgeFault::DischargeBelowSuction => 5,
+        SurgeFault::BeyondMap => 6,
+    }
+}
+const SURGE_FAULTS: [SurgeFault; 7] = [
+    SurgeFault::None,
+    SurgeFault::InputBad,
+    SurgeFault::InputUncertain,
+    SurgeFault::FlowDpImpossible,
+    SurgeFault::FlowDpOutsideValidity,
+    SurgeFault::DischargeBelowSuction,
+    SurgeFault::BeyondMap,
+];
+
 const STAGE_CONDITIONS: [StageCondition; 5] = [
     StageCondition::Normal,
     StageCondition::InputBad,
@@ -693,7 +715,7 @@ const COOLER_CONDITIONS: [CoolerCondition; 5] = [
     CoolerCondition::NoDrivingDifference,
 ];
 
-const FAULTS: [FaultCode; 14] = [
+const FAULTS: [FaultCode; 15] = [
     FaultCode::None,
     FaultCode::Ne43FailureLow,
     FaultCode::Ne43FailureHigh,
@@ -708,6 +730,7 @@ const FAULTS: [FaultCode; 14] = [
     FaultCode::CrossCheck,
     FaultCode::ZeroOffset,
     FaultCode::InputBad,
+    FaultCode::ClockStep,
 ];
 
 /// The state codes of the status words, as (block, code, name).
@@ -717,6 +740,9 @@ pub fn state_codes(visit: &mut dyn FnMut(&'static str, u8, &'static str)) {
     }
     for c in COOLER_CONDITIONS {
         visit("cooler", cooler_condition_code(c), c.as_str());
+    }
+    for f in SURGE_FAULTS {
+        visit("surge", surge_fault_code(f), f.as_str());
     }
     for f in FAULTS {
         visit("channel", f.code(), f.as_str());

@@ -46,7 +46,7 @@ mod map;
 pub use crate::fields::{FieldSpec, FieldValue, QuantityKind, ResultFields};
 pub use map::{
     cooler_condition_code, derived_bits, map_checksum, stage_condition_code, state_codes,
-    visit_map, write_map_csv, write_map_markdown, DerivedBit, Encoding, MapRow,
+    surge_fault_code, visit_map, write_map_csv, write_map_markdown, DerivedBit, Encoding, MapRow,
 };
 
 use crate::cooler::CoolerResult;
@@ -184,7 +184,7 @@ pub const SCALED_TOTALS: &[Scaled] = &[
 /// Scaled entries per surge monitor.
 pub const SCALED_SURGE: &[Scaled] = &[
     scaled("surge_margin", 10000.0, "0.0001", false),
-    scaled("control_line_deviation", 10000.0, "0.0001", false),
+    scaled("control_line_clearance", 10000.0, "0.0001", false),
 ];
 /// Scaled entries per channel.
 pub const SCALED_CHANNEL: &[Scaled] = &[scaled("filtered_value", 10.0, "0.1 SI", true)];
@@ -375,7 +375,7 @@ pub const fn image_len(n: usize, m: usize, c: usize) -> usize {
 /// One surge monitor's results as the image takes them.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct SurgeView<T> {
-    /// Surge margin and control-line deviation.
+    /// Surge margin and clearance above the control line.
     pub state: SurgeState<T>,
     /// Surge-cycle detection and the control-line shift.
     pub detection: DetectionState<T>,
@@ -605,7 +605,7 @@ pub mod derived {
     /// Surge block: a surge event has not been acknowledged.
     pub const SURGE_EVENT_UNACKNOWLEDGED: u16 = 1 << 15;
     /// Surge block: the operating point is inside the control line
-    /// (deviation below zero, usable).
+    /// (clearance below zero, usable).
     pub const SURGE_INSIDE_CONTROL_LINE: u16 = 1 << 14;
     /// Channel block: the value is a held last good value.
     pub const CHANNEL_SUBSTITUTED: u16 = 1 << 15;
@@ -858,10 +858,11 @@ impl<const N: usize, const M: usize, const C: usize, const R: usize> RegisterIma
             };
             let mut b = Block::start(&mut self.regs, base, SURGE_SLOTS, order);
             s.state.visit_fields(&mut |_, v| b.field(v));
+            b.code(u16::from(map::surge_fault_code(s.state.fault)));
             b.seek(SURGE_STATE_SLOTS);
             s.detection.visit_fields(&mut |_, v| b.field(v));
-            let dev = s.state.deviation;
-            let inside = dev.quality.is_usable() && dev.value < T::ZERO;
+            let clearance = s.state.clearance;
+            let inside = clearance.quality.is_usable() && clearance.value < T::ZERO;
             let mut d = 0;
             if unacked {
                 d |= derived::SURGE_EVENT_UNACKNOWLEDGED;
@@ -953,9 +954,10 @@ impl<const N: usize, const M: usize, const C: usize, const R: usize> RegisterIma
 pub enum CommandKind {
     /// Acknowledge the surge events of a monitor so far (code 1).
     AcknowledgeSurgeEvents,
-    /// Reset a monitor's control-line shift and event count (code 2;
-    /// [`crate::surge::SurgeDetector::reset_shift`]).
-    ResetControlLineShift,
+    /// Reset the margin a monitor's detector has added to the control line
+    /// and its event count (code 2;
+    /// [`crate::surge::SurgeDetector::reset_added_margin`]).
+    ResetAddedMargin,
     /// Reset a monitor's trip request (code 3;
     /// [`crate::surge::SurgeDetector::reset_trip`]).
     ResetTripRequest,
@@ -966,7 +968,7 @@ impl CommandKind {
     pub const fn code(self) -> u16 {
         match self {
             CommandKind::AcknowledgeSurgeEvents => 1,
-            CommandKind::ResetControlLineShift => 2,
+            CommandKind::ResetAddedMargin => 2,
             CommandKind::ResetTripRequest => 3,
         }
     }
@@ -974,7 +976,7 @@ impl CommandKind {
     /// Every command, for the map.
     pub const ALL: [CommandKind; 3] = [
         CommandKind::AcknowledgeSurgeEvents,
-        CommandKind::ResetControlLineShift,
+        CommandKind::ResetAddedMargin,
         CommandKind::ResetTripRequest,
     ];
 
@@ -982,7 +984,7 @@ impl CommandKind {
     pub const fn as_str(self) -> &'static str {
         match self {
             CommandKind::AcknowledgeSurgeEvents => "acknowledge-surge-events",
-            CommandKind::ResetControlLineShift => "reset-control-line-shift",
+            CommandKind::ResetAddedMargin => "reset-added-margin",
             CommandKind::ResetTripRequest => "reset-trip-request",
         }
     }

@@ -11,16 +11,17 @@ type Image = RegisterImage<N, 1, 1, R>;
 fn surge_view(margin: f32, events: u32, trip: bool) -> SurgeView<f32> {
     let mut state = SurgeState::bad();
     state.margin = Measured::good(margin);
-    state.deviation = Measured::new(margin - 0.1, Quality::Uncertain);
+    state.clearance = Measured::new(margin - 0.1, Quality::Uncertain);
     SurgeView {
         state,
         detection: DetectionState {
             surge_this_scan: false,
             event_count: events,
             events_in_window: 0,
-            control_line_shift: 0.02,
+            added_margin: 0.02,
             trip_request: trip,
             blind: false,
+            armed: true,
         },
     }
 }
@@ -355,7 +356,7 @@ fn non_finite_inputs_give_bad_qualities_never_nan_registers() {
 #[test]
 fn commands_decode_only_a_whole_guarded_block() {
     let ok = decode_command(0, &[2, 0, !2, 77], 1).unwrap();
-    assert_eq!(ok.kind, CommandKind::ResetControlLineShift);
+    assert_eq!(ok.kind, CommandKind::ResetAddedMargin);
     assert_eq!((ok.target, ok.sequence), (0, 77));
     assert_eq!(
         decode_command(0, &[1, 0, !1, 5], 1).unwrap().kind,
@@ -407,7 +408,7 @@ fn condition_codes_in_the_map_are_the_kernel_codes() {
         assert!(code < 16, "{block} {name}");
         n += 1;
     });
-    assert_eq!(n, 5 + 5 + 14);
+    assert_eq!(n, 5 + 5 + 7 + 15);
     // Codes within a block are distinct.
     let mut seen = std::vec::Vec::new();
     map::state_codes(&mut |block, code, _| {

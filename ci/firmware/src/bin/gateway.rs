@@ -28,7 +28,7 @@ fn main() -> ! {
         polytrope_firmware::exit(false)
     };
     let scan = decode_scan::<f32, { demo::STAGES }>(black_box(&MINIMAL_SCAN));
-    let state = *monitor.update(&front::surge_scan(k), black_box(0.0));
+    let state = *monitor.update(&front::surge_scan(k), black_box(0.0), 0.02);
     let (raw, t_ms) = front::raw_sample(k);
     let out = channel.update(black_box(raw), t_ms);
     let order = if black_box(k) == 0 {
