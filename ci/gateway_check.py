@@ -36,7 +36,7 @@ ARGS = sys.argv[1:]
 QUICK = "--quick" in ARGS
 BIN = [a for a in ARGS if a != "--quick"] or [os.path.join(ROOT, "target/release/polytrope-host")]
 SCAN_MS = 20
-QUALITY = {"good": 0, "uncertain": 1, "bad": 2}
+QUALITY = {"good": 0, "uncertain": 1, "bad": 2, "not-applicable": 3}
 failures = []
 
 
