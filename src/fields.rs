@@ -239,6 +239,12 @@ impl<T> IntoField<T> for CoolerCondition {
         FieldValue::Tag(self.as_str())
     }
 }
+impl<T> IntoField<T> for crate::surge::ExponentState<T> {
+    #[inline]
+    fn into_field(self) -> FieldValue<T> {
+        FieldValue::Real(self.sigma)
+    }
+}
 impl<T> IntoField<T> for SurgeFault {
     #[inline]
     fn into_field(self) -> FieldValue<T> {
@@ -440,8 +446,10 @@ result_fields!(SurgeState {
         "Rate of approach -dm/dt (above 0: approaching surge).";
     time_to_surge: "time_to_surge_s", "Time to surge", "s", Time, Computed,
         "Time to reach the surge line at the present rate, capped at the horizon.";
+    exponent: "head_number_sigma", "Exponent sigma of the head number", "-", Exponent, Computed,
+        "sigma = (n-1)/n used for the head number (configured, or from the measured temperatures; its quality says which).";
     fault: "surge_fault", "Surge-margin fault", "", Condition, Exact,
-        "Why the margin is not good (`none`, `input-bad`, `input-uncertain`, `flow-dp-impossible`, `flow-dp-outside-validity`, `discharge-below-suction`, `beyond-map`).";
+        "Why the margin is not good (`none`, `input-bad`, `input-uncertain`, `flow-dp-impossible`, `flow-dp-outside-validity`, `discharge-below-suction`, `beyond-map`, `exponent`).";
 });
 
 result_fields!(DetectionState {
@@ -677,7 +685,7 @@ impl FaultCode {
 impl SurgeFault {
     /// Stable kebab-case name (`none`, `input-bad`, `input-uncertain`,
     /// `flow-dp-impossible`, `flow-dp-outside-validity`,
-    /// `discharge-below-suction`, `beyond-map`).
+    /// `discharge-below-suction`, `beyond-map`, `exponent`).
     pub const fn as_str(self) -> &'static str {
         match self {
             SurgeFault::None => "none",
@@ -687,6 +695,7 @@ impl SurgeFault {
             SurgeFault::FlowDpOutsideValidity => "flow-dp-outside-validity",
             SurgeFault::DischargeBelowSuction => "discharge-below-suction",
             SurgeFault::BeyondMap => "beyond-map",
+            SurgeFault::Exponent => "exponent",
         }
     }
 }

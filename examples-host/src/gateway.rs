@@ -307,11 +307,7 @@ impl Plant {
         let added = self.view.detection.added_margin;
         let dt = self.scan_ms as f32 / 1e3;
         let state = *self.monitor.update(
-            &SurgeScan {
-                suction_pressure: pressure.raw_pressure(),
-                discharge_pressure: p2,
-                flow_dp: flow_dp.raw,
-            },
+            &SurgeScan::pressures_only(pressure.raw_pressure(), p2, flow_dp.raw),
             added,
             dt,
         );

@@ -688,9 +688,10 @@ pub const fn surge_fault_code(f: SurgeFault) -> u8 {
         SurgeFault::FlowDpOutsideValidity => 4,
         SurgeFault::DischargeBelowSuction => 5,
         SurgeFault::BeyondMap => 6,
+        SurgeFault::Exponent => 7,
     }
 }
-const SURGE_FAULTS: [SurgeFault; 7] = [
+const SURGE_FAULTS: [SurgeFault; 8] = [
     SurgeFault::None,
     SurgeFault::InputBad,
     SurgeFault::InputUncertain,
@@ -698,6 +699,7 @@ const SURGE_FAULTS: [SurgeFault; 7] = [
     SurgeFault::FlowDpOutsideValidity,
     SurgeFault::DischargeBelowSuction,
     SurgeFault::BeyondMap,
+    SurgeFault::Exponent,
 ];
 
 const STAGE_CONDITIONS: [StageCondition; 5] = [
