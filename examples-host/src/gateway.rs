@@ -376,7 +376,11 @@ impl Plant {
                     let code = registers::stage_condition_code(c.condition);
                     v(&CODE, FieldValue::Count(u32::from(code)));
                 }
-                StageWork::Pump(p) => p.visit_fields(&mut v),
+                StageWork::Pump(p) => {
+                    p.visit_fields(&mut v);
+                    let code = registers::pump_condition_code(p.condition);
+                    v(&CODE, FieldValue::Count(u32::from(code)));
+                }
             }
             st.steady_state.visit_fields(&mut v);
         }
@@ -417,8 +421,8 @@ impl Plant {
     }
 }
 
-/// The status-word code in the results lines (`condition_code`: stage or
-/// cooler condition, surge-margin fault, channel fault code), as the register image carries it.
+/// The status-word code in the results lines (`condition_code`: compressor,
+/// pump or cooler condition, surge-margin fault, channel fault code), as the register image carries it.
 static CODE: registers::FieldSpec = registers::FieldSpec {
     name: "code",
     key: "condition_code",

@@ -16,7 +16,7 @@ use crate::cooler::{CoolerCondition, CoolerResult};
 use crate::fields::Derivation;
 use crate::quality::FaultCode;
 use crate::signal::ChannelOutput;
-use crate::stage::{CompressorResult, PumpResult, StageCondition};
+use crate::stage::{CompressorResult, PumpCondition, PumpResult, StageCondition};
 use crate::staging::{InterstagePressure, TrainTotals};
 use crate::steady::SteadyState;
 use crate::surge::{DetectionState, SurgeFault, SurgeState};
@@ -664,6 +664,22 @@ pub const fn stage_condition_code(c: StageCondition) -> u8 {
         StageCondition::NoCompression => 2,
         StageCondition::NoTemperatureRise => 3,
         StageCondition::EfficiencyAboveOne => 4,
+        StageCondition::RatingPoint => 5,
+        StageCondition::RatioOutOfRange => 6,
+        StageCondition::ImplausibleTemperatureRise => 7,
+        StageCondition::Stationary => 8,
+        StageCondition::BelowResolution => 9,
+    }
+}
+
+/// The status-word code of a pump condition (stable, as above).
+pub const fn pump_condition_code(c: PumpCondition) -> u8 {
+    match c {
+        PumpCondition::Normal => 0,
+        PumpCondition::InputBad => 1,
+        PumpCondition::NoPressureRise => 2,
+        PumpCondition::RatioOutOfRange => 3,
+        PumpCondition::Stationary => 4,
     }
 }
 
@@ -675,6 +691,8 @@ pub const fn cooler_condition_code(c: CoolerCondition) -> u8 {
         CoolerCondition::OutletAboveInlet => 2,
         CoolerCondition::OutletBelowCoolant => 3,
         CoolerCondition::NoDrivingDifference => 4,
+        CoolerCondition::DutyWithinNoise => 5,
+        CoolerCondition::NoGasFlow => 6,
     }
 }
 
@@ -702,19 +720,33 @@ const SURGE_FAULTS: [SurgeFault; 8] = [
     SurgeFault::Exponent,
 ];
 
-const STAGE_CONDITIONS: [StageCondition; 5] = [
+const STAGE_CONDITIONS: [StageCondition; 10] = [
     StageCondition::Normal,
     StageCondition::InputBad,
     StageCondition::NoCompression,
     StageCondition::NoTemperatureRise,
     StageCondition::EfficiencyAboveOne,
+    StageCondition::RatingPoint,
+    StageCondition::RatioOutOfRange,
+    StageCondition::ImplausibleTemperatureRise,
+    StageCondition::Stationary,
+    StageCondition::BelowResolution,
 ];
-const COOLER_CONDITIONS: [CoolerCondition; 5] = [
+const PUMP_CONDITIONS: [PumpCondition; 5] = [
+    PumpCondition::Normal,
+    PumpCondition::InputBad,
+    PumpCondition::NoPressureRise,
+    PumpCondition::RatioOutOfRange,
+    PumpCondition::Stationary,
+];
+const COOLER_CONDITIONS: [CoolerCondition; 7] = [
     CoolerCondition::Normal,
     CoolerCondition::InputBad,
     CoolerCondition::OutletAboveInlet,
     CoolerCondition::OutletBelowCoolant,
     CoolerCondition::NoDrivingDifference,
+    CoolerCondition::DutyWithinNoise,
+    CoolerCondition::NoGasFlow,
 ];
 
 const FAULTS: [FaultCode; 15] = [
@@ -738,7 +770,10 @@ const FAULTS: [FaultCode; 15] = [
 /// The state codes of the status words, as (block, code, name).
 pub fn state_codes(visit: &mut dyn FnMut(&'static str, u8, &'static str)) {
     for c in STAGE_CONDITIONS {
-        visit("stage", stage_condition_code(c), c.as_str());
+        visit("stage (compressor)", stage_condition_code(c), c.as_str());
+    }
+    for c in PUMP_CONDITIONS {
+        visit("stage (pump)", pump_condition_code(c), c.as_str());
     }
     for c in COOLER_CONDITIONS {
         visit("cooler", cooler_condition_code(c), c.as_str());

@@ -45,8 +45,9 @@ mod map;
 
 pub use crate::fields::{FieldSpec, FieldValue, QuantityKind, ResultFields};
 pub use map::{
-    cooler_condition_code, derived_bits, map_checksum, stage_condition_code, state_codes,
-    surge_fault_code, visit_map, write_map_csv, write_map_markdown, DerivedBit, Encoding, MapRow,
+    cooler_condition_code, derived_bits, map_checksum, pump_condition_code, stage_condition_code,
+    state_codes, surge_fault_code, visit_map, write_map_csv, write_map_markdown, DerivedBit,
+    Encoding, MapRow,
 };
 
 use crate::cooler::CoolerResult;
@@ -122,6 +123,7 @@ pub const fn quality_code(q: Quality) -> u16 {
         Quality::Good => quality_code::GOOD,
         Quality::Uncertain => quality_code::UNCERTAIN,
         Quality::Bad => quality_code::BAD,
+        Quality::NotApplicable => quality_code::NOT_APPLICABLE,
     }
 }
 
@@ -547,15 +549,18 @@ impl<'a> Block<'a> {
     fn real<T: RegisterReal>(&mut self, m: Measured<T>) {
         let finite = T::is_finite(m.value);
         let q = if finite { m.quality } else { Quality::Bad };
-        let v = if q == Quality::Bad {
+        let v = if matches!(q, Quality::Bad | Quality::NotApplicable) {
             0.0
         } else {
             m.value.to_f32()
         };
-        self.worst = Some(match self.worst {
-            Some(w) => w.worst(q),
-            None => q,
-        });
+        // The block's worst quality is over the values that apply here.
+        if q != Quality::NotApplicable {
+            self.worst = Some(match self.worst {
+                Some(w) => w.worst(q),
+                None => q,
+            });
+        }
         self.slot_value(v.to_bits(), quality_code(q));
     }
 
@@ -809,6 +814,7 @@ impl<const N: usize, const M: usize, const C: usize, const R: usize> RegisterIma
                 }
                 StageWork::Pump(p) => {
                     p.visit_fields(&mut |_, v| b.field(v));
+                    b.code(u16::from(map::pump_condition_code(p.condition)));
                     true
                 }
             };

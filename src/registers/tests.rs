@@ -408,7 +408,7 @@ fn condition_codes_in_the_map_are_the_kernel_codes() {
         assert!(code < 16, "{block} {name}");
         n += 1;
     });
-    assert_eq!(n, 5 + 5 + 8 + 15);
+    assert_eq!(n, 10 + 5 + 7 + 8 + 15);
     // Codes within a block are distinct.
     let mut seen = std::vec::Vec::new();
     map::state_codes(&mut |block, code, _| {
