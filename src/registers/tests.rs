@@ -216,6 +216,22 @@ fn status_words_carry_kind_presence_condition_and_flags() {
     }
     assert_eq!(cooler(4) & STATUS_PRESENT, 0);
     assert_eq!(cooler(4) & 3, quality_code::NOT_APPLICABLE);
+    // The last intercooler's next-stage temperature rise does not apply (a
+    // pump follows): its slot says so, and the block's worst quality is
+    // over the values that apply.
+    let c4 = snap.coolers[3].unwrap();
+    assert_eq!(
+        c4.next_stage_temperature_rise.quality,
+        Quality::NotApplicable
+    );
+    let slot = slot_of(
+        <CoolerResult<f32> as ResultFields<f32>>::FIELDS,
+        "next_stage_temperature_rise_K",
+    )
+    .unwrap();
+    let base = l.coolers + 3 * block_len(COOLER_SLOTS);
+    assert_eq!(slot_quality(regs, base, slot), quality_code::NOT_APPLICABLE);
+    assert_eq!(cooler(3) & 3, quality_code::GOOD);
     let inter = |i: usize| regs[l.interstage + i * block_len(INTERSTAGE_SLOTS)];
     for i in 0..N {
         assert_eq!(inter(i) & STATUS_PRESENT != 0, snap.interstage[i].is_some());
