@@ -45,7 +45,7 @@ use polytrope::{demo, ConfigError, Measured, Quality};
 use tokio::io::{AsyncRead, AsyncWrite, ReadBuf};
 use tokio_modbus::{ExceptionCode, Request, Response};
 
-use crate::cli::{count, CliError, Command, Opt, Parsed};
+use crate::cli::{count, CliError, Parsed};
 
 /// Surge monitors of the demo gateway.
 pub const SURGE: usize = 1;
@@ -58,71 +58,9 @@ type Image = RegisterImage<N, SURGE, CHANNELS, REGISTERS>;
 /// Largest read (Modbus application protocol: 125 registers).
 const MAX_READ: u16 = 125;
 
-/// The `gateway` subcommand.
-pub const COMMAND: Command = Command {
-    name: "gateway",
-    summary: "Modbus TCP server on 127.0.0.1 serving the register image of a live demo run (invented scenario)",
-    options: OPTIONS,
-    run,
-};
-
 /// The `register-map` subcommand.
-pub const MAP_COMMAND: Command = Command {
-    name: "register-map",
-    summary: "the gateway's register map, Markdown (default) or --csv",
-    options: &[Opt {
-        name: "csv",
-        value: None,
-        help: "CSV for import into a PLC tool",
-    }],
-    run: run_map,
-};
-
-const OPTIONS: &[Opt] = &[
-    Opt {
-        name: "port",
-        value: Some("PORT"),
-        help: "TCP port on 127.0.0.1 (default 5020; 0 picks a free port, printed on stderr)",
-    },
-    Opt {
-        name: "scan-ms",
-        value: Some("MS"),
-        help: "scan period in ms, 1 to 1000 (default 100)",
-    },
-    Opt {
-        name: "run-for-s",
-        value: Some("S"),
-        help: "stop after S seconds and print the scan-loop statistics (default 60, at most 86400)",
-    },
-    Opt {
-        name: "word-order",
-        value: Some("ORDER"),
-        help: "32-bit word order: high-first (default) or low-first",
-    },
-    Opt {
-        name: "max-connections",
-        value: Some("N"),
-        help: "simultaneous connections, 1 to 1000 (default 128); more are closed at once",
-    },
-    Opt {
-        name: "max-rate",
-        value: Some("HZ"),
-        help: "requests per second per connection, 1 to 100000 (default 200); faster requests wait",
-    },
-    Opt {
-        name: "idle-s",
-        value: Some("S"),
-        help: "close a connection that sends nothing for S seconds, 1 to 3600 (default 10)",
-    },
-    Opt {
-        name: "results",
-        value: Some("FROM..TO"),
-        help: "print the kernel's results for scan counters FROM to TO as JSON lines and exit (no server)",
-    },
-];
-
-fn run_map(p: &Parsed) -> Result<String, CliError> {
-    register_map(p.has("csv")).ok_or_else(|| CliError::Input("could not format the map".into()))
+pub fn run_map(a: &RegisterMapArgs) -> Result<String, CliError> {
+    register_map(a.csv).ok_or_else(|| CliError::Input("could not format the map".into()))
 }
 
 /// The register map of the gateway's image, CSV or Markdown.
@@ -740,7 +678,8 @@ impl Default for Options {
     }
 }
 
-fn run(p: &Parsed) -> Result<String, CliError> {
+/// The `gateway` subcommand.
+pub fn run(p: &Parsed) -> Result<String, CliError> {
     let d = Options::default();
     let order = match p.get("word-order") {
         None | Some("high-first") => WordOrder::HighWordFirst,
@@ -906,4 +845,56 @@ async fn serve(
         Ok(_) => Ok(()),
         Err(e) => Err(e),
     }
+}
+
+/// Options of `gateway`.
+#[derive(Debug, clap::Args)]
+pub struct GatewayArgs {
+    /// TCP port on 127.0.0.1 (default 5020; 0 picks a free port, printed on stderr).
+    #[arg(long, value_name = "PORT")]
+    port: Option<String>,
+    /// Scan period in ms, 1 to 1000 (default 100).
+    #[arg(long, value_name = "MS")]
+    scan_ms: Option<String>,
+    /// Stop after S seconds and print the scan-loop statistics (default 60, at most 86400).
+    #[arg(long, value_name = "S")]
+    run_for_s: Option<String>,
+    /// 32-bit word order: high-first (default) or low-first.
+    #[arg(long, value_name = "ORDER")]
+    word_order: Option<String>,
+    /// Simultaneous connections, 1 to 1000 (default 128); more are closed at once.
+    #[arg(long, value_name = "N")]
+    max_connections: Option<String>,
+    /// Requests per second per connection, 1 to 100000 (default 200); faster requests wait.
+    #[arg(long, value_name = "HZ")]
+    max_rate: Option<String>,
+    /// Close a connection that sends nothing for S seconds, 1 to 3600 (default 10).
+    #[arg(long, value_name = "S")]
+    idle_s: Option<String>,
+    /// Print the kernel's results for scan counters FROM to TO as JSON lines and exit (no server).
+    #[arg(long, value_name = "FROM..TO")]
+    results: Option<String>,
+}
+
+impl GatewayArgs {
+    /// As [`run`] reads them.
+    pub fn parsed(&self) -> Parsed {
+        Parsed::default()
+            .opt("port", &self.port)
+            .opt("scan-ms", &self.scan_ms)
+            .opt("run-for-s", &self.run_for_s)
+            .opt("word-order", &self.word_order)
+            .opt("max-connections", &self.max_connections)
+            .opt("max-rate", &self.max_rate)
+            .opt("idle-s", &self.idle_s)
+            .opt("results", &self.results)
+    }
+}
+
+/// Options of `register-map`.
+#[derive(Debug, clap::Args)]
+pub struct RegisterMapArgs {
+    /// CSV for import into a PLC tool (default: Markdown).
+    #[arg(long)]
+    csv: bool,
 }
