@@ -5,7 +5,7 @@
 use core::fmt::{self, Write};
 
 use super::{
-    block_head, block_len, command, crc32_update, derived, header, quality_code,
+    block_head, block_len, command, crc32, crc32_chain, derived, header, quality_code,
     scaled_stage_source, CommandKind, Layout, Scaled, COMMAND_REGISTERS, SCALED_CHANNEL,
     SCALED_NO_VALUE_I16, SCALED_NO_VALUE_I32, SCALED_STAGE, SCALED_SURGE, SCALED_TOTALS,
     STAGE_WORK_SLOTS, STATUS_CODE_SHIFT, STATUS_FIRST_FLAG, SUMMARY_CHANNEL_BAD,
@@ -221,7 +221,7 @@ const HEADER_ROWS: &[HeaderRow] = &[
         offset: header::MAP_CHECKSUM,
         encoding: Encoding::U32,
         key: "map_checksum",
-        label: "CRC-32 of this map's layout (version, block counts, keys and types of every block, scaled entries)",
+        label: "Checksum of this map's layout (CRC-32 chained over version, block counts, keys and types of every block, scaled entries)",
     },
     HeaderRow {
         offset: header::HEARTBEAT,
@@ -587,18 +587,16 @@ pub fn visit_map(n: usize, m: usize, c: usize, visit: &mut dyn FnMut(&MapRow)) {
     }
 }
 
-/// CRC-32 of the map of an image with `n` stages, `m` surge monitors and
-/// `c` channels: over the layout version, the block counts, every block's
-/// field keys and kinds in order and the scaled entries, so it changes
-/// whenever an address or a type moves. Evaluated at compile time
+/// Checksum of the map of an image with `n` stages, `m` surge monitors and
+/// `c` channels: CRC-32 chained over the layout version, the block counts,
+/// every block's field keys and kinds in order and the scaled entries
+/// ([`super::crc32`]), so it changes whenever an address or a type moves. Evaluated at compile time
 /// ([`super::RegisterImage::MAP_CHECKSUM`]).
 pub const fn map_checksum(n: usize, m: usize, c: usize) -> u32 {
-    let mut crc = 0xFFFF_FFFF;
-    let v = super::LAYOUT_VERSION;
-    crc = crc32_update(crc, &[(v >> 8) as u8, v as u8]);
+    let mut h = crc32_chain(0, super::LAYOUT_VERSION as u32, 0);
     let mut counts: &[usize] = &[n, m, c];
     while let [x, tail @ ..] = counts {
-        crc = crc32_update(crc, &(*x as u32).to_le_bytes());
+        h = crc32_chain(h, *x as u32, 1);
         counts = tail;
     }
     let lists: [&[FieldSpec]; 9] = [
@@ -616,8 +614,7 @@ pub const fn map_checksum(n: usize, m: usize, c: usize) -> u32 {
     while let [list, tail @ ..] = ls {
         let mut fs: &[FieldSpec] = list;
         while let [f, rest @ ..] = fs {
-            crc = crc32_update(crc, f.key.as_bytes());
-            crc = crc32_update(crc, &[f.kind as u8]);
+            h = crc32_chain(h, crc32(f.key.as_bytes()), f.kind as u8);
             fs = rest;
         }
         ls = tail;
@@ -627,13 +624,12 @@ pub const fn map_checksum(n: usize, m: usize, c: usize) -> u32 {
     while let [list, tail @ ..] = ss {
         let mut es: &[Scaled] = list;
         while let [e, rest @ ..] = es {
-            crc = crc32_update(crc, e.key.as_bytes());
-            crc = crc32_update(crc, &[e.wide as u8]);
+            h = crc32_chain(h, crc32(e.key.as_bytes()), e.wide as u8);
             es = rest;
         }
         ss = tail;
     }
-    !crc
+    h
 }
 
 fn quality_text(r: &MapRow) -> Option<(usize, u8)> {

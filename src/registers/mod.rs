@@ -1063,29 +1063,19 @@ pub fn decode_command(start: u16, words: &[u16], monitors: usize) -> Result<Comm
 
 // ---- checksum ------------------------------------------------------------
 
-/// CRC-32 (IEEE 802.3: reflected polynomial 0xEDB88320, initial and final
-/// XOR 0xFFFFFFFF), the checksum of zip, PNG and Ethernet; bitwise, no table.
+/// CRC-32 (ISO-HDLC: IEEE 802.3 polynomial, reflected, initial and final
+/// XOR 0xFFFFFFFF; the checksum of zip, PNG and Ethernet), the crate's one
+/// CRC ([`crate::config_blob`] uses the same).
 pub const fn crc32(bytes: &[u8]) -> u32 {
-    !crc32_update(0xFFFF_FFFF, bytes)
+    crate::config_blob::CRC.checksum(bytes)
 }
 
-/// Feeds `bytes` into a running (not yet inverted) CRC-32.
-pub const fn crc32_update(mut crc: u32, bytes: &[u8]) -> u32 {
-    let mut rest = bytes;
-    while let [b, tail @ ..] = rest {
-        rest = tail;
-        crc ^= *b as u32;
-        let mut k = 0;
-        while k < 8 {
-            crc = if crc & 1 != 0 {
-                (crc >> 1) ^ 0xEDB8_8320
-            } else {
-                crc >> 1
-            };
-            k += 1;
-        }
-    }
-    crc
+/// Chains a 32-bit checksum `h` with a piece's `crc32` and a tag byte:
+/// `crc32(h ‖ piece ‖ tag)` (little-endian words).
+pub(crate) const fn crc32_chain(h: u32, piece: u32, tag: u8) -> u32 {
+    let [a0, a1, a2, a3] = h.to_le_bytes();
+    let [b0, b1, b2, b3] = piece.to_le_bytes();
+    crc32(&[a0, a1, a2, a3, b0, b1, b2, b3, tag])
 }
 
 #[cfg(test)]
