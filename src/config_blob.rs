@@ -42,7 +42,8 @@ pub const CRC_LEN: usize = 4;
 /// Largest blob: header, the largest payload, checksum.
 pub const MAX_BLOB_LEN: usize = 512;
 
-const CRC: crc::Crc<u32> = crc::Crc::<u32>::new(&crc::CRC_32_ISO_HDLC);
+/// The CRC-32 of the crate (ISO-HDLC), also the register image's checksum.
+pub(crate) const CRC: crc::Crc<u32> = crc::Crc::<u32>::new(&crc::CRC_32_ISO_HDLC);
 
 /// Why a blob was refused.
 #[derive(Clone, Copy, Debug, PartialEq)]

@@ -95,6 +95,7 @@ pub mod polytropic;
 pub mod quality;
 pub mod rating;
 pub mod real;
+pub mod registers;
 pub mod scan;
 pub mod signal;
 pub mod stage;

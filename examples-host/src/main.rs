@@ -22,6 +22,8 @@ mod cli;
 mod config;
 mod demo;
 mod evaluate;
+// Register image over Modbus TCP, and its map.
+mod gateway;
 mod keys;
 mod orifice_cmd;
 mod out;
@@ -71,6 +73,8 @@ fn dispatch(cli: &Cli) -> Result<String, CliError> {
         Cmd::Rate(a) => rating::run(a),
         Cmd::Orifice(a) => orifice_cmd::run(a),
         Cmd::Blob(a) => blob::run(a),
+        Cmd::Gateway(a) => gateway::run(&a.parsed()),
+        Cmd::RegisterMap(a) => gateway::run_map(a),
     }
 }
 

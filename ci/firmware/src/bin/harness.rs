@@ -141,6 +141,17 @@ fn update_channel(c: &mut PressureChannel, raw: f32, t_ms: u64) -> f32 {
 }
 
 #[inline(never)]
+fn pack(
+    image: &mut front::Image,
+    snap: &Snapshot<f32, { demo::STAGES }>,
+    view: &polytrope::registers::SurgeView<f32>,
+    outputs: &[polytrope::signal::ChannelOutput<f32>; 1],
+) -> u16 {
+    image.pack(snap, &[*view], outputs);
+    image.registers().first().copied().unwrap_or(0)
+}
+
+#[inline(never)]
 fn update_budget(t: &mut BudgetTrain, s: &Scan<f32, BUDGET_STAGES>) -> f32 {
     t.update(s).totals.total_power.value
 }
@@ -449,6 +460,52 @@ fn measure_front_end(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u3
     out!(h, "S stack_signal_channel_4_20ma {}", used);
 }
 
+/// The register image: one pack of the demo snapshot, a warmed surge
+/// monitor's state and a channel's output, and its stack high-water mark, in
+/// a frame of its own.
+#[inline(never)]
+fn measure_register_pack(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u32) {
+    let Ok(mut demo_train) = demo::train::<f32>() else {
+        fail(h, "demo train");
+    };
+    for raw in SCANS.iter().take(10) {
+        update_demo(&mut demo_train, &decode_scan(black_box(raw)));
+    }
+    let Ok(mut monitor) = front::surge_monitor() else {
+        fail(h, "surge monitor");
+    };
+    let Ok(mut channel) = front::pressure_channel() else {
+        fail(h, "pressure channel");
+    };
+    for k in 0..front::WARM_SCANS {
+        update_surge(&mut monitor, &front::surge_scan(k));
+        let (raw, t) = front::raw_sample(k);
+        update_channel(&mut channel, raw, t);
+    }
+    let mut image = front::Image::new(polytrope::registers::WordOrder::HighWordFirst, 1);
+    let view = polytrope::registers::SurgeView {
+        state: *monitor.state(),
+        detection: front::quiet_detection(),
+    };
+    let outputs = [*channel.output()];
+    for _ in 0..3 {
+        let snap = black_box(demo_train.snapshot());
+        let r = label(h, "register_pack_demo");
+        measure(r, || pack(&mut image, snap, &view, &outputs));
+    }
+    let snap = black_box(*demo_train.snapshot());
+    let used = stack_used(|| {
+        pack(&mut image, &snap, &view, &outputs);
+    });
+    out!(h, "S stack_register_pack {}", used);
+    out!(h, "S register_image_registers {}", image.registers().len());
+    out!(
+        h,
+        "S register_image_bytes {}",
+        core::mem::size_of::<front::Image>()
+    );
+}
+
 #[entry]
 fn main() -> ! {
     let mut h = Host(hio::hstdout().ok());
@@ -481,6 +538,7 @@ fn main() -> ! {
     measure_peng_robinson_train(&mut h, &mut label);
     measure_train_new(&mut h, &mut label);
     measure_front_end(&mut h, &mut label);
+    measure_register_pack(&mut h, &mut label);
 
     // 3. State sizes.
     out!(
