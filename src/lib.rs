@@ -75,6 +75,7 @@
 #[cfg(test)]
 extern crate std;
 
+pub mod blob;
 pub mod compression;
 pub mod control;
 pub mod cooler;

@@ -9,6 +9,7 @@
 
 mod builtin;
 mod ideal;
+pub mod table;
 
 pub use builtin::{
     CpPolynomial, GasSpec, AIR, BUILTIN_GASES, CARBON_DIOXIDE, ETHANE, HYDROGEN, LEAN_NATURAL_GAS,

@@ -1,0 +1,1134 @@
+//! Gas property tables: a reference equation of state (GERG-2008) evaluated
+//! once on the host over a train's operating envelope, interpolated on the
+//! device.
+//!
+//! Sources:
+//! - GERG-2008: O. Kunz, W. Wagner, "The GERG-2008 wide-range equation of
+//!   state for natural gases and other mixtures", J. Chem. Eng. Data 57
+//!   (2012) 3032–3091; ISO 20765-2. The host generator
+//!   (`polytrope-host tables`) evaluates it with the `aga8` crate.
+//! - Bicubic Hermite interpolation on a rectangle from corner values, first
+//!   derivatives and the cross derivative (the tensor product of cubic
+//!   Hermite polynomials; e.g. C. de Boor, *A Practical Guide to Splines*,
+//!   1978, ch. XVII; stated here from memory).
+//! - Thermodynamic identities, with x = ln p and T (any thermodynamics text,
+//!   e.g. Çengel & Boles, *Thermodynamics*, ch. 12): the Maxwell relation
+//!   (∂s/∂p)_T = −(∂v/∂T)_p with v = Z·R·T/p gives ∂s/∂x = −R·(Z + T·∂Z/∂T);
+//!   dh = T ds + v dp gives ∂h/∂x = T·∂s/∂x + Z·R·T = −R·T²·∂Z/∂T;
+//!   ∂h/∂T = cp and ∂s/∂T = cp/T; the cross derivatives follow as
+//!   ∂²h/∂x∂T = ∂cp/∂x and ∂²s/∂x∂T = (∂cp/∂x)/T.
+//!
+//! So a node stores only Z, ∂Z/∂x, ∂Z/∂T, ∂²Z/∂x∂T, h, s, cp, ∂cp/∂x (and
+//! the speed of sound, interpolated bilinearly): 9 `f32` instead of 13, and
+//! h and s stay exactly consistent with Z through the identities.
+//!
+//! The table is a quadtree over the rectangle [ln p_min, ln p_max] ×
+//! [T_min, T_max]: every cell is either split into four equal children or a
+//! leaf patch with four corner nodes. The host refines where the
+//! interpolation misses its tolerance against the equation of state; cells
+//! it cannot make accurate (the band around a critical point or a saturation
+//! line) are flagged uncertain, cells without a single-phase state bad.
+//! Inputs are stored as offsets (T − T_offset, h − h_offset, s − s_offset) so
+//! `f32` keeps its resolution.
+//!
+//! Outside the envelope a state is bad ([`TableFlag::OutsideEnvelope`]); in a
+//! flagged cell it is uncertain or bad with the reason. Nothing here
+//! allocates or panics; the descent and every iteration are bounded.
+
+use serde::{Deserialize, Serialize};
+
+use crate::blob::{self, BlobError, KIND_PROPERTY_TABLE};
+use crate::error::{ConfigError, Problem};
+use crate::gas::MOLAR_GAS_CONSTANT;
+use crate::quality::{Measured, Quality};
+use crate::real::Real;
+
+/// Format version of the table payload (bump on any layout change).
+pub const TABLE_FORMAT_VERSION: u16 = 1;
+/// Deepest quadtree level the evaluator descends to.
+pub const MAX_DEPTH: usize = 20;
+/// Cell flag: the interpolation is not trusted to its tolerance here (near a
+/// critical point or a saturation line).
+pub const CELL_UNCERTAIN: u8 = 1;
+/// Cell flag: no single-phase state here (two-phase region or no root of the
+/// equation of state).
+pub const CELL_BAD: u8 = 2;
+/// Iteration cap of the isentropic (entropy-matched) temperature search.
+pub const ISENTROPIC_MAX_ITERATIONS: usize = 12;
+
+/// What the whole table describes.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct TableHeader {
+    /// Short ASCII label, zero-padded (what gas and envelope).
+    pub label: [u8; 16],
+    /// Molar mass, kg/mol.
+    pub molar_mass: f64,
+    /// Lowest pressure of the envelope, ln(p / Pa).
+    pub ln_p_min: f64,
+    /// Highest pressure of the envelope, ln(p / Pa).
+    pub ln_p_max: f64,
+    /// Lowest temperature of the envelope, K.
+    pub t_min: f64,
+    /// Highest temperature of the envelope, K.
+    pub t_max: f64,
+    /// Offset subtracted from every stored enthalpy, J/kg.
+    pub h_offset: f64,
+    /// Offset subtracted from every stored entropy, J/(kg K).
+    pub s_offset: f64,
+    /// Largest enthalpy interpolation error the generator accepted outside
+    /// flagged cells, J/kg.
+    pub tolerance_h: f32,
+    /// Largest entropy interpolation error accepted, J/(kg K).
+    pub tolerance_s: f32,
+    /// Largest relative Z interpolation error accepted.
+    pub tolerance_z: f32,
+    /// Number of nodes.
+    pub node_count: u16,
+    /// Number of cells.
+    pub cell_count: u16,
+}
+
+/// The equation of state at one grid node (x = ln p, T in K, per kg).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Node {
+    /// Compressibility factor Z.
+    pub z: f32,
+    /// ∂Z/∂ln p at constant T.
+    pub z_lnp: f32,
+    /// ∂Z/∂T at constant p, 1/K.
+    pub z_t: f32,
+    /// ∂²Z/∂ln p ∂T, 1/K.
+    pub z_lnp_t: f32,
+    /// Enthalpy minus the header's offset, J/kg.
+    pub h: f32,
+    /// Entropy minus the header's offset, J/(kg K).
+    pub s: f32,
+    /// Isobaric heat capacity, J/(kg K).
+    pub cp: f32,
+    /// ∂cp/∂ln p at constant T, J/(kg K).
+    pub cp_lnp: f32,
+    /// Speed of sound, m/s.
+    pub speed_of_sound: f32,
+}
+
+/// One quadtree cell.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Cell {
+    /// Corner node indices of a leaf: (low ln p, low T), (high ln p, low T),
+    /// (low ln p, high T), (high ln p, high T). Unused in a split cell.
+    pub corners: [u16; 4],
+    /// Index of the first of four children (same quadrant order as the
+    /// corners), always above the cell's own index; 0 for a leaf.
+    pub children: u16,
+    /// [`CELL_UNCERTAIN`] and/or [`CELL_BAD`].
+    pub flags: u8,
+}
+
+/// A table's content, borrowed: from a `static` generated as Rust source, or
+/// from a [`PropertyTable`] decoded from a blob.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct TableData<'a> {
+    /// What the table describes.
+    pub header: TableHeader,
+    /// Grid nodes.
+    pub nodes: &'a [Node],
+    /// Quadtree cells; cell 0 is the root (the whole envelope).
+    pub cells: &'a [Cell],
+}
+
+fn finite(x: f64) -> bool {
+    <f64 as Real>::is_finite(x)
+}
+
+fn check_header(h: &TableHeader) -> Result<(), ConfigError> {
+    let molar_mass = h.molar_mass;
+    if !finite(molar_mass) {
+        return Err(ConfigError::not_finite("table.molar_mass"));
+    }
+    if !(0.001..=0.5).contains(&molar_mass) {
+        return Err(ConfigError::out_of_range("table.molar_mass", 0.001, 0.5));
+    }
+    // 1 Pa .. 1e9 Pa.
+    for (field, v) in [
+        ("table.ln_p_min", h.ln_p_min),
+        ("table.ln_p_max", h.ln_p_max),
+    ] {
+        if !finite(v) {
+            return Err(ConfigError::not_finite(field));
+        }
+        if !(0.0..=20.8).contains(&v) {
+            return Err(ConfigError::out_of_range(field, 0.0, 20.8));
+        }
+    }
+    if !(h.ln_p_max > h.ln_p_min) {
+        return Err(ConfigError::new(
+            "table.ln_p_max",
+            Problem::NotAbove {
+                other: "table.ln_p_min",
+            },
+        ));
+    }
+    for (field, v) in [("table.t_min", h.t_min), ("table.t_max", h.t_max)] {
+        if !finite(v) {
+            return Err(ConfigError::not_finite(field));
+        }
+        if !(1.0..=2000.0).contains(&v) {
+            return Err(ConfigError::out_of_range(field, 1.0, 2000.0));
+        }
+    }
+    if !(h.t_max > h.t_min) {
+        return Err(ConfigError::new(
+            "table.t_max",
+            Problem::NotAbove {
+                other: "table.t_min",
+            },
+        ));
+    }
+    for (field, v) in [
+        ("table.h_offset", h.h_offset),
+        ("table.s_offset", h.s_offset),
+    ] {
+        if !finite(v) {
+            return Err(ConfigError::not_finite(field));
+        }
+    }
+    for (field, v) in [
+        ("table.tolerance_h", h.tolerance_h),
+        ("table.tolerance_s", h.tolerance_s),
+        ("table.tolerance_z", h.tolerance_z),
+    ] {
+        if !<f32 as Real>::is_finite(v) {
+            return Err(ConfigError::not_finite(field));
+        }
+        if !(v >= 0.0) {
+            return Err(ConfigError::out_of_range(field, 0.0, f64::INFINITY));
+        }
+    }
+    if h.node_count < 4 {
+        return Err(ConfigError::new(
+            "table.nodes",
+            Problem::Count {
+                min: 4,
+                max: u16::MAX,
+            },
+        ));
+    }
+    if h.cell_count < 1 {
+        return Err(ConfigError::new(
+            "table.cells",
+            Problem::Count {
+                min: 1,
+                max: u16::MAX,
+            },
+        ));
+    }
+    Ok(())
+}
+
+fn check_node(index: usize, n: &Node) -> Result<(), ConfigError> {
+    let all = [
+        n.z,
+        n.z_lnp,
+        n.z_t,
+        n.z_lnp_t,
+        n.h,
+        n.s,
+        n.cp,
+        n.cp_lnp,
+        n.speed_of_sound,
+    ];
+    if !all.iter().all(|v| <f32 as Real>::is_finite(*v)) {
+        return Err(ConfigError::not_finite("table.nodes").at(index));
+    }
+    // Positive Z, cp and speed of sound: also true of flagged nodes (the
+    // generator writes a finite placeholder state there).
+    if !(n.z > 0.0 && n.cp > 0.0 && n.speed_of_sound > 0.0) {
+        return Err(ConfigError::out_of_range("table.nodes", 0.0, f64::INFINITY).at(index));
+    }
+    Ok(())
+}
+
+fn check_cell(index: usize, c: &Cell, nodes: usize, cells: usize) -> Result<(), ConfigError> {
+    if c.flags & !(CELL_UNCERTAIN | CELL_BAD) != 0 {
+        return Err(ConfigError::new("table.cells.flags", Problem::Unknown).at(index));
+    }
+    if c.children == 0 {
+        if c.corners.iter().any(|&k| usize::from(k) >= nodes) {
+            return Err(ConfigError::new(
+                "table.cells.corners",
+                Problem::Inconsistent {
+                    with: "table.nodes",
+                },
+            )
+            .at(index));
+        }
+    } else {
+        let first = usize::from(c.children);
+        if first <= index || first + 3 >= cells {
+            return Err(ConfigError::new(
+                "table.cells.children",
+                Problem::Inconsistent {
+                    with: "table.cells",
+                },
+            )
+            .at(index));
+        }
+    }
+    Ok(())
+}
+
+/// Checks a table's structure and values: header ranges, counts, finite and
+/// positive node values, corner and child indices in range (children always
+/// after their parent, so every descent ends).
+pub fn validate(data: &TableData<'_>) -> Result<(), ConfigError> {
+    check_header(&data.header)?;
+    let (nodes, cells) = (data.nodes.len(), data.cells.len());
+    if nodes != usize::from(data.header.node_count) {
+        return Err(ConfigError::new(
+            "table.nodes",
+            Problem::Inconsistent {
+                with: "table.node_count",
+            },
+        ));
+    }
+    if cells != usize::from(data.header.cell_count) {
+        return Err(ConfigError::new(
+            "table.cells",
+            Problem::Inconsistent {
+                with: "table.cell_count",
+            },
+        ));
+    }
+    for (i, n) in data.nodes.iter().enumerate() {
+        check_node(i, n)?;
+    }
+    for (i, c) in data.cells.iter().enumerate() {
+        check_cell(i, c, nodes, cells)?;
+    }
+    Ok(())
+}
+
+/// Writes a table as a blob (framing in [`crate::blob`]); returns its length.
+/// Used by the host generator and the tests; allocates nothing.
+pub fn write_blob(data: &TableData<'_>, out: &mut [u8]) -> Result<usize, BlobError> {
+    validate(data).map_err(BlobError::Invalid)?;
+    let area = blob::payload_area(out);
+    let used = postcard::to_slice(&(&data.header, data.nodes, data.cells), area)
+        .map_err(|_| BlobError::BufferTooSmall)?
+        .len();
+    blob::seal(out, KIND_PROPERTY_TABLE, TABLE_FORMAT_VERSION, used)
+}
+
+/// A table decoded from a blob into fixed capacity: at most `NODES` nodes
+/// and `CELLS` cells (both checked at compile time to fit the format's
+/// 16-bit indices).
+#[derive(Clone, Debug)]
+pub struct PropertyTable<const NODES: usize, const CELLS: usize> {
+    header: TableHeader,
+    nodes: [Node; NODES],
+    cells: [Cell; CELLS],
+    node_count: usize,
+    cell_count: usize,
+}
+
+fn take<'a, V: Deserialize<'a>>(bytes: &'a [u8]) -> Result<(V, &'a [u8]), BlobError> {
+    postcard::take_from_bytes(bytes).map_err(|_| BlobError::Decode)
+}
+
+fn capacity(field: &'static str, capacity: usize, found: u32) -> BlobError {
+    BlobError::Capacity {
+        field,
+        capacity: u32::try_from(capacity).unwrap_or(u32::MAX),
+        found,
+    }
+}
+
+impl<const NODES: usize, const CELLS: usize> PropertyTable<NODES, CELLS> {
+    const CAPACITY_OK: () = assert!(
+        NODES >= 4 && NODES <= 65_535 && CELLS >= 1 && CELLS <= 65_535,
+        "table capacities must be 4..=65535 nodes and 1..=65535 cells"
+    );
+
+    /// An empty table (no model: [`TableGas::new`] refuses it).
+    pub const fn empty() -> Self {
+        let () = Self::CAPACITY_OK;
+        PropertyTable {
+            header: TableHeader {
+                label: [0; 16],
+                molar_mass: 0.0,
+                ln_p_min: 0.0,
+                ln_p_max: 0.0,
+                t_min: 0.0,
+                t_max: 0.0,
+                h_offset: 0.0,
+                s_offset: 0.0,
+                tolerance_h: 0.0,
+                tolerance_s: 0.0,
+                tolerance_z: 0.0,
+                node_count: 0,
+                cell_count: 0,
+            },
+            nodes: [Node {
+                z: 0.0,
+                z_lnp: 0.0,
+                z_t: 0.0,
+                z_lnp_t: 0.0,
+                h: 0.0,
+                s: 0.0,
+                cp: 0.0,
+                cp_lnp: 0.0,
+                speed_of_sound: 0.0,
+            }; NODES],
+            cells: [Cell {
+                corners: [0; 4],
+                children: 0,
+                flags: 0,
+            }; CELLS],
+            node_count: 0,
+            cell_count: 0,
+        }
+    }
+
+    /// Decodes and validates a blob into a new table.
+    pub fn from_blob(blob: &[u8]) -> Result<Self, BlobError> {
+        let mut t = Self::empty();
+        t.replace_from_blob(blob)?;
+        Ok(t)
+    }
+
+    /// Replaces this table by the blob's, in place and without a second
+    /// copy: a first pass decodes and checks everything (framing, checksum,
+    /// capacity, every value and index), the second writes. On any error the
+    /// table is left exactly as it was.
+    pub fn replace_from_blob(&mut self, blob: &[u8]) -> Result<(), BlobError> {
+        let payload = blob::open(blob, KIND_PROPERTY_TABLE, TABLE_FORMAT_VERSION)?;
+        Self::decode(payload, None)?;
+        Self::decode(payload, Some(self))?;
+        Ok(())
+    }
+
+    fn decode(payload: &[u8], mut into: Option<&mut Self>) -> Result<(), BlobError> {
+        let (header, rest): (TableHeader, _) = take(payload)?;
+        check_header(&header).map_err(BlobError::Invalid)?;
+        let (n_nodes, mut rest): (u32, _) = take(rest)?;
+        if n_nodes as usize > NODES {
+            return Err(capacity("table.nodes", NODES, n_nodes));
+        }
+        if n_nodes != u32::from(header.node_count) {
+            return Err(BlobError::Invalid(ConfigError::new(
+                "table.nodes",
+                Problem::Inconsistent {
+                    with: "table.node_count",
+                },
+            )));
+        }
+        for i in 0..n_nodes as usize {
+            let (node, r): (Node, _) = take(rest)?;
+            rest = r;
+            check_node(i, &node).map_err(BlobError::Invalid)?;
+            if let Some(slot) = into.as_deref_mut().and_then(|t| t.nodes.get_mut(i)) {
+                *slot = node;
+            }
+        }
+        let (n_cells, mut rest): (u32, _) = take(rest)?;
+        if n_cells as usize > CELLS {
+            return Err(capacity("table.cells", CELLS, n_cells));
+        }
+        if n_cells != u32::from(header.cell_count) {
+            return Err(BlobError::Invalid(ConfigError::new(
+                "table.cells",
+                Problem::Inconsistent {
+                    with: "table.cell_count",
+                },
+            )));
+        }
+        for i in 0..n_cells as usize {
+            let (cell, r): (Cell, _) = take(rest)?;
+            rest = r;
+            check_cell(i, &cell, n_nodes as usize, n_cells as usize).map_err(BlobError::Invalid)?;
+            if let Some(slot) = into.as_deref_mut().and_then(|t| t.cells.get_mut(i)) {
+                *slot = cell;
+            }
+        }
+        if !rest.is_empty() {
+            return Err(BlobError::Decode);
+        }
+        if let Some(t) = into {
+            t.header = header;
+            t.node_count = n_nodes as usize;
+            t.cell_count = n_cells as usize;
+        }
+        Ok(())
+    }
+
+    /// The loaded content (empty before the first successful load).
+    pub fn data(&self) -> TableData<'_> {
+        TableData {
+            header: self.header,
+            nodes: self.nodes.get(..self.node_count).unwrap_or(&[]),
+            cells: self.cells.get(..self.cell_count).unwrap_or(&[]),
+        }
+    }
+}
+
+/// Why a table state is not good.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum TableFlag {
+    /// Inside the envelope, in a cell that met the tolerance.
+    None,
+    /// Pressure or temperature outside the table's envelope (bad).
+    OutsideEnvelope,
+    /// In a cell flagged near a critical point or a saturation line
+    /// (uncertain).
+    FlaggedBand,
+    /// In a cell with no single-phase state (bad).
+    NoSinglePhase,
+    /// A non-finite input or result (bad).
+    NotFinite,
+}
+
+/// The state at (p, T) from a table.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct TableState<T> {
+    /// Compressibility factor.
+    pub z: T,
+    /// Specific volume, m³/kg.
+    pub specific_volume: T,
+    /// Specific enthalpy, J/kg (the equation of state's reference).
+    pub enthalpy: T,
+    /// Specific entropy, J/(kg K).
+    pub entropy: T,
+    /// Isobaric heat capacity, J/(kg K).
+    pub cp: T,
+    /// Speed of sound, m/s.
+    pub speed_of_sound: T,
+    /// Quality of every value above.
+    pub quality: Quality,
+    /// Why the quality is not good.
+    pub flag: TableFlag,
+}
+
+impl<T: Real> TableState<T> {
+    fn bad(flag: TableFlag) -> Self {
+        TableState {
+            z: T::ZERO,
+            specific_volume: T::ZERO,
+            enthalpy: T::ZERO,
+            entropy: T::ZERO,
+            cp: T::ZERO,
+            speed_of_sound: T::ZERO,
+            quality: Quality::Bad,
+            flag,
+        }
+    }
+}
+
+/// Stage quantities from a table (before the gas seam: this model's own
+/// small stage API; the seam's methods replace it).
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct TableStage<T> {
+    /// Actual specific work h2 − h1, J/kg.
+    pub actual_head: Measured<T>,
+    /// Isentropic head h(p2, s1) − h1, J/kg.
+    pub isentropic_head: Measured<T>,
+    /// Temperature of the isentropic discharge state, K.
+    pub isentropic_temperature: Measured<T>,
+    /// Isentropic efficiency.
+    pub isentropic_efficiency: Measured<T>,
+    /// Polytropic head ∫ v dp along the path (Simpson's rule with one
+    /// midpoint state at √(p1·p2), √(T1·T2)), J/kg.
+    pub polytropic_head: Measured<T>,
+    /// Polytropic efficiency (polytropic head / actual head).
+    pub polytropic_efficiency: Measured<T>,
+}
+
+/// Leaf cell found by the descent, with its bounds relative to the envelope
+/// origin.
+struct Leaf<'a, T> {
+    cell: &'a Cell,
+    x0: T,
+    inv_dx: T,
+    dx: T,
+    y0: T,
+    inv_dy: T,
+    dy: T,
+}
+
+/// Values of one patch evaluation.
+struct Patch<T> {
+    z: T,
+    h: T,
+    s: T,
+    dh_dt: T,
+    ds_dt: T,
+    w: T,
+}
+
+/// Cubic Hermite basis at t in [0, 1]: values (h00, h01, h10, h11) and their
+/// derivatives in t.
+#[inline(always)]
+fn hermite<T: Real>(t: T) -> ([T; 4], [T; 4]) {
+    let one = T::ONE;
+    let two = T::of(2.0);
+    let three = T::of(3.0);
+    let t2 = t * t;
+    let t3 = t2 * t;
+    let h01 = three * t2 - two * t3;
+    let h00 = one - h01;
+    let h10 = t3 - two * t2 + t;
+    let h11 = t3 - t2;
+    let d01 = T::of(6.0) * (t - t2);
+    let d00 = -d01;
+    let d10 = three * t2 - T::of(4.0) * t + one;
+    let d11 = three * t2 - two * t;
+    ([h00, h01, h10, h11], [d00, d01, d10, d11])
+}
+
+#[inline(always)]
+fn f<T: Real>(x: f32) -> T {
+    T::of(f64::from(x))
+}
+
+/// A gas model on a property table, for scalar type `T`.
+#[derive(Clone, Copy, Debug)]
+pub struct TableGas<'a, T> {
+    data: TableData<'a>,
+    gas_constant: T,
+    ln_p_min: T,
+    span_x: T,
+    inv_span_x: T,
+    t_min: T,
+    span_t: T,
+    inv_span_t: T,
+    h_offset: T,
+    s_offset: T,
+}
+
+impl<'a, T: Real> TableGas<'a, T> {
+    /// A model on `data`, after [`validate`].
+    pub fn new(data: TableData<'a>) -> Result<Self, ConfigError> {
+        validate(&data)?;
+        let h = &data.header;
+        let span_x = h.ln_p_max - h.ln_p_min;
+        let span_t = h.t_max - h.t_min;
+        Ok(TableGas {
+            data,
+            gas_constant: T::of(MOLAR_GAS_CONSTANT / h.molar_mass),
+            ln_p_min: T::of(h.ln_p_min),
+            span_x: T::of(span_x),
+            inv_span_x: T::of(1.0 / span_x),
+            t_min: T::of(h.t_min),
+            span_t: T::of(span_t),
+            inv_span_t: T::of(1.0 / span_t),
+            h_offset: T::of(h.h_offset),
+            s_offset: T::of(h.s_offset),
+        })
+    }
+
+    /// The table's header.
+    pub fn header(&self) -> &TableHeader {
+        &self.data.header
+    }
+
+    /// Specific gas constant R = Ru/M, J/(kg K).
+    pub fn gas_constant(&self) -> T {
+        self.gas_constant
+    }
+
+    /// The envelope: (p_min, p_max) in Pa, (T_min, T_max) in K.
+    pub fn envelope(&self) -> ((T, T), (T, T)) {
+        let h = &self.data.header;
+        (
+            (T::exp(T::of(h.ln_p_min)), T::exp(T::of(h.ln_p_max))),
+            (T::of(h.t_min), T::of(h.t_max)),
+        )
+    }
+
+    /// Relative coordinates (ln p − ln p_min, T − T_min), or why not.
+    #[inline]
+    fn coordinates(&self, p: T, t: T) -> Result<(T, T), TableFlag> {
+        if !(T::is_finite(p) && T::is_finite(t)) || !(p > T::ZERO) {
+            return Err(TableFlag::NotFinite);
+        }
+        let x = T::ln(p) - self.ln_p_min;
+        let y = t - self.t_min;
+        if !(x >= T::ZERO && x <= self.span_x && y >= T::ZERO && y <= self.span_t) {
+            return Err(TableFlag::OutsideEnvelope);
+        }
+        Ok((x, y))
+    }
+
+    /// Descends the quadtree to the leaf holding relative coordinates (x, y).
+    #[inline]
+    fn locate(&self, x: T, y: T) -> Option<Leaf<'a, T>> {
+        let half = T::of(0.5);
+        let two = T::of(2.0);
+        let cells: &'a [Cell] = self.data.cells;
+        let (mut x0, mut dx, mut inv_dx) = (T::ZERO, self.span_x, self.inv_span_x);
+        let (mut y0, mut dy, mut inv_dy) = (T::ZERO, self.span_t, self.inv_span_t);
+        let mut index = 0usize;
+        for _ in 0..=MAX_DEPTH {
+            let cell = cells.get(index)?;
+            if cell.children == 0 {
+                return Some(Leaf {
+                    cell,
+                    x0,
+                    inv_dx,
+                    dx,
+                    y0,
+                    inv_dy,
+                    dy,
+                });
+            }
+            dx = dx * half;
+            inv_dx = inv_dx * two;
+            dy = dy * half;
+            inv_dy = inv_dy * two;
+            let mut quadrant = 0usize;
+            if x >= x0 + dx {
+                x0 = x0 + dx;
+                quadrant += 1;
+            }
+            if y >= y0 + dy {
+                y0 = y0 + dy;
+                quadrant += 2;
+            }
+            index = usize::from(cell.children) + quadrant;
+        }
+        None
+    }
+
+    /// The corner nodes of a leaf.
+    #[inline]
+    fn corners(&self, leaf: &Leaf<'a, T>) -> Option<[&'a Node; 4]> {
+        let nodes: &'a [Node] = self.data.nodes;
+        let [a, b, c, d] = leaf.cell.corners;
+        Some([
+            nodes.get(usize::from(a))?,
+            nodes.get(usize::from(b))?,
+            nodes.get(usize::from(c))?,
+            nodes.get(usize::from(d))?,
+        ])
+    }
+
+    /// Bicubic Hermite patch at (x, y) in `leaf`. With `full` false only s
+    /// and ∂s/∂T are computed (the entropy match needs no more).
+    #[inline(always)]
+    fn patch(&self, leaf: &Leaf<'a, T>, n: [&Node; 4], x: T, y: T, full: bool) -> Patch<T> {
+        let zero = T::ZERO;
+        let one = T::ONE;
+        let u = T::clamp((x - leaf.x0) * leaf.inv_dx, zero, one);
+        let v = T::clamp((y - leaf.y0) * leaf.inv_dy, zero, one);
+        let (hu, _) = hermite(u);
+        let (hv, dv) = hermite(v);
+        // Weights per corner (i along ln p, j along T): value, x-tangent,
+        // y-tangent, cross; and their derivatives in T.
+        let a = [hu[0], hu[1]];
+        let ad = [hu[2] * leaf.dx, hu[3] * leaf.dx];
+        let b = [hv[0], hv[1]];
+        let bd = [hv[2] * leaf.dy, hv[3] * leaf.dy];
+        let db = [dv[0] * leaf.inv_dy, dv[1] * leaf.inv_dy];
+        let dbd = [dv[2], dv[3]];
+        let r = self.gas_constant;
+        let t_lo = self.t_min + leaf.y0;
+        let temps = [t_lo, t_lo + leaf.dy];
+        let inv_t = [one / temps[0], one / temps[1]];
+        let mut out = Patch {
+            z: zero,
+            h: zero,
+            s: zero,
+            dh_dt: zero,
+            ds_dt: zero,
+            w: zero,
+        };
+        for (k, node) in n.iter().enumerate() {
+            let i = k & 1;
+            let j = k >> 1;
+            let (ai, adi) = (a[i & 1], ad[i & 1]);
+            let (bj, bdj, dbj, dbdj) = (b[j & 1], bd[j & 1], db[j & 1], dbd[j & 1]);
+            let (tc, inv_tc) = (temps[j & 1], inv_t[j & 1]);
+            let w0 = ai * bj;
+            let wx = adi * bj;
+            let wy = ai * bdj;
+            let wxy = adi * bdj;
+            let dw0 = ai * dbj;
+            let dwx = adi * dbj;
+            let dwy = ai * dbdj;
+            let dwxy = adi * dbdj;
+            let z = f::<T>(node.z);
+            let z_t = f::<T>(node.z_t);
+            let cp = f::<T>(node.cp);
+            let cp_x = f::<T>(node.cp_lnp);
+            // s: value, ∂/∂x = −R (Z + T Z_T), ∂/∂T = cp/T, cross = cp_x/T.
+            let s = f::<T>(node.s);
+            let s_x = -r * (z + tc * z_t);
+            let s_y = cp * inv_tc;
+            let s_xy = cp_x * inv_tc;
+            out.s += w0 * s + wx * s_x + wy * s_y + wxy * s_xy;
+            out.ds_dt += dw0 * s + dwx * s_x + dwy * s_y + dwxy * s_xy;
+            if full {
+                // h: value, ∂/∂x = −R T² Z_T, ∂/∂T = cp, cross = cp_x.
+                let h = f::<T>(node.h);
+                let h_x = -r * tc * tc * z_t;
+                out.h += w0 * h + wx * h_x + wy * cp + wxy * cp_x;
+                out.dh_dt += dw0 * h + dwx * h_x + dwy * cp + dwxy * cp_x;
+                out.z += w0 * z + wx * f::<T>(node.z_lnp) + wy * z_t + wxy * f::<T>(node.z_lnp_t);
+                let lu = if i == 0 { one - u } else { u };
+                let lv = if j == 0 { one - v } else { v };
+                out.w += lu * lv * f::<T>(node.speed_of_sound);
+            }
+        }
+        out
+    }
+
+    fn flag_quality(cell: &Cell) -> (Quality, TableFlag) {
+        if cell.flags & CELL_BAD != 0 {
+            (Quality::Bad, TableFlag::NoSinglePhase)
+        } else if cell.flags & CELL_UNCERTAIN != 0 {
+            (Quality::Uncertain, TableFlag::FlaggedBand)
+        } else {
+            (Quality::Good, TableFlag::None)
+        }
+    }
+
+    /// The state at pressure `p` (Pa absolute) and temperature `t` (K).
+    pub fn state(&self, p: T, t: T) -> TableState<T> {
+        let (x, y) = match self.coordinates(p, t) {
+            Ok(c) => c,
+            Err(flag) => return TableState::bad(flag),
+        };
+        let Some(leaf) = self.locate(x, y) else {
+            return TableState::bad(TableFlag::NotFinite);
+        };
+        let (quality, flag) = Self::flag_quality(leaf.cell);
+        if quality == Quality::Bad {
+            return TableState::bad(flag);
+        }
+        let Some(n) = self.corners(&leaf) else {
+            return TableState::bad(TableFlag::NotFinite);
+        };
+        let pt = self.patch(&leaf, n, x, y, true);
+        let state = TableState {
+            z: pt.z,
+            specific_volume: pt.z * self.gas_constant * t / p,
+            enthalpy: pt.h + self.h_offset,
+            entropy: pt.s + self.s_offset,
+            cp: pt.dh_dt,
+            speed_of_sound: pt.w,
+            quality,
+            flag,
+        };
+        let ok = [
+            state.z,
+            state.specific_volume,
+            state.enthalpy,
+            state.entropy,
+            state.cp,
+            state.speed_of_sound,
+        ]
+        .iter()
+        .all(|v| T::is_finite(*v))
+            && state.z > T::ZERO
+            && state.cp > T::ZERO;
+        if ok {
+            state
+        } else {
+            TableState::bad(TableFlag::NotFinite)
+        }
+    }
+
+    /// Entropy and ∂s/∂T at relative coordinates, with the cell's quality.
+    fn entropy_at(&self, x: T, y: T) -> Option<(T, T, Quality)> {
+        let leaf = self.locate(x, y)?;
+        let (quality, _) = Self::flag_quality(leaf.cell);
+        let n = self.corners(&leaf)?;
+        let pt = self.patch(&leaf, n, x, y, false);
+        Some((pt.s + self.s_offset, pt.ds_dt, quality))
+    }
+
+    /// Temperature at pressure `p2` with entropy `s_target` (the isentropic
+    /// discharge state), starting from `t_start`: Newton steps in T kept
+    /// inside a bracket, bisection when a step leaves it, at most
+    /// [`ISENTROPIC_MAX_ITERATIONS`]. Bad if no temperature in the envelope
+    /// has that entropy; the quality is the worst of the cells visited last.
+    pub fn isentropic_temperature(&self, p2: T, s_target: T, t_start: T) -> Measured<T> {
+        let (x, _) = match self.coordinates(p2, self.t_min) {
+            Ok(c) => c,
+            Err(_) => return Measured::bad(),
+        };
+        if !(T::is_finite(s_target) && T::is_finite(t_start)) {
+            return Measured::bad();
+        }
+        let (mut lo, mut hi) = (T::ZERO, self.span_t);
+        let mut y = T::clamp(t_start - self.t_min, lo, hi);
+        let tolerance = T::of(2e-4);
+        let mut quality = Quality::Good;
+        for _ in 0..ISENTROPIC_MAX_ITERATIONS {
+            let Some((s, ds_dt, q)) = self.entropy_at(x, y) else {
+                return Measured::bad();
+            };
+            quality = q;
+            let residual = s - s_target;
+            if residual > T::ZERO {
+                hi = y;
+            } else {
+                lo = y;
+            }
+            let mut next = if ds_dt > T::ZERO {
+                y - residual / ds_dt
+            } else {
+                (lo + hi) * T::of(0.5)
+            };
+            if !(next > lo && next < hi) {
+                next = (lo + hi) * T::of(0.5);
+            }
+            let step = T::abs(next - y);
+            y = next;
+            if step < tolerance {
+                // Converged inside the envelope; an end of the bracket on
+                // an envelope edge means the root may lie outside.
+                if y <= tolerance || y >= self.span_t - tolerance {
+                    return Measured::bad();
+                }
+                return Measured::derived(y + self.t_min, quality);
+            }
+        }
+        Measured::derived(y + self.t_min, quality.worst(Quality::Uncertain))
+    }
+
+    /// One compression stage from its measured suction (p1, t1) and
+    /// discharge (p2, t2): actual and isentropic head, polytropic head by
+    /// Simpson's rule with a midpoint state, both efficiencies. Each value's
+    /// quality is the worst of the states it used.
+    pub fn stage(&self, p1: T, t1: T, p2: T, t2: T) -> TableStage<T> {
+        let bad = TableStage {
+            actual_head: Measured::bad(),
+            isentropic_head: Measured::bad(),
+            isentropic_temperature: Measured::bad(),
+            isentropic_efficiency: Measured::bad(),
+            polytropic_head: Measured::bad(),
+            polytropic_efficiency: Measured::bad(),
+        };
+        let s1 = self.state(p1, t1);
+        let s2 = self.state(p2, t2);
+        let q12 = s1.quality.worst(s2.quality);
+        if q12 == Quality::Bad || !(p2 > p1) {
+            return bad;
+        }
+        let actual = s2.enthalpy - s1.enthalpy;
+        let ln_r = T::ln(p2 / p1);
+        // Start the entropy match from the ideal-gas-like estimate
+        // T1·r^(Z1·R/cp1).
+        let guess = t1 * T::exp(s1.z * self.gas_constant / s1.cp * ln_r);
+        let t2s = self.isentropic_temperature(p2, s1.entropy, guess);
+        let s2s = if t2s.quality == Quality::Bad {
+            TableState::bad(TableFlag::NotFinite)
+        } else {
+            self.state(p2, t2s.value)
+        };
+        let q_s = s1.quality.worst(s2s.quality).worst(t2s.quality);
+        let isentropic = s2s.enthalpy - s1.enthalpy;
+        let t_mid = T::sqrt(t1 * t2);
+        let p_mid = T::sqrt(p1 * p2);
+        let mid = self.state(p_mid, t_mid);
+        let q_p = q12.worst(mid.quality);
+        let six = T::of(6.0);
+        let polytropic =
+            self.gas_constant * ln_r / six * (s1.z * t1 + T::of(4.0) * mid.z * t_mid + s2.z * t2);
+        let positive = actual > T::ZERO;
+        let q_work = if positive { q12 } else { Quality::Bad };
+        TableStage {
+            actual_head: Measured::derived(actual, q_work),
+            isentropic_head: Measured::derived(isentropic, q_s),
+            isentropic_temperature: Measured::derived(t2s.value, q_s),
+            isentropic_efficiency: Measured::derived(isentropic / actual, q_s.worst(q_work)),
+            polytropic_head: Measured::derived(polytropic, q_p),
+            polytropic_efficiency: Measured::derived(polytropic / actual, q_p.worst(q_work)),
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A 2×2 one-cell table of an ideal gas (Z = 1, constant cp): every
+    /// identity is exact, so the patch must reproduce h = cp·T and
+    /// s = cp·ln T − R·ln p exactly at the corners and closely inside (a
+    /// consistency check of the patch and the identities).
+    fn ideal_nodes() -> ([Node; 4], TableHeader) {
+        let m = 0.028;
+        let r = MOLAR_GAS_CONSTANT / m;
+        let cp = 1040.0;
+        let (p0, p1, t0, t1) = (1e5f64, 1e6f64, 280.0f64, 330.0f64);
+        let node = |p: f64, t: f64| Node {
+            z: 1.0,
+            z_lnp: 0.0,
+            z_t: 0.0,
+            z_lnp_t: 0.0,
+            h: (cp * t) as f32,
+            s: (cp * t.ln() - r * p.ln()) as f32,
+            cp: cp as f32,
+            cp_lnp: 0.0,
+            speed_of_sound: 340.0,
+        };
+        let header = TableHeader {
+            label: *b"ideal test gas\0\0",
+            molar_mass: m,
+            ln_p_min: p0.ln(),
+            ln_p_max: p1.ln(),
+            t_min: t0,
+            t_max: t1,
+            h_offset: 0.0,
+            s_offset: 0.0,
+            tolerance_h: 0.0,
+            tolerance_s: 0.0,
+            tolerance_z: 0.0,
+            node_count: 4,
+            cell_count: 1,
+        };
+        (
+            [node(p0, t0), node(p1, t0), node(p0, t1), node(p1, t1)],
+            header,
+        )
+    }
+
+    #[test]
+    fn one_cell_ideal_gas() {
+        let (nodes, header) = ideal_nodes();
+        let cells = [Cell {
+            corners: [0, 1, 2, 3],
+            children: 0,
+            flags: 0,
+        }];
+        let data = TableData {
+            header,
+            nodes: &nodes,
+            cells: &cells,
+        };
+        let gas = TableGas::<f64>::new(data).unwrap();
+        let r = gas.gas_constant();
+        for &(p, t) in &[(2e5, 290.0), (5e5, 305.0), (9.9e5, 329.0)] {
+            let st = gas.state(p, t);
+            assert_eq!(st.quality, Quality::Good);
+            assert!((st.enthalpy - 1040.0 * t).abs() < 1e-3);
+            // s is cp ln T interpolated by one cubic over 50 K: the Hermite
+            // remainder max|f4| h^4/384 bounds the error by 0.017 J/(kg K).
+            let s_exact = 1040.0 * f64::ln(t) - r * f64::ln(p);
+            assert!(
+                (st.entropy - s_exact).abs() < 0.017,
+                "{p} {t} {}",
+                st.entropy - s_exact
+            );
+            assert!((st.z - 1.0).abs() < 1e-12);
+            assert!((st.cp - 1040.0).abs() < 1e-9);
+        }
+        assert_eq!(gas.state(0.5e5, 300.0).flag, TableFlag::OutsideEnvelope);
+        assert_eq!(gas.state(2e5, 331.0).quality, Quality::Bad);
+        assert_eq!(gas.state(f64::NAN, 300.0).flag, TableFlag::NotFinite);
+        // Isentropic compression of an ideal gas: T2 = T1 r^(R/cp).
+        let stage = gas.stage(2e5, 290.0, 2.2e5, 305.0);
+        let t2s = 290.0 * f64::powf(1.1, r / 1040.0);
+        assert!((stage.isentropic_temperature.value - t2s).abs() < 0.01);
+        assert_eq!(stage.isentropic_head.quality, Quality::Good);
+        assert!((stage.isentropic_head.value - 1040.0 * (t2s - 290.0)).abs() < 10.0);
+    }
+
+    #[test]
+    fn validation_names_the_field() {
+        let (nodes, header) = ideal_nodes();
+        let cells = [Cell {
+            corners: [0, 1, 2, 4],
+            children: 0,
+            flags: 0,
+        }];
+        let err = validate(&TableData {
+            header,
+            nodes: &nodes,
+            cells: &cells,
+        })
+        .unwrap_err();
+        assert_eq!(err.field, "table.cells.corners");
+        assert_eq!(err.index, Some(0));
+        let mut bad_nodes = nodes;
+        bad_nodes[2].cp = f32::NAN;
+        let cells = [Cell {
+            corners: [0, 1, 2, 3],
+            children: 0,
+            flags: 0,
+        }];
+        let err = validate(&TableData {
+            header,
+            nodes: &bad_nodes,
+            cells: &cells,
+        })
+        .unwrap_err();
+        assert_eq!((err.field, err.index), ("table.nodes", Some(2)));
+        assert!(matches!(err.problem, Problem::NotFinite));
+        // A child index pointing back to its parent would loop: refused.
+        let loop_cells = [
+            Cell {
+                corners: [0; 4],
+                children: 1,
+                flags: 0,
+            },
+            Cell {
+                corners: [0; 4],
+                children: 1,
+                flags: 0,
+            },
+            Cell::default(),
+            Cell::default(),
+            Cell::default(),
+        ];
+        let mut h = header;
+        h.cell_count = 5;
+        let err = validate(&TableData {
+            header: h,
+            nodes: &nodes,
+            cells: &loop_cells,
+        })
+        .unwrap_err();
+        assert_eq!((err.field, err.index), ("table.cells.children", Some(1)));
+    }
+
+    #[test]
+    fn blob_round_trip_and_every_corruption_refused() {
+        let (nodes, header) = ideal_nodes();
+        let cells = [Cell {
+            corners: [0, 1, 2, 3],
+            children: 0,
+            flags: 0,
+        }];
+        let data = TableData {
+            header,
+            nodes: &nodes,
+            cells: &cells,
+        };
+        let mut buf = [0u8; 1024];
+        let n = write_blob(&data, &mut buf).unwrap();
+        let blob = &buf[..n];
+        let table = PropertyTable::<8, 4>::from_blob(blob).unwrap();
+        assert_eq!(table.data(), data);
+        let mut kept = PropertyTable::<8, 4>::from_blob(blob).unwrap();
+        for len in 0..n {
+            assert!(
+                kept.replace_from_blob(&blob[..len]).is_err(),
+                "length {len}"
+            );
+            assert_eq!(kept.data(), data);
+        }
+        for bit in 0..n * 8 {
+            let mut b = buf;
+            b[bit / 8] ^= 1 << (bit % 8);
+            assert!(kept.replace_from_blob(&b[..n]).is_err(), "bit {bit}");
+            assert_eq!(kept.data(), data);
+        }
+    }
+}
