@@ -38,6 +38,9 @@ mod stage;
 // Surge simulation: the Greitzer model core and its subcommand.
 mod greitzer;
 mod surge_sim;
+// GERG-2008 property tables for the device.
+mod gerg_table;
+mod tables;
 
 use std::io::Write;
 use std::process::ExitCode;
@@ -52,6 +55,7 @@ const COMMANDS: &[Command] = &[
     demo::COMMAND,
     stage::COMMAND,
     surge_sim::COMMAND,
+    tables::COMMAND,
     keys::COMMAND,
 ];
 

@@ -22,9 +22,9 @@
 //! the speed of sound, interpolated bilinearly): 9 `f32` instead of 13, and
 //! h and s stay exactly consistent with Z through the identities.
 //!
-//! The table is a quadtree over the rectangle [ln p_min, ln p_max] ×
-//! [T_min, T_max]: every cell is either split into four equal children or a
-//! leaf patch with four corner nodes. The host refines where the
+//! The table is a tree over the rectangle [ln p_min, ln p_max] ×
+//! [T_min, T_max]: every cell is either split in half in ln p, in T or in
+//! both (two or four children), or a leaf patch with four corner nodes. The host refines where the
 //! interpolation misses its tolerance against the equation of state; cells
 //! it cannot make accurate (the band around a critical point or a saturation
 //! line) are flagged uncertain, cells without a single-phase state bad.
@@ -45,14 +45,19 @@ use crate::real::Real;
 
 /// Format version of the table payload (bump on any layout change).
 pub const TABLE_FORMAT_VERSION: u16 = 1;
-/// Deepest quadtree level the evaluator descends to.
-pub const MAX_DEPTH: usize = 20;
+/// Most splits the evaluator descends through (a bound, so a corrupt tree
+/// cannot loop; children always follow their parent anyway).
+pub const MAX_DEPTH: usize = 40;
 /// Cell flag: the interpolation is not trusted to its tolerance here (near a
 /// critical point or a saturation line).
 pub const CELL_UNCERTAIN: u8 = 1;
 /// Cell flag: no single-phase state here (two-phase region or no root of the
 /// equation of state).
 pub const CELL_BAD: u8 = 2;
+/// Cell flag of a split cell: split at the middle of its ln p range.
+pub const SPLIT_LN_P: u8 = 4;
+/// Cell flag of a split cell: split at the middle of its temperature range.
+pub const SPLIT_T: u8 = 8;
 /// Iteration cap of the isentropic (entropy-matched) temperature search.
 pub const ISENTROPIC_MAX_ITERATIONS: usize = 12;
 
@@ -113,17 +118,19 @@ pub struct Node {
     pub speed_of_sound: f32,
 }
 
-/// One quadtree cell.
+/// One cell of the tree.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Serialize, Deserialize)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Cell {
     /// Corner node indices of a leaf: (low ln p, low T), (high ln p, low T),
     /// (low ln p, high T), (high ln p, high T). Unused in a split cell.
     pub corners: [u16; 4],
-    /// Index of the first of four children (same quadrant order as the
-    /// corners), always above the cell's own index; 0 for a leaf.
+    /// Index of the first child, always above the cell's own index; 0 for a
+    /// leaf. Two children (low, high half) for a split in one variable, four
+    /// for a split in both (same order as the corners).
     pub children: u16,
-    /// [`CELL_UNCERTAIN`] and/or [`CELL_BAD`].
+    /// Leaf: [`CELL_UNCERTAIN`] and/or [`CELL_BAD`]; split cell:
+    /// [`SPLIT_LN_P`] and/or [`SPLIT_T`].
     pub flags: u8,
 }
 
@@ -209,7 +216,7 @@ fn check_header(h: &TableHeader) -> Result<(), ConfigError> {
     }
     if h.node_count < 4 {
         return Err(ConfigError::new(
-            "table.nodes",
+            "table_nodes",
             Problem::Count {
                 min: 4,
                 max: u16::MAX,
@@ -218,7 +225,7 @@ fn check_header(h: &TableHeader) -> Result<(), ConfigError> {
     }
     if h.cell_count < 1 {
         return Err(ConfigError::new(
-            "table.cells",
+            "table_cells",
             Problem::Count {
                 min: 1,
                 max: u16::MAX,
@@ -241,37 +248,53 @@ fn check_node(index: usize, n: &Node) -> Result<(), ConfigError> {
         n.speed_of_sound,
     ];
     if !all.iter().all(|v| <f32 as Real>::is_finite(*v)) {
-        return Err(ConfigError::not_finite("table.nodes").at(index));
+        return Err(ConfigError::not_finite("table_nodes").at(index));
     }
     // Positive Z, cp and speed of sound: also true of flagged nodes (the
     // generator writes a finite placeholder state there).
     if !(n.z > 0.0 && n.cp > 0.0 && n.speed_of_sound > 0.0) {
-        return Err(ConfigError::out_of_range("table.nodes", 0.0, f64::INFINITY).at(index));
+        return Err(ConfigError::out_of_range("table_nodes", 0.0, f64::INFINITY).at(index));
     }
     Ok(())
 }
 
+fn child_count(flags: u8) -> usize {
+    let split = flags & (SPLIT_LN_P | SPLIT_T);
+    if split == 0 {
+        0
+    } else if split == SPLIT_LN_P | SPLIT_T {
+        4
+    } else {
+        2
+    }
+}
+
 fn check_cell(index: usize, c: &Cell, nodes: usize, cells: usize) -> Result<(), ConfigError> {
-    if c.flags & !(CELL_UNCERTAIN | CELL_BAD) != 0 {
-        return Err(ConfigError::new("table.cells.flags", Problem::Unknown).at(index));
+    let allowed = if c.children == 0 {
+        CELL_UNCERTAIN | CELL_BAD
+    } else {
+        SPLIT_LN_P | SPLIT_T
+    };
+    if c.flags & !allowed != 0 || (c.children != 0 && child_count(c.flags) == 0) {
+        return Err(ConfigError::new("table_cells.flags", Problem::Unknown).at(index));
     }
     if c.children == 0 {
         if c.corners.iter().any(|&k| usize::from(k) >= nodes) {
             return Err(ConfigError::new(
-                "table.cells.corners",
+                "table_cells.corners",
                 Problem::Inconsistent {
-                    with: "table.nodes",
+                    with: "table_nodes",
                 },
             )
             .at(index));
         }
     } else {
         let first = usize::from(c.children);
-        if first <= index || first + 3 >= cells {
+        if first <= index || first + child_count(c.flags) > cells {
             return Err(ConfigError::new(
-                "table.cells.children",
+                "table_cells.children",
                 Problem::Inconsistent {
-                    with: "table.cells",
+                    with: "table_cells",
                 },
             )
             .at(index));
@@ -288,7 +311,7 @@ pub fn validate(data: &TableData<'_>) -> Result<(), ConfigError> {
     let (nodes, cells) = (data.nodes.len(), data.cells.len());
     if nodes != usize::from(data.header.node_count) {
         return Err(ConfigError::new(
-            "table.nodes",
+            "table_nodes",
             Problem::Inconsistent {
                 with: "table.node_count",
             },
@@ -296,7 +319,7 @@ pub fn validate(data: &TableData<'_>) -> Result<(), ConfigError> {
     }
     if cells != usize::from(data.header.cell_count) {
         return Err(ConfigError::new(
-            "table.cells",
+            "table_cells",
             Problem::Inconsistent {
                 with: "table.cell_count",
             },
@@ -415,11 +438,11 @@ impl<const NODES: usize, const CELLS: usize> PropertyTable<NODES, CELLS> {
         check_header(&header).map_err(BlobError::Invalid)?;
         let (n_nodes, mut rest): (u32, _) = take(rest)?;
         if n_nodes as usize > NODES {
-            return Err(capacity("table.nodes", NODES, n_nodes));
+            return Err(capacity("table_nodes", NODES, n_nodes));
         }
         if n_nodes != u32::from(header.node_count) {
             return Err(BlobError::Invalid(ConfigError::new(
-                "table.nodes",
+                "table_nodes",
                 Problem::Inconsistent {
                     with: "table.node_count",
                 },
@@ -435,11 +458,11 @@ impl<const NODES: usize, const CELLS: usize> PropertyTable<NODES, CELLS> {
         }
         let (n_cells, mut rest): (u32, _) = take(rest)?;
         if n_cells as usize > CELLS {
-            return Err(capacity("table.cells", CELLS, n_cells));
+            return Err(capacity("table_cells", CELLS, n_cells));
         }
         if n_cells != u32::from(header.cell_count) {
             return Err(BlobError::Invalid(ConfigError::new(
-                "table.cells",
+                "table_cells",
                 Problem::Inconsistent {
                     with: "table.cell_count",
                 },
@@ -664,7 +687,7 @@ impl<'a, T: Real> TableGas<'a, T> {
         Ok((x, y))
     }
 
-    /// Descends the quadtree to the leaf holding relative coordinates (x, y).
+    /// Descends the tree to the leaf holding relative coordinates (x, y).
     #[inline]
     fn locate(&self, x: T, y: T) -> Option<Leaf<'a, T>> {
         let half = T::of(0.5);
@@ -686,20 +709,25 @@ impl<'a, T: Real> TableGas<'a, T> {
                     dy,
                 });
             }
-            dx = dx * half;
-            inv_dx = inv_dx * two;
-            dy = dy * half;
-            inv_dy = inv_dy * two;
-            let mut quadrant = 0usize;
-            if x >= x0 + dx {
-                x0 = x0 + dx;
-                quadrant += 1;
+            let split_x = cell.flags & SPLIT_LN_P != 0;
+            let mut child = 0usize;
+            if split_x {
+                dx = dx * half;
+                inv_dx = inv_dx * two;
+                if x >= x0 + dx {
+                    x0 = x0 + dx;
+                    child = 1;
+                }
             }
-            if y >= y0 + dy {
-                y0 = y0 + dy;
-                quadrant += 2;
+            if cell.flags & SPLIT_T != 0 {
+                dy = dy * half;
+                inv_dy = inv_dy * two;
+                if y >= y0 + dy {
+                    y0 = y0 + dy;
+                    child += if split_x { 2 } else { 1 };
+                }
             }
-            index = usize::from(cell.children) + quadrant;
+            index = usize::from(cell.children) + child;
         }
         None
     }
@@ -1054,7 +1082,7 @@ mod tests {
             cells: &cells,
         })
         .unwrap_err();
-        assert_eq!(err.field, "table.cells.corners");
+        assert_eq!(err.field, "table_cells.corners");
         assert_eq!(err.index, Some(0));
         let mut bad_nodes = nodes;
         bad_nodes[2].cp = f32::NAN;
@@ -1069,19 +1097,19 @@ mod tests {
             cells: &cells,
         })
         .unwrap_err();
-        assert_eq!((err.field, err.index), ("table.nodes", Some(2)));
+        assert_eq!((err.field, err.index), ("table_nodes", Some(2)));
         assert!(matches!(err.problem, Problem::NotFinite));
         // A child index pointing back to its parent would loop: refused.
         let loop_cells = [
             Cell {
                 corners: [0; 4],
                 children: 1,
-                flags: 0,
+                flags: SPLIT_LN_P | SPLIT_T,
             },
             Cell {
                 corners: [0; 4],
                 children: 1,
-                flags: 0,
+                flags: SPLIT_LN_P | SPLIT_T,
             },
             Cell::default(),
             Cell::default(),
@@ -1095,7 +1123,7 @@ mod tests {
             cells: &loop_cells,
         })
         .unwrap_err();
-        assert_eq!((err.field, err.index), ("table.cells.children", Some(1)));
+        assert_eq!((err.field, err.index), ("table_cells.children", Some(1)));
     }
 
     #[test]
