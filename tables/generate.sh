@@ -9,7 +9,9 @@ cargo build -q --release -p polytrope-host
 bin=target/release/polytrope-host
 $bin tables --gas ng-booster --out tables/ng_booster --name NG_BOOSTER
 $bin tables --gas co2 --out tables/co2_demo --name CO2_DEMO
-for g in methane hydrogen nitrogen air co2-dense; do
+$bin tables --gas co2-dense --tol-h 5 --out tables/co2_dense --name TABLE
+rm -f tables/co2_dense.rs
+for g in methane hydrogen nitrogen air; do
   $bin tables --gas "$g" --out "tables/${g//-/_}" --name TABLE
   rm -f "tables/${g//-/_}.rs"
 done

@@ -4,6 +4,7 @@
 pub static NG_BOOSTER: polytrope::gas::table::TableData<'static> = polytrope::gas::table::TableData {
     header: polytrope::gas::table::TableHeader {
         label: [78, 71, 32, 98, 111, 111, 115, 116, 101, 114, 0, 0, 0, 0, 0, 0],
+        mole_fractions: [0.93, 0.01, 0.01, 0.035, 0.01, 0.002, 0.003, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0],
         molar_mass: 0.017423700399999995,
         ln_p_min: 11.512925464970229,
         ln_p_max: 17.034386382832476,

@@ -89,6 +89,37 @@ pub struct EosState {
     pub w: f64,
 }
 
+/// The aga8 composition of a table header's mole fractions (used by the
+/// kernel's `tests/gerg_tables.rs`, which includes this file).
+#[allow(dead_code)]
+pub fn composition_of(h: &TableHeader) -> Composition {
+    let x = &h.mole_fractions;
+    let g = |i: usize| x.get(i).copied().unwrap_or(0.0);
+    Composition {
+        methane: g(0),
+        nitrogen: g(1),
+        carbon_dioxide: g(2),
+        ethane: g(3),
+        propane: g(4),
+        isobutane: g(5),
+        n_butane: g(6),
+        isopentane: g(7),
+        n_pentane: g(8),
+        hexane: g(9),
+        heptane: g(10),
+        octane: g(11),
+        nonane: g(12),
+        decane: g(13),
+        hydrogen: g(14),
+        oxygen: g(15),
+        carbon_monoxide: g(16),
+        water: g(17),
+        hydrogen_sulfide: g(18),
+        helium: g(19),
+        argon: g(20),
+    }
+}
+
 /// GERG-2008 for one composition.
 pub struct Eos {
     gerg: Gerg2008,
@@ -493,8 +524,16 @@ impl Builder {
                 .map(|h| b.test_leaf(*h).score)
                 .fold(0.0, f64::max)
         };
-        let sx = if can_x { score(self, true) } else { f64::INFINITY };
-        let sy = if can_y { score(self, false) } else { f64::INFINITY };
+        let sx = if can_x {
+            score(self, true)
+        } else {
+            f64::INFINITY
+        };
+        let sy = if can_y {
+            score(self, false)
+        } else {
+            f64::INFINITY
+        };
         // Split in the variable whose halves fit better; where neither
         // choice halves the error (a saturation line crossing the cell, a
         // state without a root, a poor start), split the longer side in
@@ -560,8 +599,32 @@ pub fn generate(spec: &Spec) -> Result<Generated, String> {
     for (d, s) in label.iter_mut().zip(spec.label.bytes()) {
         *d = s;
     }
+    let c = &spec.composition;
     let header = TableHeader {
         label,
+        mole_fractions: [
+            c.methane,
+            c.nitrogen,
+            c.carbon_dioxide,
+            c.ethane,
+            c.propane,
+            c.isobutane,
+            c.n_butane,
+            c.isopentane,
+            c.n_pentane,
+            c.hexane,
+            c.heptane,
+            c.octane,
+            c.nonane,
+            c.decane,
+            c.hydrogen,
+            c.oxygen,
+            c.carbon_monoxide,
+            c.water,
+            c.hydrogen_sulfide,
+            c.helium,
+            c.argon,
+        ],
         molar_mass: eos.molar_mass(),
         ln_p_min: e.p_min.ln(),
         ln_p_max: e.p_max.ln(),
@@ -622,6 +685,7 @@ pub fn rust_source(g: &Generated, name: &str, command: &str) -> String {
          pub static {name}: polytrope::gas::table::TableData<'static> = polytrope::gas::table::TableData {{\n\
          \x20   header: polytrope::gas::table::TableHeader {{\n\
          \x20       label: {:?},\n\
+         \x20       mole_fractions: {:?},\n\
          \x20       molar_mass: {:?},\n\
          \x20       ln_p_min: {:?},\n\
          \x20       ln_p_max: {:?},\n\
@@ -640,6 +704,7 @@ pub fn rust_source(g: &Generated, name: &str, command: &str) -> String {
         h.cell_count,
         String::from_utf8_lossy(&h.label).trim_end_matches('\0'),
         h.label,
+        h.mole_fractions,
         h.molar_mass,
         h.ln_p_min,
         h.ln_p_max,

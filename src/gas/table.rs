@@ -51,13 +51,17 @@ pub const MAX_DEPTH: usize = 40;
 /// Cell flag: the interpolation is not trusted to its tolerance here (near a
 /// critical point or a saturation line).
 pub const CELL_UNCERTAIN: u8 = 1;
-/// Cell flag: no single-phase state here (two-phase region or no root of the
+/// Cell flag: no usable state here (two-phase, or the equation of state's
+/// solver found no root; e.g. at a critical point)
 /// equation of state).
 pub const CELL_BAD: u8 = 2;
 /// Cell flag of a split cell: split at the middle of its ln p range.
 pub const SPLIT_LN_P: u8 = 4;
 /// Cell flag of a split cell: split at the middle of its temperature range.
 pub const SPLIT_T: u8 = 8;
+/// Midpoint refinements of the polytropic path (see
+/// [`TableGas::stage`]).
+pub const POLYTROPIC_ITERATIONS: usize = 2;
 /// Iteration cap of the isentropic (entropy-matched) temperature search.
 pub const ISENTROPIC_MAX_ITERATIONS: usize = 12;
 
@@ -67,6 +71,12 @@ pub const ISENTROPIC_MAX_ITERATIONS: usize = 12;
 pub struct TableHeader {
     /// Short ASCII label, zero-padded (what gas and envelope).
     pub label: [u8; 16],
+    /// Mole fractions the table was made for, in the GERG-2008 component
+    /// order (methane, nitrogen, carbon dioxide, ethane, propane, isobutane,
+    /// n-butane, isopentane, n-pentane, hexane, heptane, octane, nonane,
+    /// decane, hydrogen, oxygen, carbon monoxide, water, hydrogen sulfide,
+    /// helium, argon).
+    pub mole_fractions: [f64; 21],
     /// Molar mass, kg/mol.
     pub molar_mass: f64,
     /// Lowest pressure of the envelope, ln(p / Pa).
@@ -151,6 +161,25 @@ fn finite(x: f64) -> bool {
 }
 
 fn check_header(h: &TableHeader) -> Result<(), ConfigError> {
+    let mut sum = 0.0;
+    for (i, &x) in h.mole_fractions.iter().enumerate() {
+        if !finite(x) {
+            return Err(ConfigError::not_finite("table_mole_fractions").at(i));
+        }
+        if !(0.0..=1.0).contains(&x) {
+            return Err(ConfigError::out_of_range("table_mole_fractions", 0.0, 1.0).at(i));
+        }
+        sum += x;
+    }
+    if !(sum > 0.999_999 && sum < 1.000_001) {
+        return Err(ConfigError::new(
+            "table_mole_fractions",
+            Problem::OutOfRange {
+                min: 0.999_999,
+                max: 1.000_001,
+            },
+        ));
+    }
     let molar_mass = h.molar_mass;
     if !finite(molar_mass) {
         return Err(ConfigError::not_finite("table.molar_mass"));
@@ -381,6 +410,7 @@ impl<const NODES: usize, const CELLS: usize> PropertyTable<NODES, CELLS> {
         PropertyTable {
             header: TableHeader {
                 label: [0; 16],
+                mole_fractions: [0.0; 21],
                 molar_mass: 0.0,
                 ln_p_min: 0.0,
                 ln_p_max: 0.0,
@@ -508,8 +538,9 @@ pub enum TableFlag {
     /// In a cell flagged near a critical point or a saturation line
     /// (uncertain).
     FlaggedBand,
-    /// In a cell with no single-phase state (bad).
-    NoSinglePhase,
+    /// In a cell where the equation of state gave no usable state (two-phase,
+    /// or no root; bad).
+    NoState,
     /// A non-finite input or result (bad).
     NotFinite,
 }
@@ -520,6 +551,8 @@ pub enum TableFlag {
 pub struct TableState<T> {
     /// Compressibility factor.
     pub z: T,
+    /// ∂Z/∂T at constant pressure, 1/K.
+    pub dz_dt: T,
     /// Specific volume, m³/kg.
     pub specific_volume: T,
     /// Specific enthalpy, J/kg (the equation of state's reference).
@@ -540,6 +573,7 @@ impl<T: Real> TableState<T> {
     fn bad(flag: TableFlag) -> Self {
         TableState {
             z: T::ZERO,
+            dz_dt: T::ZERO,
             specific_volume: T::ZERO,
             enthalpy: T::ZERO,
             entropy: T::ZERO,
@@ -564,8 +598,9 @@ pub struct TableStage<T> {
     pub isentropic_temperature: Measured<T>,
     /// Isentropic efficiency.
     pub isentropic_efficiency: Measured<T>,
-    /// Polytropic head ∫ v dp along the path (Simpson's rule with one
-    /// midpoint state at √(p1·p2), √(T1·T2)), J/kg.
+    /// Polytropic head ∫ v dp along the constant-efficiency path (Simpson's
+    /// rule with the path's midpoint state located by [`TableGas::stage`]),
+    /// J/kg.
     pub polytropic_head: Measured<T>,
     /// Polytropic efficiency (polytropic head / actual head).
     pub polytropic_efficiency: Measured<T>,
@@ -590,6 +625,7 @@ struct Patch<T> {
     s: T,
     dh_dt: T,
     ds_dt: T,
+    dz_dt: T,
     w: T,
 }
 
@@ -631,6 +667,10 @@ pub struct TableGas<'a, T> {
     inv_span_t: T,
     h_offset: T,
     s_offset: T,
+    /// Entropy residual that ends the entropy match: 1/16 of the table's
+    /// entropy tolerance (the interpolant is not more accurate than that;
+    /// across a cell edge it may jump by about the tolerance).
+    s_tolerance: T,
 }
 
 impl<'a, T: Real> TableGas<'a, T> {
@@ -651,6 +691,7 @@ impl<'a, T: Real> TableGas<'a, T> {
             inv_span_t: T::of(1.0 / span_t),
             h_offset: T::of(h.h_offset),
             s_offset: T::of(h.s_offset),
+            s_tolerance: T::of(f64::from(h.tolerance_s) / 16.0),
         })
     }
 
@@ -773,6 +814,7 @@ impl<'a, T: Real> TableGas<'a, T> {
             s: zero,
             dh_dt: zero,
             ds_dt: zero,
+            dz_dt: zero,
             w: zero,
         };
         for (k, node) in n.iter().enumerate() {
@@ -806,7 +848,10 @@ impl<'a, T: Real> TableGas<'a, T> {
                 let h_x = -r * tc * tc * z_t;
                 out.h += w0 * h + wx * h_x + wy * cp + wxy * cp_x;
                 out.dh_dt += dw0 * h + dwx * h_x + dwy * cp + dwxy * cp_x;
-                out.z += w0 * z + wx * f::<T>(node.z_lnp) + wy * z_t + wxy * f::<T>(node.z_lnp_t);
+                let z_x = f::<T>(node.z_lnp);
+                let z_xy = f::<T>(node.z_lnp_t);
+                out.z += w0 * z + wx * z_x + wy * z_t + wxy * z_xy;
+                out.dz_dt += dw0 * z + dwx * z_x + dwy * z_t + dwxy * z_xy;
                 let lu = if i == 0 { one - u } else { u };
                 let lv = if j == 0 { one - v } else { v };
                 out.w += lu * lv * f::<T>(node.speed_of_sound);
@@ -817,7 +862,7 @@ impl<'a, T: Real> TableGas<'a, T> {
 
     fn flag_quality(cell: &Cell) -> (Quality, TableFlag) {
         if cell.flags & CELL_BAD != 0 {
-            (Quality::Bad, TableFlag::NoSinglePhase)
+            (Quality::Bad, TableFlag::NoState)
         } else if cell.flags & CELL_UNCERTAIN != 0 {
             (Quality::Uncertain, TableFlag::FlaggedBand)
         } else {
@@ -844,6 +889,7 @@ impl<'a, T: Real> TableGas<'a, T> {
         let pt = self.patch(&leaf, n, x, y, true);
         let state = TableState {
             z: pt.z,
+            dz_dt: pt.dz_dt,
             specific_volume: pt.z * self.gas_constant * t / p,
             enthalpy: pt.h + self.h_offset,
             entropy: pt.s + self.s_offset,
@@ -882,9 +928,11 @@ impl<'a, T: Real> TableGas<'a, T> {
 
     /// Temperature at pressure `p2` with entropy `s_target` (the isentropic
     /// discharge state), starting from `t_start`: Newton steps in T kept
-    /// inside a bracket, bisection when a step leaves it, at most
-    /// [`ISENTROPIC_MAX_ITERATIONS`]. Bad if no temperature in the envelope
-    /// has that entropy; the quality is the worst of the cells visited last.
+    /// inside a bracket, bisection when a step leaves it, until the entropy
+    /// residual is below 1/16 of the table's entropy tolerance or the step
+    /// below 2e-4 K, at most [`ISENTROPIC_MAX_ITERATIONS`] (then uncertain).
+    /// Bad if the root lies on or beyond an envelope edge; the quality is
+    /// that of the cell of the last step.
     pub fn isentropic_temperature(&self, p2: T, s_target: T, t_start: T) -> Measured<T> {
         let (x, _) = match self.coordinates(p2, self.t_min) {
             Ok(c) => c,
@@ -895,14 +943,20 @@ impl<'a, T: Real> TableGas<'a, T> {
         }
         let (mut lo, mut hi) = (T::ZERO, self.span_t);
         let mut y = T::clamp(t_start - self.t_min, lo, hi);
-        let tolerance = T::of(2e-4);
+        let step_tolerance = T::of(2e-4);
+        let residual_tolerance = self.s_tolerance;
         let mut quality = Quality::Good;
+        let mut converged = false;
         for _ in 0..ISENTROPIC_MAX_ITERATIONS {
             let Some((s, ds_dt, q)) = self.entropy_at(x, y) else {
                 return Measured::bad();
             };
             quality = q;
             let residual = s - s_target;
+            if T::abs(residual) <= residual_tolerance {
+                converged = true;
+                break;
+            }
             if residual > T::ZERO {
                 hi = y;
             } else {
@@ -918,21 +972,73 @@ impl<'a, T: Real> TableGas<'a, T> {
             }
             let step = T::abs(next - y);
             y = next;
-            if step < tolerance {
-                // Converged inside the envelope; an end of the bracket on
-                // an envelope edge means the root may lie outside.
-                if y <= tolerance || y >= self.span_t - tolerance {
-                    return Measured::bad();
-                }
-                return Measured::derived(y + self.t_min, quality);
+            if step < step_tolerance {
+                converged = true;
+                break;
             }
         }
-        Measured::derived(y + self.t_min, quality.worst(Quality::Uncertain))
+        // A root on an envelope edge may lie outside it.
+        if y <= step_tolerance || y >= self.span_t - step_tolerance {
+            return Measured::bad();
+        }
+        if !converged {
+            quality = quality.worst(Quality::Uncertain);
+        }
+        Measured::derived(y + self.t_min, quality)
+    }
+
+    /// Polytropic head ∫ v dp (= ∫ Z·R·T d ln p) along the path of constant
+    /// polytropic efficiency η from state 1 to state 2, by Simpson's rule in
+    /// ln p. The path's midpoint temperature comes from the cubic Hermite
+    /// interpolant of ln T(ln p) through both ends, with the end slopes the
+    /// path obeys: dh = v dp / η with ∂h/∂ln p = −R·T²·∂Z/∂T gives
+    /// d ln T / d ln p = R·(Z/η + T·∂Z/∂T)/cp. η starts from the straight
+    /// line in (ln p, ln T) and is refined [`POLYTROPIC_ITERATIONS`] times,
+    /// one midpoint state each (a consistency construction of this model,
+    /// checked against a 32-step path integration on GERG-2008 in
+    /// `tests/gerg_tables.rs`).
+    #[allow(clippy::too_many_arguments)]
+    fn polytropic_head(
+        &self,
+        s1: &TableState<T>,
+        s2: &TableState<T>,
+        p1: T,
+        t1: T,
+        p2: T,
+        t2: T,
+        actual: T,
+    ) -> (T, Quality) {
+        let r = self.gas_constant;
+        let ln_r = T::ln(p2 / p1);
+        let p_mid = T::sqrt(p1 * p2);
+        let ln_t1 = T::ln(t1);
+        let ln_t2 = T::ln(t2);
+        let sixth = ln_r * r / T::of(6.0);
+        let ends = s1.z * t1 + s2.z * t2;
+        let mut ln_tm = T::of(0.5) * (ln_t1 + ln_t2);
+        let mut quality = Quality::Good;
+        let mut head = T::ZERO;
+        for k in 0..=POLYTROPIC_ITERATIONS {
+            let t_mid = T::exp(ln_tm);
+            let mid = self.state(p_mid, t_mid);
+            quality = mid.quality;
+            head = sixth * (ends + T::of(4.0) * mid.z * t_mid);
+            if k == POLYTROPIC_ITERATIONS || quality == Quality::Bad {
+                break;
+            }
+            // η of this pass; the end slopes of ln T along that path.
+            let inv_eta = actual / head;
+            let g1 = r * (s1.z * inv_eta + t1 * s1.dz_dt) / s1.cp;
+            let g2 = r * (s2.z * inv_eta + t2 * s2.dz_dt) / s2.cp;
+            ln_tm = T::of(0.5) * (ln_t1 + ln_t2) + ln_r * T::of(0.125) * (g1 - g2);
+        }
+        (head, quality.worst(s1.quality).worst(s2.quality))
     }
 
     /// One compression stage from its measured suction (p1, t1) and
-    /// discharge (p2, t2): actual and isentropic head, polytropic head by
-    /// Simpson's rule with a midpoint state, both efficiencies. Each value's
+    /// discharge (p2, t2): actual and isentropic head, polytropic head along
+    /// the constant-efficiency path (Simpson's rule in ln p, midpoint state
+    /// on the path: see the private `polytropic_head`), both efficiencies. Each value's
     /// quality is the worst of the states it used.
     pub fn stage(&self, p1: T, t1: T, p2: T, t2: T) -> TableStage<T> {
         let bad = TableStage {
@@ -962,13 +1068,7 @@ impl<'a, T: Real> TableGas<'a, T> {
         };
         let q_s = s1.quality.worst(s2s.quality).worst(t2s.quality);
         let isentropic = s2s.enthalpy - s1.enthalpy;
-        let t_mid = T::sqrt(t1 * t2);
-        let p_mid = T::sqrt(p1 * p2);
-        let mid = self.state(p_mid, t_mid);
-        let q_p = q12.worst(mid.quality);
-        let six = T::of(6.0);
-        let polytropic =
-            self.gas_constant * ln_r / six * (s1.z * t1 + T::of(4.0) * mid.z * t_mid + s2.z * t2);
+        let (polytropic, q_p) = self.polytropic_head(&s1, &s2, p1, t1, p2, t2, actual);
         let positive = actual > T::ZERO;
         let q_work = if positive { q12 } else { Quality::Bad };
         TableStage {
@@ -1008,6 +1108,11 @@ mod tests {
         };
         let header = TableHeader {
             label: *b"ideal test gas\0\0",
+            mole_fractions: {
+                let mut x = [0.0; 21];
+                x[1] = 1.0;
+                x
+            },
             molar_mass: m,
             ln_p_min: p0.ln(),
             ln_p_max: p1.ln(),
