@@ -64,6 +64,9 @@ labels_doc = {
     "train_new_demo_5_stages": "`Train::new` of the demo train (once, at start-up)",
     "surge_margin_update": "surge margin, one `SurgeMonitor::update` (4-point line, 10-scan rate window full)",
     "signal_channel_4_20ma": "signal front end, one 4–20 mA channel `Channel::update` (scaling, plausibility, 5-sample median, low-pass)",
+    "tmp_state": "TMP one state",
+    "table_stage_ng_booster": "one compressor stage on a GERG-2008 property table (NG booster table in flash: two states, entropy-matched isentropic state, heads, polytropic efficiency)",
+    "table_stage_co2_demo": "the same on the demo CO2 table (decoded from its blob; Cortex-M4F only, needs 61 kB RAM)",
 }
 res = {}
 for t, _, _ in targets:
@@ -107,7 +110,10 @@ L.append("|---|" + "---:|---:|" * len(targets))
 for key, doc in labels_doc.items():
     row = f"| {doc} |"
     for t, _, mhz in targets:
-        v = max(res[t][0].get(key, [0]))
+        if key not in res[t][0]:
+            row += " – | – |"
+            continue
+        v = max(res[t][0][key])
         row += f" {v:,} | {v / mhz:,.1f} |"
     L.append(row)
 L.append("")

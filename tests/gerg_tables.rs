@@ -300,18 +300,15 @@ fn reference_stage(eos: &mut Eos, p1: f64, t1: f64, p2: f64, eta: f64) -> Option
     // repeated here on aga8 states: the difference to the table isolates
     // the interpolation, the difference to `eta` is the method's own.
     let ln_r = (p2 / p1).ln();
-    let mut ln_tm = 0.5 * (t1.ln() + t.ln());
-    let mut head = 0.0;
-    for k in 0..=polytrope::gas::table::POLYTROPIC_ITERATIONS {
-        let zm = eos.state((p1 * p2).sqrt(), ln_tm.exp())?.z;
-        head = r * ln_r / 6.0 * (s1.z * t1 + 4.0 * zm * ln_tm.exp() + s2.z * t);
-        if k == polytrope::gas::table::POLYTROPIC_ITERATIONS {
-            break;
-        }
-        let inv_eta = actual / head;
-        let g1 = r * (s1.z * inv_eta + t1 * s1.z_t) / s1.cp;
-        let g2 = r * (s2.z * inv_eta + t * s2.z_t) / s2.cp;
-        ln_tm = 0.5 * (t1.ln() + t.ln()) + ln_r / 8.0 * (g1 - g2);
+    let (a1, b1) = (r * t1 * s1.z_t / s1.cp, r * s1.z / s1.cp);
+    let (a2, b2) = (r * t * s2.z_t / s2.cp, r * s2.z / s2.cp);
+    let mut inv_eta = ((t / t1).ln() * 2.0 / ln_r - a1 - a2) / (b1 + b2);
+    let mut head = actual / inv_eta;
+    for _ in 0..polytrope::gas::table::POLYTROPIC_ITERATIONS {
+        let tm = (0.5 * (t1.ln() + t.ln()) + ln_r / 8.0 * (a1 - a2 + (b1 - b2) * inv_eta)).exp();
+        let zm = eos.state((p1 * p2).sqrt(), tm)?.z;
+        head = r * ln_r / 6.0 * (s1.z * t1 + 4.0 * zm * tm + s2.z * t);
+        inv_eta = actual / head;
     }
     Some(Reference {
         t2: t,

@@ -606,6 +606,32 @@ pub struct TableStage<T> {
     pub polytropic_efficiency: Measured<T>,
 }
 
+/// Patch outputs: Z and ∂Z/∂T.
+const W_Z: u8 = 1;
+/// Patch outputs: h and cp.
+const W_H: u8 = 2;
+/// Patch outputs: s.
+const W_S: u8 = 4;
+/// Patch outputs: s and ∂s/∂T.
+const W_DS: u8 = 8;
+/// Patch outputs: speed of sound.
+const W_W: u8 = 16;
+
+/// What the polytropic path needs of its two ends.
+struct PathEnds<T> {
+    ln_p1: T,
+    ln_r: T,
+    ln_t1: T,
+    ln_t2: T,
+    /// Z·T at each end.
+    zt1: T,
+    zt2: T,
+    /// R·T·∂Z/∂T / cp at each end.
+    a: [T; 2],
+    /// R·Z / cp at each end.
+    b: [T; 2],
+}
+
 /// Leaf cell found by the descent, with its bounds relative to the envelope
 /// origin.
 struct Leaf<'a, T> {
@@ -714,13 +740,14 @@ impl<'a, T: Real> TableGas<'a, T> {
         )
     }
 
-    /// Relative coordinates (ln p − ln p_min, T − T_min), or why not.
+    /// Relative coordinates (ln p − ln p_min, T − T_min) from ln p, or why
+    /// not.
     #[inline]
-    fn coordinates(&self, p: T, t: T) -> Result<(T, T), TableFlag> {
-        if !(T::is_finite(p) && T::is_finite(t)) || !(p > T::ZERO) {
+    fn coordinates(&self, ln_p: T, t: T) -> Result<(T, T), TableFlag> {
+        if !(T::is_finite(ln_p) && T::is_finite(t)) {
             return Err(TableFlag::NotFinite);
         }
-        let x = T::ln(p) - self.ln_p_min;
+        let x = ln_p - self.ln_p_min;
         let y = t - self.t_min;
         if !(x >= T::ZERO && x <= self.span_x && y >= T::ZERO && y <= self.span_t) {
             return Err(TableFlag::OutsideEnvelope);
@@ -756,7 +783,7 @@ impl<'a, T: Real> TableGas<'a, T> {
                 dx = dx * half;
                 inv_dx = inv_dx * two;
                 if x >= x0 + dx {
-                    x0 = x0 + dx;
+                    x0 += dx;
                     child = 1;
                 }
             }
@@ -764,7 +791,7 @@ impl<'a, T: Real> TableGas<'a, T> {
                 dy = dy * half;
                 inv_dy = inv_dy * two;
                 if y >= y0 + dy {
-                    y0 = y0 + dy;
+                    y0 += dy;
                     child += if split_x { 2 } else { 1 };
                 }
             }
@@ -786,20 +813,22 @@ impl<'a, T: Real> TableGas<'a, T> {
         ])
     }
 
-    /// Bicubic Hermite patch at (x, y) in `leaf`. With `full` false only s
-    /// and ∂s/∂T are computed (the entropy match needs no more).
+    /// Bicubic Hermite patch at (x, y) in `leaf`, computing only what
+    /// `WANT` asks for ([`W_Z`], [`W_H`], [`W_S`], [`W_DS`], [`W_W`]; Z's and
+    /// h's T-derivatives come with them). Tensor form: each function is first
+    /// interpolated along ln p on the cell's two T-edges (value and
+    /// T-tangent), then along T; the T-tangent of h on an edge is cp, and
+    /// s's is cp/T, so one cp interpolation serves h, s and cp.
     #[inline(always)]
-    fn patch(&self, leaf: &Leaf<'a, T>, n: [&Node; 4], x: T, y: T, full: bool) -> Patch<T> {
+    fn patch<const WANT: u8>(&self, leaf: &Leaf<'a, T>, n: [&Node; 4], x: T, y: T) -> Patch<T> {
         let zero = T::ZERO;
         let one = T::ONE;
         let u = T::clamp((x - leaf.x0) * leaf.inv_dx, zero, one);
         let v = T::clamp((y - leaf.y0) * leaf.inv_dy, zero, one);
         let (hu, _) = hermite(u);
         let (hv, dv) = hermite(v);
-        // Weights per corner (i along ln p, j along T): value, x-tangent,
-        // y-tangent, cross; and their derivatives in T.
-        let a = [hu[0], hu[1]];
-        let ad = [hu[2] * leaf.dx, hu[3] * leaf.dx];
+        let (a0, a1) = (hu[0], hu[1]);
+        let (ad0, ad1) = (hu[2] * leaf.dx, hu[3] * leaf.dx);
         let b = [hv[0], hv[1]];
         let bd = [hv[2] * leaf.dy, hv[3] * leaf.dy];
         let db = [dv[0] * leaf.inv_dy, dv[1] * leaf.inv_dy];
@@ -807,7 +836,16 @@ impl<'a, T: Real> TableGas<'a, T> {
         let r = self.gas_constant;
         let t_lo = self.t_min + leaf.y0;
         let temps = [t_lo, t_lo + leaf.dy];
-        let inv_t = [one / temps[0], one / temps[1]];
+        // Along ln p on one T-edge: value and ln p-tangent at both ends.
+        let edge = |f0: T, fx0: T, f1: T, fx1: T| a0 * f0 + ad0 * fx0 + a1 * f1 + ad1 * fx1;
+        // Along T: value and T-derivative from the two edges' values e and
+        // T-tangents g.
+        let across = |e: [T; 2], g: [T; 2]| {
+            (
+                b[0] * e[0] + bd[0] * g[0] + b[1] * e[1] + bd[1] * g[1],
+                db[0] * e[0] + dbd[0] * g[0] + db[1] * e[1] + dbd[1] * g[1],
+            )
+        };
         let mut out = Patch {
             z: zero,
             h: zero,
@@ -817,45 +855,52 @@ impl<'a, T: Real> TableGas<'a, T> {
             dz_dt: zero,
             w: zero,
         };
-        for (k, node) in n.iter().enumerate() {
-            let i = k & 1;
-            let j = k >> 1;
-            let (ai, adi) = (a[i & 1], ad[i & 1]);
-            let (bj, bdj, dbj, dbdj) = (b[j & 1], bd[j & 1], db[j & 1], dbd[j & 1]);
-            let (tc, inv_tc) = (temps[j & 1], inv_t[j & 1]);
-            let w0 = ai * bj;
-            let wx = adi * bj;
-            let wy = ai * bdj;
-            let wxy = adi * bdj;
-            let dw0 = ai * dbj;
-            let dwx = adi * dbj;
-            let dwy = ai * dbdj;
-            let dwxy = adi * dbdj;
-            let z = f::<T>(node.z);
-            let z_t = f::<T>(node.z_t);
-            let cp = f::<T>(node.cp);
-            let cp_x = f::<T>(node.cp_lnp);
-            // s: value, ∂/∂x = −R (Z + T Z_T), ∂/∂T = cp/T, cross = cp_x/T.
-            let s = f::<T>(node.s);
-            let s_x = -r * (z + tc * z_t);
-            let s_y = cp * inv_tc;
-            let s_xy = cp_x * inv_tc;
-            out.s += w0 * s + wx * s_x + wy * s_y + wxy * s_xy;
-            out.ds_dt += dw0 * s + dwx * s_x + dwy * s_y + dwxy * s_xy;
-            if full {
-                // h: value, ∂/∂x = −R T² Z_T, ∂/∂T = cp, cross = cp_x.
-                let h = f::<T>(node.h);
-                let h_x = -r * tc * tc * z_t;
-                out.h += w0 * h + wx * h_x + wy * cp + wxy * cp_x;
-                out.dh_dt += dw0 * h + dwx * h_x + dwy * cp + dwxy * cp_x;
-                let z_x = f::<T>(node.z_lnp);
-                let z_xy = f::<T>(node.z_lnp_t);
-                out.z += w0 * z + wx * z_x + wy * z_t + wxy * z_xy;
-                out.dz_dt += dw0 * z + dwx * z_x + dwy * z_t + dwxy * z_xy;
-                let lu = if i == 0 { one - u } else { u };
-                let lv = if j == 0 { one - v } else { v };
-                out.w += lu * lv * f::<T>(node.speed_of_sound);
+        let edges = [[n[0], n[1]], [n[2], n[3]]];
+        let mut cp_edge = [zero; 2];
+        if WANT & (W_H | W_S | W_DS) != 0 {
+            for (g, [c0, c1]) in cp_edge.iter_mut().zip(edges) {
+                *g = edge(f(c0.cp), f(c0.cp_lnp), f(c1.cp), f(c1.cp_lnp));
             }
+        }
+        if WANT & W_Z != 0 {
+            let mut e = [zero; 2];
+            let mut g = [zero; 2];
+            for ((e, g), [c0, c1]) in e.iter_mut().zip(g.iter_mut()).zip(edges) {
+                *e = edge(f(c0.z), f(c0.z_lnp), f(c1.z), f(c1.z_lnp));
+                *g = edge(f(c0.z_t), f(c0.z_lnp_t), f(c1.z_t), f(c1.z_lnp_t));
+            }
+            (out.z, out.dz_dt) = across(e, g);
+        }
+        if WANT & W_H != 0 {
+            // ∂h/∂ln p = −R·T²·∂Z/∂T.
+            let mut e = [zero; 2];
+            for ((e, t), [c0, c1]) in e.iter_mut().zip(temps).zip(edges) {
+                let k = -r * t * t;
+                *e = a0 * f(c0.h) + a1 * f(c1.h) + k * (ad0 * f(c0.z_t) + ad1 * f(c1.z_t));
+            }
+            (out.h, out.dh_dt) = across(e, cp_edge);
+        }
+        if WANT & (W_S | W_DS) != 0 {
+            // ∂s/∂ln p = −R·(Z + T·∂Z/∂T); ∂s/∂T = cp/T.
+            let mut e = [zero; 2];
+            let mut g = [zero; 2];
+            for (((e, g), (t, cp)), [c0, c1]) in e
+                .iter_mut()
+                .zip(g.iter_mut())
+                .zip(temps.into_iter().zip(cp_edge))
+                .zip(edges)
+            {
+                let sx0 = f::<T>(c0.z) + t * f::<T>(c0.z_t);
+                let sx1 = f::<T>(c1.z) + t * f::<T>(c1.z_t);
+                *e = a0 * f(c0.s) + a1 * f(c1.s) - r * (ad0 * sx0 + ad1 * sx1);
+                *g = cp / t;
+            }
+            (out.s, out.ds_dt) = across(e, g);
+        }
+        if WANT & W_W != 0 {
+            let (lu, lv) = (one - u, one - v);
+            out.w = lv * (lu * f(n[0].speed_of_sound) + u * f(n[1].speed_of_sound))
+                + v * (lu * f(n[2].speed_of_sound) + u * f(n[3].speed_of_sound));
         }
         out
     }
@@ -872,85 +917,113 @@ impl<'a, T: Real> TableGas<'a, T> {
 
     /// The state at pressure `p` (Pa absolute) and temperature `t` (K).
     pub fn state(&self, p: T, t: T) -> TableState<T> {
-        let (x, y) = match self.coordinates(p, t) {
-            Ok(c) => c,
-            Err(flag) => return TableState::bad(flag),
-        };
-        let Some(leaf) = self.locate(x, y) else {
+        if !(p > T::ZERO) {
             return TableState::bad(TableFlag::NotFinite);
-        };
-        let (quality, flag) = Self::flag_quality(leaf.cell);
+        }
+        self.state_ln(T::ln(p), p, t)
+    }
+
+    /// [`TableGas::state`] with ln p already known.
+    fn state_ln(&self, ln_p: T, p: T, t: T) -> TableState<T> {
+        let (pt, quality, flag) = self.eval::<{ W_Z | W_H | W_S | W_W }>(ln_p, t);
         if quality == Quality::Bad {
             return TableState::bad(flag);
         }
-        let Some(n) = self.corners(&leaf) else {
-            return TableState::bad(TableFlag::NotFinite);
-        };
-        let pt = self.patch(&leaf, n, x, y, true);
         let state = TableState {
             z: pt.z,
             dz_dt: pt.dz_dt,
             specific_volume: pt.z * self.gas_constant * t / p,
-            enthalpy: pt.h + self.h_offset,
-            entropy: pt.s + self.s_offset,
+            enthalpy: pt.h,
+            entropy: pt.s,
             cp: pt.dh_dt,
             speed_of_sound: pt.w,
             quality,
             flag,
         };
-        let ok = [
-            state.z,
-            state.specific_volume,
-            state.enthalpy,
-            state.entropy,
-            state.cp,
-            state.speed_of_sound,
-        ]
-        .iter()
-        .all(|v| T::is_finite(*v))
-            && state.z > T::ZERO
-            && state.cp > T::ZERO;
-        if ok {
+        if T::is_finite(state.specific_volume) && state.speed_of_sound > T::ZERO {
             state
         } else {
             TableState::bad(TableFlag::NotFinite)
         }
     }
 
-    /// Entropy and ∂s/∂T at relative coordinates, with the cell's quality.
-    fn entropy_at(&self, x: T, y: T) -> Option<(T, T, Quality)> {
-        let leaf = self.locate(x, y)?;
-        let (quality, _) = Self::flag_quality(leaf.cell);
-        let n = self.corners(&leaf)?;
-        let pt = self.patch(&leaf, n, x, y, false);
-        Some((pt.s + self.s_offset, pt.ds_dt, quality))
+    /// The patch outputs `WANT` at (ln p, T), offsets added, with the cell's
+    /// quality and flag; bad (zeros) outside the envelope, in a bad cell, or
+    /// for a non-finite or non-physical result (Z or cp not positive).
+    #[inline(always)]
+    fn eval<const WANT: u8>(&self, ln_p: T, t: T) -> (Patch<T>, Quality, TableFlag) {
+        let zero = Patch {
+            z: T::ZERO,
+            h: T::ZERO,
+            s: T::ZERO,
+            dh_dt: T::ZERO,
+            ds_dt: T::ZERO,
+            dz_dt: T::ZERO,
+            w: T::ZERO,
+        };
+        let (x, y) = match self.coordinates(ln_p, t) {
+            Ok(c) => c,
+            Err(flag) => return (zero, Quality::Bad, flag),
+        };
+        let Some(leaf) = self.locate(x, y) else {
+            return (zero, Quality::Bad, TableFlag::NotFinite);
+        };
+        let (quality, flag) = Self::flag_quality(leaf.cell);
+        if quality == Quality::Bad {
+            return (zero, quality, flag);
+        }
+        let Some(n) = self.corners(&leaf) else {
+            return (zero, Quality::Bad, TableFlag::NotFinite);
+        };
+        let mut pt = self.patch::<WANT>(&leaf, n, x, y);
+        pt.h += self.h_offset;
+        pt.s += self.s_offset;
+        let finite = [pt.z, pt.dz_dt, pt.h, pt.dh_dt, pt.s, pt.ds_dt, pt.w]
+            .iter()
+            .all(|v| T::is_finite(*v));
+        let physical =
+            (WANT & W_Z == 0 || pt.z > T::ZERO) && (WANT & W_H == 0 || pt.dh_dt > T::ZERO);
+        if finite && physical {
+            (pt, quality, flag)
+        } else {
+            (zero, Quality::Bad, TableFlag::NotFinite)
+        }
     }
 
     /// Temperature at pressure `p2` with entropy `s_target` (the isentropic
     /// discharge state), starting from `t_start`: Newton steps in T kept
     /// inside a bracket, bisection when a step leaves it, until the entropy
-    /// residual is below 1/16 of the table's entropy tolerance or the step
-    /// below 2e-4 K, at most [`ISENTROPIC_MAX_ITERATIONS`] (then uncertain).
+    /// residual is below 1/16 of the table's entropy tolerance or a Newton
+    /// step below 0.02 K, at most [`ISENTROPIC_MAX_ITERATIONS`] (then uncertain).
     /// Bad if the root lies on or beyond an envelope edge; the quality is
     /// that of the cell of the last step.
     pub fn isentropic_temperature(&self, p2: T, s_target: T, t_start: T) -> Measured<T> {
-        let (x, _) = match self.coordinates(p2, self.t_min) {
-            Ok(c) => c,
-            Err(_) => return Measured::bad(),
-        };
-        if !(T::is_finite(s_target) && T::is_finite(t_start)) {
+        if !(p2 > T::ZERO) {
+            return Measured::bad();
+        }
+        self.isentropic_ln(T::ln(p2), s_target, t_start)
+    }
+
+    /// [`TableGas::isentropic_temperature`] with ln p2 already known.
+    fn isentropic_ln(&self, ln_p2: T, s_target: T, t_start: T) -> Measured<T> {
+        if !(T::is_finite(ln_p2) && T::is_finite(s_target) && T::is_finite(t_start)) {
             return Measured::bad();
         }
         let (mut lo, mut hi) = (T::ZERO, self.span_t);
         let mut y = T::clamp(t_start - self.t_min, lo, hi);
-        let step_tolerance = T::of(2e-4);
+        // After a Newton step this small the remaining error is of order
+        // its square (times the curvature): far below 1e-3 K.
+        let step_tolerance = T::of(0.02);
+        let edge_margin = T::of(2e-4);
         let residual_tolerance = self.s_tolerance;
         let mut quality = Quality::Good;
         let mut converged = false;
         for _ in 0..ISENTROPIC_MAX_ITERATIONS {
-            let Some((s, ds_dt, q)) = self.entropy_at(x, y) else {
+            let (pt, q, _) = self.eval::<W_DS>(ln_p2, y + self.t_min);
+            if q == Quality::Bad {
                 return Measured::bad();
-            };
+            }
+            let (s, ds_dt) = (pt.s, pt.ds_dt);
             quality = q;
             let residual = s - s_target;
             if T::abs(residual) <= residual_tolerance {
@@ -978,7 +1051,7 @@ impl<'a, T: Real> TableGas<'a, T> {
             }
         }
         // A root on an envelope edge may lie outside it.
-        if y <= step_tolerance || y >= self.span_t - step_tolerance {
+        if y <= edge_margin || y >= self.span_t - edge_margin {
             return Measured::bad();
         }
         if !converged {
@@ -988,51 +1061,41 @@ impl<'a, T: Real> TableGas<'a, T> {
     }
 
     /// Polytropic head ∫ v dp (= ∫ Z·R·T d ln p) along the path of constant
-    /// polytropic efficiency η from state 1 to state 2, by Simpson's rule in
-    /// ln p. The path's midpoint temperature comes from the cubic Hermite
-    /// interpolant of ln T(ln p) through both ends, with the end slopes the
-    /// path obeys: dh = v dp / η with ∂h/∂ln p = −R·T²·∂Z/∂T gives
-    /// d ln T / d ln p = R·(Z/η + T·∂Z/∂T)/cp. η starts from the straight
-    /// line in (ln p, ln T) and is refined [`POLYTROPIC_ITERATIONS`] times,
-    /// one midpoint state each (a consistency construction of this model,
-    /// checked against a 32-step path integration on GERG-2008 in
-    /// `tests/gerg_tables.rs`).
-    #[allow(clippy::too_many_arguments)]
-    fn polytropic_head(
-        &self,
-        s1: &TableState<T>,
-        s2: &TableState<T>,
-        p1: T,
-        t1: T,
-        p2: T,
-        t2: T,
-        actual: T,
-    ) -> (T, Quality) {
-        let r = self.gas_constant;
-        let ln_r = T::ln(p2 / p1);
-        let p_mid = T::sqrt(p1 * p2);
-        let ln_t1 = T::ln(t1);
-        let ln_t2 = T::ln(t2);
-        let sixth = ln_r * r / T::of(6.0);
-        let ends = s1.z * t1 + s2.z * t2;
-        let mut ln_tm = T::of(0.5) * (ln_t1 + ln_t2);
-        let mut quality = Quality::Good;
-        let mut head = T::ZERO;
-        for k in 0..=POLYTROPIC_ITERATIONS {
-            let t_mid = T::exp(ln_tm);
-            let mid = self.state(p_mid, t_mid);
-            quality = mid.quality;
-            head = sixth * (ends + T::of(4.0) * mid.z * t_mid);
-            if k == POLYTROPIC_ITERATIONS || quality == Quality::Bad {
-                break;
+    /// polytropic efficiency η between the two measured states, by
+    /// Simpson's rule in ln p. Along that path dh = v dp / η, and with
+    /// ∂h/∂ln p = −R·T²·∂Z/∂T and ∂h/∂T = cp this gives
+    /// d ln T / d ln p = a + b/η (a = R·T·∂Z/∂T / cp, b = R·Z / cp). η
+    /// starts from the trapezoid rule on that slope (no extra state); each of
+    /// [`POLYTROPIC_ITERATIONS`] passes places the path's midpoint on the
+    /// cubic Hermite interpolant of ln T(ln p) through both ends with those
+    /// slopes, evaluates Z there (one state) and takes η from Simpson's
+    /// head. A consistency construction of this model, checked against a
+    /// 32-step path integration on GERG-2008 in `tests/gerg_tables.rs`.
+    fn polytropic_head(&self, e: &PathEnds<T>, actual: T) -> (T, Quality) {
+        let half = T::of(0.5);
+        let [a1, a2] = e.a;
+        let [b1, b2] = e.b;
+        let ln_t_mean = half * (e.ln_t1 + e.ln_t2);
+        // Trapezoid: ln(T2/T1) = ln r / 2 · (a1 + a2 + (b1 + b2)/η).
+        let mut inv_eta = ((e.ln_t2 - e.ln_t1) * T::of(2.0) / e.ln_r - a1 - a2) / (b1 + b2);
+        let ln_p_mid = e.ln_p1 + half * e.ln_r;
+        let sixth = e.ln_r * self.gas_constant / T::of(6.0);
+        let ends = e.zt1 + e.zt2;
+        // Without a usable midpoint: the trapezoid's head, uncertain.
+        let mut head = actual / inv_eta;
+        let mut quality = Quality::Uncertain;
+        for _ in 0..POLYTROPIC_ITERATIONS {
+            let slope_gap = a1 - a2 + (b1 - b2) * inv_eta;
+            let t_mid = T::exp(ln_t_mean + e.ln_r * T::of(0.125) * slope_gap);
+            let (mid, q, _) = self.eval::<W_Z>(ln_p_mid, t_mid);
+            quality = q;
+            if quality == Quality::Bad {
+                return (head, Quality::Bad);
             }
-            // η of this pass; the end slopes of ln T along that path.
-            let inv_eta = actual / head;
-            let g1 = r * (s1.z * inv_eta + t1 * s1.dz_dt) / s1.cp;
-            let g2 = r * (s2.z * inv_eta + t2 * s2.dz_dt) / s2.cp;
-            ln_tm = T::of(0.5) * (ln_t1 + ln_t2) + ln_r * T::of(0.125) * (g1 - g2);
+            head = sixth * (ends + T::of(4.0) * mid.z * t_mid);
+            inv_eta = actual / head;
         }
-        (head, quality.worst(s1.quality).worst(s2.quality))
+        (head, quality)
     }
 
     /// One compression stage from its measured suction (p1, t1) and
@@ -1049,26 +1112,54 @@ impl<'a, T: Real> TableGas<'a, T> {
             polytropic_head: Measured::bad(),
             polytropic_efficiency: Measured::bad(),
         };
-        let s1 = self.state(p1, t1);
-        let s2 = self.state(p2, t2);
-        let q12 = s1.quality.worst(s2.quality);
-        if q12 == Quality::Bad || !(p2 > p1) {
+        if !(p1 > T::ZERO && p2 > p1) {
             return bad;
         }
-        let actual = s2.enthalpy - s1.enthalpy;
-        let ln_r = T::ln(p2 / p1);
-        // Start the entropy match from the ideal-gas-like estimate
-        // T1·r^(Z1·R/cp1).
-        let guess = t1 * T::exp(s1.z * self.gas_constant / s1.cp * ln_r);
-        let t2s = self.isentropic_temperature(p2, s1.entropy, guess);
-        let s2s = if t2s.quality == Quality::Bad {
-            TableState::bad(TableFlag::NotFinite)
+        let ln_p1 = T::ln(p1);
+        let ln_p2 = T::ln(p2);
+        let (s1, q1, _) = self.eval::<{ W_Z | W_H | W_S }>(ln_p1, t1);
+        let (s2, q2, _) = self.eval::<{ W_Z | W_H | W_S }>(ln_p2, t2);
+        let q12 = q1.worst(q2);
+        if q12 == Quality::Bad {
+            return bad;
+        }
+        let actual = s2.h - s1.h;
+        let ln_r = ln_p2 - ln_p1;
+        let ln_t1 = T::ln(t1);
+        let ln_t2 = T::ln(t2);
+        // Slopes of ln T along ln p at both ends: d ln T / d ln p =
+        // a + b/η with a = R·T·∂Z/∂T / cp and b = R·Z / cp (see
+        // `polytropic_head`). With η = 1 they start the entropy match (the
+        // trapezoid rule along the isentrope, state 2's properties standing
+        // in for the isentropic state's).
+        let r = self.gas_constant;
+        let a1 = r * t1 * s1.dz_dt / s1.dh_dt;
+        let b1 = r * s1.z / s1.dh_dt;
+        let a2 = r * t2 * s2.dz_dt / s2.dh_dt;
+        let b2 = r * s2.z / s2.dh_dt;
+        let half = T::of(0.5);
+        let guess = T::exp(ln_t1 + half * ln_r * (a1 + b1 + a2 + b2));
+        let t2s = self.isentropic_ln(ln_p2, s1.s, guess);
+        let (h2s, q2s) = if t2s.quality == Quality::Bad {
+            (T::ZERO, Quality::Bad)
         } else {
-            self.state(p2, t2s.value)
+            let (pt, q, _) = self.eval::<W_H>(ln_p2, t2s.value);
+            (pt.h, q)
         };
-        let q_s = s1.quality.worst(s2s.quality).worst(t2s.quality);
-        let isentropic = s2s.enthalpy - s1.enthalpy;
-        let (polytropic, q_p) = self.polytropic_head(&s1, &s2, p1, t1, p2, t2, actual);
+        let q_s = q1.worst(q2s).worst(t2s.quality);
+        let isentropic = h2s - s1.h;
+        let ends = PathEnds {
+            ln_p1,
+            ln_r,
+            ln_t1,
+            ln_t2,
+            zt1: s1.z * t1,
+            zt2: s2.z * t2,
+            a: [a1, a2],
+            b: [b1, b2],
+        };
+        let (polytropic, q_mid) = self.polytropic_head(&ends, actual);
+        let q_p = q12.worst(q_mid);
         let positive = actual > T::ZERO;
         let q_work = if positive { q12 } else { Quality::Bad };
         TableStage {

@@ -5,6 +5,7 @@
 
 pub mod codec;
 pub mod front;
+pub mod gas_tables;
 pub mod table;
 
 /// Start of a measured region; the plugin starts counting at its first

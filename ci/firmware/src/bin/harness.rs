@@ -20,6 +20,7 @@ use cortex_m_semihosting::{debug, hio};
 use heapless::String;
 use polytrope::cooler::{evaluate_cooler_into, CoolerInputs, CoolerResult};
 use polytrope::demo::{self, DemoTrain};
+use polytrope::gas::table::TableGas;
 use polytrope::gas::{GasModel, IdealGas};
 use polytrope::quality::{Measured, Quality};
 use polytrope::scan::Scan;
@@ -29,6 +30,7 @@ use polytrope::stage::{
 use polytrope::train::{Snapshot, Train, TrainConfig};
 use polytrope_firmware::codec::{decode_scan, quality_code, visit, Out, RawStage};
 use polytrope_firmware::front::{self, Monitor, PressureChannel};
+use polytrope_firmware::gas_tables::NG_BOOSTER;
 use polytrope_firmware::measure;
 use polytrope_firmware::table::SCANS;
 
@@ -119,6 +121,20 @@ fn update_surge(m: &mut Monitor, s: &polytrope::surge::SurgeScan<f32>) -> f32 {
 #[inline(never)]
 fn update_channel(c: &mut PressureChannel, raw: f32, t_ms: u64) -> f32 {
     c.update(raw, t_ms).filtered.value
+}
+
+/// One compressor stage on a property table (both measured states, the
+/// entropy-matched isentropic state, heads, polytropic efficiency).
+#[inline(never)]
+fn table_stage(gas: &TableGas<'_, f32>, p1: f32, t1: f32, p2: f32, t2: f32) -> f32 {
+    let s = gas.stage(p1, t1, p2, t2);
+    s.polytropic_efficiency.value + s.isentropic_head.value
+}
+
+#[inline(never)]
+fn table_state(gas: &TableGas<'_, f32>, p: f32, t: f32) -> f32 {
+    let s = gas.state(p, t);
+    s.enthalpy + s.entropy
 }
 
 #[inline(never)]
@@ -250,6 +266,48 @@ fn main() -> ! {
         evaluate_pump(gas_ref, 780.0, 0.72, pp1, pp2, pt1, g(11.5))
     });
     black_box(res);
+
+    // One stage on the natural-gas booster table (invented scenario: 40 ->
+    // 80 bar a, 300 -> 365 K), three times.
+    let Ok(ng) = TableGas::<f32>::new(black_box(NG_BOOSTER)) else {
+        fail(&mut h, "NG table");
+    };
+    for k in 0..3 {
+        let (a, b, c, d) = black_box((40e5_f32, 300.0_f32 + k as f32, 80e5_f32, 365.0_f32));
+        let r = label(&mut h, "table_stage_ng_booster");
+        let v = measure(r, || table_stage(&ng, a, b, c, d));
+        if !(v > 0.0) {
+            fail(&mut h, "NG table stage");
+        }
+    }
+    for k in 0..2 {
+        let (a, b) = black_box((40e5_f32, 300.0_f32 + k as f32));
+        let r = label(&mut h, "tmp_state");
+        let v = measure(r, || table_state(&ng, a, b));
+        black_box(v);
+    }
+    // The demo CO2 train's stage 3 (9 -> 26 bar a) and stage 4 (25.6 -> 66
+    // bar a, near the critical band) on the CO2 table decoded from its blob
+    // (Cortex-M4F only: the table needs 61 kB of RAM).
+    #[cfg(target_abi = "eabihf")]
+    {
+        use polytrope::gas::table::PropertyTable;
+        use polytrope_firmware::gas_tables::CO2_DEMO_BLOB;
+        let Ok(co2_table) = PropertyTable::<1100, 1800>::from_blob(black_box(CO2_DEMO_BLOB)) else {
+            fail(&mut h, "CO2 table blob");
+        };
+        let Ok(co2) = TableGas::<f32>::new(co2_table.data()) else {
+            fail(&mut h, "CO2 table");
+        };
+        for (a, b, c, d) in [(9.0e5_f32, 308.0_f32, 26.0e5_f32, 400.0_f32), (25.6e5, 309.0, 66.0e5, 385.0)] {
+            let (a, b, c, d) = black_box((a, b, c, d));
+            let r = label(&mut h, "table_stage_co2_demo");
+            let v = measure(r, || table_stage(&co2, a, b, c, d));
+            if !(v > 0.0) {
+                fail(&mut h, "CO2 table stage");
+            }
+        }
+    }
 
     // Full updates in steady operation: a fresh train warmed with the first
     // ten (normal) scans of the table, then three measured scans.
