@@ -10,6 +10,14 @@
 //! functions. The bounds are what the tables honestly do (measured, with a
 //! small margin); the README quotes the measured values.
 
+// A test crate: a failed expectation is a test failure.
+#![allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing
+)]
+
 use polytrope::gas::table::{PropertyTable, TableGas};
 use polytrope::Quality;
 

@@ -8,6 +8,14 @@
 //! density root is the generator's own (`examples-host/src/gerg_table.rs`,
 //! included here), so the comparison isolates the interpolation.
 
+// A test crate: a failed expectation is a test failure.
+#![allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing
+)]
+
 #[path = "../examples-host/src/gerg_table.rs"]
 #[allow(dead_code)]
 mod gerg_table;
@@ -268,7 +276,7 @@ fn reference_stage(eos: &mut Eos, p1: f64, t1: f64, p2: f64, eta: f64) -> Option
     let mut x = p1.ln();
     let mut h = s1.h;
     let mut t = t1;
-    let mut slope = |eos: &mut Eos, x: f64, h: f64, tg: f64| -> Option<(f64, f64)> {
+    let slope = |eos: &mut Eos, x: f64, h: f64, tg: f64| -> Option<(f64, f64)> {
         let tt = t_from_ph(eos, x.exp(), h, tg)?;
         let st = eos.state(x.exp(), tt)?;
         Some((st.z * r * tt / eta, tt))
@@ -295,9 +303,9 @@ fn reference_stage(eos: &mut Eos, p1: f64, t1: f64, p2: f64, eta: f64) -> Option
         }
     }
     let isentropic = eos.state(p2, ts)?.h - s1.h;
-    // The table model's polytropic method (Simpson with the path midpoint
-    // from a Hermite ln T(ln p), `polytropic_head` in src/gas/table.rs),
-    // repeated here on aga8 states: the difference to the table isolates
+    // The table model's polytropic method (Simpson with T and Z at the path
+    // midpoint from Hermite interpolants through the ends, `polytropic_head`
+    // in src/gas/table.rs), repeated here on aga8 states: the difference to the table isolates
     // the interpolation, the difference to `eta` is the method's own.
     let ln_r = (p2 / p1).ln();
     let (a1, b1) = (r * t1 * s1.z_t / s1.cp, r * s1.z / s1.cp);
@@ -305,8 +313,10 @@ fn reference_stage(eos: &mut Eos, p1: f64, t1: f64, p2: f64, eta: f64) -> Option
     let mut inv_eta = ((t / t1).ln() * 2.0 / ln_r - a1 - a2) / (b1 + b2);
     let mut head = actual / inv_eta;
     for _ in 0..polytrope::gas::table::POLYTROPIC_ITERATIONS {
-        let tm = (0.5 * (t1.ln() + t.ln()) + ln_r / 8.0 * (a1 - a2 + (b1 - b2) * inv_eta)).exp();
-        let zm = eos.state((p1 * p2).sqrt(), tm)?.z;
+        let (dt1, dt2) = (t1 * (a1 + b1 * inv_eta), t * (a2 + b2 * inv_eta));
+        let tm = 0.5 * (t1 + t) + ln_r / 8.0 * (dt1 - dt2);
+        let (dz1, dz2) = (s1.z_lnp + s1.z_t * dt1, s2.z_lnp + s2.z_t * dt2);
+        let zm = 0.5 * (s1.z + s2.z) + ln_r / 8.0 * (dz1 - dz2);
         head = r * ln_r / 6.0 * (s1.z * t1 + 4.0 * zm * tm + s2.z * t);
         inv_eta = actual / head;
     }
@@ -422,7 +432,7 @@ fn f32_device_build_agrees_with_f64_on_tables() {
     let t = load(TABLES[0].1);
     let g32 = TableGas::<f32>::new(t.data()).unwrap();
     let g64 = TableGas::<f64>::new(t.data()).unwrap();
-    let mut rng = Rng(0x6633_32);
+    let mut rng = Rng(0x0066_3332);
     let mut worst = (0.0f64, 0.0f64);
     for _ in 0..2000 {
         let p1 = rng.range(2e5f64.ln(), 80e5f64.ln()).exp();

@@ -388,7 +388,9 @@ impl Builder {
         let mut sides = [false, false];
         for &(x, t) in &[(x0, t0), (x1, t0), (x0, t1), (x1, t1)] {
             if let Some(side) = self.eos.side(x.exp(), t) {
-                sides[usize::from(side)] = true;
+                if let Some(seen) = sides.get_mut(usize::from(side)) {
+                    *seen = true;
+                }
             }
         }
         let mut err = (0.0f64, 0.0f64, 0.0f64);
@@ -406,7 +408,9 @@ impl Builder {
             let t = t0 + fv * (t1 - t0);
             let p = x.exp();
             if let Some(side) = self.eos.side(p, t) {
-                sides[usize::from(side)] = true;
+                if let Some(seen) = sides.get_mut(usize::from(side)) {
+                    *seen = true;
+                }
             }
             let Some(exact) = self.eos.state(p, t) else {
                 bad = true;
@@ -539,7 +543,8 @@ impl Builder {
         // state without a root, a poor start), split the longer side in
         // lattice units.
         let best = sx.min(sy);
-        let flags = if !(best <= 0.5 * t.score) {
+        let halved = best <= 0.5 * t.score;
+        let flags = if !halved {
             if can_x && (r.si >= r.sj || !can_y) {
                 SPLIT_LN_P
             } else {
@@ -566,10 +571,22 @@ impl Builder {
             .filter(|f| *f < u16::MAX - 4)
             .ok_or_else(|| "table too large: more than 65535 cells".to_string())?;
         self.cells
-            .extend(std::iter::repeat(Cell::default()).take(children.len()));
+            .resize(self.cells.len() + children.len(), Cell::default());
+        // The lattice bit that picks the child: the children's size as a
+        // power of two of lattice units.
+        let bit_x = if flags & SPLIT_LN_P != 0 {
+            (r.si / 2).trailing_zeros() as u16
+        } else {
+            0
+        };
+        let bit_t = if flags & SPLIT_T != 0 {
+            (r.sj / 2).trailing_zeros() as u16
+        } else {
+            0
+        };
         if let Some(c) = self.cells.get_mut(index) {
             *c = Cell {
-                corners: [0; 4],
+                corners: [bit_x, bit_t, 0, 0],
                 children: first16,
                 flags,
             };
@@ -635,6 +652,7 @@ pub fn generate(spec: &Spec) -> Result<Generated, String> {
         tolerance_h: spec.tol_h as f32,
         tolerance_s: spec.tol_s as f32,
         tolerance_z: spec.tol_z as f32,
+        lattice_bits: spec.max_depth as u8,
         node_count: 0,
         cell_count: 0,
     };
@@ -696,6 +714,7 @@ pub fn rust_source(g: &Generated, name: &str, command: &str) -> String {
          \x20       tolerance_h: {:?},\n\
          \x20       tolerance_s: {:?},\n\
          \x20       tolerance_z: {:?},\n\
+         \x20       lattice_bits: {},\n\
          \x20       node_count: {},\n\
          \x20       cell_count: {},\n\
          \x20   }},\n\
@@ -715,6 +734,7 @@ pub fn rust_source(g: &Generated, name: &str, command: &str) -> String {
         h.tolerance_h,
         h.tolerance_s,
         h.tolerance_z,
+        h.lattice_bits,
         h.node_count,
         h.cell_count,
     );

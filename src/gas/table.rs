@@ -61,7 +61,7 @@ pub const SPLIT_LN_P: u8 = 4;
 pub const SPLIT_T: u8 = 8;
 /// Midpoint refinements of the polytropic path (see
 /// [`TableGas::stage`]).
-pub const POLYTROPIC_ITERATIONS: usize = 2;
+pub const POLYTROPIC_ITERATIONS: usize = 3;
 /// Iteration cap of the isentropic (entropy-matched) temperature search.
 pub const ISENTROPIC_MAX_ITERATIONS: usize = 12;
 
@@ -98,6 +98,9 @@ pub struct TableHeader {
     pub tolerance_s: f32,
     /// Largest relative Z interpolation error accepted.
     pub tolerance_z: f32,
+    /// The tree's lattice: every cell edge lies on a multiple of
+    /// 2^−lattice_bits of the envelope's span in each variable (1 to 16).
+    pub lattice_bits: u8,
     /// Number of nodes.
     pub node_count: u16,
     /// Number of cells.
@@ -133,7 +136,10 @@ pub struct Node {
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Cell {
     /// Corner node indices of a leaf: (low ln p, low T), (high ln p, low T),
-    /// (low ln p, high T), (high ln p, high T). Unused in a split cell.
+    /// (low ln p, high T), (high ln p, high T). In a split cell, `corners[0]`
+    /// and `corners[1]` hold the lattice bit that selects the child along
+    /// ln p and along T (the cell's level counted from the finest lattice,
+    /// so the descent needs no counters); the rest are 0.
     pub corners: [u16; 4],
     /// Index of the first child, always above the cell's own index; 0 for a
     /// leaf. Two children (low, high half) for a split in one variable, four
@@ -243,6 +249,9 @@ fn check_header(h: &TableHeader) -> Result<(), ConfigError> {
             return Err(ConfigError::out_of_range(field, 0.0, f64::INFINITY));
         }
     }
+    if !(1..=16).contains(&h.lattice_bits) {
+        return Err(ConfigError::out_of_range("table.lattice_bits", 1.0, 16.0));
+    }
     if h.node_count < 4 {
         return Err(ConfigError::new(
             "table_nodes",
@@ -298,7 +307,13 @@ fn child_count(flags: u8) -> usize {
     }
 }
 
-fn check_cell(index: usize, c: &Cell, nodes: usize, cells: usize) -> Result<(), ConfigError> {
+fn check_cell(
+    index: usize,
+    c: &Cell,
+    nodes: usize,
+    cells: usize,
+    lattice_bits: u8,
+) -> Result<(), ConfigError> {
     let allowed = if c.children == 0 {
         CELL_UNCERTAIN | CELL_BAD
     } else {
@@ -318,6 +333,18 @@ fn check_cell(index: usize, c: &Cell, nodes: usize, cells: usize) -> Result<(), 
             .at(index));
         }
     } else {
+        let bits = u16::from(lattice_bits);
+        let [bit_x, bit_t, ..] = c.corners;
+        if (c.flags & SPLIT_LN_P != 0 && bit_x >= bits) || (c.flags & SPLIT_T != 0 && bit_t >= bits)
+        {
+            return Err(ConfigError::new(
+                "table_cells.corners",
+                Problem::Inconsistent {
+                    with: "table.lattice_bits",
+                },
+            )
+            .at(index));
+        }
         let first = usize::from(c.children);
         if first <= index || first + child_count(c.flags) > cells {
             return Err(ConfigError::new(
@@ -358,7 +385,7 @@ pub fn validate(data: &TableData<'_>) -> Result<(), ConfigError> {
         check_node(i, n)?;
     }
     for (i, c) in data.cells.iter().enumerate() {
-        check_cell(i, c, nodes, cells)?;
+        check_cell(i, c, nodes, cells, data.header.lattice_bits)?;
     }
     Ok(())
 }
@@ -421,6 +448,7 @@ impl<const NODES: usize, const CELLS: usize> PropertyTable<NODES, CELLS> {
                 tolerance_h: 0.0,
                 tolerance_s: 0.0,
                 tolerance_z: 0.0,
+                lattice_bits: 0,
                 node_count: 0,
                 cell_count: 0,
             },
@@ -501,7 +529,14 @@ impl<const NODES: usize, const CELLS: usize> PropertyTable<NODES, CELLS> {
         for i in 0..n_cells as usize {
             let (cell, r): (Cell, _) = take(rest)?;
             rest = r;
-            check_cell(i, &cell, n_nodes as usize, n_cells as usize).map_err(BlobError::Invalid)?;
+            check_cell(
+                i,
+                &cell,
+                n_nodes as usize,
+                n_cells as usize,
+                header.lattice_bits,
+            )
+            .map_err(BlobError::Invalid)?;
             if let Some(slot) = into.as_deref_mut().and_then(|t| t.cells.get_mut(i)) {
                 *slot = cell;
             }
@@ -553,6 +588,8 @@ pub struct TableState<T> {
     pub z: T,
     /// ∂Z/∂T at constant pressure, 1/K.
     pub dz_dt: T,
+    /// ∂Z/∂ln p at constant temperature.
+    pub dz_dlnp: T,
     /// Specific volume, m³/kg.
     pub specific_volume: T,
     /// Specific enthalpy, J/kg (the equation of state's reference).
@@ -574,6 +611,7 @@ impl<T: Real> TableState<T> {
         TableState {
             z: T::ZERO,
             dz_dt: T::ZERO,
+            dz_dlnp: T::ZERO,
             specific_volume: T::ZERO,
             enthalpy: T::ZERO,
             entropy: T::ZERO,
@@ -606,6 +644,9 @@ pub struct TableStage<T> {
     pub polytropic_efficiency: Measured<T>,
 }
 
+/// The start-of-descent grid: 2^JUMP_BITS parts per axis.
+const JUMP_BITS: u32 = 3;
+
 /// Patch outputs: Z and ∂Z/∂T.
 const W_Z: u8 = 1;
 /// Patch outputs: h and cp.
@@ -619,13 +660,15 @@ const W_W: u8 = 16;
 
 /// What the polytropic path needs of its two ends.
 struct PathEnds<T> {
-    ln_p1: T,
     ln_r: T,
-    ln_t1: T,
-    ln_t2: T,
-    /// Z·T at each end.
-    zt1: T,
-    zt2: T,
+    /// ln(T2/T1).
+    ln_t_ratio: T,
+    t: [T; 2],
+    z: [T; 2],
+    /// ∂Z/∂ln p at each end.
+    z_x: [T; 2],
+    /// ∂Z/∂T at each end.
+    z_t: [T; 2],
     /// R·T·∂Z/∂T / cp at each end.
     a: [T; 2],
     /// R·Z / cp at each end.
@@ -634,6 +677,7 @@ struct PathEnds<T> {
 
 /// Leaf cell found by the descent, with its bounds relative to the envelope
 /// origin.
+#[derive(Clone, Copy)]
 struct Leaf<'a, T> {
     cell: &'a Cell,
     x0: T,
@@ -652,6 +696,7 @@ struct Patch<T> {
     dh_dt: T,
     ds_dt: T,
     dz_dt: T,
+    dz_dx: T,
     w: T,
 }
 
@@ -687,10 +732,20 @@ pub struct TableGas<'a, T> {
     gas_constant: T,
     ln_p_min: T,
     span_x: T,
-    inv_span_x: T,
     t_min: T,
     span_t: T,
-    inv_span_t: T,
+    lattice_bits: u32,
+    /// One lattice unit in ln p and its inverse.
+    unit_x: T,
+    inv_unit_x: T,
+    /// One lattice unit in T and its inverse.
+    unit_t: T,
+    inv_unit_t: T,
+    /// Where the descent starts for each of 2^JUMP_BITS × 2^JUMP_BITS equal
+    /// parts of the envelope: the deepest cell that holds the whole part,
+    /// with its size as powers of two of lattice units (ln p, T); built once
+    /// by [`TableGas::new`].
+    jump: [(u16, u8, u8); 1 << (2 * JUMP_BITS)],
     h_offset: T,
     s_offset: T,
     /// Entropy residual that ends the entropy match: 1/16 of the table's
@@ -706,19 +761,72 @@ impl<'a, T: Real> TableGas<'a, T> {
         let h = &data.header;
         let span_x = h.ln_p_max - h.ln_p_min;
         let span_t = h.t_max - h.t_min;
-        Ok(TableGas {
+        let n = f64::from(1u32 << h.lattice_bits);
+        let mut gas = TableGas {
             data,
             gas_constant: T::of(MOLAR_GAS_CONSTANT / h.molar_mass),
             ln_p_min: T::of(h.ln_p_min),
             span_x: T::of(span_x),
-            inv_span_x: T::of(1.0 / span_x),
             t_min: T::of(h.t_min),
             span_t: T::of(span_t),
-            inv_span_t: T::of(1.0 / span_t),
+            lattice_bits: u32::from(h.lattice_bits),
+            unit_x: T::of(span_x / n),
+            inv_unit_x: T::of(n / span_x),
+            unit_t: T::of(span_t / n),
+            inv_unit_t: T::of(n / span_t),
             h_offset: T::of(h.h_offset),
             s_offset: T::of(h.s_offset),
             s_tolerance: T::of(f64::from(h.tolerance_s) / 16.0),
-        })
+            jump: [(0, h.lattice_bits, h.lattice_bits); 1 << (2 * JUMP_BITS)],
+        };
+        gas.build_jump();
+        Ok(gas)
+    }
+
+    /// Fills [`TableGas::jump`]: for each part, descends from the root while
+    /// the child holding the part's first lattice point is still at least as
+    /// large as the part in both variables.
+    fn build_jump(&mut self) {
+        let bits = self.lattice_bits;
+        let part = bits.saturating_sub(JUMP_BITS);
+        let per_axis = 1u32 << JUMP_BITS;
+        let cells: &'a [Cell] = self.data.cells;
+        for (k, slot) in self.jump.iter_mut().enumerate() {
+            let k = k as u32;
+            let (gi, gj) = (k % per_axis, k / per_axis);
+            // Parts beyond a coarse lattice repeat its last cells.
+            let ix = u32::min(gi << part, (1 << bits) - 1);
+            let iy = u32::min(gj << part, (1 << bits) - 1);
+            let (mut sx, mut sy) = (bits, bits);
+            let mut index = 0usize;
+            for _ in 0..=MAX_DEPTH {
+                let Some(cell) = cells.get(index) else {
+                    break;
+                };
+                if cell.children == 0 {
+                    break;
+                }
+                let [bit_x, bit_t, ..] = cell.corners;
+                let (bx, bt) = (u32::from(bit_x) & 15, u32::from(bit_t) & 15);
+                let split_x = cell.flags & SPLIT_LN_P != 0;
+                let split_t = cell.flags & SPLIT_T != 0;
+                if (split_x && bx < part) || (split_t && bt < part) {
+                    break;
+                }
+                let mut child = 0u32;
+                if split_x {
+                    sx = bx;
+                    child = (ix >> bx) & 1;
+                }
+                if split_t {
+                    sy = bt;
+                    let bit = (iy >> bt) & 1;
+                    child += if split_x { bit << 1 } else { bit };
+                }
+                index = usize::from(cell.children) + child as usize;
+            }
+            *slot = (u16::try_from(index).unwrap_or(0), sx as u8, sy as u8);
+        }
     }
 
     /// The table's header.
@@ -758,44 +866,56 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// Descends the tree to the leaf holding relative coordinates (x, y).
     #[inline]
     fn locate(&self, x: T, y: T) -> Option<Leaf<'a, T>> {
-        let half = T::of(0.5);
-        let two = T::of(2.0);
+        // Integer lattice coordinates of the point; each split cell names
+        // the bit of them that picks its child.
+        let bits = self.lattice_bits;
+        let top = (1u32 << bits) - 1;
+        let ix = u32::min(T::trunc_u32(x * self.inv_unit_x), top);
+        let iy = u32::min(T::trunc_u32(y * self.inv_unit_t), top);
         let cells: &'a [Cell] = self.data.cells;
-        let (mut x0, mut dx, mut inv_dx) = (T::ZERO, self.span_x, self.inv_span_x);
-        let (mut y0, mut dy, mut inv_dy) = (T::ZERO, self.span_t, self.inv_span_t);
-        let mut index = 0usize;
+        // Start from the deepest cell known to hold the point's part of the
+        // envelope; track the cell's size as powers of two of lattice units.
+        let part = bits.saturating_sub(JUMP_BITS);
+        let k = ((iy >> part) << JUMP_BITS) + (ix >> part);
+        let &(start, sx0, sy0) = self.jump.get(k as usize)?;
+        let (mut sx, mut sy) = (u32::from(sx0) & 31, u32::from(sy0) & 31);
+        let mut index = usize::from(start);
         for _ in 0..=MAX_DEPTH {
             let cell = cells.get(index)?;
             if cell.children == 0 {
+                let (i0, j0) = ((ix >> sx) << sx, (iy >> sy) << sy);
+                let (nx, ny) = (T::from_u32(1 << sx), T::from_u32(1 << sy));
+                // 2^(16 − shift)·2^−16 = 2^−shift, exactly.
+                let inv_nx = T::from_u32(1 << (16 - sx)) * T::of(1.0 / 65_536.0);
+                let inv_ny = T::from_u32(1 << (16 - sy)) * T::of(1.0 / 65_536.0);
                 return Some(Leaf {
                     cell,
-                    x0,
-                    inv_dx,
-                    dx,
-                    y0,
-                    inv_dy,
-                    dy,
+                    x0: T::from_u32(i0) * self.unit_x,
+                    inv_dx: self.inv_unit_x * inv_nx,
+                    dx: self.unit_x * nx,
+                    y0: T::from_u32(j0) * self.unit_t,
+                    inv_dy: self.inv_unit_t * inv_ny,
+                    dy: self.unit_t * ny,
                 });
             }
-            let split_x = cell.flags & SPLIT_LN_P != 0;
-            let mut child = 0usize;
-            if split_x {
-                dx = dx * half;
-                inv_dx = inv_dx * two;
-                if x >= x0 + dx {
-                    x0 += dx;
-                    child = 1;
-                }
+            let [bit_x, bit_t, ..] = cell.corners;
+            // Validated: bit_x, bit_t < lattice bits ≤ 16.
+            let (bx, bt) = (u32::from(bit_x) & 15, u32::from(bit_t) & 15);
+            let mut child = 0u32;
+            if cell.flags & SPLIT_LN_P != 0 {
+                sx = bx;
+                child = (ix >> bx) & 1;
             }
             if cell.flags & SPLIT_T != 0 {
-                dy = dy * half;
-                inv_dy = inv_dy * two;
-                if y >= y0 + dy {
-                    y0 += dy;
-                    child += if split_x { 2 } else { 1 };
-                }
+                sy = bt;
+                let bit = (iy >> bt) & 1;
+                child += if cell.flags & SPLIT_LN_P != 0 {
+                    bit << 1
+                } else {
+                    bit
+                };
             }
-            index = usize::from(cell.children) + child;
+            index = usize::from(cell.children) + child as usize;
         }
         None
     }
@@ -814,38 +934,26 @@ impl<'a, T: Real> TableGas<'a, T> {
     }
 
     /// Bicubic Hermite patch at (x, y) in `leaf`, computing only what
-    /// `WANT` asks for ([`W_Z`], [`W_H`], [`W_S`], [`W_DS`], [`W_W`]; Z's and
-    /// h's T-derivatives come with them). Tensor form: each function is first
-    /// interpolated along ln p on the cell's two T-edges (value and
-    /// T-tangent), then along T; the T-tangent of h on an edge is cp, and
-    /// s's is cp/T, so one cp interpolation serves h, s and cp.
+    /// `WANT` asks for ([`W_Z`]: Z and its derivatives, [`W_H`]: h and cp,
+    /// [`W_S`]: s, [`W_DS`]: s and ∂s/∂T, [`W_W`]: speed of sound). Tensor
+    /// form: on each of the cell's two T-edges every function is first
+    /// interpolated along ln p (value and T-tangent), then the edge's share
+    /// is added with the T-basis. The T-tangent of h on an edge is cp and
+    /// s's is cp/T, so one cp interpolation serves h, s and cp. Edge by edge
+    /// keeps few values live (fewer register spills on a 32-register FPU).
     #[inline(always)]
     fn patch<const WANT: u8>(&self, leaf: &Leaf<'a, T>, n: [&Node; 4], x: T, y: T) -> Patch<T> {
         let zero = T::ZERO;
         let one = T::ONE;
         let u = T::clamp((x - leaf.x0) * leaf.inv_dx, zero, one);
         let v = T::clamp((y - leaf.y0) * leaf.inv_dy, zero, one);
-        let (hu, _) = hermite(u);
+        let (hu, du) = hermite(u);
         let (hv, dv) = hermite(v);
         let (a0, a1) = (hu[0], hu[1]);
         let (ad0, ad1) = (hu[2] * leaf.dx, hu[3] * leaf.dx);
-        let b = [hv[0], hv[1]];
-        let bd = [hv[2] * leaf.dy, hv[3] * leaf.dy];
-        let db = [dv[0] * leaf.inv_dy, dv[1] * leaf.inv_dy];
-        let dbd = [dv[2], dv[3]];
+        let (dux0, dux1) = (du[0] * leaf.inv_dx, du[1] * leaf.inv_dx);
         let r = self.gas_constant;
         let t_lo = self.t_min + leaf.y0;
-        let temps = [t_lo, t_lo + leaf.dy];
-        // Along ln p on one T-edge: value and ln p-tangent at both ends.
-        let edge = |f0: T, fx0: T, f1: T, fx1: T| a0 * f0 + ad0 * fx0 + a1 * f1 + ad1 * fx1;
-        // Along T: value and T-derivative from the two edges' values e and
-        // T-tangents g.
-        let across = |e: [T; 2], g: [T; 2]| {
-            (
-                b[0] * e[0] + bd[0] * g[0] + b[1] * e[1] + bd[1] * g[1],
-                db[0] * e[0] + dbd[0] * g[0] + db[1] * e[1] + dbd[1] * g[1],
-            )
-        };
         let mut out = Patch {
             z: zero,
             h: zero,
@@ -853,49 +961,53 @@ impl<'a, T: Real> TableGas<'a, T> {
             dh_dt: zero,
             ds_dt: zero,
             dz_dt: zero,
+            dz_dx: zero,
             w: zero,
         };
-        let edges = [[n[0], n[1]], [n[2], n[3]]];
-        let mut cp_edge = [zero; 2];
-        if WANT & (W_H | W_S | W_DS) != 0 {
-            for (g, [c0, c1]) in cp_edge.iter_mut().zip(edges) {
-                *g = edge(f(c0.cp), f(c0.cp_lnp), f(c1.cp), f(c1.cp_lnp));
+        // T-basis of each edge: value, tangent; their T-derivatives.
+        let edges = [
+            (n[0], n[1], t_lo, hv[0], hv[2], dv[0], dv[2]),
+            (n[2], n[3], t_lo + leaf.dy, hv[1], hv[3], dv[1], dv[3]),
+        ];
+        for (c0, c1, t, bv, bt, dbv, dbt) in edges {
+            let b = bv;
+            let bd = bt * leaf.dy;
+            let db = dbv * leaf.inv_dy;
+            let dbd = dbt;
+            let edge = |f0: T, fx0: T, f1: T, fx1: T| a0 * f0 + ad0 * fx0 + a1 * f1 + ad1 * fx1;
+            let (z0, z1, zt0, zt1) = (f::<T>(c0.z), f::<T>(c1.z), f::<T>(c0.z_t), f::<T>(c1.z_t));
+            let cp = if WANT & (W_H | W_S | W_DS) != 0 {
+                edge(f(c0.cp), f(c0.cp_lnp), f(c1.cp), f(c1.cp_lnp))
+            } else {
+                zero
+            };
+            if WANT & W_Z != 0 {
+                let (zx0, zx1) = (f::<T>(c0.z_lnp), f::<T>(c1.z_lnp));
+                let (ztx0, ztx1) = (f::<T>(c0.z_lnp_t), f::<T>(c1.z_lnp_t));
+                let e = edge(z0, zx0, z1, zx1);
+                let g = edge(zt0, ztx0, zt1, ztx1);
+                out.z += b * e + bd * g;
+                out.dz_dt += db * e + dbd * g;
+                let ex = dux0 * z0 + dux1 * z1 + du[2] * zx0 + du[3] * zx1;
+                let gx = dux0 * zt0 + dux1 * zt1 + du[2] * ztx0 + du[3] * ztx1;
+                out.dz_dx += b * ex + bd * gx;
             }
-        }
-        if WANT & W_Z != 0 {
-            let mut e = [zero; 2];
-            let mut g = [zero; 2];
-            for ((e, g), [c0, c1]) in e.iter_mut().zip(g.iter_mut()).zip(edges) {
-                *e = edge(f(c0.z), f(c0.z_lnp), f(c1.z), f(c1.z_lnp));
-                *g = edge(f(c0.z_t), f(c0.z_lnp_t), f(c1.z_t), f(c1.z_lnp_t));
+            if WANT & W_H != 0 {
+                // ∂h/∂ln p = −R·T²·∂Z/∂T.
+                let e = a0 * f(c0.h) + a1 * f(c1.h) - r * t * t * (ad0 * zt0 + ad1 * zt1);
+                out.h += b * e + bd * cp;
+                out.dh_dt += db * e + dbd * cp;
             }
-            (out.z, out.dz_dt) = across(e, g);
-        }
-        if WANT & W_H != 0 {
-            // ∂h/∂ln p = −R·T²·∂Z/∂T.
-            let mut e = [zero; 2];
-            for ((e, t), [c0, c1]) in e.iter_mut().zip(temps).zip(edges) {
-                let k = -r * t * t;
-                *e = a0 * f(c0.h) + a1 * f(c1.h) + k * (ad0 * f(c0.z_t) + ad1 * f(c1.z_t));
+            if WANT & (W_S | W_DS) != 0 {
+                // ∂s/∂ln p = −R·(Z + T·∂Z/∂T); ∂s/∂T = cp/T.
+                let sx = ad0 * (z0 + t * zt0) + ad1 * (z1 + t * zt1);
+                let e = a0 * f(c0.s) + a1 * f(c1.s) - r * sx;
+                let g = cp / t;
+                out.s += b * e + bd * g;
+                if WANT & W_DS != 0 {
+                    out.ds_dt += db * e + dbd * g;
+                }
             }
-            (out.h, out.dh_dt) = across(e, cp_edge);
-        }
-        if WANT & (W_S | W_DS) != 0 {
-            // ∂s/∂ln p = −R·(Z + T·∂Z/∂T); ∂s/∂T = cp/T.
-            let mut e = [zero; 2];
-            let mut g = [zero; 2];
-            for (((e, g), (t, cp)), [c0, c1]) in e
-                .iter_mut()
-                .zip(g.iter_mut())
-                .zip(temps.into_iter().zip(cp_edge))
-                .zip(edges)
-            {
-                let sx0 = f::<T>(c0.z) + t * f::<T>(c0.z_t);
-                let sx1 = f::<T>(c1.z) + t * f::<T>(c1.z_t);
-                *e = a0 * f(c0.s) + a1 * f(c1.s) - r * (ad0 * sx0 + ad1 * sx1);
-                *g = cp / t;
-            }
-            (out.s, out.ds_dt) = across(e, g);
         }
         if WANT & W_W != 0 {
             let (lu, lv) = (one - u, one - v);
@@ -932,6 +1044,7 @@ impl<'a, T: Real> TableGas<'a, T> {
         let state = TableState {
             z: pt.z,
             dz_dt: pt.dz_dt,
+            dz_dlnp: pt.dz_dx,
             specific_volume: pt.z * self.gas_constant * t / p,
             enthalpy: pt.h,
             entropy: pt.s,
@@ -952,6 +1065,19 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// for a non-finite or non-physical result (Z or cp not positive).
     #[inline(always)]
     fn eval<const WANT: u8>(&self, ln_p: T, t: T) -> (Patch<T>, Quality, TableFlag) {
+        let (pt, q, flag, _) = self.eval_near::<WANT>(ln_p, t, None);
+        (pt, q, flag)
+    }
+
+    /// [`TableGas::eval`] that first tries `hint` (a leaf found before, at
+    /// a nearby state) and returns the leaf it used.
+    #[inline(always)]
+    fn eval_near<const WANT: u8>(
+        &self,
+        ln_p: T,
+        t: T,
+        hint: Option<Leaf<'a, T>>,
+    ) -> (Patch<T>, Quality, TableFlag, Option<Leaf<'a, T>>) {
         let zero = Patch {
             z: T::ZERO,
             h: T::ZERO,
@@ -959,34 +1085,58 @@ impl<'a, T: Real> TableGas<'a, T> {
             dh_dt: T::ZERO,
             ds_dt: T::ZERO,
             dz_dt: T::ZERO,
+            dz_dx: T::ZERO,
             w: T::ZERO,
         };
         let (x, y) = match self.coordinates(ln_p, t) {
             Ok(c) => c,
-            Err(flag) => return (zero, Quality::Bad, flag),
+            Err(flag) => return (zero, Quality::Bad, flag, None),
         };
-        let Some(leaf) = self.locate(x, y) else {
-            return (zero, Quality::Bad, TableFlag::NotFinite);
+        let inside =
+            |l: &Leaf<'a, T>| x >= l.x0 && x <= l.x0 + l.dx && y >= l.y0 && y <= l.y0 + l.dy;
+        let leaf = match hint {
+            Some(l) if inside(&l) => l,
+            _ => match self.locate(x, y) {
+                Some(l) => l,
+                None => return (zero, Quality::Bad, TableFlag::NotFinite, None),
+            },
         };
         let (quality, flag) = Self::flag_quality(leaf.cell);
         if quality == Quality::Bad {
-            return (zero, quality, flag);
+            return (zero, quality, flag, None);
         }
         let Some(n) = self.corners(&leaf) else {
-            return (zero, Quality::Bad, TableFlag::NotFinite);
+            return (zero, Quality::Bad, TableFlag::NotFinite, None);
         };
         let mut pt = self.patch::<WANT>(&leaf, n, x, y);
         pt.h += self.h_offset;
         pt.s += self.s_offset;
-        let finite = [pt.z, pt.dz_dt, pt.h, pt.dh_dt, pt.s, pt.ds_dt, pt.w]
-            .iter()
-            .all(|v| T::is_finite(*v));
+        // One test for every output asked for: a NaN or infinity in any of
+        // them makes their sum non-finite (outputs not asked for are not
+        // computed at all).
+        let mut sum = T::ZERO;
+        if WANT & W_Z != 0 {
+            sum += pt.z + pt.dz_dt + pt.dz_dx;
+        }
+        if WANT & W_H != 0 {
+            sum += pt.h + pt.dh_dt;
+        }
+        if WANT & (W_S | W_DS) != 0 {
+            sum += pt.s;
+        }
+        if WANT & W_DS != 0 {
+            sum += pt.ds_dt;
+        }
+        if WANT & W_W != 0 {
+            sum += pt.w;
+        }
+        let finite = T::is_finite(sum);
         let physical =
             (WANT & W_Z == 0 || pt.z > T::ZERO) && (WANT & W_H == 0 || pt.dh_dt > T::ZERO);
         if finite && physical {
-            (pt, quality, flag)
+            (pt, quality, flag, Some(leaf))
         } else {
-            (zero, Quality::Bad, TableFlag::NotFinite)
+            (zero, Quality::Bad, TableFlag::NotFinite, None)
         }
     }
 
@@ -994,35 +1144,50 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// discharge state), starting from `t_start`: Newton steps in T kept
     /// inside a bracket, bisection when a step leaves it, until the entropy
     /// residual is below 1/16 of the table's entropy tolerance or a Newton
-    /// step below 0.02 K, at most [`ISENTROPIC_MAX_ITERATIONS`] (then uncertain).
+    /// step below 0.25 K, at most [`ISENTROPIC_MAX_ITERATIONS`] (then uncertain).
     /// Bad if the root lies on or beyond an envelope edge; the quality is
     /// that of the cell of the last step.
     pub fn isentropic_temperature(&self, p2: T, s_target: T, t_start: T) -> Measured<T> {
         if !(p2 > T::ZERO) {
             return Measured::bad();
         }
-        self.isentropic_ln(T::ln(p2), s_target, t_start)
+        let (t, _, quality) = self.isentropic_ln(T::ln(p2), s_target, t_start, None);
+        Measured::derived(t, quality)
     }
 
-    /// [`TableGas::isentropic_temperature`] with ln p2 already known.
-    fn isentropic_ln(&self, ln_p2: T, s_target: T, t_start: T) -> Measured<T> {
+    /// [`TableGas::isentropic_temperature`] with ln p2 already known; also
+    /// returns the enthalpy there (from the last evaluation, carried over
+    /// the last Newton step by cp: the step is below 0.25 K, so the error is
+    /// of order cp'·step²/2, below 0.5 J/kg).
+    fn isentropic_ln(
+        &self,
+        ln_p2: T,
+        s_target: T,
+        t_start: T,
+        mut hint: Option<Leaf<'a, T>>,
+    ) -> (T, T, Quality) {
+        let bad = (T::ZERO, T::ZERO, Quality::Bad);
         if !(T::is_finite(ln_p2) && T::is_finite(s_target) && T::is_finite(t_start)) {
-            return Measured::bad();
+            return bad;
         }
+        let (mut y_eval, mut h_eval, mut cp_eval) = (T::ZERO, T::ZERO, T::ZERO);
         let (mut lo, mut hi) = (T::ZERO, self.span_t);
         let mut y = T::clamp(t_start - self.t_min, lo, hi);
-        // After a Newton step this small the remaining error is of order
-        // its square (times the curvature): far below 1e-3 K.
-        let step_tolerance = T::of(0.02);
+        // After a Newton step of δ the remaining error is about
+        // δ²·|s''|/(2·s') with s''/s' ≈ 1/T + cp'/cp (below 1e-2 /K away
+        // from critical points): for δ ≤ 0.25 K under 3e-4 K.
+        let step_tolerance = T::of(0.25);
         let edge_margin = T::of(2e-4);
         let residual_tolerance = self.s_tolerance;
         let mut quality = Quality::Good;
         let mut converged = false;
         for _ in 0..ISENTROPIC_MAX_ITERATIONS {
-            let (pt, q, _) = self.eval::<W_DS>(ln_p2, y + self.t_min);
+            let (pt, q, _, leaf) = self.eval_near::<{ W_DS | W_H }>(ln_p2, y + self.t_min, hint);
+            hint = leaf;
             if q == Quality::Bad {
-                return Measured::bad();
+                return bad;
             }
+            (y_eval, h_eval, cp_eval) = (y, pt.h, pt.dh_dt);
             let (s, ds_dt) = (pt.s, pt.ds_dt);
             quality = q;
             let residual = s - s_target;
@@ -1052,50 +1217,48 @@ impl<'a, T: Real> TableGas<'a, T> {
         }
         // A root on an envelope edge may lie outside it.
         if y <= edge_margin || y >= self.span_t - edge_margin {
-            return Measured::bad();
+            return bad;
         }
         if !converged {
             quality = quality.worst(Quality::Uncertain);
         }
-        Measured::derived(y + self.t_min, quality)
+        (y + self.t_min, h_eval + cp_eval * (y - y_eval), quality)
     }
 
     /// Polytropic head ∫ v dp (= ∫ Z·R·T d ln p) along the path of constant
     /// polytropic efficiency η between the two measured states, by
-    /// Simpson's rule in ln p. Along that path dh = v dp / η, and with
+    /// Simpson's rule in ξ = ln p. Along that path dh = v dp / η, and with
     /// ∂h/∂ln p = −R·T²·∂Z/∂T and ∂h/∂T = cp this gives
-    /// d ln T / d ln p = a + b/η (a = R·T·∂Z/∂T / cp, b = R·Z / cp). η
-    /// starts from the trapezoid rule on that slope (no extra state); each of
-    /// [`POLYTROPIC_ITERATIONS`] passes places the path's midpoint on the
-    /// cubic Hermite interpolant of ln T(ln p) through both ends with those
-    /// slopes, evaluates Z there (one state) and takes η from Simpson's
-    /// head. A consistency construction of this model, checked against a
-    /// 32-step path integration on GERG-2008 in `tests/gerg_tables.rs`.
-    fn polytropic_head(&self, e: &PathEnds<T>, actual: T) -> (T, Quality) {
+    /// dT/dξ = T·(a + b/η) (a = R·T·∂Z/∂T / cp, b = R·Z / cp) and
+    /// dZ/dξ = ∂Z/∂ln p + ∂Z/∂T·dT/dξ. η starts from the trapezoid rule on
+    /// ln T; each of [`POLYTROPIC_ITERATIONS`] passes takes T and Z at the
+    /// path's midpoint from the cubic Hermite interpolants through both ends
+    /// with those slopes (no further state) and η from Simpson's head. A
+    /// consistency construction of this model, checked against a 32-step
+    /// path integration on GERG-2008 in `tests/gerg_tables.rs`.
+    fn polytropic_head(&self, e: &PathEnds<T>, actual: T) -> T {
         let half = T::of(0.5);
+        let eighth = T::of(0.125) * e.ln_r;
         let [a1, a2] = e.a;
         let [b1, b2] = e.b;
-        let ln_t_mean = half * (e.ln_t1 + e.ln_t2);
+        let [t1, t2] = e.t;
+        let [z1, z2] = e.z;
         // Trapezoid: ln(T2/T1) = ln r / 2 · (a1 + a2 + (b1 + b2)/η).
-        let mut inv_eta = ((e.ln_t2 - e.ln_t1) * T::of(2.0) / e.ln_r - a1 - a2) / (b1 + b2);
-        let ln_p_mid = e.ln_p1 + half * e.ln_r;
+        let mut inv_eta = (e.ln_t_ratio * T::of(2.0) / e.ln_r - a1 - a2) / (b1 + b2);
         let sixth = e.ln_r * self.gas_constant / T::of(6.0);
-        let ends = e.zt1 + e.zt2;
-        // Without a usable midpoint: the trapezoid's head, uncertain.
+        let ends = z1 * t1 + z2 * t2;
         let mut head = actual / inv_eta;
-        let mut quality = Quality::Uncertain;
         for _ in 0..POLYTROPIC_ITERATIONS {
-            let slope_gap = a1 - a2 + (b1 - b2) * inv_eta;
-            let t_mid = T::exp(ln_t_mean + e.ln_r * T::of(0.125) * slope_gap);
-            let (mid, q, _) = self.eval::<W_Z>(ln_p_mid, t_mid);
-            quality = q;
-            if quality == Quality::Bad {
-                return (head, Quality::Bad);
-            }
-            head = sixth * (ends + T::of(4.0) * mid.z * t_mid);
+            let dt1 = t1 * (a1 + b1 * inv_eta);
+            let dt2 = t2 * (a2 + b2 * inv_eta);
+            let t_mid = half * (t1 + t2) + eighth * (dt1 - dt2);
+            let dz1 = e.z_x[0] + e.z_t[0] * dt1;
+            let dz2 = e.z_x[1] + e.z_t[1] * dt2;
+            let z_mid = half * (z1 + z2) + eighth * (dz1 - dz2);
+            head = sixth * (ends + T::of(4.0) * z_mid * t_mid);
             inv_eta = actual / head;
         }
-        (head, quality)
+        head
     }
 
     /// One compression stage from its measured suction (p1, t1) and
@@ -1118,54 +1281,45 @@ impl<'a, T: Real> TableGas<'a, T> {
         let ln_p1 = T::ln(p1);
         let ln_p2 = T::ln(p2);
         let (s1, q1, _) = self.eval::<{ W_Z | W_H | W_S }>(ln_p1, t1);
-        let (s2, q2, _) = self.eval::<{ W_Z | W_H | W_S }>(ln_p2, t2);
+        let (s2, q2, _, leaf2) = self.eval_near::<{ W_Z | W_H | W_S }>(ln_p2, t2, None);
         let q12 = q1.worst(q2);
         if q12 == Quality::Bad {
             return bad;
         }
         let actual = s2.h - s1.h;
         let ln_r = ln_p2 - ln_p1;
-        let ln_t1 = T::ln(t1);
-        let ln_t2 = T::ln(t2);
-        // Slopes of ln T along ln p at both ends: d ln T / d ln p =
-        // a + b/η with a = R·T·∂Z/∂T / cp and b = R·Z / cp (see
-        // `polytropic_head`). With η = 1 they start the entropy match (the
-        // trapezoid rule along the isentrope, state 2's properties standing
-        // in for the isentropic state's).
+        // Slopes of ln T along ln p at both ends (see `polytropic_head`):
+        // d ln T / d ln p = a + b/η with a = R·T·∂Z/∂T / cp, b = R·Z / cp.
         let r = self.gas_constant;
         let a1 = r * t1 * s1.dz_dt / s1.dh_dt;
         let b1 = r * s1.z / s1.dh_dt;
         let a2 = r * t2 * s2.dz_dt / s2.dh_dt;
         let b2 = r * s2.z / s2.dh_dt;
-        let half = T::of(0.5);
-        let guess = T::exp(ln_t1 + half * ln_r * (a1 + b1 + a2 + b2));
-        let t2s = self.isentropic_ln(ln_p2, s1.s, guess);
-        let (h2s, q2s) = if t2s.quality == Quality::Bad {
-            (T::ZERO, Quality::Bad)
-        } else {
-            let (pt, q, _) = self.eval::<W_H>(ln_p2, t2s.value);
-            (pt.h, q)
-        };
-        let q_s = q1.worst(q2s).worst(t2s.quality);
+        // The entropy match starts from state 2 along its isobar, with
+        // s(T) = s2 + cp2·ln(T/T2): T = T2·exp(−(s2 − s1)/cp2); one Newton
+        // step usually finishes it.
+        let guess = t2 * T::exp((s1.s - s2.s) / s2.dh_dt);
+        let (t2s, h2s, q2s) = self.isentropic_ln(ln_p2, s1.s, guess, leaf2);
+        let q_s = q1.worst(q2s);
         let isentropic = h2s - s1.h;
         let ends = PathEnds {
-            ln_p1,
             ln_r,
-            ln_t1,
-            ln_t2,
-            zt1: s1.z * t1,
-            zt2: s2.z * t2,
+            ln_t_ratio: T::ln(t2 / t1),
+            t: [t1, t2],
+            z: [s1.z, s2.z],
+            z_x: [s1.dz_dx, s2.dz_dx],
+            z_t: [s1.dz_dt, s2.dz_dt],
             a: [a1, a2],
             b: [b1, b2],
         };
-        let (polytropic, q_mid) = self.polytropic_head(&ends, actual);
-        let q_p = q12.worst(q_mid);
+        let polytropic = self.polytropic_head(&ends, actual);
+        let q_p = q12;
         let positive = actual > T::ZERO;
         let q_work = if positive { q12 } else { Quality::Bad };
         TableStage {
             actual_head: Measured::derived(actual, q_work),
             isentropic_head: Measured::derived(isentropic, q_s),
-            isentropic_temperature: Measured::derived(t2s.value, q_s),
+            isentropic_temperature: Measured::derived(t2s, q_s),
             isentropic_efficiency: Measured::derived(isentropic / actual, q_s.worst(q_work)),
             polytropic_head: Measured::derived(polytropic, q_p),
             polytropic_efficiency: Measured::derived(polytropic / actual, q_p.worst(q_work)),
@@ -1214,6 +1368,7 @@ mod tests {
             tolerance_h: 0.0,
             tolerance_s: 0.0,
             tolerance_z: 0.0,
+            lattice_bits: 1,
             node_count: 4,
             cell_count: 1,
         };

@@ -132,12 +132,6 @@ fn table_stage(gas: &TableGas<'_, f32>, p1: f32, t1: f32, p2: f32, t2: f32) -> f
 }
 
 #[inline(never)]
-fn table_state(gas: &TableGas<'_, f32>, p: f32, t: f32) -> f32 {
-    let s = gas.state(p, t);
-    s.enthalpy + s.entropy
-}
-
-#[inline(never)]
 fn update_budget(t: &mut BudgetTrain, s: &Scan<f32, BUDGET_STAGES>) -> f32 {
     t.update(s).totals.total_power.value
 }
@@ -280,12 +274,6 @@ fn main() -> ! {
             fail(&mut h, "NG table stage");
         }
     }
-    for k in 0..2 {
-        let (a, b) = black_box((40e5_f32, 300.0_f32 + k as f32));
-        let r = label(&mut h, "tmp_state");
-        let v = measure(r, || table_state(&ng, a, b));
-        black_box(v);
-    }
     // The demo CO2 train's stage 3 (9 -> 26 bar a) and stage 4 (25.6 -> 66
     // bar a, near the critical band) on the CO2 table decoded from its blob
     // (Cortex-M4F only: the table needs 61 kB of RAM).
@@ -299,7 +287,10 @@ fn main() -> ! {
         let Ok(co2) = TableGas::<f32>::new(co2_table.data()) else {
             fail(&mut h, "CO2 table");
         };
-        for (a, b, c, d) in [(9.0e5_f32, 308.0_f32, 26.0e5_f32, 400.0_f32), (25.6e5, 309.0, 66.0e5, 385.0)] {
+        for (a, b, c, d) in [
+            (9.0e5_f32, 308.0_f32, 26.0e5_f32, 400.0_f32),
+            (25.6e5, 309.0, 66.0e5, 385.0),
+        ] {
             let (a, b, c, d) = black_box((a, b, c, d));
             let r = label(&mut h, "table_stage_co2_demo");
             let v = measure(r, || table_stage(&co2, a, b, c, d));
