@@ -48,10 +48,11 @@ pub fn config<T: Real>() -> Result<TrainConfig<T, IdealGas<T>, STAGES>, ConfigEr
     let water = Some(CoolerConfig {
         coolant_cp: T::of(4180.0),
     });
-    let stages = core::array::from_fn(|i| {
-        let (p1, p2) = DESIGN_BAR.get(i).copied().unwrap_or((1.0, 2.0));
+    let mut i = 0;
+    let stages = DESIGN_BAR.map(|(p1, p2)| {
+        i += 1;
         StageConfig {
-            kind: if i < 4 {
+            kind: if i <= ETA_P.len() {
                 StageKind::Compressor
             } else {
                 StageKind::Pump {
@@ -61,7 +62,7 @@ pub fn config<T: Real>() -> Result<TrainConfig<T, IdealGas<T>, STAGES>, ConfigEr
             },
             design_suction_pressure: PressureAbs::from_bar(T::of(p1)),
             design_discharge_pressure: PressureAbs::from_bar(T::of(p2)),
-            cooler: if i < 4 { water } else { None },
+            cooler: if i <= ETA_P.len() { water } else { None },
         }
     });
     Ok(TrainConfig {
@@ -97,13 +98,14 @@ pub fn scan<T: Real>(i: u32) -> Scan<T, STAGES> {
     let coolant_in = 300.15;
     let mut p1 = 1.05e5 * (1.0 + 0.01 * swing);
     let mut t1 = 303.15;
-    let stages = core::array::from_fn(|s| {
-        let (d1, d2) = DESIGN_BAR.get(s).copied().unwrap_or((1.0, 2.0));
+    let mut s = 0;
+    let stages = DESIGN_BAR.map(|(d1, d2)| {
         let p2 = p1 * d2 / d1;
         let g = |x: f64| Measured::good(T::of(x));
-        let out = if s < 4 {
-            let eta = ETA_P.get(s).copied().unwrap_or(0.8);
-            let t2 = t1 * libm::exp(m_k / eta * libm::log(p2 / p1));
+        // The compressor stages have an efficiency and a Z; the pump after
+        // them has neither.
+        let out = if let (Some(&eta), Some(&z)) = (ETA_P.get(s), Z.get(s)) {
+            let t2 = t1 * <f64 as Real>::exp(m_k / eta * <f64 as Real>::ln(p2 / p1));
             let t_out = coolant_in + 8.0 + 1.5 * s as f64;
             let scan = StageScan {
                 suction_pressure: Measured::good(PressureAbs::from_pa(T::of(p1))),
@@ -111,7 +113,7 @@ pub fn scan<T: Real>(i: u32) -> Scan<T, STAGES> {
                 discharge_pressure: Measured::good(PressureAbs::from_pa(T::of(p2))),
                 discharge_temperature: Measured::good(Kelvin::new(T::of(t2))),
                 mass_flow: if s == 0 { Some(g(flow)) } else { None },
-                compressibility: Z.get(s).map(|&z| g(z)),
+                compressibility: Some(g(z)),
                 cooler: Some(CoolerScan {
                     gas_outlet_temperature: Measured::good(Kelvin::new(T::of(t_out))),
                     gas_outlet_pressure: None,
@@ -128,6 +130,7 @@ pub fn scan<T: Real>(i: u32) -> Scan<T, STAGES> {
             StageScan::from_si(T::of(p1), T::of(t1), T::of(p2), T::of(t1 + 3.0))
         };
         p1 = p2 * (1.0 - 0.015);
+        s += 1;
         out
     });
     Scan { stages }

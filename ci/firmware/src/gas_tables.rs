@@ -6,3 +6,7 @@ include!("../../../tables/ng_booster.rs");
 
 /// The demo CO2 train's table as a blob (decoded into RAM by the harness).
 pub static CO2_DEMO_BLOB: &[u8] = include_bytes!("../../../tables/co2_demo.bin");
+
+/// The hydrogen table as a blob (the smallest; decoded by the `proof`
+/// firmware, whose link-time check covers the decoder).
+pub static HYDROGEN_BLOB: &[u8] = include_bytes!("../../../tables/hydrogen.bin");
