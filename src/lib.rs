@@ -77,6 +77,7 @@ extern crate std;
 
 pub mod blob;
 pub mod boundary;
+pub mod clock;
 pub mod compression;
 pub mod control;
 pub mod cooler;

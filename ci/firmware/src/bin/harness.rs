@@ -129,7 +129,7 @@ fn update_demo(t: &mut DemoTrain<f32>, s: &Scan<f32, { demo::STAGES }>) -> f32 {
 
 #[inline(never)]
 fn update_surge(m: &mut Monitor, s: &polytrope::surge::SurgeScan<f32>) -> f32 {
-    m.update(s, 0.0).margin.value
+    m.update(s, 0.0, 0.02).margin.value
 }
 
 #[inline(never)]
@@ -343,7 +343,7 @@ fn main() -> ! {
     let built = measure(r, || DemoTrain::<f32>::new(cfg).is_ok());
     black_box(built);
 
-    // Surge margin (one SurgeMonitor::update with a full rate window) and
+    // Surge margin (one SurgeMonitor::update with a settled rate filter) and
     // the signal front end (one 4-20 mA channel), warmed, three scans each.
     let Ok(mut monitor) = front::surge_monitor() else {
         fail(&mut h, "surge monitor");
