@@ -649,6 +649,15 @@ const JUMP_BITS: u32 = 3;
 
 /// Patch outputs: Z and ∂Z/∂T.
 const W_Z: u8 = 1;
+/// Patch outputs: ∂Z/∂ln p (with [`W_Z`]).
+const W_ZX: u8 = 32;
+/// What the gas seam's `compression` asks of the patch at its two ends (Z,
+/// h, s) and in the entropy match (s, ∂s/∂T, h and Z).
+#[allow(dead_code)] // serves the gas-seam impl (`table_seam.rs`)
+pub(crate) const SEAM_ENDS: u8 = W_Z | W_H | W_S;
+/// See [`SEAM_ENDS`].
+#[allow(dead_code)] // serves the gas-seam impl (`table_seam.rs`)
+pub(crate) const SEAM_ISO: u8 = W_DS | W_H | W_Z;
 /// Patch outputs: h and cp.
 const W_H: u8 = 2;
 /// Patch outputs: s.
@@ -657,6 +666,32 @@ const W_S: u8 = 4;
 const W_DS: u8 = 8;
 /// Patch outputs: speed of sound.
 const W_W: u8 = 16;
+
+/// The entropy match's result.
+#[derive(Clone, Copy)]
+#[allow(dead_code)] // `z` and `flag` serve the gas-seam impl (`table_seam.rs`)
+pub(crate) struct Isentropic<T> {
+    /// Temperature, K.
+    pub(crate) t: T,
+    /// Enthalpy there, J/kg.
+    pub(crate) h: T,
+    /// Z there (1 unless asked for).
+    pub(crate) z: T,
+    pub(crate) quality: Quality,
+    pub(crate) flag: TableFlag,
+}
+
+/// The states of one compression (see `TableGas::stage_states`).
+#[allow(dead_code)] // `flag1` serves the gas-seam impl (`table_seam.rs`)
+pub(crate) struct StageStates<T> {
+    pub(crate) end1: Patch<T>,
+    pub(crate) q1: Quality,
+    pub(crate) flag1: TableFlag,
+    pub(crate) end2: Patch<T>,
+    pub(crate) q2: Quality,
+    pub(crate) flag2: TableFlag,
+    pub(crate) iso: Isentropic<T>,
+}
 
 /// What the polytropic path needs of its two ends.
 struct PathEnds<T> {
@@ -688,16 +723,17 @@ struct Leaf<'a, T> {
     dy: T,
 }
 
-/// Values of one patch evaluation.
-struct Patch<T> {
-    z: T,
-    h: T,
-    s: T,
-    dh_dt: T,
-    ds_dt: T,
-    dz_dt: T,
-    dz_dx: T,
-    w: T,
+/// Values of one patch evaluation (offsets added by `eval`).
+#[derive(Clone, Copy)]
+pub(crate) struct Patch<T> {
+    pub(crate) z: T,
+    pub(crate) h: T,
+    pub(crate) s: T,
+    pub(crate) dh_dt: T,
+    pub(crate) ds_dt: T,
+    pub(crate) dz_dt: T,
+    pub(crate) dz_dx: T,
+    pub(crate) w: T,
 }
 
 /// Cubic Hermite basis at t in [0, 1]: values (h00, h01, h10, h11) and their
@@ -988,9 +1024,11 @@ impl<'a, T: Real> TableGas<'a, T> {
                 let g = edge(zt0, ztx0, zt1, ztx1);
                 out.z += b * e + bd * g;
                 out.dz_dt += db * e + dbd * g;
-                let ex = dux0 * z0 + dux1 * z1 + du[2] * zx0 + du[3] * zx1;
-                let gx = dux0 * zt0 + dux1 * zt1 + du[2] * ztx0 + du[3] * ztx1;
-                out.dz_dx += b * ex + bd * gx;
+                if WANT & W_ZX != 0 {
+                    let ex = dux0 * z0 + dux1 * z1 + du[2] * zx0 + du[3] * zx1;
+                    let gx = dux0 * zt0 + dux1 * zt1 + du[2] * ztx0 + du[3] * ztx1;
+                    out.dz_dx += b * ex + bd * gx;
+                }
             }
             if WANT & W_H != 0 {
                 // ∂h/∂ln p = −R·T²·∂Z/∂T.
@@ -1037,7 +1075,7 @@ impl<'a, T: Real> TableGas<'a, T> {
 
     /// [`TableGas::state`] with ln p already known.
     fn state_ln(&self, ln_p: T, p: T, t: T) -> TableState<T> {
-        let (pt, quality, flag) = self.eval::<{ W_Z | W_H | W_S | W_W }>(ln_p, t);
+        let (pt, quality, flag) = self.eval::<{ W_Z | W_ZX | W_H | W_S | W_W }>(ln_p, t);
         if quality == Quality::Bad {
             return TableState::bad(flag);
         }
@@ -1116,7 +1154,10 @@ impl<'a, T: Real> TableGas<'a, T> {
         // computed at all).
         let mut sum = T::ZERO;
         if WANT & W_Z != 0 {
-            sum += pt.z + pt.dz_dt + pt.dz_dx;
+            sum += pt.z + pt.dz_dt;
+        }
+        if WANT & W_ZX != 0 {
+            sum += pt.dz_dx;
         }
         if WANT & W_H != 0 {
             sum += pt.h + pt.dh_dt;
@@ -1151,26 +1192,35 @@ impl<'a, T: Real> TableGas<'a, T> {
         if !(p2 > T::ZERO) {
             return Measured::bad();
         }
-        let (t, _, quality) = self.isentropic_ln(T::ln(p2), s_target, t_start, None);
-        Measured::derived(t, quality)
+        let iso = self.isentropic_ln::<{ W_DS | W_H }>(T::ln(p2), s_target, t_start, None);
+        Measured::derived(iso.t, iso.quality)
     }
 
     /// [`TableGas::isentropic_temperature`] with ln p2 already known; also
     /// returns the enthalpy there (from the last evaluation, carried over
     /// the last Newton step by cp: the step is below 0.25 K, so the error is
     /// of order cp'·step²/2, below 0.5 J/kg).
-    fn isentropic_ln(
+    #[inline(always)]
+    fn isentropic_ln<const WANT: u8>(
         &self,
         ln_p2: T,
         s_target: T,
         t_start: T,
         mut hint: Option<Leaf<'a, T>>,
-    ) -> (T, T, Quality) {
-        let bad = (T::ZERO, T::ZERO, Quality::Bad);
+    ) -> Isentropic<T> {
+        let bad = Isentropic {
+            t: T::ZERO,
+            h: T::ZERO,
+            z: T::ONE,
+            quality: Quality::Bad,
+            flag: TableFlag::NotFinite,
+        };
         if !(T::is_finite(ln_p2) && T::is_finite(s_target) && T::is_finite(t_start)) {
             return bad;
         }
         let (mut y_eval, mut h_eval, mut cp_eval) = (T::ZERO, T::ZERO, T::ZERO);
+        let (mut z_eval, mut dz_eval) = (T::ONE, T::ZERO);
+        let mut flag = TableFlag::None;
         let (mut lo, mut hi) = (T::ZERO, self.span_t);
         let mut y = T::clamp(t_start - self.t_min, lo, hi);
         // After a Newton step of δ the remaining error is about
@@ -1182,12 +1232,14 @@ impl<'a, T: Real> TableGas<'a, T> {
         let mut quality = Quality::Good;
         let mut converged = false;
         for _ in 0..ISENTROPIC_MAX_ITERATIONS {
-            let (pt, q, _, leaf) = self.eval_near::<{ W_DS | W_H }>(ln_p2, y + self.t_min, hint);
+            let (pt, q, f, leaf) = self.eval_near::<WANT>(ln_p2, y + self.t_min, hint);
             hint = leaf;
+            flag = f;
             if q == Quality::Bad {
                 return bad;
             }
             (y_eval, h_eval, cp_eval) = (y, pt.h, pt.dh_dt);
+            (z_eval, dz_eval) = (pt.z, pt.dz_dt);
             let (s, ds_dt) = (pt.s, pt.ds_dt);
             quality = q;
             let residual = s - s_target;
@@ -1222,7 +1274,14 @@ impl<'a, T: Real> TableGas<'a, T> {
         if !converged {
             quality = quality.worst(Quality::Uncertain);
         }
-        (y + self.t_min, h_eval + cp_eval * (y - y_eval), quality)
+        let step = y - y_eval;
+        Isentropic {
+            t: y + self.t_min,
+            h: h_eval + cp_eval * step,
+            z: z_eval + dz_eval * step,
+            quality,
+            flag,
+        }
     }
 
     /// Polytropic head ∫ v dp (= ∫ Z·R·T d ln p) along the path of constant
@@ -1261,6 +1320,87 @@ impl<'a, T: Real> TableGas<'a, T> {
         head
     }
 
+    /// Z, cp and h at (p, t) with the quality (the seam's mean path
+    /// properties).
+    #[allow(dead_code)] // serves the gas-seam impl (`table_seam.rs`)
+    pub(crate) fn z_cp(&self, p: T, t: T) -> (T, T, Quality) {
+        if !(p > T::ZERO) {
+            return (T::ONE, T::ZERO, Quality::Bad);
+        }
+        let (pt, q, _) = self.eval::<{ W_Z | W_H }>(T::ln(p), t);
+        (pt.z, pt.dh_dt, q)
+    }
+
+    /// Enthalpy at (p, t) with its quality and flag (h and cp only).
+    #[allow(dead_code)] // serves the gas-seam impl (`table_seam.rs`)
+    pub(crate) fn enthalpy(&self, p: T, t: T) -> (T, Quality, TableFlag) {
+        if !(p > T::ZERO) {
+            return (T::ZERO, Quality::Bad, TableFlag::NotFinite);
+        }
+        let (pt, q, f) = self.eval::<W_H>(T::ln(p), t);
+        (pt.h, q, f)
+    }
+
+    /// The states of a compression from (p1, t1) by ln r = ln(p2/p1): the
+    /// suction state, the discharge state if `t2` is given, and the
+    /// isentropic discharge state (its evaluation asks `ISO` of the patch).
+    /// With a discharge state the entropy match starts from it along its
+    /// isobar, s(T) = s2 + cp2·ln(T/T2), so one Newton step usually
+    /// finishes it and the discharge state's cell is tried first; without
+    /// one it starts from T1·r^(R·(Z + T·∂Z/∂T)/cp), the slope of the
+    /// isentrope at state 1.
+    #[inline(always)]
+    pub(crate) fn stage_states<const END: u8, const ISO: u8>(
+        &self,
+        p1: T,
+        t1: T,
+        ln_r: T,
+        t2: Option<T>,
+    ) -> StageStates<T> {
+        let ln_p1 = T::ln(p1);
+        let ln_p2 = ln_p1 + ln_r;
+        let (end1, q1, flag1) = self.eval::<END>(ln_p1, t1);
+        let mut out = StageStates {
+            end1,
+            q1,
+            flag1,
+            end2: end1,
+            q2: Quality::Bad,
+            flag2: TableFlag::NotFinite,
+            iso: Isentropic {
+                t: T::ZERO,
+                h: T::ZERO,
+                z: T::ONE,
+                quality: Quality::Bad,
+                flag: TableFlag::NotFinite,
+            },
+        };
+        if q1 == Quality::Bad {
+            return out;
+        }
+        let r = self.gas_constant;
+        let (guess, hint) = match t2 {
+            Some(t2) => {
+                let (end2, q2, flag2, leaf2) = self.eval_near::<END>(ln_p2, t2, None);
+                (out.end2, out.q2, out.flag2) = (end2, q2, flag2);
+                if q2 == Quality::Bad {
+                    (
+                        t1 * T::exp(r * (end1.z + t1 * end1.dz_dt) / end1.dh_dt * ln_r),
+                        None,
+                    )
+                } else {
+                    (t2 * T::exp((end1.s - end2.s) / end2.dh_dt), leaf2)
+                }
+            }
+            None => (
+                t1 * T::exp(r * (end1.z + t1 * end1.dz_dt) / end1.dh_dt * ln_r),
+                None,
+            ),
+        };
+        out.iso = self.isentropic_ln::<ISO>(ln_p2, end1.s, guess, hint);
+        out
+    }
+
     /// One compression stage from its measured suction (p1, t1) and
     /// discharge (p2, t2): actual and isentropic head, polytropic head along
     /// the constant-efficiency path (Simpson's rule in ln p, midpoint state
@@ -1278,30 +1418,18 @@ impl<'a, T: Real> TableGas<'a, T> {
         if !(p1 > T::ZERO && p2 > p1) {
             return bad;
         }
-        let ln_p1 = T::ln(p1);
-        let ln_p2 = T::ln(p2);
-        let (s1, q1, _) = self.eval::<{ W_Z | W_H | W_S }>(ln_p1, t1);
-        let (s2, q2, _, leaf2) = self.eval_near::<{ W_Z | W_H | W_S }>(ln_p2, t2, None);
-        let q12 = q1.worst(q2);
+        let ln_r = T::ln(p2 / p1);
+        let d =
+            self.stage_states::<{ W_Z | W_ZX | W_H | W_S }, { W_DS | W_H }>(p1, t1, ln_r, Some(t2));
+        let q12 = d.q1.worst(d.q2);
         if q12 == Quality::Bad {
             return bad;
         }
+        let (s1, s2) = (&d.end1, &d.end2);
         let actual = s2.h - s1.h;
-        let ln_r = ln_p2 - ln_p1;
-        // Slopes of ln T along ln p at both ends (see `polytropic_head`):
-        // d ln T / d ln p = a + b/η with a = R·T·∂Z/∂T / cp, b = R·Z / cp.
+        let q_s = d.q1.worst(d.iso.quality);
+        let isentropic = d.iso.h - s1.h;
         let r = self.gas_constant;
-        let a1 = r * t1 * s1.dz_dt / s1.dh_dt;
-        let b1 = r * s1.z / s1.dh_dt;
-        let a2 = r * t2 * s2.dz_dt / s2.dh_dt;
-        let b2 = r * s2.z / s2.dh_dt;
-        // The entropy match starts from state 2 along its isobar, with
-        // s(T) = s2 + cp2·ln(T/T2): T = T2·exp(−(s2 − s1)/cp2); one Newton
-        // step usually finishes it.
-        let guess = t2 * T::exp((s1.s - s2.s) / s2.dh_dt);
-        let (t2s, h2s, q2s) = self.isentropic_ln(ln_p2, s1.s, guess, leaf2);
-        let q_s = q1.worst(q2s);
-        let isentropic = h2s - s1.h;
         let ends = PathEnds {
             ln_r,
             ln_t_ratio: T::ln(t2 / t1),
@@ -1309,11 +1437,12 @@ impl<'a, T: Real> TableGas<'a, T> {
             z: [s1.z, s2.z],
             z_x: [s1.dz_dx, s2.dz_dx],
             z_t: [s1.dz_dt, s2.dz_dt],
-            a: [a1, a2],
-            b: [b1, b2],
+            a: [r * t1 * s1.dz_dt / s1.dh_dt, r * t2 * s2.dz_dt / s2.dh_dt],
+            b: [r * s1.z / s1.dh_dt, r * s2.z / s2.dh_dt],
         };
         let polytropic = self.polytropic_head(&ends, actual);
         let q_p = q12;
+        let t2s = d.iso.t;
         let positive = actual > T::ZERO;
         let q_work = if positive { q12 } else { Quality::Bad };
         TableStage {
