@@ -63,6 +63,7 @@ labels_doc = {
     "update_demo_5_stages": "full update, demo train (4 compressors, 3 intercoolers, aftercooler, pump)",
     "train_new_demo_5_stages": "`Train::new` of the demo train (once, at start-up)",
     "surge_margin_update": "surge margin, one `SurgeMonitor::update` (4-point line, rate filter settled)",
+    "surge_margin_update_measured_exponent": "surge margin with σ from the measured temperatures (`with_measured_exponent`, σ filter settled)",
     "signal_channel_4_20ma": "signal front end, one 4–20 mA channel `Channel::update` (scaling, plausibility, 5-sample median, low-pass)",
     "table_stage_ng_booster": "one compressor stage on a GERG-2008 property table (NG booster table in flash: two states, entropy-matched isentropic state, heads, polytropic efficiency)",
     "table_stage_co2_demo": "the same on the demo CO2 table (decoded from its blob; Cortex-M4F only, needs 61 kB RAM)",
