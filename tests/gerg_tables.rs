@@ -213,7 +213,7 @@ fn property_errors(blob: &[u8], seed: u64, n: usize) -> ((f64, f64, f64), (usize
                 counts.1 += 1;
                 continue;
             }
-            Quality::Bad => {
+            _ => {
                 counts.2 += 1;
                 continue;
             }
