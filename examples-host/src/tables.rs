@@ -6,68 +6,46 @@
 //! state; flagged states (near a critical point or a saturation line) are
 //! reported uncertain on the device. Not a certified safety function.
 
-use crate::cli::{count, CliError, Command, Opt, Parsed};
+use clap::Args;
+
+use crate::cli::{count, CliError};
 use crate::gerg_table::{generate, preset, rust_source, Spec};
 use polytrope::gas::table::write_blob;
 
-/// The `tables` subcommand.
-pub const COMMAND: Command = Command {
-    name: "tables",
-    summary: "write a GERG-2008 property table (blob + Rust source) for a gas and envelope",
-    options: OPTIONS,
-    run,
-};
+/// Options of `tables`.
+#[derive(Debug, Args)]
+pub struct TablesArgs {
+    /// co2 (demo train), co2-dense, ng-booster (invented, default), methane, hydrogen, nitrogen, air.
+    #[arg(long, value_name = "NAME")]
+    gas: Option<String>,
+    /// Lowest pressure, bar a (default: the gas's envelope).
+    #[arg(long = "p-min-bar", value_name = "BAR", allow_hyphen_values = true)]
+    p_min_bar: Option<String>,
+    /// Highest pressure, bar a.
+    #[arg(long = "p-max-bar", value_name = "BAR", allow_hyphen_values = true)]
+    p_max_bar: Option<String>,
+    /// Lowest temperature, K.
+    #[arg(long = "t-min-k", value_name = "K", allow_hyphen_values = true)]
+    t_min_k: Option<String>,
+    /// Highest temperature, K.
+    #[arg(long = "t-max-k", value_name = "K", allow_hyphen_values = true)]
+    t_max_k: Option<String>,
+    /// Enthalpy interpolation tolerance, J/kg (default: cp at the envelope middle times 0.01 K).
+    #[arg(long = "tol-h", value_name = "J/KG", allow_hyphen_values = true)]
+    tol_h: Option<String>,
+    /// Deepest refinement level per variable, 2 to 16 (default 9).
+    #[arg(long = "max-depth", value_name = "N")]
+    max_depth: Option<String>,
+    /// Write PREFIX.bin (blob) and PREFIX.rs (Rust source); without it only the summary.
+    #[arg(long, value_name = "PREFIX")]
+    out: Option<String>,
+    /// Name of the static in the Rust source (default TABLE).
+    #[arg(long, value_name = "IDENT")]
+    name: Option<String>,
+}
 
-const OPTIONS: &[Opt] = &[
-    Opt {
-        name: "gas",
-        value: Some("NAME"),
-        help: "co2 (demo train), ng-booster (invented), methane, hydrogen, nitrogen, air",
-    },
-    Opt {
-        name: "p-min-bar",
-        value: Some("BAR"),
-        help: "lowest pressure, bar a (default: the gas's envelope)",
-    },
-    Opt {
-        name: "p-max-bar",
-        value: Some("BAR"),
-        help: "highest pressure, bar a",
-    },
-    Opt {
-        name: "t-min-k",
-        value: Some("K"),
-        help: "lowest temperature, K",
-    },
-    Opt {
-        name: "t-max-k",
-        value: Some("K"),
-        help: "highest temperature, K",
-    },
-    Opt {
-        name: "tol-h",
-        value: Some("J/KG"),
-        help: "enthalpy interpolation tolerance, J/kg (default: cp at the envelope middle times 0.01 K)",
-    },
-    Opt {
-        name: "max-depth",
-        value: Some("N"),
-        help: "deepest quadtree level, 2 to 16 (default 9)",
-    },
-    Opt {
-        name: "out",
-        value: Some("PREFIX"),
-        help: "write PREFIX.bin (blob) and PREFIX.rs (Rust source); without it only the summary",
-    },
-    Opt {
-        name: "name",
-        value: Some("IDENT"),
-        help: "name of the static in the Rust source (default TABLE)",
-    },
-];
-
-fn number(p: &Parsed, name: &str, default: f64) -> Result<f64, CliError> {
-    match p.get(name) {
+fn number(value: Option<&str>, name: &str, default: f64) -> Result<f64, CliError> {
+    match value {
         None => Ok(default),
         Some(t) => t
             .parse::<f64>()
@@ -77,17 +55,18 @@ fn number(p: &Parsed, name: &str, default: f64) -> Result<f64, CliError> {
     }
 }
 
-fn run(p: &Parsed) -> Result<String, CliError> {
-    let gas = p.get("gas").unwrap_or("ng-booster");
+/// Runs `tables`.
+pub fn run(p: &TablesArgs) -> Result<String, CliError> {
+    let gas = p.gas.as_deref().unwrap_or("ng-booster");
     let Some((label, composition, env, pure_co2)) = preset(gas) else {
         return Err(CliError::Input(format!("--gas: unknown gas '{gas}'")));
     };
     let mut envelope = env;
-    envelope.p_min = number(p, "p-min-bar", env.p_min / 1e5)? * 1e5;
-    envelope.p_max = number(p, "p-max-bar", env.p_max / 1e5)? * 1e5;
-    envelope.t_min = number(p, "t-min-k", env.t_min)?;
-    envelope.t_max = number(p, "t-max-k", env.t_max)?;
-    let max_depth = match p.get("max-depth") {
+    envelope.p_min = number(p.p_min_bar.as_deref(), "p-min-bar", env.p_min / 1e5)? * 1e5;
+    envelope.p_max = number(p.p_max_bar.as_deref(), "p-max-bar", env.p_max / 1e5)? * 1e5;
+    envelope.t_min = number(p.t_min_k.as_deref(), "t-min-k", env.t_min)?;
+    envelope.t_max = number(p.t_max_k.as_deref(), "t-max-k", env.t_max)?;
+    let max_depth = match p.max_depth.as_deref() {
         Some(t) => count("max-depth", t, 2, 16)?,
         None => 9,
     };
@@ -102,7 +81,11 @@ fn run(p: &Parsed) -> Result<String, CliError> {
         })
         .map(|s| s.cp)
         .ok_or_else(|| CliError::Input("no single-phase state at the envelope's middle".into()))?;
-    let tol_h = number(p, "tol-h", (cp_mid * 0.01 * 100.0).round() / 100.0)?;
+    let tol_h = number(
+        p.tol_h.as_deref(),
+        "tol-h",
+        (cp_mid * 0.01 * 100.0).round() / 100.0,
+    )?;
     let spec = Spec {
         label,
         composition,
@@ -148,8 +131,8 @@ fn run(p: &Parsed) -> Result<String, CliError> {
             t1
         ));
     }
-    if let Some(prefix) = p.get("out") {
-        let name = p.get("name").unwrap_or("TABLE");
+    if let Some(prefix) = p.out.as_deref() {
+        let name = p.name.as_deref().unwrap_or("TABLE");
         if !name
             .chars()
             .all(|c| c.is_ascii_uppercase() || c.is_ascii_digit() || c == '_')
