@@ -57,16 +57,20 @@ work, out_md = sys.argv[1], sys.argv[2]
 targets = [("thumbv7em-none-eabihf", "Cortex-M4F", 120), ("thumbv6m-none-eabi", "Cortex-M0", 48)]
 labels_doc = {
     "compressor_stage": "one compressor stage (ideal gas with Z)",
+    "compressor_stage_peng_robinson": "one compressor stage, Peng–Robinson 5-component natural gas (two states, entropy match, Schultz)",
     "intercooler": "one intercooler",
     "pump_stage": "one pump stage",
-    "update_4_stages_3_intercoolers": "**full update, 4 stages + 3 intercoolers**",
-    "update_demo_5_stages": "full update, demo train (4 compressors, 3 intercoolers, aftercooler, pump)",
+    "update_4_stages_3_intercoolers": "**full update, 4 stages + 3 intercoolers** (ideal gas, CO2 with constant k)",
+    "update_4_stages_3_intercoolers_peng_robinson": "**full update, 4 stages + 3 intercoolers, Peng–Robinson CO2**",
+    "update_demo_5_stages": "full update, demo train (Peng–Robinson CO2: 4 compressors, 3 intercoolers, aftercooler, pump)",
     "train_new_demo_5_stages": "`Train::new` of the demo train (once, at start-up)",
     "surge_margin_update": "surge margin, one `SurgeMonitor::update` (4-point line, rate filter settled)",
     "surge_margin_update_measured_exponent": "surge margin with σ from the measured temperatures (`with_measured_exponent`, σ filter settled)",
     "signal_channel_4_20ma": "signal front end, one 4–20 mA channel `Channel::update` (scaling, plausibility, 5-sample median, low-pass)",
     "table_stage_ng_booster": "one compressor stage on a GERG-2008 property table (NG booster table in flash: two states, entropy-matched isentropic state, heads, polytropic efficiency)",
     "table_stage_co2_demo": "the same on the demo CO2 table (decoded from its blob; Cortex-M4F only, needs 61 kB RAM)",
+    "compressor_stage_table_ng_booster": "one compressor stage on the NG booster table through the gas seam (`evaluate_compressor_into`: states, entropy match, Schultz)",
+    "update_4_stages_3_intercoolers_table": "**full update, 4 stages + 3 intercoolers, GERG-2008 table (demo CO2 table; Cortex-M4F only)**",
 }
 res = {}
 for t, _, _ in targets:
@@ -131,6 +135,10 @@ row("train state, demo train (5 stages), bytes",
     lambda t: f"{res[t][1]['state_demo_5_stages']:,}")
 row("stack high-water mark of one update, 4 stages + 3 intercoolers, bytes",
     lambda t: f"{res[t][1]['stack_update_4_stages_3_intercoolers']:,}")
+row("stack high-water mark of one update, 4 stages + 3 intercoolers, Peng–Robinson, bytes",
+    lambda t: f"{res[t][1]['stack_update_4_stages_3_intercoolers_peng_robinson']:,}")
+row("stack high-water mark of one update, 4 stages + 3 intercoolers, GERG-2008 table, bytes",
+    lambda t: f"{res[t][1]['stack_update_4_stages_3_intercoolers_table']:,}" if 'stack_update_4_stages_3_intercoolers_table' in res[t][1] else "–")
 row("stack high-water mark of one update, demo train, bytes",
     lambda t: f"{res[t][1]['stack_update_demo_5_stages']:,}")
 row("stack high-water mark of one surge-margin update, bytes",
@@ -150,7 +158,7 @@ L.append("Static RAM is zero because the minimal firmware keeps the train on the
          "`SurgeMonitor::new` / `update` or `Channel::new` / `update` survives, and the "
          "`proof` firmware does the same for every other public entry point (surge "
          "detection, recycle controller and outputs, orifice, flow element, low-flow "
-         "cut-off, cross-checks, event log, recycle loss: `ci/firmware/src/proof.rs`); "
+         "cut-off, cross-checks, event log, recycle loss, the gas models: Peng–Robinson construction and composition update, state functions, entropy match, polytropic methods: `ci/firmware/src/proof.rs`); "
          "`ci/checks.d/firmware.sh` also checks that a deliberately panicking probe fails "
          "to link.")
 open(out_md, "w").write("\n".join(L) + "\n")

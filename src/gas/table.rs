@@ -653,10 +653,8 @@ const W_Z: u8 = 1;
 const W_ZX: u8 = 32;
 /// What the gas seam's `compression` asks of the patch at its two ends (Z,
 /// h, s) and in the entropy match (s, ∂s/∂T, h and Z).
-#[allow(dead_code)] // serves the gas-seam impl (`table_seam.rs`)
 pub(crate) const SEAM_ENDS: u8 = W_Z | W_H | W_S;
 /// See [`SEAM_ENDS`].
-#[allow(dead_code)] // serves the gas-seam impl (`table_seam.rs`)
 pub(crate) const SEAM_ISO: u8 = W_DS | W_H | W_Z;
 /// Patch outputs: h and cp.
 const W_H: u8 = 2;
@@ -669,7 +667,6 @@ const W_W: u8 = 16;
 
 /// The entropy match's result.
 #[derive(Clone, Copy)]
-#[allow(dead_code)] // `z` and `flag` serve the gas-seam impl (`table_seam.rs`)
 pub(crate) struct Isentropic<T> {
     /// Temperature, K.
     pub(crate) t: T,
@@ -682,7 +679,6 @@ pub(crate) struct Isentropic<T> {
 }
 
 /// The states of one compression (see `TableGas::stage_states`).
-#[allow(dead_code)] // `flag1` serves the gas-seam impl (`table_seam.rs`)
 pub(crate) struct StageStates<T> {
     pub(crate) end1: Patch<T>,
     pub(crate) q1: Quality,
@@ -1322,7 +1318,6 @@ impl<'a, T: Real> TableGas<'a, T> {
 
     /// Z, cp and h at (p, t) with the quality (the seam's mean path
     /// properties).
-    #[allow(dead_code)] // serves the gas-seam impl (`table_seam.rs`)
     pub(crate) fn z_cp(&self, p: T, t: T) -> (T, T, Quality) {
         if !(p > T::ZERO) {
             return (T::ONE, T::ZERO, Quality::Bad);
@@ -1332,7 +1327,6 @@ impl<'a, T: Real> TableGas<'a, T> {
     }
 
     /// Enthalpy at (p, t) with its quality and flag (h and cp only).
-    #[allow(dead_code)] // serves the gas-seam impl (`table_seam.rs`)
     pub(crate) fn enthalpy(&self, p: T, t: T) -> (T, Quality, TableFlag) {
         if !(p > T::ZERO) {
             return (T::ZERO, Quality::Bad, TableFlag::NotFinite);
