@@ -77,6 +77,7 @@
 #[cfg(test)]
 extern crate std;
 
+pub mod blob;
 pub mod boundary;
 pub mod clock;
 pub mod compression;

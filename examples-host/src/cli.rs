@@ -160,6 +160,8 @@ pub enum Cmd {
     Gateway(crate::gateway::GatewayArgs),
     /// The gateway's register map, Markdown (default) or --csv.
     RegisterMap(crate::gateway::RegisterMapArgs),
+    /// Write a GERG-2008 property table (blob + Rust source) for a gas and envelope.
+    Tables(crate::tables::TablesArgs),
 }
 
 /// Options of `demo`.

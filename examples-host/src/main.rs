@@ -39,6 +39,9 @@ mod units;
 // Surge simulation: the Greitzer model core and its subcommand.
 mod greitzer;
 mod surge_sim;
+// GERG-2008 property tables for the device.
+mod gerg_table;
+mod tables;
 
 use std::io::Write;
 use std::process::ExitCode;
@@ -75,6 +78,7 @@ fn dispatch(cli: &Cli) -> Result<String, CliError> {
         Cmd::Blob(a) => blob::run(a),
         Cmd::Gateway(a) => gateway::run(&a.parsed()),
         Cmd::RegisterMap(a) => gateway::run_map(a),
+        Cmd::Tables(a) => tables::run(a),
     }
 }
 

@@ -27,6 +27,8 @@ mod builtin;
 pub mod components;
 mod ideal;
 pub mod peng_robinson;
+pub mod table;
+mod table_seam;
 
 pub use builtin::{
     CpPolynomial, GasSpec, AIR, BUILTIN_GASES, CARBON_DIOXIDE, ETHANE, HYDROGEN, LEAN_NATURAL_GAS,

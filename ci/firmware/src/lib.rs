@@ -5,6 +5,7 @@
 
 pub mod codec;
 pub mod front;
+pub mod gas_tables;
 pub mod proof;
 pub mod table;
 

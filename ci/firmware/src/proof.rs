@@ -35,6 +35,8 @@ use polytrope::surge::{DetectionConfig, DetectionScan, SurgeDetector};
 use polytrope::units::{Kelvin, PressureAbs};
 
 use crate::front;
+use crate::gas_tables::{HYDROGEN_BLOB, NG_BOOSTER};
+use polytrope::gas::table::{PropertyTable, TableGas};
 
 /// A PWM channel that keeps the last duty (stands in for a timer).
 struct Pwm(u16);
@@ -260,6 +262,34 @@ pub fn exercise(k: u32) -> bool {
         1.4,
     );
     black_box(recycle_power(m, black_box(good(90_000.0))));
+
+    // GERG-2008 property tables: a static table, and a blob decoded into
+    // fixed capacity (then replaced by a truncated copy, which is refused).
+    match TableGas::<f32>::new(black_box(NG_BOOSTER)) {
+        Ok(gas) => {
+            let p = black_box(40e5_f32 + k as f32);
+            black_box(gas.state(p, 300.0));
+            black_box(gas.isentropic_temperature(80e5, black_box(-500.0), 360.0));
+            black_box(gas.stage(p, 300.0, 80e5, 365.0));
+        }
+        Err(_) => ok = false,
+    }
+    let blob = black_box(HYDROGEN_BLOB);
+    match PropertyTable::<48, 64>::from_blob(blob) {
+        Ok(mut table) => {
+            let cut = blob.len() / 2;
+            ok &= table
+                .replace_from_blob(blob.get(..cut).unwrap_or(&[]))
+                .is_err();
+            match TableGas::<f32>::new(table.data()) {
+                Ok(gas) => {
+                    black_box(gas.stage(black_box(20e5), 300.0, 60e5, 420.0));
+                }
+                Err(_) => ok = false,
+            }
+        }
+        Err(_) => ok = false,
+    }
     ok &= gas_models();
     ok
 }

@@ -24,6 +24,9 @@ use polytrope::cooler::{evaluate_cooler_into, CoolerInputs, CoolerResult};
 use polytrope::demo::{self, DemoTrain};
 use polytrope::fields::FieldValue;
 use polytrope::gas::components::{CARBON_DIOXIDE, ETHANE, METHANE, NITROGEN, PROPANE};
+#[cfg(target_abi = "eabihf")]
+use polytrope::gas::table::PropertyTable;
+use polytrope::gas::table::TableGas;
 use polytrope::gas::{GasModel, IdealGas, PengRobinson, CARBON_DIOXIDE as CO2_IDEAL};
 use polytrope::quality::{Measured, Quality};
 use polytrope::scan::Scan;
@@ -33,12 +36,17 @@ use polytrope::stage::{
 use polytrope::train::{Snapshot, Train, TrainConfig};
 use polytrope_firmware::codec::{decode_scan, quality_code, RawStage};
 use polytrope_firmware::front::{self, Monitor, PressureChannel};
+#[cfg(target_abi = "eabihf")]
+use polytrope_firmware::gas_tables::CO2_DEMO_BLOB;
+use polytrope_firmware::gas_tables::NG_BOOSTER;
 use polytrope_firmware::measure;
 use polytrope_firmware::table::SCANS;
 
 /// Stages of the budget train: four compressors, three intercoolers.
 const BUDGET_STAGES: usize = 4;
 type BudgetTrain = Train<f32, IdealGas<f32>, BUDGET_STAGES, { demo::WINDOW }>;
+/// The budget train on a GERG-2008 property table.
+type BudgetTrainTable<'a> = Train<f32, TableGas<'a, f32>, BUDGET_STAGES, { demo::WINDOW }>;
 /// The same train on the demo's Peng–Robinson CO2.
 type BudgetTrainPr = Train<f32, PengRobinson<f32, 1>, BUDGET_STAGES, { demo::WINDOW }>;
 
@@ -460,6 +468,99 @@ fn measure_front_end(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u3
     out!(h, "S stack_signal_channel_4_20ma {}", used);
 }
 
+/// One compressor stage on a property table (both measured states, the
+/// entropy-matched isentropic state, heads, polytropic efficiency), the
+/// table's own `stage`.
+#[inline(never)]
+fn table_stage(gas: &TableGas<'_, f32>, p1: f32, t1: f32, p2: f32, t2: f32) -> f32 {
+    let s = gas.stage(p1, t1, p2, t2);
+    s.polytropic_efficiency.value + s.isentropic_head.value
+}
+
+#[inline(never)]
+fn update_budget_table(t: &mut BudgetTrainTable<'_>, s: &Scan<f32, BUDGET_STAGES>) -> f32 {
+    t.update(s).totals.total_power.value
+}
+
+/// The GERG-2008 table model: one stage on the natural-gas table in flash
+/// (the table's own `stage`, then the train's `evaluate_compressor_into`
+/// through the gas seam, default polytropic method); on Cortex-M4F also the
+/// CO2 table decoded from its blob (61 kB of RAM), its stages and the
+/// 4-stage, 3-intercooler budget train on it, with its stack. In a frame of
+/// its own.
+#[inline(never)]
+fn measure_tables(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u32) {
+    let g = |x: f32| Measured::new(x, Quality::Good);
+    // Invented natural-gas booster stage: 40 -> 80 bar a, 300 -> 365 K.
+    let Ok(ng) = TableGas::<f32>::new(black_box(NG_BOOSTER)) else {
+        fail(h, "NG table");
+    };
+    for k in 0..3 {
+        let (a, b, c, d) = black_box((40e5_f32, 300.0_f32 + k as f32, 80e5_f32, 365.0_f32));
+        let r = label(h, "table_stage_ng_booster");
+        let v = measure(r, || table_stage(&ng, a, b, c, d));
+        if !(v > 0.0) {
+            fail(h, "NG table stage");
+        }
+    }
+    let inputs = black_box(CompressorInputs {
+        suction_pressure: g(40e5),
+        suction_temperature: g(300.0),
+        discharge_pressure: g(80e5),
+        discharge_temperature: g(365.0),
+        mass_flow: g(11.5),
+        compressibility: None,
+    });
+    let ng_ref = black_box(&ng);
+    let r = label(h, "compressor_stage_table_ng_booster");
+    let mut res = CompressorResult::bad();
+    measure(r, || evaluate_compressor_into(ng_ref, &inputs, &mut res));
+    if res.polytropic_efficiency.quality != Quality::Good {
+        fail(h, "NG table stage through the seam");
+    }
+    #[cfg(target_abi = "eabihf")]
+    {
+        let Ok(co2_table) = PropertyTable::<1100, 1800>::from_blob(black_box(CO2_DEMO_BLOB)) else {
+            fail(h, "CO2 table blob");
+        };
+        let Ok(co2) = TableGas::<f32>::new(co2_table.data()) else {
+            fail(h, "CO2 table");
+        };
+        // The demo CO2 train's stage 3 (9 -> 26 bar a) and stage 4 (25.6 ->
+        // 66 bar a), invented scenario.
+        for (a, b, c, d) in [
+            (9.0e5_f32, 308.0_f32, 26.0e5_f32, 400.0_f32),
+            (25.6e5, 309.0, 66.0e5, 385.0),
+        ] {
+            let (a, b, c, d) = black_box((a, b, c, d));
+            let r = label(h, "table_stage_co2_demo");
+            let v = measure(r, || table_stage(&co2, a, b, c, d));
+            if !(v > 0.0) {
+                fail(h, "CO2 table stage");
+            }
+        }
+        let Some(cfg) = budget_config(co2) else {
+            fail(h, "budget config table");
+        };
+        let Ok(mut train) = BudgetTrainTable::new(cfg) else {
+            fail(h, "budget train table");
+        };
+        for raw in SCANS.iter().take(10) {
+            update_budget_table(&mut train, &budget_scan(black_box(raw)));
+        }
+        for raw in SCANS.iter().skip(10).take(3) {
+            let s = black_box(budget_scan(black_box(raw)));
+            let r = label(h, "update_4_stages_3_intercoolers_table");
+            measure(r, || update_budget_table(&mut train, &s));
+        }
+        let s = black_box(budget_scan(black_box(&SCANS[13])));
+        let used = stack_used(|| {
+            update_budget_table(&mut train, &s);
+        });
+        out!(h, "S stack_update_4_stages_3_intercoolers_table {}", used);
+    }
+}
+
 /// The register image: one pack of the demo snapshot, a warmed surge
 /// monitor's state and a channel's output, and its stack high-water mark, in
 /// a frame of its own.
@@ -539,6 +640,7 @@ fn main() -> ! {
     measure_train_new(&mut h, &mut label);
     measure_front_end(&mut h, &mut label);
     measure_register_pack(&mut h, &mut label);
+    measure_tables(&mut h, &mut label);
 
     // 3. State sizes.
     out!(
