@@ -82,6 +82,7 @@ pub mod demo;
 pub mod error;
 pub mod flow;
 pub mod gas;
+pub mod ledger;
 pub mod polytropic;
 pub mod quality;
 pub mod real;

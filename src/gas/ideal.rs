@@ -349,6 +349,19 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
         )
     }
 
+    /// Z·R·T·ln(p2/p1) (the state functions' Gibbs energy rise).
+    fn isothermal_work(&self, p1: T, p2: T, t: T, z_supplied: Option<T>) -> (T, Validity) {
+        (
+            self.z_of(z_supplied) * self.gas_constant * t * T::ln(p2 / p1),
+            self.validity(T::max(p1, p2), t),
+        )
+    }
+
+    #[inline]
+    fn ratio_only(&self) -> bool {
+        true
+    }
+
     /// Closed form on the path-mean cp (the `fluids` convention):
     /// T2s = T1·r^((k−1)/k), h2s − h1 = Z·R·T1·k/(k−1)·(r^((k−1)/k) − 1),
     /// h2 − h1 = Z·cp·(T2 − T1), p·v = Z·R·T.

@@ -344,4 +344,26 @@ pub trait GasModel<T: Real> {
         let _ = (p, t);
         None
     }
+
+    /// Reversible isothermal work from (p1, t) to (p2, t), J/kg: the rise
+    /// of the Gibbs energy, Δh − T·Δs = ∫v dp at constant T, with the
+    /// validity of both states. The default evaluates [`GasModel::state`]
+    /// twice; the ideal gas gives Z·R·T·ln(p2/p1) in closed form.
+    fn isothermal_work(&self, p1: T, p2: T, t: T, z_supplied: Option<T>) -> (T, Validity) {
+        let a = self.state(p1, t, z_supplied);
+        let b = self.state(p2, t, z_supplied);
+        (
+            (b.enthalpy - a.enthalpy) - t * (b.entropy - a.entropy),
+            a.validity.worst(b.validity),
+        )
+    }
+
+    /// `true` if [`GasModel::compression`]'s isentropic results (with no
+    /// discharge temperature) depend on the pressures only through the
+    /// `ln_ratio` passed, and their validity only on the higher pressure
+    /// (the ideal gas). Whole-train references ([`crate::ledger`]) then
+    /// evaluate one stage for several equal ones. Default `false`.
+    fn ratio_only(&self) -> bool {
+        false
+    }
 }

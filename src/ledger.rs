@@ -1,0 +1,631 @@
+//! Where the power goes: a loss ledger in watts that walks from the
+//! isothermal power of the train's duty to the measured power, one named
+//! cause at a time.
+//!
+//! Sources: the staging relations of Çengel & Boles, *Thermodynamics: An
+//! Engineering Approach*, ch. 7, "Multistage compression with
+//! intercooling" (isothermal work as the limit of many intercooled stages;
+//! ideal stages with perfect intercooling least when the stage ratios are
+//! equal; isentropic work w = h(p2, s1) − h1); the reversible isothermal work
+//! as the Gibbs energy rise Δh − T·Δs = ∫v dp (any thermodynamics text);
+//! the recycle loss m_recycle · w_actual ([`crate::control::recycle_power`]).
+//! Every work is computed through the configured [`GasModel`], so the
+//! ledger is real-gas when the gas model is.
+//!
+//! # Order of attribution
+//!
+//! The ledger is a chain of reference trains, each one cause closer to the
+//! measured train; a line is the power difference between two neighbouring
+//! references, evaluated with every earlier cause already present (so an
+//! interaction between two causes is charged to the later one). The order
+//! runs from what the machine's layout fixes to what operation and upkeep
+//! change, the order in which an engineer explains a train's power:
+//!
+//! | step | reference train (all at the forward mass flow) | line = this − previous |
+//! |---|---|---|
+//! | 0 | reversible isothermal compression at the first suction temperature from the first suction to the last compressor discharge pressure | `isothermal_power` (the start) |
+//! | 1 | the same number of isentropic stages, equal ratios, no pressure drops, every suction at the first suction temperature | `stage_count` |
+//! | 2 | as 1, but every stage makes the ratio it must make up for the measured interstage pressure drops (equal stage ratios, the measured drop fractions between them) | `pressure_drops` |
+//! | 3 | isentropic stages at the measured suction and discharge pressures, every suction at the first suction temperature | `pressure_split` |
+//! | 4 | (only with [`CoolingReference::CoolantInletPlusApproach`]) as 3, each later suction at its cooler's coolant inlet plus the design approach | `coolant_temperature` |
+//! | 5 | as 3 at the measured suction temperatures: the measured stages' isentropic heads | `intercooling[i]` for stage i's suction |
+//! | 6 | the measured stages' actual work (h2 − h1) | `stage_inefficiency[i]` |
+//! | 7 | the gas the recycle valve sends round the loop, m_recycle · Σ w_actual over the loop's stages | `recycle` |
+//! | 8 | pump stages' shaft power (outside the gas ledger) | `pumps` |
+//! | – | measured total power (compressor gas power + pump power) | `remainder` = measured − all of the above |
+//!
+//! Why this order: the stage count and the pressure drops are set by the
+//! machine and its piping; the split of the ratio between the stages is
+//! then the next thing that can be re-balanced (step 3 isolates it: its line
+//! is zero when the measured stage ratios are equal, whatever the drops);
+//! intercooling and the stages' own losses are what upkeep changes (clean
+//! this cooler, repair that stage) and are charged last, each per stage, so
+//! they add up without a cross term. Stage inefficiency is measured against
+//! the **isentropic** head of the measured stage (not the polytropic one):
+//! then steps 5 and 6 telescope to the measured work exactly.
+//!
+//! Because the chain telescopes, the remainder holds only what the chain
+//! cannot attribute: stages whose measured flows differ from the forward
+//! flow plus the recycle (side streams, meters that disagree), a line that
+//! could not be computed (its share falls into the remainder, which is then
+//! bad), for a model whose isentropic head of a stage depends on the
+//! measured discharge temperature (the ideal gas with cp(T) takes the
+//! path-mean cp) the first stage's difference between its own isentropic
+//! head and the reference's at the same suction state, and rounding. It is
+//! reported, never hidden.
+//!
+//! Each line's quality is the worst of exactly what it used: the
+//! measurements, the forward flow and the gas model's validity of every
+//! state in the two references it compares.
+//!
+//! # Worked example (an invented scenario)
+//!
+//! Air as an ideal gas (k = 1.4, R = 287 J/(kg K), Z = 1), 5 kg/s from
+//! 1.00 bar a, 300 K to 27.0 bar a in three stages; measured: stage 1
+//! 1.00 → 3.20 bar a, stage 2 3.10 → 9.00 bar a at 310 K suction, stage 3
+//! 8.80 → 27.0 bar a at 315 K suction, isentropic efficiencies 0.85, 0.82
+//! and 0.80; no recycle, no pumps. The ledger (from
+//! `tests/ledger.rs::worked_example_in_the_module_docs`, rounded to 0.1 kW):
+//!
+//! | line | kW |
+//! |---|---:|
+//! | isothermal power (start) | 1,418.9 |
+//! | stage count (3 ideal stages vs isothermal) | 247.9 |
+//! | pressure drops (3.1 % and 2.2 %) | 32.0 |
+//! | pressure split | 0.4 |
+//! | intercooling before stage 2 (310 K) | 17.9 |
+//! | intercooling before stage 3 (315 K) | 28.4 |
+//! | stage 1 inefficiency | 104.8 |
+//! | stage 2 inefficiency | 121.7 |
+//! | stage 3 inefficiency | 149.3 |
+//! | remainder | 0.0 |
+//! | **measured** | **2,121.4** |
+//!
+//! Read: 67 % of the measured power is the duty itself; three stages cost
+//! 248 kW over isothermal, the 5.3 % of pressure lost between the stages
+//! 32 kW, the uneven split under 1 kW, the two intercoolers 46 kW together,
+//! and the stages' own losses 376 kW, the largest share.
+//!
+//! The cost per scan is a few isentropic evaluations per stage; the ideal
+//! gas evaluates one stage for all the equal ones ([`GasModel::ratio_only`]).
+//! Measured on the device: see the README.
+
+use crate::control::recycle_power;
+use crate::error::{check_range, ConfigError, Problem};
+use crate::gas::{GasModel, Validity, ValidityReason};
+use crate::quality::{Measured, Quality};
+use crate::real::Real;
+use crate::scan::{compressibility, mass_flow_kg_s, pressure_pa, temperature_k, Scan};
+use crate::staging::Sum;
+use crate::train::{Snapshot, StageWork, TrainConfig};
+
+/// What a later stage's suction temperature is compared with.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum CoolingReference<T> {
+    /// The first stage's suction temperature: perfect intercooling.
+    FirstSuction,
+    /// The coolant inlet temperature of the cooler before the stage plus a
+    /// design approach (K, in [0, 100]): what a clean cooler can reach. The
+    /// difference between that and the first suction temperature is the
+    /// `coolant_temperature` line.
+    CoolantInletPlusApproach {
+        /// Design approach (gas outlet − coolant inlet), K.
+        design_approach: T,
+    },
+}
+
+/// A recycle loop around compressor stages `first_stage..=last_stage`
+/// (zero-based): the stages' measured flows include the recycled gas.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct RecycleLoop {
+    /// First stage inside the loop.
+    pub first_stage: u8,
+    /// Last stage inside the loop (the valve takes gas from its discharge).
+    pub last_stage: u8,
+}
+
+/// Configuration of the ledger; check it once with
+/// [`LedgerConfig::validate`].
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct LedgerConfig<T> {
+    /// What a later stage's suction temperature is compared with.
+    pub cooling_reference: CoolingReference<T>,
+    /// The recycle loop, if the train has one and its flow is known.
+    pub recycle: Option<RecycleLoop>,
+}
+
+impl<T: Real> Default for LedgerConfig<T> {
+    fn default() -> Self {
+        LedgerConfig {
+            cooling_reference: CoolingReference::FirstSuction,
+            recycle: None,
+        }
+    }
+}
+
+impl<T: Real> LedgerConfig<T> {
+    /// Checks the configuration against a train with `compressor_stages`
+    /// compressor stages (`TrainTotals::compressor_stages`).
+    pub fn validate(&self, compressor_stages: u8) -> Result<(), ConfigError> {
+        if let CoolingReference::CoolantInletPlusApproach { design_approach } =
+            self.cooling_reference
+        {
+            check_range("ledger.design_approach", design_approach, 0.0, 100.0)?;
+        }
+        if let Some(r) = self.recycle {
+            let last = f64::from(compressor_stages.saturating_sub(1));
+            if r.last_stage >= compressor_stages {
+                return Err(ConfigError::out_of_range(
+                    "ledger.recycle.last_stage",
+                    0.0,
+                    last,
+                ));
+            }
+            if r.first_stage > r.last_stage {
+                return Err(ConfigError::new(
+                    "ledger.recycle.first_stage",
+                    Problem::Inconsistent {
+                        with: "ledger.recycle.last_stage",
+                    },
+                ));
+            }
+        }
+        Ok(())
+    }
+}
+
+/// One scan's loss ledger; every line in W with its quality.
+///
+/// The sum identity, to rounding: `isothermal_power`, `stage_count`,
+/// `pressure_drops`, `pressure_split`, `coolant_temperature`, every
+/// `intercooling` and `stage_inefficiency` entry, `recycle`, `pumps` and
+/// `remainder` add up to `measured_total` ([`Ledger::sum_of_lines`]).
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Ledger<T, const N: usize> {
+    /// Forward (delivered) mass flow used for every reference: the first
+    /// stage's flow less the recycle flow if the loop includes it, kg/s.
+    pub forward_mass_flow: Measured<T>,
+    /// Reversible isothermal power for the overall ratio at the first
+    /// suction temperature, W (the start).
+    pub isothermal_power: Measured<T>,
+    /// Equal-ratio isentropic stages with perfect intercooling against
+    /// isothermal: the price of the stage count, W.
+    pub stage_count: Measured<T>,
+    /// The extra ratio the stages make up for interstage pressure drops, W.
+    pub pressure_drops: Measured<T>,
+    /// The measured stage ratios against equal ones, W.
+    pub pressure_split: Measured<T>,
+    /// Coolant inlet plus design approach above the first suction
+    /// temperature (zero with [`CoolingReference::FirstSuction`]), W.
+    pub coolant_temperature: Measured<T>,
+    /// Per stage: its suction warmer than the reference (the intercooler
+    /// before it, or its absence), W; zero for the first stage and pumps.
+    pub intercooling: [Measured<T>; N],
+    /// Per stage: actual work above the stage's isentropic head, W; zero for
+    /// pumps.
+    pub stage_inefficiency: [Measured<T>; N],
+    /// Power spent on gas the recycle valve sends back, W (zero without a
+    /// configured loop).
+    pub recycle: Measured<T>,
+    /// Pump stages' shaft power, outside the gas ledger, W.
+    pub pumps: Measured<T>,
+    /// What the chain does not attribute (flow differences between stages,
+    /// lines that could not be computed, rounding), W.
+    pub remainder: Measured<T>,
+    /// The measured total power (compressor gas power + pump power), W.
+    pub measured_total: Measured<T>,
+}
+
+impl<T: Real, const N: usize> Ledger<T, N> {
+    /// Every line bad.
+    pub fn bad() -> Self {
+        let b = Measured::bad();
+        Ledger {
+            forward_mass_flow: b,
+            isothermal_power: b,
+            stage_count: b,
+            pressure_drops: b,
+            pressure_split: b,
+            coolant_temperature: b,
+            intercooling: [b; N],
+            stage_inefficiency: [b; N],
+            recycle: b,
+            pumps: b,
+            remainder: b,
+            measured_total: b,
+        }
+    }
+
+    /// Sum of every line from the start through the remainder, W (equals
+    /// `measured_total` to rounding when that is usable).
+    pub fn sum_of_lines(&self) -> T {
+        let mut s = self.isothermal_power.value
+            + self.stage_count.value
+            + self.pressure_drops.value
+            + self.pressure_split.value
+            + self.coolant_temperature.value;
+        for m in self
+            .intercooling
+            .iter()
+            .chain(self.stage_inefficiency.iter())
+        {
+            s += m.value;
+        }
+        s + self.recycle.value + self.pumps.value + self.remainder.value
+    }
+}
+
+/// A specific work with the quality of everything it used.
+#[derive(Clone, Copy)]
+struct Work<T> {
+    value: T,
+    quality: Quality,
+}
+
+impl<T: Real> Work<T> {
+    fn zero() -> Self {
+        Work {
+            value: T::ZERO,
+            quality: Quality::Good,
+        }
+    }
+    fn add(&mut self, value: T, quality: Quality) {
+        self.value += value;
+        self.quality = self.quality.worst(quality);
+    }
+}
+
+/// Isentropic head from (p1, t1) to p2 with the quality of its states.
+#[inline]
+fn isentropic<T: Real, G: GasModel<T>>(
+    gas: &G,
+    p1: T,
+    t1: T,
+    p2: T,
+    ln_ratio: T,
+    z: Option<T>,
+) -> (T, Quality) {
+    let cs = gas.compression(p1, t1, p2, ln_ratio, None, z);
+    (cs.isentropic_enthalpy_rise, cs.isentropic_validity.quality)
+}
+
+/// Line `m · (to − from)` with the worst quality of both and the flow.
+#[inline]
+fn line<T: Real>(m: Measured<T>, from: Work<T>, to: Work<T>) -> Measured<T> {
+    Measured::derived(
+        m.value * (to.value - from.value),
+        m.quality.worst(from.quality).worst(to.quality),
+    )
+}
+
+/// One compressor stage's measured pressures and suction temperature,
+/// through the sensor boundary.
+#[derive(Clone, Copy)]
+struct Ends<T> {
+    p1: Measured<T>,
+    t1: Measured<T>,
+    p2: Measured<T>,
+    z: Option<T>,
+    q_z: Quality,
+}
+
+fn ends<T: Real, const N: usize>(scan: &Scan<T, N>, i: usize) -> Ends<T> {
+    match scan.stages.get(i) {
+        Some(s) => {
+            let (z, q_z) = match compressibility(s.compressibility) {
+                Some((z, q)) => (Some(z), q),
+                None => (None, Quality::Good),
+            };
+            Ends {
+                p1: pressure_pa(s.suction_pressure),
+                t1: temperature_k(s.suction_temperature),
+                p2: pressure_pa(s.discharge_pressure),
+                z,
+                q_z,
+            }
+        }
+        None => Ends {
+            p1: Measured::bad(),
+            t1: Measured::bad(),
+            p2: Measured::bad(),
+            z: None,
+            q_z: Quality::Bad,
+        },
+    }
+}
+
+/// Builds the ledger for one scan after [`crate::train::Train::update`]:
+/// `config` is the train's configuration (`train.config()`), `snapshot` the
+/// snapshot that update returned for this same `scan`, and
+/// `recycle_mass_flow` the recycle flow in kg/s (a meter, or
+/// [`crate::control::valve_mass_flow`]); it is ignored without a configured
+/// loop. `ledger` should have passed [`LedgerConfig::validate`].
+///
+/// Never panics, never allocates; every value is finite with its quality.
+pub fn evaluate_ledger_into<T: Real, G: GasModel<T>, const N: usize>(
+    config: &TrainConfig<T, G, N>,
+    ledger: &LedgerConfig<T>,
+    scan: &Scan<T, N>,
+    snapshot: &Snapshot<T, N>,
+    recycle_mass_flow: Measured<T>,
+    out: &mut Ledger<T, N>,
+) {
+    *out = Ledger::bad();
+    let gas = &config.gas;
+    let nc = usize::from(snapshot.totals.compressor_stages);
+    out.measured_total = snapshot.totals.total_power;
+
+    // Pumps, and zero lines where a cause cannot exist.
+    let mut pumps = Sum::new();
+    for (i, st) in snapshot.stages.iter().enumerate() {
+        if let StageWork::Pump(p) = &st.work {
+            pumps.add(p.power);
+        }
+        if i == 0 || i >= nc {
+            if let Some(m) = out.intercooling.get_mut(i) {
+                *m = Measured::good(T::ZERO);
+            }
+        }
+        if i >= nc {
+            if let Some(m) = out.stage_inefficiency.get_mut(i) {
+                *m = Measured::good(T::ZERO);
+            }
+        }
+    }
+    out.pumps = if pumps.count == 0 {
+        Measured::good(T::ZERO)
+    } else {
+        pumps.get()
+    };
+
+    // Forward flow and recycle.
+    let first = snapshot.stages.first().and_then(|s| s.compressor());
+    let m0 = first.map_or(Measured::bad(), |c| c.mass_flow);
+    let (m_rec, in_loop_first) = match ledger.recycle {
+        Some(r) => (mass_flow_kg_s(recycle_mass_flow), r.first_stage == 0),
+        None => (Measured::good(T::ZERO), false),
+    };
+    let m_fwd = if in_loop_first {
+        let f = m0.value - m_rec.value;
+        let q = m0.quality.worst(m_rec.quality);
+        if f < T::ZERO {
+            Measured::derived(T::ZERO, q.worst(Quality::Uncertain))
+        } else {
+            Measured::derived(f, q)
+        }
+    } else {
+        m0
+    };
+    out.forward_mass_flow = m_fwd;
+    out.recycle = match ledger.recycle {
+        None => Measured::good(T::ZERO),
+        Some(r) => {
+            let mut w = Sum::new();
+            for st in snapshot
+                .stages
+                .iter()
+                .take(usize::from(r.last_stage) + 1)
+                .skip(usize::from(r.first_stage))
+            {
+                if let Some(c) = st.compressor() {
+                    w.add(c.actual_work);
+                }
+            }
+            recycle_power(m_rec, w.get())
+        }
+    };
+
+    evaluate_chain(gas, ledger, scan, snapshot, nc, m_fwd, out);
+
+    // The remainder closes the ledger on the measured total.
+    let mut q = out.measured_total.quality;
+    let mut attributed = T::ZERO;
+    for m in [
+        out.isothermal_power,
+        out.stage_count,
+        out.pressure_drops,
+        out.pressure_split,
+        out.coolant_temperature,
+        out.recycle,
+        out.pumps,
+    ]
+    .iter()
+    .chain(out.intercooling.iter())
+    .chain(out.stage_inefficiency.iter())
+    {
+        attributed += m.value;
+        q = q.worst(m.quality);
+    }
+    out.remainder = Measured::derived(out.measured_total.value - attributed, q);
+}
+
+/// Steps 0 to 6 of the chain (see the module docs).
+#[inline(never)]
+fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
+    gas: &G,
+    ledger: &LedgerConfig<T>,
+    scan: &Scan<T, N>,
+    snapshot: &Snapshot<T, N>,
+    nc: usize,
+    m_fwd: Measured<T>,
+    out: &mut Ledger<T, N>,
+) {
+    if nc == 0 || !m_fwd.quality.is_usable() {
+        return;
+    }
+    let e0 = ends(scan, 0);
+    let el = ends(scan, nc - 1);
+    let (p_s, t_s, p_d) = (e0.p1, e0.t1, el.p2);
+    let q_base = p_s.quality.worst(t_s.quality).worst(p_d.quality);
+    let overall = p_d.value / p_s.value;
+    if q_base == Quality::Bad || !(overall > T::ONE) || !T::is_finite(overall) {
+        return;
+    }
+    let ln_overall = T::ln(overall);
+    let n = T::of(f64::from(snapshot.totals.compressor_stages));
+
+    // Step 0: reversible isothermal.
+    let (w_iso, v_iso) = gas.isothermal_work(p_s.value, p_d.value, t_s.value, e0.z);
+    let iso = Work {
+        value: w_iso,
+        quality: q_base.worst(e0.q_z).worst(isothermal_end(v_iso)),
+    };
+    out.isothermal_power =
+        Measured::derived(m_fwd.value * iso.value, m_fwd.quality.worst(iso.quality));
+
+    // Measured stage ratios: product and whether every z is the configured one.
+    let mut ln_product = T::ZERO;
+    let mut q_pressures = Quality::Good;
+    let mut uniform = gas.ratio_only();
+    for i in 0..nc {
+        let e = ends(scan, i);
+        ln_product += T::ln(e.p2.value / e.p1.value);
+        q_pressures = q_pressures.worst(e.p1.quality).worst(e.p2.quality);
+        uniform &= e.z.is_none();
+    }
+
+    // Step 1: equal ratios, no drops. Step 2: equal ratios, measured drops.
+    let ln_a = ln_overall / n;
+    let ln_b = ln_product / n;
+    let (ref_a, ref_b) = if uniform {
+        // One stage at the highest pressures stands for all (its validity
+        // is the worst of them).
+        // By the `ratio_only` contract the pressures enter only through
+        // the ratio passed and the higher pressure (validity).
+        let (wa, qa) = isentropic(gas, p_s.value, t_s.value, p_d.value, ln_a, None);
+        let (wb, qb) = isentropic(gas, p_s.value, t_s.value, p_d.value, ln_b, None);
+        (
+            Work {
+                value: n * wa,
+                quality: qa.worst(q_base),
+            },
+            Work {
+                value: n * wb,
+                quality: qb.worst(q_base).worst(q_pressures),
+            },
+        )
+    } else {
+        let mut a = Work::zero();
+        let mut b = Work::zero();
+        a.add(T::ZERO, q_base);
+        b.add(T::ZERO, q_base.worst(q_pressures));
+        let (ra, rb) = (T::exp(ln_a), T::exp(ln_b));
+        let (mut pa, mut pb) = (p_s.value, p_s.value);
+        for i in 0..nc {
+            let e = ends(scan, i);
+            let (wa, qa) = isentropic(gas, pa, t_s.value, pa * ra, ln_a, e.z);
+            a.add(wa, qa.worst(e.q_z));
+            let (wb, qb) = isentropic(gas, pb, t_s.value, pb * rb, ln_b, e.z);
+            b.add(wb, qb.worst(e.q_z));
+            pa = pa * ra;
+            // The next suction sits below this discharge by the measured
+            // drop fraction.
+            let next = ends(scan, i + 1);
+            pb = pb * rb * (next.p1.value / e.p2.value);
+        }
+        (a, b)
+    };
+    out.stage_count = line(m_fwd, iso, ref_a);
+    out.pressure_drops = line(m_fwd, ref_a, ref_b);
+
+    // Steps 3 to 6, stage by stage.
+    let mut ref_c = Work::zero();
+    ref_c.add(T::ZERO, q_base.worst(q_pressures));
+    let mut ref_d = ref_c;
+    for i in 0..nc {
+        let e = ends(scan, i);
+        let ln_r = T::ln(e.p2.value / e.p1.value);
+        let (wc, qc) = isentropic(gas, e.p1.value, t_s.value, e.p2.value, ln_r, e.z);
+        let c_stage = Work {
+            value: wc,
+            quality: qc
+                .worst(e.q_z)
+                .worst(t_s.quality)
+                .worst(e.p1.quality)
+                .worst(e.p2.quality),
+        };
+        ref_c.add(c_stage.value, c_stage.quality);
+        // The cooling reference of this stage's suction.
+        let coolant = match ledger.cooling_reference {
+            CoolingReference::CoolantInletPlusApproach { design_approach } if i > 0 => scan
+                .stages
+                .get(i - 1)
+                .and_then(|s| s.cooler)
+                .map(|c| {
+                    let t = temperature_k(c.coolant_inlet_temperature);
+                    Measured::derived(t.value + design_approach, t.quality)
+                })
+                .or_else(|| {
+                    // A configured cooler without its readings: unknown.
+                    config_has_cooler(snapshot, i - 1).then(Measured::bad)
+                }),
+            _ => None,
+        };
+        let d_stage = match coolant {
+            Some(t_ref) if t_ref.quality.is_usable() => {
+                let (wd, qd) = isentropic(gas, e.p1.value, t_ref.value, e.p2.value, ln_r, e.z);
+                Work {
+                    value: wd,
+                    quality: qd
+                        .worst(e.q_z)
+                        .worst(t_ref.quality)
+                        .worst(e.p1.quality)
+                        .worst(e.p2.quality),
+                }
+            }
+            Some(_) => Work {
+                value: T::ZERO,
+                quality: Quality::Bad,
+            },
+            None => c_stage,
+        };
+        ref_d.add(d_stage.value, d_stage.quality);
+        let Some(c) = snapshot.stages.get(i).and_then(|s| s.compressor()) else {
+            continue;
+        };
+        let head = Work {
+            value: c.isentropic_head.value,
+            quality: c.isentropic_head.quality,
+        };
+        let actual = Work {
+            value: c.actual_work.value,
+            quality: c.actual_work.quality,
+        };
+        if i > 0 {
+            if let Some(m) = out.intercooling.get_mut(i) {
+                *m = line(m_fwd, d_stage, head);
+            }
+        }
+        if let Some(m) = out.stage_inefficiency.get_mut(i) {
+            *m = line(m_fwd, head, actual);
+        }
+    }
+    out.pressure_split = line(m_fwd, ref_b, ref_c);
+    out.coolant_temperature = match ledger.cooling_reference {
+        CoolingReference::FirstSuction => Measured::good(T::ZERO),
+        CoolingReference::CoolantInletPlusApproach { .. } => line(m_fwd, ref_c, ref_d),
+    };
+}
+
+/// Whether stage `i` has a cooler configured (the snapshot has a slot).
+#[inline]
+fn config_has_cooler<T, const N: usize>(snapshot: &Snapshot<T, N>, i: usize) -> bool {
+    matches!(snapshot.coolers.get(i), Some(Some(_)))
+}
+
+/// Quality of the isothermal reference's end states. Isothermal
+/// compression at the first suction temperature may end in a dense or
+/// liquid-like state (CO2 below its critical temperature): the Gibbs
+/// energy rise is still the reversible work, but a cubic's dense root is an
+/// estimate, so a liquid-like end is uncertain rather than bad.
+#[inline]
+fn isothermal_end(v: Validity) -> Quality {
+    match v.reason {
+        ValidityReason::LiquidLike => Quality::Uncertain,
+        _ => v.quality,
+    }
+}
