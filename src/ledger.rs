@@ -8,7 +8,7 @@
 //! ideal stages with perfect intercooling least when the stage ratios are
 //! equal; isentropic work w = h(p2, s1) − h1); the reversible isothermal work
 //! as the Gibbs energy rise Δh − T·Δs = ∫v dp (any thermodynamics text);
-//! the recycle loss m_recycle · w_actual ([`crate::control::recycle_power`]).
+//! the recycle loss m_recycle · w_actual ([`crate::control::recycle_power()`]).
 //! Every work is computed through the configured [`GasModel`], so the
 //! ledger is real-gas when the gas model is.
 //!
