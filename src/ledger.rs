@@ -466,10 +466,9 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
         return;
     }
     let ln_overall = T::ln(overall);
-    let n = T::of(f64::from(snapshot.totals.compressor_stages));
 
     // Step 0: reversible isothermal.
-    let (w_iso, v_iso) = gas.isothermal_work(p_s.value, p_d.value, t_s.value, e0.z);
+    let (w_iso, v_iso) = gas.isothermal_work(p_s.value, p_d.value, ln_overall, t_s.value, e0.z);
     let iso = Work {
         value: w_iso,
         quality: q_base.worst(e0.q_z).worst(isothermal_end(v_iso)),
@@ -477,77 +476,23 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
     out.isothermal_power =
         Measured::derived(m_fwd.value * iso.value, m_fwd.quality.worst(iso.quality));
 
-    // Measured stage ratios: product and whether every z is the configured one.
-    let mut ln_product = T::ZERO;
+    // Steps 3 to 6, stage by stage; the measured ratios on the way.
+    let mut n = T::ZERO;
+    let mut ratio_product = T::ONE;
     let mut q_pressures = Quality::Good;
     let mut uniform = gas.ratio_only();
+    let mut ref_c = Work::zero();
+    let mut ref_d = Work::zero();
     for i in 0..nc {
         let e = ends(scan, i);
-        ln_product += T::ln(e.p2.value / e.p1.value);
+        n += T::ONE;
+        ratio_product = ratio_product * (e.p2.value / e.p1.value);
         q_pressures = q_pressures.worst(e.p1.quality).worst(e.p2.quality);
         uniform &= e.z.is_none();
-    }
-
-    // Step 1: equal ratios, no drops. Step 2: equal ratios, measured drops.
-    let ln_a = ln_overall / n;
-    let ln_b = ln_product / n;
-    let (ref_a, ref_b) = if uniform {
-        // One stage at the highest pressures stands for all (its validity
-        // is the worst of them).
-        // By the `ratio_only` contract the pressures enter only through
-        // the ratio passed and the higher pressure (validity).
-        let (wa, qa) = isentropic(gas, p_s.value, t_s.value, p_d.value, ln_a, None);
-        let (wb, qb) = isentropic(gas, p_s.value, t_s.value, p_d.value, ln_b, None);
-        (
-            Work {
-                value: n * wa,
-                quality: qa.worst(q_base),
-            },
-            Work {
-                value: n * wb,
-                quality: qb.worst(q_base).worst(q_pressures),
-            },
-        )
-    } else {
-        let mut a = Work::zero();
-        let mut b = Work::zero();
-        a.add(T::ZERO, q_base);
-        b.add(T::ZERO, q_base.worst(q_pressures));
-        let (ra, rb) = (T::exp(ln_a), T::exp(ln_b));
-        let (mut pa, mut pb) = (p_s.value, p_s.value);
-        for i in 0..nc {
-            let e = ends(scan, i);
-            let (wa, qa) = isentropic(gas, pa, t_s.value, pa * ra, ln_a, e.z);
-            a.add(wa, qa.worst(e.q_z));
-            let (wb, qb) = isentropic(gas, pb, t_s.value, pb * rb, ln_b, e.z);
-            b.add(wb, qb.worst(e.q_z));
-            pa = pa * ra;
-            // The next suction sits below this discharge by the measured
-            // drop fraction.
-            let next = ends(scan, i + 1);
-            pb = pb * rb * (next.p1.value / e.p2.value);
-        }
-        (a, b)
-    };
-    out.stage_count = line(m_fwd, iso, ref_a);
-    out.pressure_drops = line(m_fwd, ref_a, ref_b);
-
-    // Steps 3 to 6, stage by stage.
-    let mut ref_c = Work::zero();
-    ref_c.add(T::ZERO, q_base.worst(q_pressures));
-    let mut ref_d = ref_c;
-    for i in 0..nc {
-        let e = ends(scan, i);
-        let ln_r = T::ln(e.p2.value / e.p1.value);
-        let (wc, qc) = isentropic(gas, e.p1.value, t_s.value, e.p2.value, ln_r, e.z);
-        let c_stage = Work {
-            value: wc,
-            quality: qc
-                .worst(e.q_z)
-                .worst(t_s.quality)
-                .worst(e.p1.quality)
-                .worst(e.p2.quality),
-        };
+        let c = snapshot.stages.get(i).and_then(|s| s.compressor());
+        let head = c.map_or(Measured::bad(), |c| c.isentropic_head);
+        let actual = c.map_or(Measured::bad(), |c| c.actual_work);
+        let c_stage = reference_head(gas, &e, t_s, head);
         ref_c.add(c_stage.value, c_stage.quality);
         // The cooling reference of this stage's suction.
         let coolant = match ledger.cooling_reference {
@@ -566,34 +511,17 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
             _ => None,
         };
         let d_stage = match coolant {
-            Some(t_ref) if t_ref.quality.is_usable() => {
-                let (wd, qd) = isentropic(gas, e.p1.value, t_ref.value, e.p2.value, ln_r, e.z);
-                Work {
-                    value: wd,
-                    quality: qd
-                        .worst(e.q_z)
-                        .worst(t_ref.quality)
-                        .worst(e.p1.quality)
-                        .worst(e.p2.quality),
-                }
-            }
-            Some(_) => Work {
-                value: T::ZERO,
-                quality: Quality::Bad,
-            },
+            Some(t_ref) => reference_head(gas, &e, t_ref, head),
             None => c_stage,
         };
         ref_d.add(d_stage.value, d_stage.quality);
-        let Some(c) = snapshot.stages.get(i).and_then(|s| s.compressor()) else {
-            continue;
-        };
         let head = Work {
-            value: c.isentropic_head.value,
-            quality: c.isentropic_head.quality,
+            value: head.value,
+            quality: head.quality,
         };
         let actual = Work {
-            value: c.actual_work.value,
-            quality: c.actual_work.quality,
+            value: actual.value,
+            quality: actual.quality,
         };
         if i > 0 {
             if let Some(m) = out.intercooling.get_mut(i) {
@@ -604,11 +532,100 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
             *m = line(m_fwd, head, actual);
         }
     }
+    let q_chain = q_base.worst(q_pressures);
+    ref_c.quality = ref_c.quality.worst(q_chain);
+    ref_d.quality = ref_d.quality.worst(q_chain);
+
+    // Step 1: equal ratios, no drops. Step 2: equal ratios, measured drops.
+    let ln_a = ln_overall / n;
+    let ln_b = T::ln(ratio_product) / n;
+    let (ref_a, ref_b) = if uniform {
+        // By the `ratio_only` contract the pressures enter only through
+        // the ratio passed and the higher pressure (validity): one stage
+        // stands for all.
+        let (wa, qa) = isentropic(gas, p_s.value, t_s.value, p_d.value, ln_a, None);
+        let (wb, qb) = isentropic(gas, p_s.value, t_s.value, p_d.value, ln_b, None);
+        (
+            Work {
+                value: n * wa,
+                quality: qa.worst(q_base),
+            },
+            Work {
+                value: n * wb,
+                quality: qb.worst(q_chain),
+            },
+        )
+    } else {
+        let mut a = Work::zero();
+        let mut b = Work::zero();
+        a.add(T::ZERO, q_base);
+        b.add(T::ZERO, q_chain);
+        let (ra, rb) = (T::exp(ln_a), T::exp(ln_b));
+        let (mut pa, mut pb) = (p_s.value, p_s.value);
+        for i in 0..nc {
+            let e = ends(scan, i);
+            let (wa, qa) = isentropic(gas, pa, t_s.value, pa * ra, ln_a, e.z);
+            a.add(wa, qa.worst(e.q_z));
+            let (wb, qb) = isentropic(gas, pb, t_s.value, pb * rb, ln_b, e.z);
+            b.add(wb, qb.worst(e.q_z));
+            pa = pa * ra;
+            // The next suction sits below this discharge by the measured
+            // drop fraction.
+            let next = ends(scan, i + 1);
+            pb = pb * rb * (next.p1.value / e.p2.value);
+        }
+        (a, b)
+    };
+    out.stage_count = line(m_fwd, iso, ref_a);
+    out.pressure_drops = line(m_fwd, ref_a, ref_b);
     out.pressure_split = line(m_fwd, ref_b, ref_c);
     out.coolant_temperature = match ledger.cooling_reference {
         CoolingReference::FirstSuction => Measured::good(T::ZERO),
         CoolingReference::CoolantInletPlusApproach { .. } => line(m_fwd, ref_c, ref_d),
     };
+}
+
+/// Isentropic head of a stage's measured pressures from suction temperature
+/// `t_ref`, with the quality of what it depends on (the pressures, the
+/// supplied Z, `t_ref`, the model's validity). Rescales the stage's own
+/// head `head` where the model allows it
+/// ([`GasModel::isentropic_head_rescaled`]: the value then depends on the
+/// stage's suction temperature only through a factor that cancels),
+/// otherwise evaluates the model.
+#[inline]
+fn reference_head<T: Real, G: GasModel<T>>(
+    gas: &G,
+    e: &Ends<T>,
+    t_ref: Measured<T>,
+    head: Measured<T>,
+) -> Work<T> {
+    let q = t_ref
+        .quality
+        .worst(e.p1.quality)
+        .worst(e.p2.quality)
+        .worst(e.q_z);
+    if q == Quality::Bad {
+        return Work {
+            value: T::ZERO,
+            quality: Quality::Bad,
+        };
+    }
+    if head.quality.is_usable() {
+        if let Some((w, v)) =
+            gas.isentropic_head_rescaled(head.value, e.t1.value, t_ref.value, e.p2.value, e.z)
+        {
+            return Work {
+                value: w,
+                quality: q.worst(v.quality),
+            };
+        }
+    }
+    let ln_r = T::ln(e.p2.value / e.p1.value);
+    let (w, qv) = isentropic(gas, e.p1.value, t_ref.value, e.p2.value, ln_r, e.z);
+    Work {
+        value: w,
+        quality: q.worst(qv),
+    }
 }
 
 /// Whether stage `i` has a cooler configured (the snapshot has a slot).

@@ -350,11 +350,34 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
     }
 
     /// Z·R·T·ln(p2/p1) (the state functions' Gibbs energy rise).
-    fn isothermal_work(&self, p1: T, p2: T, t: T, z_supplied: Option<T>) -> (T, Validity) {
+    fn isothermal_work(
+        &self,
+        p1: T,
+        p2: T,
+        ln_ratio: T,
+        t: T,
+        z_supplied: Option<T>,
+    ) -> (T, Validity) {
         (
-            self.z_of(z_supplied) * self.gas_constant * t * T::ln(p2 / p1),
+            self.z_of(z_supplied) * self.gas_constant * t * ln_ratio,
             self.validity(T::max(p1, p2), t),
         )
+    }
+
+    /// With constant k, T2s/T1 depends on the ratio only, so the head
+    /// Z·cp·T1·(T2s/T1 − 1) is proportional to T1.
+    fn isentropic_head_rescaled(
+        &self,
+        head: T,
+        t1: T,
+        t: T,
+        p_high: T,
+        _z_supplied: Option<T>,
+    ) -> Option<(T, Validity)> {
+        match self.heat_capacity {
+            HeatCapacity::ConstantK(_) => Some((head * (t / t1), self.validity(p_high, t))),
+            HeatCapacity::Polynomial { .. } => None,
+        }
     }
 
     #[inline]
