@@ -186,6 +186,8 @@ impl<T: Real> LedgerConfig<T> {
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Ledger<T, const N: usize> {
+    /// Number of compressor stages (the per-stage lines that exist).
+    pub compressor_stages: u8,
     /// Forward (delivered) mass flow used for every reference: the first
     /// stage's flow less the recycle flow if the loop includes it, kg/s.
     pub forward_mass_flow: Measured<T>,
@@ -225,6 +227,7 @@ impl<T: Real, const N: usize> Ledger<T, N> {
     pub fn bad() -> Self {
         let b = Measured::bad();
         Ledger {
+            compressor_stages: 0,
             forward_mass_flow: b,
             isothermal_power: b,
             stage_count: b,
@@ -238,6 +241,30 @@ impl<T: Real, const N: usize> Ledger<T, N> {
             remainder: b,
             measured_total: b,
         }
+    }
+
+    /// Calls `visit` once per line, in the order of attribution: the start
+    /// (`Cause::Isothermal`), the causes, the remainder and last the
+    /// measured total. Per-stage lines carry the zero-based stage index and
+    /// are visited only where the cause can exist (intercooling from the
+    /// second compressor stage, inefficiency for every compressor stage).
+    pub fn visit_lines(&self, visit: &mut dyn FnMut(Cause, Option<u8>, Measured<T>)) {
+        let nc = usize::from(self.compressor_stages);
+        visit(Cause::Isothermal, None, self.isothermal_power);
+        visit(Cause::StageCount, None, self.stage_count);
+        visit(Cause::PressureDrops, None, self.pressure_drops);
+        visit(Cause::PressureSplit, None, self.pressure_split);
+        visit(Cause::CoolantTemperature, None, self.coolant_temperature);
+        for (i, m) in self.intercooling.iter().enumerate().take(nc).skip(1) {
+            visit(Cause::Intercooling, u8::try_from(i).ok(), *m);
+        }
+        for (i, m) in self.stage_inefficiency.iter().enumerate().take(nc) {
+            visit(Cause::StageInefficiency, u8::try_from(i).ok(), *m);
+        }
+        visit(Cause::Recycle, None, self.recycle);
+        visit(Cause::Pumps, None, self.pumps);
+        visit(Cause::Remainder, None, self.remainder);
+        visit(Cause::MeasuredTotal, None, self.measured_total);
     }
 
     /// Sum of every line from the start through the remainder, W (equals
@@ -256,6 +283,70 @@ impl<T: Real, const N: usize> Ledger<T, N> {
             s += m.value;
         }
         s + self.recycle.value + self.pumps.value + self.remainder.value
+    }
+}
+
+/// The name of a ledger line ([`Ledger::visit_lines`]).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Cause {
+    /// The start: reversible isothermal power.
+    Isothermal,
+    /// Equal-ratio ideal stages against isothermal.
+    StageCount,
+    /// Interstage pressure drops.
+    PressureDrops,
+    /// Unequal stage ratios.
+    PressureSplit,
+    /// Coolant inlet plus design approach above the first suction.
+    CoolantTemperature,
+    /// A stage's suction warmer than the reference.
+    Intercooling,
+    /// A stage's actual work above its isentropic head.
+    StageInefficiency,
+    /// Gas sent round the recycle loop.
+    Recycle,
+    /// Pump stages (outside the gas ledger).
+    Pumps,
+    /// Not attributed.
+    Remainder,
+    /// The measured total power (the end).
+    MeasuredTotal,
+}
+
+impl Cause {
+    /// Stable kebab-case name (keys, CSV columns, logs).
+    pub const fn as_str(self) -> &'static str {
+        match self {
+            Cause::Isothermal => "isothermal",
+            Cause::StageCount => "stage-count",
+            Cause::PressureDrops => "pressure-drops",
+            Cause::PressureSplit => "pressure-split",
+            Cause::CoolantTemperature => "coolant-temperature",
+            Cause::Intercooling => "intercooling",
+            Cause::StageInefficiency => "stage-inefficiency",
+            Cause::Recycle => "recycle",
+            Cause::Pumps => "pumps",
+            Cause::Remainder => "remainder",
+            Cause::MeasuredTotal => "measured-total",
+        }
+    }
+
+    /// Human label for tables and plots.
+    pub const fn label(self) -> &'static str {
+        match self {
+            Cause::Isothermal => "Isothermal power (the duty)",
+            Cause::StageCount => "Stage count (ideal stages vs isothermal)",
+            Cause::PressureDrops => "Interstage pressure drops",
+            Cause::PressureSplit => "Unequal pressure split",
+            Cause::CoolantTemperature => "Coolant temperature + design approach",
+            Cause::Intercooling => "Intercooling, suction above reference",
+            Cause::StageInefficiency => "Stage inefficiency (actual vs isentropic)",
+            Cause::Recycle => "Recycle",
+            Cause::Pumps => "Pumps (outside the gas ledger)",
+            Cause::Remainder => "Remainder (not attributed)",
+            Cause::MeasuredTotal => "Measured total power",
+        }
     }
 }
 
@@ -356,6 +447,7 @@ pub fn evaluate_ledger_into<T: Real, G: GasModel<T>, const N: usize>(
 ) {
     *out = Ledger::bad();
     let gas = &config.gas;
+    out.compressor_stages = snapshot.totals.compressor_stages;
     let nc = usize::from(snapshot.totals.compressor_stages);
     out.measured_total = snapshot.totals.total_power;
 

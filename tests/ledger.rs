@@ -22,7 +22,7 @@ use polytrope::cooler::CoolerConfig;
 use polytrope::gas::GasModel;
 use polytrope::gas::{HeatCapacity, IdealGas, PengRobinson, MOLAR_GAS_CONSTANT};
 use polytrope::ledger::{
-    evaluate_ledger_into, CoolingReference, Ledger, LedgerConfig, RecycleLoop,
+    evaluate_ledger_into, Cause, CoolingReference, Ledger, LedgerConfig, RecycleLoop,
 };
 use polytrope::scan::{CoolerScan, Scan, StageScan};
 use polytrope::steady::SteadyStateConfig;
@@ -694,6 +694,23 @@ fn worked_example_in_the_module_docs() {
         st(p1, t1, p2, t2_of(t1, p2 / p1, eta[i]))
     });
     let l = ledger_of(air::<f64>(), &s, 5.0, &LedgerConfig::default(), 0.0);
+    // The visited lines (what tables, JSON and plots show) close on the
+    // measured total too, with stable distinct names.
+    let mut visited = Vec::new();
+    l.visit_lines(&mut |c, i, m| visited.push((c, i, m)));
+    let names: Vec<String> = visited
+        .iter()
+        .map(|(c, i, _)| format!("{}{:?}", c.as_str(), i))
+        .collect();
+    for (k, a) in names.iter().enumerate() {
+        assert!(!names[k + 1..].contains(a), "{a} twice");
+    }
+    let (last, body) = visited.split_last().unwrap();
+    assert_eq!(last.0, Cause::MeasuredTotal);
+    let sum: f64 = body.iter().map(|(_, _, m)| m.value).sum();
+    assert!((sum - last.2.value).abs() < 1e-9 * last.2.value);
+    // 3 stages: 2 intercooling and 3 inefficiency lines.
+    assert_eq!(visited.len(), 4 + 1 + 2 + 3 + 4);
     for (n, v, _) in lines(&l) {
         println!("{n}: {:.1} kW", v / 1e3);
     }

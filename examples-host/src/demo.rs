@@ -407,10 +407,15 @@ fn report<T: Real>(scans: u32, precision: Precision, json: bool) -> Result<Strin
     }
     let snap = train.snapshot();
     let parts = split(&scan.stages, snap);
+    let ledger = crate::ledger_view::lines(&train, &scan);
     if json {
-        Ok(to_json(scans, precision, snap, &parts).to_text())
+        let mut j = to_json(scans, precision, snap, &parts);
+        if let Json::Obj(o) = &mut j {
+            o.put(&k::LEDGER, crate::ledger_view::json(&ledger));
+        }
+        Ok(j.to_text())
     } else {
-        Ok(to_text(scans, precision, snap, &parts))
+        Ok(to_text(scans, precision, snap, &parts) + &crate::ledger_view::text(&ledger))
     }
 }
 

@@ -137,6 +137,12 @@ keys! { TRAIN_KEYS:
     IDEAL_STAGED_T2 = "ideal_staged_discharge_temperature_K", "K", "Isentropic discharge temperature of each equal-ratio stage with perfect intercooling.";
 }
 
+keys! { LEDGER_KEYS:
+    LEDGER = "ledger", "array of objects", "Loss ledger of the last scan (demo): from the isothermal power of the duty to the measured power, one object per line in the order of attribution (polytrope::ledger).";
+    CAUSE = "cause", "string", "Ledger line: `isothermal` (the start), `stage-count`, `pressure-drops`, `pressure-split`, `coolant-temperature`, `intercooling` and `stage-inefficiency` (per stage), `recycle`, `pumps`, `remainder`, `measured-total` (the end).";
+    LINE_POWER = "power_W", "W", "Power of the ledger line.";
+}
+
 /// Every key group, for the documentation.
 pub const GROUPS: &[(&str, &[Key])] = &[
     ("Document structure", STRUCTURE),
@@ -145,6 +151,7 @@ pub const GROUPS: &[(&str, &[Key])] = &[
     ("Pump stage", PUMP_KEYS),
     ("Cooler", COOLER_KEYS),
     ("Train and staging", TRAIN_KEYS),
+    ("Loss ledger", LEDGER_KEYS),
 ];
 
 const INTRO: &str = "\
@@ -163,7 +170,7 @@ plain numbers (what was typed, converted to SI); `compressibility` and \
 
 Layout. `demo --json`: `command`, `scenario`, `caution`, `precision`, \
 `scans`, `stages` (compressor and pump objects), `coolers`, `interstage`, \
-`totals`. `stage --json`: `command`, `caution`, `precision`, `inputs`, \
+`totals`, `ledger`. `stage --json`: `command`, `caution`, `precision`, `inputs`, \
 `results`, `staging` (only with `--stages`), `notes`.
 
 Caution: not a certified safety function; defer to the machine maker's \
