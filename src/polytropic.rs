@@ -78,8 +78,8 @@ pub fn schultz<T: Real>(cs: &CompressionStates<T>, ln_ratio: T) -> Option<Polytr
     if !cs.has_discharge || !rising || !(cs.isentropic_ln_pv_ratio > T::ZERO) {
         return None;
     }
-    let f = cs.isentropic_enthalpy_rise * cs.isentropic_ln_pv_ratio
-        / (ln_ratio * cs.isentropic_pv_rise);
+    // f comes with the states (the model computes it; 1 for the ideal gas).
+    let f = cs.head_factor;
     let head = f * ln_ratio * cs.pv_rise / cs.ln_pv_ratio;
     Some(Polytropic {
         head,

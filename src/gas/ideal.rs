@@ -409,6 +409,10 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
             isentropic_enthalpy_rise: zrt1 * (t2s_over_t1 - T::ONE) / m_k,
             isentropic_pv_rise: zrt1 * (t2s_over_t1 - T::ONE),
             isentropic_ln_pv_ratio: m_k * ln_ratio,
+            isentropic_exponent: props.k,
+            // Exactly 1 for an ideal gas on the path-mean cp: h2s − h1 =
+            // k/(k−1)·(p2·v2s − p1·v1) with ns = k.
+            head_factor: T::ONE,
             isentropic_validity: validity,
             validity,
             ..CompressionStates::invalid()

@@ -196,6 +196,11 @@ pub struct CompressionStates<T> {
     /// ln(p2·v2s / (p1·v1)), -. With ln(p2/p1) it gives the isentropic
     /// volume exponent: ns/(ns−1) = ln(p2/p1) / this.
     pub isentropic_ln_pv_ratio: T,
+    /// Isentropic volume exponent ns = ln(p2/p1)/ln(v1/v2s) (ideal gas: k), -.
+    pub isentropic_exponent: T,
+    /// Schultz's polytropic head factor
+    /// f = (h2s − h1) / [ns/(ns−1)·(p2·v2s − p1·v1)] (ideal gas: 1 exactly), -.
+    pub head_factor: T,
     /// Validity of states 1 and 2s.
     pub isentropic_validity: Validity,
     /// Whether the discharge fields below were computed (discharge
@@ -224,6 +229,8 @@ impl<T: Real> CompressionStates<T> {
             isentropic_enthalpy_rise: T::ZERO,
             isentropic_pv_rise: T::ZERO,
             isentropic_ln_pv_ratio: T::ZERO,
+            isentropic_exponent: T::ONE,
+            head_factor: T::ONE,
             isentropic_validity: Validity::INVALID,
             has_discharge: false,
             discharge_z: T::ONE,
@@ -300,7 +307,6 @@ pub trait GasModel<T: Real> {
         t2: Option<T>,
         z_supplied: Option<T>,
     ) -> CompressionStates<T> {
-        let _ = ln_ratio;
         let s1 = self.state(p1, t1, z_supplied);
         if s1.validity.quality == Quality::Bad {
             return CompressionStates {
@@ -313,12 +319,16 @@ pub trait GasModel<T: Real> {
         let pv1 = s1.pressure * s1.volume;
         let pv2s = s2s.pressure * s2s.volume;
         let iso_validity = s1.validity.worst(s2s.validity);
+        let iso_ln_pv = T::ln(pv2s / pv1);
+        let dhs = s2s.enthalpy - s1.enthalpy;
         let mut out = CompressionStates {
             suction_z: s1.z,
             isentropic_temperature: s2s.temperature,
-            isentropic_enthalpy_rise: s2s.enthalpy - s1.enthalpy,
+            isentropic_enthalpy_rise: dhs,
             isentropic_pv_rise: pv2s - pv1,
-            isentropic_ln_pv_ratio: T::ln(pv2s / pv1),
+            isentropic_ln_pv_ratio: iso_ln_pv,
+            isentropic_exponent: ln_ratio / (ln_ratio - iso_ln_pv),
+            head_factor: dhs * iso_ln_pv / (ln_ratio * (pv2s - pv1)),
             isentropic_validity: iso_validity,
             validity: iso_validity,
             ..CompressionStates::invalid()

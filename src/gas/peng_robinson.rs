@@ -570,9 +570,9 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
         out
     }
 
-    /// Specialised for speed: four or five state evaluations (suction, the
-    /// entropy match from a first-order start, discharge), no speed of
-    /// sound, p·v = Z·R·T per kg.
+    /// Specialised for speed: usually three state evaluations (suction,
+    /// discharge, one for the entropy match from a second-order start), no
+    /// speed of sound, p·v = Z·R·T per kg.
     fn compression(
         &self,
         p1: T,
@@ -590,7 +590,19 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
                 ..CompressionStates::invalid()
             };
         }
-        let start = t1 * T::exp(isentropic_temperature_exponent(p1, &c1) * ln_ratio);
+        // The discharge state first: its isentropic exponent, averaged with
+        // the suction's, starts the entropy match within a fraction of a
+        // kelvin (trapezoid of d ln T / d ln p along the isentrope), so one
+        // evaluation and a first-order step usually finish it.
+        let c2 = t2.map(|t| (t, self.core(p2, t)));
+        let m1 = isentropic_temperature_exponent(p1, &c1);
+        let m = match &c2 {
+            Some((_, c)) if c.validity.quality != Quality::Bad => {
+                T::of(0.5) * (m1 + isentropic_temperature_exponent(p2, c))
+            }
+            _ => m1,
+        };
+        let start = t1 * T::exp(m * ln_ratio);
         let (t2s, c2s, converged) = self.entropy_match(c1.s, p2, start, t1);
         let mut iso_validity = c1.validity.worst(c2s.validity);
         if !converged {
@@ -598,18 +610,22 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
         }
         let zt1 = c1.z * t1;
         let r = self.gas_constant;
+        let dhs = (c2s.h - c1.h) * self.per_kg;
+        let iso_pv_rise = r * (c2s.z * t2s - zt1);
+        let iso_ln_pv = T::ln(c2s.z * t2s / zt1);
         let mut out = CompressionStates {
             suction_z: c1.z,
             isentropic_temperature: t2s,
-            isentropic_enthalpy_rise: (c2s.h - c1.h) * self.per_kg,
-            isentropic_pv_rise: r * (c2s.z * t2s - zt1),
-            isentropic_ln_pv_ratio: T::ln(c2s.z * t2s / zt1),
+            isentropic_enthalpy_rise: dhs,
+            isentropic_pv_rise: iso_pv_rise,
+            isentropic_ln_pv_ratio: iso_ln_pv,
+            isentropic_exponent: ln_ratio / (ln_ratio - iso_ln_pv),
+            head_factor: dhs * iso_ln_pv / (ln_ratio * iso_pv_rise),
             isentropic_validity: iso_validity,
             validity: iso_validity,
             ..CompressionStates::invalid()
         };
-        if let Some(t2) = t2 {
-            let c2 = self.core(p2, t2);
+        if let Some((t2, c2)) = c2 {
             out.has_discharge = true;
             out.discharge_z = c2.z;
             out.enthalpy_rise = (c2.h - c1.h) * self.per_kg;

@@ -217,7 +217,7 @@ pub fn evaluate_compressor_into<T: Real, G: GasModel<T>>(
     }
     let q_ideal = q_ideal.worst(cs.isentropic_validity.quality);
     out.compressibility = cs.suction_z;
-    out.k = ln_r / (ln_r - cs.isentropic_ln_pv_ratio);
+    out.k = cs.isentropic_exponent;
     out.isentropic_discharge_temperature = Measured::derived(cs.isentropic_temperature, q_ideal);
     let hs = cs.isentropic_enthalpy_rise;
     out.isentropic_head = Measured::derived(hs, q_ideal);
