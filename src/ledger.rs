@@ -576,14 +576,12 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
     let mut ref_c = Work::zero();
     let mut ref_d = Work::zero();
     for i in 0..nc {
-        let e = ends(scan, i);
+        let e = stage_read(scan, snapshot, i);
         n += T::ONE;
-        ratio_product = ratio_product * (e.p2.value / e.p1.value);
-        q_pressures = q_pressures.worst(e.p1.quality).worst(e.p2.quality);
+        ratio_product = ratio_product * e.ratio.value;
+        q_pressures = q_pressures.worst(e.ratio.quality);
         uniform &= e.z.is_none();
-        let c = snapshot.stages.get(i).and_then(|s| s.compressor());
-        let head = c.map_or(Measured::bad(), |c| c.isentropic_head);
-        let actual = c.map_or(Measured::bad(), |c| c.actual_work);
+        let (head, actual) = (e.head, e.actual);
         let c_stage = reference_head(gas, &e, t_s, head);
         ref_c.add(c_stage.value, c_stage.quality);
         // The cooling reference of this stage's suction.
@@ -655,7 +653,7 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
         let (ra, rb) = (T::exp(ln_a), T::exp(ln_b));
         let (mut pa, mut pb) = (p_s.value, p_s.value);
         for i in 0..nc {
-            let e = ends(scan, i);
+            let e = stage_read(scan, snapshot, i);
             let (wa, qa) = isentropic(gas, pa, t_s.value, pa * ra, ln_a, e.z);
             a.add(wa, qa.worst(e.q_z));
             let (wb, qb) = isentropic(gas, pb, t_s.value, pb * rb, ln_b, e.z);
@@ -663,8 +661,8 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
             pa = pa * ra;
             // The next suction sits below this discharge by the measured
             // drop fraction.
-            let next = ends(scan, i + 1);
-            pb = pb * rb * (next.p1.value / e.p2.value);
+            let next = stage_read(scan, snapshot, i + 1);
+            pb = pb * rb * (next.p1 / e.p2);
         }
         (a, b)
     };
@@ -677,25 +675,76 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
     };
 }
 
+/// One compressor stage as the ledger reads it: the raw pressures and
+/// suction temperature (valid wherever the qualities that guard them are
+/// usable: the train's sensor boundary passed them), the stage's pressure
+/// ratio with the quality of both pressures, its supplied Z, and its
+/// isentropic head and actual work from the snapshot.
+#[derive(Clone, Copy)]
+struct StageRead<T> {
+    p1: T,
+    p2: T,
+    t1: T,
+    ratio: Measured<T>,
+    z: Option<T>,
+    q_z: Quality,
+    head: Measured<T>,
+    actual: Measured<T>,
+}
+
+#[inline]
+fn stage_read<T: Real, const N: usize>(
+    scan: &Scan<T, N>,
+    snapshot: &Snapshot<T, N>,
+    i: usize,
+) -> StageRead<T> {
+    let c = snapshot.stages.get(i).and_then(|s| s.compressor());
+    let b = Measured::bad();
+    match (scan.stages.get(i), c) {
+        (Some(s), Some(c)) => {
+            let (z, q_z) = match compressibility(s.compressibility) {
+                Some((z, q)) => (Some(z), q),
+                None => (None, Quality::Good),
+            };
+            StageRead {
+                p1: s.suction_pressure.value.pa(),
+                p2: s.discharge_pressure.value.pa(),
+                t1: s.suction_temperature.value.kelvin(),
+                ratio: c.pressure_ratio,
+                z,
+                q_z,
+                head: c.isentropic_head,
+                actual: c.actual_work,
+            }
+        }
+        _ => StageRead {
+            p1: T::ZERO,
+            p2: T::ZERO,
+            t1: T::ZERO,
+            ratio: b,
+            z: None,
+            q_z: Quality::Bad,
+            head: b,
+            actual: b,
+        },
+    }
+}
+
 /// Isentropic head of a stage's measured pressures from suction temperature
-/// `t_ref`, with the quality of what it depends on (the pressures, the
-/// supplied Z, `t_ref`, the model's validity). Rescales the stage's own
-/// head `head` where the model allows it
+/// `t_ref`, with the quality of what it depends on (the pressure ratio's
+/// pressures, the supplied Z, `t_ref`, the model's validity). Rescales the
+/// stage's own head `head` where the model allows it
 /// ([`GasModel::isentropic_head_rescaled`]: the value then depends on the
 /// stage's suction temperature only through a factor that cancels),
 /// otherwise evaluates the model.
 #[inline]
 fn reference_head<T: Real, G: GasModel<T>>(
     gas: &G,
-    e: &Ends<T>,
+    e: &StageRead<T>,
     t_ref: Measured<T>,
     head: Measured<T>,
 ) -> Work<T> {
-    let q = t_ref
-        .quality
-        .worst(e.p1.quality)
-        .worst(e.p2.quality)
-        .worst(e.q_z);
+    let q = t_ref.quality.worst(e.ratio.quality).worst(e.q_z);
     if q == Quality::Bad {
         return Work {
             value: T::ZERO,
@@ -703,8 +752,7 @@ fn reference_head<T: Real, G: GasModel<T>>(
         };
     }
     if head.quality.is_usable() {
-        if let Some((w, v)) =
-            gas.isentropic_head_rescaled(head.value, e.t1.value, t_ref.value, e.p2.value, e.z)
+        if let Some((w, v)) = gas.isentropic_head_rescaled(head.value, e.t1, t_ref.value, e.p2, e.z)
         {
             return Work {
                 value: w,
@@ -712,8 +760,8 @@ fn reference_head<T: Real, G: GasModel<T>>(
             };
         }
     }
-    let ln_r = T::ln(e.p2.value / e.p1.value);
-    let (w, qv) = isentropic(gas, e.p1.value, t_ref.value, e.p2.value, ln_r, e.z);
+    let ln_r = T::ln(e.ratio.value);
+    let (w, qv) = isentropic(gas, e.p1, t_ref.value, e.p2, ln_r, e.z);
     Work {
         value: w,
         quality: q.worst(qv),
