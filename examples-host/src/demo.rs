@@ -37,6 +37,11 @@ const OPTIONS: &[Opt] = &[
         help: "kernel build: f32 device build (default) or f64 reference build",
     },
     Opt {
+        name: "ledger-png",
+        value: Some("FILE"),
+        help: "also draw the loss ledger of the last scan as a waterfall PNG",
+    },
+    Opt {
         name: "json",
         value: None,
         help: "print JSON (SI units in the keys, quality with every value) instead of tables",
@@ -57,8 +62,8 @@ fn run(args: &Parsed) -> Result<String, CliError> {
     let precision = Precision::from_option(args.get("precision"), Precision::F32)?;
     let json = args.has("json");
     match precision {
-        Precision::F32 => report::<f32>(scans, precision, json),
-        Precision::F64 => report::<f64>(scans, precision, json),
+        Precision::F32 => report::<f32>(args, scans, precision, json),
+        Precision::F64 => report::<f64>(args, scans, precision, json),
     }
 }
 
@@ -398,7 +403,12 @@ fn split<T: Real, const N: usize>(scan: &[StageScan<T>; N], snap: &Snapshot<T, N
     parts
 }
 
-fn report<T: Real>(scans: u32, precision: Precision, json: bool) -> Result<String, CliError> {
+fn report<T: Real>(
+    args: &Parsed,
+    scans: u32,
+    precision: Precision,
+    json: bool,
+) -> Result<String, CliError> {
     let mut train = polytrope::demo::train::<T>()?;
     let mut scan = polytrope::demo::scan::<T>(0);
     for i in 0..scans {
@@ -408,6 +418,13 @@ fn report<T: Real>(scans: u32, precision: Precision, json: bool) -> Result<Strin
     let snap = train.snapshot();
     let parts = split(&scan.stages, snap);
     let ledger = crate::ledger_view::lines(&train, &scan);
+    if let Some(path) = args.get("ledger-png") {
+        let heading = format!(
+            "Where the power goes: invented demo CO2 train, scan {scans} ({})",
+            precision.word()
+        );
+        crate::ledger_plot::waterfall(std::path::Path::new(path), &heading, &ledger)?;
+    }
     if json {
         let mut j = to_json(scans, precision, snap, &parts);
         if let Json::Obj(o) = &mut j {

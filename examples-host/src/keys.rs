@@ -140,7 +140,7 @@ keys! { TRAIN_KEYS:
 keys! { LEDGER_KEYS:
     LEDGER = "ledger", "array of objects", "Loss ledger of the last scan (demo): from the isothermal power of the duty to the measured power, one object per line in the order of attribution (polytrope::ledger).";
     CAUSE = "cause", "string", "Ledger line: `isothermal` (the start), `stage-count`, `pressure-drops`, `pressure-split`, `coolant-temperature`, `intercooling` and `stage-inefficiency` (per stage), `recycle`, `pumps`, `remainder`, `measured-total` (the end).";
-    LINE_POWER = "power_W", "W", "Power of the ledger line.";
+    LINE_POWER = "line_power_W", "W", "Power of the ledger line.";
 }
 
 /// Every key group, for the documentation.

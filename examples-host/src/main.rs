@@ -32,6 +32,7 @@ macro_rules! row {
 mod cli;
 mod demo;
 mod keys;
+mod ledger_plot;
 mod ledger_view;
 mod out;
 mod quantity;
