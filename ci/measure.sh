@@ -27,9 +27,9 @@ declare -A machine=([thumbv7em-none-eabihf]="-cpu cortex-m4 -machine mps2-an386"
                     [thumbv6m-none-eabi]="-cpu cortex-m0 -machine microbit")
 for target in thumbv7em-none-eabihf thumbv6m-none-eabi; do
   echo "measure: building firmware for $target"
-  # `minimal` links only if no panic path of Train::new / Train::update,
-  # SurgeMonitor::new / update or Channel::new / update survives (its panic
-  # handler calls an undefined symbol).
+  # `minimal` and `proof` link only if no panic path of any public entry point
+  # survives (their panic handler calls an undefined symbol; see
+  # ci/firmware/src/proof.rs).
   if ! (cd $fw && cargo build -q --release --target $target --bins); then
     echo "measure: firmware build failed for $target (a reachable panic shows as an" >&2
     echo "         undefined symbol polytrope_reachable_panic_path)" >&2
@@ -150,8 +150,10 @@ L.append("Static RAM is zero because the minimal firmware keeps the train on the
          "kernel flash row includes them. "
          "Panic-freedom: the minimal firmware links with a panic handler that calls an "
          "undefined symbol, so no panic path of `Train::new` / `Train::update`, "
-         "`evaluate_ledger_into`, "
-         "`SurgeMonitor::new` / `update` or `Channel::new` / `update` survives; "
+         "`SurgeMonitor::new` / `update` or `Channel::new` / `update` survives, and the "
+         "`proof` firmware does the same for every other public entry point (surge "
+         "detection, recycle controller and outputs, orifice, flow element, low-flow "
+         "cut-off, cross-checks, event log, recycle loss, the loss ledger, the gas models: Peng–Robinson construction and composition update, state functions, entropy match, polytropic methods: `ci/firmware/src/proof.rs`); "
          "`ci/checks.d/firmware.sh` also checks that a deliberately panicking probe fails "
          "to link.")
 open(out_md, "w").write("\n".join(L) + "\n")

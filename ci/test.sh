@@ -15,9 +15,22 @@ cargo fmt --all --check
 
 step "no_std cross builds (every target x every feature set)"
 for target in thumbv6m-none-eabi thumbv7em-none-eabihf riscv32imac-unknown-none-elf; do
-  for features in "" "defmt" "approx-math" "defmt,approx-math"; do
+  for features in "" "defmt" "approx-math" "defmt,approx-math" "embedded-hal,demo"; do
     echo "  $target [${features:-no features}]"
     cargo build -q -p polytrope --lib --release --target "$target" --no-default-features --features "$features"
+  done
+done
+
+step "MSRV: the kernel for both thumb targets with rust-version from Cargo.toml"
+msrv=$(sed -n 's/^rust-version *= *"\([^"]*\)".*/\1/p' Cargo.toml | head -1)
+[ -n "$msrv" ] || { echo "no rust-version in Cargo.toml" >&2; exit 1; }
+rustup toolchain install "$msrv" --profile minimal \
+  --target thumbv6m-none-eabi --target thumbv7em-none-eabihf >/dev/null 2>&1 || true
+for target in thumbv6m-none-eabi thumbv7em-none-eabihf; do
+  for features in "" "defmt,approx-math,embedded-hal,demo"; do
+    echo "  $msrv $target [${features:-no features}]"
+    cargo "+$msrv" build -q -p polytrope --lib --release --target "$target" --no-default-features --features "$features" \
+      --target-dir target/msrv
   done
 done
 
@@ -28,10 +41,14 @@ cargo clippy -q -p polytrope --all-targets --all-features -- -D warnings
 step "docs (deny warnings)"
 RUSTDOCFLAGS="-D warnings" cargo doc -q --workspace --no-deps --all-features
 
+step "docs as docs.rs builds them (nightly, --cfg docsrs, every feature)"
+rustup toolchain install nightly --profile minimal >/dev/null 2>&1 || true
+RUSTDOCFLAGS="-D warnings --cfg docsrs" cargo +nightly doc -q -p polytrope --no-deps --all-features
+
 step "host tests (f64 reference, f32 device build, external references)"
 cargo test -q --workspace
 step "host tests with approximate maths"
-cargo test -q -p polytrope --features approx-math
+cargo test -q -p polytrope --features approx-math,demo
 
 for extra in ci/checks.d/*.sh; do
   [ -e "$extra" ] || continue

@@ -66,10 +66,11 @@ pub fn config<T: Real>() -> Result<TrainConfig<T, PengRobinson<T, 1>, STAGES>, C
     let water = Some(CoolerConfig {
         coolant_cp: T::of(4180.0),
     });
-    let stages = core::array::from_fn(|i| {
-        let (p1, p2) = DESIGN_BAR.get(i).copied().unwrap_or((1.0, 2.0));
+    let mut i = 0;
+    let stages = DESIGN_BAR.map(|(p1, p2)| {
+        i += 1;
         StageConfig {
-            kind: if i < 4 {
+            kind: if i <= ETA_P.len() {
                 StageKind::Compressor
             } else {
                 StageKind::Pump {
@@ -79,7 +80,7 @@ pub fn config<T: Real>() -> Result<TrainConfig<T, PengRobinson<T, 1>, STAGES>, C
             },
             design_suction_pressure: PressureAbs::from_bar(T::of(p1)),
             design_discharge_pressure: PressureAbs::from_bar(T::of(p2)),
-            cooler: if i < 4 { water } else { None },
+            cooler: if i <= ETA_P.len() { water } else { None },
         }
     });
     Ok(TrainConfig {
@@ -114,17 +115,20 @@ pub fn scan<T: Real>(i: u32) -> Scan<T, STAGES> {
     let flow = 11.5 + 0.3 * swing;
     let mut p1 = 1.05e5 * (1.0 + 0.01 * swing);
     let mut t1 = 303.15;
-    let stages = core::array::from_fn(|s| {
-        let (d1, d2) = DESIGN_BAR.get(s).copied().unwrap_or((1.0, 2.0));
+    let mut s = 0;
+    let stages = DESIGN_BAR.map(|(d1, d2)| {
         let p2 = p1 * d2 / d1;
         let g = |x: f64| Measured::good(T::of(x));
-        let out = if s < 4 {
-            let eta = ETA_P.get(s).copied().unwrap_or(0.8);
+        // The compressor stages have an efficiency; the pump after them has
+        // none.
+        let out = if let Some(&eta) = ETA_P.get(s) {
             // Ideal-gas estimate (k 1.29) if the model is unavailable.
             let t2 = model
                 .as_ref()
                 .and_then(|m| path_discharge_temperature(m, p1, t1, p2, eta, 32))
-                .unwrap_or_else(|| t1 * libm::exp(0.2248 / eta * libm::log(p2 / p1)));
+                .unwrap_or_else(|| {
+                    t1 * <f64 as Real>::exp(0.2248 / eta * <f64 as Real>::ln(p2 / p1))
+                });
             let last = s == 3;
             let coolant_in = if last {
                 CHILLED_WATER_K
@@ -164,6 +168,7 @@ pub fn scan<T: Real>(i: u32) -> Scan<T, STAGES> {
             StageScan::from_si(T::of(p1), T::of(t1), T::of(p2), T::of(t1 + 3.0))
         };
         p1 = p2 * (1.0 - 0.015);
+        s += 1;
         out
     });
     Scan { stages }

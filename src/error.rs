@@ -169,8 +169,39 @@ impl fmt::Display for ConfigError {
 
 impl core::error::Error for ConfigError {}
 
+// The field-output error (`control::outputs`) gets its text here, beside the
+// other public error, so every public error prints and chains the same way.
+#[cfg(feature = "embedded-hal")]
+impl<V: fmt::Debug, A: fmt::Debug, R: fmt::Debug> fmt::Display
+    for crate::control::OutputError<V, A, R>
+{
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        use crate::control::OutputError;
+        match self {
+            OutputError::Valve(e) => write!(f, "recycle valve output failed: {e:?}"),
+            OutputError::Alarm(e) => write!(f, "surge alarm output failed: {e:?}"),
+            OutputError::Trip(e) => write!(f, "trip request output failed: {e:?}"),
+        }
+    }
+}
+
+#[cfg(feature = "embedded-hal")]
+impl<V: fmt::Debug, A: fmt::Debug, R: fmt::Debug> core::error::Error
+    for crate::control::OutputError<V, A, R>
+{
+}
+
 #[cfg(test)]
 mod tests {
+
+    #[cfg(feature = "embedded-hal")]
+    #[test]
+    fn output_error_prints_which_output_failed() {
+        use std::string::ToString;
+        let e: crate::control::OutputError<u8, u8, u8> = crate::control::OutputError::Trip(7);
+        assert_eq!(e.to_string(), "trip request output failed: 7");
+        let _: &dyn core::error::Error = &e;
+    }
     use super::*;
 
     #[test]

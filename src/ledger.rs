@@ -92,6 +92,7 @@
 
 use crate::control::recycle_power;
 use crate::error::{check_range, ConfigError, Problem};
+use crate::fields::{Derivation, FieldSpec, FieldValue, QuantityKind, ResultFields};
 use crate::gas::{GasModel, Validity, ValidityReason};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
@@ -283,6 +284,173 @@ impl<T: Real, const N: usize> Ledger<T, N> {
             s += m.value;
         }
         s + self.recycle.value + self.pumps.value + self.remainder.value
+    }
+}
+
+/// One compressor stage's ledger lines ([`Ledger::stage`]), W.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct LedgerStage<T> {
+    /// The stage's suction warmer than the reference (zero for the first).
+    pub intercooling: Measured<T>,
+    /// The stage's actual work above its isentropic head.
+    pub stage_inefficiency: Measured<T>,
+}
+
+impl<T: Real, const N: usize> Ledger<T, N> {
+    /// Compressor stage `i`'s lines; `None` for pumps and beyond.
+    pub fn stage(&self, i: usize) -> Option<LedgerStage<T>> {
+        if i >= usize::from(self.compressor_stages) {
+            return None;
+        }
+        Some(LedgerStage {
+            intercooling: *self.intercooling.get(i)?,
+            stage_inefficiency: *self.stage_inefficiency.get(i)?,
+        })
+    }
+}
+
+/// A power line of the field lists.
+const fn power_field(
+    name: &'static str,
+    key: &'static str,
+    label: &'static str,
+    derivation: Derivation,
+    meaning: &'static str,
+) -> FieldSpec {
+    FieldSpec {
+        name,
+        key,
+        label,
+        unit: "W",
+        kind: QuantityKind::Power,
+        derivation,
+        meaning,
+    }
+}
+
+/// The train-wide lines of [`Ledger`] in [`crate::fields`] form (the
+/// per-stage lines are [`LedgerStage`]'s), in the order of attribution.
+impl<T: Real, const N: usize> ResultFields<T> for Ledger<T, N> {
+    const FIELDS: &'static [FieldSpec] = &[
+        FieldSpec {
+            name: "forward_mass_flow",
+            key: "ledger_forward_mass_flow_kg_per_s",
+            label: "Forward mass flow",
+            unit: "kg/s",
+            kind: QuantityKind::MassFlow,
+            derivation: Derivation::Computed,
+            meaning: "Delivered mass flow every reference uses: the first stage's flow less the recycle flow if the loop includes it.",
+        },
+        power_field(
+            "isothermal_power",
+            "ledger_isothermal_power_W",
+            "Isothermal power (the duty)",
+            Derivation::Computed,
+            "Reversible isothermal power for the overall ratio at the first suction temperature (the Gibbs energy rise); the ledger's start.",
+        ),
+        power_field(
+            "stage_count",
+            "ledger_stage_count_W",
+            "Stage count",
+            Derivation::Difference,
+            "Equal-ratio isentropic stages with perfect intercooling against isothermal.",
+        ),
+        power_field(
+            "pressure_drops",
+            "ledger_pressure_drops_W",
+            "Interstage pressure drops",
+            Derivation::Difference,
+            "The extra ratio the stages make up for the measured interstage pressure drops.",
+        ),
+        power_field(
+            "pressure_split",
+            "ledger_pressure_split_W",
+            "Unequal pressure split",
+            Derivation::Difference,
+            "The measured stage ratios against equal ones.",
+        ),
+        power_field(
+            "coolant_temperature",
+            "ledger_coolant_temperature_W",
+            "Coolant temperature + design approach",
+            Derivation::Difference,
+            "Coolant inlet plus design approach above the first suction temperature (zero with the first-suction reference).",
+        ),
+        power_field(
+            "recycle",
+            "ledger_recycle_W",
+            "Recycle",
+            Derivation::Computed,
+            "Power spent on gas the recycle valve sends back (zero without a configured loop).",
+        ),
+        power_field(
+            "pumps",
+            "ledger_pumps_W",
+            "Pumps (outside the gas ledger)",
+            Derivation::PassThrough,
+            "Pump stages' shaft power.",
+        ),
+        power_field(
+            "remainder",
+            "ledger_remainder_W",
+            "Remainder (not attributed)",
+            Derivation::Difference,
+            "Measured power minus every line above: flow differences between stages, lines that could not be computed, rounding.",
+        ),
+        power_field(
+            "measured_total",
+            "ledger_measured_total_W",
+            "Measured total power",
+            Derivation::PassThrough,
+            "Compressor gas power plus pump power; the ledger's end.",
+        ),
+    ];
+
+    fn visit_fields(&self, visit: &mut dyn FnMut(&'static FieldSpec, FieldValue<T>)) {
+        let values = [
+            self.forward_mass_flow,
+            self.isothermal_power,
+            self.stage_count,
+            self.pressure_drops,
+            self.pressure_split,
+            self.coolant_temperature,
+            self.recycle,
+            self.pumps,
+            self.remainder,
+            self.measured_total,
+        ];
+        for (spec, m) in Self::FIELDS.iter().zip(values) {
+            visit(spec, FieldValue::Real(m));
+        }
+    }
+}
+
+impl<T: Real> ResultFields<T> for LedgerStage<T> {
+    const FIELDS: &'static [FieldSpec] = &[
+        power_field(
+            "intercooling",
+            "ledger_intercooling_W",
+            "Intercooling (suction above reference)",
+            Derivation::Difference,
+            "The stage's suction warmer than the reference: the intercooler before it, or its absence (zero for the first stage).",
+        ),
+        power_field(
+            "stage_inefficiency",
+            "ledger_stage_inefficiency_W",
+            "Stage inefficiency (actual vs isentropic)",
+            Derivation::Difference,
+            "The stage's actual work above its isentropic head, times the forward flow.",
+        ),
+    ];
+
+    fn visit_fields(&self, visit: &mut dyn FnMut(&'static FieldSpec, FieldValue<T>)) {
+        for (spec, m) in Self::FIELDS
+            .iter()
+            .zip([self.intercooling, self.stage_inefficiency])
+        {
+            visit(spec, FieldValue::Real(m));
+        }
     }
 }
 

@@ -62,24 +62,27 @@
 //! Module map: [`real`] (the f32/f64 seam), [`units`], [`quality`],
 //! [`error`], [`gas`] (gas models), [`compression`] (ideal heads),
 //! [`stage`] (compressor and pump), [`steady`], [`cooler`], [`staging`]
-//! (whole-train ideals), [`scan`] (inputs and the sensor boundary),
+//! (whole-train ideals), [`scan`] (inputs), [`boundary`] (the sensor boundary),
 //! [`train`] (configuration and update), [`tolerance`] (the f32-vs-f64
-//! accuracy table), [`demo`] (an invented scenario), [`signal`] (channels,
+//! accuracy table), `demo` (an invented scenario, with the `demo` feature), [`signal`] (channels,
 //! NAMUR NE 43, plausibility, filters, substitution, cross-checks, events),
 //! [`flow`] (ISO 5167-2 orifices, flow elements, low-flow cut-off),
 //! [`surge`] (reduced coordinates, surge line, margin, detection),
 //! [`control`] (recycle-valve controller, embedded-hal outputs, recycle
 //! power).
 #![no_std]
-#![cfg_attr(docsrs, feature(doc_auto_cfg))]
+#![cfg_attr(docsrs, feature(doc_cfg))]
 #[cfg(test)]
 extern crate std;
 
+pub mod boundary;
 pub mod compression;
 pub mod control;
 pub mod cooler;
+#[cfg(feature = "demo")]
 pub mod demo;
 pub mod error;
+pub mod fields;
 pub mod flow;
 pub mod gas;
 pub mod ledger;
@@ -100,3 +103,8 @@ mod window;
 pub use error::{ConfigError, Problem};
 pub use quality::{Measured, Quality};
 pub use real::Real;
+
+// The README's example, compiled as a doctest.
+#[cfg(all(doctest, feature = "demo"))]
+#[doc = include_str!("../README.md")]
+struct ReadmeDoctests;

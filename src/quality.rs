@@ -1,4 +1,6 @@
-//! Signal and result quality: every value the kernel reports carries one.
+//! Signal and result quality: every value the kernel reports carries one,
+//! and the fault vocabulary that says why a value is not good
+//! ([`FaultCode`], used by the signal front end and the flow elements).
 //!
 //! Three levels, ordered from best to worst, as in common process-control
 //! practice (good / uncertain / bad). A derived value takes the worst quality
@@ -43,6 +45,67 @@ impl Quality {
     #[inline]
     pub fn is_usable(self) -> bool {
         self != Quality::Bad
+    }
+}
+
+/// Why a channel (or a derived value) is not good. `None` when good.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[repr(u8)]
+pub enum FaultCode {
+    /// No fault.
+    #[default]
+    None = 0,
+    /// NE 43 failure signal, low (at or below 3.6 mA): open loop, failed
+    /// transmitter.
+    Ne43FailureLow = 1,
+    /// NE 43 failure signal, high (at or above 21.0 mA).
+    Ne43FailureHigh = 2,
+    /// Between the NE 43 measuring range and the failure threshold, low
+    /// side (above 3.6 and below 3.8 mA): saturated, uncertain.
+    Ne43SaturatedLow = 3,
+    /// Between the NE 43 measuring range and the failure threshold, high
+    /// side (above 20.5 and below 21.0 mA): saturated, uncertain.
+    Ne43SaturatedHigh = 4,
+    /// A voltage or count signal beyond its span by more than the allowance.
+    SignalOutOfRange = 5,
+    /// The sample is NaN or infinite.
+    NotFinite = 6,
+    /// The sample time did not advance since the previous sample.
+    TimeNotAdvancing = 7,
+    /// The value is outside the channel's plausibility limits.
+    OutOfRange = 8,
+    /// The rate of change exceeds the channel's limit (spike).
+    Spike = 9,
+    /// No variation beyond the noise floor over the whole frozen window.
+    Frozen = 10,
+    /// An analytical-redundancy cross-check failed.
+    CrossCheck = 11,
+    /// A differential-pressure zero offset persists at no-flow conditions.
+    ZeroOffset = 12,
+    // 13 is retired (a validity-limit code no calculation produced; the
+    // orifice reports `within_limits` instead). Codes are never reused.
+    /// A derived value whose input was bad.
+    InputBad = 14,
+}
+
+impl FaultCode {
+    /// The quality a sample with this fault gets (before substitution).
+    pub fn quality(self) -> Quality {
+        use FaultCode::*;
+        match self {
+            None => Quality::Good,
+            Ne43SaturatedLow | Ne43SaturatedHigh | Frozen | CrossCheck | ZeroOffset => {
+                Quality::Uncertain
+            }
+            Ne43FailureLow | Ne43FailureHigh | SignalOutOfRange | NotFinite | TimeNotAdvancing
+            | OutOfRange | Spike | InputBad => Quality::Bad,
+        }
+    }
+
+    /// The numeric code (stable; for registers and logs).
+    pub fn code(self) -> u8 {
+        self as u8
     }
 }
 

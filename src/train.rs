@@ -301,6 +301,15 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         &self.config
     }
 
+    /// The gas model, mutable: replace a Peng–Robinson composition between
+    /// scans (a gas-chromatograph update) with
+    /// [`crate::gas::PengRobinson::set_composition`], which validates it and
+    /// recomputes the mixture constants without allocating. Only the gas
+    /// changes; the stage configuration stays validated.
+    pub fn gas_mut(&mut self) -> &mut G {
+        &mut self.config.gas
+    }
+
     /// The last snapshot (all bad before the first scan).
     pub fn snapshot(&self) -> &Snapshot<T, N> {
         &self.snapshot

@@ -166,14 +166,15 @@ fn settings_are_validated() {
 }
 
 #[test]
-fn recycle_power_and_valve_flow_by_hand() {
+fn recycle_power_and_valve_flow_consistency_by_hand() {
     use polytrope::control::{recycle_power, valve_mass_flow};
     // 2 kg/s recirculated at 100 kJ/kg actual work: 200 kW lost.
     let p = recycle_power(Measured::good(2.0_f64), Measured::good(100e3));
     assert_eq!((p.value, p.quality), (200e3, Quality::Good));
     let p = recycle_power(Measured::good(2.0_f64), Measured::new(1.0, Quality::Bad));
     assert_eq!(p.quality, Quality::Bad);
-    // Hand calculation (IEC 60534-2-1 gas form, SI): x = 0.6, Fγ xT = 0.7,
+    // Consistency check, not an independent reference: the module's own
+    // formula (the IEC 60534-2-1 gas form, SI) evaluated by hand: x = 0.6, Fγ xT = 0.7,
     // Y = 1 - 0.6/2.1 = 0.714 286, m = 0.01*0.5*Y*sqrt(2*5.8*0.6*5e5)
     // = 0.003 571 43 * 1865.476 = 6.662 4 kg/s.
     let m = valve_mass_flow(0.01_f64, 0.7, 0.5, 5e5, 2e5, 5.8, 1.4);

@@ -18,6 +18,7 @@
 mod snapshot_fields;
 
 use polytrope::cooler::{CoolerCondition, CoolerConfig};
+use polytrope::fields::StageInput;
 use polytrope::gas::{HeatCapacity, IdealGas, AIR};
 use polytrope::scan::{CoolerScan, Scan, StageScan};
 use polytrope::stage::StageCondition;
@@ -91,76 +92,20 @@ fn edge_values<T: Real>() -> Vec<(&'static str, T)> {
     ]
 }
 
-/// Every scalar input slot of the two-stage air scan, by name.
-fn set_slot<T: Real>(s: &mut Scan<T, 2>, slot: usize, v: T) -> &'static str {
-    let p = |v: T| Measured::good(PressureAbs::from_pa(v));
-    let k = |v: T| Measured::good(Kelvin::new(v));
-    let c = s.stages[0].cooler.as_mut().unwrap();
-    match slot {
-        0 => {
-            s.stages[0].suction_pressure = p(v);
-            "stage0.suction_pressure"
-        }
-        1 => {
-            s.stages[0].suction_temperature = k(v);
-            "stage0.suction_temperature"
-        }
-        2 => {
-            s.stages[0].discharge_pressure = p(v);
-            "stage0.discharge_pressure"
-        }
-        3 => {
-            s.stages[0].discharge_temperature = k(v);
-            "stage0.discharge_temperature"
-        }
-        4 => {
-            s.stages[0].mass_flow = Some(Measured::good(v));
-            "stage0.mass_flow"
-        }
-        5 => {
-            s.stages[0].compressibility = Some(Measured::good(v));
-            "stage0.compressibility"
-        }
-        6 => {
-            c.gas_outlet_temperature = k(v);
-            "cooler0.gas_outlet_temperature"
-        }
-        7 => {
-            c.coolant_inlet_temperature = k(v);
-            "cooler0.coolant_inlet_temperature"
-        }
-        8 => {
-            c.coolant_outlet_temperature = Some(k(v));
-            "cooler0.coolant_outlet_temperature"
-        }
-        9 => {
-            c.coolant_mass_flow = Some(Measured::good(v));
-            "cooler0.coolant_mass_flow"
-        }
-        10 => {
-            c.gas_outlet_pressure = Some(p(v));
-            "cooler0.gas_outlet_pressure"
-        }
-        11 => {
-            s.stages[1].suction_pressure = p(v);
-            "stage1.suction_pressure"
-        }
-        12 => {
-            s.stages[1].suction_temperature = k(v);
-            "stage1.suction_temperature"
-        }
-        13 => {
-            s.stages[1].discharge_pressure = p(v);
-            "stage1.discharge_pressure"
-        }
-        14 => {
-            s.stages[1].discharge_temperature = k(v);
-            "stage1.discharge_temperature"
-        }
-        _ => unreachable!(),
-    }
+/// Every scalar input slot of the two-stage air scan, by name: each input
+/// of stage 0 (its cooler's included) and the required inputs of stage 1,
+/// from the kernel's input list.
+fn set_slot<T: Real>(s: &mut Scan<T, 2>, slot: usize, v: T) -> String {
+    let n = StageInput::ALL.len();
+    let (stage, which) = if slot < n {
+        (0, StageInput::ALL[slot])
+    } else {
+        (1, StageInput::ALL[slot - n])
+    };
+    s.stages[stage].set_input(which, Some(Measured::good(v)));
+    format!("stage{stage}.{}", which.spec().name)
 }
-const SLOTS: usize = 15;
+const SLOTS: usize = StageInput::ALL.len() + 4;
 
 /// No result computed from a bad pressure ratio may be good.
 fn ratio_consistency<T: Real, const N: usize>(s: &Snapshot<T, N>, context: &str) {
@@ -228,14 +173,7 @@ fn demo_train_survives_edge_values() {
             for slot in 0..5 {
                 let mut train = polytrope::demo::train::<f32>().unwrap();
                 let mut scan = polytrope::demo::scan::<f32>(0);
-                let s = &mut scan.stages[stage];
-                match slot {
-                    0 => s.suction_pressure = Measured::good(PressureAbs::from_pa(v)),
-                    1 => s.suction_temperature = Measured::good(Kelvin::new(v)),
-                    2 => s.discharge_pressure = Measured::good(PressureAbs::from_pa(v)),
-                    3 => s.discharge_temperature = Measured::good(Kelvin::new(v)),
-                    _ => s.mass_flow = Some(Measured::good(v)),
-                }
+                scan.stages[stage].set_input(StageInput::ALL[slot], Some(Measured::good(v)));
                 for _ in 0..3 {
                     let snap = train.update(&scan);
                     let ctx = format!("demo stage{stage} slot {slot} = {what}");
@@ -623,26 +561,14 @@ fn wild_scan(bits: &[u32], q: &[u8]) -> Scan<f32, { polytrope::demo::STAGES }> {
                 let (v, qq) = next();
                 Measured::new(v, qq)
             };
-            let p = |m: Measured<f32>| m.map(PressureAbs::from_pa);
-            let k = |m: Measured<f32>| m.map(Kelvin::new);
-            let (a, b, c, d, e, f) = (m(), m(), m(), m(), m(), m());
-            let (g, h, j, l, n, o) = (m(), m(), m(), m(), m(), m());
-            let present = o.value.to_bits();
-            StageScan {
-                suction_pressure: p(a),
-                suction_temperature: k(b),
-                discharge_pressure: p(c),
-                discharge_temperature: k(d),
-                mass_flow: (present & 1 != 0).then_some(e),
-                compressibility: (present & 2 != 0).then_some(f),
-                cooler: (present & 4 != 0).then_some(CoolerScan {
-                    gas_outlet_temperature: k(g),
-                    gas_outlet_pressure: (present & 8 != 0).then_some(p(h)),
-                    coolant_inlet_temperature: k(j),
-                    coolant_outlet_temperature: (present & 16 != 0).then_some(k(l)),
-                    coolant_mass_flow: (present & 32 != 0).then_some(n),
-                }),
-            }
+            let values: Vec<Measured<f32>> = (0..StageInput::ALL.len()).map(|_| m()).collect();
+            let present = m().value.to_bits();
+            // The four required inputs always; each optional one (the
+            // cooler's gas outlet temperature: the cooler scan) by a bit.
+            StageScan::from_inputs(|w| {
+                let i = w.index();
+                (i < 4 || present & (1 << (i - 4)) != 0).then(|| values[i])
+            })
         }),
     }
 }
@@ -697,12 +623,9 @@ proptest! {
         for (stage, slot, b) in &slots {
             let v = f32::from_bits(*b);
             let s = &mut scan.stages[*stage];
-            match slot {
-                0 => s.suction_pressure.value = PressureAbs::from_pa(v),
-                1 => s.suction_temperature.value = Kelvin::new(v),
-                2 => s.discharge_pressure.value = PressureAbs::from_pa(v),
-                _ => s.discharge_temperature.value = Kelvin::new(v),
-            }
+            let w = StageInput::ALL[*slot];
+            let q = s.input(w).map_or(Quality::Good, |m| m.quality);
+            s.set_input(w, Some(Measured::new(v, q)));
         }
         for _ in 0..2 {
             let snap = train.update(&scan);

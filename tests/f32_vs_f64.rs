@@ -473,6 +473,7 @@ fn widen<const M: usize>(s: &Scan<f32, M>) -> Scan<f64, M> {
 }
 
 #[test]
+#[cfg(feature = "demo")]
 fn demo_train_agrees_over_a_full_load_swing() {
     // The invented demo train (polytrope::demo) over one full period of its
     // load swing, the f64 build fed the f32 scan widened.

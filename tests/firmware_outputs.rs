@@ -12,9 +12,10 @@
 //! Without the variable the test checks the host's own f32 build the same
 //! way (so it still fails if the table or the codec is wrong).
 //!
-//! The table is generated, not hand-written:
-//! `cargo test --test firmware_outputs -- --ignored regenerate_scan_table`
-//! (demo scans from `polytrope::demo::scan`, then edge cases, listed below).
+//! The table is generated, not hand-written, and a test checks it is what
+//! the generator writes (demo scans from `polytrope::demo::scan`, then edge
+//! cases, listed below); to rewrite it:
+//! `POLYTROPE_WRITE_SCAN_TABLE=1 cargo test --features demo --test firmware_outputs scan_table`.
 
 #![allow(
     clippy::unwrap_used,
@@ -30,55 +31,66 @@ mod codec;
 #[allow(dead_code)]
 mod table;
 
-use codec::{decode_scan, quality_code, visit, Out, RawStage, ABSENT, FIELDS};
+#[path = "reference/snapshot_fields.rs"]
+mod snapshot_fields;
+
+use codec::{decode_scan, encode_stage, quality_code, RawStage};
 use polytrope::compression::isentropic_discharge_temperature;
 use polytrope::demo;
+use polytrope::fields::FieldValue;
 use polytrope::gas::CARBON_DIOXIDE;
 use polytrope::quality::{Measured, Quality};
-use polytrope::scan::{Scan, StageScan};
+use polytrope::scan::Scan;
 use polytrope::units::{Kelvin, PressureAbs};
+use snapshot_fields::Kind;
 
-/// One output line: (scan, index, name, value bits or code, quality).
+/// One output line: (scan, index, `group.key`, value or exact text,
+/// quality), as the harness prints it.
 #[derive(Debug, PartialEq)]
 enum Line {
     V(usize, usize, String, f64, u8),
-    C(usize, usize, String, u32),
+    C(usize, usize, String, String),
 }
 
-/// The reference (or host) run of the table, as lines.
-fn run<T: codec::FromF32>() -> Vec<Line> {
+/// The reference (or host) run of the table: every line, with the
+/// agreement rule of each value line (from the kernel's field list via
+/// `snapshot_fields`, the same rules as tests/f32_vs_f64.rs).
+fn run<T: codec::FromF32>() -> Vec<(Line, Option<Kind>)> {
     let mut train = demo::train::<T>().unwrap();
     let mut lines = Vec::new();
     for (i, raw) in table::SCANS.iter().enumerate() {
         let scan = decode_scan::<T, { demo::STAGES }>(raw);
-        visit(train.update(&scan), |idx, o| {
-            lines.push(match o {
-                Out::Value(n, m, _) => Line::V(
-                    i,
-                    idx,
-                    n.to_string(),
-                    m.value.to_f64(),
-                    quality_code(m.quality),
+        let snap = train.update(&scan);
+        let mut rules = snapshot_fields::fields(snap).into_iter().map(|f| f.kind);
+        snap.visit_groups(&mut |g, spec, v| {
+            let name = format!("{}.{}", g.as_str(), spec.key);
+            let c = |text: String| (Line::C(i, g.index(), name.clone(), text), None);
+            lines.push(match v {
+                FieldValue::Real(m) => (
+                    Line::V(
+                        i,
+                        g.index(),
+                        name.clone(),
+                        m.value.to_f64(),
+                        quality_code(m.quality),
+                    ),
+                    rules.next(),
                 ),
-                Out::Code(n, c) => Line::C(i, idx, n.to_string(), c),
+                FieldValue::Plain(x) => (
+                    Line::V(i, g.index(), name.clone(), x.to_f64(), 0),
+                    rules.next(),
+                ),
+                FieldValue::Flag(b) => c(u32::from(b).to_string()),
+                FieldValue::Count(n) => c(n.to_string()),
+                FieldValue::Tag(t) => c(t.to_string()),
             })
         });
     }
     lines
 }
 
-/// Tolerance of each named value (from the same list the firmware prints).
-fn tolerances() -> std::collections::HashMap<&'static str, polytrope::tolerance::Tolerance> {
-    let mut train = demo::train::<f64>().unwrap();
-    let mut map = std::collections::HashMap::new();
-    for raw in table::SCANS.iter() {
-        visit(train.update(&decode_scan(raw)), |_, o| {
-            if let Out::Value(n, _, t) = o {
-                map.insert(n, t);
-            }
-        });
-    }
-    map
+fn lines_of<T: codec::FromF32>() -> Vec<Line> {
+    run::<T>().into_iter().map(|(l, _)| l).collect()
 }
 
 fn parse_log(text: &str) -> Vec<Line> {
@@ -101,7 +113,7 @@ fn parse_log(text: &str) -> Vec<Line> {
                     f[1].parse().unwrap(),
                     f[2].parse().unwrap(),
                     f[3].to_string(),
-                    f[4].parse().unwrap(),
+                    f[4].to_string(),
                 )),
                 _ => None,
             }
@@ -110,8 +122,7 @@ fn parse_log(text: &str) -> Vec<Line> {
 }
 
 /// Compares device lines with reference lines; returns the failures.
-fn compare(device: &[Line], reference: &[Line]) -> Vec<String> {
-    let tol = tolerances();
+fn compare(device: &[Line], reference: &[(Line, Option<Kind>)]) -> Vec<String> {
     let mut failures = Vec::new();
     if device.len() != reference.len() {
         failures.push(format!(
@@ -120,20 +131,19 @@ fn compare(device: &[Line], reference: &[Line]) -> Vec<String> {
             reference.len()
         ));
     }
-    for (d, r) in device.iter().zip(reference) {
-        match (d, r) {
-            (Line::V(s, i, n, dv, dq), Line::V(rs, ri, rn, rv, rq))
+    for (d, (r, rule)) in device.iter().zip(reference) {
+        match (d, r, rule) {
+            (Line::V(s, i, n, dv, dq), Line::V(rs, ri, rn, rv, rq), Some(rule))
                 if (s, i, n) == (rs, ri, rn) =>
             {
-                let t = tol[n.as_str()];
-                if dq != rq || !dv.is_finite() || !t.accepts(*dv, *rv) {
+                if dq != rq || !dv.is_finite() || !rule.accepts(*dv, *rv) {
                     failures.push(format!(
-                        "scan {s} [{i}] {n}: device {dv} (q{dq}), reference {rv} (q{rq}), tolerance {}",
-                        t.quantity
+                        "scan {s} [{i}] {n}: device {dv} (q{dq}), reference {rv} (q{rq}), rule {}",
+                        rule.label()
                     ));
                 }
             }
-            (Line::C(..), Line::C(..)) if d == r => {}
+            (Line::C(..), Line::C(..), None) if d == r => {}
             _ => failures.push(format!("device {d:?} vs reference {r:?}")),
         }
     }
@@ -144,6 +154,13 @@ fn compare(device: &[Line], reference: &[Line]) -> Vec<String> {
 fn firmware_outputs_match_the_f64_reference() {
     let reference = run::<f64>();
     assert!(reference.len() > 1000, "the table exercises the train");
+    // The README quotes how many outputs each firmware run prints.
+    let n = reference.len();
+    let quoted = format!("({},{:03} values each)", n / 1000, n % 1000);
+    assert!(
+        include_str!("../README.md").contains(&quoted),
+        "README.md should say {quoted}"
+    );
     let paths = std::env::var("POLYTROPE_FIRMWARE_OUTPUTS").unwrap_or_default();
     let mut checked = 0;
     for path in paths.split(':').filter(|p| !p.is_empty()) {
@@ -156,18 +173,26 @@ fn firmware_outputs_match_the_f64_reference() {
             failures.len(),
             &failures[..failures.len().min(10)]
         );
-        // Informative: how many outputs differ from the host f32 build at all.
-        let host = run::<f32>();
-        let differing = device.iter().zip(&host).filter(|(a, b)| a != b).count();
+        // The device's f32 build and the host's f32 build run the same
+        // software maths (libm or micromath, no FMA contraction), so every
+        // output must be bit-identical.
+        let host = lines_of::<f32>();
+        let differing: Vec<_> = device.iter().zip(&host).filter(|(a, b)| a != b).collect();
+        assert!(
+            differing.is_empty() && device.len() == host.len(),
+            "{path}: {} outputs not bit-identical to the host f32 build, first: {:?}",
+            differing.len(),
+            differing.first()
+        );
         eprintln!(
-            "{path}: {} outputs within tolerance; {differing} not bit-identical to the host f32 build",
+            "{path}: {} outputs within tolerance of the f64 reference and bit-identical to the host f32 build",
             device.len()
         );
         checked += 1;
     }
     if checked == 0 {
         // No firmware logs: hold the host f32 build to the same standard.
-        let failures = compare(&run::<f32>(), &reference);
+        let failures = compare(&lines_of::<f32>(), &reference);
         assert!(failures.is_empty(), "{failures:#?}");
     }
 }
@@ -175,11 +200,11 @@ fn firmware_outputs_match_the_f64_reference() {
 #[test]
 fn comparison_catches_a_wrong_value_and_a_wrong_quality() {
     let reference = run::<f64>();
-    let mut device = run::<f32>();
+    let mut device = lines_of::<f32>();
     let at = device
         .iter()
         .position(
-            |l| matches!(l, Line::V(_, _, n, v, 0) if n == "isentropic_efficiency" && *v > 0.5),
+            |l| matches!(l, Line::V(_, _, n, v, 0) if n == "stage.isentropic_efficiency" && *v > 0.5),
         )
         .unwrap();
     if let Line::V(_, _, _, v, _) = &mut device[at] {
@@ -197,17 +222,39 @@ fn comparison_catches_a_wrong_value_and_a_wrong_quality() {
 
 #[test]
 fn table_covers_the_edge_cases() {
-    let lines = run::<f64>();
-    let code = |name: &str, c: u32| {
+    use polytrope::cooler::CoolerCondition as CC;
+    use polytrope::stage::StageCondition as SC;
+    let lines = lines_of::<f64>();
+    let code = |name: &str, c: &str| {
         lines
             .iter()
-            .any(|l| matches!(l, Line::C(_, _, n, x) if n == name && *x == c))
+            .any(|l| matches!(l, Line::C(_, _, n, x) if n == name && x == c))
     };
-    for c in 0..=4 {
-        assert!(code("stage_condition", c), "stage condition {c}");
-        assert!(code("cooler_condition", c), "cooler condition {c}");
+    for c in [
+        SC::Normal,
+        SC::InputBad,
+        SC::NoCompression,
+        SC::NoTemperatureRise,
+        SC::EfficiencyAboveOne,
+    ] {
+        assert!(code("stage.condition", c.as_str()), "stage condition {c:?}");
     }
-    assert!(code("steady", 1), "the demo scans reach steady state");
+    for c in [
+        CC::Normal,
+        CC::InputBad,
+        CC::OutletAboveInlet,
+        CC::OutletBelowCoolant,
+        CC::NoDrivingDifference,
+    ] {
+        assert!(
+            code("cooler.condition", c.as_str()),
+            "cooler condition {c:?}"
+        );
+    }
+    assert!(
+        code("stage.steady_state", "1"),
+        "the demo scans reach steady state"
+    );
     for q in 0..=2 {
         assert!(
             lines
@@ -219,67 +266,6 @@ fn table_covers_the_edge_cases() {
 }
 
 // ---- generator ---------------------------------------------------------
-
-fn bits(x: f64) -> u32 {
-    (x as f32).to_bits()
-}
-
-fn qc<V>(m: &Measured<V>) -> u8 {
-    quality_code(m.quality)
-}
-
-fn encode(s: &StageScan<f64>) -> RawStage {
-    let mut b = [0_u32; FIELDS];
-    let mut q = [ABSENT; FIELDS];
-    let mut put = |i: usize, v: f64, c: u8| {
-        b[i] = bits(v);
-        q[i] = c;
-    };
-    put(0, s.suction_pressure.value.pa(), qc(&s.suction_pressure));
-    put(
-        1,
-        s.suction_temperature.value.kelvin(),
-        qc(&s.suction_temperature),
-    );
-    put(
-        2,
-        s.discharge_pressure.value.pa(),
-        qc(&s.discharge_pressure),
-    );
-    put(
-        3,
-        s.discharge_temperature.value.kelvin(),
-        qc(&s.discharge_temperature),
-    );
-    if let Some(m) = s.mass_flow {
-        put(4, m.value, qc(&m));
-    }
-    if let Some(m) = s.compressibility {
-        put(5, m.value, qc(&m));
-    }
-    if let Some(c) = s.cooler {
-        put(
-            6,
-            c.gas_outlet_temperature.value.kelvin(),
-            qc(&c.gas_outlet_temperature),
-        );
-        if let Some(p) = c.gas_outlet_pressure {
-            put(7, p.value.pa(), qc(&p));
-        }
-        put(
-            8,
-            c.coolant_inlet_temperature.value.kelvin(),
-            qc(&c.coolant_inlet_temperature),
-        );
-        if let Some(t) = c.coolant_outlet_temperature {
-            put(9, t.value.kelvin(), qc(&t));
-        }
-        if let Some(m) = c.coolant_mass_flow {
-            put(10, m.value, qc(&m));
-        }
-    }
-    RawStage { bits: b, q }
-}
 
 fn kelvin(v: f64) -> Measured<Kelvin<f64>> {
     Measured::good(Kelvin::new(v))
@@ -389,9 +375,14 @@ fn demo_scan(i: u32) -> Scan<f64, 5> {
     demo::scan::<f64>(i * 7)
 }
 
+/// Compares the committed table with the generator's output; writes it
+/// only when `POLYTROPE_WRITE_SCAN_TABLE` is set.
 #[test]
-#[ignore = "writes ci/firmware/src/table.rs"]
-fn regenerate_scan_table() {
+fn scan_table_is_what_the_generator_writes() {
+    // MINIMAL_SCAN is a generated copy of the first scan (a copy, so the
+    // minimal firmware does not link the whole table and its size figure
+    // stays the kernel's).
+    assert_eq!(table::MINIMAL_SCAN, table::SCANS[0]);
     let mut scans: Vec<(String, Scan<f64, 5>)> = (0..16)
         .map(|i| (format!("demo scan {}", i * 7), demo_scan(i)))
         .collect();
@@ -414,8 +405,8 @@ fn regenerate_scan_table() {
         )
     };
     let mut out = String::from(
-        "//! The committed scan table (GENERATED: `cargo test --test firmware_outputs\n\
-         //! -- --ignored regenerate_scan_table`; do not edit). Demo scans of the\n\
+        "//! The committed scan table (GENERATED: `POLYTROPE_WRITE_SCAN_TABLE=1 cargo test\n\
+         //! --features demo --test firmware_outputs scan_table`; do not edit; the test checks it). Demo scans of the\n\
          //! invented scenario in `polytrope::demo`, then edge cases, then demo scans\n\
          //! again; f32 bit patterns and quality codes (see `codec`).\n\n\
          use crate::codec::RawStage;\n\n",
@@ -427,7 +418,7 @@ fn regenerate_scan_table() {
     for (name, s) in &scans {
         out += &format!("    // {name}\n    [\n");
         for st in &s.stages {
-            out += &stage(&encode(st));
+            out += &stage(&encode_stage(st));
         }
         out += "    ],\n";
     }
@@ -435,14 +426,31 @@ fn regenerate_scan_table() {
         "];\n\n/// The one scan of the minimal (size and panic-freedom) firmware: demo scan 0.\n";
     out += "pub static MINIMAL_SCAN: [RawStage; 5] = [\n";
     for st in &demo_scan(0).stages {
-        out += &stage(&encode(st));
+        out += &stage(&encode_stage(st));
     }
     out += "];\n";
     let path = concat!(env!("CARGO_MANIFEST_DIR"), "/ci/firmware/src/table.rs");
-    std::fs::write(path, out).unwrap();
-    let fmt = std::process::Command::new("rustfmt")
-        .args(["--edition", "2021", path])
-        .status()
-        .unwrap();
-    assert!(fmt.success(), "rustfmt {path}");
+    let mut fmt = std::process::Command::new("rustfmt")
+        .args(["--edition", "2021", "--emit", "stdout"])
+        .stdin(std::process::Stdio::piped())
+        .stdout(std::process::Stdio::piped())
+        .spawn()
+        .expect("rustfmt on PATH");
+    {
+        use std::io::Write as _;
+        fmt.stdin.take().unwrap().write_all(out.as_bytes()).unwrap();
+    }
+    let formatted = fmt.wait_with_output().unwrap();
+    assert!(formatted.status.success(), "rustfmt failed");
+    let generated = String::from_utf8(formatted.stdout).unwrap();
+    if std::env::var_os("POLYTROPE_WRITE_SCAN_TABLE").is_some() {
+        std::fs::write(path, &generated).unwrap();
+    } else {
+        let committed = std::fs::read_to_string(path).unwrap();
+        assert!(
+            committed == generated,
+            "{path} differs from what the generator writes; if the change is intended, \
+             regenerate with POLYTROPE_WRITE_SCAN_TABLE=1 cargo test --features demo --test firmware_outputs scan_table"
+        );
+    }
 }

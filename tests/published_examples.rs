@@ -1,15 +1,21 @@
 //! Published worked examples, each named beside its check.
 //!
 //! 1. Çengel & Boles, *Thermodynamics: An Engineering Approach*, chapter 7,
-//!    the compressor-work worked example (its number differs between
-//!    editions): air compressed steadily from 100 kPa, 300 K to 900 kPa,
-//!    k = 1.4, R = 0.287 kJ/(kg K). Published: isentropic 263.2 kJ/kg
-//!    (T2 = 562.0 K); polytropic n = 1.3 246.4 kJ/kg (T2 = 498.1 K);
-//!    isothermal 189.2 kJ/kg; two-stage with intercooling, n = 1.3,
-//!    215.3 kJ/kg at the 300 kPa interstage pressure. The same case in 3 and
-//!    4 stages, 206.1 and 201.7 kJ/kg, is computed (not published).
-//!    The book prints one decimal in kJ/kg, so a check passes within half
-//!    of that last digit (0.05 kJ/kg, 0.05 K).
+//!    the worked examples on compressor work (7th edition, Examples 7–13
+//!    and 7–14; edition and example numbers from memory, they differ
+//!    between editions): air compressed steadily from 100 kPa, 300 K to
+//!    900 kPa, k = 1.4, R = 0.287 kJ/(kg K). Published: isentropic
+//!    263.2 kJ/kg (T2 = 562.0 K); polytropic n = 1.3 246.4 kJ/kg
+//!    (T2 = 498.1 K); isothermal 189.2 kJ/kg; two-stage with intercooling,
+//!    n = 1.3, 215.3 kJ/kg at the 300 kPa interstage pressure.
+//!    The book prints one decimal, so a check passes within half of that
+//!    last digit (0.05 kJ/kg, 0.05 K): the one tolerance of this check, and
+//!    the stage evaluation is fed the book's printed temperature, not the
+//!    kernel's own. This is the project's one textbook air check (the host
+//!    tool's `stage` test runs the same case through the command line).
+//!    The same case in 3 and 4 stages, 206.1 and 201.7 kJ/kg, is a
+//!    consistency check: the kernel's own staged formula, not a published
+//!    figure.
 //! 2. The doctest examples of the Python package `fluids` 1.3.1,
 //!    module `fluids.compressible` (values as printed in its docstrings).
 
@@ -93,7 +99,8 @@ fn cengel_boles_multistage_with_intercooling() {
         215.3,
         "2 stages",
     );
-    // Same case, 3 and 4 stages (computed from the book's relations).
+    // Consistency check (not published): the same case in 3 and 4 stages,
+    // the values the book's relations give (the kernel's own formula).
     close(
         staged_polytropic_work(1.0, R_AIR, T1, r, 1.3, 3) / 1e3,
         206.1,
@@ -110,7 +117,8 @@ fn cengel_boles_multistage_with_intercooling() {
 fn cengel_boles_stage_evaluation_from_measured_end_states() {
     // The gas constant the kernel derives from M is the book's 287 J/(kg K).
     assert!((polytrope::gas::GasModel::gas_constant(&cengel_air()) - R_AIR).abs() < 1e-9);
-    let t2 = isentropic_discharge_temperature(T1, P2 / P1, 1.3);
+    // The book's printed discharge temperature of the n = 1.3 path.
+    let t2 = 498.1;
     let mut train = Train::<f64, _, 1, 4>::new(TrainConfig {
         gas: cengel_air(),
         stages: [stage(P1, P2)],
@@ -124,7 +132,13 @@ fn cengel_boles_stage_evaluation_from_measured_end_states() {
     let c = snap.stages[0].compressor().unwrap();
     // Çengel & Boles: n = 1.3 path, 246.4 kJ/kg; isentropic 263.2 (T2s
     // 562.0 K); isothermal 189.2.
-    assert!((c.polytropic_exponent.value - 1.3).abs() < 1e-9);
+    // n from the printed end states: 1.3 to within what the 0.05 K rounding
+    // of T2 allows (dn/dT2 is about 1.6e-3 per K here).
+    assert!(
+        (c.polytropic_exponent.value - 1.3).abs() < 1e-4,
+        "{}",
+        c.polytropic_exponent.value
+    );
     close(
         c.polytropic_head.value / 1e3,
         246.4,
@@ -222,6 +236,7 @@ fn cengel_boles_through_train_update() {
             .sum::<f64>()
     };
     close(sum_poly(&snap.stages) / 1e3, 215.3, "2 stages via update");
+    // Consistency checks (the kernel's own staged formula, not published).
     let s3 = cengel_train_snapshot::<3>();
     close(sum_poly(&s3.stages) / 1e3, 206.1, "3 stages via update");
     let s4 = cengel_train_snapshot::<4>();

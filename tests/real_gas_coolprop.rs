@@ -356,7 +356,17 @@ fn f32_tracks_f64_for_a_stage() {
         "f32 vs f64 PR stage: rel h2-h1 {:.2e}, rel h2s-h1 {:.2e}, eta_p abs {:.2e}, T2s {:.2e} K",
         worst[0], worst[1], worst[2], worst[3]
     );
-    assert!(worst[0] < 2e-4 && worst[1] < 2e-4 && worst[2] < 2e-4 && worst[3] < 0.02);
+    // Measured (libm): 1.1e-7, 1.1e-6, 7.0e-7, 4.9e-5 K; with `approx-math`
+    // (micromath ln/exp, about 1e-3 relative): 1.3e-4, 6.1e-4, 4.6e-4,
+    // 0.026 K.
+    let bounds = if cfg!(feature = "approx-math") {
+        [5e-4, 2e-3, 2e-3, 0.1]
+    } else {
+        [2e-6, 1e-5, 1e-5, 1e-3]
+    };
+    for (w, b) in worst.iter().zip(bounds) {
+        assert!(*w < b, "{worst:?}");
+    }
 }
 
 #[test]
@@ -525,4 +535,70 @@ fn close_state_enthalpy_drop() {
     // Measured: 6.0e-4 (the dense root near the critical point is
     // ill-conditioned in f32).
     assert!((f64::from(d32) / d64 - 1.0).abs() < 1e-3, "{d32} vs {d64}");
+}
+
+/// A running train's gas composition replaced between scans (no new
+/// train): the next scan's Z follows the new gas.
+#[test]
+fn train_composition_replaced_at_run_time() {
+    use polytrope::scan::{Scan, StageScan};
+    use polytrope::steady::SteadyStateConfig;
+    use polytrope::train::{StageConfig, StageKind, Train, TrainConfig};
+    use polytrope::units::PressureAbs;
+    let g = PengRobinson::<f64, 3>::new([METHANE, ETHANE, NITROGEN], [0.90, 0.05, 0.05]).unwrap();
+    let stage = StageConfig {
+        kind: StageKind::Compressor,
+        design_suction_pressure: PressureAbs::from_bar(20.0),
+        design_discharge_pressure: PressureAbs::from_bar(50.0),
+        cooler: None,
+    };
+    let mut train = Train::<f64, _, 1, 4>::new(TrainConfig {
+        gas: g,
+        stages: [stage],
+        max_interstage_pressure_drop: 0.1,
+        steady_state: SteadyStateConfig::default(),
+    })
+    .unwrap();
+    let scan = Scan {
+        stages: [StageScan::from_si(20e5, 300.0, 50e5, 390.0)],
+    };
+    let z0 = train.update(&scan).stages[0]
+        .compressor()
+        .unwrap()
+        .compressibility;
+    assert!(train.gas_mut().set_composition([0.70, 0.25, 0.05]).is_ok());
+    let z1 = train.update(&scan).stages[0]
+        .compressor()
+        .unwrap()
+        .compressibility;
+    assert!(z1 < z0 - 0.01, "{z0} -> {z1}");
+    assert!(train.gas_mut().set_composition([0.70, 0.25, 0.5]).is_err());
+    let z2 = train.update(&scan).stages[0]
+        .compressor()
+        .unwrap()
+        .compressibility;
+    assert_eq!(z1, z2, "a refused composition leaves the gas as it was");
+}
+
+/// The ideal gas's validity limit (Pr/Tr³ > 0.1, README): CO2 at 26 bar a
+/// from 310 K is uncertain with its reason, at 3 bar a good; a gas without a
+/// critical point never flags; a bad critical point is refused naming the
+/// field.
+#[test]
+fn ideal_gas_validity_limit() {
+    use polytrope::gas::{HeatCapacity, IdealGas, CARBON_DIOXIDE as CO2_SPEC};
+    let g = IdealGas::<f64>::from_spec(&CO2_SPEC, false, 1.0).unwrap();
+    let lr = f64::ln(26.0 / 9.0);
+    let cs = g.compression(9e5, 310.0, 26e5, lr, Some(413.0), None);
+    assert_eq!(cs.validity.quality, Quality::Uncertain);
+    assert_eq!(cs.validity.reason, ValidityReason::IdealGasReducedPressure);
+    let cs = g.compression(1.05e5, 303.0, 3.2e5, f64::ln(3.2 / 1.05), Some(406.0), None);
+    assert_eq!(cs.validity.quality, Quality::Good);
+    let plain = IdealGas::<f64>::new(44.01, HeatCapacity::ConstantK(1.29), 1.0).unwrap();
+    assert_eq!(
+        plain.state(200e5, 300.0, None).validity.quality,
+        Quality::Good
+    );
+    let e = plain.with_critical_point(304.1, -1.0).unwrap_err();
+    assert_eq!(e.field, "gas.critical_pressure");
 }

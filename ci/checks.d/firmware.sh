@@ -1,9 +1,10 @@
 #!/usr/bin/env bash
 # On-target check (run by ci/test.sh): the kernel on emulated Cortex-M4F
 # (QEMU mps2-an386) and Cortex-M0 (QEMU microbit).
-#  1. builds ci/firmware for both targets; the `minimal` bin links only if
-#     no panic path of Train::new / Train::update, SurgeMonitor::new / update
-#     or Channel::new / update survives (link-time check);
+#  1. builds ci/firmware for both targets; the `minimal` and `proof` bins
+#     link only if no panic path of any public entry point survives (the
+#     train, surge monitor and channel; ci/firmware/src/proof.rs for the
+#     rest; link-time check);
 #  2. runs the harness under QEMU and re-takes the instruction counts, sizes
 #     and stack (ci/measure.sh; the table is printed, not committed here);
 #  3. compares every printed output with the f64 reference build within
@@ -33,7 +34,7 @@ cat "$table"
 # 3: device outputs against the f64 reference.
 logs=ci/firmware/target/measure
 POLYTROPE_FIRMWARE_OUTPUTS="$PWD/$logs/thumbv7em-none-eabihf.log:$PWD/$logs/thumbv6m-none-eabi.log" \
-  cargo test -q -p polytrope --test firmware_outputs -- --nocapture 2>&1 | grep -Ev '^\s*$'
+  cargo test -q -p polytrope --features demo --test firmware_outputs -- --nocapture 2>&1 | grep -Ev '^\s*$'
 
 # 4: the probe must fail to link, and for the intended reason.
 probe_log=$(mktemp)

@@ -1,7 +1,7 @@
 //! The loss ledger of the demo's last scan (`polytrope::ledger`): a text
-//! table and a JSON array, one entry per line in the order of attribution,
-//! each in W (kW in the table) with its quality and its share of the
-//! measured total power.
+//! table, one row per line in the order of attribution, each in kW with its
+//! quality and its share of the measured total power; and the JSON object,
+//! written from the kernel's field lists (`polytrope::fields`).
 
 use polytrope::ledger::{evaluate_ledger_into, Cause, Ledger, LedgerConfig};
 use polytrope::scan::Scan;
@@ -16,10 +16,10 @@ pub type Line = (Cause, Option<u8>, Val);
 
 /// The ledger of `scan`, the scan `train` has just been updated with
 /// (first-suction reference, no recycle loop in the demo).
-pub fn lines<T: Real, G: GasModel<T>, const N: usize, const W: usize>(
+pub fn ledger<T: Real, G: GasModel<T>, const N: usize, const W: usize>(
     train: &Train<T, G, N, W>,
     scan: &Scan<T, N>,
-) -> Vec<Line> {
+) -> Ledger<T, N> {
     let mut l = Ledger::<T, N>::bad();
     evaluate_ledger_into(
         train.config(),
@@ -29,6 +29,11 @@ pub fn lines<T: Real, G: GasModel<T>, const N: usize, const W: usize>(
         Measured::bad(),
         &mut l,
     );
+    l
+}
+
+/// The ledger's lines in the order of attribution.
+pub fn lines<T: Real, const N: usize>(l: &Ledger<T, N>) -> Vec<Line> {
     let mut v = Vec::new();
     l.visit_lines(&mut |c, i, m| v.push((c, i, Val::of(m))));
     v
@@ -75,20 +80,19 @@ pub fn text(lines: &[Line]) -> String {
     s
 }
 
-/// The JSON array.
-pub fn json(lines: &[Line]) -> Json {
-    Json::Arr(
-        lines
-            .iter()
-            .map(|(c, i, v)| {
-                let mut o = Obj::new();
-                o.str(&k::CAUSE, c.as_str());
-                if let Some(i) = i {
-                    o.put(&k::STAGE, Json::Int(i64::from(*i) + 1));
-                }
-                o.val(&k::LINE_POWER, *v);
-                o.done()
-            })
-            .collect(),
-    )
+/// The JSON object: the train-wide lines, then `stages`.
+pub fn json<T: Real, const N: usize>(l: &Ledger<T, N>) -> Json {
+    let mut o = Obj::new();
+    out::put_fields(&mut o, &out::fields_of(l));
+    let stages = (0..N)
+        .filter_map(|i| l.stage(i).map(|s| (i, s)))
+        .map(|(i, s)| {
+            let mut so = Obj::new();
+            so.put(&k::STAGE, Json::Int(i as i64 + 1));
+            out::put_fields(&mut so, &out::fields_of(&s));
+            so.done()
+        })
+        .collect();
+    o.put(&k::STAGES, Json::Arr(stages));
+    o.done()
 }

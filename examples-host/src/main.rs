@@ -16,19 +16,6 @@
     clippy::indexing_slicing
 )]
 
-/// A table/JSON row: `row!(KEY_CONST, "label", DISP_CONST, |r: &R| -> Val)`;
-/// the key comes from [`keys`], the display from [`out::disp`].
-macro_rules! row {
-    ($key:ident, $label:literal, $disp:ident, $get:expr) => {
-        $crate::out::Row {
-            key: $crate::keys::$key,
-            label: $label,
-            disp: $crate::out::disp::$disp,
-            get: $get,
-        }
-    };
-}
-
 mod cli;
 mod demo;
 mod keys;

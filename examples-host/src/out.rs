@@ -7,6 +7,8 @@
 //! `{"value": <number or null>, "quality": "good" | "uncertain" | "bad"}`;
 //! `value` is `null` whenever the quality is bad.
 
+use polytrope::fields::{FieldSpec, FieldValue, QuantityKind, ResultFields, StageInput};
+use polytrope::scan::StageScan;
 use polytrope::{Measured, Quality, Real};
 
 use crate::keys::Key;
@@ -56,13 +58,9 @@ impl Val {
     }
 }
 
-/// `good`, `uncertain` or `bad`.
+/// `good`, `uncertain` or `bad` (the kernel's stable name).
 pub fn quality_word(q: Quality) -> &'static str {
-    match q {
-        Quality::Good => "good",
-        Quality::Uncertain => "uncertain",
-        Quality::Bad => "bad",
-    }
+    q.as_str()
 }
 
 /// How a quantity is shown in a text table: unit label, scale from SI, decimals.
@@ -334,65 +332,130 @@ impl Grid {
     }
 }
 
-/// One reported quantity: its JSON key, table label, display and accessor.
-pub struct Row<R> {
-    /// JSON key (with its SI unit).
-    pub key: Key,
-    /// Table label.
-    pub label: &'static str,
-    /// Table display.
-    pub disp: Disp,
-    /// Reads the value from a result.
-    pub get: fn(&R) -> Val,
+/// How much precision a table shows.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Detail {
+    /// Train overviews (`demo`): percent, one decimal on kelvin.
+    Summary,
+    /// Single-point results (`stage`): four decimals on ratios.
+    Fine,
 }
 
-/// Rows as a table with one column per item (`items`: column title, result).
-pub fn column_table<R>(rows: &[Row<R>], items: &[(String, R)]) -> Grid {
+/// The table display of a kernel field, from its quantity kind.
+pub fn disp_of(spec: &FieldSpec, detail: Detail) -> Disp {
+    let fine = detail == Detail::Fine;
+    let pick = |f: Disp, s: Disp| if fine { f } else { s };
+    match spec.kind {
+        // A relative drop reads best in percent.
+        QuantityKind::PressureRatio if spec.key.starts_with("relative") => disp::PERCENT,
+        QuantityKind::PressureRatio | QuantityKind::Exponent | QuantityKind::Compressibility => {
+            pick(disp::RATIO4, disp::RATIO)
+        }
+        QuantityKind::Temperature | QuantityKind::TemperatureDifference => {
+            pick(disp::KELVIN2, disp::KELVIN)
+        }
+        QuantityKind::SpecificWork => disp::KJ_PER_KG,
+        QuantityKind::Efficiency | QuantityKind::Fraction => pick(disp::RATIO4, disp::PERCENT),
+        QuantityKind::Power => disp::KW,
+        QuantityKind::Pressure if spec.key.contains("drop") => disp::KPA,
+        QuantityKind::Pressure if spec.key.contains("rise") => disp::BAR,
+        QuantityKind::Pressure => disp::BAR_A,
+        QuantityKind::MassFlow => disp::KG_PER_S,
+        QuantityKind::Conductance => disp::KW_PER_K,
+        QuantityKind::Density => disp::KG_PER_M3,
+        _ => Disp {
+            unit: "-",
+            scale: 1.0,
+            decimals: 0,
+        },
+    }
+}
+
+/// One field of a kernel result: its spec (key, label, unit) and value.
+pub type Field<T> = (&'static FieldSpec, FieldValue<T>);
+
+/// Every field of a result, in the kernel's order.
+pub fn fields_of<T: Real, R: ResultFields<T>>(r: &R) -> Vec<Field<T>> {
+    let mut v = Vec::new();
+    r.visit_fields(&mut |spec, value| v.push((spec, value)));
+    v
+}
+
+/// Some inputs of a stage scan (absent ones read bad).
+pub fn inputs_of<T: Real>(s: &StageScan<T>, which: &[StageInput]) -> Vec<Field<T>> {
+    which
+        .iter()
+        .map(|w| {
+            let m = s.input(*w).unwrap_or_else(Measured::bad);
+            (w.spec(), FieldValue::Real(m))
+        })
+        .collect()
+}
+
+/// A field's value as JSON: `{value, quality}` for a measured value, a
+/// plain number, a boolean, an integer or a string.
+pub fn field_json<T: Real>(v: FieldValue<T>) -> Json {
+    match v {
+        FieldValue::Real(m) => measured(Val::of(m)),
+        FieldValue::Plain(x) => Json::Num(Val::of(Measured::good(x)).value),
+        FieldValue::Flag(b) => Json::Bool(b),
+        FieldValue::Count(n) => Json::Int(i64::from(n)),
+        FieldValue::Tag(t) => Json::Str(t.to_string()),
+    }
+}
+
+/// A field's value as a table cell.
+pub fn field_cell<T: Real>(spec: &FieldSpec, v: FieldValue<T>, detail: Detail) -> String {
+    match v {
+        FieldValue::Real(m) => cell(Val::of(m), disp_of(spec, detail)),
+        FieldValue::Plain(x) => cell(Val::of(Measured::good(x)), disp_of(spec, detail)),
+        FieldValue::Flag(b) => (if b { "yes" } else { "no" }).to_string(),
+        FieldValue::Count(n) => n.to_string(),
+        FieldValue::Tag(t) => t.to_string(),
+    }
+}
+
+/// Writes fields into a JSON object under their kernel keys.
+pub fn put_fields<T: Real>(o: &mut Obj, fields: &[Field<T>]) {
+    for (spec, v) in fields {
+        o.put(&Key::of(spec), field_json(*v));
+    }
+}
+
+/// Fields as a table with one column per item (`items`: column title and
+/// that item's fields, all items of one type).
+pub fn field_column_table<T: Real>(items: &[(String, Vec<Field<T>>)], detail: Detail) -> Grid {
     let mut header: Vec<&str> = vec!["quantity", "unit"];
     header.extend(items.iter().map(|(t, _)| t.as_str()));
     let mut g = Grid::new(&header);
-    for r in rows {
-        let mut cells = vec![r.label.to_string(), r.disp.unit.to_string()];
-        cells.extend(items.iter().map(|(_, it)| cell((r.get)(it), r.disp)));
+    let Some((_, first)) = items.first() else {
+        return g;
+    };
+    for (row, (spec, _)) in first.iter().enumerate() {
+        let mut cells = vec![
+            spec.label.to_string(),
+            disp_of(spec, detail).unit.to_string(),
+        ];
+        cells.extend(items.iter().map(|(_, f)| {
+            f.get(row)
+                .map_or("--".to_string(), |(s, v)| field_cell(s, *v, detail))
+        }));
         g.row(cells);
     }
     g
 }
 
-/// Rows as a two-column list (label, value, unit) for one result.
-pub fn list_table<R>(rows: &[Row<R>], item: &R) -> Grid {
+/// Fields as a list (quantity, value, unit) for one result.
+pub fn field_list_table<T: Real>(fields: &[Field<T>], detail: Detail) -> Grid {
     let mut g = Grid::new(&["quantity", "value", "unit"]);
-    for r in rows {
+    for (spec, v) in fields {
         g.row(vec![
-            r.label.to_string(),
-            cell((r.get)(item), r.disp),
-            r.disp.unit.to_string(),
+            spec.label.to_string(),
+            field_cell(spec, *v, detail),
+            disp_of(spec, detail).unit.to_string(),
         ]);
     }
     g
-}
-
-/// Writes every row of one result into a JSON object.
-pub fn put_rows<R>(o: &mut Obj, rows: &[Row<R>], item: &R) {
-    for r in rows {
-        o.val(&r.key, (r.get)(item));
-    }
-}
-
-/// Converts `CamelCase` enum debug names into `kebab-case` words.
-pub fn kebab(debug_name: &str) -> String {
-    let mut s = String::new();
-    for (i, c) in debug_name.chars().enumerate() {
-        if c.is_ascii_uppercase() {
-            if i > 0 {
-                s.push('-');
-            }
-            s.push(c.to_ascii_lowercase());
-        } else {
-            s.push(c);
-        }
-    }
-    s
 }
 
 #[cfg(test)]
@@ -432,6 +495,5 @@ mod tests {
         let t = o.done().to_text();
         assert!(t.contains(r#""a \"quoted\"\nline""#), "{t}");
         assert!(t.contains("null"), "{t}");
-        assert_eq!(kebab("EfficiencyAboveOne"), "efficiency-above-one");
     }
 }

@@ -7,18 +7,19 @@
 //! only parses, converts units and reports.
 
 use polytrope::compression::isentropic_discharge_temperature;
+use polytrope::fields::StageInput;
 use polytrope::gas::{GasModel, GasSpec, HeatCapacity, IdealGas, BUILTIN_GASES};
 use polytrope::scan::{
     mass_flow_kg_s, pressure_pa, temperature_k, MAX_PRESSURE_PA, MAX_TEMPERATURE_K,
 };
-use polytrope::stage::{evaluate_compressor, CompressorInputs, CompressorResult, StageCondition};
+use polytrope::stage::{evaluate_compressor, CompressorInputs, StageCondition};
 use polytrope::staging::{equal_ratio_interstage_pressure, ideal_references};
 use polytrope::units::{Kelvin, PressureAbs, STANDARD_ATMOSPHERE_PA};
 use polytrope::{Measured, Quality, Real};
 
 use crate::cli::{count, CliError, Command, Opt, Parsed, Precision};
 use crate::keys as k;
-use crate::out::{self, disp, kebab, Json, Obj, Row, Val};
+use crate::out::{self, disp, Detail, Json, Obj, Val};
 use crate::quantity::{self, Pressure};
 
 /// The `stage` subcommand.
@@ -298,76 +299,6 @@ fn staging<T: Real>(gas: &IdealGas<T>, inp: &Inputs, n: u32) -> Option<Staging> 
     })
 }
 
-fn result_rows<T: Real>() -> Vec<Row<CompressorResult<T>>> {
-    type R<T> = CompressorResult<T>;
-    vec![
-        row!(
-            PRESSURE_RATIO,
-            "Pressure ratio",
-            RATIO4,
-            |r: &R<T>| Val::of(r.pressure_ratio)
-        ),
-        row!(
-            ISENTROPIC_T2,
-            "T2s isentropic",
-            KELVIN2,
-            |r: &R<T>| Val::of(r.isentropic_discharge_temperature)
-        ),
-        row!(TEMPERATURE_RISE, "Temperature rise", KELVIN2, |r: &R<T>| {
-            Val::of(r.temperature_rise)
-        }),
-        row!(ISENTROPIC_HEAD, "Isentropic head", KJ_PER_KG, |r: &R<T>| {
-            Val::of(r.isentropic_head)
-        }),
-        row!(POLYTROPIC_HEAD, "Polytropic head", KJ_PER_KG, |r: &R<T>| {
-            Val::of(r.polytropic_head)
-        }),
-        row!(ISOTHERMAL_HEAD, "Isothermal head", KJ_PER_KG, |r: &R<T>| {
-            Val::of(r.isothermal_head)
-        }),
-        row!(
-            ACTUAL_WORK,
-            "Actual work Z cp (T2 - T1)",
-            KJ_PER_KG,
-            |r: &R<T>| Val::of(r.actual_work)
-        ),
-        row!(
-            ISENTROPIC_EFFICIENCY,
-            "Isentropic efficiency",
-            RATIO4,
-            |r: &R<T>| Val::of(r.isentropic_efficiency)
-        ),
-        row!(
-            POLYTROPIC_EFFICIENCY,
-            "Polytropic efficiency",
-            RATIO4,
-            |r: &R<T>| Val::of(r.polytropic_efficiency)
-        ),
-        row!(
-            POLYTROPIC_EXPONENT,
-            "Polytropic exponent n",
-            RATIO4,
-            |r: &R<T>| Val::of(r.polytropic_exponent)
-        ),
-        row!(MASS_FLOW, "Mass flow", KG_PER_S, |r: &R<T>| Val::of(
-            r.mass_flow
-        )),
-        row!(GAS_POWER, "Gas power", KW, |r: &R<T>| Val::of(r.gas_power)),
-        row!(
-            WORK_ABOVE_ISOTHERMAL,
-            "Work above isothermal",
-            KJ_PER_KG,
-            |r: &R<T>| Val::of(r.work_above_isothermal)
-        ),
-        row!(
-            POWER_ABOVE_ISOTHERMAL,
-            "Power above isothermal",
-            KW,
-            |r: &R<T>| Val::of(r.power_above_isothermal)
-        ),
-    ]
-}
-
 fn condition_note(c: StageCondition) -> Option<&'static str> {
     match c {
         StageCondition::Normal => None,
@@ -440,8 +371,7 @@ fn calculate<T: Real>(inp: &Inputs, precision: Precision, json: bool) -> Result<
         None => None,
     };
     let gas_constant = Val::of(Measured::good(gas.gas_constant())).value;
-    let rows = result_rows::<T>();
-    let plain = |x: T| Val::of(Measured::good(x)).value;
+    let results = out::fields_of(&r);
 
     if json {
         let opt = |x: Option<f64>| x.map_or(Json::Null, Json::Num);
@@ -450,19 +380,16 @@ fn calculate<T: Real>(inp: &Inputs, precision: Precision, json: bool) -> Result<
             .str(&k::HEAT_CAPACITY_MODEL, model)
             .num(&k::MOLAR_MASS, molar_mass)
             .num(&k::GAS_CONSTANT, gas_constant)
-            .num(&k::COMPRESSIBILITY, inp.z)
-            .num(&k::SUCTION_PRESSURE, inp.p1)
-            .num(&k::DISCHARGE_PRESSURE, inp.p2)
-            .num(&k::SUCTION_TEMPERATURE, inp.t1)
-            .put(&k::DISCHARGE_TEMPERATURE, opt(inp.t2))
-            .put(&k::MASS_FLOW, opt(inp.flow))
+            .num(&k::input(StageInput::Compressibility), inp.z)
+            .num(&k::input(StageInput::SuctionPressure), inp.p1)
+            .num(&k::input(StageInput::DischargePressure), inp.p2)
+            .num(&k::input(StageInput::SuctionTemperature), inp.t1)
+            .put(&k::input(StageInput::DischargeTemperature), opt(inp.t2))
+            .put(&k::input(StageInput::MassFlow), opt(inp.flow))
             .put(&k::ATMOSPHERE, opt(inp.atmosphere))
             .put(&k::ATMOSPHERE_ASSUMED, Json::Bool(inp.atmosphere_assumed));
         let mut res = Obj::new();
-        out::put_rows(&mut res, &rows, &r);
-        res.num(&k::COMPRESSIBILITY, plain(r.compressibility))
-            .num(&k::HEAT_CAPACITY_RATIO, plain(r.k))
-            .str(&k::CONDITION, &kebab(&format!("{:?}", r.condition)));
+        out::put_fields(&mut res, &results);
         let mut o = Obj::new();
         o.str(&k::COMMAND_NAME, "stage")
             .str(&k::CAUTION, out::CAUTION)
@@ -531,18 +458,7 @@ fn calculate<T: Real>(inp: &Inputs, precision: Precision, json: bool) -> Result<
     g.render(&mut s);
 
     s.push_str("\nStage results\n");
-    let mut g = out::list_table(&rows, &r);
-    g.row(vec![
-        "Heat-capacity ratio k used".into(),
-        format!("{:.4}", plain(r.k)),
-        "-".into(),
-    ]);
-    g.row(vec![
-        "Condition".into(),
-        kebab(&format!("{:?}", r.condition)),
-        "-".into(),
-    ]);
-    g.render(&mut s);
+    out::field_list_table(&results, Detail::Fine).render(&mut s);
 
     if let Some(st) = &staging {
         s.push_str(&format!(

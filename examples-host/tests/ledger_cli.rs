@@ -11,27 +11,34 @@ use common::{ok, parse};
 #[test]
 fn demo_json_ledger_closes_on_the_measured_total() {
     let j = parse(&ok(&["demo", "--json", "--precision", "f64"]));
-    let lines = j.at("ledger").arr();
-    let causes: Vec<&str> = lines.iter().map(|l| l.at("cause").str()).collect();
-    assert_eq!(causes.first(), Some(&"isothermal"));
-    assert_eq!(causes.last(), Some(&"measured-total"));
-    // Four compressor stages: 3 intercooling and 4 inefficiency lines.
-    assert_eq!(causes.iter().filter(|c| **c == "intercooling").count(), 3);
-    assert_eq!(
-        causes
-            .iter()
-            .filter(|c| **c == "stage-inefficiency")
-            .count(),
-        4
-    );
-    let (total, _) = lines.last().unwrap().at("line_power_W").measured();
-    let sum: f64 = lines[..lines.len() - 1]
-        .iter()
-        .map(|l| l.at("line_power_W").measured().0)
-        .sum();
+    let l = j.at("ledger");
+    let train_wide = [
+        "ledger_isothermal_power_W",
+        "ledger_stage_count_W",
+        "ledger_pressure_drops_W",
+        "ledger_pressure_split_W",
+        "ledger_coolant_temperature_W",
+        "ledger_recycle_W",
+        "ledger_pumps_W",
+        "ledger_remainder_W",
+    ];
+    let mut sum: f64 = train_wide.iter().map(|k| l.at(k).measured().0).sum();
+    // Four compressor stages, each with its two lines.
+    let stages = l.at("stages").arr();
+    assert_eq!(stages.len(), 4);
+    for (i, s) in stages.iter().enumerate() {
+        assert_eq!(s.at("stage").num(), (i + 1) as f64);
+        sum += s.at("ledger_intercooling_W").measured().0;
+        sum += s.at("ledger_stage_inefficiency_W").measured().0;
+    }
+    let (total, _) = l.at("ledger_measured_total_W").measured();
     assert!((sum - total).abs() <= 1e-9 * total, "{sum} vs {total}");
     let reported = j.at("totals").value("total_power_W");
     assert!((reported - total).abs() <= 1e-9 * total);
+    // Every stage of the demo costs something above its isentropic head.
+    for s in stages {
+        assert!(s.at("ledger_stage_inefficiency_W").measured().0 > 0.0);
+    }
 }
 
 #[test]

@@ -18,10 +18,12 @@
 //! outputs.write(demand, alarm, trip)     -> PWM + pins
 //! ```
 
+#[cfg(feature = "embedded-hal")]
 pub mod outputs;
 pub mod recycle_pi;
 pub mod recycle_power;
 
+#[cfg(feature = "embedded-hal")]
 pub use outputs::{OutputConfig, OutputError, RecycleOutputs, WriteError};
 pub use recycle_pi::{ControllerInputs, ControllerOutput, Mode, RecycleConfig, RecycleController};
 pub use recycle_power::{recycle_power, valve_mass_flow};

@@ -8,9 +8,9 @@
 //! flagged ([`FaultCode::ZeroOffset`]) until a later no-flow check passes.
 
 use crate::error::{check_range, ConfigError};
+use crate::quality::FaultCode;
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
-use crate::signal::FaultCode;
 
 /// Settings of the cut-off and the zero check.
 #[derive(Clone, Copy, Debug, PartialEq)]

@@ -17,10 +17,10 @@
 
 use super::expansibility::{expansibility_valid, orifice_expansibility};
 use super::gas_density;
+use crate::boundary::{pressure_pa, temperature_k};
 use crate::error::{check_positive, ConfigError, Problem};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
-use crate::scan::{pressure_pa, temperature_k};
 use crate::units::{Kelvin, PressureAbs};
 
 /// Most Reynolds-number iterations of the flow solution.

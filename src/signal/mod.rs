@@ -40,67 +40,8 @@ pub use events::{Event, EventLog};
 pub use pipeline::{Channel, ChannelOutput};
 pub use rtd_class::RtdClass;
 
+pub use crate::quality::FaultCode;
 use crate::quality::Quality;
-
-/// Why a channel (or a derived value) is not good. `None` when good.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-#[repr(u8)]
-pub enum FaultCode {
-    /// No fault.
-    #[default]
-    None = 0,
-    /// NE 43 failure signal, low (at or below 3.6 mA): open loop, failed
-    /// transmitter.
-    Ne43FailureLow = 1,
-    /// NE 43 failure signal, high (at or above 21.0 mA).
-    Ne43FailureHigh = 2,
-    /// Between the NE 43 measuring range and the failure threshold, low
-    /// side (above 3.6 and below 3.8 mA): saturated, uncertain.
-    Ne43SaturatedLow = 3,
-    /// Between the NE 43 measuring range and the failure threshold, high
-    /// side (above 20.5 and below 21.0 mA): saturated, uncertain.
-    Ne43SaturatedHigh = 4,
-    /// A voltage or count signal beyond its span by more than the allowance.
-    SignalOutOfRange = 5,
-    /// The sample is NaN or infinite.
-    NotFinite = 6,
-    /// The sample time did not advance since the previous sample.
-    TimeNotAdvancing = 7,
-    /// The value is outside the channel's plausibility limits.
-    OutOfRange = 8,
-    /// The rate of change exceeds the channel's limit (spike).
-    Spike = 9,
-    /// No variation beyond the noise floor over the whole frozen window.
-    Frozen = 10,
-    /// An analytical-redundancy cross-check failed.
-    CrossCheck = 11,
-    /// A differential-pressure zero offset persists at no-flow conditions.
-    ZeroOffset = 12,
-    /// A flow calculation outside the validity limits of its standard.
-    OutsideValidity = 13,
-    /// A derived value whose input was bad.
-    InputBad = 14,
-}
-
-impl FaultCode {
-    /// The quality a sample with this fault gets (before substitution).
-    pub fn quality(self) -> Quality {
-        use FaultCode::*;
-        match self {
-            None => Quality::Good,
-            Ne43SaturatedLow | Ne43SaturatedHigh | Frozen | CrossCheck | ZeroOffset
-            | OutsideValidity => Quality::Uncertain,
-            Ne43FailureLow | Ne43FailureHigh | SignalOutOfRange | NotFinite | TimeNotAdvancing
-            | OutOfRange | Spike | InputBad => Quality::Bad,
-        }
-    }
-
-    /// The numeric code (stable; for registers and logs).
-    pub fn code(self) -> u8 {
-        self as u8
-    }
-}
 
 /// Per-channel status after the latest sample.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]

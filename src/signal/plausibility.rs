@@ -47,7 +47,7 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         t_ms: u64,
         signal_fault: FaultCode,
     ) -> FaultCode {
-        let time_ok = self.last_time_ms.map_or(true, |last| t_ms > last);
+        let time_ok = self.last_time_ms.is_none_or(|last| t_ms > last);
         if time_ok {
             self.last_time_ms = Some(t_ms);
         } else {

@@ -1,14 +1,13 @@
-//! Test helper (included with `#[path]` by tests/f32_vs_f64.rs and
-//! tests/edge_inputs.rs): walks every number of a `Snapshot`, naming it and
-//! saying which entry of `polytrope::tolerance` governs its f32-vs-f64
-//! agreement.
+//! Test helper (included with `#[path]` by tests/f32_vs_f64.rs,
+//! tests/edge_inputs.rs and tests/firmware_outputs.rs): walks every number
+//! of a `Snapshot` through the kernel's field list
+//! (`Snapshot::visit_groups`), naming it and saying which entry of
+//! `polytrope::tolerance` governs its f32-vs-f64 agreement.
 
 #![allow(dead_code)]
 
-use polytrope::cooler::CoolerResult;
-use polytrope::stage::{CompressorResult, PumpResult};
 use polytrope::tolerance::{self, Tolerance};
-use polytrope::train::{Snapshot, StageWork};
+use polytrope::train::Snapshot;
 use polytrope::{Measured, Quality, Real};
 
 /// How the f32 value of a field must agree with the f64 value.
@@ -23,9 +22,6 @@ pub enum Kind {
     /// of the optimum (a `PRESSURE`) and of the division (a
     /// `PRESSURE_RATIO`) add, on `1 + deviation`.
     Deviation,
-    /// UA = duty / LMTD: relative tolerance is the sum of the relative
-    /// tolerances of `POWER` (at this duty) and `TEMPERATURE_DIFFERENCE`
-    /// (at this LMTD); values are the f64 duty and LMTD.
     /// A difference `a - b` of two quantities governed by the same entry:
     /// it agrees within the sum of the operands' tolerances,
     /// `2·atol + rtol·scale` with `scale = |a| + |b|` (f64 values).
@@ -35,6 +31,9 @@ pub enum Kind {
         /// `|a| + |b|` of the operands.
         scale: f64,
     },
+    /// UA = duty / LMTD: relative tolerance is the sum of the relative
+    /// tolerances of `POWER` (at this duty) and `TEMPERATURE_DIFFERENCE`
+    /// (at this LMTD); values are the f64 duty and LMTD.
     Conductance {
         /// Heat duty, W.
         duty: f64,
@@ -88,6 +87,11 @@ impl Kind {
 
     /// `true` if `device` (f32 build) agrees with `reference` (f64 build).
     pub fn accepts(&self, device: f64, reference: f64) -> bool {
+        if device == reference {
+            // Exact agreement meets every rule (also where a derived bound
+            // is undefined, e.g. UA with zero duty).
+            return true;
+        }
         match *self {
             // Exactly the table's own test.
             Kind::Table(t) => t.accepts(device, reference),
@@ -108,230 +112,94 @@ impl Kind {
     }
 }
 
-struct Walker {
-    out: Vec<Field>,
-    prefix: String,
-}
+use polytrope::fields::{Derivation, FieldValue, Group};
+use tolerance::{PRESSURE_RATIO, SPECIFIC_WORK};
 
-impl Walker {
-    fn m<T: Real>(&mut self, name: &str, kind: Kind, m: Measured<T>) {
-        self.out.push(Field {
-            name: format!("{}.{name}", self.prefix),
-            kind,
-            value: m.value.to_f64(),
-            quality: m.quality,
-        });
-    }
-    fn plain<T: Real>(&mut self, name: &str, kind: Kind, v: T) {
-        self.m(name, kind, Measured::good(v));
-    }
-}
-
-use tolerance::{
-    COMPRESSIBILITY, EFFICIENCY, EXPONENT, POWER, PRESSURE, PRESSURE_RATIO, SPECIFIC_WORK,
-    TEMPERATURE, TEMPERATURE_DIFFERENCE,
-};
-const fn t(x: Tolerance) -> Kind {
-    Kind::Table(x)
-}
-
-fn compressor<T: Real>(w: &mut Walker, c: &CompressorResult<T>) {
-    w.m("pressure_ratio", t(PRESSURE_RATIO), c.pressure_ratio);
-    w.m(
-        "isentropic_discharge_temperature",
-        t(TEMPERATURE),
-        c.isentropic_discharge_temperature,
-    );
-    w.m(
-        "temperature_rise",
-        t(TEMPERATURE_DIFFERENCE),
-        c.temperature_rise,
-    );
-    w.m("isentropic_head", t(SPECIFIC_WORK), c.isentropic_head);
-    w.m("polytropic_head", t(SPECIFIC_WORK), c.polytropic_head);
-    w.m("isothermal_head", t(SPECIFIC_WORK), c.isothermal_head);
-    w.m("actual_work", t(SPECIFIC_WORK), c.actual_work);
-    w.m(
-        "isentropic_efficiency",
-        t(EFFICIENCY),
-        c.isentropic_efficiency,
-    );
-    w.m(
-        "polytropic_efficiency",
-        t(EFFICIENCY),
-        c.polytropic_efficiency,
-    );
-    w.m("polytropic_exponent", t(EXPONENT), c.polytropic_exponent);
-    w.m("mass_flow", Kind::PassThrough, c.mass_flow);
-    w.m("gas_power", t(POWER), c.gas_power);
-    let works = c.actual_work.value.to_f64().abs() + c.isothermal_head.value.to_f64().abs();
-    w.m(
-        "work_above_isothermal",
-        Kind::Difference {
-            tol: SPECIFIC_WORK,
-            scale: works,
-        },
-        c.work_above_isothermal,
-    );
-    w.m(
-        "power_above_isothermal",
-        Kind::Difference {
-            tol: POWER,
-            scale: works * c.mass_flow.value.to_f64().abs(),
-        },
-        c.power_above_isothermal,
-    );
-    // Suction Z: configuration or scan input for the ideal gas, computed by
-    // Peng-Robinson.
-    w.plain("compressibility", t(COMPRESSIBILITY), c.compressibility);
-    // k of a constant-k gas is configuration; of a cp(T) gas it is computed
-    // (an exponent).
-    w.plain("k", t(EXPONENT), c.k);
-}
-
-fn pump<T: Real>(w: &mut Walker, p: &PumpResult<T>) {
-    w.m("pressure_ratio", t(PRESSURE_RATIO), p.pressure_ratio);
-    w.m("pressure_rise", t(PRESSURE), p.pressure_rise);
-    w.m("density", t(COMPRESSIBILITY), p.density);
-    w.m("reversible_work", t(SPECIFIC_WORK), p.reversible_work);
-    w.m("shaft_work", t(SPECIFIC_WORK), p.shaft_work);
-    w.m("mass_flow", Kind::PassThrough, p.mass_flow);
-    w.m("power", t(POWER), p.power);
-    w.m(
-        "gas_compression_equivalent",
-        t(SPECIFIC_WORK),
-        p.gas_compression_equivalent,
-    );
-    // A dimensionless ratio of two works: the efficiency entry.
-    w.m("work_ratio_to_gas", t(EFFICIENCY), p.work_ratio_to_gas);
-}
-
-fn cooler<T: Real>(w: &mut Walker, c: &CoolerResult<T>) {
-    let td = t(TEMPERATURE_DIFFERENCE);
-    w.m("gas_temperature_drop", td, c.gas_temperature_drop);
-    w.m("approach", td, c.approach);
-    w.m("effectiveness", t(EFFICIENCY), c.effectiveness);
-    w.m("heat_duty", t(POWER), c.heat_duty);
-    w.m("pressure_drop", t(PRESSURE), c.pressure_drop);
-    // Pressure drop over inlet pressure: a pressure fraction.
-    w.m(
-        "relative_pressure_drop",
-        t(PRESSURE_RATIO),
-        c.relative_pressure_drop,
-    );
-    w.m("coolant_temperature_rise", td, c.coolant_temperature_rise);
-    w.m("lmtd", td, c.lmtd);
-    w.m(
-        "ua",
-        Kind::Conductance {
-            duty: c.heat_duty.value.to_f64(),
-            lmtd: c.lmtd.value.to_f64(),
-        },
-        c.ua,
-    );
-    // (gas duty - coolant duty) / gas duty: a dimensionless fraction.
-    w.m("heat_balance_error", t(EFFICIENCY), c.heat_balance_error);
-    w.m(
-        "next_stage_temperature_rise",
-        td,
-        c.next_stage_temperature_rise,
-    );
-}
-
-/// Every number in the snapshot, in a fixed order (the same for f32 and f64
-/// snapshots of the same train).
-pub fn fields<T: Real, const N: usize>(s: &Snapshot<T, N>) -> Vec<Field> {
-    let mut w = Walker {
-        out: Vec::new(),
-        prefix: String::new(),
+/// The agreement rule of one field, from the kernel's field list: the
+/// kind's table entry for a computed value, exact (after rounding to f32)
+/// for a pass-through, and for a difference or quotient the rule built from
+/// its operands (`others`: the f64-or-f32 values of the same group, by name).
+fn rule(spec: &polytrope::fields::FieldSpec, others: &[(&str, f64)]) -> Kind {
+    let get = |n: &str| {
+        others
+            .iter()
+            .find(|(k, _)| *k == n)
+            .map(|(_, v)| v.abs())
+            .unwrap_or_else(|| panic!("{}: operand {n} not in its group", spec.name))
     };
-    for (i, st) in s.stages.iter().enumerate() {
-        w.prefix = format!("stage{i}");
-        match &st.work {
-            StageWork::Compressor(c) => compressor(&mut w, c),
-            StageWork::Pump(p) => pump(&mut w, p),
+    match (spec.derivation, spec.name) {
+        (Derivation::PassThrough, _) => Kind::PassThrough,
+        (Derivation::Computed, _) => {
+            Kind::Table(spec.kind.tolerance().unwrap_or_else(|| {
+                panic!("{}: add a tolerance-table entry for its kind", spec.name)
+            }))
         }
-        w.prefix = format!("stage{i}.steady_state");
-        w.plain(
-            "temperature_spread",
-            t(TEMPERATURE_DIFFERENCE),
-            st.steady_state.temperature_spread,
-        );
-        w.plain(
-            "ratio_spread",
-            // (max - min) / max of pressure ratios: a difference of two
-            // relative quantities, each within the ratio's rtol.
-            Kind::Difference {
-                tol: PRESSURE_RATIO,
-                scale: 2.0,
-            },
-            st.steady_state.ratio_spread,
-        );
-    }
-    for (i, c) in s.coolers.iter().enumerate() {
-        if let Some(c) = c {
-            w.prefix = format!("cooler{i}");
-            cooler(&mut w, c);
-        }
-    }
-    for (i, p) in s.interstage.iter().enumerate() {
-        if let Some(p) = p {
-            w.prefix = format!("interstage{i}");
-            w.m("measured", Kind::PassThrough, p.measured);
-            w.m("optimum", t(PRESSURE), p.optimum);
-            w.m("deviation", Kind::Deviation, p.deviation);
-        }
-    }
-    let tt = &s.totals;
-    w.prefix = "totals".into();
-    w.m(
-        "overall_pressure_ratio",
-        t(PRESSURE_RATIO),
-        tt.overall_pressure_ratio,
-    );
-    w.m("compressor_work", t(SPECIFIC_WORK), tt.compressor_work);
-    w.m("compressor_power", t(POWER), tt.compressor_power);
-    w.m("pump_power", t(POWER), tt.pump_power);
-    w.m("total_power", t(POWER), tt.total_power);
-    w.m("isothermal_work", t(SPECIFIC_WORK), tt.isothermal_work);
-    w.m(
-        "isothermal_efficiency",
-        t(EFFICIENCY),
-        tt.isothermal_efficiency,
-    );
-    w.m(
-        "single_stage_isentropic_work",
-        t(SPECIFIC_WORK),
-        tt.single_stage_isentropic_work,
-    );
-    w.m(
-        "ideal_staged_isentropic_work",
-        t(SPECIFIC_WORK),
-        tt.ideal_staged_isentropic_work,
-    );
-    w.m(
-        "measured_staged_isentropic_work",
-        t(SPECIFIC_WORK),
-        tt.measured_staged_isentropic_work,
-    );
-    let single = tt.single_stage_isentropic_work.value.to_f64().abs();
-    w.m(
-        "staging_saving",
-        Kind::Difference {
+        (Derivation::Difference, "work_above_isothermal") => Kind::Difference {
             tol: SPECIFIC_WORK,
-            scale: single + tt.measured_staged_isentropic_work.value.to_f64().abs(),
+            scale: get("actual_work") + get("isothermal_head"),
         },
-        tt.staging_saving,
-    );
-    w.m(
-        "ideal_staging_saving",
-        Kind::Difference {
+        (Derivation::Difference, "power_above_isothermal") => Kind::Difference {
+            tol: tolerance::POWER,
+            scale: (get("actual_work") + get("isothermal_head")) * get("mass_flow"),
+        },
+        (Derivation::Difference, "staging_saving") => Kind::Difference {
             tol: SPECIFIC_WORK,
-            scale: single + tt.ideal_staged_isentropic_work.value.to_f64().abs(),
+            scale: get("single_stage_isentropic_work") + get("measured_staged_isentropic_work"),
         },
-        tt.ideal_staging_saving,
-    );
-    w.out
+        (Derivation::Difference, "ideal_staging_saving") => Kind::Difference {
+            tol: SPECIFIC_WORK,
+            scale: get("single_stage_isentropic_work") + get("ideal_staged_isentropic_work"),
+        },
+        // (max - min) / max of pressure ratios: a difference of two relative
+        // quantities, each within the ratio's rtol.
+        (Derivation::Difference, "ratio_spread") => Kind::Difference {
+            tol: PRESSURE_RATIO,
+            scale: 2.0,
+        },
+        (Derivation::Quotient, "ua") => Kind::Conductance {
+            duty: get("heat_duty"),
+            lmtd: get("lmtd"),
+        },
+        (Derivation::Quotient, "deviation") => Kind::Deviation,
+        (d, n) => panic!("{n}: no agreement rule for a {d:?} field; add one here"),
+    }
+}
+
+/// The walker's name of a group: `stage0`, `cooler1`, `interstage0`,
+/// `totals`, `snapshot`.
+pub fn group_name(g: Group) -> String {
+    match g {
+        Group::Totals | Group::Snapshot => g.as_str().to_owned(),
+        _ => format!("{}{}", g.as_str(), g.index()),
+    }
+}
+
+/// Every number in the snapshot, in the kernel's order
+/// (`Snapshot::visit_groups`; the same for f32 and f64 snapshots of the
+/// same train), named `group.field` (e.g. `stage1.isentropic_head`).
+/// Flags, counts and condition names are left out (they are exact).
+pub fn fields<T: Real, const N: usize>(s: &Snapshot<T, N>) -> Vec<Field> {
+    let mut raw: Vec<(Group, &'static polytrope::fields::FieldSpec, Measured<T>)> = Vec::new();
+    s.visit_groups(&mut |g, spec, v: FieldValue<T>| {
+        if let Some(m) = v.measured() {
+            raw.push((g, spec, m));
+        }
+    });
+    raw.iter()
+        .map(|(g, spec, m)| {
+            let others: Vec<(&str, f64)> = raw
+                .iter()
+                .filter(|(h, _, _)| h == g)
+                .map(|(_, o, v)| (o.name, v.value.to_f64()))
+                .collect();
+            Field {
+                name: format!("{}.{}", group_name(*g), spec.name),
+                kind: rule(spec, &others),
+                value: m.value.to_f64(),
+                quality: m.quality,
+            }
+        })
+        .collect()
 }
 
 /// The field called `name`; panics if there is none.

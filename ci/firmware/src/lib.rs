@@ -5,7 +5,37 @@
 
 pub mod codec;
 pub mod front;
+pub mod proof;
 pub mod table;
+
+/// Ends the program through semihosting (QEMU exits with this status).
+pub fn exit(success: bool) -> ! {
+    use cortex_m_semihosting::debug;
+    debug::exit(if success {
+        debug::EXIT_SUCCESS
+    } else {
+        debug::EXIT_FAILURE
+    });
+    #[allow(clippy::empty_loop)]
+    loop {}
+}
+
+/// Defines the link-time panic handler: it calls a symbol that is defined
+/// nowhere, so a program links only if no panic path survives optimisation
+/// (the panic-freedom check; `panic_probe` shows it can fail).
+#[macro_export]
+macro_rules! link_time_panic_handler {
+    () => {
+        #[panic_handler]
+        fn panic(_: &core::panic::PanicInfo) -> ! {
+            extern "C" {
+                fn polytrope_reachable_panic_path() -> !;
+            }
+            // SAFETY: never defined; a reachable panic fails the link (by design).
+            unsafe { polytrope_reachable_panic_path() }
+        }
+    };
+}
 
 /// Start of a measured region; the plugin starts counting at its first
 /// instruction. Its body differs from [`polytrope_measure_stop`] so that

@@ -1,5 +1,5 @@
-//! The committed scan table (GENERATED: `cargo test --test firmware_outputs
-//! -- --ignored regenerate_scan_table`; do not edit). Demo scans of the
+//! The committed scan table (GENERATED: `POLYTROPE_WRITE_SCAN_TABLE=1 cargo test
+//! --features demo --test firmware_outputs scan_table`; do not edit; the test checks it). Demo scans of the
 //! invented scenario in `polytrope::demo`, then edge cases, then demo scans
 //! again; f32 bit patterns and quality codes (see `codec`).
 

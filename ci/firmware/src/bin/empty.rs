@@ -4,22 +4,12 @@
 #![no_main]
 
 use cortex_m_rt::entry;
-use cortex_m_semihosting::debug;
 use polytrope_firmware::table::MINIMAL_SCAN;
 
 #[entry]
 fn main() -> ! {
     core::hint::black_box(&MINIMAL_SCAN);
-    debug::exit(debug::EXIT_SUCCESS);
-    #[allow(clippy::empty_loop)]
-    loop {}
+    polytrope_firmware::exit(true)
 }
 
-#[panic_handler]
-fn panic(_: &core::panic::PanicInfo) -> ! {
-    extern "C" {
-        fn polytrope_reachable_panic_path() -> !;
-    }
-    // SAFETY: never defined; a reachable panic fails the link (by design).
-    unsafe { polytrope_reachable_panic_path() }
-}
+polytrope_firmware::link_time_panic_handler!();

@@ -4,8 +4,10 @@
 //! plugin measures, the stack high-water test and the state sizes.
 //!
 //! Output lines (semihosting stdout):
-//! - `V scan index name bits quality` a value (bits = `f32::to_bits`, hex)
-//! - `C scan index name code` an exact code
+//! - `V scan index group.key bits quality` a value (bits = `f32::to_bits`,
+//!   hex; keys from `polytrope::fields`)
+//! - `C scan index group.key code` an exact value (flag 0/1, count, or a
+//!   condition's name)
 //! - `M region name` the n-th measured region (the plugin numbers them)
 //! - `S key value` a size or stack figure, bytes
 //! - `END ok` the run completed
@@ -16,10 +18,11 @@ use core::fmt::Write as _;
 use core::hint::black_box;
 
 use cortex_m_rt::entry;
-use cortex_m_semihosting::{debug, hio};
+use cortex_m_semihosting::hio;
 use heapless::String;
 use polytrope::cooler::{evaluate_cooler_into, CoolerInputs, CoolerResult};
 use polytrope::demo::{self, DemoTrain};
+use polytrope::fields::FieldValue;
 use polytrope::gas::components::{CARBON_DIOXIDE, ETHANE, METHANE, NITROGEN, PROPANE};
 use polytrope::gas::{GasModel, IdealGas, PengRobinson, CARBON_DIOXIDE as CO2_IDEAL};
 use polytrope::ledger::{evaluate_ledger_into, CoolingReference, Ledger, LedgerConfig};
@@ -29,7 +32,7 @@ use polytrope::stage::{
     evaluate_compressor_into, evaluate_pump, CompressorInputs, CompressorResult,
 };
 use polytrope::train::{Snapshot, Train, TrainConfig};
-use polytrope_firmware::codec::{decode_scan, quality_code, visit, Out, RawStage};
+use polytrope_firmware::codec::{decode_scan, quality_code, RawStage};
 use polytrope_firmware::front::{self, Monitor, PressureChannel};
 use polytrope_firmware::measure;
 use polytrope_firmware::table::SCANS;
@@ -59,25 +62,36 @@ macro_rules! out {
 
 fn fail(h: &mut Host, what: &str) -> ! {
     out!(h, "ERROR {}", what);
-    debug::exit(debug::EXIT_FAILURE);
-    #[allow(clippy::empty_loop)]
-    loop {}
+    polytrope_firmware::exit(false)
 }
 
 fn print_snapshot<const N: usize>(h: &mut Host, scan: usize, s: &Snapshot<f32, N>) {
-    visit(s, |i, o| match o {
-        Out::Value(name, m, _) => {
-            out!(
+    s.visit_groups(&mut |g, spec, value| {
+        let (i, group, key) = (g.index(), g.as_str(), spec.key);
+        match value {
+            FieldValue::Real(m) => out!(
                 h,
-                "V {} {} {} {:08x} {}",
+                "V {} {} {}.{} {:08x} {}",
                 scan,
                 i,
-                name,
+                group,
+                key,
                 m.value.to_bits(),
                 quality_code(m.quality)
-            )
+            ),
+            FieldValue::Plain(x) => out!(
+                h,
+                "V {} {} {}.{} {:08x} 0",
+                scan,
+                i,
+                group,
+                key,
+                x.to_bits()
+            ),
+            FieldValue::Flag(b) => out!(h, "C {} {} {}.{} {}", scan, i, group, key, u32::from(b)),
+            FieldValue::Count(n) => out!(h, "C {} {} {}.{} {}", scan, i, group, key, n),
+            FieldValue::Tag(t) => out!(h, "C {} {} {}.{} {}", scan, i, group, key, t),
         }
-        Out::Code(name, c) => out!(h, "C {} {} {} {}", scan, i, name, c),
     });
 }
 
@@ -536,16 +550,12 @@ fn main() -> ! {
         core::mem::size_of::<Scan<f32, 5>>()
     );
     out!(h, "END ok");
-    debug::exit(debug::EXIT_SUCCESS);
-    #[allow(clippy::empty_loop)]
-    loop {}
+    polytrope_firmware::exit(true)
 }
 
 #[panic_handler]
 fn panic(info: &core::panic::PanicInfo) -> ! {
     let mut h = Host(hio::hstdout().ok());
     out!(h, "PANIC {}", info);
-    debug::exit(debug::EXIT_FAILURE);
-    #[allow(clippy::empty_loop)]
-    loop {}
+    polytrope_firmware::exit(false)
 }

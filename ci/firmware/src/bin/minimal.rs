@@ -1,18 +1,16 @@
-//! Minimal firmware: builds the demo train, updates it with one scan and
-//! builds its loss ledger, then builds a surge-margin monitor and a 4–20 mA signal channel and
+//! Minimal firmware: builds the demo train and updates it with one scan,
+//! then builds a surge-margin monitor and a 4–20 mA signal channel and
 //! updates each once. Two jobs: its size minus `empty` is the kernel's flash
-//! and RAM, and it is the panic-freedom check: its panic handler calls a
+//! and RAM, and it is a panic-freedom check: its panic handler calls a
 //! symbol that is defined nowhere, so if any panic path of `Train::new`,
-//! `Train::update`, `ledger::evaluate_ledger_into`, `SurgeMonitor::new`/
-//! `update` or `Channel::new`/`update` survives optimisation, the link fails.
+//! `Train::update`, `SurgeMonitor::new`/`update` or `Channel::new`/`update`
+//! survives optimisation, the link fails. The `proof` firmware does the same
+//! for every other public entry point.
 #![no_std]
 #![no_main]
 
 use cortex_m_rt::entry;
-use cortex_m_semihosting::debug;
 use polytrope::demo;
-use polytrope::ledger::{evaluate_ledger_into, Ledger, LedgerConfig};
-use polytrope::Measured;
 use polytrope_firmware::codec::decode_scan;
 use polytrope_firmware::front;
 use polytrope_firmware::table::MINIMAL_SCAN;
@@ -22,19 +20,8 @@ fn main() -> ! {
     let train_ok = match demo::train::<f32>() {
         Ok(mut train) => {
             let scan = decode_scan::<f32, { demo::STAGES }>(core::hint::black_box(&MINIMAL_SCAN));
-            let snapshot = *train.update(&scan);
-            core::hint::black_box(&snapshot);
-            // The loss ledger of the same scan (its panic paths too).
-            let mut ledger = Ledger::<f32, { demo::STAGES }>::bad();
-            evaluate_ledger_into(
-                train.config(),
-                &core::hint::black_box(LedgerConfig::default()),
-                &scan,
-                &snapshot,
-                core::hint::black_box(Measured::bad()),
-                &mut ledger,
-            );
-            core::hint::black_box(&ledger);
+            let snapshot = train.update(&scan);
+            core::hint::black_box(snapshot);
             true
         }
         Err(_) => false,
@@ -56,21 +43,7 @@ fn main() -> ! {
         }
         Err(_) => false,
     };
-    let status = if train_ok && surge_ok && channel_ok {
-        debug::EXIT_SUCCESS
-    } else {
-        debug::EXIT_FAILURE
-    };
-    debug::exit(status);
-    #[allow(clippy::empty_loop)]
-    loop {}
+    polytrope_firmware::exit(train_ok && surge_ok && channel_ok)
 }
 
-#[panic_handler]
-fn panic(_: &core::panic::PanicInfo) -> ! {
-    extern "C" {
-        fn polytrope_reachable_panic_path() -> !;
-    }
-    // SAFETY: never defined; a reachable panic fails the link (by design).
-    unsafe { polytrope_reachable_panic_path() }
-}
+polytrope_firmware::link_time_panic_handler!();

@@ -6,7 +6,6 @@
 #![no_main]
 
 use cortex_m_rt::entry;
-use cortex_m_semihosting::debug;
 
 #[entry]
 fn main() -> ! {
@@ -16,16 +15,7 @@ fn main() -> ! {
     #[allow(clippy::indexing_slicing, clippy::unwrap_used)]
     let v = values[i] + missing.unwrap();
     core::hint::black_box(v);
-    debug::exit(debug::EXIT_SUCCESS);
-    #[allow(clippy::empty_loop)]
-    loop {}
+    polytrope_firmware::exit(true)
 }
 
-#[panic_handler]
-fn panic(_: &core::panic::PanicInfo) -> ! {
-    extern "C" {
-        fn polytrope_reachable_panic_path() -> !;
-    }
-    // SAFETY: never defined; a reachable panic fails the link (by design).
-    unsafe { polytrope_reachable_panic_path() }
-}
+polytrope_firmware::link_time_panic_handler!();
