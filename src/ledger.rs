@@ -86,6 +86,59 @@
 //! 32 kW, the uneven split under 1 kW, the two intercoolers 46 kW together,
 //! and the stages' own losses 376 kW, the largest share.
 //!
+//! # Use
+//!
+//! A separate call after [`crate::train::Train::update`], with the same
+//! scan:
+//!
+//! ```
+//! use polytrope::gas::{IdealGas, AIR};
+//! use polytrope::ledger::{evaluate_ledger_into, Ledger, LedgerConfig};
+//! use polytrope::scan::{Scan, StageScan};
+//! use polytrope::steady::SteadyStateConfig;
+//! use polytrope::train::{StageConfig, StageKind, Train, TrainConfig};
+//! use polytrope::units::PressureAbs;
+//! use polytrope::Measured;
+//!
+//! let stage = |p1: f64, p2: f64| StageConfig {
+//!     kind: StageKind::Compressor,
+//!     design_suction_pressure: PressureAbs::from_bar(p1),
+//!     design_discharge_pressure: PressureAbs::from_bar(p2),
+//!     cooler: None,
+//! };
+//! let config = TrainConfig {
+//!     gas: IdealGas::from_spec(&AIR, false, 1.0)?,
+//!     stages: [stage(1.0, 3.0), stage(2.9, 9.0)],
+//!     max_interstage_pressure_drop: 0.1,
+//!     steady_state: SteadyStateConfig::default(),
+//! };
+//! let mut train = Train::<f64, _, 2, 8>::new(config)?;
+//! let mut scan = Scan {
+//!     stages: [
+//!         StageScan::from_si(1.0e5, 300.0, 3.0e5, 430.0),
+//!         StageScan::from_si(2.9e5, 305.0, 9.0e5, 440.0),
+//!     ],
+//! };
+//! scan.stages[0].mass_flow = Some(Measured::good(2.0)); // kg/s
+//! let ledger_config = LedgerConfig::default(); // first-suction reference, no recycle
+//! ledger_config.validate(2)?;
+//! train.update(&scan);
+//! let mut ledger = Ledger::bad();
+//! evaluate_ledger_into(
+//!     train.config(),
+//!     &ledger_config,
+//!     &scan,
+//!     train.snapshot(),
+//!     Measured::bad(), // no recycle flow
+//!     &mut ledger,
+//! );
+//! let total = ledger.measured_total.value;
+//! assert!((ledger.sum_of_lines() - total).abs() < 1e-9 * total);
+//! // Stage 2's suction is 5 K warmer than stage 1's: its intercooler costs.
+//! assert!(ledger.intercooling[1].value > 0.0);
+//! # Ok::<(), polytrope::ConfigError>(())
+//! ```
+//!
 //! The cost per scan is a few isentropic evaluations per stage; the ideal
 //! gas evaluates one stage for all the equal ones ([`GasModel::ratio_only`]).
 //! Measured on the device: see the README.
@@ -561,42 +614,6 @@ fn line<T: Real>(m: Measured<T>, from: Work<T>, to: Work<T>) -> Measured<T> {
     )
 }
 
-/// One compressor stage's measured pressures and suction temperature,
-/// through the sensor boundary.
-#[derive(Clone, Copy)]
-struct Ends<T> {
-    p1: Measured<T>,
-    t1: Measured<T>,
-    p2: Measured<T>,
-    z: Option<T>,
-    q_z: Quality,
-}
-
-fn ends<T: Real, const N: usize>(scan: &Scan<T, N>, i: usize) -> Ends<T> {
-    match scan.stages.get(i) {
-        Some(s) => {
-            let (z, q_z) = match compressibility(s.compressibility) {
-                Some((z, q)) => (Some(z), q),
-                None => (None, Quality::Good),
-            };
-            Ends {
-                p1: pressure_pa(s.suction_pressure),
-                t1: temperature_k(s.suction_temperature),
-                p2: pressure_pa(s.discharge_pressure),
-                z,
-                q_z,
-            }
-        }
-        None => Ends {
-            p1: Measured::bad(),
-            t1: Measured::bad(),
-            p2: Measured::bad(),
-            z: None,
-            q_z: Quality::Bad,
-        },
-    }
-}
-
 /// Builds the ledger for one scan after [`crate::train::Train::update`]:
 /// `config` is the train's configuration (`train.config()`), `snapshot` the
 /// snapshot that update returned for this same `scan`, and
@@ -717,9 +734,20 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
     if nc == 0 || !m_fwd.quality.is_usable() {
         return;
     }
-    let e0 = ends(scan, 0);
-    let el = ends(scan, nc - 1);
-    let (p_s, t_s, p_d) = (e0.p1, e0.t1, el.p2);
+    // The train's ends through the sensor boundary (only the three values
+    // the references use).
+    let (Some(s0), Some(sl)) = (scan.stages.first(), scan.stages.get(nc - 1)) else {
+        return;
+    };
+    let (p_s, t_s, p_d) = (
+        pressure_pa(s0.suction_pressure),
+        temperature_k(s0.suction_temperature),
+        pressure_pa(sl.discharge_pressure),
+    );
+    let (z0, q_z0) = match compressibility(s0.compressibility) {
+        Some((z, q)) => (Some(z), q),
+        None => (None, Quality::Good),
+    };
     let q_base = p_s.quality.worst(t_s.quality).worst(p_d.quality);
     let overall = p_d.value / p_s.value;
     if q_base == Quality::Bad || !(overall > T::ONE) || !T::is_finite(overall) {
@@ -728,10 +756,10 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
     let ln_overall = T::ln(overall);
 
     // Step 0: reversible isothermal.
-    let (w_iso, v_iso) = gas.isothermal_work(p_s.value, p_d.value, ln_overall, t_s.value, e0.z);
+    let (w_iso, v_iso) = gas.isothermal_work(p_s.value, p_d.value, ln_overall, t_s.value, z0);
     let iso = Work {
         value: w_iso,
-        quality: q_base.worst(e0.q_z).worst(isothermal_end(v_iso)),
+        quality: q_base.worst(q_z0).worst(isothermal_end(v_iso)),
     };
     out.isothermal_power =
         Measured::derived(m_fwd.value * iso.value, m_fwd.quality.worst(iso.quality));
