@@ -168,7 +168,9 @@ pub fn waterfall(path: &Path, heading: &str, lines: &[Line]) -> Result<(), CliEr
                 colour.filled(),
             )))
             .map_err(|e| err(e.to_string()))?;
-        let text = format!("{kw:.1}{}", mark(*q));
+        // No "-0.0" for a remainder of rounding size.
+        let shown = if kw.abs() < 0.05 { 0.0 } else { *kw };
+        let text = format!("{shown:.1}{}", mark(*q));
         chart
             .draw_series(std::iter::once(Text::new(
                 text,
