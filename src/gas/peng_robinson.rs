@@ -196,7 +196,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         let mut sum = 0.0;
         for (i, y) in fractions.iter().enumerate() {
             let y = y.to_f64();
-            if !y.is_finite() {
+            if !<f64 as Real>::is_finite(y) {
                 return Err(ConfigError::not_finite("gas.composition.fraction").at(i));
             }
             if !(0.0..=1.0).contains(&y) {
@@ -204,7 +204,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
             }
             sum += y;
         }
-        if !((sum - 1.0).abs() <= FRACTION_SUM_TOLERANCE) {
+        if !(<f64 as Real>::abs(sum - 1.0) <= FRACTION_SUM_TOLERANCE) {
             // The sum is the problem, not one entry: no index.
             return Err(ConfigError::out_of_range(
                 "gas.composition.fraction_sum",
