@@ -620,6 +620,7 @@ impl FaultCode {
             FaultCode::CrossCheck => "cross-check",
             FaultCode::ZeroOffset => "zero-offset",
             FaultCode::InputBad => "input-bad",
+            FaultCode::ClockStep => "clock-step",
         }
     }
 }

@@ -76,6 +76,7 @@
 extern crate std;
 
 pub mod boundary;
+pub mod clock;
 pub mod compression;
 pub mod control;
 pub mod cooler;

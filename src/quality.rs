@@ -87,6 +87,9 @@ pub enum FaultCode {
     // orifice reports `within_limits` instead). Codes are never reused.
     /// A derived value whose input was bad.
     InputBad = 14,
+    /// The sample clock stepped back and the channel resynchronised; the
+    /// first samples after it are uncertain (see [`crate::clock`]).
+    ClockStep = 15,
 }
 
 impl FaultCode {
@@ -95,7 +98,7 @@ impl FaultCode {
         use FaultCode::*;
         match self {
             None => Quality::Good,
-            Ne43SaturatedLow | Ne43SaturatedHigh | Frozen | CrossCheck | ZeroOffset => {
+            Ne43SaturatedLow | Ne43SaturatedHigh | Frozen | CrossCheck | ZeroOffset | ClockStep => {
                 Quality::Uncertain
             }
             Ne43FailureLow | Ne43FailureHigh | SignalOutOfRange | NotFinite | TimeNotAdvancing

@@ -78,6 +78,7 @@ impl<T: Copy, const W: usize> Window<T, W> {
 
     /// The values held, oldest first.
     #[inline]
+    #[allow(dead_code)]
     pub(crate) fn oldest_ordered(&self) -> impl Iterator<Item = &T> {
         // Until full, storage order is chronological; once full, the oldest
         // value sits at `next`.

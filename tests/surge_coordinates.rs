@@ -6,9 +6,9 @@
 //! The map point is invented (natural gas, M = 19.5 kg/kmol, Z = 0.93,
 //! 30 bar(a), 35 degC, 1.2 m3/s at ratio 1.8, n = 1.35).
 //!
-//! Hand calculation of the reduced head: σ = 0.35/1.35 = 0.259 259;
+//! Hand calculation of the head number: σ = 0.35/1.35 = 0.259 259;
 //! 1.8^σ = exp(0.259 259 · 0.587 787) = exp(0.152 389) = 1.164 617;
-//! hr = 0.164 617 / 0.259 259 = 0.634 95.
+//! Y = 0.164 617 / 0.259 259 = 0.634 95.
 
 #![allow(
     clippy::unwrap_used,
@@ -18,7 +18,7 @@
 )]
 
 use polytrope::surge::coordinates::{
-    flow_element_dp, reduced_flow_squared, reduced_head, sigma_from_exponent, z_r_t,
+    flow_element_dp, flow_number, head_number, sigma_from_exponent, z_r_t,
 };
 use polytrope::surge::{MapConditions, SurgeLine, SurgeLineConfig, SurgePoint};
 use polytrope::units::{Kelvin, PressureAbs};
@@ -69,12 +69,12 @@ fn map_point_transform_matches_iso5167_orifice_and_fluids_head() {
     .unwrap();
     let p = line.points()[0];
     // Map route (volume flow, element coefficient) vs the orifice's own dp.
-    assert!(rel(p.reduced_flow_squared, REDUCED_FLOW_SQUARED) < 1e-8);
-    assert!(rel(p.reduced_head, REDUCED_HEAD) < 1e-8);
+    assert!(rel(p.flow_number, REDUCED_FLOW_SQUARED) < 1e-8);
+    assert!(rel(p.head_number, REDUCED_HEAD) < 1e-8);
     // Hand calculation above.
-    assert!((p.reduced_head - 0.63495).abs() < 2e-5);
+    assert!((p.head_number - 0.63495).abs() < 2e-5);
     // Live route: the orifice dp over suction pressure.
-    assert!(rel(reduced_flow_squared(ORIFICE_DP, P1), REDUCED_FLOW_SQUARED) < 1e-9);
+    assert!(rel(flow_number(ORIFICE_DP, P1), REDUCED_FLOW_SQUARED) < 1e-9);
     // Density behind the transform (ρ = p / (Z R T)).
     assert!(rel(P1 / z_r_t(Z, M, T1), DENSITY) < 1e-9);
     let zrt = z_r_t(Z, M, T1);
@@ -85,7 +85,7 @@ fn map_point_transform_matches_iso5167_orifice_and_fluids_head() {
         ) < 1e-8
     );
     // f32 device build of the same transform.
-    let h32 = reduced_head(1.8_f32, sigma_from_exponent(1.35_f32)) as f64;
+    let h32 = head_number(1.8_f32, sigma_from_exponent(1.35_f32)) as f64;
     // Relative bound of a head in this build (src/tolerance.rs; looser with
     // approx-math).
     let (rtol, _) = polytrope::tolerance::SPECIFIC_WORK.active();

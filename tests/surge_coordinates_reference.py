@@ -12,11 +12,11 @@ viscosity 1.1e-5 Pa s, k = 1.28.
 Independent routes used here:
 - fluids.flow_meter.differential_pressure_meter_solver (ISO 5167-2,
   Reader-Harris/Gallagher C, orifice expansibility) gives the orifice dp;
-  the reduced flow squared is then dp / p1.
+  the flow number is then dp / p1.
 - differential_pressure_meter_C_epsilon at that dp gives C and epsilon, from
   which the element coefficient C_elem = C eps E A sqrt(2) (m2) follows.
 - fluids.compressible.isentropic_work_compression with k = n, eta = 1 gives
-  the polytropic work in J/mol; divided by Z R T1 it is the reduced head.
+  the polytropic work in J/mol; divided by Z R T1 it is the head number.
 """
 import math
 
@@ -47,11 +47,11 @@ E = 1.0 / math.sqrt(1.0 - beta**4)
 A = math.pi / 4.0 * D2**2
 c_elem = C * eps * E * A * math.sqrt(2.0)
 w_mol = isentropic_work_compression(T1, N, Z, P1, P1 * RATIO, eta=1.0)
-hr = w_mol / (Z * R * T1)
+Y = w_mol / (Z * R * T1)
 print(f"density_kg_m3 = {rho:.10e}")
 print(f"orifice_dp_pa = {dp:.10e}")
 print(f"discharge_coefficient = {C:.10e}")
 print(f"expansibility = {eps:.10e}")
 print(f"element_coefficient_m2 = {c_elem:.10e}")
-print(f"reduced_flow_squared = {dp / P1:.10e}")
-print(f"reduced_head = {hr:.10e}")
+print(f"flow_number = {dp / P1:.10e}")
+print(f"head_number = {Y:.10e}")

@@ -48,7 +48,7 @@ fn points<T: Real>() -> [SurgePoint<T>; 4] {
     ]
 }
 
-fn monitor<T: Real>() -> SurgeMonitor<T, 6, 10> {
+fn monitor<T: Real>() -> SurgeMonitor<T, 6> {
     let pts = points::<T>();
     let line = SurgeLine::new(&SurgeLineConfig {
         points: &pts,
@@ -67,6 +67,7 @@ fn monitor<T: Real>() -> SurgeMonitor<T, 6, 10> {
         MonitorConfig {
             scan_period: T::of(0.02),
             time_to_surge_horizon: T::of(60.0),
+            rate_filter_time: T::of(0.05),
         },
     )
     .unwrap()
@@ -111,7 +112,7 @@ fn scan<T: Real>(s: (f64, f64, f64)) -> SurgeScan<T> {
     }
 }
 
-fn margin<T: Real>(m: &SurgeMonitor<T, 6, 10>, s: (f64, f64, f64)) -> (f64, Quality) {
+fn margin<T: Real>(m: &SurgeMonitor<T, 6>, s: (f64, f64, f64)) -> (f64, Quality) {
     let st = m.evaluate(&scan::<T>(s), T::ZERO);
     (st.margin.value.to_f64(), st.margin.quality)
 }
@@ -209,8 +210,8 @@ proptest! {
     #[test]
     fn surge_flow_rises_with_head(h1 in 0.0_f64..2.0, dh in 0.0_f64..1.0) {
         let m = monitor::<f64>();
-        let a = m.line().lookup(h1).surge_reduced_flow_squared;
-        let b = m.line().lookup(h1 + dh).surge_reduced_flow_squared;
+        let a = m.line().lookup(h1).surge_flow_number;
+        let b = m.line().lookup(h1 + dh).surge_flow_number;
         prop_assert!(b >= a);
     }
 }
@@ -231,7 +232,7 @@ fn outside_the_mapped_heads_the_margin_is_uncertain() {
     // 10 % more flow at the same ratio (same head): SM = 0.10.
     let st = m.evaluate(&scan::<f64>(signals(1.82 * 1.1, 2.0, MAP_GAS)), 0.02);
     assert!((st.margin.value - 0.10).abs() < 1e-12);
-    assert!((st.deviation.value - (0.10 - 0.12)).abs() < 1e-12);
+    assert!((st.clearance.value - (0.10 - 0.12)).abs() < 1e-12);
     // Between speed lines the control margin is interpolated.
     let st = m.evaluate(&scan::<f64>(signals(2.0, 1.65, MAP_GAS)), 0.0);
     assert!(st.control_margin.value < 0.14 && st.control_margin.value > 0.12);
@@ -246,31 +247,34 @@ fn bad_inputs_give_bad_margin_and_never_nan() {
         (0.0, 2e5, 3000.0),
         (1e5, 2e5, f64::INFINITY),
     ] {
-        let st = *m.update(&scan::<f32>(s), 0.0);
+        let st = *m.update(&scan::<f32>(s), 0.0, 0.02);
         assert_eq!(st.margin.quality, Quality::Bad);
         assert!(st.margin.value.is_finite() && st.time_to_surge.value.is_finite());
     }
     let mut sc = scan::<f32>(signals(2.0, 1.8, MAP_GAS));
     sc.flow_dp = Measured::new(sc.flow_dp.value, Quality::Bad);
-    assert_eq!(m.update(&sc, 0.0).margin.quality, Quality::Bad);
+    assert_eq!(m.update(&sc, 0.0, 0.02).margin.quality, Quality::Bad);
     // Reverse flow (bidirectional transmitter): margin below -1, usable.
     let mut sc = scan::<f32>(signals(2.0, 1.8, MAP_GAS));
     sc.flow_dp.value = -sc.flow_dp.value;
-    let st = m.update(&sc, 0.0);
+    let st = m.update(&sc, 0.0, 0.02);
     assert!(st.margin.value < -1.0 && st.margin.quality == Quality::Good);
 }
 
 #[test]
 fn rate_of_approach_and_time_to_surge_from_a_ramp() {
     let mut m = monitor::<f64>();
-    // Flow falls so that SM falls linearly by 0.01 per 20 ms scan: -0.5/s.
+    // Flow falls so that the margin falls linearly by 0.01 per 20 ms scan:
+    // -0.5/s. The two-pole filter tracks a ramp's slope exactly once
+    // settled (a first-order lag passes a ramp's slope unchanged).
     let surge_q = 1.82;
     let mut last = None;
-    for i in 0..12 {
-        let sm = 0.40 - 0.01 * i as f64;
+    for i in 0..60 {
+        let sm = 0.90 - 0.01 * i as f64;
         last = Some(*m.update(
             &scan::<f64>(signals(surge_q * (1.0 + sm), 2.0, MAP_GAS)),
             0.0,
+            0.02,
         ));
         if i == 3 {
             assert_eq!(last.unwrap().rate_of_approach.quality, Quality::Uncertain);
@@ -278,11 +282,31 @@ fn rate_of_approach_and_time_to_surge_from_a_ramp() {
     }
     let st = last.unwrap();
     assert_eq!(st.rate_of_approach.quality, Quality::Good);
-    assert!((st.rate_of_approach.value - 0.5).abs() < 1e-9);
-    assert!((st.time_to_surge.value - st.margin.value / 0.5).abs() < 1e-9);
+    assert!(
+        (st.rate_of_approach.value - 0.5).abs() < 1e-6,
+        "{}",
+        st.rate_of_approach.value
+    );
+    assert!((st.time_to_surge.value - st.margin.value / st.rate_of_approach.value).abs() < 1e-9);
+    // The same ramp sampled every 40 ms (a missed scan each time) gives the
+    // same rate: the filter works in seconds.
+    let mut m2 = monitor::<f64>();
+    for i in 0..30 {
+        let sm = 0.90 - 0.02 * i as f64;
+        last = Some(*m2.update(
+            &scan::<f64>(signals(surge_q * (1.0 + sm), 2.0, MAP_GAS)),
+            0.0,
+            0.04,
+        ));
+    }
+    assert!((last.unwrap().rate_of_approach.value - 0.5).abs() < 1e-6);
     // Holding steady: not approaching, time at the horizon.
-    for _ in 0..12 {
-        last = Some(*m.update(&scan::<f64>(signals(surge_q * 1.3, 2.0, MAP_GAS)), 0.0));
+    for _ in 0..100 {
+        last = Some(*m.update(
+            &scan::<f64>(signals(surge_q * 1.3, 2.0, MAP_GAS)),
+            0.0,
+            0.02,
+        ));
     }
     assert_eq!(last.unwrap().time_to_surge.value, 60.0);
 }

@@ -25,13 +25,19 @@
 //! time under about 0.2 s, full stroke under about 1 s, flow measurement lag
 //! under about 0.2 s; Botros & Henderson 1994, from memory).
 //!
+//! Measurement noise (optional, [`Noise`]): zero-mean Gaussian, independent
+//! per scan, on every signal the kernel reads, at levels stated on
+//! [`Noise::REALISTIC`] (seeded, so every run is reproducible).
+//!
 //! Every number here is an invented demo scenario (an air blower), not a
 //! real machine. Not a certified safety function; surge data come from the
 //! machine maker and from commissioning tests.
 
 use std::collections::VecDeque;
 
-use polytrope::control::{recycle_power, ControllerInputs, Mode, RecycleConfig, RecycleController};
+use polytrope::control::{
+    recycle_power, ControllerInputs, Mode, RecycleConfig, RecycleController, UncertainMargin,
+};
 use polytrope::surge::{
     DetectionConfig, DetectionScan, MapConditions, MonitorConfig, SurgeDetector, SurgeLine,
     SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
@@ -65,12 +71,19 @@ pub const SUCTION_TEMPERATURE: f64 = 293.15;
 pub const MOLAR_MASS: f64 = 28.96;
 /// Suction flow element coefficient C in Δp = ρ (Q/C)², m².
 pub const FLOW_COEFFICIENT: f64 = 0.35;
-/// Polytropic exponent for the reduced head.
+/// Polytropic exponent for the head number.
 pub const POLYTROPIC_EXPONENT: f64 = 1.5;
 /// Assumed polytropic efficiency for the recycle power, -.
 pub const EFFICIENCY: f64 = 0.8;
-/// Controller rate allowance, s.
-pub const RATE_ALLOWANCE: f64 = 1.0;
+/// Controller anticipation time, s.
+pub const ANTICIPATION_TIME: f64 = 3.0;
+/// Rate of approach below which the controller anticipates nothing, 1/s.
+pub const ANTICIPATION_THRESHOLD: f64 = 0.1;
+/// Rate-of-approach filter time constant (each of two poles), s: half the
+/// flow-measurement lag, which keeps the rate's noise at the stated
+/// [`Noise::REALISTIC`] levels below [`ANTICIPATION_THRESHOLD`] (measured
+/// in `tests/surge_sim.rs`).
+pub const RATE_FILTER_TIME: f64 = 0.05;
 /// Integration step, s.
 pub const STEP: f64 = 0.0005;
 
@@ -100,9 +113,94 @@ fn valve_flow(gamma: f64, psi: f64) -> f64 {
     }
 }
 
+/// Measurement noise: standard deviations of zero-mean Gaussian noise added
+/// to each scan's signals.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Noise {
+    /// Flow element Δp, as a fraction of the reading at the design point
+    /// (throttle 0.8), -.
+    pub flow_dp: f64,
+    /// Suction pressure, Pa.
+    pub suction_pressure: f64,
+    /// Discharge pressure, Pa.
+    pub discharge_pressure: f64,
+    /// Seed of the generator.
+    pub seed: u64,
+}
+
+impl Noise {
+    /// Stated realistic levels (common practice, from memory): flow element
+    /// Δp 0.5 % of the design reading (turbulence at the tappings plus the
+    /// transmitter, for a fast, undamped Δp signal), suction
+    /// pressure 100 Pa and discharge pressure 200 Pa (about 0.05 % of a
+    /// 0–2 bar and 0–4 bar span, a 0.1 %-class transmitter's resolution and
+    /// noise at this bandwidth).
+    pub const REALISTIC: Noise = Noise {
+        flow_dp: 0.005,
+        suction_pressure: 100.0,
+        discharge_pressure: 200.0,
+        seed: 0x5eed_0001,
+    };
+}
+
+/// A small seeded Gaussian generator (xorshift64* and Box–Muller; Marsaglia
+/// 2003 and Box & Muller 1958, from memory).
+#[derive(Clone, Debug)]
+pub struct Gauss {
+    state: u64,
+    spare: Option<f64>,
+}
+
+impl Gauss {
+    /// A generator from a seed (0 is replaced).
+    pub fn new(seed: u64) -> Self {
+        Gauss {
+            state: if seed == 0 {
+                0x9e37_79b9_7f4a_7c15
+            } else {
+                seed
+            },
+            spare: None,
+        }
+    }
+
+    fn uniform(&mut self) -> f64 {
+        let mut x = self.state;
+        x ^= x >> 12;
+        x ^= x << 25;
+        x ^= x >> 27;
+        self.state = x;
+        let r = x.wrapping_mul(0x2545_f491_4f6c_dd1d);
+        ((r >> 11) as f64 + 0.5) / (1u64 << 53) as f64
+    }
+
+    /// One standard normal sample.
+    pub fn next(&mut self) -> f64 {
+        if let Some(z) = self.spare.take() {
+            return z;
+        }
+        let (u1, u2) = (self.uniform(), self.uniform());
+        let r = (-2.0 * u1.ln()).sqrt();
+        let a = 2.0 * std::f64::consts::PI * u2;
+        self.spare = Some(r * a.sin());
+        r * a.cos()
+    }
+}
+
 /// Scenario of one run.
 #[derive(Clone, Copy, Debug)]
 pub struct Scenario {
+    /// Measurement noise (None: exact signals).
+    pub noise: Option<Noise>,
+    /// Greitzer B of the run at the same tip speed (plenum volume changes
+    /// the Helmholtz frequency); [`B`] by default.
+    pub greitzer_b: f64,
+    /// Controller anticipation time, s.
+    pub anticipation_time: f64,
+    /// Controller anticipation threshold, 1/s.
+    pub anticipation_threshold: f64,
+    /// Rate filter time constant, s.
+    pub rate_filter_time: f64,
     /// Controller scan period, s.
     pub scan_period: f64,
     /// Recycle control in automatic (false: valve held closed).
@@ -126,15 +224,21 @@ pub struct Scenario {
 }
 
 impl Default for Scenario {
-    /// 20 ms scan, protection on, throttle closed from 0.8 to 0.3 in 0.5 s
-    /// at t = 2 s; valve 0.1 s dead time, 0.8 s stroke; flow lag 0.1 s.
+    /// 20 ms scan, protection on, throttle closed from 0.8 to 0.3 in 1 s
+    /// at t = 2 s; valve 0.1 s dead time, 0.8 s stroke; flow lag 0.1 s; no
+    /// noise.
     fn default() -> Self {
         Scenario {
+            noise: None,
+            greitzer_b: B,
+            anticipation_time: ANTICIPATION_TIME,
+            anticipation_threshold: ANTICIPATION_THRESHOLD,
+            rate_filter_time: RATE_FILTER_TIME,
             scan_period: 0.02,
             protection: true,
             duration: 20.0,
             load_loss_at: 2.0,
-            load_loss_time: 0.5,
+            load_loss_time: 1.0,
             throttle_before: 0.8,
             throttle_after: 0.3,
             valve_dead_time: 0.1,
@@ -157,12 +261,20 @@ pub struct Sample {
     pub margin_true: f64,
     /// Surge margin the controller saw (lagged flow).
     pub margin_measured: f64,
-    /// Effective control margin (with shift after surge events).
+    /// Effective control margin (with margin added after surge events).
     pub control_margin: f64,
+    /// Rate of approach the controller saw, 1/s.
+    pub rate_of_approach: f64,
+    /// Anticipation margin the controller added, -.
+    pub anticipation: f64,
     /// Valve demand, 0..1.
     pub demand: f64,
     /// Valve position, 0..1.
     pub position: f64,
+    /// Recycle mass flow, kg/s.
+    pub recycle_mass_flow: f64,
+    /// Throttle flow coefficient Φt.
+    pub throttle_flow: f64,
     /// Power spent recirculating, kW.
     pub recycle_power_kw: f64,
     /// Surge events counted.
@@ -182,10 +294,20 @@ pub struct Outcome {
     pub min_flow: f64,
     /// Sign changes of the compressor flow (flow reversals and recoveries).
     pub flow_sign_changes: u32,
+    /// Flow reversals (forward to reverse): one per deep-surge cycle.
+    pub flow_reversals: u32,
     /// Surge cycles the kernel's detector counted.
     pub events: u32,
     /// Trip requested by the detector.
     pub trip: bool,
+    /// Mean true margin over the last 3 s of the run.
+    pub settled_margin: f64,
+    /// Largest minus smallest true margin over the last 3 s of the run.
+    pub settled_swing: f64,
+    /// Mean control margin over the last 3 s of the run.
+    pub settled_control_margin: f64,
+    /// Largest valve position before the load loss starts.
+    pub max_position_before_load_loss: f64,
 }
 
 /// The surge line the kernel uses: the characteristic's peak (Φ = 2W) on
@@ -246,6 +368,12 @@ pub fn steady_point(gamma: f64) -> (f64, f64) {
     (phi, characteristic(phi))
 }
 
+/// Throttle γt at time `t`: the load loss schedule.
+fn throttle_at(sc: &Scenario, t: f64) -> f64 {
+    let f = ((t - sc.load_loss_at) / sc.load_loss_time).clamp(0.0, 1.0);
+    sc.throttle_before + f * (sc.throttle_after - sc.throttle_before)
+}
+
 /// Runs one scenario.
 pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
     let points = surge_points();
@@ -263,18 +391,21 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
     let monitor_cfg = MonitorConfig {
         scan_period: sc.scan_period,
         time_to_surge_horizon: 60.0,
+        rate_filter_time: sc.rate_filter_time.max(sc.scan_period),
     };
-    let truth = SurgeMonitor::<f64, 8, 8>::new(line.clone(), monitor_cfg)?;
-    let mut monitor = SurgeMonitor::<f64, 8, 8>::new(line, monitor_cfg)?;
+    let truth = SurgeMonitor::<f64, 8>::new(line.clone(), monitor_cfg)?;
+    let mut monitor = SurgeMonitor::<f64, 8>::new(line, monitor_cfg)?;
     let mut detector = SurgeDetector::<f64, 32, 4>::new(DetectionConfig {
         scan_period: sc.scan_period,
+        window: 0.64_f64.max(2.0 * sc.scan_period),
+        flow_lag: sc.flow_lag,
         flow_dp_drop: 0.5,
         min_flow_dp: 200.0,
-        discharge_pressure_drop: 0.02,
+        pressure_rise_drop: 0.05,
         suction_temperature_rise: 3.0,
         holdoff: 0.5,
-        shift_per_event: 0.03,
-        max_shift: 0.09,
+        added_margin_per_cycle: 0.03,
+        max_added_margin: 0.09,
         trip_count: 3,
         trip_window: 60.0,
     })?;
@@ -284,13 +415,15 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
             gain: 2.0,
             integral_time: 2.0,
             closing_rate: 0.05,
-            step: 0.15,
-            step_line_fraction: 0.5,
-            step_interval: 1.0,
+            quick_open_step: 0.15,
+            quick_open_fraction: 0.5,
+            quick_open_interval: 1.0,
             min_output: 0.0,
             max_output: 1.0,
             fail_safe_output: 1.0,
-            rate_allowance: RATE_ALLOWANCE,
+            anticipation_time: sc.anticipation_time,
+            anticipation_threshold: sc.anticipation_threshold,
+            on_uncertain: UncertainMargin::HoldOrOpen,
         },
         if sc.protection {
             Mode::Automatic
@@ -304,6 +437,11 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
         tracking_value: 0.0,
         force_open: false,
     };
+    let mut gauss = Gauss::new(sc.noise.map_or(1, |n| n.seed));
+    let design_dp = {
+        let (phi, psi) = steady_point(0.8);
+        signals(phi, psi).2
+    };
 
     let (mut phi, mut psi) = steady_point(sc.throttle_before);
     let mut dp_meas = signals(phi, psi).2;
@@ -312,7 +450,9 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
     let mut delay: VecDeque<f64> = VecDeque::from(vec![0.0; delay_steps.max(1)]);
     let scan_steps = ((sc.scan_period / STEP).round() as usize).max(1);
     let total = (sc.duration / STEP).round() as usize;
-    let dtn = STEP * OMEGA_H;
+    // Greitzer B of this run at the same tip speed: ω_H = U / (2 B Lc).
+    let b = sc.greitzer_b;
+    let dtn = STEP * TIP_SPEED / (2.0 * b * DUCT_LENGTH);
     let mut demand = 0.0;
     let mut out = Outcome {
         min_margin: f64::INFINITY,
@@ -320,31 +460,61 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
         ..Outcome::default()
     };
     let mut last_sign = phi >= 0.0;
-    let mut shift = 0.0;
+    let mut added = 0.0;
+    let settle_from = sc.duration - 3.0;
+    let (mut settled_sum, mut settled_cm, mut settled_n) = (0.0, 0.0, 0u32);
+    let (mut settled_lo, mut settled_hi) = (f64::INFINITY, f64::NEG_INFINITY);
     for i in 0..total {
         let t = i as f64 * STEP;
         // Controller scan (zero-order hold between scans).
         if i % scan_steps == 0 {
-            let (ps, pd, _) = signals(phi, psi);
-            let meas = (ps, pd, dp_meas);
-            let det = *detector.update(&DetectionScan {
-                flow_dp: Measured::good(dp_meas),
-                discharge_pressure: Measured::good(PressureAbs::from_pa(pd)),
-                suction_temperature: None,
-            });
-            shift = det.control_line_shift;
-            let st = *monitor.update(&surge_scan(meas), shift);
-            let c = controller.update(&st, &inputs);
+            let (ps_true, pd_true, _) = signals(phi, psi);
+            let (ps, pd, dp) = match sc.noise {
+                Some(n) => (
+                    ps_true + n.suction_pressure * gauss.next(),
+                    pd_true + n.discharge_pressure * gauss.next(),
+                    dp_meas + n.flow_dp * design_dp * gauss.next(),
+                ),
+                None => (ps_true, pd_true, dp_meas),
+            };
+            let dt = scan_steps as f64 * STEP;
+            let det = *detector.update(
+                &DetectionScan {
+                    flow_dp: Measured::good(dp),
+                    suction_pressure: Measured::good(PressureAbs::from_pa(ps)),
+                    discharge_pressure: Measured::good(PressureAbs::from_pa(pd)),
+                    suction_temperature: None,
+                },
+                dt,
+            );
+            added = det.added_margin;
+            let st = *monitor.update(&surge_scan((ps, pd, dp)), added, dt);
+            let c = controller.update(&st, &inputs, dt);
             demand = c.demand.value;
-            let true_state = truth.evaluate(&surge_scan(signals(phi, psi)), shift);
-            let rho_d = suction_density() * (pd / ps).powf(1.0 / POLYTROPIC_EXPONENT);
-            let recycle_mass =
-                rho_d * valve_flow(RECYCLE_GAMMA * position, psi).max(0.0) * TIP_SPEED * DUCT_AREA;
+            let true_state = truth.evaluate(&surge_scan(signals(phi, psi)), added);
+            // The Greitzer flows are volume flows at compressor-inlet
+            // density (the model's incompressible duct), so the recycle mass
+            // flow takes the suction density.
+            let recycle_mass = suction_density()
+                * valve_flow(RECYCLE_GAMMA * position, psi).max(0.0)
+                * TIP_SPEED
+                * DUCT_AREA;
             let work =
-                true_state.reduced_head.value * RU / MOLAR_MASS * SUCTION_TEMPERATURE / EFFICIENCY;
+                true_state.head_number.value * RU / MOLAR_MASS * SUCTION_TEMPERATURE / EFFICIENCY;
             let loss = recycle_power(Measured::good(recycle_mass), Measured::good(work));
             out.events = det.event_count;
             out.trip |= det.trip_request;
+            if t < sc.load_loss_at {
+                out.max_position_before_load_loss = out.max_position_before_load_loss.max(position);
+            }
+            if t >= settle_from {
+                let m = true_state.margin.value;
+                settled_sum += m;
+                settled_cm += true_state.control_margin.value;
+                settled_n += 1;
+                settled_lo = settled_lo.min(m);
+                settled_hi = settled_hi.max(m);
+            }
             out.samples.push(Sample {
                 t,
                 phi,
@@ -352,8 +522,12 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
                 margin_true: true_state.margin.value,
                 margin_measured: st.margin.value,
                 control_margin: st.control_margin.value,
+                rate_of_approach: st.rate_of_approach.value,
+                anticipation: c.anticipation,
                 demand,
                 position,
+                recycle_mass_flow: recycle_mass,
+                throttle_flow: valve_flow(throttle_at(sc, t), psi),
                 recycle_power_kw: loss.value / 1e3,
                 events: det.event_count,
                 trip: det.trip_request,
@@ -364,15 +538,13 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
         let delayed = delay.pop_front().unwrap_or(demand);
         let max_move = STEP / sc.valve_stroke_time;
         position += (delayed - position).clamp(-max_move, max_move);
-        // Throttle schedule: the load loss.
-        let f = ((t - sc.load_loss_at) / sc.load_loss_time).clamp(0.0, 1.0);
-        let gamma_t = sc.throttle_before + f * (sc.throttle_after - sc.throttle_before);
+        let gamma_t = throttle_at(sc, t);
         let gamma_r = RECYCLE_GAMMA * position;
         // RK4 on (Φc, Ψ) in Greitzer time.
         let deriv = |phi: f64, psi: f64| {
             (
-                B * (characteristic(phi) - psi),
-                (phi - valve_flow(gamma_t, psi) - valve_flow(gamma_r, psi)) / B,
+                b * (characteristic(phi) - psi),
+                (phi - valve_flow(gamma_t, psi) - valve_flow(gamma_r, psi)) / b,
             )
         };
         let k1 = deriv(phi, psi);
@@ -389,15 +561,21 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
         let sign = phi >= 0.0;
         if sign != last_sign {
             out.flow_sign_changes += 1;
+            out.flow_reversals += u32::from(!sign);
             last_sign = sign;
         }
         if t >= sc.load_loss_at {
             let m = truth
-                .evaluate(&surge_scan(signals(phi, psi)), shift)
+                .evaluate(&surge_scan(signals(phi, psi)), added)
                 .margin
                 .value;
             out.min_margin = out.min_margin.min(m);
         }
+    }
+    if settled_n > 0 {
+        out.settled_margin = settled_sum / f64::from(settled_n);
+        out.settled_control_margin = settled_cm / f64::from(settled_n);
+        out.settled_swing = settled_hi - settled_lo;
     }
     Ok(out)
 }

@@ -7,7 +7,7 @@
 //! Surge data come from the machine maker and from commissioning tests.
 
 use crate::cli::{count, CliError, Command, Opt, Parsed};
-use crate::greitzer::{run as simulate, Outcome, Scenario};
+use crate::greitzer::{run as simulate, Noise, Outcome, Scenario};
 use crate::out;
 
 /// The `surge-sim` subcommand.
@@ -35,9 +35,14 @@ const OPTIONS: &[Opt] = &[
         help: "print every Nth controller scan (default 1)",
     },
     Opt {
+        name: "noise",
+        value: None,
+        help: "add the stated realistic measurement noise to every signal (seeded)",
+    },
+    Opt {
         name: "sweep",
         value: None,
-        help: "print the minimum margin for scan periods 5, 20, 50 and 100 ms",
+        help: "print the minimum margin for scan periods 1 to 100 ms, without and with noise",
     },
 ];
 
@@ -50,16 +55,24 @@ fn summary(label: &str, o: &Outcome) -> String {
 
 fn run(p: &Parsed) -> Result<String, CliError> {
     let mut text = String::from(
-        "# Invented demo scenario: air blower on the Greitzer (1976) lumped model; throttle 0.8 -> 0.3 in 0.5 s at t = 2 s.\n",
+        "# Invented demo scenario: air blower on the Greitzer (1976) lumped model; throttle 0.8 -> 0.3 in 1 s at t = 2 s.\n",
     );
     if p.has("sweep") {
-        text.push_str("scan_ms,min_margin_protected\n");
-        for ms in [5u32, 20, 50, 100] {
-            let o = simulate(&Scenario {
+        text.push_str("scan_ms,min_margin,min_margin_noisy,surge_cycles,surge_cycles_noisy\n");
+        for ms in [1u32, 2, 5, 10, 20, 50, 100] {
+            let sc = Scenario {
                 scan_period: f64::from(ms) / 1e3,
                 ..Scenario::default()
+            };
+            let quiet = simulate(&sc)?;
+            let noisy = simulate(&Scenario {
+                noise: Some(Noise::REALISTIC),
+                ..sc
             })?;
-            text.push_str(&format!("{ms},{:.4}\n", o.min_margin));
+            text.push_str(&format!(
+                "{ms},{:.4},{:.4},{},{}\n",
+                quiet.min_margin, noisy.min_margin, quiet.events, noisy.events
+            ));
         }
         text.push_str(&format!("# {}\n", out::CAUTION));
         return Ok(text);
@@ -75,6 +88,7 @@ fn run(p: &Parsed) -> Result<String, CliError> {
     let sc = Scenario {
         scan_period: f64::from(ms) / 1e3,
         protection: !p.has("unprotected"),
+        noise: p.has("noise").then_some(Noise::REALISTIC),
         ..Scenario::default()
     };
     let o = simulate(&sc)?;
@@ -86,18 +100,22 @@ fn run(p: &Parsed) -> Result<String, CliError> {
         },
         &o,
     ));
-    text.push_str("t_s,flow_coefficient,pressure_rise_coefficient,margin,margin_seen,control_margin,valve_demand,valve_position,recycle_power_kw,surge_cycles,trip_request\n");
+    text.push_str("t_s,flow_coefficient,throttle_flow_coefficient,pressure_rise_coefficient,margin,margin_seen,control_margin,rate_of_approach_per_s,anticipation,valve_demand,valve_position,recycle_kg_s,recycle_power_kw,surge_cycles,trip_request\n");
     for s in o.samples.iter().step_by(every) {
         text.push_str(&format!(
-            "{:.3},{:.5},{:.5},{:.5},{:.5},{:.4},{:.4},{:.4},{:.2},{},{}\n",
+            "{:.3},{:.5},{:.5},{:.5},{:.5},{:.5},{:.4},{:.4},{:.4},{:.4},{:.4},{:.3},{:.2},{},{}\n",
             s.t,
             s.phi,
+            s.throttle_flow,
             s.psi,
             s.margin_true,
             s.margin_measured,
             s.control_margin,
+            s.rate_of_approach,
+            s.anticipation,
             s.demand,
             s.position,
+            s.recycle_mass_flow,
             s.recycle_power_kw,
             s.events,
             u8::from(s.trip)

@@ -1,4 +1,4 @@
-//! Recycle (anti-surge) valve control: the PI controller on the deviation
+//! Recycle (anti-surge) valve control: the PI controller on the clearance
 //! from the control line ([`recycle_pi`]), the field outputs through
 //! embedded-hal 1.0 ([`outputs`]) and the power lost to recirculation
 //! ([`mod@recycle_power`]).
@@ -12,9 +12,9 @@
 //! One scan of a protected section:
 //!
 //! ```text
-//! detector.update(fast signals)          -> control_line_shift, trip_request
-//! monitor.update(scan, shift)            -> SurgeState (margin, deviation, ...)
-//! controller.update(&state, inputs)      -> valve demand
+//! detector.update(fast signals, dt)      -> added_margin, trip_request
+//! monitor.update(scan, added_margin, dt) -> SurgeState (margin, clearance, ...)
+//! controller.update(&state, inputs, dt) -> valve demand
 //! outputs.write(demand, alarm, trip)     -> PWM + pins
 //! ```
 
@@ -25,5 +25,7 @@ pub mod recycle_power;
 
 #[cfg(feature = "embedded-hal")]
 pub use outputs::{OutputConfig, OutputError, RecycleOutputs, WriteError};
-pub use recycle_pi::{ControllerInputs, ControllerOutput, Mode, RecycleConfig, RecycleController};
+pub use recycle_pi::{
+    ControllerInputs, ControllerOutput, Mode, RecycleConfig, RecycleController, UncertainMargin,
+};
 pub use recycle_power::{recycle_power, valve_mass_flow};

@@ -7,6 +7,7 @@
 //! check that the transmitter reads zero; a zero offset that persists is
 //! flagged ([`FaultCode::ZeroOffset`]) until a later no-flow check passes.
 
+use crate::clock::SampleClock;
 use crate::error::{check_range, ConfigError};
 use crate::quality::FaultCode;
 use crate::quality::{Measured, Quality};
@@ -42,7 +43,8 @@ pub struct LowFlowOutput<T> {
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct LowFlow<T> {
     config: LowFlowConfig<T>,
-    offset_since: Option<u64>,
+    clock: SampleClock,
+    offset_for_ms: Option<u64>,
     zero_offset: bool,
 }
 
@@ -58,7 +60,8 @@ impl<T: Real> LowFlow<T> {
         )?;
         Ok(LowFlow {
             config,
-            offset_since: None,
+            clock: SampleClock::new(),
+            offset_for_ms: None,
             zero_offset: false,
         })
     }
@@ -68,22 +71,38 @@ impl<T: Real> LowFlow<T> {
         self.zero_offset
     }
 
+    /// Forgets the zero check's timing and flag.
+    pub fn reset(&mut self) {
+        self.clock.reset();
+        self.offset_for_ms = None;
+        self.zero_offset = false;
+    }
+
     /// Applies the zero check (when `no_flow` is known to hold) and the
-    /// cut-off to `dp` at `t_ms`.
+    /// cut-off to `dp` at `t_ms`. The persistence time is counted on the
+    /// sanitised clock of [`crate::signal::clock`]: a frozen or backward
+    /// stamp counts one estimated sample period, so the check neither stalls
+    /// nor restarts on a bad clock.
     pub fn apply(&mut self, dp: Measured<T>, no_flow: bool, t_ms: u64) -> LowFlowOutput<T> {
+        let gap_ms = u64::from(self.config.zero_persist_ms).max(1);
+        let (_, dt_ms) = self.clock.tick(t_ms, gap_ms);
         let usable = dp.quality.is_usable() && T::is_finite(dp.value);
         if usable && no_flow {
             if T::abs(dp.value) > self.config.zero_tolerance {
-                let since = *self.offset_since.get_or_insert(t_ms);
-                if t_ms.saturating_sub(since) >= u64::from(self.config.zero_persist_ms) {
+                let persisted = match self.offset_for_ms {
+                    Some(ms) => ms.saturating_add(dt_ms),
+                    None => 0,
+                };
+                self.offset_for_ms = Some(persisted);
+                if persisted >= u64::from(self.config.zero_persist_ms) {
                     self.zero_offset = true;
                 }
             } else {
-                self.offset_since = None;
+                self.offset_for_ms = None;
                 self.zero_offset = false;
             }
         } else if !no_flow {
-            self.offset_since = None;
+            self.offset_for_ms = None;
         }
         let fault = if self.zero_offset {
             FaultCode::ZeroOffset

@@ -110,6 +110,15 @@ impl<T: Real> DischargeTemperatureConfig<T> {
         )?;
         check_positive("cross_check.smoothing", self.smoothing)?;
         check_range("cross_check.smoothing", self.smoothing, 0.0, 1.0)?;
+        if self.relearn_scans == 0 {
+            // 0 would re-learn on the first disagreeing scan: the check
+            // could never fail.
+            return Err(ConfigError::out_of_range(
+                "cross_check.relearn_scans",
+                1.0,
+                f64::from(u16::MAX),
+            ));
+        }
         Ok(())
     }
 }
@@ -223,7 +232,9 @@ impl<T: Real> DischargeTemperatureCheck<T> {
 /// flows disagreeing by more than `tolerance` (fraction of the larger) both
 /// are marked uncertain; with three or more, those farther than `tolerance`
 /// from the median are (a drifting transmitter is outvoted). Returns how
-/// many flows were marked.
+/// many flows were marked. A `tolerance` that is not finite or outside
+/// [0, 1] cannot check anything: every usable flow is marked uncertain
+/// (fail safe: the check never silently passes).
 pub fn mass_balance<T: Real, const N: usize>(
     flows: &mut [Option<Measured<T>>; N],
     side_draws: &[T; N],
@@ -249,6 +260,17 @@ pub fn mass_balance<T: Real, const N: usize>(
         if T::is_finite(*d) {
             upstream_draws += *d;
         }
+    }
+    let tolerance_ok = T::is_finite(tolerance) && tolerance >= T::ZERO && tolerance <= T::ONE;
+    if !tolerance_ok {
+        let mut marked = 0u8;
+        for (f, _) in flows.iter_mut().zip(used.iter()).filter(|(_, u)| **u) {
+            if let Some(v) = f {
+                *v = v.at_most(Quality::Uncertain);
+                marked = marked.saturating_add(1);
+            }
+        }
+        return marked;
     }
     if count < 2 {
         return 0;

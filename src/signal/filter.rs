@@ -38,7 +38,8 @@ impl<T: Real> LowPass<T> {
         let y = match self.state {
             None => x,
             Some((y, t_last)) => {
-                let dt = T::of(t_ms.saturating_sub(t_last) as f64) * T::of(1.0e-3);
+                let ms = u32::try_from(t_ms.saturating_sub(t_last)).unwrap_or(u32::MAX);
+                let dt = T::of(f64::from(ms)) * T::of(1.0e-3);
                 let denom = tau_s + dt;
                 if denom > T::ZERO {
                     y + dt / denom * (x - y)

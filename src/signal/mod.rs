@@ -3,8 +3,9 @@
 //! [`FaultCode`] saying why not good.
 //!
 //! Per channel ([`Channel`]): scaling ([`channel`]), NAMUR NE 43 current
-//! diagnostics ([`ne43`]), plausibility — not finite, sample time not
-//! advancing, range, rate of change (spike), frozen value ([`plausibility`],
+//! diagnostics ([`ne43`]), the sample clock — frozen, stepped back or
+//! jumping stamps ([`clock`]) — plausibility — not finite, range, rate of
+//! change (spike), frozen value ([`plausibility`],
 //! with instrument tolerances from IEC 60751 in [`rtd_class`]) — filtering
 //! (short median, then first-order low-pass, [`filter`]) and substitution
 //! (hold the last good value as uncertain, then bad, [`substitution`]).
@@ -22,9 +23,12 @@
 //! diagnostics, the machine maker's data and licensed practice.
 //!
 //! Time is a millisecond counter passed in by the caller (no clocks in the
-//! kernel); it must advance between samples of one channel.
+//! kernel); it should advance between samples of one channel. A frozen,
+//! backward or jumping counter is handled by [`clock`]: it ends in bad (frozen)
+//! or in a bounded uncertain resynchronisation, never in a stuck channel.
 
 pub mod channel;
+pub use crate::clock;
 pub mod cross_check;
 pub mod events;
 pub mod filter;

@@ -7,6 +7,7 @@
 //! and an `M`-sample median.
 
 use super::channel::ChannelConfig;
+use super::clock::{SampleClock, Tick};
 use super::events::{Event, EventLog};
 use super::filter::{LowPass, Median};
 use super::plausibility::Plausibility;
@@ -79,6 +80,9 @@ pub struct Channel<T, const W: usize, const M: usize> {
     median: Median<T, M>,
     low_pass: LowPass<T>,
     substitution: Substitution<T>,
+    clock: SampleClock,
+    filter_time_ms: u64,
+    resync_left: u32,
     last: ChannelOutput<T>,
 }
 
@@ -103,8 +107,24 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             median: Median::new(),
             low_pass: LowPass::new(),
             substitution: Substitution::new(),
+            clock: SampleClock::new(),
+            filter_time_ms: 0,
+            resync_left: 0,
             last: ChannelOutput::bad(config.id),
         })
+    }
+
+    /// Forgets every sample, stamp and held value (after a restart, a
+    /// maintenance period or a clock change): the channel is as new.
+    pub fn reset(&mut self) {
+        self.plausibility.reset();
+        self.median.reset();
+        self.low_pass.reset();
+        self.substitution = Substitution::new();
+        self.clock.reset();
+        self.filter_time_ms = 0;
+        self.resync_left = 0;
+        self.last = ChannelOutput::bad(self.config.id);
     }
 
     /// The validated configuration.
@@ -119,20 +139,55 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
 
     /// Processes raw sample `raw` taken at `t_ms`. Any `raw` is accepted
     /// (NaN, infinities, anything): the output is always finite.
+    ///
+    /// Clock faults (see [`super::clock`]): a stamp that does not advance
+    /// makes the sample bad ([`FaultCode::TimeNotAdvancing`]) and one
+    /// estimated sample period still counts toward the hold time, so a
+    /// frozen clock ends in bad after `hold_ms`; a stamp that steps back
+    /// resynchronises the channel, restarts the filters and marks the next
+    /// `M` samples at most uncertain ([`FaultCode::ClockStep`]); a jump ahead
+    /// by more than the gap limit (`hold_ms`, or 8 sample periods if longer)
+    /// restarts the filters from the new sample.
     pub fn update(&mut self, raw: T, t_ms: u64) -> ChannelOutput<T> {
+        let gap_ms = u64::from(self.config.hold_ms)
+            .max(self.clock.period_ms().saturating_mul(8))
+            .max(1);
+        let (tick, dt_ms) = self.clock.tick(t_ms, gap_ms);
+        self.filter_time_ms = self.filter_time_ms.saturating_add(dt_ms);
+        if matches!(tick, Tick::Gap | Tick::SteppedBack) {
+            self.median.reset();
+            self.low_pass.reset();
+            self.plausibility.reset();
+        }
+        if tick == Tick::SteppedBack {
+            self.resync_left = u32::try_from(M).unwrap_or(u32::MAX).max(1);
+        }
         let (v, signal_fault) = self.config.scale(raw);
-        let fault = self.plausibility.check(&self.config, v, t_ms, signal_fault);
+        let mut fault = if tick == Tick::Stalled {
+            FaultCode::TimeNotAdvancing
+        } else {
+            self.plausibility
+                .check(&self.config, v, dt_ms, signal_fault)
+        };
+        if tick != Tick::Stalled && self.resync_left > 0 {
+            self.resync_left -= 1;
+            if fault.quality() == Quality::Good {
+                fault = FaultCode::ClockStep;
+            }
+        }
         let q = fault.quality();
         let (r, f) = if q == Quality::Bad {
             (T::ZERO, T::ZERO)
         } else {
             let m = self.median.update(v);
-            let f = self
-                .low_pass
-                .update(m, t_ms, self.config.filter_time_constant_s);
+            let f =
+                self.low_pass
+                    .update(m, self.filter_time_ms, self.config.filter_time_constant_s);
             (v, f)
         };
-        let s = self.substitution.apply(r, f, q, t_ms, self.config.hold_ms);
+        let s = self
+            .substitution
+            .apply(r, f, q, t_ms, dt_ms, self.config.hold_ms);
         let out = ChannelOutput {
             raw: Measured::derived(s.raw, s.quality),
             filtered: Measured::derived(s.filtered, s.quality),

@@ -1,5 +1,6 @@
-//! Per-sample plausibility of one channel: sample time, range, rate of
-//! change (spike) and frozen value over a rolling window.
+//! Per-sample plausibility of one channel: range, rate of change (spike)
+//! and frozen value over a rolling window. Sample time is judged by the
+//! channel's [`super::clock::SampleClock`] before this runs.
 //!
 //! The tests are common practice in process instrumentation (limit, rate
 //! and "stuck value" checks); the thresholds are per-channel configuration.
@@ -14,8 +15,8 @@ use crate::window::Window;
 #[derive(Clone, Debug)]
 pub struct Plausibility<T, const W: usize> {
     window: Window<T, W>,
-    last_time_ms: Option<u64>,
-    last_accepted: Option<(T, u64)>,
+    last_accepted: Option<T>,
+    since_accepted_ms: u64,
 }
 
 impl<T: Real, const W: usize> Default for Plausibility<T, W> {
@@ -31,28 +32,24 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         const { assert!(W >= 2, "the frozen window needs at least 2 samples") };
         Plausibility {
             window: Window::filled_with(T::ZERO),
-            last_time_ms: None,
             last_accepted: None,
+            since_accepted_ms: 0,
         }
     }
 
-    /// Checks one scaled sample `v` (SI) taken at `t_ms` whose signal-level
-    /// fault is `signal_fault`, and returns the fault of the sample (the
-    /// first that applies: signal level if bad, not finite, time not
-    /// advancing, out of range, spike, frozen, signal level if uncertain).
+    /// Checks one scaled sample `v` (SI), taken `dt_ms` (sanitised) after
+    /// the previous sample, whose signal-level fault is `signal_fault`, and
+    /// returns the fault of the sample (the first that applies: signal level
+    /// if bad, not finite, out of range, spike, frozen, signal level if
+    /// uncertain).
     pub fn check(
         &mut self,
         cfg: &ChannelConfig<T>,
         v: T,
-        t_ms: u64,
+        dt_ms: u64,
         signal_fault: FaultCode,
     ) -> FaultCode {
-        let time_ok = self.last_time_ms.is_none_or(|last| t_ms > last);
-        if time_ok {
-            self.last_time_ms = Some(t_ms);
-        } else {
-            return FaultCode::TimeNotAdvancing;
-        }
+        self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
         if signal_fault.quality() == crate::Quality::Bad {
             return signal_fault;
         }
@@ -62,14 +59,17 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         if v < cfg.plausible_low || v > cfg.plausible_high {
             return FaultCode::OutOfRange;
         }
-        if let Some((last, t_last)) = self.last_accepted {
-            // t_ms > t_last here: times only ever advance.
-            let dt_s = T::of(t_ms.saturating_sub(t_last) as f64) * T::of(1.0e-3);
+        if let Some(last) = self.last_accepted {
+            // Through u32 (saturating at 49 days): an exact u32 -> f64 lets
+            // the f32 build convert in one instruction.
+            let ms = u32::try_from(self.since_accepted_ms).unwrap_or(u32::MAX);
+            let dt_s = T::of(f64::from(ms)) * T::of(1.0e-3);
             if T::abs(v - last) > cfg.max_rate * dt_s {
                 return FaultCode::Spike;
             }
         }
-        self.last_accepted = Some((v, t_ms));
+        self.last_accepted = Some(v);
+        self.since_accepted_ms = 0;
         self.window.write(v);
         if self.window.len() >= W {
             let mut lo = v;
@@ -88,7 +88,7 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
     /// Forgets the history (after a configuration change or restart).
     pub fn reset(&mut self) {
         self.window.clear();
-        self.last_time_ms = None;
         self.last_accepted = None;
+        self.since_accepted_ms = 0;
     }
 }

@@ -13,6 +13,7 @@ use crate::real::Real;
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Substitution<T> {
     last_good: Option<(T, T, u64)>,
+    since_good_ms: u64,
 }
 
 /// What a channel reports after substitution.
@@ -32,24 +33,33 @@ pub struct Substituted<T> {
 impl<T: Real> Substitution<T> {
     /// Nothing held yet.
     pub const fn new() -> Self {
-        Substitution { last_good: None }
+        Substitution {
+            last_good: None,
+            since_good_ms: 0,
+        }
     }
 
-    /// Applies substitution to a sample of quality `q` at `t_ms`. A good or
+    /// Applies substitution to a sample of quality `q` stamped `t_ms`,
+    /// `elapsed_ms` (sanitised by the channel's clock, so a frozen or
+    /// stepped clock still counts) after the previous sample. A good or
     /// uncertain sample passes (a good one is remembered); a bad one is
     /// replaced by the last good values, uncertain, while no more than
-    /// `hold_ms` have passed since that good sample, and by `0`, bad, after.
+    /// `hold_ms` of sanitised time have passed since that good sample, and by
+    /// `0`, bad, after.
     pub fn apply(
         &mut self,
         raw: T,
         filtered: T,
         q: Quality,
         t_ms: u64,
+        elapsed_ms: u64,
         hold_ms: u32,
     ) -> Substituted<T> {
+        self.since_good_ms = self.since_good_ms.saturating_add(elapsed_ms);
         match q {
             Quality::Good => {
                 self.last_good = Some((raw, filtered, t_ms));
+                self.since_good_ms = 0;
                 Substituted {
                     raw,
                     filtered,
@@ -64,7 +74,7 @@ impl<T: Real> Substitution<T> {
                 held: false,
             },
             Quality::Bad => match self.last_good {
-                Some((r, f, t)) if t_ms.saturating_sub(t) <= u64::from(hold_ms) => Substituted {
+                Some((r, f, _)) if self.since_good_ms <= u64::from(hold_ms) => Substituted {
                     raw: r,
                     filtered: f,
                     quality: Quality::Uncertain,

@@ -7,8 +7,8 @@
 //!   coefficient ψ = h/(N² D²) fix the aerodynamic state, and so the surge
 //!   point (e.g. Dixon & Hall, *Fluid Mechanics and Thermodynamics of
 //!   Turbomachinery*, ch. 1 and 2).
-//! - Reduced flow from the flow element's differential pressure over suction
-//!   pressure, and reduced head from the pressure ratio with a polytropic
+//! - Flow number from the flow element's differential pressure over suction
+//!   pressure, and head number from the pressure ratio with a polytropic
 //!   exponent, as used for surge lines in published compressor-map practice
 //!   (Gresh, *Compressor Performance: Aerodynamics for the User*; Botros &
 //!   Henderson, "Developments in centrifugal compressor surge control — a
@@ -22,21 +22,22 @@
 //!
 //! Polytropic head: `hp = Z R Ts · (r^σ − 1)/σ`, `σ = (n − 1)/n`.
 //!
-//! Reduced coordinates:
+//! Map coordinates (this crate's names; the groups are the similarity groups
+//! above):
 //!
 //! ```text
-//! reduced flow squared   qr² = Δp / ps           = (Qs / C)² / (Z R Ts)
-//! reduced head           hr  = (r^σ − 1) / σ      = hp / (Z R Ts)
+//! flow number   X = Δp / ps          = (Qs / C)² / (Z R Ts)
+//! head number   Y = (r^σ − 1) / σ    = hp / (Z R Ts)
 //! ```
 //!
 //! Both are `(velocity / speed of sound)²`-like groups: with
-//! `Qs = φ N D³` and `hp = ψ N² D²`, `qr² = φ² (N D / a*)² D⁴/C²` and
-//! `hr = ψ (N D / a*)²`, where `a*² = Z R Ts`. So a given aerodynamic state
-//! (φ, ψ, machine Mach number) maps to the same (qr², hr) whatever the
+//! `Qs = φ N D³` and `hp = ψ N² D²`, `X = φ² (N D / a*)² D⁴/C²` and
+//! `Y = ψ (N D / a*)²`, where `a*² = Z R Ts`. So a given aerodynamic state
+//! (φ, ψ, machine Mach number) maps to the same (X, Y) whatever the
 //! suction pressure, temperature, compressibility or molar mass: a surge line
 //! drawn in them does not move when the gas or the suction conditions
 //! change, while one drawn in uncorrected flow (kg/s, or Δp alone) does.
-//! `hr/qr²` equals `hp/Qs² · C²`, the speed-independent ratio the fan laws
+//! `Y/X` equals `hp/Qs² · C²`, the speed-independent ratio the fan laws
 //! keep constant along a parabola through the origin.
 //!
 //! Limits (common practice): σ is a configured constant; a large swing in
@@ -57,24 +58,24 @@ pub fn sigma_from_exponent<T: Real>(n: T) -> T {
     (n - T::ONE) / n
 }
 
-/// Reduced flow squared from the live measurement: `qr² = Δp / ps`.
+/// Flow number from the live measurement: `X = Δp / ps`.
 /// Negative when the element sees reverse flow (bidirectional transmitter).
 #[inline]
-pub fn reduced_flow_squared<T: Real>(flow_dp: T, suction_pressure: T) -> T {
+pub fn flow_number<T: Real>(flow_dp: T, suction_pressure: T) -> T {
     flow_dp / suction_pressure
 }
 
-/// Reduced head `hr = (r^σ − 1)/σ` from the pressure ratio `r > 0` and
+/// Head number `Y = (r^σ − 1)/σ` from the pressure ratio `r > 0` and
 /// `σ > 0` (computed as `exp(σ ln r)`).
 #[inline]
-pub fn reduced_head<T: Real>(ratio: T, sigma: T) -> T {
+pub fn head_number<T: Real>(ratio: T, sigma: T) -> T {
     (T::exp(sigma * T::ln(ratio)) - T::ONE) / sigma
 }
 
-/// Inverse of [`reduced_head`]: the pressure ratio giving `hr`.
+/// Inverse of [`head_number`]: the pressure ratio giving `Y`.
 #[inline]
-pub fn ratio_from_reduced_head<T: Real>(reduced_head: T, sigma: T) -> T {
-    T::exp(T::ln(T::ONE + sigma * reduced_head) / sigma)
+pub fn ratio_from_head_number<T: Real>(head_number: T, sigma: T) -> T {
+    T::exp(T::ln(T::ONE + sigma * head_number) / sigma)
 }
 
 /// `Z R Ts`, J/kg, from the molar mass in kg/kmol (the square of the
@@ -84,14 +85,10 @@ pub fn z_r_t<T: Real>(compressibility: T, molar_mass: T, suction_temperature: T)
     compressibility * T::of(MOLAR_GAS_CONSTANT_KMOL) / molar_mass * suction_temperature
 }
 
-/// Reduced flow squared of a map point given as actual volume flow at
-/// suction `Qs` (m³/s): `qr² = (Qs / C)² / (Z R Ts)`, `C` in m².
+/// Flow number of a map point given as actual volume flow at
+/// suction `Qs` (m³/s): `X = (Qs / C)² / (Z R Ts)`, `C` in m².
 #[inline]
-pub fn reduced_flow_squared_from_volume_flow<T: Real>(
-    volume_flow: T,
-    flow_coefficient: T,
-    z_r_t: T,
-) -> T {
+pub fn flow_number_from_volume_flow<T: Real>(volume_flow: T, flow_coefficient: T, z_r_t: T) -> T {
     let v = volume_flow / flow_coefficient;
     v * v / z_r_t
 }
@@ -116,7 +113,8 @@ pub fn reduced_speed<T: Real>(speed_rpm: T, z_r_t: T) -> T {
     speed_rpm / T::sqrt(z_r_t)
 }
 
-/// `sign(x) · √|x|`: reduced flow from reduced flow squared, keeping the
+/// `sign(x) · √|x|`: the signed root of the flow number (∝ suction volume
+/// flow), keeping the
 /// direction of flow.
 #[inline]
 pub fn signed_sqrt<T: Real>(x: T) -> T {
@@ -134,8 +132,8 @@ mod tests {
     #[test]
     fn head_round_trips() {
         let s = sigma_from_exponent(1.5_f64);
-        let h = reduced_head(2.3, s);
-        assert!((ratio_from_reduced_head(h, s) - 2.3).abs() < 1e-12);
+        let h = head_number(2.3, s);
+        assert!((ratio_from_head_number(h, s) - 2.3).abs() < 1e-12);
         assert_eq!(signed_sqrt(-4.0_f64), -2.0);
     }
 }

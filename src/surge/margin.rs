@@ -1,34 +1,68 @@
-//! Live surge margin, deviation from the control line, rate of approach and
+//! Live surge margin, clearance above the control line, rate of approach and
 //! time to surge, every scan, in fixed memory.
 //!
 //! # Definitions
 //!
-//! With `qr = sign(qr²)·√|qr²|` the live reduced flow and `qr,s(hr)` the surge
-//! line's reduced flow at the live reduced head:
+//! With `X = Δp/ps` the live flow number, `Y` the live head number (see
+//! [`super::coordinates`]) and `X_s(Y)` the surge line's flow number at the
+//! live head:
 //!
 //! ```text
-//! surge margin      SM = qr / qr,s(hr) − 1
-//! control line      SM = m_c + shift       (m_c per speed line, shift from detection)
-//! deviation         e  = SM − (m_c + shift)  (> 0: safe side of the control line)
-//! rate of approach  a  = −dSM/dt             (least-squares slope over W scans)
-//! time to surge     t  = SM / a              (a > 0; else the horizon)
+//! surge margin      m = sign(X)·√|X| / √X_s(Y) − 1
+//! control line      m = m_c + m_add     (m_c per speed line, m_add added after surge cycles)
+//! clearance         c = m − (m_c + m_add)  (> 0: safe side of the control line)
+//! rate of approach  a = −dm/dt          (two-pole filtered derivative, time constant τ_a)
+//! time to surge     t = m / a           (a > 0; else the horizon)
 //! ```
 //!
-//! Because the suction volume flow is proportional to `qr` for a given gas
-//! (see [`super::coordinates`]), SM is the fractional excess of the suction
-//! flow over the surge flow at the same head: 0 on the surge line, 0.10 at
-//! 10 % more flow, −1 at zero flow, below −1 in reverse flow.
+//! Because the suction volume flow is proportional to `√X` for a given gas,
+//! m is the fractional excess of the suction flow over the surge flow at the
+//! same head: 0 on the surge line, 0.10 at 10 % more flow, −1 at zero flow,
+//! below −1 in reverse flow.
+//!
+//! # Plausibility (each reason is a [`SurgeFault`])
+//!
+//! - `|Δp| / ps > 0.52` is **bad**: a flow element's throat pressure cannot
+//!   fall below the critical pressure `ps · (2/(k+1))^(k/(k−1))`, which is at
+//!   least `0.487 · ps` for every gas with `k ≤ 5/3` (isentropic nozzle flow;
+//!   textbook gas dynamics, e.g. Anderson, *Modern Compressible Flow*, from
+//!   memory), so a larger Δp is a wrong unit, a wrong range or a failed
+//!   transmitter (bar read as Pa gives Δp/ps in the thousands).
+//! - `0.25 < |Δp| / ps ≤ 0.52` is **uncertain**: ISO 5167-1 requires
+//!   `p2/p1 ≥ 0.75` for its expansibility equations (from memory).
+//! - `pd < ps` (pressure ratio below 1) is **bad**: a running compressor
+//!   cannot discharge below its suction pressure.
+//! - Heads beyond the mapped surge points are **uncertain** (the line is
+//!   held or extended, see [`super::surge_line`]).
+//!
+//! # Time
+//!
+//! The caller passes the measured time since the previous scan. The rate
+//! filter works in seconds, so the rate and the time to surge do not change
+//! with the scan period or with a missed scan. A `dt` that is not finite, not
+//! positive or longer than [`MAX_RATE_GAP`] filter time constants restarts
+//! the rate filter (rate and time to surge bad until it settles again, after
+//! `4 τ_a`, uncertain before).
 //!
 //! Cost per scan: one `ln`, one `exp`, two `sqrt`, at most `N` table steps and
-//! `W` additions for the slope.
+//! a handful of multiplications for the rate.
 
-use super::coordinates::{reduced_flow_squared, reduced_head, signed_sqrt};
+use super::check_setting;
+use super::coordinates::{flow_number, head_number, signed_sqrt};
 use super::surge_line::SurgeLine;
-use crate::error::{outside_documented_range, ConfigError};
+use crate::error::{ConfigError, Problem};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::units::PressureAbs;
-use crate::window::Window;
+
+/// Above this `|Δp|/ps` the flow element reading is impossible (bad).
+pub const FLOW_DP_RATIO_IMPOSSIBLE: f64 = 0.52;
+/// Above this `|Δp|/ps` the flow element is outside ISO 5167 validity
+/// (uncertain).
+pub const FLOW_DP_RATIO_VALID: f64 = 0.25;
+/// A scan interval longer than this many rate-filter time constants
+/// restarts the rate filter.
+pub const MAX_RATE_GAP: f64 = 4.0;
 
 /// One scan of the signals the margin needs.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -43,36 +77,65 @@ pub struct SurgeScan<T> {
     pub flow_dp: Measured<T>,
 }
 
-/// Settings of the margin monitor.
+/// Settings of the margin monitor. Ranges are checked by
+/// [`SurgeMonitor::new`]; errors name the field as `surge_monitor.<field>`.
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct MonitorConfig<T> {
-    /// Scan period, s.
+    /// Nominal scan period, s, in [0.0005, 1].
     pub scan_period: T,
-    /// Longest time to surge reported, s (the value when not approaching).
+    /// Longest time to surge reported, s (the value when not approaching),
+    /// in [1, 3600].
     pub time_to_surge_horizon: T,
+    /// Time constant τ_a of each of the two poles of the rate filter, s, in
+    /// [scan_period, 2]. About the flow-measurement lag is a sound choice:
+    /// shorter only adds noise.
+    pub rate_filter_time: T,
+}
+
+/// Why the margin is not good (`None` when it is).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum SurgeFault {
+    /// No fault.
+    #[default]
+    None,
+    /// An input is bad, not finite, or a pressure not positive.
+    InputBad,
+    /// An input is uncertain.
+    InputUncertain,
+    /// `|Δp|/ps` above [`FLOW_DP_RATIO_IMPOSSIBLE`] (bad).
+    FlowDpImpossible,
+    /// `|Δp|/ps` above [`FLOW_DP_RATIO_VALID`] (uncertain).
+    FlowDpOutsideValidity,
+    /// Discharge pressure below suction pressure (bad).
+    DischargeBelowSuction,
+    /// The head lies beyond the mapped surge points (uncertain).
+    BeyondMap,
 }
 
 /// Margin results of one scan.
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct SurgeState<T> {
-    /// Live reduced flow squared Δp/ps, -.
-    pub reduced_flow_squared: Measured<T>,
-    /// Live reduced head, -.
-    pub reduced_head: Measured<T>,
-    /// Surge line reduced flow squared at the live head, -.
-    pub surge_reduced_flow_squared: Measured<T>,
-    /// Surge margin SM, - (see the module docs).
+    /// Live flow number X = Δp/ps, -.
+    pub flow_number: Measured<T>,
+    /// Live head number Y, -.
+    pub head_number: Measured<T>,
+    /// Surge line flow number at the live head, -.
+    pub surge_flow_number: Measured<T>,
+    /// Surge margin m, - (see the module docs).
     pub margin: Measured<T>,
-    /// Effective control margin m_c + shift, -.
+    /// Effective control margin m_c + m_add, -.
     pub control_margin: Measured<T>,
-    /// Deviation from the control line SM − control margin, - (> 0 safe).
-    pub deviation: Measured<T>,
-    /// Rate of approach −dSM/dt, 1/s (> 0 approaching surge).
+    /// Clearance above the control line m − control margin, - (> 0 safe).
+    pub clearance: Measured<T>,
+    /// Rate of approach −dm/dt, 1/s (> 0 approaching surge).
     pub rate_of_approach: Measured<T>,
-    /// Time to reach SM = 0 at the present rate, s (capped at the horizon).
+    /// Time to reach m = 0 at the present rate, s (capped at the horizon).
     pub time_to_surge: Measured<T>,
+    /// Why the margin is not good.
+    pub fault: SurgeFault,
 }
 
 impl<T: Real> SurgeState<T> {
@@ -80,45 +143,108 @@ impl<T: Real> SurgeState<T> {
     pub fn bad() -> Self {
         let b = Measured::bad();
         SurgeState {
-            reduced_flow_squared: b,
-            reduced_head: b,
-            surge_reduced_flow_squared: b,
+            flow_number: b,
+            head_number: b,
+            surge_flow_number: b,
             margin: b,
             control_margin: b,
-            deviation: b,
+            clearance: b,
             rate_of_approach: b,
             time_to_surge: b,
+            fault: SurgeFault::InputBad,
+        }
+    }
+
+    fn bad_because(fault: SurgeFault) -> Self {
+        SurgeState {
+            fault,
+            ..Self::bad()
+        }
+    }
+}
+
+/// Two-pole filtered derivative of the margin.
+#[derive(Clone, Copy, Debug)]
+struct RateFilter<T> {
+    /// First pole: filtered margin.
+    level: Option<T>,
+    /// Second pole: filtered derivative, 1/s.
+    slope: T,
+    /// Time since the filter (re)started, s.
+    age: T,
+}
+
+impl<T: Real> RateFilter<T> {
+    const fn new() -> Self {
+        RateFilter {
+            level: None,
+            slope: T::ZERO,
+            age: T::ZERO,
+        }
+    }
+
+    fn update(&mut self, m: T, dt: T, tau: T) {
+        match self.level {
+            None => {
+                self.level = Some(m);
+                self.slope = T::ZERO;
+                self.age = T::ZERO;
+            }
+            Some(level) => {
+                let alpha = dt / (tau + dt);
+                let next = level + alpha * (m - level);
+                let derivative = (next - level) / dt;
+                let slope = self.slope + alpha * (derivative - self.slope);
+                if T::is_finite(next) && T::is_finite(slope) {
+                    self.level = Some(next);
+                    self.slope = slope;
+                    self.age += dt;
+                } else {
+                    *self = Self::new();
+                }
+            }
         }
     }
 }
 
 /// Surge margin monitor for one section: a surge line of up to `N` points
-/// and a `W`-scan window for the rate of approach (`W >= 2`).
+/// and a rate-of-approach filter defined in seconds.
 #[derive(Clone, Debug)]
-pub struct SurgeMonitor<T, const N: usize, const W: usize> {
+pub struct SurgeMonitor<T, const N: usize> {
     line: SurgeLine<T, N>,
     config: MonitorConfig<T>,
-    history: Window<T, W>,
+    rate: RateFilter<T>,
     state: SurgeState<T>,
 }
 
-impl<T: Real, const N: usize, const W: usize> SurgeMonitor<T, N, W> {
-    /// A monitor on a validated line. Errors name `scan_period` or
-    /// `time_to_surge_horizon` when not finite and positive.
+impl<T: Real, const N: usize> SurgeMonitor<T, N> {
+    /// A monitor on a validated line. Errors name the offending field.
     pub fn new(line: SurgeLine<T, N>, config: MonitorConfig<T>) -> Result<Self, ConfigError> {
-        const { assert!(W >= 2, "the rate window needs at least 2 scans") };
-        if !(T::is_finite(config.scan_period) && config.scan_period > T::ZERO) {
-            return Err(outside_documented_range("surge_monitor.scan_period"));
-        }
-        if !(T::is_finite(config.time_to_surge_horizon) && config.time_to_surge_horizon > T::ZERO) {
-            return Err(outside_documented_range(
-                "surge_monitor.time_to_surge_horizon",
+        check_setting("surge_monitor.scan_period", config.scan_period, 5.0e-4, 1.0)?;
+        check_setting(
+            "surge_monitor.time_to_surge_horizon",
+            config.time_to_surge_horizon,
+            1.0,
+            3600.0,
+        )?;
+        check_setting(
+            "surge_monitor.rate_filter_time",
+            config.rate_filter_time,
+            5.0e-4,
+            2.0,
+        )?;
+        if config.rate_filter_time < config.scan_period {
+            return Err(ConfigError::new(
+                "surge_monitor.rate_filter_time",
+                Problem::Inconsistent {
+                    with: "surge_monitor.scan_period",
+                },
             ));
         }
         Ok(SurgeMonitor {
             line,
             config,
-            history: Window::filled_with(T::ZERO),
+            rate: RateFilter::new(),
             state: SurgeState::bad(),
         })
     }
@@ -133,74 +259,114 @@ impl<T: Real, const N: usize, const W: usize> SurgeMonitor<T, N, W> {
         &self.state
     }
 
-    /// The live point in reduced coordinates (qr², hr); bad if an input is
-    /// not finite or a pressure is not positive.
-    pub fn reduced_point(&self, scan: &SurgeScan<T>) -> (Measured<T>, Measured<T>) {
+    /// Forgets the rate history and the last result (after a restart).
+    pub fn reset(&mut self) {
+        self.rate = RateFilter::new();
+        self.state = SurgeState::bad();
+    }
+
+    /// The live point in map coordinates (X, Y) with the plausibility
+    /// verdict; bad if an input is not finite, a pressure is not positive,
+    /// Δp/ps is impossible or discharge is below suction.
+    pub fn map_point(&self, scan: &SurgeScan<T>) -> (Measured<T>, Measured<T>, SurgeFault) {
         let ps = scan.suction_pressure.map(|p| p.pa());
         let pd = scan.discharge_pressure.map(|p| p.pa());
         let dp = scan.flow_dp;
-        let inputs_ok = T::is_finite(ps.value)
-            && ps.value > T::ZERO
-            && T::is_finite(pd.value)
-            && pd.value > T::ZERO
-            && T::is_finite(dp.value);
+        let usable = |m: Measured<T>| m.quality.is_usable() && T::is_finite(m.value);
+        let inputs_ok =
+            usable(ps) && ps.value > T::ZERO && usable(pd) && pd.value > T::ZERO && usable(dp);
         if !inputs_ok {
-            return (Measured::bad(), Measured::bad());
+            return (Measured::bad(), Measured::bad(), SurgeFault::InputBad);
+        }
+        let x = flow_number(dp.value, ps.value);
+        let ratio = pd.value / ps.value;
+        if !(T::is_finite(x) && T::abs(x) <= T::of(FLOW_DP_RATIO_IMPOSSIBLE)) {
+            return (
+                Measured::bad(),
+                Measured::bad(),
+                SurgeFault::FlowDpImpossible,
+            );
+        }
+        if !(T::is_finite(ratio) && ratio >= T::ONE) {
+            return (
+                Measured::bad(),
+                Measured::bad(),
+                SurgeFault::DischargeBelowSuction,
+            );
         }
         let q = ps.quality.worst(pd.quality);
-        let q2 = Measured::derived(
-            reduced_flow_squared(dp.value, ps.value),
-            q.worst(dp.quality),
-        );
-        let hr = Measured::derived(reduced_head(pd.value / ps.value, self.line.sigma()), q);
-        (q2, hr)
+        let mut fault = if q.worst(dp.quality) == Quality::Good {
+            SurgeFault::None
+        } else {
+            SurgeFault::InputUncertain
+        };
+        let mut xq = q.worst(dp.quality);
+        if T::abs(x) > T::of(FLOW_DP_RATIO_VALID) {
+            xq = xq.worst(Quality::Uncertain);
+            fault = SurgeFault::FlowDpOutsideValidity;
+        }
+        let x = Measured::derived(x, xq);
+        let y = Measured::derived(head_number(ratio, self.line.sigma()), q);
+        (x, y, fault)
     }
 
     /// The margin of one operating point, without history (rate and time to
-    /// surge bad): a pure function of the scan and the shift.
-    pub fn evaluate(&self, scan: &SurgeScan<T>, control_line_shift: T) -> SurgeState<T> {
-        let (q2, hr) = self.reduced_point(scan);
-        if !q2.quality.is_usable() || !hr.quality.is_usable() {
-            return SurgeState::bad();
+    /// surge bad): a pure function of the scan and the added margin.
+    pub fn evaluate(&self, scan: &SurgeScan<T>, added_margin: T) -> SurgeState<T> {
+        let (x, y, mut fault) = self.map_point(scan);
+        if !x.quality.is_usable() || !y.quality.is_usable() {
+            return SurgeState::bad_because(fault);
         }
-        let look = self.line.lookup(hr.value);
-        let lq = look.quality.worst(hr.quality);
-        let surge_q = T::sqrt(look.surge_reduced_flow_squared);
-        let margin = Measured::derived(
-            signed_sqrt(q2.value) / surge_q - T::ONE,
-            lq.worst(q2.quality),
-        );
-        let shift = if T::is_finite(control_line_shift) {
-            T::max(control_line_shift, T::ZERO)
+        let look = self.line.lookup(y.value);
+        if look.quality != Quality::Good && fault == SurgeFault::None {
+            fault = SurgeFault::BeyondMap;
+        }
+        let lq = look.quality.worst(y.quality);
+        let surge_q = T::sqrt(look.surge_flow_number);
+        let margin =
+            Measured::derived(signed_sqrt(x.value) / surge_q - T::ONE, lq.worst(x.quality));
+        let added = if T::is_finite(added_margin) {
+            T::max(added_margin, T::ZERO)
         } else {
             T::ZERO
         };
-        let control = Measured::derived(look.control_margin + shift, lq);
-        let deviation = Measured::derived(
+        let control = Measured::derived(look.control_margin + added, lq);
+        let clearance = Measured::derived(
             margin.value - control.value,
             margin.quality.worst(control.quality),
         );
+        if !margin.quality.is_usable() {
+            fault = SurgeFault::InputBad;
+        }
         SurgeState {
-            reduced_flow_squared: q2,
-            reduced_head: hr,
-            surge_reduced_flow_squared: Measured::derived(look.surge_reduced_flow_squared, lq),
+            flow_number: x,
+            head_number: y,
+            surge_flow_number: Measured::derived(look.surge_flow_number, lq),
             margin,
             control_margin: control,
-            deviation,
+            clearance,
             rate_of_approach: Measured::bad(),
             time_to_surge: Measured::bad(),
+            fault,
         }
     }
 
-    /// One scan. `control_line_shift` is the extra margin added after surge
-    /// events (from [`super::detection::SurgeDetector`]; 0 without one).
-    /// Never panics; bad inputs give bad margin and clear the rate window.
-    pub fn update(&mut self, scan: &SurgeScan<T>, control_line_shift: T) -> &SurgeState<T> {
-        let mut state = self.evaluate(scan, control_line_shift);
-        if state.margin.quality.is_usable() {
-            self.history.write(state.margin.value);
+    /// One scan, `dt` seconds (measured) after the previous one.
+    /// `added_margin` is the margin added after surge cycles (from
+    /// [`super::detection::SurgeDetector`]; 0 without one). Never panics; bad
+    /// inputs give a bad margin and restart the rate filter.
+    pub fn update(&mut self, scan: &SurgeScan<T>, added_margin: T, dt: T) -> &SurgeState<T> {
+        let mut state = self.evaluate(scan, added_margin);
+        let tau = self.config.rate_filter_time;
+        let dt_ok = T::is_finite(dt) && dt > T::ZERO && dt <= tau * T::of(MAX_RATE_GAP);
+        if state.margin.quality.is_usable() && dt_ok {
+            self.rate.update(state.margin.value, dt, tau);
+        } else if state.margin.quality.is_usable() {
+            // Clock fault or a gap: restart from this sample.
+            self.rate = RateFilter::new();
+            self.rate.update(state.margin.value, T::ONE, tau);
         } else {
-            self.history.clear();
+            self.rate = RateFilter::new();
         }
         let (rate, time) = self.rate_and_time(state.margin);
         state.rate_of_approach = rate;
@@ -209,39 +375,21 @@ impl<T: Real, const N: usize, const W: usize> SurgeMonitor<T, N, W> {
         &self.state
     }
 
-    /// Least-squares slope of the margin history (oldest first), and the
-    /// time to surge. Uncertain until the window is full.
+    /// Rate of approach from the filter, and the time to surge. Bad before
+    /// the second sample, uncertain until the filter has run `4 τ_a`.
     fn rate_and_time(&self, margin: Measured<T>) -> (Measured<T>, Measured<T>) {
-        let n = self.history.len();
-        if n < 2 || !margin.quality.is_usable() {
+        let started = self.rate.level.is_some() && self.rate.age > T::ZERO;
+        if !started || !margin.quality.is_usable() {
             let b = Measured::bad();
             return (b, b);
         }
-        let full = if n == W {
+        let settled = if self.rate.age >= T::of(4.0) * self.config.rate_filter_time {
             Quality::Good
         } else {
             Quality::Uncertain
         };
-        // x = 0..n-1 centred; history.oldest_ordered() yields oldest first.
-        let nf = T::of(n as f64);
-        let xm = (nf - T::ONE) / T::of(2.0);
-        let mut ym = T::ZERO;
-        for &y in self.history.oldest_ordered() {
-            ym += y;
-        }
-        ym = ym / nf;
-        let mut sxy = T::ZERO;
-        let mut sxx = T::ZERO;
-        let mut x = T::ZERO;
-        for &y in self.history.oldest_ordered() {
-            let dx = x - xm;
-            sxy += dx * (y - ym);
-            sxx += dx * dx;
-            x += T::ONE;
-        }
-        let slope_per_scan = sxy / sxx;
-        let approach = -slope_per_scan / self.config.scan_period;
-        let q = full.worst(margin.quality);
+        let approach = -self.rate.slope;
+        let q = settled.worst(margin.quality);
         let rate = Measured::derived(approach, q);
         let horizon = self.config.time_to_surge_horizon;
         let t = if margin.value <= T::ZERO {

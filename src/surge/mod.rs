@@ -1,5 +1,5 @@
-//! Surge protection: a surge line in reduced (invariant) coordinates, the
-//! live surge margin, the deviation from a control line, rate of approach and
+//! Surge protection: a surge line in invariant map coordinates, the
+//! live surge margin, the clearance above a control line, rate of approach and
 //! time to surge, and surge-cycle detection with a trip request.
 //!
 //! **Caution.** Anti-surge control protects machinery and people. This crate
@@ -11,20 +11,20 @@
 //!
 //! # Surge margin
 //!
-//! In reduced coordinates (see [`coordinates`]) — reduced flow squared
-//! `qr² = Δp / ps` (flow element differential pressure over suction
-//! pressure) and reduced head `hr = (r^σ − 1)/σ`, `σ = (n−1)/n` — the surge
-//! margin is
+//! In the map coordinates of [`coordinates`] (this crate's names) — the flow
+//! number `X = Δp / ps` (flow element differential pressure over suction
+//! pressure) and the head number `Y = (r^σ − 1)/σ`, `σ = (n−1)/n` — the
+//! surge margin is
 //!
 //! ```text
-//! SM = qr / qr,s(hr) − 1,    qr = sign(qr²) √|qr²|
+//! m = sign(X)·√|X| / √X_s(Y) − 1
 //! ```
 //!
-//! the fractional excess of flow over the surge flow at the same reduced
-//! head: 0 on the surge line, 0.10 at 10 % more flow (see [`margin`]). The
+//! the fractional excess of flow over the surge flow at the same head
+//! number: 0 on the surge line, 0.10 at 10 % more flow (see [`margin`]). The
 //! control line sits at a per-speed-line control margin (common practice:
 //! about 10 % in flow); [`surge_line`] explains how line and margin vary
-//! with speed.
+//! with speed. The clearance is the margin above the control line.
 //!
 //! ```
 //! use polytrope::surge::{MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig,
@@ -47,13 +47,13 @@
 //!     polytropic_exponent: 1.5,
 //!     flow_coefficient: 0.05,
 //! })?;
-//! let mut monitor = SurgeMonitor::<f64, 4, 8>::new(line, MonitorConfig {
-//!     scan_period: 0.02, time_to_surge_horizon: 60.0 })?;
+//! let mut monitor = SurgeMonitor::<f64, 4>::new(line, MonitorConfig {
+//!     scan_period: 0.02, time_to_surge_horizon: 60.0, rate_filter_time: 0.1 })?;
 //! let state = monitor.update(&SurgeScan {
 //!     suction_pressure: Measured::good(PressureAbs::from_bar(1.0)),
 //!     discharge_pressure: Measured::good(PressureAbs::from_bar(2.2)),
 //!     flow_dp: Measured::good(2500.0),
-//! }, 0.0);
+//! }, 0.0, 0.02);
 //! assert!(state.margin.quality.is_good());
 //! assert!(state.margin.value > 0.0);
 //! # Ok::<(), polytrope::ConfigError>(())
@@ -65,7 +65,20 @@ pub mod margin;
 pub mod surge_line;
 
 pub use detection::{DetectionConfig, DetectionScan, DetectionState, SurgeDetector};
-pub use margin::{MonitorConfig, SurgeMonitor, SurgeScan, SurgeState};
+pub use margin::{MonitorConfig, SurgeFault, SurgeMonitor, SurgeScan, SurgeState};
 pub use surge_line::{
-    LineLookup, MapConditions, ReducedPoint, SurgeLine, SurgeLineConfig, SurgePoint,
+    LineLookup, LinePoint, MapConditions, SurgeLine, SurgeLineConfig, SurgePoint,
 };
+
+/// Configuration range check shared by the surge and control settings: NaN
+/// or infinity ([`crate::Problem::NotFinite`]) or a value outside
+/// `[min, max]` ([`crate::Problem::OutOfRange`]) is refused naming `field`
+/// (a dotted configuration path, e.g. `"recycle.gain"`).
+pub(crate) fn check_setting<T: crate::real::Real>(
+    field: &'static str,
+    value: T,
+    min: f64,
+    max: f64,
+) -> Result<T, crate::error::ConfigError> {
+    crate::error::check_range(field, value, min, max)
+}

@@ -1,20 +1,20 @@
 //! The surge line: the machine maker's surge points, one per speed line,
-//! transformed once into reduced coordinates (see [`super::coordinates`]).
+//! transformed once into map coordinates (see [`super::coordinates`]).
 //!
 //! Source of the method: piecewise-linear interpolation of the surge line in
-//! reduced coordinates, one surge point and one control margin per map speed
+//! map coordinates, one surge point and one control margin per map speed
 //! line (published compressor-map practice; Gresh, *Compressor Performance*,
 //! from memory). Linear interpolation of a strictly increasing table is
-//! monotonic: a higher reduced head never gives a lower surge flow.
+//! monotonic: a higher head number never gives a lower surge flow.
 //!
 //! # How the line and the margin vary with speed
 //!
 //! Each map speed line contributes one point: its surge flow and pressure
 //! ratio, and the control margin chosen for that speed. In reduced
-//! coordinates the points rise with speed (`hr` roughly ∝ N², `qr²` ∝ N²,
+//! coordinates the points rise with speed (`Y` roughly ∝ N², `X` ∝ N²,
 //! the fan-law parabola). The live operating point is placed on the line by
-//! its reduced head, so between two speed lines both the surge flow and the
-//! control margin are interpolated linearly in `hr`. A per-speed margin lets
+//! its head number, so between two speed lines both the surge flow and the
+//! control margin are interpolated linearly in `Y`. A per-speed margin lets
 //! the low-speed end, where speed lines are flat and the line bends, carry a
 //! wider margin than the high-speed end (one margin for all speeds is known
 //! to misbehave at low speed: common practice).
@@ -27,7 +27,7 @@
 use heapless::Vec;
 
 use super::coordinates::{
-    reduced_flow_squared_from_volume_flow, reduced_head, reduced_speed, sigma_from_exponent, z_r_t,
+    flow_number_from_volume_flow, head_number, reduced_speed, sigma_from_exponent, z_r_t,
 };
 use crate::error::{outside_documented_range, ConfigError, Problem};
 use crate::quality::Quality;
@@ -73,32 +73,32 @@ pub struct SurgeLineConfig<'a, T> {
     pub points: &'a [SurgePoint<T>],
     /// Conditions of the map.
     pub map: MapConditions<T>,
-    /// Polytropic exponent n used for the reduced head (map and live), > 1.
+    /// Polytropic exponent n used for the head number (map and live), > 1.
     pub polytropic_exponent: T,
     /// Suction flow element coefficient `C` in `Δp = ρ (Q/C)²`, m².
     pub flow_coefficient: T,
 }
 
-/// A surge-line point in reduced coordinates.
+/// A surge-line point in map coordinates.
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct ReducedPoint<T> {
-    /// Reduced head hr, -.
-    pub reduced_head: T,
-    /// Reduced flow squared qr² = Δp/ps, -.
-    pub reduced_flow_squared: T,
+pub struct LinePoint<T> {
+    /// Head number Y, -.
+    pub head_number: T,
+    /// Flow number X = Δp/ps, -.
+    pub flow_number: T,
     /// Control margin of this speed line, -.
     pub control_margin: T,
     /// Reduced speed N/√(Z R Ts), rpm/(m/s).
     pub reduced_speed: T,
 }
 
-/// The surge line on the reduced head at one operating point.
+/// The surge line on the head number at one operating point.
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct LineLookup<T> {
-    /// Surge reduced flow squared at this reduced head.
-    pub surge_reduced_flow_squared: T,
+    /// Surge flow number at this head number.
+    pub surge_flow_number: T,
     /// Control margin of the speed lines around this head.
     pub control_margin: T,
     /// `Good` inside the mapped heads, `Uncertain` outside.
@@ -109,7 +109,7 @@ pub struct LineLookup<T> {
 #[derive(Clone, Debug)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct SurgeLine<T, const N: usize> {
-    points: Vec<ReducedPoint<T>, N>,
+    points: Vec<LinePoint<T>, N>,
     sigma: T,
 }
 
@@ -121,8 +121,8 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
     /// Transforms and validates the map's surge points.
     ///
     /// Errors name `surge_line.points` ([`Problem::Count`]: fewer than 2 or
-    /// more than `N` points; [`Problem::NotIncreasing`]: speed, reduced head
-    /// and reduced flow must all rise strictly; otherwise a point out of
+    /// more than `N` points; [`Problem::NotIncreasing`]: speed, head number
+    /// and flow number must all rise strictly; otherwise a point out of
     /// range), or the map conditions, exponent and flow coefficient.
     pub fn new(config: &SurgeLineConfig<'_, T>) -> Result<Self, ConfigError> {
         const { assert!(N >= 2, "a surge line needs room for 2 points") };
@@ -179,9 +179,9 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             if !ok {
                 return Err(outside_documented_range("surge_line.points").at(i));
             }
-            let r = ReducedPoint {
-                reduced_head: reduced_head(p.pressure_ratio, sigma),
-                reduced_flow_squared: reduced_flow_squared_from_volume_flow(
+            let r = LinePoint {
+                head_number: head_number(p.pressure_ratio, sigma),
+                flow_number: flow_number_from_volume_flow(
                     p.suction_volume_flow,
                     config.flow_coefficient,
                     zrt,
@@ -189,13 +189,13 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
                 control_margin: p.control_margin,
                 reduced_speed: reduced_speed(p.speed_rpm, zrt),
             };
-            if !(finite_pos(r.reduced_head) && finite_pos(r.reduced_flow_squared)) {
+            if !(finite_pos(r.head_number) && finite_pos(r.flow_number)) {
                 return Err(outside_documented_range("surge_line.points").at(i));
             }
             if let Some(prev) = points.last() {
-                let prev: &ReducedPoint<T> = prev;
-                if !(r.reduced_head > prev.reduced_head
-                    && r.reduced_flow_squared > prev.reduced_flow_squared
+                let prev: &LinePoint<T> = prev;
+                if !(r.head_number > prev.head_number
+                    && r.flow_number > prev.flow_number
                     && r.reduced_speed > prev.reduced_speed)
                 {
                     return Err(
@@ -210,31 +210,31 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
         Ok(SurgeLine { points, sigma })
     }
 
-    /// σ = (n − 1)/n used for the reduced head.
+    /// σ = (n − 1)/n used for the head number.
     pub fn sigma(&self) -> T {
         self.sigma
     }
 
     /// The transformed points, in rising head.
-    pub fn points(&self) -> &[ReducedPoint<T>] {
+    pub fn points(&self) -> &[LinePoint<T>] {
         &self.points
     }
 
-    /// Surge flow and control margin at reduced head `hr` (finite assumed).
+    /// Surge flow and control margin at head number `Y` (finite assumed).
     /// At most `N` iterations.
-    pub fn lookup(&self, hr: T) -> LineLookup<T> {
+    pub fn lookup(&self, head: T) -> LineLookup<T> {
         let pts = self.points.as_slice();
         let (Some(first), Some(last)) = (pts.first(), pts.last()) else {
             // Unreachable after validation; answer "no line" as bad data.
             return LineLookup {
-                surge_reduced_flow_squared: T::ZERO,
+                surge_flow_number: T::ZERO,
                 control_margin: T::ZERO,
                 quality: Quality::Bad,
             };
         };
-        if hr < first.reduced_head {
+        if head < first.head_number {
             return LineLookup {
-                surge_reduced_flow_squared: first.reduced_flow_squared,
+                surge_flow_number: first.flow_number,
                 control_margin: first.control_margin,
                 quality: Quality::Uncertain,
             };
@@ -244,22 +244,22 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
         for pair in pts.windows(2) {
             if let [a, b] = pair {
                 segment = (a, b);
-                if hr <= b.reduced_head {
+                if head <= b.head_number {
                     quality = Quality::Good;
                     break;
                 }
             }
         }
         let (a, b) = segment;
-        let f = (hr - a.reduced_head) / (b.reduced_head - a.reduced_head);
-        let q2 = a.reduced_flow_squared + f * (b.reduced_flow_squared - a.reduced_flow_squared);
+        let f = (head - a.head_number) / (b.head_number - a.head_number);
+        let q2 = a.flow_number + f * (b.flow_number - a.flow_number);
         let cm = if quality == Quality::Good {
             a.control_margin + f * (b.control_margin - a.control_margin)
         } else {
             b.control_margin
         };
         LineLookup {
-            surge_reduced_flow_squared: q2,
+            surge_flow_number: q2,
             control_margin: cm,
             quality,
         }

@@ -9,13 +9,13 @@ use polytrope::surge::{
 use polytrope::units::{Kelvin, PressureAbs};
 use polytrope::{ConfigError, Measured};
 
-/// Surge monitor: a 4-point line and a 10-scan rate window.
-pub type Monitor = SurgeMonitor<f32, 4, 10>;
+/// Surge monitor: a 4-point line and a two-pole rate filter (50 ms).
+pub type Monitor = SurgeMonitor<f32, 4>;
 
 /// One transmitter channel: 8-sample frozen window, 5-sample median.
 pub type PressureChannel = Channel<f32, 8, 5>;
 
-/// Scans to run before measuring, so the rate window is full.
+/// Scans to run before measuring, so the rate filter has settled (4 τ).
 pub const WARM_SCANS: u32 = 12;
 
 /// The monitor on an invented 4-speed surge line (demo data).
@@ -48,6 +48,7 @@ pub fn surge_monitor() -> Result<Monitor, ConfigError> {
         MonitorConfig {
             scan_period: 0.02,
             time_to_surge_horizon: 60.0,
+            rate_filter_time: 0.05,
         },
     )
 }

@@ -18,7 +18,7 @@ use embedded_hal::digital::{ErrorType as PinErrorType, OutputPin};
 use embedded_hal::pwm::{ErrorType as PwmErrorType, SetDutyCycle};
 use polytrope::control::{
     recycle_power, valve_mass_flow, ControllerInputs, Mode, OutputConfig, RecycleConfig,
-    RecycleController, RecycleOutputs,
+    RecycleController, RecycleOutputs, UncertainMargin,
 };
 use polytrope::demo;
 use polytrope::flow::orifice::OrificeInputs;
@@ -88,13 +88,15 @@ pub fn exercise(k: u32) -> bool {
     // Surge detection and the recycle loop behind it.
     let detection = black_box(DetectionConfig {
         scan_period: 0.02_f32,
+        window: 0.64,
+        flow_lag: 0.1,
         flow_dp_drop: 0.3,
         min_flow_dp: 500.0,
-        discharge_pressure_drop: 0.05,
+        pressure_rise_drop: 0.1,
         suction_temperature_rise: 2.0,
         holdoff: 1.0,
-        shift_per_event: 0.02,
-        max_shift: 0.1,
+        added_margin_per_cycle: 0.02,
+        max_added_margin: 0.1,
         trip_count: 3,
         trip_window: 20.0,
     });
@@ -102,13 +104,14 @@ pub fn exercise(k: u32) -> bool {
         Ok(mut d) => {
             let scan = black_box(DetectionScan {
                 flow_dp: good(2_500.0_f32),
+                suction_pressure: good(PressureAbs::from_pa(1.0e5)),
                 discharge_pressure: good(PressureAbs::from_pa(1.9e5)),
                 suction_temperature: Some(good(Kelvin::new(293.0))),
             });
-            let s = *d.update(&scan);
-            d.reset_shift();
+            let s = *d.update(&scan, black_box(0.02));
+            d.reset_added_margin();
             d.reset_trip();
-            s.control_line_shift
+            s.added_margin
         }
         Err(_) => {
             ok = false;
@@ -116,7 +119,11 @@ pub fn exercise(k: u32) -> bool {
         }
     };
     let state = match front::surge_monitor() {
-        Ok(mut m) => *m.update(&front::surge_scan(k), black_box(shift)),
+        Ok(mut m) => {
+            let s = *m.update(&front::surge_scan(k), black_box(shift), black_box(0.02));
+            m.reset();
+            s
+        }
         Err(_) => {
             ok = false;
             polytrope::surge::SurgeState::bad()
@@ -127,13 +134,15 @@ pub fn exercise(k: u32) -> bool {
         gain: 2.0,
         integral_time: 10.0,
         closing_rate: 0.05,
-        step: 0.1,
-        step_line_fraction: 0.5,
-        step_interval: 2.0,
+        quick_open_step: 0.1,
+        quick_open_fraction: 0.5,
+        quick_open_interval: 2.0,
         min_output: 0.0,
         max_output: 1.0,
         fail_safe_output: 1.0,
-        rate_allowance: 2.0,
+        anticipation_time: 2.0,
+        anticipation_threshold: 0.1,
+        on_uncertain: UncertainMargin::HoldOrOpen,
     });
     let demand = match RecycleController::new(recycle, black_box(Mode::Automatic), 0.0) {
         Ok(mut c) => {
@@ -142,9 +151,9 @@ pub fn exercise(k: u32) -> bool {
                 tracking_value: 0.0,
                 force_open: false,
             });
-            let out = c.update(&state, &inputs);
+            let out = c.update(&state, &inputs, black_box(0.02));
             c.set_mode(black_box(Mode::Manual));
-            black_box(c.update(&state, &inputs));
+            black_box(c.update(&state, &inputs, black_box(0.02)));
             out.demand
         }
         Err(_) => {
@@ -200,6 +209,7 @@ pub fn exercise(k: u32) -> bool {
     match LowFlow::new(low) {
         Ok(mut l) => {
             black_box(l.apply(dp, black_box(false), t_ms));
+            l.reset();
         }
         Err(_) => ok = false,
     }
@@ -210,6 +220,9 @@ pub fn exercise(k: u32) -> bool {
         Ok(mut ch) => {
             let (raw, t) = front::raw_sample(k);
             let mut a = ch.update_logged(black_box(raw), t, &mut log);
+            if black_box(k) == u32::MAX {
+                ch.reset();
+            }
             let mut b = a;
             let mut c = a;
             let allowance = black_box(1.0e3_f32);

@@ -133,7 +133,7 @@ fn update_demo(t: &mut DemoTrain<f32>, s: &Scan<f32, { demo::STAGES }>) -> f32 {
 
 #[inline(never)]
 fn update_surge(m: &mut Monitor, s: &polytrope::surge::SurgeScan<f32>) -> f32 {
-    m.update(s, 0.0).margin.value
+    m.update(s, 0.0, 0.02).margin.value
 }
 
 #[inline(never)]
@@ -454,7 +454,7 @@ fn measure_train_new(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u3
     black_box(built);
 }
 
-/// Surge margin (one SurgeMonitor::update with a full rate window) and the
+/// Surge margin (one SurgeMonitor::update with a settled rate filter) and the
 /// signal front end (one 4-20 mA channel), warmed, three scans each, and
 /// their stack high-water marks, in their own frame.
 #[inline(never)]

@@ -30,7 +30,7 @@ fn main() -> ! {
     let surge_ok = match front::surge_monitor() {
         Ok(mut monitor) => {
             let shift = core::hint::black_box(0.0);
-            core::hint::black_box(monitor.update(&front::surge_scan(k), shift));
+            core::hint::black_box(monitor.update(&front::surge_scan(k), shift, 0.02));
             true
         }
         Err(_) => false,
