@@ -24,7 +24,7 @@ use crate::polytropic::PolytropicMethod;
 use crate::quality::{FaultCode, Measured, Quality};
 use crate::real::Real;
 use crate::scan::{CoolerScan, StageScan};
-use crate::stage::{CompressorResult, PumpResult, StageCondition};
+use crate::stage::{CompressorResult, PumpCondition, PumpResult, StageCondition};
 use crate::staging::{InterstagePressure, TrainTotals};
 use crate::steady::SteadyState;
 use crate::tolerance::{self, Tolerance};
@@ -240,6 +240,12 @@ impl<T> IntoField<T> for CoolerCondition {
         FieldValue::Tag(self.as_str())
     }
 }
+impl<T> IntoField<T> for PumpCondition {
+    #[inline]
+    fn into_field(self) -> FieldValue<T> {
+        FieldValue::Tag(self.as_str())
+    }
+}
 /// A plain number (no quality) of the result's own type.
 struct Plain<T>(T);
 impl<T> IntoField<T> for Plain<T> {
@@ -310,16 +316,16 @@ result_fields!(CompressorResult {
         SpecificWork, Difference, "Actual work minus the isothermal head.";
     power_above_isothermal: "power_above_isothermal_W", "Power above isothermal", "W", Power,
         Difference, "Gas power minus isothermal power.";
-    compressibility [plain]: "compressibility", "Compressibility Z (suction)", "-", Compressibility,
-        Computed, "Suction compressibility factor: the configured or supplied mean Z (ideal gas) or computed (Peng-Robinson).";
-    k [plain]: "heat_capacity_ratio", "Isentropic exponent used", "-", Exponent, Computed,
+    compressibility: "compressibility", "Compressibility Z (suction)", "-", Compressibility,
+        Computed, "Suction compressibility factor: the configured or supplied mean Z (ideal gas) or computed (Peng-Robinson), with the quality of what it used.";
+    k: "heat_capacity_ratio", "Isentropic exponent used", "-", Exponent, Computed,
         "The mean k (ideal gas) or the isentropic volume exponent ln(p2/p1)/ln(v1/v2s) (Peng-Robinson).";
     polytropic_method: "polytropic_method", "Polytropic method", "", Condition, Exact,
         "Method of the polytropic head, efficiency and exponent (`schultz`, `sandberg-colby`, `reference-path`).";
     gas_validity: "gas_model_validity", "Gas model", "", Condition, Exact,
-        "The gas model's validity for this stage's states (`in-range` or why not: `near-critical`, `ideal-gas-reduced-pressure`, `liquid-like`, ...); folded into every quality.";
+        "The gas model's validity for this stage's states (`in-range` or why not: `near-critical`, `ideal-gas-reduced-pressure`, `liquid-like`, ...); folded into the quality of every output that uses gas-model states.";
     condition: "condition", "Condition", "", Condition, Exact,
-        "What the evaluation found about its inputs (`normal`, `input-bad`, `no-compression`, `no-temperature-rise`, `efficiency-above-one`, `outside-gas-model`).";
+        "What the evaluation found, the first reason an output is not good (`normal`, `input-bad`, `no-compression`, `no-temperature-rise`, `efficiency-above-one`, `outside-gas-model`, `rating-point`, `ratio-out-of-range`, `implausible-temperature-rise`, `stationary`, `below-resolution`).";
 });
 
 result_fields!(PumpResult {
@@ -341,6 +347,8 @@ result_fields!(PumpResult {
         "Isentropic work an ideal-gas compressor (Z = 1) would need for the pump's pressure ratio from its suction temperature.";
     work_ratio_to_gas: "work_ratio_to_gas", "Pump work / gas work", "-", Fraction, Computed,
         "Pump shaft work over that gas compression work.";
+    condition: "condition", "Condition", "", Condition, Exact,
+        "What the evaluation found (`normal`, `input-bad`, `no-pressure-rise`, `ratio-out-of-range`, `stationary`).";
 });
 
 result_fields!(SteadyState {
@@ -377,9 +385,9 @@ result_fields!(CoolerResult {
     heat_balance_error: "heat_balance_error", "Heat balance error", "-", Fraction, Computed,
         "(gas duty - coolant duty) / gas duty.";
     next_stage_temperature_rise: "next_stage_temperature_rise_K", "Next-stage temperature rise",
-        "K", TemperatureDifference, Computed, "Temperature rise across the next stage.";
+        "K", TemperatureDifference, Computed, "Temperature rise across the next compressor stage (not applicable when none follows).";
     condition: "condition", "Condition", "", Condition, Exact,
-        "What the evaluation found about its inputs (`normal`, `input-bad`, `outlet-above-inlet`, `outlet-below-coolant`, `no-driving-difference`).";
+        "What the evaluation found about its inputs (`normal`, `input-bad`, `outlet-above-inlet`, `outlet-below-coolant`, `no-driving-difference`, `duty-within-noise`, `no-gas-flow`).";
 });
 
 result_fields!(InterstagePressure {
@@ -539,7 +547,9 @@ impl<T: Real, const N: usize> Snapshot<T, N> {
 
 impl StageCondition {
     /// Stable kebab-case name (`normal`, `input-bad`, `no-compression`,
-    /// `no-temperature-rise`, `efficiency-above-one`).
+    /// `no-temperature-rise`, `efficiency-above-one`, `rating-point`,
+    /// `ratio-out-of-range`, `implausible-temperature-rise`, `stationary`,
+    /// `below-resolution`, `outside-gas-model`).
     pub const fn as_str(self) -> &'static str {
         match self {
             StageCondition::Normal => "normal",
@@ -547,6 +557,11 @@ impl StageCondition {
             StageCondition::NoCompression => "no-compression",
             StageCondition::NoTemperatureRise => "no-temperature-rise",
             StageCondition::EfficiencyAboveOne => "efficiency-above-one",
+            StageCondition::RatingPoint => "rating-point",
+            StageCondition::RatioOutOfRange => "ratio-out-of-range",
+            StageCondition::ImplausibleTemperatureRise => "implausible-temperature-rise",
+            StageCondition::Stationary => "stationary",
+            StageCondition::BelowResolution => "below-resolution",
             StageCondition::OutsideGasModel => "outside-gas-model",
         }
     }
@@ -586,9 +601,24 @@ impl ValidityReason {
     }
 }
 
+impl PumpCondition {
+    /// Stable kebab-case name (`normal`, `input-bad`, `no-pressure-rise`,
+    /// `ratio-out-of-range`, `stationary`).
+    pub const fn as_str(self) -> &'static str {
+        match self {
+            PumpCondition::Normal => "normal",
+            PumpCondition::InputBad => "input-bad",
+            PumpCondition::NoPressureRise => "no-pressure-rise",
+            PumpCondition::RatioOutOfRange => "ratio-out-of-range",
+            PumpCondition::Stationary => "stationary",
+        }
+    }
+}
+
 impl CoolerCondition {
     /// Stable kebab-case name (`normal`, `input-bad`, `outlet-above-inlet`,
-    /// `outlet-below-coolant`, `no-driving-difference`).
+    /// `outlet-below-coolant`, `no-driving-difference`, `duty-within-noise`,
+    /// `no-gas-flow`).
     pub const fn as_str(self) -> &'static str {
         match self {
             CoolerCondition::Normal => "normal",
@@ -596,6 +626,8 @@ impl CoolerCondition {
             CoolerCondition::OutletAboveInlet => "outlet-above-inlet",
             CoolerCondition::OutletBelowCoolant => "outlet-below-coolant",
             CoolerCondition::NoDrivingDifference => "no-driving-difference",
+            CoolerCondition::DutyWithinNoise => "duty-within-noise",
+            CoolerCondition::NoGasFlow => "no-gas-flow",
         }
     }
 }
@@ -626,12 +658,13 @@ impl FaultCode {
 }
 
 impl Quality {
-    /// Stable name: `good`, `uncertain` or `bad`.
+    /// Stable name: `good`, `uncertain`, `bad` or `not-applicable`.
     pub const fn as_str(self) -> &'static str {
         match self {
             Quality::Good => "good",
             Quality::Uncertain => "uncertain",
             Quality::Bad => "bad",
+            Quality::NotApplicable => "not-applicable",
         }
     }
 }

@@ -82,11 +82,13 @@ pub mod control;
 pub mod cooler;
 #[cfg(feature = "demo")]
 pub mod demo;
+pub mod dependency;
 pub mod error;
 pub mod fields;
 pub mod flow;
 pub mod gas;
 pub mod ledger;
+pub mod plausibility;
 pub mod polytropic;
 pub mod quality;
 pub mod real;

@@ -565,18 +565,21 @@ fn train_composition_replaced_at_run_time() {
     let z0 = train.update(&scan).stages[0]
         .compressor()
         .unwrap()
-        .compressibility;
+        .compressibility
+        .value;
     assert!(train.gas_mut().set_composition([0.70, 0.25, 0.05]).is_ok());
     let z1 = train.update(&scan).stages[0]
         .compressor()
         .unwrap()
-        .compressibility;
+        .compressibility
+        .value;
     assert!(z1 < z0 - 0.01, "{z0} -> {z1}");
     assert!(train.gas_mut().set_composition([0.70, 0.25, 0.5]).is_err());
     let z2 = train.update(&scan).stages[0]
         .compressor()
         .unwrap()
-        .compressibility;
+        .compressibility
+        .value;
     assert_eq!(z1, z2, "a refused composition leaves the gas as it was");
 }
 

@@ -258,6 +258,26 @@ pub struct PathProperties<T> {
     pub z: T,
 }
 
+/// Which measurements a gas model's path properties depend on, for the
+/// dependency rule ([`crate::dependency`]): an output computed from k or cp
+/// takes the quality of the measurements those were evaluated at.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct PropertyInputs {
+    /// k and cp depend on the path temperatures.
+    pub temperature: bool,
+    /// k and cp depend on the path pressures.
+    pub pressure: bool,
+    /// Z is computed from the state (pressures and temperatures as above),
+    /// not only configured or supplied.
+    pub compressibility_from_state: bool,
+    /// The properties are functions of each state (p, T), not means over
+    /// the path: the suction Z uses only the suction state, the isentropic
+    /// state only the suction state and p2 (not the discharge temperature).
+    /// `false` is always safe.
+    pub state_functions: bool,
+}
+
 /// A gas property model.
 ///
 /// Implementations never panic and return finite values; where they cannot
@@ -402,5 +422,24 @@ pub trait GasModel<T: Real> {
     /// evaluate one stage for several equal ones. Default `false`.
     fn ratio_only(&self) -> bool {
         false
+    }
+
+    /// What [`GasModel::path`] depends on. The default (everything) is
+    /// always safe; a model that ignores an input says so to keep outputs
+    /// good when that measurement fails.
+    fn property_inputs(&self) -> PropertyInputs {
+        PropertyInputs {
+            temperature: true,
+            pressure: true,
+            compressibility_from_state: true,
+            state_functions: false,
+        }
+    }
+
+    /// Quality of the properties over the temperatures `t_a`..`t_b` (either
+    /// order): good inside the model's fitted range, uncertain outside it
+    /// (the model extrapolates or clamps there). The default is good.
+    fn fit_quality(&self, _t_a: T, _t_b: T) -> Quality {
+        Quality::Good
     }
 }

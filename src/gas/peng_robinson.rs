@@ -38,8 +38,8 @@
 
 use super::components::{binary_interaction, Component, CP0_T_MAX, CP0_T_MIN};
 use super::{
-    CompressionStates, GasModel, GasState, PathProperties, Validity, ValidityReason,
-    MOLAR_GAS_CONSTANT, REFERENCE_PRESSURE, REFERENCE_TEMPERATURE,
+    CompressionStates, GasModel, GasState, PathProperties, PropertyInputs, Validity,
+    ValidityReason, MOLAR_GAS_CONSTANT, REFERENCE_PRESSURE, REFERENCE_TEMPERATURE,
 };
 use crate::error::{ConfigError, Problem};
 use crate::quality::Quality;
@@ -520,6 +520,18 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
 }
 
 impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
+    /// Every property is a function of the state (p, T): Z from the suction
+    /// state, the isentropic state from the suction state and p2.
+    #[inline]
+    fn property_inputs(&self) -> PropertyInputs {
+        PropertyInputs {
+            temperature: true,
+            pressure: true,
+            compressibility_from_state: true,
+            state_functions: true,
+        }
+    }
+
     #[inline]
     fn gas_constant(&self) -> T {
         self.gas_constant
@@ -590,19 +602,14 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
                 ..CompressionStates::invalid()
             };
         }
-        // The discharge state first: its isentropic exponent, averaged with
-        // the suction's, starts the entropy match within a fraction of a
-        // kelvin (trapezoid of d ln T / d ln p along the isentrope), so one
-        // evaluation and a first-order step usually finish it.
+        // The entropy match starts from the suction state's isentropic
+        // exponent only: the isentropic state must not depend on the
+        // measured discharge temperature (the dependency rule,
+        // `crate::dependency`: the isentropic head does not use T2), not even
+        // through the solver's start within its tolerance.
         let c2 = t2.map(|t| (t, self.core(p2, t)));
         let m1 = isentropic_temperature_exponent(p1, &c1);
-        let m = match &c2 {
-            Some((_, c)) if c.validity.quality != Quality::Bad => {
-                T::of(0.5) * (m1 + isentropic_temperature_exponent(p2, c))
-            }
-            _ => m1,
-        };
-        let start = t1 * T::exp(m * ln_ratio);
+        let start = t1 * T::exp(m1 * ln_ratio);
         let (t2s, c2s, converged) = self.entropy_match(c1.s, p2, start, t1);
         let mut iso_validity = c1.validity.worst(c2s.validity);
         if !converged {
