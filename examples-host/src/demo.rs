@@ -11,41 +11,9 @@ use polytrope::stage::PumpResult;
 use polytrope::train::{Snapshot, StageResult, StageWork};
 use polytrope::{Measured, Real};
 
-use crate::cli::{count, CliError, Command, Opt, Parsed, Precision};
+use crate::cli::{count, CliError, Parsed, Precision};
 use crate::keys::{self as k, Key};
 use crate::out::{self, disp, Detail, Field, Json, Obj, Val};
-
-/// The `demo` subcommand.
-pub const COMMAND: Command = Command {
-    name: "demo",
-    summary:
-        "run the invented demo train (4 intercooled CO2 compressor stages + a dense-phase pump)",
-    options: OPTIONS,
-    run,
-};
-
-const OPTIONS: &[Opt] = &[
-    Opt {
-        name: "scans",
-        value: Some("N"),
-        help: "scans to run before reporting the last one (default 20, 1..=1000000)",
-    },
-    Opt {
-        name: "precision",
-        value: Some("f32|f64"),
-        help: "kernel build: f32 device build (default) or f64 reference build",
-    },
-    Opt {
-        name: "ledger-png",
-        value: Some("FILE"),
-        help: "also draw the loss ledger of the last scan as a waterfall PNG",
-    },
-    Opt {
-        name: "json",
-        value: None,
-        help: "print JSON (SI units in the keys, quality with every value) instead of tables",
-    },
-];
 
 const DEFAULT_SCANS: u32 = 20;
 
@@ -53,7 +21,8 @@ const SCENARIO: &str = "Invented scenario: a made-up carbon-dioxide train of fou
 intercooled compressor stages and a dense-phase pump, with synthesised measurements. \
 It is not data from any real machine.";
 
-fn run(args: &Parsed) -> Result<String, CliError> {
+/// Runs the subcommand.
+pub fn run(args: &Parsed) -> Result<String, CliError> {
     let scans = match args.get("scans") {
         Some(t) => count("scans", t, 1, 1_000_000)?,
         None => DEFAULT_SCANS,
@@ -61,8 +30,8 @@ fn run(args: &Parsed) -> Result<String, CliError> {
     let precision = Precision::from_option(args.get("precision"), Precision::F32)?;
     let json = args.has("json");
     match precision {
-        Precision::F32 => report::<f32>(args, scans, precision, json),
-        Precision::F64 => report::<f64>(args, scans, precision, json),
+        Precision::F32 => report::<f32>(scans, precision, json),
+        Precision::F64 => report::<f64>(scans, precision, json),
     }
 }
 
@@ -107,7 +76,7 @@ fn share(part: Val, whole: Val) -> Option<f64> {
         .then(|| 100.0 * part.value / whole.value)
 }
 
-struct Parts<T: Real> {
+pub(crate) struct Parts<T: Real> {
     compressors: Vec<(usize, Vec<Field<T>>)>,
     pumps: Vec<(usize, Vec<Field<T>>, Pump<T>)>,
     coolers: Vec<(usize, Vec<Field<T>>)>,
@@ -115,7 +84,10 @@ struct Parts<T: Real> {
 
 type Pump<T> = PumpResult<T>;
 
-fn split<T: Real, const N: usize>(scan: &[StageScan<T>; N], snap: &Snapshot<T, N>) -> Parts<T> {
+pub(crate) fn split<T: Real, const N: usize>(
+    scan: &[StageScan<T>; N],
+    snap: &Snapshot<T, N>,
+) -> Parts<T> {
     let mut parts = Parts {
         compressors: Vec::new(),
         pumps: Vec::new(),
@@ -138,12 +110,7 @@ fn split<T: Real, const N: usize>(scan: &[StageScan<T>; N], snap: &Snapshot<T, N
     parts
 }
 
-fn report<T: Real>(
-    args: &Parsed,
-    scans: u32,
-    precision: Precision,
-    json: bool,
-) -> Result<String, CliError> {
+fn report<T: Real>(scans: u32, precision: Precision, json: bool) -> Result<String, CliError> {
     let mut train = polytrope::demo::train::<T>()?;
     let mut scan = polytrope::demo::scan::<T>(0);
     for i in 0..scans {
@@ -152,27 +119,23 @@ fn report<T: Real>(
     }
     let snap = train.snapshot();
     let parts = split(&scan.stages, snap);
-    let ledger_result = crate::ledger_view::ledger(&train, &scan);
-    let ledger = crate::ledger_view::lines(&ledger_result);
-    if let Some(path) = args.get("ledger-png") {
-        let heading = format!(
-            "Where the power goes: invented demo CO2 train, scan {scans} ({})",
-            precision.word()
-        );
-        crate::ledger_plot::waterfall(std::path::Path::new(path), &heading, &ledger)?;
-    }
+    // The loss ledger of the last scan (polytrope::ledger).
+    let ledger = crate::ledger_view::ledger(&train, &scan);
     if json {
-        let mut j = to_json(scans, precision, snap, &parts);
+        let mut j = to_json(("demo", SCENARIO), scans, precision, snap, &parts);
         if let Json::Obj(o) = &mut j {
-            o.put(&k::LEDGER, crate::ledger_view::json(&ledger_result));
+            o.put(&k::LEDGER, crate::ledger_view::json(&ledger));
         }
         Ok(j.to_text())
     } else {
-        Ok(to_text(scans, precision, snap, &parts) + &crate::ledger_view::text(&ledger))
+        let lines = crate::ledger_view::lines(&ledger);
+        Ok(to_text(("demo", SCENARIO), scans, precision, snap, &parts)
+            + &crate::ledger_view::text(&lines))
     }
 }
 
-fn to_json<T: Real, const N: usize>(
+pub(crate) fn to_json<T: Real, const N: usize>(
+    (command, scenario): (&str, &str),
     scans: u32,
     precision: Precision,
     snap: &Snapshot<T, N>,
@@ -211,8 +174,8 @@ fn to_json<T: Real, const N: usize>(
     out::put_fields(&mut totals, &out::fields_of(&snap.totals));
 
     let mut o = Obj::new();
-    o.str(&k::COMMAND_NAME, "demo")
-        .str(&k::SCENARIO, SCENARIO)
+    o.str(&k::COMMAND_NAME, command)
+        .str(&k::SCENARIO, scenario)
         .str(&k::CAUTION, out::CAUTION)
         .str(&k::PRECISION, precision.word())
         .put(&k::SCANS, Json::Int(i64::from(scans)))
@@ -226,7 +189,8 @@ fn to_json<T: Real, const N: usize>(
     o.done()
 }
 
-fn to_text<T: Real, const N: usize>(
+pub(crate) fn to_text<T: Real, const N: usize>(
+    (command, scenario): (&str, &str),
     scans: u32,
     precision: Precision,
     snap: &Snapshot<T, N>,
@@ -237,7 +201,7 @@ fn to_text<T: Real, const N: usize>(
         Precision::F64 => "f64 (reference build)",
     };
     let mut s = format!(
-        "{} demo\n{SCENARIO}\nKernel: {build}; {scans} scans run, results of the last scan.\n{}\n{}\n",
+        "{} {command}\n{scenario}\nKernel: {build}; {scans} scans run, results of the last scan.\n{}\n{}\n",
         crate::BIN,
         out::CAUTION,
         out::LEGEND

@@ -64,6 +64,7 @@ fn mark(q: Quality) -> &'static str {
         Quality::Good => "",
         Quality::Uncertain => "?",
         Quality::Bad => " --",
+        Quality::NotApplicable => " n/a",
     }
 }
 

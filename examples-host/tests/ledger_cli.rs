@@ -42,13 +42,12 @@ fn demo_json_ledger_closes_on_the_measured_total() {
 }
 
 #[test]
-fn demo_draws_the_ledger_waterfall() {
+fn demo_plots_include_the_ledger_waterfall() {
     let dir = std::env::temp_dir().join(format!("polytrope-ledger-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
-    let png = dir.join("ledger.png");
-    let text = ok(&["demo", "--ledger-png", png.to_str().unwrap()]);
+    let text = ok(&["demo", "--plots", dir.to_str().unwrap()]);
     assert!(text.contains("Where the power goes"));
-    let bytes = std::fs::read(&png).unwrap();
+    let bytes = std::fs::read(dir.join("ledger_waterfall.png")).unwrap();
     assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n");
     assert!(bytes.len() > 10_000);
     let _ = std::fs::remove_dir_all(&dir);
