@@ -6,7 +6,7 @@
 
 mod common;
 
-use common::{ok, parse};
+use common::{ok, parse, JExt};
 
 #[test]
 fn demo_json_ledger_closes_on_the_measured_total() {

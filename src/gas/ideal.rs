@@ -232,6 +232,25 @@ impl<T: Real> IdealGas<T> {
         )
     }
 
+    /// The ideal-gas validity limit K = Tc³/(limit·Pc) set by
+    /// [`IdealGas::with_critical_point`] (0 if the critical point is not
+    /// known): the configuration blob carries it.
+    pub fn validity_limit(&self) -> T {
+        self.reduced_limit
+    }
+
+    /// This gas with the validity limit `k` (as [`IdealGas::validity_limit`]
+    /// returns it; a non-finite or negative `k` clears it).
+    #[must_use]
+    pub fn with_validity_limit(mut self, k: T) -> Self {
+        self.reduced_limit = if T::is_finite(k) && k > T::ZERO {
+            k
+        } else {
+            T::ZERO
+        };
+        self
+    }
+
     /// Mean compressibility factor used when none is supplied per scan.
     pub fn compressibility(&self) -> T {
         self.compressibility
