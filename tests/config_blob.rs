@@ -17,29 +17,35 @@ use polytrope::config_blob::{
     VERSION,
 };
 use polytrope::demo;
-use polytrope::gas::{IdealGas, CARBON_DIOXIDE};
+use polytrope::gas::{HeatCapacity, IdealGas, CARBON_DIOXIDE};
+use polytrope::real::Real;
 use polytrope::train::{Train, TrainConfig};
 use polytrope::Problem;
 
-/// The blob carries ideal-gas trains; the demo train runs on Peng-Robinson
-/// CO2, so the sample is the demo's stages on ideal-gas CO2 (constant k,
-/// with its critical point: the ideal gas's validity limit).
-fn ideal_demo_config() -> TrainConfig<f32, IdealGas<f32>, { demo::STAGES }> {
-    let d = demo::config::<f32>().unwrap();
+/// The demo train's stages on a constant-k ideal CO2 (the blob carries an
+/// ideal gas; the demo itself runs Peng–Robinson, which the blob format does
+/// not describe).
+fn ideal_demo_config<T: Real>() -> TrainConfig<T, IdealGas<T>, { demo::STAGES }> {
+    let cfg = demo::config::<T>().unwrap();
     TrainConfig {
-        gas: IdealGas::from_spec(&CARBON_DIOXIDE, false, 1.0).unwrap(),
-        stages: d.stages,
-        max_interstage_pressure_drop: d.max_interstage_pressure_drop,
-        steady_state: d.steady_state,
+        gas: IdealGas::new(
+            T::of(CARBON_DIOXIDE.molar_mass),
+            HeatCapacity::ConstantK(T::of(CARBON_DIOXIDE.k)),
+            T::ONE,
+        )
+        .unwrap(),
+        stages: cfg.stages,
+        max_interstage_pressure_drop: cfg.max_interstage_pressure_drop,
+        steady_state: cfg.steady_state,
     }
 }
 
 fn ideal_demo_train() -> Train<f32, IdealGas<f32>, { demo::STAGES }, { demo::WINDOW }> {
-    Train::new(ideal_demo_config()).unwrap()
+    Train::new(ideal_demo_config::<f32>()).unwrap()
 }
 
 fn sample() -> (TrainBlob, Vec<u8>) {
-    let cfg = ideal_demo_config();
+    let cfg = ideal_demo_config::<f32>();
     let blob = TrainBlob::from_config(
         &cfg,
         CARBON_DIOXIDE.molar_mass,
@@ -65,7 +71,7 @@ fn round_trip_gives_the_host_configuration() {
     assert!(bytes.len() <= 256, "{}", bytes.len());
     assert_eq!(decode(&bytes).unwrap(), blob);
     let train = decode_train::<f32, { demo::STAGES }, { demo::WINDOW }>(&bytes).unwrap();
-    assert_eq!(*train.config(), ideal_demo_config());
+    assert_eq!(*train.config(), ideal_demo_config::<f32>());
     // The f64 reference build reads the same blob.
     assert!(decode_train::<f64, { demo::STAGES }, { demo::WINDOW }>(&bytes).is_ok());
 }

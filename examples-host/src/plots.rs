@@ -502,15 +502,15 @@ fn series_plots(
 
 /// Writes the demo plots (the invented demo train over 1200 scans at an
 /// assumed 1 s scan, and the invented surge-simulation trajectory) into `dir`.
+/// The host's replay lane runs an ideal gas (train files describe one), so
+/// the plots evaluate the demo's scans on constant-k ideal CO2 with the
+/// demo's stages; the demo itself (`polytrope-host demo`) runs Peng–Robinson.
 pub fn demo_plots(dir: &Path) -> Result<Vec<PathBuf>, CliError> {
-    // The host lane runs ideal-gas trains; the demo train now runs on
-    // Peng-Robinson CO2, so the plots' lane takes its stages on ideal-gas
-    // CO2 with cp(T) (merge bridge between the real-gas and host-CLI work;
-    // the ledger waterfall below uses the same lane).
     let demo_config = polytrope::demo::config::<f32>()?;
+    let gas = polytrope::gas::IdealGas::from_spec(&polytrope::gas::CARBON_DIOXIDE, false, 1.0)?;
     let mut lane = crate::replay::Lane::<f32, { polytrope::demo::STAGES }> {
         train: polytrope::train::Train::new(polytrope::train::TrainConfig {
-            gas: polytrope::gas::IdealGas::from_spec(&polytrope::gas::CARBON_DIOXIDE, true, 1.0)?,
+            gas,
             stages: demo_config.stages,
             max_interstage_pressure_drop: demo_config.max_interstage_pressure_drop,
             steady_state: demo_config.steady_state,
@@ -530,13 +530,19 @@ pub fn demo_plots(dir: &Path) -> Result<Vec<PathBuf>, CliError> {
         crate::replay::record_series(&mut s, &lane);
     }
     let h = s.time.clone();
-    let mut files = series_plots(dir, "demo train (invented scenario)", &s, &h, |i| {
-        if i < 4 {
-            format!("S{} compressor", i + 1)
-        } else {
-            format!("S{} pump", i + 1)
-        }
-    })?;
+    let mut files = series_plots(
+        dir,
+        "demo train (invented scenario; ideal-gas CO2)",
+        &s,
+        &h,
+        |i| {
+            if i < 4 {
+                format!("S{} compressor", i + 1)
+            } else {
+                format!("S{} pump", i + 1)
+            }
+        },
+    )?;
     // The loss ledger of the last scan as a waterfall.
     let ledger = crate::ledger_view::ledger(&lane.train, &polytrope::demo::scan::<f32>(1199));
     let png = dir.join("ledger_waterfall.png");
