@@ -63,6 +63,9 @@ labels_doc = {
     "update_4_stages_3_intercoolers": "**full update, 4 stages + 3 intercoolers** (ideal gas, CO2 with constant k)",
     "update_4_stages_3_intercoolers_peng_robinson": "**full update, 4 stages + 3 intercoolers, Peng–Robinson CO2**",
     "update_demo_5_stages": "full update, demo train (Peng–Robinson CO2: 4 compressors, 3 intercoolers, aftercooler, pump)",
+    "ledger_4_stages": "loss ledger after that update (`evaluate_ledger_into`, 4 stages, first-suction reference)",
+    "ledger_4_stages_coolant_reference": "loss ledger, 4 stages, coolant-inlet-plus-approach reference",
+    "ledger_4_stages_peng_robinson": "loss ledger, 4 stages, Peng–Robinson CO2",
     "train_new_demo_5_stages": "`Train::new` of the demo train (once, at start-up)",
     "surge_margin_update": "surge margin, one `SurgeMonitor::update` (4-point line, rate filter settled)",
     "surge_margin_update_measured_exponent": "surge margin with σ from the measured temperatures (`with_measured_exponent`, σ filter settled)",
@@ -136,6 +139,8 @@ row("train state, demo train (5 stages), bytes",
     lambda t: f"{res[t][1]['state_demo_5_stages']:,}")
 row("stack high-water mark of one update, 4 stages + 3 intercoolers, bytes",
     lambda t: f"{res[t][1]['stack_update_4_stages_3_intercoolers']:,}")
+row("stack high-water mark of one loss ledger, 4 stages, bytes",
+    lambda t: f"{res[t][1]['stack_ledger_4_stages']:,}")
 row("stack high-water mark of one update, 4 stages + 3 intercoolers, Peng–Robinson, bytes",
     lambda t: f"{res[t][1]['stack_update_4_stages_3_intercoolers_peng_robinson']:,}")
 row("stack high-water mark of one update, 4 stages + 3 intercoolers, GERG-2008 table, bytes",
@@ -165,7 +170,7 @@ L.append("Static RAM is zero because the minimal firmware keeps the train on the
          "`SurgeMonitor::new` / `update` or `Channel::new` / `update` survives, and the "
          "`proof` firmware does the same for every other public entry point (surge "
          "detection, recycle controller and outputs, orifice, flow element, low-flow "
-         "cut-off, cross-checks, event log, recycle loss, the gas models: Peng–Robinson construction and composition update, state functions, entropy match, polytropic methods: `ci/firmware/src/proof.rs`), and the "
+         "cut-off, cross-checks, event log, recycle loss, the loss ledger, the gas models: Peng–Robinson construction and composition update, state functions, entropy match, polytropic methods: `ci/firmware/src/proof.rs`), and the "
          "`gateway` firmware (the minimal one plus the register image) for "
          "`RegisterImage::new` / `pack` and `decode_command`; "
          "`ci/checks.d/firmware.sh` also checks that a deliberately panicking probe fails "

@@ -91,6 +91,7 @@ pub mod error;
 pub mod fields;
 pub mod flow;
 pub mod gas;
+pub mod ledger;
 pub mod plausibility;
 pub mod polytropic;
 pub mod quality;

@@ -25,6 +25,8 @@ mod evaluate;
 // Register image over Modbus TCP, and its map.
 mod gateway;
 mod keys;
+mod ledger_plot;
+mod ledger_view;
 mod orifice_cmd;
 mod out;
 mod plots;

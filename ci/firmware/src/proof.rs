@@ -4,7 +4,7 @@
 //! whose link-time panic check then covers them: surge detection, the recycle
 //! controller and its embedded-hal outputs, the ISO 5167 orifice, the
 //! generic flow element, the low-flow cut-off, the cross-checks, the event
-//! log, the recycle-loss helpers and the gas models' own entry points
+//! log, the recycle-loss helpers, the loss ledger and the gas models' own entry points
 //! (Peng-Robinson construction and composition update, state functions,
 //! polytropic methods).
 //!
@@ -20,10 +20,14 @@ use polytrope::control::{
     recycle_power, valve_mass_flow, ControllerInputs, Mode, OutputConfig, RecycleConfig,
     RecycleController, RecycleOutputs, UncertainMargin,
 };
+use polytrope::demo;
 use polytrope::flow::orifice::OrificeInputs;
 use polytrope::flow::{FlowElement, LowFlow, LowFlowConfig, Orifice, OrificeConfig, TapType};
 use polytrope::gas::components::{CARBON_DIOXIDE, ETHANE, METHANE, NITROGEN, PROPANE};
-use polytrope::gas::{GasModel, IdealGas, PengRobinson, AIR};
+use polytrope::gas::{GasModel, IdealGas, PengRobinson, AIR, CARBON_DIOXIDE as CO2_IDEAL};
+use polytrope::ledger::{
+    evaluate_ledger_into, CoolingReference, Ledger, LedgerConfig, RecycleLoop,
+};
 use polytrope::polytropic::{path_discharge_temperature, reference_path, sandberg_colby, schultz};
 use polytrope::quality::{Measured, Quality};
 use polytrope::signal::cross_check::{
@@ -32,11 +36,14 @@ use polytrope::signal::cross_check::{
 };
 use polytrope::signal::{Event, EventLog, FaultCode};
 use polytrope::surge::{DetectionConfig, DetectionScan, SurgeDetector};
+use polytrope::train::{Train, TrainConfig};
 use polytrope::units::{Kelvin, PressureAbs};
 
+use crate::codec::decode_scan;
 use crate::front;
 use crate::gas_tables::{HYDROGEN_BLOB, NG_BOOSTER};
 use polytrope::gas::table::{PropertyTable, TableGas};
+use crate::table::MINIMAL_SCAN;
 
 /// A PWM channel that keeps the last duty (stands in for a timer).
 struct Pwm(u16);
@@ -291,7 +298,57 @@ pub fn exercise(k: u32) -> bool {
         Err(_) => ok = false,
     }
     ok &= gas_models();
+    ok &= ledger();
     ok
+}
+
+/// The loss ledger after a train update, on the demo's Peng-Robinson train
+/// and on the same train with an ideal gas, with the coolant-inlet
+/// reference and a recycle loop (`evaluate_ledger_into`,
+/// `LedgerConfig::validate`, `Ledger::visit_lines`).
+#[inline(never)]
+fn ledger() -> bool {
+    let cfg = LedgerConfig {
+        cooling_reference: CoolingReference::CoolantInletPlusApproach {
+            design_approach: black_box(8.0_f32),
+        },
+        recycle: Some(black_box(RecycleLoop {
+            first_stage: 0,
+            last_stage: 3,
+        })),
+    };
+    if cfg.validate(black_box(4)).is_err() {
+        return false;
+    }
+    let scan = decode_scan::<f32, { demo::STAGES }>(black_box(&MINIMAL_SCAN));
+    let recycle = black_box(good(0.5_f32));
+    let mut out = Ledger::<f32, { demo::STAGES }>::bad();
+    let Ok(mut train) = demo::train::<f32>() else {
+        return false;
+    };
+    let snap = *train.update(&scan);
+    evaluate_ledger_into(train.config(), &cfg, &scan, &snap, recycle, &mut out);
+    let mut sum = 0.0_f32;
+    out.visit_lines(&mut |_, _, m| sum += m.value);
+    black_box(sum);
+    let Ok(gas) = IdealGas::<f32>::from_spec(&CO2_IDEAL, black_box(false), 1.0) else {
+        return false;
+    };
+    let Ok(demo_cfg) = demo::config::<f32>() else {
+        return false;
+    };
+    let Ok(mut ideal) = Train::<f32, _, { demo::STAGES }, { demo::WINDOW }>::new(TrainConfig {
+        gas,
+        stages: demo_cfg.stages,
+        max_interstage_pressure_drop: demo_cfg.max_interstage_pressure_drop,
+        steady_state: demo_cfg.steady_state,
+    }) else {
+        return false;
+    };
+    let snap = *ideal.update(&scan);
+    evaluate_ledger_into(ideal.config(), &cfg, &scan, &snap, recycle, &mut out);
+    black_box(&out);
+    true
 }
 
 /// The gas models' entry points beyond what a train update calls: a

@@ -28,6 +28,7 @@ use polytrope::gas::components::{CARBON_DIOXIDE, ETHANE, METHANE, NITROGEN, PROP
 use polytrope::gas::table::PropertyTable;
 use polytrope::gas::table::TableGas;
 use polytrope::gas::{GasModel, IdealGas, PengRobinson, CARBON_DIOXIDE as CO2_IDEAL};
+use polytrope::ledger::{evaluate_ledger_into, CoolingReference, Ledger, LedgerConfig};
 use polytrope::quality::{Measured, Quality};
 use polytrope::scan::Scan;
 use polytrope::stage::{
@@ -162,6 +163,62 @@ fn pack(
 #[inline(never)]
 fn update_budget(t: &mut BudgetTrain, s: &Scan<f32, BUDGET_STAGES>) -> f32 {
     t.update(s).totals.total_power.value
+}
+
+/// One loss ledger after the budget train's update of the same scan.
+#[inline(never)]
+fn ledger_budget<G: GasModel<f32>>(
+    t: &Train<f32, G, BUDGET_STAGES, { demo::WINDOW }>,
+    cfg: &LedgerConfig<f32>,
+    s: &Scan<f32, BUDGET_STAGES>,
+    out: &mut Ledger<f32, BUDGET_STAGES>,
+) -> f32 {
+    evaluate_ledger_into(t.config(), cfg, s, t.snapshot(), Measured::bad(), out);
+    out.remainder.value
+}
+
+/// Measures the loss ledger after a budget update of `s` (ideal gas: the
+/// first-suction and the coolant-inlet reference with an 8 K design
+/// approach; Peng–Robinson: the first-suction reference). Out of line so
+/// its locals do not add to `main`'s frame (the Cortex-M0 has 16 KiB).
+#[inline(never)]
+fn measure_ledgers<G: GasModel<f32>>(
+    h: &mut Host,
+    label: &mut impl FnMut(&mut Host, &str) -> u32,
+    t: &Train<f32, G, BUDGET_STAGES, { demo::WINDOW }>,
+    s: &Scan<f32, BUDGET_STAGES>,
+    peng_robinson: bool,
+) {
+    let first = black_box(LedgerConfig::<f32>::default());
+    let coolant = black_box(LedgerConfig::<f32> {
+        cooling_reference: CoolingReference::CoolantInletPlusApproach {
+            design_approach: 8.0,
+        },
+        recycle: None,
+    });
+    let mut ledger = Ledger::<f32, BUDGET_STAGES>::bad();
+    if peng_robinson {
+        let r = label(h, "ledger_4_stages_peng_robinson");
+        measure(r, || ledger_budget(t, &first, s, &mut ledger));
+    } else {
+        let r = label(h, "ledger_4_stages");
+        measure(r, || ledger_budget(t, &first, s, &mut ledger));
+        let r = label(h, "ledger_4_stages_coolant_reference");
+        measure(r, || ledger_budget(t, &coolant, s, &mut ledger));
+    }
+    if !ledger.measured_total.quality.is_usable() {
+        fail(h, "ledger total not usable");
+    }
+}
+
+/// Stack high-water mark of one loss ledger (first-suction reference).
+#[inline(never)]
+fn stack_ledger(t: &BudgetTrain, s: &Scan<f32, BUDGET_STAGES>) -> usize {
+    let cfg = black_box(LedgerConfig::<f32>::default());
+    let mut ledger = Ledger::<f32, BUDGET_STAGES>::bad();
+    stack_used(|| {
+        ledger_budget(t, &cfg, s, &mut ledger);
+    })
 }
 
 #[inline(never)]
@@ -343,6 +400,7 @@ fn measure_peng_robinson_train(h: &mut Host, label: &mut impl FnMut(&mut Host, &
         let s = black_box(budget_scan(black_box(raw)));
         let r = label(h, "update_4_stages_3_intercoolers_peng_robinson");
         measure(r, || update_budget_pr(&mut train, &s));
+        measure_ledgers(h, label, &train, &s, true);
     }
     let s = black_box(budget_scan(black_box(&SCANS[13])));
     let used = stack_used(|| {
@@ -386,6 +444,7 @@ fn measure_trains(
         let s = black_box(budget_scan(black_box(raw)));
         let r = label(h, "update_4_stages_3_intercoolers");
         measure(r, || update_budget(&mut budget, &s));
+        measure_ledgers(h, label, &budget, &s, false);
     }
     // Stack high-water mark of one update (the wrapper frame included).
     let s = black_box(decode_scan::<f32, { demo::STAGES }>(black_box(&SCANS[13])));
@@ -398,6 +457,8 @@ fn measure_trains(
         update_budget(&mut budget, &s);
     });
     out!(h, "S stack_update_4_stages_3_intercoolers {}", used);
+    let used = stack_ledger(&budget, &s);
+    out!(h, "S stack_ledger_4_stages {}", used);
 }
 
 /// `Train::new` of the demo train, in its own frame.
