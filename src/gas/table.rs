@@ -644,6 +644,10 @@ pub struct TableStage<T> {
     pub polytropic_efficiency: Measured<T>,
 }
 
+/// End states a [`TableGas`] remembers: the suction and discharge states of
+/// four stages (a longer train only misses some).
+pub const MEMO_SLOTS: usize = 8;
+
 /// The start-of-descent grid: 2^JUMP_BITS parts per axis.
 const JUMP_BITS: u32 = 3;
 
@@ -656,6 +660,8 @@ const W_ZX: u8 = 32;
 pub(crate) const SEAM_ENDS: u8 = W_Z | W_H | W_S;
 /// See [`SEAM_ENDS`].
 pub(crate) const SEAM_ISO: u8 = W_DS | W_H | W_Z;
+/// What the seam asks at the isentropic state's end (h and Z).
+pub(crate) const SEAM_ISO_END: u8 = W_H | W_Z;
 /// Patch outputs: h and cp.
 const W_H: u8 = 2;
 /// Patch outputs: s.
@@ -719,6 +725,61 @@ struct Leaf<'a, T> {
     dy: T,
 }
 
+/// One T-edge of a leaf cut at one ln p (see `TableGas::cut`): each
+/// function's value there and its T-tangent (offsets not added).
+#[derive(Clone, Copy, Default)]
+struct Edge<T> {
+    z: T,
+    z_t: T,
+    /// ∂Z/∂ln p and its T-tangent (only for [`W_ZX`]).
+    z_x: T,
+    z_xt: T,
+    h: T,
+    /// cp: h's T-tangent.
+    cp: T,
+    s: T,
+    /// cp/T: s's T-tangent.
+    s_t: T,
+}
+
+/// A leaf cut at one relative ln p `x`: every state at that pressure in the
+/// leaf is a cubic in T on these edges.
+#[derive(Clone, Copy)]
+struct Cut<'a, T> {
+    leaf: Leaf<'a, T>,
+    x: T,
+    /// Relative position of `x` in the leaf, [0, 1].
+    u: T,
+    /// Low-T edge, high-T edge.
+    edges: [Edge<T>; 2],
+    quality: Quality,
+    flag: TableFlag,
+}
+
+impl<'a, T: Real> Cut<'a, T> {
+    /// Whether the state (x, y) lies on this cut.
+    #[inline(always)]
+    fn holds(&self, x: T, y: T) -> bool {
+        x == self.x && y >= self.leaf.y0 && y <= self.leaf.y0 + self.leaf.dy
+    }
+}
+
+/// A remembered end state (see `TableGas::end_state`): the seam's outputs
+/// at (p, T) with ln p, so a state shared by two calls (a stage's discharge
+/// and the next cooler's inlet; a cooler's outlet and the next stage's
+/// suction) is interpolated once.
+#[derive(Clone, Copy, Debug)]
+struct Memo<T> {
+    ln_p: T,
+    z: T,
+    dz_dt: T,
+    h: T,
+    cp: T,
+    s: T,
+    quality: Quality,
+    flag: TableFlag,
+}
+
 /// Values of one patch evaluation (offsets added by `eval`).
 #[derive(Clone, Copy)]
 pub(crate) struct Patch<T> {
@@ -730,6 +791,34 @@ pub(crate) struct Patch<T> {
     pub(crate) dz_dt: T,
     pub(crate) dz_dx: T,
     pub(crate) w: T,
+}
+
+impl<T: Real> Patch<T> {
+    const ZERO: Patch<T> = Patch {
+        z: T::ZERO,
+        h: T::ZERO,
+        s: T::ZERO,
+        dh_dt: T::ZERO,
+        ds_dt: T::ZERO,
+        dz_dt: T::ZERO,
+        dz_dx: T::ZERO,
+        w: T::ZERO,
+    };
+}
+
+impl<T: Real> Memo<T> {
+    fn bad(flag: TableFlag) -> Self {
+        Memo {
+            ln_p: T::ZERO,
+            z: T::ONE,
+            dz_dt: T::ZERO,
+            h: T::ZERO,
+            cp: T::ZERO,
+            s: T::ZERO,
+            quality: Quality::Bad,
+            flag,
+        }
+    }
 }
 
 /// Cubic Hermite basis at t in [0, 1]: values (h00, h01, h10, h11) and their
@@ -758,7 +847,10 @@ fn f<T: Real>(x: f32) -> T {
 }
 
 /// A gas model on a property table, for scalar type `T`.
-#[derive(Clone, Copy, Debug)]
+///
+/// It remembers its last two end states (interior mutability, so it is not
+/// `Sync`: one model per train, not shared between threads or interrupt
+/// priorities).
 pub struct TableGas<'a, T> {
     data: TableData<'a>,
     gas_constant: T,
@@ -784,6 +876,33 @@ pub struct TableGas<'a, T> {
     /// entropy tolerance (the interpolant is not more accurate than that;
     /// across a cell edge it may jump by about the tolerance).
     s_tolerance: T,
+    /// Keys (p, T) and values of the remembered end states, and the slot
+    /// the next one goes to (see `end_state`).
+    memo_p: [core::cell::Cell<T>; MEMO_SLOTS],
+    memo_t: [core::cell::Cell<T>; MEMO_SLOTS],
+    memo: [core::cell::Cell<Memo<T>>; MEMO_SLOTS],
+    memo_next: core::cell::Cell<u8>,
+}
+
+impl<'a, T: Real> Clone for TableGas<'a, T> {
+    fn clone(&self) -> Self {
+        TableGas {
+            memo_p: self.memo_p.clone(),
+            memo_t: self.memo_t.clone(),
+            memo: self.memo.clone(),
+            memo_next: self.memo_next.clone(),
+            ..*self
+        }
+    }
+}
+
+impl<'a, T: Real + core::fmt::Debug> core::fmt::Debug for TableGas<'a, T> {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        f.debug_struct("TableGas")
+            .field("header", &self.data.header)
+            .field("gas_constant", &self.gas_constant)
+            .finish_non_exhaustive()
+    }
 }
 
 impl<'a, T: Real> TableGas<'a, T> {
@@ -810,6 +929,10 @@ impl<'a, T: Real> TableGas<'a, T> {
             s_offset: T::of(h.s_offset),
             s_tolerance: T::of(f64::from(h.tolerance_s) / 16.0),
             jump: [(0, h.lattice_bits, h.lattice_bits); 1 << (2 * JUMP_BITS)],
+            memo_p: core::array::from_fn(|_| core::cell::Cell::new(T::ZERO)),
+            memo_t: core::array::from_fn(|_| core::cell::Cell::new(T::ZERO)),
+            memo: core::array::from_fn(|_| core::cell::Cell::new(Memo::bad(TableFlag::NotFinite))),
+            memo_next: core::cell::Cell::new(0),
         };
         gas.build_jump();
         Ok(gas)
@@ -965,27 +1088,75 @@ impl<'a, T: Real> TableGas<'a, T> {
         ])
     }
 
-    /// Bicubic Hermite patch at (x, y) in `leaf`, computing only what
-    /// `WANT` asks for ([`W_Z`]: Z and its derivatives, [`W_H`]: h and cp,
-    /// [`W_S`]: s, [`W_DS`]: s and ∂s/∂T, [`W_W`]: speed of sound). Tensor
-    /// form: on each of the cell's two T-edges every function is first
-    /// interpolated along ln p (value and T-tangent), then the edge's share
-    /// is added with the T-basis. The T-tangent of h on an edge is cp and
-    /// s's is cp/T, so one cp interpolation serves h, s and cp. Edge by edge
-    /// keeps few values live (fewer register spills on a 32-register FPU).
+    /// The leaf cut at relative ln p `x`: on each of its two T-edges, every
+    /// function `WANT` asks for interpolated along ln p (cubic Hermite,
+    /// value and T-tangent). The T-tangent of h on an edge is cp and s's is
+    /// cp/T, so one cp interpolation serves h, s and cp. What is left is a
+    /// cubic in T per function ([`TableGas::combine`]), so every state at
+    /// this pressure in this cell (the discharge state and the entropy
+    /// match's steps) costs only that cubic.
     #[inline(always)]
-    fn patch<const WANT: u8>(&self, leaf: &Leaf<'a, T>, n: [&Node; 4], x: T, y: T) -> Patch<T> {
+    fn cut<const WANT: u8>(&self, leaf: Leaf<'a, T>, n: [&Node; 4], x: T) -> Cut<'a, T> {
         let zero = T::ZERO;
-        let one = T::ONE;
-        let u = T::clamp((x - leaf.x0) * leaf.inv_dx, zero, one);
-        let v = T::clamp((y - leaf.y0) * leaf.inv_dy, zero, one);
+        let u = T::clamp((x - leaf.x0) * leaf.inv_dx, zero, T::ONE);
         let (hu, du) = hermite(u);
-        let (hv, dv) = hermite(v);
         let (a0, a1) = (hu[0], hu[1]);
         let (ad0, ad1) = (hu[2] * leaf.dx, hu[3] * leaf.dx);
         let (dux0, dux1) = (du[0] * leaf.inv_dx, du[1] * leaf.inv_dx);
         let r = self.gas_constant;
         let t_lo = self.t_min + leaf.y0;
+        let mut edges = [Edge::default(); 2];
+        let corners = [(n[0], n[1], t_lo), (n[2], n[3], t_lo + leaf.dy)];
+        for (e, (c0, c1, t)) in edges.iter_mut().zip(corners) {
+            let edge = |f0: T, fx0: T, f1: T, fx1: T| a0 * f0 + ad0 * fx0 + a1 * f1 + ad1 * fx1;
+            let (z0, z1, zt0, zt1) = (f::<T>(c0.z), f::<T>(c1.z), f::<T>(c0.z_t), f::<T>(c1.z_t));
+            let cp = if WANT & (W_H | W_S | W_DS) != 0 {
+                edge(f(c0.cp), f(c0.cp_lnp), f(c1.cp), f(c1.cp_lnp))
+            } else {
+                zero
+            };
+            e.cp = cp;
+            if WANT & W_Z != 0 {
+                let (zx0, zx1) = (f::<T>(c0.z_lnp), f::<T>(c1.z_lnp));
+                let (ztx0, ztx1) = (f::<T>(c0.z_lnp_t), f::<T>(c1.z_lnp_t));
+                e.z = edge(z0, zx0, z1, zx1);
+                e.z_t = edge(zt0, ztx0, zt1, ztx1);
+                if WANT & W_ZX != 0 {
+                    e.z_x = dux0 * z0 + dux1 * z1 + du[2] * zx0 + du[3] * zx1;
+                    e.z_xt = dux0 * zt0 + dux1 * zt1 + du[2] * ztx0 + du[3] * ztx1;
+                }
+            }
+            if WANT & W_H != 0 {
+                // ∂h/∂ln p = −R·T²·∂Z/∂T.
+                e.h = a0 * f(c0.h) + a1 * f(c1.h) - r * t * t * (ad0 * zt0 + ad1 * zt1);
+            }
+            if WANT & (W_S | W_DS) != 0 {
+                // ∂s/∂ln p = −R·(Z + T·∂Z/∂T); ∂s/∂T = cp/T.
+                let sx = ad0 * (z0 + t * zt0) + ad1 * (z1 + t * zt1);
+                e.s = a0 * f(c0.s) + a1 * f(c1.s) - r * sx;
+                e.s_t = cp / t;
+            }
+        }
+        let (quality, flag) = Self::flag_quality(leaf.cell);
+        Cut {
+            leaf,
+            x,
+            u,
+            edges,
+            quality,
+            flag,
+        }
+    }
+
+    /// The patch at relative temperature `y` on a cut (see
+    /// [`TableGas::cut`]): the two edges' values and tangents combined with
+    /// the cubic Hermite basis in T, only the outputs `WANT` asks for.
+    #[inline(always)]
+    fn combine<const WANT: u8>(cut: &Cut<'a, T>, y: T) -> Patch<T> {
+        let zero = T::ZERO;
+        let leaf = &cut.leaf;
+        let v = T::clamp((y - leaf.y0) * leaf.inv_dy, zero, T::ONE);
+        let (hv, dv) = hermite(v);
         let mut out = Patch {
             z: zero,
             h: zero,
@@ -996,55 +1167,49 @@ impl<'a, T: Real> TableGas<'a, T> {
             dz_dx: zero,
             w: zero,
         };
-        // T-basis of each edge: value, tangent; their T-derivatives.
-        let edges = [
-            (n[0], n[1], t_lo, hv[0], hv[2], dv[0], dv[2]),
-            (n[2], n[3], t_lo + leaf.dy, hv[1], hv[3], dv[1], dv[3]),
-        ];
-        for (c0, c1, t, bv, bt, dbv, dbt) in edges {
-            let b = bv;
+        for (k, e) in cut.edges.iter().enumerate() {
+            // T-basis of the edge: value, tangent; their T-derivatives.
+            let (b, bt, dbv, dbd) = if k == 0 {
+                (hv[0], hv[2], dv[0], dv[2])
+            } else {
+                (hv[1], hv[3], dv[1], dv[3])
+            };
             let bd = bt * leaf.dy;
             let db = dbv * leaf.inv_dy;
-            let dbd = dbt;
-            let edge = |f0: T, fx0: T, f1: T, fx1: T| a0 * f0 + ad0 * fx0 + a1 * f1 + ad1 * fx1;
-            let (z0, z1, zt0, zt1) = (f::<T>(c0.z), f::<T>(c1.z), f::<T>(c0.z_t), f::<T>(c1.z_t));
-            let cp = if WANT & (W_H | W_S | W_DS) != 0 {
-                edge(f(c0.cp), f(c0.cp_lnp), f(c1.cp), f(c1.cp_lnp))
-            } else {
-                zero
-            };
             if WANT & W_Z != 0 {
-                let (zx0, zx1) = (f::<T>(c0.z_lnp), f::<T>(c1.z_lnp));
-                let (ztx0, ztx1) = (f::<T>(c0.z_lnp_t), f::<T>(c1.z_lnp_t));
-                let e = edge(z0, zx0, z1, zx1);
-                let g = edge(zt0, ztx0, zt1, ztx1);
-                out.z += b * e + bd * g;
-                out.dz_dt += db * e + dbd * g;
+                out.z += b * e.z + bd * e.z_t;
+                out.dz_dt += db * e.z + dbd * e.z_t;
                 if WANT & W_ZX != 0 {
-                    let ex = dux0 * z0 + dux1 * z1 + du[2] * zx0 + du[3] * zx1;
-                    let gx = dux0 * zt0 + dux1 * zt1 + du[2] * ztx0 + du[3] * ztx1;
-                    out.dz_dx += b * ex + bd * gx;
+                    out.dz_dx += b * e.z_x + bd * e.z_xt;
                 }
             }
             if WANT & W_H != 0 {
-                // ∂h/∂ln p = −R·T²·∂Z/∂T.
-                let e = a0 * f(c0.h) + a1 * f(c1.h) - r * t * t * (ad0 * zt0 + ad1 * zt1);
-                out.h += b * e + bd * cp;
-                out.dh_dt += db * e + dbd * cp;
+                out.h += b * e.h + bd * e.cp;
+                out.dh_dt += db * e.h + dbd * e.cp;
             }
             if WANT & (W_S | W_DS) != 0 {
-                // ∂s/∂ln p = −R·(Z + T·∂Z/∂T); ∂s/∂T = cp/T.
-                let sx = ad0 * (z0 + t * zt0) + ad1 * (z1 + t * zt1);
-                let e = a0 * f(c0.s) + a1 * f(c1.s) - r * sx;
-                let g = cp / t;
-                out.s += b * e + bd * g;
+                out.s += b * e.s + bd * e.s_t;
                 if WANT & W_DS != 0 {
-                    out.ds_dt += db * e + dbd * g;
+                    out.ds_dt += db * e.s + dbd * e.s_t;
                 }
             }
         }
+        out
+    }
+
+    /// Bicubic Hermite patch at (x, y) in `leaf`, computing only what
+    /// `WANT` asks for ([`W_Z`]: Z and its derivatives, [`W_H`]: h and cp,
+    /// [`W_S`]: s, [`W_DS`]: s and ∂s/∂T, [`W_W`]: speed of sound): the cut
+    /// at x ([`TableGas::cut`]) combined at y ([`TableGas::combine`]), the
+    /// speed of sound bilinear.
+    #[inline(always)]
+    fn patch<const WANT: u8>(cut: &Cut<'a, T>, n: [&Node; 4], y: T) -> Patch<T> {
+        let mut out = Self::combine::<WANT>(cut, y);
         if WANT & W_W != 0 {
-            let (lu, lv) = (one - u, one - v);
+            let leaf = &cut.leaf;
+            let u = cut.u;
+            let v = T::clamp((y - leaf.y0) * leaf.inv_dy, T::ZERO, T::ONE);
+            let (lu, lv) = (T::ONE - u, T::ONE - v);
             out.w = lv * (lu * f(n[0].speed_of_sound) + u * f(n[1].speed_of_sound))
                 + v * (lu * f(n[2].speed_of_sound) + u * f(n[3].speed_of_sound));
         }
@@ -1099,82 +1264,152 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// for a non-finite or non-physical result (Z or cp not positive).
     #[inline(always)]
     fn eval<const WANT: u8>(&self, ln_p: T, t: T) -> (Patch<T>, Quality, TableFlag) {
-        let (pt, q, flag, _) = self.eval_near::<WANT>(ln_p, t, None);
-        (pt, q, flag)
+        let mut cut = None;
+        self.eval_on::<WANT, WANT>(ln_p, t, &mut cut)
     }
 
-    /// [`TableGas::eval`] that first tries `hint` (a leaf found before, at
-    /// a nearby state) and returns the leaf it used.
+    /// [`TableGas::eval`] that uses `cut` if it holds the state (a leaf
+    /// cut at this ln p found before: only the cubic in T is left to
+    /// evaluate) and otherwise finds the leaf and cuts it, computing `CUT`
+    /// (which must include `OUT`; a cut passed in must have been made with
+    /// at least `OUT`), and leaves the cut it used in `cut`.
     #[inline(always)]
-    fn eval_near<const WANT: u8>(
+    fn eval_on<const CUT: u8, const OUT: u8>(
         &self,
         ln_p: T,
         t: T,
-        hint: Option<Leaf<'a, T>>,
-    ) -> (Patch<T>, Quality, TableFlag, Option<Leaf<'a, T>>) {
-        let zero = Patch {
-            z: T::ZERO,
-            h: T::ZERO,
-            s: T::ZERO,
-            dh_dt: T::ZERO,
-            ds_dt: T::ZERO,
-            dz_dt: T::ZERO,
-            dz_dx: T::ZERO,
-            w: T::ZERO,
-        };
-        let (x, y) = match self.coordinates(ln_p, t) {
-            Ok(c) => c,
-            Err(flag) => return (zero, Quality::Bad, flag, None),
-        };
-        let inside =
-            |l: &Leaf<'a, T>| x >= l.x0 && x <= l.x0 + l.dx && y >= l.y0 && y <= l.y0 + l.dy;
-        let leaf = match hint {
-            Some(l) if inside(&l) => l,
-            _ => match self.locate(x, y) {
-                Some(l) => l,
-                None => return (zero, Quality::Bad, TableFlag::NotFinite, None),
-            },
-        };
-        let (quality, flag) = Self::flag_quality(leaf.cell);
-        if quality == Quality::Bad {
-            return (zero, quality, flag, None);
+        cut: &mut Option<Cut<'a, T>>,
+    ) -> (Patch<T>, Quality, TableFlag) {
+        match self.coordinates(ln_p, t) {
+            Ok((x, y)) => self.eval_xy::<CUT, OUT>(x, y, cut),
+            Err(flag) => (Patch::ZERO, Quality::Bad, flag),
         }
-        let Some(n) = self.corners(&leaf) else {
-            return (zero, Quality::Bad, TableFlag::NotFinite, None);
+    }
+
+    /// [`TableGas::eval_on`] at relative coordinates inside the envelope.
+    #[inline(always)]
+    fn eval_xy<const CUT: u8, const OUT: u8>(
+        &self,
+        x: T,
+        y: T,
+        cut: &mut Option<Cut<'a, T>>,
+    ) -> (Patch<T>, Quality, TableFlag) {
+        let bad = (Patch::ZERO, Quality::Bad, TableFlag::NotFinite);
+        if !matches!(cut, Some(c) if c.holds(x, y)) {
+            *cut = None;
+            let Some(leaf) = self.locate(x, y) else {
+                return bad;
+            };
+            let (quality, flag) = Self::flag_quality(leaf.cell);
+            if quality == Quality::Bad {
+                return (Patch::ZERO, quality, flag);
+            }
+            let Some(n) = self.corners(&leaf) else {
+                return bad;
+            };
+            *cut = Some(self.cut::<CUT>(leaf, n, x));
+        }
+        let Some(c) = cut.as_ref() else {
+            return bad;
         };
-        let mut pt = self.patch::<WANT>(&leaf, n, x, y);
+        let mut pt = if OUT & W_W != 0 {
+            let Some(n) = self.corners(&c.leaf) else {
+                return bad;
+            };
+            Self::patch::<OUT>(c, n, y)
+        } else {
+            Self::combine::<OUT>(c, y)
+        };
         pt.h += self.h_offset;
         pt.s += self.s_offset;
         // One test for every output asked for: a NaN or infinity in any of
         // them makes their sum non-finite (outputs not asked for are not
         // computed at all).
         let mut sum = T::ZERO;
-        if WANT & W_Z != 0 {
+        if OUT & W_Z != 0 {
             sum += pt.z + pt.dz_dt;
         }
-        if WANT & W_ZX != 0 {
+        if OUT & W_ZX != 0 {
             sum += pt.dz_dx;
         }
-        if WANT & W_H != 0 {
+        if OUT & W_H != 0 {
             sum += pt.h + pt.dh_dt;
         }
-        if WANT & (W_S | W_DS) != 0 {
+        if OUT & (W_S | W_DS) != 0 {
             sum += pt.s;
         }
-        if WANT & W_DS != 0 {
+        if OUT & W_DS != 0 {
             sum += pt.ds_dt;
         }
-        if WANT & W_W != 0 {
+        if OUT & W_W != 0 {
             sum += pt.w;
         }
         let finite = T::is_finite(sum);
-        let physical =
-            (WANT & W_Z == 0 || pt.z > T::ZERO) && (WANT & W_H == 0 || pt.dh_dt > T::ZERO);
+        let physical = (OUT & W_Z == 0 || pt.z > T::ZERO) && (OUT & W_H == 0 || pt.dh_dt > T::ZERO);
         if finite && physical {
-            (pt, quality, flag, Some(leaf))
+            (pt, c.quality, c.flag)
         } else {
-            (zero, Quality::Bad, TableFlag::NotFinite, None)
+            bad
         }
+    }
+
+    /// The seam's end state at (p, t) (Z, ∂Z/∂T, h, cp, s), remembered:
+    /// the last [`MEMO_SLOTS`] are kept (keyed by the exact p and t), so a
+    /// state that a stage and its cooler share (a train evaluates its stages,
+    /// then its coolers), and the first suction of the train's totals, is
+    /// interpolated once per update. `ln_p` is ln p if the caller has it.
+    /// A fresh evaluation leaves its cut in `cut`. With `LOOKUP` false the
+    /// state is only remembered, not looked up (a compression's states: a
+    /// train evaluates its stages before its coolers and totals, so they are
+    /// new).
+    #[inline(always)]
+    fn end_state<const LOOKUP: bool>(
+        &self,
+        p: T,
+        t: T,
+        ln_p: Option<T>,
+        cut: &mut Option<Cut<'a, T>>,
+    ) -> Memo<T> {
+        if !(p > T::ZERO) {
+            return Memo::bad(TableFlag::NotFinite);
+        }
+        for (k, kp) in self.memo_p.iter().enumerate() {
+            if !LOOKUP {
+                break;
+            }
+            if kp.get() == p {
+                if let (Some(kt), Some(memo)) = (self.memo_t.get(k), self.memo.get(k)) {
+                    if kt.get() == t {
+                        return memo.get();
+                    }
+                }
+            }
+        }
+        let ln_p = match ln_p {
+            Some(l) => l,
+            None => T::ln(p),
+        };
+        let (pt, quality, flag) = self.eval_on::<SEAM_ENDS, SEAM_ENDS>(ln_p, t, cut);
+        let m = Memo {
+            ln_p,
+            z: pt.z,
+            dz_dt: pt.dz_dt,
+            h: pt.h,
+            cp: pt.dh_dt,
+            s: pt.s,
+            quality,
+            flag,
+        };
+        let k = usize::from(self.memo_next.get()) % MEMO_SLOTS;
+        if let (Some(kp), Some(kt), Some(memo)) =
+            (self.memo_p.get(k), self.memo_t.get(k), self.memo.get(k))
+        {
+            kp.set(p);
+            kt.set(t);
+            memo.set(m);
+        }
+        self.memo_next.set(((k + 1) % MEMO_SLOTS) as u8);
+        m
     }
 
     /// Temperature at pressure `p2` with entropy `s_target` (the isentropic
@@ -1183,26 +1418,29 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// residual is below 1/16 of the table's entropy tolerance or a Newton
     /// step below 0.25 K, at most [`ISENTROPIC_MAX_ITERATIONS`] (then uncertain).
     /// Bad if the root lies on or beyond an envelope edge; the quality is
-    /// that of the cell of the last step.
+    /// that of the cell the root lies in.
     pub fn isentropic_temperature(&self, p2: T, s_target: T, t_start: T) -> Measured<T> {
         if !(p2 > T::ZERO) {
             return Measured::bad();
         }
-        let iso = self.isentropic_ln::<{ W_DS | W_H }>(T::ln(p2), s_target, t_start, None);
+        let mut cut = None;
+        let iso = self.isentropic_ln::<{ W_DS | W_H }, W_H>(T::ln(p2), s_target, t_start, &mut cut);
         Measured::derived(iso.t, iso.quality)
     }
 
     /// [`TableGas::isentropic_temperature`] with ln p2 already known; also
-    /// returns the enthalpy there (from the last evaluation, carried over
-    /// the last Newton step by cp: the step is below 0.25 K, so the error is
-    /// of order cp'·step²/2, below 0.5 J/kg).
+    /// returns the enthalpy there (and Z if `FIN` asks for it). Solved on
+    /// the leaf's cut at ln p2 (`cut`, reused from the discharge state's
+    /// evaluation when it holds the start): each step evaluates one cubic in
+    /// T; a step into another leaf cuts that leaf (`CUT`, which must
+    /// include [`W_DS`] and `FIN`).
     #[inline(always)]
-    fn isentropic_ln<const WANT: u8>(
+    fn isentropic_ln<const CUT: u8, const FIN: u8>(
         &self,
         ln_p2: T,
         s_target: T,
         t_start: T,
-        mut hint: Option<Leaf<'a, T>>,
+        cut: &mut Option<Cut<'a, T>>,
     ) -> Isentropic<T> {
         let bad = Isentropic {
             t: T::ZERO,
@@ -1211,12 +1449,13 @@ impl<'a, T: Real> TableGas<'a, T> {
             quality: Quality::Bad,
             flag: TableFlag::NotFinite,
         };
-        if !(T::is_finite(ln_p2) && T::is_finite(s_target) && T::is_finite(t_start)) {
+        if !(T::is_finite(s_target) && T::is_finite(t_start)) {
             return bad;
         }
-        let (mut y_eval, mut h_eval, mut cp_eval) = (T::ZERO, T::ZERO, T::ZERO);
-        let (mut z_eval, mut dz_eval) = (T::ONE, T::ZERO);
-        let mut flag = TableFlag::None;
+        let x2 = match self.coordinates(ln_p2, self.t_min) {
+            Ok((x, _)) => x,
+            Err(flag) => return Isentropic { flag, ..bad },
+        };
         let (mut lo, mut hi) = (T::ZERO, self.span_t);
         let mut y = T::clamp(t_start - self.t_min, lo, hi);
         // After a Newton step of δ the remaining error is about
@@ -1225,19 +1464,13 @@ impl<'a, T: Real> TableGas<'a, T> {
         let step_tolerance = T::of(0.25);
         let edge_margin = T::of(2e-4);
         let residual_tolerance = self.s_tolerance;
-        let mut quality = Quality::Good;
         let mut converged = false;
         for _ in 0..ISENTROPIC_MAX_ITERATIONS {
-            let (pt, q, f, leaf) = self.eval_near::<WANT>(ln_p2, y + self.t_min, hint);
-            hint = leaf;
-            flag = f;
+            let (pt, q, _) = self.eval_xy::<CUT, W_DS>(x2, y, cut);
             if q == Quality::Bad {
                 return bad;
             }
-            (y_eval, h_eval, cp_eval) = (y, pt.h, pt.dh_dt);
-            (z_eval, dz_eval) = (pt.z, pt.dz_dt);
             let (s, ds_dt) = (pt.s, pt.ds_dt);
-            quality = q;
             let residual = s - s_target;
             if T::abs(residual) <= residual_tolerance {
                 converged = true;
@@ -1267,15 +1500,21 @@ impl<'a, T: Real> TableGas<'a, T> {
         if y <= edge_margin || y >= self.span_t - edge_margin {
             return bad;
         }
-        if !converged {
-            quality = quality.worst(Quality::Uncertain);
+        // h (and Z) at the root, on the same cut unless the last step left
+        // the leaf.
+        let (pt, quality, flag) = self.eval_xy::<CUT, FIN>(x2, y, cut);
+        if quality == Quality::Bad {
+            return Isentropic { flag, ..bad };
         }
-        let step = y - y_eval;
         Isentropic {
             t: y + self.t_min,
-            h: h_eval + cp_eval * step,
-            z: z_eval + dz_eval * step,
-            quality,
+            h: pt.h,
+            z: if FIN & W_Z != 0 { pt.z } else { T::ONE },
+            quality: if converged {
+                quality
+            } else {
+                quality.worst(Quality::Uncertain)
+            },
             flag,
         }
     }
@@ -1317,43 +1556,76 @@ impl<'a, T: Real> TableGas<'a, T> {
     }
 
     /// Z, cp and h at (p, t) with the quality (the seam's mean path
-    /// properties).
+    /// properties; a remembered end state).
     pub(crate) fn z_cp(&self, p: T, t: T) -> (T, T, Quality) {
         if !(p > T::ZERO) {
             return (T::ONE, T::ZERO, Quality::Bad);
         }
-        let (pt, q, _) = self.eval::<{ W_Z | W_H }>(T::ln(p), t);
-        (pt.z, pt.dh_dt, q)
+        let m = self.end_state::<true>(p, t, None, &mut None);
+        (m.z, m.cp, m.quality)
     }
 
-    /// Enthalpy at (p, t) with its quality and flag (h and cp only).
+    /// Enthalpy at (p, t) with its quality and flag (a remembered end
+    /// state: see `end_state`).
     pub(crate) fn enthalpy(&self, p: T, t: T) -> (T, Quality, TableFlag) {
         if !(p > T::ZERO) {
             return (T::ZERO, Quality::Bad, TableFlag::NotFinite);
         }
-        let (pt, q, f) = self.eval::<W_H>(T::ln(p), t);
-        (pt.h, q, f)
+        let m = self.end_state::<true>(p, t, None, &mut None);
+        (m.h, m.quality, m.flag)
     }
 
-    /// The states of a compression from (p1, t1) by ln r = ln(p2/p1): the
-    /// suction state, the discharge state if `t2` is given, and the
-    /// isentropic discharge state (its evaluation asks `ISO` of the patch).
-    /// With a discharge state the entropy match starts from it along its
-    /// isobar, s(T) = s2 + cp2·ln(T/T2), so one Newton step usually
-    /// finishes it and the discharge state's cell is tried first; without
-    /// one it starts from T1·r^(R·(Z + T·∂Z/∂T)/cp), the slope of the
-    /// isentrope at state 1.
+    /// One end state of a compression at (ln p, t) asking `END` of the
+    /// patch; the seam's set ([`SEAM_ENDS`]) goes through the remembered
+    /// end states.
     #[inline(always)]
-    pub(crate) fn stage_states<const END: u8, const ISO: u8>(
+    fn end<const END: u8>(
+        &self,
+        p: T,
+        ln_p: Option<T>,
+        t: T,
+        cut: &mut Option<Cut<'a, T>>,
+    ) -> (Patch<T>, Quality, TableFlag, T) {
+        if END == SEAM_ENDS {
+            let m = self.end_state::<false>(p, t, ln_p, cut);
+            let pt = Patch {
+                z: m.z,
+                dz_dt: m.dz_dt,
+                h: m.h,
+                dh_dt: m.cp,
+                s: m.s,
+                ..Patch::ZERO
+            };
+            return (pt, m.quality, m.flag, m.ln_p);
+        }
+        let ln_p = match ln_p {
+            Some(l) => l,
+            None if p > T::ZERO => T::ln(p),
+            None => return (Patch::ZERO, Quality::Bad, TableFlag::NotFinite, T::ZERO),
+        };
+        let (pt, q, f) = self.eval_on::<END, END>(ln_p, t, cut);
+        (pt, q, f, ln_p)
+    }
+
+    /// The states of a compression from (p1, t1) to p2 (ln r = ln(p2/p1)):
+    /// the suction state, the discharge state if `t2` is given, and the
+    /// isentropic discharge state (its steps cut leaves asking `ISO` of the
+    /// patch, its end `FIN`). With a discharge state the entropy match starts
+    /// from it along its isobar, s(T) ≈ s2 + cp2·ln(T/T2) (to second order
+    /// in the entropy difference), on the discharge state's cut, so it
+    /// usually costs a cubic in T or two; without one it starts from
+    /// T1·r^(R·(Z + T·∂Z/∂T)/cp), the slope of the isentrope at state 1.
+    #[inline(always)]
+    pub(crate) fn stage_states<const END: u8, const ISO: u8, const FIN: u8>(
         &self,
         p1: T,
         t1: T,
+        p2: T,
         ln_r: T,
         t2: Option<T>,
     ) -> StageStates<T> {
-        let ln_p1 = T::ln(p1);
+        let (end1, q1, flag1, ln_p1) = self.end::<END>(p1, None, t1, &mut None);
         let ln_p2 = ln_p1 + ln_r;
-        let (end1, q1, flag1) = self.eval::<END>(ln_p1, t1);
         let mut out = StageStates {
             end1,
             q1,
@@ -1373,25 +1645,23 @@ impl<'a, T: Real> TableGas<'a, T> {
             return out;
         }
         let r = self.gas_constant;
-        let (guess, hint) = match t2 {
+        let along_isentrope = || t1 * T::exp(r * (end1.z + t1 * end1.dz_dt) / end1.dh_dt * ln_r);
+        let mut cut = None;
+        let guess = match t2 {
             Some(t2) => {
-                let (end2, q2, flag2, leaf2) = self.eval_near::<END>(ln_p2, t2, None);
+                let (end2, q2, flag2, _) = self.end::<END>(p2, Some(ln_p2), t2, &mut cut);
                 (out.end2, out.q2, out.flag2) = (end2, q2, flag2);
                 if q2 == Quality::Bad {
-                    (
-                        t1 * T::exp(r * (end1.z + t1 * end1.dz_dt) / end1.dh_dt * ln_r),
-                        None,
-                    )
+                    along_isentrope()
                 } else {
-                    (t2 * T::exp((end1.s - end2.s) / end2.dh_dt), leaf2)
+                    // T2·exp(d), d = (s1 − s2)/cp2, to second order.
+                    let d = (end1.s - end2.s) / end2.dh_dt;
+                    t2 * (T::ONE + d * (T::ONE + T::of(0.5) * d))
                 }
             }
-            None => (
-                t1 * T::exp(r * (end1.z + t1 * end1.dz_dt) / end1.dh_dt * ln_r),
-                None,
-            ),
+            None => along_isentrope(),
         };
-        out.iso = self.isentropic_ln::<ISO>(ln_p2, end1.s, guess, hint);
+        out.iso = self.isentropic_ln::<ISO, FIN>(ln_p2, end1.s, guess, &mut cut);
         out
     }
 
@@ -1413,8 +1683,13 @@ impl<'a, T: Real> TableGas<'a, T> {
             return bad;
         }
         let ln_r = T::ln(p2 / p1);
-        let d =
-            self.stage_states::<{ W_Z | W_ZX | W_H | W_S }, { W_DS | W_H }>(p1, t1, ln_r, Some(t2));
+        let d = self.stage_states::<{ W_Z | W_ZX | W_H | W_S }, { W_DS | W_H }, W_H>(
+            p1,
+            t1,
+            p2,
+            ln_r,
+            Some(t2),
+        );
         let q12 = d.q1.worst(d.q2);
         if q12 == Quality::Bad {
             return bad;
@@ -1540,6 +1815,49 @@ mod tests {
         assert!((stage.isentropic_temperature.value - t2s).abs() < 0.01);
         assert_eq!(stage.isentropic_head.quality, Quality::Good);
         assert!((stage.isentropic_head.value - 1040.0 * (t2s - 290.0)).abs() < 10.0);
+    }
+
+    /// The remembered end states give exactly what a fresh evaluation
+    /// gives, whatever was evaluated in between (more states than slots, a
+    /// state first remembered by a compression, then looked up), and a
+    /// non-finite key never matches (a consistency check of the memo).
+    #[test]
+    fn remembered_states_equal_fresh_ones() {
+        let (nodes, header) = ideal_nodes();
+        let cells = [Cell {
+            corners: [0, 1, 2, 3],
+            children: 0,
+            flags: 0,
+        }];
+        let data = TableData {
+            header,
+            nodes: &nodes,
+            cells: &cells,
+        };
+        let gas = TableGas::<f64>::new(data).unwrap();
+        let states: [(f64, f64); 11] =
+            core::array::from_fn(|i| (2e5 + 5e4 * i as f64, 285.0 + 3.0 * i as f64));
+        for round in 0..3 {
+            for (i, &(p, t)) in states.iter().enumerate() {
+                let fresh = TableGas::<f64>::new(data).unwrap();
+                assert_eq!(gas.enthalpy(p, t), fresh.enthalpy(p, t), "{round} {i}");
+                assert_eq!(gas.z_cp(p, t), fresh.z_cp(p, t), "{round} {i}");
+                let d = gas.stage_states::<SEAM_ENDS, SEAM_ISO, SEAM_ISO_END>(
+                    p,
+                    t,
+                    p * 1.2,
+                    f64::ln(1.2),
+                    Some(t + 10.0),
+                );
+                assert_eq!(d.end2.h, fresh.enthalpy(p * 1.2, t + 10.0).0);
+                assert_eq!(
+                    gas.enthalpy(p * 1.2, t + 10.0),
+                    fresh.enthalpy(p * 1.2, t + 10.0)
+                );
+            }
+        }
+        assert_eq!(gas.enthalpy(f64::NAN, 300.0).1, Quality::Bad);
+        assert_eq!(gas.z_cp(3e5, f64::NAN).2, Quality::Bad);
     }
 
     #[test]

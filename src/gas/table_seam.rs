@@ -15,7 +15,7 @@
 //! entropy match that hit its iteration cap uncertain
 //! ([`ValidityReason::NotConverged`]).
 
-use super::table::{TableFlag, TableGas, TableState, SEAM_ENDS, SEAM_ISO};
+use super::table::{TableFlag, TableGas, TableState, SEAM_ENDS, SEAM_ISO, SEAM_ISO_END};
 use super::{CompressionStates, GasModel, GasState, PathProperties, Validity, ValidityReason};
 use crate::quality::Quality;
 use crate::real::Real;
@@ -144,7 +144,7 @@ impl<'a, T: Real> GasModel<T> for TableGas<'a, T> {
         t2: Option<T>,
         _z_supplied: Option<T>,
     ) -> CompressionStates<T> {
-        let d = self.stage_states::<SEAM_ENDS, SEAM_ISO>(p1, t1, ln_ratio, t2);
+        let d = self.stage_states::<SEAM_ENDS, SEAM_ISO, SEAM_ISO_END>(p1, t1, p2, ln_ratio, t2);
         let v1 = self.validity(d.q1, d.flag1, p1);
         if v1.quality == Quality::Bad {
             return CompressionStates {

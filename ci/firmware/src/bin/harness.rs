@@ -107,7 +107,7 @@ fn print_snapshot<const N: usize>(h: &mut Host, scan: usize, s: &Snapshot<f32, N
 /// fourth without its aftercooler, on `gas` (the ideal-gas budget uses CO2
 /// with constant k and Z = 1, the gas of the demo before it moved to
 /// Peng–Robinson).
-fn budget_config<G: Copy>(gas: G) -> Option<TrainConfig<f32, G, BUDGET_STAGES>> {
+fn budget_config<G>(gas: G) -> Option<TrainConfig<f32, G, BUDGET_STAGES>> {
     let demo = demo::config::<f32>().ok()?;
     let mut stages = [*demo.stages.first()?; BUDGET_STAGES];
     for (i, s) in stages.iter_mut().enumerate() {
