@@ -1,5 +1,6 @@
-//! One binary container for everything the host hands the device: property
-//! tables today, a device configuration later.
+//! One binary container for everything the host hands the device: gas
+//! property tables ([`KIND_PROPERTY_TABLE`]) and the device configuration
+//! of a train ([`KIND_TRAIN_CONFIG`], `crate::config_blob`).
 //!
 //! Layout (all integers little-endian):
 //!
@@ -12,9 +13,11 @@
 //! | 11..11+n | payload: the kind's data in `postcard` encoding |
 //! | 11+n..15+n | CRC-32 (ISO-HDLC polynomial, as in zlib and Ethernet) over bytes 0..11+n |
 //!
-//! [`open`] checks, in this order, the length, the magic, the kind, the
-//! version, the declared length and the checksum, and hands back the payload
-//! only if all agree; the kind's decoder then checks the content. Nothing here
+//! [`open`] checks, in this order, the length, the magic, the declared
+//! length, the checksum, the kind and the version (after the checksum, so a
+//! corrupt kind or version byte reads as corruption, not as another format),
+//! and hands back the payload only if all agree; the kind's decoder then
+//! checks the content. Nothing here
 //! allocates or panics. The CRC-32 detects every single-bit error and every
 //! burst up to 32 bits (a property of any CRC of that degree; e.g. Koopman,
 //! "32-bit cyclic redundancy codes for Internet applications", DSN 2002).
@@ -31,8 +34,11 @@ pub const HEADER_LEN: usize = 11;
 pub const TRAILER_LEN: usize = 4;
 /// Payload kind of a gas property table ([`crate::gas::table`]).
 pub const KIND_PROPERTY_TABLE: u8 = 1;
+/// Payload kind of a train's device configuration ([`crate::config_blob`]).
+pub const KIND_TRAIN_CONFIG: u8 = 2;
 
-const CRC: crc::Crc<u32> = crc::Crc::<u32>::new(&crc::CRC_32_ISO_HDLC);
+/// The CRC-32 of the crate (ISO-HDLC), also the register image's checksum.
+pub(crate) const CRC: crc::Crc<u32> = crc::Crc::<u32>::new(&crc::CRC_32_ISO_HDLC);
 
 /// Why a blob was refused. The model or configuration the device had stays in
 /// force.
@@ -124,6 +130,12 @@ impl fmt::Display for BlobError {
 
 impl core::error::Error for BlobError {}
 
+impl From<ConfigError> for BlobError {
+    fn from(e: ConfigError) -> Self {
+        BlobError::Invalid(e)
+    }
+}
+
 fn sat_u32(n: usize) -> u32 {
     u32::try_from(n).unwrap_or(u32::MAX)
 }
@@ -145,19 +157,6 @@ pub fn open(blob: &[u8], kind: u8, version: u16) -> Result<&[u8], BlobError> {
     let byte = |i: usize| head.get(i).copied().unwrap_or(0);
     if head.get(..4) != Some(&MAGIC[..]) {
         return Err(BlobError::BadMagic);
-    }
-    if byte(4) != kind {
-        return Err(BlobError::WrongKind {
-            expected: kind,
-            found: byte(4),
-        });
-    }
-    let found_version = u16::from_le_bytes([byte(5), byte(6)]);
-    if found_version != version {
-        return Err(BlobError::WrongVersion {
-            expected: version,
-            found: found_version,
-        });
     }
     let declared = u32::from_le_bytes([byte(7), byte(8), byte(9), byte(10)]);
     let needed = u64::from(declared) + (HEADER_LEN + TRAILER_LEN) as u64;
@@ -187,6 +186,19 @@ pub fn open(blob: &[u8], kind: u8, version: u16) -> Result<&[u8], BlobError> {
     let computed = checksum(covered);
     if stored != computed {
         return Err(BlobError::Checksum { stored, computed });
+    }
+    if byte(4) != kind {
+        return Err(BlobError::WrongKind {
+            expected: kind,
+            found: byte(4),
+        });
+    }
+    let found_version = u16::from_le_bytes([byte(5), byte(6)]);
+    if found_version != version {
+        return Err(BlobError::WrongVersion {
+            expected: version,
+            found: found_version,
+        });
     }
     Ok(payload)
 }

@@ -2,111 +2,42 @@
 //! versioned binary with a checksum, decoded without heap and validated
 //! exactly like the host form (by [`Train::new`]).
 //!
-//! Layout (all little-endian):
-//!
-//! | bytes | what |
-//! |---|---|
-//! | 4 | magic `PTCF` |
-//! | 2 | format version ([`VERSION`]) |
-//! | 2 | payload length n |
-//! | n | payload: [`TrainBlob`] in `postcard` (serde, varint integers, f32 values) |
-//! | 4 | CRC-32 (ISO-HDLC, the Ethernet/zip CRC, `crc` crate `CRC_32_ISO_HDLC`) of every byte before it |
+//! Framing: the crate's one binary container ([`crate::blob`]: magic
+//! `PLYT`, payload kind [`KIND_TRAIN_CONFIG`], format version [`VERSION`],
+//! payload length, CRC-32 of everything before it), the payload a
+//! [`TrainBlob`] in `postcard` (serde, varint integers, f32 values). Format
+//! version 1 had a framing of its own (magic `PTCF`, 16-bit length); version
+//! 2 is the shared container, and version 1 blobs are refused (bad magic).
 //!
 //! A CRC-32 detects every single-bit error and every burst up to 32 bits
 //! (the property of any CRC with a degree-32 generator; Koopman, "32-bit
 //! cyclic redundancy codes for Internet applications", DSN 2002). A blob that
-//! is truncated, corrupt, of another version or describes an invalid train
-//! is refused with a typed [`BlobError`]; [`apply`] then leaves the running
-//! train untouched.
+//! is truncated, corrupt, of another kind or version or describes an invalid
+//! train is refused with a typed [`BlobError`]; [`apply`] then leaves the
+//! running train untouched.
 
 use serde::{Deserialize, Serialize};
 
 use crate::cooler::CoolerConfig;
-use crate::error::ConfigError;
+use crate::error::{ConfigError, Problem};
 use crate::gas::{HeatCapacity, IdealGas};
 use crate::real::Real;
 use crate::steady::SteadyStateConfig;
 use crate::train::{StageConfig, StageKind, Train, TrainConfig};
 use crate::units::PressureAbs;
 
-/// Magic bytes at the start of a blob.
-pub const MAGIC: [u8; 4] = *b"PTCF";
-/// The format version this build reads and writes.
-pub const VERSION: u16 = 1;
+pub use crate::blob::{BlobError, KIND_TRAIN_CONFIG};
+
+/// The format version of the configuration payload this build reads and
+/// writes (2: the shared container; see the module documentation).
+pub const VERSION: u16 = 2;
 /// Most stages a blob carries.
 pub const MAX_STAGES: usize = 8;
-/// Header bytes (magic, version, length).
-pub const HEADER_LEN: usize = 8;
-/// Checksum bytes.
-pub const CRC_LEN: usize = 4;
 /// Largest blob: header, the largest payload, checksum.
 pub const MAX_BLOB_LEN: usize = 512;
 
 /// The CRC-32 of the crate (ISO-HDLC), also the register image's checksum.
-pub(crate) const CRC: crc::Crc<u32> = crc::Crc::<u32>::new(&crc::CRC_32_ISO_HDLC);
-
-/// Why a blob was refused.
-#[derive(Clone, Copy, Debug, PartialEq)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub enum BlobError {
-    /// Shorter than its header and checksum, or than the length it states.
-    Truncated,
-    /// Longer than the length it states (trailing bytes).
-    TrailingBytes,
-    /// Does not start with [`MAGIC`].
-    BadMagic,
-    /// A format version this build does not read.
-    UnsupportedVersion {
-        /// The version found.
-        found: u16,
-    },
-    /// The checksum does not match: the blob is corrupt.
-    ChecksumMismatch,
-    /// The payload does not decode (or has bytes left over).
-    Malformed,
-    /// The blob describes another number of stages than the train has.
-    StageCount {
-        /// Stages in the blob.
-        found: u8,
-        /// Stages of the train type.
-        expected: u8,
-    },
-    /// The configuration decodes but is refused by validation.
-    Config(ConfigError),
-    /// The output buffer is too small to encode into.
-    BufferTooSmall,
-}
-
-impl core::fmt::Display for BlobError {
-    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
-        match self {
-            BlobError::Truncated => f.write_str("blob truncated"),
-            BlobError::TrailingBytes => f.write_str("blob has bytes after its checksum"),
-            BlobError::BadMagic => f.write_str("not a configuration blob (bad magic)"),
-            BlobError::UnsupportedVersion { found } => {
-                write!(
-                    f,
-                    "blob version {found} is not supported (this build reads {VERSION})"
-                )
-            }
-            BlobError::ChecksumMismatch => f.write_str("blob checksum mismatch (corrupt)"),
-            BlobError::Malformed => f.write_str("blob payload does not decode"),
-            BlobError::StageCount { found, expected } => {
-                write!(f, "blob has {found} stages, the train {expected}")
-            }
-            BlobError::Config(e) => write!(f, "blob configuration refused: {e}"),
-            BlobError::BufferTooSmall => f.write_str("buffer too small for the blob"),
-        }
-    }
-}
-
-impl core::error::Error for BlobError {}
-
-impl From<ConfigError> for BlobError {
-    fn from(e: ConfigError) -> Self {
-        BlobError::Config(e)
-    }
-}
+pub(crate) use crate::blob::CRC;
 
 /// Heat capacity of the gas in the blob.
 #[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
@@ -215,10 +146,13 @@ impl TrainBlob {
     ) -> Result<TrainConfig<T, IdealGas<T>, N>, BlobError> {
         let expected = u8::try_from(N).unwrap_or(u8::MAX);
         if usize::from(self.stage_count) != N {
-            return Err(BlobError::StageCount {
-                found: self.stage_count,
-                expected,
-            });
+            return Err(BlobError::Invalid(ConfigError::new(
+                "stages",
+                Problem::Count {
+                    min: u16::from(expected),
+                    max: u16::from(expected),
+                },
+            )));
         }
         let t = |x: f32| T::of(f64::from(x));
         let hc = match self.heat_capacity {
@@ -255,8 +189,8 @@ impl TrainBlob {
         });
         for (i, s) in self.stages.iter().enumerate().take(N) {
             if s.kind > 1 {
-                return Err(BlobError::Config(
-                    ConfigError::new("stages.kind", crate::error::Problem::Unknown).at(i),
+                return Err(BlobError::Invalid(
+                    ConfigError::new("stages.kind", Problem::Unknown).at(i),
                 ));
             }
         }
@@ -274,73 +208,21 @@ impl TrainBlob {
     }
 }
 
-/// Encodes `blob` into `out`; returns the number of bytes written.
+/// Encodes a blob into `out`; returns its length.
 pub fn encode(blob: &TrainBlob, out: &mut [u8]) -> Result<usize, BlobError> {
-    let (header, rest) = out
-        .split_at_mut_checked(HEADER_LEN)
-        .ok_or(BlobError::BufferTooSmall)?;
-    let payload_len = postcard::to_slice(blob, rest)
+    let used = postcard::to_slice(blob, crate::blob::payload_area(out))
         .map_err(|_| BlobError::BufferTooSmall)?
         .len();
-    let len16 = u16::try_from(payload_len).map_err(|_| BlobError::BufferTooSmall)?;
-    header.copy_from_slice(&[0; HEADER_LEN]);
-    if let Some(h) = header.get_mut(..4) {
-        h.copy_from_slice(&MAGIC);
-    }
-    if let Some(h) = header.get_mut(4..6) {
-        h.copy_from_slice(&VERSION.to_le_bytes());
-    }
-    if let Some(h) = header.get_mut(6..8) {
-        h.copy_from_slice(&len16.to_le_bytes());
-    }
-    let body = HEADER_LEN + payload_len;
-    let crc = CRC.checksum(out.get(..body).ok_or(BlobError::BufferTooSmall)?);
-    out.get_mut(body..body + CRC_LEN)
-        .ok_or(BlobError::BufferTooSmall)?
-        .copy_from_slice(&crc.to_le_bytes());
-    Ok(body + CRC_LEN)
+    crate::blob::seal(out, KIND_TRAIN_CONFIG, VERSION, used)
 }
 
-fn le16(b: &[u8], at: usize) -> Option<u16> {
-    let s = b.get(at..at + 2)?;
-    Some(u16::from_le_bytes([*s.first()?, *s.get(1)?]))
-}
-
-/// Checks framing and checksum and decodes the payload (no validation).
+/// Checks a blob's framing and checksum ([`crate::blob::open`]) and decodes
+/// its payload (bytes left over are refused).
 pub fn decode(bytes: &[u8]) -> Result<TrainBlob, BlobError> {
-    if bytes.len() < HEADER_LEN + CRC_LEN {
-        return Err(BlobError::Truncated);
-    }
-    if bytes.get(..4) != Some(&MAGIC[..]) {
-        return Err(BlobError::BadMagic);
-    }
-    let version = le16(bytes, 4).ok_or(BlobError::Truncated)?;
-    let len = usize::from(le16(bytes, 6).ok_or(BlobError::Truncated)?);
-    let body = HEADER_LEN + len;
-    let total = body + CRC_LEN;
-    if bytes.len() < total {
-        return Err(BlobError::Truncated);
-    }
-    if bytes.len() > total {
-        return Err(BlobError::TrailingBytes);
-    }
-    let stored = bytes
-        .get(body..total)
-        .and_then(|c| c.try_into().ok())
-        .map(u32::from_le_bytes)
-        .ok_or(BlobError::Truncated)?;
-    let head_and_payload = bytes.get(..body).ok_or(BlobError::Truncated)?;
-    if CRC.checksum(head_and_payload) != stored {
-        return Err(BlobError::ChecksumMismatch);
-    }
-    // Version after the checksum: a corrupt version field reads as corruption.
-    if version != VERSION {
-        return Err(BlobError::UnsupportedVersion { found: version });
-    }
-    let payload = bytes.get(HEADER_LEN..body).ok_or(BlobError::Truncated)?;
+    let payload = crate::blob::open(bytes, KIND_TRAIN_CONFIG, VERSION)?;
     match postcard::take_from_bytes::<TrainBlob>(payload) {
         Ok((blob, [])) => Ok(blob),
-        _ => Err(BlobError::Malformed),
+        _ => Err(BlobError::Decode),
     }
 }
 

@@ -1,7 +1,8 @@
-//! The device configuration blob (`src/config_blob.rs`): round trip,
-//! every truncation length and every single-bit flip of a sample blob (the
-//! invented demo train), wrong version, invalid content; a refused blob
-//! leaves the running train as it was. CRC-32 catching every single-bit
+//! The device configuration blob (`src/config_blob.rs`, framed by the
+//! crate's one container `src/blob.rs`): round trip, every truncation length
+//! and every single-bit flip of a sample blob (the invented demo train),
+//! wrong version, wrong kind (a property table), the old own framing,
+//! invalid content; a refused blob leaves the running train as it was. CRC-32 catching every single-bit
 //! error is a property of the code (Koopman, DSN 2002); this test checks
 //! that the decoder actually relies on it.
 
@@ -81,7 +82,11 @@ fn every_truncation_is_refused() {
     let (_, bytes) = sample();
     for len in 0..bytes.len() {
         let e = decode_train::<f32, { demo::STAGES }, { demo::WINDOW }>(&bytes[..len]);
-        assert_eq!(e.err(), Some(BlobError::Truncated), "length {len}");
+        assert!(
+            matches!(e, Err(BlobError::Truncated { found, .. }) if found as usize == len),
+            "length {len}: {:?}",
+            e.err()
+        );
     }
     let mut long = bytes.clone();
     long.push(0);
@@ -105,29 +110,53 @@ fn every_single_bit_flip_is_refused_and_keeps_the_running_train() {
             let e = apply(&mut train, &b).unwrap_err();
             match e {
                 BlobError::BadMagic => kinds[0] += 1,
-                BlobError::ChecksumMismatch => kinds[1] += 1,
-                BlobError::Truncated | BlobError::TrailingBytes => kinds[2] += 1,
+                BlobError::Checksum { .. } => kinds[1] += 1,
+                BlobError::Truncated { .. } | BlobError::TrailingBytes => kinds[2] += 1,
                 other => panic!("byte {byte} bit {bit}: unexpected {other:?}"),
             }
             assert_eq!(*train.config(), before_cfg);
             assert_eq!(*train.snapshot(), before_snap);
         }
     }
-    // 32 magic bits; 16 length bits change the framing; every other flip
-    // (version, payload, checksum) is caught by the checksum.
-    assert_eq!(kinds, [32, 8 * bytes.len() - 48, 16]);
+    // 32 magic bits; 32 length bits change the framing; every other flip
+    // (kind, version, payload, checksum) is caught by the checksum.
+    assert_eq!(kinds, [32, 8 * bytes.len() - 64, 32]);
 }
 
 #[test]
 fn wrong_version_bad_content_and_wrong_stage_count_are_typed_errors() {
     let (blob, bytes) = sample();
     let mut b = bytes.clone();
-    b[4..6].copy_from_slice(&(VERSION + 1).to_le_bytes());
+    b[5..7].copy_from_slice(&(VERSION + 1).to_le_bytes());
     reseal(&mut b);
     assert_eq!(
         decode(&b).err(),
-        Some(BlobError::UnsupportedVersion { found: VERSION + 1 })
+        Some(BlobError::WrongVersion {
+            expected: VERSION,
+            found: VERSION + 1
+        })
     );
+    // Another kind of blob (a property table's kind byte), well sealed.
+    let mut k = bytes.clone();
+    k[4] = polytrope::blob::KIND_PROPERTY_TABLE;
+    reseal(&mut k);
+    assert_eq!(
+        decode(&k).err(),
+        Some(BlobError::WrongKind {
+            expected: polytrope::blob::KIND_TRAIN_CONFIG,
+            found: polytrope::blob::KIND_PROPERTY_TABLE
+        })
+    );
+    // A blob of format version 1 (its own framing: magic `PTCF`, version,
+    // 16-bit length, payload, CRC-32) is refused by its magic.
+    let mut old = b"PTCF".to_vec();
+    old.extend_from_slice(&1u16.to_le_bytes());
+    let payload = &bytes[11..bytes.len() - 4];
+    old.extend_from_slice(&(payload.len() as u16).to_le_bytes());
+    old.extend_from_slice(payload);
+    old.extend_from_slice(&[0; 4]);
+    reseal(&mut old);
+    assert_eq!(decode(&old).err(), Some(BlobError::BadMagic));
     // Valid framing, invalid train: stage 3's discharge below its suction.
     let mut bad = blob;
     bad.stages[2].design_discharge_pressure = bad.stages[2].design_suction_pressure * 0.5;
@@ -136,7 +165,7 @@ fn wrong_version_bad_content_and_wrong_stage_count_are_typed_errors() {
     let mut train = ideal_demo_train();
     let before = *train.config();
     match apply(&mut train, &buf[..n]) {
-        Err(BlobError::Config(e)) => {
+        Err(BlobError::Invalid(e)) => {
             assert_eq!(e.field, "stages.design_discharge_pressure");
             assert_eq!(e.index, Some(2));
             assert!(matches!(e.problem, Problem::NotAbove { .. }));
@@ -145,13 +174,13 @@ fn wrong_version_bad_content_and_wrong_stage_count_are_typed_errors() {
     }
     assert_eq!(*train.config(), before);
     // Stage count of another train type.
-    assert_eq!(
-        decode_train::<f32, 3, 8>(&bytes).err(),
-        Some(BlobError::StageCount {
-            found: 5,
-            expected: 3
-        })
-    );
+    match decode_train::<f32, 3, 8>(&bytes) {
+        Err(BlobError::Invalid(e)) => {
+            assert_eq!(e.field, "stages");
+            assert_eq!(e.problem, Problem::Count { min: 3, max: 3 });
+        }
+        other => panic!("{:?}", other.err()),
+    }
     // A valid blob of a changed train is taken.
     let mut changed = blob;
     changed.max_interstage_pressure_drop = 0.05;

@@ -1,5 +1,5 @@
 //! `blob`: writes the device configuration blob of a train file
-//! (`polytrope::config_blob`: postcard payload, version, CRC-32) and checks
+//! (`polytrope::config_blob` in the `polytrope::blob` container: kind, version, postcard payload, CRC-32) and checks
 //! that the kernel decodes it to the same configuration as the host form.
 
 use std::path::PathBuf;
@@ -51,7 +51,7 @@ impl StagesJob for Job<'_> {
         // The device's path: decode without heap and validate like the host form.
         let device = config_blob::decode_train::<f32, N, WINDOW>(&bytes)
             .map_err(|e| CliError::Input(format!("the blob does not decode: {e}")))?;
-        // The blob carries no critical point (format version 1): the
+        // The blob carries no critical point (the format has none): the
         // device's ideal gas does not flag the ideal-gas validity limit
         // (Pr/Tr³ > 0.1) that the host form, built from a named gas, has.
         // Everything else must be the same.

@@ -35,10 +35,10 @@ pub struct Envelope {
 }
 
 /// What to generate.
-#[derive(Clone, Copy)]
+#[derive(Clone)]
 pub struct Spec {
     /// ASCII label (up to 16 bytes kept).
-    pub label: &'static str,
+    pub label: String,
     /// Mole fractions (sum 1).
     pub composition: Composition,
     /// Envelope.
@@ -93,7 +93,12 @@ pub struct EosState {
 /// kernel's `tests/gerg_tables.rs`, which includes this file).
 #[allow(dead_code)]
 pub fn composition_of(h: &TableHeader) -> Composition {
-    let x = &h.mole_fractions;
+    composition_from(&h.mole_fractions)
+}
+
+/// The aga8 composition of mole fractions in the order of
+/// [`GERG_COMPONENTS`].
+pub fn composition_from(x: &[f64; 21]) -> Composition {
     let g = |i: usize| x.get(i).copied().unwrap_or(0.0);
     Composition {
         methane: g(0),
@@ -658,7 +663,7 @@ pub fn generate(spec: &Spec) -> Result<Generated, String> {
     };
     let mut b = Builder {
         eos,
-        spec: *spec,
+        spec: spec.clone(),
         header,
         computed: HashMap::new(),
         nodes: Vec::new(),
@@ -765,6 +770,88 @@ pub fn rust_source(g: &Generated, name: &str, command: &str) -> String {
 
 /// Built-in compositions: name, description, composition, default envelope,
 /// pure-CO2 flag.
+/// GERG-2008's 21 components by name (the `aga8` crate's field names), in
+/// the order of [`polytrope::gas::table::TableHeader::mole_fractions`].
+pub const GERG_COMPONENTS: [&str; 21] = [
+    "methane",
+    "nitrogen",
+    "carbon_dioxide",
+    "ethane",
+    "propane",
+    "isobutane",
+    "n_butane",
+    "isopentane",
+    "n_pentane",
+    "hexane",
+    "heptane",
+    "octane",
+    "nonane",
+    "decane",
+    "hydrogen",
+    "oxygen",
+    "carbon_monoxide",
+    "water",
+    "hydrogen_sulfide",
+    "helium",
+    "argon",
+];
+
+/// How far the given mole fractions may sum from 1 before they are refused
+/// (within it they are scaled to sum to 1).
+pub const COMPOSITION_SUM_TOLERANCE: f64 = 1e-4;
+
+/// Parses a composition `name=fraction,name=fraction,...` (GERG-2008
+/// component names from [`GERG_COMPONENTS`], `-` accepted for `_`; mole
+/// fractions). Refused, naming the field: an item without `=`, an unknown
+/// or repeated name, a fraction that is not a number in [0, 1], a sum more
+/// than [`COMPOSITION_SUM_TOLERANCE`] from 1. Within it the fractions are
+/// scaled to sum to 1 exactly.
+pub fn parse_composition(text: &str) -> Result<Composition, String> {
+    let mut x = [0.0f64; 21];
+    let mut seen = [false; 21];
+    for item in text.split(',').map(str::trim).filter(|i| !i.is_empty()) {
+        let Some((name, value)) = item.split_once('=') else {
+            return Err(format!(
+                "--composition: '{item}' is not name=fraction (e.g. methane=0.9)"
+            ));
+        };
+        let name = name.trim().to_ascii_lowercase().replace('-', "_");
+        let Some(k) = GERG_COMPONENTS.iter().position(|c| *c == name) else {
+            return Err(format!(
+                "--composition.{name}: not a GERG-2008 component (known: {})",
+                GERG_COMPONENTS.join(", ")
+            ));
+        };
+        if seen[k] {
+            return Err(format!("--composition.{name}: given twice"));
+        }
+        seen[k] = true;
+        let v: f64 = value
+            .trim()
+            .parse()
+            .map_err(|_| format!("--composition.{name}: '{}' is not a number", value.trim()))?;
+        if !(v.is_finite() && (0.0..=1.0).contains(&v)) {
+            return Err(format!(
+                "--composition.{name}: {v} is outside 0 to 1 (a mole fraction)"
+            ));
+        }
+        x[k] = v;
+    }
+    let sum: f64 = x.iter().sum();
+    if !seen.iter().any(|s| *s) {
+        return Err("--composition: no component given".into());
+    }
+    if !((sum - 1.0).abs() <= COMPOSITION_SUM_TOLERANCE) {
+        return Err(format!(
+            "--composition: the mole fractions sum to {sum}, not 1 (within {COMPOSITION_SUM_TOLERANCE})"
+        ));
+    }
+    for v in &mut x {
+        *v /= sum;
+    }
+    Ok(composition_from(&x))
+}
+
 pub fn preset(name: &str) -> Option<(&'static str, Composition, Envelope, bool)> {
     let env = |p0: f64, p1: f64, t0: f64, t1: f64| Envelope {
         p_min: p0 * 1e5,

@@ -9,15 +9,28 @@
 use clap::Args;
 
 use crate::cli::{count, CliError};
-use crate::gerg_table::{generate, preset, rust_source, Spec};
+use crate::gerg_table::{generate, parse_composition, preset, rust_source, Envelope, Spec};
 use polytrope::gas::table::write_blob;
 
 /// Options of `tables`.
 #[derive(Debug, Args)]
 pub struct TablesArgs {
     /// co2 (demo train), co2-dense, ng-booster (invented, default), methane, hydrogen, nitrogen, air.
-    #[arg(long, value_name = "NAME")]
+    #[arg(long, value_name = "NAME", conflicts_with = "composition")]
     gas: Option<String>,
+    /// Any GERG-2008 mixture instead of a named gas: mole fractions by
+    /// component name, e.g. "methane=0.9,ethane=0.06,propane=0.02,nitrogen=0.02"
+    /// (names: methane, nitrogen, carbon_dioxide, ethane, propane, isobutane,
+    /// n_butane, isopentane, n_pentane, hexane, heptane, octane, nonane,
+    /// decane, hydrogen, oxygen, carbon_monoxide, water, hydrogen_sulfide,
+    /// helium, argon; the sum within 0.0001 of 1). Default envelope
+    /// 1-250 bar a, 240-450 K.
+    #[arg(long, value_name = "NAME=X,...")]
+    composition: Option<String>,
+    /// ASCII label stored in the table (up to 16 characters; default: the
+    /// gas's name, or "custom mixture").
+    #[arg(long, value_name = "TEXT")]
+    label: Option<String>,
     /// Lowest pressure, bar a (default: the gas's envelope).
     #[arg(long = "p-min-bar", value_name = "BAR", allow_hyphen_values = true)]
     p_min_bar: Option<String>,
@@ -55,17 +68,71 @@ fn number(value: Option<&str>, name: &str, default: f64) -> Result<f64, CliError
     }
 }
 
+/// The envelope's limits for a table: GERG-2008's extended range of
+/// validity (Kunz & Wagner 2012, section 5: 60-700 K, up to 70 MPa).
+const P_MAX_BAR: f64 = 700.0;
+const T_RANGE_K: (f64, f64) = (60.0, 700.0);
+
+/// Checks an envelope against GERG-2008's extended range, naming the option.
+fn check_envelope(e: &Envelope) -> Result<(), CliError> {
+    let bad = |m: String| Err(CliError::Input(m));
+    if e.p_max / 1e5 > P_MAX_BAR {
+        return bad(format!(
+            "--p-max-bar: {} is above GERG-2008's range ({P_MAX_BAR} bar a)",
+            e.p_max / 1e5
+        ));
+    }
+    if !(e.p_min < e.p_max) {
+        return bad("--p-max-bar: the envelope needs it above --p-min-bar".into());
+    }
+    for (name, t) in [("t-min-k", e.t_min), ("t-max-k", e.t_max)] {
+        if !(T_RANGE_K.0..=T_RANGE_K.1).contains(&t) {
+            return bad(format!(
+                "--{name}: {t} K is outside GERG-2008's range ({}-{} K)",
+                T_RANGE_K.0, T_RANGE_K.1
+            ));
+        }
+    }
+    if !(e.t_min < e.t_max) {
+        return bad("--t-max-k: the envelope needs it above --t-min-k".into());
+    }
+    Ok(())
+}
+
 /// Runs `tables`.
 pub fn run(p: &TablesArgs) -> Result<String, CliError> {
     let gas = p.gas.as_deref().unwrap_or("ng-booster");
-    let Some((label, composition, env, pure_co2)) = preset(gas) else {
-        return Err(CliError::Input(format!("--gas: unknown gas '{gas}'")));
+    let (label, composition, env, pure_co2) = match p.composition.as_deref() {
+        Some(text) => {
+            let c = parse_composition(text).map_err(CliError::Input)?;
+            let pure_co2 = c.carbon_dioxide == 1.0;
+            let env = Envelope {
+                p_min: 1e5,
+                p_max: 250e5,
+                t_min: 240.0,
+                t_max: 450.0,
+            };
+            ("custom mixture", c, env, pure_co2)
+        }
+        None => {
+            preset(gas).ok_or_else(|| CliError::Input(format!("--gas: unknown gas '{gas}'")))?
+        }
+    };
+    let label = match p.label.as_deref() {
+        Some(l) if l.is_ascii() && !l.is_empty() && l.len() <= 16 => l.to_string(),
+        Some(l) => {
+            return Err(CliError::Input(format!(
+                "--label: '{l}' is not 1 to 16 ASCII characters"
+            )))
+        }
+        None => label.to_string(),
     };
     let mut envelope = env;
     envelope.p_min = number(p.p_min_bar.as_deref(), "p-min-bar", env.p_min / 1e5)? * 1e5;
     envelope.p_max = number(p.p_max_bar.as_deref(), "p-max-bar", env.p_max / 1e5)? * 1e5;
     envelope.t_min = number(p.t_min_k.as_deref(), "t-min-k", env.t_min)?;
     envelope.t_max = number(p.t_max_k.as_deref(), "t-max-k", env.t_max)?;
+    check_envelope(&envelope)?;
     let max_depth = match p.max_depth.as_deref() {
         Some(t) => count("max-depth", t, 2, 16)?,
         None => 9,
@@ -87,7 +154,7 @@ pub fn run(p: &TablesArgs) -> Result<String, CliError> {
         (cp_mid * 0.01 * 100.0).round() / 100.0,
     )?;
     let spec = Spec {
-        label,
+        label: label.clone(),
         composition,
         envelope,
         tol_h,
@@ -141,8 +208,12 @@ pub fn run(p: &TablesArgs) -> Result<String, CliError> {
                 "--name: use upper-case letters, digits and _".into(),
             ));
         }
+        let what = match p.composition.as_deref() {
+            Some(c) => format!("--composition '{c}' --label '{label}'"),
+            None => format!("--gas {gas}"),
+        };
         let command = format!(
-            "polytrope-host tables --gas {gas} --p-min-bar {} --p-max-bar {} --t-min-k {} --t-max-k {} --tol-h {tol_h} --max-depth {max_depth} --name {name}",
+            "polytrope-host tables {what} --p-min-bar {} --p-max-bar {} --t-min-k {} --t-max-k {} --tol-h {tol_h} --max-depth {max_depth} --name {name}",
             envelope.p_min / 1e5,
             envelope.p_max / 1e5,
             envelope.t_min,
