@@ -21,7 +21,8 @@
 use polytrope::gas::table::{PropertyTable, TableGas};
 use polytrope::Quality;
 
-const CSV: &str = include_str!("reference/coolprop_tables.csv");
+#[allow(dead_code)]
+mod reference;
 
 const TABLES: [(&str, &[u8]); 7] = [
     ("ng_booster", include_bytes!("../tables/ng_booster.bin")),
@@ -55,12 +56,11 @@ struct Row {
 }
 
 fn rows(table: &str) -> Vec<Row> {
-    CSV.lines()
-        .skip(1)
-        .filter_map(|line| {
-            let f: Vec<&str> = line.split(',').collect();
+    reference::csv_rows("coolprop_tables.csv")
+        .into_iter()
+        .filter_map(|f| {
             (f[0] == table).then(|| {
-                let v = |i: usize| f[i].parse::<f64>().unwrap();
+                let v = |i: usize| reference::num(&f[i]);
                 Row {
                     p: v(1),
                     t: v(2),
