@@ -4,8 +4,10 @@
 #![no_std]
 
 pub mod codec;
+pub mod controller;
 pub mod front;
 pub mod proof;
+pub mod report;
 pub mod table;
 
 /// Ends the program through semihosting (QEMU exits with this status).
