@@ -62,16 +62,20 @@ for target in thumbv7em-none-eabihf thumbv6m-none-eabi; do
   done
 done
 
-# The approx-math build (Cortex-M4F only), in a target directory of its own.
+# The feature builds (Cortex-M4F only), each in a target directory of its
+# own: approx-math (micromath ln/exp/pow) and inline-math (libm's logf/expf
+# inlined at every call site instead of kept out of line).
 target=thumbv7em-none-eabihf
-tag=$target+approx-math
-echo "measure: building firmware for $tag"
-(cd $fw && CARGO_TARGET_DIR=target/approx-math cargo build -q --release --target $target \
-  --features approx-math --bin harness --bin full_scan --bin controller --bin empty)
-run_qemu "$fw/target/approx-math/$target/release/harness" $target $tag
-run_qemu "$fw/target/approx-math/$target/release/full_scan" $target $tag.scan
-for bin in controller empty; do
-  size -A "$fw/target/approx-math/$target/release/$bin" > "$work/$tag.$bin.size"
+for feature in approx-math inline-math; do
+  tag=$target+$feature
+  echo "measure: building firmware for $tag"
+  (cd $fw && CARGO_TARGET_DIR=target/$feature cargo build -q --release --target $target \
+    --features $feature --bin harness --bin full_scan --bin controller --bin empty)
+  run_qemu "$fw/target/$feature/$target/release/harness" $target $tag
+  run_qemu "$fw/target/$feature/$target/release/full_scan" $target $tag.scan
+  for bin in controller empty; do
+    size -A "$fw/target/$feature/$target/release/$bin" > "$work/$tag.$bin.size"
+  done
 done
 
 python3 - "$work" "$out_md" <<'EOF'
@@ -132,15 +136,16 @@ for t, _, _ in targets:
     f["flash_minimal"] = mini[0] - empty[0]
     f["flash_controller"] = ctl[0] - empty[0]
     figures[t] = f
-at = "thumbv7em-none-eabihf+approx-math"
-per, s = regions(at)
-per2, s2 = regions(at + ".scan")
-per.update(per2)
-fa = {k: max(v) for k, v in per.items()}
-fa.update(s)
-fa.update(s2)
-fa["flash_controller"] = sec(at, "controller")[0] - sec(at, "empty")[0]
-figures[at] = fa
+for feature in ("approx-math", "inline-math"):
+    at = "thumbv7em-none-eabihf+" + feature
+    per, s = regions(at)
+    per2, s2 = regions(at + ".scan")
+    per.update(per2)
+    fa = {k: max(v) for k, v in per.items()}
+    fa.update(s)
+    fa.update(s2)
+    fa["flash_controller"] = sec(at, "controller")[0] - sec(at, "empty")[0]
+    figures[at] = fa
 json.dump(figures, open(f"{work}/figures.json", "w"), indent=1, sort_keys=True)
 
 L = []
@@ -207,18 +212,22 @@ L.append("Static RAM is zero because the minimal firmware keeps the train on the
          "`ci/checks.d/firmware.sh` also checks that a deliberately panicking probe fails "
          "to link.")
 L.append("")
-L.append("With `approx-math` (Cortex-M4F; same harness, same scans):")
+L.append("Feature builds on Cortex-M4F (same harness, same scans): `approx-math` routes `ln`, `exp`, "
+         "`powf` to `micromath`; `inline-math` lets LTO inline libm's `logf`/`expf` at every call site "
+         "(the default keeps one out-of-line copy of each; results bit-identical).")
 L.append("")
-L.append("| approx-math, Cortex-M4F | default build | approx-math |")
-L.append("|---|---:|---:|")
+L.append("| Cortex-M4F | default build | `approx-math` | `inline-math` |")
+L.append("|---|---:|---:|---:|")
 m4 = figures["thumbv7em-none-eabihf"]
+fa = figures["thumbv7em-none-eabihf+approx-math"]
+fi = figures["thumbv7em-none-eabihf+inline-math"]
 for key, doc in [("full_scan", "whole controller scan, instructions"),
                  ("update_4_stages_3_intercoolers", "train update, 4 stages + 3 intercoolers, instructions"),
                  ("surge_margin_update", "one `SurgeMonitor::update`, instructions"),
                  ("signal_channel_4_20ma", "one `Channel::update`, instructions"),
                  ("flash_controller", "kernel flash of the whole controller scan, bytes"),
                  ("stack_full_scan", "stack of one whole controller scan, bytes")]:
-    L.append(f"| {doc} | {m4[key]:,} | {fa[key]:,} |")
+    L.append(f"| {doc} | {m4[key]:,} | {fa[key]:,} | {fi[key]:,} |")
 open(out_md, "w").write("\n".join(L) + "\n")
 print("\n".join(L))
 EOF
