@@ -73,7 +73,7 @@ fn bench_full_scan(c: &mut Criterion) {
     controller::Controller::build_in(&mut slot, controller::train_config(&demo_cfg, demo_cfg.gas))
         .expect("controller");
     let ctl = slot.as_mut().expect("built");
-    let slow: Vec<_> = (0..64)
+    let mut slow: Vec<_> = (0..64)
         .map(|i| {
             let full = demo::scan::<f32>(i * 7);
             let mut stages = [full.stages[0]; controller::SECTIONS];
@@ -83,14 +83,15 @@ fn bench_full_scan(c: &mut Criterion) {
         })
         .collect();
     let mut k = 0_u32;
-    for s in slow.iter().take(controller::WARM_SCANS) {
+    for s in slow.iter_mut().take(controller::WARM_SCANS) {
         let raw = ctl.samples(s, k);
         ctl.scan(&raw, u64::from(k) * controller::SCAN_MS, s);
         k += 1;
     }
     c.bench_function(&format!("full_scan/f32/{MATHS}"), |b| {
         b.iter(|| {
-            let s = &slow[k as usize % slow.len()];
+            let n = slow.len();
+            let s = &mut slow[k as usize % n];
             let raw = ctl.samples(s, k);
             let out = ctl.scan(black_box(&raw), u64::from(k) * controller::SCAN_MS, s);
             k += 1;

@@ -7,9 +7,9 @@
 //! Wiring (an invented controller; demo data): per stage one suction
 //! pressure, one discharge pressure and one suction flow-element differential
 //! pressure transmitter (channels `3 i`, `3 i + 1`, `3 i + 2`). The train's
-//! scan takes the filtered pressures ([`ChannelOutput::pressure`]); each surge
+//! scan takes the filtered pressures (`ChannelOutput::pressure`); each surge
 //! monitor takes the unfiltered values of the same three channels
-//! ([`ChannelOutput::raw_pressure`], [`ChannelOutput::raw`]), as the signal
+//! (`ChannelOutput::raw_pressure`, `ChannelOutput::raw`), as the signal
 //! front end advises for the protection path. Temperatures, mass flow,
 //! compressibility and the cooler readings come with the committed scan (in
 //! this invented controller a slower RTD scanner and a flow computer deliver
@@ -17,7 +17,7 @@
 
 use polytrope::demo;
 use polytrope::gas::GasModel;
-use polytrope::signal::{Channel, ChannelConfig, ChannelOutput, InstrumentClass, SignalKind, Unit};
+use polytrope::signal::{Channel, ChannelConfig, InstrumentClass, SignalKind, Unit};
 use polytrope::surge::{
     MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
 };
@@ -213,40 +213,52 @@ impl<G: GasModel<f32>> Controller<G> {
     }
 
     /// One controller scan at `t_ms`: every channel, the train on the
-    /// channels' filtered pressures and `slow`'s other readings, every surge
-    /// monitor on the channels' unfiltered values.
+    /// channels' filtered pressures (written into `scan`, whose other
+    /// readings come from the slower inputs), every surge monitor on the
+    /// channels' unfiltered values. Works in place: no copy of the scan or
+    /// of the channel outputs.
     pub fn scan(
         &mut self,
         raw: &[f32; CHANNELS],
         t_ms: u64,
-        slow: &polytrope::scan::Scan<f32, SECTIONS>,
+        scan: &mut polytrope::scan::Scan<f32, SECTIONS>,
     ) -> ScanSummary {
-        let mut out = [ChannelOutput::bad(0); CHANNELS];
-        for ((o, c), &r) in out.iter_mut().zip(self.channels.iter_mut()).zip(raw.iter()) {
-            *o = c.update(r, t_ms);
-        }
-        let mut scan = *slow;
-        for (s, o) in scan.stages.iter_mut().zip(out.chunks_exact(3)) {
-            s.suction_pressure = o[0].pressure();
-            s.discharge_pressure = o[1].pressure();
-        }
-        let total_power = self.train.update(&scan).totals.total_power.value;
         let dt_ms = self.last_ms.map_or(SCAN_MS, |l| t_ms.saturating_sub(l));
         self.last_ms = Some(t_ms);
         let dt = u32::try_from(dt_ms).unwrap_or(u32::MAX) as f32 * 1.0e-3;
+        let none = polytrope::Measured::<f32>::bad();
+        let mut surge = [SurgeScan {
+            suction_pressure: none.map(PressureAbs::from_pa),
+            discharge_pressure: none.map(PressureAbs::from_pa),
+            flow_dp: none,
+        }; SECTIONS];
+        for (((stage, ch), r), s) in scan
+            .stages
+            .iter_mut()
+            .zip(self.channels.chunks_exact_mut(3))
+            .zip(raw.chunks_exact(3))
+            .zip(surge.iter_mut())
+        {
+            let ps = ch[0].update(r[0], t_ms);
+            let pd = ch[1].update(r[1], t_ms);
+            let dp = ch[2].update(r[2], t_ms);
+            stage.suction_pressure = ps.pressure();
+            stage.discharge_pressure = pd.pressure();
+            *s = SurgeScan {
+                suction_pressure: ps.raw_pressure(),
+                discharge_pressure: pd.raw_pressure(),
+                flow_dp: dp.raw,
+            };
+        }
+        let total_power = self.train.update(scan).totals.total_power.value;
         let mut margins = [0.0_f32; SECTIONS];
-        for ((m, o), margin) in self
+        for ((m, s), margin) in self
             .monitors
             .iter_mut()
-            .zip(out.chunks_exact(3))
+            .zip(surge.iter())
             .zip(margins.iter_mut())
         {
-            let s = SurgeScan {
-                suction_pressure: o[0].raw_pressure(),
-                discharge_pressure: o[1].raw_pressure(),
-                flow_dp: o[2].raw,
-            };
-            *margin = m.update(&s, 0.0, dt).margin.value;
+            *margin = m.update(s, 0.0, dt).margin.value;
         }
         ScanSummary {
             total_power,

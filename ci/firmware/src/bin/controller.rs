@@ -19,13 +19,13 @@ fn main() -> ! {
             let built = Controller::build_in(&mut slot, controller::train_config(&cfg, cfg.gas));
             match (built, slot.as_mut()) {
                 (Ok(()), Some(ctl)) => {
-                    let slow = controller::section_scan(core::hint::black_box(&MINIMAL_SCAN));
+                    let mut slow = controller::section_scan(core::hint::black_box(&MINIMAL_SCAN));
                     // Raw samples (mA) unknown at compile time; the transmitter
                     // simulation of `Controller::samples` stays out of this
                     // firmware's flash.
                     let raw = core::hint::black_box([8.0_f32; controller::CHANNELS]);
                     let t = core::hint::black_box(0_u64);
-                    core::hint::black_box(ctl.scan(core::hint::black_box(&raw), t, &slow));
+                    core::hint::black_box(ctl.scan(core::hint::black_box(&raw), t, &mut slow));
                     true
                 }
                 _ => false,

@@ -41,9 +41,9 @@ fn full_scan(
     c: &mut Ctl,
     raw: &[f32; controller::CHANNELS],
     t_ms: u64,
-    slow: &Scan<f32, { controller::SECTIONS }>,
+    scan: &mut Scan<f32, { controller::SECTIONS }>,
 ) -> ScanSummary {
-    c.scan(raw, t_ms, slow)
+    c.scan(raw, t_ms, scan)
 }
 
 #[inline(never)]
@@ -94,17 +94,17 @@ fn print_outputs(h: &mut Host, ctl: &Ctl) {
 fn run(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u32, ctl: &mut Ctl) {
     let mut k = 0_u32;
     for raw in SCANS.iter().take(controller::WARM_SCANS) {
-        let slow = controller::section_scan(black_box(raw));
+        let mut slow = controller::section_scan(black_box(raw));
         let samples = ctl.samples(&slow, k);
-        full_scan(ctl, &samples, u64::from(k) * controller::SCAN_MS, &slow);
+        full_scan(ctl, &samples, u64::from(k) * controller::SCAN_MS, &mut slow);
         k += 1;
     }
     for raw in SCANS.iter().skip(controller::WARM_SCANS).take(3) {
-        let slow = black_box(controller::section_scan(black_box(raw)));
+        let mut slow = black_box(controller::section_scan(black_box(raw)));
         let samples = black_box(ctl.samples(&slow, k));
         let t = black_box(u64::from(k) * controller::SCAN_MS);
         let r = label(h, "full_scan");
-        measure(r, || full_scan(ctl, &samples, t, &slow));
+        measure(r, || full_scan(ctl, &samples, t, &mut slow));
         k += 1;
     }
     let good = ctl.snapshot().totals.total_power.quality == Quality::Good
@@ -122,11 +122,11 @@ fn run(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u32, ctl: &mut C
     print_outputs(h, ctl);
 
     let raw = &SCANS[controller::WARM_SCANS + 3];
-    let slow = black_box(controller::section_scan(black_box(raw)));
+    let mut slow = black_box(controller::section_scan(black_box(raw)));
     let samples = black_box(ctl.samples(&slow, k));
     let t = black_box(u64::from(k) * controller::SCAN_MS);
     let used = stack_used(|| {
-        full_scan(ctl, &samples, t, &slow);
+        full_scan(ctl, &samples, t, &mut slow);
     });
     out!(h, "S stack_full_scan {}", used);
     out!(h, "S state_full_scan {}", core::mem::size_of::<Ctl>());
