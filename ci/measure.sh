@@ -91,6 +91,7 @@ labels_doc = {
     "update_demo_5_stages": "full update, demo train (4 compressors, 3 intercoolers, aftercooler, pump)",
     "train_new_demo_5_stages": "`Train::new` of the demo train (once, at start-up)",
     "surge_margin_update": "surge margin, one `SurgeMonitor::update` (4-point line, rate filter settled)",
+    "surge_margin_update_measured_exponent": "surge margin with σ from the measured temperatures (`with_measured_exponent`, σ filter settled)",
     "signal_channel_4_20ma": "signal front end, one 4–20 mA channel `Channel::update` (scaling, plausibility, 5-sample median, low-pass)",
 }
 def regions(tag):

@@ -72,11 +72,11 @@ fn dp_of(q: f64) -> f64 {
 }
 
 fn scan(ps: f64, pd: f64, dp: f64) -> SurgeScan<f64> {
-    SurgeScan {
-        suction_pressure: Measured::good(PressureAbs::from_pa(ps)),
-        discharge_pressure: Measured::good(PressureAbs::from_pa(pd)),
-        flow_dp: Measured::good(dp),
-    }
+    SurgeScan::pressures_only(
+        Measured::good(PressureAbs::from_pa(ps)),
+        Measured::good(PressureAbs::from_pa(pd)),
+        Measured::good(dp),
+    )
 }
 
 /// The surge-sim tuning (examples-host/src/greitzer.rs).

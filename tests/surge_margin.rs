@@ -5,9 +5,12 @@
 //! (Dixon & Hall, *Fluid Mechanics and Thermodynamics of Turbomachinery*,
 //! ch. 1-2, from memory): a machine at the same flow coefficient, head
 //! coefficient and machine Mach number is in the same aerodynamic state, so
-//! it is the same distance from surge. The tests build that "same physical
-//! operating point" for other gases with their own formulas (ρ = p M /(Z Ru T),
-//! polytropic head, orifice law), not with the kernel's.
+//! it is the same distance from surge. The tests here build that "same
+//! operating point" for other gases with the ideal-gas polytropic head at
+//! the *configured* exponent and Z·R·T: a consistency check of the
+//! transform's algebra (suction pressure, temperature, molar mass, Z), not of
+//! the physics of a gas with another exponent. That check, against CoolProp
+//! real-gas paths, is tests/surge_exponent.rs.
 //! The map is invented demo data.
 
 #![allow(
@@ -105,11 +108,11 @@ fn signals(q_ref: f64, r_ref: f64, gas: Gas) -> (f64, f64, f64) {
 }
 
 fn scan<T: Real>(s: (f64, f64, f64)) -> SurgeScan<T> {
-    SurgeScan {
-        suction_pressure: Measured::good(PressureAbs::from_pa(T::of(s.0))),
-        discharge_pressure: Measured::good(PressureAbs::from_pa(T::of(s.1))),
-        flow_dp: Measured::good(T::of(s.2)),
-    }
+    SurgeScan::pressures_only(
+        Measured::good(PressureAbs::from_pa(T::of(s.0))),
+        Measured::good(PressureAbs::from_pa(T::of(s.1))),
+        Measured::good(T::of(s.2)),
+    )
 }
 
 fn margin<T: Real>(m: &SurgeMonitor<T, 6>, s: (f64, f64, f64)) -> (f64, Quality) {

@@ -344,11 +344,11 @@ pub fn signals(phi: f64, psi: f64) -> (f64, f64, f64) {
 }
 
 fn surge_scan(s: (f64, f64, f64)) -> SurgeScan<f64> {
-    SurgeScan {
-        suction_pressure: Measured::good(PressureAbs::from_pa(s.0)),
-        discharge_pressure: Measured::good(PressureAbs::from_pa(s.1)),
-        flow_dp: Measured::good(s.2),
-    }
+    SurgeScan::pressures_only(
+        Measured::good(PressureAbs::from_pa(s.0)),
+        Measured::good(PressureAbs::from_pa(s.1)),
+        Measured::good(s.2),
+    )
 }
 
 /// Steady operating point (Φ, Ψ) on throttle γ with the valve closed.

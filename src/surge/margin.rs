@@ -34,6 +34,10 @@
 //!   cannot discharge below its suction pressure.
 //! - Heads beyond the mapped surge points are **uncertain** (the line is
 //!   held or extended, see [`super::surge_line`]).
+//! - In measured-exponent mode ([`SurgeMonitor::with_measured_exponent`]) a
+//!   σ that is held, settling or the configured fallback makes the head
+//!   number, and so the margin, **uncertain** ([`SurgeFault::Exponent`];
+//!   the σ used and its source are in [`SurgeState::exponent`]).
 //!
 //! # Time
 //!
@@ -45,15 +49,17 @@
 //! `4 τ_a`, uncertain before).
 //!
 //! Cost per scan: one `ln`, one `exp`, one `sqrt`, at most `N` table steps and
-//! a handful of multiplications for the rate.
+//! a handful of multiplications for the rate; the measured-exponent mode adds
+//! two `ln` and four divisions (figures: `ci/measurements.md`).
 
 use super::check_setting;
 use super::coordinates::{flow_number, head_number, signed_sqrt};
+use super::exponent::{ExponentConfig, ExponentEstimator, ExponentSource, ExponentState};
 use super::surge_line::SurgeLine;
 use crate::error::{ConfigError, Problem};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
-use crate::units::PressureAbs;
+use crate::units::{Kelvin, PressureAbs};
 
 /// Above this `|Δp|/ps` the flow element reading is impossible (bad).
 pub const FLOW_DP_RATIO_IMPOSSIBLE: f64 = 0.52;
@@ -75,6 +81,30 @@ pub struct SurgeScan<T> {
     /// Suction flow element differential pressure, Pa (negative for reverse
     /// flow if the transmitter reads both ways).
     pub flow_dp: Measured<T>,
+    /// Compressor suction temperature (read only in measured-exponent mode).
+    pub suction_temperature: Measured<Kelvin<T>>,
+    /// Compressor discharge temperature (read only in measured-exponent
+    /// mode).
+    pub discharge_temperature: Measured<Kelvin<T>>,
+}
+
+impl<T: Real> SurgeScan<T> {
+    /// A scan of the pressures and the flow Δp, without temperatures (both
+    /// bad): enough in configured-exponent mode.
+    pub fn pressures_only(
+        suction_pressure: Measured<PressureAbs<T>>,
+        discharge_pressure: Measured<PressureAbs<T>>,
+        flow_dp: Measured<T>,
+    ) -> Self {
+        let none = Measured::new(Kelvin::new(T::ZERO), Quality::Bad);
+        SurgeScan {
+            suction_pressure,
+            discharge_pressure,
+            flow_dp,
+            suction_temperature: none,
+            discharge_temperature: none,
+        }
+    }
 }
 
 /// Settings of the margin monitor. Ranges are checked by
@@ -112,6 +142,9 @@ pub enum SurgeFault {
     DischargeBelowSuction,
     /// The head lies beyond the mapped surge points (uncertain).
     BeyondMap,
+    /// Measured-exponent mode: σ held, settling or the configured fallback
+    /// (uncertain; the reason is in [`SurgeState::exponent`]).
+    Exponent,
 }
 
 /// Margin results of one scan.
@@ -134,6 +167,8 @@ pub struct SurgeState<T> {
     pub rate_of_approach: Measured<T>,
     /// Time to reach m = 0 at the present rate, s (capped at the horizon).
     pub time_to_surge: Measured<T>,
+    /// The σ used for the head number and where it came from.
+    pub exponent: ExponentState<T>,
     /// Why the margin is not good.
     pub fault: SurgeFault,
 }
@@ -151,6 +186,11 @@ impl<T: Real> SurgeState<T> {
             clearance: b,
             rate_of_approach: b,
             time_to_surge: b,
+            exponent: ExponentState {
+                sigma: b,
+                source: ExponentSource::Configured,
+                fault: super::exponent::ExponentFault::None,
+            },
             fault: SurgeFault::InputBad,
         }
     }
@@ -214,6 +254,7 @@ pub struct SurgeMonitor<T, const N: usize> {
     line: SurgeLine<T, N>,
     config: MonitorConfig<T>,
     rate: RateFilter<T>,
+    exponent: ExponentEstimator<T>,
     state: SurgeState<T>,
 }
 
@@ -241,12 +282,45 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
                 },
             ));
         }
+        let exponent = ExponentEstimator::configured(line.sigma());
         Ok(SurgeMonitor {
             line,
             config,
             rate: RateFilter::new(),
+            exponent,
             state: SurgeState::bad(),
         })
+    }
+
+    /// Switches to the measured-exponent mode: σ from the measured suction
+    /// and discharge temperatures (see [`super::exponent`]), the line's
+    /// configured σ as the fallback. Keep the configured mode on machines
+    /// without a discharge temperature. Errors name
+    /// `surge_monitor.exponent.filter_time` (in [1, 3600] s) or
+    /// `surge_monitor.exponent.temperature_accuracy` (in [0.01, 5] K).
+    pub fn with_measured_exponent(
+        mut self,
+        config: ExponentConfig<T>,
+    ) -> Result<Self, ConfigError> {
+        check_setting(
+            "surge_monitor.exponent.filter_time",
+            config.filter_time,
+            1.0,
+            3600.0,
+        )?;
+        check_setting(
+            "surge_monitor.exponent.temperature_accuracy",
+            config.temperature_accuracy,
+            0.01,
+            5.0,
+        )?;
+        self.exponent = ExponentEstimator::measured(self.line.sigma(), config);
+        Ok(self)
+    }
+
+    /// The σ of the last scan and its source.
+    pub fn exponent(&self) -> ExponentState<T> {
+        self.exponent.state()
     }
 
     /// The surge line.
@@ -262,6 +336,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
     /// Forgets the rate history and the last result (after a restart).
     pub fn reset(&mut self) {
         self.rate = RateFilter::new();
+        self.exponent.reset();
         self.state = SurgeState::bad();
     }
 
@@ -306,16 +381,25 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             fault = SurgeFault::FlowDpOutsideValidity;
         }
         let x = Measured::derived(x, xq);
-        let y = Measured::derived(head_number(ratio, self.line.sigma()), q);
+        let sigma = self.exponent.state().sigma;
+        if sigma.quality != Quality::Good && fault == SurgeFault::None {
+            fault = SurgeFault::Exponent;
+        }
+        let y = Measured::derived(head_number(ratio, sigma.value), q.worst(sigma.quality));
         (x, y, fault)
     }
 
     /// The margin of one operating point, without history (rate and time to
-    /// surge bad): a pure function of the scan and the added margin.
+    /// surge bad): a pure function of the scan, the added margin and the
+    /// present σ (in measured-exponent mode the σ filter is advanced only by
+    /// [`Self::update`]; the scan's temperatures are not read here).
     pub fn evaluate(&self, scan: &SurgeScan<T>, added_margin: T) -> SurgeState<T> {
         let (x, y, mut fault) = self.map_point(scan);
         if !x.quality.is_usable() || !y.quality.is_usable() {
-            return SurgeState::bad_because(fault);
+            return SurgeState {
+                exponent: self.exponent.state(),
+                ..SurgeState::bad_because(fault)
+            };
         }
         let look = self.line.lookup(y.value);
         if look.quality != Quality::Good && fault == SurgeFault::None {
@@ -353,6 +437,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             clearance,
             rate_of_approach: Measured::bad(),
             time_to_surge: Measured::bad(),
+            exponent: self.exponent.state(),
             fault,
         }
     }
@@ -362,6 +447,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
     /// [`super::detection::SurgeDetector`]; 0 without one). Never panics; bad
     /// inputs give a bad margin and restart the rate filter.
     pub fn update(&mut self, scan: &SurgeScan<T>, added_margin: T, dt: T) -> &SurgeState<T> {
+        self.update_exponent(scan, dt);
         let mut state = self.evaluate(scan, added_margin);
         let tau = self.config.rate_filter_time;
         let dt_ok = T::is_finite(dt) && dt > T::ZERO && dt <= tau * T::of(MAX_RATE_GAP);
@@ -379,6 +465,26 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         state.time_to_surge = time;
         self.state = state;
         &self.state
+    }
+
+    /// Advances the σ estimator (measured-exponent mode only).
+    fn update_exponent(&mut self, scan: &SurgeScan<T>, dt: T) {
+        if !self.exponent.is_measured() {
+            return;
+        }
+        let ps = scan.suction_pressure;
+        let pd = scan.discharge_pressure;
+        let ratio = if ps.quality.is_good() && pd.quality.is_good() && ps.value.pa() > T::ZERO {
+            Some(pd.value.pa() / ps.value.pa())
+        } else {
+            None
+        };
+        self.exponent.update(
+            scan.suction_temperature,
+            scan.discharge_temperature,
+            ratio,
+            dt,
+        );
     }
 
     /// Rate of approach from the filter, and the time to surge. Bad before

@@ -21,7 +21,11 @@
 //! ```
 //!
 //! the fractional excess of flow over the surge flow at the same head
-//! number: 0 on the surge line, 0.10 at 10 % more flow (see [`margin`]). The
+//! number: 0 on the surge line, 0.10 at 10 % more flow (see [`margin`]).
+//! σ is the configured one, or, with
+//! [`SurgeMonitor::with_measured_exponent`], the one the measured suction
+//! and discharge temperatures give (filtered, bounded, with a fallback to the
+//! configured σ; see [`exponent`]). The
 //! control line sits at a per-speed-line control margin (common practice:
 //! about 10 % in flow); [`surge_line`] explains how line and margin vary
 //! with speed. The clearance is the margin above the control line.
@@ -49,11 +53,11 @@
 //! })?;
 //! let mut monitor = SurgeMonitor::<f64, 4>::new(line, MonitorConfig {
 //!     scan_period: 0.02, time_to_surge_horizon: 60.0, rate_filter_time: 0.1 })?;
-//! let state = monitor.update(&SurgeScan {
-//!     suction_pressure: Measured::good(PressureAbs::from_bar(1.0)),
-//!     discharge_pressure: Measured::good(PressureAbs::from_bar(2.2)),
-//!     flow_dp: Measured::good(2500.0),
-//! }, 0.0, 0.02);
+//! let state = monitor.update(&SurgeScan::pressures_only(
+//!     Measured::good(PressureAbs::from_bar(1.0)),
+//!     Measured::good(PressureAbs::from_bar(2.2)),
+//!     Measured::good(2500.0),
+//! ), 0.0, 0.02);
 //! assert!(state.margin.quality.is_good());
 //! assert!(state.margin.value > 0.0);
 //! # Ok::<(), polytrope::ConfigError>(())
@@ -61,10 +65,12 @@
 
 pub mod coordinates;
 pub mod detection;
+pub mod exponent;
 pub mod margin;
 pub mod surge_line;
 
 pub use detection::{DetectionConfig, DetectionScan, DetectionState, SurgeDetector};
+pub use exponent::{ExponentConfig, ExponentFault, ExponentSource, ExponentState};
 pub use margin::{MonitorConfig, SurgeFault, SurgeMonitor, SurgeScan, SurgeState};
 pub use surge_line::{
     LineLookup, LinePoint, MapConditions, SurgeLine, SurgeLineConfig, SurgePoint,

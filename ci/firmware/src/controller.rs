@@ -227,11 +227,11 @@ impl<G: GasModel<f32>> Controller<G> {
         self.last_ms = Some(t_ms);
         let dt = u32::try_from(dt_ms).unwrap_or(u32::MAX) as f32 * 1.0e-3;
         let none = polytrope::Measured::<f32>::bad();
-        let mut surge = [SurgeScan {
-            suction_pressure: none.map(PressureAbs::from_pa),
-            discharge_pressure: none.map(PressureAbs::from_pa),
-            flow_dp: none,
-        }; SECTIONS];
+        let mut surge = [SurgeScan::pressures_only(
+            none.map(PressureAbs::from_pa),
+            none.map(PressureAbs::from_pa),
+            none,
+        ); SECTIONS];
         for (((stage, ch), r), s) in scan
             .stages
             .iter_mut()
@@ -244,10 +244,14 @@ impl<G: GasModel<f32>> Controller<G> {
             let dp = ch[2].update(r[2], t_ms);
             stage.suction_pressure = ps.pressure();
             stage.discharge_pressure = pd.pressure();
+            // The temperatures ride along (a configured-exponent monitor
+            // does not read them).
             *s = SurgeScan {
                 suction_pressure: ps.raw_pressure(),
                 discharge_pressure: pd.raw_pressure(),
                 flow_dp: dp.raw,
+                suction_temperature: stage.suction_temperature,
+                discharge_temperature: stage.discharge_temperature,
             };
         }
         let total_power = self.train.update(scan).totals.total_power.value;

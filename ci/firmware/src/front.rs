@@ -4,7 +4,8 @@
 
 use polytrope::signal::{Channel, ChannelConfig, InstrumentClass, SignalKind, Unit};
 use polytrope::surge::{
-    MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
+    ExponentConfig, MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig, SurgeMonitor,
+    SurgePoint, SurgeScan,
 };
 use polytrope::units::{Kelvin, PressureAbs};
 use polytrope::{ConfigError, Measured};
@@ -53,6 +54,19 @@ pub fn surge_monitor() -> Result<Monitor, ConfigError> {
     )
 }
 
+/// Scans to run before measuring the measured-exponent monitor, so its σ
+/// filter (1 s) has settled at 20 ms scans.
+pub const WARM_SCANS_EXPONENT: u32 = 60;
+
+/// The same monitor with the head exponent from the measured temperatures
+/// (σ filter 1 s, sensors 0.5 K; invented settings).
+pub fn surge_monitor_measured() -> Result<Monitor, ConfigError> {
+    surge_monitor()?.with_measured_exponent(ExponentConfig {
+        filter_time: 1.0,
+        temperature_accuracy: 0.5,
+    })
+}
+
 /// Scan `k` of an invented slow approach to the line (flow falling, head
 /// rising), all signals good.
 pub fn surge_scan(k: u32) -> SurgeScan<f32> {
@@ -61,6 +75,9 @@ pub fn surge_scan(k: u32) -> SurgeScan<f32> {
         suction_pressure: Measured::good(PressureAbs::from_pa(1.0e5)),
         discharge_pressure: Measured::good(PressureAbs::from_pa(1.85e5 + 300.0 * k)),
         flow_dp: Measured::good(2_600.0 - 15.0 * k),
+        // σ about 0.31 (read only by the measured-exponent monitor).
+        suction_temperature: Measured::good(Kelvin::new(293.15)),
+        discharge_temperature: Measured::good(Kelvin::new(354.7 + 0.17 * k)),
     }
 }
 

@@ -106,9 +106,10 @@ pub fn exercise(k: u32) -> bool {
             0.0
         }
     };
-    let state = match front::surge_monitor() {
+    let state = match front::surge_monitor_measured() {
         Ok(mut m) => {
             let s = *m.update(&front::surge_scan(k), black_box(shift), black_box(0.02));
+            black_box(m.exponent());
             m.reset();
             s
         }

@@ -315,6 +315,21 @@ fn main() -> ! {
         let r = label(&mut h, "signal_channel_4_20ma");
         measure(r, || update_channel(&mut channel, raw, t));
     }
+    // The same monitor with σ from the measured temperatures, filter settled.
+    let Ok(mut measured) = front::surge_monitor_measured() else {
+        fail(&mut h, "surge monitor (measured exponent)");
+    };
+    for k in 0..front::WARM_SCANS_EXPONENT {
+        update_surge(&mut measured, &front::surge_scan(k));
+    }
+    for k in front::WARM_SCANS_EXPONENT..front::WARM_SCANS_EXPONENT + 3 {
+        let s = black_box(front::surge_scan(k));
+        let r = label(&mut h, "surge_margin_update_measured_exponent");
+        measure(r, || update_surge(&mut measured, &s));
+    }
+    if !measured.state().margin.quality.is_good() {
+        fail(&mut h, "measured-exponent margin not good after warm-up");
+    }
     let margin = monitor.state().margin;
     let filtered = channel.output().filtered;
     if !(margin.quality.is_usable() && filtered.quality.is_usable()) {
