@@ -223,6 +223,25 @@ impl<G: GasModel<f32>> Controller<G> {
         t_ms: u64,
         scan: &mut polytrope::scan::Scan<f32, SECTIONS>,
     ) -> ScanSummary {
+        let (surge, dt) = self.read_channels(raw, t_ms, scan);
+        let total_power = self.update_train(scan);
+        let margins = self.update_monitors(&surge, dt);
+        ScanSummary {
+            total_power,
+            margins,
+        }
+    }
+
+    /// Phase 1 of [`Controller::scan`]: every channel; writes the filtered
+    /// pressures into `scan` and returns each monitor's scan and the time
+    /// since the previous scan, s.
+    #[inline(always)]
+    pub fn read_channels(
+        &mut self,
+        raw: &[f32; CHANNELS],
+        t_ms: u64,
+        scan: &mut polytrope::scan::Scan<f32, SECTIONS>,
+    ) -> ([SurgeScan<f32>; SECTIONS], f32) {
         let dt_ms = self.last_ms.map_or(SCAN_MS, |l| t_ms.saturating_sub(l));
         self.last_ms = Some(t_ms);
         let dt = u32::try_from(dt_ms).unwrap_or(u32::MAX) as f32 * 1.0e-3;
@@ -254,7 +273,22 @@ impl<G: GasModel<f32>> Controller<G> {
                 discharge_temperature: stage.discharge_temperature,
             };
         }
-        let total_power = self.train.update(scan).totals.total_power.value;
+        (surge, dt)
+    }
+
+    /// Phase 2 of [`Controller::scan`]: the train update; the total power.
+    #[inline(always)]
+    pub fn update_train(&mut self, scan: &polytrope::scan::Scan<f32, SECTIONS>) -> f32 {
+        self.train.update(scan).totals.total_power.value
+    }
+
+    /// Phase 3 of [`Controller::scan`]: every surge monitor; the margins.
+    #[inline(always)]
+    pub fn update_monitors(
+        &mut self,
+        surge: &[SurgeScan<f32>; SECTIONS],
+        dt: f32,
+    ) -> [f32; SECTIONS] {
         let mut margins = [0.0_f32; SECTIONS];
         for ((m, s), margin) in self
             .monitors
@@ -264,10 +298,7 @@ impl<G: GasModel<f32>> Controller<G> {
         {
             *margin = m.update(s, 0.0, dt).margin.value;
         }
-        ScanSummary {
-            total_power,
-            margins,
-        }
+        margins
     }
 
     /// The train's last snapshot.

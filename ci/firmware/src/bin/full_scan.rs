@@ -19,6 +19,7 @@ use polytrope::fields::FieldValue;
 use polytrope::gas::IdealGas;
 use polytrope::quality::Quality;
 use polytrope::scan::Scan;
+use polytrope::surge::SurgeScan;
 use polytrope_firmware::codec::quality_code;
 use polytrope_firmware::controller::{self, Controller, ScanSummary};
 use polytrope_firmware::measure;
@@ -44,6 +45,46 @@ fn full_scan(
     scan: &mut Scan<f32, { controller::SECTIONS }>,
 ) -> ScanSummary {
     c.scan(raw, t_ms, scan)
+}
+
+/// The three phases of one scan as separately measured calls (the
+/// breakdown of the whole scan, in the same firmware).
+#[inline(never)]
+fn phase_channels(
+    c: &mut Ctl,
+    raw: &[f32; controller::CHANNELS],
+    t_ms: u64,
+    scan: &mut Scan<f32, { controller::SECTIONS }>,
+) -> ([SurgeScan<f32>; controller::SECTIONS], f32) {
+    c.read_channels(raw, t_ms, scan)
+}
+
+#[inline(never)]
+fn phase_train(c: &mut Ctl, scan: &Scan<f32, { controller::SECTIONS }>) -> f32 {
+    c.update_train(scan)
+}
+
+#[inline(never)]
+fn phase_monitors(
+    c: &mut Ctl,
+    surge: &[SurgeScan<f32>; controller::SECTIONS],
+    dt: f32,
+) -> [f32; controller::SECTIONS] {
+    c.update_monitors(surge, dt)
+}
+
+/// The measured path is the usual one: total power, every channel and
+/// every margin good.
+fn all_good(ctl: &Ctl) -> bool {
+    ctl.snapshot().totals.total_power.quality == Quality::Good
+        && ctl
+            .channels()
+            .iter()
+            .all(|c| c.output().filtered.quality == Quality::Good)
+        && ctl
+            .monitors()
+            .iter()
+            .all(|m| m.state().margin.quality == Quality::Good)
 }
 
 #[inline(never)]
@@ -107,21 +148,32 @@ fn run(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u32, ctl: &mut C
         measure(r, || full_scan(ctl, &samples, t, &mut slow));
         k += 1;
     }
-    let good = ctl.snapshot().totals.total_power.quality == Quality::Good
-        && ctl
-            .channels()
-            .iter()
-            .all(|c| c.output().filtered.quality == Quality::Good)
-        && ctl
-            .monitors()
-            .iter()
-            .all(|m| m.state().margin.quality == Quality::Good);
-    if !good {
+    if !all_good(ctl) {
         fail(h, "whole scan not good after warm-up");
     }
     print_outputs(h, ctl);
 
-    let raw = &SCANS[controller::WARM_SCANS + 3];
+    // The breakdown: three more (normal) scans, each phase a measured call.
+    for raw in SCANS.iter().skip(controller::WARM_SCANS - 3).take(3) {
+        let mut slow = black_box(controller::section_scan(black_box(raw)));
+        let samples = black_box(ctl.samples(&slow, k));
+        let t = black_box(u64::from(k) * controller::SCAN_MS);
+        let r = label(h, "full_scan_channels");
+        let (surge, dt) = measure(r, || phase_channels(ctl, &samples, t, &mut slow));
+        let (surge, dt, slow) = black_box((surge, dt, slow));
+        let r = label(h, "full_scan_train");
+        measure(r, || phase_train(ctl, &slow));
+        let r = label(h, "full_scan_monitors");
+        measure(r, || phase_monitors(ctl, &surge, dt));
+        k += 1;
+    }
+
+    if !all_good(ctl) {
+        fail(h, "breakdown scans not good");
+    }
+
+    // The last normal scan of the table (edge cases follow it).
+    let raw = &SCANS[controller::WARM_SCANS + 2];
     let mut slow = black_box(controller::section_scan(black_box(raw)));
     let samples = black_box(ctl.samples(&slow, k));
     let t = black_box(u64::from(k) * controller::SCAN_MS);
