@@ -7,56 +7,42 @@ use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::units::{Kelvin, PressureAbs};
 
-/// Highest absolute pressure accepted at the sensor boundary, Pa (1000 MPa;
-/// above any compressor or pump discharge).
-pub const MAX_PRESSURE_PA: f64 = 1.0e9;
-/// Highest temperature accepted at the sensor boundary, K.
-pub const MAX_TEMPERATURE_K: f64 = 2000.0;
-/// Highest mass flow accepted at the sensor boundary, kg/s.
-pub const MAX_MASS_FLOW_KG_S: f64 = 1.0e5;
+use crate::plausibility::{Limits, COMPRESSIBILITY_RANGE};
+pub use crate::plausibility::{
+    MAX_MASS_FLOW_KG_S, MAX_PRESSURE_PA, MAX_TEMPERATURE_K, MIN_PRESSURE_PA, MIN_TEMPERATURE_K,
+};
 
-#[inline]
-fn bounded<T: Real>(m: Measured<T>, max: f64) -> Measured<T> {
-    if T::is_finite(m.value) && m.value > T::ZERO && m.value <= T::of(max) {
-        Measured::derived(m.value, m.quality)
-    } else {
-        Measured::bad()
-    }
-}
-
-/// Pressure in Pa; bad unless finite and in (0, [`MAX_PRESSURE_PA`]].
+/// Pressure in Pa; bad unless finite and in [[`MIN_PRESSURE_PA`],
+/// [`MAX_PRESSURE_PA`]] (the default [`Limits`]; the train uses its own).
 #[inline]
 pub fn pressure_pa<T: Real>(m: Measured<PressureAbs<T>>) -> Measured<T> {
-    bounded(m.map(PressureAbs::pa), MAX_PRESSURE_PA)
+    Limits::default().pressure(m.map(PressureAbs::pa))
 }
 
-/// Temperature in K; bad unless finite and in (0, [`MAX_TEMPERATURE_K`]].
+/// Temperature in K; bad unless finite and in [[`MIN_TEMPERATURE_K`],
+/// [`MAX_TEMPERATURE_K`]] (the default [`Limits`]).
 #[inline]
 pub fn temperature_k<T: Real>(m: Measured<Kelvin<T>>) -> Measured<T> {
-    bounded(m.map(Kelvin::kelvin), MAX_TEMPERATURE_K)
+    Limits::default().temperature(m.map(Kelvin::kelvin))
 }
 
 /// Mass flow in kg/s; bad unless finite and in [0, [`MAX_MASS_FLOW_KG_S`]]
 /// (zero flow is a valid reading).
 #[inline]
 pub fn mass_flow_kg_s<T: Real>(m: Measured<T>) -> Measured<T> {
-    if T::is_finite(m.value) && m.value >= T::ZERO && m.value <= T::of(MAX_MASS_FLOW_KG_S) {
-        Measured::derived(m.value, m.quality)
-    } else {
-        Measured::bad()
-    }
+    Limits::default().mass_flow(m)
 }
 
-/// Compressibility factor; `None` (use the configured one) unless finite,
-/// in (0, 2] and not bad.
+/// Compressibility factor; `None` unless finite, within
+/// [`COMPRESSIBILITY_RANGE`] and usable.
 #[inline]
 pub fn compressibility<T: Real>(m: Option<Measured<T>>) -> Option<(T, Quality)> {
     match m {
         Some(z)
             if z.quality.is_usable()
                 && T::is_finite(z.value)
-                && z.value > T::ZERO
-                && z.value <= T::of(2.0) =>
+                && z.value >= T::of(COMPRESSIBILITY_RANGE.0)
+                && z.value <= T::of(COMPRESSIBILITY_RANGE.1) =>
         {
             Some((z.value, z.quality))
         }
@@ -80,6 +66,9 @@ mod tests {
         assert_eq!(t(300.0).quality, Quality::Good);
         assert_eq!(t(0.0).quality, Quality::Bad);
         assert_eq!(t(2500.0).quality, Quality::Bad);
+        assert_eq!(t(1500.0).quality, Quality::Bad);
+        assert_eq!(t(25.0).quality, Quality::Bad); // degC taken as K
+        assert_eq!(p(1e-30).quality, Quality::Bad); // underflow
         assert_eq!(
             mass_flow_kg_s(Measured::good(0.0_f32)).quality,
             Quality::Good

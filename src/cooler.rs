@@ -13,7 +13,17 @@
 //!   measured; a falling UA at steady state is the usual fouling indicator
 //!   (common practice).
 //! - Approach temperature, gas outlet minus coolant inlet (common practice).
+//! - LMTD near equal terminal differences: with u = (a - b)/(a + b),
+//!   ln(a/b) = 2·atanh(u), so LMTD = (a + b)/2 · u/atanh(u) and
+//!   u/atanh(u) = 1/(1 + u²/3 + u⁴/5 + u⁶/7 + …) (the Taylor series of
+//!   atanh, e.g. Abramowitz & Stegun 4.6.33); no logarithm of a ratio near
+//!   one, so no cancellation in f32.
+//!
+//! Qualities follow the dependency rule ([`crate::dependency::cooler_uses`]).
 
+use crate::dependency::{cooler_cp_slots, cooler_uses, slot, Grades, Use};
+use crate::gas::PropertyInputs;
+use crate::plausibility::Limits;
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 
@@ -45,6 +55,12 @@ pub enum CoolerCondition {
     OutletBelowCoolant,
     /// Gas inlet not warmer than the coolant inlet: nothing to cool.
     NoDrivingDifference,
+    /// The gas temperature drop is inside the temperature noise band: the
+    /// duty (and UA) are uncertain.
+    DutyWithinNoise,
+    /// No gas flow (at or below the stationary threshold): UA is
+    /// uncertain (a zero duty is not fouling).
+    NoGasFlow,
 }
 
 /// Results of one cooler.
@@ -125,22 +141,48 @@ pub struct CoolerInputs<T> {
     pub coolant_cp: T,
 }
 
+// Bits of the computed / suspect masks, one per result field.
+const F_DROP: u16 = 1 << 0;
+const F_APPROACH: u16 = 1 << 1;
+const F_EFF: u16 = 1 << 2;
+const F_DUTY: u16 = 1 << 3;
+const F_DP: u16 = 1 << 4;
+const F_REL_DP: u16 = 1 << 5;
+const F_COOLANT_RISE: u16 = 1 << 6;
+const F_LMTD: u16 = 1 << 7;
+const F_UA: u16 = 1 << 8;
+const F_BALANCE: u16 = 1 << 9;
+
 /// Counterflow LMTD from the two terminal differences; returns `None` unless
-/// both are positive. Equal differences give the difference itself (the
-/// limit), so there is no 0/0.
+/// both are positive. Well conditioned everywhere: near equal differences
+/// (|u| = |a - b|/(a + b) below 0.2 in f32, 0.01 in f64) it uses the atanh
+/// series (module header; terms to u⁸, truncation about u¹⁰/11, below the
+/// type's rounding), else (a - b)/ln(a/b), whose logarithm is then of a
+/// ratio at least 1.5 (f32) or 1.02 (f64) away from one.
 #[inline]
 pub fn lmtd_counterflow<T: Real>(dt_a: T, dt_b: T) -> Option<T> {
     if !(dt_a > T::ZERO && dt_b > T::ZERO) {
         return None;
     }
+    let sum = dt_a + dt_b;
     let diff = dt_a - dt_b;
-    if T::abs(diff) <= T::of(1e-6) * dt_a {
-        return Some(T::of(0.5) * (dt_a + dt_b));
+    let u = diff / sum;
+    // Series range: where its truncation (about u^10/11) is below the
+    // type's rounding: |u| < 0.2 in f32, |u| < 0.01 in f64.
+    let series_below = if T::EPSILON > T::of(1e-10) { 0.2 } else { 0.01 };
+    if T::abs(u) < T::of(series_below) {
+        let u2 = u * u;
+        let series = T::ONE
+            + u2 * (T::of(1.0 / 3.0)
+                + u2 * (T::of(1.0 / 5.0) + u2 * (T::of(1.0 / 7.0) + u2 * T::of(1.0 / 9.0))));
+        return Some(T::of(0.5) * sum / series);
     }
     Some(diff / T::ln(dt_a / dt_b))
 }
 
-/// Evaluates one cooler; [`evaluate_cooler_into`] returning the result.
+/// Evaluates one cooler with the default [`Limits`] and a gas cp that
+/// depends on the temperatures and pressures (the safe assumption);
+/// [`evaluate_cooler_into`] returning the result.
 pub fn evaluate_cooler<T: Real>(inp: &CoolerInputs<T>) -> CoolerResult<T> {
     let mut out = CoolerResult::bad();
     evaluate_cooler_into(inp, &mut out);
@@ -148,92 +190,181 @@ pub fn evaluate_cooler<T: Real>(inp: &CoolerInputs<T>) -> CoolerResult<T> {
 }
 
 /// Evaluates one cooler into `out` (every field overwritten; no result
-/// copy). Inputs passed the sensor boundary; never panics.
+/// copy) with the default [`Limits`]. Inputs passed the sensor boundary;
+/// never panics.
 pub fn evaluate_cooler_into<T: Real>(inp: &CoolerInputs<T>, out: &mut CoolerResult<T>) {
-    *out = CoolerResult::bad();
-    let (tin, tout, tc) = (
+    let all = PropertyInputs {
+        temperature: true,
+        pressure: true,
+        compressibility_from_state: true,
+    };
+    evaluate_cooler_within(inp, &Limits::default(), all, Quality::Good, out);
+}
+
+/// Evaluates one cooler into `out` against `limits`; `cp_inputs` says what
+/// the gas cp was evaluated from (the dependency rule) and `cp_fit` whether
+/// the gas model was inside its fitted range there (uncertain: the duty,
+/// UA and heat balance are at most uncertain).
+pub fn evaluate_cooler_within<T: Real>(
+    inp: &CoolerInputs<T>,
+    limits: &Limits<T>,
+    cp_inputs: PropertyInputs,
+    cp_fit: Quality,
+    out: &mut CoolerResult<T>,
+) {
+    let (tin, tout, tc, tco) = (
         inp.gas_inlet_temperature,
         inp.gas_outlet_temperature,
         inp.coolant_inlet_temperature,
+        inp.coolant_outlet_temperature,
     );
+    let (pin, pout, flow, mc) = (
+        inp.gas_inlet_pressure,
+        inp.gas_outlet_pressure,
+        inp.gas_mass_flow,
+        inp.coolant_mass_flow,
+    );
+    let ok = |m: Measured<T>| m.quality.is_usable();
+    let noise = limits.temperature_noise;
+    // Computed outputs and those a field-local plausibility check makes
+    // suspect (bit i: the i-th field in declaration order).
+    let (mut done, mut suspect): (u16, u16) = (0, 0);
+    let mut set = |m: &mut Measured<T>, bit: u16, v: T, doubtful: bool| {
+        m.value = v;
+        done |= bit;
+        if doubtful {
+            suspect |= bit;
+        }
+    };
+    let mut condition = CoolerCondition::Normal;
 
-    let q_p = inp
-        .gas_inlet_pressure
-        .quality
-        .worst(inp.gas_outlet_pressure.quality);
-    if q_p.is_usable() {
-        let dp = inp.gas_inlet_pressure.value - inp.gas_outlet_pressure.value;
-        let q = if dp < T::ZERO {
-            q_p.worst(Quality::Uncertain)
-        } else {
-            q_p
-        };
-        out.pressure_drop = Measured::derived(dp, q);
-        out.relative_pressure_drop = Measured::derived(dp / inp.gas_inlet_pressure.value, q);
+    if ok(pin) && ok(pout) {
+        let dp = pin.value - pout.value;
+        set(&mut out.pressure_drop, F_DP, dp, dp < T::ZERO);
+        set(
+            &mut out.relative_pressure_drop,
+            F_REL_DP,
+            dp / pin.value,
+            dp < T::ZERO,
+        );
     }
-
-    let q_gas = tin.quality.worst(tout.quality);
-    if q_gas == Quality::Bad {
-        return;
-    }
+    let gas_ok = ok(tin) && ok(tout);
     let drop = tin.value - tout.value;
-    if drop < -T::of(TEMPERATURE_NOISE_K) {
-        out.condition = CoolerCondition::OutletAboveInlet;
-        out.gas_temperature_drop = Measured::derived(drop, Quality::Uncertain.worst(q_gas));
-        return;
-    }
-    out.gas_temperature_drop = Measured::derived(drop, q_gas);
-    let q_flow = q_gas.worst(inp.gas_mass_flow.quality);
-    let duty = inp.gas_mass_flow.value * inp.gas_cp * drop;
-    if q_flow.is_usable() {
-        out.heat_duty = Measured::derived(duty, q_flow);
-    }
-    out.condition = CoolerCondition::Normal;
-
-    let q_c = q_gas.worst(tc.quality);
-    if q_c == Quality::Bad {
-        out.condition = CoolerCondition::InputBad;
-        return;
+    let outlet_above_inlet = gas_ok && drop < -noise;
+    let within_noise = gas_ok && !outlet_above_inlet && drop < noise;
+    let stationary = ok(flow) && !(flow.value > limits.stationary_flow);
+    let duty = flow.value * inp.gas_cp * drop;
+    let cp_suspect = cp_fit != Quality::Good;
+    let duty_ok = gas_ok && !outlet_above_inlet && ok(flow);
+    if gas_ok {
+        set(
+            &mut out.gas_temperature_drop,
+            F_DROP,
+            drop,
+            outlet_above_inlet,
+        );
+        if outlet_above_inlet {
+            condition = CoolerCondition::OutletAboveInlet;
+        } else if duty_ok {
+            set(&mut out.heat_duty, F_DUTY, duty, within_noise || cp_suspect);
+        }
     }
     let approach = tout.value - tc.value;
-    let span = tin.value - tc.value;
-    let q_approach = if approach < -T::of(TEMPERATURE_NOISE_K) {
-        out.condition = CoolerCondition::OutletBelowCoolant;
-        q_c.worst(Quality::Uncertain)
-    } else {
-        q_c
-    };
-    out.approach = Measured::derived(approach, q_approach);
-    if span > T::of(MIN_EFFECTIVENESS_SPAN_K) {
-        let eff = drop / span;
-        let q = if eff > T::ONE || eff < T::ZERO {
-            q_approach.worst(Quality::Uncertain)
-        } else {
-            q_approach
-        };
-        out.effectiveness = Measured::derived(eff, q);
-    } else {
-        out.condition = CoolerCondition::NoDrivingDifference;
+    let below_coolant = ok(tout) && ok(tc) && approach < -noise;
+    if ok(tout) && ok(tc) {
+        set(&mut out.approach, F_APPROACH, approach, below_coolant);
     }
-
-    let tco = inp.coolant_outlet_temperature;
-    let q_co = q_c.worst(tco.quality);
-    if q_co.is_usable() {
-        let rise = tco.value - tc.value;
-        out.coolant_temperature_rise = Measured::derived(rise, q_co);
+    let span = tin.value - tc.value;
+    let no_span = gas_ok && ok(tc) && !(span > T::of(MIN_EFFECTIVENESS_SPAN_K));
+    if gas_ok && ok(tc) && !outlet_above_inlet && !no_span {
+        let eff = drop / span;
+        let outside = !(eff >= T::ZERO && eff <= T::ONE);
+        set(&mut out.effectiveness, F_EFF, eff, outside);
+    }
+    let rise = tco.value - tc.value;
+    if ok(tc) && ok(tco) {
+        set(
+            &mut out.coolant_temperature_rise,
+            F_COOLANT_RISE,
+            rise,
+            rise < -noise,
+        );
+    }
+    if gas_ok && ok(tc) && ok(tco) {
         if let Some(lmtd) = lmtd_counterflow(tin.value - tco.value, tout.value - tc.value) {
-            out.lmtd = Measured::derived(lmtd, q_co);
-            if q_flow.is_usable() {
-                out.ua = Measured::derived(duty / lmtd, q_co.worst(q_flow));
+            set(&mut out.lmtd, F_LMTD, lmtd, false);
+            if duty_ok {
+                // A negative duty inside the noise band gives a negative UA:
+                // uncertain with the duty; no flow: UA undefined, uncertain.
+                let suspect = within_noise || stationary || cp_suspect;
+                set(&mut out.ua, F_UA, duty / lmtd, suspect);
             }
         }
-        let mc = inp.coolant_mass_flow;
-        let q_bal = q_co.worst(q_flow).worst(mc.quality);
-        if q_bal.is_usable() && duty > T::ZERO {
+        if duty_ok && duty > T::ZERO && ok(mc) {
             let coolant_duty = mc.value * inp.coolant_cp * rise;
-            out.heat_balance_error = Measured::derived((duty - coolant_duty) / duty, q_bal);
+            set(
+                &mut out.heat_balance_error,
+                F_BALANCE,
+                (duty - coolant_duty) / duty,
+                within_noise || cp_suspect,
+            );
         }
     }
+
+    if !gas_ok || !ok(tc) {
+        condition = CoolerCondition::InputBad;
+    } else if condition == CoolerCondition::Normal {
+        condition = if below_coolant {
+            CoolerCondition::OutletBelowCoolant
+        } else if no_span {
+            CoolerCondition::NoDrivingDifference
+        } else if within_noise && ok(flow) {
+            CoolerCondition::DutyWithinNoise
+        } else if stationary {
+            CoolerCondition::NoGasFlow
+        } else {
+            CoolerCondition::Normal
+        };
+    }
+
+    let mut g = Grades::new();
+    g.slot(slot::T2, tin.quality)
+        .slot(slot::GAS_OUT_T, tout.quality)
+        .slot(slot::COOLANT_IN_T, tc.quality)
+        .slot(slot::COOLANT_OUT_T, tco.quality)
+        .slot(slot::P2, pin.quality)
+        .slot(slot::GAS_OUT_P, pout.quality)
+        .slot(slot::FLOW, flow.quality)
+        .slot(slot::COOLANT_FLOW, mc.quality);
+    let u = cooler_uses(cooler_cp_slots(cp_inputs));
+    let settle = |m: &mut Measured<T>, bit: u16, use_: Use| {
+        g.settle_suspect(m, done & bit != 0, suspect & bit != 0, use_);
+    };
+    settle(
+        &mut out.gas_temperature_drop,
+        F_DROP,
+        u.gas_temperature_drop,
+    );
+    settle(&mut out.approach, F_APPROACH, u.approach);
+    settle(&mut out.effectiveness, F_EFF, u.effectiveness);
+    settle(&mut out.heat_duty, F_DUTY, u.heat_duty);
+    settle(&mut out.pressure_drop, F_DP, u.pressure_drop);
+    settle(
+        &mut out.relative_pressure_drop,
+        F_REL_DP,
+        u.relative_pressure_drop,
+    );
+    settle(
+        &mut out.coolant_temperature_rise,
+        F_COOLANT_RISE,
+        u.coolant_temperature_rise,
+    );
+    settle(&mut out.lmtd, F_LMTD, u.lmtd);
+    settle(&mut out.ua, F_UA, u.ua);
+    settle(&mut out.heat_balance_error, F_BALANCE, u.heat_balance_error);
+    // Set by the train (the next stage's result).
+    out.next_stage_temperature_rise = Measured::bad();
+    out.condition = condition;
 }
 
 #[cfg(test)]

@@ -22,7 +22,7 @@ use crate::cooler::{CoolerCondition, CoolerResult};
 use crate::quality::{FaultCode, Measured, Quality};
 use crate::real::Real;
 use crate::scan::{CoolerScan, StageScan};
-use crate::stage::{CompressorResult, PumpResult, StageCondition};
+use crate::stage::{CompressorResult, PumpCondition, PumpResult, StageCondition};
 use crate::staging::{InterstagePressure, TrainTotals};
 use crate::steady::SteadyState;
 use crate::tolerance::{self, Tolerance};
@@ -221,6 +221,12 @@ impl<T> IntoField<T> for CoolerCondition {
         FieldValue::Tag(self.as_str())
     }
 }
+impl<T> IntoField<T> for PumpCondition {
+    #[inline]
+    fn into_field(self) -> FieldValue<T> {
+        FieldValue::Tag(self.as_str())
+    }
+}
 /// A plain number (no quality) of the result's own type.
 struct Plain<T>(T);
 impl<T> IntoField<T> for Plain<T> {
@@ -291,12 +297,12 @@ result_fields!(CompressorResult {
         SpecificWork, Difference, "Actual work minus the isothermal head.";
     power_above_isothermal: "power_above_isothermal_W", "Power above isothermal", "W", Power,
         Difference, "Gas power minus isothermal power.";
-    compressibility [plain]: "compressibility", "Compressibility Z used", "-", Compressibility,
-        PassThrough, "Mean compressibility factor Z used (plain number: a model parameter).";
-    k [plain]: "heat_capacity_ratio", "Heat-capacity ratio k used", "-", Exponent, Computed,
-        "Mean heat-capacity ratio k used (plain number: a model parameter).";
+    compressibility: "compressibility", "Compressibility Z used", "-", Compressibility,
+        PassThrough, "Mean compressibility factor Z used, with the quality of the supplied value (good for the configured one).";
+    k: "heat_capacity_ratio", "Heat-capacity ratio k used", "-", Exponent, Computed,
+        "Mean heat-capacity ratio k used.";
     condition: "condition", "Condition", "", Condition, Exact,
-        "What the evaluation found about its inputs (`normal`, `input-bad`, `no-compression`, `no-temperature-rise`, `efficiency-above-one`).";
+        "What the evaluation found, the first reason an output is not good (`normal`, `input-bad`, `no-compression`, `no-temperature-rise`, `efficiency-above-one`, `rating-point`, `ratio-out-of-range`, `implausible-temperature-rise`, `stationary`, `below-resolution`).";
 });
 
 result_fields!(PumpResult {
@@ -316,6 +322,8 @@ result_fields!(PumpResult {
         "Isentropic work an ideal-gas compressor would need for the pump's pressure ratio from its suction temperature.";
     work_ratio_to_gas: "work_ratio_to_gas", "Pump work / gas work", "-", Fraction, Computed,
         "Pump shaft work over that gas compression work.";
+    condition: "condition", "Condition", "", Condition, Exact,
+        "What the evaluation found (`normal`, `input-bad`, `no-pressure-rise`, `ratio-out-of-range`, `stationary`).";
 });
 
 result_fields!(SteadyState {
@@ -352,9 +360,9 @@ result_fields!(CoolerResult {
     heat_balance_error: "heat_balance_error", "Heat balance error", "-", Fraction, Computed,
         "(gas duty - coolant duty) / gas duty.";
     next_stage_temperature_rise: "next_stage_temperature_rise_K", "Next-stage temperature rise",
-        "K", TemperatureDifference, Computed, "Temperature rise across the next stage.";
+        "K", TemperatureDifference, Computed, "Temperature rise across the next compressor stage (not applicable when none follows).";
     condition: "condition", "Condition", "", Condition, Exact,
-        "What the evaluation found about its inputs (`normal`, `input-bad`, `outlet-above-inlet`, `outlet-below-coolant`, `no-driving-difference`).";
+        "What the evaluation found about its inputs (`normal`, `input-bad`, `outlet-above-inlet`, `outlet-below-coolant`, `no-driving-difference`, `duty-within-noise`, `no-gas-flow`).";
 });
 
 result_fields!(InterstagePressure {
@@ -514,7 +522,9 @@ impl<T: Real, const N: usize> Snapshot<T, N> {
 
 impl StageCondition {
     /// Stable kebab-case name (`normal`, `input-bad`, `no-compression`,
-    /// `no-temperature-rise`, `efficiency-above-one`).
+    /// `no-temperature-rise`, `efficiency-above-one`, `rating-point`,
+    /// `ratio-out-of-range`, `implausible-temperature-rise`, `stationary`,
+    /// `below-resolution`).
     pub const fn as_str(self) -> &'static str {
         match self {
             StageCondition::Normal => "normal",
@@ -522,13 +532,33 @@ impl StageCondition {
             StageCondition::NoCompression => "no-compression",
             StageCondition::NoTemperatureRise => "no-temperature-rise",
             StageCondition::EfficiencyAboveOne => "efficiency-above-one",
+            StageCondition::RatingPoint => "rating-point",
+            StageCondition::RatioOutOfRange => "ratio-out-of-range",
+            StageCondition::ImplausibleTemperatureRise => "implausible-temperature-rise",
+            StageCondition::Stationary => "stationary",
+            StageCondition::BelowResolution => "below-resolution",
+        }
+    }
+}
+
+impl PumpCondition {
+    /// Stable kebab-case name (`normal`, `input-bad`, `no-pressure-rise`,
+    /// `ratio-out-of-range`, `stationary`).
+    pub const fn as_str(self) -> &'static str {
+        match self {
+            PumpCondition::Normal => "normal",
+            PumpCondition::InputBad => "input-bad",
+            PumpCondition::NoPressureRise => "no-pressure-rise",
+            PumpCondition::RatioOutOfRange => "ratio-out-of-range",
+            PumpCondition::Stationary => "stationary",
         }
     }
 }
 
 impl CoolerCondition {
     /// Stable kebab-case name (`normal`, `input-bad`, `outlet-above-inlet`,
-    /// `outlet-below-coolant`, `no-driving-difference`).
+    /// `outlet-below-coolant`, `no-driving-difference`, `duty-within-noise`,
+    /// `no-gas-flow`).
     pub const fn as_str(self) -> &'static str {
         match self {
             CoolerCondition::Normal => "normal",
@@ -536,6 +566,8 @@ impl CoolerCondition {
             CoolerCondition::OutletAboveInlet => "outlet-above-inlet",
             CoolerCondition::OutletBelowCoolant => "outlet-below-coolant",
             CoolerCondition::NoDrivingDifference => "no-driving-difference",
+            CoolerCondition::DutyWithinNoise => "duty-within-noise",
+            CoolerCondition::NoGasFlow => "no-gas-flow",
         }
     }
 }
@@ -566,12 +598,13 @@ impl FaultCode {
 }
 
 impl Quality {
-    /// Stable name: `good`, `uncertain` or `bad`.
+    /// Stable name: `good`, `uncertain`, `bad` or `not-applicable`.
     pub const fn as_str(self) -> &'static str {
         match self {
             Quality::Good => "good",
             Quality::Uncertain => "uncertain",
             Quality::Bad => "bad",
+            Quality::NotApplicable => "not-applicable",
         }
     }
 }

@@ -82,10 +82,12 @@ pub mod control;
 pub mod cooler;
 #[cfg(feature = "demo")]
 pub mod demo;
+pub mod dependency;
 pub mod error;
 pub mod fields;
 pub mod flow;
 pub mod gas;
+pub mod plausibility;
 pub mod quality;
 pub mod real;
 pub mod scan;

@@ -3,8 +3,14 @@
 //! ([`FaultCode`], used by the signal front end and the flow elements).
 //!
 //! Three levels, ordered from best to worst, as in common process-control
-//! practice (good / uncertain / bad). A derived value takes the worst quality
-//! of the values it was computed from ([`Quality::worst`]).
+//! practice (good / uncertain / bad), and a fourth state, not applicable,
+//! for a value that does not exist in this configuration or query (the next
+//! stage's temperature rise when a pump or nothing follows; efficiencies of
+//! a rating-point query without a discharge temperature). It is not a
+//! fault: alarms key on bad, never on not applicable. A derived value takes
+//! the worst quality of the values it was computed from ([`Quality::worst`];
+//! not applicable dominates, since a value computed from something that does
+//! not exist does not exist either).
 
 use crate::real::Real;
 
@@ -21,6 +27,9 @@ pub enum Quality {
     /// Not usable. The value is a finite placeholder (zero) and must not be
     /// trended, alarmed on or controlled with.
     Bad,
+    /// Does not apply here (not a fault). The value is a finite placeholder
+    /// (zero).
+    NotApplicable,
 }
 
 impl Quality {
@@ -41,10 +50,11 @@ impl Quality {
         self == Quality::Good
     }
 
-    /// `true` unless [`Quality::Bad`].
+    /// `true` for [`Quality::Good`] and [`Quality::Uncertain`] (a value
+    /// exists and may be used with its quality).
     #[inline]
     pub fn is_usable(self) -> bool {
-        self != Quality::Bad
+        matches!(self, Quality::Good | Quality::Uncertain)
     }
 }
 
@@ -162,11 +172,23 @@ impl<T: Real> Measured<T> {
         }
     }
 
+    /// A placeholder for a value that does not apply: `0`, not applicable.
+    #[inline]
+    pub fn not_applicable() -> Self {
+        Measured {
+            value: T::ZERO,
+            quality: Quality::NotApplicable,
+        }
+    }
+
     /// A computed value: keeps `quality` if `value` is finite and `quality`
-    /// is not bad; otherwise `0` with [`Quality::Bad`].
+    /// is usable; `0` with [`Quality::NotApplicable`] if `quality` is not
+    /// applicable; otherwise `0` with [`Quality::Bad`].
     #[inline]
     pub fn derived(value: T, quality: Quality) -> Self {
-        if T::is_finite(value) && quality != Quality::Bad {
+        if quality == Quality::NotApplicable {
+            Self::not_applicable()
+        } else if T::is_finite(value) && quality != Quality::Bad {
             Measured { value, quality }
         } else {
             Self::bad()
@@ -191,6 +213,10 @@ mod tests {
         assert_eq!(Good.worst(Uncertain), Uncertain);
         assert_eq!(Bad.worst(Good), Bad);
         assert_eq!(Uncertain.worst(Good), Uncertain);
+        assert_eq!(Bad.worst(NotApplicable), NotApplicable);
+        assert!(!NotApplicable.is_usable() && !Bad.is_usable() && Uncertain.is_usable());
+        let na = Measured::derived(3.0_f32, NotApplicable);
+        assert_eq!((na.value, na.quality), (0.0, NotApplicable));
     }
 
     #[test]

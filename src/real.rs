@@ -166,24 +166,54 @@ impl_real!(
 #[cfg(feature = "approx-math")]
 mod approx {
     use micromath::F32Ext;
+
+    /// Natural logarithm. Outside micromath's safe domain (zero, negative,
+    /// subnormal, infinite, NaN: it panics under overflow checks or debug
+    /// assertions there, or returns finite garbage such as ln(-1) = 6.54)
+    /// the exact `libm` value is used, so non-finite stays non-finite. Near
+    /// one (|x - 1| small, where micromath's absolute error makes ratios
+    /// such as (n-1)/n meaningless) the series 2·atanh(u), u = (x-1)/(x+1),
+    /// to u⁷ (truncation below 2e-10 relative for |u| < 0.1; Abramowitz &
+    /// Stegun 4.6.33 / 4.1.27).
     #[inline]
     pub fn ln(x: f32) -> f32 {
-        // micromath 2.1's ln is grossly wrong on (0, 1) (measured: ln 0.9
-        // gives -0.182 for -0.105, ln 0.6 gives -0.588 for -0.511; LMTD
-        // takes ln of ratios below 1), while fine above 1: reflect.
-        if x > 0.0 && x < 1.0 {
+        if !(f32::MIN_POSITIVE..=f32::MAX).contains(&x) {
+            return libm::logf(x);
+        }
+        let u = (x - 1.0) / (x + 1.0);
+        if u > -0.1 && u < 0.1 {
+            let u2 = u * u;
+            return 2.0 * u * (1.0 + u2 * (1.0 / 3.0 + u2 * (1.0 / 5.0 + u2 * (1.0 / 7.0))));
+        }
+        // micromath 2.1's ln is grossly wrong on (0, 1) (measured: ln 0.6
+        // gives -0.588 for -0.511), while fine above 1: reflect.
+        if x < 1.0 {
             -F32Ext::ln(1.0 / x)
         } else {
             F32Ext::ln(x)
         }
     }
+
+    /// Exponential; outside [-87, 88] (overflow, underflow to subnormal or
+    /// zero, NaN) the exact `libm` value.
     #[inline]
     pub fn exp(x: f32) -> f32 {
-        F32Ext::exp(x)
+        if (-87.0..=88.0).contains(&x) {
+            F32Ext::exp(x)
+        } else {
+            libm::expf(x)
+        }
     }
+
+    /// `x^y` as exp(y·ln x) with the guarded functions above for finite
+    /// positive `x` and finite `y`; `libm` otherwise.
     #[inline]
     pub fn pow(x: f32, y: f32) -> f32 {
-        F32Ext::powf(x, y)
+        if (f32::MIN_POSITIVE..=f32::MAX).contains(&x) && y.is_finite() {
+            exp(y * ln(x))
+        } else {
+            libm::powf(x, y)
+        }
     }
 }
 
@@ -232,6 +262,48 @@ mod tests {
     const APPROX_EXP: f64 = 1.2e-3;
     #[cfg(feature = "approx-math")]
     const APPROX_SQRT: f64 = 4.0e-7;
+
+    /// Every special and out-of-domain argument (zero, negative,
+    /// subnormal, huge, infinite, NaN) and a sweep of 2^16 bit patterns
+    /// through ln, exp and pow: no panic (tests build with overflow checks
+    /// and debug assertions), and non-finite or out-of-domain stays
+    /// non-finite where the exact function's value is.
+    #[test]
+    fn no_argument_panics_and_non_finite_stays_non_finite() {
+        let ln = <f32 as Real>::ln;
+        let exp = <f32 as Real>::exp;
+        let pow = <f32 as Real>::powf;
+        assert!(ln(-1.0).is_nan());
+        assert!(ln(f32::NAN).is_nan());
+        assert_eq!(ln(0.0), f32::NEG_INFINITY);
+        assert_eq!(ln(f32::INFINITY), f32::INFINITY);
+        assert!(ln(1e-40).is_finite() && ln(1e-40) < -90.0);
+        assert_eq!(exp(1000.0), f32::INFINITY);
+        assert_eq!(exp(-1000.0), 0.0);
+        assert!(exp(f32::NAN).is_nan());
+        assert!(pow(-2.0, 0.5).is_nan());
+        assert!(pow(2.0, f32::NAN).is_nan());
+        for i in 0..=u16::MAX {
+            let x = f32::from_bits(u32::from(i) << 16 | 0x1234);
+            let (l, e, p) = (ln(x), exp(x), pow(x, 0.3));
+            let (l0, e0, p0) = (libm::logf(x), libm::expf(x), libm::powf(x, 0.3));
+            assert_eq!(l.is_finite(), l0.is_finite(), "ln {x:e}: {l} vs {l0}");
+            assert_eq!(l.is_nan(), l0.is_nan(), "ln {x:e}");
+            assert_eq!(e.is_nan(), e0.is_nan(), "exp {x:e}");
+            assert_eq!(p.is_nan(), p0.is_nan(), "pow {x:e}");
+            if x.is_finite() && x > 0.0 {
+                assert!(l.is_finite() && p.is_finite() || !p0.is_finite(), "{x:e}");
+            }
+        }
+    }
+
+    #[test]
+    fn ln_near_one_is_accurate() {
+        // Where the efficiency relations take ln of ratios near one.
+        let ln = max_rel_err(<f32 as Real>::ln, <f64 as Real>::ln, 1.0001, 1.05);
+        println!("ln relative error on [1.0001, 1.05]: {ln:.3e}");
+        assert!(ln <= 2e-6, "{ln}");
+    }
 
     #[test]
     fn f32_functions_track_f64_within_bounds() {

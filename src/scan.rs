@@ -11,7 +11,7 @@ use crate::units::{Kelvin, PressureAbs};
 
 pub use crate::boundary::{
     compressibility, mass_flow_kg_s, pressure_pa, temperature_k, MAX_MASS_FLOW_KG_S,
-    MAX_PRESSURE_PA, MAX_TEMPERATURE_K,
+    MAX_PRESSURE_PA, MAX_TEMPERATURE_K, MIN_PRESSURE_PA, MIN_TEMPERATURE_K,
 };
 
 /// Measurements around one stage (compressor or pump) and the cooler after it.

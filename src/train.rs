@@ -6,20 +6,22 @@
 //! allocates, never panics and runs bounded loops over `N` stages and `W`
 //! window samples.
 
-use crate::cooler::{evaluate_cooler_into, CoolerConfig, CoolerInputs, CoolerResult};
+use crate::cooler::{evaluate_cooler_within, CoolerConfig, CoolerInputs, CoolerResult};
 use crate::error::{check_positive, check_range, ConfigError, Problem};
 use crate::gas::GasModel;
+use crate::plausibility::{compressibility, efficiency_allowance, Limits};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
-use crate::scan::{compressibility, mass_flow_kg_s, pressure_pa, temperature_k, Scan};
+use crate::scan::Scan;
 use crate::stage::{
-    evaluate_compressor_into, evaluate_pump, CompressorInputs, CompressorResult, PumpResult,
+    evaluate_compressor_within, evaluate_pump_within, CompressorInputs, CompressorResult,
+    PumpResult,
 };
 use crate::staging::{
     equal_ratio_interstage_pressure, ideal_references, InterstagePressure, Sum, TrainTotals,
 };
 use crate::steady::{SteadyState, SteadyStateConfig, SteadyStateDetector};
-use crate::units::PressureAbs;
+use crate::units::{Kelvin, PressureAbs};
 
 /// What a stage is.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -145,6 +147,10 @@ pub struct Snapshot<T, const N: usize> {
 #[derive(Clone, Debug)]
 pub struct Train<T, G, const N: usize, const W: usize> {
     config: TrainConfig<T, G, N>,
+    limits: Limits<T>,
+    /// The gas model's Z without a supplied one (what a stage without a Z
+    /// reading uses), for the totals.
+    configured_z: T,
     compressor_stages: u8,
     detectors: [SteadyStateDetector<T, W>; N],
     snapshot: Snapshot<T, N>,
@@ -159,6 +165,8 @@ struct StageSi<T> {
     t2: Measured<T>,
     flow: Measured<T>,
     flow_measured: bool,
+    /// Supplied compressibility after the boundary, if any.
+    z: Option<Measured<T>>,
 }
 
 impl<T: Real> StageSi<T> {
@@ -171,13 +179,22 @@ impl<T: Real> StageSi<T> {
             t2: b,
             flow: b,
             flow_measured: false,
+            z: None,
         }
     }
 }
 
+/// Pump liquid density range, kg/m3: from liquid hydrogen (about 71) to
+/// brines and dense liquids (common practice; mercury is out of scope).
+pub const PUMP_DENSITY_RANGE: (f64, f64) = (50.0, 3000.0);
+/// Coolant specific heat range, J/(kg K): from oils and air (about 1000) to
+/// water (4180) and liquid ammonia (about 4700) (common practice).
+pub const COOLANT_CP_RANGE: (f64, f64) = (500.0, 6000.0);
+
 fn validate_stages<T: Real, const N: usize>(
     stages: &[StageConfig<T>; N],
     max_drop: T,
+    limits: &Limits<T>,
 ) -> Result<u8, ConfigError> {
     check_range("max_interstage_pressure_drop", max_drop, 0.0, 0.9)?;
     let mut compressors: u8 = 0;
@@ -187,9 +204,11 @@ fn validate_stages<T: Real, const N: usize>(
         let p1 = s.design_suction_pressure.pa();
         let p2 = s.design_discharge_pressure.pa();
         check_positive("stages.design_suction_pressure", p1).map_err(|e| e.at(i))?;
-        if !T::is_finite(p2) {
-            return Err(ConfigError::not_finite("stages.design_discharge_pressure").at(i));
-        }
+        // Design pressures inside the sensor boundary (a design point the
+        // boundary would call bad cannot be right).
+        let (lo, hi) = (limits.min_pressure.to_f64(), limits.max_pressure.to_f64());
+        check_range("stages.design_suction_pressure", p1, lo, hi).map_err(|e| e.at(i))?;
+        check_range("stages.design_discharge_pressure", p2, lo, hi).map_err(|e| e.at(i))?;
         if !(p2 > p1) {
             return Err(ConfigError::new(
                 "stages.design_discharge_pressure",
@@ -230,7 +249,13 @@ fn validate_stages<T: Real, const N: usize>(
                 efficiency,
             } => {
                 seen_pump = true;
-                check_positive("stages.pump.density", density).map_err(|e| e.at(i))?;
+                check_range(
+                    "stages.pump.density",
+                    density,
+                    PUMP_DENSITY_RANGE.0,
+                    PUMP_DENSITY_RANGE.1,
+                )
+                .map_err(|e| e.at(i))?;
                 if !(T::is_finite(efficiency) && efficiency > T::ZERO && efficiency <= T::ONE) {
                     return Err(if T::is_finite(efficiency) {
                         ConfigError::out_of_range("stages.pump.efficiency", 0.0, 1.0)
@@ -242,7 +267,13 @@ fn validate_stages<T: Real, const N: usize>(
             }
         }
         if let Some(c) = s.cooler {
-            check_positive("stages.cooler.coolant_cp", c.coolant_cp).map_err(|e| e.at(i))?;
+            check_range(
+                "stages.cooler.coolant_cp",
+                c.coolant_cp,
+                COOLANT_CP_RANGE.0,
+                COOLANT_CP_RANGE.1,
+            )
+            .map_err(|e| e.at(i))?;
         }
     }
     if compressors == 0 {
@@ -270,10 +301,23 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     /// let _ = Train::<f32, _, 0, 8>::new(cfg); // N = 0 does not compile
     /// ```
     pub fn new(config: TrainConfig<T, G, N>) -> Result<Self, ConfigError> {
+        Self::with_limits(config, Limits::default())
+    }
+
+    /// As [`Train::new`], with explicit sensor-boundary ranges and stated
+    /// instrument accuracy ([`Limits`]; each field is checked against its
+    /// documented range and a refusal names it, `limits.<field>`).
+    pub fn with_limits(
+        config: TrainConfig<T, G, N>,
+        limits: Limits<T>,
+    ) -> Result<Self, ConfigError> {
         const { assert!(N >= 1 && N <= 255, "a train needs 1 to 255 stages") };
+        if let Some((field, min, max)) = limits.first_invalid() {
+            return Err(ConfigError::out_of_range(field, min, max));
+        }
         config.steady_state.validate()?;
         let compressor_stages =
-            validate_stages(&config.stages, config.max_interstage_pressure_drop)?;
+            validate_stages(&config.stages, config.max_interstage_pressure_drop, &limits)?;
         let stages = config.stages.map(|s| StageResult {
             work: match s.kind {
                 StageKind::Compressor => StageWork::Compressor(CompressorResult::bad()),
@@ -282,8 +326,14 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             steady_state: SteadyState::unknown(),
         });
         let coolers = config.stages.map(|s| s.cooler.map(|_| CoolerResult::bad()));
+        let configured_z = config
+            .gas
+            .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
+            .z;
         Ok(Train {
             config,
+            limits,
+            configured_z,
             compressor_stages,
             detectors: core::array::from_fn(|_| SteadyStateDetector::new()),
             snapshot: Snapshot {
@@ -301,6 +351,11 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         &self.config
     }
 
+    /// The sensor-boundary ranges and stated accuracy in use.
+    pub fn limits(&self) -> &Limits<T> {
+        &self.limits
+    }
+
     /// The last snapshot (all bad before the first scan).
     pub fn snapshot(&self) -> &Snapshot<T, N> {
         &self.snapshot
@@ -312,7 +367,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     /// and carries its quality.
     pub fn update(&mut self, scan: &Scan<T, N>) -> &Snapshot<T, N> {
         let mut si = [StageSi::bad(); N];
-        Self::boundary(scan, &mut si);
+        Self::boundary(&self.limits, scan, &mut si);
         self.evaluate_stages(scan, &si);
         self.evaluate_coolers(scan, &si);
         self.evaluate_totals(&si);
@@ -325,23 +380,24 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     /// Not inlined: unrolled into `update`, its spills would add to the
     /// stack peak of the phases after it.
     #[inline(never)]
-    fn boundary(scan: &Scan<T, N>, si: &mut [StageSi<T>; N]) {
+    fn boundary(limits: &Limits<T>, scan: &Scan<T, N>, si: &mut [StageSi<T>; N]) {
         let mut upstream_flow = Measured::bad();
         // By reference: `scan.stages.map` would copy the whole scan onto
         // the stack first.
         for (out, s) in si.iter_mut().zip(scan.stages.iter()) {
             let (flow, flow_measured) = match s.mass_flow {
-                Some(m) => (mass_flow_kg_s(m), true),
+                Some(m) => (limits.mass_flow(m), true),
                 None => (upstream_flow, false),
             };
             upstream_flow = flow;
             *out = StageSi {
-                p1: pressure_pa(s.suction_pressure),
-                t1: temperature_k(s.suction_temperature),
-                p2: pressure_pa(s.discharge_pressure),
-                t2: temperature_k(s.discharge_temperature),
+                p1: limits.pressure(s.suction_pressure.map(PressureAbs::pa)),
+                t1: limits.temperature(s.suction_temperature.map(Kelvin::kelvin)),
+                p2: limits.pressure(s.discharge_pressure.map(PressureAbs::pa)),
+                t2: limits.temperature(s.discharge_temperature.map(Kelvin::kelvin)),
                 flow,
                 flow_measured,
+                z: s.compressibility.map(compressibility),
             };
         }
     }
@@ -358,7 +414,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             .zip(si.iter())
             .zip(self.detectors.iter_mut())
             .zip(self.snapshot.stages.iter_mut());
-        for ((((cfg, raw), s), detector), out) in parts {
+        for ((((cfg, _raw), s), detector), out) in parts {
             let flow = if s.flow_measured { Some(s.flow) } else { None };
             match cfg.kind {
                 StageKind::Compressor => {
@@ -368,14 +424,14 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                         discharge_pressure: s.p2,
                         discharge_temperature: s.t2,
                         mass_flow: s.flow,
-                        compressibility: compressibility(raw.compressibility),
+                        compressibility: s.z.map(|z| (z.value, z.quality)),
                     };
                     // Evaluated in place: building a result and copying it
                     // costs a ~124-byte memcpy per stage on the device.
                     // `Train::new` set this slot's variant from the same
                     // (immutable) configuration, so it is a compressor.
                     if let StageWork::Compressor(c) = &mut out.work {
-                        evaluate_compressor_into(&self.config.gas, &inputs, c);
+                        evaluate_compressor_within(&self.config.gas, &inputs, &self.limits, c);
                     }
                     out.steady_state = detector.update(
                         &self.config.steady_state,
@@ -388,14 +444,12 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                     density,
                     efficiency,
                 } => {
-                    let r = evaluate_pump(
+                    let r = evaluate_pump_within(
                         &self.config.gas,
                         density,
                         efficiency,
-                        s.p1,
-                        s.p2,
-                        s.t1,
-                        s.flow,
+                        [s.p1, s.p2, s.t1, s.flow],
+                        &self.limits,
                     );
                     let steady =
                         detector.update(&self.config.steady_state, r.pressure_ratio, None, flow);
@@ -410,6 +464,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
 
     #[inline(never)]
     fn evaluate_coolers(&mut self, scan: &Scan<T, N>, si: &[StageSi<T>; N]) {
+        let cp_inputs = self.config.gas.property_inputs();
         for (i, (cfg, out)) in self
             .config
             .stages
@@ -422,12 +477,14 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 continue;
             };
             let next = si.get(i + 1);
-            let next_rise = self
-                .snapshot
-                .stages
-                .get(i + 1)
-                .and_then(StageResult::compressor)
-                .map_or(Measured::bad(), |c| c.temperature_rise);
+            // The next stage's rise exists only if a compressor follows:
+            // after the last stage or before a pump it does not apply.
+            let next_rise = match self.snapshot.stages.get(i + 1) {
+                Some(st) => st
+                    .compressor()
+                    .map_or(Measured::not_applicable(), |c| c.temperature_rise),
+                None => Measured::not_applicable(),
+            };
             let Some(raw) = scan.stages.get(i).and_then(|s| s.cooler) else {
                 *out = Some(CoolerResult {
                     next_stage_temperature_rise: next_rise,
@@ -435,44 +492,62 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 });
                 continue;
             };
+            let limits = &self.limits;
             let gas_out_p = match raw.gas_outlet_pressure {
-                Some(p) => pressure_pa(p),
+                Some(p) => limits.pressure(p.map(PressureAbs::pa)),
                 None => next.map_or(Measured::bad(), |n| n.p1),
             };
-            let tout = temperature_k(raw.gas_outlet_temperature);
-            let cp_t_out = if tout.quality.is_usable() {
+            let tout = limits.temperature(raw.gas_outlet_temperature.map(Kelvin::kelvin));
+            // cp over the measured temperatures; at a nominal temperature
+            // where one is missing (the rule marks what used it).
+            let nominal = T::of(288.15);
+            let t_in = if s.t2.quality.is_usable() {
+                s.t2.value
+            } else {
+                nominal
+            };
+            let t_out = if tout.quality.is_usable() {
                 tout.value
             } else {
-                s.t2.value
+                t_in
             };
             let gas_cp = self
                 .config
                 .gas
-                .path(s.p2.value, s.t2.value, gas_out_p.value, cp_t_out, None)
+                .path(s.p2.value, t_in, gas_out_p.value, t_out, None)
                 .cp;
+            let temperature = |m: Option<Measured<Kelvin<T>>>| {
+                m.map_or(Measured::bad(), |m| {
+                    limits.temperature(m.map(Kelvin::kelvin))
+                })
+            };
             let inputs = CoolerInputs {
                 gas_inlet_temperature: s.t2,
                 gas_outlet_temperature: tout,
-                coolant_inlet_temperature: temperature_k(raw.coolant_inlet_temperature),
-                coolant_outlet_temperature: raw
-                    .coolant_outlet_temperature
-                    .map_or(Measured::bad(), temperature_k),
+                coolant_inlet_temperature: temperature(Some(raw.coolant_inlet_temperature)),
+                coolant_outlet_temperature: temperature(raw.coolant_outlet_temperature),
                 gas_inlet_pressure: s.p2,
                 gas_outlet_pressure: gas_out_p,
                 gas_mass_flow: s.flow,
                 coolant_mass_flow: raw
                     .coolant_mass_flow
-                    .map_or(Measured::bad(), mass_flow_kg_s),
+                    .map_or(Measured::bad(), |m| limits.mass_flow(m)),
                 gas_cp,
                 coolant_cp: cooler_cfg.coolant_cp,
             };
             // In place, as for the stages (saves a ~92-byte copy).
             let r = out.get_or_insert_with(CoolerResult::bad);
-            evaluate_cooler_into(&inputs, r);
+            let cp_fit = self.config.gas.fit_quality(t_in, t_out);
+            evaluate_cooler_within(&inputs, limits, cp_inputs, cp_fit, r);
             r.next_stage_temperature_rise = next_rise;
         }
     }
 
+    /// Whole-train totals. Each total uses exactly: the sums, the stage
+    /// outputs they add; the overall ratio and the interstage optimum, the
+    /// first suction and last compressor discharge pressures; the ideal
+    /// references, those, the first suction temperature and every
+    /// compressor stage's Z (supplied, or the configured one).
     #[inline(never)]
     fn evaluate_totals(&mut self, si: &[StageSi<T>; N]) {
         let nc = self.compressor_stages;
@@ -482,10 +557,16 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         let mut pump_power = Sum::new();
         let mut staged_s = Sum::new();
         let mut z_sum = Sum::new();
-        for st in self.snapshot.stages.iter() {
+        let configured_z = self.configured_z;
+        for (st, s) in self.snapshot.stages.iter().zip(si.iter()) {
             match &st.work {
                 StageWork::Compressor(c) => {
-                    z_sum.add(Measured::good(c.compressibility));
+                    // The stage's Z input, whatever its evaluation reached
+                    // (not the placeholder of an early return).
+                    z_sum.add(match s.z {
+                        Some(z) => z,
+                        None => Measured::good(configured_z),
+                    });
                     work.add(c.actual_work);
                     comp_power.add(c.gas_power);
                     staged_s.add(c.isentropic_head);
@@ -509,21 +590,55 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             self.snapshot.totals = totals;
             return;
         };
-        let q_ref = first
-            .p1
-            .quality
-            .worst(first.t1.quality)
-            .worst(last_c.p2.quality);
+        let q_ratio = first.p1.quality.worst(last_c.p2.quality);
         let ratio = last_c.p2.value / first.p1.value;
-        if q_ref == Quality::Bad || !(ratio > T::ONE) {
+        let q_ratio = if q_ratio.is_usable() && !(ratio <= self.limits.max_overall_ratio) {
+            Quality::Bad
+        } else {
+            q_ratio
+        };
+        // Interstage entries exist for every compressor stage but the last.
+        for (i, (s, out)) in si
+            .iter()
+            .zip(self.snapshot.interstage.iter_mut())
+            .take(last)
+            .enumerate()
+        {
+            let mut entry = InterstagePressure {
+                measured: s.p2,
+                optimum: Measured::bad(),
+                deviation: Measured::bad(),
+            };
+            if q_ratio.is_usable() && ratio > T::ONE {
+                let idx = u32::try_from(i).unwrap_or(u32::MAX);
+                let opt =
+                    equal_ratio_interstage_pressure(first.p1.value, ratio, u32::from(nc), idx);
+                entry.optimum = Measured::derived(opt, q_ratio);
+                if s.p2.quality.is_usable() {
+                    entry.deviation =
+                        Measured::derived(s.p2.value / opt - T::ONE, q_ratio.worst(s.p2.quality));
+                }
+            }
+            *out = Some(entry);
+        }
+        if !q_ratio.is_usable() || !(ratio > T::ONE) {
             self.snapshot.totals = totals;
             return;
         }
-        totals.overall_pressure_ratio = Measured::derived(ratio, q_ref);
+        totals.overall_pressure_ratio = Measured::derived(ratio, q_ratio);
+        let z_mean = z_sum.get();
+        let q_ref = q_ratio
+            .worst(first.t1.quality)
+            .worst(z_mean.quality)
+            .worst(self.config.gas.fit_quality(first.t1.value, first.t1.value));
+        if !q_ref.is_usable() {
+            self.snapshot.totals = totals;
+            return;
+        }
         let t1 = first.t1.value;
-        // The whole-train references use the mean of the stages' Z (each the
-        // mean over its own stage), so they compare like with like.
-        let z_mean = z_sum.value / T::of(f64::from(z_sum.count.max(1)));
+        // The whole-train references use the mean of the stages' Z, so they
+        // compare like with like.
+        let z_mean = z_mean.value / T::of(f64::from(z_sum.count.max(1)));
         let props = self
             .config
             .gas
@@ -542,26 +657,20 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         totals.ideal_staging_saving = Measured::derived(single - staged, q_ref);
         let w = totals.compressor_work;
         if w.quality.is_usable() && w.value > T::ZERO {
-            totals.isothermal_efficiency = Measured::derived(iso / w.value, q_ref.worst(w.quality));
+            let eta = iso / w.value;
+            // Above one (beyond rounding) the train did better than
+            // isothermal from its first suction: possible only with
+            // coolant colder than that suction; suspect, not good.
+            let q = if eta > T::ONE + efficiency_allowance::<T>() {
+                Quality::Uncertain
+            } else {
+                Quality::Good
+            };
+            totals.isothermal_efficiency = Measured::derived(eta, q_ref.worst(w.quality).worst(q));
         }
         let ms = totals.measured_staged_isentropic_work;
         if ms.quality.is_usable() {
             totals.staging_saving = Measured::derived(single - ms.value, q_ref.worst(ms.quality));
-        }
-        for (i, (s, out)) in si
-            .iter()
-            .zip(self.snapshot.interstage.iter_mut())
-            .take(last)
-            .enumerate()
-        {
-            let idx = u32::try_from(i).unwrap_or(u32::MAX);
-            let opt = equal_ratio_interstage_pressure(first.p1.value, ratio, u32::from(nc), idx);
-            let q = q_ref.worst(s.p2.quality);
-            *out = Some(InterstagePressure {
-                measured: s.p2,
-                optimum: Measured::derived(opt, q_ref),
-                deviation: Measured::derived(s.p2.value / opt - T::ONE, q),
-            });
         }
         self.snapshot.totals = totals;
     }

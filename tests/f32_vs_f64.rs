@@ -121,6 +121,11 @@ fn case_from(u: &[f64]) -> Case {
     for s in 0..COMPRESSORS {
         let ratio = lerp(d(), 1.05, 8.0);
         let eta_p = lerp(d(), 0.6, 1.0);
+        // Keep the case physically plausible (issue 11: the sensor boundary
+        // now refuses a discharge above 1000 K and pressures above 1e9 Pa):
+        // T2 at most 950 K, p2 at most 2e8 Pa. Same random draws as before.
+        let max_ln_ratio = (950.0 / t1).ln() / ((k_path - 1.0) / k_path / eta_p);
+        let ratio = ratio.min(max_ln_ratio.exp()).min(2e8 / p1).max(1.05);
         let effectiveness = lerp(d(), 0.5, 0.98);
         let coolant_rise = lerp(d(), 2.0, 15.0);
         let coolant_flow = lerp(d(), 0.1, 200.0);
@@ -251,6 +256,35 @@ fn quality_may_differ(name: &str, reference: f64) -> bool {
     name.ends_with("efficiency") && (near(1.0) || near(1.25))
 }
 
+/// Whether `name` belongs to a stage (or the totals, when any stage does)
+/// whose reference values sit on a plausibility threshold (issue 11): an
+/// efficiency within the efficiency tolerance of 1 (plus the rounding
+/// allowance) or 1.25, or a temperature rise or log-ratio within the
+/// temperature-difference / ratio tolerance of the stated resolution. There
+/// the two builds may round to different sides and the quality of every
+/// output that uses the check may differ (the values still agree).
+fn on_a_check_threshold(name: &str, s: &Snapshot<f64, N>) -> bool {
+    let limits = polytrope::plausibility::Limits::<f64>::default();
+    let eff = Kind::Table(tolerance::EFFICIENCY).bound(1.25) + 1e-3;
+    let near = |v: f64, t: f64, b: f64| (v - t).abs() <= b;
+    let borderline = |i: usize| {
+        let Some(c) = s.stages[i].compressor() else {
+            return false;
+        };
+        let effs = [c.isentropic_efficiency.value, c.polytropic_efficiency.value];
+        let rise = c.temperature_rise.value;
+        let ln_r = c.pressure_ratio.value.ln();
+        effs.iter()
+            .any(|&e| near(e, 1.0, eff) || near(e, 1.25, eff))
+            || near(rise, limits.min_temperature_rise(), 2.0)
+            || near(ln_r, limits.min_log_ratio(), 1e-3)
+    };
+    if name.starts_with("totals.") || name.starts_with("interstage") {
+        return (0..COMPRESSORS).any(borderline);
+    }
+    (0..COMPRESSORS).any(|i| name.starts_with(&format!("stage{i}.")) && borderline(i))
+}
+
 /// One compared value: rule label, field, relative and absolute difference,
 /// and the difference as a fraction of the allowed bound.
 struct Row {
@@ -289,7 +323,7 @@ fn compare(c: &Case) -> Result<Vec<Row>, String> {
             return Err(format!("field order {} vs {name}", a.name));
         }
         if a.quality != b.quality {
-            if quality_may_differ(name, b.value) {
+            if quality_may_differ(name, b.value) || on_a_check_threshold(name, &b64) {
                 continue;
             }
             return Err(format!(

@@ -199,11 +199,34 @@ fn pure_functions_match_fluids_in_f64() {
     }
 }
 
+/// Whether the case's temperature rise and ratio clear the default stated
+/// instrument accuracy (issue 11: below it, efficiencies, the exponent and
+/// the polytropic head are uncertain, not good). The fluids cases with a
+/// ratio of 1.1 and k = 1.1 rise by only about 3.6 K.
+fn resolved(c: &Case) -> bool {
+    let limits = polytrope::plausibility::Limits::<f64>::default();
+    c.get("t2") - c.get("T1") >= limits.min_temperature_rise()
+        && (c.get("P2") / c.get("P1")).ln() >= limits.min_log_ratio()
+}
+
+/// The outputs a resolution shortfall makes uncertain.
+const RESOLUTION_SUSPECT: [&str; 4] = [
+    "isentropic_efficiency",
+    "polytropic_efficiency",
+    "polytropic_exponent",
+    "polytropic_head",
+];
+
 /// (name, kernel value, fluids value in kernel units, tolerance entry).
 fn stage_checks<T: Real>(c: &Case) -> Vec<(&'static str, Measured<T>, f64, Tolerance)> {
     let r = evaluate_compressor(&gas::<T>(c), &stage_inputs::<T>(c));
     if c.get("eta_p") < 1.0 {
-        assert_eq!(r.condition, StageCondition::Normal, "case {}", c.get("id"));
+        let expected = if resolved(c) {
+            StageCondition::Normal
+        } else {
+            StageCondition::BelowResolution
+        };
+        assert_eq!(r.condition, expected, "case {}", c.get("id"));
     }
     vec![
         (
@@ -283,7 +306,9 @@ fn evaluate_compressor_end_to_end_matches_fluids_in_f64() {
             .map(|(n, m, w, _)| (n, m, w))
         {
             let id = c.get("id");
-            if c.get("eta_p") < 1.0 {
+            if c.get("eta_p") < 1.0 && !resolved(&c) && RESOLUTION_SUSPECT.contains(&name) {
+                assert_eq!(m.quality, Quality::Uncertain, "case {id} {name}");
+            } else if c.get("eta_p") < 1.0 {
                 assert_eq!(m.quality, Quality::Good, "case {id} {name}");
             } else {
                 // eta_p = 1: T2 is the isentropic T2, so the efficiency is

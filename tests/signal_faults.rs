@@ -261,8 +261,14 @@ fn substitution_holds_then_goes_bad() {
         last = Some(s);
     }
     let s = last.unwrap();
-    // Whole-train totals used the bad value: no longer good.
-    assert_ne!(s.snapshot.totals.compressor_work.quality, Good);
+    // Whole-train totals that used the bad value are no longer good; the
+    // work from the temperature rises does not use the pressure and stays
+    // good (issue 11: quality follows use).
+    assert_ne!(
+        s.snapshot.totals.measured_staged_isentropic_work.quality,
+        Good
+    );
+    assert_eq!(s.snapshot.totals.compressor_work.quality, Good);
     // Events: good -> uncertain -> bad on channel P1B.
     let ev: Vec<_> = fe.log.iter().filter(|e| e.channel == P1B as u8).collect();
     let last_two: Vec<_> = ev

@@ -110,10 +110,12 @@ pub mod disp {
     pub const KG_PER_S: Disp = d("kg/s", 1.0, 3);
 }
 
-/// A value as a table cell: `--` if bad, `?` appended if uncertain.
+/// A value as a table cell: `--` if bad, `n/a` if not applicable, `?`
+/// appended if uncertain.
 pub fn cell(v: Val, d: Disp) -> String {
     match v.quality {
         Quality::Bad => "--".to_string(),
+        Quality::NotApplicable => "n/a".to_string(),
         Quality::Uncertain => format!("{:.*}?", d.decimals, v.value * d.scale),
         Quality::Good => format!("{:.*}", d.decimals, v.value * d.scale),
     }
@@ -173,7 +175,7 @@ impl Obj {
 
 /// `{"value": .., "quality": ..}` with `null` for a bad value.
 pub fn measured(v: Val) -> Json {
-    let value = if v.quality == Quality::Bad || !v.value.is_finite() {
+    let value = if !v.quality.is_usable() || !v.value.is_finite() {
         Json::Null
     } else {
         Json::Num(v.value)

@@ -11,6 +11,7 @@ use polytrope::fields::StageInput;
 use polytrope::gas::{GasModel, GasSpec, HeatCapacity, IdealGas, BUILTIN_GASES};
 use polytrope::scan::{
     mass_flow_kg_s, pressure_pa, temperature_k, MAX_PRESSURE_PA, MAX_TEMPERATURE_K,
+    MIN_PRESSURE_PA, MIN_TEMPERATURE_K,
 };
 use polytrope::stage::{evaluate_compressor, CompressorInputs, StageCondition};
 use polytrope::staging::{equal_ratio_interstage_pressure, ideal_references};
@@ -125,7 +126,7 @@ fn check_pressure(option: &str, pa: f64) -> Result<f64, CliError> {
     let m = pressure_pa(Measured::good(PressureAbs::from_pa(pa)));
     if m.quality == Quality::Bad {
         return Err(CliError::Input(format!(
-            "--{option}: {pa} Pa absolute is outside the accepted range (0, {MAX_PRESSURE_PA:e}] Pa"
+            "--{option}: {pa} Pa absolute is outside the accepted range [{MIN_PRESSURE_PA}, {MAX_PRESSURE_PA:e}] Pa"
         )));
     }
     Ok(pa)
@@ -134,7 +135,7 @@ fn check_pressure(option: &str, pa: f64) -> Result<f64, CliError> {
 fn check_temperature(option: &str, t: Kelvin<f64>) -> Result<f64, CliError> {
     if temperature_k(Measured::good(t)).quality == Quality::Bad {
         return Err(CliError::Input(format!(
-            "--{option}: {} K is outside the accepted range (0, {MAX_TEMPERATURE_K}] K",
+            "--{option}: {} K is outside the accepted range [{MIN_TEMPERATURE_K}, {MAX_TEMPERATURE_K}] K",
             t.kelvin()
         )));
     }
@@ -314,6 +315,23 @@ fn condition_note(c: StageCondition) -> Option<&'static str> {
             "discharge temperature is below the isentropic one (efficiency above 1): the process \
              is cooled or a reading is off; efficiencies are marked uncertain or bad",
         ),
+        StageCondition::RatingPoint => Some(
+            "no discharge temperature given: a rating point; the work and efficiencies do not apply",
+        ),
+        StageCondition::RatioOutOfRange => {
+            Some("the pressure ratio is above the plausible maximum for one stage: check the units")
+        }
+        StageCondition::ImplausibleTemperatureRise => Some(
+            "the temperature rise is too large for the pressure ratio (n not above 1): a reading \
+             is off",
+        ),
+        StageCondition::Stationary => {
+            Some("zero flow: the machine is stationary; work and efficiencies are marked uncertain")
+        }
+        StageCondition::BelowResolution => Some(
+            "the temperature rise or pressure ratio is small against the instrument accuracy: \
+             efficiencies are marked uncertain",
+        ),
     }
 }
 
@@ -345,7 +363,7 @@ fn calculate<T: Real>(inp: &Inputs, precision: Precision, json: bool) -> Result<
         suction_pressure: pressure_pa(Measured::good(PressureAbs::from_pa(T::of(inp.p1)))),
         suction_temperature: temperature_k(Measured::good(Kelvin::new(T::of(inp.t1)))),
         discharge_pressure: pressure_pa(Measured::good(PressureAbs::from_pa(T::of(inp.p2)))),
-        discharge_temperature: inp.t2.map_or(Measured::bad(), |t| {
+        discharge_temperature: inp.t2.map_or(Measured::not_applicable(), |t| {
             temperature_k(Measured::good(Kelvin::new(T::of(t))))
         }),
         mass_flow: inp.flow.map_or(Measured::bad(), |f| mass_flow_kg_s(g(f))),

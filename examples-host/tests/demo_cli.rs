@@ -55,12 +55,13 @@ fn demo_prints_all_five_stages_and_the_totals() {
     // Stage 5 is the pump, compared with gas compression work.
     assert!(text.contains("Pump (stage 5, dense phase)"));
     assert!(text.contains("Gas compression, same ratio"));
-    // Coolers after S1..S4; the last has no next compressor stage: bad, `--`.
+    // Coolers after S1..S4; the last has no next compressor stage: not
+    // applicable (not a fault), `n/a`.
     let next = text
         .lines()
         .find(|l| l.starts_with("Next-stage temperature rise"))
         .unwrap();
-    assert!(next.trim_end().ends_with("--"), "{next}");
+    assert!(next.trim_end().ends_with("n/a"), "{next}");
     assert!(text.contains("after S4"));
     // Interstage rows for S1..S3, and the totals.
     for s in ["S1 ", "S2 ", "S3 "] {
@@ -139,7 +140,10 @@ fn demo_json_is_complete_and_adds_up() {
         }
         let last = &d.at("coolers").arr()[3];
         assert_eq!(last.at("after_stage").num(), 4.0);
-        assert_eq!(last.at("next_stage_temperature_rise_K").measured().1, "bad");
+        assert_eq!(
+            last.at("next_stage_temperature_rise_K").measured().1,
+            "not-applicable"
+        );
         assert_eq!(
             last.at("next_stage_temperature_rise_K").at("value"),
             &J::Null

@@ -18,7 +18,8 @@
 use super::expansibility::{expansibility_valid, orifice_expansibility};
 use super::gas_density;
 use crate::boundary::{pressure_pa, temperature_k};
-use crate::error::{check_positive, ConfigError, Problem};
+use crate::error::{check_positive, check_range, ConfigError, Problem};
+use crate::gas::MOLAR_GAS_CONSTANT;
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::units::{Kelvin, PressureAbs};
@@ -200,18 +201,31 @@ impl<T: Real> Orifice<T> {
                 },
             ));
         }
-        if !T::is_finite(config.isentropic_exponent) {
-            return Err(ConfigError::not_finite("orifice.isentropic_exponent"));
-        }
+        // Physical ranges (issue 11: an isentropic exponent of 5 was
+        // accepted): a gas's isentropic exponent in (1, 2] (common
+        // practice; ideal gases end at 5/3), viscosity of a gas or light
+        // liquid in [1e-7, 1] Pa s, specific gas constant of a molar mass in
+        // [1, 500] kg/kmol (common practice).
+        check_range(
+            "orifice.isentropic_exponent",
+            config.isentropic_exponent,
+            1.0,
+            2.0,
+        )?;
         if !(config.isentropic_exponent > T::ONE) {
             return Err(ConfigError::out_of_range(
                 "orifice.isentropic_exponent",
                 1.0,
-                f64::INFINITY,
+                2.0,
             ));
         }
-        check_positive("orifice.viscosity", config.viscosity)?;
-        check_positive("orifice.gas_constant", config.gas_constant)?;
+        check_range("orifice.viscosity", config.viscosity, 1e-7, 1.0)?;
+        check_range(
+            "orifice.gas_constant",
+            config.gas_constant,
+            MOLAR_GAS_CONSTANT * 1e3 / 500.0,
+            MOLAR_GAS_CONSTANT * 1e3,
+        )?;
         Ok(Orifice {
             config,
             beta: config.bore_diameter / config.pipe_diameter,

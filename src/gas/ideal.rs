@@ -7,8 +7,14 @@
 //! an interval is the exact integral of the cp polynomial divided by the
 //! interval.
 
-use super::{builtin::GasSpec, GasModel, PathProperties, MOLAR_GAS_CONSTANT};
-use crate::error::{check_positive, ConfigError, Problem};
+use super::{builtin::GasSpec, GasModel, PathProperties, PropertyInputs, MOLAR_GAS_CONSTANT};
+use crate::error::{check_range, ConfigError, Problem};
+use crate::plausibility::COMPRESSIBILITY_RANGE;
+use crate::quality::Quality;
+
+/// Largest heat-capacity ratio of an ideal gas: 5/3 (monatomic), as 1.67
+/// (tables quote it to two decimals).
+pub const MAX_IDEAL_GAS_K: f64 = 1.67;
 use crate::real::Real;
 
 /// How the heat capacity is modelled.
@@ -48,17 +54,15 @@ impl<T: Real> IdealGas<T> {
         heat_capacity: HeatCapacity<T>,
         compressibility: T,
     ) -> Result<Self, ConfigError> {
-        check_positive("gas.molar_mass", molar_mass)?;
-        if !(T::is_finite(compressibility)
-            && compressibility > T::ZERO
-            && compressibility <= T::of(2.0))
-        {
-            return Err(if T::is_finite(compressibility) {
-                ConfigError::out_of_range("gas.compressibility", 0.0, 2.0)
-            } else {
-                ConfigError::not_finite("gas.compressibility")
-            });
-        }
+        // Hydrogen (2.016) is the lightest process gas; 500 kg/kmol is above
+        // any gas a compressor handles (common practice).
+        check_range("gas.molar_mass", molar_mass, 1.0, 500.0)?;
+        check_range(
+            "gas.compressibility",
+            compressibility,
+            COMPRESSIBILITY_RANGE.0,
+            COMPRESSIBILITY_RANGE.1,
+        )?;
         let gas_constant = T::of(MOLAR_GAS_CONSTANT * 1.0e3) / molar_mass;
         if !T::is_finite(gas_constant) {
             return Err(ConfigError::out_of_range(
@@ -69,12 +73,11 @@ impl<T: Real> IdealGas<T> {
         }
         let heat_capacity = match heat_capacity {
             HeatCapacity::ConstantK(k) => {
-                if !(T::is_finite(k) && k > T::ONE && k < T::of(3.0)) {
-                    return Err(if T::is_finite(k) {
-                        ConfigError::out_of_range("gas.k", 1.0, 3.0)
-                    } else {
-                        ConfigError::not_finite("gas.k")
-                    });
+                // An ideal gas has 1 < k <= 5/3 (a monatomic gas is the
+                // upper limit: cp >= 5R/2; Çengel & Boles Table A-2).
+                check_range("gas.k", k, 1.0, MAX_IDEAL_GAS_K)?;
+                if !(k > T::ONE) {
+                    return Err(ConfigError::out_of_range("gas.k", 1.0, MAX_IDEAL_GAS_K));
                 }
                 HeatCapacity::ConstantK(k)
             }
@@ -94,21 +97,25 @@ impl<T: Real> IdealGas<T> {
                         },
                     ));
                 }
-                // cp must exceed R (k > 1) and stay finite across the range.
-                let steps = 32;
-                for i in 0..=steps {
-                    let t = t_min + (t_max - t_min) * T::of(i as f64 / steps as f64);
+                // cp must exceed R (k > 1, k < 3) and stay finite across
+                // the whole range: checked exactly at the ends and at the
+                // cubic's critical points inside (its minimum is at one of
+                // them), not at samples.
+                let ok = |t: T| {
                     let cp = cubic(&c, t);
                     let k = cp / (cp - gas_constant);
-                    if !(T::is_finite(cp) && T::is_finite(k) && cp > gas_constant && k < T::of(3.0))
-                    {
-                        return Err(ConfigError::new(
-                            "gas.cp_polynomial.coefficients",
-                            Problem::NotAbove {
-                                other: "gas constant R (cp must exceed R)",
-                            },
-                        ));
-                    }
+                    T::is_finite(cp) && T::is_finite(k) && cp > gas_constant && k < T::of(3.0)
+                };
+                let [inner_a, inner_b] = cubic_critical_points(&c);
+                let inside = |t: Option<T>| t.filter(|&t| t > t_min && t < t_max);
+                let points = [Some(t_min), Some(t_max), inside(inner_a), inside(inner_b)];
+                if points.iter().flatten().any(|&t| !ok(t)) {
+                    return Err(ConfigError::new(
+                        "gas.cp_polynomial.coefficients",
+                        Problem::NotAbove {
+                            other: "gas constant R (cp must exceed R)",
+                        },
+                    ));
                 }
                 HeatCapacity::Polynomial {
                     coefficients: c,
@@ -170,6 +177,24 @@ fn cubic<T: Real>(c: &[T; 4], t: T) -> T {
     a + t * (b + t * (cc + t * d))
 }
 
+/// The real roots of d(cp)/dT = c1 + 2·c2·T + 3·c3·T² (the cubic's
+/// critical points), if any.
+#[inline]
+fn cubic_critical_points<T: Real>(c: &[T; 4]) -> [Option<T>; 2] {
+    let [_, c1, c2, c3] = *c;
+    let (a, b) = (T::of(3.0) * c3, T::of(2.0) * c2);
+    if a == T::ZERO {
+        return [if b == T::ZERO { None } else { Some(-c1 / b) }, None];
+    }
+    let disc = b * b - T::of(4.0) * a * c1;
+    if !(disc >= T::ZERO) {
+        return [None, None];
+    }
+    let r = T::sqrt(disc);
+    let two_a = T::of(2.0) * a;
+    [Some((-b - r) / two_a), Some((-b + r) / two_a)]
+}
+
 /// (1/(b-a)) ∫_a^b cp dT in closed form; no division by (b - a), so it is
 /// exact and finite also for a == b.
 #[inline]
@@ -202,6 +227,31 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
             k,
             cp,
             z,
+        }
+    }
+
+    /// A cp(T) polynomial is valid over its fit range only: outside it the
+    /// mean cp is that of the clamped temperature (uncertain).
+    #[inline]
+    fn fit_quality(&self, t_a: T, t_b: T) -> Quality {
+        match self.heat_capacity {
+            HeatCapacity::ConstantK(_) => Quality::Good,
+            HeatCapacity::Polynomial { t_min, t_max, .. } => {
+                if T::min(t_a, t_b) >= t_min && T::max(t_a, t_b) <= t_max {
+                    Quality::Good
+                } else {
+                    Quality::Uncertain
+                }
+            }
+        }
+    }
+
+    #[inline]
+    fn property_inputs(&self) -> PropertyInputs {
+        PropertyInputs {
+            temperature: matches!(self.heat_capacity, HeatCapacity::Polynomial { .. }),
+            pressure: false,
+            compressibility_from_state: false,
         }
     }
 }
@@ -238,6 +288,42 @@ mod tests {
     }
 
     #[test]
+    fn a_cp_dip_between_samples_is_refused() {
+        // Issue 11: a cubic that dips below R between the 33 samples the old
+        // check used was accepted (k < 0, good heads). Here cp(T) =
+        // R·(0.5 + 0.01·(T - T0)²), a dip placed between two
+        // sample points of [273, 1000]: the minimum at T0 = 284.36 K (a
+        // critical point) is 0.5·R; the samples at 273 + 727·i/32 are
+        // 11.36 K either side, where cp is 1.79·R (k = 2.27, accepted).
+        let r = MOLAR_GAS_CONSTANT;
+        let t0: f64 = 273.0 + 727.0 * 0.5 / 32.0; // between samples 0 and 1
+        let w = 1e-2;
+        let (a, b, c) = (r * (0.5 + w * t0 * t0), -2.0 * r * w * t0, r * w);
+        let dip = HeatCapacity::Polynomial {
+            coefficients: [a, b, c, 0.0],
+            t_min: 273.0,
+            t_max: 1000.0,
+        };
+        // The old 33-sample test would pass: every sample exceeds R.
+        let cp = |t: f64| a + t * (b + t * c);
+        assert!((0..=32).all(|i| cp(273.0 + 727.0 * f64::from(i) / 32.0) > r * 1.7));
+        assert!(cp(t0) < r);
+        assert_eq!(
+            IdealGas::<f64>::new(28.0, dip, 1.0).map(|_| ()),
+            Err(ConfigError::new(
+                "gas.cp_polynomial.coefficients",
+                Problem::NotAbove {
+                    other: "gas constant R (cp must exceed R)"
+                }
+            ))
+        );
+        assert_eq!(
+            cubic_critical_points(&[a, b, c, 0.0])[0].map(|t| (t - t0).abs() < 1e-9),
+            Some(true)
+        );
+    }
+
+    #[test]
     fn every_builtin_is_valid_both_ways() {
         for spec in BUILTIN_GASES {
             assert!(
@@ -255,39 +341,36 @@ mod tests {
 
     #[test]
     fn bad_configuration_names_the_field() {
+        // Issue 11: molar mass 1e-30 and 1e30, k 2.99 and Z 0.01 were
+        // accepted.
         let k = HeatCapacity::ConstantK(1.4);
-        assert_eq!(
-            IdealGas::<f64>::new(0.0, k, 1.0),
-            Err(ConfigError::out_of_range(
-                "gas.molar_mass",
-                0.0,
-                f64::INFINITY
-            ))
-        );
-        assert_eq!(
-            IdealGas::<f64>::new(-28.0, k, 1.0),
-            Err(ConfigError::out_of_range(
-                "gas.molar_mass",
-                0.0,
-                f64::INFINITY
-            ))
-        );
+        let range = |f, lo, hi| Err(ConfigError::out_of_range(f, lo, hi));
+        for m in [0.0, -28.0, 1e-30, 1e30, 0.5, 600.0] {
+            assert_eq!(
+                IdealGas::<f64>::new(m, k, 1.0),
+                range("gas.molar_mass", 1.0, 500.0),
+                "{m}"
+            );
+        }
         assert_eq!(
             IdealGas::<f64>::new(f64::NAN, k, 1.0),
             Err(ConfigError::not_finite("gas.molar_mass"))
         );
-        assert_eq!(
-            IdealGas::<f64>::new(28.0, HeatCapacity::ConstantK(1.0), 1.0),
-            Err(ConfigError::out_of_range("gas.k", 1.0, 3.0))
-        );
-        assert_eq!(
-            IdealGas::<f64>::new(28.0, HeatCapacity::ConstantK(0.9), 1.0),
-            Err(ConfigError::out_of_range("gas.k", 1.0, 3.0))
-        );
-        assert_eq!(
-            IdealGas::<f64>::new(28.0, k, 0.0),
-            Err(ConfigError::out_of_range("gas.compressibility", 0.0, 2.0))
-        );
+        for kv in [1.0, 0.9, 2.99, 1.7] {
+            assert_eq!(
+                IdealGas::<f64>::new(28.0, HeatCapacity::ConstantK(kv), 1.0),
+                range("gas.k", 1.0, MAX_IDEAL_GAS_K),
+                "{kv}"
+            );
+        }
+        assert!(IdealGas::<f64>::new(4.0, HeatCapacity::ConstantK(1.67), 1.0).is_ok());
+        for z in [0.0, 0.01, 2.5] {
+            assert_eq!(
+                IdealGas::<f64>::new(28.0, k, z),
+                range("gas.compressibility", 0.05, 2.0),
+                "{z}"
+            );
+        }
         assert_eq!(
             IdealGas::<f64>::new(28.0, k, f64::INFINITY),
             Err(ConfigError::not_finite("gas.compressibility"))

@@ -16,6 +16,7 @@ pub use builtin::{
 };
 pub use ideal::{HeatCapacity, IdealGas};
 
+use crate::quality::Quality;
 use crate::real::Real;
 
 /// Molar gas constant, J/(mol K) (CODATA 2018, exact since the 2019 SI
@@ -36,6 +37,21 @@ pub struct PathProperties<T> {
     pub z: T,
 }
 
+/// Which measurements a gas model's path properties depend on, for the
+/// dependency rule ([`crate::dependency`]): an output computed from k or cp
+/// takes the quality of the measurements those were evaluated at.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct PropertyInputs {
+    /// k and cp depend on the path temperatures.
+    pub temperature: bool,
+    /// k and cp depend on the path pressures.
+    pub pressure: bool,
+    /// Z is computed from the state (pressures and temperatures as above),
+    /// not only configured or supplied.
+    pub compressibility_from_state: bool,
+}
+
 /// A gas property model.
 ///
 /// Implementations must return finite, physically valid properties
@@ -50,4 +66,22 @@ pub trait GasModel<T: Real> {
     /// absolute, temperatures in K. `z_supplied` is a measured or computed
     /// mean compressibility for this scan, overriding the configured one.
     fn path(&self, p1: T, t1: T, p2: T, t2: T, z_supplied: Option<T>) -> PathProperties<T>;
+
+    /// What [`GasModel::path`] depends on. The default (everything) is
+    /// always safe; a model that ignores an input says so to keep outputs
+    /// good when that measurement fails.
+    fn property_inputs(&self) -> PropertyInputs {
+        PropertyInputs {
+            temperature: true,
+            pressure: true,
+            compressibility_from_state: true,
+        }
+    }
+
+    /// Quality of the properties over the temperatures `t_a`..`t_b` (either
+    /// order): good inside the model's fitted range, uncertain outside it
+    /// (the model extrapolates or clamps there). The default is good.
+    fn fit_quality(&self, _t_a: T, _t_b: T) -> Quality {
+        Quality::Good
+    }
 }

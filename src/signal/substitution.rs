@@ -73,7 +73,8 @@ impl<T: Real> Substitution<T> {
                 quality: q,
                 held: false,
             },
-            Quality::Bad => match self.last_good {
+            // A channel never reports "not applicable"; treat it as a fault.
+            Quality::Bad | Quality::NotApplicable => match self.last_good {
                 Some((r, f, _)) if self.since_good_ms <= u64::from(hold_ms) => Substituted {
                     raw: r,
                     filtered: f,

@@ -11,11 +11,14 @@
 //! Cost per call: two logarithms, one exponential, about a dozen divisions.
 
 use crate::compression::{isentropic_exponent_term, isothermal_head};
+use crate::dependency::{check, compressor_uses, property_slots, slot, CompressorUses, Grades};
 use crate::gas::GasModel;
+use crate::plausibility::{efficiency_grade, Limits};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 
-/// What the stage evaluation found about its inputs, besides qualities.
+/// What the stage evaluation found, besides qualities: the reason an output
+/// is not good (the first that applies, in this order).
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum StageCondition {
@@ -28,9 +31,31 @@ pub enum StageCondition {
     /// Discharge temperature not above suction temperature: the work and
     /// efficiencies cannot be computed from the temperature rise.
     NoTemperatureRise,
-    /// Discharge temperature below the isentropic one (efficiency above 1):
-    /// a temperature or pressure measurement is suspect.
+    /// Discharge temperature below the isentropic one (efficiency above 1
+    /// beyond the rounding allowance): a temperature or pressure
+    /// measurement is suspect; efficiencies uncertain (bad above 1.25),
+    /// the work from the temperature rise uncertain.
     EfficiencyAboveOne,
+    /// A rating-point query: no discharge temperature was given (its
+    /// quality is not applicable), so only the ratio, the isentropic
+    /// discharge temperature and the ideal heads are computed; the work and
+    /// efficiencies do not apply.
+    RatingPoint,
+    /// The pressure ratio is above the configured maximum for one stage
+    /// (a unit slip such as bar taken as Pa): everything using it is bad.
+    RatioOutOfRange,
+    /// The temperature rise is too large for the pressure ratio
+    /// (ln(T2/T1) >= ln(p2/p1): n not above 1): a reading is suspect; n,
+    /// the polytropic head and efficiency bad, the rest uncertain.
+    ImplausibleTemperatureRise,
+    /// The machine is stationary (flow at or below the configured
+    /// threshold): the temperature rise is not compression work; work and
+    /// efficiencies uncertain.
+    Stationary,
+    /// The temperature rise or the pressure ratio is too small against the
+    /// stated instrument accuracy for a good efficiency: efficiencies,
+    /// exponent and polytropic head uncertain.
+    BelowResolution,
 }
 
 /// Results of one compressor stage; every value carries its quality.
@@ -65,10 +90,11 @@ pub struct CompressorResult<T> {
     pub work_above_isothermal: Measured<T>,
     /// Gas power minus isothermal power, W.
     pub power_above_isothermal: Measured<T>,
-    /// Mean compressibility factor used, -.
-    pub compressibility: T,
+    /// Mean compressibility factor used, - (with the quality of the
+    /// supplied value, or good for the configured one).
+    pub compressibility: Measured<T>,
     /// Mean heat-capacity ratio used, -.
-    pub k: T,
+    pub k: Measured<T>,
     /// What the evaluation found.
     pub condition: StageCondition,
 }
@@ -92,8 +118,8 @@ impl<T: Real> CompressorResult<T> {
             gas_power: b,
             work_above_isothermal: b,
             power_above_isothermal: b,
-            compressibility: T::ONE,
-            k: T::ONE,
+            compressibility: b,
+            k: b,
             condition: StageCondition::InputBad,
         }
     }
@@ -109,137 +135,326 @@ pub struct CompressorInputs<T> {
     pub suction_temperature: Measured<T>,
     /// Discharge pressure, Pa absolute.
     pub discharge_pressure: Measured<T>,
-    /// Discharge temperature, K.
+    /// Discharge temperature, K; [`Measured::not_applicable`] for a
+    /// rating-point query (no discharge temperature: condition
+    /// [`StageCondition::RatingPoint`], not a fault).
     pub discharge_temperature: Measured<T>,
     /// Mass flow, kg/s (bad if unknown).
     pub mass_flow: Measured<T>,
-    /// Supplied mean compressibility and its quality, if any.
+    /// Supplied mean compressibility and its quality, if any (a bad one
+    /// makes every output that uses Z bad; it is not silently replaced).
     pub compressibility: Option<(T, Quality)>,
 }
 
-/// Efficiency quality: good in (0, 1], uncertain in (1, 1.25], else bad.
-#[inline]
-fn efficiency<T: Real>(eta: T, q: Quality) -> Measured<T> {
-    if !(eta > T::ZERO) || eta > T::of(1.25) {
-        Measured::bad()
-    } else if eta > T::ONE {
-        Measured::derived(eta, q.worst(Quality::Uncertain))
-    } else {
-        Measured::derived(eta, q)
-    }
-}
-
-/// Evaluates one compressor stage; [`evaluate_compressor_into`] returning
-/// the result.
+/// Evaluates one compressor stage with the default [`Limits`];
+/// [`evaluate_compressor_into`] returning the result.
 pub fn evaluate_compressor<T: Real, G: GasModel<T>>(
     gas: &G,
     inp: &CompressorInputs<T>,
 ) -> CompressorResult<T> {
     let mut out = CompressorResult::bad();
-    evaluate_compressor_into(gas, inp, &mut out);
+    evaluate_compressor_within(gas, inp, &Limits::default(), &mut out);
     out
 }
 
-/// Evaluates one compressor stage into `out` (every field overwritten;
-/// no result copy, which matters on small devices).
-///
-/// Assumes inputs passed the sensor boundary ([`crate::scan`]): a value that
-/// is not bad is finite and positive. Never panics; every output is finite.
+/// Evaluates one compressor stage into `out` with the default [`Limits`]
+/// (every field overwritten; no result copy, which matters on small
+/// devices); [`evaluate_compressor_within`] with explicit limits.
 pub fn evaluate_compressor_into<T: Real, G: GasModel<T>>(
     gas: &G,
     inp: &CompressorInputs<T>,
     out: &mut CompressorResult<T>,
 ) {
-    *out = CompressorResult::bad();
+    evaluate_compressor_within(gas, inp, &Limits::default(), out);
+}
+
+/// Evaluates one compressor stage into `out` against `limits`.
+///
+/// Assumes inputs passed the sensor boundary ([`crate::scan`]): a value that
+/// is usable is finite and positive. Values are computed from what they
+/// use; qualities come from the dependency rule ([`crate::dependency`]) and
+/// the plausibility checks against `limits`. Never panics; every output is
+/// finite.
+pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
+    gas: &G,
+    inp: &CompressorInputs<T>,
+    limits: &Limits<T>,
+    out: &mut CompressorResult<T>,
+) {
+    // Which outputs were computed (bit i: the i-th field in declaration
+    // order); the rest are bad or not applicable after `settle_compressor`.
+    let mut done: u16 = 0;
     let (p1, t1, p2, t2) = (
         inp.suction_pressure,
         inp.suction_temperature,
         inp.discharge_pressure,
         inp.discharge_temperature,
     );
+    let flow = inp.mass_flow;
     let (z_supplied, q_z) = match inp.compressibility {
-        Some((z, q)) => (Some(z), q),
+        Some((z, q)) if q.is_usable() => (Some(z), q),
+        Some((_, q)) => (None, q.worst(Quality::Bad)),
         None => (None, Quality::Good),
     };
-    let q_ratio = p1.quality.worst(p2.quality);
-    let q_ideal = q_ratio.worst(t1.quality).worst(q_z);
-    let q_temps = t1.quality.worst(t2.quality);
-    let q_all = q_ideal.worst(t2.quality);
-    // The ratio needs only the pressures: report it even when a temperature
-    // is bad.
+    let p_ok = p1.quality.is_usable() && p2.quality.is_usable();
+    let t1_ok = t1.quality.is_usable();
+    let t2_ok = t2.quality.is_usable();
+    let rating_point = t2.quality == Quality::NotApplicable;
+
+    // Values, each from what it uses.
     let ratio = p2.value / p1.value;
-    out.pressure_ratio = Measured::derived(ratio, q_ratio);
-    if q_ideal == Quality::Bad {
-        return;
+    if p_ok {
+        done |= 1 << 0;
+        out.pressure_ratio.value = ratio;
     }
+    if t1_ok && t2_ok {
+        done |= 1 << 2;
+        out.temperature_rise.value = t2.value - t1.value;
+    }
+    if flow.quality.is_usable() {
+        done |= 1 << 10;
+        out.mass_flow.value = flow.value;
+    }
+    // The path properties: at the measured end states; without a usable
+    // T1 at a nominal temperature (only a temperature-independent model's
+    // outputs can then be good, and the rule sees to that).
+    let t1_path = if t1_ok { t1.value } else { T::of(288.15) };
+    let t2_path = if t2_ok { t2.value } else { t1_path };
+    let props = gas.path(p1.value, t1_path, p2.value, t2_path, z_supplied);
+    let fit = gas.fit_quality(t1_path, t2_path);
+    done |= 1 << 14;
+    out.compressibility.value = props.z;
+    done |= 1 << 15;
+    out.k.value = props.k;
 
-    out.temperature_rise = Measured::derived(t2.value - t1.value, q_temps);
-    if !T::is_finite(ratio) {
-        // A subnormal suction pressure passes the sensor boundary but
-        // overflows the ratio: nothing downstream of it is usable.
-        return;
-    }
-    if !(ratio > T::ONE) {
-        out.condition = StageCondition::NoCompression;
-        return;
-    }
-
-    let ln_r = T::ln(ratio);
-    // Properties over the measured path (or to an isentropic T2 estimate when
-    // the discharge temperature is bad; only cp(T) models care).
-    let t2_path = if t2.quality.is_usable() {
-        t2.value
-    } else {
-        t1.value
-    };
-    let props = gas.path(p1.value, t1.value, p2.value, t2_path, z_supplied);
-    let m_k = isentropic_exponent_term(props.k);
-    let zrt1 = props.z * props.gas_constant * t1.value;
-    let t2s_over_t1 = T::exp(m_k * ln_r);
-    out.compressibility = props.z;
-    out.k = props.k;
-    out.isentropic_discharge_temperature = Measured::derived(t1.value * t2s_over_t1, q_ideal);
-    let hs = zrt1 * (t2s_over_t1 - T::ONE) / m_k;
-    out.isentropic_head = Measured::derived(hs, q_ideal);
-    let h_iso = isothermal_head(props.z, props.gas_constant, t1.value, ratio);
-    out.isothermal_head = Measured::derived(h_iso, q_ideal);
-
-    if t2.quality == Quality::Bad {
-        out.condition = StageCondition::InputBad;
-        return;
-    }
+    let mut checks = CompressorChecks::default();
+    // Work from the temperature rise: T1, T2, Z and cp only (not the
+    // pressures).
     let dt = t2.value - t1.value;
-    if !(dt > T::ZERO) {
-        out.condition = StageCondition::NoTemperatureRise;
-        return;
+    let rising = t1_ok && t2_ok && dt > T::ZERO;
+    let actual_per_z = props.cp * dt;
+    let actual = props.z * actual_per_z;
+    if rising {
+        done |= 1 << 6;
+        out.actual_work.value = actual;
+        if flow.quality.is_usable() {
+            done |= 1 << 11;
+            out.gas_power.value = flow.value * actual;
+        }
+    } else if t1_ok && t2_ok {
+        checks.no_rise = true;
     }
-    // sigma = (n-1)/n = ln(T2/T1)/ln(r); polytropic head along the measured
-    // path = Z·R·(T2 - T1)/sigma (no further exponential needed).
-    let sigma = T::ln(t2.value / t1.value) / ln_r;
-    let actual = props.z * props.cp * dt;
-    out.actual_work = Measured::derived(actual, q_all);
-    let eta_s = hs / actual;
-    out.isentropic_efficiency = efficiency(eta_s, q_all);
-    if sigma < T::ONE {
-        let hp = props.z * props.gas_constant * dt / sigma;
-        out.polytropic_head = Measured::derived(hp, q_all);
-        out.polytropic_exponent = Measured::derived(T::ONE / (T::ONE - sigma), q_all);
-        out.polytropic_efficiency = efficiency(m_k / sigma, q_all);
+    let ratio_ok = p_ok && T::is_finite(ratio);
+    if ratio_ok && ratio > limits.max_stage_ratio {
+        checks.ratio_out_of_range = true;
     }
-    out.condition = if eta_s > T::ONE {
-        StageCondition::EfficiencyAboveOne
-    } else {
-        StageCondition::Normal
-    };
+    if ratio_ok && ratio > T::ONE {
+        let ln_r = T::ln(ratio);
+        let m_k = isentropic_exponent_term(props.k);
+        let t2s_over_t1 = T::exp(m_k * ln_r);
+        // Heads per unit Z (Z multiplies every head and the work, and
+        // cancels from the efficiencies, which therefore do not use it).
+        let r_t1 = props.gas_constant * t1.value;
+        let hs_per_z = r_t1 * (t2s_over_t1 - T::ONE) / m_k;
+        let iso_per_z = r_t1 * ln_r;
+        if t1_ok {
+            done |= 1 << 1;
+            out.isentropic_discharge_temperature.value = t1.value * t2s_over_t1;
+            done |= 1 << 3;
+            out.isentropic_head.value = props.z * hs_per_z;
+            done |= 1 << 5;
+            out.isothermal_head.value =
+                isothermal_head(props.z, props.gas_constant, t1.value, ratio);
+        }
+        if rising {
+            // sigma = (n-1)/n = ln(T2/T1)/ln(r); polytropic head along the
+            // measured path = Z·R·(T2 - T1)/sigma.
+            let sigma = T::ln(t2.value / t1.value) / ln_r;
+            let eta_s = hs_per_z / actual_per_z;
+            done |= 1 << 7;
+            out.isentropic_efficiency.value = eta_s;
+            done |= 1 << 12;
+            out.work_above_isothermal.value = props.z * (actual_per_z - iso_per_z);
+            if flow.quality.is_usable() {
+                done |= 1 << 13;
+                out.power_above_isothermal.value =
+                    flow.value * props.z * (actual_per_z - iso_per_z);
+            }
+            if sigma < T::ONE {
+                let eta_p = m_k / sigma;
+                done |= 1 << 4;
+                out.polytropic_head.value = props.z * props.gas_constant * dt / sigma;
+                done |= 1 << 9;
+                out.polytropic_exponent.value = T::ONE / (T::ONE - sigma);
+                done |= 1 << 8;
+                out.polytropic_efficiency.value = eta_p;
+                checks.efficiency = efficiency_grade(eta_s).worst(efficiency_grade(eta_p));
+            } else {
+                checks.exponent_implausible = true;
+            }
+            checks.below_resolution =
+                dt < limits.min_temperature_rise() || ln_r < limits.min_log_ratio();
+        }
+    } else if ratio_ok {
+        checks.no_compression = true;
+    }
+    checks.stationary = flow.quality.is_usable() && !(flow.value > limits.stationary_flow);
 
-    let m = inp.mass_flow;
-    let q_power = q_all.worst(m.quality);
-    out.mass_flow = m;
-    out.work_above_isothermal = Measured::derived(actual - h_iso, q_all);
-    if m.quality.is_usable() {
-        out.gas_power = Measured::derived(m.value * actual, q_power);
-        out.power_above_isothermal = Measured::derived(m.value * (actual - h_iso), q_power);
+    // Qualities: the dependency rule over the slots and checks.
+    let mut g = Grades::new();
+    g.slot(slot::P1, p1.quality)
+        .slot(slot::T1, t1.quality)
+        .slot(slot::P2, p2.quality)
+        .slot(slot::T2, t2.quality)
+        .slot(slot::FLOW, flow.quality)
+        .slot(slot::Z, q_z);
+    if checks.ratio_out_of_range {
+        g.check(check::RATIO, Quality::Bad);
     }
+    g.check(check::MODEL, fit);
+    if checks.exponent_implausible {
+        // n itself, the polytropic head and efficiency were not computed
+        // (bad); what remains (the isentropic efficiency, the work) is a
+        // number, but of a suspect reading.
+        g.check(check::EXPONENT, Quality::Uncertain);
+    }
+    g.check(check::CONSISTENT, checks.efficiency);
+    if checks.no_compression {
+        // A temperature rise without a pressure rise is not compression
+        // work: the work from it is suspect.
+        g.check(check::CONSISTENT, Quality::Uncertain);
+    }
+    if checks.below_resolution {
+        g.check(check::RESOLVED, Quality::Uncertain);
+    }
+    if checks.stationary {
+        g.check(check::RUNNING, Quality::Uncertain);
+    }
+    let (props_slots, z_slots) = property_slots(gas.property_inputs(), !rating_point);
+    settle_compressor(&g, &compressor_uses(props_slots, z_slots), done, out);
+    out.condition = checks.condition(p1, t1, p2, t2, rating_point);
+}
+
+/// What the plausibility checks of one stage found.
+#[derive(Clone, Copy, Debug, Default)]
+struct CompressorChecks {
+    ratio_out_of_range: bool,
+    no_compression: bool,
+    no_rise: bool,
+    exponent_implausible: bool,
+    efficiency: Quality,
+    below_resolution: bool,
+    stationary: bool,
+}
+
+impl CompressorChecks {
+    fn condition<T>(
+        &self,
+        p1: Measured<T>,
+        t1: Measured<T>,
+        p2: Measured<T>,
+        t2: Measured<T>,
+        rating_point: bool,
+    ) -> StageCondition {
+        let bad = |m: Measured<T>| !m.quality.is_usable();
+        if bad(p1) || bad(p2) || bad(t1) {
+            StageCondition::InputBad
+        } else if self.ratio_out_of_range {
+            StageCondition::RatioOutOfRange
+        } else if self.no_compression {
+            StageCondition::NoCompression
+        } else if rating_point {
+            StageCondition::RatingPoint
+        } else if bad(t2) {
+            StageCondition::InputBad
+        } else if self.no_rise {
+            StageCondition::NoTemperatureRise
+        } else if self.exponent_implausible {
+            StageCondition::ImplausibleTemperatureRise
+        } else if self.efficiency != Quality::Good {
+            StageCondition::EfficiencyAboveOne
+        } else if self.stationary {
+            StageCondition::Stationary
+        } else if self.below_resolution {
+            StageCondition::BelowResolution
+        } else {
+            StageCondition::Normal
+        }
+    }
+}
+
+/// Every output's quality from the table ([`crate::dependency`]); `done`
+/// has bit i set for each computed field (declaration order).
+fn settle_compressor<T: Real>(
+    g: &Grades,
+    u: &CompressorUses,
+    done: u16,
+    o: &mut CompressorResult<T>,
+) {
+    g.settle_computed(
+        &mut o.pressure_ratio,
+        done & (1 << 0) != 0,
+        u.pressure_ratio,
+    );
+    g.settle_computed(
+        &mut o.isentropic_discharge_temperature,
+        done & (1 << 1) != 0,
+        u.isentropic_discharge_temperature,
+    );
+    g.settle_computed(
+        &mut o.temperature_rise,
+        done & (1 << 2) != 0,
+        u.temperature_rise,
+    );
+    g.settle_computed(
+        &mut o.isentropic_head,
+        done & (1 << 3) != 0,
+        u.isentropic_head,
+    );
+    g.settle_computed(
+        &mut o.polytropic_head,
+        done & (1 << 4) != 0,
+        u.polytropic_head,
+    );
+    g.settle_computed(
+        &mut o.isothermal_head,
+        done & (1 << 5) != 0,
+        u.isothermal_head,
+    );
+    g.settle_computed(&mut o.actual_work, done & (1 << 6) != 0, u.actual_work);
+    g.settle_computed(
+        &mut o.isentropic_efficiency,
+        done & (1 << 7) != 0,
+        u.isentropic_efficiency,
+    );
+    g.settle_computed(
+        &mut o.polytropic_efficiency,
+        done & (1 << 8) != 0,
+        u.polytropic_efficiency,
+    );
+    g.settle_computed(
+        &mut o.polytropic_exponent,
+        done & (1 << 9) != 0,
+        u.polytropic_exponent,
+    );
+    g.settle_computed(&mut o.mass_flow, done & (1 << 10) != 0, u.mass_flow);
+    g.settle_computed(&mut o.gas_power, done & (1 << 11) != 0, u.gas_power);
+    g.settle_computed(
+        &mut o.work_above_isothermal,
+        done & (1 << 12) != 0,
+        u.work_above_isothermal,
+    );
+    g.settle_computed(
+        &mut o.power_above_isothermal,
+        done & (1 << 13) != 0,
+        u.power_above_isothermal,
+    );
+    g.settle_computed(
+        &mut o.compressibility,
+        done & (1 << 14) != 0,
+        u.compressibility,
+    );
+    g.settle_computed(&mut o.k, done & (1 << 15) != 0, u.k);
 }
 
 #[cfg(test)]

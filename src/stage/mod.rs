@@ -4,7 +4,7 @@ pub mod compressor;
 pub mod pump;
 
 pub use compressor::{
-    evaluate_compressor, evaluate_compressor_into, CompressorInputs, CompressorResult,
-    StageCondition,
+    evaluate_compressor, evaluate_compressor_into, evaluate_compressor_within, CompressorInputs,
+    CompressorResult, StageCondition,
 };
-pub use pump::{evaluate_pump, PumpResult};
+pub use pump::{evaluate_pump, evaluate_pump_within, PumpCondition, PumpResult};

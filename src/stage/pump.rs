@@ -10,9 +10,28 @@
 //! ratio from the pump's suction temperature, with the train's gas.
 
 use crate::compression::isentropic_head;
+use crate::dependency::{check, property_slots, pump_uses, slot, Grades};
 use crate::gas::GasModel;
+use crate::plausibility::Limits;
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
+
+/// What the pump evaluation found, besides qualities.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum PumpCondition {
+    /// Consistent.
+    Normal,
+    /// A pressure needed for the result is bad.
+    InputBad,
+    /// Discharge not above suction pressure: no pumping (the pressure rise
+    /// is uncertain, the work bad).
+    NoPressureRise,
+    /// The pressure ratio is above the configured stage maximum.
+    RatioOutOfRange,
+    /// Flow at or below the stationary threshold.
+    Stationary,
+}
 
 /// Results of one pump stage.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -35,6 +54,8 @@ pub struct PumpResult<T> {
     pub gas_compression_equivalent: Measured<T>,
     /// Pump shaft work over that gas compression work, -.
     pub work_ratio_to_gas: Measured<T>,
+    /// What the evaluation found.
+    pub condition: PumpCondition,
 }
 
 impl<T: Real> PumpResult<T> {
@@ -50,13 +71,14 @@ impl<T: Real> PumpResult<T> {
             power: b,
             gas_compression_equivalent: b,
             work_ratio_to_gas: b,
+            condition: PumpCondition::InputBad,
         }
     }
 }
 
-/// Evaluates a pump stage. `density` (kg/m3) and `efficiency` were
-/// validated at construction (finite, positive, efficiency <= 1); pressures
-/// and temperature passed the sensor boundary.
+/// Evaluates a pump stage with the default [`Limits`]. `density` (kg/m3)
+/// and `efficiency` were validated at construction (finite, positive,
+/// efficiency <= 1); pressures and temperature passed the sensor boundary.
 pub fn evaluate_pump<T: Real, G: GasModel<T>>(
     gas: &G,
     density: T,
@@ -66,33 +88,89 @@ pub fn evaluate_pump<T: Real, G: GasModel<T>>(
     t1: Measured<T>,
     mass_flow: Measured<T>,
 ) -> PumpResult<T> {
+    let limits = Limits::default();
+    evaluate_pump_within(gas, density, efficiency, [p1, p2, t1, mass_flow], &limits)
+}
+
+/// Evaluates a pump stage from `[p1, p2, t1, mass_flow]` against `limits`;
+/// qualities by the dependency rule ([`crate::dependency::pump_uses`]).
+pub fn evaluate_pump_within<T: Real, G: GasModel<T>>(
+    gas: &G,
+    density: T,
+    efficiency: T,
+    [p1, p2, t1, mass_flow]: [Measured<T>; 4],
+    limits: &Limits<T>,
+) -> PumpResult<T> {
     let mut out = PumpResult::bad();
-    let q = p1.quality.worst(p2.quality);
-    if q == Quality::Bad {
-        return out;
-    }
+    // Computed outputs (bit i: the i-th field in declaration order).
+    let mut done: u8 = 0;
+    let p_ok = p1.quality.is_usable() && p2.quality.is_usable();
     let dp = p2.value - p1.value;
     let ratio = p2.value / p1.value;
-    out.pressure_ratio = Measured::derived(ratio, q);
-    out.pressure_rise = Measured::derived(dp, q);
-    if !(dp > T::ZERO) {
-        return out;
-    }
-    let w_rev = dp / density;
-    let w = w_rev / efficiency;
-    out.reversible_work = Measured::derived(w_rev, q);
-    out.shaft_work = Measured::derived(w, q);
-    out.mass_flow = mass_flow;
+    let mut g = Grades::new();
+    g.slot(slot::P1, p1.quality)
+        .slot(slot::P2, p2.quality)
+        .slot(slot::T1, t1.quality)
+        .slot(slot::FLOW, mass_flow.quality);
+    let mut condition = PumpCondition::Normal;
     if mass_flow.quality.is_usable() {
-        out.power = Measured::derived(mass_flow.value * w, q.worst(mass_flow.quality));
+        out.mass_flow.value = mass_flow.value;
+        done |= 1 << 4;
+        if !(mass_flow.value > limits.stationary_flow) {
+            condition = PumpCondition::Stationary;
+        }
     }
-    let q_gas = q.worst(t1.quality);
-    if q_gas != Quality::Bad {
-        let props = gas.path(p1.value, t1.value, p2.value, t1.value, None);
-        let h = isentropic_head(props.z, props.gas_constant, t1.value, ratio, props.k);
-        out.gas_compression_equivalent = Measured::derived(h, q_gas);
-        out.work_ratio_to_gas = Measured::derived(w / h, q_gas);
+    if p_ok {
+        out.pressure_ratio.value = ratio;
+        out.pressure_rise.value = dp;
+        done |= 1 << 0 | 1 << 1;
+        if !(ratio <= limits.max_stage_ratio) {
+            g.check(check::RATIO, Quality::Bad);
+            condition = PumpCondition::RatioOutOfRange;
+        }
+        if dp > T::ZERO {
+            let w_rev = dp / density;
+            let w = w_rev / efficiency;
+            out.reversible_work.value = w_rev;
+            out.shaft_work.value = w;
+            done |= 1 << 2 | 1 << 3;
+            if mass_flow.quality.is_usable() {
+                out.power.value = mass_flow.value * w;
+                done |= 1 << 5;
+            }
+            if t1.quality.is_usable() {
+                let props = gas.path(p1.value, t1.value, p2.value, t1.value, None);
+                g.check(check::MODEL, gas.fit_quality(t1.value, t1.value));
+                let h = isentropic_head(props.z, props.gas_constant, t1.value, ratio, props.k);
+                out.gas_compression_equivalent.value = h;
+                out.work_ratio_to_gas.value = w / h;
+                done |= 1 << 6 | 1 << 7;
+            }
+        } else {
+            // A pressure fall across a pump: possible (stopped, or flow
+            // through it) but not pumping; the reading is suspect.
+            condition = PumpCondition::NoPressureRise;
+        }
+    } else {
+        condition = PumpCondition::InputBad;
     }
+    let (props, _) = property_slots(gas.property_inputs(), false);
+    let u = pump_uses(props);
+    let c = |bit: u8| done & (1 << bit) != 0;
+    g.settle_computed(&mut out.pressure_ratio, c(0), u.pressure_ratio);
+    let falling = condition == PumpCondition::NoPressureRise;
+    g.settle_suspect(&mut out.pressure_rise, c(1), falling, u.pressure_rise);
+    g.settle_computed(&mut out.reversible_work, c(2), u.reversible_work);
+    g.settle_computed(&mut out.shaft_work, c(3), u.shaft_work);
+    g.settle_computed(&mut out.mass_flow, c(4), u.mass_flow);
+    g.settle_computed(&mut out.power, c(5), u.power);
+    g.settle_computed(
+        &mut out.gas_compression_equivalent,
+        c(6),
+        u.gas_compression_equivalent,
+    );
+    g.settle_computed(&mut out.work_ratio_to_gas, c(7), u.work_ratio_to_gas);
+    out.condition = condition;
     out
 }
 
@@ -114,5 +192,9 @@ mod tests {
         assert!(r.work_ratio_to_gas.value < 0.5);
         let r = evaluate_pump(&gas, 800.0, 0.75, g(80e5), g(70e5), g(308.0), g(10.0));
         assert_eq!(r.shaft_work.quality, Quality::Bad);
+        // Regression (issue 11): discharge below suction gave a pressure
+        // rise of -10 bar, good; now uncertain with the reason.
+        assert_eq!(r.pressure_rise.quality, Quality::Uncertain);
+        assert_eq!(r.condition, PumpCondition::NoPressureRise);
     }
 }

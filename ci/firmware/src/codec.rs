@@ -100,5 +100,6 @@ pub fn quality_code(q: Quality) -> u8 {
         Quality::Good => 0,
         Quality::Uncertain => 1,
         Quality::Bad => 2,
+        Quality::NotApplicable => 4,
     }
 }

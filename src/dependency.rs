@@ -1,0 +1,492 @@
+//! The dependency rule, written down once.
+//!
+//! **An output's quality is the worst of exactly the inputs and
+//! intermediate results it uses, and no more.** Each output of a stage,
+//! pump or cooler names here the input *slots* its value is computed from
+//! and the plausibility *checks* (intermediate results over other slots)
+//! whose failure makes it suspect. [`Grades::settle`] applies the rule to
+//! every output from these tables; the evaluation code computes values only
+//! and never sets an output's quality by hand. `tests/quality_oracle.rs`
+//! checks the tables by perturbing every input slot of a train.
+//!
+//! A check that cannot be evaluated (one of its inputs is bad) does not
+//! downgrade anything: the outputs that use the bad input are bad by their
+//! own slots.
+
+use crate::gas::PropertyInputs;
+use crate::quality::{Measured, Quality};
+use crate::real::Real;
+
+/// A set of input slots (a bit set).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Slots(pub u16);
+
+impl Slots {
+    /// No slot.
+    pub const NONE: Slots = Slots(0);
+    /// The union of two sets.
+    #[inline]
+    #[must_use]
+    pub const fn or(self, other: Slots) -> Slots {
+        Slots(self.0 | other.0)
+    }
+    /// `true` if every slot of `other` is in `self`.
+    #[inline]
+    pub const fn contains(self, other: Slots) -> bool {
+        self.0 & other.0 == other.0
+    }
+}
+
+/// Input slots of one stage and the cooler after it.
+pub mod slot {
+    use super::Slots;
+    /// Suction pressure (for a cooler: unused).
+    pub const P1: Slots = Slots(1 << 0);
+    /// Suction temperature.
+    pub const T1: Slots = Slots(1 << 1);
+    /// Discharge pressure (a cooler's gas inlet pressure).
+    pub const P2: Slots = Slots(1 << 2);
+    /// Discharge temperature (a cooler's gas inlet temperature).
+    pub const T2: Slots = Slots(1 << 3);
+    /// Mass flow through the stage (measured or inherited).
+    pub const FLOW: Slots = Slots(1 << 4);
+    /// Supplied compressibility factor (or the configured one).
+    pub const Z: Slots = Slots(1 << 5);
+    /// Cooler gas outlet temperature.
+    pub const GAS_OUT_T: Slots = Slots(1 << 6);
+    /// Cooler gas outlet pressure (measured, or the next suction pressure).
+    pub const GAS_OUT_P: Slots = Slots(1 << 7);
+    /// Coolant inlet temperature.
+    pub const COOLANT_IN_T: Slots = Slots(1 << 8);
+    /// Coolant outlet temperature.
+    pub const COOLANT_OUT_T: Slots = Slots(1 << 9);
+    /// Coolant mass flow.
+    pub const COOLANT_FLOW: Slots = Slots(1 << 10);
+    /// Number of slot bits.
+    pub const COUNT: usize = 11;
+}
+
+/// A set of plausibility checks (intermediate results).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Checks(pub u8);
+
+/// The checks of a compressor stage, with the slots each uses.
+pub mod check {
+    use super::{slot, Checks, Slots};
+    /// The stage's pressure ratio is within the configured maximum
+    /// (uses P1, P2).
+    pub const RATIO: Checks = Checks(1 << 0);
+    /// The measured states are a consistent adiabatic compression:
+    /// efficiencies in (0, 1] with the rounding allowance (uses P1, T1, P2,
+    /// T2).
+    pub const CONSISTENT: Checks = Checks(1 << 1);
+    /// The temperature rise and the ratio clear the stated instrument
+    /// accuracy (uses P1, T1, P2, T2).
+    pub const RESOLVED: Checks = Checks(1 << 2);
+    /// The machine is running: flow above the stationary threshold (uses
+    /// FLOW).
+    pub const RUNNING: Checks = Checks(1 << 3);
+    /// The polytropic exponent inferred from the states is above one (the
+    /// temperature rise is not too large for the ratio; uses P1, T1, P2,
+    /// T2).
+    pub const EXPONENT: Checks = Checks(1 << 4);
+    /// The gas model's properties are inside its fitted range at the path
+    /// temperatures (uses the property slots; at most the four states).
+    pub const MODEL: Checks = Checks(1 << 5);
+    /// Number of check bits.
+    pub const COUNT: usize = 6;
+    const STATES: Slots = slot::P1.or(slot::P2).or(slot::T1).or(slot::T2);
+    /// The slots each check uses, by bit.
+    pub const SLOTS: [Slots; COUNT] = [
+        slot::P1.or(slot::P2),
+        STATES,
+        STATES,
+        slot::FLOW,
+        STATES,
+        STATES,
+    ];
+}
+
+impl Checks {
+    /// No check.
+    pub const NONE: Checks = Checks(0);
+    /// The union of two sets.
+    #[inline]
+    #[must_use]
+    pub const fn or(self, other: Checks) -> Checks {
+        Checks(self.0 | other.0)
+    }
+}
+
+/// What one output uses: the slots its value is computed from, the checks
+/// whose grade it takes in full, and the checks that can make it at most
+/// uncertain (suspect, not impossible). One word: slots in bits 0-15, full
+/// checks in bits 16-23, soft checks in bits 24-31, so grading is three
+/// mask tests.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Use(u32);
+
+impl Use {
+    const fn of(slots: Slots) -> Use {
+        Use(slots.0 as u32)
+    }
+    const fn full(self, c: Checks) -> Use {
+        Use(self.0 | (c.0 as u32) << 16)
+    }
+    const fn soft(self, c: Checks) -> Use {
+        Use(self.0 | (c.0 as u32) << 24)
+    }
+    /// The same use with more slots.
+    const fn and(self, s: Slots) -> Use {
+        Use(self.0 | s.0 as u32)
+    }
+    /// Slots the value is computed from.
+    pub const fn slots(self) -> Slots {
+        Slots(self.0 as u16)
+    }
+    /// Every slot the output's quality can depend on (its own and its
+    /// checks').
+    pub fn all_slots(self) -> Slots {
+        let mut s = self.slots();
+        let c = (self.0 >> 16) as u8 | (self.0 >> 24) as u8;
+        for (i, cs) in check::SLOTS.iter().enumerate() {
+            if c & (1 << i) != 0 {
+                s = s.or(*cs);
+            }
+        }
+        s
+    }
+}
+
+/// The slots the gas properties (k, cp) and the compressibility factor
+/// depend on, from what the gas model says it uses. `t2_used` is false for
+/// a rating-point query (no discharge temperature: the path is evaluated
+/// without it).
+#[inline]
+pub fn property_slots(p: PropertyInputs, t2_used: bool) -> (Slots, Slots) {
+    let mut props = Slots::NONE;
+    if p.temperature {
+        props = props.or(slot::T1);
+        if t2_used {
+            props = props.or(slot::T2);
+        }
+    }
+    if p.pressure {
+        props = props.or(slot::P1).or(slot::P2);
+    }
+    let z = if p.compressibility_from_state {
+        props.or(slot::Z)
+    } else {
+        slot::Z
+    };
+    (props, z)
+}
+
+/// What each compressor-stage output uses.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[allow(missing_docs)] // one entry per `CompressorResult` field, same name
+pub struct CompressorUses {
+    pub pressure_ratio: Use,
+    pub isentropic_discharge_temperature: Use,
+    pub temperature_rise: Use,
+    pub isentropic_head: Use,
+    pub polytropic_head: Use,
+    pub isothermal_head: Use,
+    pub actual_work: Use,
+    pub isentropic_efficiency: Use,
+    pub polytropic_efficiency: Use,
+    pub polytropic_exponent: Use,
+    pub mass_flow: Use,
+    pub gas_power: Use,
+    pub work_above_isothermal: Use,
+    pub power_above_isothermal: Use,
+    pub compressibility: Use,
+    pub k: Use,
+}
+
+/// The compressor table, given the property slots ([`property_slots`]).
+pub const fn compressor_uses(props: Slots, z: Slots) -> CompressorUses {
+    use check::{CONSISTENT, EXPONENT, MODEL, RATIO, RESOLVED, RUNNING};
+    use slot::{FLOW, P1, P2, T1, T2};
+    let ratio = Use::of(P1.or(P2)).full(RATIO);
+    let states = P1.or(P2).or(T1).or(T2);
+    // Efficiencies: the four states and k (Z cancels); impossible when the
+    // states are inconsistent, suspect below resolution or at standstill.
+    let eff = Use::of(states.or(props))
+        .full(RATIO.or(CONSISTENT).or(EXPONENT).or(MODEL))
+        .soft(RESOLVED.or(RUNNING));
+    // The exponent and the polytropic head describe the measured path: a
+    // cooled compression (efficiency above one) leaves them meaningful but
+    // suspect; n not above one makes them impossible.
+    let path = Use::of(states)
+        .full(RATIO.or(EXPONENT))
+        .soft(CONSISTENT.or(RESOLVED).or(RUNNING));
+    // Work from the temperature rise: T1, T2, Z, cp; suspect when the
+    // compression is inconsistent or the machine is stationary.
+    let actual = Use::of(T1.or(T2).or(z).or(props))
+        .full(MODEL)
+        .soft(CONSISTENT.or(EXPONENT).or(RUNNING));
+    let isothermal = Use::of(P1.or(P2).or(T1).or(z)).full(RATIO);
+    let above = Use::of(states.or(z).or(props))
+        .full(RATIO.or(MODEL))
+        .soft(CONSISTENT.or(EXPONENT).or(RUNNING));
+    CompressorUses {
+        pressure_ratio: ratio,
+        isentropic_discharge_temperature: Use::of(P1.or(P2).or(T1).or(props)).full(RATIO.or(MODEL)),
+        temperature_rise: Use::of(T1.or(T2)),
+        isentropic_head: Use::of(P1.or(P2).or(T1).or(z).or(props)).full(RATIO.or(MODEL)),
+        polytropic_head: path.and(z),
+        isothermal_head: isothermal,
+        actual_work: actual,
+        isentropic_efficiency: eff,
+        polytropic_efficiency: eff,
+        polytropic_exponent: path,
+        mass_flow: Use::of(FLOW),
+        gas_power: actual.and(FLOW),
+        work_above_isothermal: above,
+        power_above_isothermal: above.and(FLOW),
+        compressibility: Use::of(z),
+        k: Use::of(props).full(MODEL),
+    }
+}
+
+/// What each pump output uses (a pump's slots: P1, T1, P2, FLOW).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[allow(missing_docs)] // one entry per `PumpResult` field, same name
+pub struct PumpUses {
+    pub pressure_ratio: Use,
+    pub pressure_rise: Use,
+    pub reversible_work: Use,
+    pub shaft_work: Use,
+    pub mass_flow: Use,
+    pub power: Use,
+    pub gas_compression_equivalent: Use,
+    pub work_ratio_to_gas: Use,
+}
+
+/// The pump table, given the gas property slots (the gas comparison).
+pub const fn pump_uses(props: Slots) -> PumpUses {
+    use check::{MODEL, RATIO};
+    use slot::{FLOW, P1, P2, T1};
+    let dp = Use::of(P1.or(P2));
+    let gas = Use::of(P1.or(P2).or(T1).or(props)).full(RATIO.or(MODEL));
+    PumpUses {
+        pressure_ratio: dp.full(RATIO),
+        pressure_rise: dp,
+        reversible_work: dp,
+        shaft_work: dp,
+        mass_flow: Use::of(FLOW),
+        power: Use::of(P1.or(P2).or(FLOW)),
+        gas_compression_equivalent: gas,
+        work_ratio_to_gas: gas,
+    }
+}
+
+/// What each cooler output uses (a cooler's gas inlet is the stage's P2, T2
+/// and flow).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[allow(missing_docs)] // one entry per `CoolerResult` field, same name
+pub struct CoolerUses {
+    pub gas_temperature_drop: Use,
+    pub approach: Use,
+    pub effectiveness: Use,
+    pub heat_duty: Use,
+    pub pressure_drop: Use,
+    pub relative_pressure_drop: Use,
+    pub coolant_temperature_rise: Use,
+    pub lmtd: Use,
+    pub ua: Use,
+    pub heat_balance_error: Use,
+}
+
+/// The cooler table, given the slots the gas cp depends on (in cooler
+/// terms: the gas inlet T2/P2 and the outlet).
+pub const fn cooler_uses(cp: Slots) -> CoolerUses {
+    use slot::{COOLANT_FLOW, COOLANT_IN_T, COOLANT_OUT_T, FLOW, GAS_OUT_P, GAS_OUT_T, P2, T2};
+    let duty = Use::of(T2.or(GAS_OUT_T).or(FLOW).or(cp));
+    let lmtd = Use::of(T2.or(GAS_OUT_T).or(COOLANT_IN_T).or(COOLANT_OUT_T));
+    let dp = Use::of(P2.or(GAS_OUT_P));
+    CoolerUses {
+        gas_temperature_drop: Use::of(T2.or(GAS_OUT_T)),
+        approach: Use::of(GAS_OUT_T.or(COOLANT_IN_T)),
+        effectiveness: Use::of(T2.or(GAS_OUT_T).or(COOLANT_IN_T)),
+        heat_duty: duty,
+        pressure_drop: dp,
+        relative_pressure_drop: dp,
+        coolant_temperature_rise: Use::of(COOLANT_IN_T.or(COOLANT_OUT_T)),
+        lmtd,
+        ua: duty.and(lmtd.slots()),
+        heat_balance_error: duty.and(lmtd.slots()).and(COOLANT_FLOW),
+    }
+}
+
+/// The cooler's gas cp slots, in cooler terms.
+#[inline]
+pub fn cooler_cp_slots(p: PropertyInputs) -> Slots {
+    let mut s = Slots::NONE;
+    if p.temperature {
+        s = s.or(slot::T2).or(slot::GAS_OUT_T);
+    }
+    if p.pressure {
+        s = s.or(slot::P2).or(slot::GAS_OUT_P);
+    }
+    s
+}
+
+/// The qualities of one evaluation's slots and checks, as bit sets in the
+/// layout of [`Use`] (one per quality level), so grading an output is three
+/// mask tests.
+#[derive(Clone, Copy, Debug, Default)]
+pub struct Grades {
+    not_applicable: u32,
+    bad: u32,
+    uncertain: u32,
+}
+
+impl Grades {
+    /// Everything good.
+    pub const fn new() -> Self {
+        Grades {
+            not_applicable: 0,
+            bad: 0,
+            uncertain: 0,
+        }
+    }
+
+    /// Sets the quality of the slots in `s`.
+    #[inline]
+    pub fn slot(&mut self, s: Slots, q: Quality) -> &mut Self {
+        let m = s.0 as u32;
+        self.uncertain &= !m;
+        self.bad &= !m;
+        self.not_applicable &= !m;
+        match q {
+            Quality::Good => {}
+            Quality::Uncertain => self.uncertain |= m,
+            Quality::Bad => self.bad |= m,
+            Quality::NotApplicable => self.not_applicable |= m,
+        }
+        self
+    }
+
+    /// Records the outcome of the checks in `c` (worst kept; a check is
+    /// never "not applicable"). A failed check caps its soft users at
+    /// uncertain.
+    #[inline]
+    pub fn check(&mut self, c: Checks, q: Quality) {
+        let (full, soft) = ((c.0 as u32) << 16, (c.0 as u32) << 24);
+        match q {
+            Quality::Good => {}
+            Quality::Uncertain => self.uncertain |= full | soft,
+            Quality::Bad | Quality::NotApplicable => {
+                self.bad |= full;
+                self.uncertain |= soft;
+            }
+        }
+    }
+
+    /// The quality the rule gives an output with use `u`.
+    #[inline]
+    pub fn of(&self, u: Use) -> Quality {
+        if u.0 & self.not_applicable != 0 {
+            Quality::NotApplicable
+        } else if u.0 & self.bad != 0 {
+            Quality::Bad
+        } else if u.0 & self.uncertain != 0 {
+            Quality::Uncertain
+        } else {
+            Quality::Good
+        }
+    }
+
+    /// Applies the rule to one output whose value was written in place
+    /// (`computed`) or not: not applicable if it uses a slot that does not
+    /// apply, bad if not computed or not finite, else the rule's quality.
+    #[inline]
+    pub fn settle_computed<T: Real>(&self, m: &mut Measured<T>, computed: bool, u: Use) {
+        let q = self.of(u);
+        *m = if q == Quality::NotApplicable {
+            Measured::not_applicable()
+        } else if computed {
+            Measured::derived(m.value, q)
+        } else {
+            Measured::bad()
+        };
+    }
+
+    /// As [`Grades::settle_computed`], at most uncertain when `suspect` (a
+    /// field-local plausibility check over slots the output uses failed).
+    #[inline]
+    pub fn settle_suspect<T: Real>(
+        &self,
+        m: &mut Measured<T>,
+        computed: bool,
+        suspect: bool,
+        u: Use,
+    ) {
+        let mut g = *self;
+        if suspect {
+            g.uncertain |= u.0;
+        }
+        let q = g.of(u);
+        *m = if q == Quality::NotApplicable {
+            Measured::not_applicable()
+        } else if computed {
+            Measured::derived(m.value, q)
+        } else {
+            Measured::bad()
+        };
+    }
+
+    /// Applies the rule to one output: its quality becomes the worst of its
+    /// uses and of any field-local plausibility grade the evaluation set
+    /// (uncertain); a value that was not computed stays bad (or becomes
+    /// not applicable when it uses a slot that does not apply).
+    #[inline]
+    pub fn settle<T: Real>(&self, m: &mut Measured<T>, u: Use) {
+        let q = self.of(u);
+        *m = if q == Quality::NotApplicable {
+            Measured::not_applicable()
+        } else if !m.quality.is_usable() {
+            Measured::bad()
+        } else {
+            Measured::derived(m.value, q.worst(m.quality))
+        };
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_rule_takes_the_worst_of_exactly_the_uses() {
+        let u = compressor_uses(Slots::NONE, slot::Z);
+        let mut g = Grades::new();
+        g.slot(slot::P1, Quality::Bad);
+        // The temperature rise does not use P1; the ratio does.
+        assert_eq!(g.of(u.temperature_rise), Quality::Good);
+        assert_eq!(g.of(u.pressure_ratio), Quality::Bad);
+        // A failed consistency check caps the work at uncertain but takes
+        // the efficiencies down in full.
+        let mut g = Grades::new();
+        g.check(check::CONSISTENT, Quality::Bad);
+        assert_eq!(g.of(u.actual_work), Quality::Uncertain);
+        assert_eq!(g.of(u.isentropic_efficiency), Quality::Bad);
+        assert_eq!(g.of(u.isothermal_head), Quality::Good);
+        // Z is used by the heads, not by the efficiencies.
+        let mut g = Grades::new();
+        g.slot(slot::Z, Quality::Uncertain);
+        assert_eq!(g.of(u.isentropic_head), Quality::Uncertain);
+        assert_eq!(g.of(u.isentropic_efficiency), Quality::Good);
+        assert!(u.actual_work.all_slots().contains(slot::P1));
+        assert!(!u.actual_work.slots().contains(slot::P1));
+        let mut m = Measured::good(2.0_f32);
+        g.slot(slot::T2, Quality::NotApplicable);
+        g.settle(&mut m, u.actual_work);
+        assert_eq!(m.quality, Quality::NotApplicable);
+    }
+}
