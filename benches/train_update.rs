@@ -70,8 +70,11 @@ fn bench_stage<T: Real>(c: &mut Criterion, name: &str) {
 fn bench_full_scan(c: &mut Criterion) {
     let demo_cfg = demo::config::<f32>().expect("demo config");
     let mut slot = None;
-    controller::Controller::build_in(&mut slot, controller::train_config(&demo_cfg, demo_cfg.gas))
-        .expect("controller");
+    controller::Controller::build_in(
+        &mut slot,
+        controller::train_config(&demo_cfg, controller::ideal_gas().expect("gas")),
+    )
+    .expect("controller");
     let ctl = slot.as_mut().expect("built");
     let mut slow: Vec<_> = (0..64)
         .map(|i| {

@@ -16,7 +16,7 @@
 //! them already validated); the scan period is 20 ms.
 
 use polytrope::demo;
-use polytrope::gas::GasModel;
+use polytrope::gas::{GasModel, IdealGas, CARBON_DIOXIDE};
 use polytrope::signal::{Channel, ChannelConfig, InstrumentClass, SignalKind, Unit};
 use polytrope::surge::{
     MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
@@ -66,10 +66,17 @@ pub struct ScanSummary {
     pub margins: [f32; SECTIONS],
 }
 
+/// The controller's gas: the demo's CO2 as an ideal gas with constant k
+/// and the configured Z (the ideal-gas path whose figures the budgets
+/// track).
+pub fn ideal_gas() -> Result<IdealGas<f32>, ConfigError> {
+    IdealGas::from_spec(&CARBON_DIOXIDE, false, 1.0)
+}
+
 /// The train configuration: the demo's first four stages, the fourth
-/// without its aftercooler, on `gas`.
-pub fn train_config<G: Copy>(
-    demo: &TrainConfig<f32, G, { demo::STAGES }>,
+/// without its aftercooler, on `gas` (whatever gas the demo uses).
+pub fn train_config<D, G>(
+    demo: &TrainConfig<f32, D, { demo::STAGES }>,
     gas: G,
 ) -> TrainConfig<f32, G, SECTIONS> {
     let mut stages = [demo.stages[0]; SECTIONS];

@@ -13,10 +13,10 @@ use polytrope_firmware::table::MINIMAL_SCAN;
 
 #[entry]
 fn main() -> ! {
-    let ok = match demo::config::<f32>() {
-        Ok(cfg) => {
+    let ok = match (demo::config::<f32>(), controller::ideal_gas()) {
+        (Ok(cfg), Ok(gas)) => {
             let mut slot = None;
-            let built = Controller::build_in(&mut slot, controller::train_config(&cfg, cfg.gas));
+            let built = Controller::build_in(&mut slot, controller::train_config(&cfg, gas));
             match (built, slot.as_mut()) {
                 (Ok(()), Some(ctl)) => {
                     let mut slow = controller::section_scan(core::hint::black_box(&MINIMAL_SCAN));
@@ -31,7 +31,7 @@ fn main() -> ! {
                 _ => false,
             }
         }
-        Err(_) => false,
+        _ => false,
     };
     polytrope_firmware::exit(ok)
 }

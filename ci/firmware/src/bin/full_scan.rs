@@ -200,7 +200,9 @@ fn main() -> ! {
     let Ok(demo_cfg) = demo::config::<f32>() else {
         fail(&mut h, "demo config");
     };
-    let gas = demo_cfg.gas;
+    let Ok(gas) = controller::ideal_gas() else {
+        fail(&mut h, "ideal gas");
+    };
     let mut slot = None;
     if Ctl::build_in(&mut slot, controller::train_config(&demo_cfg, gas)).is_err() {
         fail(&mut h, "controller config");
