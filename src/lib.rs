@@ -59,9 +59,11 @@
 //! # Ok::<(), polytrope::ConfigError>(())
 //! ```
 //!
-//! Module map: [`real`] (the f32/f64 seam), [`units`], [`quality`],
+//! Module map: [`real`] (the f32/f64 seam), [`config_blob`] (the
+//! versioned, checksummed device configuration blob), [`units`], [`quality`],
 //! [`error`], [`gas`] (gas models), [`compression`] (ideal heads),
-//! [`stage`] (compressor and pump), [`steady`], [`cooler`], [`staging`]
+//! [`stage`] (compressor and pump), [`rating`] (performance from an
+//! assumed efficiency), [`steady`], [`cooler`], [`staging`]
 //! (whole-train ideals), [`scan`] (inputs), [`boundary`] (the sensor boundary),
 //! [`train`] (configuration and update), [`tolerance`] (the f32-vs-f64
 //! accuracy table), `demo` (an invented scenario, with the `demo` feature), [`signal`] (channels,
@@ -78,6 +80,7 @@ extern crate std;
 pub mod boundary;
 pub mod clock;
 pub mod compression;
+pub mod config_blob;
 pub mod control;
 pub mod cooler;
 #[cfg(feature = "demo")]
@@ -89,6 +92,7 @@ pub mod flow;
 pub mod gas;
 pub mod plausibility;
 pub mod quality;
+pub mod rating;
 pub mod real;
 pub mod scan;
 pub mod signal;

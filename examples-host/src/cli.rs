@@ -1,33 +1,10 @@
-//! A small command-line parser: subcommands declare their options in a
-//! table; `--name value` and `--name=value` are accepted; unknown,
-//! repeated or missing-value options are errors, never panics.
+//! The command line, on `clap` (derive): one struct per subcommand.
+//! The older subcommands (`demo`, `stage`, `surge-sim`, `keys`) read their
+//! values through [`Parsed`], a bag filled from their clap structs, so their
+//! unit parsing and messages stay in one place.
 
+use clap::{Args, Parser, Subcommand};
 use polytrope::ConfigError;
-
-/// One option of a subcommand.
-#[derive(Clone, Copy, Debug)]
-pub struct Opt {
-    /// Name without the leading `--`.
-    pub name: &'static str,
-    /// Placeholder of the value, or `None` for a flag.
-    pub value: Option<&'static str>,
-    /// One-line help.
-    pub help: &'static str,
-}
-
-/// A subcommand: its name, options and entry point. `run` returns the text
-/// to print on standard output.
-#[derive(Clone, Copy)]
-pub struct Command {
-    /// Name as typed.
-    pub name: &'static str,
-    /// One-line summary for the command list.
-    pub summary: &'static str,
-    /// Accepted options.
-    pub options: &'static [Opt],
-    /// Entry point.
-    pub run: fn(&Parsed) -> Result<String, CliError>,
-}
 
 /// Why the tool stopped.
 #[derive(Debug, Clone, PartialEq)]
@@ -72,6 +49,23 @@ pub struct Parsed {
 }
 
 impl Parsed {
+    /// Records option `name` with its value (`None`: not given).
+    fn opt(mut self, name: &'static str, value: &Option<String>) -> Parsed {
+        if let Some(v) = value {
+            self.given.push((name, Some(v.clone())));
+        }
+        self
+    }
+    /// Records flag `name` if set.
+    fn flag(mut self, name: &'static str, set: bool) -> Parsed {
+        if set {
+            self.given.push((name, None));
+        }
+        self
+    }
+}
+
+impl Parsed {
     /// The value of option `name`, if given.
     pub fn get(&self, name: &str) -> Option<&str> {
         self.given
@@ -85,84 +79,8 @@ impl Parsed {
     }
 }
 
-/// Parses `args` (after the subcommand name) against `options`.
-/// `--help` / `-h` is handled by the caller before this.
-pub fn parse(cmd: &Command, args: &[String]) -> Result<Parsed, CliError> {
-    let mut parsed = Parsed::default();
-    let mut it = args.iter();
-    while let Some(arg) = it.next() {
-        let Some(body) = arg.strip_prefix("--") else {
-            return Err(CliError::Usage(format!(
-                "unexpected argument '{arg}' for '{}' (options start with --; see '{} {} --help')",
-                cmd.name,
-                crate::BIN,
-                cmd.name
-            )));
-        };
-        let (name, inline) = match body.split_once('=') {
-            Some((n, v)) => (n, Some(v.to_string())),
-            None => (body, None),
-        };
-        let Some(opt) = cmd.options.iter().find(|o| o.name == name) else {
-            return Err(CliError::Usage(format!(
-                "unknown option '--{name}' for '{}' (see '{} {} --help')",
-                cmd.name,
-                crate::BIN,
-                cmd.name
-            )));
-        };
-        if parsed.has(opt.name) {
-            return Err(CliError::Usage(format!("option '--{name}' given twice")));
-        }
-        let value = match (opt.value, inline) {
-            (None, None) => None,
-            (None, Some(_)) => {
-                return Err(CliError::Usage(format!(
-                    "option '--{name}' is a flag and takes no value"
-                )))
-            }
-            (Some(_), Some(v)) => Some(v),
-            (Some(placeholder), None) => match it.next() {
-                Some(v) => Some(v.clone()),
-                None => {
-                    return Err(CliError::Usage(format!(
-                        "option '--{name}' needs a value: --{name} {placeholder}"
-                    )))
-                }
-            },
-        };
-        parsed.given.push((opt.name, value));
-    }
-    Ok(parsed)
-}
-
-/// Help text of one subcommand.
-pub fn help(cmd: &Command) -> String {
-    let mut s = format!(
-        "{} {} — {}\n\nOptions:\n",
-        crate::BIN,
-        cmd.name,
-        cmd.summary
-    );
-    let width = cmd
-        .options
-        .iter()
-        .map(|o| o.name.len() + o.value.map_or(0, |v| v.len() + 1))
-        .max()
-        .unwrap_or(0);
-    for o in cmd.options {
-        let left = match o.value {
-            Some(v) => format!("{} {v}", o.name),
-            None => o.name.to_string(),
-        };
-        s.push_str(&format!("  --{left:<width$}  {}\n", o.help));
-    }
-    s.push_str(&format!("  --{:<width$}  this help\n", "help"));
-    s
-}
-
 /// Which kernel build to run.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
 pub enum Precision {
     /// The f32 device build.
     F32,
@@ -201,54 +119,174 @@ pub fn count(option: &str, text: &str, lo: u32, hi: u32) -> Result<u32, CliError
     }
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
+/// `polytrope-host`: compressor-train calculations with the polytrope kernel.
+///
+/// Caution: not a certified safety function. Machine limits come from the
+/// machine maker's data; follow local codes and licensed engineering practice.
+#[derive(Debug, Parser)]
+#[command(name = "polytrope-host", version, about, long_about = None, subcommand_required = true, arg_required_else_help = false)]
+pub struct Cli {
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Cmd,
+}
 
-    const OPTS: &[Opt] = &[
-        Opt {
-            name: "n",
-            value: Some("N"),
-            help: "",
-        },
-        Opt {
-            name: "json",
-            value: None,
-            help: "",
-        },
-    ];
-    const CMD: Command = Command {
-        name: "t",
-        summary: "",
-        options: OPTS,
-        run: |_| Ok(String::new()),
-    };
+/// Every subcommand.
+#[derive(Debug, Subcommand)]
+pub enum Cmd {
+    /// Run the invented demo train (4 intercooled CO2 compressor stages + a dense-phase pump).
+    Demo(DemoArgs),
+    /// Single-point stage calculator (heads, efficiencies, power; optional staging comparison).
+    Stage(StageArgs),
+    /// Closed-loop surge simulation (Greitzer model): CSV trajectory or scan-period sweep.
+    SurgeSim(SurgeSimArgs),
+    /// Print the Markdown reference of every JSON key (units and meaning).
+    Keys,
+    /// Write a commented starter train file (TOML) for N stages, or the demo train.
+    NewTrain(crate::starter::NewTrainArgs),
+    /// Check a train file and print what follows from it (optimum interstage pressures, surge and control lines).
+    Check(crate::check::CheckArgs),
+    /// Evaluate one set of readings for the whole train in a train file.
+    Evaluate(crate::evaluate::EvaluateArgs),
+    /// Replay a CSV log through the f32 device and f64 reference builds: results CSV, summary, plots.
+    Replay(crate::replay::ReplayArgs),
+    /// Rating: predict discharge temperature, heads and power from an assumed efficiency.
+    Rate(crate::rating::RateArgs),
+    /// ISO 5167-2 orifice-plate mass flow as a desk calculation.
+    Orifice(crate::orifice_cmd::OrificeArgs),
+    /// Write the device configuration blob of a train file (versioned, checksummed).
+    Blob(crate::blob::BlobArgs),
+}
 
-    fn args(a: &[&str]) -> Vec<String> {
-        a.iter().map(|s| s.to_string()).collect()
+/// Options of `demo`.
+#[derive(Debug, Args)]
+pub struct DemoArgs {
+    /// Scans to run before reporting the last one (default 20, 1..=1000000).
+    #[arg(long, value_name = "N")]
+    scans: Option<String>,
+    /// Kernel build: f32 device build (default) or f64 reference build.
+    #[arg(long, value_name = "f32|f64")]
+    precision: Option<String>,
+    /// Print JSON (SI units in the keys, quality with every value) instead of tables.
+    #[arg(long)]
+    json: bool,
+    /// Also write the demo plots (PNG and SVG) into this directory.
+    #[arg(long, value_name = "DIR")]
+    pub plots: Option<std::path::PathBuf>,
+}
+
+impl DemoArgs {
+    /// As the demo module reads them.
+    pub fn parsed(&self) -> Parsed {
+        Parsed::default()
+            .opt("scans", &self.scans)
+            .opt("precision", &self.precision)
+            .flag("json", self.json)
     }
+}
 
-    #[test]
-    fn parses_both_value_forms_and_flags() {
-        let p = parse(&CMD, &args(&["--n", "5", "--json"])).unwrap();
-        assert_eq!(p.get("n"), Some("5"));
-        assert!(p.has("json"));
-        let p = parse(&CMD, &args(&["--n=-3"])).unwrap();
-        assert_eq!(p.get("n"), Some("-3"));
-        assert!(!p.has("json"));
+/// Options of `stage`.
+#[derive(Debug, Args)]
+pub struct StageArgs {
+    /// Built-in gas: air, nitrogen, methane, ethane, carbon-dioxide, hydrogen, lean-natural-gas.
+    #[arg(long, value_name = "NAME")]
+    gas: Option<String>,
+    /// Use the built-in gas's ideal-gas cp(T) polynomial instead of constant k.
+    #[arg(long)]
+    cp_poly: bool,
+    /// Custom gas: heat-capacity ratio (with --molar-mass, instead of --gas).
+    #[arg(long, value_name = "K")]
+    k: Option<String>,
+    /// Custom gas: molar mass in kg/kmol.
+    #[arg(long, value_name = "M")]
+    molar_mass: Option<String>,
+    /// Mean compressibility factor (default 1).
+    #[arg(long, value_name = "Z")]
+    z: Option<String>,
+    /// Suction pressure with unit and a/g: 100kPaa, 1.0bara, 4.5barg, 14.7psia, 1013mbara.
+    #[arg(long, value_name = "P", allow_hyphen_values = true)]
+    p1: Option<String>,
+    /// Discharge pressure, same syntax.
+    #[arg(long, value_name = "P", allow_hyphen_values = true)]
+    p2: Option<String>,
+    /// Local atmosphere for gauge inputs, absolute (default 101.325kPaa, noted).
+    #[arg(long, value_name = "P", allow_hyphen_values = true)]
+    atm: Option<String>,
+    /// Suction temperature: 300K, 26.85degC, 26.85C or 80degF.
+    #[arg(long, value_name = "T", allow_hyphen_values = true)]
+    t1: Option<String>,
+    /// Measured discharge temperature (optional; needed for actual work and efficiencies).
+    #[arg(long, value_name = "T", allow_hyphen_values = true)]
+    t2: Option<String>,
+    /// Mass flow (optional): 2.5kg/s, 9000kg/h or 32t/h.
+    #[arg(long, value_name = "M", allow_hyphen_values = true)]
+    flow: Option<String>,
+    /// Compare with N equal-ratio intercooled stages (1..=20).
+    #[arg(long, value_name = "N")]
+    stages: Option<String>,
+    /// Kernel build: f64 reference build (default) or f32 device build.
+    #[arg(long, value_name = "f32|f64")]
+    precision: Option<String>,
+    /// Print JSON (SI units in the keys, quality with every value).
+    #[arg(long)]
+    json: bool,
+}
+
+impl StageArgs {
+    /// As the stage module reads them.
+    pub fn parsed(&self) -> Parsed {
+        Parsed::default()
+            .opt("gas", &self.gas)
+            .flag("cp-poly", self.cp_poly)
+            .opt("k", &self.k)
+            .opt("molar-mass", &self.molar_mass)
+            .opt("z", &self.z)
+            .opt("p1", &self.p1)
+            .opt("p2", &self.p2)
+            .opt("atm", &self.atm)
+            .opt("t1", &self.t1)
+            .opt("t2", &self.t2)
+            .opt("flow", &self.flow)
+            .opt("stages", &self.stages)
+            .opt("precision", &self.precision)
+            .flag("json", self.json)
     }
+}
 
-    #[test]
-    fn rejects_bad_command_lines() {
-        for bad in [
-            &["--x"][..],
-            &["n"],
-            &["--n"],
-            &["--n", "1", "--n", "2"],
-            &["--json=yes"],
-        ] {
-            let e = parse(&CMD, &args(bad)).unwrap_err();
-            assert_eq!(e.exit_code(), 2, "{bad:?}");
-        }
+/// Options of `surge-sim`.
+#[derive(Debug, Args)]
+pub struct SurgeSimArgs {
+    /// Hold the recycle valve closed (shows the surge cycles).
+    #[arg(long)]
+    pub unprotected: bool,
+    /// Controller scan period in ms, 1 to 500 (default 20).
+    #[arg(long, value_name = "MS", conflicts_with = "sweep")]
+    pub scan_ms: Option<String>,
+    /// Print every Nth controller scan (default 1).
+    #[arg(long, value_name = "N", conflicts_with = "sweep")]
+    pub every: Option<String>,
+    /// Add the stated realistic measurement noise to every signal (seeded).
+    #[arg(long, conflicts_with = "sweep")]
+    pub noise: bool,
+    /// Print the minimum margin and surge cycles for scan periods 1 to 100 ms, without and
+    /// with noise, and whether each run surged.
+    #[arg(long, conflicts_with = "unprotected")]
+    pub sweep: bool,
+    /// Take the recycle controller (gain, integral time, scan period, valve stroke time)
+    /// from this train file's `[stage.surge.control]`; the blower model stays the invented one.
+    #[arg(long, value_name = "TRAIN.toml")]
+    pub file: Option<std::path::PathBuf>,
+}
+
+impl SurgeSimArgs {
+    /// As the surge-sim module reads them.
+    pub fn parsed(&self) -> Parsed {
+        Parsed::default()
+            .flag("unprotected", self.unprotected)
+            .opt("scan-ms", &self.scan_ms)
+            .opt("every", &self.every)
+            .flag("sweep", self.sweep)
+            .flag("noise", self.noise)
+            .opt("file", &self.file.as_ref().map(|f| f.display().to_string()))
     }
 }

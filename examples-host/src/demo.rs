@@ -11,36 +11,9 @@ use polytrope::stage::PumpResult;
 use polytrope::train::{Snapshot, StageResult, StageWork};
 use polytrope::{Measured, Real};
 
-use crate::cli::{count, CliError, Command, Opt, Parsed, Precision};
+use crate::cli::{count, CliError, Parsed, Precision};
 use crate::keys::{self as k, Key};
 use crate::out::{self, disp, Detail, Field, Json, Obj, Val};
-
-/// The `demo` subcommand.
-pub const COMMAND: Command = Command {
-    name: "demo",
-    summary:
-        "run the invented demo train (4 intercooled CO2 compressor stages + a dense-phase pump)",
-    options: OPTIONS,
-    run,
-};
-
-const OPTIONS: &[Opt] = &[
-    Opt {
-        name: "scans",
-        value: Some("N"),
-        help: "scans to run before reporting the last one (default 20, 1..=1000000)",
-    },
-    Opt {
-        name: "precision",
-        value: Some("f32|f64"),
-        help: "kernel build: f32 device build (default) or f64 reference build",
-    },
-    Opt {
-        name: "json",
-        value: None,
-        help: "print JSON (SI units in the keys, quality with every value) instead of tables",
-    },
-];
 
 const DEFAULT_SCANS: u32 = 20;
 
@@ -48,7 +21,8 @@ const SCENARIO: &str = "Invented scenario: a made-up carbon-dioxide train of fou
 intercooled compressor stages and a dense-phase pump, with synthesised measurements. \
 It is not data from any real machine.";
 
-fn run(args: &Parsed) -> Result<String, CliError> {
+/// Runs the subcommand.
+pub fn run(args: &Parsed) -> Result<String, CliError> {
     let scans = match args.get("scans") {
         Some(t) => count("scans", t, 1, 1_000_000)?,
         None => DEFAULT_SCANS,
@@ -102,7 +76,7 @@ fn share(part: Val, whole: Val) -> Option<f64> {
         .then(|| 100.0 * part.value / whole.value)
 }
 
-struct Parts<T: Real> {
+pub(crate) struct Parts<T: Real> {
     compressors: Vec<(usize, Vec<Field<T>>)>,
     pumps: Vec<(usize, Vec<Field<T>>, Pump<T>)>,
     coolers: Vec<(usize, Vec<Field<T>>)>,
@@ -110,7 +84,10 @@ struct Parts<T: Real> {
 
 type Pump<T> = PumpResult<T>;
 
-fn split<T: Real, const N: usize>(scan: &[StageScan<T>; N], snap: &Snapshot<T, N>) -> Parts<T> {
+pub(crate) fn split<T: Real, const N: usize>(
+    scan: &[StageScan<T>; N],
+    snap: &Snapshot<T, N>,
+) -> Parts<T> {
     let mut parts = Parts {
         compressors: Vec::new(),
         pumps: Vec::new(),
@@ -143,13 +120,14 @@ fn report<T: Real>(scans: u32, precision: Precision, json: bool) -> Result<Strin
     let snap = train.snapshot();
     let parts = split(&scan.stages, snap);
     if json {
-        Ok(to_json(scans, precision, snap, &parts).to_text())
+        Ok(to_json(("demo", SCENARIO), scans, precision, snap, &parts).to_text())
     } else {
-        Ok(to_text(scans, precision, snap, &parts))
+        Ok(to_text(("demo", SCENARIO), scans, precision, snap, &parts))
     }
 }
 
-fn to_json<T: Real, const N: usize>(
+pub(crate) fn to_json<T: Real, const N: usize>(
+    (command, scenario): (&str, &str),
     scans: u32,
     precision: Precision,
     snap: &Snapshot<T, N>,
@@ -188,8 +166,8 @@ fn to_json<T: Real, const N: usize>(
     out::put_fields(&mut totals, &out::fields_of(&snap.totals));
 
     let mut o = Obj::new();
-    o.str(&k::COMMAND_NAME, "demo")
-        .str(&k::SCENARIO, SCENARIO)
+    o.str(&k::COMMAND_NAME, command)
+        .str(&k::SCENARIO, scenario)
         .str(&k::CAUTION, out::CAUTION)
         .str(&k::PRECISION, precision.word())
         .put(&k::SCANS, Json::Int(i64::from(scans)))
@@ -203,7 +181,8 @@ fn to_json<T: Real, const N: usize>(
     o.done()
 }
 
-fn to_text<T: Real, const N: usize>(
+pub(crate) fn to_text<T: Real, const N: usize>(
+    (command, scenario): (&str, &str),
     scans: u32,
     precision: Precision,
     snap: &Snapshot<T, N>,
@@ -214,7 +193,7 @@ fn to_text<T: Real, const N: usize>(
         Precision::F64 => "f64 (reference build)",
     };
     let mut s = format!(
-        "{} demo\n{SCENARIO}\nKernel: {build}; {scans} scans run, results of the last scan.\n{}\n{}\n",
+        "{} {command}\n{scenario}\nKernel: {build}; {scans} scans run, results of the last scan.\n{}\n{}\n",
         crate::BIN,
         out::CAUTION,
         out::LEGEND

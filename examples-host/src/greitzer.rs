@@ -219,6 +219,10 @@ pub struct Scenario {
     pub valve_dead_time: f64,
     /// Valve full-stroke time, s.
     pub valve_stroke_time: f64,
+    /// Recycle controller proportional gain.
+    pub gain: f64,
+    /// Recycle controller integral time, s.
+    pub integral_time: f64,
     /// Flow transmitter first-order lag, s.
     pub flow_lag: f64,
 }
@@ -243,6 +247,8 @@ impl Default for Scenario {
             throttle_after: 0.3,
             valve_dead_time: 0.1,
             valve_stroke_time: 0.8,
+            gain: 2.0,
+            integral_time: 2.0,
             flow_lag: 0.1,
         }
     }
@@ -412,8 +418,8 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
     let mut controller = RecycleController::new(
         RecycleConfig {
             scan_period: sc.scan_period,
-            gain: 2.0,
-            integral_time: 2.0,
+            gain: sc.gain,
+            integral_time: sc.integral_time,
             closing_rate: 0.05,
             quick_open_step: 0.15,
             quick_open_fraction: 0.5,

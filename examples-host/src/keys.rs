@@ -12,7 +12,7 @@ use polytrope::stage::{CompressorResult, PumpResult};
 use polytrope::staging::{InterstagePressure, TrainTotals};
 use polytrope::steady::SteadyState;
 
-use crate::cli::{CliError, Command, Parsed};
+use crate::cli::{CliError, Parsed};
 
 /// One JSON key.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -38,20 +38,20 @@ macro_rules! keys {
 }
 
 keys! { STRUCTURE:
-    COMMAND_NAME = "command", "string", "Subcommand that produced the document (`demo`, `stage`).";
-    SCENARIO = "scenario", "string", "Says the demo data are an invented scenario, not a real machine.";
+    COMMAND_NAME = "command", "string", "Subcommand that produced the document (`demo`, `stage`, `evaluate`).";
+    SCENARIO = "scenario", "string", "Says where the data come from: the demo data are an invented scenario, not a real machine; `evaluate` names the train file.";
     CAUTION = "caution", "string", "Safety caution: not a certified safety function; defer to the machine maker's data, local codes and licensed practice.";
     PRECISION = "precision", "string", "Kernel build used: `f32` (the device build) or `f64` (the reference build).";
     SCANS = "scans", "integer", "Number of scans run through the train; results are those of the last scan.";
     NOTES = "notes", "array of strings", "Remarks about the inputs (assumed atmosphere, missing flow, flagged conditions).";
     VALUE = "value", "number or null", "The value, in the SI unit of the key that holds it; `null` when `quality` is `bad`.";
     QUALITY = "quality", "string", "`good`, `uncertain` (usable with care) or `bad` (no usable value).";
-    STAGES = "stages", "array of objects", "Per stage, in flow order (demo).";
+    STAGES = "stages", "array of objects", "Per stage, in flow order (demo, evaluate).";
     STAGE = "stage", "integer", "Stage number, 1 = first in flow order.";
-    COOLERS = "coolers", "array of objects", "Per cooler, in flow order (demo).";
+    COOLERS = "coolers", "array of objects", "Per cooler, in flow order (demo, evaluate).";
     AFTER_STAGE = "after_stage", "integer", "Number of the stage whose discharge the cooler cools.";
     INTERSTAGE = "interstage", "array of objects", "Per compressor stage except the last: discharge pressure against the equal-ratio optimum.";
-    TOTALS = "totals", "object", "Whole-train totals (demo).";
+    TOTALS = "totals", "object", "Whole-train totals (demo, evaluate).";
     INPUTS = "inputs", "object", "The inputs as understood, converted to SI (plain numbers, no quality).";
     RESULTS = "results", "object", "Single-stage results (stage).";
     STAGING = "staging", "object", "Staging comparison for the same overall duty (stage, with `--stages`).";
@@ -248,15 +248,8 @@ pub fn markdown() -> String {
     s
 }
 
-/// The `keys` subcommand.
-pub const COMMAND: Command = Command {
-    name: "keys",
-    summary: "print the Markdown reference of every JSON key (units and meaning)",
-    options: &[],
-    run,
-};
-
-fn run(_args: &Parsed) -> Result<String, CliError> {
+/// Runs the subcommand.
+pub fn run(_args: &Parsed) -> Result<String, CliError> {
     Ok(markdown())
 }
 

@@ -1,10 +1,10 @@
 //! `polytrope-host`: the host command-line tool of the `polytrope` kernel.
 //!
-//! Each subcommand lives in its own module and exports a
-//! [`cli::Command`] (`name`, `summary`, option table, `run`). To add one:
-//! create `src/<name>.rs` with `pub const COMMAND: Command = ...`, add
-//! `mod <name>;` below and its `COMMAND` to [`COMMANDS`], and register any
-//! JSON keys it writes in [`keys`].
+//! Each subcommand lives in its own module with a `run` entry point; its
+//! options are a `clap` derive struct (in [`cli`] or beside the module). To
+//! add one: create `src/<name>.rs`, add `mod <name>;` below, a variant to
+//! [`cli::Cmd`] and a line to `dispatch`, and register any JSON keys it
+//! writes in [`keys`].
 //!
 //! Caution: not a certified safety function; defer to the machine maker's
 //! data, local codes and licensed engineering practice.
@@ -16,12 +16,24 @@
     clippy::indexing_slicing
 )]
 
+mod blob;
+mod check;
 mod cli;
+mod config;
 mod demo;
+mod evaluate;
 mod keys;
+mod orifice_cmd;
 mod out;
+mod plots;
 mod quantity;
+mod rating;
+mod replay;
 mod stage;
+mod starter;
+mod surgemap;
+mod train_any;
+mod units;
 // Surge simulation: the Greitzer model core and its subcommand.
 mod greitzer;
 mod surge_sim;
@@ -29,66 +41,53 @@ mod surge_sim;
 use std::io::Write;
 use std::process::ExitCode;
 
-use cli::{CliError, Command};
+use clap::Parser;
+use cli::{Cli, CliError, Cmd};
 
 /// The binary's name, for messages.
 pub const BIN: &str = "polytrope-host";
 
-/// Every subcommand, in the order `help` lists them.
-const COMMANDS: &[Command] = &[
-    demo::COMMAND,
-    stage::COMMAND,
-    surge_sim::COMMAND,
-    keys::COMMAND,
-];
-
-fn usage() -> String {
-    let mut s = format!(
-        "{BIN} {} — compressor-train calculations with the polytrope kernel\n\n\
-         Usage: {BIN} <command> [options]      ({BIN} <command> --help for its options)\n\nCommands:\n",
-        env!("CARGO_PKG_VERSION")
-    );
-    let width = COMMANDS.iter().map(|c| c.name.len()).max().unwrap_or(0);
-    for c in COMMANDS {
-        s.push_str(&format!("  {:<width$}  {}\n", c.name, c.summary));
+fn dispatch(cli: &Cli) -> Result<String, CliError> {
+    match &cli.command {
+        Cmd::Demo(a) => {
+            let text = demo::run(&a.parsed())?;
+            if let Some(dir) = &a.plots {
+                let written = plots::demo_plots(dir)?;
+                let mut t = text;
+                for f in written {
+                    t.push_str(&format!("plot written: {}\n", f.display()));
+                }
+                return Ok(t);
+            }
+            Ok(text)
+        }
+        Cmd::Stage(a) => stage::run(&a.parsed()),
+        Cmd::SurgeSim(a) => surge_sim::run(&a.parsed()),
+        Cmd::Keys => keys::run(&cli::Parsed::default()),
+        Cmd::NewTrain(a) => starter::run(a),
+        Cmd::Check(a) => check::run(a),
+        Cmd::Evaluate(a) => evaluate::run(a),
+        Cmd::Replay(a) => replay::run(a),
+        Cmd::Rate(a) => rating::run(a),
+        Cmd::Orifice(a) => orifice_cmd::run(a),
+        Cmd::Blob(a) => blob::run(a),
     }
-    s.push_str(&format!(
-        "  {:<width$}  this list\n\n{}\n",
-        "help",
-        out::CAUTION
-    ));
-    s
-}
-
-fn dispatch(args: &[String]) -> Result<String, CliError> {
-    let Some((name, rest)) = args.split_first() else {
-        return Err(CliError::Usage(format!("no command given\n\n{}", usage())));
-    };
-    match name.as_str() {
-        "help" | "--help" | "-h" => return Ok(usage()),
-        "--version" | "-V" => return Ok(format!("{BIN} {}\n", env!("CARGO_PKG_VERSION"))),
-        _ => {}
-    }
-    let Some(cmd) = COMMANDS.iter().find(|c| c.name == name) else {
-        let names: Vec<&str> = COMMANDS.iter().map(|c| c.name).collect();
-        return Err(CliError::Usage(format!(
-            "unknown command '{name}' (commands: {})",
-            names.join(", ")
-        )));
-    };
-    if rest.iter().any(|a| a == "--help" || a == "-h") {
-        return Ok(cli::help(cmd));
-    }
-    let parsed = cli::parse(cmd, rest)?;
-    (cmd.run)(&parsed)
 }
 
 fn main() -> ExitCode {
-    let args: Vec<String> = std::env::args_os()
-        .skip(1)
-        .map(|a| a.to_string_lossy().into_owned())
-        .collect();
-    match dispatch(&args) {
+    let cli = match Cli::try_parse() {
+        Ok(c) => c,
+        Err(e) => {
+            // Help and version go to stdout with success; usage errors exit 2.
+            let _ = e.print();
+            return if e.use_stderr() {
+                ExitCode::from(2)
+            } else {
+                ExitCode::SUCCESS
+            };
+        }
+    };
+    match dispatch(&cli) {
         Ok(text) => {
             // A closed pipe (`| head`) is not an error worth a panic.
             let mut stdout = std::io::stdout().lock();

@@ -1,5 +1,5 @@
 //! Output helpers shared by every subcommand: values with their quality,
-//! a small JSON tree with a writer, and a plain-text grid.
+//! a small JSON tree written by `serde_json`, and a plain-text grid.
 //!
 //! Text output marks qualities with a suffix: nothing for good, `?` for
 //! uncertain, and `--` in place of the number for bad (a bad value is a
@@ -121,7 +121,7 @@ pub fn cell(v: Val, d: Disp) -> String {
     }
 }
 
-/// A JSON value.
+/// A JSON value (a tree built from documented keys; `serde` writes it).
 #[derive(Clone, Debug, PartialEq)]
 pub enum Json {
     /// `null`
@@ -190,100 +190,40 @@ pub fn measured(v: Val) -> Json {
 }
 
 impl Json {
-    /// Pretty-printed JSON text with a trailing newline.
+    /// Pretty-printed JSON text (written by `serde_json`) with a trailing newline.
     pub fn to_text(&self) -> String {
-        let mut s = String::new();
-        self.write(&mut s, 0);
+        let mut s = serde_json::to_string_pretty(self).unwrap_or_else(|_| "null".to_string());
         s.push('\n');
         s
     }
+}
 
-    fn write(&self, s: &mut String, indent: usize) {
+impl serde::Serialize for Json {
+    fn serialize<S: serde::Serializer>(&self, ser: S) -> Result<S::Ok, S::Error> {
+        use serde::ser::{SerializeMap, SerializeSeq};
         match self {
-            Json::Null => s.push_str("null"),
-            Json::Bool(b) => s.push_str(if *b { "true" } else { "false" }),
-            Json::Num(x) => {
-                if x.is_finite() {
-                    // `{:?}` is the shortest round-trip form and always valid JSON
-                    // for finite values (e.g. 263195.0, 1e-7, 1e21).
-                    s.push_str(&format!("{x:?}"));
-                } else {
-                    s.push_str("null");
-                }
-            }
-            Json::Int(i) => s.push_str(&i.to_string()),
-            Json::Str(t) => write_string(s, t),
+            Json::Null => ser.serialize_unit(),
+            Json::Bool(b) => ser.serialize_bool(*b),
+            Json::Num(x) if x.is_finite() => ser.serialize_f64(*x),
+            Json::Num(_) => ser.serialize_unit(),
+            Json::Int(i) => ser.serialize_i64(*i),
+            Json::Str(t) => ser.serialize_str(t),
             Json::Arr(items) => {
-                if items.is_empty() {
-                    s.push_str("[]");
-                    return;
+                let mut seq = ser.serialize_seq(Some(items.len()))?;
+                for item in items {
+                    seq.serialize_element(item)?;
                 }
-                s.push('[');
-                for (i, item) in items.iter().enumerate() {
-                    if i > 0 {
-                        s.push(',');
-                    }
-                    newline(s, indent + 1);
-                    item.write(s, indent + 1);
-                }
-                newline(s, indent);
-                s.push(']');
+                seq.end()
             }
             Json::Obj(Obj(fields)) => {
-                // A {value, quality} pair stays on one line.
-                let compact = fields.len() == 2
-                    && fields
-                        .first()
-                        .is_some_and(|f| f.0 == crate::keys::VALUE.name);
-                if fields.is_empty() {
-                    s.push_str("{}");
-                    return;
+                let mut map = ser.serialize_map(Some(fields.len()))?;
+                for (k, v) in fields {
+                    map.serialize_entry(k, v)?;
                 }
-                s.push('{');
-                for (i, (k, v)) in fields.iter().enumerate() {
-                    if i > 0 {
-                        s.push(',');
-                        if compact {
-                            s.push(' ');
-                        }
-                    }
-                    if !compact {
-                        newline(s, indent + 1);
-                    }
-                    write_string(s, k);
-                    s.push_str(": ");
-                    v.write(s, indent + 1);
-                }
-                if !compact {
-                    newline(s, indent);
-                }
-                s.push('}');
+                map.end()
             }
         }
     }
-}
-
-fn newline(s: &mut String, indent: usize) {
-    s.push('\n');
-    for _ in 0..indent {
-        s.push_str("  ");
-    }
-}
-
-fn write_string(s: &mut String, t: &str) {
-    s.push('"');
-    for c in t.chars() {
-        match c {
-            '"' => s.push_str("\\\""),
-            '\\' => s.push_str("\\\\"),
-            '\n' => s.push_str("\\n"),
-            '\r' => s.push_str("\\r"),
-            '\t' => s.push_str("\\t"),
-            c if (c as u32) < 0x20 => s.push_str(&format!("\\u{:04x}", c as u32)),
-            c => s.push(c),
-        }
-    }
-    s.push('"');
 }
 
 /// A plain-text table: first column left-aligned, the others right-aligned.
@@ -493,6 +433,8 @@ mod tests {
         o.num(&crate::keys::SCANS, f64::NAN);
         let t = o.done().to_text();
         assert!(t.contains(r#""a \"quoted\"\nline""#), "{t}");
+        let back: serde_json::Value = serde_json::from_str(&t).unwrap();
+        assert_eq!(back["scans"], serde_json::Value::Null);
         assert!(t.contains("null"), "{t}");
     }
 }

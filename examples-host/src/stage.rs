@@ -18,36 +18,10 @@ use polytrope::staging::{equal_ratio_interstage_pressure, ideal_references};
 use polytrope::units::{Kelvin, PressureAbs, STANDARD_ATMOSPHERE_PA};
 use polytrope::{Measured, Quality, Real};
 
-use crate::cli::{count, CliError, Command, Opt, Parsed, Precision};
+use crate::cli::{count, CliError, Parsed, Precision};
 use crate::keys as k;
 use crate::out::{self, disp, Detail, Json, Obj, Val};
 use crate::quantity::{self, Pressure};
-
-/// The `stage` subcommand.
-pub const COMMAND: Command = Command {
-    name: "stage",
-    summary:
-        "single-point stage calculator (heads, efficiencies, power; optional staging comparison)",
-    options: OPTIONS,
-    run,
-};
-
-const OPTIONS: &[Opt] = &[
-    Opt { name: "gas", value: Some("NAME"), help: "built-in gas: air, nitrogen, methane, ethane, carbon-dioxide, hydrogen, lean-natural-gas" },
-    Opt { name: "cp-poly", value: None, help: "use the built-in gas's ideal-gas cp(T) polynomial instead of constant k" },
-    Opt { name: "k", value: Some("K"), help: "custom gas: heat-capacity ratio (with --molar-mass, instead of --gas)" },
-    Opt { name: "molar-mass", value: Some("M"), help: "custom gas: molar mass in kg/kmol" },
-    Opt { name: "z", value: Some("Z"), help: "mean compressibility factor (default 1)" },
-    Opt { name: "p1", value: Some("P"), help: "suction pressure with unit and a/g: 100kPaa, 1.0bara, 4.5barg, 250kPag" },
-    Opt { name: "p2", value: Some("P"), help: "discharge pressure, same syntax" },
-    Opt { name: "atm", value: Some("P"), help: "local atmosphere for gauge inputs, absolute (default 101.325kPaa, noted)" },
-    Opt { name: "t1", value: Some("T"), help: "suction temperature: 300K or 26.85degC" },
-    Opt { name: "t2", value: Some("T"), help: "measured discharge temperature (optional; needed for actual work and efficiencies)" },
-    Opt { name: "flow", value: Some("M"), help: "mass flow (optional): 2.5kg/s or 9000kg/h" },
-    Opt { name: "stages", value: Some("N"), help: "compare with N equal-ratio intercooled stages (1..=20)" },
-    Opt { name: "precision", value: Some("f32|f64"), help: "kernel build: f64 reference build (default) or f32 device build" },
-    Opt { name: "json", value: None, help: "print JSON (SI units in the keys, quality with every value)" },
-];
 
 /// Custom or built-in gas.
 #[derive(Clone, Copy, Debug)]
@@ -252,7 +226,8 @@ fn read_inputs(args: &Parsed) -> Result<Inputs, CliError> {
     })
 }
 
-fn run(args: &Parsed) -> Result<String, CliError> {
+/// Runs the subcommand.
+pub fn run(args: &Parsed) -> Result<String, CliError> {
     let inputs = read_inputs(args)?;
     let precision = Precision::from_option(args.get("precision"), Precision::F64)?;
     match precision {

@@ -10,7 +10,7 @@
 
 mod common;
 
-use common::{fails, ok, parse, J};
+use common::{fails, ok, parse, JExt, J};
 use polytrope::tolerance;
 
 fn demo_json(precision: &str) -> J {
