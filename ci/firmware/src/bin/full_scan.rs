@@ -73,10 +73,11 @@ fn phase_monitors(
     c.update_monitors(surge, dt)
 }
 
-/// The measured path is the usual one: total power, every channel and
-/// every margin good.
+/// The measured path is the usual one: every channel and every margin good,
+/// the total power usable (the ideal-gas model may mark the stages above
+/// its validity pressure uncertain: the demo is a CO2 train up to 66 bar).
 fn all_good(ctl: &Ctl) -> bool {
-    ctl.snapshot().totals.total_power.quality == Quality::Good
+    ctl.snapshot().totals.total_power.quality.is_usable()
         && ctl
             .channels()
             .iter()
