@@ -88,10 +88,12 @@ labels_doc = {
     "full_scan_train": "… of which the train update on their pressures (phase 2, same firmware)",
     "full_scan_monitors": "… of which the 4 surge monitors (phase 3, same firmware)",
     "compressor_stage": "one compressor stage (ideal gas with Z)",
+    "compressor_stage_peng_robinson": "one compressor stage, Peng–Robinson 5-component natural gas (two states, entropy match, Schultz)",
     "intercooler": "one intercooler",
     "pump_stage": "one pump stage",
-    "update_4_stages_3_intercoolers": "**full update, 4 stages + 3 intercoolers**",
-    "update_demo_5_stages": "full update, demo train (4 compressors, 3 intercoolers, aftercooler, pump)",
+    "update_4_stages_3_intercoolers": "**full update, 4 stages + 3 intercoolers** (ideal gas, CO2 with constant k)",
+    "update_4_stages_3_intercoolers_peng_robinson": "**full update, 4 stages + 3 intercoolers, Peng–Robinson CO2**",
+    "update_demo_5_stages": "full update, demo train (Peng–Robinson CO2: 4 compressors, 3 intercoolers, aftercooler, pump)",
     "train_new_demo_5_stages": "`Train::new` of the demo train (once, at start-up)",
     "surge_margin_update": "surge margin, one `SurgeMonitor::update` (4-point line, rate filter settled)",
     "surge_margin_update_measured_exponent": "surge margin with σ from the measured temperatures (`with_measured_exponent`, σ filter settled)",
@@ -193,6 +195,8 @@ row("train state, demo train (5 stages), bytes",
     lambda t: f"{res[t][1]['state_demo_5_stages']:,}")
 row("stack high-water mark of one update, 4 stages + 3 intercoolers, bytes",
     lambda t: f"{res[t][1]['stack_update_4_stages_3_intercoolers']:,}")
+row("stack high-water mark of one update, 4 stages + 3 intercoolers, Peng–Robinson, bytes",
+    lambda t: f"{res[t][1]['stack_update_4_stages_3_intercoolers_peng_robinson']:,}")
 row("stack high-water mark of one update, demo train, bytes",
     lambda t: f"{res[t][1]['stack_update_demo_5_stages']:,}")
 row("stack high-water mark of one surge-margin update, bytes",
@@ -220,7 +224,7 @@ L.append("Static RAM is zero because the minimal firmware keeps the train on the
          "`SurgeMonitor::new` / `update`, `Channel::new` / `update` or the whole scan survives, and the "
          "`proof` firmware does the same for every other public entry point (surge "
          "detection, recycle controller and outputs, orifice, flow element, low-flow "
-         "cut-off, cross-checks, event log, recycle loss: `ci/firmware/src/proof.rs`); "
+         "cut-off, cross-checks, event log, recycle loss, the gas models: Peng–Robinson construction and composition update, state functions, entropy match, polytropic methods: `ci/firmware/src/proof.rs`); "
          "`ci/checks.d/firmware.sh` also checks that a deliberately panicking probe fails "
          "to link.")
 L.append("")

@@ -13,6 +13,11 @@
 //!   measured; a falling UA at steady state is the usual fouling indicator
 //!   (common practice).
 //! - Approach temperature, gas outlet minus coolant inlet (common practice).
+//! - Heat duty from the gas side as m·(h_in − h_out) with the enthalpies of
+//!   the configured gas model (first law, steady flow), the same basis as the
+//!   stage work, so a stage's gas power and the following cooler's duty
+//!   balance. For the ideal gas with compressibility Z this is m·Z·cp·ΔT
+//!   (before the gas-model seam it was m·cp·ΔT, without Z).
 //! - LMTD near equal terminal differences: with u = (a - b)/(a + b),
 //!   ln(a/b) = 2·atanh(u), so LMTD = (a + b)/2 · u/atanh(u) and
 //!   u/atanh(u) = 1/(1 + u²/3 + u⁴/5 + u⁶/7 + …) (the Taylor series of
@@ -73,7 +78,7 @@ pub struct CoolerResult<T> {
     pub approach: Measured<T>,
     /// Thermal effectiveness, -.
     pub effectiveness: Measured<T>,
-    /// Heat removed from the gas, m·cp·(Tg,in - Tg,out), W.
+    /// Heat removed from the gas, m·(h_in − h_out), W.
     pub heat_duty: Measured<T>,
     /// Gas-side pressure drop, Pa.
     pub pressure_drop: Measured<T>,
@@ -135,8 +140,9 @@ pub struct CoolerInputs<T> {
     pub gas_mass_flow: Measured<T>,
     /// Coolant mass flow, kg/s (bad if not measured).
     pub coolant_mass_flow: Measured<T>,
-    /// Mean gas cp over the cooler, J/(kg K).
-    pub gas_cp: T,
+    /// Gas enthalpy drop h(inlet) − h(outlet) from the gas model, J/kg,
+    /// with the model's quality for the two states.
+    pub gas_enthalpy_drop: Measured<T>,
     /// Coolant cp, J/(kg K).
     pub coolant_cp: T,
 }
@@ -197,6 +203,7 @@ pub fn evaluate_cooler_into<T: Real>(inp: &CoolerInputs<T>, out: &mut CoolerResu
         temperature: true,
         pressure: true,
         compressibility_from_state: true,
+        state_functions: false,
     };
     evaluate_cooler_within(inp, &Limits::default(), all, Quality::Good, out);
 }
@@ -253,9 +260,14 @@ pub fn evaluate_cooler_within<T: Real>(
     let outlet_above_inlet = gas_ok && drop < -noise;
     let within_noise = gas_ok && !outlet_above_inlet && drop < noise;
     let stationary = ok(flow) && !(flow.value > limits.stationary_flow);
-    let duty = flow.value * inp.gas_cp * drop;
-    let cp_suspect = cp_fit != Quality::Good;
-    let duty_ok = gas_ok && !outlet_above_inlet && ok(flow);
+    // Duty from the gas model's enthalpy drop (its quality: the model's
+    // validity at the two states and the supplied Z); a model outside its
+    // fitted or valid range makes the duty and what uses it suspect, no
+    // valid state makes them bad.
+    let dh = inp.gas_enthalpy_drop;
+    let duty = flow.value * dh.value;
+    let cp_suspect = cp_fit.worst(dh.quality) != Quality::Good;
+    let duty_ok = gas_ok && !outlet_above_inlet && ok(flow) && ok(dh) && T::is_finite(duty);
     if gas_ok {
         set(
             &mut out.gas_temperature_drop,
@@ -382,7 +394,7 @@ mod tests {
             gas_outlet_pressure: g(2.95e5),
             gas_mass_flow: g(2.0),
             coolant_mass_flow: g(3.5),
-            gas_cp: 1005.0,
+            gas_enthalpy_drop: g(1005.0 * 110.0),
             coolant_cp: 4180.0,
         }
     }

@@ -93,10 +93,16 @@ pub mod check {
     /// T2).
     pub const EXPONENT: Checks = Checks(1 << 4);
     /// The gas model's properties are inside its fitted range at the path
-    /// temperatures (uses the property slots; at most the four states).
+    /// temperatures, and its states are inside its validity range (the
+    /// real-gas `Validity`: near-critical, liquid-like, ideal gas at high
+    /// reduced pressure, no vapour root); uses at most the four states.
     pub const MODEL: Checks = Checks(1 << 5);
+    /// The gas model's validity at the measured discharge state (P2, T2;
+    /// the real-gas `Validity` of the discharge state, which the isentropic
+    /// outputs do not use).
+    pub const MODEL_DISCHARGE: Checks = Checks(1 << 6);
     /// Number of check bits.
-    pub const COUNT: usize = 6;
+    pub const COUNT: usize = 7;
     const STATES: Slots = slot::P1.or(slot::P2).or(slot::T1).or(slot::T2);
     /// The slots each check uses, by bit.
     pub const SLOTS: [Slots; COUNT] = [
@@ -106,6 +112,7 @@ pub mod check {
         slot::FLOW,
         STATES,
         STATES,
+        slot::P2.or(slot::T2),
     ];
 }
 
@@ -207,37 +214,75 @@ pub struct CompressorUses {
     pub k: Use,
 }
 
-/// The compressor table, given the property slots ([`property_slots`]).
-pub const fn compressor_uses(props: Slots, z: Slots) -> CompressorUses {
-    use check::{CONSISTENT, EXPONENT, MODEL, RATIO, RESOLVED, RUNNING};
+/// The slots of what a state-function model ([`PropertyInputs::state_functions`])
+/// evaluates at the suction state and p2 only: (isentropic outputs, suction
+/// Z). For a path-mean model, the property and Z slots themselves.
+#[inline]
+pub fn suction_slots(p: PropertyInputs, props: Slots, z: Slots) -> (Slots, Slots) {
+    if p.state_functions {
+        let iso = slot::P1.or(slot::P2).or(slot::T1);
+        (iso, slot::P1.or(slot::T1).or(slot::Z))
+    } else {
+        (props, z)
+    }
+}
+
+/// The compressor table, given the property slots ([`property_slots`]),
+/// those of the isentropic outputs and the suction Z ([`suction_slots`]),
+/// and whether Z and p·v come from the gas model's states
+/// ([`PropertyInputs::compressibility_from_state`]): then the isothermal
+/// head, Z and the polytropic path take the model's validity (`MODEL`);
+/// with a configured or supplied Z they do not use the model.
+pub const fn compressor_uses(
+    props: Slots,
+    z: Slots,
+    iso: Slots,
+    z1: Slots,
+    z_from_state: bool,
+) -> CompressorUses {
+    use check::{CONSISTENT, EXPONENT, MODEL, MODEL_DISCHARGE, RATIO, RESOLVED, RUNNING};
     use slot::{FLOW, P1, P2, T1, T2};
     let ratio = Use::of(P1.or(P2)).full(RATIO);
     let states = P1.or(P2).or(T1).or(T2);
     // Efficiencies: the four states and k (Z cancels); impossible when the
     // states are inconsistent, suspect below resolution or at standstill.
     let eff = Use::of(states.or(props))
-        .full(RATIO.or(CONSISTENT).or(EXPONENT).or(MODEL))
+        .full(
+            RATIO
+                .or(CONSISTENT)
+                .or(EXPONENT)
+                .or(MODEL)
+                .or(MODEL_DISCHARGE),
+        )
         .soft(RESOLVED.or(RUNNING));
     // The exponent and the polytropic head describe the measured path: a
     // cooled compression (efficiency above one) leaves them meaningful but
-    // suspect; n not above one makes them impossible.
+    // suspect; n not above one makes them impossible. With Z from the
+    // model's states, p·v and Schultz's factor come from it: MODEL.
+    let z_model = if z_from_state {
+        MODEL.or(MODEL_DISCHARGE)
+    } else {
+        Checks::NONE
+    };
+    let z1_model = if z_from_state { MODEL } else { Checks::NONE };
     let path = Use::of(states)
-        .full(RATIO.or(EXPONENT))
+        .full(RATIO.or(EXPONENT).or(z_model))
         .soft(CONSISTENT.or(RESOLVED).or(RUNNING));
     // Work from the temperature rise: T1, T2, Z, cp; suspect when the
     // compression is inconsistent or the machine is stationary.
     let actual = Use::of(T1.or(T2).or(z).or(props))
-        .full(MODEL)
+        .full(MODEL.or(MODEL_DISCHARGE))
         .soft(CONSISTENT.or(EXPONENT).or(RUNNING));
-    let isothermal = Use::of(P1.or(P2).or(T1).or(z)).full(RATIO);
+    // The suction Z (from the model's suction state, or supplied).
+    let isothermal = Use::of(P1.or(P2).or(T1).or(z1)).full(RATIO.or(z1_model));
     let above = Use::of(states.or(z).or(props))
-        .full(RATIO.or(MODEL))
+        .full(RATIO.or(MODEL).or(MODEL_DISCHARGE))
         .soft(CONSISTENT.or(EXPONENT).or(RUNNING));
     CompressorUses {
         pressure_ratio: ratio,
-        isentropic_discharge_temperature: Use::of(P1.or(P2).or(T1).or(props)).full(RATIO.or(MODEL)),
+        isentropic_discharge_temperature: Use::of(P1.or(P2).or(T1).or(iso)).full(RATIO.or(MODEL)),
         temperature_rise: Use::of(T1.or(T2)),
-        isentropic_head: Use::of(P1.or(P2).or(T1).or(z).or(props)).full(RATIO.or(MODEL)),
+        isentropic_head: Use::of(P1.or(P2).or(T1).or(z1).or(iso)).full(RATIO.or(MODEL)),
         polytropic_head: path.and(z),
         isothermal_head: isothermal,
         actual_work: actual,
@@ -248,8 +293,8 @@ pub const fn compressor_uses(props: Slots, z: Slots) -> CompressorUses {
         gas_power: actual.and(FLOW),
         work_above_isothermal: above,
         power_above_isothermal: above.and(FLOW),
-        compressibility: Use::of(z),
-        k: Use::of(props).full(MODEL),
+        compressibility: Use::of(z1).full(z1_model),
+        k: Use::of(iso).full(MODEL),
     }
 }
 
@@ -258,6 +303,7 @@ pub const fn compressor_uses(props: Slots, z: Slots) -> CompressorUses {
 #[allow(missing_docs)] // one entry per `PumpResult` field, same name
 pub struct PumpUses {
     pub pressure_ratio: Use,
+    pub density: Use,
     pub pressure_rise: Use,
     pub reversible_work: Use,
     pub shaft_work: Use,
@@ -267,19 +313,28 @@ pub struct PumpUses {
     pub work_ratio_to_gas: Use,
 }
 
-/// The pump table, given the gas property slots (the gas comparison).
-pub const fn pump_uses(props: Slots) -> PumpUses {
+/// The pump table, given the gas property slots (the gas comparison) and
+/// whether the suction density comes from the gas model's dense phase (P1,
+/// T1 and MODEL) rather than the configuration.
+pub const fn pump_uses(props: Slots, model_density: bool) -> PumpUses {
     use check::{MODEL, RATIO};
     use slot::{FLOW, P1, P2, T1};
+    let density = if model_density {
+        Use::of(P1.or(T1)).full(MODEL)
+    } else {
+        Use::of(Slots::NONE)
+    };
     let dp = Use::of(P1.or(P2));
+    let work = Use(dp.0 | density.0);
     let gas = Use::of(P1.or(P2).or(T1).or(props)).full(RATIO.or(MODEL));
     PumpUses {
         pressure_ratio: dp.full(RATIO),
+        density,
         pressure_rise: dp,
-        reversible_work: dp,
-        shaft_work: dp,
+        reversible_work: work,
+        shaft_work: work,
         mass_flow: Use::of(FLOW),
-        power: Use::of(P1.or(P2).or(FLOW)),
+        power: Use(work.0 | Use::of(FLOW).0),
         gas_compression_equivalent: gas,
         work_ratio_to_gas: gas,
     }
@@ -306,7 +361,9 @@ pub struct CoolerUses {
 /// terms: the gas inlet T2/P2 and the outlet).
 pub const fn cooler_uses(cp: Slots) -> CoolerUses {
     use slot::{COOLANT_FLOW, COOLANT_IN_T, COOLANT_OUT_T, FLOW, GAS_OUT_P, GAS_OUT_T, P2, T2};
-    let duty = Use::of(T2.or(GAS_OUT_T).or(FLOW).or(cp));
+    // Duty = m·(h_in − h_out) from the gas model, with the stage's supplied
+    // Z (ideal gas: m·Z·cp·ΔT).
+    let duty = Use::of(T2.or(GAS_OUT_T).or(FLOW).or(slot::Z).or(cp));
     let lmtd = Use::of(T2.or(GAS_OUT_T).or(COOLANT_IN_T).or(COOLANT_OUT_T));
     let dp = Use::of(P2.or(GAS_OUT_P));
     CoolerUses {
@@ -464,7 +521,7 @@ mod tests {
 
     #[test]
     fn the_rule_takes_the_worst_of_exactly_the_uses() {
-        let u = compressor_uses(Slots::NONE, slot::Z);
+        let u = compressor_uses(Slots::NONE, slot::Z, Slots::NONE, slot::Z, false);
         let mut g = Grades::new();
         g.slot(slot::P1, Quality::Bad);
         // The temperature rise does not use P1; the ratio does.

@@ -19,6 +19,8 @@
 //! Keys are stable: a host tool, a log or a historian may store them.
 
 use crate::cooler::{CoolerCondition, CoolerResult};
+use crate::gas::{Validity, ValidityReason};
+use crate::polytropic::PolytropicMethod;
 use crate::quality::{FaultCode, Measured, Quality};
 use crate::real::Real;
 use crate::scan::{CoolerScan, StageScan};
@@ -51,6 +53,8 @@ pub enum QuantityKind {
     Exponent,
     /// A compressibility factor, -.
     Compressibility,
+    /// A density, kg/m³.
+    Density,
     /// A power or heat duty, W.
     Power,
     /// An absolute pressure or a pressure difference, Pa.
@@ -82,8 +86,11 @@ impl QuantityKind {
             QuantityKind::SpecificWork => Some(tolerance::SPECIFIC_WORK),
             // A dimensionless fraction is held to the efficiency entry.
             QuantityKind::Efficiency | QuantityKind::Fraction => Some(tolerance::EFFICIENCY),
-            // Dimensionless properties near 1 share the exponent entry.
-            QuantityKind::Exponent | QuantityKind::Compressibility => Some(tolerance::EXPONENT),
+            QuantityKind::Exponent => Some(tolerance::EXPONENT),
+            // Computed by the gas model (Peng-Robinson's cubic in f32).
+            QuantityKind::Compressibility | QuantityKind::Density => {
+                Some(tolerance::COMPRESSIBILITY)
+            }
             QuantityKind::Power => Some(tolerance::POWER),
             QuantityKind::Pressure => Some(tolerance::PRESSURE),
             QuantityKind::MassFlow
@@ -215,6 +222,18 @@ impl<T> IntoField<T> for StageCondition {
         FieldValue::Tag(self.as_str())
     }
 }
+impl<T> IntoField<T> for PolytropicMethod {
+    #[inline]
+    fn into_field(self) -> FieldValue<T> {
+        FieldValue::Tag(self.as_str())
+    }
+}
+impl<T> IntoField<T> for Validity {
+    #[inline]
+    fn into_field(self) -> FieldValue<T> {
+        FieldValue::Tag(self.reason.as_str())
+    }
+}
 impl<T> IntoField<T> for CoolerCondition {
     #[inline]
     fn into_field(self) -> FieldValue<T> {
@@ -276,17 +295,17 @@ result_fields!(CompressorResult {
     temperature_rise: "temperature_rise_K", "Temperature rise", "K", TemperatureDifference,
         Computed, "Measured temperature rise T2 - T1.";
     isentropic_head: "isentropic_head_J_per_kg", "Isentropic head", "J/kg", SpecificWork, Computed,
-        "Isentropic head Z R T1 k/(k-1) (r^((k-1)/k) - 1).";
+        "Isentropic head h(p2, s1) - h1 from the gas model (ideal gas: Z R T1 k/(k-1) (r^((k-1)/k) - 1)).";
     polytropic_head: "polytropic_head_J_per_kg", "Polytropic head", "J/kg", SpecificWork, Computed,
-        "Polytropic head along the measured path.";
+        "Polytropic head along the measured path, by the method in `polytropic_method`.";
     isothermal_head: "isothermal_head_J_per_kg", "Isothermal head", "J/kg", SpecificWork, Computed,
-        "Isothermal head Z R T1 ln r (the ideal).";
+        "Isothermal head Z1 R T1 ln r with the suction Z (the ideal).";
     actual_work: "actual_work_J_per_kg", "Actual work", "J/kg", SpecificWork, Computed,
-        "Actual specific work from the temperature rise, Z cp (T2 - T1).";
+        "Actual specific work, the enthalpy rise h2 - h1 from the gas model (ideal gas: Z cp (T2 - T1)).";
     isentropic_efficiency: "isentropic_efficiency", "Isentropic efficiency", "-", Efficiency,
         Computed, "Isentropic head over actual work.";
     polytropic_efficiency: "polytropic_efficiency", "Polytropic efficiency", "-", Efficiency,
-        Computed, "((k-1)/k) / ((n-1)/n).";
+        Computed, "Polytropic head over actual work (ideal gas: ((k-1)/k) / ((n-1)/n)).";
     polytropic_exponent: "polytropic_exponent", "Polytropic exponent n", "-", Exponent, Computed,
         "Polytropic exponent n inferred from the measured end states.";
     mass_flow: "mass_flow_kg_per_s", "Mass flow", "kg/s", MassFlow, PassThrough,
@@ -297,17 +316,23 @@ result_fields!(CompressorResult {
         SpecificWork, Difference, "Actual work minus the isothermal head.";
     power_above_isothermal: "power_above_isothermal_W", "Power above isothermal", "W", Power,
         Difference, "Gas power minus isothermal power.";
-    compressibility: "compressibility", "Compressibility Z used", "-", Compressibility,
-        PassThrough, "Mean compressibility factor Z used, with the quality of the supplied value (good for the configured one).";
-    k: "heat_capacity_ratio", "Heat-capacity ratio k used", "-", Exponent, Computed,
-        "Mean heat-capacity ratio k used.";
+    compressibility: "compressibility", "Compressibility Z (suction)", "-", Compressibility,
+        Computed, "Suction compressibility factor: the configured or supplied mean Z (ideal gas) or computed (Peng-Robinson), with the quality of what it used.";
+    k: "heat_capacity_ratio", "Isentropic exponent used", "-", Exponent, Computed,
+        "The mean k (ideal gas) or the isentropic volume exponent ln(p2/p1)/ln(v1/v2s) (Peng-Robinson).";
+    polytropic_method: "polytropic_method", "Polytropic method", "", Condition, Exact,
+        "Method of the polytropic head, efficiency and exponent (`schultz`, `sandberg-colby`, `reference-path`).";
+    gas_validity: "gas_model_validity", "Gas model", "", Condition, Exact,
+        "The gas model's validity for this stage's states (`in-range` or why not: `near-critical`, `ideal-gas-reduced-pressure`, `liquid-like`, ...); folded into the quality of every output that uses gas-model states.";
     condition: "condition", "Condition", "", Condition, Exact,
-        "What the evaluation found, the first reason an output is not good (`normal`, `input-bad`, `no-compression`, `no-temperature-rise`, `efficiency-above-one`, `rating-point`, `ratio-out-of-range`, `implausible-temperature-rise`, `stationary`, `below-resolution`).";
+        "What the evaluation found, the first reason an output is not good (`normal`, `input-bad`, `no-compression`, `no-temperature-rise`, `efficiency-above-one`, `outside-gas-model`, `rating-point`, `ratio-out-of-range`, `implausible-temperature-rise`, `stationary`, `below-resolution`).";
 });
 
 result_fields!(PumpResult {
     pressure_ratio: "pressure_ratio", "Pressure ratio", "-", PressureRatio, Computed,
         "Discharge over suction pressure (absolute).";
+    density: "suction_density_kg_per_m3", "Suction density", "kg/m3", Density, Computed,
+        "Suction density used: from the gas model (Peng-Robinson, Peneloux-translated) or the configured value.";
     pressure_rise: "pressure_rise_Pa", "Pressure rise", "Pa", Pressure, Computed,
         "Pump pressure rise.";
     reversible_work: "reversible_work_J_per_kg", "Reversible work v dP", "J/kg", SpecificWork,
@@ -319,7 +344,7 @@ result_fields!(PumpResult {
     power: "power_W", "Shaft power", "W", Power, Computed, "Pump shaft power.";
     gas_compression_equivalent: "gas_compression_equivalent_J_per_kg",
         "Gas compression, same ratio", "J/kg", SpecificWork, Computed,
-        "Isentropic work an ideal-gas compressor would need for the pump's pressure ratio from its suction temperature.";
+        "Isentropic work an ideal-gas compressor (Z = 1) would need for the pump's pressure ratio from its suction temperature.";
     work_ratio_to_gas: "work_ratio_to_gas", "Pump work / gas work", "-", Fraction, Computed,
         "Pump shaft work over that gas compression work.";
     condition: "condition", "Condition", "", Condition, Exact,
@@ -524,7 +549,7 @@ impl StageCondition {
     /// Stable kebab-case name (`normal`, `input-bad`, `no-compression`,
     /// `no-temperature-rise`, `efficiency-above-one`, `rating-point`,
     /// `ratio-out-of-range`, `implausible-temperature-rise`, `stationary`,
-    /// `below-resolution`).
+    /// `below-resolution`, `outside-gas-model`).
     pub const fn as_str(self) -> &'static str {
         match self {
             StageCondition::Normal => "normal",
@@ -537,6 +562,41 @@ impl StageCondition {
             StageCondition::ImplausibleTemperatureRise => "implausible-temperature-rise",
             StageCondition::Stationary => "stationary",
             StageCondition::BelowResolution => "below-resolution",
+            StageCondition::OutsideGasModel => "outside-gas-model",
+        }
+    }
+}
+
+impl PolytropicMethod {
+    /// Stable kebab-case name (`schultz`, `sandberg-colby`,
+    /// `reference-path`).
+    pub const fn as_str(self) -> &'static str {
+        match self {
+            PolytropicMethod::Schultz => "schultz",
+            PolytropicMethod::SandbergColby => "sandberg-colby",
+            PolytropicMethod::ReferencePath => "reference-path",
+        }
+    }
+}
+
+impl ValidityReason {
+    /// Stable kebab-case name (`in-range`, `ideal-gas-reduced-pressure`,
+    /// `temperature-out-of-range`, `pressure-out-of-range`, `near-critical`,
+    /// `near-saturation`, `no-vapour-root`, `liquid-like`, `dense-estimate`,
+    /// `not-converged`, `invalid`).
+    pub const fn as_str(self) -> &'static str {
+        match self {
+            ValidityReason::InRange => "in-range",
+            ValidityReason::IdealGasReducedPressure => "ideal-gas-reduced-pressure",
+            ValidityReason::TemperatureOutOfRange => "temperature-out-of-range",
+            ValidityReason::PressureOutOfRange => "pressure-out-of-range",
+            ValidityReason::NearCritical => "near-critical",
+            ValidityReason::NearSaturation => "near-saturation",
+            ValidityReason::NoVapourRoot => "no-vapour-root",
+            ValidityReason::LiquidLike => "liquid-like",
+            ValidityReason::DenseEstimate => "dense-estimate",
+            ValidityReason::NotConverged => "not-converged",
+            ValidityReason::Invalid => "invalid",
         }
     }
 }

@@ -91,6 +91,7 @@ pub mod fields;
 pub mod flow;
 pub mod gas;
 pub mod plausibility;
+pub mod polytropic;
 pub mod quality;
 pub mod rating;
 pub mod real;

@@ -89,12 +89,17 @@ pub const POWER: Tolerance = tol("power / duty (W)", 2e-6, 0.1, 5e-3, 1.0);
 /// Pressures and pressure differences, Pa.
 pub const PRESSURE: Tolerance = tol("pressure (Pa)", 1e-6, 0.05, 5e-3, 0.05);
 
+/// Compressibility factor and density from the gas model, -, kg/m³
+/// (Peng–Robinson in f32: the cubic's root and the entropy match).
+pub const COMPRESSIBILITY: Tolerance =
+    tol("compressibility factor / density", 4e-6, 0.0, 5e-3, 0.0);
+
 /// Surge margin (dimensionless distance from the surge line), -. Exercised
 /// by `tests/surge_margin.rs` (invariance sweep) rather than the train sweep.
 pub const SURGE_MARGIN: Tolerance = tol("surge margin", 0.0, 2e-5, 0.0, 1e-3);
 
 /// The whole table, in README order.
-pub const TABLE: [Tolerance; 9] = [
+pub const TABLE: [Tolerance; 10] = [
     PRESSURE_RATIO,
     TEMPERATURE,
     TEMPERATURE_DIFFERENCE,
@@ -103,5 +108,6 @@ pub const TABLE: [Tolerance; 9] = [
     EXPONENT,
     POWER,
     PRESSURE,
+    COMPRESSIBILITY,
     SURGE_MARGIN,
 ];

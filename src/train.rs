@@ -351,6 +351,15 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         &self.config
     }
 
+    /// The gas model, mutable: replace a Peng–Robinson composition between
+    /// scans (a gas-chromatograph update) with
+    /// [`crate::gas::PengRobinson::set_composition`], which validates it and
+    /// recomputes the mixture constants without allocating. Only the gas
+    /// changes; the stage configuration stays validated.
+    pub fn gas_mut(&mut self) -> &mut G {
+        &mut self.config.gas
+    }
+
     /// The sensor-boundary ranges and stated accuracy in use.
     pub fn limits(&self) -> &Limits<T> {
         &self.limits
@@ -498,8 +507,9 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 None => next.map_or(Measured::bad(), |n| n.p1),
             };
             let tout = limits.temperature(raw.gas_outlet_temperature.map(Kelvin::kelvin));
-            // cp over the measured temperatures; at a nominal temperature
-            // where one is missing (the rule marks what used it).
+            // Enthalpy drop on the stage's basis (same model, same supplied
+            // Z), so stage power and cooler duty balance; at a nominal
+            // temperature where one is missing (the rule marks what used it).
             let nominal = T::of(288.15);
             let t_in = if s.t2.quality.is_usable() {
                 s.t2.value
@@ -511,11 +521,32 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             } else {
                 t_in
             };
-            let gas_cp = self
-                .config
-                .gas
-                .path(s.p2.value, t_in, gas_out_p.value, t_out, None)
-                .cp;
+            let (z, q_z) = match s.z {
+                Some(m) if m.quality.is_usable() => (Some(m.value), m.quality),
+                Some(m) => (None, m.quality.worst(Quality::Bad)),
+                None => (None, Quality::Good),
+            };
+            let (drop, validity) =
+                self.config
+                    .gas
+                    .enthalpy_drop(s.p2.value, t_in, gas_out_p.value, t_out, z);
+            // The model's validity counts where its states were evaluated at
+            // usable inputs (otherwise the outputs using the bad input are
+            // bad by their own slots).
+            let states_ok = s.p2.quality.is_usable()
+                && gas_out_p.quality.is_usable()
+                && s.t2.quality.is_usable()
+                && tout.quality.is_usable();
+            let q_model = if states_ok {
+                validity.quality
+            } else {
+                Quality::Good
+            };
+            let gas_enthalpy_drop = if T::is_finite(drop) {
+                Measured::derived(drop, q_model.worst(q_z))
+            } else {
+                Measured::bad()
+            };
             let temperature = |m: Option<Measured<Kelvin<T>>>| {
                 m.map_or(Measured::bad(), |m| {
                     limits.temperature(m.map(Kelvin::kelvin))
@@ -532,7 +563,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 coolant_mass_flow: raw
                     .coolant_mass_flow
                     .map_or(Measured::bad(), |m| limits.mass_flow(m)),
-                gas_cp,
+                gas_enthalpy_drop,
                 coolant_cp: cooler_cfg.coolant_cp,
             };
             // In place, as for the stages (saves a ~92-byte copy).

@@ -17,11 +17,35 @@ use polytrope::config_blob::{
     VERSION,
 };
 use polytrope::demo;
-use polytrope::gas::CARBON_DIOXIDE;
+use polytrope::gas::{HeatCapacity, IdealGas, CARBON_DIOXIDE};
+use polytrope::real::Real;
+use polytrope::train::{Train, TrainConfig};
 use polytrope::Problem;
 
+/// The demo train's stages on a constant-k ideal CO2 (the blob carries an
+/// ideal gas; the demo itself runs Peng–Robinson, which the blob format does
+/// not describe).
+fn ideal_demo_config<T: Real>() -> TrainConfig<T, IdealGas<T>, { demo::STAGES }> {
+    let cfg = demo::config::<T>().unwrap();
+    TrainConfig {
+        gas: IdealGas::new(
+            T::of(CARBON_DIOXIDE.molar_mass),
+            HeatCapacity::ConstantK(T::of(CARBON_DIOXIDE.k)),
+            T::ONE,
+        )
+        .unwrap(),
+        stages: cfg.stages,
+        max_interstage_pressure_drop: cfg.max_interstage_pressure_drop,
+        steady_state: cfg.steady_state,
+    }
+}
+
+fn ideal_demo_train() -> Train<f32, IdealGas<f32>, { demo::STAGES }, { demo::WINDOW }> {
+    Train::new(ideal_demo_config::<f32>()).unwrap()
+}
+
 fn sample() -> (TrainBlob, Vec<u8>) {
-    let cfg = demo::config::<f32>().unwrap();
+    let cfg = ideal_demo_config::<f32>();
     let blob = TrainBlob::from_config(
         &cfg,
         CARBON_DIOXIDE.molar_mass,
@@ -47,7 +71,7 @@ fn round_trip_gives_the_host_configuration() {
     assert!(bytes.len() <= 256, "{}", bytes.len());
     assert_eq!(decode(&bytes).unwrap(), blob);
     let train = decode_train::<f32, { demo::STAGES }, { demo::WINDOW }>(&bytes).unwrap();
-    assert_eq!(*train.config(), demo::config::<f32>().unwrap());
+    assert_eq!(*train.config(), ideal_demo_config::<f32>());
     // The f64 reference build reads the same blob.
     assert!(decode_train::<f64, { demo::STAGES }, { demo::WINDOW }>(&bytes).is_ok());
 }
@@ -67,7 +91,7 @@ fn every_truncation_is_refused() {
 #[test]
 fn every_single_bit_flip_is_refused_and_keeps_the_running_train() {
     let (_, bytes) = sample();
-    let mut train = demo::train::<f32>().unwrap();
+    let mut train = ideal_demo_train();
     for i in 0..30 {
         train.update(&demo::scan(i));
     }
@@ -109,7 +133,7 @@ fn wrong_version_bad_content_and_wrong_stage_count_are_typed_errors() {
     bad.stages[2].design_discharge_pressure = bad.stages[2].design_suction_pressure * 0.5;
     let mut buf = [0u8; MAX_BLOB_LEN];
     let n = encode(&bad, &mut buf).unwrap();
-    let mut train = demo::train::<f32>().unwrap();
+    let mut train = ideal_demo_train();
     let before = *train.config();
     match apply(&mut train, &buf[..n]) {
         Err(BlobError::Config(e)) => {

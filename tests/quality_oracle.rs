@@ -6,8 +6,13 @@
 //! inputs and intermediate results it uses, and no more; a good output is
 //! physically plausible. This file states, independently of the kernel's
 //! own table (`polytrope::dependency`), which scan slots each output may
-//! depend on, from the physics of each equation (a constant-k ideal gas, so
-//! the gas properties depend on no measurement):
+//! depend on, from the physics of each equation, for three gas models on the
+//! demo scans: a constant-k ideal gas (the gas properties depend on no
+//! measurement), a cp(T) ideal gas, and the demo's own Peng–Robinson CO2
+//! (every property depends on the state, p and T). Every gas model has a
+//! validity range over the states (an ideal gas at high reduced pressure,
+//! near-critical, liquid-like), so the states are quality deps of every
+//! output that uses the model:
 //!
 //! * perturb one slot (to a bad or uncertain quality, an implausible value or
 //!   a small plausible change);
@@ -42,7 +47,7 @@ use polytrope::demo;
 use polytrope::fields::{FieldValue, Group, StageInput};
 use polytrope::gas::{IdealGas, CARBON_DIOXIDE};
 use polytrope::quality::{Measured, Quality};
-use polytrope::train::{Train, TrainConfig};
+use polytrope::train::{Snapshot, Train, TrainConfig};
 
 const F_P1: usize = StageInput::SuctionPressure.index();
 const F_T1: usize = StageInput::SuctionTemperature.index();
@@ -105,26 +110,96 @@ fn flow() -> Set {
     Set::of(0, &[F_FLOW])
 }
 
-std::thread_local! {
-    /// This thread's runs use the CO2 cp(T) polynomial instead of the demo's
-    /// constant k: k and cp then depend on the path temperatures.
-    static POLY: std::cell::Cell<bool> = const { std::cell::Cell::new(false) };
+/// Gas models the oracle runs: CO2 as a constant-k ideal gas, CO2 with its
+/// cp(T) polynomial (k and cp depend on the path temperatures), and the demo
+/// train's own Peng–Robinson CO2.
+#[derive(Clone, Copy, PartialEq, Debug)]
+enum Model {
+    ConstantK,
+    CpPolynomial,
+    PengRobinson,
 }
+
+std::thread_local! {
+    /// This thread's gas model.
+    static MODEL: std::cell::Cell<Model> = const { std::cell::Cell::new(Model::ConstantK) };
+}
+
+fn model() -> Model {
+    MODEL.with(|m| m.get())
+}
+
+/// Compressor outputs computed from the gas model's states (their quality
+/// takes the model's validity over the four states).
+const MODEL_OUTPUTS: [&str; 14] = [
+    "isentropic_discharge_temperature",
+    "isentropic_head",
+    "polytropic_head",
+    "isothermal_head",
+    "actual_work",
+    "isentropic_efficiency",
+    "polytropic_efficiency",
+    "polytropic_exponent",
+    "gas_power",
+    "work_above_isothermal",
+    "power_above_isothermal",
+    "compressibility",
+    "k",
+    "gas_validity",
+];
 
 /// (value deps, quality-only deps) of one output of stage `i` of the demo
 /// train (stages 0-3 compressors, 4 the pump).
 fn deps(name: &str, i: usize) -> (Set, Set) {
+    let (v, q) = deps_model(name, i);
+    let states = Set::of(i, &[F_P1, F_P2, F_T1, F_T2]);
+    if i != NC && MODEL_OUTPUTS.contains(&name) {
+        return (v, q.or(states));
+    }
+    (v, q)
+}
+
+/// The value deps by gas model (before the validity range).
+fn deps_model(name: &str, i: usize) -> (Set, Set) {
     let (v, q) = deps_constant_k(name, i);
-    if !POLY.with(|p| p.get()) || i == NC {
-        return (v, q);
+    let s = |f: &[usize]| Set::of(i, f);
+    match model() {
+        Model::ConstantK => (v, q),
+        // With cp(T), k is the mean over the measured path T1..T2: whatever
+        // uses k (the isentropic discharge temperature and head) uses T2 too.
+        Model::CpPolynomial if i != NC => match name {
+            "isentropic_discharge_temperature" | "isentropic_head" => (v.or(s(&[F_T2])), q),
+            "k" => (s(&[F_T1, F_T2]), q),
+            _ => (v, q),
+        },
+        Model::CpPolynomial => (v, q),
+        // Peng–Robinson: Z, h, s and v are functions of (p, T); no supplied
+        // Z. The pump's suction density comes from the model at (P1, T1).
+        Model::PengRobinson if i == NC => match name {
+            "density" => (s(&[F_P1, F_T1]), none()),
+            "reversible_work" | "shaft_work" | "power" | "work_ratio_to_gas" => {
+                (v.or(s(&[F_P1, F_T1])), q)
+            }
+            _ => (v, q),
+        },
+        Model::PengRobinson => match name {
+            "isentropic_discharge_temperature" | "isentropic_head" | "isothermal_head" => {
+                (s(&[F_P1, F_P2, F_T1]), q)
+            }
+            "compressibility" => (s(&[F_P1, F_T1]), q),
+            "k" => (s(&[F_P1, F_P2, F_T1]), q),
+            "actual_work"
+            | "gas_power"
+            | "polytropic_head"
+            | "work_above_isothermal"
+            | "power_above_isothermal" => (v.or(s(&[F_P1, F_P2, F_T1, F_T2])), q),
+            _ => (v, q),
+        },
     }
-    // With cp(T), k is the mean over the measured path T1..T2: whatever uses
-    // k (the isentropic discharge temperature and head) uses T2 too.
-    match name {
-        "isentropic_discharge_temperature" | "isentropic_head" => (v.or(Set::of(i, &[F_T2])), q),
-        "k" => (Set::of(i, &[F_T1, F_T2]), q),
-        _ => (v, q),
-    }
+}
+
+fn none() -> Set {
+    Set(0)
 }
 
 fn deps_constant_k(name: &str, i: usize) -> (Set, Set) {
@@ -177,18 +252,25 @@ fn cooler_deps(name: &str, i: usize) -> (Set, Set) {
     let c = |f: &[usize]| Set::of(i, f);
     let none = Set(0);
     let p_out = Set::of(i, &[F_P2]).or(Set::of(i + 1, &[F_P1]));
-    let duty = c(&[F_T2, F_TOUT]).or(flow());
+    // Duty from the gas model's enthalpy drop between the inlet (P2, T2) and
+    // outlet states (its Z is the stage's; its validity over both states is
+    // a quality dep; Peng–Robinson's enthalpy uses the pressures too).
+    let duty = match model() {
+        Model::PengRobinson => c(&[F_T2, F_TOUT]).or(flow()).or(p_out),
+        _ => c(&[F_T2, F_TOUT, F_Z]).or(flow()),
+    };
+    let validity = c(&[F_T2, F_TOUT]).or(p_out);
     let lmtd = c(&[F_T2, F_TOUT, F_TCIN, F_TCOUT]);
     match name {
         "gas_temperature_drop" => (c(&[F_T2, F_TOUT]), none),
         "approach" => (c(&[F_TOUT, F_TCIN]), none),
         "effectiveness" => (c(&[F_T2, F_TOUT, F_TCIN]), none),
-        "heat_duty" => (duty, none),
+        "heat_duty" => (duty, validity),
         "pressure_drop" | "relative_pressure_drop" => (p_out, none),
         "coolant_temperature_rise" => (c(&[F_TCIN, F_TCOUT]), none),
         "lmtd" => (lmtd, none),
-        "ua" => (duty.or(lmtd), none),
-        "heat_balance_error" => (duty.or(lmtd).or(c(&[F_MC])), none),
+        "ua" => (duty.or(lmtd), validity),
+        "heat_balance_error" => (duty.or(lmtd).or(c(&[F_MC])), validity),
         "next_stage_temperature_rise" => {
             if i + 1 < NC {
                 (Set::of(i + 1, &[F_T1, F_T2]), none)
@@ -273,19 +355,28 @@ fn run(raw: &[RawStage; N], f32: bool) -> Vec<O> {
 }
 
 fn run_in<T: codec::FromF32>(raw: &[RawStage; N]) -> Vec<O> {
-    let mut train = if POLY.with(|p| p.get()) {
-        let config = demo::config::<T>().unwrap();
-        Train::<T, _, N, { demo::WINDOW }>::new(TrainConfig {
-            gas: IdealGas::from_spec(&CARBON_DIOXIDE, true, T::ONE).unwrap(),
-            ..config
-        })
-        .unwrap()
-    } else {
-        demo::train::<T>().unwrap()
-    };
     let scan = decode_scan::<T, N>(raw);
     let mut out = Vec::new();
-    train.update(&scan).visit_groups(&mut |g, spec, v| {
+    let ideal = |cp_polynomial: bool| {
+        let config = demo::config::<T>().unwrap();
+        Train::<T, _, N, { demo::WINDOW }>::new(TrainConfig {
+            gas: IdealGas::from_spec(&CARBON_DIOXIDE, cp_polynomial, T::ONE).unwrap(),
+            stages: config.stages,
+            max_interstage_pressure_drop: config.max_interstage_pressure_drop,
+            steady_state: config.steady_state,
+        })
+        .unwrap()
+    };
+    match model() {
+        Model::ConstantK => collect(ideal(false).update(&scan), &mut out),
+        Model::CpPolynomial => collect(ideal(true).update(&scan), &mut out),
+        Model::PengRobinson => collect(demo::train::<T>().unwrap().update(&scan), &mut out),
+    }
+    out
+}
+
+fn collect<T: codec::FromF32>(snap: &Snapshot<T, N>, out: &mut Vec<O>) {
+    snap.visit_groups(&mut |g, spec, v| {
         let (section, idx) = match g {
             Group::Stage(i) => (0, usize::from(i)),
             Group::Cooler(i) => (1, usize::from(i)),
@@ -309,7 +400,6 @@ fn run_in<T: codec::FromF32>(raw: &[RawStage; N]) -> Vec<O> {
             code,
         });
     });
-    out
 }
 
 fn deps_of(o: &O) -> (Set, Set) {
@@ -677,7 +767,7 @@ fn every_slot_perturbed_in_the_f32_build() {
 /// path temperatures.
 #[test]
 fn every_slot_perturbed_with_a_cp_polynomial_gas() {
-    POLY.with(|p| p.set(true));
+    MODEL.with(|m| m.set(Model::CpPolynomial));
     let cases = std::env::var("POLYTROPE_ORACLE_CASES")
         .ok()
         .and_then(|s| s.parse().ok())
@@ -685,6 +775,42 @@ fn every_slot_perturbed_with_a_cp_polynomial_gas() {
     let c = oracle(cases, 0x5eed_0b5e_11ed_0c9e, false);
     eprintln!(
         "oracle cp(T): {} cases; {} {} {} {} {}",
+        c.cases,
+        c.unrelated_changed,
+        c.check_dep_value_changed,
+        c.bad_input_dependent_good,
+        c.implausible_input_dependent_good,
+        c.implausible_good
+    );
+    for l in &c.first {
+        eprintln!("  {l}");
+    }
+    assert!(c.cases > 1000);
+    assert_eq!(
+        (
+            c.unrelated_changed,
+            c.check_dep_value_changed,
+            c.bad_input_dependent_good,
+            c.implausible_input_dependent_good,
+            c.implausible_good
+        ),
+        (0, 0, 0, 0, 0),
+        "see the listing above"
+    );
+}
+
+/// The same run on the demo train's own Peng–Robinson CO2 (every property
+/// a function of the state; the pump's density from the model).
+#[test]
+fn every_slot_perturbed_with_the_peng_robinson_demo_gas() {
+    MODEL.with(|m| m.set(Model::PengRobinson));
+    let cases = std::env::var("POLYTROPE_ORACLE_CASES")
+        .ok()
+        .and_then(|s| s.parse().ok())
+        .unwrap_or(3_000);
+    let c = oracle(cases, 0x5eed_0b5e_11ed_0b12, false);
+    eprintln!(
+        "oracle Peng-Robinson: {} cases; {} {} {} {} {}",
         c.cases,
         c.unrelated_changed,
         c.check_dep_value_changed,

@@ -5,7 +5,7 @@
 # overflow, NaN, unit slips, spikes, near-suction readings) and small
 # plausible changes. Asserts that no good output is implausible and none
 # changed after its input went bad or uncertain, in the f64 and f32 builds
-# and with a cp(T) gas. Bounded: fixed seed and
+# with a cp(T) gas and with the Peng–Robinson demo gas. Bounded: fixed seed and
 # case count, killed after 120 s. Prints the counts.
 set -euo pipefail
 cd "$(dirname "$0")/../.."

@@ -106,6 +106,8 @@ pub mod disp {
     pub const BAR: Disp = d("bar", 1e-5, 2);
     /// Pressure difference.
     pub const KPA: Disp = d("kPa", 1e-3, 1);
+    /// Density.
+    pub const KG_PER_M3: Disp = d("kg/m3", 1.0, 1);
     /// Mass flow.
     pub const KG_PER_S: Disp = d("kg/s", 1.0, 3);
 }
@@ -302,6 +304,7 @@ pub fn disp_of(spec: &FieldSpec, detail: Detail) -> Disp {
         QuantityKind::Pressure => disp::BAR_A,
         QuantityKind::MassFlow => disp::KG_PER_S,
         QuantityKind::Conductance => disp::KW_PER_K,
+        QuantityKind::Density => disp::KG_PER_M3,
         _ => Disp {
             unit: "-",
             scale: 1.0,

@@ -502,9 +502,19 @@ fn series_plots(
 
 /// Writes the demo plots (the invented demo train over 1200 scans at an
 /// assumed 1 s scan, and the invented surge-simulation trajectory) into `dir`.
+/// The host's replay lane runs an ideal gas (train files describe one), so
+/// the plots evaluate the demo's scans on constant-k ideal CO2 with the
+/// demo's stages; the demo itself (`polytrope-host demo`) runs Peng–Robinson.
 pub fn demo_plots(dir: &Path) -> Result<Vec<PathBuf>, CliError> {
+    let demo_config = polytrope::demo::config::<f32>()?;
+    let gas = polytrope::gas::IdealGas::from_spec(&polytrope::gas::CARBON_DIOXIDE, false, 1.0)?;
     let mut lane = crate::replay::Lane::<f32, { polytrope::demo::STAGES }> {
-        train: polytrope::demo::train::<f32>()?,
+        train: polytrope::train::Train::new(polytrope::train::TrainConfig {
+            gas,
+            stages: demo_config.stages,
+            max_interstage_pressure_drop: demo_config.max_interstage_pressure_drop,
+            steady_state: demo_config.steady_state,
+        })?,
         monitors: vec![None; polytrope::demo::STAGES],
         extra: vec![crate::replay::Extra::default(); polytrope::demo::STAGES],
         orifices: vec![None; polytrope::demo::STAGES],
@@ -520,13 +530,19 @@ pub fn demo_plots(dir: &Path) -> Result<Vec<PathBuf>, CliError> {
         crate::replay::record_series(&mut s, &lane);
     }
     let h = s.time.clone();
-    let mut files = series_plots(dir, "demo train (invented scenario)", &s, &h, |i| {
-        if i < 4 {
-            format!("S{} compressor", i + 1)
-        } else {
-            format!("S{} pump", i + 1)
-        }
-    })?;
+    let mut files = series_plots(
+        dir,
+        "demo train (invented scenario; ideal-gas CO2)",
+        &s,
+        &h,
+        |i| {
+            if i < 4 {
+                format!("S{} compressor", i + 1)
+            } else {
+                format!("S{} pump", i + 1)
+            }
+        },
+    )?;
     // The surge simulation's trajectory on its map (invented scenario).
     let (line, q2, hr, t) = crate::surgemap::sim_trajectory()?;
     files.extend(both!(dir, "map_surge_sim", (1200, 820), |root| {

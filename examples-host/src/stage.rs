@@ -286,6 +286,10 @@ fn condition_note(c: StageCondition) -> Option<&'static str> {
             "discharge temperature is not above suction temperature: work and efficiencies \
              cannot come from the temperature rise",
         ),
+        StageCondition::OutsideGasModel => Some(
+            "the gas model has no valid gas state here (liquid-like or dense, or not finite): \
+             heads and efficiencies are bad",
+        ),
         StageCondition::EfficiencyAboveOne => Some(
             "discharge temperature is below the isentropic one (efficiency above 1): the process \
              is cooled or a reading is off; efficiencies are marked uncertain or bad",

@@ -45,9 +45,11 @@ fn demo_prints_all_five_stages_and_the_totals() {
             .lines()
             .find(|l| l.starts_with(label))
             .unwrap_or_else(|| panic!("no row {label}"));
+        // A trailing `?` marks an uncertain value (stage 4's suction is near
+        // CO2's critical point, where the gas model flags its results).
         let numbers: Vec<f64> = line
             .split_whitespace()
-            .filter_map(|c| c.parse::<f64>().ok())
+            .filter_map(|c| c.trim_end_matches('?').parse::<f64>().ok())
             .collect();
         assert_eq!(numbers.len(), 4, "{line}");
         assert!(numbers.iter().all(|&x| x > 0.0), "{line}");
@@ -125,19 +127,31 @@ fn demo_json_is_complete_and_adds_up() {
         assert!(rel(eff, iso / work) < 1e-5);
 
         // The demo synthesises each discharge temperature from an assumed
-        // polytropic efficiency (0.80, 0.79, 0.78, 0.76 in polytrope::demo);
-        // the kernel must recover it from the temperatures.
+        // polytropic efficiency (0.80, 0.79, 0.78, 0.76 in polytrope::demo)
+        // along the gas model's constant-efficiency path; the kernel's
+        // Schultz method must recover it within its measured method error
+        // (0.2 points, README).
         for (s, eta) in stages[..4].iter().zip([0.80, 0.79, 0.78, 0.76]) {
             let got = s.value("polytropic_efficiency");
-            assert!((got - eta).abs() < 1e-4, "{precision}: {got} vs {eta}");
+            assert!((got - eta).abs() < 2e-3, "{precision}: {got} vs {eta}");
             let (es, ep) = (s.value("isentropic_efficiency"), got);
             assert!(
                 es < ep,
                 "compression: isentropic below polytropic efficiency"
             );
-            assert_eq!(s.at("condition").str(), "normal");
+            // The fourth stage discharges at 80 bar a near CO2's critical
+            // point: the model's validity is uncertain there and the
+            // condition names it (the values stay, not good).
+            if s.at("gas_model_validity").str() == "in-range" {
+                assert_eq!(s.at("condition").str(), "normal");
+            } else {
+                assert_eq!(s.at("condition").str(), "outside-gas-model");
+                assert_eq!(s.at("gas_model_validity").str(), "near-critical");
+                assert_ne!(s.at("actual_work_J_per_kg").measured().1, "good");
+            }
             assert_eq!(s.at("steady_state"), &J::Bool(true));
         }
+        assert_eq!(stages[3].at("condition").str(), "outside-gas-model");
         let last = &d.at("coolers").arr()[3];
         assert_eq!(last.at("after_stage").num(), 4.0);
         assert_eq!(

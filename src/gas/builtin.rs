@@ -9,6 +9,11 @@
 //!   Çengel & Boles, Table A-2c (after B. G. Kyle, *Chemical and Process
 //!   Thermodynamics*), valid 273–1800 K (methane and ethane 273–1500 K)
 //!   (from memory; checked against CoolProp as above).
+//! - Critical temperatures and pressures (for the ideal-gas validity limit): CoolProp 8.0.0
+//!   HEOS `Tcrit` and `pcrit` of each pure fluid (the reference equations of state it
+//!   implements); for air the pseudo-critical point CoolProp reports for
+//!   its pseudo-pure air (132.53 K, 3.786 MPa), and for the lean natural gas
+//!   Kay's rule (mole-fraction-weighted critical constants, common practice).
 //! - The lean natural gas is an *illustrative* composition (95 % methane,
 //!   3 % ethane, 1 % nitrogen, 1 % carbon dioxide by mole), not a sample of
 //!   any real field; its properties follow from the ideal-gas mixing rule
@@ -39,6 +44,10 @@ pub struct GasSpec {
     pub k: f64,
     /// Ideal-gas cp(T) polynomial.
     pub cp: CpPolynomial,
+    /// (Pseudo-)critical temperature, K.
+    pub critical_temperature: f64,
+    /// (Pseudo-)critical pressure, Pa.
+    pub critical_pressure: f64,
 }
 
 const fn poly(a: f64, b: f64, c: f64, d: f64, t_max: f64) -> CpPolynomial {
@@ -56,6 +65,8 @@ pub const AIR: GasSpec = GasSpec {
     molar_mass: 28.97,
     k: 1.400,
     cp: poly(28.11, 0.1967e-2, 0.4802e-5, -1.966e-9, 1800.0),
+    critical_temperature: 132.53,
+    critical_pressure: 3.786e6,
 };
 
 /// Nitrogen N2 (Çengel & Boles A-1, A-2a, A-2c).
@@ -64,6 +75,8 @@ pub const NITROGEN: GasSpec = GasSpec {
     molar_mass: 28.013,
     k: 1.400,
     cp: poly(28.90, -0.1571e-2, 0.8081e-5, -2.873e-9, 1800.0),
+    critical_temperature: 126.19,
+    critical_pressure: 3.3958e6,
 };
 
 /// Methane CH4 (Çengel & Boles A-1, A-2a, A-2c).
@@ -72,6 +85,8 @@ pub const METHANE: GasSpec = GasSpec {
     molar_mass: 16.043,
     k: 1.299,
     cp: poly(19.89, 5.024e-2, 1.269e-5, -11.01e-9, 1500.0),
+    critical_temperature: 190.56,
+    critical_pressure: 4.5992e6,
 };
 
 /// Ethane C2H6 (Çengel & Boles A-1, A-2a, A-2c); a component of
@@ -81,6 +96,8 @@ pub const ETHANE: GasSpec = GasSpec {
     molar_mass: 30.070,
     k: 1.186,
     cp: poly(6.900, 17.27e-2, -6.406e-5, 7.285e-9, 1500.0),
+    critical_temperature: 305.32,
+    critical_pressure: 4.8722e6,
 };
 
 /// Carbon dioxide CO2 (Çengel & Boles A-1, A-2a, A-2c).
@@ -89,6 +106,8 @@ pub const CARBON_DIOXIDE: GasSpec = GasSpec {
     molar_mass: 44.01,
     k: 1.289,
     cp: poly(22.26, 5.981e-2, -3.501e-5, 7.469e-9, 1800.0),
+    critical_temperature: 304.13,
+    critical_pressure: 7.3773e6,
 };
 
 /// Hydrogen H2 (Çengel & Boles A-1, A-2a, A-2c).
@@ -97,6 +116,8 @@ pub const HYDROGEN: GasSpec = GasSpec {
     molar_mass: 2.016,
     k: 1.405,
     cp: poly(29.11, -0.1916e-2, 0.4003e-5, -0.8704e-9, 1800.0),
+    critical_temperature: 33.145,
+    critical_pressure: 1.2964e6,
 };
 
 /// Mole fractions of [`LEAN_NATURAL_GAS`]: methane, ethane, nitrogen, CO2.
@@ -109,11 +130,15 @@ const LEAN_NG_PARTS: [GasSpec; 4] = [METHANE, ETHANE, NITROGEN, CARBON_DIOXIDE];
 const fn lean_natural_gas() -> GasSpec {
     let mut m = 0.0;
     let mut c = [0.0; 4];
+    let mut pc = 0.0;
+    let mut tc = 0.0;
     let mut i = 0;
     while i < 4 {
         let y = LEAN_NG_FRACTIONS[i];
         let part = LEAN_NG_PARTS[i];
         m += y * part.molar_mass;
+        pc += y * part.critical_pressure;
+        tc += y * part.critical_temperature;
         let mut j = 0;
         while j < 4 {
             c[j] += y * part.cp.coefficients[j];
@@ -134,6 +159,8 @@ const fn lean_natural_gas() -> GasSpec {
             t_min: 273.0,
             t_max: 1500.0,
         },
+        critical_temperature: tc,
+        critical_pressure: pc,
     }
 }
 

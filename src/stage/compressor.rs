@@ -1,19 +1,25 @@
 //! Live performance of one compressor stage from its measured end states.
 //!
-//! Sources: the head relations of [`crate::compression`] (Çengel & Boles
-//! ch. 7; `fluids.compressible`); the temperature-rise ("enthalpy-rise")
-//! method of stage efficiency for ideal gases: actual work = Z·cp·(T2 - T1),
-//! isentropic efficiency = Hs / actual work, polytropic efficiency
-//! = ((k-1)/k) / ((n-1)/n) with n inferred from the measured pressures and
-//! temperatures (common practice for field performance testing, e.g. the
-//! ideal-gas route of ASME PTC 10).
+//! Sources: enthalpy-based stage work (first law for an adiabatic stage,
+//! common practice; ASME PTC 10): actual work = h2 − h1, isentropic head
+//! = h(p2, s1) − h1, isentropic efficiency = isentropic head / actual work,
+//! with the states from the configured [`GasModel`]; the polytropic head and
+//! efficiency by a named method of [`crate::polytropic`] (Schultz by
+//! default). For the ideal gas these reduce to the relations of
+//! [`crate::compression`] (Çengel & Boles ch. 7; `fluids.compressible`):
+//! actual work Z·cp·(T2 − T1), polytropic efficiency ((k−1)/k)/((n−1)/n).
+//! The isothermal head is Z1·R·T1·ln(p2/p1) with the suction Z.
 //!
-//! Cost per call: two logarithms, one exponential, about a dozen divisions.
+//! Cost per call (ideal gas): two logarithms, one exponential, about a dozen
+//! divisions; Peng–Robinson: see the README's device figures.
 
-use crate::compression::{isentropic_exponent_term, isothermal_head};
-use crate::dependency::{check, compressor_uses, property_slots, slot, CompressorUses, Grades};
-use crate::gas::GasModel;
+use crate::compression::isothermal_head;
+use crate::dependency::{
+    check, compressor_uses, property_slots, slot, suction_slots, CompressorUses, Grades,
+};
+use crate::gas::{GasModel, Validity};
 use crate::plausibility::{efficiency_grade, Limits};
+use crate::polytropic::{schultz, PolytropicMethod};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 
@@ -56,6 +62,12 @@ pub enum StageCondition {
     /// stated instrument accuracy for a good efficiency: efficiencies,
     /// exponent and polytropic head uncertain.
     BelowResolution,
+    /// The gas model is outside its validity range at these states
+    /// (near-critical, liquid-like, ideal gas at high reduced pressure; no
+    /// vapour root or non-finite when bad): see
+    /// [`CompressorResult::gas_validity`]. Every output using the model's
+    /// states is uncertain (bad when the model has no valid state).
+    OutsideGasModel,
 }
 
 /// Results of one compressor stage; every value carries its quality.
@@ -74,7 +86,8 @@ pub struct CompressorResult<T> {
     pub polytropic_head: Measured<T>,
     /// Isothermal head (the ideal), J/kg.
     pub isothermal_head: Measured<T>,
-    /// Actual specific work from the temperature rise, Z·cp·(T2 - T1), J/kg.
+    /// Actual specific work, the enthalpy rise h2 − h1 (ideal gas:
+    /// Z·cp·(T2 − T1)), J/kg.
     pub actual_work: Measured<T>,
     /// Isentropic efficiency, -.
     pub isentropic_efficiency: Measured<T>,
@@ -90,11 +103,18 @@ pub struct CompressorResult<T> {
     pub work_above_isothermal: Measured<T>,
     /// Gas power minus isothermal power, W.
     pub power_above_isothermal: Measured<T>,
-    /// Mean compressibility factor used, - (with the quality of the
-    /// supplied value, or good for the configured one).
+    /// Compressibility factor at suction (ideal gas: the mean Z used, with
+    /// the quality of the supplied value, or good for the configured one), -.
     pub compressibility: Measured<T>,
-    /// Mean heat-capacity ratio used, -.
+    /// Isentropic exponent used: the isentropic volume exponent
+    /// ns = ln(p2/p1)/ln(v1/v2s) (ideal gas: the mean k), -.
     pub k: Measured<T>,
+    /// Which method produced the polytropic head, efficiency and exponent.
+    pub polytropic_method: PolytropicMethod,
+    /// Validity of the gas model's states (worst of suction, isentropic and
+    /// discharge), with its reason; mapped onto the `MODEL` check of the
+    /// dependency rule ([`crate::dependency`]).
+    pub gas_validity: Validity,
     /// What the evaluation found.
     pub condition: StageCondition,
 }
@@ -120,6 +140,8 @@ impl<T: Real> CompressorResult<T> {
             power_above_isothermal: b,
             compressibility: b,
             k: b,
+            polytropic_method: PolytropicMethod::Schultz,
+            gas_validity: Validity::INVALID,
             condition: StageCondition::InputBad,
         }
     }
@@ -215,87 +237,146 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
         done |= 1 << 10;
         out.mass_flow.value = flow.value;
     }
-    // The path properties: at the measured end states; without a usable
+    // The gas-model states: at the measured end states; without a usable
     // T1 at a nominal temperature (only a temperature-independent model's
     // outputs can then be good, and the rule sees to that).
     let t1_path = if t1_ok { t1.value } else { T::of(288.15) };
     let t2_path = if t2_ok { t2.value } else { t1_path };
-    let props = gas.path(p1.value, t1_path, p2.value, t2_path, z_supplied);
     let fit = gas.fit_quality(t1_path, t2_path);
-    done |= 1 << 14;
-    out.compressibility.value = props.z;
-    done |= 1 << 15;
-    out.k.value = props.k;
+    let ratio_ok = p_ok && T::is_finite(ratio);
+    let compressing = ratio_ok && ratio > T::ONE;
+    let ln_r = if compressing { T::ln(ratio) } else { T::ZERO };
+    // Without usable pressures the states are evaluated at a nominal
+    // pressure, as for T1 (a pressure-independent model's enthalpy rise is
+    // then still good; the rule marks what used the pressures).
+    let p1_path = if p1.quality.is_usable() {
+        p1.value
+    } else {
+        T::of(101_325.0)
+    };
+    let p2_path = if p_ok { p2.value } else { p1_path };
+    // Suction, isentropic and (with a usable T2) discharge states in one
+    // call.
+    let mut cs = gas.compression(
+        p1_path,
+        t1_path,
+        p2_path,
+        T::ln(p2_path / p1_path),
+        if t2_ok { Some(t2.value) } else { None },
+        z_supplied,
+    );
+    if !compressing {
+        // No compression: no isentropic outputs, so the model's validity is
+        // that of the suction and discharge states alone (an entropy match
+        // towards a lower pressure may fail without touching them), and the
+        // isentropic exponent of such a path is 0/0 for a state-function
+        // model: the path-mean k instead.
+        let s1 = gas.state(p1_path, t1_path, z_supplied);
+        cs.suction_z = s1.z;
+        cs.isentropic_validity = s1.validity;
+        cs.validity = if t2_ok {
+            s1.validity
+                .worst(gas.state(p2_path, t2.value, z_supplied).validity)
+        } else {
+            s1.validity
+        };
+        cs.isentropic_exponent = gas.path(p1_path, t1_path, p2_path, t2_path, z_supplied).k;
+    }
+    // The model's validity counts only where its states were evaluated at
+    // usable inputs (a check that cannot be evaluated downgrades nothing:
+    // the outputs using the bad input are bad by their own slots).
+    let validity = if p_ok && t1_ok {
+        if cs.has_discharge {
+            cs.validity
+        } else {
+            cs.isentropic_validity
+        }
+    } else {
+        Validity::IN_RANGE
+    };
+    let iso_validity = if p_ok && t1_ok {
+        cs.isentropic_validity
+    } else {
+        Validity::IN_RANGE
+    };
+    let discharge_validity = if p_ok && t1_ok && cs.has_discharge {
+        cs.validity.quality
+    } else {
+        Quality::Good
+    };
+    out.gas_validity = validity;
+    out.polytropic_method = PolytropicMethod::Schultz;
+    let iso_ok = cs.isentropic_validity.quality != Quality::Bad;
+    let all_ok = iso_ok && cs.has_discharge && cs.validity.quality != Quality::Bad;
+    if iso_ok && T::is_finite(cs.suction_z) {
+        done |= 1 << 14;
+        out.compressibility.value = cs.suction_z;
+    }
+    if iso_ok && T::is_finite(cs.isentropic_exponent) {
+        done |= 1 << 15;
+        out.k.value = cs.isentropic_exponent;
+    }
 
-    let mut checks = CompressorChecks::default();
-    // Work from the temperature rise: T1, T2, Z and cp only (not the
-    // pressures).
+    let mut checks = CompressorChecks {
+        model: validity.quality,
+        ..CompressorChecks::default()
+    };
+    // Work from the enthalpy rise h2 - h1 (ideal gas: Z·cp·(T2 - T1)): T1,
+    // T2, Z and the model's states.
     let dt = t2.value - t1.value;
     let rising = t1_ok && t2_ok && dt > T::ZERO;
-    let actual_per_z = props.cp * dt;
-    let actual = props.z * actual_per_z;
-    if rising {
+    let actual = cs.enthalpy_rise;
+    if rising && all_ok {
         done |= 1 << 6;
         out.actual_work.value = actual;
         if flow.quality.is_usable() {
             done |= 1 << 11;
             out.gas_power.value = flow.value * actual;
         }
-    } else if t1_ok && t2_ok {
+    } else if t1_ok && t2_ok && !rising {
         checks.no_rise = true;
     }
-    let ratio_ok = p_ok && T::is_finite(ratio);
     if ratio_ok && ratio > limits.max_stage_ratio {
         checks.ratio_out_of_range = true;
     }
-    if ratio_ok && ratio > T::ONE {
-        let ln_r = T::ln(ratio);
-        let m_k = isentropic_exponent_term(props.k);
-        let t2s_over_t1 = T::exp(m_k * ln_r);
-        // Heads per unit Z (Z multiplies every head and the work, and
-        // cancels from the efficiencies, which therefore do not use it).
-        let r_t1 = props.gas_constant * t1.value;
-        let hs_per_z = r_t1 * (t2s_over_t1 - T::ONE) / m_k;
-        let iso_per_z = r_t1 * ln_r;
+    if compressing && iso_ok {
+        let hs = cs.isentropic_enthalpy_rise;
+        let h_iso = isothermal_head(cs.suction_z, gas.gas_constant(), t1.value, ratio);
         if t1_ok {
             done |= 1 << 1;
-            out.isentropic_discharge_temperature.value = t1.value * t2s_over_t1;
+            out.isentropic_discharge_temperature.value = cs.isentropic_temperature;
             done |= 1 << 3;
-            out.isentropic_head.value = props.z * hs_per_z;
+            out.isentropic_head.value = hs;
             done |= 1 << 5;
-            out.isothermal_head.value =
-                isothermal_head(props.z, props.gas_constant, t1.value, ratio);
+            out.isothermal_head.value = h_iso;
         }
-        if rising {
-            // sigma = (n-1)/n = ln(T2/T1)/ln(r); polytropic head along the
-            // measured path = Z·R·(T2 - T1)/sigma.
-            let sigma = T::ln(t2.value / t1.value) / ln_r;
-            let eta_s = hs_per_z / actual_per_z;
+        if rising && all_ok {
+            let eta_s = hs / actual;
             done |= 1 << 7;
             out.isentropic_efficiency.value = eta_s;
             done |= 1 << 12;
-            out.work_above_isothermal.value = props.z * (actual_per_z - iso_per_z);
+            out.work_above_isothermal.value = actual - h_iso;
             if flow.quality.is_usable() {
                 done |= 1 << 13;
-                out.power_above_isothermal.value =
-                    flow.value * props.z * (actual_per_z - iso_per_z);
+                out.power_above_isothermal.value = flow.value * (actual - h_iso);
             }
-            if sigma < T::ONE {
-                let eta_p = m_k / sigma;
+            if let Some(poly) = schultz(&cs, ln_r) {
+                out.polytropic_method = poly.method;
                 done |= 1 << 4;
-                out.polytropic_head.value = props.z * props.gas_constant * dt / sigma;
+                out.polytropic_head.value = poly.head;
                 done |= 1 << 9;
-                out.polytropic_exponent.value = T::ONE / (T::ONE - sigma);
+                out.polytropic_exponent.value = poly.exponent;
                 done |= 1 << 8;
-                out.polytropic_efficiency.value = eta_p;
-                checks.efficiency = efficiency_grade(eta_s).worst(efficiency_grade(eta_p));
+                out.polytropic_efficiency.value = poly.efficiency;
+                checks.efficiency =
+                    efficiency_grade(eta_s).worst(efficiency_grade(poly.efficiency));
             } else {
                 checks.exponent_implausible = true;
             }
             checks.below_resolution =
                 dt < limits.min_temperature_rise() || ln_r < limits.min_log_ratio();
         }
-    } else if ratio_ok {
+    } else if ratio_ok && !compressing {
         checks.no_compression = true;
     }
     checks.stationary = flow.quality.is_usable() && !(flow.value > limits.stationary_flow);
@@ -311,7 +392,11 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     if checks.ratio_out_of_range {
         g.check(check::RATIO, Quality::Bad);
     }
-    g.check(check::MODEL, fit);
+    // MODEL: the fitted range of the properties and the gas model's
+    // validity at the states used (near-critical, liquid-like, ideal gas at
+    // high reduced pressure, no vapour root).
+    g.check(check::MODEL, fit.worst(iso_validity.quality));
+    g.check(check::MODEL_DISCHARGE, discharge_validity);
     if checks.exponent_implausible {
         // n itself, the polytropic head and efficiency were not computed
         // (bad); what remains (the isentropic efficiency, the work) is a
@@ -330,8 +415,21 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     if checks.stationary {
         g.check(check::RUNNING, Quality::Uncertain);
     }
-    let (props_slots, z_slots) = property_slots(gas.property_inputs(), !rating_point);
-    settle_compressor(&g, &compressor_uses(props_slots, z_slots), done, out);
+    let inputs = gas.property_inputs();
+    let (props_slots, z_slots) = property_slots(inputs, !rating_point);
+    let (iso_slots, z1_slots) = suction_slots(inputs, props_slots, z_slots);
+    settle_compressor(
+        &g,
+        &compressor_uses(
+            props_slots,
+            z_slots,
+            iso_slots,
+            z1_slots,
+            inputs.compressibility_from_state,
+        ),
+        done,
+        out,
+    );
     out.condition = checks.condition(p1, t1, p2, t2, rating_point);
 }
 
@@ -339,6 +437,7 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
 #[derive(Clone, Copy, Debug, Default)]
 struct CompressorChecks {
     ratio_out_of_range: bool,
+    model: Quality,
     no_compression: bool,
     no_rise: bool,
     exponent_implausible: bool,
@@ -361,6 +460,8 @@ impl CompressorChecks {
             StageCondition::InputBad
         } else if self.ratio_out_of_range {
             StageCondition::RatioOutOfRange
+        } else if self.model == Quality::Bad {
+            StageCondition::OutsideGasModel
         } else if self.no_compression {
             StageCondition::NoCompression
         } else if rating_point {
@@ -373,6 +474,8 @@ impl CompressorChecks {
             StageCondition::ImplausibleTemperatureRise
         } else if self.efficiency != Quality::Good {
             StageCondition::EfficiencyAboveOne
+        } else if self.model != Quality::Good {
+            StageCondition::OutsideGasModel
         } else if self.stationary {
             StageCondition::Stationary
         } else if self.below_resolution {

@@ -5,9 +5,14 @@
 //! comparison of pump and compressor work for the same pressure rise), and
 //! shaft work = v·ΔP / η with a configured pump efficiency.
 //!
+//! The density is the gas model's at the suction state when the model gives
+//! one for a dense phase ([`GasModel::dense_density`], Peng–Robinson), with
+//! its validity; otherwise the configured density.
+//!
 //! For the comparison the user sees live, the result also carries the
-//! isentropic work an ideal-gas compressor would need for the same pressure
-//! ratio from the pump's suction temperature, with the train's gas.
+//! isentropic work an ideal-gas compressor (Z = 1) would need for the same
+//! pressure ratio from the pump's suction temperature, with the train's gas
+//! constant and ideal-gas heat-capacity ratio.
 
 use crate::compression::isentropic_head;
 use crate::dependency::{check, property_slots, pump_uses, slot, Grades};
@@ -39,6 +44,8 @@ pub enum PumpCondition {
 pub struct PumpResult<T> {
     /// Discharge over suction pressure, -.
     pub pressure_ratio: Measured<T>,
+    /// Suction density used, kg/m³ (from the gas model, or configured).
+    pub density: Measured<T>,
     /// Pressure rise, Pa.
     pub pressure_rise: Measured<T>,
     /// Reversible work v·ΔP, J/kg.
@@ -64,6 +71,7 @@ impl<T: Real> PumpResult<T> {
         let b = Measured::bad();
         PumpResult {
             pressure_ratio: b,
+            density: b,
             pressure_rise: b,
             reversible_work: b,
             shaft_work: b,
@@ -76,9 +84,10 @@ impl<T: Real> PumpResult<T> {
     }
 }
 
-/// Evaluates a pump stage with the default [`Limits`]. `density` (kg/m3)
-/// and `efficiency` were validated at construction (finite, positive,
-/// efficiency <= 1); pressures and temperature passed the sensor boundary.
+/// Evaluates a pump stage with the default [`Limits`]. `density` (kg/m3,
+/// used when the gas model gives no dense-phase density) and `efficiency`
+/// were validated at construction (finite, positive, efficiency <= 1);
+/// pressures and temperature passed the sensor boundary.
 pub fn evaluate_pump<T: Real, G: GasModel<T>>(
     gas: &G,
     density: T,
@@ -103,7 +112,7 @@ pub fn evaluate_pump_within<T: Real, G: GasModel<T>>(
 ) -> PumpResult<T> {
     let mut out = PumpResult::bad();
     // Computed outputs (bit i: the i-th field in declaration order).
-    let mut done: u8 = 0;
+    let mut done: u16 = 0;
     let p_ok = p1.quality.is_usable() && p2.quality.is_usable();
     let dp = p2.value - p1.value;
     let ratio = p2.value / p1.value;
@@ -120,6 +129,26 @@ pub fn evaluate_pump_within<T: Real, G: GasModel<T>>(
             condition = PumpCondition::Stationary;
         }
     }
+    // Suction density from the gas model's dense phase where it gives one
+    // (P1, T1 and its validity: MODEL), else the configured value.
+    let model_density = gas.dense_density(p1.value, t1.value);
+    let p1_t1_ok = p1.quality.is_usable() && t1.quality.is_usable();
+    let density = match model_density {
+        Some((rho, validity)) if p1_t1_ok && T::is_finite(rho) && rho > T::ZERO => {
+            g.check(check::MODEL, validity.quality);
+            Some(rho)
+        }
+        Some(_) => None,
+        None => Some(density),
+    };
+    let density_ok = density.is_some();
+    let density = if let Some(rho) = density {
+        out.density.value = rho;
+        done |= 1 << 8;
+        rho
+    } else {
+        T::ONE
+    };
     if p_ok {
         out.pressure_ratio.value = ratio;
         out.pressure_rise.value = dp;
@@ -131,10 +160,12 @@ pub fn evaluate_pump_within<T: Real, G: GasModel<T>>(
         if dp > T::ZERO {
             let w_rev = dp / density;
             let w = w_rev / efficiency;
-            out.reversible_work.value = w_rev;
-            out.shaft_work.value = w;
-            done |= 1 << 2 | 1 << 3;
-            if mass_flow.quality.is_usable() {
+            if density_ok {
+                out.reversible_work.value = w_rev;
+                out.shaft_work.value = w;
+                done |= 1 << 2 | 1 << 3;
+            }
+            if density_ok && mass_flow.quality.is_usable() {
                 out.power.value = mass_flow.value * w;
                 done |= 1 << 5;
             }
@@ -143,8 +174,11 @@ pub fn evaluate_pump_within<T: Real, G: GasModel<T>>(
                 g.check(check::MODEL, gas.fit_quality(t1.value, t1.value));
                 let h = isentropic_head(props.z, props.gas_constant, t1.value, ratio, props.k);
                 out.gas_compression_equivalent.value = h;
-                out.work_ratio_to_gas.value = w / h;
-                done |= 1 << 6 | 1 << 7;
+                done |= 1 << 6;
+                if density_ok {
+                    out.work_ratio_to_gas.value = w / h;
+                    done |= 1 << 7;
+                }
             }
         } else {
             // A pressure fall across a pump: possible (stopped, or flow
@@ -155,8 +189,9 @@ pub fn evaluate_pump_within<T: Real, G: GasModel<T>>(
         condition = PumpCondition::InputBad;
     }
     let (props, _) = property_slots(gas.property_inputs(), false);
-    let u = pump_uses(props);
+    let u = pump_uses(props, model_density.is_some());
     let c = |bit: u8| done & (1 << bit) != 0;
+    g.settle_computed(&mut out.density, c(8), u.density);
     g.settle_computed(&mut out.pressure_ratio, c(0), u.pressure_ratio);
     let falling = condition == PumpCondition::NoPressureRise;
     g.settle_suspect(&mut out.pressure_rise, c(1), falling, u.pressure_rise);

@@ -4,7 +4,9 @@
 //! whose link-time panic check then covers them: surge detection, the recycle
 //! controller and its embedded-hal outputs, the ISO 5167 orifice, the
 //! generic flow element, the low-flow cut-off, the cross-checks, the event
-//! log and the recycle-loss helpers.
+//! log, the recycle-loss helpers and the gas models' own entry points
+//! (Peng-Robinson construction and composition update, state functions,
+//! polytropic methods).
 //!
 //! Every setting and input passes through `black_box`, so no constructor's
 //! result is known at compile time and no update path can be optimised away.
@@ -20,6 +22,9 @@ use polytrope::control::{
 };
 use polytrope::flow::orifice::OrificeInputs;
 use polytrope::flow::{FlowElement, LowFlow, LowFlowConfig, Orifice, OrificeConfig, TapType};
+use polytrope::gas::components::{CARBON_DIOXIDE, ETHANE, METHANE, NITROGEN, PROPANE};
+use polytrope::gas::{GasModel, IdealGas, PengRobinson, AIR};
+use polytrope::polytropic::{path_discharge_temperature, reference_path, sandberg_colby, schultz};
 use polytrope::quality::{Measured, Quality};
 use polytrope::signal::cross_check::{
     cooler_temperatures, differential_not_negative, discharge_above_suction, mass_balance,
@@ -255,5 +260,62 @@ pub fn exercise(k: u32) -> bool {
         1.4,
     );
     black_box(recycle_power(m, black_box(good(90_000.0))));
+    ok &= gas_models();
     ok
+}
+
+/// The gas models' entry points beyond what a train update calls: a
+/// Peng-Robinson mixture built, its composition replaced, every state
+/// function, the isentropic state, the enthalpy drop, the dense-phase
+/// density, Schultz's X and Y, the three polytropic methods (the reference
+/// path included) and the ideal gas's state functions.
+#[inline(never)]
+fn gas_models() -> bool {
+    let Ok(mut pr) = PengRobinson::<f32, 5>::new(
+        [METHANE, ETHANE, PROPANE, NITROGEN, CARBON_DIOXIDE],
+        black_box([0.90, 0.05, 0.02, 0.01, 0.02]),
+    ) else {
+        return false;
+    };
+    let replaced = pr
+        .set_composition(black_box([0.88, 0.06, 0.02, 0.02, 0.02]))
+        .is_ok();
+    let (p1, t1, p2, t2) = black_box((10.0e5_f32, 300.0_f32, 25.0e5_f32, 383.0_f32));
+    let s1 = pr.state(p1, t1, None);
+    black_box(pr.isentropic_state(&s1, p2, None));
+    black_box(pr.enthalpy_drop(p2, t2, p2 * 0.98, 310.0, None));
+    black_box(pr.dense_density(black_box(150.0e5), black_box(250.0)));
+    black_box(pr.compressibility_functions(p1, t1));
+    black_box(pr.path(p1, t1, p2, t2, None));
+    let ln_r = <f32 as polytrope::real::Real>::ln(p2 / p1);
+    let cs = pr.compression(p1, t1, p2, ln_r, Some(t2), None);
+    black_box(schultz(&cs, ln_r));
+    black_box(sandberg_colby(&cs, ln_r, t1, t2));
+    black_box(reference_path(
+        &pr,
+        &cs,
+        ln_r,
+        p1,
+        t1,
+        p2,
+        t2,
+        black_box(0.8),
+    ));
+    black_box(path_discharge_temperature(
+        &pr,
+        p1,
+        t1,
+        p2,
+        black_box(0.8),
+        8,
+    ));
+    match IdealGas::<f32>::from_spec(&AIR, black_box(true), 1.0) {
+        Ok(ideal) => {
+            let s = ideal.state(p1, t1, None);
+            black_box(ideal.isentropic_state(&s, p2, None));
+            black_box(ideal.enthalpy_drop(p2, t2, p2, 310.0, None));
+            replaced
+        }
+        Err(_) => false,
+    }
 }

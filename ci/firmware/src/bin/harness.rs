@@ -23,7 +23,8 @@ use heapless::String;
 use polytrope::cooler::{evaluate_cooler_into, CoolerInputs, CoolerResult};
 use polytrope::demo::{self, DemoTrain};
 use polytrope::fields::FieldValue;
-use polytrope::gas::{GasModel, IdealGas};
+use polytrope::gas::components::{CARBON_DIOXIDE, ETHANE, METHANE, NITROGEN, PROPANE};
+use polytrope::gas::{GasModel, IdealGas, PengRobinson, CARBON_DIOXIDE as CO2_IDEAL};
 use polytrope::quality::{Measured, Quality};
 use polytrope::scan::Scan;
 use polytrope::stage::{
@@ -38,6 +39,8 @@ use polytrope_firmware::table::SCANS;
 /// Stages of the budget train: four compressors, three intercoolers.
 const BUDGET_STAGES: usize = 4;
 type BudgetTrain = Train<f32, IdealGas<f32>, BUDGET_STAGES, { demo::WINDOW }>;
+/// The same train on the demo's Peng–Robinson CO2.
+type BudgetTrainPr = Train<f32, PengRobinson<f32, 1>, BUDGET_STAGES, { demo::WINDOW }>;
 
 struct Host(Option<hio::HostStream>);
 
@@ -92,8 +95,10 @@ fn print_snapshot<const N: usize>(h: &mut Host, scan: usize, s: &Snapshot<f32, N
 }
 
 /// The budget train's configuration: the demo's first four stages, the
-/// fourth without its aftercooler.
-fn budget_config() -> Option<TrainConfig<f32, IdealGas<f32>, BUDGET_STAGES>> {
+/// fourth without its aftercooler, on `gas` (the ideal-gas budget uses CO2
+/// with constant k and Z = 1, the gas of the demo before it moved to
+/// Peng–Robinson).
+fn budget_config<G: Copy>(gas: G) -> Option<TrainConfig<f32, G, BUDGET_STAGES>> {
     let demo = demo::config::<f32>().ok()?;
     let mut stages = [*demo.stages.first()?; BUDGET_STAGES];
     for (i, s) in stages.iter_mut().enumerate() {
@@ -103,7 +108,7 @@ fn budget_config() -> Option<TrainConfig<f32, IdealGas<f32>, BUDGET_STAGES>> {
         last.cooler = None;
     }
     Some(TrainConfig {
-        gas: demo.gas,
+        gas,
         stages,
         max_interstage_pressure_drop: demo.max_interstage_pressure_drop,
         steady_state: demo.steady_state,
@@ -137,6 +142,11 @@ fn update_channel(c: &mut PressureChannel, raw: f32, t_ms: u64) -> f32 {
 
 #[inline(never)]
 fn update_budget(t: &mut BudgetTrain, s: &Scan<f32, BUDGET_STAGES>) -> f32 {
+    t.update(s).totals.total_power.value
+}
+
+#[inline(never)]
+fn update_budget_pr(t: &mut BudgetTrainPr, s: &Scan<f32, BUDGET_STAGES>) -> f32 {
     t.update(s).totals.total_power.value
 }
 
@@ -174,37 +184,17 @@ fn stack_used(f: impl FnOnce()) -> usize {
     }
 }
 
-#[entry]
-fn main() -> ! {
-    let mut h = Host(hio::hstdout().ok());
-    out!(h, "polytrope firmware harness (invented demo scenario)");
-
-    // 1. Outputs over the committed scans, for the host comparison.
-    let Ok(mut train) = demo::train::<f32>() else {
-        fail(&mut h, "demo train config");
-    };
-    for (i, raw) in SCANS.iter().enumerate() {
-        let scan = decode_scan::<f32, { demo::STAGES }>(black_box(raw));
-        let snapshot = train.update(&scan);
-        print_snapshot(&mut h, i, snapshot);
-    }
-
-    // 2. Measured regions (instruction-count plugin). Region 0 is empty: its
-    //    count is the marker overhead the script subtracts.
-    let Ok(config) = demo::config::<f32>() else {
-        fail(&mut h, "demo config");
-    };
-    let gas = config.gas;
-    let raw = black_box(&SCANS[12]);
-    let scan = decode_scan::<f32, { demo::STAGES }>(raw);
-    let mut region = 0_u32;
-    let mut label = |h: &mut Host, name: &str| {
-        out!(h, "M {} {}", region, name);
-        region += 1;
-        region - 1
-    };
-
-    let r = label(&mut h, "empty");
+/// The single-stage regions (ideal-gas stage, Peng-Robinson stage,
+/// intercooler, pump), in their own frame (the Cortex-M0 board has 16 KiB of
+/// RAM).
+#[inline(never)]
+fn measure_single_stages(
+    h: &mut Host,
+    label: &mut impl FnMut(&mut Host, &str) -> u32,
+    gas: &IdealGas<f32>,
+    scan: &Scan<f32, { demo::STAGES }>,
+) {
+    let r = label(h, "empty");
     measure(r, || black_box(0_u32));
 
     let s1 = &scan.stages[1];
@@ -217,23 +207,25 @@ fn main() -> ! {
         mass_flow: g(11.5),
         compressibility: Some((0.97, Quality::Good)),
     });
-    let gas_ref = black_box(&gas);
+    let gas_ref = black_box(gas);
     // The in-place forms `Train::update` uses (the returning wrappers add
     // a result copy).
-    let r = label(&mut h, "compressor_stage");
+    let r = label(h, "compressor_stage");
     let mut res = CompressorResult::bad();
     measure(r, || evaluate_compressor_into(gas_ref, &inputs, &mut res));
     black_box(&res);
 
+    measure_peng_robinson_stage(h, label);
+
     let s0 = &scan.stages[0];
     let Some(c0) = s0.cooler else {
-        fail(&mut h, "scan without cooler");
+        fail(h, "scan without cooler");
     };
     let t2 = s0.discharge_temperature.value.kelvin();
     let tout = c0.gas_outlet_temperature.value.kelvin();
     let p2 = s0.discharge_pressure.value.pa();
     let p_next = scan.stages[1].suction_pressure.value.pa();
-    let cp = gas.path(p2, t2, p_next, tout, None).cp;
+    let (drop, drop_validity) = gas.enthalpy_drop(p2, t2, p_next, tout, Some(0.97));
     let cooler_inputs = black_box(CoolerInputs {
         gas_inlet_temperature: g(t2),
         gas_outlet_temperature: g(tout),
@@ -245,10 +237,10 @@ fn main() -> ! {
         gas_outlet_pressure: g(p_next),
         gas_mass_flow: g(11.5),
         coolant_mass_flow: c0.coolant_mass_flow.unwrap_or(Measured::bad()),
-        gas_cp: cp,
+        gas_enthalpy_drop: Measured::new(drop, drop_validity.quality),
         coolant_cp: 4180.0,
     });
-    let r = label(&mut h, "intercooler");
+    let r = label(h, "intercooler");
     let mut res = CoolerResult::bad();
     measure(r, || evaluate_cooler_into(&cooler_inputs, &mut res));
     black_box(&res);
@@ -259,22 +251,109 @@ fn main() -> ! {
         g(s4.discharge_pressure.value.pa()),
         g(s4.suction_temperature.value.kelvin()),
     ));
-    let r = label(&mut h, "pump_stage");
+    let r = label(h, "pump_stage");
     let res = measure(r, || {
         evaluate_pump(gas_ref, 780.0, 0.72, pp1, pp2, pt1, g(11.5))
     });
     black_box(res);
+}
 
-    // Full updates in steady operation: a fresh train warmed with the first
-    // ten (normal) scans of the table, then three measured scans.
-    let Ok(mut demo_train) = demo::train::<f32>() else {
-        fail(&mut h, "demo train");
+/// Every output of every committed scan, in its own frame (the Cortex-M0
+/// board has 16 KiB of RAM).
+#[inline(never)]
+fn print_outputs(h: &mut Host) {
+    let Ok(mut train) = demo::train::<f32>() else {
+        fail(h, "demo train config");
     };
-    let Some(budget_cfg) = budget_config() else {
-        fail(&mut h, "budget config");
+    for (i, raw) in SCANS.iter().enumerate() {
+        let scan = decode_scan::<f32, { demo::STAGES }>(black_box(raw));
+        let snapshot = train.update(&scan);
+        print_snapshot(h, i, snapshot);
+    }
+}
+
+/// One Peng-Robinson stage, in its own frame (the Cortex-M0 board has
+/// 16 KiB of RAM; main's frame holds the other trains).
+#[inline(never)]
+fn measure_peng_robinson_stage(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u32) {
+    let g = |x: f32| Measured::new(x, Quality::Good);
+    // One Peng-Robinson stage: a 5-component natural gas (invented
+    // composition), both measured states, the entropy-matched isentropic
+    // state, heads and the default (Schultz) polytropic method.
+    let Ok(pr) = PengRobinson::<f32, 5>::new(
+        [METHANE, ETHANE, PROPANE, NITROGEN, CARBON_DIOXIDE],
+        [0.90, 0.05, 0.02, 0.01, 0.02],
+    ) else {
+        fail(h, "peng-robinson gas");
+    };
+    let pr_inputs = black_box(CompressorInputs {
+        suction_pressure: g(10.0e5),
+        suction_temperature: g(300.0),
+        discharge_pressure: g(25.0e5),
+        discharge_temperature: g(383.3),
+        mass_flow: g(11.5),
+        compressibility: None,
+    });
+    let pr_ref = black_box(&pr);
+    let r = label(h, "compressor_stage_peng_robinson");
+    let mut pr_res = CompressorResult::bad();
+    measure(r, || {
+        evaluate_compressor_into(pr_ref, &pr_inputs, &mut pr_res)
+    });
+    black_box(&pr_res);
+}
+
+/// The 4-stage, 3-intercooler train on Peng-Robinson CO2: warmed with the
+/// first ten scans, three measured updates and the stack high-water mark, in
+/// its own frame.
+#[inline(never)]
+fn measure_peng_robinson_train(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u32) {
+    let Ok(co2_pr) = demo::gas::<f32>() else {
+        fail(h, "pr co2");
+    };
+    let Some(cfg) = budget_config(co2_pr) else {
+        fail(h, "budget config pr");
+    };
+    let Ok(mut train) = BudgetTrainPr::new(cfg) else {
+        fail(h, "budget train pr");
+    };
+    for raw in SCANS.iter().take(10) {
+        update_budget_pr(&mut train, &budget_scan(black_box(raw)));
+    }
+    for raw in SCANS.iter().skip(10).take(3) {
+        let s = black_box(budget_scan(black_box(raw)));
+        let r = label(h, "update_4_stages_3_intercoolers_peng_robinson");
+        measure(r, || update_budget_pr(&mut train, &s));
+    }
+    let s = black_box(budget_scan(black_box(&SCANS[13])));
+    let used = stack_used(|| {
+        update_budget_pr(&mut train, &s);
+    });
+    out!(
+        h,
+        "S stack_update_4_stages_3_intercoolers_peng_robinson {}",
+        used
+    );
+}
+
+/// Full updates of the demo train and the ideal-gas budget train (warmed
+/// with the first ten scans, three measured), `Train::new`, and their stack
+/// high-water marks, in one frame of their own (the Cortex-M0 board has
+/// 16 KiB of RAM).
+#[inline(never)]
+fn measure_trains(
+    h: &mut Host,
+    label: &mut impl FnMut(&mut Host, &str) -> u32,
+    gas: IdealGas<f32>,
+) {
+    let Ok(mut demo_train) = demo::train::<f32>() else {
+        fail(h, "demo train");
+    };
+    let Some(budget_cfg) = budget_config(gas) else {
+        fail(h, "budget config");
     };
     let Ok(mut budget) = BudgetTrain::new(budget_cfg) else {
-        fail(&mut h, "budget train");
+        fail(h, "budget train");
     };
     for raw in SCANS.iter().take(10) {
         let raw = black_box(raw);
@@ -283,60 +362,13 @@ fn main() -> ! {
     }
     for raw in SCANS.iter().skip(10).take(3) {
         let s = black_box(decode_scan::<f32, { demo::STAGES }>(black_box(raw)));
-        let r = label(&mut h, "update_demo_5_stages");
+        let r = label(h, "update_demo_5_stages");
         measure(r, || update_demo(&mut demo_train, &s));
         let s = black_box(budget_scan(black_box(raw)));
-        let r = label(&mut h, "update_4_stages_3_intercoolers");
+        let r = label(h, "update_4_stages_3_intercoolers");
         measure(r, || update_budget(&mut budget, &s));
     }
-    let r = label(&mut h, "train_new_demo_5_stages");
-    let cfg = black_box(config);
-    let built = measure(r, || DemoTrain::<f32>::new(cfg).is_ok());
-    black_box(built);
-
-    // Surge margin (one SurgeMonitor::update with a settled rate filter) and
-    // the signal front end (one 4-20 mA channel), warmed, three scans each.
-    let Ok(mut monitor) = front::surge_monitor() else {
-        fail(&mut h, "surge monitor");
-    };
-    let Ok(mut channel) = front::pressure_channel() else {
-        fail(&mut h, "pressure channel");
-    };
-    for k in 0..front::WARM_SCANS {
-        update_surge(&mut monitor, &front::surge_scan(k));
-        let (raw, t) = front::raw_sample(k);
-        update_channel(&mut channel, raw, t);
-    }
-    for k in front::WARM_SCANS..front::WARM_SCANS + 3 {
-        let s = black_box(front::surge_scan(k));
-        let r = label(&mut h, "surge_margin_update");
-        measure(r, || update_surge(&mut monitor, &s));
-        let (raw, t) = black_box(front::raw_sample(k));
-        let r = label(&mut h, "signal_channel_4_20ma");
-        measure(r, || update_channel(&mut channel, raw, t));
-    }
-    // The same monitor with σ from the measured temperatures, filter settled.
-    let Ok(mut measured) = front::surge_monitor_measured() else {
-        fail(&mut h, "surge monitor (measured exponent)");
-    };
-    for k in 0..front::WARM_SCANS_EXPONENT {
-        update_surge(&mut measured, &front::surge_scan(k));
-    }
-    for k in front::WARM_SCANS_EXPONENT..front::WARM_SCANS_EXPONENT + 3 {
-        let s = black_box(front::surge_scan(k));
-        let r = label(&mut h, "surge_margin_update_measured_exponent");
-        measure(r, || update_surge(&mut measured, &s));
-    }
-    if !measured.state().margin.quality.is_good() {
-        fail(&mut h, "measured-exponent margin not good after warm-up");
-    }
-    let margin = monitor.state().margin;
-    let filtered = channel.output().filtered;
-    if !(margin.quality.is_usable() && filtered.quality.is_usable()) {
-        fail(&mut h, "surge margin or channel not usable after warm-up");
-    }
-
-    // 3. Stack high-water mark of one update (the wrapper frame included).
+    // Stack high-water mark of one update (the wrapper frame included).
     let s = black_box(decode_scan::<f32, { demo::STAGES }>(black_box(&SCANS[13])));
     let used = stack_used(|| {
         update_demo(&mut demo_train, &s);
@@ -347,6 +379,64 @@ fn main() -> ! {
         update_budget(&mut budget, &s);
     });
     out!(h, "S stack_update_4_stages_3_intercoolers {}", used);
+}
+
+/// `Train::new` of the demo train, in its own frame.
+#[inline(never)]
+fn measure_train_new(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u32) {
+    let Ok(config) = demo::config::<f32>() else {
+        fail(h, "demo config");
+    };
+    let r = label(h, "train_new_demo_5_stages");
+    let cfg = black_box(config);
+    let built = measure(r, || DemoTrain::<f32>::new(cfg).is_ok());
+    black_box(built);
+}
+
+/// Surge margin (one SurgeMonitor::update with a settled rate filter) and the
+/// signal front end (one 4-20 mA channel), warmed, three scans each, and
+/// their stack high-water marks, in their own frame.
+#[inline(never)]
+fn measure_front_end(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u32) {
+    let Ok(mut monitor) = front::surge_monitor() else {
+        fail(h, "surge monitor");
+    };
+    let Ok(mut channel) = front::pressure_channel() else {
+        fail(h, "pressure channel");
+    };
+    for k in 0..front::WARM_SCANS {
+        update_surge(&mut monitor, &front::surge_scan(k));
+        let (raw, t) = front::raw_sample(k);
+        update_channel(&mut channel, raw, t);
+    }
+    for k in front::WARM_SCANS..front::WARM_SCANS + 3 {
+        let s = black_box(front::surge_scan(k));
+        let r = label(h, "surge_margin_update");
+        measure(r, || update_surge(&mut monitor, &s));
+        let (raw, t) = black_box(front::raw_sample(k));
+        let r = label(h, "signal_channel_4_20ma");
+        measure(r, || update_channel(&mut channel, raw, t));
+    }
+    // The same monitor with σ from the measured temperatures, filter settled.
+    let Ok(mut measured) = front::surge_monitor_measured() else {
+        fail(h, "surge monitor (measured exponent)");
+    };
+    for k in 0..front::WARM_SCANS_EXPONENT {
+        update_surge(&mut measured, &front::surge_scan(k));
+    }
+    for k in front::WARM_SCANS_EXPONENT..front::WARM_SCANS_EXPONENT + 3 {
+        let s = black_box(front::surge_scan(k));
+        let r = label(h, "surge_margin_update_measured_exponent");
+        measure(r, || update_surge(&mut measured, &s));
+    }
+    if !measured.state().margin.quality.is_good() {
+        fail(h, "measured-exponent margin not good after warm-up");
+    }
+    let margin = monitor.state().margin;
+    let filtered = channel.output().filtered;
+    if !(margin.quality.is_usable() && filtered.quality.is_usable()) {
+        fail(h, "surge margin or channel not usable after warm-up");
+    }
     let s = black_box(front::surge_scan(20));
     let used = stack_used(|| {
         update_surge(&mut monitor, &s);
@@ -357,8 +447,42 @@ fn main() -> ! {
         update_channel(&mut channel, raw, t);
     });
     out!(h, "S stack_signal_channel_4_20ma {}", used);
+}
 
-    // 4. State sizes.
+#[entry]
+fn main() -> ! {
+    let mut h = Host(hio::hstdout().ok());
+    out!(h, "polytrope firmware harness (invented demo scenario)");
+
+    // 1. Outputs over the committed scans, for the host comparison.
+    print_outputs(&mut h);
+
+    // 2. Measured regions (instruction-count plugin). Region 0 is empty: its
+    //    count is the marker overhead the script subtracts. Each section
+    //    runs in a frame of its own so that the Cortex-M0 board's 16 KiB
+    //    hold the largest one, not their sum.
+    // The single-stage, cooler and budget-train regions use the ideal gas
+    // (CO2, constant k, Z = 1 or a supplied Z); the Peng-Robinson stage and
+    // train are measured separately.
+    let Ok(gas) = IdealGas::<f32>::from_spec(&CO2_IDEAL, false, 1.0) else {
+        fail(&mut h, "ideal co2");
+    };
+    let raw = black_box(&SCANS[12]);
+    let scan = decode_scan::<f32, { demo::STAGES }>(raw);
+    let mut region = 0_u32;
+    let mut label = |h: &mut Host, name: &str| {
+        out!(h, "M {} {}", region, name);
+        region += 1;
+        region - 1
+    };
+
+    measure_single_stages(&mut h, &mut label, &gas, &scan);
+    measure_trains(&mut h, &mut label, gas);
+    measure_peng_robinson_train(&mut h, &mut label);
+    measure_train_new(&mut h, &mut label);
+    measure_front_end(&mut h, &mut label);
+
+    // 3. State sizes.
     out!(
         h,
         "S state_demo_5_stages {}",
