@@ -5,10 +5,15 @@
     ci/check_budgets.py --markdown FIGURES.json [BUDGETS.toml]  print the table
     ci/check_budgets.py --self-test FIGURES.json [BUDGETS.toml] show the check
         refuses each budget's figure raised to its budget + 1 (exit 1 if not)
+    ci/check_budgets.py --reset FIGURES.json [BUDGETS.toml]     rewrite each
+        `max` whose target is unmet to the measured figure + 2 % (rounded up;
+        a met target stays the budget); used after a measured change
 
 FIGURES.json is written by ci/measure.sh: {target: {key: value}}.
 """
 import json
+import math
+import re
 import sys
 import tomllib
 
@@ -58,8 +63,29 @@ def check(rows, quiet=False):
     return failed
 
 
+def reset(argv):
+    """Rewrites `max` in the budget file: measured + 2 % where the target is unmet."""
+    rows = load(argv)
+    path = argv[1] if len(argv) > 1 else "ci/budgets.toml"
+    blocks = open(path).read().split("[[budget]]")
+    assert len(blocks) == len(rows) + 1
+    for i, (b, v) in enumerate(rows):
+        if v is None:
+            print(f"budget: FAIL: {b['what']} ({b['target']}, {b['key']}): not measured")
+            return 1
+        new = b["goal"] if v <= b["goal"] else math.ceil(v * 1.02)
+        margin = "target" if new == b["goal"] else "2 %"
+        blk = re.sub(r"(?m)^max = .*$", f"max = {new}", blocks[i + 1])
+        blocks[i + 1] = re.sub(r'(?m)^margin = .*$', f'margin = "{margin}"', blk)
+        print(f"budget: {b['what']} ({b['target']}): {b['max']:,} -> {new:,} (measured {v:,})")
+    open(path, "w").write("[[budget]]".join(blocks))
+    return 0
+
+
 def main():
     args = sys.argv[1:]
+    if args and args[0] == "--reset":
+        return reset(args[1:])
     if args and args[0] == "--markdown":
         print(markdown(load(args[1:])))
         return 0

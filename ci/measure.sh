@@ -45,9 +45,10 @@ run_qemu() {
 
 for target in thumbv7em-none-eabihf thumbv6m-none-eabi; do
   echo "measure: building firmware for $target"
-  # `minimal`, `controller` and `proof` link only if no panic path of any
-  # public entry point survives (their panic handler calls an undefined
-  # symbol; see ci/firmware/src/proof.rs).
+  # `minimal`, `controller`, `proof` and `gateway` link only if no panic
+  # path of any public entry point survives (their panic handler calls an
+  # undefined symbol; see ci/firmware/src/proof.rs); `gateway` adds the
+  # register image.
   if ! (cd $fw && cargo build -q --release --target $target --bins); then
     echo "measure: firmware build failed for $target (a reachable panic shows as an" >&2
     echo "         undefined symbol polytrope_reachable_panic_path)" >&2
@@ -57,7 +58,7 @@ for target in thumbv7em-none-eabihf thumbv6m-none-eabi; do
   # The whole controller scan runs in a harness of its own (the Cortex-M0
   # board's 16 KiB of RAM hold its state beside nothing else).
   run_qemu "$fw/target/$target/release/full_scan" $target $target.scan
-  for bin in minimal controller empty; do
+  for bin in minimal controller empty gateway; do
     size -A "$fw/target/$target/release/$bin" > "$work/$target.$bin.size"
   done
 done
@@ -95,9 +96,17 @@ labels_doc = {
     "update_4_stages_3_intercoolers_peng_robinson": "**full update, 4 stages + 3 intercoolers, Peng–Robinson CO2**",
     "update_demo_5_stages": "full update, demo train (Peng–Robinson CO2: 4 compressors, 3 intercoolers, aftercooler, pump)",
     "train_new_demo_5_stages": "`Train::new` of the demo train (once, at start-up)",
+    "ledger_4_stages": "loss ledger after that update (`evaluate_ledger_into`, 4 stages, first-suction reference)",
+    "ledger_4_stages_coolant_reference": "loss ledger, 4 stages, coolant-inlet-plus-approach reference",
+    "ledger_4_stages_peng_robinson": "loss ledger, 4 stages, Peng–Robinson CO2",
     "surge_margin_update": "surge margin, one `SurgeMonitor::update` (4-point line, rate filter settled)",
     "surge_margin_update_measured_exponent": "surge margin with σ from the measured temperatures (`with_measured_exponent`, σ filter settled)",
     "signal_channel_4_20ma": "signal front end, one 4–20 mA channel `Channel::update` (scaling, plausibility, 5-sample median, low-pass)",
+    "register_pack_demo": "register image, one `RegisterImage::pack` (demo train, 1 surge monitor, 1 channel)",
+    "table_stage_ng_booster": "one compressor stage on a GERG-2008 property table (NG booster table in flash: two states, entropy-matched isentropic state, heads, polytropic efficiency)",
+    "table_stage_co2_demo": "the same on the demo CO2 table (decoded from its blob; Cortex-M4F only, needs 61 kB RAM)",
+    "compressor_stage_table_ng_booster": "one compressor stage on the NG booster table through the gas seam (`evaluate_compressor_into`: states, entropy match, Schultz)",
+    "update_4_stages_3_intercoolers_table": "**full update, 4 stages + 3 intercoolers, GERG-2008 table (demo CO2 table; Cortex-M4F only)**",
 }
 def regions(tag):
     """Largest net count per region name and the S figures of one log."""
@@ -131,12 +140,12 @@ for t, _, _ in targets:
     per2, s2 = regions(t + ".scan")
     per.update(per2)
     s.update(s2)
-    res[t] = (per, s, sec(t, "minimal"), sec(t, "empty"), 0, sec(t, "controller"))
+    res[t] = (per, s, sec(t, "minimal"), sec(t, "empty"), 0, sec(t, "controller"), sec(t, "gateway"))
 
 # Every figure, machine-readable, for ci/check_budgets.py.
 figures = {}
 for t, _, _ in targets:
-    per, s, mini, empty, _, ctl = res[t]
+    per, s, mini, empty, _, ctl, _ = res[t]
     f = {k: max(v) for k, v in per.items()}
     f.update(s)
     f["flash_minimal"] = mini[0] - empty[0]
@@ -171,7 +180,10 @@ L.append("|---|" + "---:|---:|" * len(targets))
 for key, doc in labels_doc.items():
     row = f"| {doc} |"
     for t, _, mhz in targets:
-        v = max(res[t][0].get(key, [0]))
+        if key not in res[t][0]:
+            row += " – | – |"
+            continue
+        v = max(res[t][0][key])
         row += f" {v:,} | {v / mhz:,.1f} |"
     L.append(row)
 L.append("")
@@ -195,14 +207,24 @@ row("train state, demo train (5 stages), bytes",
     lambda t: f"{res[t][1]['state_demo_5_stages']:,}")
 row("stack high-water mark of one update, 4 stages + 3 intercoolers, bytes",
     lambda t: f"{res[t][1]['stack_update_4_stages_3_intercoolers']:,}")
+row("stack high-water mark of one loss ledger, 4 stages, bytes",
+    lambda t: f"{res[t][1]['stack_ledger_4_stages']:,}")
 row("stack high-water mark of one update, 4 stages + 3 intercoolers, Peng–Robinson, bytes",
     lambda t: f"{res[t][1]['stack_update_4_stages_3_intercoolers_peng_robinson']:,}")
+row("stack high-water mark of one update, 4 stages + 3 intercoolers, GERG-2008 table, bytes",
+    lambda t: f"{res[t][1]['stack_update_4_stages_3_intercoolers_table']:,}" if 'stack_update_4_stages_3_intercoolers_table' in res[t][1] else "–")
 row("stack high-water mark of one update, demo train, bytes",
     lambda t: f"{res[t][1]['stack_update_demo_5_stages']:,}")
 row("stack high-water mark of one surge-margin update, bytes",
     lambda t: f"{res[t][1]['stack_surge_margin_update']:,}")
 row("stack high-water mark of one 4–20 mA channel update, bytes",
     lambda t: f"{res[t][1]['stack_signal_channel_4_20ma']:,}")
+row("register image packer flash: gateway firmware minus minimal firmware, bytes",
+    lambda t: f"{res[t][6][0] - res[t][2][0]:,}")
+row("register image (`size_of`, demo train + 1 surge monitor + 1 channel), bytes / registers",
+    lambda t: f"{res[t][1]['register_image_bytes']:,} / {res[t][1]['register_image_registers']:,}")
+row("stack high-water mark of one register-image pack, bytes",
+    lambda t: f"{res[t][1]['stack_register_pack']:,}")
 L.append("")
 L.append("Static RAM is zero because the minimal firmware keeps the train on the stack; "
          "the train state is the RAM a caller reserves (a `static` or a stack slot). "
@@ -224,7 +246,9 @@ L.append("Static RAM is zero because the minimal firmware keeps the train on the
          "`SurgeMonitor::new` / `update`, `Channel::new` / `update` or the whole scan survives, and the "
          "`proof` firmware does the same for every other public entry point (surge "
          "detection, recycle controller and outputs, orifice, flow element, low-flow "
-         "cut-off, cross-checks, event log, recycle loss, the gas models: Peng–Robinson construction and composition update, state functions, entropy match, polytropic methods: `ci/firmware/src/proof.rs`); "
+         "cut-off, cross-checks, event log, recycle loss, the loss ledger, the gas models: Peng–Robinson construction and composition update, state functions, entropy match, polytropic methods: `ci/firmware/src/proof.rs`), and the "
+         "`gateway` firmware (the minimal one plus the register image) for "
+         "`RegisterImage::new` / `pack` and `decode_command`; "
          "`ci/checks.d/firmware.sh` also checks that a deliberately panicking probe fails "
          "to link.")
 L.append("")

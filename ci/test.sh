@@ -4,7 +4,15 @@
 set -euo pipefail
 cd "$(dirname "$0")/.."
 
-step() { printf '\n==> %s\n' "$*"; }
+# Disk: a fresh CI machine may have little free space (seen as a linker
+# failure). No incremental caches and line tables only for debug builds keep
+# the whole run's target directories near 2 GB instead of 5 GB; each step
+# prints the free space so a failure of this kind names itself.
+export CARGO_INCREMENTAL=0
+export CARGO_PROFILE_DEV_DEBUG=line-tables-only
+export CARGO_PROFILE_TEST_DEBUG=line-tables-only
+
+step() { printf '\n==> %s  [%s free]\n' "$*" "$(df -h --output=avail . 2>/dev/null | tail -1 | tr -d ' ')"; }
 
 step "toolchain: targets and components"
 rustup component add clippy rustfmt >/dev/null 2>&1 || true
@@ -33,6 +41,7 @@ for target in thumbv6m-none-eabi thumbv7em-none-eabihf; do
       --target-dir target/msrv
   done
 done
+rm -rf target/msrv  # only needed to prove the build; frees disk for what follows
 
 step "clippy (deny warnings)"
 cargo clippy -q --workspace --all-targets -- -D warnings

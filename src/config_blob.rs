@@ -42,7 +42,8 @@ pub const CRC_LEN: usize = 4;
 /// Largest blob: header, the largest payload, checksum.
 pub const MAX_BLOB_LEN: usize = 512;
 
-const CRC: crc::Crc<u32> = crc::Crc::<u32>::new(&crc::CRC_32_ISO_HDLC);
+/// The CRC-32 of the crate (ISO-HDLC), also the register image's checksum.
+pub(crate) const CRC: crc::Crc<u32> = crc::Crc::<u32>::new(&crc::CRC_32_ISO_HDLC);
 
 /// Why a blob was refused.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -149,6 +150,9 @@ pub struct TrainBlob {
     pub heat_capacity: HeatCapacityBlob,
     /// Configured mean compressibility.
     pub compressibility: f32,
+    /// The ideal gas's validity limit (`IdealGas::validity_limit`; 0 if the
+    /// critical point is not known).
+    pub validity_limit: f32,
     /// Largest interstage design pressure drop, fraction.
     pub max_interstage_pressure_drop: f32,
     /// Steady-state tolerances: temperature spread K, ratio spread, flow spread.
@@ -192,6 +196,7 @@ impl TrainBlob {
             molar_mass: molar_mass as f32,
             heat_capacity,
             compressibility: f(config.gas.compressibility()),
+            validity_limit: f(config.gas.validity_limit()),
             max_interstage_pressure_drop: f(config.max_interstage_pressure_drop),
             steady_state: [
                 f(config.steady_state.max_temperature_spread),
@@ -228,7 +233,8 @@ impl TrainBlob {
                 t_max: t(t_max),
             },
         };
-        let gas = IdealGas::new(t(self.molar_mass), hc, t(self.compressibility))?;
+        let gas = IdealGas::new(t(self.molar_mass), hc, t(self.compressibility))?
+            .with_validity_limit(t(self.validity_limit));
         let stages = core::array::from_fn(|i| {
             let s = self.stages.get(i).copied().unwrap_or_default();
             StageConfig {

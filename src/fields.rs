@@ -24,9 +24,11 @@ use crate::polytropic::PolytropicMethod;
 use crate::quality::{FaultCode, Measured, Quality};
 use crate::real::Real;
 use crate::scan::{CoolerScan, StageScan};
+use crate::signal::ChannelOutput;
 use crate::stage::{CompressorResult, PumpCondition, PumpResult, StageCondition};
 use crate::staging::{InterstagePressure, TrainTotals};
 use crate::steady::SteadyState;
+use crate::surge::{DetectionState, SurgeFault, SurgeState};
 use crate::tolerance::{self, Tolerance};
 use crate::train::{Snapshot, StageWork};
 use crate::units::{Kelvin, PressureAbs};
@@ -69,6 +71,17 @@ pub enum QuantityKind {
     Count,
     /// A named state (a condition enum's [`as_str`](StageCondition::as_str)).
     Condition,
+    /// A surge margin or a distance from the surge or control line in
+    /// reduced flow, -.
+    SurgeMargin,
+    /// A reduced (invariant) compressor-map coordinate, -.
+    ReducedCoordinate,
+    /// A time, s.
+    Time,
+    /// A rate of change, 1/s.
+    Rate,
+    /// A value in the SI unit of its signal channel.
+    ChannelValue,
 }
 
 impl QuantityKind {
@@ -97,7 +110,12 @@ impl QuantityKind {
             | QuantityKind::Conductance
             | QuantityKind::Flag
             | QuantityKind::Count
-            | QuantityKind::Condition => None,
+            | QuantityKind::Condition
+            | QuantityKind::ReducedCoordinate
+            | QuantityKind::Time
+            | QuantityKind::Rate
+            | QuantityKind::ChannelValue => None,
+            QuantityKind::SurgeMargin => Some(tolerance::SURGE_MARGIN),
         }
     }
 }
@@ -235,6 +253,18 @@ impl<T> IntoField<T> for Validity {
     }
 }
 impl<T> IntoField<T> for CoolerCondition {
+    #[inline]
+    fn into_field(self) -> FieldValue<T> {
+        FieldValue::Tag(self.as_str())
+    }
+}
+impl<T> IntoField<T> for crate::surge::ExponentState<T> {
+    #[inline]
+    fn into_field(self) -> FieldValue<T> {
+        FieldValue::Real(self.sigma)
+    }
+}
+impl<T> IntoField<T> for SurgeFault {
     #[inline]
     fn into_field(self) -> FieldValue<T> {
         FieldValue::Tag(self.as_str())
@@ -431,6 +461,93 @@ result_fields!(TrainTotals {
     ideal_staging_saving: "ideal_staging_saving_J_per_kg", "Saving by staging, ideal", "J/kg",
         SpecificWork, Difference, "Single-stage minus ideal-staged isentropic work.";
 });
+
+result_fields!(SurgeState {
+    flow_number: "flow_number", "Flow number X", "-", ReducedCoordinate, Computed,
+        "Live flow number X = flow-element differential pressure over suction pressure.";
+    head_number: "head_number", "Head number Y", "-", ReducedCoordinate, Computed,
+        "Live head number Y (reduced head from the pressure ratio).";
+    surge_flow_number: "surge_flow_number", "Surge-line flow number", "-", ReducedCoordinate,
+        Computed, "The surge line's flow number at the live head number.";
+    margin: "surge_margin", "Surge margin", "-", SurgeMargin, Computed,
+        "Surge margin m (0 on the surge line, 0.1 = 10 % more reduced flow than at surge).";
+    control_margin: "control_margin", "Control margin", "-", SurgeMargin, Computed,
+        "Effective control margin: the line's control margin plus the margin added after surge cycles.";
+    clearance: "control_line_clearance", "Clearance above the control line", "-", SurgeMargin,
+        Difference, "Surge margin minus control margin (above 0 safe, below 0 inside the control line).";
+    rate_of_approach: "rate_of_approach_per_s", "Rate of approach", "1/s", Rate, Computed,
+        "Rate of approach -dm/dt (above 0: approaching surge).";
+    time_to_surge: "time_to_surge_s", "Time to surge", "s", Time, Computed,
+        "Time to reach the surge line at the present rate, capped at the horizon.";
+    exponent: "head_number_sigma", "Exponent sigma of the head number", "-", Exponent, Computed,
+        "sigma = (n-1)/n used for the head number (configured, or from the measured temperatures; its quality says which).";
+    fault: "surge_fault", "Surge-margin fault", "", Condition, Exact,
+        "Why the margin is not good (`none`, `input-bad`, `input-uncertain`, `flow-dp-impossible`, `flow-dp-outside-validity`, `discharge-below-suction`, `beyond-map`, `exponent`).";
+});
+
+result_fields!(DetectionState {
+    surge_this_scan: "surge_this_scan", "Surge cycle this scan", "", Flag, Exact,
+        "A surge cycle was recognised at this scan.";
+    event_count: "surge_event_count", "Surge events", "", Count, Exact,
+        "Surge cycles since the last operator reset of the count.";
+    events_in_window: "surge_events_in_window", "Surge events in the trip window", "", Count, Exact,
+        "Surge cycles within the trip window.";
+    added_margin [plain]: "added_margin", "Margin added to the control line", "-", SurgeMargin,
+        Exact, "Margin the detected surge cycles have added to the control line.";
+    trip_request: "trip_request", "Trip request", "", Flag, Exact,
+        "Advisory trip request: repeated surge cycles within the trip window (latched until reset).";
+    blind: "detection_blind", "Detection blind", "", Flag, Exact,
+        "The window holds too few good samples to detect (after bad data).";
+    armed: "detection_armed", "Detection armed", "", Flag, Exact,
+        "Ready to count a new cycle (false from a detection until the flow has recovered).";
+});
+
+/// The fields of a signal channel's output (its fault code and
+/// substitution mark are [`ChannelOutput::status`]).
+const CHANNEL_FIELDS: &[FieldSpec] = &[
+    FieldSpec {
+        name: "raw",
+        key: "raw_value",
+        label: "Raw value (SI)",
+        unit: "SI",
+        kind: QuantityKind::ChannelValue,
+        derivation: Derivation::Computed,
+        meaning: "Validated, unfiltered value in the channel's SI unit (for the surge path).",
+    },
+    FieldSpec {
+        name: "filtered",
+        key: "filtered_value",
+        label: "Filtered value (SI)",
+        unit: "SI",
+        kind: QuantityKind::ChannelValue,
+        derivation: Derivation::Computed,
+        meaning: "Median- and low-pass-filtered value in the channel's SI unit.",
+    },
+    FieldSpec {
+        name: "last_good_ms",
+        key: "last_good_ms",
+        label: "Time of the last good sample",
+        unit: "",
+        kind: QuantityKind::Count,
+        derivation: Derivation::Exact,
+        meaning: "Time stamp of the last good sample, ms (saturates at 2^32 - 1).",
+    },
+];
+
+impl<T: Real> ResultFields<T> for ChannelOutput<T> {
+    const FIELDS: &'static [FieldSpec] = CHANNEL_FIELDS;
+    fn visit_fields(&self, visit: &mut dyn FnMut(&'static FieldSpec, FieldValue<T>)) {
+        let last_good = u32::try_from(self.status.last_good_ms).unwrap_or(u32::MAX);
+        let values = [
+            FieldValue::Real(self.raw),
+            FieldValue::Real(self.filtered),
+            FieldValue::Count(last_good),
+        ];
+        for (spec, value) in Self::FIELDS.iter().zip(values) {
+            visit(spec, value);
+        }
+    }
+}
 
 /// The stage kind tag that opens each stage group of
 /// [`Snapshot::visit_groups`] (`compressor` or `pump`).
@@ -653,6 +770,24 @@ impl FaultCode {
             FaultCode::ZeroOffset => "zero-offset",
             FaultCode::InputBad => "input-bad",
             FaultCode::ClockStep => "clock-step",
+        }
+    }
+}
+
+impl SurgeFault {
+    /// Stable kebab-case name (`none`, `input-bad`, `input-uncertain`,
+    /// `flow-dp-impossible`, `flow-dp-outside-validity`,
+    /// `discharge-below-suction`, `beyond-map`, `exponent`).
+    pub const fn as_str(self) -> &'static str {
+        match self {
+            SurgeFault::None => "none",
+            SurgeFault::InputBad => "input-bad",
+            SurgeFault::InputUncertain => "input-uncertain",
+            SurgeFault::FlowDpImpossible => "flow-dp-impossible",
+            SurgeFault::FlowDpOutsideValidity => "flow-dp-outside-validity",
+            SurgeFault::DischargeBelowSuction => "discharge-below-suction",
+            SurgeFault::BeyondMap => "beyond-map",
+            SurgeFault::Exponent => "exponent",
         }
     }
 }
@@ -1011,6 +1146,16 @@ mod tests {
             deviation: Measured::bad(),
         });
         list_is_complete(&TrainTotals::<f32>::bad(2));
+        list_is_complete(&crate::surge::SurgeState::<f32>::bad());
+        list_is_complete(&crate::surge::DetectionState::<f32> {
+            surge_this_scan: false,
+            event_count: 0,
+            events_in_window: 0,
+            added_margin: 0.0,
+            trip_request: false,
+            blind: false,
+            armed: true,
+        });
     }
 
     #[test]

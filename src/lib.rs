@@ -77,6 +77,7 @@
 #[cfg(test)]
 extern crate std;
 
+pub mod blob;
 pub mod boundary;
 pub mod clock;
 pub mod compression;
@@ -90,11 +91,13 @@ pub mod error;
 pub mod fields;
 pub mod flow;
 pub mod gas;
+pub mod ledger;
 pub mod plausibility;
 pub mod polytropic;
 pub mod quality;
 pub mod rating;
 pub mod real;
+pub mod registers;
 pub mod scan;
 pub mod signal;
 pub mod stage;

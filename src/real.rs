@@ -55,6 +55,12 @@ pub trait Real:
     fn abs(x: Self) -> Self;
     /// `true` unless NaN or infinite.
     fn is_finite(x: Self) -> bool;
+    /// Converts a small unsigned integer (exact below 2^24), without going
+    /// through `f64` (a soft-float call on single-precision FPUs).
+    fn from_u32(n: u32) -> Self;
+    /// Truncates toward zero to an unsigned integer, saturating (negative and
+    /// NaN give 0).
+    fn trunc_u32(x: Self) -> u32;
 
     /// The smaller of two values (NaN-free inputs assumed).
     #[inline]
@@ -118,6 +124,14 @@ macro_rules! impl_real {
             #[inline]
             fn is_finite(x: Self) -> bool {
                 <$t>::is_finite(x)
+            }
+            #[inline]
+            fn from_u32(n: u32) -> Self {
+                n as $t
+            }
+            #[inline]
+            fn trunc_u32(x: Self) -> u32 {
+                x as u32
             }
         }
     };

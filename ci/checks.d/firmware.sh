@@ -1,11 +1,11 @@
 #!/usr/bin/env bash
 # On-target check (run by ci/test.sh): the kernel on emulated Cortex-M4F
 # (QEMU mps2-an386) and Cortex-M0 (QEMU microbit).
-#  1. builds ci/firmware for both targets; the `minimal` and `proof` bins
-#     link only if no panic path of any public entry point survives (the
-#     train, surge monitor and channel, the whole controller scan;
-#     ci/firmware/src/proof.rs for the
-#     rest; link-time check);
+#  1. builds ci/firmware for both targets; the `minimal`, `controller`,
+#     `proof` and `gateway` bins link only if no panic path of any public
+#     entry point survives (the train, surge monitor and channel, the whole
+#     controller scan; ci/firmware/src/proof.rs for the rest; the register
+#     image in `gateway`; link-time check);
 #  2. runs the harness under QEMU and re-takes the instruction counts, sizes
 #     and stack (ci/measure.sh; the table is printed, not committed here);
 #     and fails when a figure exceeds its budget in ci/budgets.toml

@@ -50,7 +50,7 @@ pub struct Parsed {
 
 impl Parsed {
     /// Records option `name` with its value (`None`: not given).
-    fn opt(mut self, name: &'static str, value: &Option<String>) -> Parsed {
+    pub(crate) fn opt(mut self, name: &'static str, value: &Option<String>) -> Parsed {
         if let Some(v) = value {
             self.given.push((name, Some(v.clone())));
         }
@@ -156,6 +156,12 @@ pub enum Cmd {
     Orifice(crate::orifice_cmd::OrificeArgs),
     /// Write the device configuration blob of a train file (versioned, checksummed).
     Blob(crate::blob::BlobArgs),
+    /// Modbus TCP server on 127.0.0.1 serving the register image of a live demo run (invented scenario).
+    Gateway(crate::gateway::GatewayArgs),
+    /// The gateway's register map, Markdown (default) or --csv.
+    RegisterMap(crate::gateway::RegisterMapArgs),
+    /// Write a GERG-2008 property table (blob + Rust source) for a gas and envelope.
+    Tables(crate::tables::TablesArgs),
 }
 
 /// Options of `demo`.

@@ -119,10 +119,18 @@ fn report<T: Real>(scans: u32, precision: Precision, json: bool) -> Result<Strin
     }
     let snap = train.snapshot();
     let parts = split(&scan.stages, snap);
+    // The loss ledger of the last scan (polytrope::ledger).
+    let ledger = crate::ledger_view::ledger(&train, &scan);
     if json {
-        Ok(to_json(("demo", SCENARIO), scans, precision, snap, &parts).to_text())
+        let mut j = to_json(("demo", SCENARIO), scans, precision, snap, &parts);
+        if let Json::Obj(o) = &mut j {
+            o.put(&k::LEDGER, crate::ledger_view::json(&ledger));
+        }
+        Ok(j.to_text())
     } else {
-        Ok(to_text(("demo", SCENARIO), scans, precision, snap, &parts))
+        let lines = crate::ledger_view::lines(&ledger);
+        Ok(to_text(("demo", SCENARIO), scans, precision, snap, &parts)
+            + &crate::ledger_view::text(&lines))
     }
 }
 

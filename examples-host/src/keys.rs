@@ -8,6 +8,7 @@
 
 use polytrope::cooler::CoolerResult;
 use polytrope::fields::{FieldSpec, QuantityKind, ResultFields, StageInput};
+use polytrope::ledger::{Ledger, LedgerStage};
 use polytrope::stage::{CompressorResult, PumpResult};
 use polytrope::staging::{InterstagePressure, TrainTotals};
 use polytrope::steady::SteadyState;
@@ -154,6 +155,10 @@ keys! { STAGING_EXTRA:
     IDEAL_STAGED_T2 = "ideal_staged_discharge_temperature_K", "K", "Isentropic discharge temperature of each equal-ratio stage with perfect intercooling.";
 }
 
+keys! { LEDGER_DOC:
+    LEDGER = "ledger", "object", "Loss ledger of the last scan (demo, `polytrope::ledger`): the train-wide lines below, in W, in the order of attribution, and `stages` (one object per compressor stage with its `stage` number and per-stage lines); the lines add up to `ledger_measured_total_W`.";
+}
+
 fn keys_of(specs: &'static [FieldSpec]) -> impl Iterator<Item = Key> + Clone {
     specs.iter().map(Key::of)
 }
@@ -206,6 +211,15 @@ pub fn groups() -> Vec<(&'static str, Vec<Key>)> {
                 .chain(STAGING_EXTRA.iter().copied())
                 .collect(),
         ),
+        (
+            "Loss ledger",
+            LEDGER_DOC
+                .iter()
+                .copied()
+                .chain(keys_of(<Ledger<f64, 1> as ResultFields<f64>>::FIELDS))
+                .chain(keys_of(<LedgerStage<f64> as ResultFields<f64>>::FIELDS))
+                .collect(),
+        ),
     ]
 }
 
@@ -227,7 +241,7 @@ plain numbers (what was typed, converted to SI); `compressibility` and \
 
 Layout. `demo --json`: `command`, `scenario`, `caution`, `precision`, \
 `scans`, `stages` (compressor and pump objects), `coolers`, `interstage`, \
-`totals`. `stage --json`: `command`, `caution`, `precision`, `inputs`, \
+`totals`, `ledger`. `stage --json`: `command`, `caution`, `precision`, `inputs`, \
 `results`, `staging` (only with `--stages`), `notes`.
 
 Caution: not a certified safety function; defer to the machine maker's \

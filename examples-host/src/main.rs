@@ -22,7 +22,11 @@ mod cli;
 mod config;
 mod demo;
 mod evaluate;
+// Register image over Modbus TCP, and its map.
+mod gateway;
 mod keys;
+mod ledger_plot;
+mod ledger_view;
 mod orifice_cmd;
 mod out;
 mod plots;
@@ -37,6 +41,9 @@ mod units;
 // Surge simulation: the Greitzer model core and its subcommand.
 mod greitzer;
 mod surge_sim;
+// GERG-2008 property tables for the device.
+mod gerg_table;
+mod tables;
 
 use std::io::Write;
 use std::process::ExitCode;
@@ -71,6 +78,9 @@ fn dispatch(cli: &Cli) -> Result<String, CliError> {
         Cmd::Rate(a) => rating::run(a),
         Cmd::Orifice(a) => orifice_cmd::run(a),
         Cmd::Blob(a) => blob::run(a),
+        Cmd::Gateway(a) => gateway::run(&a.parsed()),
+        Cmd::RegisterMap(a) => gateway::run_map(a),
+        Cmd::Tables(a) => tables::run(a),
     }
 }
 

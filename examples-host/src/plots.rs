@@ -543,6 +543,15 @@ pub fn demo_plots(dir: &Path) -> Result<Vec<PathBuf>, CliError> {
             }
         },
     )?;
+    // The loss ledger of the last scan as a waterfall.
+    let ledger = crate::ledger_view::ledger(&lane.train, &polytrope::demo::scan::<f32>(1199));
+    let png = dir.join("ledger_waterfall.png");
+    crate::ledger_plot::waterfall(
+        &png,
+        "Where the power goes: demo train on ideal-gas CO2 (invented scenario), scan 1200 (f32)",
+        &crate::ledger_view::lines(&ledger),
+    )?;
+    files.push(png);
     // The surge simulation's trajectory on its map (invented scenario).
     let (line, q2, hr, t) = crate::surgemap::sim_trajectory()?;
     files.extend(both!(dir, "map_surge_sim", (1200, 820), |root| {

@@ -27,6 +27,8 @@ mod builtin;
 pub mod components;
 mod ideal;
 pub mod peng_robinson;
+pub mod table;
+mod table_seam;
 
 pub use builtin::{
     CpPolynomial, GasSpec, AIR, BUILTIN_GASES, CARBON_DIOXIDE, ETHANE, HYDROGEN, LEAN_NATURAL_GAS,
@@ -373,6 +375,55 @@ pub trait GasModel<T: Real> {
     fn dense_density(&self, p: T, t: T) -> Option<(T, Validity)> {
         let _ = (p, t);
         None
+    }
+
+    /// Reversible isothermal work from (p1, t) to (p2, t), J/kg: the rise
+    /// of the Gibbs energy, Δh − T·Δs = ∫v dp at constant T, with the
+    /// validity of both states (`ln_ratio` = ln(p2/p1)). The default
+    /// evaluates [`GasModel::state`] twice; the ideal gas gives
+    /// Z·R·T·ln(p2/p1) in closed form.
+    fn isothermal_work(
+        &self,
+        p1: T,
+        p2: T,
+        ln_ratio: T,
+        t: T,
+        z_supplied: Option<T>,
+    ) -> (T, Validity) {
+        let _ = ln_ratio;
+        let a = self.state(p1, t, z_supplied);
+        let b = self.state(p2, t, z_supplied);
+        (
+            (b.enthalpy - a.enthalpy) - t * (b.entropy - a.entropy),
+            a.validity.worst(b.validity),
+        )
+    }
+
+    /// For a model whose isentropic head at a fixed pressure ratio is
+    /// proportional to the suction temperature (the ideal gas with constant
+    /// k): the head from suction temperature `t` for the same pressures as a
+    /// head `head` computed from `t1`, i.e. `head · t / t1`, with the
+    /// validity at (`p_high`, `t`). `None` (the default) where that does not
+    /// hold; the caller then evaluates [`GasModel::compression`].
+    fn isentropic_head_rescaled(
+        &self,
+        head: T,
+        t1: T,
+        t: T,
+        p_high: T,
+        z_supplied: Option<T>,
+    ) -> Option<(T, Validity)> {
+        let _ = (head, t1, t, p_high, z_supplied);
+        None
+    }
+
+    /// `true` if [`GasModel::compression`]'s isentropic results (with no
+    /// discharge temperature) depend on the pressures only through the
+    /// `ln_ratio` passed, and their validity only on the higher pressure
+    /// (the ideal gas). Whole-train references ([`crate::ledger`]) then
+    /// evaluate one stage for several equal ones. Default `false`.
+    fn ratio_only(&self) -> bool {
+        false
     }
 
     /// What [`GasModel::path`] depends on. The default (everything) is

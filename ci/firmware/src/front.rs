@@ -108,3 +108,26 @@ pub fn raw_sample(k: u32) -> (f32, u64) {
     let n = noise.get((k % 7) as usize).copied().unwrap_or(0.0);
     (8.0 + n, u64::from(k) * 20)
 }
+
+/// The register image of the demo train with one surge monitor and one
+/// channel.
+pub type Image = polytrope::registers::RegisterImage<
+    { polytrope::demo::STAGES },
+    1,
+    1,
+    { polytrope::registers::image_len(polytrope::demo::STAGES, 1, 1) },
+>;
+
+/// A detection state to pack next to the monitor's (no detector runs in the
+/// harness; the packer's cost does not depend on these values).
+pub const fn quiet_detection() -> polytrope::surge::DetectionState<f32> {
+    polytrope::surge::DetectionState {
+        surge_this_scan: false,
+        event_count: 0,
+        events_in_window: 0,
+        added_margin: 0.0,
+        trip_request: false,
+        blind: false,
+        armed: true,
+    }
+}

@@ -6,6 +6,7 @@
 pub mod codec;
 pub mod controller;
 pub mod front;
+pub mod gas_tables;
 pub mod proof;
 pub mod report;
 pub mod table;

@@ -4,7 +4,7 @@
 //! whose link-time panic check then covers them: surge detection, the recycle
 //! controller and its embedded-hal outputs, the ISO 5167 orifice, the
 //! generic flow element, the low-flow cut-off, the cross-checks, the event
-//! log, the recycle-loss helpers and the gas models' own entry points
+//! log, the recycle-loss helpers, the loss ledger and the gas models' own entry points
 //! (Peng-Robinson construction and composition update, state functions,
 //! polytropic methods).
 //!
@@ -20,10 +20,14 @@ use polytrope::control::{
     recycle_power, valve_mass_flow, ControllerInputs, Mode, OutputConfig, RecycleConfig,
     RecycleController, RecycleOutputs, UncertainMargin,
 };
+use polytrope::demo;
 use polytrope::flow::orifice::OrificeInputs;
 use polytrope::flow::{FlowElement, LowFlow, LowFlowConfig, Orifice, OrificeConfig, TapType};
 use polytrope::gas::components::{CARBON_DIOXIDE, ETHANE, METHANE, NITROGEN, PROPANE};
-use polytrope::gas::{GasModel, IdealGas, PengRobinson, AIR};
+use polytrope::gas::{GasModel, IdealGas, PengRobinson, AIR, CARBON_DIOXIDE as CO2_IDEAL};
+use polytrope::ledger::{
+    evaluate_ledger_into, CoolingReference, Ledger, LedgerConfig, RecycleLoop,
+};
 use polytrope::polytropic::{path_discharge_temperature, reference_path, sandberg_colby, schultz};
 use polytrope::quality::{Measured, Quality};
 use polytrope::signal::cross_check::{
@@ -32,9 +36,14 @@ use polytrope::signal::cross_check::{
 };
 use polytrope::signal::{Event, EventLog, FaultCode};
 use polytrope::surge::{DetectionConfig, DetectionScan, SurgeDetector};
+use polytrope::train::{Train, TrainConfig};
 use polytrope::units::{Kelvin, PressureAbs};
 
+use crate::codec::decode_scan;
 use crate::front;
+use crate::gas_tables::{HYDROGEN_BLOB, NG_BOOSTER};
+use polytrope::gas::table::{PropertyTable, TableGas};
+use crate::table::MINIMAL_SCAN;
 
 /// A PWM channel that keeps the last duty (stands in for a timer).
 struct Pwm(u16);
@@ -260,8 +269,86 @@ pub fn exercise(k: u32) -> bool {
         1.4,
     );
     black_box(recycle_power(m, black_box(good(90_000.0))));
+
+    // GERG-2008 property tables: a static table, and a blob decoded into
+    // fixed capacity (then replaced by a truncated copy, which is refused).
+    match TableGas::<f32>::new(black_box(NG_BOOSTER)) {
+        Ok(gas) => {
+            let p = black_box(40e5_f32 + k as f32);
+            black_box(gas.state(p, 300.0));
+            black_box(gas.isentropic_temperature(80e5, black_box(-500.0), 360.0));
+            black_box(gas.stage(p, 300.0, 80e5, 365.0));
+        }
+        Err(_) => ok = false,
+    }
+    let blob = black_box(HYDROGEN_BLOB);
+    match PropertyTable::<48, 64>::from_blob(blob) {
+        Ok(mut table) => {
+            let cut = blob.len() / 2;
+            ok &= table
+                .replace_from_blob(blob.get(..cut).unwrap_or(&[]))
+                .is_err();
+            match TableGas::<f32>::new(table.data()) {
+                Ok(gas) => {
+                    black_box(gas.stage(black_box(20e5), 300.0, 60e5, 420.0));
+                }
+                Err(_) => ok = false,
+            }
+        }
+        Err(_) => ok = false,
+    }
     ok &= gas_models();
+    ok &= ledger();
     ok
+}
+
+/// The loss ledger after a train update, on the demo's Peng-Robinson train
+/// and on the same train with an ideal gas, with the coolant-inlet
+/// reference and a recycle loop (`evaluate_ledger_into`,
+/// `LedgerConfig::validate`, `Ledger::visit_lines`).
+#[inline(never)]
+fn ledger() -> bool {
+    let cfg = LedgerConfig {
+        cooling_reference: CoolingReference::CoolantInletPlusApproach {
+            design_approach: black_box(8.0_f32),
+        },
+        recycle: Some(black_box(RecycleLoop {
+            first_stage: 0,
+            last_stage: 3,
+        })),
+    };
+    if cfg.validate(black_box(4)).is_err() {
+        return false;
+    }
+    let scan = decode_scan::<f32, { demo::STAGES }>(black_box(&MINIMAL_SCAN));
+    let recycle = black_box(good(0.5_f32));
+    let mut out = Ledger::<f32, { demo::STAGES }>::bad();
+    let Ok(mut train) = demo::train::<f32>() else {
+        return false;
+    };
+    let snap = *train.update(&scan);
+    evaluate_ledger_into(train.config(), &cfg, &scan, &snap, recycle, &mut out);
+    let mut sum = 0.0_f32;
+    out.visit_lines(&mut |_, _, m| sum += m.value);
+    black_box(sum);
+    let Ok(gas) = IdealGas::<f32>::from_spec(&CO2_IDEAL, black_box(false), 1.0) else {
+        return false;
+    };
+    let Ok(demo_cfg) = demo::config::<f32>() else {
+        return false;
+    };
+    let Ok(mut ideal) = Train::<f32, _, { demo::STAGES }, { demo::WINDOW }>::new(TrainConfig {
+        gas,
+        stages: demo_cfg.stages,
+        max_interstage_pressure_drop: demo_cfg.max_interstage_pressure_drop,
+        steady_state: demo_cfg.steady_state,
+    }) else {
+        return false;
+    };
+    let snap = *ideal.update(&scan);
+    evaluate_ledger_into(ideal.config(), &cfg, &scan, &snap, recycle, &mut out);
+    black_box(&out);
+    true
 }
 
 /// The gas models' entry points beyond what a train update calls: a

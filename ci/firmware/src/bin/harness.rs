@@ -24,7 +24,11 @@ use polytrope::cooler::{evaluate_cooler_into, CoolerInputs, CoolerResult};
 use polytrope::demo::{self, DemoTrain};
 use polytrope::fields::FieldValue;
 use polytrope::gas::components::{CARBON_DIOXIDE, ETHANE, METHANE, NITROGEN, PROPANE};
+#[cfg(target_abi = "eabihf")]
+use polytrope::gas::table::PropertyTable;
+use polytrope::gas::table::TableGas;
 use polytrope::gas::{GasModel, IdealGas, PengRobinson, CARBON_DIOXIDE as CO2_IDEAL};
+use polytrope::ledger::{evaluate_ledger_into, CoolingReference, Ledger, LedgerConfig};
 use polytrope::quality::{Measured, Quality};
 use polytrope::scan::Scan;
 use polytrope::stage::{
@@ -33,12 +37,17 @@ use polytrope::stage::{
 use polytrope::train::{Snapshot, Train, TrainConfig};
 use polytrope_firmware::codec::{decode_scan, quality_code, RawStage};
 use polytrope_firmware::front::{self, Monitor, PressureChannel};
+#[cfg(target_abi = "eabihf")]
+use polytrope_firmware::gas_tables::CO2_DEMO_BLOB;
+use polytrope_firmware::gas_tables::NG_BOOSTER;
 use polytrope_firmware::measure;
 use polytrope_firmware::table::SCANS;
 
 /// Stages of the budget train: four compressors, three intercoolers.
 const BUDGET_STAGES: usize = 4;
 type BudgetTrain = Train<f32, IdealGas<f32>, BUDGET_STAGES, { demo::WINDOW }>;
+/// The budget train on a GERG-2008 property table.
+type BudgetTrainTable<'a> = Train<f32, TableGas<'a, f32>, BUDGET_STAGES, { demo::WINDOW }>;
 /// The same train on the demo's Peng–Robinson CO2.
 type BudgetTrainPr = Train<f32, PengRobinson<f32, 1>, BUDGET_STAGES, { demo::WINDOW }>;
 
@@ -141,8 +150,75 @@ fn update_channel(c: &mut PressureChannel, raw: f32, t_ms: u64) -> f32 {
 }
 
 #[inline(never)]
+fn pack(
+    image: &mut front::Image,
+    snap: &Snapshot<f32, { demo::STAGES }>,
+    view: &polytrope::registers::SurgeView<f32>,
+    outputs: &[polytrope::signal::ChannelOutput<f32>; 1],
+) -> u16 {
+    image.pack(snap, &[*view], outputs);
+    image.registers().first().copied().unwrap_or(0)
+}
+
+#[inline(never)]
 fn update_budget(t: &mut BudgetTrain, s: &Scan<f32, BUDGET_STAGES>) -> f32 {
     t.update(s).totals.total_power.value
+}
+
+/// One loss ledger after the budget train's update of the same scan.
+#[inline(never)]
+fn ledger_budget<G: GasModel<f32>>(
+    t: &Train<f32, G, BUDGET_STAGES, { demo::WINDOW }>,
+    cfg: &LedgerConfig<f32>,
+    s: &Scan<f32, BUDGET_STAGES>,
+    out: &mut Ledger<f32, BUDGET_STAGES>,
+) -> f32 {
+    evaluate_ledger_into(t.config(), cfg, s, t.snapshot(), Measured::bad(), out);
+    out.remainder.value
+}
+
+/// Measures the loss ledger after a budget update of `s` (ideal gas: the
+/// first-suction and the coolant-inlet reference with an 8 K design
+/// approach; Peng–Robinson: the first-suction reference). Out of line so
+/// its locals do not add to `main`'s frame (the Cortex-M0 has 16 KiB).
+#[inline(never)]
+fn measure_ledgers<G: GasModel<f32>>(
+    h: &mut Host,
+    label: &mut impl FnMut(&mut Host, &str) -> u32,
+    t: &Train<f32, G, BUDGET_STAGES, { demo::WINDOW }>,
+    s: &Scan<f32, BUDGET_STAGES>,
+    peng_robinson: bool,
+) {
+    let first = black_box(LedgerConfig::<f32>::default());
+    let coolant = black_box(LedgerConfig::<f32> {
+        cooling_reference: CoolingReference::CoolantInletPlusApproach {
+            design_approach: 8.0,
+        },
+        recycle: None,
+    });
+    let mut ledger = Ledger::<f32, BUDGET_STAGES>::bad();
+    if peng_robinson {
+        let r = label(h, "ledger_4_stages_peng_robinson");
+        measure(r, || ledger_budget(t, &first, s, &mut ledger));
+    } else {
+        let r = label(h, "ledger_4_stages");
+        measure(r, || ledger_budget(t, &first, s, &mut ledger));
+        let r = label(h, "ledger_4_stages_coolant_reference");
+        measure(r, || ledger_budget(t, &coolant, s, &mut ledger));
+    }
+    if !ledger.measured_total.quality.is_usable() {
+        fail(h, "ledger total not usable");
+    }
+}
+
+/// Stack high-water mark of one loss ledger (first-suction reference).
+#[inline(never)]
+fn stack_ledger(t: &BudgetTrain, s: &Scan<f32, BUDGET_STAGES>) -> usize {
+    let cfg = black_box(LedgerConfig::<f32>::default());
+    let mut ledger = Ledger::<f32, BUDGET_STAGES>::bad();
+    stack_used(|| {
+        ledger_budget(t, &cfg, s, &mut ledger);
+    })
 }
 
 #[inline(never)]
@@ -324,6 +400,7 @@ fn measure_peng_robinson_train(h: &mut Host, label: &mut impl FnMut(&mut Host, &
         let s = black_box(budget_scan(black_box(raw)));
         let r = label(h, "update_4_stages_3_intercoolers_peng_robinson");
         measure(r, || update_budget_pr(&mut train, &s));
+        measure_ledgers(h, label, &train, &s, true);
     }
     let s = black_box(budget_scan(black_box(&SCANS[13])));
     let used = stack_used(|| {
@@ -367,6 +444,7 @@ fn measure_trains(
         let s = black_box(budget_scan(black_box(raw)));
         let r = label(h, "update_4_stages_3_intercoolers");
         measure(r, || update_budget(&mut budget, &s));
+        measure_ledgers(h, label, &budget, &s, false);
     }
     // Stack high-water mark of one update (the wrapper frame included).
     let s = black_box(decode_scan::<f32, { demo::STAGES }>(black_box(&SCANS[13])));
@@ -379,6 +457,8 @@ fn measure_trains(
         update_budget(&mut budget, &s);
     });
     out!(h, "S stack_update_4_stages_3_intercoolers {}", used);
+    let used = stack_ledger(&budget, &s);
+    out!(h, "S stack_ledger_4_stages {}", used);
 }
 
 /// `Train::new` of the demo train, in its own frame.
@@ -449,6 +529,145 @@ fn measure_front_end(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u3
     out!(h, "S stack_signal_channel_4_20ma {}", used);
 }
 
+/// One compressor stage on a property table (both measured states, the
+/// entropy-matched isentropic state, heads, polytropic efficiency), the
+/// table's own `stage`.
+#[inline(never)]
+fn table_stage(gas: &TableGas<'_, f32>, p1: f32, t1: f32, p2: f32, t2: f32) -> f32 {
+    let s = gas.stage(p1, t1, p2, t2);
+    s.polytropic_efficiency.value + s.isentropic_head.value
+}
+
+#[inline(never)]
+fn update_budget_table(t: &mut BudgetTrainTable<'_>, s: &Scan<f32, BUDGET_STAGES>) -> f32 {
+    t.update(s).totals.total_power.value
+}
+
+/// The GERG-2008 table model: one stage on the natural-gas table in flash
+/// (the table's own `stage`, then the train's `evaluate_compressor_into`
+/// through the gas seam, default polytropic method); on Cortex-M4F also the
+/// CO2 table decoded from its blob (61 kB of RAM), its stages and the
+/// 4-stage, 3-intercooler budget train on it, with its stack. In a frame of
+/// its own.
+#[inline(never)]
+fn measure_tables(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u32) {
+    let g = |x: f32| Measured::new(x, Quality::Good);
+    // Invented natural-gas booster stage: 40 -> 80 bar a, 300 -> 365 K.
+    let Ok(ng) = TableGas::<f32>::new(black_box(NG_BOOSTER)) else {
+        fail(h, "NG table");
+    };
+    for k in 0..3 {
+        let (a, b, c, d) = black_box((40e5_f32, 300.0_f32 + k as f32, 80e5_f32, 365.0_f32));
+        let r = label(h, "table_stage_ng_booster");
+        let v = measure(r, || table_stage(&ng, a, b, c, d));
+        if !(v > 0.0) {
+            fail(h, "NG table stage");
+        }
+    }
+    let inputs = black_box(CompressorInputs {
+        suction_pressure: g(40e5),
+        suction_temperature: g(300.0),
+        discharge_pressure: g(80e5),
+        discharge_temperature: g(365.0),
+        mass_flow: g(11.5),
+        compressibility: None,
+    });
+    let ng_ref = black_box(&ng);
+    let r = label(h, "compressor_stage_table_ng_booster");
+    let mut res = CompressorResult::bad();
+    measure(r, || evaluate_compressor_into(ng_ref, &inputs, &mut res));
+    if res.polytropic_efficiency.quality != Quality::Good {
+        fail(h, "NG table stage through the seam");
+    }
+    #[cfg(target_abi = "eabihf")]
+    {
+        let Ok(co2_table) = PropertyTable::<1100, 1800>::from_blob(black_box(CO2_DEMO_BLOB)) else {
+            fail(h, "CO2 table blob");
+        };
+        let Ok(co2) = TableGas::<f32>::new(co2_table.data()) else {
+            fail(h, "CO2 table");
+        };
+        // The demo CO2 train's stage 3 (9 -> 26 bar a) and stage 4 (25.6 ->
+        // 66 bar a), invented scenario.
+        for (a, b, c, d) in [
+            (9.0e5_f32, 308.0_f32, 26.0e5_f32, 400.0_f32),
+            (25.6e5, 309.0, 66.0e5, 385.0),
+        ] {
+            let (a, b, c, d) = black_box((a, b, c, d));
+            let r = label(h, "table_stage_co2_demo");
+            let v = measure(r, || table_stage(&co2, a, b, c, d));
+            if !(v > 0.0) {
+                fail(h, "CO2 table stage");
+            }
+        }
+        let Some(cfg) = budget_config(co2) else {
+            fail(h, "budget config table");
+        };
+        let Ok(mut train) = BudgetTrainTable::new(cfg) else {
+            fail(h, "budget train table");
+        };
+        for raw in SCANS.iter().take(10) {
+            update_budget_table(&mut train, &budget_scan(black_box(raw)));
+        }
+        for raw in SCANS.iter().skip(10).take(3) {
+            let s = black_box(budget_scan(black_box(raw)));
+            let r = label(h, "update_4_stages_3_intercoolers_table");
+            measure(r, || update_budget_table(&mut train, &s));
+        }
+        let s = black_box(budget_scan(black_box(&SCANS[13])));
+        let used = stack_used(|| {
+            update_budget_table(&mut train, &s);
+        });
+        out!(h, "S stack_update_4_stages_3_intercoolers_table {}", used);
+    }
+}
+
+/// The register image: one pack of the demo snapshot, a warmed surge
+/// monitor's state and a channel's output, and its stack high-water mark, in
+/// a frame of its own.
+#[inline(never)]
+fn measure_register_pack(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u32) {
+    let Ok(mut demo_train) = demo::train::<f32>() else {
+        fail(h, "demo train");
+    };
+    for raw in SCANS.iter().take(10) {
+        update_demo(&mut demo_train, &decode_scan(black_box(raw)));
+    }
+    let Ok(mut monitor) = front::surge_monitor() else {
+        fail(h, "surge monitor");
+    };
+    let Ok(mut channel) = front::pressure_channel() else {
+        fail(h, "pressure channel");
+    };
+    for k in 0..front::WARM_SCANS {
+        update_surge(&mut monitor, &front::surge_scan(k));
+        let (raw, t) = front::raw_sample(k);
+        update_channel(&mut channel, raw, t);
+    }
+    let mut image = front::Image::new(polytrope::registers::WordOrder::HighWordFirst, 1);
+    let view = polytrope::registers::SurgeView {
+        state: *monitor.state(),
+        detection: front::quiet_detection(),
+    };
+    let outputs = [*channel.output()];
+    for _ in 0..3 {
+        let snap = black_box(demo_train.snapshot());
+        let r = label(h, "register_pack_demo");
+        measure(r, || pack(&mut image, snap, &view, &outputs));
+    }
+    let snap = black_box(*demo_train.snapshot());
+    let used = stack_used(|| {
+        pack(&mut image, &snap, &view, &outputs);
+    });
+    out!(h, "S stack_register_pack {}", used);
+    out!(h, "S register_image_registers {}", image.registers().len());
+    out!(
+        h,
+        "S register_image_bytes {}",
+        core::mem::size_of::<front::Image>()
+    );
+}
+
 #[entry]
 fn main() -> ! {
     let mut h = Host(hio::hstdout().ok());
@@ -481,6 +700,8 @@ fn main() -> ! {
     measure_peng_robinson_train(&mut h, &mut label);
     measure_train_new(&mut h, &mut label);
     measure_front_end(&mut h, &mut label);
+    measure_register_pack(&mut h, &mut label);
+    measure_tables(&mut h, &mut label);
 
     // 3. State sizes.
     out!(

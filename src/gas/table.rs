@@ -1,0 +1,1636 @@
+//! Gas property tables: a reference equation of state (GERG-2008) evaluated
+//! once on the host over a train's operating envelope, interpolated on the
+//! device.
+//!
+//! Sources:
+//! - GERG-2008: O. Kunz, W. Wagner, "The GERG-2008 wide-range equation of
+//!   state for natural gases and other mixtures", J. Chem. Eng. Data 57
+//!   (2012) 3032–3091; ISO 20765-2. The host generator
+//!   (`polytrope-host tables`) evaluates it with the `aga8` crate.
+//! - Bicubic Hermite interpolation on a rectangle from corner values, first
+//!   derivatives and the cross derivative (the tensor product of cubic
+//!   Hermite polynomials; e.g. C. de Boor, *A Practical Guide to Splines*,
+//!   1978, ch. XVII; stated here from memory).
+//! - Thermodynamic identities, with x = ln p and T (any thermodynamics text,
+//!   e.g. Çengel & Boles, *Thermodynamics*, ch. 12): the Maxwell relation
+//!   (∂s/∂p)_T = −(∂v/∂T)_p with v = Z·R·T/p gives ∂s/∂x = −R·(Z + T·∂Z/∂T);
+//!   dh = T ds + v dp gives ∂h/∂x = T·∂s/∂x + Z·R·T = −R·T²·∂Z/∂T;
+//!   ∂h/∂T = cp and ∂s/∂T = cp/T; the cross derivatives follow as
+//!   ∂²h/∂x∂T = ∂cp/∂x and ∂²s/∂x∂T = (∂cp/∂x)/T.
+//!
+//! So a node stores only Z, ∂Z/∂x, ∂Z/∂T, ∂²Z/∂x∂T, h, s, cp, ∂cp/∂x (and
+//! the speed of sound, interpolated bilinearly): 9 `f32` instead of 13, and
+//! h and s stay exactly consistent with Z through the identities.
+//!
+//! The table is a tree over the rectangle [ln p_min, ln p_max] ×
+//! [T_min, T_max]: every cell is either split in half in ln p, in T or in
+//! both (two or four children), or a leaf patch with four corner nodes. The host refines where the
+//! interpolation misses its tolerance against the equation of state; cells
+//! it cannot make accurate (the band around a critical point or a saturation
+//! line) are flagged uncertain, cells without a single-phase state bad.
+//! Inputs are stored as offsets (T − T_offset, h − h_offset, s − s_offset) so
+//! `f32` keeps its resolution.
+//!
+//! Outside the envelope a state is bad ([`TableFlag::OutsideEnvelope`]); in a
+//! flagged cell it is uncertain or bad with the reason. Nothing here
+//! allocates or panics; the descent and every iteration are bounded.
+
+use serde::{Deserialize, Serialize};
+
+use crate::blob::{self, BlobError, KIND_PROPERTY_TABLE};
+use crate::error::{ConfigError, Problem};
+use crate::gas::MOLAR_GAS_CONSTANT;
+use crate::quality::{Measured, Quality};
+use crate::real::Real;
+
+/// Format version of the table payload (bump on any layout change).
+pub const TABLE_FORMAT_VERSION: u16 = 1;
+/// Most splits the evaluator descends through (a bound, so a corrupt tree
+/// cannot loop; children always follow their parent anyway).
+pub const MAX_DEPTH: usize = 40;
+/// Cell flag: the interpolation is not trusted to its tolerance here (near a
+/// critical point or a saturation line).
+pub const CELL_UNCERTAIN: u8 = 1;
+/// Cell flag: no usable state here (two-phase, or the equation of state's
+/// solver found no root; e.g. at a critical point)
+/// equation of state).
+pub const CELL_BAD: u8 = 2;
+/// Cell flag of a split cell: split at the middle of its ln p range.
+pub const SPLIT_LN_P: u8 = 4;
+/// Cell flag of a split cell: split at the middle of its temperature range.
+pub const SPLIT_T: u8 = 8;
+/// Midpoint refinements of the polytropic path (see
+/// [`TableGas::stage`]).
+pub const POLYTROPIC_ITERATIONS: usize = 3;
+/// Iteration cap of the isentropic (entropy-matched) temperature search.
+pub const ISENTROPIC_MAX_ITERATIONS: usize = 12;
+
+/// What the whole table describes.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct TableHeader {
+    /// Short ASCII label, zero-padded (what gas and envelope).
+    pub label: [u8; 16],
+    /// Mole fractions the table was made for, in the GERG-2008 component
+    /// order (methane, nitrogen, carbon dioxide, ethane, propane, isobutane,
+    /// n-butane, isopentane, n-pentane, hexane, heptane, octane, nonane,
+    /// decane, hydrogen, oxygen, carbon monoxide, water, hydrogen sulfide,
+    /// helium, argon).
+    pub mole_fractions: [f64; 21],
+    /// Molar mass, kg/mol.
+    pub molar_mass: f64,
+    /// Lowest pressure of the envelope, ln(p / Pa).
+    pub ln_p_min: f64,
+    /// Highest pressure of the envelope, ln(p / Pa).
+    pub ln_p_max: f64,
+    /// Lowest temperature of the envelope, K.
+    pub t_min: f64,
+    /// Highest temperature of the envelope, K.
+    pub t_max: f64,
+    /// Offset subtracted from every stored enthalpy, J/kg.
+    pub h_offset: f64,
+    /// Offset subtracted from every stored entropy, J/(kg K).
+    pub s_offset: f64,
+    /// Largest enthalpy interpolation error the generator accepted outside
+    /// flagged cells, J/kg.
+    pub tolerance_h: f32,
+    /// Largest entropy interpolation error accepted, J/(kg K).
+    pub tolerance_s: f32,
+    /// Largest relative Z interpolation error accepted.
+    pub tolerance_z: f32,
+    /// The tree's lattice: every cell edge lies on a multiple of
+    /// 2^−lattice_bits of the envelope's span in each variable (1 to 16).
+    pub lattice_bits: u8,
+    /// Number of nodes.
+    pub node_count: u16,
+    /// Number of cells.
+    pub cell_count: u16,
+}
+
+/// The equation of state at one grid node (x = ln p, T in K, per kg).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Node {
+    /// Compressibility factor Z.
+    pub z: f32,
+    /// ∂Z/∂ln p at constant T.
+    pub z_lnp: f32,
+    /// ∂Z/∂T at constant p, 1/K.
+    pub z_t: f32,
+    /// ∂²Z/∂ln p ∂T, 1/K.
+    pub z_lnp_t: f32,
+    /// Enthalpy minus the header's offset, J/kg.
+    pub h: f32,
+    /// Entropy minus the header's offset, J/(kg K).
+    pub s: f32,
+    /// Isobaric heat capacity, J/(kg K).
+    pub cp: f32,
+    /// ∂cp/∂ln p at constant T, J/(kg K).
+    pub cp_lnp: f32,
+    /// Speed of sound, m/s.
+    pub speed_of_sound: f32,
+}
+
+/// One cell of the tree.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Cell {
+    /// Corner node indices of a leaf: (low ln p, low T), (high ln p, low T),
+    /// (low ln p, high T), (high ln p, high T). In a split cell, `corners[0]`
+    /// and `corners[1]` hold the lattice bit that selects the child along
+    /// ln p and along T (the cell's level counted from the finest lattice,
+    /// so the descent needs no counters); the rest are 0.
+    pub corners: [u16; 4],
+    /// Index of the first child, always above the cell's own index; 0 for a
+    /// leaf. Two children (low, high half) for a split in one variable, four
+    /// for a split in both (same order as the corners).
+    pub children: u16,
+    /// Leaf: [`CELL_UNCERTAIN`] and/or [`CELL_BAD`]; split cell:
+    /// [`SPLIT_LN_P`] and/or [`SPLIT_T`].
+    pub flags: u8,
+}
+
+/// A table's content, borrowed: from a `static` generated as Rust source, or
+/// from a [`PropertyTable`] decoded from a blob.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct TableData<'a> {
+    /// What the table describes.
+    pub header: TableHeader,
+    /// Grid nodes.
+    pub nodes: &'a [Node],
+    /// Quadtree cells; cell 0 is the root (the whole envelope).
+    pub cells: &'a [Cell],
+}
+
+fn finite(x: f64) -> bool {
+    <f64 as Real>::is_finite(x)
+}
+
+fn check_header(h: &TableHeader) -> Result<(), ConfigError> {
+    let mut sum = 0.0;
+    for (i, &x) in h.mole_fractions.iter().enumerate() {
+        if !finite(x) {
+            return Err(ConfigError::not_finite("table_mole_fractions").at(i));
+        }
+        if !(0.0..=1.0).contains(&x) {
+            return Err(ConfigError::out_of_range("table_mole_fractions", 0.0, 1.0).at(i));
+        }
+        sum += x;
+    }
+    if !(sum > 0.999_999 && sum < 1.000_001) {
+        return Err(ConfigError::new(
+            "table_mole_fractions",
+            Problem::OutOfRange {
+                min: 0.999_999,
+                max: 1.000_001,
+            },
+        ));
+    }
+    let molar_mass = h.molar_mass;
+    if !finite(molar_mass) {
+        return Err(ConfigError::not_finite("table.molar_mass"));
+    }
+    if !(0.001..=0.5).contains(&molar_mass) {
+        return Err(ConfigError::out_of_range("table.molar_mass", 0.001, 0.5));
+    }
+    // 1 Pa .. 1e9 Pa.
+    for (field, v) in [
+        ("table.ln_p_min", h.ln_p_min),
+        ("table.ln_p_max", h.ln_p_max),
+    ] {
+        if !finite(v) {
+            return Err(ConfigError::not_finite(field));
+        }
+        if !(0.0..=20.8).contains(&v) {
+            return Err(ConfigError::out_of_range(field, 0.0, 20.8));
+        }
+    }
+    if !(h.ln_p_max > h.ln_p_min) {
+        return Err(ConfigError::new(
+            "table.ln_p_max",
+            Problem::NotAbove {
+                other: "table.ln_p_min",
+            },
+        ));
+    }
+    for (field, v) in [("table.t_min", h.t_min), ("table.t_max", h.t_max)] {
+        if !finite(v) {
+            return Err(ConfigError::not_finite(field));
+        }
+        if !(1.0..=2000.0).contains(&v) {
+            return Err(ConfigError::out_of_range(field, 1.0, 2000.0));
+        }
+    }
+    if !(h.t_max > h.t_min) {
+        return Err(ConfigError::new(
+            "table.t_max",
+            Problem::NotAbove {
+                other: "table.t_min",
+            },
+        ));
+    }
+    for (field, v) in [
+        ("table.h_offset", h.h_offset),
+        ("table.s_offset", h.s_offset),
+    ] {
+        if !finite(v) {
+            return Err(ConfigError::not_finite(field));
+        }
+    }
+    for (field, v) in [
+        ("table.tolerance_h", h.tolerance_h),
+        ("table.tolerance_s", h.tolerance_s),
+        ("table.tolerance_z", h.tolerance_z),
+    ] {
+        if !<f32 as Real>::is_finite(v) {
+            return Err(ConfigError::not_finite(field));
+        }
+        if !(v >= 0.0) {
+            return Err(ConfigError::out_of_range(field, 0.0, f64::INFINITY));
+        }
+    }
+    if !(1..=16).contains(&h.lattice_bits) {
+        return Err(ConfigError::out_of_range("table.lattice_bits", 1.0, 16.0));
+    }
+    if h.node_count < 4 {
+        return Err(ConfigError::new(
+            "table_nodes",
+            Problem::Count {
+                min: 4,
+                max: u16::MAX,
+            },
+        ));
+    }
+    if h.cell_count < 1 {
+        return Err(ConfigError::new(
+            "table_cells",
+            Problem::Count {
+                min: 1,
+                max: u16::MAX,
+            },
+        ));
+    }
+    Ok(())
+}
+
+fn check_node(index: usize, n: &Node) -> Result<(), ConfigError> {
+    let all = [
+        n.z,
+        n.z_lnp,
+        n.z_t,
+        n.z_lnp_t,
+        n.h,
+        n.s,
+        n.cp,
+        n.cp_lnp,
+        n.speed_of_sound,
+    ];
+    if !all.iter().all(|v| <f32 as Real>::is_finite(*v)) {
+        return Err(ConfigError::not_finite("table_nodes").at(index));
+    }
+    // Positive Z, cp and speed of sound: also true of flagged nodes (the
+    // generator writes a finite placeholder state there).
+    if !(n.z > 0.0 && n.cp > 0.0 && n.speed_of_sound > 0.0) {
+        return Err(ConfigError::out_of_range("table_nodes", 0.0, f64::INFINITY).at(index));
+    }
+    Ok(())
+}
+
+fn child_count(flags: u8) -> usize {
+    let split = flags & (SPLIT_LN_P | SPLIT_T);
+    if split == 0 {
+        0
+    } else if split == SPLIT_LN_P | SPLIT_T {
+        4
+    } else {
+        2
+    }
+}
+
+fn check_cell(
+    index: usize,
+    c: &Cell,
+    nodes: usize,
+    cells: usize,
+    lattice_bits: u8,
+) -> Result<(), ConfigError> {
+    let allowed = if c.children == 0 {
+        CELL_UNCERTAIN | CELL_BAD
+    } else {
+        SPLIT_LN_P | SPLIT_T
+    };
+    if c.flags & !allowed != 0 || (c.children != 0 && child_count(c.flags) == 0) {
+        return Err(ConfigError::new("table_cells.flags", Problem::Unknown).at(index));
+    }
+    if c.children == 0 {
+        if c.corners.iter().any(|&k| usize::from(k) >= nodes) {
+            return Err(ConfigError::new(
+                "table_cells.corners",
+                Problem::Inconsistent {
+                    with: "table_nodes",
+                },
+            )
+            .at(index));
+        }
+    } else {
+        let bits = u16::from(lattice_bits);
+        let [bit_x, bit_t, ..] = c.corners;
+        if (c.flags & SPLIT_LN_P != 0 && bit_x >= bits) || (c.flags & SPLIT_T != 0 && bit_t >= bits)
+        {
+            return Err(ConfigError::new(
+                "table_cells.corners",
+                Problem::Inconsistent {
+                    with: "table.lattice_bits",
+                },
+            )
+            .at(index));
+        }
+        let first = usize::from(c.children);
+        if first <= index || first + child_count(c.flags) > cells {
+            return Err(ConfigError::new(
+                "table_cells.children",
+                Problem::Inconsistent {
+                    with: "table_cells",
+                },
+            )
+            .at(index));
+        }
+    }
+    Ok(())
+}
+
+/// Checks a table's structure and values: header ranges, counts, finite and
+/// positive node values, corner and child indices in range (children always
+/// after their parent, so every descent ends).
+pub fn validate(data: &TableData<'_>) -> Result<(), ConfigError> {
+    check_header(&data.header)?;
+    let (nodes, cells) = (data.nodes.len(), data.cells.len());
+    if nodes != usize::from(data.header.node_count) {
+        return Err(ConfigError::new(
+            "table_nodes",
+            Problem::Inconsistent {
+                with: "table.node_count",
+            },
+        ));
+    }
+    if cells != usize::from(data.header.cell_count) {
+        return Err(ConfigError::new(
+            "table_cells",
+            Problem::Inconsistent {
+                with: "table.cell_count",
+            },
+        ));
+    }
+    for (i, n) in data.nodes.iter().enumerate() {
+        check_node(i, n)?;
+    }
+    for (i, c) in data.cells.iter().enumerate() {
+        check_cell(i, c, nodes, cells, data.header.lattice_bits)?;
+    }
+    Ok(())
+}
+
+/// Writes a table as a blob (framing in [`crate::blob`]); returns its length.
+/// Used by the host generator and the tests; allocates nothing.
+pub fn write_blob(data: &TableData<'_>, out: &mut [u8]) -> Result<usize, BlobError> {
+    validate(data).map_err(BlobError::Invalid)?;
+    let area = blob::payload_area(out);
+    let used = postcard::to_slice(&(&data.header, data.nodes, data.cells), area)
+        .map_err(|_| BlobError::BufferTooSmall)?
+        .len();
+    blob::seal(out, KIND_PROPERTY_TABLE, TABLE_FORMAT_VERSION, used)
+}
+
+/// A table decoded from a blob into fixed capacity: at most `NODES` nodes
+/// and `CELLS` cells (both checked at compile time to fit the format's
+/// 16-bit indices).
+#[derive(Clone, Debug)]
+pub struct PropertyTable<const NODES: usize, const CELLS: usize> {
+    header: TableHeader,
+    nodes: [Node; NODES],
+    cells: [Cell; CELLS],
+    node_count: usize,
+    cell_count: usize,
+}
+
+fn take<'a, V: Deserialize<'a>>(bytes: &'a [u8]) -> Result<(V, &'a [u8]), BlobError> {
+    postcard::take_from_bytes(bytes).map_err(|_| BlobError::Decode)
+}
+
+fn capacity(field: &'static str, capacity: usize, found: u32) -> BlobError {
+    BlobError::Capacity {
+        field,
+        capacity: u32::try_from(capacity).unwrap_or(u32::MAX),
+        found,
+    }
+}
+
+impl<const NODES: usize, const CELLS: usize> PropertyTable<NODES, CELLS> {
+    const CAPACITY_OK: () = assert!(
+        NODES >= 4 && NODES <= 65_535 && CELLS >= 1 && CELLS <= 65_535,
+        "table capacities must be 4..=65535 nodes and 1..=65535 cells"
+    );
+
+    /// An empty table (no model: [`TableGas::new`] refuses it).
+    pub const fn empty() -> Self {
+        let () = Self::CAPACITY_OK;
+        PropertyTable {
+            header: TableHeader {
+                label: [0; 16],
+                mole_fractions: [0.0; 21],
+                molar_mass: 0.0,
+                ln_p_min: 0.0,
+                ln_p_max: 0.0,
+                t_min: 0.0,
+                t_max: 0.0,
+                h_offset: 0.0,
+                s_offset: 0.0,
+                tolerance_h: 0.0,
+                tolerance_s: 0.0,
+                tolerance_z: 0.0,
+                lattice_bits: 0,
+                node_count: 0,
+                cell_count: 0,
+            },
+            nodes: [Node {
+                z: 0.0,
+                z_lnp: 0.0,
+                z_t: 0.0,
+                z_lnp_t: 0.0,
+                h: 0.0,
+                s: 0.0,
+                cp: 0.0,
+                cp_lnp: 0.0,
+                speed_of_sound: 0.0,
+            }; NODES],
+            cells: [Cell {
+                corners: [0; 4],
+                children: 0,
+                flags: 0,
+            }; CELLS],
+            node_count: 0,
+            cell_count: 0,
+        }
+    }
+
+    /// Decodes and validates a blob into a new table.
+    pub fn from_blob(blob: &[u8]) -> Result<Self, BlobError> {
+        let mut t = Self::empty();
+        t.replace_from_blob(blob)?;
+        Ok(t)
+    }
+
+    /// Replaces this table by the blob's, in place and without a second
+    /// copy: a first pass decodes and checks everything (framing, checksum,
+    /// capacity, every value and index), the second writes. On any error the
+    /// table is left exactly as it was.
+    pub fn replace_from_blob(&mut self, blob: &[u8]) -> Result<(), BlobError> {
+        let payload = blob::open(blob, KIND_PROPERTY_TABLE, TABLE_FORMAT_VERSION)?;
+        Self::decode(payload, None)?;
+        Self::decode(payload, Some(self))?;
+        Ok(())
+    }
+
+    fn decode(payload: &[u8], mut into: Option<&mut Self>) -> Result<(), BlobError> {
+        let (header, rest): (TableHeader, _) = take(payload)?;
+        check_header(&header).map_err(BlobError::Invalid)?;
+        let (n_nodes, mut rest): (u32, _) = take(rest)?;
+        if n_nodes as usize > NODES {
+            return Err(capacity("table_nodes", NODES, n_nodes));
+        }
+        if n_nodes != u32::from(header.node_count) {
+            return Err(BlobError::Invalid(ConfigError::new(
+                "table_nodes",
+                Problem::Inconsistent {
+                    with: "table.node_count",
+                },
+            )));
+        }
+        for i in 0..n_nodes as usize {
+            let (node, r): (Node, _) = take(rest)?;
+            rest = r;
+            check_node(i, &node).map_err(BlobError::Invalid)?;
+            if let Some(slot) = into.as_deref_mut().and_then(|t| t.nodes.get_mut(i)) {
+                *slot = node;
+            }
+        }
+        let (n_cells, mut rest): (u32, _) = take(rest)?;
+        if n_cells as usize > CELLS {
+            return Err(capacity("table_cells", CELLS, n_cells));
+        }
+        if n_cells != u32::from(header.cell_count) {
+            return Err(BlobError::Invalid(ConfigError::new(
+                "table_cells",
+                Problem::Inconsistent {
+                    with: "table.cell_count",
+                },
+            )));
+        }
+        for i in 0..n_cells as usize {
+            let (cell, r): (Cell, _) = take(rest)?;
+            rest = r;
+            check_cell(
+                i,
+                &cell,
+                n_nodes as usize,
+                n_cells as usize,
+                header.lattice_bits,
+            )
+            .map_err(BlobError::Invalid)?;
+            if let Some(slot) = into.as_deref_mut().and_then(|t| t.cells.get_mut(i)) {
+                *slot = cell;
+            }
+        }
+        if !rest.is_empty() {
+            return Err(BlobError::Decode);
+        }
+        if let Some(t) = into {
+            t.header = header;
+            t.node_count = n_nodes as usize;
+            t.cell_count = n_cells as usize;
+        }
+        Ok(())
+    }
+
+    /// The loaded content (empty before the first successful load).
+    pub fn data(&self) -> TableData<'_> {
+        TableData {
+            header: self.header,
+            nodes: self.nodes.get(..self.node_count).unwrap_or(&[]),
+            cells: self.cells.get(..self.cell_count).unwrap_or(&[]),
+        }
+    }
+}
+
+/// Why a table state is not good.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum TableFlag {
+    /// Inside the envelope, in a cell that met the tolerance.
+    None,
+    /// Pressure or temperature outside the table's envelope (bad).
+    OutsideEnvelope,
+    /// In a cell flagged near a critical point or a saturation line
+    /// (uncertain).
+    FlaggedBand,
+    /// In a cell where the equation of state gave no usable state (two-phase,
+    /// or no root; bad).
+    NoState,
+    /// A non-finite input or result (bad).
+    NotFinite,
+}
+
+/// The state at (p, T) from a table.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct TableState<T> {
+    /// Compressibility factor.
+    pub z: T,
+    /// ∂Z/∂T at constant pressure, 1/K.
+    pub dz_dt: T,
+    /// ∂Z/∂ln p at constant temperature.
+    pub dz_dlnp: T,
+    /// Specific volume, m³/kg.
+    pub specific_volume: T,
+    /// Specific enthalpy, J/kg (the equation of state's reference).
+    pub enthalpy: T,
+    /// Specific entropy, J/(kg K).
+    pub entropy: T,
+    /// Isobaric heat capacity, J/(kg K).
+    pub cp: T,
+    /// Speed of sound, m/s.
+    pub speed_of_sound: T,
+    /// Quality of every value above.
+    pub quality: Quality,
+    /// Why the quality is not good.
+    pub flag: TableFlag,
+}
+
+impl<T: Real> TableState<T> {
+    fn bad(flag: TableFlag) -> Self {
+        TableState {
+            z: T::ZERO,
+            dz_dt: T::ZERO,
+            dz_dlnp: T::ZERO,
+            specific_volume: T::ZERO,
+            enthalpy: T::ZERO,
+            entropy: T::ZERO,
+            cp: T::ZERO,
+            speed_of_sound: T::ZERO,
+            quality: Quality::Bad,
+            flag,
+        }
+    }
+}
+
+/// Stage quantities from a table (before the gas seam: this model's own
+/// small stage API; the seam's methods replace it).
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct TableStage<T> {
+    /// Actual specific work h2 − h1, J/kg.
+    pub actual_head: Measured<T>,
+    /// Isentropic head h(p2, s1) − h1, J/kg.
+    pub isentropic_head: Measured<T>,
+    /// Temperature of the isentropic discharge state, K.
+    pub isentropic_temperature: Measured<T>,
+    /// Isentropic efficiency.
+    pub isentropic_efficiency: Measured<T>,
+    /// Polytropic head ∫ v dp along the constant-efficiency path (Simpson's
+    /// rule with the path's midpoint state located by [`TableGas::stage`]),
+    /// J/kg.
+    pub polytropic_head: Measured<T>,
+    /// Polytropic efficiency (polytropic head / actual head).
+    pub polytropic_efficiency: Measured<T>,
+}
+
+/// The start-of-descent grid: 2^JUMP_BITS parts per axis.
+const JUMP_BITS: u32 = 3;
+
+/// Patch outputs: Z and ∂Z/∂T.
+const W_Z: u8 = 1;
+/// Patch outputs: ∂Z/∂ln p (with [`W_Z`]).
+const W_ZX: u8 = 32;
+/// What the gas seam's `compression` asks of the patch at its two ends (Z,
+/// h, s) and in the entropy match (s, ∂s/∂T, h and Z).
+pub(crate) const SEAM_ENDS: u8 = W_Z | W_H | W_S;
+/// See [`SEAM_ENDS`].
+pub(crate) const SEAM_ISO: u8 = W_DS | W_H | W_Z;
+/// Patch outputs: h and cp.
+const W_H: u8 = 2;
+/// Patch outputs: s.
+const W_S: u8 = 4;
+/// Patch outputs: s and ∂s/∂T.
+const W_DS: u8 = 8;
+/// Patch outputs: speed of sound.
+const W_W: u8 = 16;
+
+/// The entropy match's result.
+#[derive(Clone, Copy)]
+pub(crate) struct Isentropic<T> {
+    /// Temperature, K.
+    pub(crate) t: T,
+    /// Enthalpy there, J/kg.
+    pub(crate) h: T,
+    /// Z there (1 unless asked for).
+    pub(crate) z: T,
+    pub(crate) quality: Quality,
+    pub(crate) flag: TableFlag,
+}
+
+/// The states of one compression (see `TableGas::stage_states`).
+pub(crate) struct StageStates<T> {
+    pub(crate) end1: Patch<T>,
+    pub(crate) q1: Quality,
+    pub(crate) flag1: TableFlag,
+    pub(crate) end2: Patch<T>,
+    pub(crate) q2: Quality,
+    pub(crate) flag2: TableFlag,
+    pub(crate) iso: Isentropic<T>,
+}
+
+/// What the polytropic path needs of its two ends.
+struct PathEnds<T> {
+    ln_r: T,
+    /// ln(T2/T1).
+    ln_t_ratio: T,
+    t: [T; 2],
+    z: [T; 2],
+    /// ∂Z/∂ln p at each end.
+    z_x: [T; 2],
+    /// ∂Z/∂T at each end.
+    z_t: [T; 2],
+    /// R·T·∂Z/∂T / cp at each end.
+    a: [T; 2],
+    /// R·Z / cp at each end.
+    b: [T; 2],
+}
+
+/// Leaf cell found by the descent, with its bounds relative to the envelope
+/// origin.
+#[derive(Clone, Copy)]
+struct Leaf<'a, T> {
+    cell: &'a Cell,
+    x0: T,
+    inv_dx: T,
+    dx: T,
+    y0: T,
+    inv_dy: T,
+    dy: T,
+}
+
+/// Values of one patch evaluation (offsets added by `eval`).
+#[derive(Clone, Copy)]
+pub(crate) struct Patch<T> {
+    pub(crate) z: T,
+    pub(crate) h: T,
+    pub(crate) s: T,
+    pub(crate) dh_dt: T,
+    pub(crate) ds_dt: T,
+    pub(crate) dz_dt: T,
+    pub(crate) dz_dx: T,
+    pub(crate) w: T,
+}
+
+/// Cubic Hermite basis at t in [0, 1]: values (h00, h01, h10, h11) and their
+/// derivatives in t.
+#[inline(always)]
+fn hermite<T: Real>(t: T) -> ([T; 4], [T; 4]) {
+    let one = T::ONE;
+    let two = T::of(2.0);
+    let three = T::of(3.0);
+    let t2 = t * t;
+    let t3 = t2 * t;
+    let h01 = three * t2 - two * t3;
+    let h00 = one - h01;
+    let h10 = t3 - two * t2 + t;
+    let h11 = t3 - t2;
+    let d01 = T::of(6.0) * (t - t2);
+    let d00 = -d01;
+    let d10 = three * t2 - T::of(4.0) * t + one;
+    let d11 = three * t2 - two * t;
+    ([h00, h01, h10, h11], [d00, d01, d10, d11])
+}
+
+#[inline(always)]
+fn f<T: Real>(x: f32) -> T {
+    T::of(f64::from(x))
+}
+
+/// A gas model on a property table, for scalar type `T`.
+#[derive(Clone, Copy, Debug)]
+pub struct TableGas<'a, T> {
+    data: TableData<'a>,
+    gas_constant: T,
+    ln_p_min: T,
+    span_x: T,
+    t_min: T,
+    span_t: T,
+    lattice_bits: u32,
+    /// One lattice unit in ln p and its inverse.
+    unit_x: T,
+    inv_unit_x: T,
+    /// One lattice unit in T and its inverse.
+    unit_t: T,
+    inv_unit_t: T,
+    /// Where the descent starts for each of 2^JUMP_BITS × 2^JUMP_BITS equal
+    /// parts of the envelope: the deepest cell that holds the whole part,
+    /// with its size as powers of two of lattice units (ln p, T); built once
+    /// by [`TableGas::new`].
+    jump: [(u16, u8, u8); 1 << (2 * JUMP_BITS)],
+    h_offset: T,
+    s_offset: T,
+    /// Entropy residual that ends the entropy match: 1/16 of the table's
+    /// entropy tolerance (the interpolant is not more accurate than that;
+    /// across a cell edge it may jump by about the tolerance).
+    s_tolerance: T,
+}
+
+impl<'a, T: Real> TableGas<'a, T> {
+    /// A model on `data`, after [`validate`].
+    pub fn new(data: TableData<'a>) -> Result<Self, ConfigError> {
+        validate(&data)?;
+        let h = &data.header;
+        let span_x = h.ln_p_max - h.ln_p_min;
+        let span_t = h.t_max - h.t_min;
+        let n = f64::from(1u32 << h.lattice_bits);
+        let mut gas = TableGas {
+            data,
+            gas_constant: T::of(MOLAR_GAS_CONSTANT / h.molar_mass),
+            ln_p_min: T::of(h.ln_p_min),
+            span_x: T::of(span_x),
+            t_min: T::of(h.t_min),
+            span_t: T::of(span_t),
+            lattice_bits: u32::from(h.lattice_bits),
+            unit_x: T::of(span_x / n),
+            inv_unit_x: T::of(n / span_x),
+            unit_t: T::of(span_t / n),
+            inv_unit_t: T::of(n / span_t),
+            h_offset: T::of(h.h_offset),
+            s_offset: T::of(h.s_offset),
+            s_tolerance: T::of(f64::from(h.tolerance_s) / 16.0),
+            jump: [(0, h.lattice_bits, h.lattice_bits); 1 << (2 * JUMP_BITS)],
+        };
+        gas.build_jump();
+        Ok(gas)
+    }
+
+    /// Fills [`TableGas::jump`]: for each part, descends from the root while
+    /// the child holding the part's first lattice point is still at least as
+    /// large as the part in both variables.
+    fn build_jump(&mut self) {
+        let bits = self.lattice_bits;
+        let part = bits.saturating_sub(JUMP_BITS);
+        let per_axis = 1u32 << JUMP_BITS;
+        let cells: &'a [Cell] = self.data.cells;
+        for (k, slot) in self.jump.iter_mut().enumerate() {
+            let k = k as u32;
+            let (gi, gj) = (k % per_axis, k / per_axis);
+            // Parts beyond a coarse lattice repeat its last cells.
+            let ix = u32::min(gi << part, (1 << bits) - 1);
+            let iy = u32::min(gj << part, (1 << bits) - 1);
+            let (mut sx, mut sy) = (bits, bits);
+            let mut index = 0usize;
+            for _ in 0..=MAX_DEPTH {
+                let Some(cell) = cells.get(index) else {
+                    break;
+                };
+                if cell.children == 0 {
+                    break;
+                }
+                let [bit_x, bit_t, ..] = cell.corners;
+                let (bx, bt) = (u32::from(bit_x) & 15, u32::from(bit_t) & 15);
+                let split_x = cell.flags & SPLIT_LN_P != 0;
+                let split_t = cell.flags & SPLIT_T != 0;
+                if (split_x && bx < part) || (split_t && bt < part) {
+                    break;
+                }
+                let mut child = 0u32;
+                if split_x {
+                    sx = bx;
+                    child = (ix >> bx) & 1;
+                }
+                if split_t {
+                    sy = bt;
+                    let bit = (iy >> bt) & 1;
+                    child += if split_x { bit << 1 } else { bit };
+                }
+                index = usize::from(cell.children) + child as usize;
+            }
+            *slot = (u16::try_from(index).unwrap_or(0), sx as u8, sy as u8);
+        }
+    }
+
+    /// The table's header.
+    pub fn header(&self) -> &TableHeader {
+        &self.data.header
+    }
+
+    /// Specific gas constant R = Ru/M, J/(kg K).
+    pub fn gas_constant(&self) -> T {
+        self.gas_constant
+    }
+
+    /// The envelope: (p_min, p_max) in Pa, (T_min, T_max) in K.
+    pub fn envelope(&self) -> ((T, T), (T, T)) {
+        let h = &self.data.header;
+        (
+            (T::exp(T::of(h.ln_p_min)), T::exp(T::of(h.ln_p_max))),
+            (T::of(h.t_min), T::of(h.t_max)),
+        )
+    }
+
+    /// Relative coordinates (ln p − ln p_min, T − T_min) from ln p, or why
+    /// not.
+    #[inline]
+    fn coordinates(&self, ln_p: T, t: T) -> Result<(T, T), TableFlag> {
+        if !(T::is_finite(ln_p) && T::is_finite(t)) {
+            return Err(TableFlag::NotFinite);
+        }
+        let x = ln_p - self.ln_p_min;
+        let y = t - self.t_min;
+        if !(x >= T::ZERO && x <= self.span_x && y >= T::ZERO && y <= self.span_t) {
+            return Err(TableFlag::OutsideEnvelope);
+        }
+        Ok((x, y))
+    }
+
+    /// Descends the tree to the leaf holding relative coordinates (x, y).
+    #[inline]
+    fn locate(&self, x: T, y: T) -> Option<Leaf<'a, T>> {
+        // Integer lattice coordinates of the point; each split cell names
+        // the bit of them that picks its child.
+        let bits = self.lattice_bits;
+        let top = (1u32 << bits) - 1;
+        let ix = u32::min(T::trunc_u32(x * self.inv_unit_x), top);
+        let iy = u32::min(T::trunc_u32(y * self.inv_unit_t), top);
+        let cells: &'a [Cell] = self.data.cells;
+        // Start from the deepest cell known to hold the point's part of the
+        // envelope; track the cell's size as powers of two of lattice units.
+        let part = bits.saturating_sub(JUMP_BITS);
+        let k = ((iy >> part) << JUMP_BITS) + (ix >> part);
+        let &(start, sx0, sy0) = self.jump.get(k as usize)?;
+        let (mut sx, mut sy) = (u32::from(sx0) & 31, u32::from(sy0) & 31);
+        let mut index = usize::from(start);
+        for _ in 0..=MAX_DEPTH {
+            let cell = cells.get(index)?;
+            if cell.children == 0 {
+                let (i0, j0) = ((ix >> sx) << sx, (iy >> sy) << sy);
+                let (nx, ny) = (T::from_u32(1 << sx), T::from_u32(1 << sy));
+                // 2^(16 − shift)·2^−16 = 2^−shift, exactly.
+                let inv_nx = T::from_u32(1 << (16 - sx)) * T::of(1.0 / 65_536.0);
+                let inv_ny = T::from_u32(1 << (16 - sy)) * T::of(1.0 / 65_536.0);
+                return Some(Leaf {
+                    cell,
+                    x0: T::from_u32(i0) * self.unit_x,
+                    inv_dx: self.inv_unit_x * inv_nx,
+                    dx: self.unit_x * nx,
+                    y0: T::from_u32(j0) * self.unit_t,
+                    inv_dy: self.inv_unit_t * inv_ny,
+                    dy: self.unit_t * ny,
+                });
+            }
+            let [bit_x, bit_t, ..] = cell.corners;
+            // Validated: bit_x, bit_t < lattice bits ≤ 16.
+            let (bx, bt) = (u32::from(bit_x) & 15, u32::from(bit_t) & 15);
+            let mut child = 0u32;
+            if cell.flags & SPLIT_LN_P != 0 {
+                sx = bx;
+                child = (ix >> bx) & 1;
+            }
+            if cell.flags & SPLIT_T != 0 {
+                sy = bt;
+                let bit = (iy >> bt) & 1;
+                child += if cell.flags & SPLIT_LN_P != 0 {
+                    bit << 1
+                } else {
+                    bit
+                };
+            }
+            index = usize::from(cell.children) + child as usize;
+        }
+        None
+    }
+
+    /// The corner nodes of a leaf.
+    #[inline]
+    fn corners(&self, leaf: &Leaf<'a, T>) -> Option<[&'a Node; 4]> {
+        let nodes: &'a [Node] = self.data.nodes;
+        let [a, b, c, d] = leaf.cell.corners;
+        Some([
+            nodes.get(usize::from(a))?,
+            nodes.get(usize::from(b))?,
+            nodes.get(usize::from(c))?,
+            nodes.get(usize::from(d))?,
+        ])
+    }
+
+    /// Bicubic Hermite patch at (x, y) in `leaf`, computing only what
+    /// `WANT` asks for ([`W_Z`]: Z and its derivatives, [`W_H`]: h and cp,
+    /// [`W_S`]: s, [`W_DS`]: s and ∂s/∂T, [`W_W`]: speed of sound). Tensor
+    /// form: on each of the cell's two T-edges every function is first
+    /// interpolated along ln p (value and T-tangent), then the edge's share
+    /// is added with the T-basis. The T-tangent of h on an edge is cp and
+    /// s's is cp/T, so one cp interpolation serves h, s and cp. Edge by edge
+    /// keeps few values live (fewer register spills on a 32-register FPU).
+    #[inline(always)]
+    fn patch<const WANT: u8>(&self, leaf: &Leaf<'a, T>, n: [&Node; 4], x: T, y: T) -> Patch<T> {
+        let zero = T::ZERO;
+        let one = T::ONE;
+        let u = T::clamp((x - leaf.x0) * leaf.inv_dx, zero, one);
+        let v = T::clamp((y - leaf.y0) * leaf.inv_dy, zero, one);
+        let (hu, du) = hermite(u);
+        let (hv, dv) = hermite(v);
+        let (a0, a1) = (hu[0], hu[1]);
+        let (ad0, ad1) = (hu[2] * leaf.dx, hu[3] * leaf.dx);
+        let (dux0, dux1) = (du[0] * leaf.inv_dx, du[1] * leaf.inv_dx);
+        let r = self.gas_constant;
+        let t_lo = self.t_min + leaf.y0;
+        let mut out = Patch {
+            z: zero,
+            h: zero,
+            s: zero,
+            dh_dt: zero,
+            ds_dt: zero,
+            dz_dt: zero,
+            dz_dx: zero,
+            w: zero,
+        };
+        // T-basis of each edge: value, tangent; their T-derivatives.
+        let edges = [
+            (n[0], n[1], t_lo, hv[0], hv[2], dv[0], dv[2]),
+            (n[2], n[3], t_lo + leaf.dy, hv[1], hv[3], dv[1], dv[3]),
+        ];
+        for (c0, c1, t, bv, bt, dbv, dbt) in edges {
+            let b = bv;
+            let bd = bt * leaf.dy;
+            let db = dbv * leaf.inv_dy;
+            let dbd = dbt;
+            let edge = |f0: T, fx0: T, f1: T, fx1: T| a0 * f0 + ad0 * fx0 + a1 * f1 + ad1 * fx1;
+            let (z0, z1, zt0, zt1) = (f::<T>(c0.z), f::<T>(c1.z), f::<T>(c0.z_t), f::<T>(c1.z_t));
+            let cp = if WANT & (W_H | W_S | W_DS) != 0 {
+                edge(f(c0.cp), f(c0.cp_lnp), f(c1.cp), f(c1.cp_lnp))
+            } else {
+                zero
+            };
+            if WANT & W_Z != 0 {
+                let (zx0, zx1) = (f::<T>(c0.z_lnp), f::<T>(c1.z_lnp));
+                let (ztx0, ztx1) = (f::<T>(c0.z_lnp_t), f::<T>(c1.z_lnp_t));
+                let e = edge(z0, zx0, z1, zx1);
+                let g = edge(zt0, ztx0, zt1, ztx1);
+                out.z += b * e + bd * g;
+                out.dz_dt += db * e + dbd * g;
+                if WANT & W_ZX != 0 {
+                    let ex = dux0 * z0 + dux1 * z1 + du[2] * zx0 + du[3] * zx1;
+                    let gx = dux0 * zt0 + dux1 * zt1 + du[2] * ztx0 + du[3] * ztx1;
+                    out.dz_dx += b * ex + bd * gx;
+                }
+            }
+            if WANT & W_H != 0 {
+                // ∂h/∂ln p = −R·T²·∂Z/∂T.
+                let e = a0 * f(c0.h) + a1 * f(c1.h) - r * t * t * (ad0 * zt0 + ad1 * zt1);
+                out.h += b * e + bd * cp;
+                out.dh_dt += db * e + dbd * cp;
+            }
+            if WANT & (W_S | W_DS) != 0 {
+                // ∂s/∂ln p = −R·(Z + T·∂Z/∂T); ∂s/∂T = cp/T.
+                let sx = ad0 * (z0 + t * zt0) + ad1 * (z1 + t * zt1);
+                let e = a0 * f(c0.s) + a1 * f(c1.s) - r * sx;
+                let g = cp / t;
+                out.s += b * e + bd * g;
+                if WANT & W_DS != 0 {
+                    out.ds_dt += db * e + dbd * g;
+                }
+            }
+        }
+        if WANT & W_W != 0 {
+            let (lu, lv) = (one - u, one - v);
+            out.w = lv * (lu * f(n[0].speed_of_sound) + u * f(n[1].speed_of_sound))
+                + v * (lu * f(n[2].speed_of_sound) + u * f(n[3].speed_of_sound));
+        }
+        out
+    }
+
+    fn flag_quality(cell: &Cell) -> (Quality, TableFlag) {
+        if cell.flags & CELL_BAD != 0 {
+            (Quality::Bad, TableFlag::NoState)
+        } else if cell.flags & CELL_UNCERTAIN != 0 {
+            (Quality::Uncertain, TableFlag::FlaggedBand)
+        } else {
+            (Quality::Good, TableFlag::None)
+        }
+    }
+
+    /// The state at pressure `p` (Pa absolute) and temperature `t` (K).
+    pub fn state(&self, p: T, t: T) -> TableState<T> {
+        if !(p > T::ZERO) {
+            return TableState::bad(TableFlag::NotFinite);
+        }
+        self.state_ln(T::ln(p), p, t)
+    }
+
+    /// [`TableGas::state`] with ln p already known.
+    fn state_ln(&self, ln_p: T, p: T, t: T) -> TableState<T> {
+        let (pt, quality, flag) = self.eval::<{ W_Z | W_ZX | W_H | W_S | W_W }>(ln_p, t);
+        if quality == Quality::Bad {
+            return TableState::bad(flag);
+        }
+        let state = TableState {
+            z: pt.z,
+            dz_dt: pt.dz_dt,
+            dz_dlnp: pt.dz_dx,
+            specific_volume: pt.z * self.gas_constant * t / p,
+            enthalpy: pt.h,
+            entropy: pt.s,
+            cp: pt.dh_dt,
+            speed_of_sound: pt.w,
+            quality,
+            flag,
+        };
+        if T::is_finite(state.specific_volume) && state.speed_of_sound > T::ZERO {
+            state
+        } else {
+            TableState::bad(TableFlag::NotFinite)
+        }
+    }
+
+    /// The patch outputs `WANT` at (ln p, T), offsets added, with the cell's
+    /// quality and flag; bad (zeros) outside the envelope, in a bad cell, or
+    /// for a non-finite or non-physical result (Z or cp not positive).
+    #[inline(always)]
+    fn eval<const WANT: u8>(&self, ln_p: T, t: T) -> (Patch<T>, Quality, TableFlag) {
+        let (pt, q, flag, _) = self.eval_near::<WANT>(ln_p, t, None);
+        (pt, q, flag)
+    }
+
+    /// [`TableGas::eval`] that first tries `hint` (a leaf found before, at
+    /// a nearby state) and returns the leaf it used.
+    #[inline(always)]
+    fn eval_near<const WANT: u8>(
+        &self,
+        ln_p: T,
+        t: T,
+        hint: Option<Leaf<'a, T>>,
+    ) -> (Patch<T>, Quality, TableFlag, Option<Leaf<'a, T>>) {
+        let zero = Patch {
+            z: T::ZERO,
+            h: T::ZERO,
+            s: T::ZERO,
+            dh_dt: T::ZERO,
+            ds_dt: T::ZERO,
+            dz_dt: T::ZERO,
+            dz_dx: T::ZERO,
+            w: T::ZERO,
+        };
+        let (x, y) = match self.coordinates(ln_p, t) {
+            Ok(c) => c,
+            Err(flag) => return (zero, Quality::Bad, flag, None),
+        };
+        let inside =
+            |l: &Leaf<'a, T>| x >= l.x0 && x <= l.x0 + l.dx && y >= l.y0 && y <= l.y0 + l.dy;
+        let leaf = match hint {
+            Some(l) if inside(&l) => l,
+            _ => match self.locate(x, y) {
+                Some(l) => l,
+                None => return (zero, Quality::Bad, TableFlag::NotFinite, None),
+            },
+        };
+        let (quality, flag) = Self::flag_quality(leaf.cell);
+        if quality == Quality::Bad {
+            return (zero, quality, flag, None);
+        }
+        let Some(n) = self.corners(&leaf) else {
+            return (zero, Quality::Bad, TableFlag::NotFinite, None);
+        };
+        let mut pt = self.patch::<WANT>(&leaf, n, x, y);
+        pt.h += self.h_offset;
+        pt.s += self.s_offset;
+        // One test for every output asked for: a NaN or infinity in any of
+        // them makes their sum non-finite (outputs not asked for are not
+        // computed at all).
+        let mut sum = T::ZERO;
+        if WANT & W_Z != 0 {
+            sum += pt.z + pt.dz_dt;
+        }
+        if WANT & W_ZX != 0 {
+            sum += pt.dz_dx;
+        }
+        if WANT & W_H != 0 {
+            sum += pt.h + pt.dh_dt;
+        }
+        if WANT & (W_S | W_DS) != 0 {
+            sum += pt.s;
+        }
+        if WANT & W_DS != 0 {
+            sum += pt.ds_dt;
+        }
+        if WANT & W_W != 0 {
+            sum += pt.w;
+        }
+        let finite = T::is_finite(sum);
+        let physical =
+            (WANT & W_Z == 0 || pt.z > T::ZERO) && (WANT & W_H == 0 || pt.dh_dt > T::ZERO);
+        if finite && physical {
+            (pt, quality, flag, Some(leaf))
+        } else {
+            (zero, Quality::Bad, TableFlag::NotFinite, None)
+        }
+    }
+
+    /// Temperature at pressure `p2` with entropy `s_target` (the isentropic
+    /// discharge state), starting from `t_start`: Newton steps in T kept
+    /// inside a bracket, bisection when a step leaves it, until the entropy
+    /// residual is below 1/16 of the table's entropy tolerance or a Newton
+    /// step below 0.25 K, at most [`ISENTROPIC_MAX_ITERATIONS`] (then uncertain).
+    /// Bad if the root lies on or beyond an envelope edge; the quality is
+    /// that of the cell of the last step.
+    pub fn isentropic_temperature(&self, p2: T, s_target: T, t_start: T) -> Measured<T> {
+        if !(p2 > T::ZERO) {
+            return Measured::bad();
+        }
+        let iso = self.isentropic_ln::<{ W_DS | W_H }>(T::ln(p2), s_target, t_start, None);
+        Measured::derived(iso.t, iso.quality)
+    }
+
+    /// [`TableGas::isentropic_temperature`] with ln p2 already known; also
+    /// returns the enthalpy there (from the last evaluation, carried over
+    /// the last Newton step by cp: the step is below 0.25 K, so the error is
+    /// of order cp'·step²/2, below 0.5 J/kg).
+    #[inline(always)]
+    fn isentropic_ln<const WANT: u8>(
+        &self,
+        ln_p2: T,
+        s_target: T,
+        t_start: T,
+        mut hint: Option<Leaf<'a, T>>,
+    ) -> Isentropic<T> {
+        let bad = Isentropic {
+            t: T::ZERO,
+            h: T::ZERO,
+            z: T::ONE,
+            quality: Quality::Bad,
+            flag: TableFlag::NotFinite,
+        };
+        if !(T::is_finite(ln_p2) && T::is_finite(s_target) && T::is_finite(t_start)) {
+            return bad;
+        }
+        let (mut y_eval, mut h_eval, mut cp_eval) = (T::ZERO, T::ZERO, T::ZERO);
+        let (mut z_eval, mut dz_eval) = (T::ONE, T::ZERO);
+        let mut flag = TableFlag::None;
+        let (mut lo, mut hi) = (T::ZERO, self.span_t);
+        let mut y = T::clamp(t_start - self.t_min, lo, hi);
+        // After a Newton step of δ the remaining error is about
+        // δ²·|s''|/(2·s') with s''/s' ≈ 1/T + cp'/cp (below 1e-2 /K away
+        // from critical points): for δ ≤ 0.25 K under 3e-4 K.
+        let step_tolerance = T::of(0.25);
+        let edge_margin = T::of(2e-4);
+        let residual_tolerance = self.s_tolerance;
+        let mut quality = Quality::Good;
+        let mut converged = false;
+        for _ in 0..ISENTROPIC_MAX_ITERATIONS {
+            let (pt, q, f, leaf) = self.eval_near::<WANT>(ln_p2, y + self.t_min, hint);
+            hint = leaf;
+            flag = f;
+            if q == Quality::Bad {
+                return bad;
+            }
+            (y_eval, h_eval, cp_eval) = (y, pt.h, pt.dh_dt);
+            (z_eval, dz_eval) = (pt.z, pt.dz_dt);
+            let (s, ds_dt) = (pt.s, pt.ds_dt);
+            quality = q;
+            let residual = s - s_target;
+            if T::abs(residual) <= residual_tolerance {
+                converged = true;
+                break;
+            }
+            if residual > T::ZERO {
+                hi = y;
+            } else {
+                lo = y;
+            }
+            let mut next = if ds_dt > T::ZERO {
+                y - residual / ds_dt
+            } else {
+                (lo + hi) * T::of(0.5)
+            };
+            if !(next > lo && next < hi) {
+                next = (lo + hi) * T::of(0.5);
+            }
+            let step = T::abs(next - y);
+            y = next;
+            if step < step_tolerance {
+                converged = true;
+                break;
+            }
+        }
+        // A root on an envelope edge may lie outside it.
+        if y <= edge_margin || y >= self.span_t - edge_margin {
+            return bad;
+        }
+        if !converged {
+            quality = quality.worst(Quality::Uncertain);
+        }
+        let step = y - y_eval;
+        Isentropic {
+            t: y + self.t_min,
+            h: h_eval + cp_eval * step,
+            z: z_eval + dz_eval * step,
+            quality,
+            flag,
+        }
+    }
+
+    /// Polytropic head ∫ v dp (= ∫ Z·R·T d ln p) along the path of constant
+    /// polytropic efficiency η between the two measured states, by
+    /// Simpson's rule in ξ = ln p. Along that path dh = v dp / η, and with
+    /// ∂h/∂ln p = −R·T²·∂Z/∂T and ∂h/∂T = cp this gives
+    /// dT/dξ = T·(a + b/η) (a = R·T·∂Z/∂T / cp, b = R·Z / cp) and
+    /// dZ/dξ = ∂Z/∂ln p + ∂Z/∂T·dT/dξ. η starts from the trapezoid rule on
+    /// ln T; each of [`POLYTROPIC_ITERATIONS`] passes takes T and Z at the
+    /// path's midpoint from the cubic Hermite interpolants through both ends
+    /// with those slopes (no further state) and η from Simpson's head. A
+    /// consistency construction of this model, checked against a 32-step
+    /// path integration on GERG-2008 in `tests/gerg_tables.rs`.
+    fn polytropic_head(&self, e: &PathEnds<T>, actual: T) -> T {
+        let half = T::of(0.5);
+        let eighth = T::of(0.125) * e.ln_r;
+        let [a1, a2] = e.a;
+        let [b1, b2] = e.b;
+        let [t1, t2] = e.t;
+        let [z1, z2] = e.z;
+        // Trapezoid: ln(T2/T1) = ln r / 2 · (a1 + a2 + (b1 + b2)/η).
+        let mut inv_eta = (e.ln_t_ratio * T::of(2.0) / e.ln_r - a1 - a2) / (b1 + b2);
+        let sixth = e.ln_r * self.gas_constant / T::of(6.0);
+        let ends = z1 * t1 + z2 * t2;
+        let mut head = actual / inv_eta;
+        for _ in 0..POLYTROPIC_ITERATIONS {
+            let dt1 = t1 * (a1 + b1 * inv_eta);
+            let dt2 = t2 * (a2 + b2 * inv_eta);
+            let t_mid = half * (t1 + t2) + eighth * (dt1 - dt2);
+            let dz1 = e.z_x[0] + e.z_t[0] * dt1;
+            let dz2 = e.z_x[1] + e.z_t[1] * dt2;
+            let z_mid = half * (z1 + z2) + eighth * (dz1 - dz2);
+            head = sixth * (ends + T::of(4.0) * z_mid * t_mid);
+            inv_eta = actual / head;
+        }
+        head
+    }
+
+    /// Z, cp and h at (p, t) with the quality (the seam's mean path
+    /// properties).
+    pub(crate) fn z_cp(&self, p: T, t: T) -> (T, T, Quality) {
+        if !(p > T::ZERO) {
+            return (T::ONE, T::ZERO, Quality::Bad);
+        }
+        let (pt, q, _) = self.eval::<{ W_Z | W_H }>(T::ln(p), t);
+        (pt.z, pt.dh_dt, q)
+    }
+
+    /// Enthalpy at (p, t) with its quality and flag (h and cp only).
+    pub(crate) fn enthalpy(&self, p: T, t: T) -> (T, Quality, TableFlag) {
+        if !(p > T::ZERO) {
+            return (T::ZERO, Quality::Bad, TableFlag::NotFinite);
+        }
+        let (pt, q, f) = self.eval::<W_H>(T::ln(p), t);
+        (pt.h, q, f)
+    }
+
+    /// The states of a compression from (p1, t1) by ln r = ln(p2/p1): the
+    /// suction state, the discharge state if `t2` is given, and the
+    /// isentropic discharge state (its evaluation asks `ISO` of the patch).
+    /// With a discharge state the entropy match starts from it along its
+    /// isobar, s(T) = s2 + cp2·ln(T/T2), so one Newton step usually
+    /// finishes it and the discharge state's cell is tried first; without
+    /// one it starts from T1·r^(R·(Z + T·∂Z/∂T)/cp), the slope of the
+    /// isentrope at state 1.
+    #[inline(always)]
+    pub(crate) fn stage_states<const END: u8, const ISO: u8>(
+        &self,
+        p1: T,
+        t1: T,
+        ln_r: T,
+        t2: Option<T>,
+    ) -> StageStates<T> {
+        let ln_p1 = T::ln(p1);
+        let ln_p2 = ln_p1 + ln_r;
+        let (end1, q1, flag1) = self.eval::<END>(ln_p1, t1);
+        let mut out = StageStates {
+            end1,
+            q1,
+            flag1,
+            end2: end1,
+            q2: Quality::Bad,
+            flag2: TableFlag::NotFinite,
+            iso: Isentropic {
+                t: T::ZERO,
+                h: T::ZERO,
+                z: T::ONE,
+                quality: Quality::Bad,
+                flag: TableFlag::NotFinite,
+            },
+        };
+        if q1 == Quality::Bad {
+            return out;
+        }
+        let r = self.gas_constant;
+        let (guess, hint) = match t2 {
+            Some(t2) => {
+                let (end2, q2, flag2, leaf2) = self.eval_near::<END>(ln_p2, t2, None);
+                (out.end2, out.q2, out.flag2) = (end2, q2, flag2);
+                if q2 == Quality::Bad {
+                    (
+                        t1 * T::exp(r * (end1.z + t1 * end1.dz_dt) / end1.dh_dt * ln_r),
+                        None,
+                    )
+                } else {
+                    (t2 * T::exp((end1.s - end2.s) / end2.dh_dt), leaf2)
+                }
+            }
+            None => (
+                t1 * T::exp(r * (end1.z + t1 * end1.dz_dt) / end1.dh_dt * ln_r),
+                None,
+            ),
+        };
+        out.iso = self.isentropic_ln::<ISO>(ln_p2, end1.s, guess, hint);
+        out
+    }
+
+    /// One compression stage from its measured suction (p1, t1) and
+    /// discharge (p2, t2): actual and isentropic head, polytropic head along
+    /// the constant-efficiency path (Simpson's rule in ln p, midpoint state
+    /// on the path: see the private `polytropic_head`), both efficiencies. Each value's
+    /// quality is the worst of the states it used.
+    pub fn stage(&self, p1: T, t1: T, p2: T, t2: T) -> TableStage<T> {
+        let bad = TableStage {
+            actual_head: Measured::bad(),
+            isentropic_head: Measured::bad(),
+            isentropic_temperature: Measured::bad(),
+            isentropic_efficiency: Measured::bad(),
+            polytropic_head: Measured::bad(),
+            polytropic_efficiency: Measured::bad(),
+        };
+        if !(p1 > T::ZERO && p2 > p1) {
+            return bad;
+        }
+        let ln_r = T::ln(p2 / p1);
+        let d =
+            self.stage_states::<{ W_Z | W_ZX | W_H | W_S }, { W_DS | W_H }>(p1, t1, ln_r, Some(t2));
+        let q12 = d.q1.worst(d.q2);
+        if q12 == Quality::Bad {
+            return bad;
+        }
+        let (s1, s2) = (&d.end1, &d.end2);
+        let actual = s2.h - s1.h;
+        let q_s = d.q1.worst(d.iso.quality);
+        let isentropic = d.iso.h - s1.h;
+        let r = self.gas_constant;
+        let ends = PathEnds {
+            ln_r,
+            ln_t_ratio: T::ln(t2 / t1),
+            t: [t1, t2],
+            z: [s1.z, s2.z],
+            z_x: [s1.dz_dx, s2.dz_dx],
+            z_t: [s1.dz_dt, s2.dz_dt],
+            a: [r * t1 * s1.dz_dt / s1.dh_dt, r * t2 * s2.dz_dt / s2.dh_dt],
+            b: [r * s1.z / s1.dh_dt, r * s2.z / s2.dh_dt],
+        };
+        let polytropic = self.polytropic_head(&ends, actual);
+        let q_p = q12;
+        let t2s = d.iso.t;
+        let positive = actual > T::ZERO;
+        let q_work = if positive { q12 } else { Quality::Bad };
+        TableStage {
+            actual_head: Measured::derived(actual, q_work),
+            isentropic_head: Measured::derived(isentropic, q_s),
+            isentropic_temperature: Measured::derived(t2s, q_s),
+            isentropic_efficiency: Measured::derived(isentropic / actual, q_s.worst(q_work)),
+            polytropic_head: Measured::derived(polytropic, q_p),
+            polytropic_efficiency: Measured::derived(polytropic / actual, q_p.worst(q_work)),
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A 2×2 one-cell table of an ideal gas (Z = 1, constant cp): every
+    /// identity is exact, so the patch must reproduce h = cp·T and
+    /// s = cp·ln T − R·ln p exactly at the corners and closely inside (a
+    /// consistency check of the patch and the identities).
+    fn ideal_nodes() -> ([Node; 4], TableHeader) {
+        let m = 0.028;
+        let r = MOLAR_GAS_CONSTANT / m;
+        let cp = 1040.0;
+        let (p0, p1, t0, t1) = (1e5f64, 1e6f64, 280.0f64, 330.0f64);
+        let node = |p: f64, t: f64| Node {
+            z: 1.0,
+            z_lnp: 0.0,
+            z_t: 0.0,
+            z_lnp_t: 0.0,
+            h: (cp * t) as f32,
+            s: (cp * t.ln() - r * p.ln()) as f32,
+            cp: cp as f32,
+            cp_lnp: 0.0,
+            speed_of_sound: 340.0,
+        };
+        let header = TableHeader {
+            label: *b"ideal test gas\0\0",
+            mole_fractions: {
+                let mut x = [0.0; 21];
+                x[1] = 1.0;
+                x
+            },
+            molar_mass: m,
+            ln_p_min: p0.ln(),
+            ln_p_max: p1.ln(),
+            t_min: t0,
+            t_max: t1,
+            h_offset: 0.0,
+            s_offset: 0.0,
+            tolerance_h: 0.0,
+            tolerance_s: 0.0,
+            tolerance_z: 0.0,
+            lattice_bits: 1,
+            node_count: 4,
+            cell_count: 1,
+        };
+        (
+            [node(p0, t0), node(p1, t0), node(p0, t1), node(p1, t1)],
+            header,
+        )
+    }
+
+    #[test]
+    fn one_cell_ideal_gas() {
+        let (nodes, header) = ideal_nodes();
+        let cells = [Cell {
+            corners: [0, 1, 2, 3],
+            children: 0,
+            flags: 0,
+        }];
+        let data = TableData {
+            header,
+            nodes: &nodes,
+            cells: &cells,
+        };
+        let gas = TableGas::<f64>::new(data).unwrap();
+        let r = gas.gas_constant();
+        for &(p, t) in &[(2e5, 290.0), (5e5, 305.0), (9.9e5, 329.0)] {
+            let st = gas.state(p, t);
+            assert_eq!(st.quality, Quality::Good);
+            assert!((st.enthalpy - 1040.0 * t).abs() < 1e-3);
+            // s is cp ln T interpolated by one cubic over 50 K: the Hermite
+            // remainder max|f4| h^4/384 bounds the error by 0.017 J/(kg K).
+            let s_exact = 1040.0 * f64::ln(t) - r * f64::ln(p);
+            assert!(
+                (st.entropy - s_exact).abs() < 0.017,
+                "{p} {t} {}",
+                st.entropy - s_exact
+            );
+            assert!((st.z - 1.0).abs() < 1e-12);
+            assert!((st.cp - 1040.0).abs() < 1e-9);
+        }
+        assert_eq!(gas.state(0.5e5, 300.0).flag, TableFlag::OutsideEnvelope);
+        assert_eq!(gas.state(2e5, 331.0).quality, Quality::Bad);
+        assert_eq!(gas.state(f64::NAN, 300.0).flag, TableFlag::NotFinite);
+        // Isentropic compression of an ideal gas: T2 = T1 r^(R/cp).
+        let stage = gas.stage(2e5, 290.0, 2.2e5, 305.0);
+        let t2s = 290.0 * f64::powf(1.1, r / 1040.0);
+        assert!((stage.isentropic_temperature.value - t2s).abs() < 0.01);
+        assert_eq!(stage.isentropic_head.quality, Quality::Good);
+        assert!((stage.isentropic_head.value - 1040.0 * (t2s - 290.0)).abs() < 10.0);
+    }
+
+    #[test]
+    fn validation_names_the_field() {
+        let (nodes, header) = ideal_nodes();
+        let cells = [Cell {
+            corners: [0, 1, 2, 4],
+            children: 0,
+            flags: 0,
+        }];
+        let err = validate(&TableData {
+            header,
+            nodes: &nodes,
+            cells: &cells,
+        })
+        .unwrap_err();
+        assert_eq!(err.field, "table_cells.corners");
+        assert_eq!(err.index, Some(0));
+        let mut bad_nodes = nodes;
+        bad_nodes[2].cp = f32::NAN;
+        let cells = [Cell {
+            corners: [0, 1, 2, 3],
+            children: 0,
+            flags: 0,
+        }];
+        let err = validate(&TableData {
+            header,
+            nodes: &bad_nodes,
+            cells: &cells,
+        })
+        .unwrap_err();
+        assert_eq!((err.field, err.index), ("table_nodes", Some(2)));
+        assert!(matches!(err.problem, Problem::NotFinite));
+        // A child index pointing back to its parent would loop: refused.
+        let loop_cells = [
+            Cell {
+                corners: [0; 4],
+                children: 1,
+                flags: SPLIT_LN_P | SPLIT_T,
+            },
+            Cell {
+                corners: [0; 4],
+                children: 1,
+                flags: SPLIT_LN_P | SPLIT_T,
+            },
+            Cell::default(),
+            Cell::default(),
+            Cell::default(),
+        ];
+        let mut h = header;
+        h.cell_count = 5;
+        let err = validate(&TableData {
+            header: h,
+            nodes: &nodes,
+            cells: &loop_cells,
+        })
+        .unwrap_err();
+        assert_eq!((err.field, err.index), ("table_cells.children", Some(1)));
+    }
+
+    #[test]
+    fn blob_round_trip_and_every_corruption_refused() {
+        let (nodes, header) = ideal_nodes();
+        let cells = [Cell {
+            corners: [0, 1, 2, 3],
+            children: 0,
+            flags: 0,
+        }];
+        let data = TableData {
+            header,
+            nodes: &nodes,
+            cells: &cells,
+        };
+        let mut buf = [0u8; 1024];
+        let n = write_blob(&data, &mut buf).unwrap();
+        let blob = &buf[..n];
+        let table = PropertyTable::<8, 4>::from_blob(blob).unwrap();
+        assert_eq!(table.data(), data);
+        let mut kept = PropertyTable::<8, 4>::from_blob(blob).unwrap();
+        for len in 0..n {
+            assert!(
+                kept.replace_from_blob(&blob[..len]).is_err(),
+                "length {len}"
+            );
+            assert_eq!(kept.data(), data);
+        }
+        for bit in 0..n * 8 {
+            let mut b = buf;
+            b[bit / 8] ^= 1 << (bit % 8);
+            assert!(kept.replace_from_blob(&b[..n]).is_err(), "bit {bit}");
+            assert_eq!(kept.data(), data);
+        }
+    }
+}

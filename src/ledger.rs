@@ -1,0 +1,984 @@
+//! Where the power goes: a loss ledger in watts that walks from the
+//! isothermal power of the train's duty to the measured power, one named
+//! cause at a time.
+//!
+//! Sources: the staging relations of Çengel & Boles, *Thermodynamics: An
+//! Engineering Approach*, ch. 7, "Multistage compression with
+//! intercooling" (isothermal work as the limit of many intercooled stages;
+//! ideal stages with perfect intercooling least when the stage ratios are
+//! equal; isentropic work w = h(p2, s1) − h1); the reversible isothermal work
+//! as the Gibbs energy rise Δh − T·Δs = ∫v dp (any thermodynamics text);
+//! the recycle loss m_recycle · w_actual ([`crate::control::recycle_power()`]).
+//! Every work is computed through the configured [`GasModel`], so the
+//! ledger is real-gas when the gas model is.
+//!
+//! # Order of attribution
+//!
+//! The ledger is a chain of reference trains, each one cause closer to the
+//! measured train; a line is the power difference between two neighbouring
+//! references, evaluated with every earlier cause already present (so an
+//! interaction between two causes is charged to the later one). The order
+//! runs from what the machine's layout fixes to what operation and upkeep
+//! change, the order in which an engineer explains a train's power:
+//!
+//! | step | reference train (all at the forward mass flow) | line = this − previous |
+//! |---|---|---|
+//! | 0 | reversible isothermal compression at the first suction temperature from the first suction to the last compressor discharge pressure | `isothermal_power` (the start) |
+//! | 1 | the same number of isentropic stages, equal ratios, no pressure drops, every suction at the first suction temperature | `stage_count` |
+//! | 2 | as 1, but every stage makes the ratio it must make up for the measured interstage pressure drops (equal stage ratios, the measured drop fractions between them) | `pressure_drops` |
+//! | 3 | isentropic stages at the measured suction and discharge pressures, every suction at the first suction temperature | `pressure_split` |
+//! | 4 | (only with [`CoolingReference::CoolantInletPlusApproach`]) as 3, each later suction at its cooler's coolant inlet plus the design approach | `coolant_temperature` |
+//! | 5 | as 3 at the measured suction temperatures: the measured stages' isentropic heads | `intercooling[i]` for stage i's suction |
+//! | 6 | the measured stages' actual work (h2 − h1) | `stage_inefficiency[i]` |
+//! | 7 | the gas the recycle valve sends round the loop, m_recycle · Σ w_actual over the loop's stages | `recycle` |
+//! | 8 | pump stages' shaft power (outside the gas ledger) | `pumps` |
+//! | – | measured total power (compressor gas power + pump power) | `remainder` = measured − all of the above |
+//!
+//! Why this order: the stage count and the pressure drops are set by the
+//! machine and its piping; the split of the ratio between the stages is
+//! then the next thing that can be re-balanced (step 3 isolates it: its line
+//! is zero when the measured stage ratios are equal, whatever the drops);
+//! intercooling and the stages' own losses are what upkeep changes (clean
+//! this cooler, repair that stage) and are charged last, each per stage, so
+//! they add up without a cross term. Stage inefficiency is measured against
+//! the **isentropic** head of the measured stage (not the polytropic one):
+//! then steps 5 and 6 telescope to the measured work exactly.
+//!
+//! Because the chain telescopes, the remainder holds only what the chain
+//! cannot attribute: stages whose measured flows differ from the forward
+//! flow plus the recycle (side streams, meters that disagree), a line that
+//! could not be computed (its share falls into the remainder, which is then
+//! bad), for a model whose isentropic head of a stage depends on the
+//! measured discharge temperature (the ideal gas with cp(T) takes the
+//! path-mean cp) the first stage's difference between its own isentropic
+//! head and the reference's at the same suction state, and rounding. It is
+//! reported, never hidden.
+//!
+//! Each line's quality is the worst of exactly what it used: the
+//! measurements, the forward flow and the gas model's validity of every
+//! state in the two references it compares.
+//!
+//! # Worked example (an invented scenario)
+//!
+//! Air as an ideal gas (k = 1.4, R = 287 J/(kg K), Z = 1), 5 kg/s from
+//! 1.00 bar a, 300 K to 27.0 bar a in three stages; measured: stage 1
+//! 1.00 → 3.20 bar a, stage 2 3.10 → 9.00 bar a at 310 K suction, stage 3
+//! 8.80 → 27.0 bar a at 315 K suction, isentropic efficiencies 0.85, 0.82
+//! and 0.80; no recycle, no pumps. The ledger (from
+//! `tests/ledger.rs::worked_example_in_the_module_docs`, rounded to 0.1 kW):
+//!
+//! | line | kW |
+//! |---|---:|
+//! | isothermal power (start) | 1,418.9 |
+//! | stage count (3 ideal stages vs isothermal) | 247.9 |
+//! | pressure drops (3.1 % and 2.2 %) | 32.0 |
+//! | pressure split | 0.4 |
+//! | intercooling before stage 2 (310 K) | 17.9 |
+//! | intercooling before stage 3 (315 K) | 28.4 |
+//! | stage 1 inefficiency | 104.8 |
+//! | stage 2 inefficiency | 121.7 |
+//! | stage 3 inefficiency | 149.3 |
+//! | remainder | 0.0 |
+//! | **measured** | **2,121.4** |
+//!
+//! Read: 67 % of the measured power is the duty itself; three stages cost
+//! 248 kW over isothermal, the 5.3 % of pressure lost between the stages
+//! 32 kW, the uneven split under 1 kW, the two intercoolers 46 kW together,
+//! and the stages' own losses 376 kW, the largest share.
+//!
+//! # Use
+//!
+//! A separate call after [`crate::train::Train::update`], with the same
+//! scan:
+//!
+//! ```
+//! use polytrope::gas::{IdealGas, AIR};
+//! use polytrope::ledger::{evaluate_ledger_into, Ledger, LedgerConfig};
+//! use polytrope::scan::{Scan, StageScan};
+//! use polytrope::steady::SteadyStateConfig;
+//! use polytrope::train::{StageConfig, StageKind, Train, TrainConfig};
+//! use polytrope::units::PressureAbs;
+//! use polytrope::Measured;
+//!
+//! let stage = |p1: f64, p2: f64| StageConfig {
+//!     kind: StageKind::Compressor,
+//!     design_suction_pressure: PressureAbs::from_bar(p1),
+//!     design_discharge_pressure: PressureAbs::from_bar(p2),
+//!     cooler: None,
+//! };
+//! let config = TrainConfig {
+//!     gas: IdealGas::from_spec(&AIR, false, 1.0)?,
+//!     stages: [stage(1.0, 3.0), stage(2.9, 9.0)],
+//!     max_interstage_pressure_drop: 0.1,
+//!     steady_state: SteadyStateConfig::default(),
+//! };
+//! let mut train = Train::<f64, _, 2, 8>::new(config)?;
+//! let mut scan = Scan {
+//!     stages: [
+//!         StageScan::from_si(1.0e5, 300.0, 3.0e5, 430.0),
+//!         StageScan::from_si(2.9e5, 305.0, 9.0e5, 440.0),
+//!     ],
+//! };
+//! scan.stages[0].mass_flow = Some(Measured::good(2.0)); // kg/s
+//! let ledger_config = LedgerConfig::default(); // first-suction reference, no recycle
+//! ledger_config.validate(2)?;
+//! train.update(&scan);
+//! let mut ledger = Ledger::bad();
+//! evaluate_ledger_into(
+//!     train.config(),
+//!     &ledger_config,
+//!     &scan,
+//!     train.snapshot(),
+//!     Measured::bad(), // no recycle flow
+//!     &mut ledger,
+//! );
+//! let total = ledger.measured_total.value;
+//! assert!((ledger.sum_of_lines() - total).abs() < 1e-9 * total);
+//! // Stage 2's suction is 5 K warmer than stage 1's: its intercooler costs.
+//! assert!(ledger.intercooling[1].value > 0.0);
+//! # Ok::<(), polytrope::ConfigError>(())
+//! ```
+//!
+//! The cost per scan is a few isentropic evaluations per stage; the ideal
+//! gas evaluates one stage for all the equal ones ([`GasModel::ratio_only`]).
+//! Measured on the device: see the README.
+
+use crate::control::recycle_power;
+use crate::error::{check_range, ConfigError, Problem};
+use crate::fields::{Derivation, FieldSpec, FieldValue, QuantityKind, ResultFields};
+use crate::gas::{GasModel, Validity, ValidityReason};
+use crate::quality::{Measured, Quality};
+use crate::real::Real;
+use crate::scan::{compressibility, mass_flow_kg_s, pressure_pa, temperature_k, Scan};
+use crate::staging::Sum;
+use crate::train::{Snapshot, StageWork, TrainConfig};
+
+/// What a later stage's suction temperature is compared with.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum CoolingReference<T> {
+    /// The first stage's suction temperature: perfect intercooling.
+    FirstSuction,
+    /// The coolant inlet temperature of the cooler before the stage plus a
+    /// design approach (K, in [0, 100]): what a clean cooler can reach. The
+    /// difference between that and the first suction temperature is the
+    /// `coolant_temperature` line.
+    CoolantInletPlusApproach {
+        /// Design approach (gas outlet − coolant inlet), K.
+        design_approach: T,
+    },
+}
+
+/// A recycle loop around compressor stages `first_stage..=last_stage`
+/// (zero-based): the stages' measured flows include the recycled gas.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct RecycleLoop {
+    /// First stage inside the loop.
+    pub first_stage: u8,
+    /// Last stage inside the loop (the valve takes gas from its discharge).
+    pub last_stage: u8,
+}
+
+/// Configuration of the ledger; check it once with
+/// [`LedgerConfig::validate`].
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct LedgerConfig<T> {
+    /// What a later stage's suction temperature is compared with.
+    pub cooling_reference: CoolingReference<T>,
+    /// The recycle loop, if the train has one and its flow is known.
+    pub recycle: Option<RecycleLoop>,
+}
+
+impl<T: Real> Default for LedgerConfig<T> {
+    fn default() -> Self {
+        LedgerConfig {
+            cooling_reference: CoolingReference::FirstSuction,
+            recycle: None,
+        }
+    }
+}
+
+impl<T: Real> LedgerConfig<T> {
+    /// Checks the configuration against a train with `compressor_stages`
+    /// compressor stages (`TrainTotals::compressor_stages`).
+    pub fn validate(&self, compressor_stages: u8) -> Result<(), ConfigError> {
+        if let CoolingReference::CoolantInletPlusApproach { design_approach } =
+            self.cooling_reference
+        {
+            check_range("ledger.design_approach", design_approach, 0.0, 100.0)?;
+        }
+        if let Some(r) = self.recycle {
+            let last = f64::from(compressor_stages.saturating_sub(1));
+            if r.last_stage >= compressor_stages {
+                return Err(ConfigError::out_of_range(
+                    "ledger.recycle.last_stage",
+                    0.0,
+                    last,
+                ));
+            }
+            if r.first_stage > r.last_stage {
+                return Err(ConfigError::new(
+                    "ledger.recycle.first_stage",
+                    Problem::Inconsistent {
+                        with: "ledger.recycle.last_stage",
+                    },
+                ));
+            }
+        }
+        Ok(())
+    }
+}
+
+/// One scan's loss ledger; every line in W with its quality.
+///
+/// The sum identity, to rounding: `isothermal_power`, `stage_count`,
+/// `pressure_drops`, `pressure_split`, `coolant_temperature`, every
+/// `intercooling` and `stage_inefficiency` entry, `recycle`, `pumps` and
+/// `remainder` add up to `measured_total` ([`Ledger::sum_of_lines`]).
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Ledger<T, const N: usize> {
+    /// Number of compressor stages (the per-stage lines that exist).
+    pub compressor_stages: u8,
+    /// Forward (delivered) mass flow used for every reference: the first
+    /// stage's flow less the recycle flow if the loop includes it, kg/s.
+    pub forward_mass_flow: Measured<T>,
+    /// Reversible isothermal power for the overall ratio at the first
+    /// suction temperature, W (the start).
+    pub isothermal_power: Measured<T>,
+    /// Equal-ratio isentropic stages with perfect intercooling against
+    /// isothermal: the price of the stage count, W.
+    pub stage_count: Measured<T>,
+    /// The extra ratio the stages make up for interstage pressure drops, W.
+    pub pressure_drops: Measured<T>,
+    /// The measured stage ratios against equal ones, W.
+    pub pressure_split: Measured<T>,
+    /// Coolant inlet plus design approach above the first suction
+    /// temperature (zero with [`CoolingReference::FirstSuction`]), W.
+    pub coolant_temperature: Measured<T>,
+    /// Per stage: its suction warmer than the reference (the intercooler
+    /// before it, or its absence), W; zero for the first stage and pumps.
+    pub intercooling: [Measured<T>; N],
+    /// Per stage: actual work above the stage's isentropic head, W; zero for
+    /// pumps.
+    pub stage_inefficiency: [Measured<T>; N],
+    /// Power spent on gas the recycle valve sends back, W (zero without a
+    /// configured loop).
+    pub recycle: Measured<T>,
+    /// Pump stages' shaft power, outside the gas ledger, W.
+    pub pumps: Measured<T>,
+    /// What the chain does not attribute (flow differences between stages,
+    /// lines that could not be computed, rounding), W.
+    pub remainder: Measured<T>,
+    /// The measured total power (compressor gas power + pump power), W.
+    pub measured_total: Measured<T>,
+}
+
+impl<T: Real, const N: usize> Ledger<T, N> {
+    /// Every line bad.
+    pub fn bad() -> Self {
+        let b = Measured::bad();
+        Ledger {
+            compressor_stages: 0,
+            forward_mass_flow: b,
+            isothermal_power: b,
+            stage_count: b,
+            pressure_drops: b,
+            pressure_split: b,
+            coolant_temperature: b,
+            intercooling: [b; N],
+            stage_inefficiency: [b; N],
+            recycle: b,
+            pumps: b,
+            remainder: b,
+            measured_total: b,
+        }
+    }
+
+    /// Calls `visit` once per line, in the order of attribution: the start
+    /// (`Cause::Isothermal`), the causes, the remainder and last the
+    /// measured total. Per-stage lines carry the zero-based stage index and
+    /// are visited only where the cause can exist (intercooling from the
+    /// second compressor stage, inefficiency for every compressor stage).
+    pub fn visit_lines(&self, visit: &mut dyn FnMut(Cause, Option<u8>, Measured<T>)) {
+        let nc = usize::from(self.compressor_stages);
+        visit(Cause::Isothermal, None, self.isothermal_power);
+        visit(Cause::StageCount, None, self.stage_count);
+        visit(Cause::PressureDrops, None, self.pressure_drops);
+        visit(Cause::PressureSplit, None, self.pressure_split);
+        visit(Cause::CoolantTemperature, None, self.coolant_temperature);
+        for (i, m) in self.intercooling.iter().enumerate().take(nc).skip(1) {
+            visit(Cause::Intercooling, u8::try_from(i).ok(), *m);
+        }
+        for (i, m) in self.stage_inefficiency.iter().enumerate().take(nc) {
+            visit(Cause::StageInefficiency, u8::try_from(i).ok(), *m);
+        }
+        visit(Cause::Recycle, None, self.recycle);
+        visit(Cause::Pumps, None, self.pumps);
+        visit(Cause::Remainder, None, self.remainder);
+        visit(Cause::MeasuredTotal, None, self.measured_total);
+    }
+
+    /// Sum of every line from the start through the remainder, W (equals
+    /// `measured_total` to rounding when that is usable).
+    pub fn sum_of_lines(&self) -> T {
+        let mut s = self.isothermal_power.value
+            + self.stage_count.value
+            + self.pressure_drops.value
+            + self.pressure_split.value
+            + self.coolant_temperature.value;
+        for m in self
+            .intercooling
+            .iter()
+            .chain(self.stage_inefficiency.iter())
+        {
+            s += m.value;
+        }
+        s + self.recycle.value + self.pumps.value + self.remainder.value
+    }
+}
+
+/// One compressor stage's ledger lines ([`Ledger::stage`]), W.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct LedgerStage<T> {
+    /// The stage's suction warmer than the reference (zero for the first).
+    pub intercooling: Measured<T>,
+    /// The stage's actual work above its isentropic head.
+    pub stage_inefficiency: Measured<T>,
+}
+
+impl<T: Real, const N: usize> Ledger<T, N> {
+    /// Compressor stage `i`'s lines; `None` for pumps and beyond.
+    pub fn stage(&self, i: usize) -> Option<LedgerStage<T>> {
+        if i >= usize::from(self.compressor_stages) {
+            return None;
+        }
+        Some(LedgerStage {
+            intercooling: *self.intercooling.get(i)?,
+            stage_inefficiency: *self.stage_inefficiency.get(i)?,
+        })
+    }
+}
+
+/// A power line of the field lists.
+const fn power_field(
+    name: &'static str,
+    key: &'static str,
+    label: &'static str,
+    derivation: Derivation,
+    meaning: &'static str,
+) -> FieldSpec {
+    FieldSpec {
+        name,
+        key,
+        label,
+        unit: "W",
+        kind: QuantityKind::Power,
+        derivation,
+        meaning,
+    }
+}
+
+/// The train-wide lines of [`Ledger`] in [`crate::fields`] form (the
+/// per-stage lines are [`LedgerStage`]'s), in the order of attribution.
+impl<T: Real, const N: usize> ResultFields<T> for Ledger<T, N> {
+    const FIELDS: &'static [FieldSpec] = &[
+        FieldSpec {
+            name: "forward_mass_flow",
+            key: "ledger_forward_mass_flow_kg_per_s",
+            label: "Forward mass flow",
+            unit: "kg/s",
+            kind: QuantityKind::MassFlow,
+            derivation: Derivation::Computed,
+            meaning: "Delivered mass flow every reference uses: the first stage's flow less the recycle flow if the loop includes it.",
+        },
+        power_field(
+            "isothermal_power",
+            "ledger_isothermal_power_W",
+            "Isothermal power (the duty)",
+            Derivation::Computed,
+            "Reversible isothermal power for the overall ratio at the first suction temperature (the Gibbs energy rise); the ledger's start.",
+        ),
+        power_field(
+            "stage_count",
+            "ledger_stage_count_W",
+            "Stage count",
+            Derivation::Difference,
+            "Equal-ratio isentropic stages with perfect intercooling against isothermal.",
+        ),
+        power_field(
+            "pressure_drops",
+            "ledger_pressure_drops_W",
+            "Interstage pressure drops",
+            Derivation::Difference,
+            "The extra ratio the stages make up for the measured interstage pressure drops.",
+        ),
+        power_field(
+            "pressure_split",
+            "ledger_pressure_split_W",
+            "Unequal pressure split",
+            Derivation::Difference,
+            "The measured stage ratios against equal ones.",
+        ),
+        power_field(
+            "coolant_temperature",
+            "ledger_coolant_temperature_W",
+            "Coolant temperature + design approach",
+            Derivation::Difference,
+            "Coolant inlet plus design approach above the first suction temperature (zero with the first-suction reference).",
+        ),
+        power_field(
+            "recycle",
+            "ledger_recycle_W",
+            "Recycle",
+            Derivation::Computed,
+            "Power spent on gas the recycle valve sends back (zero without a configured loop).",
+        ),
+        power_field(
+            "pumps",
+            "ledger_pumps_W",
+            "Pumps (outside the gas ledger)",
+            Derivation::PassThrough,
+            "Pump stages' shaft power.",
+        ),
+        power_field(
+            "remainder",
+            "ledger_remainder_W",
+            "Remainder (not attributed)",
+            Derivation::Difference,
+            "Measured power minus every line above: flow differences between stages, lines that could not be computed, rounding.",
+        ),
+        power_field(
+            "measured_total",
+            "ledger_measured_total_W",
+            "Measured total power",
+            Derivation::PassThrough,
+            "Compressor gas power plus pump power; the ledger's end.",
+        ),
+    ];
+
+    fn visit_fields(&self, visit: &mut dyn FnMut(&'static FieldSpec, FieldValue<T>)) {
+        let values = [
+            self.forward_mass_flow,
+            self.isothermal_power,
+            self.stage_count,
+            self.pressure_drops,
+            self.pressure_split,
+            self.coolant_temperature,
+            self.recycle,
+            self.pumps,
+            self.remainder,
+            self.measured_total,
+        ];
+        for (spec, m) in Self::FIELDS.iter().zip(values) {
+            visit(spec, FieldValue::Real(m));
+        }
+    }
+}
+
+impl<T: Real> ResultFields<T> for LedgerStage<T> {
+    const FIELDS: &'static [FieldSpec] = &[
+        power_field(
+            "intercooling",
+            "ledger_intercooling_W",
+            "Intercooling (suction above reference)",
+            Derivation::Difference,
+            "The stage's suction warmer than the reference: the intercooler before it, or its absence (zero for the first stage).",
+        ),
+        power_field(
+            "stage_inefficiency",
+            "ledger_stage_inefficiency_W",
+            "Stage inefficiency (actual vs isentropic)",
+            Derivation::Difference,
+            "The stage's actual work above its isentropic head, times the forward flow.",
+        ),
+    ];
+
+    fn visit_fields(&self, visit: &mut dyn FnMut(&'static FieldSpec, FieldValue<T>)) {
+        for (spec, m) in Self::FIELDS
+            .iter()
+            .zip([self.intercooling, self.stage_inefficiency])
+        {
+            visit(spec, FieldValue::Real(m));
+        }
+    }
+}
+
+/// The name of a ledger line ([`Ledger::visit_lines`]).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Cause {
+    /// The start: reversible isothermal power.
+    Isothermal,
+    /// Equal-ratio ideal stages against isothermal.
+    StageCount,
+    /// Interstage pressure drops.
+    PressureDrops,
+    /// Unequal stage ratios.
+    PressureSplit,
+    /// Coolant inlet plus design approach above the first suction.
+    CoolantTemperature,
+    /// A stage's suction warmer than the reference.
+    Intercooling,
+    /// A stage's actual work above its isentropic head.
+    StageInefficiency,
+    /// Gas sent round the recycle loop.
+    Recycle,
+    /// Pump stages (outside the gas ledger).
+    Pumps,
+    /// Not attributed.
+    Remainder,
+    /// The measured total power (the end).
+    MeasuredTotal,
+}
+
+impl Cause {
+    /// Stable kebab-case name (keys, CSV columns, logs).
+    pub const fn as_str(self) -> &'static str {
+        match self {
+            Cause::Isothermal => "isothermal",
+            Cause::StageCount => "stage-count",
+            Cause::PressureDrops => "pressure-drops",
+            Cause::PressureSplit => "pressure-split",
+            Cause::CoolantTemperature => "coolant-temperature",
+            Cause::Intercooling => "intercooling",
+            Cause::StageInefficiency => "stage-inefficiency",
+            Cause::Recycle => "recycle",
+            Cause::Pumps => "pumps",
+            Cause::Remainder => "remainder",
+            Cause::MeasuredTotal => "measured-total",
+        }
+    }
+
+    /// Human label for tables and plots.
+    pub const fn label(self) -> &'static str {
+        match self {
+            Cause::Isothermal => "Isothermal power (the duty)",
+            Cause::StageCount => "Stage count (ideal stages vs isothermal)",
+            Cause::PressureDrops => "Interstage pressure drops",
+            Cause::PressureSplit => "Unequal pressure split",
+            Cause::CoolantTemperature => "Coolant temperature + design approach",
+            Cause::Intercooling => "Intercooling, suction above reference",
+            Cause::StageInefficiency => "Stage inefficiency (actual vs isentropic)",
+            Cause::Recycle => "Recycle",
+            Cause::Pumps => "Pumps (outside the gas ledger)",
+            Cause::Remainder => "Remainder (not attributed)",
+            Cause::MeasuredTotal => "Measured total power",
+        }
+    }
+}
+
+/// A specific work with the quality of everything it used.
+#[derive(Clone, Copy)]
+struct Work<T> {
+    value: T,
+    quality: Quality,
+}
+
+impl<T: Real> Work<T> {
+    fn zero() -> Self {
+        Work {
+            value: T::ZERO,
+            quality: Quality::Good,
+        }
+    }
+    fn add(&mut self, value: T, quality: Quality) {
+        self.value += value;
+        self.quality = self.quality.worst(quality);
+    }
+}
+
+/// Isentropic head from (p1, t1) to p2 with the quality of its states.
+#[inline]
+fn isentropic<T: Real, G: GasModel<T>>(
+    gas: &G,
+    p1: T,
+    t1: T,
+    p2: T,
+    ln_ratio: T,
+    z: Option<T>,
+) -> (T, Quality) {
+    let cs = gas.compression(p1, t1, p2, ln_ratio, None, z);
+    (cs.isentropic_enthalpy_rise, cs.isentropic_validity.quality)
+}
+
+/// Line `m · (to − from)` with the worst quality of both and the flow.
+#[inline]
+fn line<T: Real>(m: Measured<T>, from: Work<T>, to: Work<T>) -> Measured<T> {
+    Measured::derived(
+        m.value * (to.value - from.value),
+        m.quality.worst(from.quality).worst(to.quality),
+    )
+}
+
+/// Builds the ledger for one scan after [`crate::train::Train::update`]:
+/// `config` is the train's configuration (`train.config()`), `snapshot` the
+/// snapshot that update returned for this same `scan`, and
+/// `recycle_mass_flow` the recycle flow in kg/s (a meter, or
+/// [`crate::control::valve_mass_flow`]); it is ignored without a configured
+/// loop. `ledger` should have passed [`LedgerConfig::validate`].
+///
+/// Never panics, never allocates; every value is finite with its quality.
+pub fn evaluate_ledger_into<T: Real, G: GasModel<T>, const N: usize>(
+    config: &TrainConfig<T, G, N>,
+    ledger: &LedgerConfig<T>,
+    scan: &Scan<T, N>,
+    snapshot: &Snapshot<T, N>,
+    recycle_mass_flow: Measured<T>,
+    out: &mut Ledger<T, N>,
+) {
+    *out = Ledger::bad();
+    let gas = &config.gas;
+    out.compressor_stages = snapshot.totals.compressor_stages;
+    let nc = usize::from(snapshot.totals.compressor_stages);
+    out.measured_total = snapshot.totals.total_power;
+
+    // Pumps, and zero lines where a cause cannot exist.
+    let mut pumps = Sum::new();
+    for (i, st) in snapshot.stages.iter().enumerate() {
+        if let StageWork::Pump(p) = &st.work {
+            pumps.add(p.power);
+        }
+        if i == 0 || i >= nc {
+            if let Some(m) = out.intercooling.get_mut(i) {
+                *m = Measured::good(T::ZERO);
+            }
+        }
+        if i >= nc {
+            if let Some(m) = out.stage_inefficiency.get_mut(i) {
+                *m = Measured::good(T::ZERO);
+            }
+        }
+    }
+    out.pumps = if pumps.count == 0 {
+        Measured::good(T::ZERO)
+    } else {
+        pumps.get()
+    };
+
+    // Forward flow and recycle.
+    let first = snapshot.stages.first().and_then(|s| s.compressor());
+    let m0 = first.map_or(Measured::bad(), |c| c.mass_flow);
+    let (m_rec, in_loop_first) = match ledger.recycle {
+        Some(r) => (mass_flow_kg_s(recycle_mass_flow), r.first_stage == 0),
+        None => (Measured::good(T::ZERO), false),
+    };
+    let m_fwd = if in_loop_first {
+        let f = m0.value - m_rec.value;
+        let q = m0.quality.worst(m_rec.quality);
+        if f < T::ZERO {
+            Measured::derived(T::ZERO, q.worst(Quality::Uncertain))
+        } else {
+            Measured::derived(f, q)
+        }
+    } else {
+        m0
+    };
+    out.forward_mass_flow = m_fwd;
+    out.recycle = match ledger.recycle {
+        None => Measured::good(T::ZERO),
+        Some(r) => {
+            let mut w = Sum::new();
+            for st in snapshot
+                .stages
+                .iter()
+                .take(usize::from(r.last_stage) + 1)
+                .skip(usize::from(r.first_stage))
+            {
+                if let Some(c) = st.compressor() {
+                    w.add(c.actual_work);
+                }
+            }
+            recycle_power(m_rec, w.get())
+        }
+    };
+
+    evaluate_chain(gas, ledger, scan, snapshot, nc, m_fwd, out);
+
+    // The remainder closes the ledger on the measured total.
+    let mut q = out.measured_total.quality;
+    let mut attributed = T::ZERO;
+    for m in [
+        out.isothermal_power,
+        out.stage_count,
+        out.pressure_drops,
+        out.pressure_split,
+        out.coolant_temperature,
+        out.recycle,
+        out.pumps,
+    ]
+    .iter()
+    .chain(out.intercooling.iter())
+    .chain(out.stage_inefficiency.iter())
+    {
+        attributed += m.value;
+        q = q.worst(m.quality);
+    }
+    out.remainder = Measured::derived(out.measured_total.value - attributed, q);
+}
+
+/// Steps 0 to 6 of the chain (see the module docs).
+#[inline(never)]
+fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
+    gas: &G,
+    ledger: &LedgerConfig<T>,
+    scan: &Scan<T, N>,
+    snapshot: &Snapshot<T, N>,
+    nc: usize,
+    m_fwd: Measured<T>,
+    out: &mut Ledger<T, N>,
+) {
+    if nc == 0 || !m_fwd.quality.is_usable() {
+        return;
+    }
+    // The train's ends through the sensor boundary (only the three values
+    // the references use).
+    let (Some(s0), Some(sl)) = (scan.stages.first(), scan.stages.get(nc - 1)) else {
+        return;
+    };
+    let (p_s, t_s, p_d) = (
+        pressure_pa(s0.suction_pressure),
+        temperature_k(s0.suction_temperature),
+        pressure_pa(sl.discharge_pressure),
+    );
+    let (z0, q_z0) = match compressibility(s0.compressibility) {
+        Some((z, q)) => (Some(z), q),
+        None => (None, Quality::Good),
+    };
+    let q_base = p_s.quality.worst(t_s.quality).worst(p_d.quality);
+    let overall = p_d.value / p_s.value;
+    if q_base == Quality::Bad || !(overall > T::ONE) || !T::is_finite(overall) {
+        return;
+    }
+    let ln_overall = T::ln(overall);
+
+    // Step 0: reversible isothermal.
+    let (w_iso, v_iso) = gas.isothermal_work(p_s.value, p_d.value, ln_overall, t_s.value, z0);
+    let iso = Work {
+        value: w_iso,
+        quality: q_base.worst(q_z0).worst(isothermal_end(v_iso)),
+    };
+    out.isothermal_power =
+        Measured::derived(m_fwd.value * iso.value, m_fwd.quality.worst(iso.quality));
+
+    // Steps 3 to 6, stage by stage; the measured ratios on the way.
+    let mut n = T::ZERO;
+    let mut ratio_product = T::ONE;
+    let mut q_pressures = Quality::Good;
+    let mut uniform = gas.ratio_only();
+    let mut ref_c = Work::zero();
+    let mut ref_d = Work::zero();
+    for i in 0..nc {
+        let e = stage_read(scan, snapshot, i);
+        n += T::ONE;
+        ratio_product = ratio_product * e.ratio.value;
+        q_pressures = q_pressures.worst(e.ratio.quality);
+        uniform &= e.z.is_none();
+        let (head, actual) = (e.head, e.actual);
+        let c_stage = reference_head(gas, &e, t_s, head);
+        ref_c.add(c_stage.value, c_stage.quality);
+        // The cooling reference of this stage's suction.
+        let coolant = match ledger.cooling_reference {
+            CoolingReference::CoolantInletPlusApproach { design_approach } if i > 0 => scan
+                .stages
+                .get(i - 1)
+                .and_then(|s| s.cooler)
+                .map(|c| {
+                    let t = temperature_k(c.coolant_inlet_temperature);
+                    Measured::derived(t.value + design_approach, t.quality)
+                })
+                .or_else(|| {
+                    // A configured cooler without its readings: unknown.
+                    config_has_cooler(snapshot, i - 1).then(Measured::bad)
+                }),
+            _ => None,
+        };
+        let d_stage = match coolant {
+            Some(t_ref) => reference_head(gas, &e, t_ref, head),
+            None => c_stage,
+        };
+        ref_d.add(d_stage.value, d_stage.quality);
+        let head = Work {
+            value: head.value,
+            quality: head.quality,
+        };
+        let actual = Work {
+            value: actual.value,
+            quality: actual.quality,
+        };
+        if i > 0 {
+            if let Some(m) = out.intercooling.get_mut(i) {
+                *m = line(m_fwd, d_stage, head);
+            }
+        }
+        if let Some(m) = out.stage_inefficiency.get_mut(i) {
+            *m = line(m_fwd, head, actual);
+        }
+    }
+    let q_chain = q_base.worst(q_pressures);
+    ref_c.quality = ref_c.quality.worst(q_chain);
+    ref_d.quality = ref_d.quality.worst(q_chain);
+
+    // Step 1: equal ratios, no drops. Step 2: equal ratios, measured drops.
+    let ln_a = ln_overall / n;
+    let ln_b = T::ln(ratio_product) / n;
+    let (ref_a, ref_b) = if uniform {
+        // By the `ratio_only` contract the pressures enter only through
+        // the ratio passed and the higher pressure (validity): one stage
+        // stands for all.
+        let (wa, qa) = isentropic(gas, p_s.value, t_s.value, p_d.value, ln_a, None);
+        let (wb, qb) = isentropic(gas, p_s.value, t_s.value, p_d.value, ln_b, None);
+        (
+            Work {
+                value: n * wa,
+                quality: qa.worst(q_base),
+            },
+            Work {
+                value: n * wb,
+                quality: qb.worst(q_chain),
+            },
+        )
+    } else {
+        let mut a = Work::zero();
+        let mut b = Work::zero();
+        a.add(T::ZERO, q_base);
+        b.add(T::ZERO, q_chain);
+        let (ra, rb) = (T::exp(ln_a), T::exp(ln_b));
+        let (mut pa, mut pb) = (p_s.value, p_s.value);
+        for i in 0..nc {
+            let e = stage_read(scan, snapshot, i);
+            let (wa, qa) = isentropic(gas, pa, t_s.value, pa * ra, ln_a, e.z);
+            a.add(wa, qa.worst(e.q_z));
+            let (wb, qb) = isentropic(gas, pb, t_s.value, pb * rb, ln_b, e.z);
+            b.add(wb, qb.worst(e.q_z));
+            pa = pa * ra;
+            // The next suction sits below this discharge by the measured
+            // drop fraction.
+            let next = stage_read(scan, snapshot, i + 1);
+            pb = pb * rb * (next.p1 / e.p2);
+        }
+        (a, b)
+    };
+    out.stage_count = line(m_fwd, iso, ref_a);
+    out.pressure_drops = line(m_fwd, ref_a, ref_b);
+    out.pressure_split = line(m_fwd, ref_b, ref_c);
+    out.coolant_temperature = match ledger.cooling_reference {
+        CoolingReference::FirstSuction => Measured::good(T::ZERO),
+        CoolingReference::CoolantInletPlusApproach { .. } => line(m_fwd, ref_c, ref_d),
+    };
+}
+
+/// One compressor stage as the ledger reads it: the raw pressures and
+/// suction temperature (valid wherever the qualities that guard them are
+/// usable: the train's sensor boundary passed them), the stage's pressure
+/// ratio with the quality of both pressures, its supplied Z, and its
+/// isentropic head and actual work from the snapshot.
+#[derive(Clone, Copy)]
+struct StageRead<T> {
+    p1: T,
+    p2: T,
+    t1: T,
+    ratio: Measured<T>,
+    z: Option<T>,
+    q_z: Quality,
+    head: Measured<T>,
+    actual: Measured<T>,
+}
+
+#[inline]
+fn stage_read<T: Real, const N: usize>(
+    scan: &Scan<T, N>,
+    snapshot: &Snapshot<T, N>,
+    i: usize,
+) -> StageRead<T> {
+    let c = snapshot.stages.get(i).and_then(|s| s.compressor());
+    let b = Measured::bad();
+    match (scan.stages.get(i), c) {
+        (Some(s), Some(c)) => {
+            let (z, q_z) = match compressibility(s.compressibility) {
+                Some((z, q)) => (Some(z), q),
+                None => (None, Quality::Good),
+            };
+            StageRead {
+                p1: s.suction_pressure.value.pa(),
+                p2: s.discharge_pressure.value.pa(),
+                t1: s.suction_temperature.value.kelvin(),
+                ratio: c.pressure_ratio,
+                z,
+                q_z,
+                head: c.isentropic_head,
+                actual: c.actual_work,
+            }
+        }
+        _ => StageRead {
+            p1: T::ZERO,
+            p2: T::ZERO,
+            t1: T::ZERO,
+            ratio: b,
+            z: None,
+            q_z: Quality::Bad,
+            head: b,
+            actual: b,
+        },
+    }
+}
+
+/// Isentropic head of a stage's measured pressures from suction temperature
+/// `t_ref`, with the quality of what it depends on (the pressure ratio's
+/// pressures, the supplied Z, `t_ref`, the model's validity). Rescales the
+/// stage's own head `head` where the model allows it
+/// ([`GasModel::isentropic_head_rescaled`]: the value then depends on the
+/// stage's suction temperature only through a factor that cancels),
+/// otherwise evaluates the model.
+#[inline]
+fn reference_head<T: Real, G: GasModel<T>>(
+    gas: &G,
+    e: &StageRead<T>,
+    t_ref: Measured<T>,
+    head: Measured<T>,
+) -> Work<T> {
+    let q = t_ref.quality.worst(e.ratio.quality).worst(e.q_z);
+    if q == Quality::Bad {
+        return Work {
+            value: T::ZERO,
+            quality: Quality::Bad,
+        };
+    }
+    if head.quality.is_usable() {
+        if let Some((w, v)) = gas.isentropic_head_rescaled(head.value, e.t1, t_ref.value, e.p2, e.z)
+        {
+            return Work {
+                value: w,
+                quality: q.worst(v.quality),
+            };
+        }
+    }
+    let ln_r = T::ln(e.ratio.value);
+    let (w, qv) = isentropic(gas, e.p1, t_ref.value, e.p2, ln_r, e.z);
+    Work {
+        value: w,
+        quality: q.worst(qv),
+    }
+}
+
+/// Whether stage `i` has a cooler configured (the snapshot has a slot).
+#[inline]
+fn config_has_cooler<T, const N: usize>(snapshot: &Snapshot<T, N>, i: usize) -> bool {
+    matches!(snapshot.coolers.get(i), Some(Some(_)))
+}
+
+/// Quality of the isothermal reference's end states. Isothermal
+/// compression at the first suction temperature may end in a dense or
+/// liquid-like state (CO2 below its critical temperature): the Gibbs
+/// energy rise is still the reversible work, but a cubic's dense root is an
+/// estimate, so a liquid-like end is uncertain rather than bad.
+#[inline]
+fn isothermal_end(v: Validity) -> Quality {
+    match v.reason {
+        ValidityReason::LiquidLike => Quality::Uncertain,
+        _ => v.quality,
+    }
+}
