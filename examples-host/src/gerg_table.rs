@@ -822,10 +822,13 @@ pub fn parse_composition(text: &str) -> Result<Composition, String> {
                 GERG_COMPONENTS.join(", ")
             ));
         };
-        if seen[k] {
+        let (Some(seen_k), Some(x_k)) = (seen.get_mut(k), x.get_mut(k)) else {
+            return Err(format!("--composition.{name}: not a GERG-2008 component"));
+        };
+        if *seen_k {
             return Err(format!("--composition.{name}: given twice"));
         }
-        seen[k] = true;
+        *seen_k = true;
         let v: f64 = value
             .trim()
             .parse()
@@ -835,13 +838,13 @@ pub fn parse_composition(text: &str) -> Result<Composition, String> {
                 "--composition.{name}: {v} is outside 0 to 1 (a mole fraction)"
             ));
         }
-        x[k] = v;
+        *x_k = v;
     }
     let sum: f64 = x.iter().sum();
     if !seen.iter().any(|s| *s) {
         return Err("--composition: no component given".into());
     }
-    if !((sum - 1.0).abs() <= COMPOSITION_SUM_TOLERANCE) {
+    if (sum - 1.0).abs() > COMPOSITION_SUM_TOLERANCE || sum.is_nan() {
         return Err(format!(
             "--composition: the mole fractions sum to {sum}, not 1 (within {COMPOSITION_SUM_TOLERANCE})"
         ));

@@ -82,7 +82,8 @@ fn check_envelope(e: &Envelope) -> Result<(), CliError> {
             e.p_max / 1e5
         ));
     }
-    if !(e.p_min < e.p_max) {
+    // Both are finite and positive (`number`).
+    if e.p_min >= e.p_max {
         return bad("--p-max-bar: the envelope needs it above --p-min-bar".into());
     }
     for (name, t) in [("t-min-k", e.t_min), ("t-max-k", e.t_max)] {
@@ -93,7 +94,7 @@ fn check_envelope(e: &Envelope) -> Result<(), CliError> {
             ));
         }
     }
-    if !(e.t_min < e.t_max) {
+    if e.t_min >= e.t_max {
         return bad("--t-max-k: the envelope needs it above --t-min-k".into());
     }
     Ok(())
