@@ -135,9 +135,10 @@ fn report<T: Real, const N: usize>(
     let snap = lane.train.snapshot();
     let parts = crate::demo::split(&scan.stages, snap);
     let scenario = format!(
-        "Train file {}: {}. Readings as given; unmapped readings are bad inputs.",
+        "Train file {}: {}. Readings as given; unmapped readings are bad inputs.\nGas model: {}. Every result below comes from this model; its row 'Gas model' gives the validity per stage (in-range, or why uncertain or bad), and a value's quality mark includes it.",
         a.file.display(),
-        l.file.train.name
+        l.file.train.name,
+        l.gas_description()
     );
     let head = ("evaluate", scenario.as_str());
     if a.json {

@@ -24,6 +24,7 @@ mod demo;
 mod evaluate;
 // Register image over Modbus TCP, and its map.
 mod gateway;
+mod host_gas;
 mod keys;
 mod ledger_plot;
 mod ledger_view;

@@ -510,7 +510,7 @@ pub fn demo_plots(dir: &Path) -> Result<Vec<PathBuf>, CliError> {
     let gas = polytrope::gas::IdealGas::from_spec(&polytrope::gas::CARBON_DIOXIDE, false, 1.0)?;
     let mut lane = crate::replay::Lane::<f32, { polytrope::demo::STAGES }> {
         train: polytrope::train::Train::new(polytrope::train::TrainConfig {
-            gas,
+            gas: crate::host_gas::HostGas::Ideal(gas),
             stages: demo_config.stages,
             max_interstage_pressure_drop: demo_config.max_interstage_pressure_drop,
             steady_state: demo_config.steady_state,

@@ -454,9 +454,12 @@ impl<T: Real, const N: usize> Lane<T, N> {
         let mut scan = train_any::scan::<T, N>(l, row);
         for (i, (st, orifice)) in scan.stages.iter_mut().zip(&self.orifices).enumerate() {
             if let Some(o) = orifice {
-                let z = st
-                    .compressibility
-                    .unwrap_or(Measured::good(self.train.config().gas.compressibility()));
+                let z = st.compressibility.unwrap_or_else(|| {
+                    self.train.config().gas.orifice_z(
+                        st.suction_pressure.map(|p| p.pa()),
+                        st.suction_temperature.map(|t| t.kelvin()),
+                    )
+                });
                 let dp = match row.get(i).and_then(|r| r.get(ix::FLOW_DP)) {
                     Some(Cell::Value(v)) => Measured::good(T::of(*v)),
                     _ => Measured::bad(),
@@ -554,6 +557,8 @@ pub struct StageSeries {
     pub hr: Vec<f64>,
     /// Recycle power, W.
     pub recycle: Vec<f64>,
+    /// Scans per gas-model validity (`in-range`, `near-critical`, ...).
+    pub gas_validity: std::collections::BTreeMap<&'static str, u64>,
 }
 
 fn usable(v: f64, q: Quality) -> f64 {
@@ -567,6 +572,13 @@ fn usable(v: f64, q: Quality) -> f64 {
 /// Appends the series of one scan.
 pub fn record_series<T: Real, const N: usize>(s: &mut Series, lane: &Lane<T, N>) {
     let snap = lane.train.snapshot();
+    snap.visit_groups(&mut |g, spec, value| {
+        if let (Group::Stage(i), "gas_model_validity", FieldValue::Tag(t)) = (g, spec.key, value) {
+            if let Some(ss) = s.stages.get_mut(usize::from(i)) {
+                *ss.gas_validity.entry(t).or_default() += 1;
+            }
+        }
+    });
     for (i, ss) in s.stages.iter_mut().enumerate() {
         let st = snap.stages.get(i);
         let c = st.and_then(|s| s.compressor());
@@ -940,6 +952,7 @@ pub fn summary(l: &Loaded, a: &ReplayArgs, o: &Outcome) -> (String, serde_json::
     let rate = c.replayed as f64 / c.seconds.max(1e-9);
     let mut t = format!(
         "{} replay: {} through {}\n{}\n{}\n\n\
+         Gas model: {} (every result column comes from it; its validity is folded into each column's quality).\n\
          Rows: {} read, {} replayed, {} malformed ({}); {:.1} s, {} rows/s (f32 and f64 builds both run).\n\
          Results: {}\n",
         crate::BIN,
@@ -947,6 +960,7 @@ pub fn summary(l: &Loaded, a: &ReplayArgs, o: &Outcome) -> (String, serde_json::
         a.file.display(),
         l.file.train.name,
         out::CAUTION,
+        l.gas_description(),
         c.rows,
         c.replayed,
         c.malformed.len(),
@@ -1104,6 +1118,20 @@ pub fn summary(l: &Loaded, a: &ReplayArgs, o: &Outcome) -> (String, serde_json::
             );
             put(&mut sj, "recycle_power_mean_W", json!(r));
             put(&mut sj, "recycle_energy_J", json!(energy));
+        }
+        if !ss.gas_validity.is_empty() {
+            let parts: Vec<String> = ss
+                .gas_validity
+                .iter()
+                .map(|(k, v)| format!("{k} {v} scans"))
+                .collect();
+            let _ = writeln!(
+                after,
+                "S{} gas model validity (f32 build): {}.",
+                i + 1,
+                parts.join(", ")
+            );
+            put(&mut sj, "gas_model_validity_scans", json!(ss.gas_validity));
         }
         stages_json.push(sj);
     }

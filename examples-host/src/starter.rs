@@ -194,9 +194,18 @@ pub fn air_file(n: usize) -> String {
     t.push_str(&format!(
         "\n[train]\nname = \"Plant air, {n} stage{} (invented example)\"\n\
          max_interstage_pressure_drop = 0.1   # largest design drop between stages, fraction\n\n\
-         [gas]\nname = \"air\"                    # built-in: air, nitrogen, methane, ethane, carbon-dioxide, hydrogen, lean-natural-gas\n\
+         [gas]\nmodel = \"ideal\"                # \"ideal\", \"peng-robinson\" or \"table\" (below)\n\
+         name = \"air\"                    # built-in: air, nitrogen, methane, ethane, carbon-dioxide, hydrogen, lean-natural-gas\n\
          heat_capacity = \"cp-polynomial\"     # or \"constant-k\"; a custom gas gives molar_mass_kg_per_kmol and heat_capacity_ratio\n\
-         compressibility = 1.0\n",
+         compressibility = 1.0\n\
+         # Peng-Robinson instead: replace the three lines above by mole fractions by component\n\
+         # (nitrogen, oxygen, argon, methane, ethane, propane, n-butane, isobutane,\n\
+         # carbon-dioxide, hydrogen-sulfide, hydrogen, water):\n\
+         #   model = \"peng-robinson\"\n\
+         #   composition = {{ nitrogen = 0.7812, oxygen = 0.2096, argon = 0.0092 }}\n\
+         # A GERG-2008 property table instead (`polytrope-host tables --gas air --out air`):\n\
+         #   model = \"table\"\n\
+         #   table_file = \"air.bin\"     # relative to this file\n",
         if n == 1 { "" } else { "s" }
     ));
     t.push_str(COMMON);
@@ -227,7 +236,8 @@ pub fn demo_file() -> String {
     t.push_str(
         "\n[train]\nname = \"Demo: 4 intercooled CO2 stages and a dense-phase pump (invented)\"\n\
          max_interstage_pressure_drop = 0.1\n\n\
-         [gas]\nname = \"carbon-dioxide\"\nheat_capacity = \"constant-k\"\ncompressibility = 1.0\n",
+         [gas]\nmodel = \"peng-robinson\"        # as the demo itself\n\
+         composition = { carbon-dioxide = 1.0 }\n",
     );
     t.push_str(COMMON);
     let design = [
