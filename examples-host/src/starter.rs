@@ -198,7 +198,7 @@ pub fn air_file(n: usize) -> String {
          name = \"air\"                    # built-in: air, nitrogen, methane, ethane, carbon-dioxide, hydrogen, lean-natural-gas\n\
          heat_capacity = \"cp-polynomial\"     # or \"constant-k\"; a custom gas gives molar_mass_kg_per_kmol and heat_capacity_ratio\n\
          compressibility = 1.0\n\
-         # Peng-Robinson instead: replace the three lines above by mole fractions by component\n\
+         # Peng-Robinson instead: drop name, heat_capacity and compressibility and give mole fractions by component\n\
          # (nitrogen, oxygen, argon, methane, ethane, propane, n-butane, isobutane,\n\
          # carbon-dioxide, hydrogen-sulfide, hydrogen, water):\n\
          #   model = \"peng-robinson\"\n\
