@@ -35,6 +35,9 @@ pub struct EvaluateArgs {
     /// Print JSON instead of tables.
     #[arg(long)]
     pub json: bool,
+    /// Unit system of the tables: si, bar-degc or us-field (JSON keys stay SI).
+    #[arg(long, value_name = "SYSTEM")]
+    pub units: Option<String>,
 }
 
 fn reading(l: &Loaded, text: &str) -> Result<(usize, usize, Cell), CliError> {

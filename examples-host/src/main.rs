@@ -38,6 +38,7 @@ mod stage;
 mod starter;
 mod surgemap;
 mod train_any;
+mod unit_system;
 mod units;
 // Surge simulation: the Greitzer model core and its subcommand.
 mod greitzer;
@@ -55,7 +56,30 @@ use cli::{Cli, CliError, Cmd};
 /// The binary's name, for messages.
 pub const BIN: &str = "polytrope-host";
 
+/// Applies a `--units SYSTEM` choice for the whole process.
+fn units(name: &Option<String>) -> Result<(), CliError> {
+    unit_system::choose_from(name.as_deref()).map_err(|e| CliError::Usage(format!("--units: {e}")))
+}
+
 fn dispatch(cli: &Cli) -> Result<String, CliError> {
+    match &cli.command {
+        Cmd::Demo(a) if a.units.is_some() => {
+            units(&a.units)?;
+            dispatch_inner(cli)
+        }
+        Cmd::Evaluate(a) => {
+            units(&a.units)?;
+            evaluate::run(a)
+        }
+        Cmd::Replay(a) => {
+            units(&a.units)?;
+            replay::run(a)
+        }
+        _ => dispatch_inner(cli),
+    }
+}
+
+fn dispatch_inner(cli: &Cli) -> Result<String, CliError> {
     match &cli.command {
         Cmd::Demo(a) => {
             let text = demo::run(&a.parsed())?;
