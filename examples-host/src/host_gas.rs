@@ -26,6 +26,9 @@ pub const PR_COMPONENTS: usize = COMPONENTS.len();
 pub type HostTable = PropertyTable<4096, 8192>;
 
 /// The chosen gas model at precision `T`.
+// One value per train (never in arrays or moved per scan): the size of the
+// Peng–Robinson variant (its 12 component records) costs nothing measurable.
+#[allow(clippy::large_enum_variant)]
 #[derive(Clone, Copy, Debug)]
 pub enum HostGas<T> {
     /// Ideal gas with a configured mean Z.
