@@ -278,6 +278,36 @@ pub struct SurgeSection {
     pub points: Vec<SurgePointSection>,
     /// Recycle-valve controller settings (used by `surge-sim`).
     pub control: Option<ControlSection>,
+    /// The compression system around the stage (used by `surge-sim --file`).
+    pub plant: Option<PlantSection>,
+}
+
+/// `[stage.surge.plant]`: what the Greitzer (1976) lumped model of the
+/// stage needs beyond its surge map. Every key is required by
+/// `surge-sim --file`; a missing one is refused naming it.
+#[derive(Clone, Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct PlantSection {
+    /// The speed line to simulate, rpm (one of the map's points).
+    pub speed_rpm: Option<f64>,
+    /// Impeller tip diameter, m.
+    pub impeller_tip_diameter_m: Option<f64>,
+    /// Effective duct length, m.
+    pub duct_length_m: Option<f64>,
+    /// Duct flow area, m².
+    pub duct_area_m2: Option<f64>,
+    /// Plenum (discharge) volume, m³.
+    pub plenum_volume_m3: Option<f64>,
+    /// Pressure rise at zero flow over that at the surge point, -.
+    pub shutoff_head_fraction: Option<f64>,
+    /// Suction volume flow before the load loss, m³/s.
+    pub operating_flow_m3_per_s: Option<f64>,
+    /// Recycle valve fully open: suction volume flow at the surge-point pressure rise, m³/s.
+    pub recycle_valve_full_flow_m3_per_s: Option<f64>,
+    /// Valve dead time, s.
+    pub valve_dead_time_s: Option<f64>,
+    /// Polytropic efficiency for the recycle power, -.
+    pub polytropic_efficiency: Option<f64>,
 }
 
 fn horizon() -> f64 {

@@ -180,6 +180,17 @@ scan_period_s = 0.02
 gain = 2.0
 integral_time_s = 2.0
 valve_stroke_time_s = 0.8
+[stage.surge.plant]            # the compression system around the stage (surge-sim --file; invented)
+speed_rpm = 10500              # the speed line to simulate: one of the points above
+impeller_tip_diameter_m = 0.73 # tip speed U = pi D N / 60
+duct_length_m = 6.0            # effective length of the suction + impeller duct
+duct_area_m2 = 0.03            # its flow area
+plenum_volume_m3 = 8.0         # discharge volume up to the check valve and the recycle take-off
+shutoff_head_fraction = 0.5    # pressure rise at zero flow / at the surge point, this speed
+operating_flow_m3_per_s = 1.45 # suction volume flow before the load loss
+recycle_valve_full_flow_m3_per_s = 1.5   # recycle valve fully open, at the surge-point pressure rise
+valve_dead_time_s = 0.1
+polytropic_efficiency = 0.8    # for the power spent recirculating
 
 [stage.flow_element]           # ISO 5167-2 orifice plate in the suction line
 pipe_diameter_mm = 300
