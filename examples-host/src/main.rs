@@ -57,22 +57,22 @@ use cli::{Cli, CliError, Cmd};
 pub const BIN: &str = "polytrope-host";
 
 /// Applies a `--units SYSTEM` choice for the whole process.
-fn units(name: &Option<String>) -> Result<(), CliError> {
+fn choose_units(name: &Option<String>) -> Result<(), CliError> {
     unit_system::choose_from(name.as_deref()).map_err(|e| CliError::Usage(format!("--units: {e}")))
 }
 
 fn dispatch(cli: &Cli) -> Result<String, CliError> {
     match &cli.command {
         Cmd::Demo(a) if a.units.is_some() => {
-            units(&a.units)?;
+            choose_units(&a.units)?;
             dispatch_inner(cli)
         }
         Cmd::Evaluate(a) => {
-            units(&a.units)?;
+            choose_units(&a.units)?;
             evaluate::run(a)
         }
         Cmd::Replay(a) => {
-            units(&a.units)?;
+            choose_units(&a.units)?;
             replay::run(a)
         }
         _ => dispatch_inner(cli),
