@@ -29,8 +29,8 @@ pub type HostTable = PropertyTable<4096, 8192>;
 // One value per train (never in arrays or moved per scan): the size of the
 // Peng–Robinson variant (its 12 component records) costs nothing measurable.
 #[allow(clippy::large_enum_variant)]
-#[derive(Clone, Copy, Debug)]
-pub enum HostGas<T> {
+#[derive(Clone, Debug)]
+pub enum HostGas<T: Real> {
     /// Ideal gas with a configured mean Z.
     Ideal(IdealGas<T>),
     /// Peng–Robinson over [`COMPONENTS`] (absent components at 0).
