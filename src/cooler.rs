@@ -340,14 +340,14 @@ pub fn evaluate_cooler_within<T: Real>(
     }
 
     let mut g = Grades::new();
-    g.slot(slot::T2, tin.quality)
-        .slot(slot::GAS_OUT_T, tout.quality)
-        .slot(slot::COOLANT_IN_T, tc.quality)
-        .slot(slot::COOLANT_OUT_T, tco.quality)
-        .slot(slot::P2, pin.quality)
-        .slot(slot::GAS_OUT_P, pout.quality)
-        .slot(slot::FLOW, flow.quality)
-        .slot(slot::COOLANT_FLOW, mc.quality);
+    g.first_slot(slot::T2, tin.quality)
+        .first_slot(slot::GAS_OUT_T, tout.quality)
+        .first_slot(slot::COOLANT_IN_T, tc.quality)
+        .first_slot(slot::COOLANT_OUT_T, tco.quality)
+        .first_slot(slot::P2, pin.quality)
+        .first_slot(slot::GAS_OUT_P, pout.quality)
+        .first_slot(slot::FLOW, flow.quality)
+        .first_slot(slot::COOLANT_FLOW, mc.quality);
     let u = cooler_uses(cooler_cp_slots(cp_inputs));
     let settle = |m: &mut Measured<T>, bit: u16, use_: Use| {
         g.settle_suspect(m, done & bit != 0, suspect & bit != 0, use_);

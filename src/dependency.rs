@@ -445,6 +445,27 @@ impl Grades {
         }
     }
 
+    /// As [`Grades::slot`] for a slot not set before (no clearing; the
+    /// slots of one evaluation are set once each).
+    #[inline]
+    pub fn first_slot(&mut self, s: Slots, q: Quality) -> &mut Self {
+        let m = s.0 as u32;
+        match q {
+            Quality::Good => {}
+            Quality::Uncertain => self.uncertain |= m,
+            Quality::Bad => self.bad |= m,
+            Quality::NotApplicable => self.not_applicable |= m,
+        }
+        self
+    }
+
+    /// Every slot and check that is not good (one mask: an output that
+    /// touches none of it is good without looking further).
+    #[inline]
+    fn not_good(&self) -> u32 {
+        self.not_applicable | self.bad | self.uncertain
+    }
+
     /// The quality the rule gives an output with use `u`.
     #[inline]
     pub fn of(&self, u: Use) -> Quality {
@@ -464,6 +485,11 @@ impl Grades {
     /// apply, bad if not computed or not finite, else the rule's quality.
     #[inline]
     pub fn settle_computed<T: Real>(&self, m: &mut Measured<T>, computed: bool, u: Use) {
+        // The common case first: a computed, finite value of good uses.
+        if computed && u.0 & self.not_good() == 0 && T::is_finite(m.value) {
+            m.quality = Quality::Good;
+            return;
+        }
         let q = self.of(u);
         *m = if q == Quality::NotApplicable {
             Measured::not_applicable()
@@ -484,6 +510,10 @@ impl Grades {
         suspect: bool,
         u: Use,
     ) {
+        if computed && !suspect && u.0 & self.not_good() == 0 && T::is_finite(m.value) {
+            m.quality = Quality::Good;
+            return;
+        }
         let mut g = *self;
         if suspect {
             g.uncertain |= u.0;

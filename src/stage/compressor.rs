@@ -13,11 +13,11 @@
 //! Cost per call (ideal gas): two logarithms, one exponential, about a dozen
 //! divisions; Peng–Robinson: see the README's device figures.
 
-use crate::compression::isothermal_head;
+use crate::compression::isothermal_head_from_log;
 use crate::dependency::{
     check, compressor_uses, property_slots, slot, suction_slots, CompressorUses, Grades,
 };
-use crate::gas::{GasModel, Validity};
+use crate::gas::{GasModel, PropertyInputs, Validity};
 use crate::plausibility::{efficiency_grade, Limits};
 use crate::polytropic::{schultz, PolytropicMethod};
 use crate::quality::{Measured, Quality};
@@ -203,6 +203,50 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     limits: &Limits<T>,
     out: &mut CompressorResult<T>,
 ) {
+    evaluate_compressor_tabled(gas, inp, limits, None, out);
+}
+
+/// The dependency table of a compressor stage with a measured discharge
+/// temperature for one gas model's [`PropertyInputs`]: built once (a train
+/// keeps it) instead of every scan.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(crate) struct StageUses {
+    /// What the table was built for.
+    pub(crate) inputs: PropertyInputs,
+    measured: CompressorUses,
+}
+
+impl StageUses {
+    /// The table for a model with `inputs`.
+    pub(crate) fn new(inputs: PropertyInputs) -> Self {
+        StageUses {
+            inputs,
+            measured: Self::uses(inputs, false),
+        }
+    }
+
+    fn uses(inputs: PropertyInputs, rating_point: bool) -> CompressorUses {
+        let (props_slots, z_slots) = property_slots(inputs, !rating_point);
+        let (iso_slots, z1_slots) = suction_slots(inputs, props_slots, z_slots);
+        compressor_uses(
+            props_slots,
+            z_slots,
+            iso_slots,
+            z1_slots,
+            inputs.compressibility_from_state,
+        )
+    }
+}
+
+/// [`evaluate_compressor_within`] with the dependency tables built
+/// beforehand (`tables` for `gas.property_inputs()`; `None` builds them).
+pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
+    gas: &G,
+    inp: &CompressorInputs<T>,
+    limits: &Limits<T>,
+    tables: Option<&StageUses>,
+    out: &mut CompressorResult<T>,
+) {
     // Which outputs were computed (bit i: the i-th field in declaration
     // order); the rest are bad or not applicable after `settle_compressor`.
     let mut done: u16 = 0;
@@ -257,11 +301,18 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     let p2_path = if p_ok { p2.value } else { p1_path };
     // Suction, isentropic and (with a usable T2) discharge states in one
     // call.
+    // ln(p2/p1) once: compressing, the path pressures are the measured ones
+    // and their ratio is `ratio` itself.
+    let ln_path = if compressing {
+        ln_r
+    } else {
+        T::ln(p2_path / p1_path)
+    };
     let mut cs = gas.compression(
         p1_path,
         t1_path,
         p2_path,
-        T::ln(p2_path / p1_path),
+        ln_path,
         if t2_ok { Some(t2.value) } else { None },
         z_supplied,
     );
@@ -341,7 +392,7 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     }
     if compressing && iso_ok {
         let hs = cs.isentropic_enthalpy_rise;
-        let h_iso = isothermal_head(cs.suction_z, gas.gas_constant(), t1.value, ratio);
+        let h_iso = isothermal_head_from_log(cs.suction_z, gas.gas_constant(), t1.value, ln_r);
         if t1_ok {
             done |= 1 << 1;
             out.isentropic_discharge_temperature.value = cs.isentropic_temperature;
@@ -383,12 +434,12 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
 
     // Qualities: the dependency rule over the slots and checks.
     let mut g = Grades::new();
-    g.slot(slot::P1, p1.quality)
-        .slot(slot::T1, t1.quality)
-        .slot(slot::P2, p2.quality)
-        .slot(slot::T2, t2.quality)
-        .slot(slot::FLOW, flow.quality)
-        .slot(slot::Z, q_z);
+    g.first_slot(slot::P1, p1.quality)
+        .first_slot(slot::T1, t1.quality)
+        .first_slot(slot::P2, p2.quality)
+        .first_slot(slot::T2, t2.quality)
+        .first_slot(slot::FLOW, flow.quality)
+        .first_slot(slot::Z, q_z);
     if checks.ratio_out_of_range {
         g.check(check::RATIO, Quality::Bad);
     }
@@ -415,21 +466,13 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     if checks.stationary {
         g.check(check::RUNNING, Quality::Uncertain);
     }
-    let inputs = gas.property_inputs();
-    let (props_slots, z_slots) = property_slots(inputs, !rating_point);
-    let (iso_slots, z1_slots) = suction_slots(inputs, props_slots, z_slots);
-    settle_compressor(
-        &g,
-        &compressor_uses(
-            props_slots,
-            z_slots,
-            iso_slots,
-            z1_slots,
-            inputs.compressibility_from_state,
-        ),
-        done,
-        out,
-    );
+    // The table kept for measured stages; a rating-point query (rare) or a
+    // caller without one builds its own (in a frame of its own: not on the
+    // stack of every call).
+    match tables {
+        Some(t) if !rating_point => settle_compressor(&g, &t.measured, done, out),
+        _ => settle_compressor_untabled(&g, gas.property_inputs(), rating_point, done, out),
+    }
     out.condition = checks.condition(p1, t1, p2, t2, rating_point);
 }
 
@@ -484,6 +527,18 @@ impl CompressorChecks {
             StageCondition::Normal
         }
     }
+}
+
+/// [`settle_compressor`] building the table first.
+#[inline(never)]
+fn settle_compressor_untabled<T: Real>(
+    g: &Grades,
+    inputs: PropertyInputs,
+    rating_point: bool,
+    done: u16,
+    o: &mut CompressorResult<T>,
+) {
+    settle_compressor(g, &StageUses::uses(inputs, rating_point), done, o);
 }
 
 /// Every output's quality from the table ([`crate::dependency`]); `done`
