@@ -99,6 +99,12 @@ struct RangeWindow<T, const W: usize> {
 
 impl<T: Real, const W: usize> RangeWindow<T, W> {
     const fn new() -> Self {
+        const {
+            assert!(
+                W <= 65_535,
+                "a steady-state window holds at most 65535 scans"
+            )
+        };
         RangeWindow {
             values: Window::filled_with(T::ZERO),
             lo: T::ZERO,
@@ -125,8 +131,8 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
     /// reach it (a new value at or beyond an extreme is the new extreme
     /// whatever left).
     fn write(&mut self, v: T) {
-        // `Window` keeps W <= 65535, so a slot fits in u16.
-        let slot = self.values.next_slot();
+        // W <= 65535 (asserted in `new`), so a slot fits in u16.
+        let slot = u16::try_from(self.values.next_slot()).unwrap_or(0);
         let first = self.values.len() == 0;
         let evicted = self.values.push(v).is_some();
         if first {

@@ -12,16 +12,14 @@
 #[derive(Clone, Debug)]
 pub(crate) struct Window<T, const W: usize> {
     data: [T; W],
-    /// Slot of the next write, always `< W` (`W` <= 65535: two bytes, not
-    /// a word, per counter in every window of the train state).
-    next: u16,
+    /// Slot of the next write, always `< W`.
+    next: usize,
     /// Values held, `<= W`.
-    len: u16,
+    len: usize,
 }
 
 impl<T: Copy + Default, const W: usize> Default for Window<T, W> {
     fn default() -> Self {
-        const { assert!(W > 0 && W <= 65_535, "a window holds 1 to 65535 values") };
         Window {
             data: [T::default(); W],
             next: 0,
@@ -33,7 +31,7 @@ impl<T: Copy + Default, const W: usize> Default for Window<T, W> {
 impl<T: Copy, const W: usize> Window<T, W> {
     /// An empty window whose unused slots hold `fill`.
     pub(crate) const fn filled_with(fill: T) -> Self {
-        const { assert!(W > 0 && W <= 65_535, "a window holds 1 to 65535 values") };
+        const { assert!(W > 0, "a window needs at least one slot") };
         Window {
             data: [fill; W],
             next: 0,
@@ -51,20 +49,16 @@ impl<T: Copy, const W: usize> Window<T, W> {
     /// window was full.
     #[inline]
     pub(crate) fn push(&mut self, v: T) -> Option<T> {
-        let full = usize::from(self.len) >= W;
+        let full = self.len >= W;
         let mut evicted = None;
-        if let Some(slot) = self.data.get_mut(usize::from(self.next)) {
+        if let Some(slot) = self.data.get_mut(self.next) {
             if full {
                 evicted = Some(*slot);
             }
             *slot = v;
         }
-        self.next = if usize::from(self.next) + 1 >= W {
-            0
-        } else {
-            self.next + 1
-        };
-        if usize::from(self.len) < W {
+        self.next = if self.next + 1 >= W { 0 } else { self.next + 1 };
+        if self.len < W {
             self.len += 1;
         }
         evicted
@@ -74,19 +68,19 @@ impl<T: Copy, const W: usize> Window<T, W> {
     /// The ring slot the next [`Window::push`] writes (the index into
     /// [`Window::as_slice`] once the window is full).
     #[inline]
-    pub(crate) fn next_slot(&self) -> u16 {
+    pub(crate) fn next_slot(&self) -> usize {
         self.next
     }
 
     #[inline]
     pub(crate) fn len(&self) -> usize {
-        usize::from(self.len)
+        self.len
     }
 
     /// The values held, in storage order.
     #[inline]
     pub(crate) fn as_slice(&self) -> &[T] {
-        self.data.get(..usize::from(self.len)).unwrap_or(&[])
+        self.data.get(..self.len).unwrap_or(&[])
     }
 
     /// The values held, oldest first.
@@ -95,13 +89,12 @@ impl<T: Copy, const W: usize> Window<T, W> {
     pub(crate) fn oldest_ordered(&self) -> impl Iterator<Item = &T> {
         // Until full, storage order is chronological; once full, the oldest
         // value sits at `next`.
-        let next = usize::from(self.next);
-        let (older, newer) = if usize::from(self.len) < W {
+        let (older, newer) = if self.len < W {
             (&[][..], self.as_slice())
         } else {
             (
-                self.data.get(next..).unwrap_or(&[]),
-                self.data.get(..next).unwrap_or(&[]),
+                self.data.get(self.next..).unwrap_or(&[]),
+                self.data.get(..self.next).unwrap_or(&[]),
             )
         };
         older.iter().chain(newer)
@@ -114,11 +107,7 @@ impl<T: Copy, const W: usize> Window<T, W> {
         if self.len == 0 {
             return None;
         }
-        let last = if self.next == 0 {
-            W - 1
-        } else {
-            usize::from(self.next) - 1
-        };
+        let last = if self.next == 0 { W - 1 } else { self.next - 1 };
         self.data.get(last)
     }
 
