@@ -38,8 +38,14 @@ pub fn isentropic_discharge_temperature<T: Real>(t1: T, ratio: T, k: T) -> T {
 /// Isentropic head Z·R·T1 · k/(k-1) · (r^((k-1)/k) - 1), J/kg.
 #[inline]
 pub fn isentropic_head<T: Real>(z: T, gas_constant: T, t1: T, ratio: T, k: T) -> T {
+    isentropic_head_from_log(z, gas_constant, t1, T::ln(ratio), k)
+}
+
+/// [`isentropic_head`] from `ln_ratio` = ln r (the same value bit for bit).
+#[inline]
+pub fn isentropic_head_from_log<T: Real>(z: T, gas_constant: T, t1: T, ln_ratio: T, k: T) -> T {
     let m = isentropic_exponent_term(k);
-    z * gas_constant * t1 * (T::exp(m * T::ln(ratio)) - T::ONE) / m
+    z * gas_constant * t1 * (T::exp(m * ln_ratio) - T::ONE) / m
 }
 
 /// Polytropic head Z·R·T1 · n/(n-1) · (r^((n-1)/n) - 1), J/kg.
@@ -51,7 +57,14 @@ pub fn polytropic_head<T: Real>(z: T, gas_constant: T, t1: T, ratio: T, n: T) ->
 /// Isothermal head Z·R·T1 · ln r, J/kg (the ideal limit of compression).
 #[inline]
 pub fn isothermal_head<T: Real>(z: T, gas_constant: T, t1: T, ratio: T) -> T {
-    z * gas_constant * t1 * T::ln(ratio)
+    isothermal_head_from_log(z, gas_constant, t1, T::ln(ratio))
+}
+
+/// [`isothermal_head`] from `ln_ratio` = ln(p2/p1) (a caller that has the
+/// logarithm already; the same value bit for bit).
+#[inline]
+pub fn isothermal_head_from_log<T: Real>(z: T, gas_constant: T, t1: T, ln_ratio: T) -> T {
+    z * gas_constant * t1 * ln_ratio
 }
 
 /// Polytropic exponent n from the measured end states:

@@ -26,7 +26,7 @@
 //!
 //! Qualities follow the dependency rule ([`crate::dependency::cooler_uses`]).
 
-use crate::dependency::{cooler_cp_slots, cooler_uses, slot, Grades, Use};
+use crate::dependency::{cooler_users, slot, Grades, OutputGrades};
 use crate::gas::PropertyInputs;
 use crate::plausibility::Limits;
 use crate::quality::{Measured, Quality};
@@ -340,40 +340,26 @@ pub fn evaluate_cooler_within<T: Real>(
     }
 
     let mut g = Grades::new();
-    g.slot(slot::T2, tin.quality)
-        .slot(slot::GAS_OUT_T, tout.quality)
-        .slot(slot::COOLANT_IN_T, tc.quality)
-        .slot(slot::COOLANT_OUT_T, tco.quality)
-        .slot(slot::P2, pin.quality)
-        .slot(slot::GAS_OUT_P, pout.quality)
-        .slot(slot::FLOW, flow.quality)
-        .slot(slot::COOLANT_FLOW, mc.quality);
-    let u = cooler_uses(cooler_cp_slots(cp_inputs));
-    let settle = |m: &mut Measured<T>, bit: u16, use_: Use| {
-        g.settle_suspect(m, done & bit != 0, suspect & bit != 0, use_);
-    };
-    settle(
-        &mut out.gas_temperature_drop,
-        F_DROP,
-        u.gas_temperature_drop,
-    );
-    settle(&mut out.approach, F_APPROACH, u.approach);
-    settle(&mut out.effectiveness, F_EFF, u.effectiveness);
-    settle(&mut out.heat_duty, F_DUTY, u.heat_duty);
-    settle(&mut out.pressure_drop, F_DP, u.pressure_drop);
-    settle(
-        &mut out.relative_pressure_drop,
-        F_REL_DP,
-        u.relative_pressure_drop,
-    );
-    settle(
-        &mut out.coolant_temperature_rise,
-        F_COOLANT_RISE,
-        u.coolant_temperature_rise,
-    );
-    settle(&mut out.lmtd, F_LMTD, u.lmtd);
-    settle(&mut out.ua, F_UA, u.ua);
-    settle(&mut out.heat_balance_error, F_BALANCE, u.heat_balance_error);
+    g.first_slot(slot::T2, tin.quality)
+        .first_slot(slot::GAS_OUT_T, tout.quality)
+        .first_slot(slot::COOLANT_IN_T, tc.quality)
+        .first_slot(slot::COOLANT_OUT_T, tco.quality)
+        .first_slot(slot::P2, pin.quality)
+        .first_slot(slot::GAS_OUT_P, pout.quality)
+        .first_slot(slot::FLOW, flow.quality)
+        .first_slot(slot::COOLANT_FLOW, mc.quality);
+    // Every output at once: the table's bits (`F_*` = declaration order).
+    let o = OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect);
+    o.settle(&mut out.gas_temperature_drop, F_DROP);
+    o.settle(&mut out.approach, F_APPROACH);
+    o.settle(&mut out.effectiveness, F_EFF);
+    o.settle(&mut out.heat_duty, F_DUTY);
+    o.settle(&mut out.pressure_drop, F_DP);
+    o.settle(&mut out.relative_pressure_drop, F_REL_DP);
+    o.settle(&mut out.coolant_temperature_rise, F_COOLANT_RISE);
+    o.settle(&mut out.lmtd, F_LMTD);
+    o.settle(&mut out.ua, F_UA);
+    o.settle(&mut out.heat_balance_error, F_BALANCE);
     // Set by the train (the next stage's result).
     out.next_stage_temperature_rise = Measured::bad();
     out.condition = condition;

@@ -214,6 +214,31 @@ pub struct CompressorUses {
     pub k: Use,
 }
 
+impl CompressorUses {
+    /// The uses in declaration order (the order of `CompressorResult`'s
+    /// fields and of its `computed` bits).
+    pub const fn in_order(&self) -> [Use; 16] {
+        [
+            self.pressure_ratio,
+            self.isentropic_discharge_temperature,
+            self.temperature_rise,
+            self.isentropic_head,
+            self.polytropic_head,
+            self.isothermal_head,
+            self.actual_work,
+            self.isentropic_efficiency,
+            self.polytropic_efficiency,
+            self.polytropic_exponent,
+            self.mass_flow,
+            self.gas_power,
+            self.work_above_isothermal,
+            self.power_above_isothermal,
+            self.compressibility,
+            self.k,
+        ]
+    }
+}
+
 /// The slots of what a state-function model ([`PropertyInputs::state_functions`])
 /// evaluates at the suction state and p2 only: (isentropic outputs, suction
 /// Z). For a path-mean model, the property and Z slots themselves.
@@ -380,9 +405,27 @@ pub const fn cooler_uses(cp: Slots) -> CoolerUses {
     }
 }
 
+impl CoolerUses {
+    /// The uses in declaration order (the order of `CoolerResult`'s fields).
+    pub const fn in_order(&self) -> [Use; 10] {
+        [
+            self.gas_temperature_drop,
+            self.approach,
+            self.effectiveness,
+            self.heat_duty,
+            self.pressure_drop,
+            self.relative_pressure_drop,
+            self.coolant_temperature_rise,
+            self.lmtd,
+            self.ua,
+            self.heat_balance_error,
+        ]
+    }
+}
+
 /// The cooler's gas cp slots, in cooler terms.
 #[inline]
-pub fn cooler_cp_slots(p: PropertyInputs) -> Slots {
+pub const fn cooler_cp_slots(p: PropertyInputs) -> Slots {
     let mut s = Slots::NONE;
     if p.temperature {
         s = s.or(slot::T2).or(slot::GAS_OUT_T);
@@ -391,6 +434,34 @@ pub fn cooler_cp_slots(p: PropertyInputs) -> Slots {
         s = s.or(slot::P2).or(slot::GAS_OUT_P);
     }
     s
+}
+
+/// [`Users`] of the cooler table for cp depending on (temperature,
+/// pressure): index `temperature as usize + 2 * pressure as usize`; built at
+/// compile time from [`cooler_uses`].
+const COOLER_USERS: [Users; 4] = {
+    const fn users(temperature: bool, pressure: bool) -> Users {
+        let p = PropertyInputs {
+            temperature,
+            pressure,
+            compressibility_from_state: false,
+            state_functions: false,
+        };
+        Users::of(&cooler_uses(cooler_cp_slots(p)).in_order())
+    }
+    [
+        users(false, false),
+        users(true, false),
+        users(false, true),
+        users(true, true),
+    ]
+};
+
+/// The cooler table's [`Users`] for a gas model's property inputs.
+#[inline]
+pub fn cooler_users(p: PropertyInputs) -> &'static Users {
+    let i = usize::from(p.temperature) + 2 * usize::from(p.pressure);
+    COOLER_USERS.get(i).unwrap_or(&COOLER_USERS[3])
 }
 
 /// The qualities of one evaluation's slots and checks, as bit sets in the
@@ -445,6 +516,27 @@ impl Grades {
         }
     }
 
+    /// As [`Grades::slot`] for a slot not set before (no clearing; the
+    /// slots of one evaluation are set once each).
+    #[inline]
+    pub fn first_slot(&mut self, s: Slots, q: Quality) -> &mut Self {
+        let m = s.0 as u32;
+        match q {
+            Quality::Good => {}
+            Quality::Uncertain => self.uncertain |= m,
+            Quality::Bad => self.bad |= m,
+            Quality::NotApplicable => self.not_applicable |= m,
+        }
+        self
+    }
+
+    /// Every slot and check that is not good (one mask: an output that
+    /// touches none of it is good without looking further).
+    #[inline]
+    fn not_good(&self) -> u32 {
+        self.not_applicable | self.bad | self.uncertain
+    }
+
     /// The quality the rule gives an output with use `u`.
     #[inline]
     pub fn of(&self, u: Use) -> Quality {
@@ -464,6 +556,11 @@ impl Grades {
     /// apply, bad if not computed or not finite, else the rule's quality.
     #[inline]
     pub fn settle_computed<T: Real>(&self, m: &mut Measured<T>, computed: bool, u: Use) {
+        // The common case first: a computed, finite value of good uses.
+        if computed && u.0 & self.not_good() == 0 && T::is_finite(m.value) {
+            m.quality = Quality::Good;
+            return;
+        }
         let q = self.of(u);
         *m = if q == Quality::NotApplicable {
             Measured::not_applicable()
@@ -484,6 +581,10 @@ impl Grades {
         suspect: bool,
         u: Use,
     ) {
+        if computed && !suspect && u.0 & self.not_good() == 0 && T::is_finite(m.value) {
+            m.quality = Quality::Good;
+            return;
+        }
         let mut g = *self;
         if suspect {
             g.uncertain |= u.0;
@@ -515,9 +616,167 @@ impl Grades {
     }
 }
 
+/// The dependency table turned around: for each bit of [`Use`] (slot or
+/// check), the outputs that use it (bit i = the i-th output in declaration
+/// order). Built once from the per-output table; grading a whole result is
+/// then one pass over the bits that are not good, not one over every output.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Users(pub [u16; 32]);
+
+impl Users {
+    /// From the uses of up to 16 outputs, in declaration order.
+    // A const fn (the cooler tables are built at compile time) cannot use
+    // `get`/`get_mut`; both indices are checked right before use (i < len,
+    // b < 32), so no panic path survives (the firmware's link-time check).
+    #[allow(clippy::indexing_slicing)]
+    pub const fn of(uses: &[Use]) -> Users {
+        let mut t = [0u16; 32];
+        let mut i = 0;
+        while i < uses.len() && i < 16 {
+            // Over the set bits only (a use has a handful).
+            let mut u = uses[i].0;
+            while u != 0 {
+                let b = u.trailing_zeros() as usize;
+                if b < 32 {
+                    t[b] |= 1 << i;
+                }
+                u &= u - 1;
+            }
+            i += 1;
+        }
+        Users(t)
+    }
+
+    /// The outputs using any bit of `mask`.
+    #[inline]
+    fn spread(&self, mut mask: u32) -> u16 {
+        let mut out = 0;
+        while mask != 0 {
+            let b = mask.trailing_zeros() as usize;
+            out |= self.0.get(b).copied().unwrap_or(u16::MAX);
+            mask &= mask - 1;
+        }
+        out
+    }
+}
+
+/// Per-output grades of one evaluation as bit sets (bit i = i-th output):
+/// the result of the rule ([`Grades::of`]) for every output at once.
+#[derive(Clone, Copy, Debug, Default)]
+pub struct OutputGrades {
+    not_applicable: u16,
+    bad: u16,
+    uncertain: u16,
+}
+
+impl OutputGrades {
+    /// The grades the rule gives each output of `users`, with the outputs
+    /// not in `computed` bad and those in `suspect` at most uncertain (as
+    /// [`Grades::settle_suspect`] for outputs that use at least one slot,
+    /// which every output of the tables does).
+    #[inline]
+    pub fn new(g: &Grades, users: &Users, computed: u16, suspect: u16) -> Self {
+        OutputGrades {
+            not_applicable: users.spread(g.not_applicable),
+            bad: users.spread(g.bad) | !computed,
+            uncertain: users.spread(g.uncertain) | suspect,
+        }
+    }
+
+    /// Settles output `bit` (as [`Grades::settle_suspect`]): not applicable
+    /// if it uses a slot that does not apply; bad if not computed, not finite
+    /// or of bad uses; else uncertain or good as its uses and check say.
+    #[inline]
+    pub fn settle<T: Real>(&self, m: &mut Measured<T>, bit: u16) {
+        let not_good = self.not_applicable | self.bad | self.uncertain;
+        let finite = T::is_finite(m.value);
+        if not_good & bit == 0 && finite {
+            m.quality = Quality::Good;
+        } else if self.not_applicable & bit != 0 {
+            *m = Measured::not_applicable();
+        } else if self.bad & bit != 0 || !finite {
+            *m = Measured::bad();
+        } else {
+            m.quality = Quality::Uncertain;
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Consistency check (the project's own rule, two implementations):
+    /// grading all outputs at once from the turned-around table gives what
+    /// the per-output rule gives, for seeded random grades, computed and
+    /// suspect sets and values (NaN included), on every compressor and
+    /// cooler table.
+    #[test]
+    fn output_grades_equal_the_per_output_rule() {
+        let mut seed = 0x2545_f491_u32;
+        let mut next = || {
+            seed ^= seed << 13;
+            seed ^= seed >> 17;
+            seed ^= seed << 5;
+            seed
+        };
+        let q = |r: u32| match r % 4 {
+            0 => Quality::Good,
+            1 => Quality::Uncertain,
+            2 => Quality::Bad,
+            _ => Quality::NotApplicable,
+        };
+        let mut tables: [[Use; 16]; 8] = [[Use(0); 16]; 8];
+        for (n, t) in tables.iter_mut().enumerate() {
+            let p = PropertyInputs {
+                temperature: n & 1 != 0,
+                pressure: n & 2 != 0,
+                compressibility_from_state: n & 4 != 0,
+                state_functions: n & 4 != 0,
+            };
+            let (props, z) = property_slots(p, true);
+            let (iso, z1) = suction_slots(p, props, z);
+            *t = compressor_uses(props, z, iso, z1, p.compressibility_from_state).in_order();
+        }
+        let cooler = cooler_uses(slot::T2.or(slot::GAS_OUT_T)).in_order();
+        for case in 0..4_000 {
+            let uses: &[Use] = if case % 9 == 8 {
+                &cooler
+            } else {
+                &tables[case % 8]
+            };
+            let mut g = Grades::new();
+            for s in 0..slot::COUNT {
+                if next() % 3 == 0 {
+                    g.slot(Slots(1 << s), q(next()));
+                }
+            }
+            for c in 0..check::COUNT {
+                if next() % 4 == 0 {
+                    g.check(Checks(1 << c), q(next() % 3));
+                }
+            }
+            let (done, suspect) = ((next() & 0xffff) as u16, (next() & next() & 0xffff) as u16);
+            let users = Users::of(uses);
+            let o = OutputGrades::new(&g, &users, done, suspect);
+            for (i, u) in uses.iter().enumerate() {
+                let v = match next() % 5 {
+                    0 => f32::NAN,
+                    1 => f32::INFINITY,
+                    _ => (next() % 1000) as f32 - 500.0,
+                };
+                let bit = 1 << i;
+                let (mut a, mut b) = (Measured::new(v, q(next())), Measured::new(v, q(next())));
+                g.settle_suspect(&mut a, done & bit != 0, suspect & bit != 0, *u);
+                o.settle(&mut b, bit);
+                assert_eq!(
+                    (a.value.to_bits(), a.quality),
+                    (b.value.to_bits(), b.quality),
+                    "case {case} output {i}"
+                );
+            }
+        }
+    }
 
     #[test]
     fn the_rule_takes_the_worst_of_exactly_the_uses() {

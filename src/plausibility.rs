@@ -256,11 +256,12 @@ impl<T: Real> Limits<T> {
 /// otherwise, including not-applicable).
 #[inline]
 fn within<T: Real>(m: Measured<T>, lo: T, hi: T) -> Measured<T> {
+    // One test per condition (this runs for every reading of every scan):
+    // a value inside [lo, hi] with a usable quality is kept as it is.
     if m.quality == Quality::NotApplicable {
-        return Measured::not_applicable();
-    }
-    if T::is_finite(m.value) && m.value >= lo && m.value <= hi {
-        Measured::derived(m.value, m.quality)
+        Measured::not_applicable()
+    } else if m.value >= lo && m.value <= hi && m.quality != Quality::Bad && T::is_finite(m.value) {
+        m
     } else {
         Measured::bad()
     }

@@ -8,7 +8,7 @@
 //! p_i = p_suction · r^(i/N). The isothermal work Z·R·T1·ln r is the limit as
 //! N grows; one uncooled isentropic stage is the other extreme.
 
-use crate::compression::{isentropic_head, isothermal_head};
+use crate::compression::{isentropic_head, isentropic_head_from_log, isothermal_head_from_log};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 
@@ -23,8 +23,21 @@ pub fn equal_ratio_interstage_pressure<T: Real>(
 ) -> T {
     // Divide in T: an f64 division is soft-float (about 120 instructions) on
     // Cortex-M4F, and the f32 quotient of two small integers is correctly rounded.
+    equal_ratio_interstage_pressure_from_log(p_suction, T::ln(overall_ratio), stages, i)
+}
+
+/// [`equal_ratio_interstage_pressure`] from `ln_overall` = ln(overall
+/// ratio), for a caller that evaluates every interstage (the same value bit
+/// for bit, one logarithm for all).
+#[inline]
+pub fn equal_ratio_interstage_pressure_from_log<T: Real>(
+    p_suction: T,
+    ln_overall: T,
+    stages: u32,
+    i: u32,
+) -> T {
     let f = T::of(f64::from(i) + 1.0) / T::of(f64::from(stages));
-    p_suction * T::exp(f * T::ln(overall_ratio))
+    p_suction * T::exp(f * ln_overall)
 }
 
 /// Interstage pressure of one compressor stage against the equal-ratio
@@ -110,10 +123,24 @@ pub fn ideal_references<T: Real>(
     k: T,
     stages: u32,
 ) -> (T, T, T) {
-    let iso = isothermal_head(z, gas_constant, t1, overall_ratio);
-    let single = isentropic_head(z, gas_constant, t1, overall_ratio, k);
+    ideal_references_from_log(z, gas_constant, t1, T::ln(overall_ratio), k, stages)
+}
+
+/// [`ideal_references`] from `ln_overall` = ln(overall ratio) (the same
+/// values bit for bit; the train has the logarithm already).
+#[inline]
+pub fn ideal_references_from_log<T: Real>(
+    z: T,
+    gas_constant: T,
+    t1: T,
+    ln_overall: T,
+    k: T,
+    stages: u32,
+) -> (T, T, T) {
+    let iso = isothermal_head_from_log(z, gas_constant, t1, ln_overall);
+    let single = isentropic_head_from_log(z, gas_constant, t1, ln_overall, k);
     let s = T::of(stages as f64);
-    let stage_ratio = T::exp(T::ln(overall_ratio) / s);
+    let stage_ratio = T::exp(ln_overall / s);
     let staged = s * isentropic_head(z, gas_constant, t1, stage_ratio, k);
     (iso, single, staged)
 }

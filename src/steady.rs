@@ -12,9 +12,9 @@
 //! identification test; see e.g. Cao & Rhinehart, "An efficient method for
 //! on-line identification of steady state", J. Process Control 5 (1995),
 //! for the family of such tests). Each window keeps its minimum and maximum
-//! as values arrive and rescans (W comparisons) only when the value leaving
-//! the window was one of them and the new value does not replace it;
-//! otherwise a scan costs a few comparisons per window.
+//! and the slots holding them as values arrive, and rescans one extreme (W
+//! comparisons) only when its slot is overwritten and the new value does not
+//! replace it; otherwise a scan costs a few comparisons per window.
 
 use crate::error::{check_positive, ConfigError};
 use crate::quality::Measured;
@@ -82,21 +82,35 @@ impl<T: Real> SteadyState<T> {
     }
 }
 
-/// A rolling window that tracks its minimum and maximum.
+/// A rolling window that tracks its minimum and maximum and a ring slot
+/// holding each: when the value leaving the window is in the slot of an
+/// extreme, only that extreme is rescanned (a trend costs one rescan of one
+/// extreme per scan, not two).
 #[derive(Clone, Debug)]
 struct RangeWindow<T, const W: usize> {
     values: Window<T, W>,
     /// Minimum and maximum of `values` (0 while empty).
     lo: T,
     hi: T,
+    /// A ring slot holding `lo` and one holding `hi`.
+    lo_slot: u16,
+    hi_slot: u16,
 }
 
 impl<T: Real, const W: usize> RangeWindow<T, W> {
     const fn new() -> Self {
+        const {
+            assert!(
+                W <= 65_535,
+                "a steady-state window holds at most 65535 scans"
+            )
+        };
         RangeWindow {
             values: Window::filled_with(T::ZERO),
             lo: T::ZERO,
             hi: T::ZERO,
+            lo_slot: 0,
+            hi_slot: 0,
         }
     }
 
@@ -104,38 +118,50 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
         self.values.clear();
         self.lo = T::ZERO;
         self.hi = T::ZERO;
+        self.lo_slot = 0;
+        self.hi_slot = 0;
     }
 
     fn len(&self) -> usize {
         self.values.len()
     }
 
-    /// Adds a finite value. The extremes equal a full rescan's: a rescan
-    /// happens only when the value leaving was an extreme and the new value
-    /// does not replace it (a new value at or beyond an extreme is the new
-    /// extreme whatever left).
+    /// Adds a finite value. The extremes equal a full rescan's: an extreme is
+    /// rescanned only when its slot is overwritten and the new value does not
+    /// reach it (a new value at or beyond an extreme is the new extreme
+    /// whatever left).
     fn write(&mut self, v: T) {
+        // W <= 65535 (asserted in `new`), so a slot fits in u16.
+        let slot = u16::try_from(self.values.next_slot()).unwrap_or(0);
         let first = self.values.len() == 0;
-        match self.values.push(v) {
-            // An extreme left and the new value does not take its place.
-            Some(old) if (old == self.lo && v > old) || (old == self.hi && v < old) => {
-                let (lo, hi) = extremes(self.values.as_slice());
-                self.lo = lo;
-                self.hi = hi;
-            }
-            _ if first => {
-                self.lo = v;
-                self.hi = v;
-            }
-            _ => {
-                if v < self.lo {
-                    self.lo = v;
-                }
-                if v > self.hi {
-                    self.hi = v;
-                }
+        let evicted = self.values.push(v).is_some();
+        if first {
+            (self.lo, self.hi, self.lo_slot, self.hi_slot) = (v, v, slot, slot);
+            return;
+        }
+        if v <= self.lo {
+            (self.lo, self.lo_slot) = (v, slot);
+        } else if evicted && slot == self.lo_slot {
+            (self.lo, self.lo_slot) = self.rescan(|a, b| a < b);
+        }
+        if v >= self.hi {
+            (self.hi, self.hi_slot) = (v, slot);
+        } else if evicted && slot == self.hi_slot {
+            (self.hi, self.hi_slot) = self.rescan(|a, b| a > b);
+        }
+    }
+
+    /// The extreme of the window by `beyond` and its slot (the first slot
+    /// on a tie).
+    fn rescan(&self, beyond: impl Fn(T, T) -> bool) -> (T, u16) {
+        let values = self.values.as_slice();
+        let mut best = (values.first().copied().unwrap_or(T::ZERO), 0);
+        for (i, &x) in values.iter().enumerate().skip(1) {
+            if beyond(x, best.0) {
+                best = (x, i);
             }
         }
+        (best.0, u16::try_from(best.1).unwrap_or(0))
     }
 
     /// Spread (max - min) and largest magnitude.
@@ -159,6 +185,7 @@ impl<T: Real, const W: usize> Default for SteadyStateDetector<T, W> {
 }
 
 /// Minimum and maximum of `values` (0, 0 when empty).
+#[cfg(test)]
 fn extremes<T: Real>(values: &[T]) -> (T, T) {
     let mut lo = T::ZERO;
     let mut hi = T::ZERO;
@@ -275,9 +302,15 @@ mod tests {
         // leave the window often; clears in between.
         let mut r = RangeWindow::<f32, 5>::new();
         let mut seed = 12_345_u32;
-        for i in 0..2_000 {
+        for i in 0..4_000 {
             seed = seed.wrapping_mul(1_103_515_245).wrapping_add(12_345);
-            let v = ((seed >> 16) % 7) as f32 - 3.0;
+            // Random values from a small set, then a rising and a falling
+            // trend (an extreme leaves at every scan).
+            let v = match (i / 500) % 4 {
+                1 => i as f32 * 0.25,
+                3 => -(i as f32) * 0.5,
+                _ => ((seed >> 16) % 7) as f32 - 3.0,
+            };
             if i % 301 == 300 {
                 r.clear();
             }

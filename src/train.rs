@@ -13,12 +13,11 @@ use crate::plausibility::{compressibility, efficiency_allowance, Limits};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::scan::Scan;
-use crate::stage::{
-    evaluate_compressor_within, evaluate_pump_within, CompressorInputs, CompressorResult,
-    PumpResult,
-};
+use crate::stage::compressor::{evaluate_compressor_tabled, StageUses};
+use crate::stage::{evaluate_pump_within, CompressorInputs, CompressorResult, PumpResult};
 use crate::staging::{
-    equal_ratio_interstage_pressure, ideal_references, InterstagePressure, Sum, TrainTotals,
+    equal_ratio_interstage_pressure_from_log, ideal_references_from_log, InterstagePressure, Sum,
+    TrainTotals,
 };
 use crate::steady::{SteadyState, SteadyStateConfig, SteadyStateDetector};
 use crate::units::{Kelvin, PressureAbs};
@@ -152,6 +151,9 @@ pub struct Train<T, G, const N: usize, const W: usize> {
     /// reading uses), for the totals.
     configured_z: T,
     compressor_stages: u8,
+    /// The compressor stages' dependency tables for the gas model's
+    /// property inputs (rebuilt if a replaced model's inputs differ).
+    stage_uses: StageUses,
     detectors: [SteadyStateDetector<T, W>; N],
     snapshot: Snapshot<T, N>,
 }
@@ -330,11 +332,13 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             .gas
             .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
             .z;
+        let stage_uses = StageUses::new(config.gas.property_inputs());
         Ok(Train {
             config,
             limits,
             configured_z,
             compressor_stages,
+            stage_uses,
             detectors: core::array::from_fn(|_| SteadyStateDetector::new()),
             snapshot: Snapshot {
                 stages,
@@ -415,6 +419,10 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     // locals share one frame and the stack peak is their sum, not their max.
     #[inline(never)]
     fn evaluate_stages(&mut self, scan: &Scan<T, N>, si: &[StageSi<T>; N]) {
+        let property_inputs = self.config.gas.property_inputs();
+        if property_inputs != self.stage_uses.inputs {
+            self.stage_uses = StageUses::new(property_inputs);
+        }
         let parts = self
             .config
             .stages
@@ -440,7 +448,13 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                     // `Train::new` set this slot's variant from the same
                     // (immutable) configuration, so it is a compressor.
                     if let StageWork::Compressor(c) = &mut out.work {
-                        evaluate_compressor_within(&self.config.gas, &inputs, &self.limits, c);
+                        evaluate_compressor_tabled(
+                            &self.config.gas,
+                            &inputs,
+                            &self.limits,
+                            Some(&self.stage_uses),
+                            c,
+                        );
                     }
                     out.steady_state = detector.update(
                         &self.config.steady_state,
@@ -628,6 +642,13 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         } else {
             q_ratio
         };
+        // ln of the overall ratio once, for the interstage optimum and the
+        // ideal references.
+        let ln_overall = if q_ratio.is_usable() && ratio > T::ONE {
+            T::ln(ratio)
+        } else {
+            T::ZERO
+        };
         // Interstage entries exist for every compressor stage but the last.
         for (i, (s, out)) in si
             .iter()
@@ -642,8 +663,12 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             };
             if q_ratio.is_usable() && ratio > T::ONE {
                 let idx = u32::try_from(i).unwrap_or(u32::MAX);
-                let opt =
-                    equal_ratio_interstage_pressure(first.p1.value, ratio, u32::from(nc), idx);
+                let opt = equal_ratio_interstage_pressure_from_log(
+                    first.p1.value,
+                    ln_overall,
+                    u32::from(nc),
+                    idx,
+                );
                 entry.optimum = Measured::derived(opt, q_ratio);
                 if s.p2.quality.is_usable() {
                     entry.deviation =
@@ -674,11 +699,11 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             .config
             .gas
             .path(first.p1.value, t1, last_c.p2.value, t1, Some(z_mean));
-        let (iso, single, staged) = ideal_references(
+        let (iso, single, staged) = ideal_references_from_log(
             props.z,
             props.gas_constant,
             t1,
-            ratio,
+            ln_overall,
             props.k,
             u32::from(nc),
         );

@@ -63,6 +63,10 @@ pub struct IdealGas<T> {
     /// cp model, stored per kg: `ConstantK(k)` or polynomial in J/(kg K).
     heat_capacity: HeatCapacity<T>,
     compressibility: T,
+    /// With constant k: cp = k·R/(k−1) and (k−1)/k, computed once here (not
+    /// every scan); zero for a cp polynomial.
+    constant_cp: T,
+    constant_exponent_term: T,
     /// K = Tc³/(limit·Pc): uncertain where p·K > T³; 0 if the critical
     /// point is not known.
     reduced_limit: T,
@@ -146,10 +150,18 @@ impl<T: Real> IdealGas<T> {
                 }
             }
         };
+        let (constant_cp, constant_exponent_term) = match heat_capacity {
+            HeatCapacity::ConstantK(k) => {
+                (k * gas_constant / (k - T::ONE), isentropic_exponent_term(k))
+            }
+            HeatCapacity::Polynomial { .. } => (T::ZERO, T::ZERO),
+        };
         Ok(IdealGas {
             gas_constant,
             heat_capacity,
             compressibility,
+            constant_cp,
+            constant_exponent_term,
             reduced_limit: T::ZERO,
         })
     }
@@ -189,8 +201,8 @@ impl<T: Real> IdealGas<T> {
     fn integrals(&self, t: T) -> (T, T, T) {
         let t0 = T::of(REFERENCE_TEMPERATURE);
         match self.heat_capacity {
-            HeatCapacity::ConstantK(k) => {
-                let cp = k * self.gas_constant / (k - T::ONE);
+            HeatCapacity::ConstantK(_) => {
+                let cp = self.constant_cp;
                 (cp * (t - t0), cp * T::ln(t / t0), cp)
             }
             HeatCapacity::Polynomial {
@@ -259,7 +271,7 @@ impl<T: Real> IdealGas<T> {
     /// Mean cp over [t1, t2], J/(kg K).
     pub fn mean_cp(&self, t1: T, t2: T) -> T {
         match self.heat_capacity {
-            HeatCapacity::ConstantK(k) => k * self.gas_constant / (k - T::ONE),
+            HeatCapacity::ConstantK(_) => self.constant_cp,
             HeatCapacity::Polynomial {
                 coefficients: c,
                 t_min,
@@ -357,7 +369,7 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
         let ln_r = T::ln(p2 / inlet.pressure);
         let t1 = inlet.temperature;
         let mut t = match self.heat_capacity {
-            HeatCapacity::ConstantK(k) => t1 * T::exp(isentropic_exponent_term(k) * ln_r),
+            HeatCapacity::ConstantK(_) => t1 * T::exp(self.constant_exponent_term * ln_r),
             HeatCapacity::Polynomial { .. } => {
                 let cp = self.mean_cp(t1, t1);
                 t1 * T::exp(self.gas_constant / cp * ln_r)
@@ -446,7 +458,10 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
         z_supplied: Option<T>,
     ) -> CompressionStates<T> {
         let props = self.path(p1, t1, p2, t2.unwrap_or(t1), z_supplied);
-        let m_k = isentropic_exponent_term(props.k);
+        let m_k = match self.heat_capacity {
+            HeatCapacity::ConstantK(_) => self.constant_exponent_term,
+            HeatCapacity::Polynomial { .. } => isentropic_exponent_term(props.k),
+        };
         let zr = props.z * props.gas_constant;
         let zrt1 = zr * t1;
         let t2s_over_t1 = T::exp(m_k * ln_ratio);

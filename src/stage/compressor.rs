@@ -13,11 +13,12 @@
 //! Cost per call (ideal gas): two logarithms, one exponential, about a dozen
 //! divisions; Peng–Robinson: see the README's device figures.
 
-use crate::compression::isothermal_head;
+use crate::compression::isothermal_head_from_log;
 use crate::dependency::{
     check, compressor_uses, property_slots, slot, suction_slots, CompressorUses, Grades,
+    OutputGrades, Users,
 };
-use crate::gas::{GasModel, Validity};
+use crate::gas::{GasModel, PropertyInputs, Validity};
 use crate::plausibility::{efficiency_grade, Limits};
 use crate::polytropic::{schultz, PolytropicMethod};
 use crate::quality::{Measured, Quality};
@@ -203,6 +204,51 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     limits: &Limits<T>,
     out: &mut CompressorResult<T>,
 ) {
+    evaluate_compressor_tabled(gas, inp, limits, None, out);
+}
+
+/// The dependency table of a compressor stage with a measured discharge
+/// temperature for one gas model's [`PropertyInputs`]: built once (a train
+/// keeps it) instead of every scan.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(crate) struct StageUses {
+    /// What the table was built for.
+    pub(crate) inputs: PropertyInputs,
+    /// The table turned around ([`Users`]).
+    users: Users,
+}
+
+impl StageUses {
+    /// The table for a model with `inputs`.
+    pub(crate) fn new(inputs: PropertyInputs) -> Self {
+        StageUses {
+            inputs,
+            users: Users::of(&Self::uses(inputs, false).in_order()),
+        }
+    }
+
+    fn uses(inputs: PropertyInputs, rating_point: bool) -> CompressorUses {
+        let (props_slots, z_slots) = property_slots(inputs, !rating_point);
+        let (iso_slots, z1_slots) = suction_slots(inputs, props_slots, z_slots);
+        compressor_uses(
+            props_slots,
+            z_slots,
+            iso_slots,
+            z1_slots,
+            inputs.compressibility_from_state,
+        )
+    }
+}
+
+/// [`evaluate_compressor_within`] with the dependency tables built
+/// beforehand (`tables` for `gas.property_inputs()`; `None` builds them).
+pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
+    gas: &G,
+    inp: &CompressorInputs<T>,
+    limits: &Limits<T>,
+    tables: Option<&StageUses>,
+    out: &mut CompressorResult<T>,
+) {
     // Which outputs were computed (bit i: the i-th field in declaration
     // order); the rest are bad or not applicable after `settle_compressor`.
     let mut done: u16 = 0;
@@ -257,11 +303,18 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     let p2_path = if p_ok { p2.value } else { p1_path };
     // Suction, isentropic and (with a usable T2) discharge states in one
     // call.
+    // ln(p2/p1) once: compressing, the path pressures are the measured ones
+    // and their ratio is `ratio` itself.
+    let ln_path = if compressing {
+        ln_r
+    } else {
+        T::ln(p2_path / p1_path)
+    };
     let mut cs = gas.compression(
         p1_path,
         t1_path,
         p2_path,
-        T::ln(p2_path / p1_path),
+        ln_path,
         if t2_ok { Some(t2.value) } else { None },
         z_supplied,
     );
@@ -341,7 +394,7 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     }
     if compressing && iso_ok {
         let hs = cs.isentropic_enthalpy_rise;
-        let h_iso = isothermal_head(cs.suction_z, gas.gas_constant(), t1.value, ratio);
+        let h_iso = isothermal_head_from_log(cs.suction_z, gas.gas_constant(), t1.value, ln_r);
         if t1_ok {
             done |= 1 << 1;
             out.isentropic_discharge_temperature.value = cs.isentropic_temperature;
@@ -383,12 +436,12 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
 
     // Qualities: the dependency rule over the slots and checks.
     let mut g = Grades::new();
-    g.slot(slot::P1, p1.quality)
-        .slot(slot::T1, t1.quality)
-        .slot(slot::P2, p2.quality)
-        .slot(slot::T2, t2.quality)
-        .slot(slot::FLOW, flow.quality)
-        .slot(slot::Z, q_z);
+    g.first_slot(slot::P1, p1.quality)
+        .first_slot(slot::T1, t1.quality)
+        .first_slot(slot::P2, p2.quality)
+        .first_slot(slot::T2, t2.quality)
+        .first_slot(slot::FLOW, flow.quality)
+        .first_slot(slot::Z, q_z);
     if checks.ratio_out_of_range {
         g.check(check::RATIO, Quality::Bad);
     }
@@ -415,21 +468,15 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     if checks.stationary {
         g.check(check::RUNNING, Quality::Uncertain);
     }
-    let inputs = gas.property_inputs();
-    let (props_slots, z_slots) = property_slots(inputs, !rating_point);
-    let (iso_slots, z1_slots) = suction_slots(inputs, props_slots, z_slots);
-    settle_compressor(
-        &g,
-        &compressor_uses(
-            props_slots,
-            z_slots,
-            iso_slots,
-            z1_slots,
-            inputs.compressibility_from_state,
-        ),
-        done,
-        out,
-    );
+    // The table kept for measured stages; a rating-point query (rare) or a
+    // caller without one builds its own (in a frame of its own: not on the
+    // stack of every call).
+    match tables {
+        Some(t) if !rating_point => {
+            settle_compressor_outputs(&OutputGrades::new(&g, &t.users, done, 0), out);
+        }
+        _ => settle_compressor_untabled(&g, gas.property_inputs(), rating_point, done, out),
+    }
     out.condition = checks.condition(p1, t1, p2, t2, rating_point);
 }
 
@@ -486,78 +533,77 @@ impl CompressorChecks {
     }
 }
 
+/// Every output's quality from the per-output grades (bit i = the i-th
+/// field, the order of [`CompressorUses::in_order`] and of `done`).
+fn settle_compressor_outputs<T: Real>(g: &OutputGrades, o: &mut CompressorResult<T>) {
+    g.settle(&mut o.pressure_ratio, 1 << 0);
+    g.settle(&mut o.isentropic_discharge_temperature, 1 << 1);
+    g.settle(&mut o.temperature_rise, 1 << 2);
+    g.settle(&mut o.isentropic_head, 1 << 3);
+    g.settle(&mut o.polytropic_head, 1 << 4);
+    g.settle(&mut o.isothermal_head, 1 << 5);
+    g.settle(&mut o.actual_work, 1 << 6);
+    g.settle(&mut o.isentropic_efficiency, 1 << 7);
+    g.settle(&mut o.polytropic_efficiency, 1 << 8);
+    g.settle(&mut o.polytropic_exponent, 1 << 9);
+    g.settle(&mut o.mass_flow, 1 << 10);
+    g.settle(&mut o.gas_power, 1 << 11);
+    g.settle(&mut o.work_above_isothermal, 1 << 12);
+    g.settle(&mut o.power_above_isothermal, 1 << 13);
+    g.settle(&mut o.compressibility, 1 << 14);
+    g.settle(&mut o.k, 1 << 15);
+}
+
+/// [`settle_compressor`] building the table first.
+#[inline(never)]
+fn settle_compressor_untabled<T: Real>(
+    g: &Grades,
+    inputs: PropertyInputs,
+    rating_point: bool,
+    done: u16,
+    o: &mut CompressorResult<T>,
+) {
+    settle_compressor(g, &StageUses::uses(inputs, rating_point), done, o);
+}
+
 /// Every output's quality from the table ([`crate::dependency`]); `done`
-/// has bit i set for each computed field (declaration order).
+/// has bit i set for each computed field (declaration order). A loop, not
+/// sixteen inlined copies: this is the path of a caller without a train's
+/// table, kept small in flash.
 fn settle_compressor<T: Real>(
     g: &Grades,
     u: &CompressorUses,
     done: u16,
     o: &mut CompressorResult<T>,
 ) {
-    g.settle_computed(
-        &mut o.pressure_ratio,
-        done & (1 << 0) != 0,
-        u.pressure_ratio,
-    );
-    g.settle_computed(
-        &mut o.isentropic_discharge_temperature,
-        done & (1 << 1) != 0,
-        u.isentropic_discharge_temperature,
-    );
-    g.settle_computed(
-        &mut o.temperature_rise,
-        done & (1 << 2) != 0,
-        u.temperature_rise,
-    );
-    g.settle_computed(
-        &mut o.isentropic_head,
-        done & (1 << 3) != 0,
-        u.isentropic_head,
-    );
-    g.settle_computed(
-        &mut o.polytropic_head,
-        done & (1 << 4) != 0,
-        u.polytropic_head,
-    );
-    g.settle_computed(
-        &mut o.isothermal_head,
-        done & (1 << 5) != 0,
-        u.isothermal_head,
-    );
-    g.settle_computed(&mut o.actual_work, done & (1 << 6) != 0, u.actual_work);
-    g.settle_computed(
-        &mut o.isentropic_efficiency,
-        done & (1 << 7) != 0,
-        u.isentropic_efficiency,
-    );
-    g.settle_computed(
-        &mut o.polytropic_efficiency,
-        done & (1 << 8) != 0,
-        u.polytropic_efficiency,
-    );
-    g.settle_computed(
-        &mut o.polytropic_exponent,
-        done & (1 << 9) != 0,
-        u.polytropic_exponent,
-    );
-    g.settle_computed(&mut o.mass_flow, done & (1 << 10) != 0, u.mass_flow);
-    g.settle_computed(&mut o.gas_power, done & (1 << 11) != 0, u.gas_power);
-    g.settle_computed(
-        &mut o.work_above_isothermal,
-        done & (1 << 12) != 0,
-        u.work_above_isothermal,
-    );
-    g.settle_computed(
-        &mut o.power_above_isothermal,
-        done & (1 << 13) != 0,
-        u.power_above_isothermal,
-    );
-    g.settle_computed(
-        &mut o.compressibility,
-        done & (1 << 14) != 0,
-        u.compressibility,
-    );
-    g.settle_computed(&mut o.k, done & (1 << 15) != 0, u.k);
+    for (i, (m, use_)) in o.outputs_mut().into_iter().zip(u.in_order()).enumerate() {
+        g.settle_computed(m, done & (1 << i) != 0, use_);
+    }
+}
+
+impl<T> CompressorResult<T> {
+    /// The sixteen graded outputs in declaration order (the order of
+    /// [`CompressorUses::in_order`] and of the `done` bits).
+    fn outputs_mut(&mut self) -> [&mut Measured<T>; 16] {
+        [
+            &mut self.pressure_ratio,
+            &mut self.isentropic_discharge_temperature,
+            &mut self.temperature_rise,
+            &mut self.isentropic_head,
+            &mut self.polytropic_head,
+            &mut self.isothermal_head,
+            &mut self.actual_work,
+            &mut self.isentropic_efficiency,
+            &mut self.polytropic_efficiency,
+            &mut self.polytropic_exponent,
+            &mut self.mass_flow,
+            &mut self.gas_power,
+            &mut self.work_above_isothermal,
+            &mut self.power_above_isothermal,
+            &mut self.compressibility,
+            &mut self.k,
+        ]
+    }
 }
 
 #[cfg(test)]
