@@ -13,7 +13,6 @@
 //! Cost per call (ideal gas): two logarithms, one exponential, about a dozen
 //! divisions; Peng–Robinson: see the README's device figures.
 
-use crate::compression::isothermal_head;
 use crate::dependency::{
     check, compressor_uses, property_slots, slot, suction_slots, CompressorUses, Grades,
 };
@@ -245,7 +244,6 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     let fit = gas.fit_quality(t1_path, t2_path);
     let ratio_ok = p_ok && T::is_finite(ratio);
     let compressing = ratio_ok && ratio > T::ONE;
-    let ln_r = if compressing { T::ln(ratio) } else { T::ZERO };
     // Without usable pressures the states are evaluated at a nominal
     // pressure, as for T1 (a pressure-independent model's enthalpy rise is
     // then still good; the rule marks what used the pressures).
@@ -255,13 +253,18 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
         T::of(101_325.0)
     };
     let p2_path = if p_ok { p2.value } else { p1_path };
+    // One logarithm of the ratio for the model, the polytropic method and
+    // the isothermal head (compressing implies usable pressures, so the
+    // path ratio is the measured one).
+    let ln_path = T::ln(p2_path / p1_path);
+    let ln_r = if compressing { ln_path } else { T::ZERO };
     // Suction, isentropic and (with a usable T2) discharge states in one
     // call.
     let mut cs = gas.compression(
         p1_path,
         t1_path,
         p2_path,
-        T::ln(p2_path / p1_path),
+        ln_path,
         if t2_ok { Some(t2.value) } else { None },
         z_supplied,
     );
@@ -341,7 +344,9 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     }
     if compressing && iso_ok {
         let hs = cs.isentropic_enthalpy_rise;
-        let h_iso = isothermal_head(cs.suction_z, gas.gas_constant(), t1.value, ratio);
+        // Z·R·T1·ln r ([`crate::compression::isothermal_head`]) with the
+        // logarithm above.
+        let h_iso = cs.suction_z * gas.gas_constant() * t1.value * ln_r;
         if t1_ok {
             done |= 1 << 1;
             out.isentropic_discharge_temperature.value = cs.isentropic_temperature;
