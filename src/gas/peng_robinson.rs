@@ -233,15 +233,12 @@ struct Core<T> {
     /// J/(mol K)
     s: T,
     cp: T,
-    cv: T,
     /// m³/mol
     v: T,
     /// (∂P/∂v)_T, Pa mol/m³
     dp_dv: T,
     /// (∂P/∂T)_v, Pa/K
     dp_dt: T,
-    /// Ideal-gas cp0, J/(mol K).
-    cp0: T,
     /// ln(T/T0) (T0 the reference temperature), -.
     ln_t: T,
     /// ln(p0/p) (p0 the reference pressure), -.
@@ -257,11 +254,9 @@ impl<T: Real> Core<T> {
             h: T::ZERO,
             s: T::ZERO,
             cp: T::ONE,
-            cv: T::ONE,
             v: T::ONE,
             dp_dv: -T::ONE,
             dp_dt: T::ZERO,
-            cp0: T::ONE,
             ln_t: T::ZERO,
             ln_p: T::ZERO,
             validity: Validity::INVALID,
@@ -499,7 +494,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
     }
 
     /// One (p, T) evaluation. `ENTROPY = false` skips the entropy (s = 0);
-    /// `DERIVATIVES = false` skips cp, cv, (∂P/∂v)_T and (∂P/∂T)_v (left
+    /// `DERIVATIVES = false` skips cp, (∂P/∂v)_T and (∂P/∂T)_v (left
     /// at placeholder values): Z, v and h only. `ln_t` = ln(T/T0) and
     /// `ln_p` = ln(p0/p) when the caller already knows them (the states of
     /// one compression share them), else computed here. Out of line: one
@@ -613,27 +608,25 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         } else {
             T::ZERO
         };
-        let (cp, cv, dp_dv, dp_dt) = if DERIVATIVES {
+        let (cp, dp_dv, dp_dt) = if DERIVATIVES {
             let d2a = T::of(0.25) * a1 * inv_sqrt_t * inv_t;
             let cv = cp0 - r + t * d2a * k;
             let inv_vb = T::ONE / (v - b);
             let inv_den = T::ONE / (v * v + T::of(2.0) * b * v - b * b);
             let dp_dt = r * inv_vb - da * inv_den;
             let dp_dv = -rt * inv_vb * inv_vb + T::of(2.0) * a * (v + b) * inv_den * inv_den;
-            (cv - t * dp_dt * dp_dt / dp_dv, cv, dp_dv, dp_dt)
+            (cv - t * dp_dt * dp_dt / dp_dv, dp_dv, dp_dt)
         } else {
-            (T::ONE, T::ONE, -T::ONE, T::ZERO)
+            (T::ONE, -T::ONE, T::ZERO)
         };
         Core {
             z,
             h,
             s,
             cp,
-            cv,
             v,
             dp_dv,
             dp_dt,
-            cp0,
             ln_t,
             ln_p,
             validity,
@@ -730,7 +723,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         let m1 = isentropic_temperature_exponent(p1, c1);
         let y1 = m1 * ln_ratio;
         let t_a = t1 * (T::ONE + y1 * (T::ONE + T::of(0.5) * y1));
-        let m_a = m1 * c1.cp / (c1.cp + self.ideal_cp(t_a) - c1.cp0);
+        let m_a = m1 * c1.cp / (c1.cp + self.ideal_cp(t_a) - self.ideal_cp(t1));
         // Inside the entropy match's bracket [0.3, 4]·T1.
         let y = T::clamp(T::of(0.5) * (m1 + m_a) * ln_ratio, T::of(-1.2), T::of(1.38));
         let y = if T::is_finite(y) { y } else { y1 };
@@ -748,7 +741,9 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         if c.validity == Validity::INVALID {
             return GasState::invalid(p, t);
         }
-        let w2 = -(c.v * c.v / self.molar_mass) * (c.cp / c.cv) * c.dp_dv;
+        // cv = cp + T·(∂P/∂T)_v²/(∂P/∂v)_T.
+        let cv = c.cp + t * c.dp_dt * c.dp_dt / c.dp_dv;
+        let w2 = -(c.v * c.v / self.molar_mass) * (c.cp / cv) * c.dp_dv;
         let out = GasState {
             pressure: p,
             temperature: t,
@@ -860,12 +855,6 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
                 ..CompressionStates::invalid()
             };
         }
-        let c2 = t2.map(|t| {
-            (
-                t,
-                self.core_at::<true, false>(p2, t, None, Some(c1.ln_p - ln_ratio)),
-            )
-        });
         let (t2s, c2s, converged) = self.isentropic_from(&c1, p1, t1, p2, ln_ratio);
         let mut iso_validity = c1.validity.worst(c2s.validity);
         if !converged {
@@ -888,7 +877,10 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
             validity: iso_validity,
             ..CompressionStates::invalid()
         };
-        if let Some((t2, c2)) = c2 {
+        // The discharge state last, when the isentropic one is reduced to
+        // the numbers above (a smaller stack frame).
+        if let Some(t2) = t2 {
+            let c2 = self.core_at::<true, false>(p2, t2, None, Some(c1.ln_p - ln_ratio));
             out.has_discharge = true;
             out.discharge_z = c2.z;
             out.enthalpy_rise = (c2.h - c1.h) * self.per_kg;
