@@ -77,12 +77,19 @@ pub const SATURATION_MARGIN: f64 = 0.05;
 /// uses the trapezoid of the derivatives instead of an enthalpy difference.
 pub const CLOSE_STATES_K: f64 = 2.0;
 
-/// Relative size below which the entropy match's last Newton step is applied
-/// to first order (see `entropy_match`): at 300 K a step of up to 1.5 K,
-/// leaving about 0.003 K in T2s and 2 J/kg in h2s (Newton's quadratic error
-/// with (∂cp/∂T)_p of a few J/(kg K²)); `tests/real_gas_coolprop.rs` checks
-/// it against a converged bisection.
+/// Step in ln T below which the device (f32) build's entropy match takes its
+/// last Newton step without evaluating the state there (see
+/// `entropy_match`): at 300 K a step of up to 1.5 K, whose error comes only
+/// from the slope of the residual cp (the ideal-gas slope is taken into
+/// account). `tests/real_gas_coolprop.rs` checks the f32 result against a
+/// converged f64 bisection (measured within 0.003 K of T2s).
 pub const LINEAR_STEP: f64 = 5.0e-3;
+
+/// In the f64 reference build the entropy match iterates on evaluated
+/// states until the Newton step in ln T is below this (the reported h, Z
+/// and T2s then belong to one evaluated state; the f32-vs-f64 comparison
+/// shows what the device build's unevaluated last step costs).
+pub const EXACT_STEP: f64 = 1.0e-10;
 
 const SQRT2: f64 = core::f64::consts::SQRT_2;
 
@@ -92,6 +99,91 @@ fn dense_validity(v: Validity) -> Validity {
         ValidityReason::LiquidLike => Validity::uncertain(ValidityReason::DenseEstimate),
         _ => v,
     }
+}
+
+/// Largest |u| for which [`ln_near_one`] and [`log_departure`] use the
+/// series: its first omitted term, u¹³/13, is then below 3.2e-10 relative.
+const SERIES_LIMIT: f64 = 0.2;
+
+/// 2·atanh(u) = ln((1 + u)/(1 − u)) by its series to u¹¹ (Abramowitz &
+/// Stegun 4.6.22 / 4.1.27), for |u| ≤ [`SERIES_LIMIT`].
+#[inline]
+fn two_atanh<T: Real>(u: T) -> T {
+    let u2 = u * u;
+    let tail = T::of(1.0 / 7.0) + u2 * (T::of(1.0 / 9.0) + u2 * T::of(1.0 / 11.0));
+    T::of(2.0) * u * (T::ONE + u2 * (T::of(1.0 / 3.0) + u2 * (T::of(1.0 / 5.0) + u2 * tail)))
+}
+
+/// ln x: by the series 2·atanh((x − 1)/(x + 1)) for x in about [0.67, 1.5]
+/// (one division and eight multiply-adds instead of a `logf` call: the
+/// gas-like states of a compressor, where Z − B and ratios of Z stay near
+/// one), else `T::ln`.
+#[inline]
+fn ln_near_one<T: Real>(x: T) -> T {
+    ln_ratio_near_one(x, T::ONE)
+}
+
+/// ln(x/y) for x/y near one (see [`ln_near_one`]), else `T::ln(x/y)`.
+#[inline]
+fn ln_ratio_near_one<T: Real>(x: T, y: T) -> T {
+    let u = (x - y) / (x + y);
+    if T::abs(u) <= T::of(SERIES_LIMIT) {
+        two_atanh(u)
+    } else {
+        ln_out_of_line(x / y)
+    }
+}
+
+/// The departure functions' logarithm
+/// ln[(Z + (1 + √2)B)/(Z + (1 − √2)B)] = 2·atanh(√2·B/(Z + B)).
+#[inline]
+fn log_departure<T: Real>(z: T, big_b: T) -> T {
+    let s2 = T::of(SQRT2);
+    let u = s2 * big_b / (z + big_b);
+    if u <= T::of(SERIES_LIMIT) {
+        two_atanh(u)
+    } else {
+        ln_out_of_line((z + (T::ONE + s2) * big_b) / (z + (T::ONE - s2) * big_b))
+    }
+}
+
+/// Temperatures (K) between which [`inv_sqrt_temperature`] iterates from
+/// its fitted seed.
+const RSQRT_RANGE: (f64, f64) = (150.0, 1000.0);
+
+/// 1/√T: Newton's iteration for the reciprocal square root,
+/// y ← y·(3 − T·y²)/2 (no division and no `sqrtf`, a software routine of
+/// about 50 instructions on Cortex-M4F), from a quadratic fitted to 1/√T
+/// over [`RSQRT_RANGE`] (relative error at most 5.8 %). The relative error
+/// e becomes −1.5·e² per step: three steps leave at most 3e-9 (below f32
+/// rounding), a fourth in f64 1e-17. Outside the range `1/T::sqrt(t)`.
+#[inline]
+fn inv_sqrt_temperature<T: Real>(t: T) -> T {
+    if t > T::of(RSQRT_RANGE.0) && t < T::of(RSQRT_RANGE.1) {
+        let mut y = T::of(0.096_400_898_279_824_05)
+            + t * (T::of(-1.417_358_030_547_063_8e-4) + t * T::of(7.879_088_141_897_757e-8));
+        let half_t = T::of(0.5) * t;
+        let steps = if T::EPSILON < T::of(1e-9) { 4 } else { 3 };
+        for _ in 0..steps {
+            y = y * (T::of(1.5) - half_t * y * y);
+        }
+        y
+    } else {
+        inv_sqrt_out_of_line(t)
+    }
+}
+
+/// `T::ln` for the series' fallbacks, out of line: `logf` is inlined at
+/// every call site otherwise (about 140 bytes each).
+#[inline(never)]
+fn ln_out_of_line<T: Real>(x: T) -> T {
+    T::ln(x)
+}
+
+/// 1/√T outside the fitted range, out of line (rare).
+#[inline(never)]
+fn inv_sqrt_out_of_line<T: Real>(t: T) -> T {
+    T::ONE / T::sqrt(t)
 }
 
 /// d ln T / d ln p along an isentrope at a state: (p/cp)·(∂v/∂T)_p =
@@ -128,6 +220,8 @@ pub struct PengRobinson<T, const C: usize> {
     cp0: [T; 4],
     pseudo_critical_temperature: T,
     pseudo_critical_pressure: T,
+    /// 1/T_pc and 1/p_pc (the near-critical test multiplies).
+    inv_pseudo_critical: (T, T),
 }
 
 /// Intermediate results of one (p, T) evaluation, molar.
@@ -139,14 +233,83 @@ struct Core<T> {
     /// J/(mol K)
     s: T,
     cp: T,
-    cv: T,
     /// m³/mol
     v: T,
     /// (∂P/∂v)_T, Pa mol/m³
     dp_dv: T,
     /// (∂P/∂T)_v, Pa/K
     dp_dt: T,
+    /// ln(T/T0) (T0 the reference temperature), -.
+    ln_t: T,
+    /// ln(p0/p) (p0 the reference pressure), -.
+    ln_p: T,
     validity: Validity,
+}
+
+impl<T: Real> Core<T> {
+    /// Placeholder values with bad validity.
+    fn invalid() -> Self {
+        Core {
+            z: T::ONE,
+            h: T::ZERO,
+            s: T::ZERO,
+            cp: T::ONE,
+            v: T::ONE,
+            dp_dv: -T::ONE,
+            dp_dt: T::ZERO,
+            ln_t: T::ZERO,
+            ln_p: T::ZERO,
+            validity: Validity::INVALID,
+        }
+    }
+}
+
+/// `validity` made worse if the cubic's smallest root `zl` (from the
+/// deflated quadratic with `q1` and discriminant `disc` > 0) is a liquid
+/// more stable than the vapour root `z` (`l` its departure logarithm):
+/// the fugacities of the two roots (pseudo-pure one-fluid test). Out of
+/// line: gas states above the critical temperature never get here.
+#[inline(never)]
+fn saturation_validity<T: Real>(
+    validity: Validity,
+    z: T,
+    l: T,
+    q1: T,
+    disc: T,
+    big_a: T,
+    big_b: T,
+) -> Validity {
+    let zl = T::of(0.5) * (-q1 - T::sqrt(disc));
+    if !(zl > big_b) {
+        return validity;
+    }
+    let k = big_a / (T::of(2.0 * SQRT2) * big_b);
+    let ln_phi = |zz: T, ll: T| zz - T::ONE - T::ln(zz - big_b) - k * ll;
+    let margin = ln_phi(z, l) - ln_phi(zl, log_departure(zl, big_b));
+    if margin > T::ZERO {
+        Validity::bad(ValidityReason::NoVapourRoot)
+    } else if margin > -T::of(SATURATION_MARGIN) {
+        validity.worst(Validity::uncertain(ValidityReason::NearSaturation))
+    } else {
+        validity
+    }
+}
+
+/// `validity` made worse by the range checks (out of line: most states are
+/// in range and skip it).
+#[inline(never)]
+fn range_validity<T: Real>(validity: Validity, near_critical: bool, t: T, p: T) -> Validity {
+    let mut v = validity;
+    if near_critical {
+        v = v.worst(Validity::uncertain(ValidityReason::NearCritical));
+    }
+    if t < T::of(CP0_T_MIN) || t > T::of(CP0_T_MAX) {
+        v = v.worst(Validity::uncertain(ValidityReason::TemperatureOutOfRange));
+    }
+    if p > T::of(MAX_PRESSURE) {
+        v = v.worst(Validity::uncertain(ValidityReason::PressureOutOfRange));
+    }
+    v
 }
 
 impl<T: Real, const C: usize> PengRobinson<T, C> {
@@ -179,6 +342,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
             cp0: [T::ZERO; 4],
             pseudo_critical_temperature: T::ONE,
             pseudo_critical_pressure: T::ONE,
+            inv_pseudo_critical: (T::ONE, T::ONE),
         };
         gas.set_composition(fractions)?;
         Ok(gas)
@@ -255,6 +419,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         self.cp0 = cp0.map(T::of);
         self.pseudo_critical_temperature = T::of(tpc);
         self.pseudo_critical_pressure = T::of(ppc);
+        self.inv_pseudo_critical = (T::of(1.0 / tpc), T::of(1.0 / ppc));
         Ok(())
     }
 
@@ -291,52 +456,72 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
     }
 
     /// Ideal-gas cp0 (J/(mol K)) and the ideal-gas h (J/mol) and s at p0
-    /// (J/(mol K)) from the reference temperature.
+    /// (J/(mol K)) from the reference temperature, given `ln_t` = ln(T/T0).
     #[inline]
-    fn ideal(&self, t: T) -> (T, T, T) {
+    fn ideal(&self, t: T, ln_t: T) -> (T, T, T) {
         let [c0, c1, c2, c3] = self.cp0;
         let t0 = T::of(REFERENCE_TEMPERATURE);
         let d = t - t0;
         let sum = t + t0;
         let sq = t * t + t0 * t0;
         let cube = sq + t * t0;
-        let cp0 = c0 + t * (c1 + t * (c2 + t * c3));
+        let cp0 = self.ideal_cp(t);
         let h = d
             * (c0
                 + c1 * T::of(0.5) * sum
                 + c2 * T::of(1.0 / 3.0) * cube
                 + c3 * T::of(0.25) * sum * sq);
-        let s =
-            c0 * T::ln(t / t0) + d * (c1 + c2 * T::of(0.5) * sum + c3 * T::of(1.0 / 3.0) * cube);
+        let s = c0 * ln_t + d * (c1 + c2 * T::of(0.5) * sum + c3 * T::of(1.0 / 3.0) * cube);
         (cp0, h, s)
     }
 
+    /// Ideal-gas cp0, J/(mol K).
+    #[inline]
+    fn ideal_cp(&self, t: T) -> T {
+        let [c0, c1, c2, c3] = self.cp0;
+        c0 + t * (c1 + t * (c2 + t * c3))
+    }
+
+    /// d cp0 / dT, J/(mol K²).
+    #[inline]
+    fn ideal_cp_slope(&self, t: T) -> T {
+        let [_, c1, c2, c3] = self.cp0;
+        c1 + t * (T::of(2.0) * c2 + t * T::of(3.0) * c3)
+    }
+
     fn core(&self, p: T, t: T) -> Core<T> {
+        self.core_at::<true, true>(p, t, None, None)
+    }
+
+    /// One (p, T) evaluation. `ENTROPY = false` skips the entropy (s = 0);
+    /// `DERIVATIVES = false` skips cp, (∂P/∂v)_T and (∂P/∂T)_v (left
+    /// at placeholder values): Z, v and h only. `ln_t` = ln(T/T0) and
+    /// `ln_p` = ln(p0/p) when the caller already knows them (the states of
+    /// one compression share them), else computed here. Out of line: one
+    /// copy per variant keeps flash and the callers' stack frames small.
+    #[inline(never)]
+    fn core_at<const ENTROPY: bool, const DERIVATIVES: bool>(
+        &self,
+        p: T,
+        t: T,
+        ln_t: Option<T>,
+        ln_p: Option<T>,
+    ) -> Core<T> {
         let r = T::of(MOLAR_GAS_CONSTANT);
-        let invalid = Core {
-            z: T::ONE,
-            h: T::ZERO,
-            s: T::ZERO,
-            cp: T::ONE,
-            cv: T::ONE,
-            v: T::ONE,
-            dp_dv: -T::ONE,
-            dp_dt: T::ZERO,
-            validity: Validity::INVALID,
-        };
-        if !(T::is_finite(p) && T::is_finite(t) && p > T::ZERO && t > T::ZERO) {
-            return invalid;
+        // Finite and positive (NaN fails every comparison).
+        let huge = T::of(1.0e30);
+        if !(p > T::ZERO && p < huge && t > T::ZERO && t < huge) {
+            return Core::invalid();
         }
         // Reciprocals once: a division costs about 12 instructions on
         // Cortex-M4F and 180 on Cortex-M0.
-        let sqrt_t = T::sqrt(t);
-        let inv_sqrt_t = T::ONE / sqrt_t;
-        let inv_t = T::ONE / t;
+        let inv_sqrt_t = inv_sqrt_temperature(t);
+        let sqrt_t = t * inv_sqrt_t;
+        let inv_t = inv_sqrt_t * inv_sqrt_t;
         let inv_p = T::ONE / p;
         let [a0, a1, a2] = self.a;
         let a = a0 - a1 * sqrt_t + a2 * t;
         let da = a2 - T::of(0.5) * a1 * inv_sqrt_t;
-        let d2a = T::of(0.25) * a1 * inv_sqrt_t * inv_t;
         let b = self.b;
         let rt = r * t;
         let inv_rt = inv_t * T::of(1.0 / MOLAR_GAS_CONSTANT);
@@ -346,17 +531,19 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         let c2 = big_b - T::ONE;
         let c1 = big_a - T::of(3.0) * big_b * big_b - T::of(2.0) * big_b;
         let c0 = -(big_a * big_b - big_b * big_b - big_b * big_b * big_b);
-        let tol = T::of(1e-12) + T::of(16.0) * T::EPSILON;
+        let tol = T::of(1e-13) + T::of(2.0) * T::EPSILON;
+        // Newton's next step would be about f''/(2f')·step²: stop when that
+        // is within the tolerance, a few units in the last place (saves the
+        // step that only confirms). A
+        // NaN step fails the test and runs to the cap (not converged).
         let newton = |mut z: T| {
             for _ in 0..CUBIC_ITERATIONS {
                 let f = ((z + c2) * z + c1) * z + c0;
                 let df = (T::of(3.0) * z + T::of(2.0) * c2) * z + c1;
+                let d2f = T::of(6.0) * z + T::of(2.0) * c2;
                 let step = f / df;
-                if !T::is_finite(step) {
-                    return (z, false);
-                }
                 z = z - step;
-                if T::abs(step) <= tol * z {
+                if T::abs(d2f) * step * step <= T::of(2.0) * T::abs(df) * tol * z {
                     return (z, true);
                 }
             }
@@ -372,17 +559,15 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         if !(converged && z > (T::ONE - big_b) * T::of(1.0 / 3.0) && slope > T::ZERO) {
             (z, converged) = newton(T::ONE + big_b);
         }
-        if !(T::is_finite(z) && z > big_b) {
-            return invalid;
+        if !(z > big_b && z < huge) {
+            return Core::invalid();
         }
         let mut validity = if converged {
             Validity::IN_RANGE
         } else {
             Validity::uncertain(ValidityReason::NotConverged)
         };
-        let s2 = T::of(SQRT2);
-        let log_term = |zz: T| T::ln((zz + (T::ONE + s2) * big_b) / (zz + (T::ONE - s2) * big_b));
-        let l = log_term(z);
+        let l = log_departure(z, big_b);
         if z < T::of(CRITICAL_VOLUME_RATIO) * big_b {
             validity = Validity::bad(ValidityReason::LiquidLike);
         } else {
@@ -391,56 +576,59 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
             let q0 = c1 + z * q1;
             let disc = q1 * q1 - T::of(4.0) * q0;
             if disc > T::ZERO {
-                let zl = T::of(0.5) * (-q1 - T::sqrt(disc));
-                if zl > big_b {
-                    let k = big_a / (T::of(2.0) * s2 * big_b);
-                    let ln_phi = |zz: T, ll: T| zz - T::ONE - T::ln(zz - big_b) - k * ll;
-                    let margin = ln_phi(z, l) - ln_phi(zl, log_term(zl));
-                    if margin > T::ZERO {
-                        validity = Validity::bad(ValidityReason::NoVapourRoot);
-                    } else if margin > -T::of(SATURATION_MARGIN) {
-                        validity =
-                            validity.worst(Validity::uncertain(ValidityReason::NearSaturation));
-                    }
-                }
+                validity = saturation_validity(validity, z, l, q1, disc, big_a, big_b);
             }
         }
-        let tr = t / self.pseudo_critical_temperature;
-        let pr = p / self.pseudo_critical_pressure;
-        if tr > T::of(NEAR_CRITICAL_TR.0)
+        let in_fit = t >= T::of(CP0_T_MIN) && t <= T::of(CP0_T_MAX) && p <= T::of(MAX_PRESSURE);
+        let (inv_tpc, inv_ppc) = self.inv_pseudo_critical;
+        let tr = t * inv_tpc;
+        let pr = p * inv_ppc;
+        let near_critical = tr > T::of(NEAR_CRITICAL_TR.0)
             && tr < T::of(NEAR_CRITICAL_TR.1)
             && pr > T::of(NEAR_CRITICAL_PR.0)
-            && pr < T::of(NEAR_CRITICAL_PR.1)
-        {
-            validity = validity.worst(Validity::uncertain(ValidityReason::NearCritical));
-        }
-        if t < T::of(CP0_T_MIN) || t > T::of(CP0_T_MAX) {
-            validity = validity.worst(Validity::uncertain(ValidityReason::TemperatureOutOfRange));
-        }
-        if p > T::of(MAX_PRESSURE) {
-            validity = validity.worst(Validity::uncertain(ValidityReason::PressureOutOfRange));
+            && pr < T::of(NEAR_CRITICAL_PR.1);
+        if near_critical || !in_fit {
+            validity = range_validity(validity, near_critical, t, p);
         }
 
-        let (cp0, h0, s0) = self.ideal(t);
+        let (ln_t, ln_p) = if ENTROPY {
+            (
+                ln_t.unwrap_or_else(|| ln_near_one(t * T::of(1.0 / REFERENCE_TEMPERATURE))),
+                ln_p.unwrap_or_else(|| T::ln(T::of(REFERENCE_PRESSURE) * inv_p)),
+            )
+        } else {
+            (T::ZERO, T::ZERO)
+        };
+        let (cp0, h0, s0) = self.ideal(t, ln_t);
         let k = l * self.inv_2s2b;
         let v = z * rt * inv_p;
         let h = h0 + rt * (z - T::ONE) + (t * da - a) * k;
-        let s = s0 + r * T::ln((z - big_b) * T::of(REFERENCE_PRESSURE) * inv_p) + da * k;
-        let cv = cp0 - r + t * d2a * k;
-        let inv_vb = T::ONE / (v - b);
-        let inv_den = T::ONE / (v * v + T::of(2.0) * b * v - b * b);
-        let dp_dt = r * inv_vb - da * inv_den;
-        let dp_dv = -rt * inv_vb * inv_vb + T::of(2.0) * a * (v + b) * inv_den * inv_den;
-        let cp = cv - t * dp_dt * dp_dt / dp_dv;
+        let s = if ENTROPY {
+            s0 + r * (ln_near_one(z - big_b) + ln_p) + da * k
+        } else {
+            T::ZERO
+        };
+        let (cp, dp_dv, dp_dt) = if DERIVATIVES {
+            let d2a = T::of(0.25) * a1 * inv_sqrt_t * inv_t;
+            let cv = cp0 - r + t * d2a * k;
+            let inv_vb = T::ONE / (v - b);
+            let inv_den = T::ONE / (v * v + T::of(2.0) * b * v - b * b);
+            let dp_dt = r * inv_vb - da * inv_den;
+            let dp_dv = -rt * inv_vb * inv_vb + T::of(2.0) * a * (v + b) * inv_den * inv_den;
+            (cv - t * dp_dt * dp_dt / dp_dv, dp_dv, dp_dt)
+        } else {
+            (T::ONE, -T::ONE, T::ZERO)
+        };
         Core {
             z,
             h,
             s,
             cp,
-            cv,
             v,
             dp_dv,
             dp_dt,
+            ln_t,
+            ln_p,
             validity,
         }
     }
@@ -448,14 +636,30 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
     /// The temperature at `p2` with the molar entropy `target`: Newton on
     /// ln T with (∂s/∂ln T)_p = cp from `t_start`, steps limited to ±20 %,
     /// bisection inside the bracket the iterates have established whenever
-    /// a step leaves it; a last step below [`LINEAR_STEP`]·T is applied to
-    /// h and Z to first order instead of re-evaluating the state (its error
-    /// is second order in the step).
-    /// At most [`ISENTROPIC_ITERATIONS`] evaluations, else not converged.
-    fn entropy_match(&self, target: T, p2: T, t_start: T, t1: T) -> (T, Core<T>, bool) {
+    /// a step leaves it; the step is second order in ln T with the slope of
+    /// the ideal-gas cp0 (Newton's error then comes from the residual cp's
+    /// slope only). In f32 a last step below [`LINEAR_STEP`] in ln T is
+    /// not re-evaluated: h, v, Z and ln T follow it (h to second order, v
+    /// to first); in f64 the iteration stops at an evaluated state once the
+    /// step is below [`EXACT_STEP`]. `ln_t_start` (ln(T_start/T0), if known) and `ln_p` (ln(p0/p2))
+    /// save logarithms. At most [`ISENTROPIC_ITERATIONS`] evaluations, else
+    /// not converged.
+    fn entropy_match(
+        &self,
+        target: T,
+        p2: T,
+        t_start: T,
+        t1: T,
+        ln_t_start: Option<T>,
+        ln_p: Option<T>,
+    ) -> (T, Core<T>, bool) {
         let mut t = t_start;
         let (mut lo, mut hi) = (t1 * T::of(0.3), t1 * T::of(4.0));
-        let mut c = self.core(p2, t);
+        let mut c = self.core_at::<true, true>(p2, t, ln_t_start, ln_p);
+        let ln_p = Some(c.ln_p);
+        // The f64 reference build converges on evaluated states; the f32
+        // device build takes the last step without evaluating it.
+        let exact = T::EPSILON < T::of(1e-9);
         for _ in 0..ISENTROPIC_ITERATIONS {
             if c.validity.quality == Quality::Bad {
                 return (t, c, false);
@@ -466,18 +670,26 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
             } else {
                 hi = T::min(hi, t);
             }
-            // Newton in ln T (exact for constant cp: T·exp(Δs/cp)), to
-            // second order: the curvature of s = cp·ln T is taken out.
+            // Newton in ln T: s(ln T) = s + cp·y + ½·T·(dcp/dT)·y², with the
+            // ideal-gas slope of cp.
             let x = ds / c.cp;
-            let step = t * x * (T::ONE + T::of(0.5) * x);
-            if T::abs(step) <= T::of(LINEAR_STEP) * t {
-                // First order at constant p: dh = cp·dT,
+            let slope = self.ideal_cp_slope(t);
+            let y = x * (T::ONE - T::of(0.5) * t * slope / c.cp * x);
+            // T·(e^y − 1) to third order.
+            let step = t * y * (T::ONE + y * (T::of(0.5) + y * T::of(1.0 / 6.0)));
+            if exact {
+                if T::abs(y) <= T::of(EXACT_STEP) {
+                    return (t, c, true);
+                }
+            } else if T::abs(y) <= T::of(LINEAR_STEP) {
+                // dh = cp·dT + ½·(dcp0/dT)·dT²,
                 // dv = (∂v/∂T)_p·dT = −(∂P/∂T)_v/(∂P/∂v)_T·dT, Z ∝ v/T.
                 let dv = -c.dp_dt / c.dp_dv * step;
-                c.h += c.cp * step;
+                c.h += step * (c.cp + T::of(0.5) * slope * step);
                 let t_new = t + step;
                 c.z = c.z * (c.v + dv) / c.v * t / t_new;
                 c.v += dv;
+                c.ln_t += y;
                 return (t_new, c, true);
             }
             let mut next = t + T::clamp(step, -t * T::of(0.2), t * T::of(0.2));
@@ -485,16 +697,53 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
                 next = T::of(0.5) * (lo + hi);
             }
             t = next;
-            c = self.core(p2, t);
+            c = self.core_at::<true, true>(p2, t, None, ln_p);
         }
         (t, c, false)
+    }
+
+    /// The isentropic state at `p2` from the suction state `c1` at
+    /// (p1, t1), `ln_ratio` = ln(p2/p1). The start is Heun's step along the
+    /// isentrope in (ln p, ln T): the mean of the exponent
+    /// m = d ln T/d ln p at the suction and an estimate of it at the
+    /// first-order end, where cp has risen by the ideal-gas cp0's rise
+    /// (usually within a few 0.1 % of T2s, so one state evaluation and the
+    /// second-order last step of [`PengRobinson::entropy_match`] suffice).
+    /// The start uses the suction state only, never the measured discharge
+    /// temperature (the dependency rule, `crate::dependency`: the
+    /// isentropic head does not use T2).
+    fn isentropic_from(
+        &self,
+        c1: &Core<T>,
+        p1: T,
+        t1: T,
+        p2: T,
+        ln_ratio: T,
+    ) -> (T, Core<T>, bool) {
+        let m1 = isentropic_temperature_exponent(p1, c1);
+        let y1 = m1 * ln_ratio;
+        let t_a = t1 * (T::ONE + y1 * (T::ONE + T::of(0.5) * y1));
+        let m_a = m1 * c1.cp / (c1.cp + self.ideal_cp(t_a) - self.ideal_cp(t1));
+        // Inside the entropy match's bracket [0.3, 4]·T1.
+        let y = T::clamp(T::of(0.5) * (m1 + m_a) * ln_ratio, T::of(-1.2), T::of(1.38));
+        let y = if T::is_finite(y) { y } else { y1 };
+        self.entropy_match(
+            c1.s,
+            p2,
+            t1 * T::exp(y),
+            t1,
+            Some(c1.ln_t + y),
+            Some(c1.ln_p - ln_ratio),
+        )
     }
 
     fn make_state(&self, p: T, t: T, c: &Core<T>) -> GasState<T> {
         if c.validity == Validity::INVALID {
             return GasState::invalid(p, t);
         }
-        let w2 = -(c.v * c.v / self.molar_mass) * (c.cp / c.cv) * c.dp_dv;
+        // cv = cp + T·(∂P/∂T)_v²/(∂P/∂v)_T.
+        let cv = c.cp + t * c.dp_dt * c.dp_dt / c.dp_dv;
+        let w2 = -(c.v * c.v / self.molar_mass) * (c.cp / cv) * c.dp_dv;
         let out = GasState {
             pressure: p,
             temperature: t,
@@ -542,10 +791,14 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
     /// suction Z for its whole-train ideal references), else the mean of
     /// the two ends' Z from the equation of state.
     fn path(&self, p1: T, t1: T, p2: T, t2: T, z_supplied: Option<T>) -> PathProperties<T> {
-        let cp = T::of(0.5) * (self.ideal(t1).0 + self.ideal(t2).0) * self.per_kg;
+        let cp = T::of(0.5) * (self.ideal_cp(t1) + self.ideal_cp(t2)) * self.per_kg;
         let z = match z_supplied {
             Some(z) if T::is_finite(z) && z > T::ZERO && z <= T::of(2.0) => z,
-            _ => T::of(0.5) * (self.core(p1, t1).z + self.core(p2, t2).z),
+            _ => {
+                T::of(0.5)
+                    * (self.core_at::<false, false>(p1, t1, None, None).z
+                        + self.core_at::<false, false>(p2, t2, None, None).z)
+            }
         };
         PathProperties {
             gas_constant: self.gas_constant,
@@ -560,10 +813,9 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
         self.make_state(p, t, &c)
     }
 
-    /// Newton on T with (∂s/∂T)_p = cp/T from T1·(p2/p1)^(Z·R/cp), steps
-    /// limited to ±20 %, bisection inside the bracket the iterates have
-    /// established whenever a step leaves it; at most
-    /// [`ISENTROPIC_ITERATIONS`], else uncertain (not converged).
+    /// The entropy match of [`PengRobinson::compression`] from the inlet's
+    /// state; at most [`ISENTROPIC_ITERATIONS`], else uncertain (not
+    /// converged).
     fn isentropic_state(&self, inlet: &GasState<T>, p2: T, _z_supplied: Option<T>) -> GasState<T> {
         if inlet.validity.quality == Quality::Bad {
             return GasState::invalid(p2, inlet.temperature);
@@ -571,8 +823,7 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
         let t1 = inlet.temperature;
         let c1 = self.core(inlet.pressure, t1);
         let ln_r = T::ln(p2 / inlet.pressure);
-        let start = t1 * T::exp(isentropic_temperature_exponent(inlet.pressure, &c1) * ln_r);
-        let (t, c, converged) = self.entropy_match(inlet.entropy * self.molar_mass, p2, start, t1);
+        let (t, c, converged) = self.isentropic_from(&c1, inlet.pressure, t1, p2, ln_r);
         let mut out = self.make_state(p2, t, &c);
         if !converged {
             out.validity = out
@@ -584,7 +835,9 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
 
     /// Specialised for speed: usually three state evaluations (suction,
     /// discharge, one for the entropy match from a second-order start), no
-    /// speed of sound, p·v = Z·R·T per kg.
+    /// speed of sound, p·v = Z·R·T per kg, logarithms shared between the
+    /// states (ln T and ln p of the suction, ln(p2/p1), the entropy match's
+    /// ln T; ratios of Z near one by their series).
     fn compression(
         &self,
         p1: T,
@@ -602,15 +855,7 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
                 ..CompressionStates::invalid()
             };
         }
-        // The entropy match starts from the suction state's isentropic
-        // exponent only: the isentropic state must not depend on the
-        // measured discharge temperature (the dependency rule,
-        // `crate::dependency`: the isentropic head does not use T2), not even
-        // through the solver's start within its tolerance.
-        let c2 = t2.map(|t| (t, self.core(p2, t)));
-        let m1 = isentropic_temperature_exponent(p1, &c1);
-        let start = t1 * T::exp(m1 * ln_ratio);
-        let (t2s, c2s, converged) = self.entropy_match(c1.s, p2, start, t1);
+        let (t2s, c2s, converged) = self.isentropic_from(&c1, p1, t1, p2, ln_ratio);
         let mut iso_validity = c1.validity.worst(c2s.validity);
         if !converged {
             iso_validity = iso_validity.worst(Validity::uncertain(ValidityReason::NotConverged));
@@ -619,7 +864,7 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
         let r = self.gas_constant;
         let dhs = (c2s.h - c1.h) * self.per_kg;
         let iso_pv_rise = r * (c2s.z * t2s - zt1);
-        let iso_ln_pv = T::ln(c2s.z * t2s / zt1);
+        let iso_ln_pv = (c2s.ln_t - c1.ln_t) + ln_ratio_near_one(c2s.z, c1.z);
         let mut out = CompressionStates {
             suction_z: c1.z,
             isentropic_temperature: t2s,
@@ -632,13 +877,16 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
             validity: iso_validity,
             ..CompressionStates::invalid()
         };
-        if let Some((t2, c2)) = c2 {
+        // The discharge state last, when the isentropic one is reduced to
+        // the numbers above (a smaller stack frame).
+        if let Some(t2) = t2 {
+            let c2 = self.core_at::<true, false>(p2, t2, None, Some(c1.ln_p - ln_ratio));
             out.has_discharge = true;
             out.discharge_z = c2.z;
             out.enthalpy_rise = (c2.h - c1.h) * self.per_kg;
             out.entropy_rise = (c2.s - c1.s) * self.per_kg;
             out.pv_rise = r * (c2.z * t2 - zt1);
-            out.ln_pv_ratio = T::ln(c2.z * t2 / zt1);
+            out.ln_pv_ratio = (c2.ln_t - c1.ln_t) + ln_ratio_near_one(c2.z, c1.z);
             out.validity = iso_validity.worst(c2.validity);
         }
         out
@@ -648,7 +896,7 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
     /// root is uncertain (a cubic's dense phase, even translated), a
     /// stable-liquid or invalid state bad.
     fn dense_density(&self, p: T, t: T) -> Option<(T, Validity)> {
-        let c = self.core(p, t);
+        let c = self.core_at::<false, false>(p, t, None, None);
         Some((
             self.molar_mass / (c.v - self.volume_shift),
             dense_validity(c.validity),
@@ -672,17 +920,22 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
         t_out: T,
         _z_supplied: Option<T>,
     ) -> (T, Validity) {
-        let a = self.core(p_in, t_in);
-        let b = self.core(p_out, t_out);
         let dt = t_in - t_out;
         let dp = p_in - p_out;
         let close = T::abs(dt) <= T::of(CLOSE_STATES_K) && T::abs(dp) <= T::of(0.05) * p_in;
-        let drop = if close {
+        let (a, b, drop);
+        if close {
+            // (The full evaluation: rare, and one variant less in flash.)
+            a = self.core(p_in, t_in);
+            b = self.core(p_out, t_out);
             let h_p = |c: &Core<T>, t: T| c.v + t * c.dp_dt / c.dp_dv;
-            T::of(0.5) * ((a.cp + b.cp) * dt + (h_p(&a, t_in) + h_p(&b, t_out)) * dp)
+            drop = T::of(0.5) * ((a.cp + b.cp) * dt + (h_p(&a, t_in) + h_p(&b, t_out)) * dp);
         } else {
-            a.h - b.h
-        };
+            // Enthalpies only.
+            a = self.core_at::<false, false>(p_in, t_in, None, None);
+            b = self.core_at::<false, false>(p_out, t_out, None, None);
+            drop = a.h - b.h;
+        }
         (
             drop * self.per_kg,
             dense_validity(a.validity).worst(dense_validity(b.validity)),

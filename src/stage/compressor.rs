@@ -291,7 +291,6 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
     let fit = gas.fit_quality(t1_path, t2_path);
     let ratio_ok = p_ok && T::is_finite(ratio);
     let compressing = ratio_ok && ratio > T::ONE;
-    let ln_r = if compressing { T::ln(ratio) } else { T::ZERO };
     // Without usable pressures the states are evaluated at a nominal
     // pressure, as for T1 (a pressure-independent model's enthalpy rise is
     // then still good; the rule marks what used the pressures).
@@ -301,15 +300,13 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
         T::of(101_325.0)
     };
     let p2_path = if p_ok { p2.value } else { p1_path };
+    // One logarithm of the ratio for the model, the polytropic method and
+    // the isothermal head (compressing implies usable pressures, so the
+    // path ratio is the measured one).
+    let ln_path = T::ln(p2_path / p1_path);
+    let ln_r = if compressing { ln_path } else { T::ZERO };
     // Suction, isentropic and (with a usable T2) discharge states in one
     // call.
-    // ln(p2/p1) once: compressing, the path pressures are the measured ones
-    // and their ratio is `ratio` itself.
-    let ln_path = if compressing {
-        ln_r
-    } else {
-        T::ln(p2_path / p1_path)
-    };
     let mut cs = gas.compression(
         p1_path,
         t1_path,

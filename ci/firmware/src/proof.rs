@@ -371,6 +371,8 @@ fn gas_models() -> bool {
     let s1 = pr.state(p1, t1, None);
     black_box(pr.isentropic_state(&s1, p2, None));
     black_box(pr.enthalpy_drop(p2, t2, p2 * 0.98, 310.0, None));
+    // Close states take the trapezoid branch.
+    black_box(pr.enthalpy_drop(p2, t2, p2 * 0.99, t2 - 1.0, None));
     black_box(pr.dense_density(black_box(150.0e5), black_box(250.0)));
     black_box(pr.compressibility_functions(p1, t1));
     black_box(pr.path(p1, t1, p2, t2, None));
