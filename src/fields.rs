@@ -444,7 +444,7 @@ result_fields!(TrainTotals {
         "Compressor plus pump power.";
     isothermal_work: "isothermal_work_J_per_kg", "Isothermal work, overall ratio", "J/kg",
         SpecificWork, Computed,
-        "Isothermal work for the overall ratio at the first suction temperature.";
+        "Reversible isothermal work for the overall ratio at the first suction temperature, through the gas model (the Gibbs energy rise; Z·R·T·ln r for the ideal gas); the loss ledger starts from it.";
     isothermal_efficiency: "isothermal_efficiency", "Isothermal efficiency", "-", Efficiency,
         Computed, "Isothermal work over compressor work.";
     single_stage_isentropic_work: "single_stage_isentropic_work_J_per_kg",

@@ -146,7 +146,7 @@
 use crate::control::recycle_power;
 use crate::error::{check_range, ConfigError, Problem};
 use crate::fields::{Derivation, FieldSpec, FieldValue, QuantityKind, ResultFields};
-use crate::gas::{GasModel, Validity, ValidityReason};
+use crate::gas::GasModel;
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::scan::{compressibility, mass_flow_kg_s, pressure_pa, temperature_k, Scan};
@@ -744,22 +744,18 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
         temperature_k(s0.suction_temperature),
         pressure_pa(sl.discharge_pressure),
     );
-    let (z0, q_z0) = match compressibility(s0.compressibility) {
-        Some((z, q)) => (Some(z), q),
-        None => (None, Quality::Good),
-    };
     let q_base = p_s.quality.worst(t_s.quality).worst(p_d.quality);
     let overall = p_d.value / p_s.value;
     if q_base == Quality::Bad || !(overall > T::ONE) || !T::is_finite(overall) {
         return;
     }
-    let ln_overall = T::ln(overall);
 
-    // Step 0: reversible isothermal.
-    let (w_iso, v_iso) = gas.isothermal_work(p_s.value, p_d.value, ln_overall, t_s.value, z0);
+    // Step 0: reversible isothermal, the train totals' row (one definition:
+    // `GasModel::isothermal_work` in the update, read here, not recomputed).
+    let totals = &snapshot.totals;
     let iso = Work {
-        value: w_iso,
-        quality: q_base.worst(q_z0).worst(isothermal_end(v_iso)),
+        value: totals.isothermal_work.value,
+        quality: totals.isothermal_work.quality,
     };
     out.isothermal_power =
         Measured::derived(m_fwd.value * iso.value, m_fwd.quality.worst(iso.quality));
@@ -823,18 +819,20 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
     ref_d.quality = ref_d.quality.worst(q_chain);
 
     // Step 1: equal ratios, no drops. Step 2: equal ratios, measured drops.
-    let ln_a = ln_overall / n;
     let ln_b = T::ln(ratio_product) / n;
     let (ref_a, ref_b) = if uniform {
         // By the `ratio_only` contract the pressures enter only through
         // the ratio passed and the higher pressure (validity): one stage
-        // stands for all.
-        let (wa, qa) = isentropic(gas, p_s.value, t_s.value, p_d.value, ln_a, None);
+        // stands for all. Without supplied Z the update's ideal staged work
+        // is that reference (same model, Z, k and suction state): read, not
+        // recomputed; its states' validity is the isothermal row's (same
+        // highest pressure, same temperature).
+        let staged = totals.ideal_staged_isentropic_work;
         let (wb, qb) = isentropic(gas, p_s.value, t_s.value, p_d.value, ln_b, None);
         (
             Work {
-                value: n * wa,
-                quality: qa.worst(q_base),
+                value: staged.value,
+                quality: staged.quality.worst(iso.quality).worst(q_base),
             },
             Work {
                 value: n * wb,
@@ -842,6 +840,7 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
             },
         )
     } else {
+        let ln_a = T::ln(overall) / n;
         let mut a = Work::zero();
         let mut b = Work::zero();
         a.add(T::ZERO, q_base);
@@ -968,17 +967,4 @@ fn reference_head<T: Real, G: GasModel<T>>(
 #[inline]
 fn config_has_cooler<T, const N: usize>(snapshot: &Snapshot<T, N>, i: usize) -> bool {
     matches!(snapshot.coolers.get(i), Some(Some(_)))
-}
-
-/// Quality of the isothermal reference's end states. Isothermal
-/// compression at the first suction temperature may end in a dense or
-/// liquid-like state (CO2 below its critical temperature): the Gibbs
-/// energy rise is still the reversible work, but a cubic's dense root is an
-/// estimate, so a liquid-like end is uncertain rather than bad.
-#[inline]
-fn isothermal_end(v: Validity) -> Quality {
-    match v.reason {
-        ValidityReason::LiquidLike => Quality::Uncertain,
-        _ => v.quality,
-    }
 }

@@ -18,7 +18,8 @@ use crate::stage::{
     PumpResult,
 };
 use crate::staging::{
-    equal_ratio_interstage_pressure, ideal_references, InterstagePressure, Sum, TrainTotals,
+    equal_ratio_interstage_pressure, ideal_references, isothermal_reference_quality,
+    InterstagePressure, Sum, TrainTotals,
 };
 use crate::steady::{SteadyState, SteadyStateConfig, SteadyStateDetector};
 use crate::units::{Kelvin, PressureAbs};
@@ -674,7 +675,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             .config
             .gas
             .path(first.p1.value, t1, last_c.p2.value, t1, Some(z_mean));
-        let (iso, single, staged) = ideal_references(
+        let (_, single, staged) = ideal_references(
             props.z,
             props.gas_constant,
             t1,
@@ -682,7 +683,18 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             props.k,
             u32::from(nc),
         );
-        totals.isothermal_work = Measured::derived(iso, q_ref);
+        // The isothermal reference through the gas model (the Gibbs energy
+        // rise; Z·R·T·ln r for the ideal gas): the one definition the loss
+        // ledger also starts from (it reads this row).
+        let (iso, iso_validity) = self.config.gas.isothermal_work(
+            first.p1.value,
+            last_c.p2.value,
+            T::ln(ratio),
+            t1,
+            Some(z_mean),
+        );
+        totals.isothermal_work =
+            Measured::derived(iso, q_ref.worst(isothermal_reference_quality(iso_validity)));
         totals.single_stage_isentropic_work = Measured::derived(single, q_ref);
         totals.ideal_staged_isentropic_work = Measured::derived(staged, q_ref);
         totals.ideal_staging_saving = Measured::derived(single - staged, q_ref);
@@ -697,7 +709,10 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             } else {
                 Quality::Good
             };
-            totals.isothermal_efficiency = Measured::derived(eta, q_ref.worst(w.quality).worst(q));
+            totals.isothermal_efficiency = Measured::derived(
+                eta,
+                totals.isothermal_work.quality.worst(w.quality).worst(q),
+            );
         }
         let ms = totals.measured_staged_isentropic_work;
         if ms.quality.is_usable() {
