@@ -692,15 +692,17 @@ fn oracle(cases: u64, seed: u64, f32: bool) -> Counts {
     c
 }
 
-#[test]
-fn every_slot_perturbed_quality_follows_use_and_good_is_plausible() {
+/// Runs the oracle with `default_cases` cases (or `POLYTROPE_ORACLE_CASES`),
+/// prints the counts and the first findings, and asserts that none of the
+/// rules was broken.
+fn assert_oracle_clean(label: &str, default_cases: u64, seed: u64, f32: bool, min_cases: u64) {
     let cases = std::env::var("POLYTROPE_ORACLE_CASES")
         .ok()
         .and_then(|s| s.parse().ok())
-        .unwrap_or(6_000);
-    let c = oracle(cases, 0x5eed_0b5e_11ed_0011, false);
+        .unwrap_or(default_cases);
+    let c = oracle(cases, seed, f32);
     eprintln!(
-        "oracle: {} cases; unrelated outputs changed {}; check-only deps changed a value {}; \
+        "oracle {label}: {} cases; unrelated outputs changed {}; check-only deps changed a value {}; \
          bad/uncertain input, dependent output good {}; implausible input, dependent output \
          good {}; good totals moved by a bad stage {}; implausible good outputs {}",
         c.cases,
@@ -714,7 +716,7 @@ fn every_slot_perturbed_quality_follows_use_and_good_is_plausible() {
     for l in &c.first {
         eprintln!("  {l}");
     }
-    assert!(c.cases > 1000);
+    assert!(c.cases > min_cases);
     assert_eq!(
         (
             c.unrelated_changed,
@@ -728,39 +730,16 @@ fn every_slot_perturbed_quality_follows_use_and_good_is_plausible() {
     );
 }
 
+#[test]
+fn every_slot_perturbed_quality_follows_use_and_good_is_plausible() {
+    assert_oracle_clean("f64", 6_000, 0x5eed_0b5e_11ed_0011, false, 1000);
+}
+
 /// The same run on the f32 device build (fewer cases: the rule is the same
 /// code; this catches a build-dependent threshold or finiteness slip).
 #[test]
 fn every_slot_perturbed_in_the_f32_build() {
-    let cases = std::env::var("POLYTROPE_ORACLE_CASES")
-        .ok()
-        .and_then(|s| s.parse().ok())
-        .unwrap_or(3_000);
-    let c = oracle(cases, 0x5eed_0b5e_11ed_0f32, true);
-    eprintln!(
-        "oracle f32: {} cases; {} {} {} {} {}",
-        c.cases,
-        c.unrelated_changed,
-        c.check_dep_value_changed,
-        c.bad_input_dependent_good,
-        c.implausible_input_dependent_good,
-        c.implausible_good
-    );
-    for l in &c.first {
-        eprintln!("  {l}");
-    }
-    assert!(c.cases > 500);
-    assert_eq!(
-        (
-            c.unrelated_changed,
-            c.check_dep_value_changed,
-            c.bad_input_dependent_good,
-            c.implausible_input_dependent_good,
-            c.implausible_good
-        ),
-        (0, 0, 0, 0, 0),
-        "see the listing above"
-    );
+    assert_oracle_clean("f32", 3_000, 0x5eed_0b5e_11ed_0f32, true, 500);
 }
 
 /// The same run with a cp(T) gas (CO2's polynomial), where k and cp use the
@@ -768,35 +747,7 @@ fn every_slot_perturbed_in_the_f32_build() {
 #[test]
 fn every_slot_perturbed_with_a_cp_polynomial_gas() {
     MODEL.with(|m| m.set(Model::CpPolynomial));
-    let cases = std::env::var("POLYTROPE_ORACLE_CASES")
-        .ok()
-        .and_then(|s| s.parse().ok())
-        .unwrap_or(3_000);
-    let c = oracle(cases, 0x5eed_0b5e_11ed_0c9e, false);
-    eprintln!(
-        "oracle cp(T): {} cases; {} {} {} {} {}",
-        c.cases,
-        c.unrelated_changed,
-        c.check_dep_value_changed,
-        c.bad_input_dependent_good,
-        c.implausible_input_dependent_good,
-        c.implausible_good
-    );
-    for l in &c.first {
-        eprintln!("  {l}");
-    }
-    assert!(c.cases > 1000);
-    assert_eq!(
-        (
-            c.unrelated_changed,
-            c.check_dep_value_changed,
-            c.bad_input_dependent_good,
-            c.implausible_input_dependent_good,
-            c.implausible_good
-        ),
-        (0, 0, 0, 0, 0),
-        "see the listing above"
-    );
+    assert_oracle_clean("cp(T)", 3_000, 0x5eed_0b5e_11ed_0c9e, false, 1000);
 }
 
 /// The same run on the demo train's own Peng–Robinson CO2 (every property
@@ -804,35 +755,7 @@ fn every_slot_perturbed_with_a_cp_polynomial_gas() {
 #[test]
 fn every_slot_perturbed_with_the_peng_robinson_demo_gas() {
     MODEL.with(|m| m.set(Model::PengRobinson));
-    let cases = std::env::var("POLYTROPE_ORACLE_CASES")
-        .ok()
-        .and_then(|s| s.parse().ok())
-        .unwrap_or(3_000);
-    let c = oracle(cases, 0x5eed_0b5e_11ed_0b12, false);
-    eprintln!(
-        "oracle Peng-Robinson: {} cases; {} {} {} {} {}",
-        c.cases,
-        c.unrelated_changed,
-        c.check_dep_value_changed,
-        c.bad_input_dependent_good,
-        c.implausible_input_dependent_good,
-        c.implausible_good
-    );
-    for l in &c.first {
-        eprintln!("  {l}");
-    }
-    assert!(c.cases > 1000);
-    assert_eq!(
-        (
-            c.unrelated_changed,
-            c.check_dep_value_changed,
-            c.bad_input_dependent_good,
-            c.implausible_input_dependent_good,
-            c.implausible_good
-        ),
-        (0, 0, 0, 0, 0),
-        "see the listing above"
-    );
+    assert_oracle_clean("Peng-Robinson", 3_000, 0x5eed_0b5e_11ed_0b12, false, 1000);
 }
 
 #[test]
