@@ -272,7 +272,9 @@ pub struct Ledger<T, const N: usize> {
     /// What the chain does not attribute (flow differences between stages,
     /// lines that could not be computed, rounding), W.
     pub remainder: Measured<T>,
-    /// The measured total power (compressor gas power + pump power), W.
+    /// The measured total power, W: the train totals' `total_power`
+    /// (compressor gas power m·Δh, before mechanical losses, plus pump shaft
+    /// power from the configured pump efficiency).
     pub measured_total: Measured<T>,
 }
 
@@ -456,7 +458,7 @@ impl<T: Real, const N: usize> ResultFields<T> for Ledger<T, N> {
             "ledger_measured_total_W",
             "Measured total power",
             Derivation::PassThrough,
-            "Compressor gas power plus pump power; the ledger's end.",
+            "The train's total power (`total_power_W`): compressor gas power (m·Δh, before mechanical losses) plus pump shaft power; the ledger's end.",
         ),
     ];
 

@@ -55,7 +55,10 @@ pub struct TrainTotals<T> {
     pub compressor_power: Measured<T>,
     /// Sum of the pump stages' shaft power, W.
     pub pump_power: Measured<T>,
-    /// Compressor plus pump power, W.
+    /// Compressor gas power plus pump shaft power, W: the power the gas
+    /// takes up in the compressors (m·Δh, before bearing, seal and gear
+    /// losses) plus what the pumps' shafts take (hydraulic power over the
+    /// configured efficiency). Not a driver or electrical power.
     pub total_power: Measured<T>,
     /// Reversible isothermal work from the first suction pressure to the
     /// last compressor discharge pressure at the first suction temperature,

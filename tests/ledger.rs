@@ -594,8 +594,12 @@ fn demo_train_ledger_closes_on_the_measured_power() {
         let total = l.measured_total.value;
         assert!(total > 1e6);
         assert!(((l.sum_of_lines() - total) / total).abs() < 1e-12);
-        // The pump is outside the gas ledger, its power its own line.
+        // The pump is outside the gas ledger, its power its own line; the
+        // gas ledger alone closes on the compressor gas power (consistency
+        // check: the two bases of the total, README "Which total").
         assert_eq!(l.pumps.value, snap.stages[4].power().value);
+        let gas = snap.totals.compressor_power.value;
+        assert!(((l.sum_of_lines() - l.pumps.value - gas) / gas).abs() < 1e-12);
         for (name, v, _) in lines(&l) {
             assert!(v.is_finite(), "{name}");
         }
