@@ -632,34 +632,33 @@ pub fn evaluate_ledger_into<T: Real, G: GasModel<T>, const N: usize>(
     recycle_mass_flow: Measured<T>,
     out: &mut Ledger<T, N>,
 ) {
-    *out = Ledger::bad();
     let gas = &config.gas;
-    out.compressor_stages = snapshot.totals.compressor_stages;
-    let nc = usize::from(snapshot.totals.compressor_stages);
-    out.measured_total = snapshot.totals.total_power;
+    let totals = &snapshot.totals;
+    out.compressor_stages = totals.compressor_stages;
+    let nc = usize::from(totals.compressor_stages);
+    out.measured_total = totals.total_power;
 
-    // Pumps, and zero lines where a cause cannot exist.
-    let mut pumps = Sum::new();
-    for (i, st) in snapshot.stages.iter().enumerate() {
-        if let StageWork::Pump(p) = &st.work {
-            pumps.add(p.power);
-        }
-        if i == 0 || i >= nc {
-            if let Some(m) = out.intercooling.get_mut(i) {
-                *m = Measured::good(T::ZERO);
-            }
-        }
-        if i >= nc {
-            if let Some(m) = out.stage_inefficiency.get_mut(i) {
-                *m = Measured::good(T::ZERO);
-            }
-        }
+    // Per-stage lines: zero where a cause cannot exist (the first stage's
+    // intercooling, pump stages), bad until the chain prices them. The
+    // train-wide lines the chain prices start bad.
+    let bad = Measured::bad();
+    let zero = Measured::good(T::ZERO);
+    for (i, (ic, ie)) in out
+        .intercooling
+        .iter_mut()
+        .zip(out.stage_inefficiency.iter_mut())
+        .enumerate()
+    {
+        *ic = if i == 0 || i >= nc { zero } else { bad };
+        *ie = if i >= nc { zero } else { bad };
     }
-    out.pumps = if pumps.count == 0 {
-        Measured::good(T::ZERO)
-    } else {
-        pumps.get()
-    };
+    out.isothermal_power = bad;
+    out.stage_count = bad;
+    out.pressure_drops = bad;
+    out.pressure_split = bad;
+    out.coolant_temperature = bad;
+    // Pumps only end a train: the update's pump-power sum, read.
+    out.pumps = if nc < N { totals.pump_power } else { zero };
 
     // Forward flow and recycle.
     let first = snapshot.stages.first().and_then(|s| s.compressor());
@@ -934,7 +933,9 @@ fn stage_read<T: Real, const N: usize>(
 /// ([`GasModel::isentropic_head_rescaled`]: the value then depends on the
 /// stage's suction temperature only through a factor that cancels),
 /// otherwise evaluates the model.
-#[inline]
+// Always inlined (the rescale is a few instructions; as a call the stage's
+// read was spilled to the stack for it); the model's path is out of line.
+#[inline(always)]
 fn reference_head<T: Real, G: GasModel<T>>(
     gas: &G,
     e: &StageRead<T>,
@@ -957,8 +958,19 @@ fn reference_head<T: Real, G: GasModel<T>>(
             };
         }
     }
+    reference_head_model(gas, e, t_ref.value, q)
+}
+
+/// [`reference_head`] through the model (no rescale available).
+#[inline(never)]
+fn reference_head_model<T: Real, G: GasModel<T>>(
+    gas: &G,
+    e: &StageRead<T>,
+    t_ref: T,
+    q: Quality,
+) -> Work<T> {
     let ln_r = T::ln(e.ratio.value);
-    let (w, qv) = isentropic(gas, e.p1, t_ref.value, e.p2, ln_r, e.z);
+    let (w, qv) = isentropic(gas, e.p1, t_ref, e.p2, ln_r, e.z);
     Work {
         value: w,
         quality: q.worst(qv),
