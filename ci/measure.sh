@@ -25,37 +25,69 @@ gcc -O2 -Wall -Wextra -shared -fPIC -o "$work/libicount.so" ci/qemu-plugin/icoun
 
 declare -A machine=([thumbv7em-none-eabihf]="-cpu cortex-m4 -machine mps2-an386"
                     [thumbv6m-none-eabi]="-cpu cortex-m0 -machine microbit")
+
+# run_qemu ELF TARGET TAG: runs one harness under the plugin; writes
+# $work/TAG.log and $work/TAG.counts.
+run_qemu() {
+  local elf=$1 target=$2 tag=$3 start stop
+  start=$(nm "$elf" | awk '/ T polytrope_measure_start$/{print $1}')
+  stop=$(nm "$elf" | awk '/ T polytrope_measure_stop$/{print $1}')
+  echo "measure: running $(basename "$elf") on QEMU ($tag)"
+  rm -f "$work/$tag.counts"
+  # shellcheck disable=SC2086
+  timeout 300 qemu-system-arm ${machine[$target]} -nographic \
+    -semihosting-config enable=on,target=native \
+    -plugin "$work/libicount.so,start=0x$start,stop=0x$stop,out=$root/$work/$tag.counts" \
+    -kernel "$elf" > "$work/$tag.log" 2>&1 || {
+      echo "measure: $(basename "$elf") failed on $tag:" >&2; tail -5 "$work/$tag.log" >&2; exit 1; }
+  grep -qx 'END ok' "$work/$tag.log" || { echo "measure: $(basename "$elf") did not finish on $tag" >&2; exit 1; }
+}
+
 for target in thumbv7em-none-eabihf thumbv6m-none-eabi; do
   echo "measure: building firmware for $target"
-  # `minimal` and `proof` link only if no panic path of any public entry point
-  # survives (their panic handler calls an undefined symbol; see
-  # ci/firmware/src/proof.rs); `gateway` adds the register image.
+  # `minimal`, `controller`, `proof` and `gateway` link only if no panic
+  # path of any public entry point survives (their panic handler calls an
+  # undefined symbol; see ci/firmware/src/proof.rs); `gateway` adds the
+  # register image.
   if ! (cd $fw && cargo build -q --release --target $target --bins); then
     echo "measure: firmware build failed for $target (a reachable panic shows as an" >&2
     echo "         undefined symbol polytrope_reachable_panic_path)" >&2
     exit 1
   fi
-  elf=$fw/target/$target/release/harness
-  start=$(nm "$elf" | awk '/ T polytrope_measure_start$/{print $1}')
-  stop=$(nm "$elf" | awk '/ T polytrope_measure_stop$/{print $1}')
-  echo "measure: running the harness on QEMU ($target)"
-  # shellcheck disable=SC2086
-  timeout 300 qemu-system-arm ${machine[$target]} -nographic \
-    -semihosting-config enable=on,target=native \
-    -plugin "$work/libicount.so,start=0x$start,stop=0x$stop,out=$root/$work/$target.counts" \
-    -kernel "$elf" > "$work/$target.log" 2>&1 || {
-      echo "measure: harness failed on $target:" >&2; tail -5 "$work/$target.log" >&2; exit 1; }
-  grep -qx 'END ok' "$work/$target.log" || { echo "measure: harness did not finish on $target" >&2; exit 1; }
-  for bin in minimal empty gateway; do
+  run_qemu "$fw/target/$target/release/harness" $target $target
+  # The whole controller scan runs in a harness of its own (the Cortex-M0
+  # board's 16 KiB of RAM hold its state beside nothing else).
+  run_qemu "$fw/target/$target/release/full_scan" $target $target.scan
+  for bin in minimal controller empty gateway; do
     size -A "$fw/target/$target/release/$bin" > "$work/$target.$bin.size"
   done
 done
 
+# The feature builds (Cortex-M4F only), each in a target directory of its
+# own: approx-math (micromath ln/exp/pow) and inline-math (libm's logf/expf
+# inlined at every call site instead of kept out of line).
+target=thumbv7em-none-eabihf
+for feature in approx-math inline-math; do
+  tag=$target+$feature
+  echo "measure: building firmware for $tag"
+  (cd $fw && CARGO_TARGET_DIR=target/$feature cargo build -q --release --target $target \
+    --features $feature --bin harness --bin full_scan --bin controller --bin empty)
+  run_qemu "$fw/target/$feature/$target/release/harness" $target $tag
+  run_qemu "$fw/target/$feature/$target/release/full_scan" $target $tag.scan
+  for bin in controller empty; do
+    size -A "$fw/target/$feature/$target/release/$bin" > "$work/$tag.$bin.size"
+  done
+done
+
 python3 - "$work" "$out_md" <<'EOF'
-import sys, re, collections
+import sys, re, collections, json
 work, out_md = sys.argv[1], sys.argv[2]
 targets = [("thumbv7em-none-eabihf", "Cortex-M4F", 120), ("thumbv6m-none-eabi", "Cortex-M0", 48)]
 labels_doc = {
+    "full_scan": "**whole controller scan**: 12 × `Channel::update` → 4-stage + 3-intercooler `Train::update` → 4 × `SurgeMonitor::update` (one call; `ci/firmware/src/controller.rs`)",
+    "full_scan_channels": "… of which the 12 channels (phase 1, measured as its own call in the same firmware)",
+    "full_scan_train": "… of which the train update on their pressures (phase 2, same firmware)",
+    "full_scan_monitors": "… of which the 4 surge monitors (phase 3, same firmware)",
     "compressor_stage": "one compressor stage (ideal gas with Z)",
     "compressor_stage_peng_robinson": "one compressor stage, Peng–Robinson 5-component natural gas (two states, entropy match, Schultz)",
     "intercooler": "one intercooler",
@@ -63,10 +95,10 @@ labels_doc = {
     "update_4_stages_3_intercoolers": "**full update, 4 stages + 3 intercoolers** (ideal gas, CO2 with constant k)",
     "update_4_stages_3_intercoolers_peng_robinson": "**full update, 4 stages + 3 intercoolers, Peng–Robinson CO2**",
     "update_demo_5_stages": "full update, demo train (Peng–Robinson CO2: 4 compressors, 3 intercoolers, aftercooler, pump)",
+    "train_new_demo_5_stages": "`Train::new` of the demo train (once, at start-up)",
     "ledger_4_stages": "loss ledger after that update (`evaluate_ledger_into`, 4 stages, first-suction reference)",
     "ledger_4_stages_coolant_reference": "loss ledger, 4 stages, coolant-inlet-plus-approach reference",
     "ledger_4_stages_peng_robinson": "loss ledger, 4 stages, Peng–Robinson CO2",
-    "train_new_demo_5_stages": "`Train::new` of the demo train (once, at start-up)",
     "surge_margin_update": "surge margin, one `SurgeMonitor::update` (4-point line, rate filter settled)",
     "surge_margin_update_measured_exponent": "surge margin with σ from the measured temperatures (`with_measured_exponent`, σ filter settled)",
     "signal_channel_4_20ma": "signal front end, one 4–20 mA channel `Channel::update` (scaling, plausibility, 5-sample median, low-pass)",
@@ -76,12 +108,12 @@ labels_doc = {
     "compressor_stage_table_ng_booster": "one compressor stage on the NG booster table through the gas seam (`evaluate_compressor_into`: states, entropy match, Schultz)",
     "update_4_stages_3_intercoolers_table": "**full update, 4 stages + 3 intercoolers, GERG-2008 table (demo CO2 table; Cortex-M4F only)**",
 }
-res = {}
-for t, _, _ in targets:
-    log = open(f"{work}/{t}.log").read().splitlines()
+def regions(tag):
+    """Largest net count per region name and the S figures of one log."""
+    log = open(f"{work}/{tag}.log").read().splitlines()
     names = {int(l.split()[1]): l.split()[2] for l in log if l.startswith("M ")}
     counts = {}
-    for l in open(f"{work}/{t}.counts"):
+    for l in open(f"{work}/{tag}.counts"):
         m = re.match(r"region (\d+): (\d+)", l)
         counts[int(m.group(1))] = int(m.group(2))
     base = counts[[k for k, v in names.items() if v == "empty"][0]]
@@ -90,16 +122,46 @@ for t, _, _ in targets:
         if v != "empty":
             per[v].append(counts[k] - base)
     s = {l.split()[1]: int(l.split()[2]) for l in log if l.startswith("S ")}
-    def sec(bin):
-        d = {}
-        for l in open(f"{work}/{t}.{bin}.size"):
-            f = l.split()
-            if len(f) >= 2 and f[0].startswith(".") and f[1].isdigit():
-                d[f[0]] = int(f[1])
-        flash = d.get(".vector_table", 0) + d.get(".text", 0) + d.get(".rodata", 0) + d.get(".data", 0)
-        ram = d.get(".data", 0) + d.get(".bss", 0) + d.get(".uninit", 0)
-        return flash, ram
-    res[t] = (per, s, sec("minimal"), sec("empty"), base, sec("gateway"))
+    return per, s
+
+def sec(tag, bin):
+    d = {}
+    for l in open(f"{work}/{tag}.{bin}.size"):
+        f = l.split()
+        if len(f) >= 2 and f[0].startswith(".") and f[1].isdigit():
+            d[f[0]] = int(f[1])
+    flash = d.get(".vector_table", 0) + d.get(".text", 0) + d.get(".rodata", 0) + d.get(".data", 0)
+    ram = d.get(".data", 0) + d.get(".bss", 0) + d.get(".uninit", 0)
+    return flash, ram
+
+res = {}
+for t, _, _ in targets:
+    per, s = regions(t)
+    per2, s2 = regions(t + ".scan")
+    per.update(per2)
+    s.update(s2)
+    res[t] = (per, s, sec(t, "minimal"), sec(t, "empty"), 0, sec(t, "controller"), sec(t, "gateway"))
+
+# Every figure, machine-readable, for ci/check_budgets.py.
+figures = {}
+for t, _, _ in targets:
+    per, s, mini, empty, _, ctl, _ = res[t]
+    f = {k: max(v) for k, v in per.items()}
+    f.update(s)
+    f["flash_minimal"] = mini[0] - empty[0]
+    f["flash_controller"] = ctl[0] - empty[0]
+    figures[t] = f
+for feature in ("approx-math", "inline-math"):
+    at = "thumbv7em-none-eabihf+" + feature
+    per, s = regions(at)
+    per2, s2 = regions(at + ".scan")
+    per.update(per2)
+    fa = {k: max(v) for k, v in per.items()}
+    fa.update(s)
+    fa.update(s2)
+    fa["flash_controller"] = sec(at, "controller")[0] - sec(at, "empty")[0]
+    figures[at] = fa
+json.dump(figures, open(f"{work}/figures.json", "w"), indent=1, sort_keys=True)
 
 L = []
 L.append("<!-- generated by ci/measure.sh; do not edit by hand -->")
@@ -129,6 +191,12 @@ L.append("| memory | " + " | ".join(n for _, n, _ in targets) + " |")
 L.append("|---|" + "---:|" * len(targets))
 def row(doc, f):
     L.append(f"| {doc} | " + " | ".join(f(t) for t, _, _ in targets) + " |")
+row("**kernel flash of the whole controller scan** (text + rodata): `controller` firmware minus `empty` firmware, bytes",
+    lambda t: f"{figures[t]['flash_controller']:,}")
+row("**stack high-water mark of one whole controller scan**, bytes",
+    lambda t: f"{res[t][1]['stack_full_scan']:,}")
+row("controller state: train, 12 channels, 4 surge monitors (`size_of`), bytes",
+    lambda t: f"{res[t][1]['state_full_scan']:,} (one channel {res[t][1]['state_channel']:,}, one monitor {res[t][1]['state_surge_monitor']:,})")
 row("kernel flash (text + rodata): minimal firmware minus empty firmware, bytes",
     lambda t: f"{res[t][2][0] - res[t][3][0]:,}")
 row("minimal firmware flash / static RAM (data + bss), bytes",
@@ -152,7 +220,7 @@ row("stack high-water mark of one surge-margin update, bytes",
 row("stack high-water mark of one 4–20 mA channel update, bytes",
     lambda t: f"{res[t][1]['stack_signal_channel_4_20ma']:,}")
 row("register image packer flash: gateway firmware minus minimal firmware, bytes",
-    lambda t: f"{res[t][5][0] - res[t][2][0]:,}")
+    lambda t: f"{res[t][6][0] - res[t][2][0]:,}")
 row("register image (`size_of`, demo train + 1 surge monitor + 1 channel), bytes / registers",
     lambda t: f"{res[t][1]['register_image_bytes']:,} / {res[t][1]['register_image_registers']:,}")
 row("stack high-water mark of one register-image pack, bytes",
@@ -165,9 +233,17 @@ L.append("Static RAM is zero because the minimal firmware keeps the train on the
          "The minimal firmware also builds and updates a surge-margin monitor and a "
          "4–20 mA channel (invented demo settings, `ci/firmware/src/front.rs`), so the "
          "kernel flash row includes them. "
-         "Panic-freedom: the minimal firmware links with a panic handler that calls an "
+         "The whole controller scan runs in a harness of its own (`full_scan`; "
+         "`ci/firmware/src/controller.rs`: 12 transmitter channels, per stage suction "
+         "pressure, discharge pressure and flow-element Δp, the train fed by their "
+         "filtered pressures and the other readings of the committed scan, one surge "
+         "monitor per stage fed by their unfiltered values; warmed, then three measured "
+         "scans); its kernel flash is the `controller` firmware (the same scan once, no "
+         "output code) minus `empty`, so it counts everything the scan links, "
+         "configuration checks included. "
+         "Panic-freedom: the minimal and controller firmwares link with a panic handler that calls an "
          "undefined symbol, so no panic path of `Train::new` / `Train::update`, "
-         "`SurgeMonitor::new` / `update` or `Channel::new` / `update` survives, and the "
+         "`SurgeMonitor::new` / `update`, `Channel::new` / `update` or the whole scan survives, and the "
          "`proof` firmware does the same for every other public entry point (surge "
          "detection, recycle controller and outputs, orifice, flow element, low-flow "
          "cut-off, cross-checks, event log, recycle loss, the loss ledger, the gas models: Peng–Robinson construction and composition update, state functions, entropy match, polytropic methods: `ci/firmware/src/proof.rs`), and the "
@@ -175,7 +251,26 @@ L.append("Static RAM is zero because the minimal firmware keeps the train on the
          "`RegisterImage::new` / `pack` and `decode_command`; "
          "`ci/checks.d/firmware.sh` also checks that a deliberately panicking probe fails "
          "to link.")
+L.append("")
+L.append("Feature builds on Cortex-M4F (same harness, same scans): `approx-math` routes `ln`, `exp`, "
+         "`powf` to `micromath`; `inline-math` lets LTO inline libm's `logf`/`expf` at every call site "
+         "(the default keeps one out-of-line copy of each; results bit-identical).")
+L.append("")
+L.append("| Cortex-M4F | default build | `approx-math` | `inline-math` |")
+L.append("|---|---:|---:|---:|")
+m4 = figures["thumbv7em-none-eabihf"]
+fa = figures["thumbv7em-none-eabihf+approx-math"]
+fi = figures["thumbv7em-none-eabihf+inline-math"]
+for key, doc in [("full_scan", "whole controller scan, instructions"),
+                 ("update_4_stages_3_intercoolers", "train update, 4 stages + 3 intercoolers, instructions"),
+                 ("surge_margin_update", "one `SurgeMonitor::update`, instructions"),
+                 ("signal_channel_4_20ma", "one `Channel::update`, instructions"),
+                 ("flash_controller", "kernel flash of the whole controller scan, bytes"),
+                 ("stack_full_scan", "stack of one whole controller scan, bytes")]:
+    L.append(f"| {doc} | {m4[key]:,} | {fa[key]:,} | {fi[key]:,} |")
 open(out_md, "w").write("\n".join(L) + "\n")
 print("\n".join(L))
 EOF
+{ echo; echo "Budgets (\`ci/budgets.toml\`; \`ci/checks.d/firmware.sh\` fails CI when a figure exceeds its enforced budget):"; echo
+  python3 ci/check_budgets.py --markdown "$work/figures.json" ci/budgets.toml; } >> "$out_md"
 echo "measure: wrote $out_md"

@@ -23,7 +23,7 @@ cargo fmt --all --check
 
 step "no_std cross builds (every target x every feature set)"
 for target in thumbv6m-none-eabi thumbv7em-none-eabihf riscv32imac-unknown-none-elf; do
-  for features in "" "defmt" "approx-math" "defmt,approx-math" "embedded-hal,demo"; do
+  for features in "" "defmt" "approx-math" "defmt,approx-math" "embedded-hal,demo" "inline-math"; do
     echo "  $target [${features:-no features}]"
     cargo build -q -p polytrope --lib --release --target "$target" --no-default-features --features "$features"
   done

@@ -65,6 +65,16 @@ impl SampleClock {
     /// Classifies stamp `t_ms`, with a gap above `gap_ms`, and returns the
     /// sanitised time elapsed since the previous stamp, ms.
     pub fn tick(&mut self, t_ms: u64, gap_ms: u64) -> (Tick, u64) {
+        self.tick_gap_if(t_ms, |dt, _| dt > gap_ms)
+    }
+
+    /// As [`SampleClock::tick`], with the gap decided by `is_gap(dt_ms,
+    /// period_ms)` (called only for an advancing stamp once a period is
+    /// known), so a caller whose gap limit is a maximum of several terms
+    /// can test them one at a time (`dt > max(a, b)` is `dt > a && dt > b`)
+    /// and skip the 64-bit arithmetic of the rare ones.
+    #[inline]
+    pub fn tick_gap_if(&mut self, t_ms: u64, is_gap: impl FnOnce(u64, u64) -> bool) -> (Tick, u64) {
         let Some(last) = self.last_ms else {
             self.last_ms = Some(t_ms);
             return (Tick::First, 0);
@@ -72,7 +82,7 @@ impl SampleClock {
         if t_ms > last {
             let dt = t_ms - last;
             self.last_ms = Some(t_ms);
-            if dt > gap_ms && self.period_ms.is_some() {
+            if self.period_ms.is_some_and(|p| is_gap(dt, p.max(1))) {
                 (Tick::Gap, dt)
             } else {
                 self.period_ms = Some(dt);

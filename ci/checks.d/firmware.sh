@@ -1,12 +1,15 @@
 #!/usr/bin/env bash
 # On-target check (run by ci/test.sh): the kernel on emulated Cortex-M4F
 # (QEMU mps2-an386) and Cortex-M0 (QEMU microbit).
-#  1. builds ci/firmware for both targets; the `minimal`, `proof` and
-#     `gateway` bins link only if no panic path of any public entry point
-#     survives (the train, surge monitor and channel; ci/firmware/src/proof.rs
-#     for the rest; the register image in `gateway`; link-time check);
+#  1. builds ci/firmware for both targets; the `minimal`, `controller`,
+#     `proof` and `gateway` bins link only if no panic path of any public
+#     entry point survives (the train, surge monitor and channel, the whole
+#     controller scan; ci/firmware/src/proof.rs for the rest; the register
+#     image in `gateway`; link-time check);
 #  2. runs the harness under QEMU and re-takes the instruction counts, sizes
 #     and stack (ci/measure.sh; the table is printed, not committed here);
+#     and fails when a figure exceeds its budget in ci/budgets.toml
+#     (ci/check_budgets.py, after its self-test);
 #  3. compares every printed output with the f64 reference build within
 #     polytrope::tolerance (tests/firmware_outputs.rs);
 #  4. proves the panic check can fail: a deliberately panicking probe must
@@ -30,6 +33,12 @@ table=$(mktemp)
 trap 'rm -f "$table"' EXIT
 ci/measure.sh "$table" >/dev/null
 cat "$table"
+
+# 2b: the budgets (ci/budgets.toml): a figure above its budget fails (the
+# self-test first shows the check refuses each figure raised over its budget).
+figures=ci/firmware/target/measure/figures.json
+python3 ci/check_budgets.py --self-test "$figures" ci/budgets.toml
+python3 ci/check_budgets.py "$figures" ci/budgets.toml
 
 # 3: device outputs against the f64 reference.
 logs=ci/firmware/target/measure

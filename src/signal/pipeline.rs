@@ -149,10 +149,12 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
     /// by more than the gap limit (`hold_ms`, or 8 sample periods if longer)
     /// restarts the filters from the new sample.
     pub fn update(&mut self, raw: T, t_ms: u64) -> ChannelOutput<T> {
-        let gap_ms = u64::from(self.config.hold_ms)
-            .max(self.clock.period_ms().saturating_mul(8))
-            .max(1);
-        let (tick, dt_ms) = self.clock.tick(t_ms, gap_ms);
+        // Gap limit max(hold_ms, 8 periods, 1 ms), one term at a time: the
+        // usual interval is below hold_ms and skips the 64-bit product.
+        let hold_ms = u64::from(self.config.hold_ms);
+        let (tick, dt_ms) = self.clock.tick_gap_if(t_ms, |dt, period| {
+            dt > hold_ms && dt > period.saturating_mul(8) && dt > 1
+        });
         self.filter_time_ms = self.filter_time_ms.saturating_add(dt_ms);
         if matches!(tick, Tick::Gap | Tick::SteppedBack) {
             self.median.reset();

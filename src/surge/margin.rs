@@ -48,10 +48,9 @@
 //! the rate filter (rate and time to surge bad until it settles again, after
 //! `4 τ_a`, uncertain before).
 //!
-//! Cost per scan: one `ln`, one `exp`, two `sqrt`, at most `N` table steps and
+//! Cost per scan: one `ln`, one `exp`, one `sqrt`, at most `N` table steps and
 //! a handful of multiplications for the rate; the measured-exponent mode adds
-//! two `ln` and four divisions (measured on Cortex-M4F: 551 instructions
-//! configured, 761 measured; `ci/measurements.md`).
+//! two `ln` and four divisions (figures: `ci/measurements.md`).
 
 use super::check_setting;
 use super::coordinates::{flow_number, head_number, signed_sqrt};
@@ -407,9 +406,15 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             fault = SurgeFault::BeyondMap;
         }
         let lq = look.quality.worst(y.quality);
-        let surge_q = T::sqrt(look.surge_flow_number);
-        let margin =
-            Measured::derived(signed_sqrt(x.value) / surge_q - T::ONE, lq.worst(x.quality));
+        // sign(X)·√|X| / √X_s = sign(X)·√(|X|/X_s): one square root, not two
+        // (X_s > 0 on a validated line; anything else is bad, fail-safe).
+        let xs = look.surge_flow_number;
+        let mq = if xs > T::ZERO {
+            lq.worst(x.quality)
+        } else {
+            Quality::Bad
+        };
+        let margin = Measured::derived(signed_sqrt(x.value / xs) - T::ONE, mq);
         let added = if T::is_finite(added_margin) {
             T::max(added_margin, T::ZERO)
         } else {

@@ -4,9 +4,11 @@
 #![no_std]
 
 pub mod codec;
+pub mod controller;
 pub mod front;
 pub mod gas_tables;
 pub mod proof;
+pub mod report;
 pub mod table;
 
 /// Ends the program through semihosting (QEMU exits with this status).

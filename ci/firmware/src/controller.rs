@@ -1,0 +1,325 @@
+//! One whole controller scan as a user's firmware runs it: the 12 fast
+//! 4–20 mA channels, the 4-stage, 3-intercooler train fed by them, and one
+//! surge-margin monitor per stage fed by the same channels. Measured as one
+//! call by the harness (`full_scan`); the `controller` firmware's size minus
+//! `empty` is the kernel flash everything here links.
+//!
+//! Wiring (an invented controller; demo data): per stage one suction
+//! pressure, one discharge pressure and one suction flow-element differential
+//! pressure transmitter (channels `3 i`, `3 i + 1`, `3 i + 2`). The train's
+//! scan takes the filtered pressures (`ChannelOutput::pressure`); each surge
+//! monitor takes the unfiltered values of the same three channels
+//! (`ChannelOutput::raw_pressure`, `ChannelOutput::raw`), as the signal
+//! front end advises for the protection path. Temperatures, mass flow,
+//! compressibility and the cooler readings come with the committed scan (in
+//! this invented controller a slower RTD scanner and a flow computer deliver
+//! them already validated); the scan period is 20 ms.
+
+use polytrope::demo;
+use polytrope::gas::{GasModel, IdealGas, CARBON_DIOXIDE};
+use polytrope::signal::{Channel, ChannelConfig, InstrumentClass, SignalKind, Unit};
+use polytrope::surge::{
+    MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
+};
+use polytrope::train::{Snapshot, Train, TrainConfig};
+use polytrope::units::{Kelvin, PressureAbs};
+use polytrope::ConfigError;
+
+use crate::codec::{decode_scan, RawStage};
+
+/// Compressor stages (and surge monitors) of the controller's train.
+pub const SECTIONS: usize = 4;
+/// 4–20 mA channels: three per stage.
+pub const CHANNELS: usize = 3 * SECTIONS;
+/// Scan period, ms.
+pub const SCAN_MS: u64 = 20;
+/// Scans run before measuring: channel windows full, rate filters settled
+/// (4 τ), the steady-state window full.
+pub const WARM_SCANS: usize = 13;
+
+/// The train: the demo's first four stages, three intercoolers.
+pub type SectionTrain<G> = Train<f32, G, SECTIONS, { demo::WINDOW }>;
+/// One transmitter channel: 8-sample frozen window, 5-sample median.
+pub type TransmitterChannel = Channel<f32, 8, 5>;
+/// One surge-margin monitor: a 4-point line.
+pub type SectionMonitor = SurgeMonitor<f32, 4>;
+
+/// Flow-element differential pressure over suction pressure of the invented
+/// operating point (about 20 % above the surge line).
+const FLOW_NUMBER: f32 = 0.026;
+
+/// The controller's state: everything a scan reads and writes.
+#[derive(Clone, Debug)]
+pub struct Controller<G> {
+    train: SectionTrain<G>,
+    channels: [TransmitterChannel; CHANNELS],
+    monitors: [SectionMonitor; SECTIONS],
+    last_ms: Option<u64>,
+}
+
+/// What one scan hands on (the rest stays readable in the state).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct ScanSummary {
+    /// Train total gas power, W.
+    pub total_power: f32,
+    /// Surge margin per stage, -.
+    pub margins: [f32; SECTIONS],
+}
+
+/// The controller's gas: the demo's CO2 as an ideal gas with constant k
+/// and the configured Z (the ideal-gas path whose figures the budgets
+/// track).
+pub fn ideal_gas() -> Result<IdealGas<f32>, ConfigError> {
+    IdealGas::from_spec(&CARBON_DIOXIDE, false, 1.0)
+}
+
+/// The train configuration: the demo's first four stages, the fourth
+/// without its aftercooler, on `gas` (whatever gas the demo uses).
+pub fn train_config<D, G>(
+    demo: &TrainConfig<f32, D, { demo::STAGES }>,
+    gas: G,
+) -> TrainConfig<f32, G, SECTIONS> {
+    let mut stages = [demo.stages[0]; SECTIONS];
+    for (s, d) in stages.iter_mut().zip(demo.stages.iter()) {
+        *s = *d;
+    }
+    stages[SECTIONS - 1].cooler = None;
+    TrainConfig {
+        gas,
+        stages,
+        max_interstage_pressure_drop: demo.max_interstage_pressure_drop,
+        steady_state: demo.steady_state,
+    }
+}
+
+/// The first four stages of a committed scan, the fourth without cooler:
+/// what the slower inputs deliver.
+pub fn section_scan(raw: &[RawStage; demo::STAGES]) -> polytrope::scan::Scan<f32, SECTIONS> {
+    let full = decode_scan::<f32, { demo::STAGES }>(raw);
+    let mut stages = [full.stages[0]; SECTIONS];
+    for (s, f) in stages.iter_mut().zip(full.stages.iter()) {
+        *s = *f;
+    }
+    stages[SECTIONS - 1].cooler = None;
+    polytrope::scan::Scan { stages }
+}
+
+/// A transmitter over `0..range_high` (SI) of kind `unit` (invented
+/// settings: 0.1 % of span, 100 % of span per second plausible, 100 ms
+/// low-pass, 500 ms hold).
+fn transmitter(
+    id: u8,
+    unit: Unit<f32>,
+    range_high: f32,
+) -> Result<TransmitterChannel, ConfigError> {
+    TransmitterChannel::new(ChannelConfig {
+        id,
+        signal: SignalKind::Current4To20,
+        unit,
+        range_low: 0.0,
+        range_high,
+        plausible_low: 0.01 * range_high,
+        plausible_high: 1.05 * range_high,
+        noise_floor: 1.0e-5 * range_high,
+        instrument: InstrumentClass::FractionOfSpan(0.001),
+        max_rate: range_high,
+        filter_time_constant_s: 0.1,
+        hold_ms: 500,
+    })
+}
+
+/// The invented surge line of every stage (map: CO2 near 1 bar, 293 K).
+fn section_monitor() -> Result<SectionMonitor, ConfigError> {
+    let p = |rpm: f32, q: f32, r: f32| SurgePoint {
+        speed_rpm: rpm,
+        suction_volume_flow: q,
+        pressure_ratio: r,
+        control_margin: 0.10,
+    };
+    let points = [
+        p(7000.0, 1.45, 2.2),
+        p(8000.0, 1.52, 2.6),
+        p(9000.0, 1.60, 3.0),
+        p(10000.0, 1.68, 3.4),
+    ];
+    let line = SurgeLine::new(&SurgeLineConfig {
+        points: &points,
+        map: MapConditions {
+            suction_pressure: PressureAbs::from_pa(1.0e5),
+            suction_temperature: Kelvin::new(293.15),
+            molar_mass: 28.96,
+            compressibility: 1.0,
+        },
+        polytropic_exponent: 1.30,
+        flow_coefficient: 0.04,
+    })?;
+    SurgeMonitor::new(
+        line,
+        MonitorConfig {
+            scan_period: 0.02,
+            time_to_surge_horizon: 60.0,
+            rate_filter_time: 0.05,
+        },
+    )
+}
+
+impl<G: GasModel<f32>> Controller<G> {
+    /// Builds the train, the channels (ranges from the stages' design
+    /// pressures) and the monitors into `slot`, in place: the state is
+    /// about 6 KB and the Cortex-M0 board has 16 KiB of RAM, so it must not
+    /// be built on the stack and then moved.
+    #[inline(never)]
+    pub fn build_in(
+        slot: &mut Option<Self>,
+        config: TrainConfig<f32, G, SECTIONS>,
+    ) -> Result<(), ConfigError> {
+        let mut ranges = [0.0_f32; CHANNELS];
+        for (r, s) in ranges.chunks_exact_mut(3).zip(config.stages.iter()) {
+            let ps = s.design_suction_pressure.pa();
+            r[0] = 2.0 * ps;
+            r[1] = 1.5 * s.design_discharge_pressure.pa();
+            r[2] = 2.0 * FLOW_NUMBER * 2.0 * ps;
+        }
+        let placeholder = transmitter(0, Unit::PressureAbs, 1.0)?;
+        let monitor = section_monitor()?;
+        let ctl = slot.insert(Controller {
+            train: SectionTrain::new(config)?,
+            channels: core::array::from_fn(|_| placeholder.clone()),
+            monitors: core::array::from_fn(|_| monitor.clone()),
+            last_ms: None,
+        });
+        for (i, (c, &r)) in ctl.channels.iter_mut().zip(ranges.iter()).enumerate() {
+            let unit = if i % 3 == 2 {
+                Unit::DifferentialPressure
+            } else {
+                Unit::PressureAbs
+            };
+            *c = transmitter(i as u8, unit, r)?;
+        }
+        Ok(())
+    }
+
+    /// The raw samples (mA) the transmitters send at scan `k` for the
+    /// pressures of `scan` and the invented flow, with a little invented
+    /// noise.
+    pub fn samples(&self, scan: &polytrope::scan::Scan<f32, SECTIONS>, k: u32) -> [f32; CHANNELS] {
+        let noise = [0.0, 0.004, -0.003, 0.006, -0.005, 0.002, -0.001];
+        let mut raw = [0.0_f32; CHANNELS];
+        for (i, (r, c)) in raw.iter_mut().zip(self.channels.iter()).enumerate() {
+            let s = &scan.stages[(i / 3) % SECTIONS];
+            let ps = s.suction_pressure.value.pa();
+            let v = match i % 3 {
+                0 => ps,
+                1 => s.discharge_pressure.value.pa(),
+                _ => FLOW_NUMBER * ps * (1.0 - 0.002 * (k % 16) as f32),
+            };
+            let n = noise[(k as usize + i) % noise.len()];
+            *r = 4.0 + 16.0 * v / c.config().range_high + n;
+        }
+        raw
+    }
+
+    /// One controller scan at `t_ms`: every channel, the train on the
+    /// channels' filtered pressures (written into `scan`, whose other
+    /// readings come from the slower inputs), every surge monitor on the
+    /// channels' unfiltered values. Works in place: no copy of the scan or
+    /// of the channel outputs.
+    pub fn scan(
+        &mut self,
+        raw: &[f32; CHANNELS],
+        t_ms: u64,
+        scan: &mut polytrope::scan::Scan<f32, SECTIONS>,
+    ) -> ScanSummary {
+        let (surge, dt) = self.read_channels(raw, t_ms, scan);
+        let total_power = self.update_train(scan);
+        let margins = self.update_monitors(&surge, dt);
+        ScanSummary {
+            total_power,
+            margins,
+        }
+    }
+
+    /// Phase 1 of [`Controller::scan`]: every channel; writes the filtered
+    /// pressures into `scan` and returns each monitor's scan and the time
+    /// since the previous scan, s.
+    #[inline(always)]
+    pub fn read_channels(
+        &mut self,
+        raw: &[f32; CHANNELS],
+        t_ms: u64,
+        scan: &mut polytrope::scan::Scan<f32, SECTIONS>,
+    ) -> ([SurgeScan<f32>; SECTIONS], f32) {
+        let dt_ms = self.last_ms.map_or(SCAN_MS, |l| t_ms.saturating_sub(l));
+        self.last_ms = Some(t_ms);
+        let dt = u32::try_from(dt_ms).unwrap_or(u32::MAX) as f32 * 1.0e-3;
+        let none = polytrope::Measured::<f32>::bad();
+        let mut surge = [SurgeScan::pressures_only(
+            none.map(PressureAbs::from_pa),
+            none.map(PressureAbs::from_pa),
+            none,
+        ); SECTIONS];
+        for (((stage, ch), r), s) in scan
+            .stages
+            .iter_mut()
+            .zip(self.channels.chunks_exact_mut(3))
+            .zip(raw.chunks_exact(3))
+            .zip(surge.iter_mut())
+        {
+            let ps = ch[0].update(r[0], t_ms);
+            let pd = ch[1].update(r[1], t_ms);
+            let dp = ch[2].update(r[2], t_ms);
+            stage.suction_pressure = ps.pressure();
+            stage.discharge_pressure = pd.pressure();
+            // The temperatures ride along (a configured-exponent monitor
+            // does not read them).
+            *s = SurgeScan {
+                suction_pressure: ps.raw_pressure(),
+                discharge_pressure: pd.raw_pressure(),
+                flow_dp: dp.raw,
+                suction_temperature: stage.suction_temperature,
+                discharge_temperature: stage.discharge_temperature,
+            };
+        }
+        (surge, dt)
+    }
+
+    /// Phase 2 of [`Controller::scan`]: the train update; the total power.
+    #[inline(always)]
+    pub fn update_train(&mut self, scan: &polytrope::scan::Scan<f32, SECTIONS>) -> f32 {
+        self.train.update(scan).totals.total_power.value
+    }
+
+    /// Phase 3 of [`Controller::scan`]: every surge monitor; the margins.
+    #[inline(always)]
+    pub fn update_monitors(
+        &mut self,
+        surge: &[SurgeScan<f32>; SECTIONS],
+        dt: f32,
+    ) -> [f32; SECTIONS] {
+        let mut margins = [0.0_f32; SECTIONS];
+        for ((m, s), margin) in self
+            .monitors
+            .iter_mut()
+            .zip(surge.iter())
+            .zip(margins.iter_mut())
+        {
+            *margin = m.update(s, 0.0, dt).margin.value;
+        }
+        margins
+    }
+
+    /// The train's last snapshot.
+    pub fn snapshot(&self) -> &Snapshot<f32, SECTIONS> {
+        self.train.snapshot()
+    }
+
+    /// The channels.
+    pub fn channels(&self) -> &[TransmitterChannel; CHANNELS] {
+        &self.channels
+    }
+
+    /// The surge monitors.
+    pub fn monitors(&self) -> &[SectionMonitor; SECTIONS] {
+        &self.monitors
+    }
+}
