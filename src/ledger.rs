@@ -151,7 +151,7 @@ use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::scan::{compressibility, mass_flow_kg_s, pressure_pa, temperature_k, Scan};
 use crate::staging::Sum;
-use crate::train::{Snapshot, StageWork, TrainConfig};
+use crate::train::{Snapshot, TrainConfig};
 
 /// What a later stage's suction temperature is compared with.
 #[derive(Clone, Copy, Debug, PartialEq)]
