@@ -21,6 +21,7 @@ NAMES = {
     "thumbv7em-none-eabihf": "Cortex-M4F",
     "thumbv6m-none-eabi": "Cortex-M0",
     "thumbv7em-none-eabihf+approx-math": "Cortex-M4F, approx-math",
+    "thumbv6m-none-eabi+approx-math": "Cortex-M0, approx-math",
 }
 
 

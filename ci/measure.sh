@@ -63,12 +63,13 @@ for target in thumbv7em-none-eabihf thumbv6m-none-eabi; do
   done
 done
 
-# The feature builds (Cortex-M4F only), each in a target directory of its
-# own: approx-math (micromath ln/exp/pow) and inline-math (libm's logf/expf
-# inlined at every call site instead of kept out of line).
-target=thumbv7em-none-eabihf
-for feature in approx-math inline-math; do
-  tag=$target+$feature
+# The feature builds, each in a target directory of its own: approx-math
+# (micromath ln/exp/pow) on both targets, inline-math (libm's logf/expf
+# inlined at every call site instead of kept out of line) on Cortex-M4F.
+for build in thumbv7em-none-eabihf+approx-math thumbv7em-none-eabihf+inline-math \
+             thumbv6m-none-eabi+approx-math; do
+  target=${build%+*} feature=${build#*+}
+  tag=$build
   echo "measure: building firmware for $tag"
   (cd $fw && CARGO_TARGET_DIR=target/$feature cargo build -q --release --target $target \
     --features $feature --bin harness --bin full_scan --bin controller --bin empty)
@@ -151,8 +152,8 @@ for t, _, _ in targets:
     f["flash_minimal"] = mini[0] - empty[0]
     f["flash_controller"] = ctl[0] - empty[0]
     figures[t] = f
-for feature in ("approx-math", "inline-math"):
-    at = "thumbv7em-none-eabihf+" + feature
+for at in ("thumbv7em-none-eabihf+approx-math", "thumbv7em-none-eabihf+inline-math",
+           "thumbv6m-none-eabi+approx-math"):
     per, s = regions(at)
     per2, s2 = regions(at + ".scan")
     per.update(per2)
@@ -252,22 +253,25 @@ L.append("Static RAM is zero because the minimal firmware keeps the train on the
          "`ci/checks.d/firmware.sh` also checks that a deliberately panicking probe fails "
          "to link.")
 L.append("")
-L.append("Feature builds on Cortex-M4F (same harness, same scans): `approx-math` routes `ln`, `exp`, "
+L.append("Feature builds (same harness, same scans): `approx-math` routes `ln`, `exp`, "
          "`powf` to `micromath`; `inline-math` lets LTO inline libm's `logf`/`expf` at every call site "
          "(the default keeps one out-of-line copy of each; results bit-identical).")
 L.append("")
-L.append("| Cortex-M4F | default build | `approx-math` | `inline-math` |")
-L.append("|---|---:|---:|---:|")
+L.append("| feature build | Cortex-M4F default | Cortex-M4F `approx-math` | Cortex-M4F `inline-math` "
+         "| Cortex-M0 default | Cortex-M0 `approx-math` |")
+L.append("|---|---:|---:|---:|---:|---:|")
 m4 = figures["thumbv7em-none-eabihf"]
 fa = figures["thumbv7em-none-eabihf+approx-math"]
 fi = figures["thumbv7em-none-eabihf+inline-math"]
+m0 = figures["thumbv6m-none-eabi"]
+f0 = figures["thumbv6m-none-eabi+approx-math"]
 for key, doc in [("full_scan", "whole controller scan, instructions"),
                  ("update_4_stages_3_intercoolers", "train update, 4 stages + 3 intercoolers, instructions"),
                  ("surge_margin_update", "one `SurgeMonitor::update`, instructions"),
                  ("signal_channel_4_20ma", "one `Channel::update`, instructions"),
                  ("flash_controller", "kernel flash of the whole controller scan, bytes"),
                  ("stack_full_scan", "stack of one whole controller scan, bytes")]:
-    L.append(f"| {doc} | {m4[key]:,} | {fa[key]:,} | {fi[key]:,} |")
+    L.append(f"| {doc} | {m4[key]:,} | {fa[key]:,} | {fi[key]:,} | {m0[key]:,} | {f0[key]:,} |")
 open(out_md, "w").write("\n".join(L) + "\n")
 print("\n".join(L))
 EOF

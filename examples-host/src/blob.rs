@@ -26,7 +26,7 @@ pub struct BlobArgs {
 pub fn heat_capacity(l: &Loaded) -> HeatCapacityBlob {
     let g = &l.file.gas;
     match g.name.as_deref().and_then(GasSpec::by_name) {
-        Some(spec) if g.heat_capacity == "cp-polynomial" => HeatCapacityBlob::Polynomial {
+        Some(spec) if g.heat_capacity() == "cp-polynomial" => HeatCapacityBlob::Polynomial {
             coefficients: spec.cp.coefficients.map(|c| c as f32),
             t_min: spec.cp.t_min as f32,
             t_max: spec.cp.t_max as f32,
@@ -42,7 +42,22 @@ impl StagesJob for Job<'_> {
     type Out = Vec<u8>;
     fn run<const N: usize>(self) -> Result<Vec<u8>, CliError> {
         let l = self.0;
-        let host = train_any::build::<f32, N>(l)?;
+        // The blob carries an ideal gas only (format version 1); a
+        // Peng–Robinson or table train is refused naming `gas.model` (a
+        // property table goes to the device as its own blob, `tables`).
+        let gas = l.ideal_gas::<f32>().map_err(|e| {
+            CliError::from(l.error(
+                "gas.model",
+                format!(
+                    "the device configuration blob carries an ideal gas only; this file has model = \"{}\" ({})",
+                    l.file.gas.model(),
+                    e.message
+                ),
+            ))
+        })?;
+        let cfg = l.train_config_with::<f32, _, N>(gas)?;
+        let host = polytrope::train::Train::<f32, _, N, WINDOW>::new(cfg)
+            .map_err(|e| CliError::from(l.kernel_error(&e, None)))?;
         let blob = TrainBlob::from_config(host.config(), l.molar_mass, heat_capacity(l))
             .map_err(|e| CliError::Input(e.to_string()))?;
         let mut buf = [0u8; MAX_BLOB_LEN];

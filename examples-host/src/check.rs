@@ -72,12 +72,9 @@ pub fn run(a: &CheckArgs) -> Result<String, CliError> {
         out::CAUTION
     );
     s.push_str(&format!(
-        "Atmosphere {}; gas {} (molar mass {} kg/kmol, {}, Z = {}).\n\n",
+        "Atmosphere {}; gas model: {}.\n\n",
         show.pressure_abs(l.atmosphere_pa),
-        f.gas.name.as_deref().unwrap_or("custom"),
-        sig(l.molar_mass),
-        f.gas.heat_capacity,
-        f.gas.compressibility
+        l.gas_description()
     ));
     let mut g = Grid::new(&[
         "stage",

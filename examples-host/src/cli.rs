@@ -179,6 +179,9 @@ pub struct DemoArgs {
     /// Also write the demo plots (PNG and SVG) into this directory.
     #[arg(long, value_name = "DIR")]
     pub plots: Option<std::path::PathBuf>,
+    /// Unit system of the tables and plots: si, bar-degc or us-field (JSON keys stay SI).
+    #[arg(long, value_name = "SYSTEM")]
+    pub units: Option<String>,
 }
 
 impl DemoArgs {

@@ -14,7 +14,8 @@ use std::path::{Path, PathBuf};
 use polytrope::cooler::CoolerConfig;
 use polytrope::error::Problem;
 use polytrope::flow::orifice::{OrificeConfig, TapType};
-use polytrope::gas::{GasSpec, HeatCapacity, IdealGas, BUILTIN_GASES};
+use polytrope::gas::table::TableGas;
+use polytrope::gas::{GasModel, GasSpec, HeatCapacity, IdealGas, PengRobinson, BUILTIN_GASES};
 use polytrope::steady::SteadyStateConfig;
 use polytrope::train::{StageConfig, StageKind, TrainConfig};
 use polytrope::units::PressureAbs;
@@ -22,6 +23,7 @@ use polytrope::{ConfigError, Real};
 use serde::Deserialize;
 
 use crate::cli::CliError;
+use crate::host_gas::HostGas;
 use crate::units::{self, did_you_mean};
 
 /// The whole file.
@@ -78,23 +80,39 @@ pub struct AtmosphereSection {
 #[derive(Clone, Debug, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct GasSection {
-    /// Built-in gas name, or absent for a custom gas.
+    /// `ideal` (default), `peng-robinson` or `table`.
+    pub model: Option<String>,
+    /// Ideal: built-in gas name, or absent for a custom gas.
     pub name: Option<String>,
-    /// Custom gas: molar mass, kg/kmol.
+    /// Ideal, custom gas: molar mass, kg/kmol.
     pub molar_mass_kg_per_kmol: Option<f64>,
-    /// Custom gas: heat-capacity ratio.
+    /// Ideal, custom gas: heat-capacity ratio.
     pub heat_capacity_ratio: Option<f64>,
-    /// `constant-k` (default) or `cp-polynomial` (built-in gases).
-    #[serde(default = "default_heat_capacity")]
-    pub heat_capacity: String,
-    /// Mean compressibility factor used when no reading gives one.
-    #[serde(default = "one")]
-    pub compressibility: f64,
+    /// Ideal: `constant-k` (default) or `cp-polynomial` (built-in gases).
+    pub heat_capacity: Option<String>,
+    /// Ideal: mean compressibility factor used when no reading gives one (default 1).
+    pub compressibility: Option<f64>,
+    /// Peng–Robinson: mole fraction by component name (`nitrogen = 0.78`).
+    pub composition: Option<std::collections::BTreeMap<String, f64>>,
+    /// Table: a GERG-2008 table blob (`polytrope-host tables --out`), relative to the train file.
+    pub table_file: Option<String>,
 }
 
-fn default_heat_capacity() -> String {
-    "constant-k".into()
+impl GasSection {
+    /// The model name (default `ideal`).
+    pub fn model(&self) -> &str {
+        self.model.as_deref().unwrap_or("ideal")
+    }
+    /// The ideal gas's heat-capacity model (default `constant-k`).
+    pub fn heat_capacity(&self) -> &str {
+        self.heat_capacity.as_deref().unwrap_or("constant-k")
+    }
+    /// The ideal gas's mean compressibility (default 1).
+    pub fn compressibility(&self) -> f64 {
+        self.compressibility.unwrap_or(1.0)
+    }
 }
+
 fn one() -> f64 {
     1.0
 }
@@ -260,6 +278,36 @@ pub struct SurgeSection {
     pub points: Vec<SurgePointSection>,
     /// Recycle-valve controller settings (used by `surge-sim`).
     pub control: Option<ControlSection>,
+    /// The compression system around the stage (used by `surge-sim --file`).
+    pub plant: Option<PlantSection>,
+}
+
+/// `[stage.surge.plant]`: what the Greitzer (1976) lumped model of the
+/// stage needs beyond its surge map. Every key is required by
+/// `surge-sim --file`; a missing one is refused naming it.
+#[derive(Clone, Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct PlantSection {
+    /// The speed line to simulate, rpm (one of the map's points).
+    pub speed_rpm: Option<f64>,
+    /// Impeller tip diameter, m.
+    pub impeller_tip_diameter_m: Option<f64>,
+    /// Effective duct length, m.
+    pub duct_length_m: Option<f64>,
+    /// Duct flow area, m².
+    pub duct_area_m2: Option<f64>,
+    /// Plenum (discharge) volume, m³.
+    pub plenum_volume_m3: Option<f64>,
+    /// Pressure rise at zero flow over that at the surge point, -.
+    pub shutoff_head_fraction: Option<f64>,
+    /// Suction volume flow before the load loss, m³/s.
+    pub operating_flow_m3_per_s: Option<f64>,
+    /// Recycle valve fully open: suction volume flow at the surge-point pressure rise, m³/s.
+    pub recycle_valve_full_flow_m3_per_s: Option<f64>,
+    /// Valve dead time, s.
+    pub valve_dead_time_s: Option<f64>,
+    /// Polytropic efficiency for the recycle power, -.
+    pub polytropic_efficiency: Option<f64>,
 }
 
 fn horizon() -> f64 {
@@ -437,10 +485,31 @@ pub struct Loaded {
     pub atmosphere_pa: f64,
     /// Molar mass of the gas, kg/kmol.
     pub molar_mass: f64,
+    /// The gas model chosen in `[gas]`, with its data.
+    pub gas_choice: GasChoice,
     /// Design pressures per stage, Pa absolute.
     pub design: Vec<(f64, f64)>,
     /// Plausibility limits in SI: (p_min, p_max, t_min, t_max, m_max).
     pub limits: Limits,
+}
+
+/// The gas model of a train file, with what it needs beyond `[gas]`.
+#[derive(Clone, Debug)]
+pub enum GasChoice {
+    /// Ideal gas (`name` or molar mass and k).
+    Ideal,
+    /// Peng–Robinson; mole fractions in the kernel's component order.
+    PengRobinson {
+        /// Mole fractions, [`polytrope::gas::components::COMPONENT_NAMES`] order.
+        fractions: [f64; crate::host_gas::PR_COMPONENTS],
+    },
+    /// GERG-2008 property table read from a file.
+    Table {
+        /// Where it was read from.
+        path: PathBuf,
+        /// The decoded table (kept for the life of the process).
+        table: &'static crate::host_gas::HostTable,
+    },
 }
 
 /// Plausibility limits in SI.
@@ -496,6 +565,7 @@ pub fn parse(path: &Path, text: &str) -> Result<Loaded, CliError> {
         file,
         atmosphere_pa: 0.0,
         molar_mass: 0.0,
+        gas_choice: GasChoice::Ideal,
         design: Vec::new(),
         limits: Limits {
             pressure: (0.0, 0.0),
@@ -636,12 +706,148 @@ fn key_line(lines: &[&str], from: usize, to: usize, name: &str) -> Option<usize>
 /// for N = 1..=MAX_STAGES).
 pub const MAX_STAGES: usize = 8;
 
-fn check(l: &mut Loaded) -> Result<(), FileError> {
-    let f = l.file.clone();
-    l.atmosphere_pa =
-        units::atmosphere(&f.atmosphere.pressure).map_err(|e| l.error("atmosphere.pressure", e))?;
-    // Gas.
-    let g = &f.gas;
+/// Keys of `[gas]` that apply to each model.
+const GAS_KEYS: [(&str, &[&str]); 3] = [
+    (
+        "ideal",
+        &[
+            "name",
+            "molar_mass_kg_per_kmol",
+            "heat_capacity_ratio",
+            "heat_capacity",
+            "compressibility",
+        ],
+    ),
+    ("peng-robinson", &["composition"]),
+    ("table", &["table_file"]),
+];
+
+/// Checks `[gas]`: the model, the keys that apply to it, and its data;
+/// sets the molar mass and the model choice.
+fn check_gas(l: &mut Loaded, g: &GasSection) -> Result<(), FileError> {
+    let model = g.model();
+    let models: Vec<&str> = GAS_KEYS.iter().map(|(m, _)| *m).collect();
+    let Some((_, applies)) = GAS_KEYS.iter().find(|(m, _)| *m == model) else {
+        let hint = did_you_mean(model, &models)
+            .map(|n| format!("; did you mean '{n}'?"))
+            .unwrap_or_default();
+        return Err(l.error(
+            "gas.model",
+            format!("unknown gas model '{model}'; known: ideal, peng-robinson, table{hint}"),
+        ));
+    };
+    let given = [
+        ("name", g.name.is_some()),
+        ("molar_mass_kg_per_kmol", g.molar_mass_kg_per_kmol.is_some()),
+        ("heat_capacity_ratio", g.heat_capacity_ratio.is_some()),
+        ("heat_capacity", g.heat_capacity.is_some()),
+        ("compressibility", g.compressibility.is_some()),
+        ("composition", g.composition.is_some()),
+        ("table_file", g.table_file.is_some()),
+    ];
+    for (key, present) in given {
+        if present && !applies.contains(&key) {
+            let owner = GAS_KEYS
+                .iter()
+                .find(|(_, keys)| keys.contains(&key))
+                .map_or("another model", |(m, _)| *m);
+            return Err(l.error(
+                &format!("gas.{key}"),
+                format!(
+                    "{key} applies to model = \"{owner}\", not to model = \"{model}\" (remove it or change gas.model)"
+                ),
+            ));
+        }
+    }
+    match model {
+        "peng-robinson" => check_peng_robinson(l, g),
+        "table" => check_table(l, g),
+        _ => check_ideal(l, g),
+    }
+}
+
+fn check_peng_robinson(l: &mut Loaded, g: &GasSection) -> Result<(), FileError> {
+    use crate::host_gas::PR_COMPONENTS;
+    use polytrope::gas::components::COMPONENT_NAMES;
+    let Some(comp) = &g.composition else {
+        return Err(l.error(
+            "gas.composition",
+            "model = \"peng-robinson\" needs composition = { nitrogen = 0.7812, oxygen = 0.2096, argon = 0.0092 } (mole fractions by component name)",
+        ));
+    };
+    if comp.is_empty() {
+        return Err(l.error("gas.composition", "no component given"));
+    }
+    let mut fractions = [0.0f64; PR_COMPONENTS];
+    let mut sum = 0.0;
+    for (name, &y) in comp {
+        let key = format!("gas.composition.{name}");
+        let Some(ix) = COMPONENT_NAMES.iter().position(|n| *n == name.as_str()) else {
+            let hint = did_you_mean(name, &COMPONENT_NAMES)
+                .map(|n| format!("; did you mean '{n}'?"))
+                .unwrap_or_default();
+            return Err(l.error(
+                &key,
+                format!(
+                    "unknown component '{name}'{hint}; known: {}",
+                    COMPONENT_NAMES.join(", ")
+                ),
+            ));
+        };
+        if !(y.is_finite() && (0.0..=1.0).contains(&y)) {
+            return Err(l.error(&key, format!("mole fraction {y} is not between 0 and 1")));
+        }
+        if let Some(f) = fractions.get_mut(ix) {
+            *f = y;
+        }
+        sum += y;
+    }
+    let tol = polytrope::gas::peng_robinson::FRACTION_SUM_TOLERANCE;
+    if (sum - 1.0).abs() > tol {
+        return Err(l.error(
+            "gas.composition",
+            format!("the mole fractions sum to {sum}; they must sum to 1 (within {tol})"),
+        ));
+    }
+    l.gas_choice = GasChoice::PengRobinson { fractions };
+    let gas = l.gas::<f64>()?;
+    l.molar_mass = polytrope::gas::MOLAR_GAS_CONSTANT * 1e3 / gas.gas_constant();
+    Ok(())
+}
+
+fn check_table(l: &mut Loaded, g: &GasSection) -> Result<(), FileError> {
+    use crate::host_gas::HostTable;
+    let Some(name) = &g.table_file else {
+        return Err(l.error(
+            "gas.table_file",
+            "model = \"table\" needs table_file = \"air.bin\" (a blob written by `polytrope-host tables --out`)",
+        ));
+    };
+    let path = l
+        .path
+        .parent()
+        .map_or_else(|| PathBuf::from(name), |dir| dir.join(name));
+    let bytes = std::fs::read(&path).map_err(|e| {
+        l.error(
+            "gas.table_file",
+            format!("{}: cannot read: {e}", path.display()),
+        )
+    })?;
+    let mut table = Box::new(HostTable::empty());
+    table.replace_from_blob(&bytes).map_err(|e| {
+        l.error(
+            "gas.table_file",
+            format!("{}: not a usable property table: {e}", path.display()),
+        )
+    })?;
+    let table: &'static HostTable = Box::leak(table);
+    l.gas_choice = GasChoice::Table { path, table };
+    let gas = l.gas::<f64>()?;
+    l.molar_mass = polytrope::gas::MOLAR_GAS_CONSTANT * 1e3 / gas.gas_constant();
+    Ok(())
+}
+
+fn check_ideal(l: &mut Loaded, g: &GasSection) -> Result<(), FileError> {
     match (&g.name, g.molar_mass_kg_per_kmol, g.heat_capacity_ratio) {
         (Some(name), None, None) => {
             let Some(spec) = GasSpec::by_name(name) else {
@@ -677,24 +883,34 @@ fn check(l: &mut Loaded) -> Result<(), FileError> {
         }
     }
     let models = ["constant-k", "cp-polynomial"];
-    if !models.contains(&g.heat_capacity.as_str()) {
-        let hint = did_you_mean(&g.heat_capacity, &models)
+    if !models.contains(&g.heat_capacity()) {
+        let hint = did_you_mean(g.heat_capacity(), &models)
             .map(|n| format!("; did you mean '{n}'?"))
             .unwrap_or_default();
         return Err(l.error(
             "gas.heat_capacity",
             format!(
                 "'{}' is not constant-k or cp-polynomial{hint}",
-                g.heat_capacity
+                g.heat_capacity()
             ),
         ));
     }
-    if g.heat_capacity == "cp-polynomial" && g.name.is_none() {
+    if g.heat_capacity() == "cp-polynomial" && g.name.is_none() {
         return Err(l.error(
             "gas.heat_capacity",
             "cp-polynomial needs a built-in gas (name = ...); a custom gas uses constant-k",
         ));
     }
+    l.gas_choice = GasChoice::Ideal;
+    Ok(())
+}
+
+fn check(l: &mut Loaded) -> Result<(), FileError> {
+    let f = l.file.clone();
+    l.atmosphere_pa =
+        units::atmosphere(&f.atmosphere.pressure).map_err(|e| l.error("atmosphere.pressure", e))?;
+    // Gas.
+    check_gas(l, &f.gas)?;
     // Limits.
     let lim = &f.limits;
     let pabs = |key: &str, t: &str, l: &Loaded| {
@@ -876,13 +1092,19 @@ pub fn tap_type(name: &str) -> Result<TapType, String> {
 }
 
 impl Loaded {
-    /// The gas model at precision `T`.
-    pub fn gas<T: Real>(&self) -> Result<IdealGas<T>, FileError> {
+    /// The ideal gas of an `ideal` model at precision `T`.
+    pub fn ideal_gas<T: Real>(&self) -> Result<IdealGas<T>, FileError> {
         let g = &self.file.gas;
-        let z = T::of(g.compressibility);
+        if !matches!(self.gas_choice, GasChoice::Ideal) {
+            return Err(self.error(
+                "gas.model",
+                format!("needs model = \"ideal\" here, not \"{}\"", g.model()),
+            ));
+        }
+        let z = T::of(g.compressibility());
         let built = match &g.name {
             Some(name) => match GasSpec::by_name(name) {
-                Some(spec) => IdealGas::from_spec(&spec, g.heat_capacity == "cp-polynomial", z),
+                Some(spec) => IdealGas::from_spec(&spec, g.heat_capacity() == "cp-polynomial", z),
                 None => return Err(self.error("gas.name", "unknown gas")),
             },
             None => IdealGas::new(
@@ -894,14 +1116,84 @@ impl Loaded {
         built.map_err(|e| self.kernel_error(&e, None))
     }
 
-    /// The kernel train configuration for `N` stages at precision `T`.
+    /// The gas model the file chooses, at precision `T`.
+    pub fn gas<T: Real>(&self) -> Result<HostGas<T>, FileError> {
+        match &self.gas_choice {
+            GasChoice::Ideal => self.ideal_gas().map(HostGas::Ideal),
+            GasChoice::PengRobinson { fractions } => {
+                PengRobinson::new(polytrope::gas::components::COMPONENTS, fractions.map(T::of))
+                    .map(HostGas::PengRobinson)
+                    .map_err(|e| self.kernel_error(&e, None))
+            }
+            GasChoice::Table { table, .. } => TableGas::new(table.data())
+                .map(HostGas::Table)
+                .map_err(|e| self.kernel_error(&e, None)),
+        }
+    }
+
+    /// One line naming the gas model and where it is valid (printed by
+    /// `check`, `evaluate` and `replay` beside the results).
+    pub fn gas_description(&self) -> String {
+        let g = &self.file.gas;
+        match &self.gas_choice {
+            GasChoice::Ideal => format!(
+                "ideal gas {} (molar mass {:.3} kg/kmol, {}, Z = {}); valid where the gas is far from its critical point: states above reduced pressure/reduced temperature³ = 0.1 are marked uncertain (built-in gases)",
+                g.name.as_deref().unwrap_or("custom"),
+                self.molar_mass,
+                g.heat_capacity(),
+                g.compressibility()
+            ),
+            GasChoice::PengRobinson { fractions } => {
+                let parts: Vec<String> = polytrope::gas::components::COMPONENT_NAMES
+                    .iter()
+                    .zip(fractions.iter())
+                    .filter(|(_, y)| **y > 0.0)
+                    .map(|(n, y)| format!("{n} {y}"))
+                    .collect();
+                format!(
+                    "Peng–Robinson (Peng & Robinson 1976) for {} (molar mass {:.3} kg/kmol); ideal-gas cp fitted {:.0}–{:.0} K; states near the pseudo-critical point or saturation are marked uncertain, liquid-like states bad",
+                    parts.join(", "),
+                    self.molar_mass,
+                    polytrope::gas::components::CP0_T_MIN,
+                    polytrope::gas::components::CP0_T_MAX
+                )
+            }
+            GasChoice::Table { path, table } => {
+                let h = table.data().header;
+                let label = String::from_utf8_lossy(&h.label)
+                    .trim_end_matches('\0')
+                    .to_string();
+                format!(
+                    "GERG-2008 property table {} ('{label}', molar mass {:.3} kg/kmol, {} cells); valid {:.3}–{:.3} bar a and {:.1}–{:.1} K: outside bad, flagged cells (near a critical point or saturation) uncertain",
+                    path.display(),
+                    self.molar_mass,
+                    h.cell_count,
+                    h.ln_p_min.exp() / 1e5,
+                    h.ln_p_max.exp() / 1e5,
+                    h.t_min,
+                    h.t_max
+                )
+            }
+        }
+    }
+
+    /// The kernel train configuration for `N` stages at precision `T`,
+    /// with the file's gas model.
     pub fn train_config<T: Real, const N: usize>(
         &self,
-    ) -> Result<TrainConfig<T, IdealGas<T>, N>, FileError> {
+    ) -> Result<TrainConfig<T, HostGas<T>, N>, FileError> {
+        let gas = self.gas::<T>()?;
+        self.train_config_with(gas)
+    }
+
+    /// The kernel train configuration for `N` stages with the gas `gas`.
+    pub fn train_config_with<T: Real, G, const N: usize>(
+        &self,
+        gas: G,
+    ) -> Result<TrainConfig<T, G, N>, FileError> {
         if self.stage_count() != N {
             return Err(self.error("stage", format!("expected {N} stages")));
         }
-        let gas = self.gas::<T>()?;
         let default_cp = self.file.coolant.specific_heat;
         let stages = core::array::from_fn(|i| {
             let s = self.file.stages.get(i);
@@ -939,9 +1231,17 @@ impl Loaded {
     pub fn orifice_config<T: Real>(&self, i: usize) -> Option<OrificeConfig<T>> {
         let s = self.file.stages.get(i)?;
         let fe = s.flow_element.as_ref()?;
-        let k = match &self.file.gas.name {
-            Some(n) => GasSpec::by_name(n).map_or(1.4, |g| g.k),
-            None => self.file.gas.heat_capacity_ratio.unwrap_or(1.4),
+        let k = match (&self.gas_choice, &self.file.gas.name) {
+            (GasChoice::Ideal, Some(n)) => GasSpec::by_name(n).map_or(1.4, |g| g.k),
+            (GasChoice::Ideal, None) => self.file.gas.heat_capacity_ratio.unwrap_or(1.4),
+            // A real-gas model: the isentropic exponent at the design
+            // suction pressure and 20 degC (ISO 5167 takes one for the
+            // expansibility factor).
+            _ => {
+                let p = self.design.get(i).map_or(1.0e5, |d| d.0);
+                self.gas::<f64>()
+                    .map_or(1.4, |g| g.path(p, 293.15, p, 293.15, None).k)
+            }
         };
         Some(OrificeConfig {
             pipe_diameter: T::of(fe.pipe_diameter_mm / 1e3),
@@ -976,6 +1276,8 @@ fn file_key(l: &Loaded, field: &str, index: Option<usize>, stage: Option<usize>)
     let fe = |k: &str| format!("stage[{}].flow_element.{k}", stage.unwrap_or(0));
     let custom = l.file.gas.name.is_none();
     match field {
+        f if f.starts_with("gas.composition") => "gas.composition".into(),
+        f if f.starts_with("table") => "gas.table_file".into(),
         "gas.molar_mass" if custom => "gas.molar_mass_kg_per_kmol".into(),
         "gas.molar_mass" => "gas.name".into(),
         "gas.k" if custom => "gas.heat_capacity_ratio".into(),

@@ -239,18 +239,18 @@ pub(crate) fn to_text<T: Real, const N: usize>(
     }
 
     s.push_str("\nInterstage pressures against the equal-ratio optimum\n");
-    let mut g = out::Grid::new(&[
-        "after stage",
-        "measured bar a",
-        "equal-ratio bar a",
-        "deviation %",
-    ]);
+    let pd = out::disp_or(crate::unit_system::Dimension::PressureAbs, disp::BAR_A);
+    let (measured, optimum) = (
+        format!("measured {}", pd.unit),
+        format!("equal-ratio {}", pd.unit),
+    );
+    let mut g = out::Grid::new(&["after stage", &measured, &optimum, "deviation %"]);
     for (i, p) in snap.interstage.iter().enumerate() {
         if let Some(p) = p {
             g.row(vec![
                 format!("S{}", i + 1),
-                out::cell(Val::of(p.measured), disp::BAR_A),
-                out::cell(Val::of(p.optimum), disp::BAR_A),
+                out::cell(Val::of(p.measured), pd),
+                out::cell(Val::of(p.optimum), pd),
                 out::cell(Val::of(p.deviation), disp::PERCENT),
             ]);
         }

@@ -35,6 +35,9 @@ pub struct EvaluateArgs {
     /// Print JSON instead of tables.
     #[arg(long)]
     pub json: bool,
+    /// Unit system of the tables: si, bar-degc or us-field (JSON keys stay SI).
+    #[arg(long, value_name = "SYSTEM")]
+    pub units: Option<String>,
 }
 
 fn reading(l: &Loaded, text: &str) -> Result<(usize, usize, Cell), CliError> {
@@ -135,9 +138,10 @@ fn report<T: Real, const N: usize>(
     let snap = lane.train.snapshot();
     let parts = crate::demo::split(&scan.stages, snap);
     let scenario = format!(
-        "Train file {}: {}. Readings as given; unmapped readings are bad inputs.",
+        "Train file {}: {}. Readings as given; unmapped readings are bad inputs.\nGas model: {}. Every result below comes from this model; its row 'Gas model' gives the validity per stage (in-range, or why uncertain or bad), and a value's quality mark includes it.",
         a.file.display(),
-        l.file.train.name
+        l.file.train.name,
+        l.gas_description()
     );
     let head = ("evaluate", scenario.as_str());
     if a.json {

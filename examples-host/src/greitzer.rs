@@ -89,20 +89,137 @@ pub const STEP: f64 = 0.0005;
 
 const RU: f64 = 8_314.462_618_153_24;
 
-/// Suction density, kg/m³.
-pub fn suction_density() -> f64 {
-    SUCTION_PRESSURE * MOLAR_MASS / (RU * SUCTION_TEMPERATURE)
+/// The plant of one run: duct, plenum, characteristic, recycle valve,
+/// suction conditions, flow element and the surge line the kernel uses.
+/// [`Plant::demo`] is the invented demo blower (the constants above);
+/// `surge-sim --file` builds one from a train file (`crate::surge_sim`).
+#[derive(Clone, Copy, Debug)]
+pub struct Plant {
+    /// Effective duct length Lc, m.
+    pub duct_length: f64,
+    /// Tip speed U, m/s.
+    pub tip_speed: f64,
+    /// Duct flow area Ac, m².
+    pub duct_area: f64,
+    /// Characteristic: shut-off head ψ0.
+    pub psi_0: f64,
+    /// Characteristic: semi-height H.
+    pub semi_height: f64,
+    /// Characteristic: semi-width W (peak at Φ = 2W).
+    pub semi_width: f64,
+    /// Recycle valve fully open: γr.
+    pub recycle_gamma: f64,
+    /// Suction pressure (large suction volume, constant), Pa.
+    pub suction_pressure: f64,
+    /// Suction temperature, K.
+    pub suction_temperature: f64,
+    /// Molar mass, kg/kmol.
+    pub molar_mass: f64,
+    /// Suction compressibility factor, -.
+    pub compressibility: f64,
+    /// Suction flow element coefficient C in Δp = ρ (Q/C)², m².
+    pub flow_coefficient: f64,
+    /// Polytropic exponent for the head number.
+    pub polytropic_exponent: f64,
+    /// Assumed polytropic efficiency for the recycle power, -.
+    pub efficiency: f64,
+    /// Surge points of the kernel's surge line (first `point_count`).
+    pub points: [SurgePoint<f64>; 8],
+    /// Number of surge points used.
+    pub point_count: usize,
+    /// Throttle γt of the design point (the flow-noise reference).
+    pub design_throttle: f64,
 }
 
-/// Dynamic pressure ½ ρ U², Pa.
-pub fn dynamic_pressure() -> f64 {
-    0.5 * suction_density() * TIP_SPEED * TIP_SPEED
-}
+impl Plant {
+    /// The invented demo blower.
+    pub fn demo() -> Plant {
+        let mut p = Plant {
+            duct_length: DUCT_LENGTH,
+            tip_speed: TIP_SPEED,
+            duct_area: DUCT_AREA,
+            psi_0: PSI_0,
+            semi_height: SEMI_HEIGHT,
+            semi_width: SEMI_WIDTH,
+            recycle_gamma: RECYCLE_GAMMA,
+            suction_pressure: SUCTION_PRESSURE,
+            suction_temperature: SUCTION_TEMPERATURE,
+            molar_mass: MOLAR_MASS,
+            compressibility: 1.0,
+            flow_coefficient: FLOW_COEFFICIENT,
+            polytropic_exponent: POLYTROPIC_EXPONENT,
+            efficiency: EFFICIENCY,
+            points: [SurgePoint {
+                speed_rpm: 0.0,
+                suction_volume_flow: 0.0,
+                pressure_ratio: 0.0,
+                control_margin: 0.0,
+            }; 8],
+            point_count: 5,
+            design_throttle: 0.8,
+        };
+        let q = p.dynamic_pressure();
+        let psi_peak = p.characteristic(2.0 * SEMI_WIDTH);
+        let speeds = [0.70, 0.80, 0.90, 1.00, 1.05];
+        for (pt, s) in p.points.iter_mut().zip(speeds) {
+            *pt = SurgePoint {
+                speed_rpm: 9000.0 * s,
+                suction_volume_flow: 2.0 * SEMI_WIDTH * s * TIP_SPEED * DUCT_AREA,
+                pressure_ratio: 1.0 + psi_peak * q * s * s / SUCTION_PRESSURE,
+                // Wider at low speed (common practice).
+                control_margin: if s < 0.85 { 0.12 } else { 0.10 },
+            };
+        }
+        p
+    }
 
-/// Compressor characteristic Ψc(Φ).
-pub fn characteristic(phi: f64) -> f64 {
-    let x = phi / SEMI_WIDTH - 1.0;
-    PSI_0 + SEMI_HEIGHT * (1.0 + 1.5 * x - 0.5 * x * x * x)
+    /// Suction density, kg/m³.
+    pub fn suction_density(&self) -> f64 {
+        self.suction_pressure * self.molar_mass
+            / (self.compressibility * RU * self.suction_temperature)
+    }
+
+    /// Dynamic pressure ½ ρ U², Pa.
+    pub fn dynamic_pressure(&self) -> f64 {
+        0.5 * self.suction_density() * self.tip_speed * self.tip_speed
+    }
+
+    /// Compressor characteristic Ψc(Φ).
+    pub fn characteristic(&self, phi: f64) -> f64 {
+        let x = phi / self.semi_width - 1.0;
+        self.psi_0 + self.semi_height * (1.0 + 1.5 * x - 0.5 * x * x * x)
+    }
+
+    /// The surge points of the kernel's surge line.
+    pub fn surge_points(&self) -> &[SurgePoint<f64>] {
+        self.points.get(..self.point_count).unwrap_or(&[])
+    }
+
+    /// Measured signals (ps, pd, Δp) of a state (Φc, Ψ).
+    pub fn signals(&self, phi: f64, psi: f64) -> (f64, f64, f64) {
+        let qv = phi * self.tip_speed * self.duct_area;
+        let v = qv / self.flow_coefficient;
+        let dp = self.suction_density() * v * v.abs();
+        let pd = self.suction_pressure + psi * self.dynamic_pressure();
+        (self.suction_pressure, pd, dp)
+    }
+
+    /// Steady operating point (Φ, Ψ) on throttle γ with the valve closed.
+    pub fn steady_point(&self, gamma: f64) -> (f64, f64) {
+        // Φ on the falling branch right of the peak: bisection, 60 steps.
+        let f = |phi: f64| self.characteristic(phi) - (phi / gamma) * (phi / gamma);
+        let (mut lo, mut hi) = (2.0 * self.semi_width, 4.0 * self.semi_width);
+        for _ in 0..60 {
+            let mid = 0.5 * (lo + hi);
+            if f(mid) > 0.0 {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+        }
+        let phi = 0.5 * (lo + hi);
+        (phi, self.characteristic(phi))
+    }
 }
 
 fn valve_flow(gamma: f64, psi: f64) -> f64 {
@@ -190,6 +307,8 @@ impl Gauss {
 /// Scenario of one run.
 #[derive(Clone, Copy, Debug)]
 pub struct Scenario {
+    /// The plant ([`Plant::demo`] by default).
+    pub plant: Plant,
     /// Measurement noise (None: exact signals).
     pub noise: Option<Noise>,
     /// Greitzer B of the run at the same tip speed (plenum volume changes
@@ -233,6 +352,7 @@ impl Default for Scenario {
     /// noise.
     fn default() -> Self {
         Scenario {
+            plant: Plant::demo(),
             noise: None,
             greitzer_b: B,
             anticipation_time: ANTICIPATION_TIME,
@@ -316,62 +436,12 @@ pub struct Outcome {
     pub max_position_before_load_loss: f64,
 }
 
-/// The surge line the kernel uses: the characteristic's peak (Φ = 2W) on
-/// speed lines at 70–105 % by the fan laws (Φ fixed, Ψ·U² and Q ∝ speed).
-pub fn surge_points() -> [SurgePoint<f64>; 5] {
-    let q = dynamic_pressure();
-    let psi_peak = characteristic(2.0 * SEMI_WIDTH);
-    let mut out = [SurgePoint {
-        speed_rpm: 0.0,
-        suction_volume_flow: 0.0,
-        pressure_ratio: 0.0,
-        control_margin: 0.0,
-    }; 5];
-    let speeds = [0.70, 0.80, 0.90, 1.00, 1.05];
-    for (p, s) in out.iter_mut().zip(speeds) {
-        *p = SurgePoint {
-            speed_rpm: 9000.0 * s,
-            suction_volume_flow: 2.0 * SEMI_WIDTH * s * TIP_SPEED * DUCT_AREA,
-            pressure_ratio: 1.0 + psi_peak * q * s * s / SUCTION_PRESSURE,
-            // Wider at low speed (common practice).
-            control_margin: if s < 0.85 { 0.12 } else { 0.10 },
-        };
-    }
-    out
-}
-
-/// Measured signals (ps, pd, Δp) of a state (Φc, Ψ).
-pub fn signals(phi: f64, psi: f64) -> (f64, f64, f64) {
-    let qv = phi * TIP_SPEED * DUCT_AREA;
-    let v = qv / FLOW_COEFFICIENT;
-    let dp = suction_density() * v * v.abs();
-    let pd = SUCTION_PRESSURE + psi * dynamic_pressure();
-    (SUCTION_PRESSURE, pd, dp)
-}
-
 fn surge_scan(s: (f64, f64, f64)) -> SurgeScan<f64> {
     SurgeScan::pressures_only(
         Measured::good(PressureAbs::from_pa(s.0)),
         Measured::good(PressureAbs::from_pa(s.1)),
         Measured::good(s.2),
     )
-}
-
-/// Steady operating point (Φ, Ψ) on throttle γ with the valve closed.
-pub fn steady_point(gamma: f64) -> (f64, f64) {
-    // Φ on the falling branch right of the peak: bisection, 60 steps.
-    let f = |phi: f64| characteristic(phi) - (phi / gamma) * (phi / gamma);
-    let (mut lo, mut hi) = (2.0 * SEMI_WIDTH, 4.0 * SEMI_WIDTH);
-    for _ in 0..60 {
-        let mid = 0.5 * (lo + hi);
-        if f(mid) > 0.0 {
-            lo = mid;
-        } else {
-            hi = mid;
-        }
-    }
-    let phi = 0.5 * (lo + hi);
-    (phi, characteristic(phi))
 }
 
 /// Throttle γt at time `t`: the load loss schedule.
@@ -382,17 +452,17 @@ fn throttle_at(sc: &Scenario, t: f64) -> f64 {
 
 /// Runs one scenario.
 pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
-    let points = surge_points();
+    let pl = &sc.plant;
     let line = SurgeLine::<f64, 8>::new(&SurgeLineConfig {
-        points: &points,
+        points: pl.surge_points(),
         map: MapConditions {
-            suction_pressure: PressureAbs::from_pa(SUCTION_PRESSURE),
-            suction_temperature: Kelvin::new(SUCTION_TEMPERATURE),
-            molar_mass: MOLAR_MASS,
-            compressibility: 1.0,
+            suction_pressure: PressureAbs::from_pa(pl.suction_pressure),
+            suction_temperature: Kelvin::new(pl.suction_temperature),
+            molar_mass: pl.molar_mass,
+            compressibility: pl.compressibility,
         },
-        polytropic_exponent: POLYTROPIC_EXPONENT,
-        flow_coefficient: FLOW_COEFFICIENT,
+        polytropic_exponent: pl.polytropic_exponent,
+        flow_coefficient: pl.flow_coefficient,
     })?;
     let monitor_cfg = MonitorConfig {
         scan_period: sc.scan_period,
@@ -445,12 +515,12 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
     };
     let mut gauss = Gauss::new(sc.noise.map_or(1, |n| n.seed));
     let design_dp = {
-        let (phi, psi) = steady_point(0.8);
-        signals(phi, psi).2
+        let (phi, psi) = pl.steady_point(pl.design_throttle);
+        pl.signals(phi, psi).2
     };
 
-    let (mut phi, mut psi) = steady_point(sc.throttle_before);
-    let mut dp_meas = signals(phi, psi).2;
+    let (mut phi, mut psi) = pl.steady_point(sc.throttle_before);
+    let mut dp_meas = pl.signals(phi, psi).2;
     let mut position = 0.0_f64;
     let delay_steps = (sc.valve_dead_time / STEP).round() as usize;
     let mut delay: VecDeque<f64> = VecDeque::from(vec![0.0; delay_steps.max(1)]);
@@ -458,7 +528,7 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
     let total = (sc.duration / STEP).round() as usize;
     // Greitzer B of this run at the same tip speed: ω_H = U / (2 B Lc).
     let b = sc.greitzer_b;
-    let dtn = STEP * TIP_SPEED / (2.0 * b * DUCT_LENGTH);
+    let dtn = STEP * pl.tip_speed / (2.0 * b * pl.duct_length);
     let mut demand = 0.0;
     let mut out = Outcome {
         min_margin: f64::INFINITY,
@@ -474,7 +544,7 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
         let t = i as f64 * STEP;
         // Controller scan (zero-order hold between scans).
         if i % scan_steps == 0 {
-            let (ps_true, pd_true, _) = signals(phi, psi);
+            let (ps_true, pd_true, _) = pl.signals(phi, psi);
             let (ps, pd, dp) = match sc.noise {
                 Some(n) => (
                     ps_true + n.suction_pressure * gauss.next(),
@@ -497,16 +567,16 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
             let st = *monitor.update(&surge_scan((ps, pd, dp)), added, dt);
             let c = controller.update(&st, &inputs, dt);
             demand = c.demand.value;
-            let true_state = truth.evaluate(&surge_scan(signals(phi, psi)), added);
+            let true_state = truth.evaluate(&surge_scan(pl.signals(phi, psi)), added);
             // The Greitzer flows are volume flows at compressor-inlet
             // density (the model's incompressible duct), so the recycle mass
             // flow takes the suction density.
-            let recycle_mass = suction_density()
-                * valve_flow(RECYCLE_GAMMA * position, psi).max(0.0)
-                * TIP_SPEED
-                * DUCT_AREA;
-            let work =
-                true_state.head_number.value * RU / MOLAR_MASS * SUCTION_TEMPERATURE / EFFICIENCY;
+            let recycle_mass = pl.suction_density()
+                * valve_flow(pl.recycle_gamma * position, psi).max(0.0)
+                * pl.tip_speed
+                * pl.duct_area;
+            let work = true_state.head_number.value * RU / pl.molar_mass * pl.suction_temperature
+                / pl.efficiency;
             let loss = recycle_power(Measured::good(recycle_mass), Measured::good(work));
             out.events = det.event_count;
             out.trip |= det.trip_request;
@@ -545,11 +615,11 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
         let max_move = STEP / sc.valve_stroke_time;
         position += (delayed - position).clamp(-max_move, max_move);
         let gamma_t = throttle_at(sc, t);
-        let gamma_r = RECYCLE_GAMMA * position;
+        let gamma_r = pl.recycle_gamma * position;
         // RK4 on (Φc, Ψ) in Greitzer time.
         let deriv = |phi: f64, psi: f64| {
             (
-                b * (characteristic(phi) - psi),
+                b * (pl.characteristic(phi) - psi),
                 (phi - valve_flow(gamma_t, psi) - valve_flow(gamma_r, psi)) / b,
             )
         };
@@ -560,7 +630,7 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
         phi += dtn / 6.0 * (k1.0 + 2.0 * k2.0 + 2.0 * k3.0 + k4.0);
         psi += dtn / 6.0 * (k1.1 + 2.0 * k2.1 + 2.0 * k3.1 + k4.1);
         // Flow transmitter lag.
-        let dp_true = signals(phi, psi).2;
+        let dp_true = pl.signals(phi, psi).2;
         dp_meas += (dp_true - dp_meas) * (STEP / sc.flow_lag.max(STEP));
         // Bookkeeping on the true state.
         out.min_flow = out.min_flow.min(phi);
@@ -572,7 +642,7 @@ pub fn run(sc: &Scenario) -> Result<Outcome, ConfigError> {
         }
         if t >= sc.load_loss_at {
             let m = truth
-                .evaluate(&surge_scan(signals(phi, psi)), added)
+                .evaluate(&surge_scan(pl.signals(phi, psi)), added)
                 .margin
                 .value;
             out.min_margin = out.min_margin.min(m);

@@ -24,6 +24,7 @@ mod demo;
 mod evaluate;
 // Register image over Modbus TCP, and its map.
 mod gateway;
+mod host_gas;
 mod keys;
 mod ledger_plot;
 mod ledger_view;
@@ -37,6 +38,7 @@ mod stage;
 mod starter;
 mod surgemap;
 mod train_any;
+mod unit_system;
 mod units;
 // Surge simulation: the Greitzer model core and its subcommand.
 mod greitzer;
@@ -54,7 +56,30 @@ use cli::{Cli, CliError, Cmd};
 /// The binary's name, for messages.
 pub const BIN: &str = "polytrope-host";
 
+/// Applies a `--units SYSTEM` choice for the whole process.
+fn choose_units(name: &Option<String>) -> Result<(), CliError> {
+    unit_system::choose_from(name.as_deref()).map_err(|e| CliError::Usage(format!("--units: {e}")))
+}
+
 fn dispatch(cli: &Cli) -> Result<String, CliError> {
+    match &cli.command {
+        Cmd::Demo(a) if a.units.is_some() => {
+            choose_units(&a.units)?;
+            dispatch_inner(cli)
+        }
+        Cmd::Evaluate(a) => {
+            choose_units(&a.units)?;
+            evaluate::run(a)
+        }
+        Cmd::Replay(a) => {
+            choose_units(&a.units)?;
+            replay::run(a)
+        }
+        _ => dispatch_inner(cli),
+    }
+}
+
+fn dispatch_inner(cli: &Cli) -> Result<String, CliError> {
     match &cli.command {
         Cmd::Demo(a) => {
             let text = demo::run(&a.parsed())?;

@@ -12,6 +12,7 @@ use polytrope::scan::StageScan;
 use polytrope::{Measured, Quality, Real};
 
 use crate::keys::Key;
+use crate::unit_system;
 
 /// The caution shown with every result a user sees.
 pub const CAUTION: &str = "Caution: not a certified safety function. Machine limits come from the \
@@ -72,6 +73,8 @@ pub struct Disp {
     pub scale: f64,
     /// Decimals shown.
     pub decimals: usize,
+    /// Added after scaling (absolute temperatures in degC or degF).
+    pub offset: f64,
 }
 
 /// Display conventions used by the tables.
@@ -82,6 +85,7 @@ pub mod disp {
             unit,
             scale,
             decimals,
+            offset: 0.0,
         }
     }
     /// Dimensionless ratio.
@@ -118,8 +122,8 @@ pub fn cell(v: Val, d: Disp) -> String {
     match v.quality {
         Quality::Bad => "--".to_string(),
         Quality::NotApplicable => "n/a".to_string(),
-        Quality::Uncertain => format!("{:.*}?", d.decimals, v.value * d.scale),
-        Quality::Good => format!("{:.*}", d.decimals, v.value * d.scale),
+        Quality::Uncertain => format!("{:.*}?", d.decimals, v.value * d.scale + d.offset),
+        Quality::Good => format!("{:.*}", d.decimals, v.value * d.scale + d.offset),
     }
 }
 
@@ -285,6 +289,20 @@ pub enum Detail {
 
 /// The table display of a kernel field, from its quantity kind.
 pub fn disp_of(spec: &FieldSpec, detail: Detail) -> Disp {
+    // The user's unit system (`--units`), if chosen, for every dimensional
+    // quantity (one source: `crate::unit_system`).
+    if let (Some(u), Some(d)) = (
+        unit_system::chosen(),
+        unit_system::Dimension::of_field(spec.kind, spec.key),
+    ) {
+        let sh = u.shown(d);
+        return Disp {
+            unit: sh.unit,
+            scale: sh.scale,
+            decimals: sh.decimals,
+            offset: sh.offset,
+        };
+    }
     let fine = detail == Detail::Fine;
     let pick = |f: Disp, s: Disp| if fine { f } else { s };
     match spec.kind {
@@ -309,7 +327,25 @@ pub fn disp_of(spec: &FieldSpec, detail: Detail) -> Disp {
             unit: "-",
             scale: 1.0,
             decimals: 0,
+            offset: 0.0,
         },
+    }
+}
+
+/// The display of a quantity of dimension `d`: the user's unit system if
+/// chosen (`--units`), `default` otherwise.
+pub fn disp_or(d: unit_system::Dimension, default: Disp) -> Disp {
+    match unit_system::chosen() {
+        Some(u) => {
+            let sh = u.shown(d);
+            Disp {
+                unit: sh.unit,
+                scale: sh.scale,
+                decimals: sh.decimals,
+                offset: sh.offset,
+            }
+        }
+        None => default,
     }
 }
 

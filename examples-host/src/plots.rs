@@ -20,8 +20,10 @@ use plotters::style::{register_font, FontStyle};
 
 use crate::cli::CliError;
 use crate::config::Loaded;
+use crate::out::disp;
 use crate::replay::Series;
 use crate::surgemap::LinePoint;
+use crate::unit_system::Dimension;
 
 const FONT: &str = "sans-serif";
 const BACKGROUND: RGBColor = RGBColor(250, 248, 244);
@@ -411,6 +413,12 @@ pub fn replay_plots(dir: &Path, l: &Loaded, s: &Series) -> Result<Vec<PathBuf>, 
     Ok(files)
 }
 
+/// An axis label and scale for a quantity of dimension `d`.
+fn axis(d: Dimension, word: &str, default: crate::out::Disp) -> (String, f64) {
+    let shown = crate::out::disp_or(d, default);
+    (format!("{word}, {}", shown.unit), shown.scale)
+}
+
 fn series_plots(
     dir: &Path,
     name: &str,
@@ -427,6 +435,14 @@ fn series_plots(
             .map(|(i, ss)| (label(i), stage_colour(i), f(ss).as_slice()))
             .collect()
     };
+    // Axis units: the user's unit system (`--units`) if chosen, else kJ/kg,
+    // kW and K (the tables' default). None of these panels shows an
+    // absolute temperature, so a scale is enough (no offset).
+    let work = axis(Dimension::SpecificWork, "work", disp::KJ_PER_KG);
+    let power = axis(Dimension::Power, "power", disp::KW);
+    let approach = axis(Dimension::TemperatureDiff, "approach", disp::KELVIN);
+    let duty = axis(Dimension::Power, "duty", disp::KW);
+    let recycle = axis(Dimension::Power, "recycle power", disp::KW);
     let stage_panels = vec![
         Panel {
             title: "Polytropic efficiency (any usable quality)",
@@ -436,14 +452,14 @@ fn series_plots(
         },
         Panel {
             title: "Actual specific work",
-            y_label: "work, kJ/kg",
-            scale: 1e-3,
+            y_label: &work.0,
+            scale: work.1,
             lines: per(|s| &s.work),
         },
         Panel {
             title: "Stage power",
-            y_label: "power, kW",
-            scale: 1e-3,
+            y_label: &power.0,
+            scale: power.1,
             lines: per(|s| &s.power),
         },
     ];
@@ -469,8 +485,8 @@ fn series_plots(
         let panels = vec![
             Panel {
                 title: "Approach (gas out − coolant in)",
-                y_label: "approach, K",
-                scale: 1.0,
+                y_label: &approach.0,
+                scale: approach.1,
                 lines: cl(|s| &s.approach),
             },
             Panel {
@@ -481,8 +497,8 @@ fn series_plots(
             },
             Panel {
                 title: "Heat duty",
-                y_label: "duty, kW",
-                scale: 1e-3,
+                y_label: &duty.0,
+                scale: duty.1,
                 lines: cl(|s| &s.duty),
             },
         ];
@@ -495,8 +511,8 @@ fn series_plots(
     if !rec.is_empty() {
         let panels = vec![Panel {
             title: "Power spent recirculating (recycle flow × stage work)",
-            y_label: "recycle power, kW",
-            scale: 1e-3,
+            y_label: &recycle.0,
+            scale: recycle.1,
             lines: rec,
         }];
         let heading = format!("Recycle power — {name}");
@@ -517,7 +533,7 @@ pub fn demo_plots(dir: &Path) -> Result<Vec<PathBuf>, CliError> {
     let gas = polytrope::gas::IdealGas::from_spec(&polytrope::gas::CARBON_DIOXIDE, false, 1.0)?;
     let mut lane = crate::replay::Lane::<f32, { polytrope::demo::STAGES }> {
         train: polytrope::train::Train::new(polytrope::train::TrainConfig {
-            gas,
+            gas: crate::host_gas::HostGas::Ideal(gas),
             stages: demo_config.stages,
             max_interstage_pressure_drop: demo_config.max_interstage_pressure_drop,
             steady_state: demo_config.steady_state,

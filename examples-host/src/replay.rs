@@ -30,6 +30,7 @@ use crate::config::{self, Loaded, ReadingKind, READINGS};
 use crate::out;
 use crate::surgemap::{self, Monitor};
 use crate::train_any::{self, ix, Cell, HostTrain, Row, StagesJob, READING_COUNT};
+use crate::unit_system::{self, Dimension};
 use crate::units::{self, did_you_mean, sig};
 
 /// What to do with a malformed row.
@@ -66,6 +67,10 @@ pub struct ReplayArgs {
     /// No progress bar.
     #[arg(long)]
     pub quiet: bool,
+    /// Unit system of the results CSV column names and values, the summary
+    /// and the plots: si (default for the CSV), bar-degc or us-field.
+    #[arg(long, value_name = "SYSTEM")]
+    pub units: Option<String>,
     /// Only these result keys in the results CSV, comma-separated (e.g.
     /// `polytropic_efficiency,gas_power_W,surge_margin`); all by default.
     #[arg(long, value_name = "KEYS", value_delimiter = ',')]
@@ -345,9 +350,14 @@ pub fn visit<T: Real, const N: usize>(
             // Interstage pressures below, one fixed set of columns per scan.
             _ => return,
         };
+        // The chosen unit system (`--units`) names and scales the column
+        // from the field's quantity (SI without a choice).
+        let d = Dimension::of_field(spec.kind, spec.key);
+        let key = unit_system::csv_key(spec.key, d);
+        let shown = |x: f64| unit_system::csv_value(x, d);
         match value {
-            FieldValue::Real(m) => f(p, n, spec.key, m.value.to_f64(), m.quality),
-            FieldValue::Plain(x) => f(p, n, spec.key, x.to_f64(), Quality::Good),
+            FieldValue::Real(m) => f(p, n, key, shown(m.value.to_f64()), m.quality),
+            FieldValue::Plain(x) => f(p, n, key, shown(x.to_f64()), Quality::Good),
             FieldValue::Flag(b) => f(p, n, spec.key, if b { 1.0 } else { 0.0 }, Quality::Good),
             FieldValue::Count(c) => f(p, n, spec.key, f64::from(c), Quality::Good),
             _ => {}
@@ -360,12 +370,26 @@ pub fn visit<T: Real, const N: usize>(
         match p {
             Some(p) => p.visit_fields(&mut |spec, value| {
                 if let Some(m) = value.measured() {
-                    f("i", i + 1, spec.key, m.value.to_f64(), m.quality);
+                    let d = Dimension::of_field(spec.kind, spec.key);
+                    f(
+                        "i",
+                        i + 1,
+                        unit_system::csv_key(spec.key, d),
+                        unit_system::csv_value(m.value.to_f64(), d),
+                        m.quality,
+                    );
                 }
             }),
             None => {
                 for spec in <InterstagePressure<T> as ResultFields<T>>::FIELDS {
-                    f("i", i + 1, spec.key, 0.0, Quality::Bad);
+                    let d = Dimension::of_field(spec.kind, spec.key);
+                    f(
+                        "i",
+                        i + 1,
+                        unit_system::csv_key(spec.key, d),
+                        0.0,
+                        Quality::Bad,
+                    );
                 }
             }
         }
@@ -390,7 +414,14 @@ pub fn visit<T: Real, const N: usize>(
             }
         }
         if let Some((w, q)) = e.recycle {
-            f("s", n, "recycle_power_W", w, q);
+            let d = Some(Dimension::Power);
+            f(
+                "s",
+                n,
+                unit_system::csv_key("recycle_power_W", d),
+                unit_system::csv_value(w, d),
+                q,
+            );
         }
     }
     let mut put = |p: &'static str, n: usize, key: &'static str, value: FieldValue<T>| {
@@ -491,9 +522,12 @@ impl<T: Real, const N: usize> Lane<T, N> {
         let mut scan = train_any::scan::<T, N>(l, row);
         for (i, (st, orifice)) in scan.stages.iter_mut().zip(&self.orifices).enumerate() {
             if let Some(o) = orifice {
-                let z = st
-                    .compressibility
-                    .unwrap_or(Measured::good(self.train.config().gas.compressibility()));
+                let z = st.compressibility.unwrap_or_else(|| {
+                    self.train.config().gas.orifice_z(
+                        st.suction_pressure.map(|p| p.pa()),
+                        st.suction_temperature.map(|t| t.kelvin()),
+                    )
+                });
                 let dp = match row.get(i).and_then(|r| r.get(ix::FLOW_DP)) {
                     Some(Cell::Value(v)) => Measured::good(T::of(*v)),
                     _ => Measured::bad(),
@@ -629,6 +663,8 @@ pub struct StageSeries {
     pub hr: Vec<f64>,
     /// Recycle power, W.
     pub recycle: Vec<f64>,
+    /// Scans per gas-model validity (`in-range`, `near-critical`, ...).
+    pub gas_validity: std::collections::BTreeMap<&'static str, u64>,
 }
 
 fn usable(v: f64, q: Quality) -> f64 {
@@ -643,6 +679,13 @@ fn usable(v: f64, q: Quality) -> f64 {
 pub fn record_series<T: Real, const N: usize>(s: &mut Series, lane: &Lane<T, N>) {
     s.ledger.push(ledger_groups(&lane.ledger));
     let snap = lane.train.snapshot();
+    snap.visit_groups(&mut |g, spec, value| {
+        if let (Group::Stage(i), "gas_model_validity", FieldValue::Tag(t)) = (g, spec.key, value) {
+            if let Some(ss) = s.stages.get_mut(usize::from(i)) {
+                *ss.gas_validity.entry(t).or_default() += 1;
+            }
+        }
+    });
     for (i, ss) in s.stages.iter_mut().enumerate() {
         let st = snap.stages.get(i);
         let c = st.and_then(|s| s.compressor());
@@ -1016,15 +1059,23 @@ pub fn summary(l: &Loaded, a: &ReplayArgs, o: &Outcome) -> (String, serde_json::
         .unwrap_or(n / 10)
         .clamp(1, n.max(1));
     let rate = c.replayed as f64 / c.seconds.max(1e-9);
+    let units_note = unit_system::chosen().map_or(String::new(), |u| {
+        format!(
+            "Units: {} (results CSV column names carry each column's unit; JSON stays SI).\n",
+            u.name()
+        )
+    });
     let mut t = format!(
         "{} replay: {} through {}\n{}\n{}\n\n\
+         Gas model: {} (every result column comes from it; its validity is folded into each column's quality).\n\
          Rows: {} read, {} replayed, {} malformed ({}); {:.1} s, {} rows/s (f32 and f64 builds both run).\n\
-         Results: {}\n",
+         Results: {}\n{units_note}",
         crate::BIN,
         a.log.display(),
         a.file.display(),
         l.file.train.name,
         out::CAUTION,
+        l.gas_description(),
         c.rows,
         c.replayed,
         c.malformed.len(),
@@ -1173,15 +1224,36 @@ pub fn summary(l: &Loaded, a: &ReplayArgs, o: &Outcome) -> (String, serde_json::
                 .filter(|(_, x)| x.is_finite())
                 .map(|(k, x)| x * dt(k))
                 .sum();
+            let (pw, unit) = match unit_system::chosen() {
+                Some(u) => {
+                    let sh = u.shown(Dimension::Power);
+                    (sh.of(r), sh.unit)
+                }
+                None => (r, "W"),
+            };
             let _ = writeln!(
                 after,
-                "S{} recycle: mean {} W, {} J over the log.",
+                "S{} recycle: mean {} {unit}, {} J over the log.",
                 i + 1,
-                sig(r),
+                sig(pw),
                 sig(energy)
             );
             put(&mut sj, "recycle_power_mean_W", json!(r));
             put(&mut sj, "recycle_energy_J", json!(energy));
+        }
+        if !ss.gas_validity.is_empty() {
+            let parts: Vec<String> = ss
+                .gas_validity
+                .iter()
+                .map(|(k, v)| format!("{k} {v} scans"))
+                .collect();
+            let _ = writeln!(
+                after,
+                "S{} gas model validity (f32 build): {}.",
+                i + 1,
+                parts.join(", ")
+            );
+            put(&mut sj, "gas_model_validity_scans", json!(ss.gas_validity));
         }
         stages_json.push(sj);
     }

@@ -180,6 +180,17 @@ scan_period_s = 0.02
 gain = 2.0
 integral_time_s = 2.0
 valve_stroke_time_s = 0.8
+[stage.surge.plant]            # the compression system around the stage (surge-sim --file; invented)
+speed_rpm = 10500              # the speed line to simulate: one of the points above
+impeller_tip_diameter_m = 0.73 # tip speed U = pi D N / 60
+duct_length_m = 6.0            # effective length of the suction + impeller duct
+duct_area_m2 = 0.03            # its flow area
+plenum_volume_m3 = 8.0         # discharge volume up to the check valve and the recycle take-off
+shutoff_head_fraction = 0.5    # pressure rise at zero flow / at the surge point, this speed
+operating_flow_m3_per_s = 1.45 # suction volume flow before the load loss
+recycle_valve_full_flow_m3_per_s = 1.5   # recycle valve fully open, at the surge-point pressure rise
+valve_dead_time_s = 0.1
+polytropic_efficiency = 0.8    # for the power spent recirculating
 
 [stage.flow_element]           # ISO 5167-2 orifice plate in the suction line
 pipe_diameter_mm = 300
@@ -194,9 +205,18 @@ pub fn air_file(n: usize) -> String {
     t.push_str(&format!(
         "\n[train]\nname = \"Plant air, {n} stage{} (invented example)\"\n\
          max_interstage_pressure_drop = 0.1   # largest design drop between stages, fraction\n\n\
-         [gas]\nname = \"air\"                    # built-in: air, nitrogen, methane, ethane, carbon-dioxide, hydrogen, lean-natural-gas\n\
+         [gas]\nmodel = \"ideal\"                # \"ideal\", \"peng-robinson\" or \"table\" (below)\n\
+         name = \"air\"                    # built-in: air, nitrogen, methane, ethane, carbon-dioxide, hydrogen, lean-natural-gas\n\
          heat_capacity = \"cp-polynomial\"     # or \"constant-k\"; a custom gas gives molar_mass_kg_per_kmol and heat_capacity_ratio\n\
-         compressibility = 1.0\n",
+         compressibility = 1.0\n\
+         # Peng-Robinson instead: drop name, heat_capacity and compressibility and give mole fractions by component\n\
+         # (nitrogen, oxygen, argon, methane, ethane, propane, n-butane, isobutane,\n\
+         # carbon-dioxide, hydrogen-sulfide, hydrogen, water):\n\
+         #   model = \"peng-robinson\"\n\
+         #   composition = {{ nitrogen = 0.7812, oxygen = 0.2096, argon = 0.0092 }}\n\
+         # A GERG-2008 property table instead (`polytrope-host tables --gas air --out air`):\n\
+         #   model = \"table\"\n\
+         #   table_file = \"air.bin\"     # relative to this file\n",
         if n == 1 { "" } else { "s" }
     ));
     t.push_str(COMMON);
@@ -227,7 +247,8 @@ pub fn demo_file() -> String {
     t.push_str(
         "\n[train]\nname = \"Demo: 4 intercooled CO2 stages and a dense-phase pump (invented)\"\n\
          max_interstage_pressure_drop = 0.1\n\n\
-         [gas]\nname = \"carbon-dioxide\"\nheat_capacity = \"constant-k\"\ncompressibility = 1.0\n",
+         [gas]\nmodel = \"peng-robinson\"        # as the demo itself\n\
+         composition = { carbon-dioxide = 1.0 }\n",
     );
     t.push_str(COMMON);
     let design = [

@@ -171,18 +171,26 @@ pub type Trajectory = (Vec<LinePoint>, Vec<f64>, Vec<f64>, Vec<f64>);
 /// The protected surge simulation (`crate::greitzer`, invented scenario) as
 /// a trajectory in the surge coordinates: (line, X, Y, time s).
 pub fn sim_trajectory() -> Result<Trajectory, crate::cli::CliError> {
+    sim_trajectory_of(&crate::greitzer::Scenario::default())
+}
+
+/// A surge simulation run (`crate::greitzer`) as a trajectory in the surge
+/// coordinates of its plant's surge line: (line, X, Y, time s).
+pub fn sim_trajectory_of(
+    sc: &crate::greitzer::Scenario,
+) -> Result<Trajectory, crate::cli::CliError> {
     use crate::greitzer as g;
-    let points = g::surge_points();
+    let pl = &sc.plant;
     let line = SurgeLine::<f64, MAX_POINTS>::new(&SurgeLineConfig {
-        points: &points,
+        points: pl.surge_points(),
         map: MapConditions {
-            suction_pressure: PressureAbs::from_pa(g::SUCTION_PRESSURE),
-            suction_temperature: Kelvin::new(g::SUCTION_TEMPERATURE),
-            molar_mass: g::MOLAR_MASS,
-            compressibility: 1.0,
+            suction_pressure: PressureAbs::from_pa(pl.suction_pressure),
+            suction_temperature: Kelvin::new(pl.suction_temperature),
+            molar_mass: pl.molar_mass,
+            compressibility: pl.compressibility,
         },
-        polytropic_exponent: g::POLYTROPIC_EXPONENT,
-        flow_coefficient: g::FLOW_COEFFICIENT,
+        polytropic_exponent: pl.polytropic_exponent,
+        flow_coefficient: pl.flow_coefficient,
     })?;
     let lp = line
         .points()
@@ -199,15 +207,15 @@ pub fn sim_trajectory() -> Result<Trajectory, crate::cli::CliError> {
     let mon = SurgeMonitor::<f64, MAX_POINTS>::new(
         line,
         MonitorConfig {
-            scan_period: 0.02,
+            scan_period: sc.scan_period,
             time_to_surge_horizon: 60.0,
-            rate_filter_time: 0.1,
+            rate_filter_time: 0.1_f64.max(sc.scan_period),
         },
     )?;
-    let out = g::run(&g::Scenario::default())?;
+    let out = g::run(sc)?;
     let (mut q2, mut hr, mut t) = (Vec::new(), Vec::new(), Vec::new());
     for s in &out.samples {
-        let (ps, pd, dp) = g::signals(s.phi, s.psi);
+        let (ps, pd, dp) = pl.signals(s.phi, s.psi);
         let (a, b, _) = mon.map_point(&SurgeScan::pressures_only(
             Measured::good(PressureAbs::from_pa(ps)),
             Measured::good(PressureAbs::from_pa(pd)),

@@ -1,9 +1,8 @@
 //! A train of any stage count from a train file: the host picks the kernel's
-//! const-generic instantiation (`Train<T, IdealGas<T>, N, 8>` for
+//! const-generic instantiation (`Train<T, HostGas<T>, N, 8>` for
 //! N = 1..=[`MAX_STAGES`]) by a match on the file's stage count, and turns
 //! one row of readings (SI, blank = bad) into a kernel `Scan`.
 
-use polytrope::gas::IdealGas;
 use polytrope::scan::{CoolerScan, Scan, StageScan};
 use polytrope::train::Train;
 use polytrope::units::{Kelvin, PressureAbs};
@@ -12,12 +11,13 @@ use polytrope::{Measured, Real};
 use crate::cli::CliError;
 use crate::config::Loaded;
 pub use crate::config::MAX_STAGES;
+pub use crate::host_gas::HostGas;
 
 /// Steady-state window of host trains, scans (fixed: one instantiation per stage count).
 pub const WINDOW: usize = 8;
 
 /// The host's train type.
-pub type HostTrain<T, const N: usize> = Train<T, IdealGas<T>, N, WINDOW>;
+pub type HostTrain<T, const N: usize> = Train<T, HostGas<T>, N, WINDOW>;
 
 /// Work that needs the stage count as a constant.
 pub trait StagesJob {

@@ -367,15 +367,21 @@ pub struct Presentation {
     pub flow: Option<(&'static str, f64)>,
 }
 
-/// Units `--units` accepts.
+/// Units `--units` accepts (or one unit system: si, bar-degc, us-field).
 pub const PRESENTATION_UNITS: &[&str] = &[
-    "SI", "Pa", "kPa", "MPa", "bar", "mbar", "hPa", "psi", "K", "degC", "degF", "W", "kW", "MW",
-    "J/kg", "kJ/kg", "kg/s", "kg/h", "t/h",
+    "SI", "bar-degc", "us-field", "Pa", "kPa", "MPa", "bar", "mbar", "hPa", "psi", "K", "degC",
+    "degF", "W", "kW", "MW", "J/kg", "kJ/kg", "kg/s", "kg/h", "t/h",
 ];
 
 impl Presentation {
     /// From a comma-separated list such as `bar,degC,kW,kJ/kg,t/h` (or `SI`).
     pub fn parse(text: &str) -> Result<Presentation, String> {
+        // A whole unit system (`si`, `bar-degc`, `us-field`): the same
+        // choice the tables, CSV and plots use.
+        if let Ok(u) = crate::unit_system::UnitSystem::parse(text) {
+            crate::unit_system::choose(u);
+            return Ok(Presentation::of_system(u));
+        }
         let mut p = Presentation::default();
         for word in text.split(',').map(str::trim).filter(|w| !w.is_empty()) {
             match word {
@@ -402,6 +408,29 @@ impl Presentation {
             }
         }
         Ok(p)
+    }
+
+    /// The presentation of a whole unit system (factors from
+    /// [`crate::unit_system`]).
+    pub fn of_system(u: crate::unit_system::UnitSystem) -> Presentation {
+        use crate::unit_system::{self as us, UnitSystem};
+        match u {
+            UnitSystem::Si => Presentation::default(),
+            UnitSystem::BarDegC => Presentation {
+                pressure: Some(("bar", 1e5)),
+                temperature: Some("degC"),
+                power: Some(("kW", 1e3)),
+                work: Some(("kJ/kg", 1e3)),
+                flow: Some(("t/h", 1.0 / 3.6)),
+            },
+            UnitSystem::UsField => Presentation {
+                pressure: Some(("psi", us::PA_PER_PSI)),
+                temperature: Some("degF"),
+                power: Some(("hp", us::W_PER_HP)),
+                work: Some(("Btu/lb", us::J_PER_KG_PER_BTU_PER_LB)),
+                flow: Some(("lb/h", us::KG_S_PER_LB_H)),
+            },
+        }
     }
 
     /// An absolute pressure with its unit (`Pa a` in SI).

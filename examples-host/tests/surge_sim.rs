@@ -20,7 +20,7 @@
 #[allow(dead_code)]
 mod greitzer;
 
-use greitzer::{run, suction_density, Noise, Scenario, DUCT_AREA, RECYCLE_GAMMA, TIP_SPEED};
+use greitzer::{run, Noise, Plant, Scenario, DUCT_AREA, RECYCLE_GAMMA, TIP_SPEED};
 
 #[test]
 fn protection_keeps_margin_positive_through_a_load_loss() {
@@ -167,7 +167,8 @@ fn recycle_flow_closes_the_plenum_mass_balance() {
     })
     .unwrap();
     let s = out.samples.last().unwrap();
-    let balance = suction_density() * (s.phi - s.throttle_flow) * TIP_SPEED * DUCT_AREA;
+    let balance =
+        Plant::demo().suction_density() * (s.phi - s.throttle_flow) * TIP_SPEED * DUCT_AREA;
     println!(
         "recycle {:.4} kg/s, mass balance {:.4} kg/s (valve {:.3}, γr {RECYCLE_GAMMA})",
         s.recycle_mass_flow, balance, s.position

@@ -380,7 +380,8 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             xq = xq.worst(Quality::Uncertain);
             fault = SurgeFault::FlowDpOutsideValidity;
         }
-        let x = Measured::derived(x, xq);
+        // x is finite (checked above) and xq usable: no `derived` checks.
+        let x = Measured::new(x, xq);
         let sigma = self.exponent.state().sigma;
         if sigma.quality != Quality::Good && fault == SurgeFault::None {
             fault = SurgeFault::Exponent;
@@ -431,7 +432,9 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         SurgeState {
             flow_number: x,
             head_number: y,
-            surge_flow_number: Measured::derived(look.surge_flow_number, lq),
+            // Finite from a validated line (0 with a bad lookup), `lq` never
+            // not applicable: `derived` would change nothing.
+            surge_flow_number: Measured::new(look.surge_flow_number, lq),
             margin,
             control_margin: control,
             clearance,
@@ -502,7 +505,10 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         };
         let approach = -self.rate.slope;
         let q = settled.worst(margin.quality);
-        let rate = Measured::derived(approach, q);
+        // The filter keeps a finite slope (it restarts otherwise), the time is
+        // at most the horizon and `q` is usable: `Measured::derived` would
+        // change neither value nor quality.
+        let rate = Measured::new(approach, q);
         let horizon = self.config.time_to_surge_horizon;
         let t = if margin.value <= T::ZERO {
             T::ZERO
@@ -511,6 +517,6 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         } else {
             horizon
         };
-        (rate, Measured::derived(t, q))
+        (rate, Measured::new(t, q))
     }
 }

@@ -1,0 +1,211 @@
+//! Command-line tests of the one unit choice (`--units si | bar-degc |
+//! us-field`) across `evaluate` tables, `replay` CSV columns and `rate`.
+//! Conversion factors: NIST Special Publication 811 (2008), Appendix B.8
+//! (psi = 6894.757 Pa, Btu_IT/lb = 2326 J/kg, hp = 745.6999 W, lb/h =
+//! 1.259979e-4 kg/s) and B.9 (°C, °F).
+
+#![allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing
+)]
+
+mod common;
+
+use std::collections::HashMap;
+use std::path::{Path, PathBuf};
+
+use common::{fails, ok};
+
+fn tmp(name: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("polytrope-units-{}-{name}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
+fn s(p: &Path) -> &str {
+    p.to_str().unwrap()
+}
+
+/// The invented 3-stage starter train and a short invented log.
+fn setup(dir: &Path) -> (PathBuf, PathBuf) {
+    let (t, l) = (dir.join("air3.toml"), dir.join("log.csv"));
+    ok(&[
+        "new-train",
+        "--stages",
+        "3",
+        "-o",
+        s(&t),
+        "--example-log",
+        s(&l),
+        "--rows",
+        "120",
+    ]);
+    (t, l)
+}
+
+/// Table rows of the compressor-stage table: label -> (unit, S1 value).
+fn stage_rows(text: &str) -> HashMap<String, (String, f64)> {
+    let mut out = HashMap::new();
+    let body = text.split("Compressor stages").nth(1).unwrap();
+    for line in body.lines().skip(3) {
+        if line.trim().is_empty() {
+            break;
+        }
+        let cols: Vec<&str> = line.split("  ").filter(|c| !c.trim().is_empty()).collect();
+        if cols.len() >= 3 {
+            if let Ok(v) = cols[2].trim().trim_end_matches('?').parse::<f64>() {
+                out.insert(cols[0].trim().to_string(), (cols[1].trim().to_string(), v));
+            }
+        }
+    }
+    out
+}
+
+#[test]
+fn evaluate_tables_follow_the_unit_system() {
+    let dir = tmp("evaluate");
+    let (t, l) = setup(&dir);
+    let run = |u: &str| {
+        stage_rows(&ok(&[
+            "evaluate",
+            s(&t),
+            "--row",
+            s(&l),
+            "--scans",
+            "8",
+            "--units",
+            u,
+        ]))
+    };
+    let si = run("si");
+    let us = run("us-field");
+    let bar = run("bar-degc");
+    // (label, SI unit, US unit, factor SI->US, offset, table rounding in US unit)
+    let checks = [
+        (
+            "Suction pressure p1",
+            "Pa a",
+            "psi a",
+            1.0 / 6894.757,
+            0.0,
+            0.006,
+        ),
+        ("T2 discharge", "K", "degF", 1.8, -459.67, 0.06),
+        ("Temperature rise", "K", "degF diff", 1.8, 0.0, 0.06),
+        (
+            "Polytropic head",
+            "J/kg",
+            "Btu/lb",
+            1.0 / 2326.0,
+            0.0,
+            0.006,
+        ),
+        ("Gas power", "W", "hp", 1.0 / 745.6999, 0.0, 0.06),
+        ("Mass flow", "kg/s", "lb/h", 1.0 / 1.259979e-4, 0.0, 1.0),
+    ];
+    for (label, su, uu, f, o, tol) in checks {
+        let (u1, v_si) = &si[label];
+        let (u2, v_us) = &us[label];
+        assert_eq!((u1.as_str(), u2.as_str()), (su, uu), "{label}");
+        // The SI table rounds too: allow its rounding scaled into US units.
+        let expected = v_si * f + o;
+        assert!(
+            (v_us - expected).abs() <= tol + 0.01 * f.abs() + 1e-9 * expected.abs(),
+            "{label}: {v_us} {uu} vs {v_si} {su} -> {expected}"
+        );
+    }
+    let (u, v) = &bar["T2 discharge"];
+    assert_eq!(u, "degC");
+    assert!((v - (si["T2 discharge"].1 - 273.15)).abs() < 0.06, "{v}");
+    let (u, v) = &bar["Gas power"];
+    assert_eq!(u, "kW");
+    assert!((v - si["Gas power"].1 / 1e3).abs() < 0.06, "{v}");
+    // Dimensionless rows do not change.
+    assert_eq!(si["Pressure ratio"], us["Pressure ratio"]);
+    // A wrong name is refused with a hint.
+    let (_, err) = fails(&["evaluate", s(&t), "--row", s(&l), "--units", "bar-degf"]);
+    assert!(err.contains("did you mean 'bar-degc'"), "{err}");
+}
+
+#[test]
+fn replay_columns_carry_the_chosen_unit() {
+    let dir = tmp("replay");
+    let (t, l) = setup(&dir);
+    let (a, b) = (dir.join("si.csv"), dir.join("bar.csv"));
+    ok(&["replay", s(&t), s(&l), "-o", s(&a), "--quiet"]);
+    let text = ok(&[
+        "replay",
+        s(&t),
+        s(&l),
+        "-o",
+        s(&b),
+        "--quiet",
+        "--units",
+        "bar-degc",
+    ]);
+    assert!(text.contains("Units: bar-degc"), "{text}");
+    let read = |p: &Path| {
+        let mut r = csv::Reader::from_path(p).unwrap();
+        let head: Vec<String> = r.headers().unwrap().iter().map(str::to_string).collect();
+        let rows: Vec<Vec<String>> = r
+            .records()
+            .map(|x| x.unwrap().iter().map(str::to_string).collect())
+            .collect();
+        (head, rows)
+    };
+    let (ha, ra) = read(&a);
+    let (hb, rb) = read(&b);
+    assert_eq!(ra.len(), rb.len());
+    let col = |h: &[String], k: &str| {
+        h.iter()
+            .position(|c| c == k)
+            .unwrap_or_else(|| panic!("no column {k}"))
+    };
+    // (SI column, bar-degc column, factor, offset)
+    for (ks, kb, f, o) in [
+        ("s1_gas_power_W_f64", "s1_gas_power_kW_f64", 1e-3, 0.0),
+        (
+            "s2_isentropic_discharge_temperature_K_f64",
+            "s2_isentropic_discharge_temperature_degC_f64",
+            1.0,
+            -273.15,
+        ),
+        (
+            "s1_mass_flow_kg_per_s_f64",
+            "s1_mass_flow_t_per_h_f64",
+            3.6,
+            0.0,
+        ),
+        ("c1_heat_duty_W_f64", "c1_heat_duty_kW_f64", 1e-3, 0.0),
+    ] {
+        let (ia, ib) = (col(&ha, ks), col(&hb, kb));
+        let mut compared = 0;
+        for (x, y) in ra.iter().zip(&rb) {
+            if let (Ok(p), Ok(q)) = (x[ia].parse::<f64>(), y[ib].parse::<f64>()) {
+                assert!(
+                    (p * f + o - q).abs() <= 1e-9 * q.abs().max(1.0),
+                    "{ks}: {p} -> {q}"
+                );
+                compared += 1;
+            }
+        }
+        assert!(compared > 100, "{ks}: only {compared} rows compared");
+    }
+    // No SI-suffixed dimensional column is left in the bar-degc file.
+    assert!(
+        !hb.iter().any(|h| h.ends_with("_W") || h.ends_with("_Pa")),
+        "{hb:?}"
+    );
+}
+
+#[test]
+fn rate_takes_a_unit_system() {
+    let text = ok(&[
+        "rate", "--gas", "air", "--p1", "1.0bara", "--t1", "20degC", "--p2", "3.0bara", "--eta-p",
+        "0.8", "--flow", "1kg/s", "--units", "us-field",
+    ]);
+    assert!(text.contains("psi") && text.contains("degF"), "{text}");
+}
