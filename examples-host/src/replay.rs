@@ -17,7 +17,7 @@ use std::time::Instant;
 
 use clap::{Args, ValueEnum};
 use polytrope::control::recycle_power::recycle_power;
-use polytrope::fields::{FieldValue, Group, ResultFields};
+use polytrope::fields::{FieldSpec, FieldValue, Group, ResultFields};
 use polytrope::flow::orifice::OrificeInputs;
 use polytrope::flow::Orifice;
 use polytrope::ledger::{evaluate_ledger_into, Cause, Ledger, LedgerConfig};
@@ -424,12 +424,21 @@ pub fn visit<T: Real, const N: usize>(
             );
         }
     }
-    let mut put = |p: &'static str, n: usize, key: &'static str, value: FieldValue<T>| {
+    // The same unit presentation as the snapshot's columns (`--units`).
+    let mut put = |p: &'static str, n: usize, spec: &'static FieldSpec, value: FieldValue<T>| {
         if let Some(m) = value.measured() {
-            f(p, n, key, m.value.to_f64(), m.quality);
+            let d = Dimension::of_field(spec.kind, spec.key);
+            let key = unit_system::csv_key(spec.key, d);
+            f(
+                p,
+                n,
+                key,
+                unit_system::csv_value(m.value.to_f64(), d),
+                m.quality,
+            );
         }
     };
-    ledger.visit_fields(&mut |spec, value| put("train", 0, spec.key, value));
+    ledger.visit_fields(&mut |spec, value| put("train", 0, spec, value));
     // Per compressor stage, from the train's own count (the ledger's is
     // zero until its first usable scan: the columns stay fixed).
     for i in 0..usize::from(snap.totals.compressor_stages) {
@@ -437,7 +446,7 @@ pub fn visit<T: Real, const N: usize>(
             intercooling: Measured::bad(),
             stage_inefficiency: Measured::bad(),
         });
-        stage.visit_fields(&mut |spec, value| put("s", i + 1, spec.key, value));
+        stage.visit_fields(&mut |spec, value| put("s", i + 1, spec, value));
     }
 }
 
