@@ -36,6 +36,7 @@ ARGS = sys.argv[1:]
 QUICK = "--quick" in ARGS
 BIN = [a for a in ARGS if a != "--quick"] or [os.path.join(ROOT, "target/release/polytrope-host")]
 SCAN_MS = 20
+LAYOUT_VERSION = 2  # src/registers/mod.rs (2: the loss-ledger blocks)
 QUALITY = {"good": 0, "uncertain": 1, "bad": 2, "not-applicable": 3}
 failures = []
 
@@ -186,6 +187,28 @@ def check_status_and_scaled(regs, exp, status, order):
     return n
 
 
+def check_ledger(regs, status, order):
+    """The loss-ledger blocks as a client reads them (consistency check of
+    the image, not of the physics): in use for the train and each compressor
+    stage, not in use for the pump's slot, and the lines read from the
+    registers add up to the measured total they carry (f32 rounding)."""
+    check(bool(status[("ledger", "0")] & 4), "ledger block in use")
+    lines, total = 0.0, None
+    for r in INPUT:
+        if r["block"] not in ("ledger", "ledger_stage") or r["type"] != "float32":
+            continue
+        v = f32(regs[int(r["address"]):int(r["address"]) + 2], order)
+        if r["key"] == "ledger_measured_total_W":
+            total = v
+        elif r["key"] != "ledger_forward_mass_flow_kg_per_s":
+            lines += v
+    for i in range(1, 6):
+        check(bool(status[("ledger_stage", str(i))] & 4) == (i <= 4), f"ledger stage {i} present bit")
+    check(total is not None and total > 1e6, f"ledger measured total {total}")
+    check(total is not None and abs(lines - total) <= 1e-5 * total, f"ledger lines {lines} != total {total}")
+    print(f"ledger: lines from the registers add up to {total:.0f} W (difference {lines - total:.1f} W)", flush=True)
+
+
 def exception_code(r):
     return getattr(r, "exception_code", None) if r.isError() else None
 
@@ -207,12 +230,13 @@ def main():
         regs = read_image(c)
         order = regs[HEADER["word_order"]]
         k = u32(regs[HEADER["scan_count"]:HEADER["scan_count"] + 2], order)
-        check(regs[HEADER["layout_version"]] == 1 and regs[HEADER["image_registers"]] == IMAGE_LEN, "header")
+        check(regs[HEADER["layout_version"]] == LAYOUT_VERSION and regs[HEADER["image_registers"]] == IMAGE_LEN, "header")
         exp = expected(k)[k]
         n, status = compare_block_values(regs, exp, INPUT, order, f"scan {k}")
         m = check_status_and_scaled(regs, exp, status, order)
         print(f"values: scan {k}: {n} values with quality and {m} scaled integers match the kernel's results", flush=True)
         check(n >= 150, f"only {n} values compared")
+        check_ledger(regs, status, order)
 
         # 2. exceptions; the server keeps serving after each.
         cases = [
@@ -328,7 +352,7 @@ def main():
                 continue
             regs = r.registers
             k = u32(regs[12:14], 0)
-            bad = regs[0] != 1 or regs[2] != IMAGE_LEN or k < last or k not in table
+            bad = regs[0] != LAYOUT_VERSION or regs[2] != IMAGE_LEN or k < last or k not in table
             if not bad:
                 exp = table[k]
                 for row in stage1:

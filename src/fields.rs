@@ -440,11 +440,11 @@ result_fields!(TrainTotals {
         "Sum of the compressor stages' gas power.";
     pump_power: "pump_power_W", "Pump shaft power", "W", Power, Computed,
         "Sum of the pump stages' shaft power.";
-    total_power: "total_power_W", "Total power", "W", Power, Computed,
-        "Compressor plus pump power.";
+    total_power: "total_power_W", "Total power (gas + pump shaft)", "W", Power, Computed,
+        "Compressor gas power (m·Δh: the power the gas takes up, before bearing, seal and gear losses, so below the drivers' shaft power) plus pump shaft power (hydraulic power over the configured pump efficiency); not a driver or electrical power. The loss ledger closes on it.";
     isothermal_work: "isothermal_work_J_per_kg", "Isothermal work, overall ratio", "J/kg",
         SpecificWork, Computed,
-        "Isothermal work for the overall ratio at the first suction temperature.";
+        "Reversible isothermal work for the overall ratio at the first suction temperature, through the gas model (the Gibbs energy rise; Z·R·T·ln r for the ideal gas); the loss ledger starts from it.";
     isothermal_efficiency: "isothermal_efficiency", "Isothermal efficiency", "-", Efficiency,
         Computed, "Isothermal work over compressor work.";
     single_stage_isentropic_work: "single_stage_isentropic_work_J_per_kg",

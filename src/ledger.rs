@@ -146,12 +146,12 @@
 use crate::control::recycle_power;
 use crate::error::{check_range, ConfigError, Problem};
 use crate::fields::{Derivation, FieldSpec, FieldValue, QuantityKind, ResultFields};
-use crate::gas::{GasModel, Validity, ValidityReason};
+use crate::gas::GasModel;
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::scan::{compressibility, mass_flow_kg_s, pressure_pa, temperature_k, Scan};
 use crate::staging::Sum;
-use crate::train::{Snapshot, StageWork, TrainConfig};
+use crate::train::{Snapshot, TrainConfig};
 
 /// What a later stage's suction temperature is compared with.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -272,7 +272,9 @@ pub struct Ledger<T, const N: usize> {
     /// What the chain does not attribute (flow differences between stages,
     /// lines that could not be computed, rounding), W.
     pub remainder: Measured<T>,
-    /// The measured total power (compressor gas power + pump power), W.
+    /// The measured total power, W: the train totals' `total_power`
+    /// (compressor gas power m·Δh, before mechanical losses, plus pump shaft
+    /// power from the configured pump efficiency).
     pub measured_total: Measured<T>,
 }
 
@@ -456,7 +458,7 @@ impl<T: Real, const N: usize> ResultFields<T> for Ledger<T, N> {
             "ledger_measured_total_W",
             "Measured total power",
             Derivation::PassThrough,
-            "Compressor gas power plus pump power; the ledger's end.",
+            "The train's total power (`total_power_W`): compressor gas power (m·Δh, before mechanical losses) plus pump shaft power; the ledger's end.",
         ),
     ];
 
@@ -630,34 +632,33 @@ pub fn evaluate_ledger_into<T: Real, G: GasModel<T>, const N: usize>(
     recycle_mass_flow: Measured<T>,
     out: &mut Ledger<T, N>,
 ) {
-    *out = Ledger::bad();
     let gas = &config.gas;
-    out.compressor_stages = snapshot.totals.compressor_stages;
-    let nc = usize::from(snapshot.totals.compressor_stages);
-    out.measured_total = snapshot.totals.total_power;
+    let totals = &snapshot.totals;
+    out.compressor_stages = totals.compressor_stages;
+    let nc = usize::from(totals.compressor_stages);
+    out.measured_total = totals.total_power;
 
-    // Pumps, and zero lines where a cause cannot exist.
-    let mut pumps = Sum::new();
-    for (i, st) in snapshot.stages.iter().enumerate() {
-        if let StageWork::Pump(p) = &st.work {
-            pumps.add(p.power);
-        }
-        if i == 0 || i >= nc {
-            if let Some(m) = out.intercooling.get_mut(i) {
-                *m = Measured::good(T::ZERO);
-            }
-        }
-        if i >= nc {
-            if let Some(m) = out.stage_inefficiency.get_mut(i) {
-                *m = Measured::good(T::ZERO);
-            }
-        }
+    // Per-stage lines: zero where a cause cannot exist (the first stage's
+    // intercooling, pump stages), bad until the chain prices them. The
+    // train-wide lines the chain prices start bad.
+    let bad = Measured::bad();
+    let zero = Measured::good(T::ZERO);
+    for (i, (ic, ie)) in out
+        .intercooling
+        .iter_mut()
+        .zip(out.stage_inefficiency.iter_mut())
+        .enumerate()
+    {
+        *ic = if i == 0 || i >= nc { zero } else { bad };
+        *ie = if i >= nc { zero } else { bad };
     }
-    out.pumps = if pumps.count == 0 {
-        Measured::good(T::ZERO)
-    } else {
-        pumps.get()
-    };
+    out.isothermal_power = bad;
+    out.stage_count = bad;
+    out.pressure_drops = bad;
+    out.pressure_split = bad;
+    out.coolant_temperature = bad;
+    // Pumps only end a train: the update's pump-power sum, read.
+    out.pumps = if nc < N { totals.pump_power } else { zero };
 
     // Forward flow and recycle.
     let first = snapshot.stages.first().and_then(|s| s.compressor());
@@ -744,22 +745,18 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
         temperature_k(s0.suction_temperature),
         pressure_pa(sl.discharge_pressure),
     );
-    let (z0, q_z0) = match compressibility(s0.compressibility) {
-        Some((z, q)) => (Some(z), q),
-        None => (None, Quality::Good),
-    };
     let q_base = p_s.quality.worst(t_s.quality).worst(p_d.quality);
     let overall = p_d.value / p_s.value;
     if q_base == Quality::Bad || !(overall > T::ONE) || !T::is_finite(overall) {
         return;
     }
-    let ln_overall = T::ln(overall);
 
-    // Step 0: reversible isothermal.
-    let (w_iso, v_iso) = gas.isothermal_work(p_s.value, p_d.value, ln_overall, t_s.value, z0);
+    // Step 0: reversible isothermal, the train totals' row (one definition:
+    // `GasModel::isothermal_work` in the update, read here, not recomputed).
+    let totals = &snapshot.totals;
     let iso = Work {
-        value: w_iso,
-        quality: q_base.worst(q_z0).worst(isothermal_end(v_iso)),
+        value: totals.isothermal_work.value,
+        quality: totals.isothermal_work.quality,
     };
     out.isothermal_power =
         Measured::derived(m_fwd.value * iso.value, m_fwd.quality.worst(iso.quality));
@@ -823,18 +820,20 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
     ref_d.quality = ref_d.quality.worst(q_chain);
 
     // Step 1: equal ratios, no drops. Step 2: equal ratios, measured drops.
-    let ln_a = ln_overall / n;
     let ln_b = T::ln(ratio_product) / n;
     let (ref_a, ref_b) = if uniform {
         // By the `ratio_only` contract the pressures enter only through
         // the ratio passed and the higher pressure (validity): one stage
-        // stands for all.
-        let (wa, qa) = isentropic(gas, p_s.value, t_s.value, p_d.value, ln_a, None);
+        // stands for all. Without supplied Z the update's ideal staged work
+        // is that reference (same model, Z, k and suction state): read, not
+        // recomputed; its states' validity is the isothermal row's (same
+        // highest pressure, same temperature).
+        let staged = totals.ideal_staged_isentropic_work;
         let (wb, qb) = isentropic(gas, p_s.value, t_s.value, p_d.value, ln_b, None);
         (
             Work {
-                value: n * wa,
-                quality: qa.worst(q_base),
+                value: staged.value,
+                quality: staged.quality.worst(iso.quality).worst(q_base),
             },
             Work {
                 value: n * wb,
@@ -842,6 +841,7 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
             },
         )
     } else {
+        let ln_a = T::ln(overall) / n;
         let mut a = Work::zero();
         let mut b = Work::zero();
         a.add(T::ZERO, q_base);
@@ -933,7 +933,9 @@ fn stage_read<T: Real, const N: usize>(
 /// ([`GasModel::isentropic_head_rescaled`]: the value then depends on the
 /// stage's suction temperature only through a factor that cancels),
 /// otherwise evaluates the model.
-#[inline]
+// Always inlined (the rescale is a few instructions; as a call the stage's
+// read was spilled to the stack for it); the model's path is out of line.
+#[inline(always)]
 fn reference_head<T: Real, G: GasModel<T>>(
     gas: &G,
     e: &StageRead<T>,
@@ -956,8 +958,19 @@ fn reference_head<T: Real, G: GasModel<T>>(
             };
         }
     }
+    reference_head_model(gas, e, t_ref.value, q)
+}
+
+/// [`reference_head`] through the model (no rescale available).
+#[inline(never)]
+fn reference_head_model<T: Real, G: GasModel<T>>(
+    gas: &G,
+    e: &StageRead<T>,
+    t_ref: T,
+    q: Quality,
+) -> Work<T> {
     let ln_r = T::ln(e.ratio.value);
-    let (w, qv) = isentropic(gas, e.p1, t_ref.value, e.p2, ln_r, e.z);
+    let (w, qv) = isentropic(gas, e.p1, t_ref, e.p2, ln_r, e.z);
     Work {
         value: w,
         quality: q.worst(qv),
@@ -968,17 +981,4 @@ fn reference_head<T: Real, G: GasModel<T>>(
 #[inline]
 fn config_has_cooler<T, const N: usize>(snapshot: &Snapshot<T, N>, i: usize) -> bool {
     matches!(snapshot.coolers.get(i), Some(Some(_)))
-}
-
-/// Quality of the isothermal reference's end states. Isothermal
-/// compression at the first suction temperature may end in a dense or
-/// liquid-like state (CO2 below its critical temperature): the Gibbs
-/// energy rise is still the reversible work, but a cubic's dense root is an
-/// estimate, so a liquid-like end is uncertain rather than bad.
-#[inline]
-fn isothermal_end(v: Validity) -> Quality {
-    match v.reason {
-        ValidityReason::LiquidLike => Quality::Uncertain,
-        _ => v.quality,
-    }
 }

@@ -9,6 +9,7 @@
 //! N grows; one uncooled isentropic stage is the other extreme.
 
 use crate::compression::{isentropic_head, isentropic_head_from_log, isothermal_head_from_log};
+use crate::gas::{Validity, ValidityReason};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 
@@ -67,10 +68,16 @@ pub struct TrainTotals<T> {
     pub compressor_power: Measured<T>,
     /// Sum of the pump stages' shaft power, W.
     pub pump_power: Measured<T>,
-    /// Compressor plus pump power, W.
+    /// Compressor gas power plus pump shaft power, W: the power the gas
+    /// takes up in the compressors (m·Δh, before bearing, seal and gear
+    /// losses) plus what the pumps' shafts take (hydraulic power over the
+    /// configured efficiency). Not a driver or electrical power.
     pub total_power: Measured<T>,
-    /// Isothermal work for the overall ratio at the first suction
-    /// temperature, J/kg.
+    /// Reversible isothermal work from the first suction pressure to the
+    /// last compressor discharge pressure at the first suction temperature,
+    /// J/kg, through the gas model ([`crate::gas::GasModel::isothermal_work`]:
+    /// the Gibbs energy rise Δh − T·Δs, Z·R·T·ln r for the ideal gas with the
+    /// mean of the compressor stages' Z). The loss ledger starts from it.
     pub isothermal_work: Measured<T>,
     /// isothermal_work / compressor_work, -.
     pub isothermal_efficiency: Measured<T>,
@@ -143,6 +150,19 @@ pub fn ideal_references_from_log<T: Real>(
     let stage_ratio = T::exp(ln_overall / s);
     let staged = s * isentropic_head(z, gas_constant, t1, stage_ratio, k);
     (iso, single, staged)
+}
+
+/// Quality of the isothermal reference's end states. Isothermal
+/// compression at the first suction temperature may end in a dense or
+/// liquid-like state (CO2 below its critical temperature): the Gibbs
+/// energy rise is still the reversible work, but a cubic's dense root is an
+/// estimate, so a liquid-like end is uncertain rather than bad.
+#[inline]
+pub fn isothermal_reference_quality(v: Validity) -> Quality {
+    match v.reason {
+        ValidityReason::LiquidLike => Quality::Uncertain,
+        _ => v.quality,
+    }
 }
 
 /// Sum of values with the worst of their qualities.

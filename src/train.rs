@@ -16,8 +16,8 @@ use crate::scan::Scan;
 use crate::stage::compressor::{evaluate_compressor_tabled, StageUses};
 use crate::stage::{evaluate_pump_within, CompressorInputs, CompressorResult, PumpResult};
 use crate::staging::{
-    equal_ratio_interstage_pressure_from_log, ideal_references_from_log, InterstagePressure, Sum,
-    TrainTotals,
+    equal_ratio_interstage_pressure_from_log, ideal_references_from_log,
+    isothermal_reference_quality, InterstagePressure, Sum, TrainTotals,
 };
 use crate::steady::{SteadyState, SteadyStateConfig, SteadyStateDetector};
 use crate::units::{Kelvin, PressureAbs};
@@ -699,7 +699,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             .config
             .gas
             .path(first.p1.value, t1, last_c.p2.value, t1, Some(z_mean));
-        let (iso, single, staged) = ideal_references_from_log(
+        let (_, single, staged) = ideal_references_from_log(
             props.z,
             props.gas_constant,
             t1,
@@ -707,7 +707,18 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             props.k,
             u32::from(nc),
         );
-        totals.isothermal_work = Measured::derived(iso, q_ref);
+        // The isothermal reference through the gas model (the Gibbs energy
+        // rise; Z·R·T·ln r for the ideal gas): the one definition the loss
+        // ledger also starts from (it reads this row).
+        let (iso, iso_validity) = self.config.gas.isothermal_work(
+            first.p1.value,
+            last_c.p2.value,
+            ln_overall,
+            t1,
+            Some(z_mean),
+        );
+        totals.isothermal_work =
+            Measured::derived(iso, q_ref.worst(isothermal_reference_quality(iso_validity)));
         totals.single_stage_isentropic_work = Measured::derived(single, q_ref);
         totals.ideal_staged_isentropic_work = Measured::derived(staged, q_ref);
         totals.ideal_staging_saving = Measured::derived(single - staged, q_ref);
@@ -722,7 +733,10 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             } else {
                 Quality::Good
             };
-            totals.isothermal_efficiency = Measured::derived(eta, q_ref.worst(w.quality).worst(q));
+            totals.isothermal_efficiency = Measured::derived(
+                eta,
+                totals.isothermal_work.quality.worst(w.quality).worst(q),
+            );
         }
         let ms = totals.measured_staged_isentropic_work;
         if ms.quality.is_usable() {

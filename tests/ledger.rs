@@ -594,8 +594,12 @@ fn demo_train_ledger_closes_on_the_measured_power() {
         let total = l.measured_total.value;
         assert!(total > 1e6);
         assert!(((l.sum_of_lines() - total) / total).abs() < 1e-12);
-        // The pump is outside the gas ledger, its power its own line.
+        // The pump is outside the gas ledger, its power its own line; the
+        // gas ledger alone closes on the compressor gas power (consistency
+        // check: the two bases of the total, README "Which total").
         assert_eq!(l.pumps.value, snap.stages[4].power().value);
+        let gas = snap.totals.compressor_power.value;
+        assert!(((l.sum_of_lines() - l.pumps.value - gas) / gas).abs() < 1e-12);
         for (name, v, _) in lines(&l) {
             assert!(v.is_finite(), "{name}");
         }
@@ -777,4 +781,56 @@ fn real_gas_isothermal_start_against_coolprop_heos() {
     assert!(dev.abs() < 0.025, "{dev}");
     let ideal = gas.gas_constant() * 300.0 * 5.0_f64.ln();
     assert!(ideal / reference - 1.0 > 0.07);
+    // The train totals' isothermal row is the same definition (one gas-model
+    // call in the update, read by the ledger): the same CoolProp bound
+    // holds for it, and it equals the ledger's start per kg (consistency
+    // check).
+    let mut train = Train::<f64, _, 2, 4>::new(train_config(gas, &s)).unwrap();
+    let snap = *train.update(&scan_of::<f64, 2>(&s, FLOW));
+    let row = snap.totals.isothermal_work;
+    assert_eq!(row.quality, Quality::Good);
+    assert!((row.value / reference - 1.0).abs() < 0.025, "{}", row.value);
+    assert!((row.value - ledger).abs() <= 1e-12 * ledger);
+}
+
+#[cfg(feature = "demo")]
+#[test]
+fn demo_isothermal_row_and_ledger_start_are_one_value() {
+    // Consistency check (both sides are the project's own numbers): before
+    // this was one definition the demo's Peng–Robinson CO2 train printed
+    // 219.7 kJ/kg as the ledger's start and 247 kJ/kg as the totals'
+    // isothermal work (Z·R·T·ln r with the Z of a 1 bar state). Now the
+    // totals' row is the Gibbs energy rise and the ledger starts from it.
+    let mut train = polytrope::demo::train::<f64>().unwrap();
+    let scan = polytrope::demo::scan::<f64>(19);
+    let snap = *train.update(&scan);
+    let mut l = Ledger::bad();
+    evaluate_ledger_into(
+        train.config(),
+        &LedgerConfig::default(),
+        &scan,
+        &snap,
+        Measured::bad(),
+        &mut l,
+    );
+    let row = snap.totals.isothermal_work;
+    let start = l.isothermal_power.value / l.forward_mass_flow.value;
+    assert!(
+        (start - row.value).abs() <= 1e-12 * row.value,
+        "{start} {}",
+        row.value
+    );
+    assert_eq!(
+        l.isothermal_power.quality,
+        row.quality.worst(l.forward_mass_flow.quality)
+    );
+    // The real-gas row is well below the ideal-gas Z·R·T·ln r at the first
+    // suction (CO2 near its critical point is far from ideal at 80 bar).
+    let s0 = &snap.stages[0];
+    let c = s0.compressor().unwrap();
+    let t1 = scan.stages[0].suction_temperature.value.kelvin();
+    let ideal =
+        train.config().gas.gas_constant() * t1 * snap.totals.overall_pressure_ratio.value.ln();
+    assert!(c.mass_flow.value > 0.0);
+    assert!(row.value < 0.95 * ideal, "{} vs {ideal}", row.value);
 }

@@ -30,6 +30,7 @@ use std::sync::{Arc, Mutex};
 use std::task::{Context, Poll};
 use std::time::{Duration, Instant};
 
+use polytrope::ledger::{evaluate_ledger_into, Ledger, LedgerConfig};
 use polytrope::registers::{
     self, crc32, decode_command, image_len, CommandError, CommandKind, FieldValue, RegisterImage,
     ResultFields, SurgeView, WordOrder, COMMAND_REGISTERS,
@@ -88,6 +89,8 @@ pub struct Plant {
     channels: [Transmitter; CHANNELS],
     outputs: [ChannelOutput<f32>; CHANNELS],
     view: SurgeView<f32>,
+    /// The loss ledger of the last scan (first-suction reference, no loop).
+    ledger: Ledger<f32, N>,
     image: Image,
     scan_ms: u32,
     next: u32,
@@ -202,6 +205,7 @@ impl Plant {
                     armed: false,
                 },
             },
+            ledger: Ledger::bad(),
             image: Image::new(order, crc32(text.as_bytes())),
             scan_ms,
             next: 0,
@@ -261,6 +265,15 @@ impl Plant {
         self.view = SurgeView { state, detection };
         let snapshot = self.train.update(&scan);
         self.image.pack(snapshot, &[self.view], &self.outputs);
+        evaluate_ledger_into(
+            self.train.config(),
+            &LedgerConfig::default(),
+            &scan,
+            self.train.snapshot(),
+            Measured::bad(),
+            &mut self.ledger,
+        );
+        self.image.pack_ledger(&self.ledger);
     }
 
     /// The image.
@@ -341,6 +354,13 @@ impl Plant {
         }
         snap.totals
             .visit_fields(&mut |f, x| put("totals", 0, f.key, x));
+        self.ledger
+            .visit_fields(&mut |f, x| put("ledger", 0, f.key, x));
+        for i in 0..N {
+            if let Some(st) = self.ledger.stage(i) {
+                st.visit_fields(&mut |f, x| put("ledger_stage", i + 1, f.key, x));
+            }
+        }
         self.view
             .state
             .visit_fields(&mut |f, x| put("surge", 1, f.key, x));

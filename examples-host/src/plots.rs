@@ -403,6 +403,13 @@ pub fn replay_plots(dir: &Path, l: &Loaded, s: &Series) -> Result<Vec<PathBuf>, 
             format!("S{} {}", i + 1, st.kind)
         })
     })?);
+    let png = dir.join("ledger_periods.png");
+    crate::ledger_plot::periods(
+        &png,
+        &format!("Where the power goes, period by period — {name}"),
+        s,
+    )?;
+    files.push(png);
     Ok(files)
 }
 
@@ -534,13 +541,16 @@ pub fn demo_plots(dir: &Path) -> Result<Vec<PathBuf>, CliError> {
         monitors: vec![None; polytrope::demo::STAGES],
         extra: vec![crate::replay::Extra::default(); polytrope::demo::STAGES],
         orifices: vec![None; polytrope::demo::STAGES],
+        ledger: polytrope::ledger::Ledger::bad(),
     };
     let mut s = Series {
         stages: vec![crate::replay::StageSeries::default(); polytrope::demo::STAGES],
         ..Series::default()
     };
     for i in 0..1200u32 {
-        lane.train.update(&polytrope::demo::scan::<f32>(i));
+        let scan = polytrope::demo::scan::<f32>(i);
+        lane.train.update(&scan);
+        lane.update_ledger(&scan);
         s.time.push(f64::from(i));
         s.line.push(u64::from(i));
         crate::replay::record_series(&mut s, &lane);
@@ -566,6 +576,13 @@ pub fn demo_plots(dir: &Path) -> Result<Vec<PathBuf>, CliError> {
         &png,
         "Where the power goes: demo train on ideal-gas CO2 (invented scenario), scan 1200 (f32)",
         &crate::ledger_view::lines(&ledger),
+    )?;
+    files.push(png);
+    let png = dir.join("ledger_periods.png");
+    crate::ledger_plot::periods(
+        &png,
+        "Where the power goes, period by period: demo train on ideal-gas CO2 (invented scenario)",
+        &s,
     )?;
     files.push(png);
     // The surge simulation's trajectory on its map (invented scenario).

@@ -17,9 +17,10 @@ use std::time::Instant;
 
 use clap::{Args, ValueEnum};
 use polytrope::control::recycle_power::recycle_power;
-use polytrope::fields::{FieldValue, Group, ResultFields};
+use polytrope::fields::{FieldSpec, FieldValue, Group, ResultFields};
 use polytrope::flow::orifice::OrificeInputs;
 use polytrope::flow::Orifice;
+use polytrope::ledger::{evaluate_ledger_into, Cause, Ledger, LedgerConfig};
 use polytrope::staging::InterstagePressure;
 use polytrope::train::Snapshot;
 use polytrope::{Measured, Quality, Real};
@@ -330,11 +331,15 @@ pub struct Extra {
 /// one snapshot: the kernel's field list (`Snapshot::visit_groups`, keys
 /// with their SI unit suffix) by group (`s<i>` stage, `c<i>` cooler after
 /// stage i, `train` totals, `i<i>` interstage pressure after stage i), then
-/// the host's surge-margin and recycle columns per stage. Flags and counts
-/// are written as numbers; condition names (tags) are not columns.
+/// the host's surge-margin and recycle columns per stage, then the loss
+/// ledger from its field lists (`train_ledger_*` for the train-wide lines,
+/// `s<i>_ledger_*` per compressor stage: a new ledger line is one entry in
+/// `polytrope::ledger`'s list). Flags and counts are written as numbers;
+/// condition names (tags) are not columns.
 pub fn visit<T: Real, const N: usize>(
     snap: &Snapshot<T, N>,
     extra: &[Extra],
+    ledger: &Ledger<T, N>,
     f: &mut dyn FnMut(&'static str, usize, &'static str, f64, Quality),
 ) {
     snap.visit_groups(&mut |g, spec, value| {
@@ -419,6 +424,30 @@ pub fn visit<T: Real, const N: usize>(
             );
         }
     }
+    // The same unit presentation as the snapshot's columns (`--units`).
+    let mut put = |p: &'static str, n: usize, spec: &'static FieldSpec, value: FieldValue<T>| {
+        if let Some(m) = value.measured() {
+            let d = Dimension::of_field(spec.kind, spec.key);
+            let key = unit_system::csv_key(spec.key, d);
+            f(
+                p,
+                n,
+                key,
+                unit_system::csv_value(m.value.to_f64(), d),
+                m.quality,
+            );
+        }
+    };
+    ledger.visit_fields(&mut |spec, value| put("train", 0, spec, value));
+    // Per compressor stage, from the train's own count (the ledger's is
+    // zero until its first usable scan: the columns stay fixed).
+    for i in 0..usize::from(snap.totals.compressor_stages) {
+        let stage = ledger.stage(i).unwrap_or(polytrope::ledger::LedgerStage {
+            intercooling: Measured::bad(),
+            stage_inefficiency: Measured::bad(),
+        });
+        stage.visit_fields(&mut |spec, value| put("s", i + 1, spec, value));
+    }
 }
 
 /// Column base name: `s1_gas_power_W`, `c2_approach_K`, `train_total_power_W`.
@@ -441,6 +470,9 @@ pub struct Lane<T: Real, const N: usize> {
     /// Orifices (`[stage.flow_element]`) that give the mass flow of a stage
     /// without a mapped `mass_flow` reading, from its flow differential pressure.
     pub orifices: Vec<Option<Orifice<T>>>,
+    /// The loss ledger of the last scan (first-suction reference, no
+    /// recycle loop: train files do not describe one yet).
+    pub ledger: Ledger<T, N>,
 }
 
 impl<T: Real, const N: usize> Lane<T, N> {
@@ -470,6 +502,7 @@ impl<T: Real, const N: usize> Lane<T, N> {
             monitors,
             extra: vec![Extra::default(); N],
             orifices,
+            ledger: Ledger::bad(),
         })
     }
 
@@ -477,7 +510,20 @@ impl<T: Real, const N: usize> Lane<T, N> {
     pub fn step(&mut self, l: &Loaded, row: &Row) {
         let scan = self.scan(l, row);
         self.train.update(&scan);
+        self.update_ledger(&scan);
         self.margins(row);
+    }
+
+    /// The loss ledger of `scan`, the scan the train was just updated with.
+    pub fn update_ledger(&mut self, scan: &polytrope::scan::Scan<T, N>) {
+        evaluate_ledger_into(
+            self.train.config(),
+            &LedgerConfig::default(),
+            scan,
+            self.train.snapshot(),
+            Measured::bad(),
+            &mut self.ledger,
+        );
     }
 
     /// The kernel scan of a row, with orifice flows where configured.
@@ -559,6 +605,44 @@ pub struct Series {
     pub line: Vec<u64>,
     /// Per stage: (name, values) for each plotted quantity.
     pub stages: Vec<StageSeries>,
+    /// Per scan: the loss ledger in W by [`LEDGER_GROUPS`] (NaN where the
+    /// scan's ledger has an unusable line: the whole scan is left out).
+    pub ledger: Vec<[f64; LEDGER_GROUPS.len()]>,
+}
+
+/// The loss ledger's lines as the replay keeps them for its period plot:
+/// per-stage lines summed over the stages.
+pub const LEDGER_GROUPS: [Cause; 11] = [
+    Cause::Isothermal,
+    Cause::StageCount,
+    Cause::PressureDrops,
+    Cause::PressureSplit,
+    Cause::CoolantTemperature,
+    Cause::Intercooling,
+    Cause::StageInefficiency,
+    Cause::Recycle,
+    Cause::Pumps,
+    Cause::Remainder,
+    Cause::MeasuredTotal,
+];
+
+/// One scan's ledger by [`LEDGER_GROUPS`], W; all NaN unless every line is usable.
+pub fn ledger_groups<T: Real, const N: usize>(l: &Ledger<T, N>) -> [f64; LEDGER_GROUPS.len()] {
+    let mut g = [0.0; LEDGER_GROUPS.len()];
+    let mut usable = true;
+    l.visit_lines(&mut |c, _, m| {
+        usable &= m.quality.is_usable();
+        if let Some(k) = LEDGER_GROUPS.iter().position(|x| *x == c) {
+            if let Some(v) = g.get_mut(k) {
+                *v += m.value.to_f64();
+            }
+        }
+    });
+    if usable {
+        g
+    } else {
+        [f64::NAN; LEDGER_GROUPS.len()]
+    }
 }
 
 /// Per-stage series.
@@ -602,6 +686,7 @@ fn usable(v: f64, q: Quality) -> f64 {
 
 /// Appends the series of one scan.
 pub fn record_series<T: Real, const N: usize>(s: &mut Series, lane: &Lane<T, N>) {
+    s.ledger.push(ledger_groups(&lane.ledger));
     let snap = lane.train.snapshot();
     snap.visit_groups(&mut |g, spec, value| {
         if let (Group::Stage(i), "gas_model_validity", FieldValue::Tag(t)) = (g, spec.key, value) {
@@ -830,6 +915,7 @@ fn replay_n<const N: usize>(l: &Loaded, a: &ReplayArgs) -> Result<Outcome, CliEr
         visit(
             lane32.train.snapshot(),
             &lane32.extra,
+            &lane32.ledger,
             &mut |p, n, key, v, q| {
                 if first {
                     names.push(column_name(p, n, key));
@@ -842,6 +928,7 @@ fn replay_n<const N: usize>(l: &Loaded, a: &ReplayArgs) -> Result<Outcome, CliEr
         visit(
             lane64.train.snapshot(),
             &lane64.extra,
+            &lane64.ledger,
             &mut |_, _, _, v, q| {
                 vals64.push((v, q));
             },

@@ -14,6 +14,7 @@ use super::{
 use super::{registers_of, FieldSpec, QuantityKind, ResultFields};
 use crate::cooler::{CoolerCondition, CoolerResult};
 use crate::fields::Derivation;
+use crate::ledger::{Ledger, LedgerStage};
 use crate::quality::FaultCode;
 use crate::signal::ChannelOutput;
 use crate::stage::{CompressorResult, PumpCondition, PumpResult, StageCondition};
@@ -31,6 +32,8 @@ const TOTALS: &[FieldSpec] = <TrainTotals<F> as ResultFields<F>>::FIELDS;
 const SURGE: &[FieldSpec] = <SurgeState<F> as ResultFields<F>>::FIELDS;
 const DETECTION: &[FieldSpec] = <DetectionState<F> as ResultFields<F>>::FIELDS;
 const CHANNEL_FIELDS: &[FieldSpec] = <ChannelOutput<F> as ResultFields<F>>::FIELDS;
+const LEDGER: &[FieldSpec] = <Ledger<F, 1> as ResultFields<F>>::FIELDS;
+const LEDGER_STAGE: &[FieldSpec] = <LedgerStage<F> as ResultFields<F>>::FIELDS;
 
 /// How a register (or register pair) is encoded.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -485,6 +488,25 @@ pub fn visit_map(n: usize, m: usize, c: usize, visit: &mut dyn FnMut(&MapRow)) {
         super::TOTALS_SLOTS,
         &[one(TOTALS)],
     );
+    block_rows(
+        visit,
+        "ledger",
+        0,
+        l.ledger,
+        super::LEDGER_SLOTS,
+        &[one(LEDGER)],
+    );
+    for i in 0..n {
+        let base = l.ledger_stages + i * block_len(super::LEDGER_STAGE_SLOTS);
+        block_rows(
+            visit,
+            "ledger_stage",
+            i + 1,
+            base,
+            super::LEDGER_STAGE_SLOTS,
+            &[one(LEDGER_STAGE)],
+        );
+    }
     let surge_parts = [
         one(SURGE),
         Part {
@@ -599,13 +621,15 @@ pub const fn map_checksum(n: usize, m: usize, c: usize) -> u32 {
         h = crc32_chain(h, *x as u32, 1);
         counts = tail;
     }
-    let lists: [&[FieldSpec]; 9] = [
+    let lists: [&[FieldSpec]; 11] = [
         COMPRESSOR,
         PUMP,
         STEADY,
         COOLER,
         INTERSTAGE,
         TOTALS,
+        LEDGER,
+        LEDGER_STAGE,
         SURGE,
         DETECTION,
         CHANNEL_FIELDS,
@@ -848,6 +872,13 @@ pub fn write_map_markdown(w: &mut dyn Write, n: usize, m: usize, c: usize) -> fm
             block_len(super::INTERSTAGE_SLOTS),
         ),
         ("totals", 1, l.totals, block_len(super::TOTALS_SLOTS)),
+        ("ledger", 1, l.ledger, block_len(super::LEDGER_SLOTS)),
+        (
+            "ledger_stage (stage i)",
+            n,
+            l.ledger_stages,
+            block_len(super::LEDGER_STAGE_SLOTS),
+        ),
         ("surge", m, l.surge, block_len(super::SURGE_SLOTS)),
         ("channel", c, l.channels, block_len(super::CHANNEL_SLOTS)),
         ("scaled", 1, l.scaled, l.trailer - l.scaled),
@@ -883,6 +914,14 @@ pub fn write_map_markdown(w: &mut dyn Write, n: usize, m: usize, c: usize) -> fm
         ("cooler", "Cooler block"),
         ("interstage", "Interstage block"),
         ("totals", "Totals block"),
+        (
+            "ledger",
+            "Loss-ledger block (W; not in use until the gateway packs a ledger)",
+        ),
+        (
+            "ledger_stage",
+            "Loss-ledger stage block (per compressor stage, W)",
+        ),
         ("surge", "Surge block"),
         ("channel", "Channel block"),
     ] {
@@ -898,7 +937,11 @@ pub fn write_map_markdown(w: &mut dyn Write, n: usize, m: usize, c: usize) -> fm
             writeln!(w, "|---:|---:|---|---|---|---|---|")?;
         }
         let mut err = Ok(());
-        let first = if block == "totals" { 0 } else { 1 };
+        let first = if block == "totals" || block == "ledger" {
+            0
+        } else {
+            1
+        };
         visit_map(n.max(1), m.max(1), c.max(1), &mut |r| {
             if r.block != block || r.instance != first || err.is_err() {
                 return;

@@ -11,8 +11,10 @@
 //! # Layout
 //!
 //! Header, then one block per stage, per cooler slot, per interstage slot,
-//! the totals, one block per surge monitor and per channel, a block of
-//! scaled integers, and a trailer that repeats the scan counter. Every block
+//! the totals, the loss ledger (one train-wide block and one per stage
+//! slot, [`RegisterImage::pack_ledger`]), one block per surge monitor and
+//! per channel, a block of scaled integers, and a trailer that repeats the
+//! scan counter. Every block
 //! starts at an even address and has the same shape:
 //!
 //! * a **status word**: bits 0–1 the worst quality of the block's values
@@ -51,6 +53,7 @@ pub use map::{
 };
 
 use crate::cooler::CoolerResult;
+use crate::ledger::{Ledger, LedgerStage};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::signal::ChannelOutput;
@@ -60,8 +63,9 @@ use crate::steady::SteadyState;
 use crate::surge::{DetectionState, SurgeState};
 use crate::train::{Snapshot, StageWork};
 
-/// Version of the layout rules; changes when an address moves.
-pub const LAYOUT_VERSION: u16 = 1;
+/// Version of the layout rules; changes when an address moves (2: the
+/// loss-ledger blocks after the totals).
+pub const LAYOUT_VERSION: u16 = 2;
 
 /// Order of the two 16-bit words of a 32-bit value (float or count).
 /// Both are in use in the field; the header states which one an image uses.
@@ -259,6 +263,10 @@ pub const COOLER_SLOTS: usize = slots(<CoolerResult<F> as ResultFields<F>>::FIEL
 pub const INTERSTAGE_SLOTS: usize = slots(<InterstagePressure<F> as ResultFields<F>>::FIELDS);
 /// Value slots of the totals block.
 pub const TOTALS_SLOTS: usize = slots(<TrainTotals<F> as ResultFields<F>>::FIELDS);
+/// Value slots of the loss ledger's train-wide block.
+pub const LEDGER_SLOTS: usize = slots(<Ledger<F, 1> as ResultFields<F>>::FIELDS);
+/// Value slots of a loss-ledger stage block.
+pub const LEDGER_STAGE_SLOTS: usize = slots(<LedgerStage<F> as ResultFields<F>>::FIELDS);
 /// Value slots of the surge-state part of a surge block.
 pub const SURGE_STATE_SLOTS: usize = slots(<SurgeState<F> as ResultFields<F>>::FIELDS);
 /// Value slots of a surge block (surge state, then detection).
@@ -325,6 +333,10 @@ pub struct Layout {
     pub interstage: usize,
     /// Totals block.
     pub totals: usize,
+    /// Loss-ledger block (train-wide lines).
+    pub ledger: usize,
+    /// First loss-ledger stage block (one per stage slot).
+    pub ledger_stages: usize,
     /// First surge block.
     pub surge: usize,
     /// First channel block.
@@ -344,7 +356,9 @@ impl Layout {
         let coolers = stages + n * block_len(STAGE_SLOTS);
         let interstage = coolers + n * block_len(COOLER_SLOTS);
         let totals = interstage + n * block_len(INTERSTAGE_SLOTS);
-        let surge = totals + block_len(TOTALS_SLOTS);
+        let ledger = totals + block_len(TOTALS_SLOTS);
+        let ledger_stages = ledger + block_len(LEDGER_SLOTS);
+        let surge = ledger_stages + n * block_len(LEDGER_STAGE_SLOTS);
         let channels = surge + m * block_len(SURGE_SLOTS);
         let scaled = channels + c * block_len(CHANNEL_SLOTS);
         let scaled_total = n * scaled_len(SCALED_STAGE)
@@ -357,6 +371,8 @@ impl Layout {
             coolers,
             interstage,
             totals,
+            ledger,
+            ledger_stages,
             surge,
             channels,
             scaled,
@@ -756,7 +772,36 @@ impl<const N: usize, const M: usize, const C: usize, const R: usize> RegisterIma
         put32(regs, header::CONFIG_CHECKSUM, config_checksum, order);
         put32(regs, header::MAP_CHECKSUM, Self::MAP_CHECKSUM, order);
         put(regs, header::SUMMARY, quality_code::NOT_APPLICABLE);
+        // The ledger blocks stay "not in use" until `pack_ledger`.
+        let l = Self::LAYOUT;
+        Block::start(regs, l.ledger, LEDGER_SLOTS, order).finish(false, 0);
+        for i in 0..N {
+            let base = l.ledger_stages + i * block_len(LEDGER_STAGE_SLOTS);
+            Block::start(regs, base, LEDGER_STAGE_SLOTS, order).finish(false, 0);
+        }
         image
+    }
+
+    /// Packs one scan's loss ledger ([`crate::ledger::evaluate_ledger_into`]
+    /// after the same scan's [`RegisterImage::pack`]): the train-wide block
+    /// and one stage block per compressor stage (pump stage slots stay not
+    /// in use). The ledger blocks are outside the header's summary quality.
+    /// Never called, they stay not in use. Bounded: one pass over the blocks.
+    pub fn pack_ledger<T: RegisterReal>(&mut self, ledger: &Ledger<T, N>) {
+        let l = Self::LAYOUT;
+        let order = self.order;
+        let mut b = Block::start(&mut self.regs, l.ledger, LEDGER_SLOTS, order);
+        ledger.visit_fields(&mut |_, v| b.field(v));
+        b.finish(true, 0);
+        for i in 0..N {
+            let base = l.ledger_stages + i * block_len(LEDGER_STAGE_SLOTS);
+            let mut b = Block::start(&mut self.regs, base, LEDGER_STAGE_SLOTS, order);
+            let stage = ledger.stage(i);
+            if let Some(st) = &stage {
+                st.visit_fields(&mut |_, v| b.field(v));
+            }
+            b.finish(stage.is_some(), 0);
+        }
     }
 
     /// The registers (input registers 0..R).

@@ -443,3 +443,88 @@ fn condition_codes_in_the_map_are_the_kernel_codes() {
 }
 
 use crate::stage::StageCondition;
+
+/// The loss-ledger blocks: every map row of `ledger` / `ledger_stage` holds
+/// the value and quality of the kernel's ledger after `pack_ledger`, the
+/// pump's stage slot stays not in use, and the lines read back from the
+/// registers add up to the measured total they carry (a consistency check:
+/// the project's own types on both sides).
+#[test]
+fn ledger_blocks_hold_the_kernel_ledger() {
+    use crate::ledger::{evaluate_ledger_into, Ledger, LedgerConfig};
+    let scan = demo::scan::<f32>(3);
+    let mut train = demo::train::<f32>().unwrap();
+    let snap = *train.update(&scan);
+    let mut ledger = Ledger::bad();
+    evaluate_ledger_into(
+        train.config(),
+        &LedgerConfig::default(),
+        &scan,
+        &snap,
+        Measured::bad(),
+        &mut ledger,
+    );
+    let mut image = Image::new(WordOrder::LowWordFirst, 0);
+    image.pack(
+        &snap,
+        &[surge_view(0.25, 0, false)],
+        &[channel(Quality::Good)],
+    );
+    let l = Image::LAYOUT;
+    // Before `pack_ledger`: present bit clear, quality not applicable.
+    assert_eq!(image.registers()[l.ledger] & STATUS_PRESENT, 0);
+    image.pack_ledger(&ledger);
+    let regs = image.registers();
+    let order = WordOrder::LowWordFirst;
+    let mut want: Vec<(&str, usize, &str, Measured<f32>)> = Vec::new();
+    ledger.visit_fields(&mut |f, v| {
+        if let Some(m) = v.measured() {
+            want.push(("ledger", 0, f.key, m));
+        }
+    });
+    for i in 0..N {
+        if let Some(st) = ledger.stage(i) {
+            st.visit_fields(&mut |f, v| {
+                if let Some(m) = v.measured() {
+                    want.push(("ledger_stage", i + 1, f.key, m));
+                }
+            });
+        }
+    }
+    let (mut checked, mut lines, mut total) = (0, 0.0_f64, 0.0_f64);
+    visit_map(N, 1, 1, &mut |r| {
+        if !matches!(r.block, "ledger" | "ledger_stage") {
+            return;
+        }
+        let Some((qa, qs)) = r.quality else { return };
+        let code = (regs[qa] >> qs) & 3;
+        let got = f32::from_bits(order.join([regs[r.address], regs[r.address + 1]]));
+        match want
+            .iter()
+            .find(|w| w.0 == r.block && w.1 == r.instance && w.2 == r.key)
+        {
+            Some(w) => {
+                assert_eq!(got.to_bits(), w.3.value.to_bits(), "{} {}", r.block, r.key);
+                assert_eq!(code, quality_code(w.3.quality), "{} {}", r.block, r.key);
+                checked += 1;
+                match r.key {
+                    "ledger_measured_total_W" => total = f64::from(got),
+                    "ledger_forward_mass_flow_kg_per_s" => {}
+                    _ => lines += f64::from(got),
+                }
+            }
+            None => {
+                // The pump's stage slot.
+                assert_eq!(r.instance, N, "{} {}", r.block, r.key);
+                assert_eq!(code, quality_code::NOT_APPLICABLE);
+                assert_eq!(got, 0.0);
+            }
+        }
+    });
+    assert_eq!(checked, want.len());
+    assert!(total > 1e6);
+    assert!((lines - total).abs() <= 1e-5 * total, "{lines} vs {total}");
+    assert_ne!(regs[l.ledger] & STATUS_PRESENT, 0);
+    let pump_slot = l.ledger_stages + (N - 1) * block_len(LEDGER_STAGE_SLOTS);
+    assert_eq!(regs[pump_slot] & STATUS_PRESENT, 0);
+}

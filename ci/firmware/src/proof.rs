@@ -42,8 +42,8 @@ use polytrope::units::{Kelvin, PressureAbs};
 use crate::codec::decode_scan;
 use crate::front;
 use crate::gas_tables::{HYDROGEN_BLOB, NG_BOOSTER};
-use polytrope::gas::table::{PropertyTable, TableGas};
 use crate::table::MINIMAL_SCAN;
+use polytrope::gas::table::{PropertyTable, TableGas};
 
 /// A PWM channel that keeps the last duty (stands in for a timer).
 struct Pwm(u16);
@@ -305,7 +305,8 @@ pub fn exercise(k: u32) -> bool {
 /// The loss ledger after a train update, on the demo's Peng-Robinson train
 /// and on the same train with an ideal gas, with the coolant-inlet
 /// reference and a recycle loop (`evaluate_ledger_into`,
-/// `LedgerConfig::validate`, `Ledger::visit_lines`).
+/// `LedgerConfig::validate`, `Ledger::visit_lines`), packed into a
+/// register image (`RegisterImage::pack_ledger`).
 #[inline(never)]
 fn ledger() -> bool {
     let cfg = LedgerConfig {
@@ -348,6 +349,15 @@ fn ledger() -> bool {
     let snap = *ideal.update(&scan);
     evaluate_ledger_into(ideal.config(), &cfg, &scan, &snap, recycle, &mut out);
     black_box(&out);
+    // The ledger into a register image (`RegisterImage::pack_ledger`).
+    let mut image = polytrope::registers::RegisterImage::<
+        { demo::STAGES },
+        0,
+        0,
+        { polytrope::registers::image_len(demo::STAGES, 0, 0) },
+    >::new(polytrope::registers::WordOrder::HighWordFirst, 0);
+    image.pack_ledger(&out);
+    black_box(image.registers());
     true
 }
 
