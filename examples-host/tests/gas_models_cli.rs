@@ -19,17 +19,10 @@ mod common;
 
 use std::path::{Path, PathBuf};
 
-use common::{fails, ok, parse, JExt};
+use common::{fails, ok, parse, s, JExt};
 
 fn tmp(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("polytrope-gas-{}-{name}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
-    dir
-}
-
-fn s(p: &Path) -> &str {
-    p.to_str().unwrap()
+    common::scratch("gas", name)
 }
 
 const IDEAL: &str = "model = \"ideal\"\nname = \"air\"\nheat_capacity = \"cp-polynomial\"\n";

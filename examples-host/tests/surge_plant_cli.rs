@@ -14,17 +14,10 @@ mod common;
 
 use std::path::{Path, PathBuf};
 
-use common::{fails, ok};
+use common::{fails, ok, s};
 
 fn tmp(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("polytrope-plant-{}-{name}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
-    dir
-}
-
-fn s(p: &Path) -> &str {
-    p.to_str().unwrap()
+    common::scratch("plant", name)
 }
 
 fn starter(dir: &Path) -> (PathBuf, String) {

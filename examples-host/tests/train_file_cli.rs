@@ -14,17 +14,10 @@ mod common;
 
 use std::path::PathBuf;
 
-use common::{fails, ok, parse, JExt};
+use common::{fails, ok, parse, s, JExt};
 
 fn tmp(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("polytrope-cli-{}-{name}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
-    dir
-}
-
-fn s(p: &std::path::Path) -> &str {
-    p.to_str().unwrap()
+    common::scratch("cli", name)
 }
 
 /// A one-stage air train with constant k = 1.4 (for the textbook case).

@@ -16,17 +16,10 @@ mod common;
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
-use common::{fails, ok};
+use common::{fails, ok, s};
 
 fn tmp(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("polytrope-units-{}-{name}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
-    dir
-}
-
-fn s(p: &Path) -> &str {
-    p.to_str().unwrap()
+    common::scratch("units", name)
 }
 
 /// The invented 3-stage starter train and a short invented log.

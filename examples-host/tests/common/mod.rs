@@ -2,7 +2,22 @@
 //! JSON with `serde_json` (an outside parser, not the tool's writer).
 #![allow(dead_code)]
 
+use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
+
+/// A fresh scratch folder for one test: `polytrope-{suite}-{pid}-{name}`
+/// in the system's temporary folder, emptied first.
+pub fn scratch(suite: &str, name: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("polytrope-{suite}-{}-{name}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).expect("a scratch folder");
+    dir
+}
+
+/// A test path as text (the test paths are UTF-8).
+pub fn s(p: &Path) -> &str {
+    p.to_str().expect("a UTF-8 path")
+}
 
 /// Runs `polytrope-host` with `args`.
 pub fn run(args: &[&str]) -> Output {
