@@ -41,6 +41,7 @@ use polytrope_firmware::front::{self, Monitor, PressureChannel};
 use polytrope_firmware::gas_tables::CO2_DEMO_BLOB;
 use polytrope_firmware::gas_tables::NG_BOOSTER;
 use polytrope_firmware::measure;
+use polytrope_firmware::report::stack_used;
 use polytrope_firmware::table::SCANS;
 
 /// Stages of the budget train: four compressors, three intercoolers.
@@ -224,40 +225,6 @@ fn stack_ledger(t: &BudgetTrain, s: &Scan<f32, BUDGET_STAGES>) -> usize {
 #[inline(never)]
 fn update_budget_pr(t: &mut BudgetTrainPr, s: &Scan<f32, BUDGET_STAGES>) -> f32 {
     t.update(s).totals.total_power.value
-}
-
-/// Stack bytes used by `f`: paints the free stack below the current stack
-/// pointer, runs `f`, and finds the lowest word that changed.
-#[inline(never)]
-fn stack_used(f: impl FnOnce()) -> usize {
-    const PAINT: u32 = 0xC0FF_EE55;
-    extern "C" {
-        static mut __ebss: u32;
-    }
-    let sp: usize;
-    // SAFETY: reads the stack pointer only.
-    unsafe { core::arch::asm!("mov {}, sp", out(reg) sp) };
-    let floor = core::ptr::addr_of!(__ebss) as usize + 64;
-    let bottom = (sp.saturating_sub(12 * 1024)).max(floor) & !3;
-    let top = sp & !3;
-    let mut a = bottom;
-    while a < top {
-        // SAFETY: [bottom, sp) is free stack between the end of .bss and the
-        // stack pointer; no interrupts are enabled in the harness.
-        unsafe { core::ptr::write_volatile(a as *mut u32, PAINT) };
-        a += 4;
-    }
-    f();
-    let mut a = bottom;
-    // SAFETY: as above, reading back the painted words.
-    while a < top && unsafe { core::ptr::read_volatile(a as *const u32) } == PAINT {
-        a += 4;
-    }
-    if a == bottom {
-        usize::MAX // overflowed the painted area: not measurable
-    } else {
-        top - a
-    }
 }
 
 /// The single-stage regions (ideal-gas stage, Peng-Robinson stage,
