@@ -219,11 +219,13 @@ impl<G: GasModel<f32>> Controller<G> {
         raw
     }
 
-    /// One controller scan at `t_ms`: every channel, the train on the
-    /// channels' filtered pressures (written into `scan`, whose other
-    /// readings come from the slower inputs), every surge monitor on the
-    /// channels' unfiltered values. Works in place: no copy of the scan or
-    /// of the channel outputs.
+    /// One controller scan at `t_ms`: every channel, then protection first:
+    /// every surge monitor on the channels' unfiltered values, then the
+    /// train on the channels' filtered pressures (written into `scan`,
+    /// whose other readings come from the slower inputs). Works in place:
+    /// no copy of the scan or of the channel outputs. The monitors' inputs
+    /// are dead before the train runs, so they are not on the stack during
+    /// its update.
     pub fn scan(
         &mut self,
         raw: &[f32; CHANNELS],
@@ -231,8 +233,8 @@ impl<G: GasModel<f32>> Controller<G> {
         scan: &mut polytrope::scan::Scan<f32, SECTIONS>,
     ) -> ScanSummary {
         let (surge, dt) = self.read_channels(raw, t_ms, scan);
-        let total_power = self.update_train(scan);
         let margins = self.update_monitors(&surge, dt);
+        let total_power = self.update_train(scan);
         ScanSummary {
             total_power,
             margins,
@@ -283,13 +285,13 @@ impl<G: GasModel<f32>> Controller<G> {
         (surge, dt)
     }
 
-    /// Phase 2 of [`Controller::scan`]: the train update; the total power.
+    /// Phase 3 of [`Controller::scan`]: the train update; the total power.
     #[inline(always)]
     pub fn update_train(&mut self, scan: &polytrope::scan::Scan<f32, SECTIONS>) -> f32 {
         self.train.update(scan).totals.total_power.value
     }
 
-    /// Phase 3 of [`Controller::scan`]: every surge monitor; the margins.
+    /// Phase 2 of [`Controller::scan`]: every surge monitor; the margins.
     #[inline(always)]
     pub fn update_monitors(
         &mut self,

@@ -162,10 +162,10 @@ fn run(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u32, ctl: &mut C
         let r = label(h, "full_scan_channels");
         let (surge, dt) = measure(r, || phase_channels(ctl, &samples, t, &mut slow));
         let (surge, dt, slow) = black_box((surge, dt, slow));
-        let r = label(h, "full_scan_train");
-        measure(r, || phase_train(ctl, &slow));
         let r = label(h, "full_scan_monitors");
         measure(r, || phase_monitors(ctl, &surge, dt));
+        let r = label(h, "full_scan_train");
+        measure(r, || phase_train(ctl, &slow));
         k += 1;
     }
 
