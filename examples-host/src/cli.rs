@@ -239,6 +239,9 @@ pub struct StageArgs {
     /// Print JSON (SI units in the keys, quality with every value).
     #[arg(long)]
     json: bool,
+    /// Unit system of the tables: si, bar-degc or us-field (JSON keys stay SI).
+    #[arg(long, value_name = "SYSTEM")]
+    pub units: Option<String>,
 }
 
 impl StageArgs {

@@ -1,6 +1,7 @@
 //! The loss ledger of the demo's last scan (`polytrope::ledger`): a text
-//! table, one row per line in the order of attribution, each in kW with its
-//! quality and its share of the measured total power; and the JSON object,
+//! table, one row per line in the order of attribution, each in kW (or the
+//! `--units` choice's power unit) with its quality and its share of the
+//! measured total power; and the JSON object,
 //! written from the kernel's field lists (`polytrope::fields`).
 
 use polytrope::ledger::{evaluate_ledger_into, Cause, Ledger, LedgerConfig};
@@ -60,7 +61,9 @@ pub fn text(lines: &[Line]) -> String {
          measured power; each line priced with every earlier cause present)\n",
     );
     let whole = total(lines);
-    let mut g = out::Grid::new(&["line", "kW", "% of measured"]);
+    // Power in the chosen unit system (`--units`), kW without one.
+    let power = out::disp_or(crate::unit_system::Dimension::Power, disp::KW);
+    let mut g = out::Grid::new(&["line", power.unit, "% of measured"]);
     for (c, i, v) in lines {
         let share = match whole {
             Some(w) if v.quality.is_usable() && w.quality.is_usable() && w.value > 0.0 => {
@@ -74,7 +77,7 @@ pub fn text(lines: &[Line]) -> String {
             }
             _ => "--".to_string(),
         };
-        g.row(vec![name(*c, *i), out::cell(*v, disp::KW), share]);
+        g.row(vec![name(*c, *i), out::cell(*v, power), share]);
     }
     g.render(&mut s);
     s

@@ -67,6 +67,10 @@ fn dispatch(cli: &Cli) -> Result<String, CliError> {
             choose_units(&a.units)?;
             dispatch_inner(cli)
         }
+        Cmd::Stage(a) => {
+            choose_units(&a.units)?;
+            stage::run(&a.parsed())
+        }
         Cmd::Evaluate(a) => {
             choose_units(&a.units)?;
             evaluate::run(a)

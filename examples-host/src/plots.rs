@@ -441,7 +441,7 @@ fn series_plots(
     let work = axis(Dimension::SpecificWork, "work", disp::KJ_PER_KG);
     let power = axis(Dimension::Power, "power", disp::KW);
     let approach = axis(Dimension::TemperatureDiff, "approach", disp::KELVIN);
-    let duty = axis(Dimension::Power, "duty", disp::KW);
+    let duty = axis(Dimension::HeatFlow, "duty", disp::KW);
     let recycle = axis(Dimension::Power, "recycle power", disp::KW);
     let stage_panels = vec![
         Panel {

@@ -1130,14 +1130,21 @@ pub fn summary(l: &Loaded, a: &ReplayArgs, o: &Outcome) -> (String, serde_json::
         "\nTrends: baseline = first {baseline} rows, compared with the last {baseline} rows \
          (efficiency only at steady state with good quality).\n"
     ));
+    // Approach (a temperature difference) in the chosen unit system.
+    let approach_disp = out::disp_or(Dimension::TemperatureDiff, out::disp::KELVIN2);
+    let (ab, ae, ac) = (
+        format!("approach baseline {}", approach_disp.unit),
+        format!("approach end {}", approach_disp.unit),
+        format!("change {}", approach_disp.unit),
+    );
     let mut g = out::Grid::new(&[
         "stage",
         "eta_p baseline %",
         "eta_p end %",
         "change pts",
-        "approach baseline K",
-        "approach end K",
-        "change K",
+        &ab,
+        &ae,
+        &ac,
     ]);
     for (i, ss) in s.stages.iter().enumerate() {
         let head = |v: &Vec<f64>| mean(v.get(..baseline).unwrap_or(v));
@@ -1154,9 +1161,9 @@ pub fn summary(l: &Loaded, a: &ReplayArgs, o: &Outcome) -> (String, serde_json::
             f(e0, 100.0),
             f(e1, 100.0),
             d(e0, e1, 100.0),
-            f(a0, 1.0),
-            f(a1, 1.0),
-            d(a0, a1, 1.0),
+            f(a0, approach_disp.scale),
+            f(a1, approach_disp.scale),
+            d(a0, a1, approach_disp.scale),
         ]);
         let mut sj = json!({
             "stage": i + 1,

@@ -22,6 +22,7 @@ use crate::cli::{count, CliError, Parsed, Precision};
 use crate::keys as k;
 use crate::out::{self, disp, Detail, Json, Obj, Val};
 use crate::quantity::{self, Pressure};
+use crate::unit_system::{self, Dimension};
 
 /// Custom or built-in gas.
 #[derive(Clone, Copy, Debug)]
@@ -419,34 +420,32 @@ fn calculate<T: Real>(inp: &Inputs, precision: Precision, json: bool) -> Result<
         return Ok(o.done().to_text());
     }
 
+    let system = unit_system::chosen().map_or("SI", |u| u.name());
     let mut s = format!(
-        "{} stage — single-point stage calculation ({} build)\n{}\n{}\n\nInputs (SI)\n",
+        "{} stage — single-point stage calculation ({} build)\n{}\n{}\n\nInputs ({system})\n",
         crate::BIN,
         precision.word(),
         out::CAUTION,
         out::LEGEND
     );
     let mut g = out::Grid::new(&["input", "value", "unit"]);
-    let mut add = |a: &str, b: String, c: &str| g.row(vec![a.into(), b, c.into()]);
-    add("Gas", format!("{gas_name} ({model})"), "-");
-    add("Molar mass", format!("{molar_mass:.3}"), "kg/kmol");
-    add("Gas constant R", format!("{gas_constant:.2}"), "J/(kg K)");
-    add("Compressibility Z", format!("{:.4}", inp.z), "-");
-    add("Suction pressure p1", format!("{:.1}", inp.p1), "Pa abs");
-    add("Discharge pressure p2", format!("{:.1}", inp.p2), "Pa abs");
+    let mut add = |a: &str, (b, c): (String, &str)| g.row(vec![a.into(), b, c.into()]);
+    let p = |v: f64| input_cell(v, Dimension::PressureAbs, 1, "Pa abs");
+    let t = |v: Option<f64>| input_or_blank(v, Dimension::Temperature, 2, "K");
+    add("Gas", (format!("{gas_name} ({model})"), "-"));
+    add("Molar mass", (format!("{molar_mass:.3}"), "kg/kmol"));
+    add("Gas constant R", (format!("{gas_constant:.2}"), "J/(kg K)"));
+    add("Compressibility Z", (format!("{:.4}", inp.z), "-"));
+    add("Suction pressure p1", p(inp.p1));
+    add("Discharge pressure p2", p(inp.p2));
     if let Some(a) = inp.atmosphere {
-        add("Atmosphere (for gauge)", format!("{a:.1}"), "Pa abs");
+        add("Atmosphere (for gauge)", p(a));
     }
-    add("Suction temperature T1", format!("{:.2}", inp.t1), "K");
-    add(
-        "Discharge temperature T2",
-        inp.t2.map_or("--".into(), |t| format!("{t:.2}")),
-        "K",
-    );
+    add("Suction temperature T1", t(Some(inp.t1)));
+    add("Discharge temperature T2", t(inp.t2));
     add(
         "Mass flow",
-        inp.flow.map_or("--".into(), |f| format!("{f:.4}")),
-        "kg/s",
+        input_or_blank(inp.flow, Dimension::MassFlow, 4, "kg/s"),
     );
     g.render(&mut s);
 
@@ -458,13 +457,18 @@ fn calculate<T: Real>(inp: &Inputs, precision: Precision, json: bool) -> Result<
             "\nStaging comparison: {} equal-ratio stages, perfect intercooling to T1\n",
             st.stages
         ));
-        let mut g = out::Grid::new(&["stage", "discharge bar a", "stage ratio", "T2s K"]);
+        let p_disp = out::disp_or(Dimension::PressureAbs, disp::BAR_A);
+        let t_disp = out::disp_or(Dimension::Temperature, disp::KELVIN2);
+        let w_disp = out::disp_or(Dimension::SpecificWork, disp::KJ_PER_KG);
+        let p_head = format!("discharge {}", p_disp.unit);
+        let t_head = format!("T2s {}", t_disp.unit);
+        let mut g = out::Grid::new(&["stage", &p_head, "stage ratio", &t_head]);
         for (n, (p, t)) in st.per_stage.iter().enumerate() {
             g.row(vec![
                 format!("{}", n + 1),
-                out::cell(*p, disp::BAR_A),
+                out::cell(*p, p_disp),
                 out::cell(st.stage_ratio, disp::RATIO4),
-                out::cell(*t, disp::KELVIN2),
+                out::cell(*t, t_disp),
             ]);
         }
         g.render(&mut s);
@@ -475,11 +479,7 @@ fn calculate<T: Real>(inp: &Inputs, precision: Precision, json: bool) -> Result<
             ("One uncooled isentropic stage", st.single),
             ("Saving by staging", st.saving),
         ] {
-            g.row(vec![
-                label.into(),
-                out::cell(v, disp::KJ_PER_KG),
-                "kJ/kg".into(),
-            ]);
+            g.row(vec![label.into(), out::cell(v, w_disp), w_disp.unit.into()]);
         }
         g.render(&mut s);
     }
@@ -490,4 +490,32 @@ fn calculate<T: Real>(inp: &Inputs, precision: Precision, json: bool) -> Result<
         }
     }
     Ok(s)
+}
+
+/// An input value and its unit: in the chosen unit system (`--units`), or
+/// in SI with `si_decimals` as without a choice.
+fn input_cell(
+    v: f64,
+    d: Dimension,
+    si_decimals: usize,
+    si_unit: &'static str,
+) -> (String, &'static str) {
+    match unit_system::chosen() {
+        Some(u) => {
+            let sh = u.shown(d);
+            (format!("{:.*}", sh.decimals, sh.of(v)), sh.unit)
+        }
+        None => (format!("{v:.si_decimals$}"), si_unit),
+    }
+}
+
+/// [`input_cell`] for an optional input (`--` when not given).
+fn input_or_blank(
+    v: Option<f64>,
+    d: Dimension,
+    si_decimals: usize,
+    si_unit: &'static str,
+) -> (String, &'static str) {
+    let (text, unit) = input_cell(v.unwrap_or(0.0), d, si_decimals, si_unit);
+    (if v.is_some() { text } else { "--".into() }, unit)
 }

@@ -94,8 +94,10 @@ pub enum Dimension {
     TemperatureDiff,
     /// Specific work or head.
     SpecificWork,
-    /// Power or heat flow.
+    /// Power (gas, shaft, recycle, ledger lines).
     Power,
+    /// Heat flow (a cooler's duty): Btu/h in US field units, W or kW otherwise.
+    HeatFlow,
     /// Mass flow.
     MassFlow,
     /// Thermal conductance UA.
@@ -111,7 +113,7 @@ impl Dimension {
             Dimension::PressureAbs | Dimension::PressureDiff => "_Pa",
             Dimension::Temperature | Dimension::TemperatureDiff => "_K",
             Dimension::SpecificWork => "_J_per_kg",
-            Dimension::Power => "_W",
+            Dimension::Power | Dimension::HeatFlow => "_W",
             Dimension::MassFlow => "_kg_per_s",
             Dimension::Conductance => "_W_per_K",
             Dimension::Density => "_kg_per_m3",
@@ -131,6 +133,7 @@ impl Dimension {
             QuantityKind::Temperature => Some(Dimension::Temperature),
             QuantityKind::TemperatureDifference => Some(Dimension::TemperatureDiff),
             QuantityKind::SpecificWork => Some(Dimension::SpecificWork),
+            QuantityKind::Power if key.contains("duty") => Some(Dimension::HeatFlow),
             QuantityKind::Power => Some(Dimension::Power),
             QuantityKind::MassFlow => Some(Dimension::MassFlow),
             QuantityKind::Conductance => Some(Dimension::Conductance),
@@ -177,7 +180,7 @@ impl UnitSystem {
             (UnitSystem::Si, D::PressureDiff) => s("Pa", "_Pa", 1.0, 0),
             (UnitSystem::Si, D::Temperature | D::TemperatureDiff) => s("K", "_K", 1.0, 2),
             (UnitSystem::Si, D::SpecificWork) => s("J/kg", "_J_per_kg", 1.0, 0),
-            (UnitSystem::Si, D::Power) => s("W", "_W", 1.0, 0),
+            (UnitSystem::Si, D::Power | D::HeatFlow) => s("W", "_W", 1.0, 0),
             (UnitSystem::Si, D::MassFlow) => s("kg/s", "_kg_per_s", 1.0, 4),
             (UnitSystem::Si, D::Conductance) => s("W/K", "_W_per_K", 1.0, 0),
             (UnitSystem::Si, D::Density) => s("kg/m3", "_kg_per_m3", 1.0, 2),
@@ -189,7 +192,7 @@ impl UnitSystem {
             },
             (UnitSystem::BarDegC, D::TemperatureDiff) => s("K", "_K", 1.0, 1),
             (UnitSystem::BarDegC, D::SpecificWork) => s("kJ/kg", "_kJ_per_kg", 1e-3, 2),
-            (UnitSystem::BarDegC, D::Power) => s("kW", "_kW", 1e-3, 1),
+            (UnitSystem::BarDegC, D::Power | D::HeatFlow) => s("kW", "_kW", 1e-3, 1),
             (UnitSystem::BarDegC, D::MassFlow) => s("t/h", "_t_per_h", 3.6, 3),
             (UnitSystem::BarDegC, D::Conductance) => s("kW/K", "_kW_per_K", 1e-3, 2),
             (UnitSystem::BarDegC, D::Density) => s("kg/m3", "_kg_per_m3", 1.0, 2),
@@ -204,6 +207,7 @@ impl UnitSystem {
                 s("Btu/lb", "_Btu_per_lb", 1.0 / J_PER_KG_PER_BTU_PER_LB, 2)
             }
             (UnitSystem::UsField, D::Power) => s("hp", "_hp", 1.0 / W_PER_HP, 1),
+            (UnitSystem::UsField, D::HeatFlow) => s("Btu/h", "_Btu_per_h", 1.0 / W_PER_BTU_H, 0),
             (UnitSystem::UsField, D::MassFlow) => s("lb/h", "_lb_per_h", 1.0 / KG_S_PER_LB_H, 0),
             (UnitSystem::UsField, D::Conductance) => s(
                 "Btu/(h degF)",
@@ -322,6 +326,16 @@ mod tests {
         ));
         // 1 hp = 745.6999 W.
         assert!(close(u.shown(Dimension::Power).of(745.699_9), 1.0, 1e-12));
+        // Btu_IT/h = 0.293 071 1 W (NIST SP 811, B.8).
+        assert!(close(
+            u.shown(Dimension::HeatFlow).of(0.293_071_1),
+            1.0,
+            1e-12
+        ));
+        assert_eq!(
+            Dimension::of_field(QuantityKind::Power, "heat_duty_W"),
+            Some(Dimension::HeatFlow)
+        );
         // 1 kg/s = 7936.641 lb/h (1 / 1.259 979 E-04).
         assert!(close(u.shown(Dimension::MassFlow).of(1.0), 7_936.641, 1e-6));
         // 1 lb/ft3 = 16.018 46 kg/m3.

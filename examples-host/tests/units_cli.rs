@@ -202,3 +202,103 @@ fn rate_takes_a_unit_system() {
     ]);
     assert!(text.contains("psi") && text.contains("degF"), "{text}");
 }
+
+/// `label -> (value, unit)` of every three-column row (`label  value  unit`)
+/// of a `stage` text report.
+fn label_value_unit(text: &str) -> HashMap<String, (f64, String)> {
+    let mut out = HashMap::new();
+    for line in text.lines() {
+        let cols: Vec<&str> = line.split("  ").filter(|c| !c.trim().is_empty()).collect();
+        if let [label, value, unit] = cols[..] {
+            if let Ok(v) = value.trim().parse::<f64>() {
+                out.insert(label.trim().to_string(), (v, unit.trim().to_string()));
+            }
+        }
+    }
+    out
+}
+
+#[test]
+fn stage_tables_follow_the_unit_system() {
+    let run = |u: &str| {
+        ok(&[
+            "stage", "--gas", "air", "--p1", "1.0bara", "--p2", "4bara", "--t1", "20C", "--t2",
+            "190C", "--flow", "2kg/s", "--stages", "2", "--units", u,
+        ])
+    };
+    let (si_text, us_text) = (run("si"), run("us-field"));
+    let (si, us) = (label_value_unit(&si_text), label_value_unit(&us_text));
+    // Factors: NIST SP 811 (2008), B.8 and B.9 (as above).
+    for (label, si_unit, us_unit, f, o, tol) in [
+        (
+            "Suction pressure p1",
+            "Pa a",
+            "psi a",
+            1.0 / 6894.757,
+            0.0,
+            0.006,
+        ),
+        ("Suction temperature T1", "K", "degF", 1.8, -459.67, 0.06),
+        (
+            "Isothermal head",
+            "J/kg",
+            "Btu/lb",
+            1.0 / 2326.0,
+            0.0,
+            0.006,
+        ),
+        ("Gas power", "W", "hp", 1.0 / 745.6999, 0.0, 0.06),
+        ("Mass flow", "kg/s", "lb/h", 1.0 / 1.259979e-4, 0.0, 1.0),
+    ] {
+        let (v_si, u1) = &si[label];
+        let (v_us, u2) = &us[label];
+        assert_eq!((u1.as_str(), u2.as_str()), (si_unit, us_unit), "{label}");
+        let expected = v_si * f + o;
+        assert!(
+            (v_us - expected).abs() <= tol + 0.01 * f.abs() + 1e-9 * expected.abs(),
+            "{label}: {v_us} {us_unit} vs {v_si} {si_unit} -> {expected}"
+        );
+    }
+    // The inputs as given: 1.0 bar a is 14.50 psi a, 20 °C is 68.0 °F
+    // (SP 811 B.8, B.9).
+    assert_eq!(us["Suction pressure p1"].0, 14.50);
+    assert_eq!(us["Suction temperature T1"].0, 68.0);
+    // The staging comparison follows too (its column heads carry the unit).
+    assert!(
+        us_text.contains("discharge psi a") && us_text.contains("T2s degF"),
+        "{us_text}"
+    );
+    assert!(us_text.contains("Inputs (us-field)"), "{us_text}");
+    let (_, err) = fails(&["stage", "--gas", "air", "--units", "furlongs"]);
+    assert!(err.contains("--units"), "{err}");
+}
+
+#[test]
+fn the_loss_ledger_follows_the_unit_system() {
+    // The first ledger row (isothermal power of the duty) in kW and in hp.
+    let first_row = |u: &str| {
+        let text = ok(&["demo", "--scans", "3", "--units", u]);
+        let body = text
+            .split("Where the power goes")
+            .nth(1)
+            .unwrap()
+            .to_string();
+        let head = body.lines().nth(1).unwrap().to_string();
+        let row = body
+            .lines()
+            .find(|l| l.starts_with("Isothermal power"))
+            .unwrap()
+            .to_string();
+        let cols: Vec<&str> = row.split("  ").filter(|c| !c.trim().is_empty()).collect();
+        let v: f64 = cols[1].trim().trim_end_matches('?').parse().unwrap();
+        (head, v)
+    };
+    let (si_head, kw) = first_row("bar-degc");
+    let (us_head, hp) = first_row("us-field");
+    assert!(
+        si_head.contains("kW") && us_head.contains("hp"),
+        "{si_head} / {us_head}"
+    );
+    // hp = 745.6999 W (NIST SP 811, B.8); both tables round to 0.1.
+    assert!((hp - kw * 1e3 / 745.6999).abs() < 0.2, "{hp} hp vs {kw} kW");
+}
