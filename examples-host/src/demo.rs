@@ -229,11 +229,13 @@ pub(crate) fn to_text<T: Real, const N: usize>(
         let w = Val::of(p.shaft_work);
         let gas = Val::of(p.gas_compression_equivalent);
         if let Some(pct) = share(w, gas) {
+            let wd = out::disp_or(crate::unit_system::Dimension::SpecificWork, disp::KJ_PER_KG);
             s.push_str(&format!(
-                "Pumping the dense phase takes {:.1} kJ/kg; compressing the gas over the same \
-                 ratio from the same temperature would take {:.1} kJ/kg ({pct:.1} % of it).\n",
-                w.value / 1e3,
-                gas.value / 1e3
+                "Pumping the dense phase takes {} {u}; compressing the gas over the same \
+                 ratio from the same temperature would take {} {u} ({pct:.1} % of it).\n",
+                out::cell(w, wd),
+                out::cell(gas, wd),
+                u = wd.unit
             ));
         }
     }

@@ -170,7 +170,11 @@ pub fn evaluate_pump_within<T: Real, G: GasModel<T>>(
                 done |= 1 << 5;
             }
             if t1.quality.is_usable() {
-                let props = gas.path(p1.value, t1.value, p2.value, t1.value, None);
+                // As documented on the field: the same mass compressed as an
+                // ideal gas (Z = 1, the model's ideal-gas cp) over the same
+                // ratio from the same temperature. A real-gas model's Z at a
+                // dense suction would describe the liquid, not a gas.
+                let props = gas.path(p1.value, t1.value, p2.value, t1.value, Some(T::ONE));
                 g.check(check::MODEL, gas.fit_quality(t1.value, t1.value));
                 let h = isentropic_head(props.z, props.gas_constant, t1.value, ratio, props.k);
                 out.gas_compression_equivalent.value = h;
