@@ -469,8 +469,16 @@ fn entropy_match_against_bisection() {
         "entropy match vs bisection: largest |dT2s| = {worst:.2e} K (f64), {worst32:.2e} K (f32, unevaluated last step), largest relative dh2s f32 {worst_dh32:.2e}"
     );
     assert!(worst < 1e-6, "{worst}");
+    // f32 bounds: libm maths, or `approx-math` (micromath ln/exp, about
+    // 1e-3 relative; measured 2.5e-2 K and 1.9e-4, as the f32-vs-f64 stage
+    // comparison above allows: 0.1 K on T2s, 2e-3 on h2s - h1).
+    let (t_bound, dh_bound) = if cfg!(feature = "approx-math") {
+        (0.1, 2e-3)
+    } else {
+        (0.01, 1e-4)
+    };
     assert!(
-        worst32 < 0.01 && worst_dh32 < 1e-4,
+        worst32 < t_bound && worst_dh32 < dh_bound,
         "{worst32} {worst_dh32}"
     );
 }
