@@ -632,31 +632,27 @@ pub fn evaluate_ledger_into<T: Real, G: GasModel<T>, const N: usize>(
     recycle_mass_flow: Measured<T>,
     out: &mut Ledger<T, N>,
 ) {
-    let gas = &config.gas;
     let totals = &snapshot.totals;
     out.compressor_stages = totals.compressor_stages;
     let nc = usize::from(totals.compressor_stages);
     out.measured_total = totals.total_power;
 
-    // Per-stage lines: zero where a cause cannot exist (the first stage's
-    // intercooling, pump stages), bad until the chain prices them. The
-    // train-wide lines the chain prices start bad.
-    let bad = Measured::bad();
+    // Per-stage lines where a cause cannot exist: zero (the first stage's
+    // intercooling, pump stages). The chain writes every other line, or
+    // they are set bad below if it cannot run.
     let zero = Measured::good(T::ZERO);
-    for (i, (ic, ie)) in out
+    if let Some(ic) = out.intercooling.first_mut() {
+        *ic = zero;
+    }
+    for (ic, ie) in out
         .intercooling
         .iter_mut()
         .zip(out.stage_inefficiency.iter_mut())
-        .enumerate()
+        .skip(nc)
     {
-        *ic = if i == 0 || i >= nc { zero } else { bad };
-        *ie = if i >= nc { zero } else { bad };
+        *ic = zero;
+        *ie = zero;
     }
-    out.isothermal_power = bad;
-    out.stage_count = bad;
-    out.pressure_drops = bad;
-    out.pressure_split = bad;
-    out.coolant_temperature = bad;
     // Pumps only end a train: the update's pump-power sum, read.
     out.pumps = if nc < N { totals.pump_power } else { zero };
 
@@ -697,9 +693,30 @@ pub fn evaluate_ledger_into<T: Real, G: GasModel<T>, const N: usize>(
         }
     };
 
-    evaluate_chain(gas, ledger, scan, snapshot, nc, m_fwd, out);
+    if !evaluate_chain(&config.gas, ledger, scan, snapshot, nc, m_fwd, out) {
+        // The chain could not run: every line it prices is bad.
+        let bad = Measured::bad();
+        for (i, (ic, ie)) in out
+            .intercooling
+            .iter_mut()
+            .zip(out.stage_inefficiency.iter_mut())
+            .enumerate()
+            .take(nc)
+        {
+            if i > 0 {
+                *ic = bad;
+            }
+            *ie = bad;
+        }
+        out.isothermal_power = bad;
+        out.stage_count = bad;
+        out.pressure_drops = bad;
+        out.pressure_split = bad;
+        out.coolant_temperature = bad;
+    }
 
-    // The remainder closes the ledger on the measured total.
+    // The remainder closes the ledger on the measured total (the lines
+    // added in the order of attribution).
     let mut q = out.measured_total.quality;
     let mut attributed = T::ZERO;
     for m in [
@@ -710,18 +727,23 @@ pub fn evaluate_ledger_into<T: Real, G: GasModel<T>, const N: usize>(
         out.coolant_temperature,
         out.recycle,
         out.pumps,
-    ]
-    .iter()
-    .chain(out.intercooling.iter())
-    .chain(out.stage_inefficiency.iter())
-    {
+    ] {
+        attributed += m.value;
+        q = q.worst(m.quality);
+    }
+    for m in out.intercooling.iter() {
+        attributed += m.value;
+        q = q.worst(m.quality);
+    }
+    for m in out.stage_inefficiency.iter() {
         attributed += m.value;
         q = q.worst(m.quality);
     }
     out.remainder = Measured::derived(out.measured_total.value - attributed, q);
 }
 
-/// Steps 0 to 6 of the chain (see the module docs).
+/// Steps 0 to 6 of the chain (see the module docs); `false` (nothing
+/// written) if the chain cannot run.
 #[inline(never)]
 fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
     gas: &G,
@@ -731,14 +753,14 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
     nc: usize,
     m_fwd: Measured<T>,
     out: &mut Ledger<T, N>,
-) {
+) -> bool {
     if nc == 0 || !m_fwd.quality.is_usable() {
-        return;
+        return false;
     }
     // The train's ends through the sensor boundary (only the three values
     // the references use).
     let (Some(s0), Some(sl)) = (scan.stages.first(), scan.stages.get(nc - 1)) else {
-        return;
+        return false;
     };
     let (p_s, t_s, p_d) = (
         pressure_pa(s0.suction_pressure),
@@ -748,7 +770,7 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
     let q_base = p_s.quality.worst(t_s.quality).worst(p_d.quality);
     let overall = p_d.value / p_s.value;
     if q_base == Quality::Bad || !(overall > T::ONE) || !T::is_finite(overall) {
-        return;
+        return false;
     }
 
     // Step 0: reversible isothermal, the train totals' row (one definition:
@@ -768,7 +790,17 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
     let mut uniform = gas.ratio_only();
     let mut ref_c = Work::zero();
     let mut ref_d = Work::zero();
-    for i in 0..nc {
+    let coolant_approach = match ledger.cooling_reference {
+        CoolingReference::CoolantInletPlusApproach { design_approach } => Some(design_approach),
+        CoolingReference::FirstSuction => None,
+    };
+    for (i, (ic, ie)) in out
+        .intercooling
+        .iter_mut()
+        .zip(out.stage_inefficiency.iter_mut())
+        .enumerate()
+        .take(nc)
+    {
         let e = stage_read(scan, snapshot, i);
         n += T::ONE;
         ratio_product = ratio_product * e.ratio.value;
@@ -778,8 +810,8 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
         let c_stage = reference_head(gas, &e, t_s, head);
         ref_c.add(c_stage.value, c_stage.quality);
         // The cooling reference of this stage's suction.
-        let coolant = match ledger.cooling_reference {
-            CoolingReference::CoolantInletPlusApproach { design_approach } if i > 0 => scan
+        let coolant = match coolant_approach {
+            Some(design_approach) if i > 0 => scan
                 .stages
                 .get(i - 1)
                 .and_then(|s| s.cooler)
@@ -807,13 +839,9 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
             quality: actual.quality,
         };
         if i > 0 {
-            if let Some(m) = out.intercooling.get_mut(i) {
-                *m = line(m_fwd, d_stage, head);
-            }
+            *ic = line(m_fwd, d_stage, head);
         }
-        if let Some(m) = out.stage_inefficiency.get_mut(i) {
-            *m = line(m_fwd, head, actual);
-        }
+        *ie = line(m_fwd, head, actual);
     }
     let q_chain = q_base.worst(q_pressures);
     ref_c.quality = ref_c.quality.worst(q_chain);
@@ -841,34 +869,57 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
             },
         )
     } else {
-        let ln_a = T::ln(overall) / n;
-        let mut a = Work::zero();
-        let mut b = Work::zero();
-        a.add(T::ZERO, q_base);
-        b.add(T::ZERO, q_chain);
-        let (ra, rb) = (T::exp(ln_a), T::exp(ln_b));
-        let (mut pa, mut pb) = (p_s.value, p_s.value);
-        for i in 0..nc {
-            let e = stage_read(scan, snapshot, i);
-            let (wa, qa) = isentropic(gas, pa, t_s.value, pa * ra, ln_a, e.z);
-            a.add(wa, qa.worst(e.q_z));
-            let (wb, qb) = isentropic(gas, pb, t_s.value, pb * rb, ln_b, e.z);
-            b.add(wb, qb.worst(e.q_z));
-            pa = pa * ra;
-            // The next suction sits below this discharge by the measured
-            // drop fraction.
-            let next = stage_read(scan, snapshot, i + 1);
-            pb = pb * rb * (next.p1 / e.p2);
-        }
-        (a, b)
+        references_stage_by_stage(
+            gas, scan, snapshot, nc, p_s.value, t_s.value, overall, ln_b, n, q_base, q_chain,
+        )
     };
     out.stage_count = line(m_fwd, iso, ref_a);
     out.pressure_drops = line(m_fwd, ref_a, ref_b);
     out.pressure_split = line(m_fwd, ref_b, ref_c);
-    out.coolant_temperature = match ledger.cooling_reference {
-        CoolingReference::FirstSuction => Measured::good(T::ZERO),
-        CoolingReference::CoolantInletPlusApproach { .. } => line(m_fwd, ref_c, ref_d),
+    out.coolant_temperature = match coolant_approach {
+        None => Measured::good(T::ZERO),
+        Some(_) => line(m_fwd, ref_c, ref_d),
     };
+    true
+}
+
+/// Steps 1 and 2 stage by stage, where one stage cannot stand for all
+/// (a model that is not [`GasModel::ratio_only`], or supplied Z).
+#[inline(never)]
+#[allow(clippy::too_many_arguments)]
+fn references_stage_by_stage<T: Real, G: GasModel<T>, const N: usize>(
+    gas: &G,
+    scan: &Scan<T, N>,
+    snapshot: &Snapshot<T, N>,
+    nc: usize,
+    p_s: T,
+    t_s: T,
+    overall: T,
+    ln_b: T,
+    n: T,
+    q_base: Quality,
+    q_chain: Quality,
+) -> (Work<T>, Work<T>) {
+    let ln_a = T::ln(overall) / n;
+    let mut a = Work::zero();
+    let mut b = Work::zero();
+    a.add(T::ZERO, q_base);
+    b.add(T::ZERO, q_chain);
+    let (ra, rb) = (T::exp(ln_a), T::exp(ln_b));
+    let (mut pa, mut pb) = (p_s, p_s);
+    for i in 0..nc {
+        let e = stage_read(scan, snapshot, i);
+        let (wa, qa) = isentropic(gas, pa, t_s, pa * ra, ln_a, e.z);
+        a.add(wa, qa.worst(e.q_z));
+        let (wb, qb) = isentropic(gas, pb, t_s, pb * rb, ln_b, e.z);
+        b.add(wb, qb.worst(e.q_z));
+        pa = pa * ra;
+        // The next suction sits below this discharge by the measured
+        // drop fraction.
+        let next = stage_read(scan, snapshot, i + 1);
+        pb = pb * rb * (next.p1 / e.p2);
+    }
+    (a, b)
 }
 
 /// One compressor stage as the ledger reads it: the raw pressures and
