@@ -644,13 +644,10 @@ pub fn evaluate_ledger_into<T: Real, G: GasModel<T>, const N: usize>(
     if let Some(ic) = out.intercooling.first_mut() {
         *ic = zero;
     }
-    for (ic, ie) in out
-        .intercooling
-        .iter_mut()
-        .zip(out.stage_inefficiency.iter_mut())
-        .skip(nc)
-    {
+    for ic in out.intercooling.iter_mut().skip(nc) {
         *ic = zero;
+    }
+    for ie in out.stage_inefficiency.iter_mut().skip(nc) {
         *ie = zero;
     }
     // Pumps only end a train: the update's pump-power sum, read.
@@ -1009,19 +1006,23 @@ fn reference_head<T: Real, G: GasModel<T>>(
             };
         }
     }
-    reference_head_model(gas, e, t_ref.value, q)
+    reference_head_model(gas, e.p1, e.p2, e.ratio.value, e.z, t_ref.value, q)
 }
 
-/// [`reference_head`] through the model (no rescale available).
+/// [`reference_head`] through the model (no rescale available): from
+/// (`p1`, `t_ref`) to `p2`, `ratio` = p2/p1.
 #[inline(never)]
 fn reference_head_model<T: Real, G: GasModel<T>>(
     gas: &G,
-    e: &StageRead<T>,
+    p1: T,
+    p2: T,
+    ratio: T,
+    z: Option<T>,
     t_ref: T,
     q: Quality,
 ) -> Work<T> {
-    let ln_r = T::ln(e.ratio.value);
-    let (w, qv) = isentropic(gas, e.p1, t_ref, e.p2, ln_r, e.z);
+    let ln_r = T::ln(ratio);
+    let (w, qv) = isentropic(gas, p1, t_ref, p2, ln_r, z);
     Work {
         value: w,
         quality: q.worst(qv),
