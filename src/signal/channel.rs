@@ -184,25 +184,79 @@ impl<T: Real> ChannelConfig<T> {
     /// Converts an engineering value in `unit` to SI.
     #[inline]
     pub fn to_si(&self, engineering: T) -> T {
-        match self.unit {
-            Unit::PressureGauge { atmosphere } => engineering + atmosphere.pa(),
-            Unit::Celsius => engineering + T::of(ZERO_CELSIUS_K),
-            Unit::PressureAbs | Unit::Kelvin | Unit::DifferentialPressure | Unit::Other => {
-                engineering
-            }
-        }
+        Scaling::new(self).to_si(engineering)
     }
 
     /// Scales a raw sample to SI and classifies the signal level. The value
     /// is meaningful unless the fault's quality is bad.
     pub fn scale(&self, raw: T) -> (T, FaultCode) {
-        if !T::is_finite(raw) {
-            return (T::ZERO, FaultCode::NotFinite);
+        Scaling::new(self).scale(raw)
+    }
+
+    /// The instrument allowance (half-width) at SI value `si`.
+    pub fn tolerance(&self, si: T) -> T {
+        match self.instrument {
+            InstrumentClass::Rtd(class) => class.tolerance(si - T::of(ZERO_CELSIUS_K)),
+            InstrumentClass::FractionOfSpan(f) => f * (self.range_high - self.range_low),
+            InstrumentClass::Absolute(a) => a,
         }
+    }
+}
+
+/// The scaling of a configuration with its per-sample constants worked out
+/// once (span, counts span, SI offset): the same operations on the same
+/// values as the configuration's formulas, so the same results.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(crate) struct Scaling<T> {
+    signal: SignalKind<T>,
+    range_low: T,
+    /// `range_high − range_low`.
+    span: T,
+    /// `full − zero` of a counts signal (0 otherwise).
+    counts_span: T,
+    /// What [`ChannelConfig::to_si`] adds, if anything.
+    offset: Option<T>,
+}
+
+impl<T: Real> Scaling<T> {
+    #[inline]
+    pub(crate) fn new(cfg: &ChannelConfig<T>) -> Self {
+        Scaling {
+            signal: cfg.signal,
+            range_low: cfg.range_low,
+            span: cfg.range_high - cfg.range_low,
+            counts_span: match cfg.signal {
+                SignalKind::Counts { zero, full } => full - zero,
+                _ => T::ZERO,
+            },
+            offset: match cfg.unit {
+                Unit::PressureGauge { atmosphere } => Some(atmosphere.pa()),
+                Unit::Celsius => Some(T::of(ZERO_CELSIUS_K)),
+                Unit::PressureAbs | Unit::Kelvin | Unit::DifferentialPressure | Unit::Other => {
+                    None
+                }
+            },
+        }
+    }
+
+    #[inline]
+    pub(crate) fn to_si(&self, engineering: T) -> T {
+        match self.offset {
+            Some(o) => engineering + o,
+            None => engineering,
+        }
+    }
+
+    /// [`ChannelConfig::scale`].
+    #[inline]
+    pub(crate) fn scale(&self, raw: T) -> (T, FaultCode) {
         let (fraction, fault) = match self.signal {
+            // A current in the measuring band is finite: the band test
+            // comes first, the finiteness test only outside it.
             SignalKind::Current4To20 => (ne43::fraction(raw), ne43::classify(raw)),
+            _ if !T::is_finite(raw) => return (T::ZERO, FaultCode::NotFinite),
             SignalKind::Voltage0To10 => span_fraction(raw / T::of(10.0)),
-            SignalKind::Counts { zero, full } => span_fraction((raw - zero) / (full - zero)),
+            SignalKind::Counts { zero, .. } => span_fraction((raw - zero) / self.counts_span),
             SignalKind::Engineering => {
                 let v = self.to_si(raw);
                 return if T::is_finite(v) {
@@ -212,23 +266,15 @@ impl<T: Real> ChannelConfig<T> {
                 };
             }
         };
-        let eng = self.range_low + fraction * (self.range_high - self.range_low);
+        let eng = self.range_low + fraction * self.span;
         let v = self.to_si(eng);
         if T::is_finite(v) {
             (v, fault)
         } else if fault != FaultCode::None {
+            // Also a non-finite current (its fault says so).
             (T::ZERO, fault)
         } else {
             (T::ZERO, FaultCode::NotFinite)
-        }
-    }
-
-    /// The instrument allowance (half-width) at SI value `si`.
-    pub fn tolerance(&self, si: T) -> T {
-        match self.instrument {
-            InstrumentClass::Rtd(class) => class.tolerance(si - T::of(ZERO_CELSIUS_K)),
-            InstrumentClass::FractionOfSpan(f) => f * (self.range_high - self.range_low),
-            InstrumentClass::Absolute(a) => a,
         }
     }
 }
