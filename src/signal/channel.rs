@@ -214,36 +214,63 @@ pub(crate) struct Scaling<T> {
     span: T,
     /// `full − zero` of a counts signal (0 otherwise).
     counts_span: T,
-    /// What [`ChannelConfig::to_si`] adds, if anything.
-    offset: Option<T>,
+    /// What [`ChannelConfig::to_si`] adds (0 if nothing).
+    offset: T,
+    /// Which additions the scaling makes.
+    adds: Adds,
+}
+
+/// The additions after fraction × span: `range_low`, then the SI offset.
+/// `range_low` is left out where adding it changes no bit: a zero
+/// `range_low` under a 4–20 mA signal with a span of at least 1 (then
+/// fraction × span is never −0: I − 4 is +0 at 4 mA and at least a rounding
+/// step of 4 away from it otherwise, so the product does not underflow;
+/// 0 + it is it, for either zero). One case per combination, so that
+/// neither addition is computed and then discarded (on a Cortex-M0 each is a
+/// soft-float call).
+#[derive(Clone, Copy, Debug, PartialEq)]
+enum Adds {
+    None,
+    Low,
+    Offset,
+    LowOffset,
 }
 
 impl<T: Real> Scaling<T> {
     #[inline]
     pub(crate) fn new(cfg: &ChannelConfig<T>) -> Self {
+        let offset = match cfg.unit {
+            Unit::PressureGauge { atmosphere } => Some(atmosphere.pa()),
+            Unit::Celsius => Some(T::of(ZERO_CELSIUS_K)),
+            Unit::PressureAbs | Unit::Kelvin | Unit::DifferentialPressure | Unit::Other => None,
+        };
+        let span = cfg.range_high - cfg.range_low;
+        let low = !(cfg.range_low == T::ZERO
+            && span >= T::ONE
+            && matches!(cfg.signal, SignalKind::Current4To20));
         Scaling {
             signal: cfg.signal,
             range_low: cfg.range_low,
-            span: cfg.range_high - cfg.range_low,
+            span,
             counts_span: match cfg.signal {
                 SignalKind::Counts { zero, full } => full - zero,
                 _ => T::ZERO,
             },
-            offset: match cfg.unit {
-                Unit::PressureGauge { atmosphere } => Some(atmosphere.pa()),
-                Unit::Celsius => Some(T::of(ZERO_CELSIUS_K)),
-                Unit::PressureAbs | Unit::Kelvin | Unit::DifferentialPressure | Unit::Other => {
-                    None
-                }
+            offset: offset.unwrap_or(T::ZERO),
+            adds: match (low, offset.is_some()) {
+                (false, false) => Adds::None,
+                (true, false) => Adds::Low,
+                (false, true) => Adds::Offset,
+                (true, true) => Adds::LowOffset,
             },
         }
     }
 
     #[inline]
     pub(crate) fn to_si(&self, engineering: T) -> T {
-        match self.offset {
-            Some(o) => engineering + o,
-            None => engineering,
+        match self.adds {
+            Adds::Offset | Adds::LowOffset => engineering + self.offset,
+            Adds::None | Adds::Low => engineering,
         }
     }
 
@@ -266,8 +293,13 @@ impl<T: Real> Scaling<T> {
                 };
             }
         };
-        let eng = self.range_low + fraction * self.span;
-        let v = self.to_si(eng);
+        let p = fraction * self.span;
+        let v = match self.adds {
+            Adds::None => p,
+            Adds::Low => self.range_low + p,
+            Adds::Offset => p + self.offset,
+            Adds::LowOffset => (self.range_low + p) + self.offset,
+        };
         if T::is_finite(v) {
             (v, fault)
         } else if fault != FaultCode::None {

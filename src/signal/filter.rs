@@ -99,7 +99,7 @@ impl<T: Real> LowPass<T> {
 /// over the evicted one in the sorted copy and moves it to its place (at
 /// most `2 M` compares and moves) instead of sorting a copy of the window
 /// (up to `M·M/2`); the median is the same value.
-#[derive(Clone, Debug)]
+#[derive(Clone, Copy, Debug)]
 pub struct Median<T, const M: usize> {
     /// The samples in arrival order (a ring; `next` is the oldest once
     /// full).

@@ -73,7 +73,7 @@ impl<T: Real> ChannelOutput<T> {
 }
 
 /// A configured channel with its state.
-#[derive(Clone, Debug)]
+#[derive(Clone, Copy, Debug)]
 pub struct Channel<T, const W: usize, const M: usize> {
     config: ChannelConfig<T>,
     scaling: Scaling<T>,

@@ -12,7 +12,7 @@ use crate::real::Real;
 use crate::window::Window;
 
 /// Plausibility state of one channel with a frozen window of `W` samples.
-#[derive(Clone, Debug)]
+#[derive(Clone, Copy, Debug)]
 pub struct Plausibility<T, const W: usize> {
     window: Window<T, W>,
     last_accepted: Option<T>,

@@ -106,7 +106,10 @@ pub fn section_scan(raw: &[RawStage; demo::STAGES]) -> polytrope::scan::Scan<f32
 
 /// A transmitter over `0..range_high` (SI) of kind `unit` (invented
 /// settings: 0.1 % of span, 100 % of span per second plausible, 100 ms
-/// low-pass, 500 ms hold).
+/// low-pass, 500 ms hold). Out of line: its result is built in one frame
+/// slot, not one per channel of [`Controller::build_in`] (the Cortex-M0
+/// board's 16 KiB of RAM hold the controller and the set-up stack).
+#[inline(never)]
 fn transmitter(
     id: u8,
     unit: Unit<f32>,
@@ -184,7 +187,7 @@ impl<G: GasModel<f32>> Controller<G> {
         let monitor = section_monitor()?;
         let ctl = slot.insert(Controller {
             train: SectionTrain::new(config)?,
-            channels: core::array::from_fn(|_| placeholder.clone()),
+            channels: [placeholder; CHANNELS],
             monitors: core::array::from_fn(|_| monitor.clone()),
             last_ms: None,
         });
