@@ -149,7 +149,10 @@ mod tests {
         let t = 226_u32.wrapping_add(LARGEST_ADVANCE_MS);
         assert_eq!(c.tick(t, u32::MAX), (Tick::Normal, LARGEST_ADVANCE_MS));
         let t2 = t.wrapping_add(LARGEST_ADVANCE_MS + 1);
-        assert_eq!(c.tick(t2, u32::MAX), (Tick::SteppedBack, LARGEST_ADVANCE_MS));
+        assert_eq!(
+            c.tick(t2, u32::MAX),
+            (Tick::SteppedBack, LARGEST_ADVANCE_MS)
+        );
         c.reset();
         assert_eq!(c, SampleClock::new());
         assert_eq!(c.period_ms(), 1);

@@ -149,7 +149,11 @@ fn the_tick_wrap_is_an_ordinary_interval() {
         let ob = b.update(v, start.wrapping_add(t));
         seen.push((oa.status.fault, oa.status.quality, oa.status.substituted));
         assert_eq!(oa.raw.value.to_bits(), ob.raw.value.to_bits(), "{k}");
-        assert_eq!(oa.filtered.value.to_bits(), ob.filtered.value.to_bits(), "{k}");
+        assert_eq!(
+            oa.filtered.value.to_bits(),
+            ob.filtered.value.to_bits(),
+            "{k}"
+        );
         assert_eq!(oa.status.quality, ob.status.quality, "{k}");
         assert_eq!(oa.status.fault, ob.status.fault, "{k}");
         assert_eq!(oa.status.substituted, ob.status.substituted, "{k}");

@@ -93,9 +93,7 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         self.last_accepted = Some(v);
         self.since_accepted_ms = 0;
         self.window.write(v);
-        if calm
-            && self.window.len() >= W
-            && within_band(self.window.as_slice(), v, cfg.noise_floor)
+        if calm && self.window.len() >= W && within_band(self.window.as_slice(), v, cfg.noise_floor)
         {
             return FaultCode::Frozen;
         }
