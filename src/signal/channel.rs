@@ -184,7 +184,7 @@ impl<T: Real> ChannelConfig<T> {
     /// Converts an engineering value in `unit` to SI.
     #[inline]
     pub fn to_si(&self, engineering: T) -> T {
-        Scaling::new(self).to_si(engineering)
+        Scaling::new(self).si_of(engineering)
     }
 
     /// Scales a raw sample to SI and classifies the signal level. The value
@@ -267,7 +267,7 @@ impl<T: Real> Scaling<T> {
     }
 
     #[inline]
-    pub(crate) fn to_si(&self, engineering: T) -> T {
+    pub(crate) fn si_of(&self, engineering: T) -> T {
         match self.adds {
             Adds::Offset | Adds::LowOffset => engineering + self.offset,
             Adds::None | Adds::Low => engineering,
@@ -285,7 +285,7 @@ impl<T: Real> Scaling<T> {
             SignalKind::Voltage0To10 => span_fraction(raw / T::of(10.0)),
             SignalKind::Counts { zero, .. } => span_fraction((raw - zero) / self.counts_span),
             SignalKind::Engineering => {
-                let v = self.to_si(raw);
+                let v = self.si_of(raw);
                 return if T::is_finite(v) {
                     (v, FaultCode::None)
                 } else {
