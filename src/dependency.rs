@@ -683,21 +683,55 @@ impl OutputGrades {
         }
     }
 
+    /// As [`OutputGrades::new`] from the per-output uses themselves (in
+    /// declaration order, at most 16) instead of a turned-around table: for
+    /// a caller without one. When every slot and check is good the uses are
+    /// not looked at (`uses` is not called).
+    #[inline]
+    pub fn from_uses<const K: usize>(
+        g: &Grades,
+        uses: impl FnOnce() -> [Use; K],
+        computed: u16,
+        suspect: u16,
+    ) -> Self {
+        let mut o = OutputGrades {
+            not_applicable: 0,
+            bad: !computed,
+            uncertain: suspect,
+        };
+        if g.not_good() != 0 {
+            for (i, u) in uses().iter().enumerate().take(16) {
+                let bit = 1 << i;
+                if u.0 & g.not_applicable != 0 {
+                    o.not_applicable |= bit;
+                }
+                if u.0 & g.bad != 0 {
+                    o.bad |= bit;
+                }
+                if u.0 & g.uncertain != 0 {
+                    o.uncertain |= bit;
+                }
+            }
+        }
+        o
+    }
+
     /// Settles output `bit` (as [`Grades::settle_suspect`]): not applicable
     /// if it uses a slot that does not apply; bad if not computed, not finite
     /// or of bad uses; else uncertain or good as its uses and check say.
     #[inline]
     pub fn settle<T: Real>(&self, m: &mut Measured<T>, bit: u16) {
-        let not_good = self.not_applicable | self.bad | self.uncertain;
-        let finite = T::is_finite(m.value);
-        if not_good & bit == 0 && finite {
-            m.quality = Quality::Good;
+        // The usable case first (good or uncertain: one test of the value).
+        if (self.not_applicable | self.bad) & bit == 0 && T::is_finite(m.value) {
+            m.quality = if self.uncertain & bit != 0 {
+                Quality::Uncertain
+            } else {
+                Quality::Good
+            };
         } else if self.not_applicable & bit != 0 {
             *m = Measured::not_applicable();
-        } else if self.bad & bit != 0 || !finite {
-            *m = Measured::bad();
         } else {
-            m.quality = Quality::Uncertain;
+            *m = Measured::bad();
         }
     }
 }

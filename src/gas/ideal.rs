@@ -285,6 +285,37 @@ impl<T: Real> IdealGas<T> {
     }
 }
 
+/// The path properties a compression needs, with (k−1)/k.
+#[derive(Clone, Copy)]
+struct PathTerms<T> {
+    z: T,
+    cp: T,
+    k: T,
+    m_k: T,
+}
+
+impl<T: Real> IdealGas<T> {
+    /// [`PathTerms`] of a cp polynomial: the path means of
+    /// [`GasModel::path`].
+    #[inline(never)]
+    fn polynomial_path_terms(
+        &self,
+        p1: T,
+        t1: T,
+        p2: T,
+        t2: T,
+        z_supplied: Option<T>,
+    ) -> PathTerms<T> {
+        let props = self.path(p1, t1, p2, t2, z_supplied);
+        PathTerms {
+            z: props.z,
+            cp: props.cp,
+            k: props.k,
+            m_k: isentropic_exponent_term(props.k),
+        }
+    }
+}
+
 /// Iteration cap of the polynomial model's entropy match.
 const ISENTROPIC_ITERATIONS: usize = 4;
 
@@ -457,12 +488,22 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
         t2: Option<T>,
         z_supplied: Option<T>,
     ) -> CompressionStates<T> {
-        let props = self.path(p1, t1, p2, t2.unwrap_or(t1), z_supplied);
-        let m_k = match self.heat_capacity {
-            HeatCapacity::ConstantK(_) => self.constant_exponent_term,
-            HeatCapacity::Polynomial { .. } => isentropic_exponent_term(props.k),
+        // Constant k: cp and (k−1)/k from the construction, nothing
+        // divided here; a cp polynomial: the path means, out of line (no
+        // division of theirs is hoisted into the constant-k path).
+        let props = match self.heat_capacity {
+            HeatCapacity::ConstantK(k) => PathTerms {
+                z: self.z_of(z_supplied),
+                cp: self.constant_cp,
+                k,
+                m_k: self.constant_exponent_term,
+            },
+            HeatCapacity::Polynomial { .. } => {
+                self.polynomial_path_terms(p1, t1, p2, t2.unwrap_or(t1), z_supplied)
+            }
         };
-        let zr = props.z * props.gas_constant;
+        let m_k = props.m_k;
+        let zr = props.z * self.gas_constant;
         let zrt1 = zr * t1;
         let t2s_over_t1 = T::exp(m_k * ln_ratio);
         let validity = self.validity(T::max(p1, p2), t1);
@@ -486,7 +527,7 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
             out.has_discharge = true;
             out.discharge_z = props.z;
             out.enthalpy_rise = props.z * props.cp * dt;
-            out.entropy_rise = props.z * (props.cp * ln_t - props.gas_constant * ln_ratio);
+            out.entropy_rise = props.z * (props.cp * ln_t - self.gas_constant * ln_ratio);
             out.pv_rise = zr * dt;
             out.ln_pv_ratio = ln_t;
         }

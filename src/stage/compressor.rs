@@ -250,7 +250,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
     out: &mut CompressorResult<T>,
 ) {
     // Which outputs were computed (bit i: the i-th field in declaration
-    // order); the rest are bad or not applicable after `settle_compressor`.
+    // order); the rest are bad or not applicable once settled.
     let mut done: u16 = 0;
     let (p1, t1, p2, t2) = (
         inp.suction_pressure,
@@ -302,9 +302,9 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
     let p2_path = if p_ok { p2.value } else { p1_path };
     // One logarithm of the ratio for the model, the polytropic method and
     // the isothermal head (compressing implies usable pressures, so the
-    // path ratio is the measured one).
-    let ln_path = T::ln(p2_path / p1_path);
-    let ln_r = if compressing { ln_path } else { T::ZERO };
+    // path ratio is the measured one). Without usable pressures both path
+    // pressures are one value, their ratio exactly 1: no second division.
+    let ln_path = T::ln(if p_ok { ratio } else { T::ONE });
     // Suction, isentropic and (with a usable T2) discharge states in one
     // call.
     let mut cs = gas.compression(
@@ -391,7 +391,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
     }
     if compressing && iso_ok {
         let hs = cs.isentropic_enthalpy_rise;
-        let h_iso = isothermal_head_from_log(cs.suction_z, gas.gas_constant(), t1.value, ln_r);
+        let h_iso = isothermal_head_from_log(cs.suction_z, gas.gas_constant(), t1.value, ln_path);
         if t1_ok {
             done |= 1 << 1;
             out.isentropic_discharge_temperature.value = cs.isentropic_temperature;
@@ -410,7 +410,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
                 done |= 1 << 13;
                 out.power_above_isothermal.value = flow.value * (actual - h_iso);
             }
-            if let Some(poly) = schultz(&cs, ln_r) {
+            if let Some(poly) = schultz(&cs, ln_path) {
                 out.polytropic_method = poly.method;
                 done |= 1 << 4;
                 out.polytropic_head.value = poly.head;
@@ -424,7 +424,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
                 checks.exponent_implausible = true;
             }
             checks.below_resolution =
-                dt < limits.min_temperature_rise() || ln_r < limits.min_log_ratio();
+                dt < limits.min_temperature_rise() || ln_path < limits.min_log_ratio();
         }
     } else if ratio_ok && !compressing {
         checks.no_compression = true;
@@ -551,7 +551,9 @@ fn settle_compressor_outputs<T: Real>(g: &OutputGrades, o: &mut CompressorResult
     g.settle(&mut o.k, 1 << 15);
 }
 
-/// [`settle_compressor`] building the table first.
+/// Every output's quality for a caller without the train's table (a
+/// rating-point query, or [`evaluate_compressor_within`]): the table is
+/// built only when some slot or check is not good.
 #[inline(never)]
 fn settle_compressor_untabled<T: Real>(
     g: &Grades,
@@ -560,47 +562,13 @@ fn settle_compressor_untabled<T: Real>(
     done: u16,
     o: &mut CompressorResult<T>,
 ) {
-    settle_compressor(g, &StageUses::uses(inputs, rating_point), done, o);
-}
-
-/// Every output's quality from the table ([`crate::dependency`]); `done`
-/// has bit i set for each computed field (declaration order). A loop, not
-/// sixteen inlined copies: this is the path of a caller without a train's
-/// table, kept small in flash.
-fn settle_compressor<T: Real>(
-    g: &Grades,
-    u: &CompressorUses,
-    done: u16,
-    o: &mut CompressorResult<T>,
-) {
-    for (i, (m, use_)) in o.outputs_mut().into_iter().zip(u.in_order()).enumerate() {
-        g.settle_computed(m, done & (1 << i) != 0, use_);
-    }
-}
-
-impl<T> CompressorResult<T> {
-    /// The sixteen graded outputs in declaration order (the order of
-    /// [`CompressorUses::in_order`] and of the `done` bits).
-    fn outputs_mut(&mut self) -> [&mut Measured<T>; 16] {
-        [
-            &mut self.pressure_ratio,
-            &mut self.isentropic_discharge_temperature,
-            &mut self.temperature_rise,
-            &mut self.isentropic_head,
-            &mut self.polytropic_head,
-            &mut self.isothermal_head,
-            &mut self.actual_work,
-            &mut self.isentropic_efficiency,
-            &mut self.polytropic_efficiency,
-            &mut self.polytropic_exponent,
-            &mut self.mass_flow,
-            &mut self.gas_power,
-            &mut self.work_above_isothermal,
-            &mut self.power_above_isothermal,
-            &mut self.compressibility,
-            &mut self.k,
-        ]
-    }
+    let grades = OutputGrades::from_uses(
+        g,
+        || StageUses::uses(inputs, rating_point).in_order(),
+        done,
+        0,
+    );
+    settle_compressor_outputs(&grades, o);
 }
 
 #[cfg(test)]
