@@ -396,6 +396,33 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
         }
     }
 
+    /// Z and validity as [`GasModel::state`] gives them, without its
+    /// enthalpy, entropy and speed of sound (two logarithms and a square
+    /// root per state).
+    fn uncompressed(
+        &self,
+        p1: T,
+        t1: T,
+        p2: T,
+        t2: Option<T>,
+        z_supplied: Option<T>,
+    ) -> (T, Validity, Validity, T) {
+        let state = |p: T, t: T| {
+            if T::is_finite(p) && T::is_finite(t) && p > T::ZERO && t > T::ZERO {
+                (self.z_of(z_supplied), self.validity(p, t))
+            } else {
+                (T::ONE, Validity::INVALID)
+            }
+        };
+        let (z1, v1) = state(p1, t1);
+        let validity = match t2 {
+            Some(t2) => v1.worst(state(p2, t2).1),
+            None => v1,
+        };
+        let k = self.path(p1, t1, p2, t2.unwrap_or(t1), z_supplied).k;
+        (z1, v1, validity, k)
+    }
+
     fn isentropic_state(&self, inlet: &GasState<T>, p2: T, z_supplied: Option<T>) -> GasState<T> {
         let ln_r = T::ln(p2 / inlet.pressure);
         let t1 = inlet.temperature;
@@ -694,6 +721,42 @@ mod tests {
                 }
             ))
         );
+    }
+
+    /// Consistency check (the model against its own state functions): the
+    /// no-compression shortcut gives the Z and validities of
+    /// `GasModel::state` and the k of `GasModel::path`, also at invalid
+    /// inputs and at high reduced pressure.
+    #[test]
+    fn uncompressed_matches_the_state_functions() {
+        let spec = crate::gas::CARBON_DIOXIDE;
+        for g in [
+            IdealGas::<f64>::from_spec(&spec, false, 0.95).unwrap(),
+            IdealGas::<f64>::from_spec(&spec, true, 1.0).unwrap(),
+        ] {
+            let values = [f64::NAN, -1.0, 0.0, 1e5, 3e6, 2e7, f64::INFINITY];
+            let temps = [f64::NAN, 0.0, 250.0, 300.0, 450.0, 3000.0];
+            for &p1 in &values {
+                for &t1 in &temps {
+                    for (p2, t2) in [(1e5, Some(310.0)), (5e7, Some(f64::NAN)), (2e6, None)] {
+                        for z in [None, Some(0.9), Some(f64::NAN)] {
+                            let s1 = g.state(p1, t1, z);
+                            let v = match t2 {
+                                Some(t2) => s1.validity.worst(g.state(p2, t2, z).validity),
+                                None => s1.validity,
+                            };
+                            let k = g.path(p1, t1, p2, t2.unwrap_or(t1), z).k;
+                            let (z1, v1, va, ka) = g.uncompressed(p1, t1, p2, t2, z);
+                            assert_eq!(
+                                (z1.to_bits(), v1, va, ka.to_bits()),
+                                (s1.z.to_bits(), s1.validity, v, k.to_bits()),
+                                "{p1} {t1} {p2} {t2:?} {z:?}"
+                            );
+                        }
+                    }
+                }
+            }
+        }
     }
 
     #[test]

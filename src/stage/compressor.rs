@@ -321,16 +321,17 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
         // towards a lower pressure may fail without touching them), and the
         // isentropic exponent of such a path is 0/0 for a state-function
         // model: the path-mean k instead.
-        let s1 = gas.state(p1_path, t1_path, z_supplied);
-        cs.suction_z = s1.z;
-        cs.isentropic_validity = s1.validity;
-        cs.validity = if t2_ok {
-            s1.validity
-                .worst(gas.state(p2_path, t2.value, z_supplied).validity)
-        } else {
-            s1.validity
-        };
-        cs.isentropic_exponent = gas.path(p1_path, t1_path, p2_path, t2_path, z_supplied).k;
+        let (z1, v1, v, k) = gas.uncompressed(
+            p1_path,
+            t1_path,
+            p2_path,
+            if t2_ok { Some(t2.value) } else { None },
+            z_supplied,
+        );
+        cs.suction_z = z1;
+        cs.isentropic_validity = v1;
+        cs.validity = v;
+        cs.isentropic_exponent = k;
     }
     // The model's validity counts only where its states were evaluated at
     // usable inputs (a check that cannot be evaluated downgrades nothing:
