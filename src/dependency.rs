@@ -173,7 +173,7 @@ impl Use {
 /// a rating-point query (no discharge temperature: the path is evaluated
 /// without it).
 #[inline]
-pub fn property_slots(p: PropertyInputs, t2_used: bool) -> (Slots, Slots) {
+pub const fn property_slots(p: PropertyInputs, t2_used: bool) -> (Slots, Slots) {
     let mut props = Slots::NONE;
     if p.temperature {
         props = props.or(slot::T1);
@@ -243,7 +243,7 @@ impl CompressorUses {
 /// evaluates at the suction state and p2 only: (isentropic outputs, suction
 /// Z). For a path-mean model, the property and Z slots themselves.
 #[inline]
-pub fn suction_slots(p: PropertyInputs, props: Slots, z: Slots) -> (Slots, Slots) {
+pub const fn suction_slots(p: PropertyInputs, props: Slots, z: Slots) -> (Slots, Slots) {
     if p.state_functions {
         let iso = slot::P1.or(slot::P2).or(slot::T1);
         (iso, slot::P1.or(slot::T1).or(slot::Z))
@@ -528,6 +528,12 @@ impl Grades {
             Quality::NotApplicable => self.not_applicable |= m,
         }
         self
+    }
+
+    /// `true` if every slot and check is good.
+    #[inline]
+    pub fn all_good(&self) -> bool {
+        self.not_good() == 0
     }
 
     /// Every slot and check that is not good (one mask: an output that

@@ -227,7 +227,7 @@ impl StageUses {
         }
     }
 
-    fn uses(inputs: PropertyInputs, rating_point: bool) -> CompressorUses {
+    const fn uses(inputs: PropertyInputs, rating_point: bool) -> CompressorUses {
         let (props_slots, z_slots) = property_slots(inputs, !rating_point);
         let (iso_slots, z1_slots) = suction_slots(inputs, props_slots, z_slots);
         compressor_uses(
@@ -552,9 +552,38 @@ fn settle_compressor_outputs<T: Real>(g: &OutputGrades, o: &mut CompressorResult
     g.settle(&mut o.k, 1 << 15);
 }
 
+/// The turned-around measured-stage tables ([`StageUses`]) for the
+/// property inputs of the built-in models, built at compile time: the ideal
+/// gas with constant k and with cp(T), Peng–Robinson, and the default a
+/// table model keeps. A caller without a train's table grades from them as
+/// a train does.
+const BUILT_IN_USERS: [(PropertyInputs, Users); 4] = {
+    const fn entry(
+        temperature: bool,
+        pressure: bool,
+        compressibility_from_state: bool,
+        state_functions: bool,
+    ) -> (PropertyInputs, Users) {
+        let p = PropertyInputs {
+            temperature,
+            pressure,
+            compressibility_from_state,
+            state_functions,
+        };
+        (p, Users::of(&StageUses::uses(p, false).in_order()))
+    }
+    [
+        entry(false, false, false, false),
+        entry(true, false, false, false),
+        entry(true, true, true, true),
+        entry(true, true, true, false),
+    ]
+};
+
 /// Every output's quality for a caller without the train's table (a
-/// rating-point query, or [`evaluate_compressor_within`]): the table is
-/// built only when some slot or check is not good.
+/// rating-point query, or [`evaluate_compressor_within`]): from a built-in
+/// table where one applies, else from the uses, built only when some slot
+/// or check is not good.
 #[inline(never)]
 fn settle_compressor_untabled<T: Real>(
     g: &Grades,
@@ -563,12 +592,23 @@ fn settle_compressor_untabled<T: Real>(
     done: u16,
     o: &mut CompressorResult<T>,
 ) {
-    let grades = OutputGrades::from_uses(
-        g,
-        || StageUses::uses(inputs, rating_point).in_order(),
-        done,
-        0,
-    );
+    // (All good: no table needed, see `OutputGrades::from_uses`.)
+    let built_in = if g.all_good() {
+        None
+    } else {
+        BUILT_IN_USERS
+            .iter()
+            .find(|(p, _)| !rating_point && *p == inputs)
+    };
+    let grades = match built_in {
+        Some((_, users)) => OutputGrades::new(g, users, done, 0),
+        None => OutputGrades::from_uses(
+            g,
+            || StageUses::uses(inputs, rating_point).in_order(),
+            done,
+            0,
+        ),
+    };
     settle_compressor_outputs(&grades, o);
 }
 
@@ -639,6 +679,52 @@ mod tests {
         assert_eq!(r.condition, StageCondition::EfficiencyAboveOne);
         assert_eq!(r.isentropic_efficiency.quality, Quality::Uncertain);
         assert!(r.isentropic_efficiency.value > 1.0);
+    }
+
+    /// Consistency check (two gradings of the project's own rule): a
+    /// caller without a train's table (built-in table or uses) grades
+    /// every output as the train's table does, for each built-in model's
+    /// property inputs and input qualities good, uncertain, bad and not
+    /// applicable in every slot.
+    #[test]
+    fn untabled_grading_equals_the_tabled_one() {
+        use crate::gas::{components, PengRobinson};
+        fn check<G: GasModel<f64>>(gas: &G) {
+            let qs = [
+                Quality::Good,
+                Quality::Uncertain,
+                Quality::Bad,
+                Quality::NotApplicable,
+            ];
+            let table = StageUses::new(gas.property_inputs());
+            let limits = Limits::default();
+            for (case, &(p2, t2)) in [(300e3, 420.0), (300e3, 290.0), (90e3, 330.0)]
+                .iter()
+                .enumerate()
+            {
+                for slot in 0..6 {
+                    for q in qs {
+                        let mut i = inputs(100e3, 300.0, p2, t2);
+                        let m = |x: f64| Measured::new(x, q);
+                        match slot {
+                            0 => i.suction_pressure = m(100e3),
+                            1 => i.suction_temperature = m(300.0),
+                            2 => i.discharge_pressure = m(p2),
+                            3 => i.discharge_temperature = m(t2),
+                            4 => i.mass_flow = m(2.0),
+                            _ => i.compressibility = Some((0.98, q)),
+                        }
+                        let (mut a, mut b) = (CompressorResult::bad(), CompressorResult::bad());
+                        evaluate_compressor_within(gas, &i, &limits, &mut a);
+                        evaluate_compressor_tabled(gas, &i, &limits, Some(&table), &mut b);
+                        assert_eq!(a, b, "case {case} slot {slot} {q:?}");
+                    }
+                }
+            }
+        }
+        check(&IdealGas::<f64>::from_spec(&AIR, false, 1.0).unwrap());
+        check(&IdealGas::<f64>::from_spec(&AIR, true, 1.0).unwrap());
+        check(&PengRobinson::<f64, 1>::pure(components::METHANE).unwrap());
     }
 
     #[test]
