@@ -10,8 +10,9 @@
 //! actual work Z·cp·(T2 − T1), polytropic efficiency ((k−1)/k)/((n−1)/n).
 //! The isothermal head is Z1·R·T1·ln(p2/p1) with the suction Z.
 //!
-//! Cost per call (ideal gas): two logarithms, one exponential, about a dozen
-//! divisions; Peng–Robinson: see the README's device figures.
+//! Cost per call (ideal gas): two logarithms, one exponential and seven
+//! divisions besides those inside the logarithms; Peng–Robinson: see the
+//! README's device figures.
 
 use crate::compression::isothermal_head_from_log;
 use crate::dependency::{
@@ -19,7 +20,7 @@ use crate::dependency::{
     OutputGrades, Users,
 };
 use crate::gas::{GasModel, PropertyInputs, Validity};
-use crate::plausibility::{efficiency_grade, Limits};
+use crate::plausibility::{efficiency_allowance, efficiency_grade, Limits};
 use crate::polytropic::{schultz, PolytropicMethod};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
@@ -419,8 +420,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
                 out.polytropic_exponent.value = poly.exponent;
                 done |= 1 << 8;
                 out.polytropic_efficiency.value = poly.efficiency;
-                checks.efficiency =
-                    efficiency_grade(eta_s).worst(efficiency_grade(poly.efficiency));
+                checks.efficiency = efficiency_pair_grade(eta_s, poly.efficiency);
             } else {
                 checks.exponent_implausible = true;
             }
@@ -476,6 +476,18 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
         _ => settle_compressor_untabled(&g, gas.property_inputs(), rating_point, done, out),
     }
     out.condition = checks.condition(p1, t1, p2, t2, rating_point);
+}
+
+/// The worse of the two efficiencies' grades ([`efficiency_grade`]), the
+/// common case (both in (0, 1 + allowance]: good) in four comparisons.
+#[inline]
+fn efficiency_pair_grade<T: Real>(a: T, b: T) -> Quality {
+    let good_max = T::ONE + efficiency_allowance::<T>();
+    if a > T::ZERO && b > T::ZERO && a <= good_max && b <= good_max {
+        Quality::Good
+    } else {
+        efficiency_grade(a).worst(efficiency_grade(b))
+    }
 }
 
 /// What the plausibility checks of one stage found.
@@ -725,6 +737,39 @@ mod tests {
         check(&IdealGas::<f64>::from_spec(&AIR, false, 1.0).unwrap());
         check(&IdealGas::<f64>::from_spec(&AIR, true, 1.0).unwrap());
         check(&PengRobinson::<f64, 1>::pure(components::METHANE).unwrap());
+    }
+
+    /// Consistency check: the pair grade is the worse of the two single
+    /// grades, at and around every boundary, NaN and infinities included.
+    #[test]
+    fn efficiency_pair_grade_is_the_worse_single_grade() {
+        let lim = 1.0 + efficiency_allowance::<f64>();
+        let hi = crate::plausibility::EFFICIENCY_UNCERTAIN_MAX;
+        let up = |x: f64| x + x.abs() * 1e-12 + 1e-300;
+        let points = [
+            f64::NAN,
+            f64::NEG_INFINITY,
+            -1.0,
+            0.0,
+            1e-300,
+            0.5,
+            1.0,
+            lim,
+            up(lim),
+            hi,
+            up(hi),
+            2.0,
+            f64::INFINITY,
+        ];
+        for a in points {
+            for b in points {
+                assert_eq!(
+                    efficiency_pair_grade(a, b),
+                    efficiency_grade(a).worst(efficiency_grade(b)),
+                    "{a} {b}"
+                );
+            }
+        }
     }
 
     #[test]
