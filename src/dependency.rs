@@ -173,7 +173,7 @@ impl Use {
 /// a rating-point query (no discharge temperature: the path is evaluated
 /// without it).
 #[inline]
-pub fn property_slots(p: PropertyInputs, t2_used: bool) -> (Slots, Slots) {
+pub const fn property_slots(p: PropertyInputs, t2_used: bool) -> (Slots, Slots) {
     let mut props = Slots::NONE;
     if p.temperature {
         props = props.or(slot::T1);
@@ -243,7 +243,7 @@ impl CompressorUses {
 /// evaluates at the suction state and p2 only: (isentropic outputs, suction
 /// Z). For a path-mean model, the property and Z slots themselves.
 #[inline]
-pub fn suction_slots(p: PropertyInputs, props: Slots, z: Slots) -> (Slots, Slots) {
+pub const fn suction_slots(p: PropertyInputs, props: Slots, z: Slots) -> (Slots, Slots) {
     if p.state_functions {
         let iso = slot::P1.or(slot::P2).or(slot::T1);
         (iso, slot::P1.or(slot::T1).or(slot::Z))
@@ -530,6 +530,12 @@ impl Grades {
         self
     }
 
+    /// `true` if every slot and check is good.
+    #[inline]
+    pub fn all_good(&self) -> bool {
+        self.not_good() == 0
+    }
+
     /// Every slot and check that is not good (one mask: an output that
     /// touches none of it is good without looking further).
     #[inline]
@@ -683,21 +689,55 @@ impl OutputGrades {
         }
     }
 
+    /// As [`OutputGrades::new`] from the per-output uses themselves (in
+    /// declaration order, at most 16) instead of a turned-around table: for
+    /// a caller without one. When every slot and check is good the uses are
+    /// not looked at (`uses` is not called).
+    #[inline]
+    pub fn from_uses<const K: usize>(
+        g: &Grades,
+        uses: impl FnOnce() -> [Use; K],
+        computed: u16,
+        suspect: u16,
+    ) -> Self {
+        let mut o = OutputGrades {
+            not_applicable: 0,
+            bad: !computed,
+            uncertain: suspect,
+        };
+        if g.not_good() != 0 {
+            for (i, u) in uses().iter().enumerate().take(16) {
+                let bit = 1 << i;
+                if u.0 & g.not_applicable != 0 {
+                    o.not_applicable |= bit;
+                }
+                if u.0 & g.bad != 0 {
+                    o.bad |= bit;
+                }
+                if u.0 & g.uncertain != 0 {
+                    o.uncertain |= bit;
+                }
+            }
+        }
+        o
+    }
+
     /// Settles output `bit` (as [`Grades::settle_suspect`]): not applicable
     /// if it uses a slot that does not apply; bad if not computed, not finite
     /// or of bad uses; else uncertain or good as its uses and check say.
     #[inline]
     pub fn settle<T: Real>(&self, m: &mut Measured<T>, bit: u16) {
-        let not_good = self.not_applicable | self.bad | self.uncertain;
-        let finite = T::is_finite(m.value);
-        if not_good & bit == 0 && finite {
-            m.quality = Quality::Good;
+        // The usable case first (good or uncertain: one test of the value).
+        if (self.not_applicable | self.bad) & bit == 0 && T::is_finite(m.value) {
+            m.quality = if self.uncertain & bit != 0 {
+                Quality::Uncertain
+            } else {
+                Quality::Good
+            };
         } else if self.not_applicable & bit != 0 {
             *m = Measured::not_applicable();
-        } else if self.bad & bit != 0 || !finite {
-            *m = Measured::bad();
         } else {
-            m.quality = Quality::Uncertain;
+            *m = Measured::bad();
         }
     }
 }

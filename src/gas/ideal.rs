@@ -285,6 +285,37 @@ impl<T: Real> IdealGas<T> {
     }
 }
 
+/// The path properties a compression needs, with (k−1)/k.
+#[derive(Clone, Copy)]
+struct PathTerms<T> {
+    z: T,
+    cp: T,
+    k: T,
+    m_k: T,
+}
+
+impl<T: Real> IdealGas<T> {
+    /// [`PathTerms`] of a cp polynomial: the path means of
+    /// [`GasModel::path`].
+    #[inline(never)]
+    fn polynomial_path_terms(
+        &self,
+        p1: T,
+        t1: T,
+        p2: T,
+        t2: T,
+        z_supplied: Option<T>,
+    ) -> PathTerms<T> {
+        let props = self.path(p1, t1, p2, t2, z_supplied);
+        PathTerms {
+            z: props.z,
+            cp: props.cp,
+            k: props.k,
+            m_k: isentropic_exponent_term(props.k),
+        }
+    }
+}
+
 /// Iteration cap of the polynomial model's entropy match.
 const ISENTROPIC_ITERATIONS: usize = 4;
 
@@ -363,6 +394,33 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
             speed_of_sound: T::sqrt(k * zr * t),
             validity: self.validity(p, t),
         }
+    }
+
+    /// Z and validity as [`GasModel::state`] gives them, without its
+    /// enthalpy, entropy and speed of sound (two logarithms and a square
+    /// root per state).
+    fn uncompressed(
+        &self,
+        p1: T,
+        t1: T,
+        p2: T,
+        t2: Option<T>,
+        z_supplied: Option<T>,
+    ) -> (T, Validity, Validity, T) {
+        let state = |p: T, t: T| {
+            if T::is_finite(p) && T::is_finite(t) && p > T::ZERO && t > T::ZERO {
+                (self.z_of(z_supplied), self.validity(p, t))
+            } else {
+                (T::ONE, Validity::INVALID)
+            }
+        };
+        let (z1, v1) = state(p1, t1);
+        let validity = match t2 {
+            Some(t2) => v1.worst(state(p2, t2).1),
+            None => v1,
+        };
+        let k = self.path(p1, t1, p2, t2.unwrap_or(t1), z_supplied).k;
+        (z1, v1, validity, k)
     }
 
     fn isentropic_state(&self, inlet: &GasState<T>, p2: T, z_supplied: Option<T>) -> GasState<T> {
@@ -457,12 +515,22 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
         t2: Option<T>,
         z_supplied: Option<T>,
     ) -> CompressionStates<T> {
-        let props = self.path(p1, t1, p2, t2.unwrap_or(t1), z_supplied);
-        let m_k = match self.heat_capacity {
-            HeatCapacity::ConstantK(_) => self.constant_exponent_term,
-            HeatCapacity::Polynomial { .. } => isentropic_exponent_term(props.k),
+        // Constant k: cp and (k−1)/k from the construction, nothing
+        // divided here; a cp polynomial: the path means, out of line (no
+        // division of theirs is hoisted into the constant-k path).
+        let props = match self.heat_capacity {
+            HeatCapacity::ConstantK(k) => PathTerms {
+                z: self.z_of(z_supplied),
+                cp: self.constant_cp,
+                k,
+                m_k: self.constant_exponent_term,
+            },
+            HeatCapacity::Polynomial { .. } => {
+                self.polynomial_path_terms(p1, t1, p2, t2.unwrap_or(t1), z_supplied)
+            }
         };
-        let zr = props.z * props.gas_constant;
+        let m_k = props.m_k;
+        let zr = props.z * self.gas_constant;
         let zrt1 = zr * t1;
         let t2s_over_t1 = T::exp(m_k * ln_ratio);
         let validity = self.validity(T::max(p1, p2), t1);
@@ -486,7 +554,7 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
             out.has_discharge = true;
             out.discharge_z = props.z;
             out.enthalpy_rise = props.z * props.cp * dt;
-            out.entropy_rise = props.z * (props.cp * ln_t - props.gas_constant * ln_ratio);
+            out.entropy_rise = props.z * (props.cp * ln_t - self.gas_constant * ln_ratio);
             out.pv_rise = zr * dt;
             out.ln_pv_ratio = ln_t;
         }
@@ -653,6 +721,42 @@ mod tests {
                 }
             ))
         );
+    }
+
+    /// Consistency check (the model against its own state functions): the
+    /// no-compression shortcut gives the Z and validities of
+    /// `GasModel::state` and the k of `GasModel::path`, also at invalid
+    /// inputs and at high reduced pressure.
+    #[test]
+    fn uncompressed_matches_the_state_functions() {
+        let spec = crate::gas::CARBON_DIOXIDE;
+        for g in [
+            IdealGas::<f64>::from_spec(&spec, false, 0.95).unwrap(),
+            IdealGas::<f64>::from_spec(&spec, true, 1.0).unwrap(),
+        ] {
+            let values = [f64::NAN, -1.0, 0.0, 1e5, 3e6, 2e7, f64::INFINITY];
+            let temps = [f64::NAN, 0.0, 250.0, 300.0, 450.0, 3000.0];
+            for &p1 in &values {
+                for &t1 in &temps {
+                    for (p2, t2) in [(1e5, Some(310.0)), (5e7, Some(f64::NAN)), (2e6, None)] {
+                        for z in [None, Some(0.9), Some(f64::NAN)] {
+                            let s1 = g.state(p1, t1, z);
+                            let v = match t2 {
+                                Some(t2) => s1.validity.worst(g.state(p2, t2, z).validity),
+                                None => s1.validity,
+                            };
+                            let k = g.path(p1, t1, p2, t2.unwrap_or(t1), z).k;
+                            let (z1, v1, va, ka) = g.uncompressed(p1, t1, p2, t2, z);
+                            assert_eq!(
+                                (z1.to_bits(), v1, va, ka.to_bits()),
+                                (s1.z.to_bits(), s1.validity, v, k.to_bits()),
+                                "{p1} {t1} {p2} {t2:?} {z:?}"
+                            );
+                        }
+                    }
+                }
+            }
+        }
     }
 
     #[test]

@@ -369,6 +369,30 @@ pub trait GasModel<T: Real> {
         out
     }
 
+    /// What a compressor stage needs besides [`GasModel::compression`] when
+    /// there is no compression (p2 not above p1): the suction Z, the
+    /// validity of the suction state, that of the suction and (with `t2`)
+    /// discharge states, and the path-mean k of [`GasModel::path`] (to
+    /// `t2`, or `t1` without it). The default evaluates
+    /// [`GasModel::state`] once or twice; a model may give the same values
+    /// more cheaply.
+    fn uncompressed(
+        &self,
+        p1: T,
+        t1: T,
+        p2: T,
+        t2: Option<T>,
+        z_supplied: Option<T>,
+    ) -> (T, Validity, Validity, T) {
+        let s1 = self.state(p1, t1, z_supplied);
+        let validity = match t2 {
+            Some(t2) => s1.validity.worst(self.state(p2, t2, z_supplied).validity),
+            None => s1.validity,
+        };
+        let k = self.path(p1, t1, p2, t2.unwrap_or(t1), z_supplied).k;
+        (s1.z, s1.validity, validity, k)
+    }
+
     /// Density of a liquid-like or dense state at (p, t), kg/m³, with its
     /// validity, if the model can give one (a pump's suction). `None` for
     /// models that only describe gases.

@@ -10,8 +10,9 @@
 //! actual work Z·cp·(T2 − T1), polytropic efficiency ((k−1)/k)/((n−1)/n).
 //! The isothermal head is Z1·R·T1·ln(p2/p1) with the suction Z.
 //!
-//! Cost per call (ideal gas): two logarithms, one exponential, about a dozen
-//! divisions; Peng–Robinson: see the README's device figures.
+//! Cost per call (ideal gas): two logarithms, one exponential and seven
+//! divisions besides those inside the logarithms; Peng–Robinson: see the
+//! README's device figures.
 
 use crate::compression::isothermal_head_from_log;
 use crate::dependency::{
@@ -19,7 +20,7 @@ use crate::dependency::{
     OutputGrades, Users,
 };
 use crate::gas::{GasModel, PropertyInputs, Validity};
-use crate::plausibility::{efficiency_grade, Limits};
+use crate::plausibility::{efficiency_allowance, efficiency_grade, Limits};
 use crate::polytropic::{schultz, PolytropicMethod};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
@@ -227,7 +228,7 @@ impl StageUses {
         }
     }
 
-    fn uses(inputs: PropertyInputs, rating_point: bool) -> CompressorUses {
+    const fn uses(inputs: PropertyInputs, rating_point: bool) -> CompressorUses {
         let (props_slots, z_slots) = property_slots(inputs, !rating_point);
         let (iso_slots, z1_slots) = suction_slots(inputs, props_slots, z_slots);
         compressor_uses(
@@ -250,7 +251,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
     out: &mut CompressorResult<T>,
 ) {
     // Which outputs were computed (bit i: the i-th field in declaration
-    // order); the rest are bad or not applicable after `settle_compressor`.
+    // order); the rest are bad or not applicable once settled.
     let mut done: u16 = 0;
     let (p1, t1, p2, t2) = (
         inp.suction_pressure,
@@ -302,9 +303,9 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
     let p2_path = if p_ok { p2.value } else { p1_path };
     // One logarithm of the ratio for the model, the polytropic method and
     // the isothermal head (compressing implies usable pressures, so the
-    // path ratio is the measured one).
-    let ln_path = T::ln(p2_path / p1_path);
-    let ln_r = if compressing { ln_path } else { T::ZERO };
+    // path ratio is the measured one). Without usable pressures both path
+    // pressures are one value, their ratio exactly 1: no second division.
+    let ln_path = T::ln(if p_ok { ratio } else { T::ONE });
     // Suction, isentropic and (with a usable T2) discharge states in one
     // call.
     let mut cs = gas.compression(
@@ -321,16 +322,17 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
         // towards a lower pressure may fail without touching them), and the
         // isentropic exponent of such a path is 0/0 for a state-function
         // model: the path-mean k instead.
-        let s1 = gas.state(p1_path, t1_path, z_supplied);
-        cs.suction_z = s1.z;
-        cs.isentropic_validity = s1.validity;
-        cs.validity = if t2_ok {
-            s1.validity
-                .worst(gas.state(p2_path, t2.value, z_supplied).validity)
-        } else {
-            s1.validity
-        };
-        cs.isentropic_exponent = gas.path(p1_path, t1_path, p2_path, t2_path, z_supplied).k;
+        let (z1, v1, v, k) = gas.uncompressed(
+            p1_path,
+            t1_path,
+            p2_path,
+            if t2_ok { Some(t2.value) } else { None },
+            z_supplied,
+        );
+        cs.suction_z = z1;
+        cs.isentropic_validity = v1;
+        cs.validity = v;
+        cs.isentropic_exponent = k;
     }
     // The model's validity counts only where its states were evaluated at
     // usable inputs (a check that cannot be evaluated downgrades nothing:
@@ -391,7 +393,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
     }
     if compressing && iso_ok {
         let hs = cs.isentropic_enthalpy_rise;
-        let h_iso = isothermal_head_from_log(cs.suction_z, gas.gas_constant(), t1.value, ln_r);
+        let h_iso = isothermal_head_from_log(cs.suction_z, gas.gas_constant(), t1.value, ln_path);
         if t1_ok {
             done |= 1 << 1;
             out.isentropic_discharge_temperature.value = cs.isentropic_temperature;
@@ -410,7 +412,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
                 done |= 1 << 13;
                 out.power_above_isothermal.value = flow.value * (actual - h_iso);
             }
-            if let Some(poly) = schultz(&cs, ln_r) {
+            if let Some(poly) = schultz(&cs, ln_path) {
                 out.polytropic_method = poly.method;
                 done |= 1 << 4;
                 out.polytropic_head.value = poly.head;
@@ -418,13 +420,12 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
                 out.polytropic_exponent.value = poly.exponent;
                 done |= 1 << 8;
                 out.polytropic_efficiency.value = poly.efficiency;
-                checks.efficiency =
-                    efficiency_grade(eta_s).worst(efficiency_grade(poly.efficiency));
+                checks.efficiency = efficiency_pair_grade(eta_s, poly.efficiency);
             } else {
                 checks.exponent_implausible = true;
             }
             checks.below_resolution =
-                dt < limits.min_temperature_rise() || ln_r < limits.min_log_ratio();
+                dt < limits.min_temperature_rise() || ln_path < limits.min_log_ratio();
         }
     } else if ratio_ok && !compressing {
         checks.no_compression = true;
@@ -475,6 +476,18 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
         _ => settle_compressor_untabled(&g, gas.property_inputs(), rating_point, done, out),
     }
     out.condition = checks.condition(p1, t1, p2, t2, rating_point);
+}
+
+/// The worse of the two efficiencies' grades ([`efficiency_grade`]), the
+/// common case (both in (0, 1 + allowance]: good) in four comparisons.
+#[inline]
+fn efficiency_pair_grade<T: Real>(a: T, b: T) -> Quality {
+    let good_max = T::ONE + efficiency_allowance::<T>();
+    if a > T::ZERO && b > T::ZERO && a <= good_max && b <= good_max {
+        Quality::Good
+    } else {
+        efficiency_grade(a).worst(efficiency_grade(b))
+    }
 }
 
 /// What the plausibility checks of one stage found.
@@ -551,7 +564,38 @@ fn settle_compressor_outputs<T: Real>(g: &OutputGrades, o: &mut CompressorResult
     g.settle(&mut o.k, 1 << 15);
 }
 
-/// [`settle_compressor`] building the table first.
+/// The turned-around measured-stage tables ([`StageUses`]) for the
+/// property inputs of the built-in models, built at compile time: the ideal
+/// gas with constant k and with cp(T), Peng–Robinson, and the default a
+/// table model keeps. A caller without a train's table grades from them as
+/// a train does.
+const BUILT_IN_USERS: [(PropertyInputs, Users); 4] = {
+    const fn entry(
+        temperature: bool,
+        pressure: bool,
+        compressibility_from_state: bool,
+        state_functions: bool,
+    ) -> (PropertyInputs, Users) {
+        let p = PropertyInputs {
+            temperature,
+            pressure,
+            compressibility_from_state,
+            state_functions,
+        };
+        (p, Users::of(&StageUses::uses(p, false).in_order()))
+    }
+    [
+        entry(false, false, false, false),
+        entry(true, false, false, false),
+        entry(true, true, true, true),
+        entry(true, true, true, false),
+    ]
+};
+
+/// Every output's quality for a caller without the train's table (a
+/// rating-point query, or [`evaluate_compressor_within`]): from a built-in
+/// table where one applies, else from the uses, built only when some slot
+/// or check is not good.
 #[inline(never)]
 fn settle_compressor_untabled<T: Real>(
     g: &Grades,
@@ -560,47 +604,24 @@ fn settle_compressor_untabled<T: Real>(
     done: u16,
     o: &mut CompressorResult<T>,
 ) {
-    settle_compressor(g, &StageUses::uses(inputs, rating_point), done, o);
-}
-
-/// Every output's quality from the table ([`crate::dependency`]); `done`
-/// has bit i set for each computed field (declaration order). A loop, not
-/// sixteen inlined copies: this is the path of a caller without a train's
-/// table, kept small in flash.
-fn settle_compressor<T: Real>(
-    g: &Grades,
-    u: &CompressorUses,
-    done: u16,
-    o: &mut CompressorResult<T>,
-) {
-    for (i, (m, use_)) in o.outputs_mut().into_iter().zip(u.in_order()).enumerate() {
-        g.settle_computed(m, done & (1 << i) != 0, use_);
-    }
-}
-
-impl<T> CompressorResult<T> {
-    /// The sixteen graded outputs in declaration order (the order of
-    /// [`CompressorUses::in_order`] and of the `done` bits).
-    fn outputs_mut(&mut self) -> [&mut Measured<T>; 16] {
-        [
-            &mut self.pressure_ratio,
-            &mut self.isentropic_discharge_temperature,
-            &mut self.temperature_rise,
-            &mut self.isentropic_head,
-            &mut self.polytropic_head,
-            &mut self.isothermal_head,
-            &mut self.actual_work,
-            &mut self.isentropic_efficiency,
-            &mut self.polytropic_efficiency,
-            &mut self.polytropic_exponent,
-            &mut self.mass_flow,
-            &mut self.gas_power,
-            &mut self.work_above_isothermal,
-            &mut self.power_above_isothermal,
-            &mut self.compressibility,
-            &mut self.k,
-        ]
-    }
+    // (All good: no table needed, see `OutputGrades::from_uses`.)
+    let built_in = if g.all_good() {
+        None
+    } else {
+        BUILT_IN_USERS
+            .iter()
+            .find(|(p, _)| !rating_point && *p == inputs)
+    };
+    let grades = match built_in {
+        Some((_, users)) => OutputGrades::new(g, users, done, 0),
+        None => OutputGrades::from_uses(
+            g,
+            || StageUses::uses(inputs, rating_point).in_order(),
+            done,
+            0,
+        ),
+    };
+    settle_compressor_outputs(&grades, o);
 }
 
 #[cfg(test)]
@@ -670,6 +691,85 @@ mod tests {
         assert_eq!(r.condition, StageCondition::EfficiencyAboveOne);
         assert_eq!(r.isentropic_efficiency.quality, Quality::Uncertain);
         assert!(r.isentropic_efficiency.value > 1.0);
+    }
+
+    /// Consistency check (two gradings of the project's own rule): a
+    /// caller without a train's table (built-in table or uses) grades
+    /// every output as the train's table does, for each built-in model's
+    /// property inputs and input qualities good, uncertain, bad and not
+    /// applicable in every slot.
+    #[test]
+    fn untabled_grading_equals_the_tabled_one() {
+        use crate::gas::{components, PengRobinson};
+        fn check<G: GasModel<f64>>(gas: &G) {
+            let qs = [
+                Quality::Good,
+                Quality::Uncertain,
+                Quality::Bad,
+                Quality::NotApplicable,
+            ];
+            let table = StageUses::new(gas.property_inputs());
+            let limits = Limits::default();
+            for (case, &(p2, t2)) in [(300e3, 420.0), (300e3, 290.0), (90e3, 330.0)]
+                .iter()
+                .enumerate()
+            {
+                for slot in 0..6 {
+                    for q in qs {
+                        let mut i = inputs(100e3, 300.0, p2, t2);
+                        let m = |x: f64| Measured::new(x, q);
+                        match slot {
+                            0 => i.suction_pressure = m(100e3),
+                            1 => i.suction_temperature = m(300.0),
+                            2 => i.discharge_pressure = m(p2),
+                            3 => i.discharge_temperature = m(t2),
+                            4 => i.mass_flow = m(2.0),
+                            _ => i.compressibility = Some((0.98, q)),
+                        }
+                        let (mut a, mut b) = (CompressorResult::bad(), CompressorResult::bad());
+                        evaluate_compressor_within(gas, &i, &limits, &mut a);
+                        evaluate_compressor_tabled(gas, &i, &limits, Some(&table), &mut b);
+                        assert_eq!(a, b, "case {case} slot {slot} {q:?}");
+                    }
+                }
+            }
+        }
+        check(&IdealGas::<f64>::from_spec(&AIR, false, 1.0).unwrap());
+        check(&IdealGas::<f64>::from_spec(&AIR, true, 1.0).unwrap());
+        check(&PengRobinson::<f64, 1>::pure(components::METHANE).unwrap());
+    }
+
+    /// Consistency check: the pair grade is the worse of the two single
+    /// grades, at and around every boundary, NaN and infinities included.
+    #[test]
+    fn efficiency_pair_grade_is_the_worse_single_grade() {
+        let lim = 1.0 + efficiency_allowance::<f64>();
+        let hi = crate::plausibility::EFFICIENCY_UNCERTAIN_MAX;
+        let up = |x: f64| x + x.abs() * 1e-12 + 1e-300;
+        let points = [
+            f64::NAN,
+            f64::NEG_INFINITY,
+            -1.0,
+            0.0,
+            1e-300,
+            0.5,
+            1.0,
+            lim,
+            up(lim),
+            hi,
+            up(hi),
+            2.0,
+            f64::INFINITY,
+        ];
+        for a in points {
+            for b in points {
+                assert_eq!(
+                    efficiency_pair_grade(a, b),
+                    efficiency_grade(a).worst(efficiency_grade(b)),
+                    "{a} {b}"
+                );
+            }
+        }
     }
 
     #[test]
