@@ -410,15 +410,15 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         // the stack first.
         for (out, s) in si.iter_mut().zip(scan.stages.iter()) {
             let (flow, flow_measured) = match s.mass_flow {
-                Some(m) => (limits.mass_flow(m), true),
+                Some(m) => (limits.mass_flow_valid(m), true),
                 None => (upstream_flow, false),
             };
             upstream_flow = flow;
             *out = StageSi {
-                p1: limits.pressure(s.suction_pressure.map(PressureAbs::pa)),
-                t1: limits.temperature(s.suction_temperature.map(Kelvin::kelvin)),
-                p2: limits.pressure(s.discharge_pressure.map(PressureAbs::pa)),
-                t2: limits.temperature(s.discharge_temperature.map(Kelvin::kelvin)),
+                p1: limits.pressure_valid(s.suction_pressure.map(PressureAbs::pa)),
+                t1: limits.temperature_valid(s.suction_temperature.map(Kelvin::kelvin)),
+                p2: limits.pressure_valid(s.discharge_pressure.map(PressureAbs::pa)),
+                t2: limits.temperature_valid(s.discharge_temperature.map(Kelvin::kelvin)),
                 flow,
                 flow_measured,
                 z: s.compressibility.map(compressibility),
@@ -528,10 +528,10 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             };
             let limits = &self.limits;
             let gas_out_p = match raw.gas_outlet_pressure {
-                Some(p) => limits.pressure(p.map(PressureAbs::pa)),
+                Some(p) => limits.pressure_valid(p.map(PressureAbs::pa)),
                 None => next.map_or(Measured::bad(), |n| n.p1),
             };
-            let tout = limits.temperature(raw.gas_outlet_temperature.map(Kelvin::kelvin));
+            let tout = limits.temperature_valid(raw.gas_outlet_temperature.map(Kelvin::kelvin));
             // Enthalpy drop on the stage's basis (same model, same supplied
             // Z), so stage power and cooler duty balance; at a nominal
             // temperature where one is missing (the rule marks what used it).
@@ -574,7 +574,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             };
             let temperature = |m: Option<Measured<Kelvin<T>>>| {
                 m.map_or(Measured::bad(), |m| {
-                    limits.temperature(m.map(Kelvin::kelvin))
+                    limits.temperature_valid(m.map(Kelvin::kelvin))
                 })
             };
             let inputs = CoolerInputs {
@@ -587,7 +587,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 gas_mass_flow: s.flow,
                 coolant_mass_flow: raw
                     .coolant_mass_flow
-                    .map_or(Measured::bad(), |m| limits.mass_flow(m)),
+                    .map_or(Measured::bad(), |m| limits.mass_flow_valid(m)),
                 gas_enthalpy_drop,
                 coolant_cp: cooler_cfg.coolant_cp,
             };
