@@ -84,6 +84,44 @@ pub fn ratio_from_head_number<T: Real>(head_number: T, sigma: T) -> T {
     T::exp(T::ln(T::ONE + sigma * head_number) / sigma)
 }
 
+/// `ln r` of the scan's pressure ratio, taken once and shared by the head
+/// number and the measured exponent (both form `pd / ps` the same way, so a
+/// repeated ratio is bit-for-bit the same one and its logarithm is reused).
+#[derive(Clone, Copy, Debug)]
+pub(crate) struct LnRatio<T> {
+    /// The ratio whose logarithm is held; NaN (equal to nothing) until one
+    /// is taken.
+    ratio: T,
+    ln: T,
+}
+
+impl<T: Real> LnRatio<T> {
+    /// Nothing taken yet.
+    pub(crate) fn new() -> Self {
+        LnRatio {
+            ratio: T::of(f64::NAN),
+            ln: T::ZERO,
+        }
+    }
+
+    /// `ln(ratio)`, reusing the last one if `ratio` is the same value (a NaN
+    /// never is; ±0 give the same `ln`).
+    #[inline]
+    pub(crate) fn of(&mut self, ratio: T) -> T {
+        if ratio != self.ratio {
+            self.ratio = ratio;
+            self.ln = T::ln(ratio);
+        }
+        self.ln
+    }
+}
+
+/// Head number from `ln r` (the same bits as [`head_number`]).
+#[inline]
+pub(crate) fn head_number_from_ln<T: Real>(ln_ratio: T, sigma: T) -> T {
+    (T::exp(sigma * ln_ratio) - T::ONE) / sigma
+}
+
 /// `Z R Ts`, J/kg, from the molar mass in kg/kmol (the square of the
 /// reference velocity `a*`).
 #[inline]
