@@ -56,7 +56,7 @@
 //! `ci/measurements.md`).
 
 use super::check_setting;
-use super::coordinates::{flow_number, head_number_from_ln, signed_sqrt, LnRatio};
+use super::coordinates::{flow_number, head_number_from_ln, signed_margin_root, LnRatio};
 use super::exponent::{ExponentConfig, ExponentEstimator, ExponentSource, ExponentState};
 use super::surge_line::SurgeLine;
 use crate::error::{ConfigError, Problem};
@@ -485,7 +485,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         // a positive first point); a bad lookup makes the margin bad.
         let xs = look.surge_flow_number;
         let mq = lq.worst(x.quality);
-        let margin = Measured::derived(signed_sqrt(x.value / xs) - T::ONE, mq);
+        let margin = Measured::derived(signed_margin_root(x.value / xs) - T::ONE, mq);
         let added = if T::is_finite(added_margin) {
             T::max(added_margin, T::ZERO)
         } else {
