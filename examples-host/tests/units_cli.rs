@@ -57,6 +57,43 @@ fn stage_rows(text: &str) -> HashMap<String, (String, f64)> {
     out
 }
 
+/// One unit-conversion check: (label, SI unit, US unit, factor SI -> US,
+/// offset, table rounding in the US unit). Factors: NIST SP 811 (2008),
+/// B.8 and B.9.
+type Conversion = (&'static str, &'static str, &'static str, f64, f64, f64);
+
+const PRESSURE_P1: Conversion = (
+    "Suction pressure p1",
+    "Pa a",
+    "psi a",
+    1.0 / 6894.757,
+    0.0,
+    0.006,
+);
+const GAS_POWER: Conversion = ("Gas power", "W", "hp", 1.0 / 745.6999, 0.0, 0.06);
+const MASS_FLOW: Conversion = ("Mass flow", "kg/s", "lb/h", 1.0 / 1.259979e-4, 0.0, 1.0);
+
+/// Every row of `checks` reads the same quantity in both tables: the units
+/// as stated and the US value the SI value converted (`si`, `us`: label ->
+/// (unit, value)). The SI table rounds too: its rounding, scaled into US
+/// units, is allowed.
+fn assert_converted(
+    si: impl Fn(&str) -> (String, f64),
+    us: impl Fn(&str) -> (String, f64),
+    checks: &[Conversion],
+) {
+    for &(label, si_unit, us_unit, f, o, tol) in checks {
+        let (u1, v_si) = si(label);
+        let (u2, v_us) = us(label);
+        assert_eq!((u1.as_str(), u2.as_str()), (si_unit, us_unit), "{label}");
+        let expected = v_si * f + o;
+        assert!(
+            (v_us - expected).abs() <= tol + 0.01 * f.abs() + 1e-9 * expected.abs(),
+            "{label}: {v_us} {us_unit} vs {v_si} {si_unit} -> {expected}"
+        );
+    }
+}
+
 #[test]
 fn evaluate_tables_follow_the_unit_system() {
     let dir = tmp("evaluate");
@@ -76,16 +113,8 @@ fn evaluate_tables_follow_the_unit_system() {
     let si = run("si");
     let us = run("us-field");
     let bar = run("bar-degc");
-    // (label, SI unit, US unit, factor SI->US, offset, table rounding in US unit)
     let checks = [
-        (
-            "Suction pressure p1",
-            "Pa a",
-            "psi a",
-            1.0 / 6894.757,
-            0.0,
-            0.006,
-        ),
+        PRESSURE_P1,
         ("T2 discharge", "K", "degF", 1.8, -459.67, 0.06),
         ("Temperature rise", "K", "degF diff", 1.8, 0.0, 0.06),
         (
@@ -96,20 +125,10 @@ fn evaluate_tables_follow_the_unit_system() {
             0.0,
             0.006,
         ),
-        ("Gas power", "W", "hp", 1.0 / 745.6999, 0.0, 0.06),
-        ("Mass flow", "kg/s", "lb/h", 1.0 / 1.259979e-4, 0.0, 1.0),
+        GAS_POWER,
+        MASS_FLOW,
     ];
-    for (label, su, uu, f, o, tol) in checks {
-        let (u1, v_si) = &si[label];
-        let (u2, v_us) = &us[label];
-        assert_eq!((u1.as_str(), u2.as_str()), (su, uu), "{label}");
-        // The SI table rounds too: allow its rounding scaled into US units.
-        let expected = v_si * f + o;
-        assert!(
-            (v_us - expected).abs() <= tol + 0.01 * f.abs() + 1e-9 * expected.abs(),
-            "{label}: {v_us} {uu} vs {v_si} {su} -> {expected}"
-        );
-    }
+    assert_converted(|l| si[l].clone(), |l| us[l].clone(), &checks);
     let (u, v) = &bar["T2 discharge"];
     assert_eq!(u, "degC");
     assert!((v - (si["T2 discharge"].1 - 273.15)).abs() < 0.06, "{v}");
@@ -229,15 +248,12 @@ fn stage_tables_follow_the_unit_system() {
     let (si_text, us_text) = (run("si"), run("us-field"));
     let (si, us) = (label_value_unit(&si_text), label_value_unit(&us_text));
     // Factors: NIST SP 811 (2008), B.8 and B.9 (as above).
-    for (label, si_unit, us_unit, f, o, tol) in [
-        (
-            "Suction pressure p1",
-            "Pa a",
-            "psi a",
-            1.0 / 6894.757,
-            0.0,
-            0.006,
-        ),
+    let flip = |m: &HashMap<String, (f64, String)>, l: &str| {
+        let (v, u) = &m[l];
+        (u.clone(), *v)
+    };
+    let checks = [
+        PRESSURE_P1,
         ("Suction temperature T1", "K", "degF", 1.8, -459.67, 0.06),
         (
             "Isothermal head",
@@ -247,18 +263,10 @@ fn stage_tables_follow_the_unit_system() {
             0.0,
             0.006,
         ),
-        ("Gas power", "W", "hp", 1.0 / 745.6999, 0.0, 0.06),
-        ("Mass flow", "kg/s", "lb/h", 1.0 / 1.259979e-4, 0.0, 1.0),
-    ] {
-        let (v_si, u1) = &si[label];
-        let (v_us, u2) = &us[label];
-        assert_eq!((u1.as_str(), u2.as_str()), (si_unit, us_unit), "{label}");
-        let expected = v_si * f + o;
-        assert!(
-            (v_us - expected).abs() <= tol + 0.01 * f.abs() + 1e-9 * expected.abs(),
-            "{label}: {v_us} {us_unit} vs {v_si} {si_unit} -> {expected}"
-        );
-    }
+        GAS_POWER,
+        MASS_FLOW,
+    ];
+    assert_converted(|l| flip(&si, l), |l| flip(&us, l), &checks);
     // The inputs as given: 1.0 bar a is 14.50 psi a, 20 °C is 68.0 °F
     // (SP 811 B.8, B.9).
     assert_eq!(us["Suction pressure p1"].0, 14.50);
