@@ -88,7 +88,7 @@ fn bench_full_scan(c: &mut Criterion) {
     let mut k = 0_u32;
     for s in slow.iter_mut().take(controller::WARM_SCANS) {
         let raw = ctl.samples(s, k);
-        ctl.scan(&raw, u64::from(k) * controller::SCAN_MS, s);
+        ctl.scan(&raw, k.wrapping_mul(controller::SCAN_MS), s);
         k += 1;
     }
     c.bench_function(&format!("full_scan/f32/{MATHS}"), |b| {
@@ -96,7 +96,7 @@ fn bench_full_scan(c: &mut Criterion) {
             let n = slow.len();
             let s = &mut slow[k as usize % n];
             let raw = ctl.samples(s, k);
-            let out = ctl.scan(black_box(&raw), u64::from(k) * controller::SCAN_MS, s);
+            let out = ctl.scan(black_box(&raw), k.wrapping_mul(controller::SCAN_MS), s);
             k += 1;
             black_box(out.total_power)
         })

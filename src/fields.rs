@@ -530,18 +530,17 @@ const CHANNEL_FIELDS: &[FieldSpec] = &[
         unit: "",
         kind: QuantityKind::Count,
         derivation: Derivation::Exact,
-        meaning: "Time stamp of the last good sample, ms (saturates at 2^32 - 1).",
+        meaning: "Time stamp of the last good sample, ms (the caller's 32-bit tick).",
     },
 ];
 
 impl<T: Real> ResultFields<T> for ChannelOutput<T> {
     const FIELDS: &'static [FieldSpec] = CHANNEL_FIELDS;
     fn visit_fields(&self, visit: &mut dyn FnMut(&'static FieldSpec, FieldValue<T>)) {
-        let last_good = u32::try_from(self.status.last_good_ms).unwrap_or(u32::MAX);
         let values = [
             FieldValue::Real(self.raw),
             FieldValue::Real(self.filtered),
-            FieldValue::Count(last_good),
+            FieldValue::Count(self.status.last_good_ms),
         ];
         for (spec, value) in Self::FIELDS.iter().zip(values) {
             visit(spec, value);

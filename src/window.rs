@@ -9,7 +9,7 @@
 //! `get`/`get_mut`.
 
 /// The last `W` values written.
-#[derive(Clone, Debug)]
+#[derive(Clone, Copy, Debug)]
 pub(crate) struct Window<T, const W: usize> {
     data: [T; W],
     /// Slot of the next write, always `< W`.

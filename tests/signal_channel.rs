@@ -185,7 +185,7 @@ fn low_pass_follows_the_first_order_step_response() {
     let tau = 2.0;
     lp.update(0.0, 0, tau);
     let mut worst = 0.0_f64;
-    for k in 1..=1000u64 {
+    for k in 1..=1000u32 {
         let t_ms = k * 20;
         let y = lp.update(1.0, t_ms, tau);
         let exact = 1.0 - (-(t_ms as f64) / 1000.0 / tau).exp();
@@ -240,7 +240,7 @@ fn event_log_drops_oldest_and_counts() {
     }
     assert_eq!(log.len(), 3);
     assert_eq!(log.dropped(), 2);
-    let times: Vec<u64> = log.iter().map(|e| e.time_ms).collect();
+    let times: Vec<u32> = log.iter().map(|e| e.time_ms).collect();
     assert_eq!(times, vec![2, 3, 4]);
     assert_eq!(log.pop().unwrap().time_ms, 2);
     assert_eq!(log.len(), 2);

@@ -35,7 +35,7 @@ fn config() -> ChannelConfig<f64> {
 
 /// A channel fed `n` good, slightly varying samples every 20 ms up to
 /// `t_end` ms.
-fn warmed(n: u64) -> (Channel<f64, 8, 5>, u64) {
+fn warmed(n: u32) -> (Channel<f64, 8, 5>, u32) {
     let mut ch = Channel::<f64, 8, 5>::new(config()).unwrap();
     let mut t = 0;
     for k in 0..n {
@@ -52,7 +52,7 @@ fn warmed(n: u64) -> (Channel<f64, 8, 5>, u64) {
 fn a_frozen_clock_ends_in_bad_after_the_hold_time() {
     let (mut ch, t) = warmed(50);
     let mut first_bad = None;
-    for k in 1..=200u64 {
+    for k in 1..=200u32 {
         let o = ch.update(50.0, t);
         assert_eq!(o.status.fault, FaultCode::TimeNotAdvancing);
         if o.status.quality == Quality::Bad && first_bad.is_none() {
@@ -75,7 +75,7 @@ fn a_frozen_clock_ends_in_bad_after_the_hold_time() {
 fn a_clock_reset_resynchronises_within_the_median_window() {
     let (mut ch, _) = warmed(5000);
     let mut qualities = Vec::new();
-    for k in 0..20u64 {
+    for k in 0..20u32 {
         let o = ch.update(50.0 + (k % 3) as f64 * 0.1, k * 20);
         qualities.push((o.status.quality, o.status.fault));
     }
@@ -93,17 +93,87 @@ fn a_clock_reset_resynchronises_within_the_median_window() {
 /// later sample is "time not advancing").
 #[test]
 fn one_far_future_timestamp_does_not_kill_the_channel() {
-    let (mut ch, t) = warmed(100);
-    let o = ch.update(50.0, u64::MAX / 2);
-    assert!(o.status.quality.is_usable());
-    let mut good_after = None;
-    for k in 1..=20u64 {
-        let o = ch.update(50.0 + (k % 3) as f64 * 0.1, t + k * 20);
-        if o.status.quality == Quality::Good && good_after.is_none() {
-            good_after = Some(k);
+    // Ahead by 2^30 ms (12 days) and by 2^31 - 1 ms (the largest advance
+    // of the 32-bit tick): a gap, then the return is a step back and the
+    // next 5 samples (the median refilling) are uncertain. Ahead by 3·2^30
+    // ms (more than 2^31: the tick reads it as 2^30 behind): the stamp is
+    // itself the step back and starts the 5 uncertain samples, and the
+    // return is a gap.
+    for (ahead, far, good_from) in [
+        (1_u32 << 30, (Quality::Good, FaultCode::None), 6),
+        (i32::MAX as u32, (Quality::Good, FaultCode::None), 6),
+        (3 << 30, (Quality::Uncertain, FaultCode::ClockStep), 5),
+    ] {
+        let (mut ch, t) = warmed(100);
+        let o = ch.update(50.0, t.wrapping_add(ahead));
+        assert_eq!((o.status.quality, o.status.fault), far, "{ahead}");
+        for k in 1..=20u32 {
+            let o = ch.update(50.0 + (k % 3) as f64 * 0.1, t + k * 20);
+            let want = if k < good_from {
+                (Quality::Uncertain, FaultCode::ClockStep)
+            } else {
+                (Quality::Good, FaultCode::None)
+            };
+            assert_eq!((o.status.quality, o.status.fault), want, "{ahead} {k}");
         }
     }
-    assert_eq!(good_after, Some(6), "recovers after the 5-sample resync");
+}
+
+/// The 32-bit tick wraps after 2^32 ms (49.7 days): a channel running
+/// across the wrap gives bit for bit the outputs of one running on the same
+/// intervals without it (consistency check of the wrapping arithmetic), on
+/// a sequence with good samples, a spike, an open loop held and recovered,
+/// a stalled stamp and a gap.
+#[test]
+fn the_tick_wrap_is_an_ordinary_interval() {
+    let mut cfg = config();
+    cfg.filter_time_constant_s = 0.5;
+    let mut a = Channel::<f64, 8, 5>::new(cfg).unwrap();
+    let mut b = Channel::<f64, 8, 5>::new(cfg).unwrap();
+    let mut t = 0_u32;
+    let start = u32::MAX - 1_000;
+    let mut seen = Vec::new();
+    for k in 0..300u32 {
+        let step = match k {
+            150 => 0,   // stalled
+            200 => 700, // a gap (> hold 500 ms and 8 periods)
+            _ => 20,
+        };
+        t += step;
+        let v = match k {
+            40 => 90.0,          // spike
+            60..=90 => f64::NAN, // lost: held for 500 ms, then bad
+            _ => 50.0 + (k % 7) as f64 * 0.3,
+        };
+        let oa = a.update(v, t);
+        let ob = b.update(v, start.wrapping_add(t));
+        seen.push((oa.status.fault, oa.status.quality, oa.status.substituted));
+        assert_eq!(oa.raw.value.to_bits(), ob.raw.value.to_bits(), "{k}");
+        assert_eq!(
+            oa.filtered.value.to_bits(),
+            ob.filtered.value.to_bits(),
+            "{k}"
+        );
+        assert_eq!(oa.status.quality, ob.status.quality, "{k}");
+        assert_eq!(oa.status.fault, ob.status.fault, "{k}");
+        assert_eq!(oa.status.substituted, ob.status.substituted, "{k}");
+        assert_eq!(
+            oa.status.last_good_ms,
+            ob.status.last_good_ms.wrapping_sub(start),
+            "{k}"
+        );
+    }
+    // The run did cross the wrap, and went through each state.
+    assert!(start.wrapping_add(t) < start);
+    for state in [
+        (FaultCode::Spike, Quality::Uncertain, true),
+        (FaultCode::NotFinite, Quality::Uncertain, true),
+        (FaultCode::NotFinite, Quality::Bad, false),
+        (FaultCode::TimeNotAdvancing, Quality::Uncertain, true),
+        (FaultCode::None, Quality::Good, false),
+    ] {
+        assert!(seen.contains(&state), "{state:?}");
+    }
 }
 
 /// Today: after a gap the median (and the low-pass) report pre-gap values
@@ -113,7 +183,7 @@ fn filters_restart_after_a_gap() {
     let mut cfg = config();
     cfg.filter_time_constant_s = 1.0;
     let mut ch = Channel::<f64, 8, 5>::new(cfg).unwrap();
-    for k in 0..20u64 {
+    for k in 0..20u32 {
         ch.update(10.0 + (k % 2) as f64 * 0.1, k * 20);
     }
     // 10 s of silence, then a new level.
@@ -145,12 +215,12 @@ fn low_flow_zero_check_counts_time_on_a_frozen_clock() {
     .unwrap();
     let dp = Measured::good(300.0);
     // Flowing, clock good: learns the 20 ms period.
-    for k in 0..10u64 {
+    for k in 0..10u32 {
         lf.apply(dp, false, k * 20);
     }
     // No flow, offset present, clock frozen at 200 ms.
     let mut flagged_at = None;
-    for k in 1..=100u64 {
+    for k in 1..=100u32 {
         let o = lf.apply(dp, true, 200);
         if o.fault == FaultCode::ZeroOffset && flagged_at.is_none() {
             flagged_at = Some(k);

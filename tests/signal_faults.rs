@@ -217,13 +217,13 @@ fn frozen_value_is_flagged_when_the_window_fills() {
     let mut fe = FrontEnd::<f64>::new();
     fe.warm_up(0, 30);
     let stuck = healthy_raw(29)[P2A];
-    for i in 30..30 + W as u64 {
+    for i in 30..30 + W as u32 {
         let mut r = healthy_raw(i);
         r[P2A] = stuck;
         let s = fe.step(r, i * SCAN_MS);
         // Sample 29 already had the stuck value, so the W-sample window
         // holds only stuck values from scan 30 + W - 2 on.
-        let frozen = i >= 30 + W as u64 - 2;
+        let frozen = i >= 30 + W as u32 - 2;
         if frozen {
             assert_eq!(s.out[P2A].status.fault, FaultCode::Frozen);
             assert_eq!(s.out[P2A].status.quality, Uncertain);
@@ -246,7 +246,7 @@ fn substitution_holds_then_goes_bad() {
         let mut r = healthy_raw(i);
         r[P1B] = 2.0; // open loop
         let s = fe.step(r, i * SCAN_MS);
-        let elapsed = (n as u64 + 1) * SCAN_MS; // since the last good sample
+        let elapsed = (n as u32 + 1) * SCAN_MS; // since the last good sample
         if elapsed <= 500 {
             assert_eq!(s.out[P1B].status.quality, Uncertain, "{elapsed} ms");
             assert_eq!(s.out[P1B].raw.value, held);

@@ -34,24 +34,24 @@ fn raw_value() -> impl Strategy<Value = f32> {
     ]
 }
 
-fn scan() -> impl Strategy<Value = ([f32; CH], [u64; CH], bool)> {
+fn scan() -> impl Strategy<Value = ([f32; CH], [u32; CH], bool)> {
     (
         proptest::array::uniform9(raw_value()),
         proptest::array::uniform9(
-            prop_oneof![8 => 50_u64..300, 1 => Just(0_u64), 1 => 0_u64..100_000],
+            prop_oneof![8 => 50_u32..300, 1 => Just(0_u32), 1 => 0_u32..100_000],
         ),
         proptest::bool::weighted(0.1),
     )
 }
 
-fn check_sequence(seq: &[([f32; CH], [u64; CH], bool)]) -> Result<(), TestCaseError> {
+fn check_sequence(seq: &[([f32; CH], [u32; CH], bool)]) -> Result<(), TestCaseError> {
     let mut fe = FrontEnd::<f32>::new();
     // A healthy start, so that substitution and learned states are exercised.
     fe.warm_up(0, 12);
     let mut t = [12 * SCAN_MS; CH];
     for (raw, dt, no_flow) in seq {
         for (ti, d) in t.iter_mut().zip(dt) {
-            *ti += d;
+            *ti = ti.wrapping_add(*d);
         }
         let s = fe.step_at(*raw, t, *no_flow);
         for (i, o) in s.out.iter().enumerate() {

@@ -217,7 +217,8 @@ impl Plant {
         let i = self.next;
         self.next = self.next.wrapping_add(1);
         let scan = demo::scan::<f32>(i);
-        let t_ms = u64::from(i) * u64::from(self.scan_ms);
+        // The channels' 32-bit millisecond tick (wraps like a device timer).
+        let t_ms = i.wrapping_mul(self.scan_ms);
         let s1 = scan.stages.first().copied();
         let (p1, p2, t1, flow) = match s1 {
             Some(s) => (

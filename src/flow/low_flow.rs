@@ -44,7 +44,7 @@ pub struct LowFlowOutput<T> {
 pub struct LowFlow<T> {
     config: LowFlowConfig<T>,
     clock: SampleClock,
-    offset_for_ms: Option<u64>,
+    offset_for_ms: Option<u32>,
     zero_offset: bool,
 }
 
@@ -79,12 +79,13 @@ impl<T: Real> LowFlow<T> {
     }
 
     /// Applies the zero check (when `no_flow` is known to hold) and the
-    /// cut-off to `dp` at `t_ms`. The persistence time is counted on the
+    /// cut-off to `dp` at `t_ms` (a free-running 32-bit millisecond tick that
+    /// may wrap; see [`crate::clock`]). The persistence time is counted on the
     /// sanitised clock of [`crate::signal::clock`]: a frozen or backward
     /// stamp counts one estimated sample period, so the check neither stalls
     /// nor restarts on a bad clock.
-    pub fn apply(&mut self, dp: Measured<T>, no_flow: bool, t_ms: u64) -> LowFlowOutput<T> {
-        let gap_ms = u64::from(self.config.zero_persist_ms).max(1);
+    pub fn apply(&mut self, dp: Measured<T>, no_flow: bool, t_ms: u32) -> LowFlowOutput<T> {
+        let gap_ms = self.config.zero_persist_ms.max(1);
         let (_, dt_ms) = self.clock.tick(t_ms, gap_ms);
         let usable = dp.quality.is_usable() && T::is_finite(dp.value);
         if usable && no_flow {
@@ -94,7 +95,7 @@ impl<T: Real> LowFlow<T> {
                     None => 0,
                 };
                 self.offset_for_ms = Some(persisted);
-                if persisted >= u64::from(self.config.zero_persist_ms) {
+                if persisted >= self.config.zero_persist_ms {
                     self.zero_offset = true;
                 }
             } else {

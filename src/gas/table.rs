@@ -425,6 +425,40 @@ fn capacity(field: &'static str, capacity: usize, found: u32) -> BlobError {
     }
 }
 
+/// Decodes one list of a table payload (its count, then the entries):
+/// the count checked against the capacity and the header's count
+/// (`fields`: the list's and the header's field names), every entry by
+/// `check`, and written to `into` when given. Returns the count and the
+/// rest of the payload.
+fn decode_list<'b, V: Deserialize<'b>>(
+    bytes: &'b [u8],
+    fields: (&'static str, &'static str),
+    (capacity_of, header_count): (usize, u16),
+    check: impl Fn(usize, &V) -> Result<(), ConfigError>,
+    mut into: Option<&mut [V]>,
+) -> Result<(usize, &'b [u8]), BlobError> {
+    let (field, header_field) = fields;
+    let (n, mut rest): (u32, _) = take(bytes)?;
+    if n as usize > capacity_of {
+        return Err(capacity(field, capacity_of, n));
+    }
+    if n != u32::from(header_count) {
+        return Err(BlobError::Invalid(ConfigError::new(
+            field,
+            Problem::Inconsistent { with: header_field },
+        )));
+    }
+    for i in 0..n as usize {
+        let (v, r): (V, _) = take(rest)?;
+        rest = r;
+        check(i, &v).map_err(BlobError::Invalid)?;
+        if let Some(slot) = into.as_deref_mut().and_then(|s| s.get_mut(i)) {
+            *slot = v;
+        }
+    }
+    Ok((n as usize, rest))
+}
+
 impl<const NODES: usize, const CELLS: usize> PropertyTable<NODES, CELLS> {
     const CAPACITY_OK: () = assert!(
         NODES >= 4 && NODES <= 65_535 && CELLS >= 1 && CELLS <= 65_535,
@@ -494,60 +528,35 @@ impl<const NODES: usize, const CELLS: usize> PropertyTable<NODES, CELLS> {
     fn decode(payload: &[u8], mut into: Option<&mut Self>) -> Result<(), BlobError> {
         let (header, rest): (TableHeader, _) = take(payload)?;
         check_header(&header).map_err(BlobError::Invalid)?;
-        let (n_nodes, mut rest): (u32, _) = take(rest)?;
-        if n_nodes as usize > NODES {
-            return Err(capacity("table_nodes", NODES, n_nodes));
-        }
-        if n_nodes != u32::from(header.node_count) {
-            return Err(BlobError::Invalid(ConfigError::new(
-                "table_nodes",
-                Problem::Inconsistent {
-                    with: "table.node_count",
-                },
-            )));
-        }
-        for i in 0..n_nodes as usize {
-            let (node, r): (Node, _) = take(rest)?;
-            rest = r;
-            check_node(i, &node).map_err(BlobError::Invalid)?;
-            if let Some(slot) = into.as_deref_mut().and_then(|t| t.nodes.get_mut(i)) {
-                *slot = node;
-            }
-        }
-        let (n_cells, mut rest): (u32, _) = take(rest)?;
-        if n_cells as usize > CELLS {
-            return Err(capacity("table_cells", CELLS, n_cells));
-        }
-        if n_cells != u32::from(header.cell_count) {
-            return Err(BlobError::Invalid(ConfigError::new(
-                "table_cells",
-                Problem::Inconsistent {
-                    with: "table.cell_count",
-                },
-            )));
-        }
-        for i in 0..n_cells as usize {
-            let (cell, r): (Cell, _) = take(rest)?;
-            rest = r;
-            check_cell(
-                i,
-                &cell,
-                n_nodes as usize,
-                n_cells as usize,
-                header.lattice_bits,
-            )
-            .map_err(BlobError::Invalid)?;
-            if let Some(slot) = into.as_deref_mut().and_then(|t| t.cells.get_mut(i)) {
-                *slot = cell;
-            }
-        }
+        let (n_nodes, rest) = decode_list(
+            rest,
+            ("table_nodes", "table.node_count"),
+            (NODES, header.node_count),
+            check_node,
+            into.as_deref_mut().map(|t| t.nodes.as_mut_slice()),
+        )?;
+        let (n_cells, rest) = decode_list(
+            rest,
+            ("table_cells", "table.cell_count"),
+            (CELLS, header.cell_count),
+            |i, cell: &Cell| {
+                check_cell(
+                    i,
+                    cell,
+                    n_nodes,
+                    usize::from(header.cell_count),
+                    header.lattice_bits,
+                )
+            },
+            into.as_deref_mut().map(|t| t.cells.as_mut_slice()),
+        )?;
         if !rest.is_empty() {
             return Err(BlobError::Decode);
         }
         if let Some(t) = into {
             t.header = header;
-            t.node_count = n_nodes as usize;
-            t.cell_count = n_cells as usize;
+            t.node_count = n_nodes;
+            t.cell_count = n_cells;
         }
         Ok(())
     }
@@ -645,8 +654,9 @@ pub struct TableStage<T> {
 }
 
 /// End states a [`TableGas`] remembers: the suction and discharge states of
-/// four stages (a longer train only misses some).
-pub const MEMO_SLOTS: usize = 8;
+/// four stages and the train totals' state at the last discharge pressure
+/// (a longer train only misses some).
+pub const MEMO_SLOTS: usize = 9;
 
 /// The start-of-descent grid: 2^JUMP_BITS parts per axis.
 const JUMP_BITS: u32 = 3;
@@ -766,11 +776,15 @@ impl<'a, T: Real> Cut<'a, T> {
 
 /// A remembered end state (see `TableGas::end_state`): the seam's outputs
 /// at (p, T) with ln p, so a state shared by two calls (a stage's discharge
-/// and the next cooler's inlet; a cooler's outlet and the next stage's
-/// suction) is interpolated once.
+/// and the next cooler's inlet; a stage's suction and the train totals) is
+/// interpolated once, and a state at a remembered pressure (a cooler's
+/// outlet at the next stage's suction pressure) reuses its logarithm.
 #[derive(Clone, Copy, Debug)]
 struct Memo<T> {
     ln_p: T,
+    /// Whether `ln_p` is `T::ln(p)` itself (not ln p1 + ln r), so another
+    /// state at this pressure may take it unchanged.
+    ln_exact: bool,
     z: T,
     dz_dt: T,
     h: T,
@@ -810,6 +824,7 @@ impl<T: Real> Memo<T> {
     fn bad(flag: TableFlag) -> Self {
         Memo {
             ln_p: T::ZERO,
+            ln_exact: false,
             z: T::ONE,
             dz_dt: T::ZERO,
             h: T::ZERO,
@@ -1007,13 +1022,16 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// not.
     #[inline]
     fn coordinates(&self, ln_p: T, t: T) -> Result<(T, T), TableFlag> {
-        if !(T::is_finite(ln_p) && T::is_finite(t)) {
-            return Err(TableFlag::NotFinite);
-        }
         let x = ln_p - self.ln_p_min;
         let y = t - self.t_min;
+        // Inside the (finite) envelope implies finite inputs: the
+        // finiteness test only tells the two flags apart.
         if !(x >= T::ZERO && x <= self.span_x && y >= T::ZERO && y <= self.span_t) {
-            return Err(TableFlag::OutsideEnvelope);
+            return Err(if T::is_finite(ln_p) && T::is_finite(t) {
+                TableFlag::OutsideEnvelope
+            } else {
+                TableFlag::NotFinite
+            });
         }
         Ok((x, y))
     }
@@ -1354,16 +1372,22 @@ impl<'a, T: Real> TableGas<'a, T> {
     }
 
     /// The seam's end state at (p, t) (Z, ∂Z/∂T, h, cp, s), remembered:
-    /// the last [`MEMO_SLOTS`] are kept (keyed by the exact p and t), so a
-    /// state that a stage and its cooler share (a train evaluates its stages,
-    /// then its coolers), and the first suction of the train's totals, is
-    /// interpolated once per update. `ln_p` is ln p if the caller has it.
-    /// A fresh evaluation leaves its cut in `cut`. With `LOOKUP` false the
-    /// state is only remembered, not looked up (a compression's states: a
-    /// train evaluates its stages before its coolers and totals, so they are
-    /// new).
+    /// the last [`MEMO_SLOTS`] states kept (keyed by the exact p and t), so
+    /// a state that a stage and its cooler share (a train evaluates its
+    /// stages, then its coolers, then its totals), and the first suction of
+    /// the train's totals, is interpolated once per update. `ln_p` is
+    /// ln p1 + ln r if the caller has it (a compression's discharge);
+    /// otherwise ln p is `T::ln(p)`, taken from a remembered state at the
+    /// same pressure when one has it. A fresh evaluation leaves its cut in
+    /// `cut`. With `LOOKUP` false the state is not looked up (a
+    /// compression's states: a train evaluates its stages first, so they are
+    /// new); with `KEEP` false a fresh state is not remembered (a cooler's
+    /// outlet: nothing later in a train update asks for it again, and
+    /// keeping it would push out a stage's state the totals use). With
+    /// `EXACT` a remembered state counts only if it was evaluated at
+    /// `T::ln(p)` (the isothermal work: bit for bit the state functions').
     #[inline(always)]
-    fn end_state<const LOOKUP: bool>(
+    fn end_state<const LOOKUP: bool, const KEEP: bool, const EXACT: bool>(
         &self,
         p: T,
         t: T,
@@ -1373,25 +1397,31 @@ impl<'a, T: Real> TableGas<'a, T> {
         if !(p > T::ZERO) {
             return Memo::bad(TableFlag::NotFinite);
         }
-        for (k, kp) in self.memo_p.iter().enumerate() {
-            if !LOOKUP {
-                break;
-            }
-            if kp.get() == p {
-                if let (Some(kt), Some(memo)) = (self.memo_t.get(k), self.memo.get(k)) {
-                    if kt.get() == t {
-                        return memo.get();
+        let mut known = None;
+        if LOOKUP {
+            for (k, kp) in self.memo_p.iter().enumerate() {
+                if kp.get() == p {
+                    if let (Some(kt), Some(memo)) = (self.memo_t.get(k), self.memo.get(k)) {
+                        let m = memo.get();
+                        if kt.get() == t && (m.ln_exact || !EXACT) {
+                            return m;
+                        }
+                        if m.ln_exact {
+                            known = Some(m.ln_p);
+                        }
                     }
                 }
             }
         }
-        let ln_p = match ln_p {
-            Some(l) => l,
-            None => T::ln(p),
+        let (ln_p, ln_exact) = match (ln_p, known) {
+            (Some(l), _) => (l, false),
+            (None, Some(l)) => (l, true),
+            (None, None) => (T::ln(p), true),
         };
         let (pt, quality, flag) = self.eval_on::<SEAM_ENDS, SEAM_ENDS>(ln_p, t, cut);
         let m = Memo {
             ln_p,
+            ln_exact,
             z: pt.z,
             dz_dt: pt.dz_dt,
             h: pt.h,
@@ -1400,15 +1430,19 @@ impl<'a, T: Real> TableGas<'a, T> {
             quality,
             flag,
         };
-        let k = usize::from(self.memo_next.get()) % MEMO_SLOTS;
-        if let (Some(kp), Some(kt), Some(memo)) =
-            (self.memo_p.get(k), self.memo_t.get(k), self.memo.get(k))
-        {
-            kp.set(p);
-            kt.set(t);
-            memo.set(m);
+        if KEEP {
+            // The next slot, in 0..MEMO_SLOTS (a wrap, not a division).
+            let k = usize::from(self.memo_next.get());
+            if let (Some(kp), Some(kt), Some(memo)) =
+                (self.memo_p.get(k), self.memo_t.get(k), self.memo.get(k))
+            {
+                kp.set(p);
+                kt.set(t);
+                memo.set(m);
+            }
+            let next = if k + 1 < MEMO_SLOTS { k + 1 } else { 0 };
+            self.memo_next.set(next as u8);
         }
-        self.memo_next.set(((k + 1) % MEMO_SLOTS) as u8);
         m
     }
 
@@ -1561,18 +1595,25 @@ impl<'a, T: Real> TableGas<'a, T> {
         if !(p > T::ZERO) {
             return (T::ONE, T::ZERO, Quality::Bad);
         }
-        let m = self.end_state::<true>(p, t, None, &mut None);
+        let m = self.end_state::<true, true, false>(p, t, None, &mut None);
         (m.z, m.cp, m.quality)
     }
 
     /// Enthalpy at (p, t) with its quality and flag (a remembered end
-    /// state: see `end_state`).
+    /// state if there is one, not remembered otherwise: see `end_state`).
     pub(crate) fn enthalpy(&self, p: T, t: T) -> (T, Quality, TableFlag) {
         if !(p > T::ZERO) {
             return (T::ZERO, Quality::Bad, TableFlag::NotFinite);
         }
-        let m = self.end_state::<true>(p, t, None, &mut None);
+        let m = self.end_state::<true, false, false>(p, t, None, &mut None);
         (m.h, m.quality, m.flag)
+    }
+
+    /// Enthalpy and entropy at (p, t) with the quality and flag (a
+    /// remembered end state evaluated at ln p itself: see `end_state`).
+    pub(crate) fn enthalpy_entropy(&self, p: T, t: T) -> (T, T, Quality, TableFlag) {
+        let m = self.end_state::<true, true, true>(p, t, None, &mut None);
+        (m.h, m.s, m.quality, m.flag)
     }
 
     /// One end state of a compression at (ln p, t) asking `END` of the
@@ -1587,7 +1628,7 @@ impl<'a, T: Real> TableGas<'a, T> {
         cut: &mut Option<Cut<'a, T>>,
     ) -> (Patch<T>, Quality, TableFlag, T) {
         if END == SEAM_ENDS {
-            let m = self.end_state::<false>(p, t, ln_p, cut);
+            let m = self.end_state::<false, true, false>(p, t, ln_p, cut);
             let pt = Patch {
                 z: m.z,
                 dz_dt: m.dz_dt,

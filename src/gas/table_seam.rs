@@ -132,6 +132,18 @@ impl<'a, T: Real> GasModel<T> for TableGas<'a, T> {
         (h_in - h_out, v)
     }
 
+    /// The Gibbs energy rise Δh − T·Δs at `t`, as the default but from the
+    /// remembered end states (a train's totals ask for the two states its
+    /// mean path properties have just evaluated).
+    fn isothermal_work(&self, p1: T, p2: T, _ln_ratio: T, t: T, _z: Option<T>) -> (T, Validity) {
+        let (h1, s1, q1, f1) = self.enthalpy_entropy(p1, t);
+        let (h2, s2, q2, f2) = self.enthalpy_entropy(p2, t);
+        (
+            (h2 - h1) - t * (s2 - s1),
+            self.validity(q1, f1, p1).worst(self.validity(q2, f2, p2)),
+        )
+    }
+
     /// The stage's states from the table in three evaluations (suction,
     /// discharge, one entropy-match step from the discharge state; see
     /// [`TableGas::stage`]).

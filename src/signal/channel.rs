@@ -184,43 +184,13 @@ impl<T: Real> ChannelConfig<T> {
     /// Converts an engineering value in `unit` to SI.
     #[inline]
     pub fn to_si(&self, engineering: T) -> T {
-        match self.unit {
-            Unit::PressureGauge { atmosphere } => engineering + atmosphere.pa(),
-            Unit::Celsius => engineering + T::of(ZERO_CELSIUS_K),
-            Unit::PressureAbs | Unit::Kelvin | Unit::DifferentialPressure | Unit::Other => {
-                engineering
-            }
-        }
+        Scaling::new(self).si_of(engineering)
     }
 
     /// Scales a raw sample to SI and classifies the signal level. The value
     /// is meaningful unless the fault's quality is bad.
     pub fn scale(&self, raw: T) -> (T, FaultCode) {
-        if !T::is_finite(raw) {
-            return (T::ZERO, FaultCode::NotFinite);
-        }
-        let (fraction, fault) = match self.signal {
-            SignalKind::Current4To20 => (ne43::fraction(raw), ne43::classify(raw)),
-            SignalKind::Voltage0To10 => span_fraction(raw / T::of(10.0)),
-            SignalKind::Counts { zero, full } => span_fraction((raw - zero) / (full - zero)),
-            SignalKind::Engineering => {
-                let v = self.to_si(raw);
-                return if T::is_finite(v) {
-                    (v, FaultCode::None)
-                } else {
-                    (T::ZERO, FaultCode::NotFinite)
-                };
-            }
-        };
-        let eng = self.range_low + fraction * (self.range_high - self.range_low);
-        let v = self.to_si(eng);
-        if T::is_finite(v) {
-            (v, fault)
-        } else if fault != FaultCode::None {
-            (T::ZERO, fault)
-        } else {
-            (T::ZERO, FaultCode::NotFinite)
-        }
+        Scaling::new(self).scale(raw)
     }
 
     /// The instrument allowance (half-width) at SI value `si`.
@@ -229,6 +199,114 @@ impl<T: Real> ChannelConfig<T> {
             InstrumentClass::Rtd(class) => class.tolerance(si - T::of(ZERO_CELSIUS_K)),
             InstrumentClass::FractionOfSpan(f) => f * (self.range_high - self.range_low),
             InstrumentClass::Absolute(a) => a,
+        }
+    }
+}
+
+/// The scaling of a configuration with its per-sample constants worked out
+/// once (span, counts span, SI offset): the same operations on the same
+/// values as the configuration's formulas, so the same results.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(crate) struct Scaling<T> {
+    signal: SignalKind<T>,
+    range_low: T,
+    /// `range_high − range_low`.
+    span: T,
+    /// `full − zero` of a counts signal (0 otherwise).
+    counts_span: T,
+    /// What [`ChannelConfig::to_si`] adds (0 if nothing).
+    offset: T,
+    /// Which additions the scaling makes.
+    adds: Adds,
+}
+
+/// The additions after fraction × span: `range_low`, then the SI offset.
+/// `range_low` is left out where adding it changes no bit: a zero
+/// `range_low` under a 4–20 mA signal with a span of at least 1 (then
+/// fraction × span is never −0: I − 4 is +0 at 4 mA and at least a rounding
+/// step of 4 away from it otherwise, so the product does not underflow;
+/// 0 + it is it, for either zero). One case per combination, so that
+/// neither addition is computed and then discarded (on a Cortex-M0 each is a
+/// soft-float call).
+#[derive(Clone, Copy, Debug, PartialEq)]
+enum Adds {
+    None,
+    Low,
+    Offset,
+    LowOffset,
+}
+
+impl<T: Real> Scaling<T> {
+    #[inline]
+    pub(crate) fn new(cfg: &ChannelConfig<T>) -> Self {
+        let offset = match cfg.unit {
+            Unit::PressureGauge { atmosphere } => Some(atmosphere.pa()),
+            Unit::Celsius => Some(T::of(ZERO_CELSIUS_K)),
+            Unit::PressureAbs | Unit::Kelvin | Unit::DifferentialPressure | Unit::Other => None,
+        };
+        let span = cfg.range_high - cfg.range_low;
+        let low = !(cfg.range_low == T::ZERO
+            && span >= T::ONE
+            && matches!(cfg.signal, SignalKind::Current4To20));
+        Scaling {
+            signal: cfg.signal,
+            range_low: cfg.range_low,
+            span,
+            counts_span: match cfg.signal {
+                SignalKind::Counts { zero, full } => full - zero,
+                _ => T::ZERO,
+            },
+            offset: offset.unwrap_or(T::ZERO),
+            adds: match (low, offset.is_some()) {
+                (false, false) => Adds::None,
+                (true, false) => Adds::Low,
+                (false, true) => Adds::Offset,
+                (true, true) => Adds::LowOffset,
+            },
+        }
+    }
+
+    #[inline]
+    pub(crate) fn si_of(&self, engineering: T) -> T {
+        match self.adds {
+            Adds::Offset | Adds::LowOffset => engineering + self.offset,
+            Adds::None | Adds::Low => engineering,
+        }
+    }
+
+    /// [`ChannelConfig::scale`].
+    #[inline]
+    pub(crate) fn scale(&self, raw: T) -> (T, FaultCode) {
+        let (fraction, fault) = match self.signal {
+            // A current in the measuring band is finite: the band test
+            // comes first, the finiteness test only outside it.
+            SignalKind::Current4To20 => (ne43::fraction(raw), ne43::classify(raw)),
+            _ if !T::is_finite(raw) => return (T::ZERO, FaultCode::NotFinite),
+            SignalKind::Voltage0To10 => span_fraction(raw / T::of(10.0)),
+            SignalKind::Counts { zero, .. } => span_fraction((raw - zero) / self.counts_span),
+            SignalKind::Engineering => {
+                let v = self.si_of(raw);
+                return if T::is_finite(v) {
+                    (v, FaultCode::None)
+                } else {
+                    (T::ZERO, FaultCode::NotFinite)
+                };
+            }
+        };
+        let p = fraction * self.span;
+        let v = match self.adds {
+            Adds::None => p,
+            Adds::Low => self.range_low + p,
+            Adds::Offset => p + self.offset,
+            Adds::LowOffset => (self.range_low + p) + self.offset,
+        };
+        if T::is_finite(v) {
+            (v, fault)
+        } else if fault != FaultCode::None {
+            // Also a non-finite current (its fault says so).
+            (T::ZERO, fault)
+        } else {
+            (T::ZERO, FaultCode::NotFinite)
         }
     }
 }

@@ -10,8 +10,8 @@ use crate::quality::Quality;
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Event {
-    /// Time of the sample that caused it, ms (caller's counter).
-    pub time_ms: u64,
+    /// Time of the sample that caused it, ms (the caller's 32-bit tick).
+    pub time_ms: u32,
     /// Channel id.
     pub channel: u8,
     /// Quality before.

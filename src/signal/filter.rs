@@ -9,14 +9,17 @@
 //! module note in [`super`] on the surge path.
 
 use crate::real::Real;
-use crate::window::Window;
 
 /// First-order low-pass with time constant `tau_s`, driven by sample
-/// timestamps.
+/// timestamps ([`LowPass::update`]) or by the time elapsed between samples
+/// ([`LowPass::update_after`]).
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct LowPass<T> {
-    state: Option<(T, u64)>,
+    /// The output, once a sample was seen.
+    y: Option<T>,
+    /// The stamp of the previous [`LowPass::update`].
+    t_last: u32,
 }
 
 impl<T: Real> Default for LowPass<T> {
@@ -25,42 +28,67 @@ impl<T: Real> Default for LowPass<T> {
     }
 }
 
+/// The low-pass gain a = Δt/(τ + Δt) for `dt_ms` elapsed and time constant
+/// `tau_s`, or `None` when τ + Δt is not positive (the output then stays).
+#[inline]
+pub fn low_pass_gain<T: Real>(dt_ms: u32, tau_s: T) -> Option<T> {
+    // An exact u32 -> f64 lets the f32 build convert in one instruction.
+    let dt = T::of(f64::from(dt_ms)) * T::of(1.0e-3);
+    let denom = tau_s + dt;
+    if denom > T::ZERO {
+        Some(dt / denom)
+    } else {
+        None
+    }
+}
+
 impl<T: Real> LowPass<T> {
     /// Uninitialised: the first sample passes through.
     pub const fn new() -> Self {
-        LowPass { state: None }
+        LowPass { y: None, t_last: 0 }
     }
 
-    /// Filters sample `x` taken at `t_ms`. Assumes `x` finite and
+    /// Filters sample `x` taken at `t_ms` (a 32-bit tick; the interval is
+    /// the wrapping difference from the previous stamp, and a stamp behind
+    /// the previous one counts as no time). Assumes `x` finite and
     /// `tau_s >= 0` (validated configuration); a time that does not advance
     /// leaves the output unchanged.
-    pub fn update(&mut self, x: T, t_ms: u64, tau_s: T) -> T {
-        let y = match self.state {
-            None => x,
-            Some((y, t_last)) => {
-                let ms = u32::try_from(t_ms.saturating_sub(t_last)).unwrap_or(u32::MAX);
-                let dt = T::of(f64::from(ms)) * T::of(1.0e-3);
-                let denom = tau_s + dt;
-                if denom > T::ZERO {
-                    y + dt / denom * (x - y)
-                } else {
-                    y
-                }
-            }
+    pub fn update(&mut self, x: T, t_ms: u32, tau_s: T) -> T {
+        let d = t_ms.wrapping_sub(self.t_last);
+        let dt_ms = if d > i32::MAX as u32 { 0 } else { d };
+        self.t_last = t_ms;
+        self.update_with(x, low_pass_gain(dt_ms, tau_s))
+    }
+
+    /// Filters sample `x` taken `dt_ms` after the previous one (same
+    /// assumptions as [`LowPass::update`]).
+    pub fn update_after(&mut self, x: T, dt_ms: u32, tau_s: T) -> T {
+        self.update_with(x, low_pass_gain(dt_ms, tau_s))
+    }
+
+    /// Filters sample `x` with gain `gain` ([`low_pass_gain`] of the time
+    /// since the previous sample): y += a·(x − y), or y kept for `None`; the
+    /// first sample, and a non-finite result, give `x`.
+    #[inline]
+    pub fn update_with(&mut self, x: T, gain: Option<T>) -> T {
+        let y = match (self.y, gain) {
+            (None, _) => x,
+            (Some(y), Some(a)) => y + a * (x - y),
+            (Some(y), None) => y,
         };
         let y = if T::is_finite(y) { y } else { x };
-        self.state = Some((y, t_ms));
+        self.y = Some(y);
         y
     }
 
     /// Current output, if any sample was seen.
     pub fn value(&self) -> Option<T> {
-        self.state.map(|(y, _)| y)
+        self.y
     }
 
     /// Forgets the state.
     pub fn reset(&mut self) {
-        self.state = None;
+        self.y = None;
     }
 }
 
@@ -71,11 +99,17 @@ impl<T: Real> LowPass<T> {
 /// over the evicted one in the sorted copy and moves it to its place (at
 /// most `2 M` compares and moves) instead of sorting a copy of the window
 /// (up to `M·M/2`); the median is the same value.
-#[derive(Clone, Debug)]
+#[derive(Clone, Copy, Debug)]
 pub struct Median<T, const M: usize> {
-    window: Window<T, M>,
-    /// The first `window.len()` entries: the window's samples, ascending.
+    /// The samples in arrival order (a ring; `next` is the oldest once
+    /// full).
+    ring: [T; M],
+    /// The first `len` entries: the samples held, ascending.
     sorted: [T; M],
+    /// The ring slot the next sample goes to, `< M`.
+    next: usize,
+    /// Samples held, `<= M`.
+    len: usize,
 }
 
 impl<T: Real, const M: usize> Default for Median<T, M> {
@@ -94,40 +128,78 @@ impl<T: Real, const M: usize> Median<T, M> {
             )
         };
         Median {
-            window: Window::filled_with(T::ZERO),
+            ring: [T::ZERO; M],
             sorted: [T::ZERO; M],
+            next: 0,
+            len: 0,
         }
     }
 
     /// Adds finite sample `x` and returns the median of the samples held
     /// (the lower middle while fewer than `M`, even count).
+    #[inline]
     pub fn update(&mut self, x: T) -> T {
-        let held = self.window.len();
-        let n = match self.window.push(x) {
-            Some(evicted) => {
-                let used = self.sorted.get_mut(..held).unwrap_or(&mut []);
-                let at = used
-                    .iter()
-                    .position(|&e| e == evicted)
-                    .unwrap_or(held.saturating_sub(1));
-                place_sorted(used, at, x);
-                held
-            }
-            None => {
-                let used = self.sorted.get_mut(..=held).unwrap_or(&mut []);
-                place_sorted(used, held, x);
-                held + 1
-            }
+        let next = self.next.min(M - 1);
+        self.next = if next + 1 >= M { 0 } else { next + 1 };
+        let evicted = match self.ring.get_mut(next) {
+            Some(slot) => core::mem::replace(slot, x),
+            None => x,
         };
-        self.sorted
-            .get(n.saturating_sub(1) / 2)
-            .copied()
-            .unwrap_or(x)
+        if self.len >= M {
+            // Full: the evicted sample's place in the sorted copy (it is
+            // there; the last place is never reached otherwise).
+            let mut at = M - 1;
+            for (i, &e) in self.sorted.iter().enumerate() {
+                if e == evicted {
+                    at = i;
+                    break;
+                }
+            }
+            place_in_full(&mut self.sorted, at, x);
+            self.sorted.get(M / 2).copied().unwrap_or(x)
+        } else {
+            let held = self.len;
+            self.len = held + 1;
+            let used = self.sorted.get_mut(..=held).unwrap_or(&mut []);
+            place_sorted(used, held, x);
+            used.get(held / 2).copied().unwrap_or(x)
+        }
     }
 
     /// Forgets the window.
     pub fn reset(&mut self) {
-        self.window.clear();
+        self.next = 0;
+        self.len = 0;
+    }
+}
+
+/// [`place_sorted`] on a whole array (every index provably in bounds, so
+/// no checks are left in the loops).
+#[inline]
+fn place_in_full<T: PartialOrd + Copy, const M: usize>(s: &mut [T; M], at: usize, v: T) {
+    let mut j = at.min(M - 1);
+    while j + 1 < M {
+        let above = match s.get(j + 1) {
+            Some(&a) if a < v => a,
+            _ => break,
+        };
+        if let Some(e) = s.get_mut(j) {
+            *e = above;
+        }
+        j += 1;
+    }
+    while j > 0 {
+        let below = match s.get(j - 1) {
+            Some(&b) if b > v => b,
+            _ => break,
+        };
+        if let Some(e) = s.get_mut(j) {
+            *e = below;
+        }
+        j -= 1;
+    }
+    if let Some(e) = s.get_mut(j) {
+        *e = v;
     }
 }
 

@@ -22,10 +22,11 @@
 //! diagnostics here complement, never replace, the instrument maker's
 //! diagnostics, the machine maker's data and licensed practice.
 //!
-//! Time is a millisecond counter passed in by the caller (no clocks in the
-//! kernel); it should advance between samples of one channel. A frozen,
-//! backward or jumping counter is handled by [`clock`]: it ends in bad (frozen)
-//! or in a bounded uncertain resynchronisation, never in a stuck channel.
+//! Time is a free-running 32-bit millisecond tick passed in by the caller
+//! (no clocks in the kernel; it may wrap, see [`clock`]); it should advance
+//! between samples of one channel. A frozen, backward or jumping tick is
+//! handled by [`clock`]: it ends in bad (frozen) or in a bounded uncertain
+//! resynchronisation, never in a stuck channel.
 
 pub mod channel;
 pub use crate::clock;
@@ -59,6 +60,7 @@ pub struct ChannelStatus {
     pub fault: FaultCode,
     /// `true` while the reported value is a held last good value.
     pub substituted: bool,
-    /// Time of the last good sample, ms (0 if none yet).
-    pub last_good_ms: u64,
+    /// Time of the last good sample, ms (the caller's 32-bit tick; 0 if
+    /// none yet).
+    pub last_good_ms: u32,
 }

@@ -26,8 +26,15 @@ pub const FAILURE_HIGH_MA: f64 = 21.0;
 
 /// Classifies a loop current in mA. NaN or infinite gives
 /// [`FaultCode::NotFinite`].
+///
+/// The measuring band is tested first (two comparisons for a healthy loop,
+/// and a current inside it is finite), then finiteness, then the failure and
+/// saturation bands.
+#[inline]
 pub fn classify<T: Real>(ma: T) -> FaultCode {
-    if !T::is_finite(ma) {
+    if ma >= T::of(VALID_LOW_MA) && ma <= T::of(VALID_HIGH_MA) {
+        FaultCode::None
+    } else if !T::is_finite(ma) {
         FaultCode::NotFinite
     } else if ma <= T::of(FAILURE_LOW_MA) {
         FaultCode::Ne43FailureLow
@@ -35,10 +42,8 @@ pub fn classify<T: Real>(ma: T) -> FaultCode {
         FaultCode::Ne43FailureHigh
     } else if ma < T::of(VALID_LOW_MA) {
         FaultCode::Ne43SaturatedLow
-    } else if ma > T::of(VALID_HIGH_MA) {
-        FaultCode::Ne43SaturatedHigh
     } else {
-        FaultCode::None
+        FaultCode::Ne43SaturatedHigh
     }
 }
 

@@ -6,11 +6,11 @@
 //! by the held last good value. Fixed memory: a `W`-sample frozen window
 //! and an `M`-sample median.
 
-use super::channel::ChannelConfig;
+use super::channel::{ChannelConfig, Scaling};
 use super::clock::{SampleClock, Tick};
 use super::events::{Event, EventLog};
-use super::filter::{LowPass, Median};
-use super::plausibility::Plausibility;
+use super::filter::{low_pass_gain, LowPass, Median};
+use super::plausibility::{rate_allowance, Plausibility};
 use super::substitution::Substitution;
 use super::{ChannelStatus, FaultCode};
 use crate::error::ConfigError;
@@ -73,16 +73,25 @@ impl<T: Real> ChannelOutput<T> {
 }
 
 /// A configured channel with its state.
-#[derive(Clone, Debug)]
+#[derive(Clone, Copy, Debug)]
 pub struct Channel<T, const W: usize, const M: usize> {
     config: ChannelConfig<T>,
+    scaling: Scaling<T>,
     plausibility: Plausibility<T, W>,
     median: Median<T, M>,
     low_pass: LowPass<T>,
     substitution: Substitution<T>,
     clock: SampleClock,
-    filter_time_ms: u64,
+    /// The smallest gap limit, ms: `max(hold_ms, 1)`.
+    gap_floor_ms: u32,
+    /// Sanitised time since the low-pass last ran, ms (saturating).
+    since_filtered_ms: u32,
     resync_left: u32,
+    /// The low-pass gain of the latest interval (the usual one): interval,
+    /// gain.
+    gain: (u32, Option<T>),
+    /// The spike allowance of the latest interval: interval, allowance.
+    allowance: (u32, T),
     last: ChannelOutput<T>,
 }
 
@@ -103,13 +112,17 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         config.validate()?;
         Ok(Channel {
             config,
+            scaling: Scaling::new(&config),
             plausibility: Plausibility::new(),
             median: Median::new(),
             low_pass: LowPass::new(),
             substitution: Substitution::new(),
             clock: SampleClock::new(),
-            filter_time_ms: 0,
+            gap_floor_ms: config.hold_ms.max(1),
+            since_filtered_ms: 0,
             resync_left: 0,
+            gain: (0, low_pass_gain(0, config.filter_time_constant_s)),
+            allowance: (0, rate_allowance(config.max_rate, 0)),
             last: ChannelOutput::bad(config.id),
         })
     }
@@ -122,7 +135,7 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         self.low_pass.reset();
         self.substitution = Substitution::new();
         self.clock.reset();
-        self.filter_time_ms = 0;
+        self.since_filtered_ms = 0;
         self.resync_left = 0;
         self.last = ChannelOutput::bad(self.config.id);
     }
@@ -137,8 +150,9 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         &self.last
     }
 
-    /// Processes raw sample `raw` taken at `t_ms`. Any `raw` is accepted
-    /// (NaN, infinities, anything): the output is always finite.
+    /// Processes raw sample `raw` taken at `t_ms` (a free-running 32-bit
+    /// millisecond tick that may wrap; see [`super::clock`]). Any `raw` is
+    /// accepted (NaN, infinities, anything): the output is always finite.
     ///
     /// Clock faults (see [`super::clock`]): a stamp that does not advance
     /// makes the sample bad ([`FaultCode::TimeNotAdvancing`]) and one
@@ -148,14 +162,13 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
     /// `M` samples at most uncertain ([`FaultCode::ClockStep`]); a jump ahead
     /// by more than the gap limit (`hold_ms`, or 8 sample periods if longer)
     /// restarts the filters from the new sample.
-    pub fn update(&mut self, raw: T, t_ms: u64) -> ChannelOutput<T> {
-        // Gap limit max(hold_ms, 8 periods, 1 ms), one term at a time: the
-        // usual interval is below hold_ms and skips the 64-bit product.
-        let hold_ms = u64::from(self.config.hold_ms);
+    pub fn update(&mut self, raw: T, t_ms: u32) -> ChannelOutput<T> {
+        // Gap limit max(hold_ms, 8 periods, 1 ms).
+        let gap_floor_ms = self.gap_floor_ms;
         let (tick, dt_ms) = self.clock.tick_gap_if(t_ms, |dt, period| {
-            dt > hold_ms && dt > period.saturating_mul(8) && dt > 1
+            dt > gap_floor_ms && dt > period.saturating_mul(8)
         });
-        self.filter_time_ms = self.filter_time_ms.saturating_add(dt_ms);
+        self.since_filtered_ms = self.since_filtered_ms.saturating_add(dt_ms);
         if matches!(tick, Tick::Gap | Tick::SteppedBack) {
             self.median.reset();
             self.low_pass.reset();
@@ -164,12 +177,19 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         if tick == Tick::SteppedBack {
             self.resync_left = u32::try_from(M).unwrap_or(u32::MAX).max(1);
         }
-        let (v, signal_fault) = self.config.scale(raw);
+        let (v, signal_fault) = self.scaling.scale(raw);
         let mut fault = if tick == Tick::Stalled {
             FaultCode::TimeNotAdvancing
         } else {
+            // `v` is finite unless the signal fault is bad (`scale`).
+            let (max_rate, allowance) = (self.config.max_rate, &mut self.allowance);
             self.plausibility
-                .check(&self.config, v, dt_ms, signal_fault)
+                .check_scaled(&self.config, v, dt_ms, signal_fault, |ms| {
+                    if allowance.0 != ms {
+                        *allowance = (ms, rate_allowance(max_rate, ms));
+                    }
+                    allowance.1
+                })
         };
         if tick != Tick::Stalled && self.resync_left > 0 {
             self.resync_left -= 1;
@@ -182,9 +202,12 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             (T::ZERO, T::ZERO)
         } else {
             let m = self.median.update(v);
-            let f =
-                self.low_pass
-                    .update(m, self.filter_time_ms, self.config.filter_time_constant_s);
+            let ms = self.since_filtered_ms;
+            self.since_filtered_ms = 0;
+            if self.gain.0 != ms {
+                self.gain = (ms, low_pass_gain(ms, self.config.filter_time_constant_s));
+            }
+            let f = self.low_pass.update_with(m, self.gain.1);
             (v, f)
         };
         let s = self
@@ -215,7 +238,7 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
     pub fn update_logged<const E: usize>(
         &mut self,
         raw: T,
-        t_ms: u64,
+        t_ms: u32,
         log: &mut EventLog<E>,
     ) -> ChannelOutput<T> {
         let before = self.last.status.quality;

@@ -12,11 +12,11 @@ use crate::real::Real;
 use crate::window::Window;
 
 /// Plausibility state of one channel with a frozen window of `W` samples.
-#[derive(Clone, Debug)]
+#[derive(Clone, Copy, Debug)]
 pub struct Plausibility<T, const W: usize> {
     window: Window<T, W>,
     last_accepted: Option<T>,
-    since_accepted_ms: u64,
+    since_accepted_ms: u32,
 }
 
 impl<T: Real, const W: usize> Default for Plausibility<T, W> {
@@ -46,32 +46,55 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         &mut self,
         cfg: &ChannelConfig<T>,
         v: T,
-        dt_ms: u64,
+        dt_ms: u32,
         signal_fault: FaultCode,
+    ) -> FaultCode {
+        if signal_fault.quality() != crate::Quality::Bad && !T::is_finite(v) {
+            self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
+            return FaultCode::NotFinite;
+        }
+        self.check_scaled(cfg, v, dt_ms, signal_fault, |ms| {
+            rate_allowance(cfg.max_rate, ms)
+        })
+    }
+
+    /// As [`Plausibility::check`] for a sample that is finite unless its
+    /// signal-level fault is bad (what [`ChannelConfig::scale`] returns),
+    /// with the allowed change over `ms` milliseconds given by `allowance`
+    /// (the channel caches it: [`rate_allowance`] of the usual interval).
+    #[inline]
+    pub(crate) fn check_scaled(
+        &mut self,
+        cfg: &ChannelConfig<T>,
+        v: T,
+        dt_ms: u32,
+        signal_fault: FaultCode,
+        allowance: impl FnOnce(u32) -> T,
     ) -> FaultCode {
         self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
         if signal_fault.quality() == crate::Quality::Bad {
             return signal_fault;
         }
-        if !T::is_finite(v) {
-            return FaultCode::NotFinite;
-        }
         if v < cfg.plausible_low || v > cfg.plausible_high {
             return FaultCode::OutOfRange;
         }
+        // A step from the previous accepted value wider than the noise
+        // floor already makes the window's band wider (max − min is at
+        // least the step, and rounding keeps the order), so the window
+        // scan is needed only after a step within the floor.
+        let mut calm = true;
         if let Some(last) = self.last_accepted {
-            // Through u32 (saturating at 49 days): an exact u32 -> f64 lets
-            // the f32 build convert in one instruction.
-            let ms = u32::try_from(self.since_accepted_ms).unwrap_or(u32::MAX);
-            let dt_s = T::of(f64::from(ms)) * T::of(1.0e-3);
-            if T::abs(v - last) > cfg.max_rate * dt_s {
+            let step = T::abs(v - last);
+            if step > allowance(self.since_accepted_ms) {
                 return FaultCode::Spike;
             }
+            calm = !(step > cfg.noise_floor);
         }
         self.last_accepted = Some(v);
         self.since_accepted_ms = 0;
         self.window.write(v);
-        if self.window.len() >= W && within_band(self.window.as_slice(), v, cfg.noise_floor) {
+        if calm && self.window.len() >= W && within_band(self.window.as_slice(), v, cfg.noise_floor)
+        {
             return FaultCode::Frozen;
         }
         signal_fault
@@ -83,6 +106,15 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         self.last_accepted = None;
         self.since_accepted_ms = 0;
     }
+}
+
+/// The largest plausible change over `ms` milliseconds at `max_rate` per
+/// second.
+#[inline]
+pub fn rate_allowance<T: Real>(max_rate: T, ms: u32) -> T {
+    // An exact u32 -> f64 lets the f32 build convert in one instruction.
+    let dt_s = T::of(f64::from(ms)) * T::of(1.0e-3);
+    max_rate * dt_s
 }
 
 /// `true` if `v` and every value of `values` lie within a band `floor` wide

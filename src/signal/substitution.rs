@@ -12,8 +12,8 @@ use crate::real::Real;
 #[derive(Clone, Copy, Debug, PartialEq, Default)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Substitution<T> {
-    last_good: Option<(T, T, u64)>,
-    since_good_ms: u64,
+    last_good: Option<(T, T, u32)>,
+    since_good_ms: u32,
 }
 
 /// What a channel reports after substitution.
@@ -39,20 +39,22 @@ impl<T: Real> Substitution<T> {
         }
     }
 
-    /// Applies substitution to a sample of quality `q` stamped `t_ms`,
+    /// Applies substitution to a sample of quality `q` stamped `t_ms` (the
+    /// caller's 32-bit tick, kept as the time of the last good sample),
     /// `elapsed_ms` (sanitised by the channel's clock, so a frozen or
     /// stepped clock still counts) after the previous sample. A good or
     /// uncertain sample passes (a good one is remembered); a bad one is
     /// replaced by the last good values, uncertain, while no more than
     /// `hold_ms` of sanitised time have passed since that good sample, and by
-    /// `0`, bad, after.
+    /// `0`, bad, after. The sanitised time since the good sample saturates at
+    /// 2^32 − 1 ms.
     pub fn apply(
         &mut self,
         raw: T,
         filtered: T,
         q: Quality,
-        t_ms: u64,
-        elapsed_ms: u64,
+        t_ms: u32,
+        elapsed_ms: u32,
         hold_ms: u32,
     ) -> Substituted<T> {
         self.since_good_ms = self.since_good_ms.saturating_add(elapsed_ms);
@@ -75,7 +77,7 @@ impl<T: Real> Substitution<T> {
             },
             // A channel never reports "not applicable"; treat it as a fault.
             Quality::Bad | Quality::NotApplicable => match self.last_good {
-                Some((r, f, _)) if self.since_good_ms <= u64::from(hold_ms) => Substituted {
+                Some((r, f, _)) if self.since_good_ms <= hold_ms => Substituted {
                     raw: r,
                     filtered: f,
                     quality: Quality::Uncertain,
@@ -91,8 +93,8 @@ impl<T: Real> Substitution<T> {
         }
     }
 
-    /// Time of the last good sample, ms.
-    pub fn last_good_ms(&self) -> Option<u64> {
+    /// Time of the last good sample, ms (the caller's 32-bit tick).
+    pub fn last_good_ms(&self) -> Option<u32> {
         self.last_good.map(|(_, _, t)| t)
     }
 }

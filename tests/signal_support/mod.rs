@@ -30,7 +30,7 @@ use polytrope::{Measured, Real};
 pub const W: usize = 8;
 pub const M: usize = 3;
 pub const CH: usize = 9;
-pub const SCAN_MS: u64 = 100;
+pub const SCAN_MS: u32 = 100;
 
 /// Channel indices.
 pub const P1A: usize = 0; // stage 1 suction pressure, 4-20 mA, gauge 0..2 bar g
@@ -108,13 +108,13 @@ pub fn ma_for(i: usize, si: f64) -> f64 {
 }
 
 /// Deterministic dither in [-amp, amp] at scan `i`.
-pub fn dither(i: u64, amp: f64) -> f64 {
-    amp * ((i * 7919 % 13) as f64 - 6.0) / 6.0
+pub fn dither(i: u32, amp: f64) -> f64 {
+    amp * ((u64::from(i) * 7919 % 13) as f64 - 6.0) / 6.0
 }
 
 /// Healthy raw currents at scan `i`, with a small deterministic dither
 /// (real transmitters are never perfectly still).
-pub fn healthy_raw(i: u64) -> [f64; CH] {
+pub fn healthy_raw(i: u32) -> [f64; CH] {
     let d = dither(i, 1.0);
     let mut out = [0.0; CH];
     for (k, o) in out.iter_mut().enumerate() {
@@ -190,7 +190,7 @@ impl<T: Real> FrontEnd<T> {
     }
 
     /// One scan: raw signals (per-channel time `t[i]`), `no_flow` known.
-    pub fn step_at(&mut self, raw: [T; CH], t: [u64; CH], no_flow: bool) -> Step<T> {
+    pub fn step_at(&mut self, raw: [T; CH], t: [u32; CH], no_flow: bool) -> Step<T> {
         let mut out: [ChannelOutput<T>; CH] =
             core::array::from_fn(|i| self.channels[i].update_logged(raw[i], t[i], &mut self.log));
         let k = T::of(1.4);
@@ -253,12 +253,12 @@ impl<T: Real> FrontEnd<T> {
         }
     }
 
-    pub fn step(&mut self, raw: [T; CH], t_ms: u64) -> Step<T> {
+    pub fn step(&mut self, raw: [T; CH], t_ms: u32) -> Step<T> {
         self.step_at(raw, [t_ms; CH], false)
     }
 
     /// Runs `n` healthy scans starting at scan index `from`; returns the last.
-    pub fn warm_up(&mut self, from: u64, n: u64) -> Step<T> {
+    pub fn warm_up(&mut self, from: u32, n: u32) -> Step<T> {
         let mut last = None;
         for i in from..from + n {
             last = Some(self.step(healthy_raw(i).map(T::of), i * SCAN_MS));

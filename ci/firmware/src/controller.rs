@@ -32,7 +32,7 @@ pub const SECTIONS: usize = 4;
 /// 4–20 mA channels: three per stage.
 pub const CHANNELS: usize = 3 * SECTIONS;
 /// Scan period, ms.
-pub const SCAN_MS: u64 = 20;
+pub const SCAN_MS: u32 = 20;
 /// Scans run before measuring: channel windows full, rate filters settled
 /// (4 τ), the steady-state window full.
 pub const WARM_SCANS: usize = 13;
@@ -54,7 +54,7 @@ pub struct Controller<G> {
     train: SectionTrain<G>,
     channels: [TransmitterChannel; CHANNELS],
     monitors: [SectionMonitor; SECTIONS],
-    last_ms: Option<u64>,
+    last_ms: Option<u32>,
 }
 
 /// What one scan hands on (the rest stays readable in the state).
@@ -106,7 +106,10 @@ pub fn section_scan(raw: &[RawStage; demo::STAGES]) -> polytrope::scan::Scan<f32
 
 /// A transmitter over `0..range_high` (SI) of kind `unit` (invented
 /// settings: 0.1 % of span, 100 % of span per second plausible, 100 ms
-/// low-pass, 500 ms hold).
+/// low-pass, 500 ms hold). Out of line: its result is built in one frame
+/// slot, not one per channel of [`Controller::build_in`] (the Cortex-M0
+/// board's 16 KiB of RAM hold the controller and the set-up stack).
+#[inline(never)]
 fn transmitter(
     id: u8,
     unit: Unit<f32>,
@@ -184,7 +187,7 @@ impl<G: GasModel<f32>> Controller<G> {
         let monitor = section_monitor()?;
         let ctl = slot.insert(Controller {
             train: SectionTrain::new(config)?,
-            channels: core::array::from_fn(|_| placeholder.clone()),
+            channels: [placeholder; CHANNELS],
             monitors: core::array::from_fn(|_| monitor.clone()),
             last_ms: None,
         });
@@ -219,7 +222,8 @@ impl<G: GasModel<f32>> Controller<G> {
         raw
     }
 
-    /// One controller scan at `t_ms`: every channel, then protection first:
+    /// One controller scan at `t_ms` (a 32-bit millisecond tick): every
+    /// channel, then protection first:
     /// every surge monitor on the channels' unfiltered values, then the
     /// train on the channels' filtered pressures (written into `scan`,
     /// whose other readings come from the slower inputs). Works in place:
@@ -229,7 +233,7 @@ impl<G: GasModel<f32>> Controller<G> {
     pub fn scan(
         &mut self,
         raw: &[f32; CHANNELS],
-        t_ms: u64,
+        t_ms: u32,
         scan: &mut polytrope::scan::Scan<f32, SECTIONS>,
     ) -> ScanSummary {
         let (surge, dt) = self.read_channels(raw, t_ms, scan);
@@ -248,12 +252,21 @@ impl<G: GasModel<f32>> Controller<G> {
     pub fn read_channels(
         &mut self,
         raw: &[f32; CHANNELS],
-        t_ms: u64,
+        t_ms: u32,
         scan: &mut polytrope::scan::Scan<f32, SECTIONS>,
     ) -> ([SurgeScan<f32>; SECTIONS], f32) {
-        let dt_ms = self.last_ms.map_or(SCAN_MS, |l| t_ms.saturating_sub(l));
+        // A 32-bit millisecond tick: the wrapping difference, a step back
+        // (a negative one) counting as no time.
+        let dt_ms = self.last_ms.map_or(SCAN_MS, |l| {
+            let d = t_ms.wrapping_sub(l);
+            if d > i32::MAX as u32 {
+                0
+            } else {
+                d
+            }
+        });
         self.last_ms = Some(t_ms);
-        let dt = u32::try_from(dt_ms).unwrap_or(u32::MAX) as f32 * 1.0e-3;
+        let dt = dt_ms as f32 * 1.0e-3;
         let none = polytrope::Measured::<f32>::bad();
         let mut surge = [SurgeScan::pressures_only(
             none.map(PressureAbs::from_pa),

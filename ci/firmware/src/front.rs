@@ -102,11 +102,11 @@ pub fn pressure_channel() -> Result<PressureChannel, ConfigError> {
 }
 
 /// Raw sample `k` (mA) of the transmitter, with a little invented noise,
-/// taken every 20 ms.
-pub fn raw_sample(k: u32) -> (f32, u64) {
+/// taken every 20 ms (a 32-bit millisecond tick).
+pub fn raw_sample(k: u32) -> (f32, u32) {
     let noise = [0.0, 0.004, -0.003, 0.006, -0.005, 0.002, -0.001];
     let n = noise.get((k % 7) as usize).copied().unwrap_or(0.0);
-    (8.0 + n, u64::from(k) * 20)
+    (8.0 + n, k.wrapping_mul(20))
 }
 
 /// The register image of the demo train with one surge monitor and one

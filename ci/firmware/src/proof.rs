@@ -84,7 +84,7 @@ fn good<T>(x: T) -> Measured<T> {
 /// constructor accepted its (valid) settings.
 #[inline(never)]
 pub fn exercise(k: u32) -> bool {
-    let t_ms = u64::from(k) * 20;
+    let t_ms = k.wrapping_mul(20);
     let mut ok = true;
 
     // Surge detection and the recycle loop behind it.

@@ -24,7 +24,7 @@ fn main() -> ! {
                     // simulation of `Controller::samples` stays out of this
                     // firmware's flash.
                     let raw = core::hint::black_box([8.0_f32; controller::CHANNELS]);
-                    let t = core::hint::black_box(0_u64);
+                    let t = core::hint::black_box(0_u32);
                     core::hint::black_box(ctl.scan(core::hint::black_box(&raw), t, &mut slow));
                     true
                 }

@@ -41,7 +41,7 @@ fn fail(h: &mut Host, what: &str) -> ! {
 fn full_scan(
     c: &mut Ctl,
     raw: &[f32; controller::CHANNELS],
-    t_ms: u64,
+    t_ms: u32,
     scan: &mut Scan<f32, { controller::SECTIONS }>,
 ) -> ScanSummary {
     c.scan(raw, t_ms, scan)
@@ -53,7 +53,7 @@ fn full_scan(
 fn phase_channels(
     c: &mut Ctl,
     raw: &[f32; controller::CHANNELS],
-    t_ms: u64,
+    t_ms: u32,
     scan: &mut Scan<f32, { controller::SECTIONS }>,
 ) -> ([SurgeScan<f32>; controller::SECTIONS], f32) {
     c.read_channels(raw, t_ms, scan)
@@ -138,13 +138,13 @@ fn run(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u32, ctl: &mut C
     for raw in SCANS.iter().take(controller::WARM_SCANS) {
         let mut slow = controller::section_scan(black_box(raw));
         let samples = ctl.samples(&slow, k);
-        full_scan(ctl, &samples, u64::from(k) * controller::SCAN_MS, &mut slow);
+        full_scan(ctl, &samples, k * controller::SCAN_MS, &mut slow);
         k += 1;
     }
     for raw in SCANS.iter().skip(controller::WARM_SCANS).take(3) {
         let mut slow = black_box(controller::section_scan(black_box(raw)));
         let samples = black_box(ctl.samples(&slow, k));
-        let t = black_box(u64::from(k) * controller::SCAN_MS);
+        let t = black_box(k * controller::SCAN_MS);
         let r = label(h, "full_scan");
         measure(r, || full_scan(ctl, &samples, t, &mut slow));
         k += 1;
@@ -158,7 +158,7 @@ fn run(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u32, ctl: &mut C
     for raw in SCANS.iter().skip(controller::WARM_SCANS - 3).take(3) {
         let mut slow = black_box(controller::section_scan(black_box(raw)));
         let samples = black_box(ctl.samples(&slow, k));
-        let t = black_box(u64::from(k) * controller::SCAN_MS);
+        let t = black_box(k * controller::SCAN_MS);
         let r = label(h, "full_scan_channels");
         let (surge, dt) = measure(r, || phase_channels(ctl, &samples, t, &mut slow));
         let (surge, dt, slow) = black_box((surge, dt, slow));
@@ -177,7 +177,7 @@ fn run(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u32, ctl: &mut C
     let raw = &SCANS[controller::WARM_SCANS + 2];
     let mut slow = black_box(controller::section_scan(black_box(raw)));
     let samples = black_box(ctl.samples(&slow, k));
-    let t = black_box(u64::from(k) * controller::SCAN_MS);
+    let t = black_box(k * controller::SCAN_MS);
     let used = stack_used(|| {
         full_scan(ctl, &samples, t, &mut slow);
     });

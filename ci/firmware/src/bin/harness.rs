@@ -146,7 +146,7 @@ fn update_surge(m: &mut Monitor, s: &polytrope::surge::SurgeScan<f32>) -> f32 {
 }
 
 #[inline(never)]
-fn update_channel(c: &mut PressureChannel, raw: f32, t_ms: u64) -> f32 {
+fn update_channel(c: &mut PressureChannel, raw: f32, t_ms: u32) -> f32 {
     c.update(raw, t_ms).filtered.value
 }
 
