@@ -250,6 +250,29 @@ impl<T: Real> Limits<T> {
     pub fn mass_flow(&self, m: Measured<T>) -> Measured<T> {
         within(m, T::ZERO, self.max_mass_flow)
     }
+
+    /// [`Limits::pressure`] for limits that passed
+    /// [`Limits::first_invalid`] (the train's, checked at construction):
+    /// their bounds are finite, so a value within them is finite and the
+    /// separate finiteness test is left out (the same result).
+    #[inline]
+    pub(crate) fn pressure_valid(&self, m: Measured<T>) -> Measured<T> {
+        within_finite(m, self.min_pressure, self.max_pressure)
+    }
+
+    /// [`Limits::temperature`] for validated limits (as
+    /// [`Limits::pressure_valid`]).
+    #[inline]
+    pub(crate) fn temperature_valid(&self, m: Measured<T>) -> Measured<T> {
+        within_finite(m, self.min_temperature, self.max_temperature)
+    }
+
+    /// [`Limits::mass_flow`] for validated limits (as
+    /// [`Limits::pressure_valid`]).
+    #[inline]
+    pub(crate) fn mass_flow_valid(&self, m: Measured<T>) -> Measured<T> {
+        within_finite(m, T::ZERO, self.max_mass_flow)
+    }
 }
 
 /// `m` unchanged if finite and in [lo, hi], else bad (its quality kept
@@ -267,11 +290,25 @@ fn within<T: Real>(m: Measured<T>, lo: T, hi: T) -> Measured<T> {
     }
 }
 
+/// [`within`] for finite `lo` and `hi`: a value in [lo, hi] is then finite
+/// (NaN fails both comparisons, an infinity one), so the result is the same
+/// without the finiteness test.
+#[inline]
+fn within_finite<T: Real>(m: Measured<T>, lo: T, hi: T) -> Measured<T> {
+    if m.quality == Quality::NotApplicable {
+        Measured::not_applicable()
+    } else if m.value >= lo && m.value <= hi && m.quality != Quality::Bad {
+        m
+    } else {
+        Measured::bad()
+    }
+}
+
 /// A supplied compressibility factor: bad unless finite and within
 /// [`COMPRESSIBILITY_RANGE`].
 #[inline]
 pub fn compressibility<T: Real>(m: Measured<T>) -> Measured<T> {
-    within(
+    within_finite(
         m,
         T::of(COMPRESSIBILITY_RANGE.0),
         T::of(COMPRESSIBILITY_RANGE.1),
@@ -349,6 +386,50 @@ mod tests {
             l.temperature(Measured::not_applicable()).quality,
             Quality::NotApplicable
         );
+    }
+
+    #[test]
+    fn the_validated_fast_path_equals_the_general_check() {
+        // Consistency check (two implementations of the project's own
+        // rule): for validated (finite) limits, the path without the
+        // finiteness test gives the same result for every quality and for
+        // values inside, at, outside and beyond the bounds, NaN and the
+        // infinities included.
+        let l = Limits::<f32>::default();
+        assert_eq!(l.first_invalid(), None);
+        let values = [
+            f32::NAN,
+            f32::INFINITY,
+            f32::NEG_INFINITY,
+            -1.0,
+            0.0,
+            1e-40,
+            50.0,
+            60.0,
+            100.0,
+            300.0,
+            1000.0,
+            1e5,
+            1e9,
+            2e9,
+            f32::MAX,
+        ];
+        for q in [
+            Quality::Good,
+            Quality::Uncertain,
+            Quality::Bad,
+            Quality::NotApplicable,
+        ] {
+            for v in values {
+                let m = Measured::new(v, q);
+                let same = |a: Measured<f32>, b: Measured<f32>| {
+                    a.quality == b.quality && a.value.to_bits() == b.value.to_bits()
+                };
+                assert!(same(l.pressure(m), l.pressure_valid(m)), "{v} {q:?}");
+                assert!(same(l.temperature(m), l.temperature_valid(m)), "{v} {q:?}");
+                assert!(same(l.mass_flow(m), l.mass_flow_valid(m)), "{v} {q:?}");
+            }
+        }
     }
 
     #[test]

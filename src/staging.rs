@@ -8,7 +8,7 @@
 //! p_i = p_suction · r^(i/N). The isothermal work Z·R·T1·ln r is the limit as
 //! N grows; one uncooled isentropic stage is the other extreme.
 
-use crate::compression::{isentropic_head, isentropic_head_from_log, isothermal_head_from_log};
+use crate::compression::{isentropic_head_from_log, isothermal_head_from_log};
 use crate::gas::{Validity, ValidityReason};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
@@ -37,8 +37,30 @@ pub fn equal_ratio_interstage_pressure_from_log<T: Real>(
     stages: u32,
     i: u32,
 ) -> T {
-    let f = T::of(f64::from(i) + 1.0) / T::of(f64::from(stages));
-    p_suction * T::exp(f * ln_overall)
+    equal_ratio_interstage_pressure_from_fraction(
+        p_suction,
+        ln_overall,
+        equal_ratio_fraction(stages, i),
+    )
+}
+
+/// The exponent (i + 1)/`stages` of stage `i`'s (zero-based) equal-ratio
+/// discharge pressure, p_suction · r^((i+1)/stages): a constant of the
+/// train, which computes it once at construction.
+#[inline]
+pub fn equal_ratio_fraction<T: Real>(stages: u32, i: u32) -> T {
+    T::of(f64::from(i) + 1.0) / T::of(f64::from(stages))
+}
+
+/// [`equal_ratio_interstage_pressure_from_log`] with the stage's
+/// [`equal_ratio_fraction`] given (the same value bit for bit).
+#[inline]
+pub fn equal_ratio_interstage_pressure_from_fraction<T: Real>(
+    p_suction: T,
+    ln_overall: T,
+    fraction: T,
+) -> T {
+    p_suction * T::exp(fraction * ln_overall)
 }
 
 /// Interstage pressure of one compressor stage against the equal-ratio
@@ -145,11 +167,30 @@ pub fn ideal_references_from_log<T: Real>(
     stages: u32,
 ) -> (T, T, T) {
     let iso = isothermal_head_from_log(z, gas_constant, t1, ln_overall);
+    let (single, staged) =
+        isentropic_references_from_log(z, gas_constant, t1, ln_overall, k, stages);
+    (iso, single, staged)
+}
+
+/// The two isentropic references of [`ideal_references_from_log`] without
+/// the isothermal one (the train takes that from the gas model): (one
+/// uncooled isentropic stage, `stages` ideal intercooled isentropic stages),
+/// J/kg. Each equal-ratio stage's head is taken from ln r / `stages`
+/// directly (the stage ratio itself is never formed: no exponential and
+/// logarithm of it).
+#[inline]
+pub fn isentropic_references_from_log<T: Real>(
+    z: T,
+    gas_constant: T,
+    t1: T,
+    ln_overall: T,
+    k: T,
+    stages: u32,
+) -> (T, T) {
     let single = isentropic_head_from_log(z, gas_constant, t1, ln_overall, k);
     let s = T::of(stages as f64);
-    let stage_ratio = T::exp(ln_overall / s);
-    let staged = s * isentropic_head(z, gas_constant, t1, stage_ratio, k);
-    (iso, single, staged)
+    let staged = s * isentropic_head_from_log(z, gas_constant, t1, ln_overall / s, k);
+    (single, staged)
 }
 
 /// Quality of the isothermal reference's end states. Isothermal
@@ -211,6 +252,24 @@ mod tests {
             assert!((w[1] / w[0] - 2.0).abs() < 1e-12);
         }
         assert!((ps[3] - 16e5).abs() < 1e-6);
+    }
+
+    #[test]
+    fn staged_reference_is_stages_times_one_equal_ratio_stage() {
+        // Çengel & Boles, ch. 7 (two-stage compression with perfect
+        // intercooling): air, 100 kPa -> 900 kPa in two stages of ratio 3
+        // from 300 K; isentropic work per stage cp·T1·(3^((k-1)/k) - 1)
+        // with cp = k·R/(k-1). The closed form is evaluated here
+        // (consistency check of the ln r / N route against the stage ratio).
+        let (r, k, t1) = (287.0_f64, 1.4_f64, 300.0_f64);
+        let per_stage = k * r / (k - 1.0) * t1 * (3.0_f64.powf((k - 1.0) / k) - 1.0);
+        let (single, staged) = isentropic_references_from_log(1.0, r, t1, 9.0_f64.ln(), k, 2);
+        assert!((staged - 2.0 * per_stage).abs() < 1e-9 * per_stage);
+        let one = k * r / (k - 1.0) * t1 * (9.0_f64.powf((k - 1.0) / k) - 1.0);
+        assert!((single - one).abs() < 1e-9 * one);
+        // The three-value form carries the same two.
+        let (_, s3, st3) = ideal_references(1.0, r, t1, 9.0, k, 2);
+        assert_eq!((s3, st3), (single, staged));
     }
 
     #[test]

@@ -244,29 +244,47 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
         }
         let (t_spread, _) = self.temperature.spread();
         let (r_spread, r_mag) = self.ratio.spread();
-        let (f_spread, f_mag) = self.flow.spread();
         let r_rel = if r_mag > T::ZERO {
             r_spread / r_mag
-        } else {
-            T::ZERO
-        };
-        let f_rel = if f_mag > T::ZERO {
-            f_spread / f_mag
         } else {
             T::ZERO
         };
         let full = (self.ratio.len() == W)
             && (temperature.is_none() || (self.temperature.len() == W))
             && (flow.is_none() || (self.flow.len() == W));
+        // The flow test as a branch of its own: an empty flow window (a
+        // stage without a flow reading) has spread and magnitude 0, so its
+        // relative spread is 0; written as one expression, the compiler
+        // computed the division anyway (a soft-float call on Cortex-M0).
+        let flow_quiet = if self.flow.len() == 0 {
+            T::ZERO <= cfg.max_flow_spread
+        } else {
+            self.flow_within(cfg.max_flow_spread)
+        };
         SteadyState {
             steady: full
                 && t_spread <= cfg.max_temperature_spread
                 && r_rel <= cfg.max_ratio_spread
-                && f_rel <= cfg.max_flow_spread,
+                && flow_quiet,
             samples: u16::try_from(self.ratio.len()).unwrap_or(u16::MAX),
             temperature_spread: t_spread,
             ratio_spread: r_rel,
         }
+    }
+}
+
+impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
+    /// Whether the flow window's relative spread is within `max` (not
+    /// inlined: kept out of the path of stages without a flow reading).
+    #[inline(never)]
+    fn flow_within(&self, max: T) -> bool {
+        let (f_spread, f_mag) = self.flow.spread();
+        let f_rel = if f_mag > T::ZERO {
+            f_spread / f_mag
+        } else {
+            T::ZERO
+        };
+        f_rel <= max
     }
 }
 

@@ -16,8 +16,9 @@ use crate::scan::Scan;
 use crate::stage::compressor::{evaluate_compressor_tabled, StageUses};
 use crate::stage::{evaluate_pump_within, CompressorInputs, CompressorResult, PumpResult};
 use crate::staging::{
-    equal_ratio_interstage_pressure_from_log, ideal_references_from_log,
-    isothermal_reference_quality, InterstagePressure, Sum, TrainTotals,
+    equal_ratio_fraction, equal_ratio_interstage_pressure_from_fraction,
+    isentropic_references_from_log, isothermal_reference_quality, InterstagePressure, Sum,
+    TrainTotals,
 };
 use crate::steady::{SteadyState, SteadyStateConfig, SteadyStateDetector};
 use crate::units::{Kelvin, PressureAbs};
@@ -151,6 +152,9 @@ pub struct Train<T, G, const N: usize, const W: usize> {
     /// reading uses), for the totals.
     configured_z: T,
     compressor_stages: u8,
+    /// Per compressor stage but the last: the exponent (i + 1)/stages of its
+    /// equal-ratio optimum discharge pressure (a constant of the train).
+    interstage_fraction: [T; N],
     /// The compressor stages' dependency tables for the gas model's
     /// property inputs (rebuilt if a replaced model's inputs differ).
     stage_uses: StageUses,
@@ -333,11 +337,18 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
             .z;
         let stage_uses = StageUses::new(config.gas.property_inputs());
+        let interstage_fraction = core::array::from_fn(|i| {
+            equal_ratio_fraction(
+                u32::from(compressor_stages),
+                u32::try_from(i).unwrap_or(u32::MAX),
+            )
+        });
         Ok(Train {
             config,
             limits,
             configured_z,
             compressor_stages,
+            interstage_fraction,
             stage_uses,
             detectors: core::array::from_fn(|_| SteadyStateDetector::new()),
             snapshot: Snapshot {
@@ -517,10 +528,10 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             };
             let limits = &self.limits;
             let gas_out_p = match raw.gas_outlet_pressure {
-                Some(p) => limits.pressure(p.map(PressureAbs::pa)),
+                Some(p) => limits.pressure_valid(p.map(PressureAbs::pa)),
                 None => next.map_or(Measured::bad(), |n| n.p1),
             };
-            let tout = limits.temperature(raw.gas_outlet_temperature.map(Kelvin::kelvin));
+            let tout = limits.temperature_valid(raw.gas_outlet_temperature.map(Kelvin::kelvin));
             // Enthalpy drop on the stage's basis (same model, same supplied
             // Z), so stage power and cooler duty balance; at a nominal
             // temperature where one is missing (the rule marks what used it).
@@ -563,7 +574,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             };
             let temperature = |m: Option<Measured<Kelvin<T>>>| {
                 m.map_or(Measured::bad(), |m| {
-                    limits.temperature(m.map(Kelvin::kelvin))
+                    limits.temperature_valid(m.map(Kelvin::kelvin))
                 })
             };
             let inputs = CoolerInputs {
@@ -576,7 +587,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 gas_mass_flow: s.flow,
                 coolant_mass_flow: raw
                     .coolant_mass_flow
-                    .map_or(Measured::bad(), |m| limits.mass_flow(m)),
+                    .map_or(Measured::bad(), |m| limits.mass_flow_valid(m)),
                 gas_enthalpy_drop,
                 coolant_cp: cooler_cfg.coolant_cp,
             };
@@ -650,11 +661,11 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             T::ZERO
         };
         // Interstage entries exist for every compressor stage but the last.
-        for (i, (s, out)) in si
+        for ((s, out), &fraction) in si
             .iter()
             .zip(self.snapshot.interstage.iter_mut())
+            .zip(self.interstage_fraction.iter())
             .take(last)
-            .enumerate()
         {
             let mut entry = InterstagePressure {
                 measured: s.p2,
@@ -662,12 +673,10 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 deviation: Measured::bad(),
             };
             if q_ratio.is_usable() && ratio > T::ONE {
-                let idx = u32::try_from(i).unwrap_or(u32::MAX);
-                let opt = equal_ratio_interstage_pressure_from_log(
+                let opt = equal_ratio_interstage_pressure_from_fraction(
                     first.p1.value,
                     ln_overall,
-                    u32::from(nc),
-                    idx,
+                    fraction,
                 );
                 entry.optimum = Measured::derived(opt, q_ratio);
                 if s.p2.quality.is_usable() {
@@ -699,7 +708,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             .config
             .gas
             .path(first.p1.value, t1, last_c.p2.value, t1, Some(z_mean));
-        let (_, single, staged) = ideal_references_from_log(
+        let (single, staged) = isentropic_references_from_log(
             props.z,
             props.gas_constant,
             t1,

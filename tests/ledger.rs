@@ -83,7 +83,7 @@ fn st(p1: f64, t1: f64, p2: f64, t2: f64) -> St {
     }
 }
 
-fn train_config<T: Real, G: GasModel<T> + Copy, const N: usize>(
+fn train_config<T: Real, G: GasModel<T>, const N: usize>(
     gas: G,
     s: &[St; N],
 ) -> TrainConfig<T, G, N> {
@@ -130,7 +130,7 @@ fn scan_of<T: Real, const N: usize>(s: &[St; N], flow: f64) -> Scan<T, N> {
     }
 }
 
-fn ledger_of<T: Real, G: GasModel<T> + Copy, const N: usize>(
+fn ledger_of<T: Real, G: GasModel<T>, const N: usize>(
     gas: G,
     s: &[St; N],
     flow: f64,
@@ -141,7 +141,7 @@ fn ledger_of<T: Real, G: GasModel<T> + Copy, const N: usize>(
 }
 
 /// As [`ledger_of`] with the design pressures taken from `design`.
-fn ledger_designed<T: Real, G: GasModel<T> + Copy, const N: usize>(
+fn ledger_designed<T: Real, G: GasModel<T>, const N: usize>(
     gas: G,
     design: &[St; N],
     s: &[St; N],
@@ -561,7 +561,7 @@ fn real_gas_ideal_stages_charge_only_the_stage_count() {
         let cs = gas.compression(p[i], 300.0, p[i + 1], 2.0_f64.ln(), None, None);
         st(p[i], 300.0, p[i + 1], cs.isentropic_temperature)
     });
-    let l = ledger_of(gas, &s, FLOW, &LedgerConfig::default(), 0.0);
+    let l = ledger_of(gas.clone(), &s, FLOW, &LedgerConfig::default(), 0.0);
     let total = l.measured_total.value;
     for (name, v, q) in lines(&l) {
         assert_eq!(q, Quality::Good, "{name}");
@@ -771,7 +771,7 @@ fn real_gas_isothermal_start_against_coolprop_heos() {
         let cs = gas.compression(p[i], 300.0, p[i + 1], ln_r, None, None);
         st(p[i], 300.0, p[i + 1], cs.isentropic_temperature + 5.0)
     });
-    let l = ledger_of(gas, &s, FLOW, &LedgerConfig::default(), 0.0);
+    let l = ledger_of(gas.clone(), &s, FLOW, &LedgerConfig::default(), 0.0);
     assert_eq!(l.isothermal_power.quality, Quality::Good);
     let ledger = l.isothermal_power.value / FLOW;
     let dev = ledger / reference - 1.0;

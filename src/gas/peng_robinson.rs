@@ -44,6 +44,7 @@ use super::{
 use crate::error::{ConfigError, Problem};
 use crate::quality::Quality;
 use crate::real::Real;
+use core::cell::Cell;
 
 /// Ω_a of Peng–Robinson (exact value of the critical-point condition).
 pub const OMEGA_A: f64 = 0.457_235_529;
@@ -197,7 +198,14 @@ fn isentropic_temperature_exponent<T: Real>(p: T, c: &Core<T>) -> T {
 /// A Peng–Robinson gas of up to `C` components with precomputed mixture
 /// constants. Construct with [`PengRobinson::new`]; replace the composition
 /// at run time with [`PengRobinson::set_composition`] (no allocation).
-#[derive(Clone, Copy, Debug, PartialEq)]
+///
+/// It remembers the last [`MEMO_SLOTS`] suction and discharge states its
+/// [`GasModel::compression`] evaluated (interior mutability, so it is not
+/// `Sync`: one model per train, not shared between threads or interrupt
+/// priorities; and not `Copy`): a cooler's inlet is a stage's discharge
+/// state, the isothermal reference starts from the first suction state.
+/// A remembered value is the one a fresh evaluation returns, bit for bit.
+#[derive(Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct PengRobinson<T, const C: usize> {
     components: [Component; C],
@@ -222,6 +230,138 @@ pub struct PengRobinson<T, const C: usize> {
     pseudo_critical_pressure: T,
     /// 1/T_pc and 1/p_pc (the near-critical test multiplies).
     inv_pseudo_critical: (T, T),
+    /// The last evaluated states of [`GasModel::compression`].
+    memo: StateMemo<T>,
+}
+
+/// How many suction states, and how many discharge states, a
+/// [`PengRobinson`] model remembers: those of four compressor stages (a
+/// longer train's first stages are evaluated again, not wrongly).
+pub const MEMO_SLOTS: usize = 4;
+
+/// Values remembered at exact keys (p, T) in a ring of [`MEMO_SLOTS`].
+/// Keys start as NaN, which matches nothing; equal keys are equal bits
+/// except ±0, where every evaluation gives the same invalid state.
+struct Ring<T, V> {
+    p: [Cell<T>; MEMO_SLOTS],
+    t: [Cell<T>; MEMO_SLOTS],
+    value: [Cell<V>; MEMO_SLOTS],
+    next: Cell<u8>,
+}
+
+impl<T: Real, V: Copy> Ring<T, V> {
+    fn new(fill: V) -> Self {
+        Ring {
+            p: core::array::from_fn(|_| Cell::new(T::of(f64::NAN))),
+            t: core::array::from_fn(|_| Cell::new(T::of(f64::NAN))),
+            value: core::array::from_fn(|_| Cell::new(fill)),
+            next: Cell::new(0),
+        }
+    }
+
+    /// Forgets every value.
+    fn clear(&self) {
+        for k in &self.p {
+            k.set(T::of(f64::NAN));
+        }
+    }
+
+    /// The value remembered at exactly (p, t).
+    #[inline]
+    fn find(&self, p: T, t: T) -> Option<V> {
+        for ((kp, kt), v) in self.p.iter().zip(&self.t).zip(&self.value) {
+            if kp.get() == p && kt.get() == t {
+                return Some(v.get());
+            }
+        }
+        None
+    }
+
+    /// Remembers `v` at (p, t), over the oldest.
+    #[inline]
+    fn insert(&self, p: T, t: T, v: V) {
+        let k = usize::from(self.next.get()) % MEMO_SLOTS;
+        if let (Some(kp), Some(kt), Some(slot)) = (self.p.get(k), self.t.get(k), self.value.get(k))
+        {
+            kp.set(p);
+            kt.set(t);
+            slot.set(v);
+        }
+        self.next.set(((k + 1) % MEMO_SLOTS) as u8);
+    }
+}
+
+impl<T: Copy, V: Copy> Clone for Ring<T, V> {
+    fn clone(&self) -> Self {
+        Ring {
+            p: self.p.clone(),
+            t: self.t.clone(),
+            value: self.value.clone(),
+            next: self.next.clone(),
+        }
+    }
+}
+
+/// The states [`GasModel::compression`] evaluated last: whole suction
+/// states (evaluated at (p, T) alone, as [`GasModel::state`] does) and the
+/// discharge states' molar enthalpy and validity (their entropy used the
+/// suction's logarithm, so only h is what a fresh evaluation gives).
+struct StateMemo<T> {
+    suction: Ring<T, Core<T>>,
+    discharge: Ring<T, (T, Validity)>,
+}
+
+impl<T: Real> StateMemo<T> {
+    fn new() -> Self {
+        StateMemo {
+            suction: Ring::new(Core::invalid()),
+            discharge: Ring::new((T::ZERO, Validity::INVALID)),
+        }
+    }
+
+    /// Forgets every state (the composition changed).
+    fn clear(&self) {
+        self.suction.clear();
+        self.discharge.clear();
+    }
+}
+
+impl<T: Copy> Clone for StateMemo<T> {
+    fn clone(&self) -> Self {
+        StateMemo {
+            suction: self.suction.clone(),
+            discharge: self.discharge.clone(),
+        }
+    }
+}
+
+/// Remembered states are no part of the model's value.
+impl<T> PartialEq for StateMemo<T> {
+    fn eq(&self, _: &Self) -> bool {
+        true
+    }
+}
+
+impl<T> core::fmt::Debug for StateMemo<T> {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        f.write_str("StateMemo")
+    }
+}
+
+#[cfg(feature = "defmt")]
+impl<T> defmt::Format for StateMemo<T> {
+    fn format(&self, f: defmt::Formatter) {
+        defmt::write!(f, "StateMemo")
+    }
+}
+
+impl<T: Real, const C: usize> Clone for PengRobinson<T, C> {
+    fn clone(&self) -> Self {
+        PengRobinson {
+            memo: self.memo.clone(),
+            ..*self
+        }
+    }
 }
 
 /// Intermediate results of one (p, T) evaluation, molar.
@@ -343,6 +483,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
             pseudo_critical_temperature: T::ONE,
             pseudo_critical_pressure: T::ONE,
             inv_pseudo_critical: (T::ONE, T::ONE),
+            memo: StateMemo::new(),
         };
         gas.set_composition(fractions)?;
         Ok(gas)
@@ -420,6 +561,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         self.pseudo_critical_temperature = T::of(tpc);
         self.pseudo_critical_pressure = T::of(ppc);
         self.inv_pseudo_critical = (T::of(1.0 / tpc), T::of(1.0 / ppc));
+        self.memo.clear();
         Ok(())
     }
 
@@ -737,13 +879,62 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         )
     }
 
+    /// The squared speed of sound (m²/s²) of `c` at `t`, floored at zero
+    /// (NaN stays NaN).
+    #[inline]
+    fn sound_squared(&self, t: T, c: &Core<T>) -> T {
+        // cv = cp + T·(∂P/∂T)_v²/(∂P/∂v)_T.
+        let cv = c.cp + t * c.dp_dt * c.dp_dt / c.dp_dv;
+        let w2 = -(c.v * c.v / self.molar_mass) * (c.cp / cv) * c.dp_dv;
+        T::max(w2, T::ZERO)
+    }
+
+    /// Whether [`PengRobinson::make_state`] keeps `c` at `t` (else it gives
+    /// [`GasState::invalid`]): the same checks on the same values, the
+    /// speed of sound's as its square (the square root of a value in
+    /// [0, ∞] is finite exactly when the value is).
+    #[inline]
+    fn state_usable(&self, t: T, c: &Core<T>) -> bool {
+        let cp = c.cp * self.per_kg;
+        c.validity != Validity::INVALID
+            && T::is_finite(c.h * self.per_kg)
+            && T::is_finite(c.s * self.per_kg)
+            && T::is_finite(cp)
+            && T::is_finite(self.sound_squared(t, c))
+            && cp > T::ZERO
+    }
+
+    /// Enthalpy (J/kg), entropy (J/(kg K)) and validity of the
+    /// [`GasModel::state`] made from `c` at `t`, without the speed of sound.
+    fn state_hs(&self, t: T, c: &Core<T>) -> (T, T, Validity) {
+        if self.state_usable(t, c) {
+            (c.h * self.per_kg, c.s * self.per_kg, c.validity)
+        } else {
+            (T::ZERO, T::ZERO, Validity::INVALID)
+        }
+    }
+
+    /// Molar enthalpy (J/mol) and validity at (p, t): remembered, or one
+    /// evaluation without entropy and derivatives (the same h).
+    #[inline]
+    fn enthalpy_at(&self, p: T, t: T) -> (T, Validity) {
+        if let Some(hv) = self.memo.discharge.find(p, t) {
+            return hv;
+        }
+        match self.memo.suction.find(p, t) {
+            Some(c) => (c.h, c.validity),
+            None => {
+                let c = self.core_at::<false, false>(p, t, None, None);
+                (c.h, c.validity)
+            }
+        }
+    }
+
     fn make_state(&self, p: T, t: T, c: &Core<T>) -> GasState<T> {
         if c.validity == Validity::INVALID {
             return GasState::invalid(p, t);
         }
-        // cv = cp + T·(∂P/∂T)_v²/(∂P/∂v)_T.
-        let cv = c.cp + t * c.dp_dt * c.dp_dt / c.dp_dv;
-        let w2 = -(c.v * c.v / self.molar_mass) * (c.cp / cv) * c.dp_dv;
+        let w2 = self.sound_squared(t, c);
         let out = GasState {
             pressure: p,
             temperature: t,
@@ -752,7 +943,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
             enthalpy: c.h * self.per_kg,
             entropy: c.s * self.per_kg,
             cp: c.cp * self.per_kg,
-            speed_of_sound: T::sqrt(T::max(w2, T::ZERO)),
+            speed_of_sound: T::sqrt(w2),
             validity: c.validity,
         };
         let finite = T::is_finite(out.enthalpy)
@@ -848,6 +1039,7 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
         _z_supplied: Option<T>,
     ) -> CompressionStates<T> {
         let c1 = self.core(p1, t1);
+        self.memo.suction.insert(p1, t1, c1);
         if c1.validity.quality == Quality::Bad {
             return CompressionStates {
                 isentropic_validity: c1.validity,
@@ -881,6 +1073,7 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
         // the numbers above (a smaller stack frame).
         if let Some(t2) = t2 {
             let c2 = self.core_at::<true, false>(p2, t2, None, Some(c1.ln_p - ln_ratio));
+            self.memo.discharge.insert(p2, t2, (c2.h, c2.validity));
             out.has_discharge = true;
             out.discharge_z = c2.z;
             out.enthalpy_rise = (c2.h - c1.h) * self.per_kg;
@@ -923,22 +1116,47 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
         let dt = t_in - t_out;
         let dp = p_in - p_out;
         let close = T::abs(dt) <= T::of(CLOSE_STATES_K) && T::abs(dp) <= T::of(0.05) * p_in;
-        let (a, b, drop);
         if close {
             // (The full evaluation: rare, and one variant less in flash.)
-            a = self.core(p_in, t_in);
-            b = self.core(p_out, t_out);
+            let a = self.core(p_in, t_in);
+            let b = self.core(p_out, t_out);
             let h_p = |c: &Core<T>, t: T| c.v + t * c.dp_dt / c.dp_dv;
-            drop = T::of(0.5) * ((a.cp + b.cp) * dt + (h_p(&a, t_in) + h_p(&b, t_out)) * dp);
+            let drop = T::of(0.5) * ((a.cp + b.cp) * dt + (h_p(&a, t_in) + h_p(&b, t_out)) * dp);
+            (
+                drop * self.per_kg,
+                dense_validity(a.validity).worst(dense_validity(b.validity)),
+            )
         } else {
-            // Enthalpies only.
-            a = self.core_at::<false, false>(p_in, t_in, None, None);
-            b = self.core_at::<false, false>(p_out, t_out, None, None);
-            drop = a.h - b.h;
+            // Enthalpies only; the inlet is usually a stage's discharge
+            // state, remembered.
+            let (ha, va) = self.enthalpy_at(p_in, t_in);
+            let (hb, vb) = self.enthalpy_at(p_out, t_out);
+            (
+                (ha - hb) * self.per_kg,
+                dense_validity(va).worst(dense_validity(vb)),
+            )
         }
-        (
-            drop * self.per_kg,
-            dense_validity(a.validity).worst(dense_validity(b.validity)),
-        )
+    }
+
+    /// The default's two [`GasModel::state`] evaluations, without the speed
+    /// of sound, the suction state remembered from
+    /// [`PengRobinson::compression`] when it was evaluated there (the
+    /// train's isothermal reference starts from its first suction state).
+    fn isothermal_work(
+        &self,
+        p1: T,
+        p2: T,
+        ln_ratio: T,
+        t: T,
+        _z_supplied: Option<T>,
+    ) -> (T, Validity) {
+        let _ = ln_ratio;
+        let c1 = match self.memo.suction.find(p1, t) {
+            Some(c) => c,
+            None => self.core(p1, t),
+        };
+        let (h1, s1, v1) = self.state_hs(t, &c1);
+        let (h2, s2, v2) = self.state_hs(t, &self.core(p2, t));
+        ((h2 - h1) - t * (s2 - s1), v1.worst(v2))
     }
 }

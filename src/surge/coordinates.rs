@@ -84,6 +84,44 @@ pub fn ratio_from_head_number<T: Real>(head_number: T, sigma: T) -> T {
     T::exp(T::ln(T::ONE + sigma * head_number) / sigma)
 }
 
+/// `ln r` of the scan's pressure ratio, taken once and shared by the head
+/// number and the measured exponent (both form `pd / ps` the same way, so a
+/// repeated ratio is bit-for-bit the same one and its logarithm is reused).
+#[derive(Clone, Copy, Debug)]
+pub(crate) struct LnRatio<T> {
+    /// The ratio whose logarithm is held; NaN (equal to nothing) until one
+    /// is taken.
+    ratio: T,
+    ln: T,
+}
+
+impl<T: Real> LnRatio<T> {
+    /// Nothing taken yet.
+    pub(crate) fn new() -> Self {
+        LnRatio {
+            ratio: T::of(f64::NAN),
+            ln: T::ZERO,
+        }
+    }
+
+    /// `ln(ratio)`, reusing the last one if `ratio` is the same value (a NaN
+    /// never is; ±0 give the same `ln`).
+    #[inline]
+    pub(crate) fn of(&mut self, ratio: T) -> T {
+        if ratio != self.ratio {
+            self.ratio = ratio;
+            self.ln = T::ln(ratio);
+        }
+        self.ln
+    }
+}
+
+/// Head number from `ln r` (the same bits as [`head_number`]).
+#[inline]
+pub(crate) fn head_number_from_ln<T: Real>(ln_ratio: T, sigma: T) -> T {
+    (T::exp(sigma * ln_ratio) - T::ONE) / sigma
+}
+
 /// `Z R Ts`, J/kg, from the molar mass in kg/kmol (the square of the
 /// reference velocity `a*`).
 #[inline]
@@ -131,9 +169,95 @@ pub fn signed_sqrt<T: Real>(x: T) -> T {
     }
 }
 
+/// Lower end of the range where [`margin_root`] iterates, `q = 1/4`
+/// (margin −0.5).
+const ROOT_LOW: f64 = 0.25;
+/// Upper end of that range, `q = 4` (margin +1).
+const ROOT_HIGH: f64 = 4.0;
+
+/// `√q` for the live margin (`q = |X| / X_s`, so `√q − 1` is the margin).
+///
+/// On targets with a hardware single-precision FPU (the ARM hard-float ABI,
+/// e.g. Cortex-M4F), where a division is one instruction but the library's
+/// integer square root is some fifty, an `f32` `q` in
+/// `[1/4, 4]` (margins −0.5 to +1: every operating point near the line)
+/// takes [`heron_root`]: within one unit in the last place of the correctly
+/// rounded root (`tests` below, every `f32` in the range), so the margin
+/// moves by at most 1.2e-7, far inside
+/// [`crate::tolerance::SURGE_MARGIN`]. Everywhere else, and for `f64`, it is
+/// `T::sqrt` (on a soft-float core the library root is the cheaper one).
+#[inline]
+pub(crate) fn margin_root<T: Real>(q: T) -> T {
+    if cfg!(target_abi = "eabihf") {
+        heron_root(q)
+    } else {
+        T::sqrt(q)
+    }
+}
+
+/// `√q` by Heron's (Newton's) iteration for `f32` `q` in `[1/4, 4]`: seed
+/// `(1 + 3q)/(3 + q)` (the rational fit through `√q` at `q = 1`; relative
+/// error below 7.7 % over the range), then three steps `s ← (s + q/s)/2`,
+/// each squaring the relative error (7.7 % → 3e-3 → 4e-6 → rounding), the
+/// last one written as a correction so it rounds once. Any
+/// other `q` (outside the range, NaN, or a type finer than `f32`) goes to
+/// `T::sqrt`.
+#[inline]
+pub fn heron_root<T: Real>(q: T) -> T {
+    let single = T::EPSILON > T::of(1.0e-10);
+    if !(single && q >= T::of(ROOT_LOW) && q <= T::of(ROOT_HIGH)) {
+        return T::sqrt(q);
+    }
+    let half = T::of(0.5);
+    let mut s = (T::ONE + T::of(3.0) * q) / (T::of(3.0) + q);
+    s = half * (s + q / s);
+    s = half * (s + q / s);
+    // The last step as a correction to `s` (`q/s − s` is small and exact):
+    // one rounding at the end.
+    s + half * (q / s - s)
+}
+
+/// `sign(x) · √|x|` with [`margin_root`].
+#[inline]
+pub(crate) fn signed_margin_root<T: Real>(x: T) -> T {
+    if x < T::ZERO {
+        -margin_root(-x)
+    } else {
+        margin_root(x)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Every `f32` in `[1/4, 4]`: Heron's root is within one unit in the
+    /// last place of the correctly rounded `sqrtf` (libm; IEEE 754 requires
+    /// the square root correctly rounded). Outside the range it is `sqrtf`.
+    #[test]
+    fn heron_root_within_one_ulp() {
+        let (lo, hi) = (0.25_f32.to_bits(), 4.0_f32.to_bits());
+        let mut worst = 0_i64;
+        let mut differ = 0_u64;
+        for bits in lo..=hi {
+            let q = f32::from_bits(bits);
+            let exact = libm::sqrtf(q);
+            let got = heron_root(q);
+            let d = (i64::from(got.to_bits()) - i64::from(exact.to_bits())).abs();
+            worst = worst.max(d);
+            differ += u64::from(d != 0);
+        }
+        assert!(worst <= 1, "worst {worst} ulp");
+        // Three in four are the correctly rounded root itself (measured:
+        // 8,390,344 of 33,554,433 differ, each by one unit).
+        assert!(differ < u64::from(hi - lo) * 3 / 10, "{differ} differ");
+        for q in [0.0_f32, 1e-30, 0.2499, 4.0001, 1e30, f32::INFINITY] {
+            assert_eq!(heron_root(q), libm::sqrtf(q));
+        }
+        assert!(heron_root(f32::NAN).is_nan());
+        // f64 always takes the library root.
+        assert_eq!(heron_root(2.0_f64), libm::sqrt(2.0));
+    }
 
     #[test]
     fn head_round_trips() {

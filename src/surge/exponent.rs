@@ -52,10 +52,12 @@
 //! the filter has run one τ_σ after a start the measured σ is used but
 //! reported uncertain ([`ExponentFault::Settling`]).
 //!
-//! Cost per scan in measured mode: two `ln` and four divisions more than the
-//! configured mode (`ln r` is recomputed, not shared with the head number);
-//! the configured mode skips the estimator.
+//! Cost per scan in measured mode: one `ln` and three divisions more than
+//! the configured mode (`ln r` is taken once per scan and shared with the
+//! head number; the filter gain is formed again only when the scan interval
+//! changes); the configured mode skips the estimator.
 
+use super::coordinates::LnRatio;
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::units::Kelvin;
@@ -134,6 +136,24 @@ pub fn measured_sigma<T: Real>(
     ratio: T,
     temperature_accuracy: T,
 ) -> Result<T, ExponentFault> {
+    measured_sigma_with(
+        suction_temperature,
+        discharge_temperature,
+        ratio,
+        temperature_accuracy,
+        &mut LnRatio::new(),
+    )
+}
+
+/// [`measured_sigma`] taking `ln r` from (and leaving it in) `ln_ratio`, so
+/// the head number of the same scan reuses it.
+fn measured_sigma_with<T: Real>(
+    suction_temperature: Measured<Kelvin<T>>,
+    discharge_temperature: Measured<Kelvin<T>>,
+    ratio: T,
+    temperature_accuracy: T,
+    ln_ratio: &mut LnRatio<T>,
+) -> Result<T, ExponentFault> {
     let t1 = suction_temperature.value.kelvin();
     let t2 = discharge_temperature.value.kelvin();
     let good = suction_temperature.quality == Quality::Good
@@ -150,7 +170,7 @@ pub fn measured_sigma<T: Real>(
     if !(t2 - t1 >= T::of(RISE_PER_ACCURACY) * temperature_accuracy) || !(ratio > T::ONE) {
         return Err(ExponentFault::RiseTooSmall);
     }
-    let sigma = T::ln(t2 / t1) / T::ln(ratio);
+    let sigma = T::ln(t2 / t1) / ln_ratio.of(ratio);
     if T::is_finite(sigma) && sigma >= T::of(SIGMA_MIN) && sigma <= T::of(SIGMA_MAX) {
         Ok(sigma)
     } else {
@@ -169,6 +189,10 @@ pub struct ExponentEstimator<T> {
     age: T,
     /// Time since the last valid sample, s.
     since_valid: T,
+    /// The scan interval the filter gain was last formed for, s (0: none).
+    gain_dt: T,
+    /// The filter gain `dt / (τ_σ + dt)` for `gain_dt`.
+    gain: T,
     state: ExponentState<T>,
 }
 
@@ -181,6 +205,8 @@ impl<T: Real> ExponentEstimator<T> {
             filtered: None,
             age: T::ZERO,
             since_valid: T::ZERO,
+            gain_dt: T::ZERO,
+            gain: T::ZERO,
             state: ExponentState {
                 sigma: Measured::good(configured),
                 source: ExponentSource::Configured,
@@ -232,16 +258,35 @@ impl<T: Real> ExponentEstimator<T> {
         ratio: Option<T>,
         dt: T,
     ) -> ExponentState<T> {
+        self.update_sharing(
+            suction_temperature,
+            discharge_temperature,
+            ratio,
+            dt,
+            &mut LnRatio::new(),
+        )
+    }
+
+    /// [`Self::update`] taking `ln r` from (and leaving it in) `ln_ratio`.
+    pub(crate) fn update_sharing(
+        &mut self,
+        suction_temperature: Measured<Kelvin<T>>,
+        discharge_temperature: Measured<Kelvin<T>>,
+        ratio: Option<T>,
+        dt: T,
+        ln_ratio: &mut LnRatio<T>,
+    ) -> ExponentState<T> {
         let Some(config) = self.measured else {
             return self.state;
         };
         let dt_ok = T::is_finite(dt) && dt > T::ZERO;
         let raw = match ratio {
-            Some(r) => measured_sigma(
+            Some(r) => measured_sigma_with(
                 suction_temperature,
                 discharge_temperature,
                 r,
                 config.temperature_accuracy,
+                ln_ratio,
             ),
             None => Err(ExponentFault::InputBad),
         };
@@ -261,7 +306,13 @@ impl<T: Real> ExponentEstimator<T> {
                         self.age = T::ZERO;
                     }
                     Some(f) if dt_ok => {
-                        let alpha = dt / (tau + dt);
+                        // The gain is formed again only when the interval
+                        // changes (the same expression, so the same bits).
+                        if dt != self.gain_dt {
+                            self.gain = dt / (tau + dt);
+                            self.gain_dt = dt;
+                        }
+                        let alpha = self.gain;
                         self.filtered = Some(f + alpha * (sigma - f));
                         self.age = T::min(self.age + dt, tau);
                     }

@@ -48,12 +48,15 @@
 //! the rate filter (rate and time to surge bad until it settles again, after
 //! `4 τ_a`, uncertain before).
 //!
-//! Cost per scan: one `ln`, one `exp`, one `sqrt`, at most `N` table steps and
-//! a handful of multiplications for the rate; the measured-exponent mode adds
-//! two `ln` and four divisions (figures: `ci/measurements.md`).
+//! Cost per scan: one `ln`, one `exp`, one `sqrt`, at most `N` table steps
+//! (segment differences are taken at construction) and a handful of
+//! multiplications for the rate (its gain is formed again only when the scan
+//! interval changes); the measured-exponent mode adds one `ln` (`ln r` is
+//! shared with the head number) and three divisions (figures:
+//! `ci/measurements.md`).
 
 use super::check_setting;
-use super::coordinates::{flow_number, head_number, signed_sqrt};
+use super::coordinates::{flow_number, head_number_from_ln, signed_margin_root, LnRatio};
 use super::exponent::{ExponentConfig, ExponentEstimator, ExponentSource, ExponentState};
 use super::surge_line::SurgeLine;
 use crate::error::{ConfigError, Problem};
@@ -69,6 +72,9 @@ pub const FLOW_DP_RATIO_VALID: f64 = 0.25;
 /// A scan interval longer than this many rate-filter time constants
 /// restarts the rate filter.
 pub const MAX_RATE_GAP: f64 = 4.0;
+/// The rate and the time to surge are uncertain until the rate filter has
+/// run this many filter time constants.
+const SETTLE_TIME_CONSTANTS: f64 = 4.0;
 
 /// One scan of the signals the margin needs.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -203,46 +209,77 @@ impl<T: Real> SurgeState<T> {
     }
 }
 
+/// How far the rate filter has run since it (re)started.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Phase {
+    /// No sample yet.
+    Empty,
+    /// One sample: a level, no derivative yet.
+    First,
+    /// Running, for less than the settling time `4 τ_a`.
+    Running,
+    /// Running for at least the settling time.
+    Settled,
+}
+
 /// Two-pole filtered derivative of the margin.
 #[derive(Clone, Copy, Debug)]
 struct RateFilter<T> {
-    /// First pole: filtered margin.
-    level: Option<T>,
+    /// First pole: filtered margin (meaningful from [`Phase::First`]).
+    level: T,
     /// Second pole: filtered derivative, 1/s.
     slope: T,
-    /// Time since the filter (re)started, s.
+    /// Time since the filter (re)started, s, counted until it settles.
     age: T,
+    phase: Phase,
 }
 
 impl<T: Real> RateFilter<T> {
     const fn new() -> Self {
         RateFilter {
-            level: None,
+            level: T::ZERO,
             slope: T::ZERO,
             age: T::ZERO,
+            phase: Phase::Empty,
         }
     }
 
-    fn update(&mut self, m: T, dt: T, tau: T) {
-        match self.level {
-            None => {
-                self.level = Some(m);
-                self.slope = T::ZERO;
-                self.age = T::ZERO;
-            }
-            Some(level) => {
-                let alpha = dt / (tau + dt);
-                let next = level + alpha * (m - level);
-                let derivative = (next - level) / dt;
-                let slope = self.slope + alpha * (derivative - self.slope);
-                if T::is_finite(next) && T::is_finite(slope) {
-                    self.level = Some(next);
-                    self.slope = slope;
-                    self.age += dt;
+    /// A restarted filter holding the one sample `m`.
+    fn first(m: T) -> Self {
+        RateFilter {
+            level: m,
+            phase: Phase::First,
+            ..Self::new()
+        }
+    }
+
+    /// One sample `m`, `dt` s after the last (finite, positive), with the
+    /// gain `alpha = dt / (τ_a + dt)`; `settle` is `4 τ_a`.
+    fn update(&mut self, m: T, dt: T, alpha: T, settle: T) {
+        if self.phase == Phase::Empty {
+            *self = Self::first(m);
+            return;
+        }
+        let level = self.level;
+        let next = level + alpha * (m - level);
+        let derivative = (next - level) / dt;
+        let slope = self.slope + alpha * (derivative - self.slope);
+        // `next` lies between two finite values; a non-finite `next` or
+        // derivative would make `slope` non-finite too (`alpha >= 0`), so
+        // `slope` alone tells.
+        if T::is_finite(slope) {
+            self.level = next;
+            self.slope = slope;
+            if self.phase != Phase::Settled {
+                self.age += dt;
+                self.phase = if self.age >= settle {
+                    Phase::Settled
                 } else {
-                    *self = Self::new();
-                }
+                    Phase::Running
+                };
             }
+        } else {
+            *self = Self::new();
         }
     }
 }
@@ -253,6 +290,15 @@ impl<T: Real> RateFilter<T> {
 pub struct SurgeMonitor<T, const N: usize> {
     line: SurgeLine<T, N>,
     config: MonitorConfig<T>,
+    /// The longest scan gap the rate filter bridges, [`MAX_RATE_GAP`] `τ_a`.
+    gap: T,
+    /// The rate filter's settling time, [`SETTLE_TIME_CONSTANTS`] `τ_a`.
+    settle: T,
+    /// The scan interval the rate filter's gain was last formed for, s (0:
+    /// none yet).
+    gain_dt: T,
+    /// The rate filter's gain `dt / (τ_a + dt)` for `gain_dt`.
+    gain: T,
     rate: RateFilter<T>,
     exponent: ExponentEstimator<T>,
     state: SurgeState<T>,
@@ -286,6 +332,10 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         Ok(SurgeMonitor {
             line,
             config,
+            gap: config.rate_filter_time * T::of(MAX_RATE_GAP),
+            settle: T::of(SETTLE_TIME_CONSTANTS) * config.rate_filter_time,
+            gain_dt: T::ZERO,
+            gain: T::ZERO,
             rate: RateFilter::new(),
             exponent,
             state: SurgeState::bad(),
@@ -344,6 +394,15 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
     /// verdict; bad if an input is not finite, a pressure is not positive,
     /// Δp/ps is impossible or discharge is below suction.
     pub fn map_point(&self, scan: &SurgeScan<T>) -> (Measured<T>, Measured<T>, SurgeFault) {
+        self.map_point_sharing(scan, &mut LnRatio::new())
+    }
+
+    /// [`Self::map_point`] taking `ln r` from (and leaving it in) `ln_ratio`.
+    fn map_point_sharing(
+        &self,
+        scan: &SurgeScan<T>,
+        ln_ratio: &mut LnRatio<T>,
+    ) -> (Measured<T>, Measured<T>, SurgeFault) {
         let ps = scan.suction_pressure.map(|p| p.pa());
         let pd = scan.discharge_pressure.map(|p| p.pa());
         let dp = scan.flow_dp;
@@ -386,7 +445,10 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         if sigma.quality != Quality::Good && fault == SurgeFault::None {
             fault = SurgeFault::Exponent;
         }
-        let y = Measured::derived(head_number(ratio, sigma.value), q.worst(sigma.quality));
+        let y = Measured::derived(
+            head_number_from_ln(ln_ratio.of(ratio), sigma.value),
+            q.worst(sigma.quality),
+        );
         (x, y, fault)
     }
 
@@ -395,7 +457,18 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
     /// present σ (in measured-exponent mode the σ filter is advanced only by
     /// [`Self::update`]; the scan's temperatures are not read here).
     pub fn evaluate(&self, scan: &SurgeScan<T>, added_margin: T) -> SurgeState<T> {
-        let (x, y, mut fault) = self.map_point(scan);
+        self.evaluate_sharing(scan, added_margin, &mut LnRatio::new())
+    }
+
+    /// [`Self::evaluate`] taking `ln r` from (and leaving it in) `ln_ratio`.
+    #[inline(always)]
+    fn evaluate_sharing(
+        &self,
+        scan: &SurgeScan<T>,
+        added_margin: T,
+        ln_ratio: &mut LnRatio<T>,
+    ) -> SurgeState<T> {
+        let (x, y, mut fault) = self.map_point_sharing(scan, ln_ratio);
         if !x.quality.is_usable() || !y.quality.is_usable() {
             return SurgeState {
                 exponent: self.exponent.state(),
@@ -407,15 +480,12 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             fault = SurgeFault::BeyondMap;
         }
         let lq = look.quality.worst(y.quality);
-        // sign(X)·√|X| / √X_s = sign(X)·√(|X|/X_s): one square root, not two
-        // (X_s > 0 on a validated line; anything else is bad, fail-safe).
+        // sign(X)·√|X| / √X_s = sign(X)·√(|X|/X_s): one square root, not two.
+        // X_s > 0 wherever the lookup is usable (a validated line rises from
+        // a positive first point); a bad lookup makes the margin bad.
         let xs = look.surge_flow_number;
-        let mq = if xs > T::ZERO {
-            lq.worst(x.quality)
-        } else {
-            Quality::Bad
-        };
-        let margin = Measured::derived(signed_sqrt(x.value / xs) - T::ONE, mq);
+        let mq = lq.worst(x.quality);
+        let margin = Measured::derived(signed_margin_root(x.value / xs) - T::ONE, mq);
         let added = if T::is_finite(added_margin) {
             T::max(added_margin, T::ZERO)
         } else {
@@ -450,16 +520,24 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
     /// [`super::detection::SurgeDetector`]; 0 without one). Never panics; bad
     /// inputs give a bad margin and restart the rate filter.
     pub fn update(&mut self, scan: &SurgeScan<T>, added_margin: T, dt: T) -> &SurgeState<T> {
-        self.update_exponent(scan, dt);
-        let mut state = self.evaluate(scan, added_margin);
-        let tau = self.config.rate_filter_time;
-        let dt_ok = T::is_finite(dt) && dt > T::ZERO && dt <= tau * T::of(MAX_RATE_GAP);
+        // One `ln r` per scan, shared by σ (measured mode) and the head.
+        let mut ln_ratio = LnRatio::new();
+        self.update_exponent(scan, dt, &mut ln_ratio);
+        let mut state = self.evaluate_sharing(scan, added_margin, &mut ln_ratio);
+        // `dt > 0 && dt <= gap` is false for NaN and for +inf too.
+        let dt_ok = dt > T::ZERO && dt <= self.gap;
         if state.margin.quality.is_usable() && dt_ok {
-            self.rate.update(state.margin.value, dt, tau);
+            // The gain is formed again only when the interval changes (the
+            // same expression, so the same bits).
+            if dt != self.gain_dt {
+                self.gain = dt / (self.config.rate_filter_time + dt);
+                self.gain_dt = dt;
+            }
+            self.rate
+                .update(state.margin.value, dt, self.gain, self.settle);
         } else if state.margin.quality.is_usable() {
             // Clock fault or a gap: restart from this sample.
-            self.rate = RateFilter::new();
-            self.rate.update(state.margin.value, T::ONE, tau);
+            self.rate = RateFilter::first(state.margin.value);
         } else {
             self.rate = RateFilter::new();
         }
@@ -471,7 +549,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
     }
 
     /// Advances the σ estimator (measured-exponent mode only).
-    fn update_exponent(&mut self, scan: &SurgeScan<T>, dt: T) {
+    fn update_exponent(&mut self, scan: &SurgeScan<T>, dt: T, ln_ratio: &mut LnRatio<T>) {
         if !self.exponent.is_measured() {
             return;
         }
@@ -482,27 +560,27 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         } else {
             None
         };
-        self.exponent.update(
+        self.exponent.update_sharing(
             scan.suction_temperature,
             scan.discharge_temperature,
             ratio,
             dt,
+            ln_ratio,
         );
     }
 
     /// Rate of approach from the filter, and the time to surge. Bad before
     /// the second sample, uncertain until the filter has run `4 τ_a`.
     fn rate_and_time(&self, margin: Measured<T>) -> (Measured<T>, Measured<T>) {
-        let started = self.rate.level.is_some() && self.rate.age > T::ZERO;
-        if !started || !margin.quality.is_usable() {
+        let settled = match self.rate.phase {
+            Phase::Settled => Quality::Good,
+            Phase::Running => Quality::Uncertain,
+            Phase::Empty | Phase::First => Quality::Bad,
+        };
+        if settled == Quality::Bad || !margin.quality.is_usable() {
             let b = Measured::bad();
             return (b, b);
         }
-        let settled = if self.rate.age >= T::of(4.0) * self.config.rate_filter_time {
-            Quality::Good
-        } else {
-            Quality::Uncertain
-        };
         let approach = -self.rate.slope;
         let q = settled.worst(margin.quality);
         // The filter keeps a finite slope (it restarts otherwise), the time is

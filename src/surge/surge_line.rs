@@ -105,11 +105,30 @@ pub struct LineLookup<T> {
     pub quality: Quality,
 }
 
+/// The differences across one segment (point `i` to point `i + 1`),
+/// computed once at construction: the lookup then subtracts nothing but the
+/// live head (the same differences it used to form per scan, so the same
+/// bits).
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+struct Segment<T> {
+    /// Head number at the segment's upper end.
+    head_hi: T,
+    /// Head number difference, > 0.
+    head_span: T,
+    /// Flow number difference, > 0.
+    flow_span: T,
+    /// Control margin difference.
+    margin_span: T,
+}
+
 /// A validated surge line with at most `N` points (`N >= 2`).
 #[derive(Clone, Debug)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct SurgeLine<T, const N: usize> {
     points: Vec<LinePoint<T>, N>,
+    /// `points.len() - 1` segments, in rising head.
+    segments: Vec<Segment<T>, N>,
     sigma: T,
 }
 
@@ -167,7 +186,8 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             m.molar_mass,
             m.suction_temperature.kelvin(),
         );
-        let mut points = Vec::new();
+        let mut points: Vec<LinePoint<T>, N> = Vec::new();
+        let mut segments: Vec<Segment<T>, N> = Vec::new();
         for (i, p) in config.points.iter().enumerate() {
             let ok = finite_pos(p.speed_rpm)
                 && finite_pos(p.suction_volume_flow)
@@ -202,12 +222,25 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
                         ConfigError::new("surge_line.points", Problem::NotIncreasing).at(i),
                     );
                 }
+                let segment = Segment {
+                    head_hi: r.head_number,
+                    head_span: r.head_number - prev.head_number,
+                    flow_span: r.flow_number - prev.flow_number,
+                    margin_span: r.control_margin - prev.control_margin,
+                };
+                if segments.push(segment).is_err() {
+                    return Err(count);
+                }
             }
             if points.push(r).is_err() {
                 return Err(count);
             }
         }
-        Ok(SurgeLine { points, sigma })
+        Ok(SurgeLine {
+            points,
+            segments,
+            sigma,
+        })
     }
 
     /// σ = (n − 1)/n used for the head number.
@@ -239,24 +272,34 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
                 quality: Quality::Uncertain,
             };
         }
+        // The segment holding `head` (point `a` to the next), else the last
+        // one, extended. `f`, the surge flow and the control margin are
+        // formed exactly as `a + f·(b − a)` with `f = (Y − Y_a)/(Y_b − Y_a)`,
+        // the differences taken at construction.
+        let segments = self.segments.as_slice();
+        let mut k = segments.len().saturating_sub(1);
         let mut quality = Quality::Uncertain;
-        let mut segment = (first, last);
-        for pair in pts.windows(2) {
-            if let [a, b] = pair {
-                segment = (a, b);
-                if head <= b.head_number {
-                    quality = Quality::Good;
-                    break;
-                }
+        for (i, s) in segments.iter().enumerate() {
+            if head <= s.head_hi {
+                k = i;
+                quality = Quality::Good;
+                break;
             }
         }
-        let (a, b) = segment;
-        let f = (head - a.head_number) / (b.head_number - a.head_number);
-        let q2 = a.flow_number + f * (b.flow_number - a.flow_number);
+        let (Some(a), Some(s)) = (pts.get(k), segments.get(k)) else {
+            // Unreachable after validation (at least one segment).
+            return LineLookup {
+                surge_flow_number: T::ZERO,
+                control_margin: T::ZERO,
+                quality: Quality::Bad,
+            };
+        };
+        let f = (head - a.head_number) / s.head_span;
+        let q2 = a.flow_number + f * s.flow_span;
         let cm = if quality == Quality::Good {
-            a.control_margin + f * (b.control_margin - a.control_margin)
+            a.control_margin + f * s.margin_span
         } else {
-            b.control_margin
+            last.control_margin
         };
         LineLookup {
             surge_flow_number: q2,

@@ -227,22 +227,37 @@ impl<G: GasModel<f32>> Controller<G> {
     /// every surge monitor on the channels' unfiltered values, then the
     /// train on the channels' filtered pressures (written into `scan`,
     /// whose other readings come from the slower inputs). Works in place:
-    /// no copy of the scan or of the channel outputs. The monitors' inputs
-    /// are dead before the train runs, so they are not on the stack during
-    /// its update.
+    /// no copy of the scan or of the channel outputs.
     pub fn scan(
         &mut self,
         raw: &[f32; CHANNELS],
         t_ms: u32,
         scan: &mut polytrope::scan::Scan<f32, SECTIONS>,
     ) -> ScanSummary {
-        let (surge, dt) = self.read_channels(raw, t_ms, scan);
-        let margins = self.update_monitors(&surge, dt);
+        let margins = self.protect(raw, t_ms, scan);
         let total_power = self.update_train(scan);
         ScanSummary {
             total_power,
             margins,
         }
+    }
+
+    /// Phases 1 and 2 of [`Controller::scan`] (the protection path): every
+    /// channel, then every surge monitor; the margins. A function of its
+    /// own, not inlined: the monitors' inputs (each channel's unfiltered
+    /// value, about 170 bytes) then live in its frame only and are off the
+    /// stack while the train updates; inlined into `scan`, its one frame
+    /// held them under the train's whole call chain (the whole scan's stack
+    /// peak was that frame plus the train's).
+    #[inline(never)]
+    pub fn protect(
+        &mut self,
+        raw: &[f32; CHANNELS],
+        t_ms: u32,
+        scan: &mut polytrope::scan::Scan<f32, SECTIONS>,
+    ) -> [f32; SECTIONS] {
+        let (surge, dt) = self.read_channels(raw, t_ms, scan);
+        self.update_monitors(&surge, dt)
     }
 
     /// Phase 1 of [`Controller::scan`]: every channel; writes the filtered
