@@ -253,7 +253,7 @@ impl<G: GasModel<f32>> Controller<G> {
     pub fn protect(
         &mut self,
         raw: &[f32; CHANNELS],
-        t_ms: u64,
+        t_ms: u32,
         scan: &mut polytrope::scan::Scan<f32, SECTIONS>,
     ) -> [f32; SECTIONS] {
         let (surge, dt) = self.read_channels(raw, t_ms, scan);
