@@ -160,10 +160,15 @@ pub struct Train<T, G, const N: usize, const W: usize> {
     stage_uses: StageUses,
     detectors: [SteadyStateDetector<T, W>; N],
     snapshot: Snapshot<T, N>,
+    /// This scan's inputs after the sensor boundary: scratch that every
+    /// update writes in full before reading. Kept in the train, not on the
+    /// stack: beside the stage evaluation's frames it set the update's
+    /// stack peak (N × 56 bytes in f32).
+    si: [StageSi<T>; N],
 }
 
 /// Per-stage inputs after the sensor boundary, SI.
-#[derive(Clone, Copy)]
+#[derive(Clone, Copy, Debug)]
 struct StageSi<T> {
     p1: Measured<T>,
     t1: Measured<T>,
@@ -358,6 +363,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 totals: TrainTotals::bad(compressor_stages),
                 scan_count: 0,
             },
+            si: [StageSi::bad(); N],
         })
     }
 
@@ -390,11 +396,10 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     /// Never panics, never allocates; every number in the snapshot is finite
     /// and carries its quality.
     pub fn update(&mut self, scan: &Scan<T, N>) -> &Snapshot<T, N> {
-        let mut si = [StageSi::bad(); N];
-        Self::boundary(&self.limits, scan, &mut si);
-        self.evaluate_stages(scan, &si);
-        self.evaluate_coolers(scan, &si);
-        self.evaluate_totals(&si);
+        Self::boundary(&self.limits, scan, &mut self.si);
+        self.evaluate_stages(scan);
+        self.evaluate_coolers(scan);
+        self.evaluate_totals();
         self.snapshot.scan_count = self.snapshot.scan_count.wrapping_add(1);
         &self.snapshot
     }
@@ -429,7 +434,8 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     // The three phases stay separate functions: inlined into `update` their
     // locals share one frame and the stack peak is their sum, not their max.
     #[inline(never)]
-    fn evaluate_stages(&mut self, scan: &Scan<T, N>, si: &[StageSi<T>; N]) {
+    fn evaluate_stages(&mut self, scan: &Scan<T, N>) {
+        let si = &self.si;
         let property_inputs = self.config.gas.property_inputs();
         if property_inputs != self.stage_uses.inputs {
             self.stage_uses = StageUses::new(property_inputs);
@@ -497,7 +503,8 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     }
 
     #[inline(never)]
-    fn evaluate_coolers(&mut self, scan: &Scan<T, N>, si: &[StageSi<T>; N]) {
+    fn evaluate_coolers(&mut self, scan: &Scan<T, N>) {
+        let si = &self.si;
         let cp_inputs = self.config.gas.property_inputs();
         for (i, (cfg, out)) in self
             .config
@@ -605,7 +612,8 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     /// references, those, the first suction temperature and every
     /// compressor stage's Z (supplied, or the configured one).
     #[inline(never)]
-    fn evaluate_totals(&mut self, si: &[StageSi<T>; N]) {
+    fn evaluate_totals(&mut self) {
+        let si = &self.si;
         let nc = self.compressor_stages;
         let mut totals = TrainTotals::bad(nc);
         let mut work = Sum::new();
