@@ -66,13 +66,20 @@ done
 # The feature builds, each in a target directory of its own: approx-math
 # (micromath ln/exp/pow) on both targets, inline-math (libm's logf/expf
 # inlined at every call site instead of kept out of line) on Cortex-M4F.
+# `opt-s` is no feature but the release profile at opt-level "s" (what a
+# user trading speed for flash would build): the same sources, smaller code.
 for build in thumbv7em-none-eabihf+approx-math thumbv7em-none-eabihf+inline-math \
-             thumbv6m-none-eabi+approx-math; do
+             thumbv6m-none-eabi+approx-math thumbv7em-none-eabihf+opt-s; do
   target=${build%+*} feature=${build#*+}
   tag=$build
   echo "measure: building firmware for $tag"
-  (cd $fw && CARGO_TARGET_DIR=target/$feature cargo build -q --release --target $target \
-    --features $feature --bin harness --bin full_scan --bin controller --bin empty)
+  if [ "$feature" = opt-s ]; then
+    (cd $fw && CARGO_PROFILE_RELEASE_OPT_LEVEL=s CARGO_TARGET_DIR=target/$feature cargo build -q \
+      --release --target $target --bin harness --bin full_scan --bin controller --bin empty)
+  else
+    (cd $fw && CARGO_TARGET_DIR=target/$feature cargo build -q --release --target $target \
+      --features $feature --bin harness --bin full_scan --bin controller --bin empty)
+  fi
   run_qemu "$fw/target/$feature/$target/release/harness" $target $tag
   run_qemu "$fw/target/$feature/$target/release/full_scan" $target $tag.scan
   for bin in controller empty; do
@@ -153,7 +160,7 @@ for t, _, _ in targets:
     f["flash_controller"] = ctl[0] - empty[0]
     figures[t] = f
 for at in ("thumbv7em-none-eabihf+approx-math", "thumbv7em-none-eabihf+inline-math",
-           "thumbv6m-none-eabi+approx-math"):
+           "thumbv6m-none-eabi+approx-math", "thumbv7em-none-eabihf+opt-s"):
     per, s = regions(at)
     per2, s2 = regions(at + ".scan")
     per.update(per2)
@@ -255,14 +262,17 @@ L.append("Static RAM is zero because the minimal firmware keeps the train on the
 L.append("")
 L.append("Feature builds (same harness, same scans): `approx-math` routes `ln`, `exp`, "
          "`powf` to `micromath`; `inline-math` lets LTO inline libm's `logf`/`expf` at every call site "
-         "(the default keeps one out-of-line copy of each; results bit-identical).")
+         "(the default keeps one out-of-line copy of each; results bit-identical); `opt-level s` is "
+         "no feature but the release profile built for size (`CARGO_PROFILE_RELEASE_OPT_LEVEL=s`; "
+         "same sources, results bit-identical).")
 L.append("")
 L.append("| feature build | Cortex-M4F default | Cortex-M4F `approx-math` | Cortex-M4F `inline-math` "
-         "| Cortex-M0 default | Cortex-M0 `approx-math` |")
-L.append("|---|---:|---:|---:|---:|---:|")
+         "| Cortex-M4F `opt-level s` | Cortex-M0 default | Cortex-M0 `approx-math` |")
+L.append("|---|---:|---:|---:|---:|---:|---:|")
 m4 = figures["thumbv7em-none-eabihf"]
 fa = figures["thumbv7em-none-eabihf+approx-math"]
 fi = figures["thumbv7em-none-eabihf+inline-math"]
+fs = figures["thumbv7em-none-eabihf+opt-s"]
 m0 = figures["thumbv6m-none-eabi"]
 f0 = figures["thumbv6m-none-eabi+approx-math"]
 for key, doc in [("full_scan", "whole controller scan, instructions"),
@@ -271,7 +281,7 @@ for key, doc in [("full_scan", "whole controller scan, instructions"),
                  ("signal_channel_4_20ma", "one `Channel::update`, instructions"),
                  ("flash_controller", "kernel flash of the whole controller scan, bytes"),
                  ("stack_full_scan", "stack of one whole controller scan, bytes")]:
-    L.append(f"| {doc} | {m4[key]:,} | {fa[key]:,} | {fi[key]:,} | {m0[key]:,} | {f0[key]:,} |")
+    L.append(f"| {doc} | {m4[key]:,} | {fa[key]:,} | {fi[key]:,} | {fs[key]:,} | {m0[key]:,} | {f0[key]:,} |")
 open(out_md, "w").write("\n".join(L) + "\n")
 print("\n".join(L))
 EOF
