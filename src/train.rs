@@ -163,7 +163,7 @@ pub struct Train<T, G, const N: usize, const W: usize> {
     /// This scan's inputs after the sensor boundary: scratch that every
     /// update writes in full before reading. Kept in the train, not on the
     /// stack: beside the stage evaluation's frames it set the update's
-    /// stack peak (N × 56 bytes in f32).
+    /// stack peak (52 bytes per stage in f32).
     si: [StageSi<T>; N],
 }
 

@@ -319,6 +319,14 @@ impl<T: Real> IdealGas<T> {
 /// Iteration cap of the polynomial model's entropy match.
 const ISENTROPIC_ITERATIONS: usize = 4;
 
+/// The ideal gas's states exist at finite, positive pressure and
+/// temperature ([`GasModel::state`] and [`GasModel::uncompressed`] test the
+/// same domain).
+#[inline]
+fn in_domain<T: Real>(p: T, t: T) -> bool {
+    T::is_finite(p) && T::is_finite(t) && p > T::ZERO && t > T::ZERO
+}
+
 #[inline]
 fn cubic<T: Real>(c: &[T; 4], t: T) -> T {
     let [a, b, cc, d] = *c;
@@ -376,7 +384,7 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
     }
 
     fn state(&self, p: T, t: T, z_supplied: Option<T>) -> GasState<T> {
-        if !(T::is_finite(p) && T::is_finite(t) && p > T::ZERO && t > T::ZERO) {
+        if !in_domain(p, t) {
             return GasState::invalid(p, t);
         }
         let z = self.z_of(z_supplied);
@@ -408,7 +416,7 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
         z_supplied: Option<T>,
     ) -> (T, Validity, Validity, T) {
         let state = |p: T, t: T| {
-            if T::is_finite(p) && T::is_finite(t) && p > T::ZERO && t > T::ZERO {
+            if in_domain(p, t) {
                 (self.z_of(z_supplied), self.validity(p, t))
             } else {
                 (T::ONE, Validity::INVALID)

@@ -889,10 +889,11 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         T::max(w2, T::ZERO)
     }
 
-    /// Whether [`PengRobinson::make_state`] keeps `c` at `t` (else it gives
-    /// [`GasState::invalid`]): the same checks on the same values, the
-    /// speed of sound's as its square (the square root of a value in
-    /// [0, ∞] is finite exactly when the value is).
+    /// Whether `c` at `t` makes a usable state (else
+    /// [`PengRobinson::make_state`] gives [`GasState::invalid`]): a vapour
+    /// root, and finite enthalpy, entropy, cp > 0 and speed of sound (the
+    /// latter tested as its square: the square root of a value in [0, ∞] is
+    /// finite exactly when the value is).
     #[inline]
     fn state_usable(&self, t: T, c: &Core<T>) -> bool {
         let cp = c.cp * self.per_kg;
@@ -931,11 +932,10 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
     }
 
     fn make_state(&self, p: T, t: T, c: &Core<T>) -> GasState<T> {
-        if c.validity == Validity::INVALID {
+        if !self.state_usable(t, c) {
             return GasState::invalid(p, t);
         }
-        let w2 = self.sound_squared(t, c);
-        let out = GasState {
+        GasState {
             pressure: p,
             temperature: t,
             z: c.z,
@@ -943,18 +943,8 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
             enthalpy: c.h * self.per_kg,
             entropy: c.s * self.per_kg,
             cp: c.cp * self.per_kg,
-            speed_of_sound: T::sqrt(w2),
+            speed_of_sound: T::sqrt(self.sound_squared(t, c)),
             validity: c.validity,
-        };
-        let finite = T::is_finite(out.enthalpy)
-            && T::is_finite(out.entropy)
-            && T::is_finite(out.cp)
-            && T::is_finite(out.speed_of_sound)
-            && out.cp > T::ZERO;
-        if finite {
-            out
-        } else {
-            GasState::invalid(p, t)
         }
     }
 }
