@@ -12,7 +12,8 @@
  * removes by subtracting an empty region.
  *
  * Optional profile=PATH: per-address counts inside regions ("ADDR COUNT" lines,
- * written at exit), for finding where the instructions go.
+ * written at exit), for finding where the instructions go; with only=N, only
+ * inside region N (ci/profile.sh uses this for a per-function breakdown).
  *
  * Build: gcc -O2 -shared -fPIC -o libicount.so icount.c
  */
@@ -57,12 +58,13 @@ static unsigned region;
 #define PROFILE_SPAN (1u << 22) /* addresses 0 .. 4 MiB, halfword steps */
 static uint64_t *profile;
 static const char *profile_path;
+static long only_region = -1;
 
 static void on_insn(unsigned int vcpu, void *u)
 {
     (void)vcpu;
     count += counting;
-    if (profile && counting) {
+    if (profile && counting && (only_region < 0 || (long)region == only_region)) {
         profile[(uintptr_t)u]++;
     }
 }
@@ -135,6 +137,8 @@ qemu_plugin_install(qemu_plugin_id_t id, const qemu_info_t *info, int argc, char
         } else if (strncmp(argv[i], "profile=", 8) == 0) {
             profile_path = argv[i] + 8;
             profile = calloc(PROFILE_SPAN / 2, sizeof *profile);
+        } else if (strncmp(argv[i], "only=", 5) == 0) {
+            only_region = strtol(argv[i] + 5, NULL, 10);
         } else if (strncmp(argv[i], "out=", 4) == 0) {
             path = argv[i] + 4;
         }
