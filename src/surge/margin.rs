@@ -284,6 +284,31 @@ impl<T: Real> RateFilter<T> {
     }
 }
 
+/// Why a scan that failed the plausibility checks of
+/// [`SurgeMonitor::map_point`] is bad, in the documented order: an input bad,
+/// not finite or a pressure not positive; `|Δp|/ps` impossible; discharge
+/// below suction. Only rejected scans come here (the rejection path).
+#[inline(never)]
+fn implausible<T: Real>(ps: Measured<T>, pd: Measured<T>, dp: Measured<T>) -> SurgeFault {
+    let usable = |m: Measured<T>| m.quality.is_usable() && T::is_finite(m.value);
+    let inputs_ok =
+        usable(ps) && ps.value > T::ZERO && usable(pd) && pd.value > T::ZERO && usable(dp);
+    if !inputs_ok {
+        return SurgeFault::InputBad;
+    }
+    let x = flow_number(dp.value, ps.value);
+    if !(T::is_finite(x) && T::abs(x) <= T::of(FLOW_DP_RATIO_IMPOSSIBLE)) {
+        return SurgeFault::FlowDpImpossible;
+    }
+    let ratio = pd.value / ps.value;
+    if !(T::is_finite(ratio) && ratio >= T::ONE) {
+        return SurgeFault::DischargeBelowSuction;
+    }
+    // Not reached (the one-pass check accepts exactly these scans); bad in
+    // any case.
+    SurgeFault::InputBad
+}
+
 /// Surge margin monitor for one section: a surge line of up to `N` points
 /// and a rate-of-approach filter defined in seconds.
 #[derive(Clone, Debug)]
@@ -406,35 +431,30 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         let ps = scan.suction_pressure.map(|p| p.pa());
         let pd = scan.discharge_pressure.map(|p| p.pa());
         let dp = scan.flow_dp;
-        let usable = |m: Measured<T>| m.quality.is_usable() && T::is_finite(m.value);
-        let inputs_ok =
-            usable(ps) && ps.value > T::ZERO && usable(pd) && pd.value > T::ZERO && usable(dp);
-        if !inputs_ok {
-            return (Measured::bad(), Measured::bad(), SurgeFault::InputBad);
-        }
+        let q = ps.quality.worst(pd.quality);
+        let inputs_q = q.worst(dp.quality);
         let x = flow_number(dp.value, ps.value);
         let ratio = pd.value / ps.value;
-        if !(T::is_finite(x) && T::abs(x) <= T::of(FLOW_DP_RATIO_IMPOSSIBLE)) {
-            return (
-                Measured::bad(),
-                Measured::bad(),
-                SurgeFault::FlowDpImpossible,
-            );
+        // The plausibility checks in one pass, accepting exactly the scans
+        // `implausible` accepts (so the verdict is the same): with `ps`
+        // positive, `r >= 1` finite rules out a non-finite `ps` (r would be
+        // 0 or NaN), a non-finite or non-positive `pd`; `|X| <= 0.52`
+        // rules out a non-finite `Δp` and `X`. A rejected scan is classified
+        // there, in the documented order.
+        let plausible = inputs_q.is_usable()
+            && ps.value > T::ZERO
+            && T::abs(x) <= T::of(FLOW_DP_RATIO_IMPOSSIBLE)
+            && ratio >= T::ONE
+            && T::is_finite(ratio);
+        if !plausible {
+            return (Measured::bad(), Measured::bad(), implausible(ps, pd, dp));
         }
-        if !(T::is_finite(ratio) && ratio >= T::ONE) {
-            return (
-                Measured::bad(),
-                Measured::bad(),
-                SurgeFault::DischargeBelowSuction,
-            );
-        }
-        let q = ps.quality.worst(pd.quality);
-        let mut fault = if q.worst(dp.quality) == Quality::Good {
+        let mut fault = if inputs_q == Quality::Good {
             SurgeFault::None
         } else {
             SurgeFault::InputUncertain
         };
-        let mut xq = q.worst(dp.quality);
+        let mut xq = inputs_q;
         if T::abs(x) > T::of(FLOW_DP_RATIO_VALID) {
             xq = xq.worst(Quality::Uncertain);
             fault = SurgeFault::FlowDpOutsideValidity;
