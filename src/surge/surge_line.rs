@@ -105,21 +105,44 @@ pub struct LineLookup<T> {
     pub quality: Quality,
 }
 
-/// The differences across one segment (point `i` to point `i + 1`),
-/// computed once at construction: the lookup then subtracts nothing but the
-/// live head (the same differences it used to form per scan, so the same
-/// bits).
+/// One slot of the lookup table: a segment (point `i` to point `i + 1`)
+/// with its lower end and its differences, computed once at construction
+/// (the lookup then subtracts nothing but the live head; the same
+/// differences it used to form per scan, so the same bits). The slots after
+/// the last segment hold it extended: upper head `+∞`, the last point's
+/// control margin, quality uncertain.
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 struct Segment<T> {
-    /// Head number at the segment's upper end.
+    /// Head number at the segment's upper end (`+∞`: the extension).
     head_hi: T,
+    /// Head number at the lower end.
+    head_lo: T,
     /// Head number difference, > 0.
     head_span: T,
+    /// Flow number at the lower end.
+    flow_lo: T,
     /// Flow number difference, > 0.
     flow_span: T,
-    /// Control margin difference.
+    /// Control margin at the lower end (the extension: the last point's).
+    margin_lo: T,
+    /// Control margin difference (the extension: not used).
     margin_span: T,
+    /// `Good` on a mapped segment, `Uncertain` on the extension.
+    quality: Quality,
+}
+
+impl<T: Real> Segment<T> {
+    const UNSET: Self = Segment {
+        head_hi: T::ZERO,
+        head_lo: T::ZERO,
+        head_span: T::ZERO,
+        flow_lo: T::ZERO,
+        flow_span: T::ZERO,
+        margin_lo: T::ZERO,
+        margin_span: T::ZERO,
+        quality: Quality::Bad,
+    };
 }
 
 /// A validated surge line with at most `N` points (`N >= 2`).
@@ -127,8 +150,10 @@ struct Segment<T> {
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct SurgeLine<T, const N: usize> {
     points: Vec<LinePoint<T>, N>,
-    /// `points.len() - 1` segments, in rising head.
-    segments: Vec<Segment<T>, N>,
+    /// `points.len() - 1` segments in rising head, then the last one
+    /// extended in every remaining slot (at least one: `N` points make
+    /// `N − 1` segments).
+    segments: [Segment<T>; N],
     sigma: T,
 }
 
@@ -187,7 +212,7 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             m.suction_temperature.kelvin(),
         );
         let mut points: Vec<LinePoint<T>, N> = Vec::new();
-        let mut segments: Vec<Segment<T>, N> = Vec::new();
+        let mut segments = [Segment::UNSET; N];
         for (i, p) in config.points.iter().enumerate() {
             let ok = finite_pos(p.speed_rpm)
                 && finite_pos(p.suction_volume_flow)
@@ -224,17 +249,40 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
                 }
                 let segment = Segment {
                     head_hi: r.head_number,
+                    head_lo: prev.head_number,
                     head_span: r.head_number - prev.head_number,
+                    flow_lo: prev.flow_number,
                     flow_span: r.flow_number - prev.flow_number,
+                    margin_lo: prev.control_margin,
                     margin_span: r.control_margin - prev.control_margin,
+                    quality: Quality::Good,
                 };
-                if segments.push(segment).is_err() {
-                    return Err(count);
+                // Slot `i − 1 < N − 1` (at most `N` points, checked above).
+                match segments.get_mut(i.saturating_sub(1)) {
+                    Some(slot) => *slot = segment,
+                    None => return Err(count),
                 }
             }
             if points.push(r).is_err() {
                 return Err(count);
             }
+        }
+        // The extension: the last segment (slot `points.len() − 2`) with an
+        // unbounded upper head and the last point's control margin, in every
+        // slot from `points.len() − 1` on.
+        let (Some(last_point), Some(&last)) =
+            (points.last(), segments.get(points.len().saturating_sub(2)))
+        else {
+            return Err(count);
+        };
+        for slot in segments.iter_mut().skip(points.len().saturating_sub(1)) {
+            *slot = Segment {
+                head_hi: T::of(f64::INFINITY),
+                margin_lo: last_point.control_margin,
+                margin_span: T::ZERO,
+                quality: Quality::Uncertain,
+                ..last
+            };
         }
         Ok(SurgeLine {
             points,
@@ -256,50 +304,42 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
     /// Surge flow and control margin at head number `Y` (finite assumed).
     /// At most `N` iterations.
     pub fn lookup(&self, head: T) -> LineLookup<T> {
-        let pts = self.points.as_slice();
-        let (Some(first), Some(last)) = (pts.first(), pts.last()) else {
-            // Unreachable after validation; answer "no line" as bad data.
+        let segments = &self.segments;
+        // `N >= 2`: both slots exist.
+        let (Some(first), Some(last_slot)) = (segments.first(), segments.last()) else {
             return LineLookup {
                 surge_flow_number: T::ZERO,
                 control_margin: T::ZERO,
                 quality: Quality::Bad,
             };
         };
-        if head < first.head_number {
+        if head < first.head_lo {
             return LineLookup {
-                surge_flow_number: first.flow_number,
-                control_margin: first.control_margin,
+                surge_flow_number: first.flow_lo,
+                control_margin: first.margin_lo,
                 quality: Quality::Uncertain,
             };
         }
-        // The segment holding `head` (point `a` to the next), else the last
-        // one, extended. `f`, the surge flow and the control margin are
-        // formed exactly as `a + f·(b − a)` with `f = (Y − Y_a)/(Y_b − Y_a)`,
-        // the differences taken at construction.
-        let segments = self.segments.as_slice();
-        let mut k = segments.len().saturating_sub(1);
-        let mut quality = Quality::Uncertain;
-        for (i, s) in segments.iter().enumerate() {
-            if head <= s.head_hi {
-                k = i;
-                quality = Quality::Good;
+        // The segment holding `head`, else (above the mapped heads) the
+        // extension, whose upper head is unbounded; a NaN head finds no slot
+        // and takes the last one (an extension slot). `f`, the surge flow
+        // and the control margin are formed exactly as `a + f·(b − a)` with
+        // `f = (Y − Y_a)/(Y_b − Y_a)`, the differences taken at
+        // construction.
+        let mut s = last_slot;
+        for slot in segments {
+            if head <= slot.head_hi {
+                s = slot;
                 break;
             }
         }
-        let (Some(a), Some(s)) = (pts.get(k), segments.get(k)) else {
-            // Unreachable after validation (at least one segment).
-            return LineLookup {
-                surge_flow_number: T::ZERO,
-                control_margin: T::ZERO,
-                quality: Quality::Bad,
-            };
-        };
-        let f = (head - a.head_number) / s.head_span;
-        let q2 = a.flow_number + f * s.flow_span;
+        let f = (head - s.head_lo) / s.head_span;
+        let q2 = s.flow_lo + f * s.flow_span;
+        let quality = s.quality;
         let cm = if quality == Quality::Good {
-            a.control_margin + f * s.margin_span
+            s.margin_lo + f * s.margin_span
         } else {
-            last.control_margin
+            s.margin_lo
         };
         LineLookup {
             surge_flow_number: q2,
