@@ -564,10 +564,11 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         let (rate, time) = self.rate_and_time(state.margin);
         state.rate_of_approach = rate;
         state.time_to_surge = time;
-        // The σ of this scan, read where it is stored (not carried through the
-        // margin evaluation: the same value).
-        state.exponent = self.exponent.state();
+        // The σ of this scan copied from where it is kept, after the rest
+        // (the same value the evaluation read; carried through it, it was
+        // copied twice, by way of the stack).
         self.state = state;
+        self.state.exponent = self.exponent.state();
         &self.state
     }
 
