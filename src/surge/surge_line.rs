@@ -24,8 +24,6 @@
 //! keeps falling); above the highest the last segment is extended (it
 //! rises, conservative). Both are reported [`Quality::Uncertain`].
 
-use heapless::Vec;
-
 use super::coordinates::{
     flow_number_from_volume_flow, head_number, reduced_speed, sigma_from_exponent, z_r_t,
 };
@@ -105,55 +103,39 @@ pub struct LineLookup<T> {
     pub quality: Quality,
 }
 
-/// One slot of the lookup table: a segment (point `i` to point `i + 1`)
-/// with its lower end and its differences, computed once at construction
-/// (the lookup then subtracts nothing but the live head; the same
-/// differences it used to form per scan, so the same bits). The slots after
-/// the last segment hold it extended: upper head `+∞`, the last point's
-/// control margin, quality uncertain.
+/// The differences across one segment (point `i` to point `i + 1`),
+/// computed once at construction: the lookup then subtracts nothing but the
+/// live head (the same differences it used to form per scan, so the same
+/// bits). The slots after the last segment have an unbounded upper head
+/// (the search stops there: the last segment, extended).
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 struct Segment<T> {
-    /// Head number at the segment's upper end (`+∞`: the extension).
+    /// Head number at the segment's upper end (`+∞` after the last segment).
     head_hi: T,
-    /// Head number at the lower end.
-    head_lo: T,
     /// Head number difference, > 0.
     head_span: T,
-    /// Flow number at the lower end.
-    flow_lo: T,
     /// Flow number difference, > 0.
     flow_span: T,
-    /// Control margin at the lower end (the extension: the last point's).
-    margin_lo: T,
-    /// Control margin difference (the extension: not used).
+    /// Control margin difference.
     margin_span: T,
-    /// `Good` on a mapped segment, `Uncertain` on the extension.
-    quality: Quality,
-}
-
-impl<T: Real> Segment<T> {
-    const UNSET: Self = Segment {
-        head_hi: T::ZERO,
-        head_lo: T::ZERO,
-        head_span: T::ZERO,
-        flow_lo: T::ZERO,
-        flow_span: T::ZERO,
-        margin_lo: T::ZERO,
-        margin_span: T::ZERO,
-        quality: Quality::Bad,
-    };
 }
 
 /// A validated surge line with at most `N` points (`N >= 2`).
 #[derive(Clone, Debug)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct SurgeLine<T, const N: usize> {
-    points: Vec<LinePoint<T>, N>,
-    /// `points.len() - 1` segments in rising head, then the last one
-    /// extended in every remaining slot (at least one: `N` points make
-    /// `N − 1` segments).
+    /// The points in rising head; the first `count` are the line (fixed
+    /// slots, so the lookup indexes them without a length check).
+    points: [LinePoint<T>; N],
+    /// Number of points, in `[2, N]`.
+    count: usize,
+    /// Segment `i` (point `i` to `i + 1`) in slot `i` for `i < count − 1`;
+    /// the slots from `count − 1` on (at least one: `N` points make `N − 1`
+    /// segments) have an unbounded upper head and nothing else.
     segments: [Segment<T>; N],
+    /// Index of the last segment, `count − 2`.
+    last_segment: usize,
     sigma: T,
 }
 
@@ -191,7 +173,7 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
         if !finite_pos(config.flow_coefficient) {
             return bad("surge_line.flow_coefficient");
         }
-        let count = ConfigError::new(
+        let count_error = ConfigError::new(
             "surge_line.points",
             Problem::Count {
                 min: 2,
@@ -203,7 +185,7 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             },
         );
         if config.points.len() < 2 || config.points.len() > N {
-            return Err(count);
+            return Err(count_error);
         }
         let sigma = sigma_from_exponent(n);
         let zrt = z_r_t(
@@ -211,8 +193,21 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             m.molar_mass,
             m.suction_temperature.kelvin(),
         );
-        let mut points: Vec<LinePoint<T>, N> = Vec::new();
-        let mut segments = [Segment::UNSET; N];
+        let unset = LinePoint {
+            head_number: T::ZERO,
+            flow_number: T::ZERO,
+            control_margin: T::ZERO,
+            reduced_speed: T::ZERO,
+        };
+        let mut points = [unset; N];
+        // Every slot unbounded above until a segment is written into it.
+        let mut segments = [Segment {
+            head_hi: T::of(f64::INFINITY),
+            head_span: T::ONE,
+            flow_span: T::ZERO,
+            margin_span: T::ZERO,
+        }; N];
+        let mut count: usize = 0;
         for (i, p) in config.points.iter().enumerate() {
             let ok = finite_pos(p.speed_rpm)
                 && finite_pos(p.suction_volume_flow)
@@ -237,7 +232,7 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             if !(finite_pos(r.head_number) && finite_pos(r.flow_number)) {
                 return Err(outside_documented_range("surge_line.points").at(i));
             }
-            if let Some(prev) = points.last() {
+            if let Some(prev) = count.checked_sub(1).and_then(|k| points.get(k)) {
                 let prev: &LinePoint<T> = prev;
                 if !(r.head_number > prev.head_number
                     && r.flow_number > prev.flow_number
@@ -249,44 +244,27 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
                 }
                 let segment = Segment {
                     head_hi: r.head_number,
-                    head_lo: prev.head_number,
                     head_span: r.head_number - prev.head_number,
-                    flow_lo: prev.flow_number,
                     flow_span: r.flow_number - prev.flow_number,
-                    margin_lo: prev.control_margin,
                     margin_span: r.control_margin - prev.control_margin,
-                    quality: Quality::Good,
                 };
                 // Slot `i − 1 < N − 1` (at most `N` points, checked above).
                 match segments.get_mut(i.saturating_sub(1)) {
                     Some(slot) => *slot = segment,
-                    None => return Err(count),
+                    None => return Err(count_error),
                 }
             }
-            if points.push(r).is_err() {
-                return Err(count);
+            match points.get_mut(i) {
+                Some(slot) => *slot = r,
+                None => return Err(count_error),
             }
-        }
-        // The extension: the last segment (slot `points.len() − 2`) with an
-        // unbounded upper head and the last point's control margin, in every
-        // slot from `points.len() − 1` on.
-        let (Some(last_point), Some(&last)) =
-            (points.last(), segments.get(points.len().saturating_sub(2)))
-        else {
-            return Err(count);
-        };
-        for slot in segments.iter_mut().skip(points.len().saturating_sub(1)) {
-            *slot = Segment {
-                head_hi: T::of(f64::INFINITY),
-                margin_lo: last_point.control_margin,
-                margin_span: T::ZERO,
-                quality: Quality::Uncertain,
-                ..last
-            };
+            count = i + 1;
         }
         Ok(SurgeLine {
             points,
+            count,
             segments,
+            last_segment: count.saturating_sub(2),
             sigma,
         })
     }
@@ -298,48 +276,55 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
 
     /// The transformed points, in rising head.
     pub fn points(&self) -> &[LinePoint<T>] {
-        &self.points
+        self.points.get(..self.count).unwrap_or(&[])
     }
 
     /// Surge flow and control margin at head number `Y` (finite assumed).
     /// At most `N` iterations.
     pub fn lookup(&self, head: T) -> LineLookup<T> {
-        let segments = &self.segments;
-        // `N >= 2`: both slots exist.
-        let (Some(first), Some(last_slot)) = (segments.first(), segments.last()) else {
-            return LineLookup {
-                surge_flow_number: T::ZERO,
-                control_margin: T::ZERO,
-                quality: Quality::Bad,
-            };
+        let bad = LineLookup {
+            surge_flow_number: T::ZERO,
+            control_margin: T::ZERO,
+            quality: Quality::Bad,
         };
-        if head < first.head_lo {
+        // `N >= 2`: the slot exists.
+        let Some(first) = self.points.first() else {
+            return bad;
+        };
+        if head < first.head_number {
             return LineLookup {
-                surge_flow_number: first.flow_lo,
-                control_margin: first.margin_lo,
+                surge_flow_number: first.flow_number,
+                control_margin: first.control_margin,
                 quality: Quality::Uncertain,
             };
         }
-        // The segment holding `head`, else (above the mapped heads) the
-        // extension, whose upper head is unbounded; a NaN head finds no slot
-        // and takes the last one (an extension slot). `f`, the surge flow
-        // and the control margin are formed exactly as `a + f·(b − a)` with
-        // `f = (Y − Y_a)/(Y_b − Y_a)`, the differences taken at
-        // construction.
-        let mut s = last_slot;
-        for slot in segments {
-            if head <= slot.head_hi {
-                s = slot;
+        // The first slot whose upper head reaches `head`: a segment, or the
+        // first unbounded slot above the mapped heads (a NaN head reaches
+        // none and takes the last slot, also unbounded). Above the mapped
+        // heads the last segment is extended.
+        let mut k = N - 1;
+        for (i, segment) in self.segments.iter().enumerate() {
+            if head <= segment.head_hi {
+                k = i;
                 break;
             }
         }
-        let f = (head - s.head_lo) / s.head_span;
-        let q2 = s.flow_lo + f * s.flow_span;
-        let quality = s.quality;
-        let cm = if quality == Quality::Good {
-            s.margin_lo + f * s.margin_span
+        let j = k.min(self.last_segment);
+        let (Some(a), Some(s)) = (self.points.get(j), self.segments.get(j)) else {
+            // Unreachable (`j <= k < N`).
+            return bad;
+        };
+        // `f`, the surge flow and the control margin are formed exactly as
+        // `a + f·(b − a)` with `f = (Y − Y_a)/(Y_b − Y_a)`, the differences
+        // taken at construction.
+        let f = (head - a.head_number) / s.head_span;
+        let q2 = a.flow_number + f * s.flow_span;
+        let (cm, quality) = if k == j {
+            (a.control_margin + f * s.margin_span, Quality::Good)
         } else {
-            s.margin_lo
+            // The last point's.
+            let last = self.points.get(j + 1).map_or(T::ZERO, |p| p.control_margin);
+            (last, Quality::Uncertain)
         };
         LineLookup {
             surge_flow_number: q2,
