@@ -622,3 +622,141 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         (rate, Measured::new(t, q))
     }
 }
+
+#[cfg(test)]
+mod tests {
+    #![allow(clippy::unwrap_used, clippy::indexing_slicing)]
+    use super::*;
+    use crate::surge::{MapConditions, SurgeLineConfig, SurgePoint};
+
+    /// The plausibility checks exactly as the module docs list them, one
+    /// after the other: `None` for a plausible scan.
+    fn documented<T: Real>(
+        ps: Measured<T>,
+        pd: Measured<T>,
+        dp: Measured<T>,
+    ) -> Option<SurgeFault> {
+        let usable = |m: Measured<T>| m.quality.is_usable() && T::is_finite(m.value);
+        if !(usable(ps) && ps.value > T::ZERO && usable(pd) && pd.value > T::ZERO && usable(dp)) {
+            return Some(SurgeFault::InputBad);
+        }
+        let x = dp.value / ps.value;
+        if !(T::is_finite(x) && T::abs(x) <= T::of(FLOW_DP_RATIO_IMPOSSIBLE)) {
+            return Some(SurgeFault::FlowDpImpossible);
+        }
+        let r = pd.value / ps.value;
+        if !(T::is_finite(r) && r >= T::ONE) {
+            return Some(SurgeFault::DischargeBelowSuction);
+        }
+        None
+    }
+
+    fn monitor<T: Real>() -> SurgeMonitor<T, 4> {
+        // Invented demo points.
+        let p = |n: f64, q: f64, r: f64| SurgePoint {
+            speed_rpm: T::of(n),
+            suction_volume_flow: T::of(q),
+            pressure_ratio: T::of(r),
+            control_margin: T::of(0.1),
+        };
+        let line = SurgeLine::new(&SurgeLineConfig {
+            points: &[p(8000.0, 1.6, 1.75), p(10000.0, 2.05, 2.3)],
+            map: MapConditions {
+                suction_pressure: PressureAbs::from_pa(T::of(1.0e5)),
+                suction_temperature: Kelvin::new(T::of(293.15)),
+                molar_mass: T::of(28.96),
+                compressibility: T::ONE,
+            },
+            polytropic_exponent: T::of(1.45),
+            flow_coefficient: T::of(0.04),
+        })
+        .unwrap();
+        SurgeMonitor::new(
+            line,
+            MonitorConfig {
+                scan_period: T::of(0.02),
+                time_to_surge_horizon: T::of(60.0),
+                rate_filter_time: T::of(0.05),
+            },
+        )
+        .unwrap()
+    }
+
+    /// Consistency check: the one-pass plausibility test accepts exactly the
+    /// scans the documented checks accept, and a rejected scan gets the
+    /// documented fault, over every combination of special and ordinary
+    /// values (NaN, ±∞, ±0, subnormal, huge, negative, plausible) and
+    /// qualities of the three inputs.
+    fn same_verdict<T: Real>() {
+        let m = monitor::<T>();
+        let values = [
+            f64::NAN,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            0.0,
+            -0.0,
+            -1.0e5,
+            1.0e-40,
+            1.0e-300,
+            1.0,
+            2.0e3,
+            3.0e4,
+            5.0e4,
+            1.0e5,
+            2.0e5,
+            3.0e38,
+            1.0e300,
+        ];
+        let qualities = [
+            Quality::Good,
+            Quality::Uncertain,
+            Quality::Bad,
+            Quality::NotApplicable,
+        ];
+        let mut accepted = 0;
+        for &a in &values {
+            for &b in &values {
+                for &c in &values {
+                    for (i, &qa) in qualities.iter().enumerate() {
+                        // Every quality on one input at a time, the others
+                        // good or uncertain.
+                        let (qb, qc) = (qualities[i % 2], qualities[(i + 1) % 2]);
+                        let ps = Measured::new(T::of(a), qa);
+                        let pd = Measured::new(T::of(b), qb);
+                        let dp = Measured::new(T::of(c), qc);
+                        let scan = SurgeScan::pressures_only(
+                            ps.map(PressureAbs::from_pa),
+                            pd.map(PressureAbs::from_pa),
+                            dp,
+                        );
+                        let (x, y, fault) = m.map_point(&scan);
+                        match documented(ps, pd, dp) {
+                            Some(want) => {
+                                assert_eq!(fault, want, "{a} {b} {c} {qa:?}");
+                                assert_eq!(x.quality, Quality::Bad);
+                                assert_eq!(y.quality, Quality::Bad);
+                            }
+                            None => {
+                                accepted += 1;
+                                assert!(x.quality.is_usable(), "{a} {b} {c}");
+                                assert!(!matches!(
+                                    fault,
+                                    SurgeFault::InputBad
+                                        | SurgeFault::FlowDpImpossible
+                                        | SurgeFault::DischargeBelowSuction
+                                ));
+                            }
+                        }
+                    }
+                }
+            }
+        }
+        assert!(accepted > 0);
+    }
+
+    #[test]
+    fn one_pass_plausibility_matches_the_documented_checks() {
+        same_verdict::<f64>();
+        same_verdict::<f32>();
+    }
+}

@@ -333,3 +333,128 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    #![allow(clippy::unwrap_used, clippy::indexing_slicing)]
+    use super::*;
+
+    /// The lookup as a plain scan of the points, forming each difference on
+    /// the spot (the form the table replaces): below the first point the
+    /// first is held, in a segment it is interpolated, above the last the
+    /// last segment is extended with the last point's margin.
+    fn reference<T: Real>(pts: &[LinePoint<T>], head: T) -> LineLookup<T> {
+        let first = pts[0];
+        if head < first.head_number {
+            return LineLookup {
+                surge_flow_number: first.flow_number,
+                control_margin: first.control_margin,
+                quality: Quality::Uncertain,
+            };
+        }
+        let mut k = pts.len() - 2;
+        let mut quality = Quality::Uncertain;
+        for i in 0..pts.len() - 1 {
+            if head <= pts[i + 1].head_number {
+                k = i;
+                quality = Quality::Good;
+                break;
+            }
+        }
+        let (a, b) = (pts[k], pts[k + 1]);
+        let f = (head - a.head_number) / (b.head_number - a.head_number);
+        let cm = if quality == Quality::Good {
+            a.control_margin + f * (b.control_margin - a.control_margin)
+        } else {
+            pts[pts.len() - 1].control_margin
+        };
+        LineLookup {
+            surge_flow_number: a.flow_number + f * (b.flow_number - a.flow_number),
+            control_margin: cm,
+            quality,
+        }
+    }
+
+    fn line<T: Real, const N: usize>(count: usize) -> SurgeLine<T, N> {
+        // Invented demo points (rising speed, flow and ratio).
+        let all = [
+            (7000.0, 1.40, 1.55, 0.14),
+            (8000.0, 1.60, 1.75, 0.12),
+            (9000.0, 1.82, 2.00, 0.10),
+            (10000.0, 2.05, 2.30, 0.11),
+        ];
+        let points: heapless::Vec<SurgePoint<T>, 4> = all[..count]
+            .iter()
+            .map(|&(n, q, r, m)| SurgePoint {
+                speed_rpm: T::of(n),
+                suction_volume_flow: T::of(q),
+                pressure_ratio: T::of(r),
+                control_margin: T::of(m),
+            })
+            .collect();
+        SurgeLine::new(&SurgeLineConfig {
+            points: &points,
+            map: MapConditions {
+                suction_pressure: PressureAbs::from_pa(T::of(1.0e5)),
+                suction_temperature: Kelvin::new(T::of(293.15)),
+                molar_mass: T::of(28.96),
+                compressibility: T::ONE,
+            },
+            polytropic_exponent: T::of(1.45),
+            flow_coefficient: T::of(0.04),
+        })
+        .unwrap()
+    }
+
+    /// Consistency check: the table lookup gives the plain scan's bits (and
+    /// quality) at every head tried, below, on, between and above the
+    /// points, at the extremes and for NaN, for 2 to 4 points in 4 slots.
+    fn same_bits<T: Real>(bits: fn(T) -> u64) {
+        for count in 2..=4 {
+            let l = line::<T, 4>(count);
+            let pts = l.points();
+            assert_eq!(pts.len(), count);
+            let mut heads = std::vec![
+                T::ZERO,
+                -T::ONE,
+                T::of(1e-30),
+                T::of(1e30),
+                T::of(f64::INFINITY),
+                T::of(f64::NEG_INFINITY),
+            ];
+            let (lo, hi) = (pts[0].head_number, pts[count - 1].head_number);
+            for i in 0..=400 {
+                let h = lo + (hi - lo) * T::of(f64::from(i) / 300.0 - 1.0 / 6.0);
+                heads.push(h);
+            }
+            for p in pts {
+                heads.push(p.head_number);
+            }
+            for h in heads {
+                let (got, want) = (l.lookup(h), reference(pts, h));
+                assert_eq!(got.quality, want.quality, "head {h}");
+                assert_eq!(
+                    bits(got.surge_flow_number),
+                    bits(want.surge_flow_number),
+                    "head {h}"
+                );
+                assert_eq!(
+                    bits(got.control_margin),
+                    bits(want.control_margin),
+                    "head {h}"
+                );
+            }
+            let nan = l.lookup(T::of(f64::NAN));
+            let want = reference(pts, T::of(f64::NAN));
+            assert_eq!(nan.quality, want.quality);
+            assert!(!T::is_finite(nan.surge_flow_number));
+            assert_eq!(bits(nan.control_margin), bits(want.control_margin));
+        }
+    }
+
+    #[test]
+    fn table_lookup_matches_the_plain_scan_bit_for_bit() {
+        same_bits::<f64>(f64::to_bits);
+        same_bits::<f32>(|x| u64::from(x.to_bits()));
+    }
+}
