@@ -284,6 +284,17 @@ impl<T: Real> RateFilter<T> {
     }
 }
 
+/// [`Measured::derived`] of a value known to be finite: the same result
+/// without the finiteness test.
+#[inline(always)]
+fn derived_finite<T: Real>(value: T, quality: Quality) -> Measured<T> {
+    match quality {
+        Quality::Good | Quality::Uncertain => Measured::new(value, quality),
+        Quality::Bad => Measured::bad(),
+        Quality::NotApplicable => Measured::not_applicable(),
+    }
+}
+
 /// Why a scan that failed the plausibility checks of
 /// [`SurgeMonitor::map_point`] is bad, in the documented order: an input bad,
 /// not finite or a pressure not positive; `|Δp|/ps` impossible; discharge
@@ -511,8 +522,16 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         } else {
             T::ZERO
         };
-        let control = Measured::derived(look.control_margin + added, lq);
-        let clearance = Measured::derived(
+        // Both finite without a test: the control margin of a validated line
+        // lies in [0, 1] (interpolated between two margins in [0, 1), or one
+        // of them; 0 with a bad lookup) and `added` is finite and >= 0, so
+        // the sum is at most the largest finite value rounded (never
+        // infinite); a finite margin is `√q − 1` of a finite `q`, so
+        // `|m| <= √MAX + 1` (< 2e19 for f32, < 2e154 for f64), and a bad one
+        // is 0: far below the spacing of floats near the largest finite
+        // value, so the difference is finite too (`tests` below).
+        let control = derived_finite(look.control_margin + added, lq);
+        let clearance = derived_finite(
             margin.value - control.value,
             margin.quality.worst(control.quality),
         );
@@ -752,6 +771,67 @@ mod tests {
             }
         }
         assert!(accepted > 0);
+    }
+
+    /// The control margin and the clearance are finite without a test
+    /// (see `evaluate_sharing`): every output stays finite for added margins
+    /// up to the largest finite value, at margins from reverse flow to far
+    /// above the line, and equals `Measured::derived` of the same sum and
+    /// difference.
+    fn finite_without_test<T: Real>() {
+        let m = monitor::<T>();
+        let max = if T::EPSILON > T::of(1e-10) {
+            f64::from(f32::MAX)
+        } else {
+            f64::MAX
+        };
+        for added in [0.0, 0.05, 1.0e30, max, -1.0, f64::INFINITY, f64::NAN] {
+            for dp in [-5.0e4, -1.0, 0.0, 1.0e-30, 50.0, 2.0e3, 2.0e4, 5.0e4] {
+                for pd in [1.0e5, 1.5e5, 2.0e5, 2.6e5, 1.0e7] {
+                    let scan = SurgeScan::pressures_only(
+                        Measured::good(PressureAbs::from_pa(T::of(1.0e5))),
+                        Measured::good(PressureAbs::from_pa(T::of(pd))),
+                        Measured::good(T::of(dp)),
+                    );
+                    let st = m.evaluate(&scan, T::of(added));
+                    let all = [
+                        st.flow_number,
+                        st.head_number,
+                        st.surge_flow_number,
+                        st.margin,
+                        st.control_margin,
+                        st.clearance,
+                    ];
+                    for v in all {
+                        assert!(T::is_finite(v.value), "{added} {dp} {pd}: {v:?}");
+                    }
+                    let a = if T::is_finite(T::of(added)) {
+                        T::max(T::of(added), T::ZERO)
+                    } else {
+                        T::ZERO
+                    };
+                    if st.head_number.quality.is_usable() {
+                        let look = m.line().lookup(st.head_number.value);
+                        let control = Measured::derived(
+                            look.control_margin + a,
+                            look.quality.worst(st.head_number.quality),
+                        );
+                        assert_eq!(control, st.control_margin, "{added} {dp} {pd}");
+                    }
+                    let clearance = Measured::derived(
+                        st.margin.value - st.control_margin.value,
+                        st.margin.quality.worst(st.control_margin.quality),
+                    );
+                    assert_eq!(clearance, st.clearance, "{added} {dp} {pd}");
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn control_margin_and_clearance_are_finite_without_a_test() {
+        finite_without_test::<f64>();
+        finite_without_test::<f32>();
     }
 
     #[test]
