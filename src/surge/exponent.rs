@@ -156,6 +156,43 @@ fn measured_sigma_with<T: Real>(
 ) -> Result<T, ExponentFault> {
     let t1 = suction_temperature.value.kelvin();
     let t2 = discharge_temperature.value.kelvin();
+    // The checks in one pass: good temperatures, `T1 > 0`, the rise and
+    // `r > 1`, then σ within its bounds. They accept exactly the samples the
+    // documented checks accept (`rejected`): a non-finite `T1` fails the
+    // rise (−∞ or NaN); then a non-finite `T2` or `r` gives a σ that is
+    // infinite, NaN or 0, outside the bounds; `T2 > 0` and `r > 0` follow
+    // from the rise and `r > 1`. A rejected sample is classified in the
+    // documented order.
+    let early = suction_temperature.quality == Quality::Good
+        && discharge_temperature.quality == Quality::Good
+        && t1 > T::ZERO
+        && t2 - t1 >= T::of(RISE_PER_ACCURACY) * temperature_accuracy
+        && ratio > T::ONE;
+    if !early {
+        return Err(rejected(suction_temperature, discharge_temperature, ratio));
+    }
+    let sigma = T::ln(t2 / t1) / ln_ratio.of(ratio);
+    if sigma >= T::of(SIGMA_MIN) && sigma <= T::of(SIGMA_MAX) {
+        Ok(sigma)
+    } else if T::is_finite(t1) && T::is_finite(t2) && T::is_finite(ratio) {
+        Err(ExponentFault::OutOfBounds)
+    } else {
+        Err(ExponentFault::InputBad)
+    }
+}
+
+/// Why a sample failed before σ is formed, in the documented order: a
+/// temperature not good, an input not finite or not positive
+/// ([`ExponentFault::InputBad`]); the rise too small or `r <= 1`
+/// ([`ExponentFault::RiseTooSmall`]).
+#[inline(never)]
+fn rejected<T: Real>(
+    suction_temperature: Measured<Kelvin<T>>,
+    discharge_temperature: Measured<Kelvin<T>>,
+    ratio: T,
+) -> ExponentFault {
+    let t1 = suction_temperature.value.kelvin();
+    let t2 = discharge_temperature.value.kelvin();
     let good = suction_temperature.quality == Quality::Good
         && discharge_temperature.quality == Quality::Good
         && T::is_finite(t1)
@@ -165,17 +202,10 @@ fn measured_sigma_with<T: Real>(
         && t2 > T::ZERO
         && ratio > T::ZERO;
     if !good {
-        return Err(ExponentFault::InputBad);
+        return ExponentFault::InputBad;
     }
-    if !(t2 - t1 >= T::of(RISE_PER_ACCURACY) * temperature_accuracy) || !(ratio > T::ONE) {
-        return Err(ExponentFault::RiseTooSmall);
-    }
-    let sigma = T::ln(t2 / t1) / ln_ratio.of(ratio);
-    if T::is_finite(sigma) && sigma >= T::of(SIGMA_MIN) && sigma <= T::of(SIGMA_MAX) {
-        Ok(sigma)
-    } else {
-        Err(ExponentFault::OutOfBounds)
-    }
+    // Only a failed rise or `r <= 1` is left (the one-pass check failed).
+    ExponentFault::RiseTooSmall
 }
 
 /// The exponent of the head number, per scan: the configured σ, or the
@@ -354,5 +384,96 @@ impl<T: Real> ExponentEstimator<T> {
             },
         };
         self.state
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    #![allow(clippy::unwrap_used, clippy::indexing_slicing)]
+    use super::*;
+
+    /// The checks exactly as the module docs list them, one after the other.
+    fn documented<T: Real>(
+        t1: Measured<Kelvin<T>>,
+        t2: Measured<Kelvin<T>>,
+        ratio: T,
+        accuracy: T,
+    ) -> Result<T, ExponentFault> {
+        let (a, b) = (t1.value.kelvin(), t2.value.kelvin());
+        let good = t1.quality == Quality::Good
+            && t2.quality == Quality::Good
+            && T::is_finite(a)
+            && T::is_finite(b)
+            && T::is_finite(ratio)
+            && a > T::ZERO
+            && b > T::ZERO
+            && ratio > T::ZERO;
+        if !good {
+            return Err(ExponentFault::InputBad);
+        }
+        if !(b - a >= T::of(RISE_PER_ACCURACY) * accuracy) || !(ratio > T::ONE) {
+            return Err(ExponentFault::RiseTooSmall);
+        }
+        let sigma = T::ln(b / a) / T::ln(ratio);
+        if T::is_finite(sigma) && sigma >= T::of(SIGMA_MIN) && sigma <= T::of(SIGMA_MAX) {
+            Ok(sigma)
+        } else {
+            Err(ExponentFault::OutOfBounds)
+        }
+    }
+
+    /// Consistency check: the one-pass checks give the documented verdict
+    /// (the same σ bits, or the same fault) over every combination of
+    /// special and ordinary temperatures, ratios and qualities.
+    fn same_verdict<T: Real>() {
+        let values = [
+            f64::NAN,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            0.0,
+            -1.0,
+            1.0e-40,
+            1.0,
+            1.0000001,
+            1.5,
+            3.0,
+            250.0,
+            300.0,
+            305.0,
+            380.0,
+            450.0,
+            1.0e30,
+        ];
+        let qualities = [Quality::Good, Quality::Uncertain, Quality::Bad];
+        let accuracy = T::of(0.5);
+        let mut accepted = 0;
+        for &a in &values {
+            for &b in &values {
+                for &r in &values {
+                    for &qa in &qualities {
+                        for &qb in &qualities[..2] {
+                            let t1 = Measured::new(Kelvin::new(T::of(a)), qa);
+                            let t2 = Measured::new(Kelvin::new(T::of(b)), qb);
+                            let got = measured_sigma(t1, t2, T::of(r), accuracy);
+                            let want = documented(t1, t2, T::of(r), accuracy);
+                            match (got, want) {
+                                (Ok(g), Ok(w)) => {
+                                    accepted += 1;
+                                    assert_eq!(g.to_f64().to_bits(), w.to_f64().to_bits());
+                                }
+                                (g, w) => assert_eq!(g, w, "{a} {b} {r} {qa:?} {qb:?}"),
+                            }
+                        }
+                    }
+                }
+            }
+        }
+        assert!(accepted > 0);
+    }
+
+    #[test]
+    fn one_pass_checks_match_the_documented_checks() {
+        same_verdict::<f64>();
+        same_verdict::<f32>();
     }
 }
