@@ -174,11 +174,43 @@ fn inv_sqrt_temperature<T: Real>(t: T) -> T {
     }
 }
 
+/// Largest |y| for which [`exp_start`] uses tanh(y/2) by its series.
+const EXP_SERIES_LIMIT: f64 = 0.4;
+
+/// e^y for the entropy match's start: in the device (f32) build, for
+/// |y| ≤ [`EXP_SERIES_LIMIT`], (1 + u)/(1 − u) with u = tanh(y/2) by its
+/// series to (y/2)⁷ (Abramowitz & Stegun 4.5.64; the first omitted term,
+/// 62/2835·(y/2)⁹, is below 1.2e-8 relative, under f32 rounding): one
+/// division and five multiply-adds instead of an `expf` call. Else (and
+/// always in the f64 reference build) `T::exp`.
+#[inline]
+fn exp_start<T: Real>(y: T) -> T {
+    let h = T::of(0.5) * y;
+    if T::EPSILON > T::of(1e-9) && T::abs(y) <= T::of(EXP_SERIES_LIMIT) {
+        let h2 = h * h;
+        let u = h
+            * (T::ONE
+                - h2 * (T::of(1.0 / 3.0) - h2 * (T::of(2.0 / 15.0) - h2 * T::of(17.0 / 315.0))));
+        (T::ONE + u) / (T::ONE - u)
+    } else {
+        T::exp(y)
+    }
+}
+
 /// `T::ln` for the series' fallbacks, out of line: `logf` is inlined at
 /// every call site otherwise (about 140 bytes each).
 #[inline(never)]
 fn ln_out_of_line<T: Real>(x: T) -> T {
     T::ln(x)
+}
+
+/// ln(p0/p), p0 the reference pressure: the pressure term of an absolute
+/// entropy (one expression, so that [`GasModel::isothermal_work`] adds it
+/// to a state evaluated relative to its own pressure with the bits a fresh
+/// evaluation gives).
+#[inline]
+fn ln_reference_pressure<T: Real>(p: T) -> T {
+    T::ln(T::of(REFERENCE_PRESSURE) * (T::ONE / p))
 }
 
 /// 1/√T outside the fitted range, out of line (rare).
@@ -381,7 +413,9 @@ struct Core<T> {
     dp_dt: T,
     /// ln(T/T0) (T0 the reference temperature), -.
     ln_t: T,
-    /// ln(p0/p) (p0 the reference pressure), -.
+    /// ln(p_ref/p), -: p_ref is the reference pressure p0, or a
+    /// compression's suction pressure (its entropies are counted from the
+    /// suction pressure, which saves a logarithm per stage).
     ln_p: T,
     validity: Validity,
 }
@@ -638,8 +672,9 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
     /// One (p, T) evaluation. `ENTROPY = false` skips the entropy (s = 0);
     /// `DERIVATIVES = false` skips cp, (∂P/∂v)_T and (∂P/∂T)_v (left
     /// at placeholder values): Z, v and h only. `ln_t` = ln(T/T0) and
-    /// `ln_p` = ln(p0/p) when the caller already knows them (the states of
-    /// one compression share them), else computed here. Out of line: one
+    /// `ln_p` = ln(p_ref/p) (see `Core::ln_p`) when the caller already
+    /// knows them (the states of one compression share them), else
+    /// computed here with p_ref = p0. Out of line: one
     /// copy per variant keeps flash and the callers' stack frames small.
     #[inline(never)]
     fn core_at<const ENTROPY: bool, const DERIVATIVES: bool>(
@@ -692,13 +727,20 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
             (z, false)
         };
         // Start from the second-virial estimate Z = 1 + B − A (two or three
-        // steps at gas densities). The result is the largest root exactly
-        // when it lies above the inflection point (1 − B)/3 with a positive
-        // slope; otherwise restart from 1 + B, an upper bound of the largest
-        // root, from which Newton descends monotonically to it.
+        // steps at gas densities). With a positive slope the result is the
+        // largest root exactly when it lies above the inflection point
+        // (1 − B)/3 (the vertex of the deflated quadratic Z² + q1 Z + q0,
+        // q1 = c2 + z, q0 = c1 + z·q1, whose roots are the other two), or
+        // when it is the only real root (the quadratic's discriminant
+        // negative: a dense state above the critical temperature);
+        // otherwise restart from 1 + B, an upper bound of the largest root,
+        // from which Newton descends monotonically to it.
         let (mut z, mut converged) = newton(T::ONE + big_b - big_a);
         let slope = (T::of(3.0) * z + T::of(2.0) * c2) * z + c1;
-        if !(converged && z > (T::ONE - big_b) * T::of(1.0 / 3.0) && slope > T::ZERO) {
+        let q1 = c2 + z;
+        let only_root = q1 * q1 - T::of(4.0) * (c1 + z * q1) < T::ZERO;
+        let largest = z > (T::ONE - big_b) * T::of(1.0 / 3.0) || only_root;
+        if !(converged && largest && slope > T::ZERO) {
             (z, converged) = newton(T::ONE + big_b);
         }
         if !(z > big_b && z < huge) {
@@ -736,7 +778,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         let (ln_t, ln_p) = if ENTROPY {
             (
                 ln_t.unwrap_or_else(|| ln_near_one(t * T::of(1.0 / REFERENCE_TEMPERATURE))),
-                ln_p.unwrap_or_else(|| T::ln(T::of(REFERENCE_PRESSURE) * inv_p)),
+                ln_p.unwrap_or_else(|| ln_reference_pressure(p)),
             )
         } else {
             (T::ZERO, T::ZERO)
@@ -746,7 +788,10 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         let v = z * rt * inv_p;
         let h = h0 + rt * (z - T::ONE) + (t * da - a) * k;
         let s = if ENTROPY {
-            s0 + r * (ln_near_one(z - big_b) + ln_p) + da * k
+            // The pressure term last: a state evaluated with ln_p = 0 (a
+            // compression's suction, its own reference pressure) adds it
+            // later with the same bits (`isothermal_work`).
+            (s0 + r * ln_near_one(z - big_b) + da * k) + r * ln_p
         } else {
             T::ZERO
         };
@@ -783,7 +828,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
     /// slope only). In f32 a last step below [`LINEAR_STEP`] in ln T is
     /// not re-evaluated: h, v, Z and ln T follow it (h to second order, v
     /// to first); in f64 the iteration stops at an evaluated state once the
-    /// step is below [`EXACT_STEP`]. `ln_t_start` (ln(T_start/T0), if known) and `ln_p` (ln(p0/p2))
+    /// step is below [`EXACT_STEP`]. `ln_t_start` (ln(T_start/T0), if known) and `ln_p` (ln(p_ref/p2), p_ref that of `target`)
     /// save logarithms. At most [`ISENTROPIC_ITERATIONS`] evaluations, else
     /// not converged.
     fn entropy_match(
@@ -872,7 +917,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         self.entropy_match(
             c1.s,
             p2,
-            t1 * T::exp(y),
+            t1 * exp_start(y),
             t1,
             Some(c1.ln_t + y),
             Some(c1.ln_p - ln_ratio),
@@ -1028,7 +1073,10 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
         t2: Option<T>,
         _z_supplied: Option<T>,
     ) -> CompressionStates<T> {
-        let c1 = self.core(p1, t1);
+        // Entropies from the suction pressure (ln_p = 0): only their
+        // differences are used, and the discharge states' pressure term is
+        // −ln(p2/p1), known.
+        let c1 = self.core_at::<true, true>(p1, t1, None, Some(T::ZERO));
         self.memo.suction.insert(p1, t1, c1);
         if c1.validity.quality == Quality::Bad {
             return CompressionStates {
@@ -1141,12 +1189,18 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
         _z_supplied: Option<T>,
     ) -> (T, Validity) {
         let _ = ln_ratio;
-        let c1 = match self.memo.suction.find(p1, t) {
+        // The suction state as `compression` evaluates it (entropy from its
+        // own pressure), then the absolute entropy with the bits of
+        // `core(p1, t)`; the same ln(T/T0) at p2.
+        let mut c1 = match self.memo.suction.find(p1, t) {
             Some(c) => c,
-            None => self.core(p1, t),
+            None => self.core_at::<true, true>(p1, t, None, Some(T::ZERO)),
         };
+        c1.s += T::of(MOLAR_GAS_CONSTANT) * ln_reference_pressure(p1);
+        let ln_t = (c1.validity != Validity::INVALID).then_some(c1.ln_t);
+        let c2 = self.core_at::<true, true>(p2, t, ln_t, None);
         let (h1, s1, v1) = self.state_hs(t, &c1);
-        let (h2, s2, v2) = self.state_hs(t, &self.core(p2, t));
+        let (h2, s2, v2) = self.state_hs(t, &c2);
         ((h2 - h1) - t * (s2 - s1), v1.worst(v2))
     }
 }
