@@ -108,7 +108,7 @@ const SERIES_LIMIT: f64 = 0.2;
 
 /// 2·atanh(u) = ln((1 + u)/(1 − u)) by its series to u¹¹ (Abramowitz &
 /// Stegun 4.6.22 / 4.1.27), for |u| ≤ [`SERIES_LIMIT`].
-#[inline]
+#[inline(always)]
 fn two_atanh<T: Real>(u: T) -> T {
     let u2 = u * u;
     let tail = T::of(1.0 / 7.0) + u2 * (T::of(1.0 / 9.0) + u2 * T::of(1.0 / 11.0));
@@ -119,13 +119,13 @@ fn two_atanh<T: Real>(u: T) -> T {
 /// (one division and eight multiply-adds instead of a `logf` call: the
 /// gas-like states of a compressor, where Z − B and ratios of Z stay near
 /// one), else `T::ln`.
-#[inline]
+#[inline(always)]
 fn ln_near_one<T: Real>(x: T) -> T {
     ln_ratio_near_one(x, T::ONE)
 }
 
 /// ln(x/y) for x/y near one (see [`ln_near_one`]), else `T::ln(x/y)`.
-#[inline]
+#[inline(always)]
 fn ln_ratio_near_one<T: Real>(x: T, y: T) -> T {
     let u = (x - y) / (x + y);
     if T::abs(u) <= T::of(SERIES_LIMIT) {
@@ -137,7 +137,7 @@ fn ln_ratio_near_one<T: Real>(x: T, y: T) -> T {
 
 /// The departure functions' logarithm
 /// ln[(Z + (1 + √2)B)/(Z + (1 − √2)B)] = 2·atanh(√2·B/(Z + B)).
-#[inline]
+#[inline(always)]
 fn log_departure<T: Real>(z: T, big_b: T) -> T {
     let s2 = T::of(SQRT2);
     let u = s2 * big_b / (z + big_b);
@@ -158,7 +158,7 @@ const RSQRT_RANGE: (f64, f64) = (150.0, 1000.0);
 /// over [`RSQRT_RANGE`] (relative error at most 5.8 %). The relative error
 /// e becomes −1.5·e² per step: three steps leave at most 3e-9 (below f32
 /// rounding), a fourth in f64 1e-17. Outside the range `1/T::sqrt(t)`.
-#[inline]
+#[inline(always)]
 fn inv_sqrt_temperature<T: Real>(t: T) -> T {
     if t > T::of(RSQRT_RANGE.0) && t < T::of(RSQRT_RANGE.1) {
         let mut y = T::of(0.096_400_898_279_824_05)
@@ -438,6 +438,28 @@ impl<T: Real> Core<T> {
     }
 }
 
+/// Newton's iteration on Z³ + c2 Z² + c1 Z + c0 from `z`, at most
+/// [`CUBIC_ITERATIONS`] steps, and whether it converged: Newton's next
+/// step would be about f''/(2f')·step², so it stops when that is within
+/// `tol` relative, a few units in the last place (saves the step that only
+/// confirms). A NaN step fails the test and runs to the cap (not
+/// converged). Always inline: on Cortex-M0 its own frame would sit below
+/// the state evaluation's.
+#[inline(always)]
+fn cubic_newton<T: Real>(mut z: T, [c2, c1, c0]: [T; 3], tol: T) -> (T, bool) {
+    for _ in 0..CUBIC_ITERATIONS {
+        let f = ((z + c2) * z + c1) * z + c0;
+        let df = (T::of(3.0) * z + T::of(2.0) * c2) * z + c1;
+        let d2f = T::of(6.0) * z + T::of(2.0) * c2;
+        let step = f / df;
+        z = z - step;
+        if T::abs(d2f) * step * step <= T::of(2.0) * T::abs(df) * tol * z {
+            return (z, true);
+        }
+    }
+    (z, false)
+}
+
 /// `validity` made worse if the cubic's smallest root `zl` (from the
 /// deflated quadratic with `q1` and discriminant `disc` > 0) is a liquid
 /// more stable than the vapour root `z` (`l` its departure logarithm):
@@ -633,7 +655,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
 
     /// Ideal-gas cp0 (J/(mol K)) and the ideal-gas h (J/mol) and s at p0
     /// (J/(mol K)) from the reference temperature, given `ln_t` = ln(T/T0).
-    #[inline]
+    #[inline(always)]
     fn ideal(&self, t: T, ln_t: T) -> (T, T, T) {
         let [c0, c1, c2, c3] = self.cp0;
         let t0 = T::of(REFERENCE_TEMPERATURE);
@@ -709,23 +731,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         let c1 = big_a - T::of(3.0) * big_b * big_b - T::of(2.0) * big_b;
         let c0 = -(big_a * big_b - big_b * big_b - big_b * big_b * big_b);
         let tol = T::of(1e-13) + T::of(2.0) * T::EPSILON;
-        // Newton's next step would be about f''/(2f')·step²: stop when that
-        // is within the tolerance, a few units in the last place (saves the
-        // step that only confirms). A
-        // NaN step fails the test and runs to the cap (not converged).
-        let newton = |mut z: T| {
-            for _ in 0..CUBIC_ITERATIONS {
-                let f = ((z + c2) * z + c1) * z + c0;
-                let df = (T::of(3.0) * z + T::of(2.0) * c2) * z + c1;
-                let d2f = T::of(6.0) * z + T::of(2.0) * c2;
-                let step = f / df;
-                z = z - step;
-                if T::abs(d2f) * step * step <= T::of(2.0) * T::abs(df) * tol * z {
-                    return (z, true);
-                }
-            }
-            (z, false)
-        };
+        let cubic = [c2, c1, c0];
         // Start from the second-virial estimate Z = 1 + B − A (two or three
         // steps at gas densities). With a positive slope the result is the
         // largest root exactly when it lies above the inflection point
@@ -735,13 +741,13 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         // negative: a dense state above the critical temperature);
         // otherwise restart from 1 + B, an upper bound of the largest root,
         // from which Newton descends monotonically to it.
-        let (mut z, mut converged) = newton(T::ONE + big_b - big_a);
+        let (mut z, mut converged) = cubic_newton(T::ONE + big_b - big_a, cubic, tol);
         let slope = (T::of(3.0) * z + T::of(2.0) * c2) * z + c1;
         let q1 = c2 + z;
         let only_root = q1 * q1 - T::of(4.0) * (c1 + z * q1) < T::ZERO;
         let largest = z > (T::ONE - big_b) * T::of(1.0 / 3.0) || only_root;
         if !(converged && largest && slope > T::ZERO) {
-            (z, converged) = newton(T::ONE + big_b);
+            (z, converged) = cubic_newton(T::ONE + big_b, cubic, tol);
         }
         if !(z > big_b && z < huge) {
             return Core::invalid();
