@@ -28,9 +28,12 @@
 //!   would move Z by p·c/RT, under 0.3 % at the checked gas states, and
 //!   leaves heads unchanged except through p·v).
 //!
-//! Roots: Newton on the cubic from Z = 1 + B, an upper bound of the largest
-//! root (Z − B ≤ 1 for any PR root), converges monotonically to the largest
-//! (vapour-like) root, at most [`CUBIC_ITERATIONS`] steps. A root with
+//! Roots: Newton on the cubic from the second-virial Z = 1 + B − A; its
+//! root is kept when it is the largest (above the inflection point, or the
+//! only real root), else Newton restarts from Z = 1 + B, an upper bound of
+//! the largest root (Z − B ≤ 1 for any PR root), from which it converges
+//! monotonically to the largest (vapour-like) root; at most
+//! [`CUBIC_ITERATIONS`] steps each. A root with
 //! v < 3.95·b (the PR critical v/b) is liquid-like: no vapour root, bad.
 //! When three real roots exist the fugacities of the largest and smallest
 //! decide whether the vapour is the stable phase (pseudo-pure one-fluid test
