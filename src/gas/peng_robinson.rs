@@ -28,9 +28,12 @@
 //!   would move Z by p·c/RT, under 0.3 % at the checked gas states, and
 //!   leaves heads unchanged except through p·v).
 //!
-//! Roots: Newton on the cubic from Z = 1 + B, an upper bound of the largest
-//! root (Z − B ≤ 1 for any PR root), converges monotonically to the largest
-//! (vapour-like) root, at most [`CUBIC_ITERATIONS`] steps. A root with
+//! Roots: Newton on the cubic from the second-virial Z = 1 + B − A; its
+//! root is kept when it is the largest (above the inflection point, or the
+//! only real root), else Newton restarts from Z = 1 + B, an upper bound of
+//! the largest root (Z − B ≤ 1 for any PR root), from which it converges
+//! monotonically to the largest (vapour-like) root; at most
+//! [`CUBIC_ITERATIONS`] steps each. A root with
 //! v < 3.95·b (the PR critical v/b) is liquid-like: no vapour root, bad.
 //! When three real roots exist the fugacities of the largest and smallest
 //! decide whether the vapour is the stable phase (pseudo-pure one-fluid test
@@ -108,7 +111,7 @@ const SERIES_LIMIT: f64 = 0.2;
 
 /// 2·atanh(u) = ln((1 + u)/(1 − u)) by its series to u¹¹ (Abramowitz &
 /// Stegun 4.6.22 / 4.1.27), for |u| ≤ [`SERIES_LIMIT`].
-#[inline]
+#[inline(always)]
 fn two_atanh<T: Real>(u: T) -> T {
     let u2 = u * u;
     let tail = T::of(1.0 / 7.0) + u2 * (T::of(1.0 / 9.0) + u2 * T::of(1.0 / 11.0));
@@ -119,13 +122,13 @@ fn two_atanh<T: Real>(u: T) -> T {
 /// (one division and eight multiply-adds instead of a `logf` call: the
 /// gas-like states of a compressor, where Z − B and ratios of Z stay near
 /// one), else `T::ln`.
-#[inline]
+#[inline(always)]
 fn ln_near_one<T: Real>(x: T) -> T {
     ln_ratio_near_one(x, T::ONE)
 }
 
 /// ln(x/y) for x/y near one (see [`ln_near_one`]), else `T::ln(x/y)`.
-#[inline]
+#[inline(always)]
 fn ln_ratio_near_one<T: Real>(x: T, y: T) -> T {
     let u = (x - y) / (x + y);
     if T::abs(u) <= T::of(SERIES_LIMIT) {
@@ -137,7 +140,7 @@ fn ln_ratio_near_one<T: Real>(x: T, y: T) -> T {
 
 /// The departure functions' logarithm
 /// ln[(Z + (1 + √2)B)/(Z + (1 − √2)B)] = 2·atanh(√2·B/(Z + B)).
-#[inline]
+#[inline(always)]
 fn log_departure<T: Real>(z: T, big_b: T) -> T {
     let s2 = T::of(SQRT2);
     let u = s2 * big_b / (z + big_b);
@@ -158,7 +161,7 @@ const RSQRT_RANGE: (f64, f64) = (150.0, 1000.0);
 /// over [`RSQRT_RANGE`] (relative error at most 5.8 %). The relative error
 /// e becomes −1.5·e² per step: three steps leave at most 3e-9 (below f32
 /// rounding), a fourth in f64 1e-17. Outside the range `1/T::sqrt(t)`.
-#[inline]
+#[inline(always)]
 fn inv_sqrt_temperature<T: Real>(t: T) -> T {
     if t > T::of(RSQRT_RANGE.0) && t < T::of(RSQRT_RANGE.1) {
         let mut y = T::of(0.096_400_898_279_824_05)
@@ -174,11 +177,43 @@ fn inv_sqrt_temperature<T: Real>(t: T) -> T {
     }
 }
 
+/// Largest |y| for which [`exp_start`] uses tanh(y/2) by its series.
+const EXP_SERIES_LIMIT: f64 = 0.4;
+
+/// e^y for the entropy match's start: in the device (f32) build, for
+/// |y| ≤ [`EXP_SERIES_LIMIT`], (1 + u)/(1 − u) with u = tanh(y/2) by its
+/// series to (y/2)⁷ (Abramowitz & Stegun 4.5.64; the first omitted term,
+/// 62/2835·(y/2)⁹, is below 1.2e-8 relative, under f32 rounding): one
+/// division and five multiply-adds instead of an `expf` call. Else (and
+/// always in the f64 reference build) `T::exp`.
+#[inline]
+fn exp_start<T: Real>(y: T) -> T {
+    let h = T::of(0.5) * y;
+    if T::EPSILON > T::of(1e-9) && T::abs(y) <= T::of(EXP_SERIES_LIMIT) {
+        let h2 = h * h;
+        let u = h
+            * (T::ONE
+                - h2 * (T::of(1.0 / 3.0) - h2 * (T::of(2.0 / 15.0) - h2 * T::of(17.0 / 315.0))));
+        (T::ONE + u) / (T::ONE - u)
+    } else {
+        T::exp(y)
+    }
+}
+
 /// `T::ln` for the series' fallbacks, out of line: `logf` is inlined at
 /// every call site otherwise (about 140 bytes each).
 #[inline(never)]
 fn ln_out_of_line<T: Real>(x: T) -> T {
     T::ln(x)
+}
+
+/// ln(p0/p), p0 the reference pressure: the pressure term of an absolute
+/// entropy (one expression, so that [`GasModel::isothermal_work`] adds it
+/// to a state evaluated relative to its own pressure with the bits a fresh
+/// evaluation gives).
+#[inline]
+fn ln_reference_pressure<T: Real>(p: T) -> T {
+    T::ln(T::of(REFERENCE_PRESSURE) * (T::ONE / p))
 }
 
 /// 1/√T outside the fitted range, out of line (rare).
@@ -381,7 +416,9 @@ struct Core<T> {
     dp_dt: T,
     /// ln(T/T0) (T0 the reference temperature), -.
     ln_t: T,
-    /// ln(p0/p) (p0 the reference pressure), -.
+    /// ln(p_ref/p), -: p_ref is the reference pressure p0, or a
+    /// compression's suction pressure (its entropies are counted from the
+    /// suction pressure, which saves a logarithm per stage).
     ln_p: T,
     validity: Validity,
 }
@@ -402,6 +439,28 @@ impl<T: Real> Core<T> {
             validity: Validity::INVALID,
         }
     }
+}
+
+/// Newton's iteration on Z³ + c2 Z² + c1 Z + c0 from `z`, at most
+/// [`CUBIC_ITERATIONS`] steps, and whether it converged: Newton's next
+/// step would be about f''/(2f')·step², so it stops when that is within
+/// `tol` relative, a few units in the last place (saves the step that only
+/// confirms). A NaN step fails the test and runs to the cap (not
+/// converged). Always inline: on Cortex-M0 its own frame would sit below
+/// the state evaluation's.
+#[inline(always)]
+fn cubic_newton<T: Real>(mut z: T, [c2, c1, c0]: [T; 3], tol: T) -> (T, bool) {
+    for _ in 0..CUBIC_ITERATIONS {
+        let f = ((z + c2) * z + c1) * z + c0;
+        let df = (T::of(3.0) * z + T::of(2.0) * c2) * z + c1;
+        let d2f = T::of(6.0) * z + T::of(2.0) * c2;
+        let step = f / df;
+        z = z - step;
+        if T::abs(d2f) * step * step <= T::of(2.0) * T::abs(df) * tol * z {
+            return (z, true);
+        }
+    }
+    (z, false)
 }
 
 /// `validity` made worse if the cubic's smallest root `zl` (from the
@@ -599,7 +658,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
 
     /// Ideal-gas cp0 (J/(mol K)) and the ideal-gas h (J/mol) and s at p0
     /// (J/(mol K)) from the reference temperature, given `ln_t` = ln(T/T0).
-    #[inline]
+    #[inline(always)]
     fn ideal(&self, t: T, ln_t: T) -> (T, T, T) {
         let [c0, c1, c2, c3] = self.cp0;
         let t0 = T::of(REFERENCE_TEMPERATURE);
@@ -638,8 +697,9 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
     /// One (p, T) evaluation. `ENTROPY = false` skips the entropy (s = 0);
     /// `DERIVATIVES = false` skips cp, (∂P/∂v)_T and (∂P/∂T)_v (left
     /// at placeholder values): Z, v and h only. `ln_t` = ln(T/T0) and
-    /// `ln_p` = ln(p0/p) when the caller already knows them (the states of
-    /// one compression share them), else computed here. Out of line: one
+    /// `ln_p` = ln(p_ref/p) (see `Core::ln_p`) when the caller already
+    /// knows them (the states of one compression share them), else
+    /// computed here with p_ref = p0. Out of line: one
     /// copy per variant keeps flash and the callers' stack frames small.
     #[inline(never)]
     fn core_at<const ENTROPY: bool, const DERIVATIVES: bool>(
@@ -674,32 +734,23 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         let c1 = big_a - T::of(3.0) * big_b * big_b - T::of(2.0) * big_b;
         let c0 = -(big_a * big_b - big_b * big_b - big_b * big_b * big_b);
         let tol = T::of(1e-13) + T::of(2.0) * T::EPSILON;
-        // Newton's next step would be about f''/(2f')·step²: stop when that
-        // is within the tolerance, a few units in the last place (saves the
-        // step that only confirms). A
-        // NaN step fails the test and runs to the cap (not converged).
-        let newton = |mut z: T| {
-            for _ in 0..CUBIC_ITERATIONS {
-                let f = ((z + c2) * z + c1) * z + c0;
-                let df = (T::of(3.0) * z + T::of(2.0) * c2) * z + c1;
-                let d2f = T::of(6.0) * z + T::of(2.0) * c2;
-                let step = f / df;
-                z = z - step;
-                if T::abs(d2f) * step * step <= T::of(2.0) * T::abs(df) * tol * z {
-                    return (z, true);
-                }
-            }
-            (z, false)
-        };
+        let cubic = [c2, c1, c0];
         // Start from the second-virial estimate Z = 1 + B − A (two or three
-        // steps at gas densities). The result is the largest root exactly
-        // when it lies above the inflection point (1 − B)/3 with a positive
-        // slope; otherwise restart from 1 + B, an upper bound of the largest
-        // root, from which Newton descends monotonically to it.
-        let (mut z, mut converged) = newton(T::ONE + big_b - big_a);
+        // steps at gas densities). With a positive slope the result is the
+        // largest root exactly when it lies above the inflection point
+        // (1 − B)/3 (the vertex of the deflated quadratic Z² + q1 Z + q0,
+        // q1 = c2 + z, q0 = c1 + z·q1, whose roots are the other two), or
+        // when it is the only real root (the quadratic's discriminant
+        // negative: a dense state above the critical temperature);
+        // otherwise restart from 1 + B, an upper bound of the largest root,
+        // from which Newton descends monotonically to it.
+        let (mut z, mut converged) = cubic_newton(T::ONE + big_b - big_a, cubic, tol);
         let slope = (T::of(3.0) * z + T::of(2.0) * c2) * z + c1;
-        if !(converged && z > (T::ONE - big_b) * T::of(1.0 / 3.0) && slope > T::ZERO) {
-            (z, converged) = newton(T::ONE + big_b);
+        let q1 = c2 + z;
+        let only_root = q1 * q1 - T::of(4.0) * (c1 + z * q1) < T::ZERO;
+        let largest = z > (T::ONE - big_b) * T::of(1.0 / 3.0) || only_root;
+        if !(converged && largest && slope > T::ZERO) {
+            (z, converged) = cubic_newton(T::ONE + big_b, cubic, tol);
         }
         if !(z > big_b && z < huge) {
             return Core::invalid();
@@ -736,7 +787,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         let (ln_t, ln_p) = if ENTROPY {
             (
                 ln_t.unwrap_or_else(|| ln_near_one(t * T::of(1.0 / REFERENCE_TEMPERATURE))),
-                ln_p.unwrap_or_else(|| T::ln(T::of(REFERENCE_PRESSURE) * inv_p)),
+                ln_p.unwrap_or_else(|| ln_reference_pressure(p)),
             )
         } else {
             (T::ZERO, T::ZERO)
@@ -746,7 +797,10 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         let v = z * rt * inv_p;
         let h = h0 + rt * (z - T::ONE) + (t * da - a) * k;
         let s = if ENTROPY {
-            s0 + r * (ln_near_one(z - big_b) + ln_p) + da * k
+            // The pressure term last: a state evaluated with ln_p = 0 (a
+            // compression's suction, its own reference pressure) adds it
+            // later with the same bits (`isothermal_work`).
+            (s0 + r * ln_near_one(z - big_b) + da * k) + r * ln_p
         } else {
             T::ZERO
         };
@@ -783,7 +837,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
     /// slope only). In f32 a last step below [`LINEAR_STEP`] in ln T is
     /// not re-evaluated: h, v, Z and ln T follow it (h to second order, v
     /// to first); in f64 the iteration stops at an evaluated state once the
-    /// step is below [`EXACT_STEP`]. `ln_t_start` (ln(T_start/T0), if known) and `ln_p` (ln(p0/p2))
+    /// step is below [`EXACT_STEP`]. `ln_t_start` (ln(T_start/T0), if known) and `ln_p` (ln(p_ref/p2), p_ref that of `target`)
     /// save logarithms. At most [`ISENTROPIC_ITERATIONS`] evaluations, else
     /// not converged.
     fn entropy_match(
@@ -872,7 +926,7 @@ impl<T: Real, const C: usize> PengRobinson<T, C> {
         self.entropy_match(
             c1.s,
             p2,
-            t1 * T::exp(y),
+            t1 * exp_start(y),
             t1,
             Some(c1.ln_t + y),
             Some(c1.ln_p - ln_ratio),
@@ -1028,7 +1082,10 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
         t2: Option<T>,
         _z_supplied: Option<T>,
     ) -> CompressionStates<T> {
-        let c1 = self.core(p1, t1);
+        // Entropies from the suction pressure (ln_p = 0): only their
+        // differences are used, and the discharge states' pressure term is
+        // −ln(p2/p1), known.
+        let c1 = self.core_at::<true, true>(p1, t1, None, Some(T::ZERO));
         self.memo.suction.insert(p1, t1, c1);
         if c1.validity.quality == Quality::Bad {
             return CompressionStates {
@@ -1141,12 +1198,18 @@ impl<T: Real, const C: usize> GasModel<T> for PengRobinson<T, C> {
         _z_supplied: Option<T>,
     ) -> (T, Validity) {
         let _ = ln_ratio;
-        let c1 = match self.memo.suction.find(p1, t) {
+        // The suction state as `compression` evaluates it (entropy from its
+        // own pressure), then the absolute entropy with the bits of
+        // `core(p1, t)`; the same ln(T/T0) at p2.
+        let mut c1 = match self.memo.suction.find(p1, t) {
             Some(c) => c,
-            None => self.core(p1, t),
+            None => self.core_at::<true, true>(p1, t, None, Some(T::ZERO)),
         };
+        c1.s += T::of(MOLAR_GAS_CONSTANT) * ln_reference_pressure(p1);
+        let ln_t = (c1.validity != Validity::INVALID).then_some(c1.ln_t);
+        let c2 = self.core_at::<true, true>(p2, t, ln_t, None);
         let (h1, s1, v1) = self.state_hs(t, &c1);
-        let (h2, s2, v2) = self.state_hs(t, &self.core(p2, t));
+        let (h2, s2, v2) = self.state_hs(t, &c2);
         ((h2 - h1) - t * (s2 - s1), v1.worst(v2))
     }
 }
