@@ -891,6 +891,10 @@ pub struct TableGas<'a, T> {
     /// One lattice unit in T and its inverse.
     unit_t: T,
     inv_unit_t: T,
+    /// A leaf's width 2^s lattice units in ln p and its inverse, and its
+    /// height in T and its inverse, for s = 0..=16 (built once by
+    /// [`TableGas::new`], so `locate` only looks them up).
+    leaf_sizes: [[T; 4]; 17],
     /// Where the descent starts for each of 2^JUMP_BITS × 2^JUMP_BITS equal
     /// parts of the envelope: the deepest cell that holds the whole part,
     /// with its size as powers of two of lattice units (ln p, T); built once
@@ -959,7 +963,20 @@ impl<'a, T: Real> TableGas<'a, T> {
             memo_t: core::array::from_fn(|_| core::cell::Cell::new(T::ZERO)),
             memo: core::array::from_fn(|_| core::cell::Cell::new(Memo::bad(TableFlag::NotFinite))),
             memo_next: core::cell::Cell::new(0),
+            leaf_sizes: [[T::ZERO; 4]; 17],
         };
+        for (shift, sizes) in gas.leaf_sizes.iter_mut().enumerate() {
+            let shift = shift as u32;
+            let n = T::from_u32(1 << shift);
+            // 2^(16 − shift)·2^−16 = 2^−shift, exactly.
+            let inv_n = T::from_u32(1 << (16 - shift)) * T::of(1.0 / 65_536.0);
+            *sizes = [
+                gas.unit_x * n,
+                gas.inv_unit_x * inv_n,
+                gas.unit_t * n,
+                gas.inv_unit_t * inv_n,
+            ];
+        }
         gas.build_jump();
         Ok(gas)
     }
@@ -1068,18 +1085,16 @@ impl<'a, T: Real> TableGas<'a, T> {
             let cell = cells.get(index)?;
             if cell.children == 0 {
                 let (i0, j0) = ((ix >> sx) << sx, (iy >> sy) << sy);
-                let (nx, ny) = (T::from_u32(1 << sx), T::from_u32(1 << sy));
-                // 2^(16 − shift)·2^−16 = 2^−shift, exactly.
-                let inv_nx = T::from_u32(1 << (16 - sx)) * T::of(1.0 / 65_536.0);
-                let inv_ny = T::from_u32(1 << (16 - sy)) * T::of(1.0 / 65_536.0);
+                let &[dx, inv_dx, _, _] = self.leaf_sizes.get(sx as usize)?;
+                let &[_, _, dy, inv_dy] = self.leaf_sizes.get(sy as usize)?;
                 return Some(Leaf {
                     cell,
                     x0: T::from_u32(i0) * self.unit_x,
-                    inv_dx: self.inv_unit_x * inv_nx,
-                    dx: self.unit_x * nx,
+                    inv_dx,
+                    dx,
                     y0: T::from_u32(j0) * self.unit_t,
-                    inv_dy: self.inv_unit_t * inv_ny,
-                    dy: self.unit_t * ny,
+                    inv_dy,
+                    dy,
                 });
             }
             let [bit_x, bit_t, ..] = cell.corners;
