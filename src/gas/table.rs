@@ -1065,7 +1065,7 @@ impl<'a, T: Real> TableGas<'a, T> {
     }
 
     /// Descends the tree to the leaf holding relative coordinates (x, y).
-    #[inline]
+    #[inline(always)]
     fn locate(&self, x: T, y: T) -> Option<Leaf<'a, T>> {
         // Integer lattice coordinates of the point; each split cell names
         // the bit of them that picks its child.
