@@ -11,15 +11,12 @@
 //! Method: the range test over a moving window (a standard steady-state
 //! identification test; see e.g. Cao & Rhinehart, "An efficient method for
 //! on-line identification of steady state", J. Process Control 5 (1995),
-//! for the family of such tests). Each window keeps its minimum and maximum
-//! and the slots holding them as values arrive, and rescans one extreme (W
-//! comparisons) only when its slot is overwritten and the new value does not
-//! replace it; otherwise a scan costs a few comparisons per window.
+//! for the family of such tests). Each window yields its exact minimum and
+//! maximum at a bounded cost per scan (see `RangeWindow`).
 
 use crate::error::{check_positive, ConfigError};
 use crate::quality::Measured;
 use crate::real::Real;
-use crate::window::Window;
 
 /// Tolerances of the steady-state test.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -82,91 +79,151 @@ impl<T: Real> SteadyState<T> {
     }
 }
 
-/// A rolling window that tracks its minimum and maximum and a ring slot
-/// holding each: when the value leaving the window is in the slot of an
-/// extreme, only that extreme is rescanned (a trend costs one rescan of one
-/// extreme per scan, not two).
+/// A rolling window of the last `W` values that yields its minimum and
+/// maximum exactly at a bounded cost per write (the van Herk / Gil–Werman
+/// decomposition of a running extreme into blocks of `W`: M. van Herk, "A
+/// fast algorithm for local minimum and maximum filters on rectangular and
+/// octagonal kernels", Pattern Recognition Letters 13 (1992); J. Gil and
+/// M. Werman, IEEE Trans. PAMI 15 (1993)).
+///
+/// The ring is filled in laps of `W` writes. After a write at slot `k`, the
+/// window holds this lap's slots `0..=k` and the previous lap's slots
+/// `k+1..W`; its maximum is the larger of this lap's running maximum and the
+/// previous lap's suffix maximum from slot `k+1`. The suffix extremes of a
+/// lap are computed once, when the lap completes (`W` steps every `W`
+/// writes, outlined), so a write costs two comparisons and a query two more,
+/// whatever the data (the earlier ring rescanned all `W` values whenever an
+/// extreme left the window, which a trend does at every scan).
+///
+/// Exactness: every value compared is a value of the window (or, after a
+/// clear, the first value written, which stays in the window until every
+/// other slot holds a newer value), so the extremes equal a full rescan's.
 #[derive(Clone, Debug)]
 struct RangeWindow<T, const W: usize> {
-    values: Window<T, W>,
-    /// Minimum and maximum of `values` (0 while empty).
-    lo: T,
-    hi: T,
-    /// A ring slot holding `lo` and one holding `hi`.
-    lo_slot: u16,
-    hi_slot: u16,
+    /// Slots `0..next`: this lap's values; slots `next..W`: the previous
+    /// lap's suffix maxima (slot `i` holds the largest of its slots `i..W`).
+    /// When a lap completes, every slot holds that lap's suffix maximum.
+    high: [T; W],
+    /// Slots `next..W`: the previous lap's suffix minima.
+    low: [T; W],
+    /// Largest and smallest of this lap's values (slots `0..next`; the whole
+    /// lap just after it completed). 0 while the window is empty.
+    lap_high: T,
+    lap_low: T,
+    /// Slot of the next write, `< W`.
+    next: u16,
+    /// Values held, `<= W`.
+    len: u16,
 }
 
 impl<T: Real, const W: usize> RangeWindow<T, W> {
     const fn new() -> Self {
         const {
             assert!(
-                W <= 65_535,
-                "a steady-state window holds at most 65535 scans"
+                W >= 1 && W <= 65_535,
+                "a steady-state window holds 1 to 65535 scans"
             )
         };
         RangeWindow {
-            values: Window::filled_with(T::ZERO),
-            lo: T::ZERO,
-            hi: T::ZERO,
-            lo_slot: 0,
-            hi_slot: 0,
+            high: [T::ZERO; W],
+            low: [T::ZERO; W],
+            lap_high: T::ZERO,
+            lap_low: T::ZERO,
+            next: 0,
+            len: 0,
         }
     }
 
+    /// Forgets every value (the sides hold 0, so an empty window's
+    /// extremes are 0).
     fn clear(&mut self) {
-        self.values.clear();
-        self.lo = T::ZERO;
-        self.hi = T::ZERO;
-        self.lo_slot = 0;
-        self.hi_slot = 0;
+        self.high = [T::ZERO; W];
+        self.low = [T::ZERO; W];
+        self.lap_high = T::ZERO;
+        self.lap_low = T::ZERO;
+        self.next = 0;
+        self.len = 0;
     }
 
+    #[inline(always)]
     fn len(&self) -> usize {
-        self.values.len()
+        usize::from(self.len)
     }
 
-    /// Adds a finite value. The extremes equal a full rescan's: an extreme is
-    /// rescanned only when its slot is overwritten and the new value does not
-    /// reach it (a new value at or beyond an extreme is the new extreme
-    /// whatever left).
+    /// Adds a finite value.
+    #[inline(always)]
     fn write(&mut self, v: T) {
-        // W <= 65535 (asserted in `new`), so a slot fits in u16.
-        let slot = u16::try_from(self.values.next_slot()).unwrap_or(0);
-        let first = self.values.len() == 0;
-        let evicted = self.values.push(v).is_some();
-        if first {
-            (self.lo, self.hi, self.lo_slot, self.hi_slot) = (v, v, slot, slot);
-            return;
+        // W <= 65535 (asserted in `new`), so slots and counts fit in u16.
+        if usize::from(self.len) < W {
+            if self.len == 0 {
+                self.start(v);
+            }
+            self.len += 1;
         }
-        if v <= self.lo {
-            (self.lo, self.lo_slot) = (v, slot);
-        } else if evicted && slot == self.lo_slot {
-            (self.lo, self.lo_slot) = self.rescan(|a, b| a < b);
+        let k = self.next;
+        let at = usize::from(k);
+        if let Some(slot) = self.high.get_mut(at) {
+            *slot = v;
         }
-        if v >= self.hi {
-            (self.hi, self.hi_slot) = (v, slot);
-        } else if evicted && slot == self.hi_slot {
-            (self.hi, self.hi_slot) = self.rescan(|a, b| a > b);
+        (self.lap_high, self.lap_low) = if at == 0 {
+            (v, v)
+        } else {
+            (T::max(self.lap_high, v), T::min(self.lap_low, v))
+        };
+        if at + 1 < W {
+            self.next = k + 1;
+        } else {
+            self.next = 0;
+            self.close_lap();
         }
     }
 
-    /// The extreme of the window by `beyond` and its slot (the first slot
-    /// on a tie).
-    fn rescan(&self, beyond: impl Fn(T, T) -> bool) -> (T, u16) {
-        let values = self.values.as_slice();
-        let mut best = (values.first().copied().unwrap_or(T::ZERO), 0);
-        for (i, &x) in values.iter().enumerate().skip(1) {
-            if beyond(x, best.0) {
-                best = (x, i);
-            }
+    /// First write after a clear: every slot of both sides holds `v` (the
+    /// unwritten slots stand for the previous lap, and `v` stays in the
+    /// window until each of them has been overwritten).
+    #[inline(never)]
+    fn start(&mut self, v: T) {
+        self.high = [v; W];
+        self.low = [v; W];
+    }
+
+    /// The lap completed: turns its values (in `high`) into suffix maxima
+    /// (in place) and minima (in `low`).
+    #[inline(never)]
+    fn close_lap(&mut self) {
+        // Seeds no value of the lap exceeds (below) nor undercuts (above):
+        // the first step yields the last slot's value.
+        let mut hi = self.lap_low;
+        let mut lo = self.lap_high;
+        for (h, l) in self.high.iter_mut().zip(self.low.iter_mut()).rev() {
+            let x = *h;
+            hi = T::max(hi, x);
+            lo = T::min(lo, x);
+            *h = hi;
+            *l = lo;
         }
-        (best.0, u16::try_from(best.1).unwrap_or(0))
+    }
+
+    /// Minimum and maximum of the window (0, 0 when empty).
+    #[inline(always)]
+    fn extremes(&self) -> (T, T) {
+        let k = usize::from(self.next);
+        let hi = match self.high.get(k) {
+            Some(&h) => T::max(self.lap_high, h),
+            None => self.lap_high,
+        };
+        let lo = match self.low.get(k) {
+            Some(&l) => T::min(self.lap_low, l),
+            None => self.lap_low,
+        };
+        (lo, hi)
     }
 
     /// Spread (max - min) and largest magnitude.
+    #[inline(always)]
     fn spread(&self) -> (T, T) {
-        (self.hi - self.lo, T::max(T::abs(self.hi), T::abs(self.lo)))
+        let (lo, hi) = self.extremes();
+        (hi - lo, T::max(T::abs(hi), T::abs(lo)))
     }
 }
 
@@ -292,6 +349,8 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
 mod tests {
     use super::*;
     use crate::quality::Quality;
+    use std::format;
+    use std::string::String;
 
     #[test]
     fn becomes_steady_after_a_full_quiet_window_and_resets_on_a_step() {
@@ -314,29 +373,117 @@ mod tests {
         assert_eq!((s.steady, s.samples), (false, 0));
     }
 
+    /// Feeds `values` (a clear where `None`) to a window and to a naive
+    /// history of the last `W` values, comparing minimum, maximum and spread
+    /// with a full rescan after every write (a consistency check against
+    /// the definition of the range over a moving window).
+    fn matches_a_full_rescan<const W: usize>(values: &[Option<f32>]) -> Result<(), String> {
+        let mut r = RangeWindow::<f32, W>::new();
+        let mut history: std::collections::VecDeque<f32> = std::collections::VecDeque::new();
+        for (i, v) in values.iter().enumerate() {
+            match *v {
+                Some(v) => {
+                    r.write(v);
+                    history.push_back(v);
+                    if history.len() > W {
+                        history.pop_front();
+                    }
+                }
+                None => {
+                    r.clear();
+                    history.clear();
+                }
+            }
+            let (lo, hi) = extremes(history.make_contiguous());
+            let (got_lo, got_hi) = r.extremes();
+            if (got_lo, got_hi) != (lo, hi) || r.len() != history.len() {
+                return Err(format!(
+                    "W {W}, write {i}: window ({got_lo}, {got_hi}, len {}), rescan ({lo}, {hi}, len {})",
+                    r.len(),
+                    history.len()
+                ));
+            }
+            if r.spread() != (hi - lo, f32::max(hi.abs(), lo.abs())) {
+                return Err(format!("W {W}, write {i}: spread {:?}", r.spread()));
+            }
+        }
+        Ok(())
+    }
+
     #[test]
     fn tracked_extremes_equal_a_full_rescan() {
-        // Pseudo-random values from a small set, so extremes repeat and
-        // leave the window often; clears in between.
-        let mut r = RangeWindow::<f32, 5>::new();
+        // Random values from a small set (ties, extremes leaving often),
+        // then a rising and a falling trend (an extreme leaves at every
+        // scan), clears in between.
         let mut seed = 12_345_u32;
-        for i in 0..4_000 {
-            seed = seed.wrapping_mul(1_103_515_245).wrapping_add(12_345);
-            // Random values from a small set, then a rising and a falling
-            // trend (an extreme leaves at every scan).
-            let v = match (i / 500) % 4 {
-                1 => i as f32 * 0.25,
-                3 => -(i as f32) * 0.5,
-                _ => ((seed >> 16) % 7) as f32 - 3.0,
-            };
-            if i % 301 == 300 {
-                r.clear();
-            }
-            r.write(v);
-            let (lo, hi) = extremes(r.values.as_slice());
-            assert_eq!((r.lo, r.hi), (lo, hi), "scan {i}");
-            assert_eq!(r.spread(), (hi - lo, f32::max(hi.abs(), lo.abs())));
+        let values: std::vec::Vec<Option<f32>> = (0..4_000)
+            .map(|i| {
+                seed = seed.wrapping_mul(1_103_515_245).wrapping_add(12_345);
+                if i % 301 == 300 {
+                    return None;
+                }
+                Some(match (i / 500) % 4 {
+                    1 => i as f32 * 0.25,
+                    3 => -(i as f32) * 0.5,
+                    _ => ((seed >> 16) % 7) as f32 - 3.0,
+                })
+            })
+            .collect();
+        for check in [
+            matches_a_full_rescan::<1>,
+            matches_a_full_rescan::<2>,
+            matches_a_full_rescan::<5>,
+            matches_a_full_rescan::<8>,
+        ] {
+            check(&values).unwrap();
         }
+    }
+
+    /// Seeded property test: random NaN-free sequences (values from a
+    /// small set for ties, or spread over many magnitudes, signs and
+    /// zeros), with clears, through windows of several lengths, including
+    /// sequences long enough to wrap the ring many times.
+    #[test]
+    fn window_extremes_equal_a_naive_rescan_proptest() {
+        use proptest::prelude::*;
+        use proptest::test_runner::{Config, RngAlgorithm, TestRng, TestRunner};
+        let mut seed_bytes = [0u8; 32];
+        seed_bytes[..8].copy_from_slice(&0x5EED_57EA_u64.to_le_bytes());
+        let config = Config {
+            cases: 512,
+            failure_persistence: None,
+            rng_algorithm: RngAlgorithm::ChaCha,
+            ..Config::default()
+        };
+        let mut runner = TestRunner::new_with_rng(
+            config,
+            TestRng::from_seed(RngAlgorithm::ChaCha, &seed_bytes),
+        );
+        let value = prop_oneof![
+            // Ties: a few distinct values.
+            (0_u8..4).prop_map(|n| Some(f32::from(n) - 1.5)),
+            // Any normal or subnormal value or zero (no NaN, no infinity).
+            (prop::num::f32::NORMAL | prop::num::f32::SUBNORMAL | prop::num::f32::ZERO)
+                .prop_map(Some),
+            // A plausible process value.
+            (300.0_f32..420.0).prop_map(Some),
+        ];
+        let step = prop_oneof![40 => value, 1 => Just(None)];
+        let sequence = prop::collection::vec(step, 0..200);
+        runner
+            .run(&sequence, |values| {
+                for check in [
+                    matches_a_full_rescan::<1>,
+                    matches_a_full_rescan::<2>,
+                    matches_a_full_rescan::<3>,
+                    matches_a_full_rescan::<8>,
+                    matches_a_full_rescan::<13>,
+                ] {
+                    check(&values).map_err(TestCaseError::fail)?;
+                }
+                Ok(())
+            })
+            .unwrap();
     }
 
     #[test]
