@@ -110,10 +110,11 @@ struct RangeWindow<T, const W: usize> {
     /// lap just after it completed). 0 while the window is empty.
     lap_high: T,
     lap_low: T,
-    /// Slot of the next write, `< W`.
+    /// Slot of the next write, `< W`; while not `full`, also the number of
+    /// values held (a clear restarts the laps at slot 0).
     next: u16,
-    /// Values held, `<= W`.
-    len: u16,
+    /// Whether a lap has completed since the last clear (`W` values held).
+    full: bool,
 }
 
 impl<T: Real, const W: usize> RangeWindow<T, W> {
@@ -130,7 +131,7 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
             lap_high: T::ZERO,
             lap_low: T::ZERO,
             next: 0,
-            len: 0,
+            full: false,
         }
     }
 
@@ -142,45 +143,59 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
         self.lap_high = T::ZERO;
         self.lap_low = T::ZERO;
         self.next = 0;
-        self.len = 0;
+        self.full = false;
     }
 
     #[inline(always)]
     fn len(&self) -> usize {
-        usize::from(self.len)
+        if self.full {
+            W
+        } else {
+            usize::from(self.next)
+        }
     }
 
-    /// Adds a finite value.
+    /// Adds a finite value; returns the window's minimum and maximum.
     #[inline(always)]
-    fn write(&mut self, v: T) {
-        // W <= 65535 (asserted in `new`), so slots and counts fit in u16.
-        if usize::from(self.len) < W {
-            if self.len == 0 {
-                self.start(v);
-            }
-            self.len += 1;
-        }
+    fn write(&mut self, v: T) -> (T, T) {
+        // W <= 65535 (asserted in `new`), so a slot fits in u16.
         let k = self.next;
         let at = usize::from(k);
-        if let Some(slot) = self.high.get_mut(at) {
-            *slot = v;
-        }
-        (self.lap_high, self.lap_low) = if at == 0 {
+        let (hi, lo) = if at == 0 {
+            if !self.full {
+                self.start(v);
+            }
             (v, v)
         } else {
             (T::max(self.lap_high, v), T::min(self.lap_low, v))
         };
+        (self.lap_high, self.lap_low) = (hi, lo);
         if at + 1 < W {
+            if let Some(slot) = self.high.get_mut(at) {
+                *slot = v;
+            }
             self.next = k + 1;
+            // The previous lap's suffix from the next slot.
+            match (self.high.get(at + 1), self.low.get(at + 1)) {
+                (Some(&h), Some(&l)) => (T::min(lo, l), T::max(hi, h)),
+                _ => (lo, hi),
+            }
         } else {
+            // The lap is complete: the window is this lap.
+            if let Some(slot) = self.high.get_mut(at) {
+                *slot = v;
+            }
             self.next = 0;
+            self.full = true;
             self.close_lap();
+            (lo, hi)
         }
     }
 
     /// First write after a clear: every slot of both sides holds `v` (the
     /// unwritten slots stand for the previous lap, and `v` stays in the
     /// window until each of them has been overwritten).
+    #[cold]
     #[inline(never)]
     fn start(&mut self, v: T) {
         self.high = [v; W];
@@ -189,6 +204,7 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
 
     /// The lap completed: turns its values (in `high`) into suffix maxima
     /// (in place) and minima (in `low`).
+    #[cold]
     #[inline(never)]
     fn close_lap(&mut self) {
         // Seeds no value of the lap exceeds (below) nor undercuts (above):
@@ -217,13 +233,6 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
             None => self.lap_low,
         };
         (lo, hi)
-    }
-
-    /// Spread (max - min) and largest magnitude.
-    #[inline(always)]
-    fn spread(&self) -> (T, T) {
-        let (lo, hi) = self.extremes();
-        (hi - lo, T::max(T::abs(hi), T::abs(lo)))
     }
 }
 
@@ -292,31 +301,35 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
             self.clear();
             return SteadyState::unknown();
         }
-        self.ratio.write(ratio.value);
-        if let Some(t) = temperature {
-            self.temperature.write(t.value);
-        }
-        if let Some(f) = flow {
-            self.flow.write(f.value);
-        }
-        let (t_spread, _) = self.temperature.spread();
-        let (r_spread, r_mag) = self.ratio.spread();
+        let (r_lo, r_hi) = self.ratio.write(ratio.value);
+        let (t_lo, t_hi) = match temperature {
+            Some(t) => self.temperature.write(t.value),
+            None => self.temperature.extremes(),
+        };
+        let flow_extremes = flow.map(|f| self.flow.write(f.value));
+        let t_spread = t_hi - t_lo;
+        let r_spread = r_hi - r_lo;
+        let r_mag = T::max(T::abs(r_hi), T::abs(r_lo));
         let r_rel = if r_mag > T::ZERO {
             r_spread / r_mag
         } else {
             T::ZERO
         };
-        let full = (self.ratio.len() == W)
-            && (temperature.is_none() || (self.temperature.len() == W))
-            && (flow.is_none() || (self.flow.len() == W));
+        let full = self.ratio.full
+            && (temperature.is_none() || self.temperature.full)
+            && (flow.is_none() || self.flow.full);
         // The flow test as a branch of its own: an empty flow window (a
         // stage without a flow reading) has spread and magnitude 0, so its
         // relative spread is 0; written as one expression, the compiler
         // computed the division anyway (a soft-float call on Cortex-M0).
-        let flow_quiet = if self.flow.len() == 0 {
-            T::ZERO <= cfg.max_flow_spread
-        } else {
-            self.flow_within(cfg.max_flow_spread)
+        // A window not written this scan keeps its values.
+        let flow_quiet = match flow_extremes {
+            Some((lo, hi)) => relative_spread_within(lo, hi, cfg.max_flow_spread),
+            None if self.flow.len() == 0 => T::ZERO <= cfg.max_flow_spread,
+            None => {
+                let (lo, hi) = self.flow.extremes();
+                relative_spread_within(lo, hi, cfg.max_flow_spread)
+            }
         };
         SteadyState {
             steady: full
@@ -330,19 +343,19 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
     }
 }
 
-impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
-    /// Whether the flow window's relative spread is within `max` (not
-    /// inlined: kept out of the path of stages without a flow reading).
-    #[inline(never)]
-    fn flow_within(&self, max: T) -> bool {
-        let (f_spread, f_mag) = self.flow.spread();
-        let f_rel = if f_mag > T::ZERO {
-            f_spread / f_mag
-        } else {
-            T::ZERO
-        };
-        f_rel <= max
-    }
+/// Whether the relative spread of a window with extremes `lo`, `hi`,
+/// (hi - lo) / max(|hi|, |lo|) (0 when both are 0), is within `max` (not
+/// inlined: kept out of the path of stages without a flow reading).
+#[inline(never)]
+fn relative_spread_within<T: Real>(lo: T, hi: T, max: T) -> bool {
+    let spread = hi - lo;
+    let magnitude = T::max(T::abs(hi), T::abs(lo));
+    let relative = if magnitude > T::ZERO {
+        spread / magnitude
+    } else {
+        T::ZERO
+    };
+    relative <= max
 }
 
 #[cfg(test)]
@@ -381,19 +394,20 @@ mod tests {
         let mut r = RangeWindow::<f32, W>::new();
         let mut history: std::collections::VecDeque<f32> = std::collections::VecDeque::new();
         for (i, v) in values.iter().enumerate() {
-            match *v {
+            let written = match *v {
                 Some(v) => {
-                    r.write(v);
                     history.push_back(v);
                     if history.len() > W {
                         history.pop_front();
                     }
+                    Some(r.write(v))
                 }
                 None => {
                     r.clear();
                     history.clear();
+                    None
                 }
-            }
+            };
             let (lo, hi) = extremes(history.make_contiguous());
             let (got_lo, got_hi) = r.extremes();
             if (got_lo, got_hi) != (lo, hi) || r.len() != history.len() {
@@ -403,8 +417,12 @@ mod tests {
                     history.len()
                 ));
             }
-            if r.spread() != (hi - lo, f32::max(hi.abs(), lo.abs())) {
-                return Err(format!("W {W}, write {i}: spread {:?}", r.spread()));
+            if written.is_some_and(|w| w != (lo, hi)) {
+                return Err(format!("W {W}, write {i}: write returned {written:?}"));
+            }
+            // The range (max - min), as the detector forms it.
+            if got_hi - got_lo != hi - lo {
+                return Err(format!("W {W}, write {i}: range {}", got_hi - got_lo));
             }
         }
         Ok(())
