@@ -89,30 +89,37 @@ impl<T: Real> SteadyState<T> {
 /// The ring is filled in laps of `W` writes. After a write at slot `k`, the
 /// window holds this lap's slots `0..=k` and the previous lap's slots
 /// `k+1..W`; its maximum is the larger of this lap's running maximum and the
-/// previous lap's suffix maximum from slot `k+1`. The suffix extremes of a
-/// lap are computed once, when the lap completes (`W` steps every `W`
-/// writes, outlined), so a write costs two comparisons and a query two more,
-/// whatever the data (the earlier ring rescanned all `W` values whenever an
-/// extreme left the window, which a trend does at every scan).
+/// previous lap's largest value in slots `k+1..W` (its suffix maximum). The
+/// slots of a lap's suffix extremes are found once, when the lap completes
+/// (`W` steps every `W` writes, outlined), so a write costs two comparisons
+/// and the extremes two more, whatever the data (the earlier ring rescanned
+/// all `W` values whenever an extreme left the window, which a trend does
+/// at every scan). Suffix extremes are kept as one-byte slots into the ring
+/// rather than values (the state stays within 8 bytes of a plain ring's on
+/// the 16 KiB Cortex-M0 target), so `W` is at most 256.
 ///
 /// Exactness: every value compared is a value of the window (or, after a
-/// clear, the first value written, which stays in the window until every
-/// other slot holds a newer value), so the extremes equal a full rescan's.
+/// clear, a copy of the first value written, which stays in the window
+/// until every slot holding a copy has been overwritten), so the extremes
+/// equal a full rescan's.
 #[derive(Clone, Debug)]
 struct RangeWindow<T, const W: usize> {
-    /// Slots `0..next`: this lap's values; slots `next..W`: the previous
-    /// lap's suffix maxima (slot `i` holds the largest of its slots `i..W`).
-    /// When a lap completes, every slot holds that lap's suffix maximum.
-    high: [T; W],
-    /// Slots `next..W`: the previous lap's suffix minima.
-    low: [T; W],
+    /// The last `W` values, slot `i` written at the lap's `i`-th write
+    /// (after a clear, unwritten slots hold the first value).
+    values: [T; W],
+    /// Slots `next..W`: for slot `i`, the slot of the previous lap's largest
+    /// value in slots `i..W` (after a lap completes, that lap's, for every
+    /// slot).
+    high: [u8; W],
+    /// Same for the smallest value.
+    low: [u8; W],
     /// Largest and smallest of this lap's values (slots `0..next`; the whole
     /// lap just after it completed). 0 while the window is empty.
     lap_high: T,
     lap_low: T,
     /// Slot of the next write, `< W`; while not `full`, also the number of
     /// values held (a clear restarts the laps at slot 0).
-    next: u16,
+    next: u8,
     /// Whether a lap has completed since the last clear (`W` values held).
     full: bool,
 }
@@ -121,13 +128,14 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
     const fn new() -> Self {
         const {
             assert!(
-                W >= 1 && W <= 65_535,
-                "a steady-state window holds 1 to 65535 scans"
+                W >= 1 && W <= 256,
+                "a steady-state window holds 1 to 256 scans"
             )
         };
         RangeWindow {
-            high: [T::ZERO; W],
-            low: [T::ZERO; W],
+            values: [T::ZERO; W],
+            high: [0; W],
+            low: [0; W],
             lap_high: T::ZERO,
             lap_low: T::ZERO,
             next: 0,
@@ -135,15 +143,9 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
         }
     }
 
-    /// Forgets every value (the sides hold 0, so an empty window's
-    /// extremes are 0).
+    /// Forgets every value (an empty window's extremes are 0).
     fn clear(&mut self) {
-        self.high = [T::ZERO; W];
-        self.low = [T::ZERO; W];
-        self.lap_high = T::ZERO;
-        self.lap_low = T::ZERO;
-        self.next = 0;
-        self.full = false;
+        *self = Self::new();
     }
 
     #[inline(always)]
@@ -155,10 +157,19 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
         }
     }
 
+    /// The value in a slot read from `high` or `low` (always `< W`; masked
+    /// when `W` is a power of two, so that the bounds check folds away).
+    #[inline(always)]
+    fn at(&self, slot: u8) -> T {
+        let i = usize::from(slot);
+        let i = if W.is_power_of_two() { i & (W - 1) } else { i };
+        self.values.get(i).copied().unwrap_or(T::ZERO)
+    }
+
     /// Adds a finite value; returns the window's minimum and maximum.
     #[inline(always)]
     fn write(&mut self, v: T) -> (T, T) {
-        // W <= 65535 (asserted in `new`), so a slot fits in u16.
+        // W <= 256 (asserted in `new`), so a slot fits in u8.
         let k = self.next;
         let at = usize::from(k);
         let (hi, lo) = if at == 0 {
@@ -171,18 +182,18 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
         };
         (self.lap_high, self.lap_low) = (hi, lo);
         if at + 1 < W {
-            if let Some(slot) = self.high.get_mut(at) {
+            if let Some(slot) = self.values.get_mut(at) {
                 *slot = v;
             }
-            self.next = k + 1;
-            // The previous lap's suffix from the next slot.
+            self.next = k.wrapping_add(1);
+            // The previous lap's suffix extremes from the next slot.
             match (self.high.get(at + 1), self.low.get(at + 1)) {
-                (Some(&h), Some(&l)) => (T::min(lo, l), T::max(hi, h)),
+                (Some(&h), Some(&l)) => (T::min(lo, self.at(l)), T::max(hi, self.at(h))),
                 _ => (lo, hi),
             }
         } else {
             // The lap is complete: the window is this lap.
-            if let Some(slot) = self.high.get_mut(at) {
+            if let Some(slot) = self.values.get_mut(at) {
                 *slot = v;
             }
             self.next = 0;
@@ -192,31 +203,41 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
         }
     }
 
-    /// First write after a clear: every slot of both sides holds `v` (the
-    /// unwritten slots stand for the previous lap, and `v` stays in the
-    /// window until each of them has been overwritten).
+    /// First write after a clear: every slot holds `v` and stands for
+    /// itself as a suffix extreme (the unwritten slots stand for the
+    /// previous lap, and `v` stays in the window until each of them has
+    /// been overwritten).
     #[cold]
     #[inline(never)]
     fn start(&mut self, v: T) {
-        self.high = [v; W];
-        self.low = [v; W];
+        self.values = [v; W];
+        for (i, (h, l)) in self.high.iter_mut().zip(self.low.iter_mut()).enumerate() {
+            let slot = u8::try_from(i).unwrap_or(0);
+            (*h, *l) = (slot, slot);
+        }
     }
 
-    /// The lap completed: turns its values (in `high`) into suffix maxima
-    /// (in place) and minima (in `low`).
+    /// The lap completed: records, for every slot, the slots of its largest
+    /// and smallest values from that slot on.
     #[cold]
     #[inline(never)]
     fn close_lap(&mut self) {
-        // Seeds no value of the lap exceeds (below) nor undercuts (above):
-        // the first step yields the last slot's value.
-        let mut hi = self.lap_low;
-        let mut lo = self.lap_high;
-        for (h, l) in self.high.iter_mut().zip(self.low.iter_mut()).rev() {
-            let x = *h;
-            hi = T::max(hi, x);
-            lo = T::min(lo, x);
-            *h = hi;
-            *l = lo;
+        let mut best: Option<(T, u8, T, u8)> = None;
+        let slots = self
+            .values
+            .iter()
+            .zip(self.high.iter_mut().zip(self.low.iter_mut()));
+        for (i, (&x, (h, l))) in slots.enumerate().rev() {
+            let slot = u8::try_from(i).unwrap_or(0);
+            let (mut hv, mut hs, mut lv, mut ls) = best.unwrap_or((x, slot, x, slot));
+            if x > hv {
+                (hv, hs) = (x, slot);
+            }
+            if x < lv {
+                (lv, ls) = (x, slot);
+            }
+            best = Some((hv, hs, lv, ls));
+            (*h, *l) = (hs, ls);
         }
     }
 
@@ -225,11 +246,11 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
     fn extremes(&self) -> (T, T) {
         let k = usize::from(self.next);
         let hi = match self.high.get(k) {
-            Some(&h) => T::max(self.lap_high, h),
+            Some(&h) => T::max(self.lap_high, self.at(h)),
             None => self.lap_high,
         };
         let lo = match self.low.get(k) {
-            Some(&l) => T::min(self.lap_low, l),
+            Some(&l) => T::min(self.lap_low, self.at(l)),
             None => self.lap_low,
         };
         (lo, hi)
@@ -452,6 +473,8 @@ mod tests {
             matches_a_full_rescan::<2>,
             matches_a_full_rescan::<5>,
             matches_a_full_rescan::<8>,
+            // The largest window (slots 0..=255 in one byte).
+            matches_a_full_rescan::<256>,
         ] {
             check(&values).unwrap();
         }
