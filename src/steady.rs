@@ -117,44 +117,47 @@ struct RangeWindow<T, const W: usize> {
     /// lap just after it completed). 0 while the window is empty.
     lap_high: T,
     lap_low: T,
-    /// Slot of the next write, `< W`; while not `full`, also the number of
-    /// values held (a clear restarts the laps at slot 0).
+    /// Slot of the next write, `< W`.
     next: u8,
-    /// Whether a lap has completed since the last clear (`W` values held).
-    full: bool,
+    /// Slot of the first write after a clear, `< W` (windows of one
+    /// detector start at different slots, so their laps complete at
+    /// different scans).
+    phase: u8,
+    /// Values held, `<= W`.
+    len: u16,
 }
 
 impl<T: Real, const W: usize> RangeWindow<T, W> {
-    const fn new() -> Self {
+    /// An empty window whose laps start at slot `phase` (taken modulo `W`).
+    const fn new(phase: u8) -> Self {
         const {
             assert!(
                 W >= 1 && W <= 256,
                 "a steady-state window holds 1 to 256 scans"
             )
         };
+        // W <= 256, so the remainder fits in u8.
+        let phase = (phase as usize % W) as u8;
         RangeWindow {
             values: [T::ZERO; W],
             high: [0; W],
             low: [0; W],
             lap_high: T::ZERO,
             lap_low: T::ZERO,
-            next: 0,
-            full: false,
+            next: phase,
+            phase,
+            len: 0,
         }
     }
 
     /// Forgets every value (an empty window's extremes are 0).
     fn clear(&mut self) {
-        *self = Self::new();
+        *self = Self::new(self.phase);
     }
 
     #[inline(always)]
     fn len(&self) -> usize {
-        if self.full {
-            W
-        } else {
-            usize::from(self.next)
-        }
+        usize::from(self.len)
     }
 
     /// The value in a slot read from `high` or `low` (always `< W`; masked
@@ -170,12 +173,15 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
     #[inline(always)]
     fn write(&mut self, v: T) -> (T, T) {
         // W <= 256 (asserted in `new`), so a slot fits in u8.
+        if usize::from(self.len) < W {
+            if self.len == 0 {
+                self.start(v);
+            }
+            self.len += 1;
+        }
         let k = self.next;
         let at = usize::from(k);
         let (hi, lo) = if at == 0 {
-            if !self.full {
-                self.start(v);
-            }
             (v, v)
         } else {
             (T::max(self.lap_high, v), T::min(self.lap_low, v))
@@ -197,20 +203,20 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
                 *slot = v;
             }
             self.next = 0;
-            self.full = true;
             self.close_lap();
             (lo, hi)
         }
     }
 
     /// First write after a clear: every slot holds `v` and stands for
-    /// itself as a suffix extreme (the unwritten slots stand for the
-    /// previous lap, and `v` stays in the window until each of them has
-    /// been overwritten).
+    /// itself as a suffix extreme (the unwritten slots stand for older
+    /// values, and `v` stays in the window until each of them has been
+    /// overwritten); this lap so far is `v`.
     #[cold]
     #[inline(never)]
     fn start(&mut self, v: T) {
         self.values = [v; W];
+        (self.lap_high, self.lap_low) = (v, v);
         for (i, (h, l)) in self.high.iter_mut().zip(self.low.iter_mut()).enumerate() {
             let slot = u8::try_from(i).unwrap_or(0);
             (*h, *l) = (slot, slot);
@@ -292,9 +298,11 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
     pub const fn new() -> Self {
         const { assert!(W >= 2, "a steady-state window needs at least 2 scans") };
         SteadyStateDetector {
-            temperature: RangeWindow::new(),
-            ratio: RangeWindow::new(),
-            flow: RangeWindow::new(),
+            // Laps of the three windows complete at different scans (the
+            // work of completing a lap is spread over the scans).
+            ratio: RangeWindow::new(0),
+            temperature: RangeWindow::new((W / 2) as u8),
+            flow: RangeWindow::new((W / 4) as u8),
         }
     }
 
@@ -336,9 +344,9 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
         } else {
             T::ZERO
         };
-        let full = self.ratio.full
-            && (temperature.is_none() || self.temperature.full)
-            && (flow.is_none() || self.flow.full);
+        let full = (self.ratio.len() == W)
+            && (temperature.is_none() || (self.temperature.len() == W))
+            && (flow.is_none() || (self.flow.len() == W));
         // The flow test as a branch of its own: an empty flow window (a
         // stage without a flow reading) has spread and magnitude 0, so its
         // relative spread is 0; written as one expression, the compiler
@@ -412,7 +420,20 @@ mod tests {
     /// with a full rescan after every write (a consistency check against
     /// the definition of the range over a moving window).
     fn matches_a_full_rescan<const W: usize>(values: &[Option<f32>]) -> Result<(), String> {
-        let mut r = RangeWindow::<f32, W>::new();
+        // Laps starting at the first, a middle and the last slot.
+        for phase in [0, W / 3, W - 1] {
+            let phase = u8::try_from(phase).unwrap();
+            matches_a_full_rescan_from::<W>(values, phase)
+                .map_err(|e| format!("phase {phase}: {e}"))?;
+        }
+        Ok(())
+    }
+
+    fn matches_a_full_rescan_from<const W: usize>(
+        values: &[Option<f32>],
+        phase: u8,
+    ) -> Result<(), String> {
+        let mut r = RangeWindow::<f32, W>::new(phase);
         let mut history: std::collections::VecDeque<f32> = std::collections::VecDeque::new();
         for (i, v) in values.iter().enumerate() {
             let written = match *v {
