@@ -294,7 +294,7 @@ fn extremes<T: Real>(values: &[T]) -> (T, T) {
 }
 
 impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
-    /// An empty detector. `W` must be at least 2 (checked at compile time).
+    /// An empty detector. `W` must be 2 to 256 (checked at compile time).
     pub const fn new() -> Self {
         const { assert!(W >= 2, "a steady-state window needs at least 2 scans") };
         SteadyStateDetector {
