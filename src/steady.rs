@@ -296,13 +296,23 @@ fn extremes<T: Real>(values: &[T]) -> (T, T) {
 impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
     /// An empty detector. `W` must be 2 to 256 (checked at compile time).
     pub const fn new() -> Self {
+        Self::staggered(0)
+    }
+
+    /// An empty detector for the `stage`-th stage of a train: the same
+    /// results as [`SteadyStateDetector::new`], but the windows complete
+    /// their laps (about `W` comparisons each, once every `W` scans) at
+    /// scans that depend on `stage`, so that the detectors of a train do
+    /// not all do that work in the same scan.
+    pub const fn staggered(stage: usize) -> Self {
         const { assert!(W >= 2, "a steady-state window needs at least 2 scans") };
+        // Offsets modulo W (at most 256, asserted by the windows), so they
+        // fit in u8.
+        let at = stage % W;
         SteadyStateDetector {
-            // Laps of the three windows complete at different scans (the
-            // work of completing a lap is spread over the scans).
-            ratio: RangeWindow::new(0),
-            temperature: RangeWindow::new((W / 2) as u8),
-            flow: RangeWindow::new((W / 4) as u8),
+            ratio: RangeWindow::new(at as u8),
+            temperature: RangeWindow::new(((at + W / 2) % W) as u8),
+            flow: RangeWindow::new(((at + W / 4) % W) as u8),
         }
     }
 
