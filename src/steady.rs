@@ -113,8 +113,9 @@ struct RangeWindow<T, const W: usize> {
     high: [u8; W],
     /// Same for the smallest value.
     low: [u8; W],
-    /// Largest and smallest of this lap's values (slots `0..next`; the whole
-    /// lap just after it completed). 0 while the window is empty.
+    /// Largest and smallest of this lap's values (slots `0..next`, from the
+    /// first write's slot in the first lap after a clear; the whole lap just
+    /// after it completed). 0 while the window is empty.
     lap_high: T,
     lap_low: T,
     /// Slot of the next write, `< W`.
@@ -556,6 +557,87 @@ mod tests {
                 Ok(())
             })
             .unwrap();
+    }
+
+    /// The detector at every lap phase against a naive detector (full
+    /// rescans of the last `W` values of each signal, the same update rules),
+    /// over a pseudo-random sequence with bad inputs, stages without a
+    /// temperature and scans without a flow reading (consistency check
+    /// against the definition of the test).
+    #[test]
+    fn staggered_detectors_equal_a_naive_detector() {
+        const W: usize = 5;
+        type History = std::collections::VecDeque<f64>;
+        fn push(h: &mut History, v: f64) {
+            h.push_back(v);
+            if h.len() > W {
+                h.pop_front();
+            }
+        }
+        fn relative(h: &mut History) -> f64 {
+            let (lo, hi) = extremes(h.make_contiguous());
+            let mag = f64::max(hi.abs(), lo.abs());
+            if mag > 0.0 {
+                (hi - lo) / mag
+            } else {
+                0.0
+            }
+        }
+        let cfg = SteadyStateConfig {
+            max_temperature_spread: 1.0,
+            max_ratio_spread: 0.02,
+            max_flow_spread: 0.05,
+        };
+        for stage in 0..=W + 1 {
+            let mut d = SteadyStateDetector::<f64, W>::staggered(stage);
+            let (mut r, mut t, mut f) = (History::new(), History::new(), History::new());
+            let mut seed = 99_u32 + stage as u32;
+            for i in 0..3_000 {
+                let mut next = |n: u32| {
+                    seed = seed.wrapping_mul(1_103_515_245).wrapping_add(12_345);
+                    (seed >> 16) % n
+                };
+                let ratio = 3.0 + 0.01 * f64::from(next(5));
+                let temp = (i % 97 > 10).then(|| 400.0 + 0.3 * f64::from(next(5)));
+                let flow = (next(7) > 0).then(|| 10.0 + 0.1 * f64::from(next(5)));
+                let bad = next(53) == 0;
+                let q = if bad { Quality::Bad } else { Quality::Good };
+                let got = d.update(
+                    &cfg,
+                    Measured::new(ratio, q),
+                    temp.map(Measured::good),
+                    flow.map(Measured::good),
+                );
+                if bad {
+                    (r, t, f) = (History::new(), History::new(), History::new());
+                    assert_eq!(got, SteadyState::unknown(), "stage {stage}, scan {i}");
+                    continue;
+                }
+                push(&mut r, ratio);
+                if let Some(v) = temp {
+                    push(&mut t, v);
+                }
+                if let Some(v) = flow {
+                    push(&mut f, v);
+                }
+                let (t_lo, t_hi) = extremes(t.make_contiguous());
+                let r_rel = relative(&mut r);
+                let full = r.len() == W
+                    && (temp.is_none() || t.len() == W)
+                    && (flow.is_none() || f.len() == W);
+                let steady = full
+                    && t_hi - t_lo <= cfg.max_temperature_spread
+                    && r_rel <= cfg.max_ratio_spread
+                    && relative(&mut f) <= cfg.max_flow_spread;
+                let want = SteadyState {
+                    steady,
+                    samples: r.len() as u16,
+                    temperature_spread: t_hi - t_lo,
+                    ratio_spread: r_rel,
+                };
+                assert_eq!(got, want, "stage {stage}, scan {i}");
+            }
+        }
     }
 
     #[test]
