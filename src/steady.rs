@@ -11,15 +11,12 @@
 //! Method: the range test over a moving window (a standard steady-state
 //! identification test; see e.g. Cao & Rhinehart, "An efficient method for
 //! on-line identification of steady state", J. Process Control 5 (1995),
-//! for the family of such tests). Each window keeps its minimum and maximum
-//! and the slots holding them as values arrive, and rescans one extreme (W
-//! comparisons) only when its slot is overwritten and the new value does not
-//! replace it; otherwise a scan costs a few comparisons per window.
+//! for the family of such tests). Each window yields its exact minimum and
+//! maximum at a bounded cost per scan (see `RangeWindow`).
 
 use crate::error::{check_positive, ConfigError};
 use crate::quality::Measured;
 use crate::real::Real;
-use crate::window::Window;
 
 /// Tolerances of the steady-state test.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -82,91 +79,188 @@ impl<T: Real> SteadyState<T> {
     }
 }
 
-/// A rolling window that tracks its minimum and maximum and a ring slot
-/// holding each: when the value leaving the window is in the slot of an
-/// extreme, only that extreme is rescanned (a trend costs one rescan of one
-/// extreme per scan, not two).
+/// A rolling window of the last `W` values that yields its minimum and
+/// maximum exactly at a bounded cost per write (the van Herk / Gil–Werman
+/// decomposition of a running extreme into blocks of `W`: M. van Herk, "A
+/// fast algorithm for local minimum and maximum filters on rectangular and
+/// octagonal kernels", Pattern Recognition Letters 13 (1992); J. Gil and
+/// M. Werman, IEEE Trans. PAMI 15 (1993)).
+///
+/// The ring is filled in laps of `W` writes. After a write at slot `k`, the
+/// window holds this lap's slots `0..=k` and the previous lap's slots
+/// `k+1..W`; its maximum is the larger of this lap's running maximum and the
+/// previous lap's largest value in slots `k+1..W` (its suffix maximum). The
+/// slots of a lap's suffix extremes are found once, when the lap completes
+/// (`W` steps every `W` writes, outlined), so a write costs two comparisons
+/// and the extremes two more, whatever the data (the earlier ring rescanned
+/// all `W` values whenever an extreme left the window, which a trend does
+/// at every scan). Suffix extremes are kept as one-byte slots into the ring
+/// rather than values (the state stays within 8 bytes of a plain ring's on
+/// the 16 KiB Cortex-M0 target), so `W` is at most 256.
+///
+/// Exactness: every value compared is a value of the window (or, after a
+/// clear, a copy of the first value written, which stays in the window
+/// until every slot holding a copy has been overwritten), so the extremes
+/// equal a full rescan's.
 #[derive(Clone, Debug)]
 struct RangeWindow<T, const W: usize> {
-    values: Window<T, W>,
-    /// Minimum and maximum of `values` (0 while empty).
-    lo: T,
-    hi: T,
-    /// A ring slot holding `lo` and one holding `hi`.
-    lo_slot: u16,
-    hi_slot: u16,
+    /// The last `W` values, slot `i` written at the lap's `i`-th write
+    /// (after a clear, unwritten slots hold the first value).
+    values: [T; W],
+    /// Slots `next..W`: for slot `i`, the slot of the previous lap's largest
+    /// value in slots `i..W` (after a lap completes, that lap's, for every
+    /// slot).
+    high: [u8; W],
+    /// Same for the smallest value.
+    low: [u8; W],
+    /// Largest and smallest of this lap's values (slots `0..next`, from the
+    /// first write's slot in the first lap after a clear; the whole lap just
+    /// after it completed). 0 while the window is empty.
+    lap_high: T,
+    lap_low: T,
+    /// Slot of the next write, `< W`.
+    next: u8,
+    /// Slot of the first write after a clear, `< W` (windows of one
+    /// detector start at different slots, so their laps complete at
+    /// different scans).
+    phase: u8,
+    /// Values held, `<= W`.
+    len: u16,
 }
 
 impl<T: Real, const W: usize> RangeWindow<T, W> {
-    const fn new() -> Self {
+    /// An empty window whose laps start at slot `phase` (taken modulo `W`).
+    const fn new(phase: u8) -> Self {
         const {
             assert!(
-                W <= 65_535,
-                "a steady-state window holds at most 65535 scans"
+                W >= 1 && W <= 256,
+                "a steady-state window holds 1 to 256 scans"
             )
         };
+        // W <= 256, so the remainder fits in u8.
+        let phase = (phase as usize % W) as u8;
         RangeWindow {
-            values: Window::filled_with(T::ZERO),
-            lo: T::ZERO,
-            hi: T::ZERO,
-            lo_slot: 0,
-            hi_slot: 0,
+            values: [T::ZERO; W],
+            high: [0; W],
+            low: [0; W],
+            lap_high: T::ZERO,
+            lap_low: T::ZERO,
+            next: phase,
+            phase,
+            len: 0,
         }
     }
 
+    /// Forgets every value (an empty window's extremes are 0).
     fn clear(&mut self) {
-        self.values.clear();
-        self.lo = T::ZERO;
-        self.hi = T::ZERO;
-        self.lo_slot = 0;
-        self.hi_slot = 0;
+        *self = Self::new(self.phase);
     }
 
+    #[inline(always)]
     fn len(&self) -> usize {
-        self.values.len()
+        usize::from(self.len)
     }
 
-    /// Adds a finite value. The extremes equal a full rescan's: an extreme is
-    /// rescanned only when its slot is overwritten and the new value does not
-    /// reach it (a new value at or beyond an extreme is the new extreme
-    /// whatever left).
-    fn write(&mut self, v: T) {
-        // W <= 65535 (asserted in `new`), so a slot fits in u16.
-        let slot = u16::try_from(self.values.next_slot()).unwrap_or(0);
-        let first = self.values.len() == 0;
-        let evicted = self.values.push(v).is_some();
-        if first {
-            (self.lo, self.hi, self.lo_slot, self.hi_slot) = (v, v, slot, slot);
-            return;
-        }
-        if v <= self.lo {
-            (self.lo, self.lo_slot) = (v, slot);
-        } else if evicted && slot == self.lo_slot {
-            (self.lo, self.lo_slot) = self.rescan(|a, b| a < b);
-        }
-        if v >= self.hi {
-            (self.hi, self.hi_slot) = (v, slot);
-        } else if evicted && slot == self.hi_slot {
-            (self.hi, self.hi_slot) = self.rescan(|a, b| a > b);
-        }
+    /// The value in a slot read from `high` or `low` (always `< W`; masked
+    /// when `W` is a power of two, so that the bounds check folds away).
+    #[inline(always)]
+    fn at(&self, slot: u8) -> T {
+        let i = usize::from(slot);
+        let i = if W.is_power_of_two() { i & (W - 1) } else { i };
+        self.values.get(i).copied().unwrap_or(T::ZERO)
     }
 
-    /// The extreme of the window by `beyond` and its slot (the first slot
-    /// on a tie).
-    fn rescan(&self, beyond: impl Fn(T, T) -> bool) -> (T, u16) {
-        let values = self.values.as_slice();
-        let mut best = (values.first().copied().unwrap_or(T::ZERO), 0);
-        for (i, &x) in values.iter().enumerate().skip(1) {
-            if beyond(x, best.0) {
-                best = (x, i);
+    /// Adds a finite value; returns the window's minimum and maximum.
+    #[inline(always)]
+    fn write(&mut self, v: T) -> (T, T) {
+        // W <= 256 (asserted in `new`), so a slot fits in u8.
+        if usize::from(self.len) < W {
+            if self.len == 0 {
+                self.start(v);
             }
+            self.len += 1;
         }
-        (best.0, u16::try_from(best.1).unwrap_or(0))
+        let k = self.next;
+        let at = usize::from(k);
+        let (hi, lo) = if at == 0 {
+            (v, v)
+        } else {
+            (T::max(self.lap_high, v), T::min(self.lap_low, v))
+        };
+        (self.lap_high, self.lap_low) = (hi, lo);
+        if at + 1 < W {
+            if let Some(slot) = self.values.get_mut(at) {
+                *slot = v;
+            }
+            self.next = k.wrapping_add(1);
+            // The previous lap's suffix extremes from the next slot.
+            match (self.high.get(at + 1), self.low.get(at + 1)) {
+                (Some(&h), Some(&l)) => (T::min(lo, self.at(l)), T::max(hi, self.at(h))),
+                _ => (lo, hi),
+            }
+        } else {
+            // The lap is complete: the window is this lap.
+            if let Some(slot) = self.values.get_mut(at) {
+                *slot = v;
+            }
+            self.next = 0;
+            self.close_lap();
+            (lo, hi)
+        }
     }
 
-    /// Spread (max - min) and largest magnitude.
-    fn spread(&self) -> (T, T) {
-        (self.hi - self.lo, T::max(T::abs(self.hi), T::abs(self.lo)))
+    /// First write after a clear: every slot holds `v` and stands for
+    /// itself as a suffix extreme (the unwritten slots stand for older
+    /// values, and `v` stays in the window until each of them has been
+    /// overwritten); this lap so far is `v`.
+    #[cold]
+    #[inline(never)]
+    fn start(&mut self, v: T) {
+        self.values = [v; W];
+        (self.lap_high, self.lap_low) = (v, v);
+        for (i, (h, l)) in self.high.iter_mut().zip(self.low.iter_mut()).enumerate() {
+            let slot = u8::try_from(i).unwrap_or(0);
+            (*h, *l) = (slot, slot);
+        }
+    }
+
+    /// The lap completed: records, for every slot, the slots of its largest
+    /// and smallest values from that slot on.
+    #[cold]
+    #[inline(never)]
+    fn close_lap(&mut self) {
+        let mut best: Option<(T, u8, T, u8)> = None;
+        let slots = self
+            .values
+            .iter()
+            .zip(self.high.iter_mut().zip(self.low.iter_mut()));
+        for (i, (&x, (h, l))) in slots.enumerate().rev() {
+            let slot = u8::try_from(i).unwrap_or(0);
+            let (mut hv, mut hs, mut lv, mut ls) = best.unwrap_or((x, slot, x, slot));
+            if x > hv {
+                (hv, hs) = (x, slot);
+            }
+            if x < lv {
+                (lv, ls) = (x, slot);
+            }
+            best = Some((hv, hs, lv, ls));
+            (*h, *l) = (hs, ls);
+        }
+    }
+
+    /// Minimum and maximum of the window (0, 0 when empty).
+    #[inline(always)]
+    fn extremes(&self) -> (T, T) {
+        let k = usize::from(self.next);
+        let hi = match self.high.get(k) {
+            Some(&h) => T::max(self.lap_high, self.at(h)),
+            None => self.lap_high,
+        };
+        let lo = match self.low.get(k) {
+            Some(&l) => T::min(self.lap_low, self.at(l)),
+            None => self.lap_low,
+        };
+        (lo, hi)
     }
 }
 
@@ -201,13 +295,25 @@ fn extremes<T: Real>(values: &[T]) -> (T, T) {
 }
 
 impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
-    /// An empty detector. `W` must be at least 2 (checked at compile time).
+    /// An empty detector. `W` must be 2 to 256 (checked at compile time).
     pub const fn new() -> Self {
+        Self::staggered(0)
+    }
+
+    /// An empty detector for the `stage`-th stage of a train: the same
+    /// results as [`SteadyStateDetector::new`], but the windows complete
+    /// their laps (about `W` comparisons each, once every `W` scans) at
+    /// scans that depend on `stage`, so that the detectors of a train do
+    /// not all do that work in the same scan.
+    pub const fn staggered(stage: usize) -> Self {
         const { assert!(W >= 2, "a steady-state window needs at least 2 scans") };
+        // Offsets modulo W (at most 256, asserted by the windows), so they
+        // fit in u8.
+        let at = stage % W;
         SteadyStateDetector {
-            temperature: RangeWindow::new(),
-            ratio: RangeWindow::new(),
-            flow: RangeWindow::new(),
+            ratio: RangeWindow::new(at as u8),
+            temperature: RangeWindow::new(((at + W / 2) % W) as u8),
+            flow: RangeWindow::new(((at + W / 4) % W) as u8),
         }
     }
 
@@ -235,15 +341,15 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
             self.clear();
             return SteadyState::unknown();
         }
-        self.ratio.write(ratio.value);
-        if let Some(t) = temperature {
-            self.temperature.write(t.value);
-        }
-        if let Some(f) = flow {
-            self.flow.write(f.value);
-        }
-        let (t_spread, _) = self.temperature.spread();
-        let (r_spread, r_mag) = self.ratio.spread();
+        let (r_lo, r_hi) = self.ratio.write(ratio.value);
+        let (t_lo, t_hi) = match temperature {
+            Some(t) => self.temperature.write(t.value),
+            None => self.temperature.extremes(),
+        };
+        let flow_extremes = flow.map(|f| self.flow.write(f.value));
+        let t_spread = t_hi - t_lo;
+        let r_spread = r_hi - r_lo;
+        let r_mag = T::max(T::abs(r_hi), T::abs(r_lo));
         let r_rel = if r_mag > T::ZERO {
             r_spread / r_mag
         } else {
@@ -256,10 +362,14 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
         // stage without a flow reading) has spread and magnitude 0, so its
         // relative spread is 0; written as one expression, the compiler
         // computed the division anyway (a soft-float call on Cortex-M0).
-        let flow_quiet = if self.flow.len() == 0 {
-            T::ZERO <= cfg.max_flow_spread
-        } else {
-            self.flow_within(cfg.max_flow_spread)
+        // A window not written this scan keeps its values.
+        let flow_quiet = match flow_extremes {
+            Some((lo, hi)) => relative_spread_within(lo, hi, cfg.max_flow_spread),
+            None if self.flow.len() == 0 => T::ZERO <= cfg.max_flow_spread,
+            None => {
+                let (lo, hi) = self.flow.extremes();
+                relative_spread_within(lo, hi, cfg.max_flow_spread)
+            }
         };
         SteadyState {
             steady: full
@@ -273,25 +383,27 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
     }
 }
 
-impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
-    /// Whether the flow window's relative spread is within `max` (not
-    /// inlined: kept out of the path of stages without a flow reading).
-    #[inline(never)]
-    fn flow_within(&self, max: T) -> bool {
-        let (f_spread, f_mag) = self.flow.spread();
-        let f_rel = if f_mag > T::ZERO {
-            f_spread / f_mag
-        } else {
-            T::ZERO
-        };
-        f_rel <= max
-    }
+/// Whether the relative spread of a window with extremes `lo`, `hi`,
+/// (hi - lo) / max(|hi|, |lo|) (0 when both are 0), is within `max` (not
+/// inlined: kept out of the path of stages without a flow reading).
+#[inline(never)]
+fn relative_spread_within<T: Real>(lo: T, hi: T, max: T) -> bool {
+    let spread = hi - lo;
+    let magnitude = T::max(T::abs(hi), T::abs(lo));
+    let relative = if magnitude > T::ZERO {
+        spread / magnitude
+    } else {
+        T::ZERO
+    };
+    relative <= max
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
     use crate::quality::Quality;
+    use std::format;
+    use std::string::String;
 
     #[test]
     fn becomes_steady_after_a_full_quiet_window_and_resets_on_a_step() {
@@ -314,28 +426,217 @@ mod tests {
         assert_eq!((s.steady, s.samples), (false, 0));
     }
 
+    /// Feeds `values` (a clear where `None`) to a window and to a naive
+    /// history of the last `W` values, comparing minimum, maximum and spread
+    /// with a full rescan after every write (a consistency check against
+    /// the definition of the range over a moving window).
+    fn matches_a_full_rescan<const W: usize>(values: &[Option<f32>]) -> Result<(), String> {
+        // Laps starting at the first, a middle and the last slot.
+        for phase in [0, W / 3, W - 1] {
+            let phase = u8::try_from(phase).unwrap();
+            matches_a_full_rescan_from::<W>(values, phase)
+                .map_err(|e| format!("phase {phase}: {e}"))?;
+        }
+        Ok(())
+    }
+
+    fn matches_a_full_rescan_from<const W: usize>(
+        values: &[Option<f32>],
+        phase: u8,
+    ) -> Result<(), String> {
+        let mut r = RangeWindow::<f32, W>::new(phase);
+        let mut history: std::collections::VecDeque<f32> = std::collections::VecDeque::new();
+        for (i, v) in values.iter().enumerate() {
+            let written = match *v {
+                Some(v) => {
+                    history.push_back(v);
+                    if history.len() > W {
+                        history.pop_front();
+                    }
+                    Some(r.write(v))
+                }
+                None => {
+                    r.clear();
+                    history.clear();
+                    None
+                }
+            };
+            let (lo, hi) = extremes(history.make_contiguous());
+            let (got_lo, got_hi) = r.extremes();
+            if (got_lo, got_hi) != (lo, hi) || r.len() != history.len() {
+                return Err(format!(
+                    "W {W}, write {i}: window ({got_lo}, {got_hi}, len {}), rescan ({lo}, {hi}, len {})",
+                    r.len(),
+                    history.len()
+                ));
+            }
+            if written.is_some_and(|w| w != (lo, hi)) {
+                return Err(format!("W {W}, write {i}: write returned {written:?}"));
+            }
+            // The range (max - min), as the detector forms it.
+            if got_hi - got_lo != hi - lo {
+                return Err(format!("W {W}, write {i}: range {}", got_hi - got_lo));
+            }
+        }
+        Ok(())
+    }
+
     #[test]
     fn tracked_extremes_equal_a_full_rescan() {
-        // Pseudo-random values from a small set, so extremes repeat and
-        // leave the window often; clears in between.
-        let mut r = RangeWindow::<f32, 5>::new();
+        // Random values from a small set (ties, extremes leaving often),
+        // then a rising and a falling trend (an extreme leaves at every
+        // scan), clears in between.
         let mut seed = 12_345_u32;
-        for i in 0..4_000 {
-            seed = seed.wrapping_mul(1_103_515_245).wrapping_add(12_345);
-            // Random values from a small set, then a rising and a falling
-            // trend (an extreme leaves at every scan).
-            let v = match (i / 500) % 4 {
-                1 => i as f32 * 0.25,
-                3 => -(i as f32) * 0.5,
-                _ => ((seed >> 16) % 7) as f32 - 3.0,
-            };
-            if i % 301 == 300 {
-                r.clear();
+        let values: std::vec::Vec<Option<f32>> = (0..4_000)
+            .map(|i| {
+                seed = seed.wrapping_mul(1_103_515_245).wrapping_add(12_345);
+                if i % 301 == 300 {
+                    return None;
+                }
+                Some(match (i / 500) % 4 {
+                    1 => i as f32 * 0.25,
+                    3 => -(i as f32) * 0.5,
+                    _ => ((seed >> 16) % 7) as f32 - 3.0,
+                })
+            })
+            .collect();
+        for check in [
+            matches_a_full_rescan::<1>,
+            matches_a_full_rescan::<2>,
+            matches_a_full_rescan::<5>,
+            matches_a_full_rescan::<8>,
+            // The largest window (slots 0..=255 in one byte).
+            matches_a_full_rescan::<256>,
+        ] {
+            check(&values).unwrap();
+        }
+    }
+
+    /// Seeded property test: random NaN-free sequences (values from a
+    /// small set for ties, or spread over many magnitudes, signs and
+    /// zeros), with clears, through windows of several lengths, including
+    /// sequences long enough to wrap the ring many times.
+    #[test]
+    fn window_extremes_equal_a_naive_rescan_proptest() {
+        use proptest::prelude::*;
+        use proptest::test_runner::{Config, RngAlgorithm, TestRng, TestRunner};
+        let mut seed_bytes = [0u8; 32];
+        seed_bytes[..8].copy_from_slice(&0x5EED_57EA_u64.to_le_bytes());
+        let config = Config {
+            cases: 512,
+            failure_persistence: None,
+            rng_algorithm: RngAlgorithm::ChaCha,
+            ..Config::default()
+        };
+        let mut runner = TestRunner::new_with_rng(
+            config,
+            TestRng::from_seed(RngAlgorithm::ChaCha, &seed_bytes),
+        );
+        let value = prop_oneof![
+            // Ties: a few distinct values.
+            (0_u8..4).prop_map(|n| Some(f32::from(n) - 1.5)),
+            // Any normal or subnormal value or zero (no NaN, no infinity).
+            (prop::num::f32::NORMAL | prop::num::f32::SUBNORMAL | prop::num::f32::ZERO)
+                .prop_map(Some),
+            // A plausible process value.
+            (300.0_f32..420.0).prop_map(Some),
+        ];
+        let step = prop_oneof![40 => value, 1 => Just(None)];
+        let sequence = prop::collection::vec(step, 0..200);
+        runner
+            .run(&sequence, |values| {
+                for check in [
+                    matches_a_full_rescan::<1>,
+                    matches_a_full_rescan::<2>,
+                    matches_a_full_rescan::<3>,
+                    matches_a_full_rescan::<8>,
+                    matches_a_full_rescan::<13>,
+                ] {
+                    check(&values).map_err(TestCaseError::fail)?;
+                }
+                Ok(())
+            })
+            .unwrap();
+    }
+
+    /// The detector at every lap phase against a naive detector (full
+    /// rescans of the last `W` values of each signal, the same update rules),
+    /// over a pseudo-random sequence with bad inputs, stages without a
+    /// temperature and scans without a flow reading (consistency check
+    /// against the definition of the test).
+    #[test]
+    fn staggered_detectors_equal_a_naive_detector() {
+        const W: usize = 5;
+        type History = std::collections::VecDeque<f64>;
+        fn push(h: &mut History, v: f64) {
+            h.push_back(v);
+            if h.len() > W {
+                h.pop_front();
             }
-            r.write(v);
-            let (lo, hi) = extremes(r.values.as_slice());
-            assert_eq!((r.lo, r.hi), (lo, hi), "scan {i}");
-            assert_eq!(r.spread(), (hi - lo, f32::max(hi.abs(), lo.abs())));
+        }
+        fn relative(h: &mut History) -> f64 {
+            let (lo, hi) = extremes(h.make_contiguous());
+            let mag = f64::max(hi.abs(), lo.abs());
+            if mag > 0.0 {
+                (hi - lo) / mag
+            } else {
+                0.0
+            }
+        }
+        let cfg = SteadyStateConfig {
+            max_temperature_spread: 1.0,
+            max_ratio_spread: 0.02,
+            max_flow_spread: 0.05,
+        };
+        for stage in 0..=W + 1 {
+            let mut d = SteadyStateDetector::<f64, W>::staggered(stage);
+            let (mut r, mut t, mut f) = (History::new(), History::new(), History::new());
+            let mut seed = 99_u32 + stage as u32;
+            for i in 0..3_000 {
+                let mut next = |n: u32| {
+                    seed = seed.wrapping_mul(1_103_515_245).wrapping_add(12_345);
+                    (seed >> 16) % n
+                };
+                let ratio = 3.0 + 0.01 * f64::from(next(5));
+                let temp = (i % 97 > 10).then(|| 400.0 + 0.3 * f64::from(next(5)));
+                let flow = (next(7) > 0).then(|| 10.0 + 0.1 * f64::from(next(5)));
+                let bad = next(53) == 0;
+                let q = if bad { Quality::Bad } else { Quality::Good };
+                let got = d.update(
+                    &cfg,
+                    Measured::new(ratio, q),
+                    temp.map(Measured::good),
+                    flow.map(Measured::good),
+                );
+                if bad {
+                    (r, t, f) = (History::new(), History::new(), History::new());
+                    assert_eq!(got, SteadyState::unknown(), "stage {stage}, scan {i}");
+                    continue;
+                }
+                push(&mut r, ratio);
+                if let Some(v) = temp {
+                    push(&mut t, v);
+                }
+                if let Some(v) = flow {
+                    push(&mut f, v);
+                }
+                let (t_lo, t_hi) = extremes(t.make_contiguous());
+                let r_rel = relative(&mut r);
+                let full = r.len() == W
+                    && (temp.is_none() || t.len() == W)
+                    && (flow.is_none() || f.len() == W);
+                let steady = full
+                    && t_hi - t_lo <= cfg.max_temperature_spread
+                    && r_rel <= cfg.max_ratio_spread
+                    && relative(&mut f) <= cfg.max_flow_spread;
+                let want = SteadyState {
+                    steady,
+                    samples: r.len() as u16,
+                    temperature_spread: t_hi - t_lo,
+                    ratio_spread: r_rel,
+                };
+                assert_eq!(got, want, "stage {stage}, scan {i}");
+            }
         }
     }
 

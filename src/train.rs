@@ -355,7 +355,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             compressor_stages,
             interstage_fraction,
             stage_uses,
-            detectors: core::array::from_fn(|_| SteadyStateDetector::new()),
+            detectors: core::array::from_fn(SteadyStateDetector::staggered),
             snapshot: Snapshot {
                 stages,
                 coolers,

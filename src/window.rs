@@ -65,13 +65,6 @@ impl<T: Copy, const W: usize> Window<T, W> {
     }
 
     /// Values held.
-    /// The ring slot the next [`Window::push`] writes (the index into
-    /// [`Window::as_slice`] once the window is full).
-    #[inline]
-    pub(crate) fn next_slot(&self) -> usize {
-        self.next
-    }
-
     #[inline]
     pub(crate) fn len(&self) -> usize {
         self.len
