@@ -219,6 +219,34 @@ pub fn evaluate_cooler_within<T: Real>(
     cp_fit: Quality,
     out: &mut CoolerResult<T>,
 ) {
+    evaluate_cooler_bounded::<T, false>(inp, limits, cp_inputs, cp_fit, out);
+}
+
+/// Results that can be computed from usable inputs and still not be finite
+/// (a ratio or logarithm); the others are differences of the inputs, a
+/// ratio over a span of at least [`MIN_EFFECTIVENESS_SPAN_K`], or the duty
+/// (tested where it is computed), finite when the inputs are. With inputs
+/// that passed validated limits ([`Limits::first_invalid`]: every bound
+/// finite, temperatures in [1, 2000] K, pressures in [1e-3, 1e10] Pa) the
+/// inputs are finite and only these are tested.
+const MAY_OVERFLOW: u16 = F_LMTD | F_UA | F_BALANCE;
+/// Every result field's bit.
+const ALL_FIELDS: u16 = (1 << 10) - 1;
+
+/// [`evaluate_cooler_within`], inlined into its caller (the train: no
+/// inputs struct in memory, no call). `BOUNDED`: every usable input value
+/// is within limits that passed [`Limits::first_invalid`] (the train's
+/// sensor boundary), so only [`MAY_OVERFLOW`] results need a finiteness
+/// test; otherwise (a caller's own inputs) every result but the duty gets
+/// one. Either way a computed value that is not finite is bad.
+#[inline(always)]
+pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
+    inp: &CoolerInputs<T>,
+    limits: &Limits<T>,
+    cp_inputs: PropertyInputs,
+    cp_fit: Quality,
+    out: &mut CoolerResult<T>,
+) {
     let (tin, tout, tc, tco) = (
         inp.gas_inlet_temperature,
         inp.gas_outlet_temperature,
@@ -233,12 +261,20 @@ pub fn evaluate_cooler_within<T: Real>(
     );
     let ok = |m: Measured<T>| m.quality.is_usable();
     let noise = limits.temperature_noise;
+    let checked = if BOUNDED {
+        MAY_OVERFLOW
+    } else {
+        ALL_FIELDS & !F_DUTY
+    };
     // Computed outputs and those a field-local plausibility check makes
-    // suspect (bit i: the i-th field in declaration order).
+    // suspect (bit i: the i-th field in declaration order). A value that
+    // is not finite counts as not computed (bad, as the rule says).
     let (mut done, mut suspect): (u16, u16) = (0, 0);
     let mut set = |m: &mut Measured<T>, bit: u16, v: T, doubtful: bool| {
         m.value = v;
-        done |= bit;
+        if checked & bit == 0 || T::is_finite(v) {
+            done |= bit;
+        }
         if doubtful {
             suspect |= bit;
         }
@@ -339,27 +375,50 @@ pub fn evaluate_cooler_within<T: Real>(
         };
     }
 
-    let mut g = Grades::new();
-    g.first_slot(slot::T2, tin.quality)
-        .first_slot(slot::GAS_OUT_T, tout.quality)
-        .first_slot(slot::COOLANT_IN_T, tc.quality)
-        .first_slot(slot::COOLANT_OUT_T, tco.quality)
-        .first_slot(slot::P2, pin.quality)
-        .first_slot(slot::GAS_OUT_P, pout.quality)
-        .first_slot(slot::FLOW, flow.quality)
-        .first_slot(slot::COOLANT_FLOW, mc.quality);
     // Every output at once: the table's bits (`F_*` = declaration order).
-    let o = OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect);
-    o.settle(&mut out.gas_temperature_drop, F_DROP);
-    o.settle(&mut out.approach, F_APPROACH);
-    o.settle(&mut out.effectiveness, F_EFF);
-    o.settle(&mut out.heat_duty, F_DUTY);
-    o.settle(&mut out.pressure_drop, F_DP);
-    o.settle(&mut out.relative_pressure_drop, F_REL_DP);
-    o.settle(&mut out.coolant_temperature_rise, F_COOLANT_RISE);
-    o.settle(&mut out.lmtd, F_LMTD);
-    o.settle(&mut out.ua, F_UA);
-    o.settle(&mut out.heat_balance_error, F_BALANCE);
+    // With every input slot good the table is not looked at.
+    let slots = [
+        (slot::T2, tin.quality),
+        (slot::GAS_OUT_T, tout.quality),
+        (slot::COOLANT_IN_T, tc.quality),
+        (slot::COOLANT_OUT_T, tco.quality),
+        (slot::P2, pin.quality),
+        (slot::GAS_OUT_P, pout.quality),
+        (slot::FLOW, flow.quality),
+        (slot::COOLANT_FLOW, mc.quality),
+    ];
+    // (Good is discriminant 0: one OR over the qualities.)
+    let any_not_good = slots.iter().fold(0u8, |a, &(_, q)| a | q as u8);
+    let o = if any_not_good == 0 {
+        OutputGrades::all_slots_good(done, suspect)
+    } else {
+        let mut g = Grades::new();
+        for (s, q) in slots {
+            g.first_slot(s, q);
+        }
+        OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect)
+    };
+    let fields = [
+        (&mut out.gas_temperature_drop, F_DROP),
+        (&mut out.approach, F_APPROACH),
+        (&mut out.effectiveness, F_EFF),
+        (&mut out.heat_duty, F_DUTY),
+        (&mut out.pressure_drop, F_DP),
+        (&mut out.relative_pressure_drop, F_REL_DP),
+        (&mut out.coolant_temperature_rise, F_COOLANT_RISE),
+        (&mut out.lmtd, F_LMTD),
+        (&mut out.ua, F_UA),
+        (&mut out.heat_balance_error, F_BALANCE),
+    ];
+    if o.all_usable(ALL_FIELDS) {
+        for (m, bit) in fields {
+            m.quality = o.usable_quality(bit);
+        }
+    } else {
+        for (m, bit) in fields {
+            o.settle_finite(m, bit);
+        }
+    }
     // Set by the train (the next stage's result).
     out.next_stage_temperature_rise = Measured::bad();
     out.condition = condition;

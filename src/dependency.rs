@@ -689,6 +689,18 @@ impl OutputGrades {
         }
     }
 
+    /// [`OutputGrades::new`] when every slot and check is good: only the
+    /// outputs not `computed` (bad) and those `suspect` (uncertain) differ
+    /// from good, so the table is not needed.
+    #[inline]
+    pub const fn all_slots_good(computed: u16, suspect: u16) -> Self {
+        OutputGrades {
+            not_applicable: 0,
+            bad: !computed,
+            uncertain: suspect,
+        }
+    }
+
     /// As [`OutputGrades::new`] from the per-output uses themselves (in
     /// declaration order, at most 16) instead of a turned-around table: for
     /// a caller without one. When every slot and check is good the uses are
@@ -720,6 +732,38 @@ impl OutputGrades {
             }
         }
         o
+    }
+
+    /// `true` if no output of `mask` is bad or not applicable (before the
+    /// finiteness test of [`OutputGrades::settle`]).
+    #[inline]
+    pub fn all_usable(&self, mask: u16) -> bool {
+        (self.not_applicable | self.bad) & mask == 0
+    }
+
+    /// The quality of a usable output `bit` ([`OutputGrades::all_usable`]):
+    /// uncertain or good.
+    #[inline]
+    pub fn usable_quality(&self, bit: u16) -> Quality {
+        if self.uncertain & bit != 0 {
+            Quality::Uncertain
+        } else {
+            Quality::Good
+        }
+    }
+
+    /// [`OutputGrades::settle`] for an output whose value the caller has
+    /// found finite wherever it counts it computed (a non-finite value left
+    /// out of `computed` is bad, as there): no finiteness test here.
+    #[inline]
+    pub fn settle_finite<T: Real>(&self, m: &mut Measured<T>, bit: u16) {
+        if (self.not_applicable | self.bad) & bit == 0 {
+            m.quality = self.usable_quality(bit);
+        } else if self.not_applicable & bit != 0 {
+            *m = Measured::not_applicable();
+        } else {
+            *m = Measured::bad();
+        }
     }
 
     /// Settles output `bit` (as [`Grades::settle_suspect`]): not applicable

@@ -6,7 +6,7 @@
 //! allocates, never panics and runs bounded loops over `N` stages and `W`
 //! window samples.
 
-use crate::cooler::{evaluate_cooler_within, CoolerConfig, CoolerInputs, CoolerResult};
+use crate::cooler::{evaluate_cooler_bounded, CoolerConfig, CoolerInputs, CoolerResult};
 use crate::error::{check_positive, check_range, ConfigError, Problem};
 use crate::gas::GasModel;
 use crate::plausibility::{compressibility, efficiency_allowance, Limits};
@@ -601,7 +601,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             // In place, as for the stages (saves a ~92-byte copy).
             let r = out.get_or_insert_with(CoolerResult::bad);
             let cp_fit = self.config.gas.fit_quality(t_in, t_out);
-            evaluate_cooler_within(&inputs, limits, cp_inputs, cp_fit, r);
+            evaluate_cooler_bounded::<T, true>(&inputs, limits, cp_inputs, cp_fit, r);
             r.next_stage_temperature_rise = next_rise;
         }
     }
