@@ -165,7 +165,11 @@ const F_BALANCE: u16 = 1 << 9;
 /// series (module header; terms to u⁸, truncation about u¹⁰/11, below the
 /// type's rounding), else (a - b)/ln(a/b), whose logarithm is then of a
 /// ratio at least 1.5 (f32) or 1.02 (f64) away from one.
-#[inline]
+///
+/// Not inlined: the logarithm is a call, and inlined into the train's loop
+/// the series constants stay in registers across it (shuffled around the
+/// call on Cortex-M4F).
+#[inline(never)]
 pub fn lmtd_counterflow<T: Real>(dt_a: T, dt_b: T) -> Option<T> {
     if !(dt_a > T::ZERO && dt_b > T::ZERO) {
         return None;
@@ -222,6 +226,29 @@ pub fn evaluate_cooler_within<T: Real>(
     evaluate_cooler_bounded::<T, false>(inp, limits, cp_inputs, cp_fit, out);
 }
 
+// The inputs' two-bit quality fields in `evaluate_cooler_bounded`'s packed
+// word (in this order), by their high bit (set: not usable).
+const I_TIN: u32 = 2 << 0;
+const I_TOUT: u32 = 2 << 2;
+const I_TC: u32 = 2 << 4;
+const I_TCO: u32 = 2 << 6;
+const I_PIN: u32 = 2 << 8;
+const I_POUT: u32 = 2 << 10;
+const I_FLOW: u32 = 2 << 12;
+const I_MC: u32 = 2 << 14;
+const I_DH: u32 = 2 << 16;
+const NOT_USABLE: u32 = I_TIN | I_TOUT | I_TC | I_TCO | I_PIN | I_POUT | I_FLOW | I_MC | I_DH;
+/// Both bits of the eight inputs that are dependency slots (all but the
+/// enthalpy drop, which enters through the duty's checks).
+const SLOT_INPUTS: u32 = (1 << 16) - 1;
+const _: () = assert!(
+    Quality::Good as u32 == 0
+        && Quality::Uncertain as u32 == 1
+        && Quality::Bad as u32 == 2
+        && Quality::NotApplicable as u32 == 3,
+    "the packed qualities of the cooler evaluation rely on these discriminants"
+);
+
 /// Results that can be computed from usable inputs and still not be finite
 /// (a ratio or logarithm); the others are differences of the inputs, a
 /// ratio over a span of at least [`MIN_EFFECTIVENESS_SPAN_K`], or the duty
@@ -259,7 +286,28 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
         inp.gas_mass_flow,
         inp.coolant_mass_flow,
     );
-    let ok = |m: Measured<T>| m.quality.is_usable();
+    let dh = inp.gas_enthalpy_drop;
+    // The inputs' qualities two bits each, in one word (the discriminants:
+    // good 0, uncertain 1, bad 2, not applicable 3; the high bit of a pair
+    // is set exactly when the input is not usable). One register instead
+    // of nine flags: every usability test below is one mask test.
+    let qualities = [
+        tin.quality,
+        tout.quality,
+        tc.quality,
+        tco.quality,
+        pin.quality,
+        pout.quality,
+        flow.quality,
+        mc.quality,
+        dh.quality,
+    ];
+    let packed = qualities
+        .iter()
+        .enumerate()
+        .fold(0u32, |a, (i, &q)| a | (q as u32) << (2 * i));
+    let unusable = packed & NOT_USABLE;
+    let ok = |inputs: u32| unusable & inputs == 0;
     let noise = limits.temperature_noise;
     let checked = if BOUNDED {
         MAY_OVERFLOW
@@ -281,7 +329,7 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
     };
     let mut condition = CoolerCondition::Normal;
 
-    if ok(pin) && ok(pout) {
+    if ok(I_PIN | I_POUT) {
         let dp = pin.value - pout.value;
         set(&mut out.pressure_drop, F_DP, dp, dp < T::ZERO);
         set(
@@ -291,19 +339,18 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
             dp < T::ZERO,
         );
     }
-    let gas_ok = ok(tin) && ok(tout);
+    let gas_ok = ok(I_TIN | I_TOUT);
     let drop = tin.value - tout.value;
     let outlet_above_inlet = gas_ok && drop < -noise;
     let within_noise = gas_ok && !outlet_above_inlet && drop < noise;
-    let stationary = ok(flow) && !(flow.value > limits.stationary_flow);
+    let stationary = ok(I_FLOW) && !(flow.value > limits.stationary_flow);
     // Duty from the gas model's enthalpy drop (its quality: the model's
     // validity at the two states and the supplied Z); a model outside its
     // fitted or valid range makes the duty and what uses it suspect, no
     // valid state makes them bad.
-    let dh = inp.gas_enthalpy_drop;
     let duty = flow.value * dh.value;
     let cp_suspect = cp_fit.worst(dh.quality) != Quality::Good;
-    let duty_ok = gas_ok && !outlet_above_inlet && ok(flow) && ok(dh) && T::is_finite(duty);
+    let duty_ok = gas_ok && !outlet_above_inlet && ok(I_FLOW | I_DH) && T::is_finite(duty);
     if gas_ok {
         set(
             &mut out.gas_temperature_drop,
@@ -318,19 +365,19 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
         }
     }
     let approach = tout.value - tc.value;
-    let below_coolant = ok(tout) && ok(tc) && approach < -noise;
-    if ok(tout) && ok(tc) {
+    let below_coolant = ok(I_TOUT | I_TC) && approach < -noise;
+    if ok(I_TOUT | I_TC) {
         set(&mut out.approach, F_APPROACH, approach, below_coolant);
     }
     let span = tin.value - tc.value;
-    let no_span = gas_ok && ok(tc) && !(span > T::of(MIN_EFFECTIVENESS_SPAN_K));
-    if gas_ok && ok(tc) && !outlet_above_inlet && !no_span {
+    let no_span = ok(I_TIN | I_TOUT | I_TC) && !(span > T::of(MIN_EFFECTIVENESS_SPAN_K));
+    if ok(I_TIN | I_TOUT | I_TC) && !outlet_above_inlet && !no_span {
         let eff = drop / span;
         let outside = !(eff >= T::ZERO && eff <= T::ONE);
         set(&mut out.effectiveness, F_EFF, eff, outside);
     }
     let rise = tco.value - tc.value;
-    if ok(tc) && ok(tco) {
+    if ok(I_TC | I_TCO) {
         set(
             &mut out.coolant_temperature_rise,
             F_COOLANT_RISE,
@@ -338,7 +385,7 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
             rise < -noise,
         );
     }
-    if gas_ok && ok(tc) && ok(tco) {
+    if ok(I_TIN | I_TOUT | I_TC | I_TCO) {
         if let Some(lmtd) = lmtd_counterflow(tin.value - tco.value, tout.value - tc.value) {
             set(&mut out.lmtd, F_LMTD, lmtd, false);
             if duty_ok {
@@ -348,7 +395,7 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
                 set(&mut out.ua, F_UA, duty / lmtd, suspect);
             }
         }
-        if duty_ok && duty > T::ZERO && ok(mc) {
+        if duty_ok && duty > T::ZERO && ok(I_MC) {
             let coolant_duty = mc.value * inp.coolant_cp * rise;
             set(
                 &mut out.heat_balance_error,
@@ -359,14 +406,14 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
         }
     }
 
-    if !gas_ok || !ok(tc) {
+    if !ok(I_TIN | I_TOUT | I_TC) {
         condition = CoolerCondition::InputBad;
     } else if condition == CoolerCondition::Normal {
         condition = if below_coolant {
             CoolerCondition::OutletBelowCoolant
         } else if no_span {
             CoolerCondition::NoDrivingDifference
-        } else if within_noise && ok(flow) {
+        } else if within_noise && ok(I_FLOW) {
             CoolerCondition::DutyWithinNoise
         } else if stationary {
             CoolerCondition::NoGasFlow
@@ -377,23 +424,21 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
 
     // Every output at once: the table's bits (`F_*` = declaration order).
     // With every input slot good the table is not looked at.
-    let slots = [
-        (slot::T2, tin.quality),
-        (slot::GAS_OUT_T, tout.quality),
-        (slot::COOLANT_IN_T, tc.quality),
-        (slot::COOLANT_OUT_T, tco.quality),
-        (slot::P2, pin.quality),
-        (slot::GAS_OUT_P, pout.quality),
-        (slot::FLOW, flow.quality),
-        (slot::COOLANT_FLOW, mc.quality),
-    ];
-    // (Good is discriminant 0: one OR over the qualities.)
-    let any_not_good = slots.iter().fold(0u8, |a, &(_, q)| a | q as u8);
-    let o = if any_not_good == 0 {
+    let o = if packed & SLOT_INPUTS == 0 {
         OutputGrades::all_slots_good(done, suspect)
     } else {
+        let slots = [
+            slot::T2,
+            slot::GAS_OUT_T,
+            slot::COOLANT_IN_T,
+            slot::COOLANT_OUT_T,
+            slot::P2,
+            slot::GAS_OUT_P,
+            slot::FLOW,
+            slot::COOLANT_FLOW,
+        ];
         let mut g = Grades::new();
-        for (s, q) in slots {
+        for (s, q) in slots.into_iter().zip(qualities) {
             g.first_slot(s, q);
         }
         OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect)
