@@ -314,30 +314,20 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
     } else {
         ALL_FIELDS & !F_DUTY
     };
-    // Computed outputs and those a field-local plausibility check makes
-    // suspect (bit i: the i-th field in declaration order). A value that
-    // is not finite counts as not computed (bad, as the rule says).
-    let (mut done, mut suspect): (u16, u16) = (0, 0);
-    let mut set = |m: &mut Measured<T>, bit: u16, v: T, doubtful: bool| {
+    // Computed outputs (bit i: the i-th field in declaration order). A
+    // value that is not finite counts as not computed (bad, as the rule
+    // says).
+    let mut done: u16 = 0;
+    let mut set = |m: &mut Measured<T>, bit: u16, v: T| {
         m.value = v;
         if checked & bit == 0 || T::is_finite(v) {
             done |= bit;
         }
-        if doubtful {
-            suspect |= bit;
-        }
     };
-    let mut condition = CoolerCondition::Normal;
-
+    let dp = pin.value - pout.value;
     if ok(I_PIN | I_POUT) {
-        let dp = pin.value - pout.value;
-        set(&mut out.pressure_drop, F_DP, dp, dp < T::ZERO);
-        set(
-            &mut out.relative_pressure_drop,
-            F_REL_DP,
-            dp / pin.value,
-            dp < T::ZERO,
-        );
+        set(&mut out.pressure_drop, F_DP, dp);
+        set(&mut out.relative_pressure_drop, F_REL_DP, dp / pin.value);
     }
     let gas_ok = ok(I_TIN | I_TOUT);
     let drop = tin.value - tout.value;
@@ -352,47 +342,31 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
     let cp_suspect = cp_fit.worst(dh.quality) != Quality::Good;
     let duty_ok = gas_ok && !outlet_above_inlet && ok(I_FLOW | I_DH) && T::is_finite(duty);
     if gas_ok {
-        set(
-            &mut out.gas_temperature_drop,
-            F_DROP,
-            drop,
-            outlet_above_inlet,
-        );
-        if outlet_above_inlet {
-            condition = CoolerCondition::OutletAboveInlet;
-        } else if duty_ok {
-            set(&mut out.heat_duty, F_DUTY, duty, within_noise || cp_suspect);
+        set(&mut out.gas_temperature_drop, F_DROP, drop);
+        if duty_ok {
+            set(&mut out.heat_duty, F_DUTY, duty);
         }
     }
     let approach = tout.value - tc.value;
     let below_coolant = ok(I_TOUT | I_TC) && approach < -noise;
     if ok(I_TOUT | I_TC) {
-        set(&mut out.approach, F_APPROACH, approach, below_coolant);
+        set(&mut out.approach, F_APPROACH, approach);
     }
     let span = tin.value - tc.value;
     let no_span = ok(I_TIN | I_TOUT | I_TC) && !(span > T::of(MIN_EFFECTIVENESS_SPAN_K));
+    let eff = drop / span;
     if ok(I_TIN | I_TOUT | I_TC) && !outlet_above_inlet && !no_span {
-        let eff = drop / span;
-        let outside = !(eff >= T::ZERO && eff <= T::ONE);
-        set(&mut out.effectiveness, F_EFF, eff, outside);
+        set(&mut out.effectiveness, F_EFF, eff);
     }
     let rise = tco.value - tc.value;
     if ok(I_TC | I_TCO) {
-        set(
-            &mut out.coolant_temperature_rise,
-            F_COOLANT_RISE,
-            rise,
-            rise < -noise,
-        );
+        set(&mut out.coolant_temperature_rise, F_COOLANT_RISE, rise);
     }
     if ok(I_TIN | I_TOUT | I_TC | I_TCO) {
         if let Some(lmtd) = lmtd_counterflow(tin.value - tco.value, tout.value - tc.value) {
-            set(&mut out.lmtd, F_LMTD, lmtd, false);
+            set(&mut out.lmtd, F_LMTD, lmtd);
             if duty_ok {
-                // A negative duty inside the noise band gives a negative UA:
-                // uncertain with the duty; no flow: UA undefined, uncertain.
-                let suspect = within_noise || stationary || cp_suspect;
-                set(&mut out.ua, F_UA, duty / lmtd, suspect);
+                set(&mut out.ua, F_UA, duty / lmtd);
             }
         }
         if duty_ok && duty > T::ZERO && ok(I_MC) {
@@ -401,26 +375,52 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
                 &mut out.heat_balance_error,
                 F_BALANCE,
                 (duty - coolant_duty) / duty,
-                within_noise || cp_suspect,
             );
         }
     }
+    // Outputs a field-local plausibility check makes suspect, set whether
+    // computed or not (one not computed is bad, which uncertain does not
+    // change): a negative pressure drop; the outlet above the inlet; the
+    // outlet below the coolant; an effectiveness outside [0, 1]; a falling
+    // coolant; the duty and what uses it inside the noise band or from a
+    // gas model outside its fitted or valid range; UA also without flow (a
+    // zero duty is not fouling; a negative duty in the noise band gives a
+    // negative UA).
+    let weak_duty = within_noise || cp_suspect;
+    let flag = |c: bool, bits: u16| if c { bits } else { 0 };
+    let suspect = flag(dp < T::ZERO, F_DP | F_REL_DP)
+        | flag(outlet_above_inlet, F_DROP)
+        | flag(below_coolant, F_APPROACH)
+        | flag(!(eff >= T::ZERO && eff <= T::ONE), F_EFF)
+        | flag(rise < -noise, F_COOLANT_RISE)
+        | flag(weak_duty, F_DUTY | F_BALANCE)
+        | flag(weak_duty || stationary, F_UA);
 
-    if !ok(I_TIN | I_TOUT | I_TC) {
-        condition = CoolerCondition::InputBad;
-    } else if condition == CoolerCondition::Normal {
-        condition = if below_coolant {
-            CoolerCondition::OutletBelowCoolant
-        } else if no_span {
-            CoolerCondition::NoDrivingDifference
-        } else if within_noise && ok(I_FLOW) {
-            CoolerCondition::DutyWithinNoise
-        } else if stationary {
-            CoolerCondition::NoGasFlow
-        } else {
-            CoolerCondition::Normal
-        };
-    }
+    // What the evaluation found, in order of precedence (an outlet above
+    // the inlet implies usable gas temperatures): the first of `found`.
+    let found = u32::from(outlet_above_inlet)
+        | u32::from(below_coolant) << 1
+        | u32::from(no_span) << 2
+        | u32::from(within_noise && ok(I_FLOW)) << 3
+        | u32::from(stationary) << 4;
+    let condition = if !ok(I_TIN | I_TOUT | I_TC) {
+        CoolerCondition::InputBad
+    } else if found == 0 {
+        CoolerCondition::Normal
+    } else {
+        const FIRST_FOUND: [CoolerCondition; 5] = [
+            CoolerCondition::OutletAboveInlet,
+            CoolerCondition::OutletBelowCoolant,
+            CoolerCondition::NoDrivingDifference,
+            CoolerCondition::DutyWithinNoise,
+            CoolerCondition::NoGasFlow,
+        ];
+        let first = found.trailing_zeros() as usize;
+        FIRST_FOUND
+            .get(first)
+            .copied()
+            .unwrap_or(CoolerCondition::Normal)
+    };
 
     // Every output at once: the table's bits (`F_*` = declaration order).
     // With every input slot good the table is not looked at.
@@ -455,7 +455,11 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
         (&mut out.ua, F_UA),
         (&mut out.heat_balance_error, F_BALANCE),
     ];
-    if o.all_usable(ALL_FIELDS) {
+    if o.all_usable(ALL_FIELDS) && o.none_uncertain(ALL_FIELDS) {
+        for (m, _) in fields {
+            m.quality = Quality::Good;
+        }
+    } else if o.all_usable(ALL_FIELDS) {
         for (m, bit) in fields {
             m.quality = o.usable_quality(bit);
         }

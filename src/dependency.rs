@@ -741,6 +741,12 @@ impl OutputGrades {
         (self.not_applicable | self.bad) & mask == 0
     }
 
+    /// `true` if no output of `mask` is uncertain.
+    #[inline]
+    pub fn none_uncertain(&self, mask: u16) -> bool {
+        self.uncertain & mask == 0
+    }
+
     /// The quality of a usable output `bit` ([`OutputGrades::all_usable`]):
     /// uncertain or good.
     #[inline]
