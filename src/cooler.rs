@@ -165,11 +165,7 @@ const F_BALANCE: u16 = 1 << 9;
 /// series (module header; terms to u⁸, truncation about u¹⁰/11, below the
 /// type's rounding), else (a - b)/ln(a/b), whose logarithm is then of a
 /// ratio at least 1.5 (f32) or 1.02 (f64) away from one.
-///
-/// Not inlined: the logarithm is a call, and inlined into the train's loop
-/// the series constants stay in registers across it (shuffled around the
-/// call on Cortex-M4F).
-#[inline(never)]
+#[inline]
 pub fn lmtd_counterflow<T: Real>(dt_a: T, dt_b: T) -> Option<T> {
     if !(dt_a > T::ZERO && dt_b > T::ZERO) {
         return None;
