@@ -505,6 +505,85 @@ mod tests {
         assert!((r.heat_balance_error.value - (221_100.0 - coolant) / 221_100.0).abs() < 1e-12);
     }
 
+    /// Consistency check (the project's own evaluation, two variants): for
+    /// inputs within the default limits, as the train's sensor boundary
+    /// passes them, the bounded evaluation (finiteness tests only where a
+    /// ratio or logarithm can overflow) gives bit for bit what the public
+    /// one gives, over seeded random values and qualities of every input.
+    #[test]
+    fn bounded_evaluation_equals_the_checked_one() {
+        let mut seed = 0x9e37_79b9_u32;
+        let mut next = || {
+            seed ^= seed << 13;
+            seed ^= seed >> 17;
+            seed ^= seed << 5;
+            seed
+        };
+        let limits = Limits::<f32>::default();
+        let quality = |r: u32| match r % 7 {
+            0 => Quality::Uncertain,
+            1 => Quality::Bad,
+            2 => Quality::NotApplicable,
+            _ => Quality::Good,
+        };
+        for case in 0..20_000 {
+            let mut m = |lo: f32, hi: f32| {
+                let u = (next() % 10_000) as f32 / 10_000.0;
+                let q = quality(next());
+                // Unusable readings carry the boundary's placeholder zero.
+                let v = if q.is_usable() {
+                    lo + u * (hi - lo)
+                } else {
+                    0.0
+                };
+                Measured::new(v, q)
+            };
+            let inp = CoolerInputs {
+                gas_inlet_temperature: m(280.0, 450.0),
+                gas_outlet_temperature: m(280.0, 450.0),
+                coolant_inlet_temperature: m(275.0, 330.0),
+                coolant_outlet_temperature: m(275.0, 340.0),
+                gas_inlet_pressure: m(1e5, 5e6),
+                gas_outlet_pressure: m(1e5, 5e6),
+                gas_mass_flow: m(0.0, 50.0),
+                coolant_mass_flow: m(0.0, 80.0),
+                gas_enthalpy_drop: m(-2e4, 2e5),
+                coolant_cp: 4180.0,
+            };
+            let fit = if next() % 3 == 0 {
+                Quality::Uncertain
+            } else {
+                Quality::Good
+            };
+            let p = PropertyInputs {
+                temperature: next() % 2 == 0,
+                pressure: next() % 2 == 0,
+                compressibility_from_state: false,
+                state_functions: false,
+            };
+            let (mut a, mut b) = (CoolerResult::bad(), CoolerResult::bad());
+            evaluate_cooler_within(&inp, &limits, p, fit, &mut a);
+            evaluate_cooler_bounded::<f32, true>(&inp, &limits, p, fit, &mut b);
+            let bits = |r: &CoolerResult<f32>| {
+                [
+                    r.gas_temperature_drop,
+                    r.approach,
+                    r.effectiveness,
+                    r.heat_duty,
+                    r.pressure_drop,
+                    r.relative_pressure_drop,
+                    r.coolant_temperature_rise,
+                    r.lmtd,
+                    r.ua,
+                    r.heat_balance_error,
+                ]
+                .map(|m| (m.value.to_bits(), m.quality))
+            };
+            assert_eq!(bits(&a), bits(&b), "case {case}");
+            assert_eq!(a.condition, b.condition, "case {case}");
+        }
+    }
+
     #[test]
     fn outlet_above_inlet_is_flagged() {
         let mut i = inputs();

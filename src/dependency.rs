@@ -858,11 +858,40 @@ mod tests {
                 let bit = 1 << i;
                 let (mut a, mut b) = (Measured::new(v, q(next())), Measured::new(v, q(next())));
                 g.settle_suspect(&mut a, done & bit != 0, suspect & bit != 0, *u);
+                let mut c = b;
                 o.settle(&mut b, bit);
                 assert_eq!(
                     (a.value.to_bits(), a.quality),
                     (b.value.to_bits(), b.quality),
                     "case {case} output {i}"
+                );
+                // The finite variant, for a caller that leaves a value
+                // that is not finite out of `computed` (the cooler).
+                let finite = v.is_finite();
+                let of =
+                    OutputGrades::new(&g, &users, if finite { done } else { done & !bit }, suspect);
+                of.settle_finite(&mut c, bit);
+                assert_eq!(
+                    (b.value.to_bits(), b.quality),
+                    (c.value.to_bits(), c.quality),
+                    "finite variant, case {case} output {i}"
+                );
+                if of.all_usable(bit) {
+                    assert_eq!(of.usable_quality(bit), c.quality);
+                    assert_eq!(of.none_uncertain(bit), c.quality == Quality::Good);
+                }
+            }
+            // With every slot and check good the table is not needed.
+            let clean = OutputGrades::all_slots_good(done, suspect);
+            let full = OutputGrades::new(&Grades::new(), &users, done, suspect);
+            for i in 0..16 {
+                let bit = 1 << i;
+                let (mut a, mut b) = (Measured::good(1.5_f32), Measured::good(1.5_f32));
+                clean.settle_finite(&mut a, bit);
+                full.settle_finite(&mut b, bit);
+                assert_eq!(
+                    (a.value.to_bits(), a.quality),
+                    (b.value.to_bits(), b.quality)
                 );
             }
         }
