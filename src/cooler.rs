@@ -224,7 +224,7 @@ pub fn evaluate_cooler_within<T: Real>(
 
 // The inputs' two-bit quality fields in `evaluate_cooler_bounded`'s packed
 // word (in this order), by their high bit (set: not usable).
-const I_TIN: u32 = 2 << 0;
+const I_TIN: u32 = 2;
 const I_TOUT: u32 = 2 << 2;
 const I_TC: u32 = 2 << 4;
 const I_TCO: u32 = 2 << 6;
