@@ -219,6 +219,57 @@ pub fn evaluate_cooler_within<T: Real>(
     cp_fit: Quality,
     out: &mut CoolerResult<T>,
 ) {
+    evaluate_cooler_bounded::<T, false>(inp, limits, cp_inputs, cp_fit, out);
+}
+
+// The inputs' two-bit quality fields in `evaluate_cooler_bounded`'s packed
+// word (in this order), by their high bit (set: not usable).
+const I_TIN: u32 = 2;
+const I_TOUT: u32 = 2 << 2;
+const I_TC: u32 = 2 << 4;
+const I_TCO: u32 = 2 << 6;
+const I_PIN: u32 = 2 << 8;
+const I_POUT: u32 = 2 << 10;
+const I_FLOW: u32 = 2 << 12;
+const I_MC: u32 = 2 << 14;
+const I_DH: u32 = 2 << 16;
+const NOT_USABLE: u32 = I_TIN | I_TOUT | I_TC | I_TCO | I_PIN | I_POUT | I_FLOW | I_MC | I_DH;
+/// Both bits of the eight inputs that are dependency slots (all but the
+/// enthalpy drop, which enters through the duty's checks).
+const SLOT_INPUTS: u32 = (1 << 16) - 1;
+const _: () = assert!(
+    Quality::Good as u32 == 0
+        && Quality::Uncertain as u32 == 1
+        && Quality::Bad as u32 == 2
+        && Quality::NotApplicable as u32 == 3,
+    "the packed qualities of the cooler evaluation rely on these discriminants"
+);
+
+/// Results that can be computed from usable inputs and still not be finite
+/// (a ratio or logarithm); the others are differences of the inputs, a
+/// ratio over a span of at least [`MIN_EFFECTIVENESS_SPAN_K`], or the duty
+/// (tested where it is computed), finite when the inputs are. With inputs
+/// that passed validated limits ([`Limits::first_invalid`]: every bound
+/// finite, temperatures in [1, 2000] K, pressures in [1e-3, 1e10] Pa) the
+/// inputs are finite and only these are tested.
+const MAY_OVERFLOW: u16 = F_LMTD | F_UA | F_BALANCE;
+/// Every result field's bit.
+const ALL_FIELDS: u16 = (1 << 10) - 1;
+
+/// [`evaluate_cooler_within`], inlined into its caller (the train: no
+/// inputs struct in memory, no call). `BOUNDED`: every usable input value
+/// is within limits that passed [`Limits::first_invalid`] (the train's
+/// sensor boundary), so only [`MAY_OVERFLOW`] results need a finiteness
+/// test; otherwise (a caller's own inputs) every result but the duty gets
+/// one. Either way a computed value that is not finite is bad.
+#[inline(always)]
+pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
+    inp: &CoolerInputs<T>,
+    limits: &Limits<T>,
+    cp_inputs: PropertyInputs,
+    cp_fit: Quality,
+    out: &mut CoolerResult<T>,
+) {
     let (tin, tout, tc, tco) = (
         inp.gas_inlet_temperature,
         inp.gas_outlet_temperature,
@@ -231,135 +282,188 @@ pub fn evaluate_cooler_within<T: Real>(
         inp.gas_mass_flow,
         inp.coolant_mass_flow,
     );
-    let ok = |m: Measured<T>| m.quality.is_usable();
+    let dh = inp.gas_enthalpy_drop;
+    // The inputs' qualities two bits each, in one word (the discriminants:
+    // good 0, uncertain 1, bad 2, not applicable 3; the high bit of a pair
+    // is set exactly when the input is not usable). One register instead
+    // of nine flags: every usability test below is one mask test.
+    let qualities = [
+        tin.quality,
+        tout.quality,
+        tc.quality,
+        tco.quality,
+        pin.quality,
+        pout.quality,
+        flow.quality,
+        mc.quality,
+        dh.quality,
+    ];
+    let packed = qualities
+        .iter()
+        .enumerate()
+        .fold(0u32, |a, (i, &q)| a | (q as u32) << (2 * i));
+    let unusable = packed & NOT_USABLE;
+    let ok = |inputs: u32| unusable & inputs == 0;
     let noise = limits.temperature_noise;
-    // Computed outputs and those a field-local plausibility check makes
-    // suspect (bit i: the i-th field in declaration order).
-    let (mut done, mut suspect): (u16, u16) = (0, 0);
-    let mut set = |m: &mut Measured<T>, bit: u16, v: T, doubtful: bool| {
+    let checked = if BOUNDED {
+        MAY_OVERFLOW
+    } else {
+        ALL_FIELDS & !F_DUTY
+    };
+    // Computed outputs (bit i: the i-th field in declaration order). A
+    // value that is not finite counts as not computed (bad, as the rule
+    // says).
+    let mut done: u16 = 0;
+    let mut set = |m: &mut Measured<T>, bit: u16, v: T| {
         m.value = v;
-        done |= bit;
-        if doubtful {
-            suspect |= bit;
+        if checked & bit == 0 || T::is_finite(v) {
+            done |= bit;
         }
     };
-    let mut condition = CoolerCondition::Normal;
-
-    if ok(pin) && ok(pout) {
-        let dp = pin.value - pout.value;
-        set(&mut out.pressure_drop, F_DP, dp, dp < T::ZERO);
-        set(
-            &mut out.relative_pressure_drop,
-            F_REL_DP,
-            dp / pin.value,
-            dp < T::ZERO,
-        );
+    let dp = pin.value - pout.value;
+    if ok(I_PIN | I_POUT) {
+        set(&mut out.pressure_drop, F_DP, dp);
+        set(&mut out.relative_pressure_drop, F_REL_DP, dp / pin.value);
     }
-    let gas_ok = ok(tin) && ok(tout);
+    let gas_ok = ok(I_TIN | I_TOUT);
     let drop = tin.value - tout.value;
     let outlet_above_inlet = gas_ok && drop < -noise;
     let within_noise = gas_ok && !outlet_above_inlet && drop < noise;
-    let stationary = ok(flow) && !(flow.value > limits.stationary_flow);
+    let stationary = ok(I_FLOW) && !(flow.value > limits.stationary_flow);
     // Duty from the gas model's enthalpy drop (its quality: the model's
     // validity at the two states and the supplied Z); a model outside its
     // fitted or valid range makes the duty and what uses it suspect, no
     // valid state makes them bad.
-    let dh = inp.gas_enthalpy_drop;
     let duty = flow.value * dh.value;
     let cp_suspect = cp_fit.worst(dh.quality) != Quality::Good;
-    let duty_ok = gas_ok && !outlet_above_inlet && ok(flow) && ok(dh) && T::is_finite(duty);
+    let duty_ok = gas_ok && !outlet_above_inlet && ok(I_FLOW | I_DH) && T::is_finite(duty);
     if gas_ok {
-        set(
-            &mut out.gas_temperature_drop,
-            F_DROP,
-            drop,
-            outlet_above_inlet,
-        );
-        if outlet_above_inlet {
-            condition = CoolerCondition::OutletAboveInlet;
-        } else if duty_ok {
-            set(&mut out.heat_duty, F_DUTY, duty, within_noise || cp_suspect);
+        set(&mut out.gas_temperature_drop, F_DROP, drop);
+        if duty_ok {
+            set(&mut out.heat_duty, F_DUTY, duty);
         }
     }
     let approach = tout.value - tc.value;
-    let below_coolant = ok(tout) && ok(tc) && approach < -noise;
-    if ok(tout) && ok(tc) {
-        set(&mut out.approach, F_APPROACH, approach, below_coolant);
+    let below_coolant = ok(I_TOUT | I_TC) && approach < -noise;
+    if ok(I_TOUT | I_TC) {
+        set(&mut out.approach, F_APPROACH, approach);
     }
     let span = tin.value - tc.value;
-    let no_span = gas_ok && ok(tc) && !(span > T::of(MIN_EFFECTIVENESS_SPAN_K));
-    if gas_ok && ok(tc) && !outlet_above_inlet && !no_span {
-        let eff = drop / span;
-        let outside = !(eff >= T::ZERO && eff <= T::ONE);
-        set(&mut out.effectiveness, F_EFF, eff, outside);
+    let no_span = ok(I_TIN | I_TOUT | I_TC) && !(span > T::of(MIN_EFFECTIVENESS_SPAN_K));
+    let eff = drop / span;
+    if ok(I_TIN | I_TOUT | I_TC) && !outlet_above_inlet && !no_span {
+        set(&mut out.effectiveness, F_EFF, eff);
     }
     let rise = tco.value - tc.value;
-    if ok(tc) && ok(tco) {
-        set(
-            &mut out.coolant_temperature_rise,
-            F_COOLANT_RISE,
-            rise,
-            rise < -noise,
-        );
+    if ok(I_TC | I_TCO) {
+        set(&mut out.coolant_temperature_rise, F_COOLANT_RISE, rise);
     }
-    if gas_ok && ok(tc) && ok(tco) {
+    if ok(I_TIN | I_TOUT | I_TC | I_TCO) {
         if let Some(lmtd) = lmtd_counterflow(tin.value - tco.value, tout.value - tc.value) {
-            set(&mut out.lmtd, F_LMTD, lmtd, false);
+            set(&mut out.lmtd, F_LMTD, lmtd);
             if duty_ok {
-                // A negative duty inside the noise band gives a negative UA:
-                // uncertain with the duty; no flow: UA undefined, uncertain.
-                let suspect = within_noise || stationary || cp_suspect;
-                set(&mut out.ua, F_UA, duty / lmtd, suspect);
+                set(&mut out.ua, F_UA, duty / lmtd);
             }
         }
-        if duty_ok && duty > T::ZERO && ok(mc) {
+        if duty_ok && duty > T::ZERO && ok(I_MC) {
             let coolant_duty = mc.value * inp.coolant_cp * rise;
             set(
                 &mut out.heat_balance_error,
                 F_BALANCE,
                 (duty - coolant_duty) / duty,
-                within_noise || cp_suspect,
             );
         }
     }
+    // Outputs a field-local plausibility check makes suspect, set whether
+    // computed or not (one not computed is bad, which uncertain does not
+    // change): a negative pressure drop; the outlet above the inlet; the
+    // outlet below the coolant; an effectiveness outside [0, 1]; a falling
+    // coolant; the duty and what uses it inside the noise band or from a
+    // gas model outside its fitted or valid range; UA also without flow (a
+    // zero duty is not fouling; a negative duty in the noise band gives a
+    // negative UA).
+    let weak_duty = within_noise || cp_suspect;
+    let flag = |c: bool, bits: u16| if c { bits } else { 0 };
+    let suspect = flag(dp < T::ZERO, F_DP | F_REL_DP)
+        | flag(outlet_above_inlet, F_DROP)
+        | flag(below_coolant, F_APPROACH)
+        | flag(!(eff >= T::ZERO && eff <= T::ONE), F_EFF)
+        | flag(rise < -noise, F_COOLANT_RISE)
+        | flag(weak_duty, F_DUTY | F_BALANCE)
+        | flag(weak_duty || stationary, F_UA);
 
-    if !gas_ok || !ok(tc) {
-        condition = CoolerCondition::InputBad;
-    } else if condition == CoolerCondition::Normal {
-        condition = if below_coolant {
-            CoolerCondition::OutletBelowCoolant
-        } else if no_span {
-            CoolerCondition::NoDrivingDifference
-        } else if within_noise && ok(flow) {
-            CoolerCondition::DutyWithinNoise
-        } else if stationary {
-            CoolerCondition::NoGasFlow
-        } else {
-            CoolerCondition::Normal
-        };
-    }
+    // What the evaluation found, in order of precedence (an outlet above
+    // the inlet implies usable gas temperatures): the first of `found`.
+    let found = u32::from(outlet_above_inlet)
+        | u32::from(below_coolant) << 1
+        | u32::from(no_span) << 2
+        | u32::from(within_noise && ok(I_FLOW)) << 3
+        | u32::from(stationary) << 4;
+    let condition = if !ok(I_TIN | I_TOUT | I_TC) {
+        CoolerCondition::InputBad
+    } else if found == 0 {
+        CoolerCondition::Normal
+    } else {
+        const FIRST_FOUND: [CoolerCondition; 5] = [
+            CoolerCondition::OutletAboveInlet,
+            CoolerCondition::OutletBelowCoolant,
+            CoolerCondition::NoDrivingDifference,
+            CoolerCondition::DutyWithinNoise,
+            CoolerCondition::NoGasFlow,
+        ];
+        let first = found.trailing_zeros() as usize;
+        FIRST_FOUND
+            .get(first)
+            .copied()
+            .unwrap_or(CoolerCondition::Normal)
+    };
 
-    let mut g = Grades::new();
-    g.first_slot(slot::T2, tin.quality)
-        .first_slot(slot::GAS_OUT_T, tout.quality)
-        .first_slot(slot::COOLANT_IN_T, tc.quality)
-        .first_slot(slot::COOLANT_OUT_T, tco.quality)
-        .first_slot(slot::P2, pin.quality)
-        .first_slot(slot::GAS_OUT_P, pout.quality)
-        .first_slot(slot::FLOW, flow.quality)
-        .first_slot(slot::COOLANT_FLOW, mc.quality);
     // Every output at once: the table's bits (`F_*` = declaration order).
-    let o = OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect);
-    o.settle(&mut out.gas_temperature_drop, F_DROP);
-    o.settle(&mut out.approach, F_APPROACH);
-    o.settle(&mut out.effectiveness, F_EFF);
-    o.settle(&mut out.heat_duty, F_DUTY);
-    o.settle(&mut out.pressure_drop, F_DP);
-    o.settle(&mut out.relative_pressure_drop, F_REL_DP);
-    o.settle(&mut out.coolant_temperature_rise, F_COOLANT_RISE);
-    o.settle(&mut out.lmtd, F_LMTD);
-    o.settle(&mut out.ua, F_UA);
-    o.settle(&mut out.heat_balance_error, F_BALANCE);
+    // With every input slot good the table is not looked at.
+    let o = if packed & SLOT_INPUTS == 0 {
+        OutputGrades::all_slots_good(done, suspect)
+    } else {
+        let slots = [
+            slot::T2,
+            slot::GAS_OUT_T,
+            slot::COOLANT_IN_T,
+            slot::COOLANT_OUT_T,
+            slot::P2,
+            slot::GAS_OUT_P,
+            slot::FLOW,
+            slot::COOLANT_FLOW,
+        ];
+        let mut g = Grades::new();
+        for (s, q) in slots.into_iter().zip(qualities) {
+            g.first_slot(s, q);
+        }
+        OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect)
+    };
+    let fields = [
+        (&mut out.gas_temperature_drop, F_DROP),
+        (&mut out.approach, F_APPROACH),
+        (&mut out.effectiveness, F_EFF),
+        (&mut out.heat_duty, F_DUTY),
+        (&mut out.pressure_drop, F_DP),
+        (&mut out.relative_pressure_drop, F_REL_DP),
+        (&mut out.coolant_temperature_rise, F_COOLANT_RISE),
+        (&mut out.lmtd, F_LMTD),
+        (&mut out.ua, F_UA),
+        (&mut out.heat_balance_error, F_BALANCE),
+    ];
+    if o.all_usable(ALL_FIELDS) && o.none_uncertain(ALL_FIELDS) {
+        for (m, _) in fields {
+            m.quality = Quality::Good;
+        }
+    } else if o.all_usable(ALL_FIELDS) {
+        for (m, bit) in fields {
+            m.quality = o.usable_quality(bit);
+        }
+    } else {
+        for (m, bit) in fields {
+            o.settle_finite(m, bit);
+        }
+    }
     // Set by the train (the next stage's result).
     out.next_stage_temperature_rise = Measured::bad();
     out.condition = condition;
@@ -399,6 +503,85 @@ mod tests {
         assert!((r.ua.value - r.heat_duty.value / r.lmtd.value).abs() < 1e-6);
         let coolant = 3.5 * 4180.0 * 15.0;
         assert!((r.heat_balance_error.value - (221_100.0 - coolant) / 221_100.0).abs() < 1e-12);
+    }
+
+    /// Consistency check (the project's own evaluation, two variants): for
+    /// inputs within the default limits, as the train's sensor boundary
+    /// passes them, the bounded evaluation (finiteness tests only where a
+    /// ratio or logarithm can overflow) gives bit for bit what the public
+    /// one gives, over seeded random values and qualities of every input.
+    #[test]
+    fn bounded_evaluation_equals_the_checked_one() {
+        let mut seed = 0x9e37_79b9_u32;
+        let mut next = || {
+            seed ^= seed << 13;
+            seed ^= seed >> 17;
+            seed ^= seed << 5;
+            seed
+        };
+        let limits = Limits::<f32>::default();
+        let quality = |r: u32| match r % 7 {
+            0 => Quality::Uncertain,
+            1 => Quality::Bad,
+            2 => Quality::NotApplicable,
+            _ => Quality::Good,
+        };
+        for case in 0..20_000 {
+            let mut m = |lo: f32, hi: f32| {
+                let u = (next() % 10_000) as f32 / 10_000.0;
+                let q = quality(next());
+                // Unusable readings carry the boundary's placeholder zero.
+                let v = if q.is_usable() {
+                    lo + u * (hi - lo)
+                } else {
+                    0.0
+                };
+                Measured::new(v, q)
+            };
+            let inp = CoolerInputs {
+                gas_inlet_temperature: m(280.0, 450.0),
+                gas_outlet_temperature: m(280.0, 450.0),
+                coolant_inlet_temperature: m(275.0, 330.0),
+                coolant_outlet_temperature: m(275.0, 340.0),
+                gas_inlet_pressure: m(1e5, 5e6),
+                gas_outlet_pressure: m(1e5, 5e6),
+                gas_mass_flow: m(0.0, 50.0),
+                coolant_mass_flow: m(0.0, 80.0),
+                gas_enthalpy_drop: m(-2e4, 2e5),
+                coolant_cp: 4180.0,
+            };
+            let fit = if next() % 3 == 0 {
+                Quality::Uncertain
+            } else {
+                Quality::Good
+            };
+            let p = PropertyInputs {
+                temperature: next() % 2 == 0,
+                pressure: next() % 2 == 0,
+                compressibility_from_state: false,
+                state_functions: false,
+            };
+            let (mut a, mut b) = (CoolerResult::bad(), CoolerResult::bad());
+            evaluate_cooler_within(&inp, &limits, p, fit, &mut a);
+            evaluate_cooler_bounded::<f32, true>(&inp, &limits, p, fit, &mut b);
+            let bits = |r: &CoolerResult<f32>| {
+                [
+                    r.gas_temperature_drop,
+                    r.approach,
+                    r.effectiveness,
+                    r.heat_duty,
+                    r.pressure_drop,
+                    r.relative_pressure_drop,
+                    r.coolant_temperature_rise,
+                    r.lmtd,
+                    r.ua,
+                    r.heat_balance_error,
+                ]
+                .map(|m| (m.value.to_bits(), m.quality))
+            };
+            assert_eq!(bits(&a), bits(&b), "case {case}");
+            assert_eq!(a.condition, b.condition, "case {case}");
+        }
     }
 
     #[test]

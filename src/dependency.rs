@@ -689,6 +689,18 @@ impl OutputGrades {
         }
     }
 
+    /// [`OutputGrades::new`] when every slot and check is good: only the
+    /// outputs not `computed` (bad) and those `suspect` (uncertain) differ
+    /// from good, so the table is not needed.
+    #[inline]
+    pub const fn all_slots_good(computed: u16, suspect: u16) -> Self {
+        OutputGrades {
+            not_applicable: 0,
+            bad: !computed,
+            uncertain: suspect,
+        }
+    }
+
     /// As [`OutputGrades::new`] from the per-output uses themselves (in
     /// declaration order, at most 16) instead of a turned-around table: for
     /// a caller without one. When every slot and check is good the uses are
@@ -720,6 +732,44 @@ impl OutputGrades {
             }
         }
         o
+    }
+
+    /// `true` if no output of `mask` is bad or not applicable (before the
+    /// finiteness test of [`OutputGrades::settle`]).
+    #[inline]
+    pub fn all_usable(&self, mask: u16) -> bool {
+        (self.not_applicable | self.bad) & mask == 0
+    }
+
+    /// `true` if no output of `mask` is uncertain.
+    #[inline]
+    pub fn none_uncertain(&self, mask: u16) -> bool {
+        self.uncertain & mask == 0
+    }
+
+    /// The quality of a usable output `bit` ([`OutputGrades::all_usable`]):
+    /// uncertain or good.
+    #[inline]
+    pub fn usable_quality(&self, bit: u16) -> Quality {
+        if self.uncertain & bit != 0 {
+            Quality::Uncertain
+        } else {
+            Quality::Good
+        }
+    }
+
+    /// [`OutputGrades::settle`] for an output whose value the caller has
+    /// found finite wherever it counts it computed (a non-finite value left
+    /// out of `computed` is bad, as there): no finiteness test here.
+    #[inline]
+    pub fn settle_finite<T: Real>(&self, m: &mut Measured<T>, bit: u16) {
+        if (self.not_applicable | self.bad) & bit == 0 {
+            m.quality = self.usable_quality(bit);
+        } else if self.not_applicable & bit != 0 {
+            *m = Measured::not_applicable();
+        } else {
+            *m = Measured::bad();
+        }
     }
 
     /// Settles output `bit` (as [`Grades::settle_suspect`]): not applicable
@@ -808,11 +858,40 @@ mod tests {
                 let bit = 1 << i;
                 let (mut a, mut b) = (Measured::new(v, q(next())), Measured::new(v, q(next())));
                 g.settle_suspect(&mut a, done & bit != 0, suspect & bit != 0, *u);
+                let mut c = b;
                 o.settle(&mut b, bit);
                 assert_eq!(
                     (a.value.to_bits(), a.quality),
                     (b.value.to_bits(), b.quality),
                     "case {case} output {i}"
+                );
+                // The finite variant, for a caller that leaves a value
+                // that is not finite out of `computed` (the cooler).
+                let finite = v.is_finite();
+                let of =
+                    OutputGrades::new(&g, &users, if finite { done } else { done & !bit }, suspect);
+                of.settle_finite(&mut c, bit);
+                assert_eq!(
+                    (b.value.to_bits(), b.quality),
+                    (c.value.to_bits(), c.quality),
+                    "finite variant, case {case} output {i}"
+                );
+                if of.all_usable(bit) {
+                    assert_eq!(of.usable_quality(bit), c.quality);
+                    assert_eq!(of.none_uncertain(bit), c.quality == Quality::Good);
+                }
+            }
+            // With every slot and check good the table is not needed.
+            let clean = OutputGrades::all_slots_good(done, suspect);
+            let full = OutputGrades::new(&Grades::new(), &users, done, suspect);
+            for i in 0..16 {
+                let bit = 1 << i;
+                let (mut a, mut b) = (Measured::good(1.5_f32), Measured::good(1.5_f32));
+                clean.settle_finite(&mut a, bit);
+                full.settle_finite(&mut b, bit);
+                assert_eq!(
+                    (a.value.to_bits(), a.quality),
+                    (b.value.to_bits(), b.quality)
                 );
             }
         }

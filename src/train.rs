@@ -6,7 +6,7 @@
 //! allocates, never panics and runs bounded loops over `N` stages and `W`
 //! window samples.
 
-use crate::cooler::{evaluate_cooler_within, CoolerConfig, CoolerInputs, CoolerResult};
+use crate::cooler::{evaluate_cooler_bounded, CoolerConfig, CoolerInputs, CoolerResult};
 use crate::error::{check_positive, check_range, ConfigError, Problem};
 use crate::gas::GasModel;
 use crate::plausibility::{compressibility, efficiency_allowance, Limits};
@@ -506,13 +506,16 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     fn evaluate_coolers(&mut self, scan: &Scan<T, N>) {
         let si = &self.si;
         let cp_inputs = self.config.gas.property_inputs();
-        for (i, (cfg, out)) in self
+        let stages = &self.snapshot.stages;
+        // By reference and by iterator (no index arithmetic per array).
+        let parts = self
             .config
             .stages
             .iter()
+            .zip(scan.stages.iter())
             .zip(self.snapshot.coolers.iter_mut())
-            .enumerate()
-        {
+            .enumerate();
+        for (i, ((cfg, raw_stage), out)) in parts {
             let (Some(cooler_cfg), Some(s)) = (cfg.cooler, si.get(i)) else {
                 *out = None;
                 continue;
@@ -520,13 +523,13 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             let next = si.get(i + 1);
             // The next stage's rise exists only if a compressor follows:
             // after the last stage or before a pump it does not apply.
-            let next_rise = match self.snapshot.stages.get(i + 1) {
+            let next_rise = match stages.get(i + 1) {
                 Some(st) => st
                     .compressor()
                     .map_or(Measured::not_applicable(), |c| c.temperature_rise),
                 None => Measured::not_applicable(),
             };
-            let Some(raw) = scan.stages.get(i).and_then(|s| s.cooler) else {
+            let Some(raw) = raw_stage.cooler else {
                 *out = Some(CoolerResult {
                     next_stage_temperature_rise: next_rise,
                     ..CoolerResult::bad()
@@ -601,7 +604,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             // In place, as for the stages (saves a ~92-byte copy).
             let r = out.get_or_insert_with(CoolerResult::bad);
             let cp_fit = self.config.gas.fit_quality(t_in, t_out);
-            evaluate_cooler_within(&inputs, limits, cp_inputs, cp_fit, r);
+            evaluate_cooler_bounded::<T, true>(&inputs, limits, cp_inputs, cp_fit, r);
             r.next_stage_temperature_rise = next_rise;
         }
     }
