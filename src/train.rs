@@ -414,16 +414,19 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         // By reference: `scan.stages.map` would copy the whole scan onto
         // the stack first.
         for (out, s) in si.iter_mut().zip(scan.stages.iter()) {
+            // The train's limits passed `Limits::first_invalid` at
+            // construction (finite bounds): the `_valid` range checks give
+            // the same result without a separate finiteness test.
             let (flow, flow_measured) = match s.mass_flow {
-                Some(m) => (limits.mass_flow(m), true),
+                Some(m) => (limits.mass_flow_valid(m), true),
                 None => (upstream_flow, false),
             };
             upstream_flow = flow;
             *out = StageSi {
-                p1: limits.pressure(s.suction_pressure.map(PressureAbs::pa)),
-                t1: limits.temperature(s.suction_temperature.map(Kelvin::kelvin)),
-                p2: limits.pressure(s.discharge_pressure.map(PressureAbs::pa)),
-                t2: limits.temperature(s.discharge_temperature.map(Kelvin::kelvin)),
+                p1: limits.pressure_valid(s.suction_pressure.map(PressureAbs::pa)),
+                t1: limits.temperature_valid(s.suction_temperature.map(Kelvin::kelvin)),
+                p2: limits.pressure_valid(s.discharge_pressure.map(PressureAbs::pa)),
+                t2: limits.temperature_valid(s.discharge_temperature.map(Kelvin::kelvin)),
                 flow,
                 flow_measured,
                 z: s.compressibility.map(compressibility),
