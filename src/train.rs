@@ -13,8 +13,8 @@ use crate::plausibility::{compressibility, efficiency_allowance, Limits};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::scan::Scan;
-use crate::stage::compressor::{evaluate_compressor_tabled, StageUses};
-use crate::stage::{evaluate_pump_within, CompressorInputs, CompressorResult, PumpResult};
+use crate::stage::compressor::{evaluate_compressor_tabled, StageReadings, StageUses};
+use crate::stage::{evaluate_pump_within, CompressorResult, PumpResult};
 use crate::staging::{
     equal_ratio_fraction, equal_ratio_interstage_pressure_from_fraction,
     isentropic_references_from_log, isothermal_reference_quality, InterstagePressure, Sum,
@@ -178,6 +178,18 @@ struct StageSi<T> {
     flow_measured: bool,
     /// Supplied compressibility after the boundary, if any.
     z: Option<Measured<T>>,
+}
+
+/// The stage evaluation reads the boundary's values in place.
+impl<T: Real> StageReadings<T> for StageSi<T> {
+    #[inline(always)]
+    fn readings(&self) -> [Measured<T>; 5] {
+        [self.p1, self.p2, self.t1, self.t2, self.flow]
+    }
+    #[inline(always)]
+    fn compressibility(&self) -> Option<(T, Quality)> {
+        self.z.map(|z| (z.value, z.quality))
+    }
 }
 
 impl<T: Real> StageSi<T> {
@@ -455,22 +467,16 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             let flow = if s.flow_measured { Some(s.flow) } else { None };
             match cfg.kind {
                 StageKind::Compressor => {
-                    let inputs = CompressorInputs {
-                        suction_pressure: s.p1,
-                        suction_temperature: s.t1,
-                        discharge_pressure: s.p2,
-                        discharge_temperature: s.t2,
-                        mass_flow: s.flow,
-                        compressibility: s.z.map(|z| (z.value, z.quality)),
-                    };
-                    // Evaluated in place: building a result and copying it
-                    // costs a ~124-byte memcpy per stage on the device.
+                    // The boundary's values read in place (no
+                    // `CompressorInputs` copy), the result written in
+                    // place: building one and copying it costs a ~124-byte
+                    // memcpy per stage on the device.
                     // `Train::new` set this slot's variant from the same
                     // (immutable) configuration, so it is a compressor.
                     if let StageWork::Compressor(c) = &mut out.work {
                         evaluate_compressor_tabled(
                             &self.config.gas,
-                            &inputs,
+                            s,
                             &self.limits,
                             Some(&self.stage_uses),
                             c,

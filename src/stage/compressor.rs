@@ -241,11 +241,40 @@ impl StageUses {
     }
 }
 
+/// Where a stage evaluation reads its inputs: [`CompressorInputs`], or a
+/// train's own per-stage values after its sensor boundary, read in place
+/// (building a [`CompressorInputs`] from them cost a 48-byte copy per
+/// stage and scan).
+pub(crate) trait StageReadings<T> {
+    /// Suction pressure, discharge pressure, suction temperature, discharge
+    /// temperature and mass flow, as [`CompressorInputs`] names them.
+    fn readings(&self) -> [Measured<T>; 5];
+    /// [`CompressorInputs::compressibility`].
+    fn compressibility(&self) -> Option<(T, Quality)>;
+}
+
+impl<T: Copy> StageReadings<T> for CompressorInputs<T> {
+    #[inline(always)]
+    fn readings(&self) -> [Measured<T>; 5] {
+        [
+            self.suction_pressure,
+            self.discharge_pressure,
+            self.suction_temperature,
+            self.discharge_temperature,
+            self.mass_flow,
+        ]
+    }
+    #[inline(always)]
+    fn compressibility(&self) -> Option<(T, Quality)> {
+        self.compressibility
+    }
+}
+
 /// [`evaluate_compressor_within`] with the dependency tables built
 /// beforehand (`tables` for `gas.property_inputs()`; `None` builds them).
-pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
+pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     gas: &G,
-    inp: &CompressorInputs<T>,
+    inp: &I,
     limits: &Limits<T>,
     tables: Option<&StageUses>,
     out: &mut CompressorResult<T>,
@@ -253,14 +282,8 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
     // Which outputs were computed (bit i: the i-th field in declaration
     // order); the rest are bad or not applicable once settled.
     let mut done: u16 = 0;
-    let (p1, t1, p2, t2) = (
-        inp.suction_pressure,
-        inp.suction_temperature,
-        inp.discharge_pressure,
-        inp.discharge_temperature,
-    );
-    let flow = inp.mass_flow;
-    let (z_supplied, q_z) = match inp.compressibility {
+    let [p1, p2, t1, t2, flow] = inp.readings();
+    let (z_supplied, q_z) = match inp.compressibility() {
         Some((z, q)) if q.is_usable() => (Some(z), q),
         Some((_, q)) => (None, q.worst(Quality::Bad)),
         None => (None, Quality::Good),
@@ -475,7 +498,14 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
         }
         _ => settle_compressor_untabled(&g, gas.property_inputs(), rating_point, done, out),
     }
-    out.condition = checks.condition(p1, t1, p2, t2, rating_point);
+    // Every slot and check good (and a temperature rise): nothing for the
+    // condition to report (each reason below is a bad input or a check
+    // that made a slot or check grade not good, except `no_rise`).
+    out.condition = if g.all_good() && !checks.no_rise && !rating_point {
+        StageCondition::Normal
+    } else {
+        checks.condition(p1, t1, p2, t2, rating_point)
+    };
 }
 
 /// The worse of the two efficiencies' grades ([`efficiency_grade`]), the
