@@ -16,9 +16,8 @@ use crate::scan::Scan;
 use crate::stage::compressor::{evaluate_compressor_tabled, StageReadings, StageUses};
 use crate::stage::{evaluate_pump_within, CompressorResult, PumpResult};
 use crate::staging::{
-    equal_ratio_fraction, equal_ratio_interstage_pressure_from_fraction,
-    isentropic_references_from_log, isothermal_reference_quality, InterstagePressure, Sum,
-    TrainTotals,
+    equal_ratio_fraction, equal_ratio_stage_ratio_from_log, isentropic_references_from_log,
+    isothermal_reference_quality, InterstagePressure, Sum, TrainTotals,
 };
 use crate::steady::{SteadyState, SteadyStateConfig, SteadyStateDetector};
 use crate::units::{Kelvin, PressureAbs};
@@ -152,9 +151,9 @@ pub struct Train<T, G, const N: usize, const W: usize> {
     /// reading uses), for the totals.
     configured_z: T,
     compressor_stages: u8,
-    /// Per compressor stage but the last: the exponent (i + 1)/stages of its
-    /// equal-ratio optimum discharge pressure (a constant of the train).
-    interstage_fraction: [T; N],
+    /// 1/(compressor stages): the exponent of the equal-ratio stage ratio
+    /// r^(1/stages) (a constant of the train).
+    equal_ratio_exponent: T,
     /// The compressor stages' dependency tables for the gas model's
     /// property inputs (rebuilt if a replaced model's inputs differ).
     stage_uses: StageUses,
@@ -354,18 +353,13 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
             .z;
         let stage_uses = StageUses::new(config.gas.property_inputs());
-        let interstage_fraction = core::array::from_fn(|i| {
-            equal_ratio_fraction(
-                u32::from(compressor_stages),
-                u32::try_from(i).unwrap_or(u32::MAX),
-            )
-        });
+        let equal_ratio_exponent = equal_ratio_fraction(u32::from(compressor_stages), 0);
         Ok(Train {
             config,
             limits,
             configured_z,
             compressor_stages,
-            interstage_fraction,
+            equal_ratio_exponent,
             stage_uses,
             detectors: core::array::from_fn(|_| SteadyStateDetector::new()),
             snapshot: Snapshot {
@@ -678,10 +672,18 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             T::ZERO
         };
         // Interstage entries exist for every compressor stage but the last.
-        for ((s, out), &fraction) in si
+        // The equal-ratio optima walk up from the first suction by the
+        // stage ratio r^(1/stages) (one exponential for all).
+        let optimum_ok = q_ratio.is_usable() && ratio > T::ONE;
+        let stage_ratio = if optimum_ok && last > 0 {
+            equal_ratio_stage_ratio_from_log(ln_overall, self.equal_ratio_exponent)
+        } else {
+            T::ONE
+        };
+        let mut opt = first.p1.value;
+        for (s, out) in si
             .iter()
             .zip(self.snapshot.interstage.iter_mut())
-            .zip(self.interstage_fraction.iter())
             .take(last)
         {
             let mut entry = InterstagePressure {
@@ -689,12 +691,8 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 optimum: Measured::bad(),
                 deviation: Measured::bad(),
             };
-            if q_ratio.is_usable() && ratio > T::ONE {
-                let opt = equal_ratio_interstage_pressure_from_fraction(
-                    first.p1.value,
-                    ln_overall,
-                    fraction,
-                );
+            if optimum_ok {
+                opt = opt * stage_ratio;
                 entry.optimum = Measured::derived(opt, q_ratio);
                 if s.p2.quality.is_usable() {
                     entry.deviation =
