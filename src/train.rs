@@ -13,7 +13,9 @@ use crate::plausibility::{compressibility, efficiency_allowance, Limits};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::scan::Scan;
-use crate::stage::compressor::{evaluate_compressor_tabled, StageReadings, StageUses};
+use crate::stage::compressor::{
+    evaluate_compressor_tabled, StageReadings, StageThresholds, StageUses,
+};
 use crate::stage::{evaluate_pump_within, CompressorResult, PumpResult};
 use crate::staging::{
     equal_ratio_fraction, equal_ratio_stage_ratio_from_log, isentropic_references_from_log,
@@ -154,6 +156,9 @@ pub struct Train<T, G, const N: usize, const W: usize> {
     /// 1/(compressor stages): the exponent of the equal-ratio stage ratio
     /// r^(1/stages) (a constant of the train).
     equal_ratio_exponent: T,
+    /// The compressor stages' check thresholds from `limits` (which do not
+    /// change after construction).
+    stage_thresholds: StageThresholds<T>,
     /// The compressor stages' dependency tables for the gas model's
     /// property inputs (rebuilt if a replaced model's inputs differ).
     stage_uses: StageUses,
@@ -354,12 +359,14 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             .z;
         let stage_uses = StageUses::new(config.gas.property_inputs());
         let equal_ratio_exponent = equal_ratio_fraction(u32::from(compressor_stages), 0);
+        let stage_thresholds = StageThresholds::of(&limits);
         Ok(Train {
             config,
             limits,
             configured_z,
             compressor_stages,
             equal_ratio_exponent,
+            stage_thresholds,
             stage_uses,
             detectors: core::array::from_fn(|_| SteadyStateDetector::new()),
             snapshot: Snapshot {
@@ -471,7 +478,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                         evaluate_compressor_tabled(
                             &self.config.gas,
                             s,
-                            &self.limits,
+                            &self.stage_thresholds,
                             Some(&self.stage_uses),
                             c,
                         );

@@ -205,7 +205,36 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     limits: &Limits<T>,
     out: &mut CompressorResult<T>,
 ) {
-    evaluate_compressor_tabled(gas, inp, limits, None, out);
+    evaluate_compressor_tabled(gas, inp, &StageThresholds::of(limits), None, out);
+}
+
+/// The thresholds of a stage's plausibility checks, from [`Limits`]: built
+/// once (a train keeps them; its limits do not change) instead of every
+/// scan (the two resolution products are three multiplications, each a
+/// library call on a device without a floating-point unit).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(crate) struct StageThresholds<T> {
+    /// [`Limits::max_stage_ratio`].
+    max_stage_ratio: T,
+    /// [`Limits::min_temperature_rise`].
+    min_temperature_rise: T,
+    /// [`Limits::min_log_ratio`].
+    min_log_ratio: T,
+    /// [`Limits::stationary_flow`].
+    stationary_flow: T,
+}
+
+impl<T: Real> StageThresholds<T> {
+    /// The thresholds of `limits` (the same values bit for bit).
+    #[inline]
+    pub(crate) fn of(limits: &Limits<T>) -> Self {
+        StageThresholds {
+            max_stage_ratio: limits.max_stage_ratio,
+            min_temperature_rise: limits.min_temperature_rise(),
+            min_log_ratio: limits.min_log_ratio(),
+            stationary_flow: limits.stationary_flow,
+        }
+    }
 }
 
 /// The dependency table of a compressor stage with a measured discharge
@@ -270,12 +299,13 @@ impl<T: Copy> StageReadings<T> for CompressorInputs<T> {
     }
 }
 
-/// [`evaluate_compressor_within`] with the dependency tables built
-/// beforehand (`tables` for `gas.property_inputs()`; `None` builds them).
+/// [`evaluate_compressor_within`] with the check thresholds and the
+/// dependency tables built beforehand (`tables` for
+/// `gas.property_inputs()`; `None` builds them).
 pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     gas: &G,
     inp: &I,
-    limits: &Limits<T>,
+    thresholds: &StageThresholds<T>,
     tables: Option<&StageUses>,
     out: &mut CompressorResult<T>,
 ) {
@@ -411,7 +441,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     } else if t1_ok && t2_ok && !rising {
         checks.no_rise = true;
     }
-    if ratio_ok && ratio > limits.max_stage_ratio {
+    if ratio_ok && ratio > thresholds.max_stage_ratio {
         checks.ratio_out_of_range = true;
     }
     if compressing && iso_ok {
@@ -448,12 +478,12 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
                 checks.exponent_implausible = true;
             }
             checks.below_resolution =
-                dt < limits.min_temperature_rise() || ln_path < limits.min_log_ratio();
+                dt < thresholds.min_temperature_rise || ln_path < thresholds.min_log_ratio;
         }
     } else if ratio_ok && !compressing {
         checks.no_compression = true;
     }
-    checks.stationary = flow.quality.is_usable() && !(flow.value > limits.stationary_flow);
+    checks.stationary = flow.quality.is_usable() && !(flow.value > thresholds.stationary_flow);
 
     // Qualities: the dependency rule over the slots and checks.
     let mut g = Grades::new();
@@ -758,7 +788,13 @@ mod tests {
                         }
                         let (mut a, mut b) = (CompressorResult::bad(), CompressorResult::bad());
                         evaluate_compressor_within(gas, &i, &limits, &mut a);
-                        evaluate_compressor_tabled(gas, &i, &limits, Some(&table), &mut b);
+                        evaluate_compressor_tabled(
+                            gas,
+                            &i,
+                            &StageThresholds::of(&limits),
+                            Some(&table),
+                            &mut b,
+                        );
                         assert_eq!(a, b, "case {case} slot {slot} {q:?}");
                     }
                 }
