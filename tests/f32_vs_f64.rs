@@ -479,6 +479,7 @@ fn measured_maxima() {
 }
 
 /// The f32 scan widened to f64: both builds see identical inputs.
+#[cfg(feature = "demo")]
 fn widen<const M: usize>(s: &Scan<f32, M>) -> Scan<f64, M> {
     let m = |x: Measured<f32>| Measured::new(f64::from(x.value), x.quality);
     let p = |x: Measured<PressureAbs<f32>>| {
