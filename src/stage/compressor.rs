@@ -572,34 +572,42 @@ impl CompressorChecks {
         t2: Measured<T>,
         rating_point: bool,
     ) -> StageCondition {
+        // The reasons as bits in order of precedence, the first set one
+        // wins (one bit scan instead of a chain of branches).
+        use StageCondition as C;
+        const PRECEDENCE: [StageCondition; 13] = [
+            C::InputBad,
+            C::RatioOutOfRange,
+            C::OutsideGasModel,
+            C::NoCompression,
+            C::RatingPoint,
+            C::InputBad,
+            C::NoTemperatureRise,
+            C::ImplausibleTemperatureRise,
+            C::EfficiencyAboveOne,
+            C::OutsideGasModel,
+            C::Stationary,
+            C::BelowResolution,
+            C::Normal,
+        ];
         let bad = |m: Measured<T>| !m.quality.is_usable();
-        if bad(p1) || bad(p2) || bad(t1) {
-            StageCondition::InputBad
-        } else if self.ratio_out_of_range {
-            StageCondition::RatioOutOfRange
-        } else if self.model == Quality::Bad {
-            StageCondition::OutsideGasModel
-        } else if self.no_compression {
-            StageCondition::NoCompression
-        } else if rating_point {
-            StageCondition::RatingPoint
-        } else if bad(t2) {
-            StageCondition::InputBad
-        } else if self.no_rise {
-            StageCondition::NoTemperatureRise
-        } else if self.exponent_implausible {
-            StageCondition::ImplausibleTemperatureRise
-        } else if self.efficiency != Quality::Good {
-            StageCondition::EfficiencyAboveOne
-        } else if self.model != Quality::Good {
-            StageCondition::OutsideGasModel
-        } else if self.stationary {
-            StageCondition::Stationary
-        } else if self.below_resolution {
-            StageCondition::BelowResolution
-        } else {
-            StageCondition::Normal
-        }
+        let reasons: u16 = u16::from(bad(p1) || bad(p2) || bad(t1))
+            | u16::from(self.ratio_out_of_range) << 1
+            | u16::from(self.model == Quality::Bad) << 2
+            | u16::from(self.no_compression) << 3
+            | u16::from(rating_point) << 4
+            | u16::from(bad(t2)) << 5
+            | u16::from(self.no_rise) << 6
+            | u16::from(self.exponent_implausible) << 7
+            | u16::from(self.efficiency != Quality::Good) << 8
+            | u16::from(self.model != Quality::Good) << 9
+            | u16::from(self.stationary) << 10
+            | u16::from(self.below_resolution) << 11
+            | 1 << 12;
+        PRECEDENCE
+            .get(reasons.trailing_zeros() as usize)
+            .copied()
+            .unwrap_or(C::Normal)
     }
 }
 
@@ -836,6 +844,83 @@ mod tests {
                 );
             }
         }
+    }
+
+    /// Consistency check (two forms of the project's own rule): the
+    /// condition from the precedence bits equals the first-match chain it
+    /// replaced, for every combination of the check flags, of the model's
+    /// and the efficiency's grades and of the four inputs' usability.
+    #[test]
+    fn condition_bits_equal_the_precedence_chain() {
+        fn chain(c: &CompressorChecks, bad_in: [bool; 4], rating_point: bool) -> StageCondition {
+            use StageCondition as C;
+            let [p1, p2, t1, t2] = bad_in;
+            if p1 || p2 || t1 {
+                C::InputBad
+            } else if c.ratio_out_of_range {
+                C::RatioOutOfRange
+            } else if c.model == Quality::Bad {
+                C::OutsideGasModel
+            } else if c.no_compression {
+                C::NoCompression
+            } else if rating_point {
+                C::RatingPoint
+            } else if t2 {
+                C::InputBad
+            } else if c.no_rise {
+                C::NoTemperatureRise
+            } else if c.exponent_implausible {
+                C::ImplausibleTemperatureRise
+            } else if c.efficiency != Quality::Good {
+                C::EfficiencyAboveOne
+            } else if c.model != Quality::Good {
+                C::OutsideGasModel
+            } else if c.stationary {
+                C::Stationary
+            } else if c.below_resolution {
+                C::BelowResolution
+            } else {
+                C::Normal
+            }
+        }
+        let grades = [Quality::Good, Quality::Uncertain, Quality::Bad];
+        let mut seen = 0;
+        for flags in 0u32..1 << 11 {
+            let bit = |i: u32| flags & (1 << i) != 0;
+            for model in grades {
+                for efficiency in grades {
+                    let c = CompressorChecks {
+                        ratio_out_of_range: bit(0),
+                        model,
+                        no_compression: bit(1),
+                        no_rise: bit(2),
+                        exponent_implausible: bit(3),
+                        efficiency,
+                        below_resolution: bit(4),
+                        stationary: bit(5),
+                    };
+                    let bad_in = [bit(6), bit(7), bit(8), bit(9)];
+                    let rating_point = bit(10);
+                    let m = |b: bool| {
+                        Measured::new(1.0_f32, if b { Quality::Bad } else { Quality::Good })
+                    };
+                    let got = c.condition(
+                        m(bad_in[0]),
+                        m(bad_in[2]),
+                        m(bad_in[1]),
+                        m(bad_in[3]),
+                        rating_point,
+                    );
+                    assert_eq!(
+                        got,
+                        chain(&c, bad_in, rating_point),
+                        "{flags:b} {model:?} {efficiency:?}"
+                    );
+                    seen += 1;
+                }
+            }
+        }
+        assert_eq!(seen, 2048 * 9);
     }
 
     #[test]
