@@ -613,6 +613,7 @@ impl CompressorChecks {
 
 /// Every output's quality from the per-output grades (bit i = the i-th
 /// field, the order of [`CompressorUses::in_order`] and of `done`).
+#[inline(always)]
 fn settle_compressor_outputs<T: Real>(g: &OutputGrades, o: &mut CompressorResult<T>) {
     g.settle(&mut o.pressure_ratio, 1 << 0);
     g.settle(&mut o.isentropic_discharge_temperature, 1 << 1);
