@@ -63,6 +63,20 @@ pub fn equal_ratio_interstage_pressure_from_fraction<T: Real>(
     p_suction * T::exp(fraction * ln_overall)
 }
 
+/// The equal-ratio stage pressure ratio r^(1/`stages`) from `ln_overall`
+/// = ln r, for a caller that walks every interstage: the optimum discharge
+/// pressures are p_i = p_suction · r_s^(i+1), each the one before times
+/// r_s. One exponential for the whole train instead of one per stage; the
+/// first optimum is [`equal_ratio_interstage_pressure_from_log`] bit for bit,
+/// stage i's is i roundings of a product away from it (below 1e-6
+/// relative in f32 for up to 16 stages: inside `tolerance::PRESSURE`).
+/// `first_fraction` is [`equal_ratio_fraction`]`(stages, 0)` = 1/`stages`
+/// (a constant of the train, computed once).
+#[inline]
+pub fn equal_ratio_stage_ratio_from_log<T: Real>(ln_overall: T, first_fraction: T) -> T {
+    T::exp(first_fraction * ln_overall)
+}
+
 /// Interstage pressure of one compressor stage against the equal-ratio
 /// optimum.
 #[derive(Clone, Copy, Debug, PartialEq)]

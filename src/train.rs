@@ -13,12 +13,13 @@ use crate::plausibility::{compressibility, efficiency_allowance, Limits};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
 use crate::scan::Scan;
-use crate::stage::compressor::{evaluate_compressor_tabled, StageUses};
-use crate::stage::{evaluate_pump_within, CompressorInputs, CompressorResult, PumpResult};
+use crate::stage::compressor::{
+    evaluate_compressor_tabled, StageReadings, StageThresholds, StageUses,
+};
+use crate::stage::{evaluate_pump_within, CompressorResult, PumpResult};
 use crate::staging::{
-    equal_ratio_fraction, equal_ratio_interstage_pressure_from_fraction,
-    isentropic_references_from_log, isothermal_reference_quality, InterstagePressure, Sum,
-    TrainTotals,
+    equal_ratio_fraction, equal_ratio_stage_ratio_from_log, isentropic_references_from_log,
+    isothermal_reference_quality, InterstagePressure, Sum, TrainTotals,
 };
 use crate::steady::{SteadyState, SteadyStateConfig, SteadyStateDetector};
 use crate::units::{Kelvin, PressureAbs};
@@ -152,9 +153,12 @@ pub struct Train<T, G, const N: usize, const W: usize> {
     /// reading uses), for the totals.
     configured_z: T,
     compressor_stages: u8,
-    /// Per compressor stage but the last: the exponent (i + 1)/stages of its
-    /// equal-ratio optimum discharge pressure (a constant of the train).
-    interstage_fraction: [T; N],
+    /// 1/(compressor stages): the exponent of the equal-ratio stage ratio
+    /// r^(1/stages) (a constant of the train).
+    equal_ratio_exponent: T,
+    /// The compressor stages' check thresholds from `limits` (which do not
+    /// change after construction).
+    stage_thresholds: StageThresholds<T>,
     /// The compressor stages' dependency tables for the gas model's
     /// property inputs (rebuilt if a replaced model's inputs differ).
     stage_uses: StageUses,
@@ -178,6 +182,18 @@ struct StageSi<T> {
     flow_measured: bool,
     /// Supplied compressibility after the boundary, if any.
     z: Option<Measured<T>>,
+}
+
+/// The stage evaluation reads the boundary's values in place.
+impl<T: Real> StageReadings<T> for StageSi<T> {
+    #[inline(always)]
+    fn readings(&self) -> [Measured<T>; 5] {
+        [self.p1, self.p2, self.t1, self.t2, self.flow]
+    }
+    #[inline(always)]
+    fn compressibility(&self) -> Option<(T, Quality)> {
+        self.z.map(|z| (z.value, z.quality))
+    }
 }
 
 impl<T: Real> StageSi<T> {
@@ -342,18 +358,15 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
             .z;
         let stage_uses = StageUses::new(config.gas.property_inputs());
-        let interstage_fraction = core::array::from_fn(|i| {
-            equal_ratio_fraction(
-                u32::from(compressor_stages),
-                u32::try_from(i).unwrap_or(u32::MAX),
-            )
-        });
+        let equal_ratio_exponent = equal_ratio_fraction(u32::from(compressor_stages), 0);
+        let stage_thresholds = StageThresholds::of(&limits);
         Ok(Train {
             config,
             limits,
             configured_z,
             compressor_stages,
-            interstage_fraction,
+            equal_ratio_exponent,
+            stage_thresholds,
             stage_uses,
             detectors: core::array::from_fn(SteadyStateDetector::staggered),
             snapshot: Snapshot {
@@ -414,16 +427,19 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         // By reference: `scan.stages.map` would copy the whole scan onto
         // the stack first.
         for (out, s) in si.iter_mut().zip(scan.stages.iter()) {
+            // The train's limits passed `Limits::first_invalid` at
+            // construction (finite bounds): the `_valid` range checks give
+            // the same result without a separate finiteness test.
             let (flow, flow_measured) = match s.mass_flow {
-                Some(m) => (limits.mass_flow(m), true),
+                Some(m) => (limits.mass_flow_valid(m), true),
                 None => (upstream_flow, false),
             };
             upstream_flow = flow;
             *out = StageSi {
-                p1: limits.pressure(s.suction_pressure.map(PressureAbs::pa)),
-                t1: limits.temperature(s.suction_temperature.map(Kelvin::kelvin)),
-                p2: limits.pressure(s.discharge_pressure.map(PressureAbs::pa)),
-                t2: limits.temperature(s.discharge_temperature.map(Kelvin::kelvin)),
+                p1: limits.pressure_valid(s.suction_pressure.map(PressureAbs::pa)),
+                t1: limits.temperature_valid(s.suction_temperature.map(Kelvin::kelvin)),
+                p2: limits.pressure_valid(s.discharge_pressure.map(PressureAbs::pa)),
+                t2: limits.temperature_valid(s.discharge_temperature.map(Kelvin::kelvin)),
                 flow,
                 flow_measured,
                 z: s.compressibility.map(compressibility),
@@ -452,23 +468,17 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             let flow = if s.flow_measured { Some(s.flow) } else { None };
             match cfg.kind {
                 StageKind::Compressor => {
-                    let inputs = CompressorInputs {
-                        suction_pressure: s.p1,
-                        suction_temperature: s.t1,
-                        discharge_pressure: s.p2,
-                        discharge_temperature: s.t2,
-                        mass_flow: s.flow,
-                        compressibility: s.z.map(|z| (z.value, z.quality)),
-                    };
-                    // Evaluated in place: building a result and copying it
-                    // costs a ~124-byte memcpy per stage on the device.
+                    // The boundary's values read in place (no
+                    // `CompressorInputs` copy), the result written in
+                    // place: building one and copying it costs a ~124-byte
+                    // memcpy per stage on the device.
                     // `Train::new` set this slot's variant from the same
                     // (immutable) configuration, so it is a compressor.
                     if let StageWork::Compressor(c) = &mut out.work {
                         evaluate_compressor_tabled(
                             &self.config.gas,
-                            &inputs,
-                            &self.limits,
+                            s,
+                            &self.stage_thresholds,
                             Some(&self.stage_uses),
                             c,
                         );
@@ -672,10 +682,18 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             T::ZERO
         };
         // Interstage entries exist for every compressor stage but the last.
-        for ((s, out), &fraction) in si
+        // The equal-ratio optima walk up from the first suction by the
+        // stage ratio r^(1/stages) (one exponential for all).
+        let optimum_ok = q_ratio.is_usable() && ratio > T::ONE;
+        let stage_ratio = if optimum_ok && last > 0 {
+            equal_ratio_stage_ratio_from_log(ln_overall, self.equal_ratio_exponent)
+        } else {
+            T::ONE
+        };
+        let mut opt = first.p1.value;
+        for (s, out) in si
             .iter()
             .zip(self.snapshot.interstage.iter_mut())
-            .zip(self.interstage_fraction.iter())
             .take(last)
         {
             let mut entry = InterstagePressure {
@@ -683,12 +701,8 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 optimum: Measured::bad(),
                 deviation: Measured::bad(),
             };
-            if q_ratio.is_usable() && ratio > T::ONE {
-                let opt = equal_ratio_interstage_pressure_from_fraction(
-                    first.p1.value,
-                    ln_overall,
-                    fraction,
-                );
+            if optimum_ok {
+                opt = opt * stage_ratio;
                 entry.optimum = Measured::derived(opt, q_ratio);
                 if s.p2.quality.is_usable() {
                     entry.deviation =

@@ -205,7 +205,36 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     limits: &Limits<T>,
     out: &mut CompressorResult<T>,
 ) {
-    evaluate_compressor_tabled(gas, inp, limits, None, out);
+    evaluate_compressor_tabled(gas, inp, &StageThresholds::of(limits), None, out);
+}
+
+/// The thresholds of a stage's plausibility checks, from [`Limits`]: built
+/// once (a train keeps them; its limits do not change) instead of every
+/// scan (the two resolution products are three multiplications, each a
+/// library call on a device without a floating-point unit).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(crate) struct StageThresholds<T> {
+    /// [`Limits::max_stage_ratio`].
+    max_stage_ratio: T,
+    /// [`Limits::min_temperature_rise`].
+    min_temperature_rise: T,
+    /// [`Limits::min_log_ratio`].
+    min_log_ratio: T,
+    /// [`Limits::stationary_flow`].
+    stationary_flow: T,
+}
+
+impl<T: Real> StageThresholds<T> {
+    /// The thresholds of `limits` (the same values bit for bit).
+    #[inline]
+    pub(crate) fn of(limits: &Limits<T>) -> Self {
+        StageThresholds {
+            max_stage_ratio: limits.max_stage_ratio,
+            min_temperature_rise: limits.min_temperature_rise(),
+            min_log_ratio: limits.min_log_ratio(),
+            stationary_flow: limits.stationary_flow,
+        }
+    }
 }
 
 /// The dependency table of a compressor stage with a measured discharge
@@ -241,26 +270,50 @@ impl StageUses {
     }
 }
 
-/// [`evaluate_compressor_within`] with the dependency tables built
-/// beforehand (`tables` for `gas.property_inputs()`; `None` builds them).
-pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
+/// Where a stage evaluation reads its inputs: [`CompressorInputs`], or a
+/// train's own per-stage values after its sensor boundary, read in place
+/// (building a [`CompressorInputs`] from them cost a 48-byte copy per
+/// stage and scan).
+pub(crate) trait StageReadings<T> {
+    /// Suction pressure, discharge pressure, suction temperature, discharge
+    /// temperature and mass flow, as [`CompressorInputs`] names them.
+    fn readings(&self) -> [Measured<T>; 5];
+    /// [`CompressorInputs::compressibility`].
+    fn compressibility(&self) -> Option<(T, Quality)>;
+}
+
+impl<T: Copy> StageReadings<T> for CompressorInputs<T> {
+    #[inline(always)]
+    fn readings(&self) -> [Measured<T>; 5] {
+        [
+            self.suction_pressure,
+            self.discharge_pressure,
+            self.suction_temperature,
+            self.discharge_temperature,
+            self.mass_flow,
+        ]
+    }
+    #[inline(always)]
+    fn compressibility(&self) -> Option<(T, Quality)> {
+        self.compressibility
+    }
+}
+
+/// [`evaluate_compressor_within`] with the check thresholds and the
+/// dependency tables built beforehand (`tables` for
+/// `gas.property_inputs()`; `None` builds them).
+pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     gas: &G,
-    inp: &CompressorInputs<T>,
-    limits: &Limits<T>,
+    inp: &I,
+    thresholds: &StageThresholds<T>,
     tables: Option<&StageUses>,
     out: &mut CompressorResult<T>,
 ) {
     // Which outputs were computed (bit i: the i-th field in declaration
     // order); the rest are bad or not applicable once settled.
     let mut done: u16 = 0;
-    let (p1, t1, p2, t2) = (
-        inp.suction_pressure,
-        inp.suction_temperature,
-        inp.discharge_pressure,
-        inp.discharge_temperature,
-    );
-    let flow = inp.mass_flow;
-    let (z_supplied, q_z) = match inp.compressibility {
+    let [p1, p2, t1, t2, flow] = inp.readings();
+    let (z_supplied, q_z) = match inp.compressibility() {
         Some((z, q)) if q.is_usable() => (Some(z), q),
         Some((_, q)) => (None, q.worst(Quality::Bad)),
         None => (None, Quality::Good),
@@ -388,7 +441,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
     } else if t1_ok && t2_ok && !rising {
         checks.no_rise = true;
     }
-    if ratio_ok && ratio > limits.max_stage_ratio {
+    if ratio_ok && ratio > thresholds.max_stage_ratio {
         checks.ratio_out_of_range = true;
     }
     if compressing && iso_ok {
@@ -425,12 +478,12 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
                 checks.exponent_implausible = true;
             }
             checks.below_resolution =
-                dt < limits.min_temperature_rise() || ln_path < limits.min_log_ratio();
+                dt < thresholds.min_temperature_rise || ln_path < thresholds.min_log_ratio;
         }
     } else if ratio_ok && !compressing {
         checks.no_compression = true;
     }
-    checks.stationary = flow.quality.is_usable() && !(flow.value > limits.stationary_flow);
+    checks.stationary = flow.quality.is_usable() && !(flow.value > thresholds.stationary_flow);
 
     // Qualities: the dependency rule over the slots and checks.
     let mut g = Grades::new();
@@ -475,7 +528,14 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>>(
         }
         _ => settle_compressor_untabled(&g, gas.property_inputs(), rating_point, done, out),
     }
-    out.condition = checks.condition(p1, t1, p2, t2, rating_point);
+    // Every slot and check good (and a temperature rise): nothing for the
+    // condition to report (each reason below is a bad input or a check
+    // that made a slot or check grade not good, except `no_rise`).
+    out.condition = if g.all_good() && !checks.no_rise && !rating_point {
+        StageCondition::Normal
+    } else {
+        checks.condition(p1, t1, p2, t2, rating_point)
+    };
 }
 
 /// The worse of the two efficiencies' grades ([`efficiency_grade`]), the
@@ -512,39 +572,48 @@ impl CompressorChecks {
         t2: Measured<T>,
         rating_point: bool,
     ) -> StageCondition {
+        // The reasons as bits in order of precedence, the first set one
+        // wins (one bit scan instead of a chain of branches).
+        use StageCondition as C;
+        const PRECEDENCE: [StageCondition; 13] = [
+            C::InputBad,
+            C::RatioOutOfRange,
+            C::OutsideGasModel,
+            C::NoCompression,
+            C::RatingPoint,
+            C::InputBad,
+            C::NoTemperatureRise,
+            C::ImplausibleTemperatureRise,
+            C::EfficiencyAboveOne,
+            C::OutsideGasModel,
+            C::Stationary,
+            C::BelowResolution,
+            C::Normal,
+        ];
         let bad = |m: Measured<T>| !m.quality.is_usable();
-        if bad(p1) || bad(p2) || bad(t1) {
-            StageCondition::InputBad
-        } else if self.ratio_out_of_range {
-            StageCondition::RatioOutOfRange
-        } else if self.model == Quality::Bad {
-            StageCondition::OutsideGasModel
-        } else if self.no_compression {
-            StageCondition::NoCompression
-        } else if rating_point {
-            StageCondition::RatingPoint
-        } else if bad(t2) {
-            StageCondition::InputBad
-        } else if self.no_rise {
-            StageCondition::NoTemperatureRise
-        } else if self.exponent_implausible {
-            StageCondition::ImplausibleTemperatureRise
-        } else if self.efficiency != Quality::Good {
-            StageCondition::EfficiencyAboveOne
-        } else if self.model != Quality::Good {
-            StageCondition::OutsideGasModel
-        } else if self.stationary {
-            StageCondition::Stationary
-        } else if self.below_resolution {
-            StageCondition::BelowResolution
-        } else {
-            StageCondition::Normal
-        }
+        let reasons: u16 = u16::from(bad(p1) || bad(p2) || bad(t1))
+            | u16::from(self.ratio_out_of_range) << 1
+            | u16::from(self.model == Quality::Bad) << 2
+            | u16::from(self.no_compression) << 3
+            | u16::from(rating_point) << 4
+            | u16::from(bad(t2)) << 5
+            | u16::from(self.no_rise) << 6
+            | u16::from(self.exponent_implausible) << 7
+            | u16::from(self.efficiency != Quality::Good) << 8
+            | u16::from(self.model != Quality::Good) << 9
+            | u16::from(self.stationary) << 10
+            | u16::from(self.below_resolution) << 11
+            | 1 << 12;
+        PRECEDENCE
+            .get(reasons.trailing_zeros() as usize)
+            .copied()
+            .unwrap_or(C::Normal)
     }
 }
 
 /// Every output's quality from the per-output grades (bit i = the i-th
 /// field, the order of [`CompressorUses::in_order`] and of `done`).
+#[inline(always)]
 fn settle_compressor_outputs<T: Real>(g: &OutputGrades, o: &mut CompressorResult<T>) {
     g.settle(&mut o.pressure_ratio, 1 << 0);
     g.settle(&mut o.isentropic_discharge_temperature, 1 << 1);
@@ -728,7 +797,13 @@ mod tests {
                         }
                         let (mut a, mut b) = (CompressorResult::bad(), CompressorResult::bad());
                         evaluate_compressor_within(gas, &i, &limits, &mut a);
-                        evaluate_compressor_tabled(gas, &i, &limits, Some(&table), &mut b);
+                        evaluate_compressor_tabled(
+                            gas,
+                            &i,
+                            &StageThresholds::of(&limits),
+                            Some(&table),
+                            &mut b,
+                        );
                         assert_eq!(a, b, "case {case} slot {slot} {q:?}");
                     }
                 }
@@ -770,6 +845,83 @@ mod tests {
                 );
             }
         }
+    }
+
+    /// Consistency check (two forms of the project's own rule): the
+    /// condition from the precedence bits equals the first-match chain it
+    /// replaced, for every combination of the check flags, of the model's
+    /// and the efficiency's grades and of the four inputs' usability.
+    #[test]
+    fn condition_bits_equal_the_precedence_chain() {
+        fn chain(c: &CompressorChecks, bad_in: [bool; 4], rating_point: bool) -> StageCondition {
+            use StageCondition as C;
+            let [p1, p2, t1, t2] = bad_in;
+            if p1 || p2 || t1 {
+                C::InputBad
+            } else if c.ratio_out_of_range {
+                C::RatioOutOfRange
+            } else if c.model == Quality::Bad {
+                C::OutsideGasModel
+            } else if c.no_compression {
+                C::NoCompression
+            } else if rating_point {
+                C::RatingPoint
+            } else if t2 {
+                C::InputBad
+            } else if c.no_rise {
+                C::NoTemperatureRise
+            } else if c.exponent_implausible {
+                C::ImplausibleTemperatureRise
+            } else if c.efficiency != Quality::Good {
+                C::EfficiencyAboveOne
+            } else if c.model != Quality::Good {
+                C::OutsideGasModel
+            } else if c.stationary {
+                C::Stationary
+            } else if c.below_resolution {
+                C::BelowResolution
+            } else {
+                C::Normal
+            }
+        }
+        let grades = [Quality::Good, Quality::Uncertain, Quality::Bad];
+        let mut seen = 0;
+        for flags in 0u32..1 << 11 {
+            let bit = |i: u32| flags & (1 << i) != 0;
+            for model in grades {
+                for efficiency in grades {
+                    let c = CompressorChecks {
+                        ratio_out_of_range: bit(0),
+                        model,
+                        no_compression: bit(1),
+                        no_rise: bit(2),
+                        exponent_implausible: bit(3),
+                        efficiency,
+                        below_resolution: bit(4),
+                        stationary: bit(5),
+                    };
+                    let bad_in = [bit(6), bit(7), bit(8), bit(9)];
+                    let rating_point = bit(10);
+                    let m = |b: bool| {
+                        Measured::new(1.0_f32, if b { Quality::Bad } else { Quality::Good })
+                    };
+                    let got = c.condition(
+                        m(bad_in[0]),
+                        m(bad_in[2]),
+                        m(bad_in[1]),
+                        m(bad_in[3]),
+                        rating_point,
+                    );
+                    assert_eq!(
+                        got,
+                        chain(&c, bad_in, rating_point),
+                        "{flags:b} {model:?} {efficiency:?}"
+                    );
+                    seen += 1;
+                }
+            }
+        }
+        assert_eq!(seen, 2048 * 9);
     }
 
     #[test]
