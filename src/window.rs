@@ -50,18 +50,33 @@ impl<T: Copy, const W: usize> Window<T, W> {
     #[inline]
     pub(crate) fn push(&mut self, v: T) -> Option<T> {
         let full = self.len >= W;
+        let next = Self::slot(self.next);
         let mut evicted = None;
-        if let Some(slot) = self.data.get_mut(self.next) {
+        if let Some(slot) = self.data.get_mut(next) {
             if full {
                 evicted = Some(*slot);
             }
             *slot = v;
         }
-        self.next = if self.next + 1 >= W { 0 } else { self.next + 1 };
-        if self.len < W {
+        self.next = Self::slot(next + 1);
+        if !full {
             self.len += 1;
         }
         evicted
+    }
+
+    /// `i` (`< 2 W`) as a slot: `i mod W`. A mask for a power-of-two `W`
+    /// (then every slot index is provably in bounds), one subtraction
+    /// otherwise.
+    #[inline(always)]
+    fn slot(i: usize) -> usize {
+        if W.is_power_of_two() {
+            i & (W - 1)
+        } else if i >= W {
+            i - W
+        } else {
+            i
+        }
     }
 
     /// Values held.
@@ -104,6 +119,18 @@ impl<T: Copy, const W: usize> Window<T, W> {
         self.data.get(last)
     }
 
+    /// The value written `k` writes ago (1: the most recent), if still
+    /// held (`1 <= k <= len`).
+    #[inline]
+    pub(crate) fn back(&self, k: usize) -> Option<T> {
+        if k == 0 || k > self.len {
+            return None;
+        }
+        self.data
+            .get(Self::slot(Self::slot(self.next) + W - k))
+            .copied()
+    }
+
     /// Forgets every value.
     #[inline]
     pub(crate) fn clear(&mut self) {
@@ -133,6 +160,13 @@ mod tests {
             assert_eq!(w.len(), h.len());
             assert_eq!(w.recent(), h.recent());
             assert!(w.oldest_ordered().eq(h.oldest_ordered()));
+            // `back(k)` is the k-th most recent value (1: the latest).
+            let mut newest_first: std::vec::Vec<u32> = h.oldest_ordered().copied().collect();
+            newest_first.reverse();
+            for k in 0..=4_usize {
+                let want = k.checked_sub(1).and_then(|i| newest_first.get(i).copied());
+                assert_eq!(w.back(k), want, "k {k}");
+            }
         }
         w.clear();
         assert_eq!((w.len(), w.as_slice()), (0, &[][..]));

@@ -95,17 +95,17 @@ impl<T: Real> LowPass<T> {
 /// Running median of the last `M` samples (`M` odd, 1..=15; checked at
 /// compile time).
 ///
-/// The samples are also kept sorted: each update writes the new sample
-/// over the evicted one in the sorted copy and moves it to its place (at
-/// most `2 M` compares and moves) instead of sorting a copy of the window
-/// (up to `M·M/2`); the median is the same value.
+/// The samples are also kept sorted ([`SortedWindow`]): each update writes
+/// the new sample over the evicted one in the sorted copy and moves it to
+/// its place (at most `2 M` compares and moves) instead of sorting a copy of
+/// the window (up to `M·M/2`); the median is the same value.
 #[derive(Clone, Copy, Debug)]
 pub struct Median<T, const M: usize> {
     /// The samples in arrival order (a ring; `next` is the oldest once
     /// full).
     ring: [T; M],
-    /// The first `len` entries: the samples held, ascending.
-    sorted: [T; M],
+    /// The samples held, ascending.
+    sorted: SortedWindow<T, M>,
     /// The ring slot the next sample goes to, `< M`.
     next: usize,
     /// Samples held, `<= M`.
@@ -121,15 +121,9 @@ impl<T: Real, const M: usize> Default for Median<T, M> {
 impl<T: Real, const M: usize> Median<T, M> {
     /// Empty window.
     pub fn new() -> Self {
-        const {
-            assert!(
-                M % 2 == 1 && M <= 15,
-                "median window must be odd and at most 15"
-            )
-        };
         Median {
             ring: [T::ZERO; M],
-            sorted: [T::ZERO; M],
+            sorted: SortedWindow::new(),
             next: 0,
             len: 0,
         }
@@ -145,7 +139,56 @@ impl<T: Real, const M: usize> Median<T, M> {
             Some(slot) => core::mem::replace(slot, x),
             None => x,
         };
-        if self.len >= M {
+        let held = self.len;
+        let leaving = if held >= M {
+            Some(evicted)
+        } else {
+            self.len = held + 1;
+            None
+        };
+        self.sorted.update(x, leaving, held)
+    }
+
+    /// Forgets the window.
+    pub fn reset(&mut self) {
+        self.next = 0;
+        self.len = 0;
+    }
+}
+
+/// The last `M` samples of a stream, ascending, for a running median whose
+/// arrival order is kept elsewhere (by [`Median`], or by a channel's frozen
+/// window, which holds the same samples). `M` odd, 1..=15 (checked at
+/// compile time).
+#[derive(Clone, Copy, Debug)]
+pub(crate) struct SortedWindow<T, const M: usize> {
+    /// The first `held` entries (the caller's count): the samples held,
+    /// ascending.
+    sorted: [T; M],
+}
+
+impl<T: Real, const M: usize> SortedWindow<T, M> {
+    /// Empty (the caller holds no sample).
+    pub(crate) fn new() -> Self {
+        const {
+            assert!(
+                M % 2 == 1 && M <= 15,
+                "median window must be odd and at most 15"
+            )
+        };
+        SortedWindow {
+            sorted: [T::ZERO; M],
+        }
+    }
+
+    /// Adds finite sample `x` to the `held` samples and returns the median
+    /// (the lower middle while fewer than `M`, even count). `leaving` is the
+    /// sample that drops out, given exactly when `M` (or more, then `held`
+    /// is not read) were held (it is among the last `M`); otherwise
+    /// `held < M`.
+    #[inline]
+    pub(crate) fn update(&mut self, x: T, leaving: Option<T>, held: usize) -> T {
+        if let Some(evicted) = leaving {
             // Full: the evicted sample's place in the sorted copy (it is
             // there; the last place is never reached otherwise).
             let mut at = M - 1;
@@ -158,18 +201,10 @@ impl<T: Real, const M: usize> Median<T, M> {
             place_in_full(&mut self.sorted, at, x);
             self.sorted.get(M / 2).copied().unwrap_or(x)
         } else {
-            let held = self.len;
-            self.len = held + 1;
             let used = self.sorted.get_mut(..=held).unwrap_or(&mut []);
             place_sorted(used, held, x);
             used.get(held / 2).copied().unwrap_or(x)
         }
-    }
-
-    /// Forgets the window.
-    pub fn reset(&mut self) {
-        self.next = 0;
-        self.len = 0;
     }
 }
 
@@ -275,6 +310,39 @@ mod tests {
             let want = last[(last.len() - 1) / 2];
             assert_eq!(m.update(x), want, "sample {i}, window {last:?}");
         }
+    }
+
+    /// A [`SortedWindow`] fed from a rolling window of `W >= M` samples
+    /// (what a channel does with its frozen window) gives what [`Median`]
+    /// gives on the same samples, through resets (consistency check of the
+    /// shared form; `W` a power of two or not).
+    fn shared_window_matches_median<const W: usize, const M: usize>(seed: u64) {
+        let mut m = Median::<f64, M>::new();
+        let mut w = crate::window::Window::<f64, W>::filled_with(0.0);
+        let mut s = SortedWindow::<f64, M>::new();
+        let mut state = seed;
+        for i in 0..3000 {
+            state = state
+                .wrapping_mul(6_364_136_223_846_793_005)
+                .wrapping_add(1_442_695_040_888_963_407);
+            let x = ((state >> 33) % 9) as f64 * 0.5 - 2.0;
+            if (state >> 20) % 89 == 0 {
+                m.reset();
+                w.clear();
+            }
+            let (leaving, held) = (w.back(M), w.len());
+            w.write(x);
+            assert_eq!(s.update(x, leaving, held), m.update(x), "sample {i}");
+        }
+    }
+
+    #[test]
+    fn median_on_a_shared_window_equals_the_running_median() {
+        shared_window_matches_median::<8, 5>(11);
+        shared_window_matches_median::<5, 5>(12);
+        shared_window_matches_median::<7, 3>(13);
+        shared_window_matches_median::<4, 1>(14);
+        shared_window_matches_median::<16, 15>(15);
     }
 
     #[test]

@@ -9,7 +9,7 @@
 use super::channel::{ChannelConfig, Scaling};
 use super::clock::{SampleClock, Tick};
 use super::events::{Event, EventLog};
-use super::filter::{low_pass_gain, LowPass, Median};
+use super::filter::{low_pass_gain, LowPass, SortedWindow};
 use super::plausibility::{rate_allowance, Plausibility};
 use super::substitution::Substitution;
 use super::{ChannelStatus, FaultCode};
@@ -78,7 +78,10 @@ pub struct Channel<T, const W: usize, const M: usize> {
     config: ChannelConfig<T>,
     scaling: Scaling<T>,
     plausibility: Plausibility<T, W>,
-    median: Median<T, M>,
+    /// The median's samples, ascending: the last `M` accepted ones, whose
+    /// arrival order is the frozen window's (every accepted sample, and only
+    /// those, goes to both; a reset clears both).
+    median: SortedWindow<T, M>,
     low_pass: LowPass<T>,
     substitution: Substitution<T>,
     clock: SampleClock,
@@ -97,8 +100,9 @@ pub struct Channel<T, const W: usize, const M: usize> {
 
 impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
     /// Validates `config` and builds the channel. `W` (frozen window) must
-    /// be at least 2 and `M` (median) odd and at most 15, checked at
-    /// compile time:
+    /// be at least 2 and `M` (median) odd, at most 15 and at most `W` (the
+    /// median reads its samples from the frozen window), checked at compile
+    /// time:
     ///
     /// ```compile_fail
     /// use polytrope::signal::{Channel, ChannelConfig, InstrumentClass, SignalKind, Unit};
@@ -109,12 +113,18 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
     /// let _ = Channel::<f32, 8, 4>::new(cfg); // an even median window does not compile
     /// ```
     pub fn new(config: ChannelConfig<T>) -> Result<Self, ConfigError> {
+        const {
+            assert!(
+                M <= W,
+                "the median window takes its samples from the frozen window: M <= W"
+            )
+        };
         config.validate()?;
         Ok(Channel {
             config,
             scaling: Scaling::new(&config),
             plausibility: Plausibility::new(),
-            median: Median::new(),
+            median: SortedWindow::new(),
             low_pass: LowPass::new(),
             substitution: Substitution::new(),
             clock: SampleClock::new(),
@@ -131,7 +141,6 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
     /// maintenance period or a clock change): the channel is as new.
     pub fn reset(&mut self) {
         self.plausibility.reset();
-        self.median.reset();
         self.low_pass.reset();
         self.substitution = Substitution::new();
         self.clock.reset();
@@ -170,7 +179,6 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         });
         self.since_filtered_ms = self.since_filtered_ms.saturating_add(dt_ms);
         if matches!(tick, Tick::Gap | Tick::SteppedBack) {
-            self.median.reset();
             self.low_pass.reset();
             self.plausibility.reset();
         }
@@ -178,6 +186,9 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             self.resync_left = u32::try_from(M).unwrap_or(u32::MAX).max(1);
         }
         let (v, signal_fault) = self.scaling.scale(raw);
+        // The sample leaving the median's last `M` if this one is accepted
+        // (read before the plausibility check writes it to the window).
+        let (leaving, held) = self.plausibility.accepted_back(M);
         let mut fault = if tick == Tick::Stalled {
             FaultCode::TimeNotAdvancing
         } else {
@@ -201,7 +212,7 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         let (r, f) = if q == Quality::Bad {
             (T::ZERO, T::ZERO)
         } else {
-            let m = self.median.update(v);
+            let m = self.median.update(v, leaving, held);
             let ms = self.since_filtered_ms;
             self.since_filtered_ms = 0;
             if self.gain.0 != ms {

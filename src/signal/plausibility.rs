@@ -100,6 +100,15 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         signal_fault
     }
 
+    /// The accepted sample `k` accepted samples ago (1: the latest), if
+    /// still in the frozen window, and how many the window holds (a
+    /// channel's median takes its samples from here: it filters exactly the
+    /// accepted samples).
+    #[inline]
+    pub(crate) fn accepted_back(&self, k: usize) -> (Option<T>, usize) {
+        (self.window.back(k), self.window.len())
+    }
+
     /// Forgets the history (after a configuration change or restart).
     pub fn reset(&mut self) {
         self.window.clear();
