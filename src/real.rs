@@ -55,6 +55,10 @@ pub trait Real:
     fn abs(x: Self) -> Self;
     /// `true` unless NaN or infinite.
     fn is_finite(x: Self) -> bool;
+    /// `true` if `a` and `b` have the same bit pattern: the same as `a == b`
+    /// unless either is NaN or zero, without a float comparison (a
+    /// soft-float call on a Cortex-M0).
+    fn same_bits(a: Self, b: Self) -> bool;
     /// Converts a small unsigned integer (exact below 2^24), without going
     /// through `f64` (a soft-float call on single-precision FPUs).
     fn from_u32(n: u32) -> Self;
@@ -124,6 +128,10 @@ macro_rules! impl_real {
             #[inline]
             fn is_finite(x: Self) -> bool {
                 <$t>::is_finite(x)
+            }
+            #[inline]
+            fn same_bits(a: Self, b: Self) -> bool {
+                a.to_bits() == b.to_bits()
             }
             #[inline]
             fn from_u32(n: u32) -> Self {

@@ -190,13 +190,13 @@ impl<T: Real, const M: usize> SortedWindow<T, M> {
     pub(crate) fn update(&mut self, x: T, leaving: Option<T>, held: usize) -> T {
         if let Some(evicted) = leaving {
             // Full: the evicted sample's place in the sorted copy (it is
-            // there; the last place is never reached otherwise).
-            let mut at = M - 1;
-            for (i, &e) in self.sorted.iter().enumerate() {
-                if e == evicted {
-                    at = i;
-                    break;
-                }
+            // there; the last place is never reached otherwise): the first
+            // entry equal to it. For a finite value other than ±0, equal is
+            // the same bits (an integer comparison; a float one is a
+            // soft-float call on a Cortex-M0); a zero equals either zero.
+            let mut at = first_index(&self.sorted, |e| T::same_bits(e, evicted));
+            if T::same_bits(T::abs(evicted), T::ZERO) {
+                at = first_index(&self.sorted, |e| e == evicted);
             }
             place_in_full(&mut self.sorted, at, x);
             self.sorted.get(M / 2).copied().unwrap_or(x)
@@ -206,6 +206,18 @@ impl<T: Real, const M: usize> SortedWindow<T, M> {
             used.get(held / 2).copied().unwrap_or(x)
         }
     }
+}
+
+/// The index of the first entry of `s` for which `is` holds, `M − 1` if
+/// none does.
+#[inline(always)]
+fn first_index<T: Copy, const M: usize>(s: &[T; M], is: impl Fn(T) -> bool) -> usize {
+    for (i, &e) in s.iter().enumerate() {
+        if is(e) {
+            return i;
+        }
+    }
+    M - 1
 }
 
 /// [`place_sorted`] on a whole array (every index provably in bounds, so
@@ -333,6 +345,35 @@ mod tests {
             let (leaving, held) = (w.back(M), w.len());
             w.write(x);
             assert_eq!(s.update(x, leaving, held), m.update(x), "sample {i}");
+        }
+    }
+
+    /// The evicted sample's place found by bits (zero: by value) is the
+    /// first entry equal to it as a float (consistency check), over sorted
+    /// windows with repeats and both zeros.
+    #[test]
+    fn evicted_place_by_bits_is_the_first_equal_entry() {
+        let values = [-1.5_f32, -0.0, 0.0, 0.5, 2.0];
+        let mut state = 5_u64;
+        for _ in 0..20_000 {
+            let mut w = [0.0_f32; 5];
+            for x in w.iter_mut() {
+                state = state
+                    .wrapping_mul(6_364_136_223_846_793_005)
+                    .wrapping_add(1_442_695_040_888_963_407);
+                *x = values[((state >> 33) % 5) as usize];
+            }
+            sort_ascending(&mut w);
+            let evicted = w[((state >> 20) % 5) as usize];
+            let mut s = SortedWindow::<f32, 5> { sorted: w };
+            let want = w.iter().position(|&e| e == evicted).unwrap();
+            // Replacing the evicted entry by a value above all shows where
+            // it was found.
+            s.update(9.0, Some(evicted), 5);
+            let mut rest: std::vec::Vec<u32> = w.iter().map(|e| e.to_bits()).collect();
+            rest.remove(want);
+            let got: std::vec::Vec<u32> = s.sorted[..4].iter().map(|e| e.to_bits()).collect();
+            assert_eq!(got, rest, "{w:?} evicting {evicted}");
         }
     }
 
