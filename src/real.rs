@@ -59,6 +59,11 @@ pub trait Real:
     /// unless either is NaN or zero, without a float comparison (a
     /// soft-float call on a Cortex-M0).
     fn same_bits(a: Self, b: Self) -> bool;
+    /// `lo <= x && x <= hi` for constants `0 < lo <= hi` (finite), by the
+    /// bit patterns: positive floats order as their bits, and a negative
+    /// `x`, a zero or a NaN lies outside as in the float comparisons. No
+    /// float comparison (two soft-float calls on a Cortex-M0).
+    fn within_positive(x: Self, lo: Self, hi: Self) -> bool;
     /// Converts a small unsigned integer (exact below 2^24), without going
     /// through `f64` (a soft-float call on single-precision FPUs).
     fn from_u32(n: u32) -> Self;
@@ -132,6 +137,11 @@ macro_rules! impl_real {
             #[inline]
             fn same_bits(a: Self, b: Self) -> bool {
                 a.to_bits() == b.to_bits()
+            }
+            #[inline]
+            fn within_positive(x: Self, lo: Self, hi: Self) -> bool {
+                let from = lo.to_bits();
+                x.to_bits().wrapping_sub(from) <= hi.to_bits().wrapping_sub(from)
             }
             #[inline]
             fn from_u32(n: u32) -> Self {

@@ -32,7 +32,8 @@ pub const FAILURE_HIGH_MA: f64 = 21.0;
 /// saturation bands.
 #[inline]
 pub fn classify<T: Real>(ma: T) -> FaultCode {
-    if ma >= T::of(VALID_LOW_MA) && ma <= T::of(VALID_HIGH_MA) {
+    // (`ma >= 3.8 && ma <= 20.5`, by the bit patterns.)
+    if T::within_positive(ma, T::of(VALID_LOW_MA), T::of(VALID_HIGH_MA)) {
         FaultCode::None
     } else if !T::is_finite(ma) {
         FaultCode::NotFinite
@@ -51,4 +52,60 @@ pub fn classify<T: Real>(ma: T) -> FaultCode {
 #[inline]
 pub fn fraction<T: Real>(ma: T) -> T {
     (ma - T::of(RANGE_LOW_MA)) / T::of(RANGE_HIGH_MA - RANGE_LOW_MA)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The measuring-band test by bit patterns is the float test
+    /// `3.8 <= I <= 20.5` (consistency check): every f32 near and across the
+    /// band edges, seeded bit patterns of every exponent, sign and NaN
+    /// payload, in f32 and f64.
+    #[test]
+    fn band_test_by_bits_is_the_float_test() {
+        fn check<T: Real + PartialOrd + core::fmt::Debug>(ma: T) {
+            let by_float = ma >= T::of(VALID_LOW_MA) && ma <= T::of(VALID_HIGH_MA);
+            let by_bits = T::within_positive(ma, T::of(VALID_LOW_MA), T::of(VALID_HIGH_MA));
+            assert_eq!(by_bits, by_float, "{ma:?}");
+        }
+        for edge in [VALID_LOW_MA as f32, VALID_HIGH_MA as f32] {
+            let b = edge.to_bits();
+            for d in 0..200_u32 {
+                for x in [f32::from_bits(b + d), f32::from_bits(b - d)] {
+                    check(x);
+                    check(-x);
+                    check(f64::from(x));
+                }
+            }
+        }
+        for edge in [VALID_LOW_MA, VALID_HIGH_MA] {
+            let b = edge.to_bits();
+            for d in 0..200_u64 {
+                for x in [f64::from_bits(b + d), f64::from_bits(b - d)] {
+                    check(x);
+                    check(-x);
+                }
+            }
+        }
+        let mut state = 9_u64;
+        for _ in 0..200_000 {
+            state = state
+                .wrapping_mul(6_364_136_223_846_793_005)
+                .wrapping_add(1_442_695_040_888_963_407);
+            check(f32::from_bits((state >> 32) as u32));
+            check(f64::from_bits(state));
+        }
+        for x in [
+            0.0_f32,
+            -0.0,
+            f32::INFINITY,
+            f32::NEG_INFINITY,
+            f32::NAN,
+            -f32::NAN,
+        ] {
+            check(x);
+            check(f64::from(x));
+        }
+    }
 }
