@@ -57,7 +57,6 @@ impl<T: Real> Substitution<T> {
         elapsed_ms: u32,
         hold_ms: u32,
     ) -> Substituted<T> {
-        self.since_good_ms = self.since_good_ms.saturating_add(elapsed_ms);
         match q {
             Quality::Good => {
                 self.last_good = Some((raw, filtered, t_ms));
@@ -69,26 +68,39 @@ impl<T: Real> Substitution<T> {
                     held: false,
                 }
             }
-            Quality::Uncertain => Substituted {
-                raw,
-                filtered,
-                quality: q,
-                held: false,
-            },
-            // A channel never reports "not applicable"; treat it as a fault.
-            Quality::Bad | Quality::NotApplicable => match self.last_good {
-                Some((r, f, _)) if self.since_good_ms <= hold_ms => Substituted {
-                    raw: r,
-                    filtered: f,
-                    quality: Quality::Uncertain,
-                    held: true,
-                },
-                _ => Substituted {
-                    raw: T::ZERO,
-                    filtered: T::ZERO,
-                    quality: Quality::Bad,
+            Quality::Uncertain => {
+                self.since_good_ms = self.since_good_ms.saturating_add(elapsed_ms);
+                Substituted {
+                    raw,
+                    filtered,
+                    quality: q,
                     held: false,
-                },
+                }
+            }
+            // A channel never reports "not applicable"; treat it as a fault.
+            Quality::Bad | Quality::NotApplicable => {
+                self.since_good_ms = self.since_good_ms.saturating_add(elapsed_ms);
+                self.held(hold_ms)
+            }
+        }
+    }
+
+    /// The last good values, uncertain, while at most `hold_ms` have passed
+    /// since them; 0, bad, after.
+    #[inline]
+    fn held(&self, hold_ms: u32) -> Substituted<T> {
+        match self.last_good {
+            Some((r, f, _)) if self.since_good_ms <= hold_ms => Substituted {
+                raw: r,
+                filtered: f,
+                quality: Quality::Uncertain,
+                held: true,
+            },
+            _ => Substituted {
+                raw: T::ZERO,
+                filtered: T::ZERO,
+                quality: Quality::Bad,
+                held: false,
             },
         }
     }
