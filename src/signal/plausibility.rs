@@ -71,11 +71,14 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         signal_fault: FaultCode,
         allowance: impl FnOnce(u32) -> T,
     ) -> FaultCode {
-        self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
+        // The time since the last accepted sample grows by `dt_ms` if this
+        // one is rejected; an accepted one restarts it at 0.
         if signal_fault.quality() == crate::Quality::Bad {
+            self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
             return signal_fault;
         }
         if v < cfg.plausible_low || v > cfg.plausible_high {
+            self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
             return FaultCode::OutOfRange;
         }
         // A step from the previous accepted value wider than the noise
@@ -85,7 +88,9 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         let mut calm = true;
         if let Some(last) = self.last_accepted {
             let step = T::abs(v - last);
-            if step > allowance(self.since_accepted_ms) {
+            let since = self.since_accepted_ms.saturating_add(dt_ms);
+            if step > allowance(since) {
+                self.since_accepted_ms = since;
                 return FaultCode::Spike;
             }
             calm = !(step > cfg.noise_floor);
