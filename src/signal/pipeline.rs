@@ -177,7 +177,6 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         let (tick, dt_ms) = self.clock.tick_gap_if(t_ms, |dt, period| {
             dt > gap_floor_ms && dt > period.saturating_mul(8)
         });
-        self.since_filtered_ms = self.since_filtered_ms.saturating_add(dt_ms);
         if matches!(tick, Tick::Gap | Tick::SteppedBack) {
             self.low_pass.reset();
             self.plausibility.reset();
@@ -209,11 +208,14 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             }
         }
         let q = fault.quality();
+        // The time since the low-pass last ran grows by `dt_ms` over a bad
+        // sample; the low-pass reads it and restarts it.
         let (r, f) = if q == Quality::Bad {
+            self.since_filtered_ms = self.since_filtered_ms.saturating_add(dt_ms);
             (T::ZERO, T::ZERO)
         } else {
             let m = self.median.update(v, leaving, held);
-            let ms = self.since_filtered_ms;
+            let ms = self.since_filtered_ms.saturating_add(dt_ms);
             self.since_filtered_ms = 0;
             if self.gain.0 != ms {
                 self.gain = (ms, low_pass_gain(ms, self.config.filter_time_constant_s));
