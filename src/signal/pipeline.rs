@@ -240,7 +240,13 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
                 quality: s.quality,
                 fault,
                 substituted: s.held,
-                last_good_ms: self.substitution.last_good_ms().unwrap_or(0),
+                // A good sample is the last good one (as substitution just
+                // recorded it).
+                last_good_ms: if q == Quality::Good {
+                    t_ms
+                } else {
+                    self.substitution.last_good_ms().unwrap_or(0)
+                },
             },
         };
         self.last = out;
