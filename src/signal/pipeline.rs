@@ -188,8 +188,9 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         // The sample leaving the median's last `M` if this one is accepted
         // (read before the plausibility check writes it to the window).
         let (leaving, held) = self.plausibility.accepted_back(M);
-        let mut fault = if tick == Tick::Stalled {
-            FaultCode::TimeNotAdvancing
+        // The fault and its quality (`fault.quality()`).
+        let (mut fault, mut q) = if tick == Tick::Stalled {
+            (FaultCode::TimeNotAdvancing, Quality::Bad)
         } else {
             // `v` is finite unless the signal fault is bad (`scale`).
             let (max_rate, allowance) = (self.config.max_rate, &mut self.allowance);
@@ -203,11 +204,10 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         };
         if tick != Tick::Stalled && self.resync_left > 0 {
             self.resync_left -= 1;
-            if fault.quality() == Quality::Good {
-                fault = FaultCode::ClockStep;
+            if q == Quality::Good {
+                (fault, q) = (FaultCode::ClockStep, Quality::Uncertain);
             }
         }
-        let q = fault.quality();
         // The time since the low-pass last ran grows by `dt_ms` over a bad
         // sample; the low-pass reads it and restarts it.
         let (r, f) = if q == Quality::Bad {

@@ -8,6 +8,7 @@
 
 use super::channel::ChannelConfig;
 use super::FaultCode;
+use crate::quality::Quality;
 use crate::real::Real;
 use crate::window::Window;
 
@@ -49,19 +50,22 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         dt_ms: u32,
         signal_fault: FaultCode,
     ) -> FaultCode {
-        if signal_fault.quality() != crate::Quality::Bad && !T::is_finite(v) {
+        if signal_fault.quality() != Quality::Bad && !T::is_finite(v) {
             self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
             return FaultCode::NotFinite;
         }
         self.check_scaled(cfg, v, dt_ms, signal_fault, |ms| {
             rate_allowance(cfg.max_rate, ms)
         })
+        .0
     }
 
     /// As [`Plausibility::check`] for a sample that is finite unless its
     /// signal-level fault is bad (what [`ChannelConfig::scale`] returns),
     /// with the allowed change over `ms` milliseconds given by `allowance`
     /// (the channel caches it: [`rate_allowance`] of the usual interval).
+    /// Returns the fault and its quality (`fault.quality()`, known on every
+    /// path but one, so the caller need not classify the fault again).
     #[inline]
     pub(crate) fn check_scaled(
         &mut self,
@@ -70,16 +74,17 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         dt_ms: u32,
         signal_fault: FaultCode,
         allowance: impl FnOnce(u32) -> T,
-    ) -> FaultCode {
+    ) -> (FaultCode, Quality) {
         // The time since the last accepted sample grows by `dt_ms` if this
         // one is rejected; an accepted one restarts it at 0.
-        if signal_fault.quality() == crate::Quality::Bad {
+        let signal_quality = signal_fault.quality();
+        if signal_quality == Quality::Bad {
             self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
-            return signal_fault;
+            return (signal_fault, Quality::Bad);
         }
         if v < cfg.plausible_low || v > cfg.plausible_high {
             self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
-            return FaultCode::OutOfRange;
+            return (FaultCode::OutOfRange, Quality::Bad);
         }
         // A step from the previous accepted value wider than the noise
         // floor already makes the window's band wider (max − min is at
@@ -91,7 +96,7 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
             let since = self.since_accepted_ms.saturating_add(dt_ms);
             if step > allowance(since) {
                 self.since_accepted_ms = since;
-                return FaultCode::Spike;
+                return (FaultCode::Spike, Quality::Bad);
             }
             calm = !(step > cfg.noise_floor);
         }
@@ -100,9 +105,9 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         self.window.write(v);
         if calm && self.window.len() >= W && within_band(self.window.as_slice(), v, cfg.noise_floor)
         {
-            return FaultCode::Frozen;
+            return (FaultCode::Frozen, Quality::Uncertain);
         }
-        signal_fault
+        (signal_fault, signal_quality)
     }
 
     /// The accepted sample `k` accepted samples ago (1: the latest), if
