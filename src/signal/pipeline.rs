@@ -112,6 +112,26 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
     ///     filter_time_constant_s: 0.0, hold_ms: 0 };
     /// let _ = Channel::<f32, 8, 4>::new(cfg); // an even median window does not compile
     /// ```
+    ///
+    /// ```compile_fail
+    /// use polytrope::signal::{Channel, ChannelConfig, InstrumentClass, SignalKind, Unit};
+    /// let cfg = ChannelConfig { id: 0, signal: SignalKind::Engineering, unit: Unit::Other,
+    ///     range_low: 0.0_f32, range_high: 1.0, plausible_low: 0.0, plausible_high: 1.0,
+    ///     noise_floor: 0.0, instrument: InstrumentClass::Absolute(0.0), max_rate: 1.0,
+    ///     filter_time_constant_s: 0.0, hold_ms: 0 };
+    /// let _ = Channel::<f32, 4, 5>::new(cfg); // a median wider than the frozen window does not compile
+    /// ```
+    ///
+    /// (and the same channel with `W` = 5 does:)
+    ///
+    /// ```
+    /// use polytrope::signal::{Channel, ChannelConfig, InstrumentClass, SignalKind, Unit};
+    /// let cfg = ChannelConfig { id: 0, signal: SignalKind::Engineering, unit: Unit::Other,
+    ///     range_low: 0.0_f32, range_high: 1.0, plausible_low: 0.0, plausible_high: 1.0,
+    ///     noise_floor: 0.0, instrument: InstrumentClass::Absolute(0.0), max_rate: 1.0,
+    ///     filter_time_constant_s: 0.0, hold_ms: 0 };
+    /// assert!(Channel::<f32, 5, 5>::new(cfg).is_ok());
+    /// ```
     pub fn new(config: ChannelConfig<T>) -> Result<Self, ConfigError> {
         const {
             assert!(
