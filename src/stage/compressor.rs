@@ -615,6 +615,47 @@ impl CompressorChecks {
 /// field, the order of [`CompressorUses::in_order`] and of `done`).
 #[inline(always)]
 fn settle_compressor_outputs<T: Real>(g: &OutputGrades, o: &mut CompressorResult<T>) {
+    // The common case first: every output usable (computed, of no bad or
+    // not-applicable use) and every value finite, tested once for all;
+    // each output then good or uncertain as [`OutputGrades::settle`] gives
+    // it. Otherwise output by output.
+    let values = [
+        o.pressure_ratio.value,
+        o.isentropic_discharge_temperature.value,
+        o.temperature_rise.value,
+        o.isentropic_head.value,
+        o.polytropic_head.value,
+        o.isothermal_head.value,
+        o.actual_work.value,
+        o.isentropic_efficiency.value,
+        o.polytropic_efficiency.value,
+        o.polytropic_exponent.value,
+        o.mass_flow.value,
+        o.gas_power.value,
+        o.work_above_isothermal.value,
+        o.power_above_isothermal.value,
+        o.compressibility.value,
+        o.k.value,
+    ];
+    if g.all_usable(u16::MAX) && T::all_finite(&values) {
+        o.pressure_ratio.quality = g.usable_quality(1 << 0);
+        o.isentropic_discharge_temperature.quality = g.usable_quality(1 << 1);
+        o.temperature_rise.quality = g.usable_quality(1 << 2);
+        o.isentropic_head.quality = g.usable_quality(1 << 3);
+        o.polytropic_head.quality = g.usable_quality(1 << 4);
+        o.isothermal_head.quality = g.usable_quality(1 << 5);
+        o.actual_work.quality = g.usable_quality(1 << 6);
+        o.isentropic_efficiency.quality = g.usable_quality(1 << 7);
+        o.polytropic_efficiency.quality = g.usable_quality(1 << 8);
+        o.polytropic_exponent.quality = g.usable_quality(1 << 9);
+        o.mass_flow.quality = g.usable_quality(1 << 10);
+        o.gas_power.quality = g.usable_quality(1 << 11);
+        o.work_above_isothermal.quality = g.usable_quality(1 << 12);
+        o.power_above_isothermal.quality = g.usable_quality(1 << 13);
+        o.compressibility.quality = g.usable_quality(1 << 14);
+        o.k.quality = g.usable_quality(1 << 15);
+        return;
+    }
     g.settle(&mut o.pressure_ratio, 1 << 0);
     g.settle(&mut o.isentropic_discharge_temperature, 1 << 1);
     g.settle(&mut o.temperature_rise, 1 << 2);
