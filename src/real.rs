@@ -107,8 +107,9 @@ pub trait Real:
 
 /// Whether float arithmetic is in hardware: everywhere but the soft-float
 /// ARM targets (Cortex-M0, thumbv6m-none-eabi), where one multiplication
-/// and one addition are two library calls.
-const HARD_FLOAT: bool = !cfg!(all(target_arch = "arm", not(target_abi = "eabihf")));
+/// and one addition are two library calls (a caller may then prefer its
+/// own test per value: [`Real::all_finite`] saves nothing there).
+pub(crate) const HARD_FLOAT: bool = !cfg!(all(target_arch = "arm", not(target_abi = "eabihf")));
 
 macro_rules! impl_real {
     ($t:ty, $ln:path, $exp:path, $sqrt:path, $pow:path, $abs:path) => {
