@@ -374,6 +374,12 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
         if t2_ok { Some(t2_path) } else { None },
         z_supplied,
     );
+    // The isothermal head, used only when compressing (where the block
+    // below leaves the suction Z as it is) and T1 is usable (where the
+    // path T1 is the measured one). Formed right after the states: an
+    // inlined model's own Z·R·T1 is then found the same and reused (two
+    // multiplications fewer, library calls on a soft-float device).
+    let h_iso = isothermal_head_from_log(cs.suction_z, gas.gas_constant(), t1_path, ln_path);
     if !compressing {
         // No compression: no isentropic outputs, so the model's validity is
         // that of the suction and discharge states alone (an entropy match
@@ -450,9 +456,6 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     }
     if compressing && iso_ok {
         let hs = cs.isentropic_enthalpy_rise;
-        // At the path T1: used only where T1 is usable (then the measured
-        // one), and then the same product Z·R·T1 an inlined model formed.
-        let h_iso = isothermal_head_from_log(cs.suction_z, gas.gas_constant(), t1_path, ln_path);
         if t1_ok {
             done |= 1 << 1;
             out.isentropic_discharge_temperature.value = cs.isentropic_temperature;
