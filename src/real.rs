@@ -273,6 +273,27 @@ mod tests {
     use super::*;
     use std::println;
 
+    /// `all_finite` is the conjunction of `is_finite` (IEEE 754: 0·x is NaN
+    /// for an infinite or NaN x), also where a plain sum of the values
+    /// would overflow, and for both widths.
+    #[test]
+    fn all_finite_is_every_value_finite() {
+        fn check<T: Real>(big: T, specials: [T; 3]) {
+            let one = T::ONE;
+            assert!(T::all_finite(&[]));
+            assert!(T::all_finite(&[one, -one, T::ZERO, big, big, -big]));
+            for x in specials {
+                for at in 0..3 {
+                    let mut xs = [one, big, -big];
+                    xs[at] = x;
+                    assert!(!T::all_finite(&xs), "{x:?} at {at}");
+                }
+            }
+        }
+        check(f32::MAX, [f32::NAN, f32::INFINITY, f32::NEG_INFINITY]);
+        check(f64::MAX, [f64::NAN, f64::INFINITY, f64::NEG_INFINITY]);
+    }
+
     /// Largest relative error of the f32 function against the f64 one over
     /// a log-spaced sweep of `x` in [lo, hi].
     fn max_rel_err(f32f: fn(f32) -> f32, f64f: fn(f64) -> f64, lo: f64, hi: f64) -> f64 {
