@@ -622,7 +622,10 @@ impl CompressorChecks {
 
 /// Every output's quality from the per-output grades (bit i = the i-th
 /// field, the order of [`CompressorUses::in_order`] and of `done`).
-#[inline(always)]
+/// Out of line: one copy per number type instead of one per gas model
+/// (measured: controller firmware 1,076 B smaller than inlined, for 22
+/// instructions per stage on Cortex-M4F).
+#[inline(never)]
 fn settle_compressor_outputs<T: Real>(g: &OutputGrades, o: &mut CompressorResult<T>) {
     // The common case first: every output usable (computed, of no bad or
     // not-applicable use) and every value finite, tested once for all;
