@@ -70,6 +70,13 @@ pub trait Real:
     /// (with an FPU its own compares are cheaper: see
     /// `plausibility::within_finite`).
     fn within_nonnegative(x: Self, lo: Self, hi: Self) -> bool;
+    /// `a < b` for operands that are not NaN (infinities allowed), decided
+    /// on the bit patterns: sign and magnitude turned into a two's
+    /// complement integer, so the order is the numeric one and `-0.0`
+    /// equals `+0.0`. With NaN the result is unspecified: callers pass
+    /// values they know are not NaN. For cores without an FPU (each float
+    /// compare a library call); with one its own compare is cheaper.
+    fn less_than(a: Self, b: Self) -> bool;
 
     /// The smaller of two values (NaN-free inputs assumed).
     #[inline]
@@ -111,10 +118,28 @@ pub(crate) mod bits {
     }
     within_bits!(within_nonnegative_f32, f32, i32);
     within_bits!(within_nonnegative_f64, f64, i64);
+
+    macro_rules! less_bits {
+        ($name:ident, $t:ty, $i:ty) => {
+            #[inline]
+            pub(crate) fn $name(a: $t, b: $t) -> bool {
+                // Sign and magnitude to two's complement: -m for a negative
+                // value of magnitude m (so -0.0 and +0.0 are both 0).
+                let key = |x: $t| {
+                    let i = x.to_bits() as $i;
+                    let sign = i >> (<$i>::BITS - 1);
+                    ((i & <$i>::MAX) ^ sign).wrapping_sub(sign)
+                };
+                key(a) < key(b)
+            }
+        };
+    }
+    less_bits!(less_than_f32, f32, i32);
+    less_bits!(less_than_f64, f64, i64);
 }
 
 macro_rules! impl_real {
-    ($t:ty, $bits:path, $ln:path, $exp:path, $sqrt:path, $pow:path, $abs:path) => {
+    ($t:ty, $bits:path, $less:path, $ln:path, $exp:path, $sqrt:path, $pow:path, $abs:path) => {
         impl Real for $t {
             const ZERO: Self = 0.0;
             const ONE: Self = 1.0;
@@ -163,6 +188,10 @@ macro_rules! impl_real {
             fn within_nonnegative(x: Self, lo: Self, hi: Self) -> bool {
                 $bits(x, lo, hi)
             }
+            #[inline]
+            fn less_than(a: Self, b: Self) -> bool {
+                $less(a, b)
+            }
         }
     };
 }
@@ -170,6 +199,7 @@ macro_rules! impl_real {
 impl_real!(
     f64,
     bits::within_nonnegative_f64,
+    bits::less_than_f64,
     libm::log,
     libm::exp,
     libm::sqrt,
@@ -199,6 +229,7 @@ mod outline {
 impl_real!(
     f32,
     bits::within_nonnegative_f32,
+    bits::less_than_f32,
     outline::ln,
     outline::exp,
     libm::sqrtf,
@@ -210,6 +241,7 @@ impl_real!(
 impl_real!(
     f32,
     bits::within_nonnegative_f32,
+    bits::less_than_f32,
     libm::logf,
     libm::expf,
     libm::sqrtf,
@@ -278,6 +310,7 @@ mod approx {
 impl_real!(
     f32,
     bits::within_nonnegative_f32,
+    bits::less_than_f32,
     approx::ln,
     approx::exp,
     libm::sqrtf,
@@ -327,9 +360,11 @@ mod tests {
     /// bit-pattern range test gives what the float comparisons give, for
     /// the bounds it is used with (positive, or `+0.0`, and finite), over
     /// signed zeros, subnormals, the bounds and their neighbours, the
-    /// infinities, NaNs of both signs and seeded random bit patterns.
+    /// infinities, NaNs of both signs and seeded random bit patterns; the
+    /// bit-pattern `<` gives the float `<` for every pair of a set of
+    /// non-NaN values (signed zeros, subnormals, infinities, random).
     #[test]
-    fn bit_pattern_range_test_equals_the_float_compares() {
+    fn bit_pattern_compares_equal_the_float_compares() {
         let mut seed = 0x2545_f491_u32;
         let mut next = || {
             seed ^= seed << 13;
@@ -382,7 +417,54 @@ mod tests {
                 );
             }
         }
+        // The ordered compare, for operands that are not NaN.
+        let specials = [
+            0.0_f32,
+            -0.0,
+            f32::MIN_POSITIVE,
+            -f32::MIN_POSITIVE,
+            1e-45,
+            -1e-45,
+            0.5,
+            -0.5,
+            1.0,
+            f32::INFINITY,
+            f32::NEG_INFINITY,
+            f32::MAX,
+            f32::MIN,
+        ];
+        let mut xs = std::vec::Vec::from(specials);
+        xs.extend(
+            (0..400)
+                .map(|_| f32::from_bits(next()))
+                .filter(|x| !x.is_nan()),
+        );
+        for &a in &xs {
+            for &b in &xs {
+                assert_eq!(bits::less_than_f32(a, b), a < b, "{a:e} < {b:e}");
+            }
+        }
         let mut next64 = || (u64::from(next()) << 32) | u64::from(next());
+        let mut ys = std::vec![
+            0.0_f64,
+            -0.0,
+            5e-324,
+            -5e-324,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            1.0,
+            -1.0
+        ];
+        ys.extend(
+            (0..300)
+                .map(|_| f64::from_bits(next64()))
+                .filter(|x| !x.is_nan()),
+        );
+        for &a in &ys {
+            for &b in &ys {
+                assert_eq!(bits::less_than_f64(a, b), a < b, "{a:e} < {b:e}");
+            }
+        }
         for (lo, hi) in [(0.0_f64, 1e5_f64), (1e-3, 1e10), (60.0, 1000.0)] {
             let mut xs = std::vec![
                 0.0_f64,
