@@ -259,8 +259,9 @@ const ALL_FIELDS: u16 = (1 << 10) - 1;
 /// [`evaluate_cooler_within`], inlined into its caller (the train: no
 /// inputs struct in memory, no call). `BOUNDED`: every usable input value
 /// is within limits that passed [`Limits::first_invalid`] (the train's
-/// sensor boundary), so only [`MAY_OVERFLOW`] results need a finiteness
-/// test; otherwise (a caller's own inputs) every result but the duty gets
+/// sensor boundary) and every unusable one is the boundary's zero, so only
+/// [`MAY_OVERFLOW`] results need a finiteness test and the compares of
+/// input differences may be ordered compares ([`Real::less_than`]); otherwise (a caller's own inputs) every result but the duty gets
 /// one. Either way a computed value that is not finite is bad.
 #[inline(always)]
 pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
@@ -305,6 +306,15 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
     let unusable = packed & NOT_USABLE;
     let ok = |inputs: u32| unusable & inputs == 0;
     let noise = limits.temperature_noise;
+    // `a < b` of values that are not NaN: differences of finite inputs and
+    // the limits. Bounded, every input value is finite (usable ones within
+    // validated limits, the others the boundary's zero), so without an FPU
+    // the ordered compare on the bits applies ([`Real::less_than`]: no
+    // library call); otherwise, and with an FPU, the float compare.
+    #[cfg(all(target_arch = "arm", not(target_abi = "eabihf")))]
+    let lt = |a: T, b: T| if BOUNDED { T::less_than(a, b) } else { a < b };
+    #[cfg(not(all(target_arch = "arm", not(target_abi = "eabihf"))))]
+    let lt = |a: T, b: T| a < b;
     let checked = if BOUNDED {
         MAY_OVERFLOW
     } else {
@@ -327,9 +337,9 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
     }
     let gas_ok = ok(I_TIN | I_TOUT);
     let drop = tin.value - tout.value;
-    let outlet_above_inlet = gas_ok && drop < -noise;
-    let within_noise = gas_ok && !outlet_above_inlet && drop < noise;
-    let stationary = ok(I_FLOW) && !(flow.value > limits.stationary_flow);
+    let outlet_above_inlet = gas_ok && lt(drop, -noise);
+    let within_noise = gas_ok && !outlet_above_inlet && lt(drop, noise);
+    let stationary = ok(I_FLOW) && !lt(limits.stationary_flow, flow.value);
     // Duty from the gas model's enthalpy drop (its quality: the model's
     // validity at the two states and the supplied Z); a model outside its
     // fitted or valid range makes the duty and what uses it suspect, no
@@ -344,12 +354,12 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
         }
     }
     let approach = tout.value - tc.value;
-    let below_coolant = ok(I_TOUT | I_TC) && approach < -noise;
+    let below_coolant = ok(I_TOUT | I_TC) && lt(approach, -noise);
     if ok(I_TOUT | I_TC) {
         set(&mut out.approach, F_APPROACH, approach);
     }
     let span = tin.value - tc.value;
-    let no_span = ok(I_TIN | I_TOUT | I_TC) && !(span > T::of(MIN_EFFECTIVENESS_SPAN_K));
+    let no_span = ok(I_TIN | I_TOUT | I_TC) && !lt(T::of(MIN_EFFECTIVENESS_SPAN_K), span);
     let eff = drop / span;
     if ok(I_TIN | I_TOUT | I_TC) && !outlet_above_inlet && !no_span {
         set(&mut out.effectiveness, F_EFF, eff);
@@ -384,11 +394,11 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
     // negative UA).
     let weak_duty = within_noise || cp_suspect;
     let flag = |c: bool, bits: u16| if c { bits } else { 0 };
-    let suspect = flag(dp < T::ZERO, F_DP | F_REL_DP)
+    let suspect = flag(lt(dp, T::ZERO), F_DP | F_REL_DP)
         | flag(outlet_above_inlet, F_DROP)
         | flag(below_coolant, F_APPROACH)
         | flag(!(eff >= T::ZERO && eff <= T::ONE), F_EFF)
-        | flag(rise < -noise, F_COOLANT_RISE)
+        | flag(lt(rise, -noise), F_COOLANT_RISE)
         | flag(weak_duty, F_DUTY | F_BALANCE)
         | flag(weak_duty || stationary, F_UA);
 

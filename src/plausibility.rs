@@ -293,11 +293,32 @@ fn within<T: Real>(m: Measured<T>, lo: T, hi: T) -> Measured<T> {
 /// [`within`] for finite `lo` and `hi`: a value in [lo, hi] is then finite
 /// (NaN fails both comparisons, an infinity one), so the result is the same
 /// without the finiteness test.
+///
+/// With a hard-float ABI the FPU compares; elsewhere on Arm (no FPU: each
+/// float compare a library call) the bits are compared as integers
+/// ([`Real::within_nonnegative`]; every `lo` here is positive or `+0.0`:
+/// validated limits, zero, the compressibility range). Two forms, not one
+/// with a branch on the target: as a separate test LLVM no longer
+/// short-circuits the compares on Cortex-M4F (measured: slower).
+#[cfg(not(all(target_arch = "arm", not(target_abi = "eabihf"))))]
 #[inline]
 fn within_finite<T: Real>(m: Measured<T>, lo: T, hi: T) -> Measured<T> {
     if m.quality == Quality::NotApplicable {
         Measured::not_applicable()
     } else if m.value >= lo && m.value <= hi && m.quality != Quality::Bad {
+        m
+    } else {
+        Measured::bad()
+    }
+}
+
+/// [`within_finite`] without an FPU (see there).
+#[cfg(all(target_arch = "arm", not(target_abi = "eabihf")))]
+#[inline]
+fn within_finite<T: Real>(m: Measured<T>, lo: T, hi: T) -> Measured<T> {
+    if m.quality == Quality::NotApplicable {
+        Measured::not_applicable()
+    } else if T::within_nonnegative(m.value, lo, hi) && m.quality != Quality::Bad {
         m
     } else {
         Measured::bad()

@@ -70,6 +70,22 @@ pub trait Real:
     /// Truncates toward zero to an unsigned integer, saturating (negative and
     /// NaN give 0).
     fn trunc_u32(x: Self) -> u32;
+    /// `x >= lo && x <= hi` for finite bounds with `lo` positive or `+0.0`
+    /// (the sensor-boundary ranges), decided on the bit patterns: for
+    /// non-negative IEEE 754 values the signed-integer order of the bits is
+    /// the numeric order, every negative value (and NaN of either sign, and
+    /// the infinities) falls outside, and `-0.0` equals a `+0.0` bound.
+    /// Integer compares: no soft-float comparison call on an FPU-less core
+    /// (with an FPU its own compares are cheaper: see
+    /// `plausibility::within_finite`).
+    fn within_nonnegative(x: Self, lo: Self, hi: Self) -> bool;
+    /// `a < b` for operands that are not NaN (infinities allowed), decided
+    /// on the bit patterns: sign and magnitude turned into a two's
+    /// complement integer, so the order is the numeric one and `-0.0`
+    /// equals `+0.0`. With NaN the result is unspecified: callers pass
+    /// values they know are not NaN. For cores without an FPU (each float
+    /// compare a library call); with one its own compare is cheaper.
+    fn less_than(a: Self, b: Self) -> bool;
 
     /// The smaller of two values (NaN-free inputs assumed).
     #[inline]
@@ -120,8 +136,43 @@ pub trait Real:
 /// own test per value: [`Real::all_finite`] saves nothing there).
 pub(crate) const HARD_FLOAT: bool = !cfg!(all(target_arch = "arm", not(target_abi = "eabihf")));
 
+/// [`Real::within_nonnegative`] on the bit patterns (its documentation
+/// gives the reasoning); the trait uses these where a float compare is a
+/// library call.
+pub(crate) mod bits {
+    macro_rules! within_bits {
+        ($name:ident, $t:ty, $i:ty) => {
+            #[inline]
+            pub(crate) fn $name(x: $t, lo: $t, hi: $t) -> bool {
+                let (b, l, h) = (x.to_bits() as $i, lo.to_bits() as $i, hi.to_bits() as $i);
+                (b >= l && b <= h) || (b == <$i>::MIN && l == 0)
+            }
+        };
+    }
+    within_bits!(within_nonnegative_f32, f32, i32);
+    within_bits!(within_nonnegative_f64, f64, i64);
+
+    macro_rules! less_bits {
+        ($name:ident, $t:ty, $i:ty) => {
+            #[inline]
+            pub(crate) fn $name(a: $t, b: $t) -> bool {
+                // Sign and magnitude to two's complement: -m for a negative
+                // value of magnitude m (so -0.0 and +0.0 are both 0).
+                let key = |x: $t| {
+                    let i = x.to_bits() as $i;
+                    let sign = i >> (<$i>::BITS - 1);
+                    ((i & <$i>::MAX) ^ sign).wrapping_sub(sign)
+                };
+                key(a) < key(b)
+            }
+        };
+    }
+    less_bits!(less_than_f32, f32, i32);
+    less_bits!(less_than_f64, f64, i64);
+}
+
 macro_rules! impl_real {
-    ($t:ty, $ln:path, $exp:path, $sqrt:path, $pow:path, $abs:path) => {
+    ($t:ty, $bits:path, $less:path, $ln:path, $exp:path, $sqrt:path, $pow:path, $abs:path) => {
         impl Real for $t {
             const ZERO: Self = 0.0;
             const ONE: Self = 1.0;
@@ -175,11 +226,28 @@ macro_rules! impl_real {
             fn trunc_u32(x: Self) -> u32 {
                 x as u32
             }
+            #[inline]
+            fn within_nonnegative(x: Self, lo: Self, hi: Self) -> bool {
+                $bits(x, lo, hi)
+            }
+            #[inline]
+            fn less_than(a: Self, b: Self) -> bool {
+                $less(a, b)
+            }
         }
     };
 }
 
-impl_real!(f64, libm::log, libm::exp, libm::sqrt, libm::pow, libm::fabs);
+impl_real!(
+    f64,
+    bits::within_nonnegative_f64,
+    bits::less_than_f64,
+    libm::log,
+    libm::exp,
+    libm::sqrt,
+    libm::pow,
+    libm::fabs
+);
 
 // `ln` and `exp` go through out-of-line wrappers: with LTO, `logf` and
 // `expf` were inlined at every call site (about 140 bytes each, some 20
@@ -202,6 +270,8 @@ mod outline {
 #[cfg(all(not(feature = "approx-math"), not(feature = "inline-math")))]
 impl_real!(
     f32,
+    bits::within_nonnegative_f32,
+    bits::less_than_f32,
     outline::ln,
     outline::exp,
     libm::sqrtf,
@@ -212,6 +282,8 @@ impl_real!(
 #[cfg(all(not(feature = "approx-math"), feature = "inline-math"))]
 impl_real!(
     f32,
+    bits::within_nonnegative_f32,
+    bits::less_than_f32,
     libm::logf,
     libm::expf,
     libm::sqrtf,
@@ -279,6 +351,8 @@ mod approx {
 #[cfg(feature = "approx-math")]
 impl_real!(
     f32,
+    bits::within_nonnegative_f32,
+    bits::less_than_f32,
     approx::ln,
     approx::exp,
     libm::sqrtf,
@@ -345,6 +419,142 @@ mod tests {
     /// through ln, exp and pow: no panic (tests build with overflow checks
     /// and debug assertions), and non-finite or out-of-domain stays
     /// non-finite where the exact function's value is.
+    /// Consistency check (two implementations of one comparison): the
+    /// bit-pattern range test gives what the float comparisons give, for
+    /// the bounds it is used with (positive, or `+0.0`, and finite), over
+    /// signed zeros, subnormals, the bounds and their neighbours, the
+    /// infinities, NaNs of both signs and seeded random bit patterns; the
+    /// bit-pattern `<` gives the float `<` for every pair of a set of
+    /// non-NaN values (signed zeros, subnormals, infinities, random).
+    #[test]
+    fn bit_pattern_compares_equal_the_float_compares() {
+        let mut seed = 0x2545_f491_u32;
+        let mut next = || {
+            seed ^= seed << 13;
+            seed ^= seed >> 17;
+            seed ^= seed << 5;
+            seed
+        };
+        let bounds32 = [
+            (0.0_f32, 1e5_f32),
+            (1e-3, 1e10),
+            (100.0, 1e9),
+            (60.0, 1000.0),
+            (1.0, 1.0),
+        ];
+        for (lo, hi) in bounds32 {
+            let mut xs = std::vec![
+                0.0_f32,
+                -0.0,
+                f32::MIN_POSITIVE,
+                -f32::MIN_POSITIVE,
+                1e-40,
+                -1e-40,
+                f32::INFINITY,
+                f32::NEG_INFINITY,
+                f32::NAN,
+                -f32::NAN,
+                f32::MAX,
+                f32::MIN,
+                lo,
+                hi,
+                -lo,
+                -hi,
+                f32::from_bits(lo.to_bits() + 1),
+                f32::from_bits(hi.to_bits() + 1),
+                f32::from_bits(hi.to_bits() - 1),
+            ];
+            if lo > 0.0 {
+                xs.push(f32::from_bits(lo.to_bits() - 1));
+            }
+            xs.extend((0..20_000).map(|_| f32::from_bits(next())));
+            for x in xs {
+                assert_eq!(
+                    bits::within_nonnegative_f32(x, lo, hi),
+                    x >= lo && x <= hi,
+                    "{x:e} in [{lo}, {hi}]"
+                );
+                assert_eq!(
+                    <f32 as Real>::within_nonnegative(x, lo, hi),
+                    x >= lo && x <= hi
+                );
+            }
+        }
+        // The ordered compare, for operands that are not NaN.
+        let specials = [
+            0.0_f32,
+            -0.0,
+            f32::MIN_POSITIVE,
+            -f32::MIN_POSITIVE,
+            1e-45,
+            -1e-45,
+            0.5,
+            -0.5,
+            1.0,
+            f32::INFINITY,
+            f32::NEG_INFINITY,
+            f32::MAX,
+            f32::MIN,
+        ];
+        let mut xs = std::vec::Vec::from(specials);
+        xs.extend(
+            (0..400)
+                .map(|_| f32::from_bits(next()))
+                .filter(|x| !x.is_nan()),
+        );
+        for &a in &xs {
+            for &b in &xs {
+                assert_eq!(bits::less_than_f32(a, b), a < b, "{a:e} < {b:e}");
+            }
+        }
+        let mut next64 = || (u64::from(next()) << 32) | u64::from(next());
+        let mut ys = std::vec![
+            0.0_f64,
+            -0.0,
+            5e-324,
+            -5e-324,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            1.0,
+            -1.0
+        ];
+        ys.extend(
+            (0..300)
+                .map(|_| f64::from_bits(next64()))
+                .filter(|x| !x.is_nan()),
+        );
+        for &a in &ys {
+            for &b in &ys {
+                assert_eq!(bits::less_than_f64(a, b), a < b, "{a:e} < {b:e}");
+            }
+        }
+        for (lo, hi) in [(0.0_f64, 1e5_f64), (1e-3, 1e10), (60.0, 1000.0)] {
+            let mut xs = std::vec![
+                0.0_f64,
+                -0.0,
+                f64::MIN_POSITIVE,
+                -5e-324,
+                5e-324,
+                f64::INFINITY,
+                f64::NEG_INFINITY,
+                f64::NAN,
+                -f64::NAN,
+                lo,
+                hi,
+                -hi,
+                f64::from_bits(hi.to_bits() + 1),
+            ];
+            xs.extend((0..20_000).map(|_| f64::from_bits(next64())));
+            for x in xs {
+                assert_eq!(
+                    bits::within_nonnegative_f64(x, lo, hi),
+                    x >= lo && x <= hi,
+                    "{x:e}"
+                );
+            }
+        }
+    }
+
     #[test]
     fn no_argument_panics_and_non_finite_stays_non_finite() {
         let ln = <f32 as Real>::ln;

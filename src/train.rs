@@ -702,11 +702,17 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 deviation: Measured::bad(),
             };
             if optimum_ok {
+                // Finite without a test: with validated limits the first
+                // suction is in [1e-3, 1e10] Pa and the ratio (usable, so
+                // at most `max_overall_ratio` <= 1e5) above one, so the
+                // optima lie between the first suction and about the last
+                // discharge, and the deviation's divisor is at least 1e-3;
+                // the qualities are usable (`optimum_ok`, `is_usable`).
                 opt = opt * stage_ratio;
-                entry.optimum = Measured::derived(opt, q_ratio);
+                entry.optimum = Measured::new(opt, q_ratio);
                 if s.p2.quality.is_usable() {
                     entry.deviation =
-                        Measured::derived(s.p2.value / opt - T::ONE, q_ratio.worst(s.p2.quality));
+                        Measured::new(s.p2.value / opt - T::ONE, q_ratio.worst(s.p2.quality));
                 }
             }
             *out = Some(entry);
