@@ -330,8 +330,8 @@ pub struct SurgeMonitor<T, const N: usize> {
     gap: T,
     /// The rate filter's settling time, [`SETTLE_TIME_CONSTANTS`] `τ_a`.
     settle: T,
-    /// The scan interval the rate filter's gain was last formed for, s (0:
-    /// none yet).
+    /// The scan interval the rate filter's gain was last formed for, s (NaN:
+    /// none yet); always one that passed the interval test.
     gain_dt: T,
     /// The rate filter's gain `dt / (τ_a + dt)` for `gain_dt`.
     gain: T,
@@ -370,7 +370,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             config,
             gap: config.rate_filter_time * T::of(MAX_RATE_GAP),
             settle: T::of(SETTLE_TIME_CONSTANTS) * config.rate_filter_time,
-            gain_dt: T::ZERO,
+            gain_dt: T::of(f64::NAN),
             gain: T::ZERO,
             rate: RateFilter::new(),
             exponent,
@@ -512,8 +512,9 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         }
         let lq = look.quality.worst(y.quality);
         // sign(X)·√|X| / √X_s = sign(X)·√(|X|/X_s): one square root, not two.
-        // X_s > 0 wherever the lookup is usable (a validated line rises from
-        // a positive first point); a bad lookup makes the margin bad.
+        // X_s > 0 and finite wherever the lookup is usable (a validated line
+        // rises from a positive first point; an extension that overflows is
+        // a bad lookup); a bad lookup makes the margin bad.
         let xs = look.surge_flow_number;
         let mq = lq.worst(x.quality);
         let margin = Measured::derived(signed_margin_root(x.value / xs) - T::ONE, mq);
@@ -541,8 +542,9 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         SurgeState {
             flow_number: x,
             head_number: y,
-            // Finite from a validated line (0 with a bad lookup), `lq` never
-            // not applicable: `derived` would change nothing.
+            // Finite from a validated line (0 with a bad lookup: also where
+            // the extended last segment overflows), `lq` never not
+            // applicable: `derived` would change nothing.
             surge_flow_number: Measured::new(look.surge_flow_number, lq),
             margin,
             control_margin: control,
@@ -563,15 +565,21 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         let mut ln_ratio = LnRatio::new();
         self.update_exponent(scan, dt, &mut ln_ratio);
         let mut state = self.evaluate_sharing(scan, added_margin, &mut ln_ratio);
-        // `dt > 0 && dt <= gap` is false for NaN and for +inf too.
-        let dt_ok = dt > T::ZERO && dt <= self.gap;
+        // `gain_dt` is NaN or an interval that passed the test below, so an
+        // interval equal to it passes without testing again. The gain is
+        // formed again only when the interval changes (the same expression,
+        // so the same bits). `dt > 0 && dt <= gap` is false for NaN and for
+        // +inf too.
+        let dt_ok = if dt == self.gain_dt {
+            true
+        } else if dt > T::ZERO && dt <= self.gap {
+            self.gain = dt / (self.config.rate_filter_time + dt);
+            self.gain_dt = dt;
+            true
+        } else {
+            false
+        };
         if state.margin.quality.is_usable() && dt_ok {
-            // The gain is formed again only when the interval changes (the
-            // same expression, so the same bits).
-            if dt != self.gain_dt {
-                self.gain = dt / (self.config.rate_filter_time + dt);
-                self.gain_dt = dt;
-            }
             self.rate
                 .update(state.margin.value, dt, self.gain, self.settle);
         } else if state.margin.quality.is_usable() {
@@ -826,6 +834,86 @@ mod tests {
                 }
             }
         }
+    }
+
+    /// An absurd but valid line (the last segment nearly flat in head and
+    /// steep in flow: two ratios 1e-5 apart, flows 1 and 1000 m³/s, n = 9.9)
+    /// at an absurd but finite head (discharge 3e38 Pa over 1 Pa suction):
+    /// the extended last segment overflows `f32`. Every output stays finite
+    /// (the issue: the surge flow number was reported as +inf, and the
+    /// margin as a good −1 formed from it), and the surge flow, the margin,
+    /// the clearance and the rate are bad; an ordinary scan on the same line
+    /// after it is usable again.
+    #[test]
+    fn an_overflowing_line_extension_is_bad_not_infinite() {
+        let p = |n: f32, q: f32, r: f32| SurgePoint {
+            speed_rpm: n,
+            suction_volume_flow: q,
+            pressure_ratio: r,
+            control_margin: 0.1,
+        };
+        let line = SurgeLine::<f32, 4>::new(&SurgeLineConfig {
+            points: &[p(7000.0, 1.0, 1.5), p(8000.0, 1000.0, 1.50001)],
+            map: MapConditions {
+                suction_pressure: PressureAbs::from_pa(1.0e5),
+                suction_temperature: Kelvin::new(293.15),
+                molar_mass: 28.96,
+                compressibility: 1.0,
+            },
+            polytropic_exponent: 9.9,
+            flow_coefficient: 0.04,
+        })
+        .unwrap();
+        let config = MonitorConfig {
+            scan_period: 0.02,
+            time_to_surge_horizon: 60.0,
+            rate_filter_time: 0.05,
+        };
+        let mut m = SurgeMonitor::new(line, config).unwrap();
+        let scan = |ps: f32, pd: f32, dp: f32| {
+            SurgeScan::pressures_only(
+                Measured::good(PressureAbs::from_pa(ps)),
+                Measured::good(PressureAbs::from_pa(pd)),
+                Measured::good(dp),
+            )
+        };
+        let absurd = scan(1.0, 3.0e38, 0.1);
+        for _ in 0..3 {
+            let st = *m.update(&absurd, 0.0, 0.02);
+            // The precondition: a finite head whose extension overflows.
+            assert!(st.head_number.quality.is_usable());
+            let pts = m.line().points();
+            let (a, b) = (pts[0], pts[1]);
+            let f = (st.head_number.value - a.head_number) / (b.head_number - a.head_number);
+            assert!(!(a.flow_number + f * (b.flow_number - a.flow_number)).is_finite());
+            let all = [
+                st.flow_number,
+                st.head_number,
+                st.surge_flow_number,
+                st.margin,
+                st.control_margin,
+                st.clearance,
+                st.rate_of_approach,
+                st.time_to_surge,
+            ];
+            for v in all {
+                assert!(v.value.is_finite(), "{st:?}");
+            }
+            for v in [
+                st.surge_flow_number,
+                st.margin,
+                st.clearance,
+                st.rate_of_approach,
+            ] {
+                assert_eq!(v.quality, Quality::Bad, "{st:?}");
+            }
+            assert_eq!(st.fault, SurgeFault::InputBad);
+        }
+        // The same line at an ordinary operating point (above the mapped
+        // heads, extended: uncertain) gives a usable margin again.
+        let st = *m.update(&scan(1.0e5, 1.6e5, 2.0e3), 0.0, 0.02);
+        assert_eq!(st.margin.quality, Quality::Uncertain, "{st:?}");
+        assert!(st.surge_flow_number.value.is_finite());
     }
 
     #[test]

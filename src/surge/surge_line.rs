@@ -280,7 +280,9 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
     }
 
     /// Surge flow and control margin at head number `Y` (finite assumed).
-    /// At most `N` iterations.
+    /// At most `N` iterations. Bad (both 0) where the extended last segment
+    /// does not give a finite surge flow (a steep last segment at an absurd
+    /// head, or a head that is not finite).
     pub fn lookup(&self, head: T) -> LineLookup<T> {
         let bad = LineLookup {
             surge_flow_number: T::ZERO,
@@ -322,6 +324,11 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
         let (cm, quality) = if k == j {
             (a.control_margin + f * s.margin_span, Quality::Good)
         } else {
+            // Extended: a steep last segment at an absurd head (or a NaN or
+            // infinite one) gives a surge flow that is not finite: bad.
+            if !T::is_finite(q2) {
+                return bad;
+            }
             // The last point's.
             let last = self.points.get(j + 1).map_or(T::ZERO, |p| p.control_margin);
             (last, Quality::Uncertain)
@@ -368,8 +375,16 @@ mod tests {
         } else {
             pts[pts.len() - 1].control_margin
         };
+        let q2 = a.flow_number + f * (b.flow_number - a.flow_number);
+        if !T::is_finite(q2) {
+            return LineLookup {
+                surge_flow_number: T::ZERO,
+                control_margin: T::ZERO,
+                quality: Quality::Bad,
+            };
+        }
         LineLookup {
-            surge_flow_number: a.flow_number + f * (b.flow_number - a.flow_number),
+            surge_flow_number: q2,
             control_margin: cm,
             quality,
         }
@@ -444,11 +459,13 @@ mod tests {
                     "head {h}"
                 );
             }
-            let nan = l.lookup(T::of(f64::NAN));
-            let want = reference(pts, T::of(f64::NAN));
-            assert_eq!(nan.quality, want.quality);
-            assert!(!T::is_finite(nan.surge_flow_number));
-            assert_eq!(bits(nan.control_margin), bits(want.control_margin));
+            // A head that is not finite: a bad lookup with finite values.
+            for h in [f64::NAN, f64::INFINITY] {
+                let got = l.lookup(T::of(h));
+                assert_eq!(got.quality, Quality::Bad);
+                assert_eq!(reference(pts, T::of(h)), got);
+                assert_eq!(bits(got.surge_flow_number), bits(T::ZERO));
+            }
         }
     }
 
