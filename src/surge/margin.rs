@@ -518,20 +518,26 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         let xs = look.surge_flow_number;
         let mq = lq.worst(x.quality);
         let margin = Measured::derived(signed_margin_root(x.value / xs) - T::ONE, mq);
-        let added = if T::is_finite(added_margin) {
-            T::max(added_margin, T::ZERO)
-        } else {
-            T::ZERO
-        };
+        // The added margin counts when finite and positive: the line's
+        // margin plus `max(added, 0)` as before, except that a zero (or
+        // negative, or not finite) one is not added at all, which changes
+        // no bit: a line's control margin is never −0 (stored as +0), and
+        // `m + 0 = m` for every other `m` (one addition fewer, a library
+        // call on a soft-float core).
         // Both finite without a test: the control margin of a validated line
         // lies in [0, 1] (interpolated between two margins in [0, 1), or one
-        // of them; 0 with a bad lookup) and `added` is finite and >= 0, so
-        // the sum is at most the largest finite value rounded (never
+        // of them; 0 with a bad lookup) and the added margin is finite and
+        // > 0, so the sum is at most the largest finite value rounded (never
         // infinite); a finite margin is `√q − 1` of a finite `q`, so
         // `|m| <= √MAX + 1` (< 2e19 for f32, < 2e154 for f64), and a bad one
         // is 0: far below the spacing of floats near the largest finite
         // value, so the difference is finite too (`tests` below).
-        let control = derived_finite(look.control_margin + added, lq);
+        let control_value = if T::is_finite(added_margin) && added_margin > T::ZERO {
+            look.control_margin + added_margin
+        } else {
+            look.control_margin
+        };
+        let control = derived_finite(control_value, lq);
         let clearance = derived_finite(
             margin.value - control.value,
             margin.quality.worst(control.quality),
@@ -914,6 +920,55 @@ mod tests {
         let st = *m.update(&scan(1.0e5, 1.6e5, 2.0e3), 0.0, 0.02);
         assert_eq!(st.margin.quality, Quality::Uncertain, "{st:?}");
         assert!(st.surge_flow_number.value.is_finite());
+    }
+
+    /// A zero added margin is not added, which changes no bit: with
+    /// control margins configured as −0 (a valid zero margin) the control
+    /// margin comes out +0, as `m + 0` made it, below, inside and above
+    /// the mapped heads, for added margins +0, −0, negative, NaN and ∞;
+    /// a positive added margin is added.
+    #[test]
+    fn a_zero_added_margin_changes_no_bit() {
+        let p = |n: f64, q: f64, r: f64| SurgePoint {
+            speed_rpm: n,
+            suction_volume_flow: q,
+            pressure_ratio: r,
+            control_margin: -0.0,
+        };
+        let line = SurgeLine::<f64, 4>::new(&SurgeLineConfig {
+            points: &[p(8000.0, 1.6, 1.75), p(10000.0, 2.05, 2.3)],
+            map: MapConditions {
+                suction_pressure: PressureAbs::from_pa(1.0e5),
+                suction_temperature: Kelvin::new(293.15),
+                molar_mass: 28.96,
+                compressibility: 1.0,
+            },
+            polytropic_exponent: 1.45,
+            flow_coefficient: 0.04,
+        })
+        .unwrap();
+        let m = SurgeMonitor::new(
+            line,
+            MonitorConfig {
+                scan_period: 0.02,
+                time_to_surge_horizon: 60.0,
+                rate_filter_time: 0.05,
+            },
+        )
+        .unwrap();
+        for pd in [1.2e5, 2.0e5, 3.0e5] {
+            let scan = SurgeScan::pressures_only(
+                Measured::good(PressureAbs::from_pa(1.0e5)),
+                Measured::good(PressureAbs::from_pa(pd)),
+                Measured::good(2.0e3),
+            );
+            for added in [0.0, -0.0, -1.0, f64::NAN, f64::INFINITY] {
+                let st = m.evaluate(&scan, added);
+                assert!(st.control_margin.quality.is_usable());
+                assert_eq!(st.control_margin.value.to_bits(), 0.0_f64.to_bits());
+            }
+            assert_eq!(m.evaluate(&scan, 0.05).control_margin.value, 0.05);
+        }
     }
 
     #[test]

@@ -125,11 +125,16 @@ struct Segment<T> {
 #[derive(Clone, Debug)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct SurgeLine<T, const N: usize> {
-    /// The points in rising head; the first `count` are the line (fixed
-    /// slots, so the lookup indexes them without a length check).
+    /// The points in rising head; the first `count = last_segment + 2`
+    /// are the line (fixed slots, so the lookup indexes them without a
+    /// length check).
     points: [LinePoint<T>; N],
-    /// Number of points, in `[2, N]`.
-    count: usize,
+    /// Every point has the same control margin, and it is positive: the
+    /// interpolated margin is then that margin, bit for bit (`m + f·0` with
+    /// `f >= 0` finite is `m + 0 = m` for `m > 0`), and the lookup skips
+    /// forming it (a multiplication and an addition: library calls on a
+    /// soft-float core). Takes the word the point count took.
+    uniform_margin: bool,
     /// Segment `i` (point `i` to `i + 1`) in slot `i` for `i < count − 1`;
     /// the slots from `count − 1` on (at least one: `N` points make `N − 1`
     /// segments) have an unbounded upper head and nothing else.
@@ -208,6 +213,7 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             margin_span: T::ZERO,
         }; N];
         let mut count: usize = 0;
+        let mut uniform_margin = true;
         for (i, p) in config.points.iter().enumerate() {
             let ok = finite_pos(p.speed_rpm)
                 && finite_pos(p.suction_volume_flow)
@@ -226,9 +232,22 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
                     config.flow_coefficient,
                     zrt,
                 ),
-                control_margin: p.control_margin,
+                // −0 stored as +0 (the same margin): no control margin
+                // formed from the line is then −0, so adding a zero margin
+                // changes no bit (see `SurgeMonitor`).
+                control_margin: if p.control_margin == T::ZERO {
+                    T::ZERO
+                } else {
+                    p.control_margin
+                },
                 reduced_speed: reduced_speed(p.speed_rpm, zrt),
             };
+            uniform_margin = uniform_margin
+                && r.control_margin > T::ZERO
+                && config
+                    .points
+                    .first()
+                    .is_some_and(|f| f.control_margin == p.control_margin);
             if !(finite_pos(r.head_number) && finite_pos(r.flow_number)) {
                 return Err(outside_documented_range("surge_line.points").at(i));
             }
@@ -262,7 +281,7 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
         }
         Ok(SurgeLine {
             points,
-            count,
+            uniform_margin,
             segments,
             last_segment: count.saturating_sub(2),
             sigma,
@@ -276,7 +295,7 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
 
     /// The transformed points, in rising head.
     pub fn points(&self) -> &[LinePoint<T>] {
-        self.points.get(..self.count).unwrap_or(&[])
+        self.points.get(..self.last_segment + 2).unwrap_or(&[])
     }
 
     /// Surge flow and control margin at head number `Y` (finite assumed).
@@ -322,7 +341,12 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
         let f = (head - a.head_number) / s.head_span;
         let q2 = a.flow_number + f * s.flow_span;
         let (cm, quality) = if k == j {
-            (a.control_margin + f * s.margin_span, Quality::Good)
+            let cm = if self.uniform_margin {
+                a.control_margin
+            } else {
+                a.control_margin + f * s.margin_span
+            };
+            (cm, Quality::Good)
         } else {
             // Extended: a steep last segment at an absurd head (or a NaN or
             // infinite one) gives a surge flow that is not finite: bad.
@@ -390,7 +414,7 @@ mod tests {
         }
     }
 
-    fn line<T: Real, const N: usize>(count: usize) -> SurgeLine<T, N> {
+    fn line<T: Real, const N: usize>(count: usize, uniform: bool) -> SurgeLine<T, N> {
         // Invented demo points (rising speed, flow and ratio).
         let all = [
             (7000.0, 1.40, 1.55, 0.14),
@@ -404,7 +428,7 @@ mod tests {
                 speed_rpm: T::of(n),
                 suction_volume_flow: T::of(q),
                 pressure_ratio: T::of(r),
-                control_margin: T::of(m),
+                control_margin: T::of(if uniform { 0.1 } else { m }),
             })
             .collect();
         SurgeLine::new(&SurgeLineConfig {
@@ -423,10 +447,13 @@ mod tests {
 
     /// Consistency check: the table lookup gives the plain scan's bits (and
     /// quality) at every head tried, below, on, between and above the
-    /// points, at the extremes and for NaN, for 2 to 4 points in 4 slots.
+    /// points, at the extremes and for NaN, for 2 to 4 points in 4 slots,
+    /// with a control margin per speed line and with one margin for all
+    /// (the lookup then skips interpolating it).
     fn same_bits<T: Real>(bits: fn(T) -> u64) {
-        for count in 2..=4 {
-            let l = line::<T, 4>(count);
+        for (count, uniform) in (2..=4).flat_map(|c| [(c, false), (c, true)]) {
+            let l = line::<T, 4>(count, uniform);
+            assert_eq!(l.uniform_margin, uniform);
             let pts = l.points();
             assert_eq!(pts.len(), count);
             let mut heads = std::vec![
