@@ -22,7 +22,9 @@
 //! Outside the mapped heads nothing is extrapolated silently: below the
 //! lowest point the lowest surge flow is held (conservative: the true line
 //! keeps falling); above the highest the last segment is extended (it
-//! rises, conservative). Both are reported [`Quality::Uncertain`].
+//! rises, conservative). Both are reported [`Quality::Uncertain`]; an
+//! extension whose surge flow is not finite (a steep last segment at an
+//! absurd head) is [`Quality::Bad`].
 
 use super::coordinates::{
     flow_number_from_volume_flow, head_number, reduced_speed, sigma_from_exponent, z_r_t,
@@ -85,7 +87,8 @@ pub struct LinePoint<T> {
     pub head_number: T,
     /// Flow number X = Δp/ps, -.
     pub flow_number: T,
-    /// Control margin of this speed line, -.
+    /// Control margin of this speed line, - (a configured −0 is stored as
+    /// +0).
     pub control_margin: T,
     /// Reduced speed N/√(Z R Ts), rpm/(m/s).
     pub reduced_speed: T,
