@@ -452,9 +452,12 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         // 0 or NaN), a non-finite or non-positive `pd`; `|X| <= 0.52`
         // rules out a non-finite `Δp` and `X`. A rejected scan is classified
         // there, in the documented order.
+        // `|X| <= 0.25` (the usual case) settles both flow-element tests
+        // with one comparison (false for NaN, as the other is).
+        let within_validity = T::abs(x) <= T::of(FLOW_DP_RATIO_VALID);
         let plausible = inputs_q.is_usable()
             && ps.value > T::ZERO
-            && T::abs(x) <= T::of(FLOW_DP_RATIO_IMPOSSIBLE)
+            && (within_validity || T::abs(x) <= T::of(FLOW_DP_RATIO_IMPOSSIBLE))
             && ratio >= T::ONE
             && T::is_finite(ratio);
         if !plausible {
@@ -466,7 +469,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             SurgeFault::InputUncertain
         };
         let mut xq = inputs_q;
-        if T::abs(x) > T::of(FLOW_DP_RATIO_VALID) {
+        if !within_validity {
             xq = xq.worst(Quality::Uncertain);
             fault = SurgeFault::FlowDpOutsideValidity;
         }

@@ -311,17 +311,6 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             control_margin: T::ZERO,
             quality: Quality::Bad,
         };
-        // `N >= 2`: the slot exists.
-        let Some(first) = self.points.first() else {
-            return bad;
-        };
-        if head < first.head_number {
-            return LineLookup {
-                surge_flow_number: first.flow_number,
-                control_margin: first.control_margin,
-                quality: Quality::Uncertain,
-            };
-        }
         // The first slot whose upper head reaches `head`: a segment, or the
         // first unbounded slot above the mapped heads (a NaN head reaches
         // none and takes the last slot, also unbounded). Above the mapped
@@ -331,6 +320,22 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             if head <= segment.head_hi {
                 k = i;
                 break;
+            }
+        }
+        // Below the first point (only a head in the first slot can be; the
+        // test made here, not before the search, is one comparison fewer
+        // for a head in any other slot) the first point is held.
+        if k == 0 {
+            // `N >= 2`: the slot exists.
+            let Some(first) = self.points.first() else {
+                return bad;
+            };
+            if head < first.head_number {
+                return LineLookup {
+                    surge_flow_number: first.flow_number,
+                    control_margin: first.control_margin,
+                    quality: Quality::Uncertain,
+                };
             }
         }
         let j = k.min(self.last_segment);
