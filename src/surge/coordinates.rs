@@ -235,11 +235,21 @@ fn signed_root_by<T: Real>(x: T, heron: bool) -> T {
     if heron && heron_range(x) {
         return heron_steps(x);
     }
-    let root = |q: T| if heron { heron_root(q) } else { T::sqrt(q) };
     if x < T::ZERO {
-        -root(-x)
+        -root_by(-x, heron)
     } else {
-        root(x)
+        root_by(x, heron)
+    }
+}
+
+/// `√q` by [`heron_root`] (`heron`) or the library's (inlined: as a
+/// closure it was left out of line on Cortex-M0).
+#[inline(always)]
+fn root_by<T: Real>(q: T, heron: bool) -> T {
+    if heron {
+        heron_root(q)
+    } else {
+        T::sqrt(q)
     }
 }
 
