@@ -87,8 +87,7 @@ pub struct LinePoint<T> {
     pub head_number: T,
     /// Flow number X = Δp/ps, -.
     pub flow_number: T,
-    /// Control margin of this speed line, - (a configured −0 is stored as
-    /// +0).
+    /// Control margin of this speed line, -.
     pub control_margin: T,
     /// Reduced speed N/√(Z R Ts), rpm/(m/s).
     pub reduced_speed: T,
@@ -216,7 +215,6 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             margin_span: T::ZERO,
         }; N];
         let mut count: usize = 0;
-        let mut uniform_margin = true;
         for (i, p) in config.points.iter().enumerate() {
             let ok = finite_pos(p.speed_rpm)
                 && finite_pos(p.suction_volume_flow)
@@ -235,22 +233,9 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
                     config.flow_coefficient,
                     zrt,
                 ),
-                // −0 stored as +0 (the same margin): no control margin
-                // formed from the line is then −0, so adding a zero margin
-                // changes no bit (see `SurgeMonitor`).
-                control_margin: if p.control_margin == T::ZERO {
-                    T::ZERO
-                } else {
-                    p.control_margin
-                },
+                control_margin: p.control_margin,
                 reduced_speed: reduced_speed(p.speed_rpm, zrt),
             };
-            uniform_margin = uniform_margin
-                && r.control_margin > T::ZERO
-                && config
-                    .points
-                    .first()
-                    .is_some_and(|f| f.control_margin == p.control_margin);
             if !(finite_pos(r.head_number) && finite_pos(r.flow_number)) {
                 return Err(outside_documented_range("surge_line.points").at(i));
             }
@@ -282,6 +267,13 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             }
             count = i + 1;
         }
+        // Every point's margin the same (every segment's difference 0:
+        // `b − a = 0` exactly when `b = a`) and positive.
+        let uniform_margin = points.first().is_some_and(|p| p.control_margin > T::ZERO)
+            && segments
+                .iter()
+                .take(count.saturating_sub(1))
+                .all(|s| s.margin_span == T::ZERO);
         Ok(SurgeLine {
             points,
             uniform_margin,
@@ -333,7 +325,8 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             if head < first.head_number {
                 return LineLookup {
                     surge_flow_number: first.flow_number,
-                    control_margin: first.control_margin,
+                    // `+ 0`: a configured −0 comes out +0 (see below).
+                    control_margin: first.control_margin + T::ZERO,
                     quality: Quality::Uncertain,
                 };
             }
@@ -361,8 +354,16 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             if !T::is_finite(q2) {
                 return bad;
             }
-            // The last point's.
-            let last = self.points.get(j + 1).map_or(T::ZERO, |p| p.control_margin);
+            // The last point's, `+ 0`: a configured −0 comes out +0, so
+            // that no control margin from the lookup is −0 (an interpolated
+            // one never is: `m_a + f·(m_b − m_a)` with `m_a >= 0`, `f >= 0`
+            // and `m_b − m_a` not −0), and adding a zero margin to it changes
+            // no bit (see `SurgeMonitor`). Here, not at construction: the
+            // held points are the rare path.
+            let last = self
+                .points
+                .get(j + 1)
+                .map_or(T::ZERO, |p| p.control_margin + T::ZERO);
             (last, Quality::Uncertain)
         };
         LineLookup {
