@@ -224,8 +224,12 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
         }
     }
 
-    /// The lap completed: records, for every slot, the slots of its largest
-    /// and smallest values from that slot on.
+    /// The lap completed: records, for every slot from 1 on, the slots of
+    /// its largest and smallest values from that slot on. Slot 0's entries
+    /// are left as they are: they are read only while the next write goes to
+    /// slot 0, that is while the window is exactly this lap (`lap_high` and
+    /// `lap_low` are its extremes), and they name a slot `< W`, whose value is
+    /// then of this lap too, so they cannot change the extremes.
     #[cold]
     #[inline(never)]
     fn close_lap(&mut self) {
@@ -234,7 +238,7 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
             .values
             .iter()
             .zip(self.high.iter_mut().zip(self.low.iter_mut()));
-        for (i, (&x, (h, l))) in slots.enumerate().rev() {
+        for (i, (&x, (h, l))) in slots.enumerate().skip(1).rev() {
             let slot = u8::try_from(i).unwrap_or(0);
             let (mut hv, mut hs, mut lv, mut ls) = best.unwrap_or((x, slot, x, slot));
             if x > hv {

@@ -330,8 +330,8 @@ pub struct SurgeMonitor<T, const N: usize> {
     gap: T,
     /// The rate filter's settling time, [`SETTLE_TIME_CONSTANTS`] `τ_a`.
     settle: T,
-    /// The scan interval the rate filter's gain was last formed for, s (0:
-    /// none yet).
+    /// The scan interval the rate filter's gain was last formed for, s (NaN:
+    /// none yet); always one that passed the interval test.
     gain_dt: T,
     /// The rate filter's gain `dt / (τ_a + dt)` for `gain_dt`.
     gain: T,
@@ -370,7 +370,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             config,
             gap: config.rate_filter_time * T::of(MAX_RATE_GAP),
             settle: T::of(SETTLE_TIME_CONSTANTS) * config.rate_filter_time,
-            gain_dt: T::ZERO,
+            gain_dt: T::of(f64::NAN),
             gain: T::ZERO,
             rate: RateFilter::new(),
             exponent,
@@ -452,9 +452,12 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         // 0 or NaN), a non-finite or non-positive `pd`; `|X| <= 0.52`
         // rules out a non-finite `Δp` and `X`. A rejected scan is classified
         // there, in the documented order.
+        // `|X| <= 0.25` (the usual case) settles both flow-element tests
+        // with one comparison (false for NaN, as the other is).
+        let within_validity = T::abs(x) <= T::of(FLOW_DP_RATIO_VALID);
         let plausible = inputs_q.is_usable()
             && ps.value > T::ZERO
-            && T::abs(x) <= T::of(FLOW_DP_RATIO_IMPOSSIBLE)
+            && (within_validity || T::abs(x) <= T::of(FLOW_DP_RATIO_IMPOSSIBLE))
             && ratio >= T::ONE
             && T::is_finite(ratio);
         if !plausible {
@@ -466,7 +469,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             SurgeFault::InputUncertain
         };
         let mut xq = inputs_q;
-        if T::abs(x) > T::of(FLOW_DP_RATIO_VALID) {
+        if !within_validity {
             xq = xq.worst(Quality::Uncertain);
             fault = SurgeFault::FlowDpOutsideValidity;
         }
@@ -512,25 +515,32 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         }
         let lq = look.quality.worst(y.quality);
         // sign(X)·√|X| / √X_s = sign(X)·√(|X|/X_s): one square root, not two.
-        // X_s > 0 wherever the lookup is usable (a validated line rises from
-        // a positive first point); a bad lookup makes the margin bad.
+        // X_s > 0 and finite wherever the lookup is usable (a validated line
+        // rises from a positive first point; an extension that overflows is
+        // a bad lookup); a bad lookup makes the margin bad.
         let xs = look.surge_flow_number;
         let mq = lq.worst(x.quality);
         let margin = Measured::derived(signed_margin_root(x.value / xs) - T::ONE, mq);
-        let added = if T::is_finite(added_margin) {
-            T::max(added_margin, T::ZERO)
-        } else {
-            T::ZERO
-        };
+        // The added margin counts when finite and positive: the line's
+        // margin plus `max(added, 0)` as before, except that a zero (or
+        // negative, or not finite) one is not added at all, which changes
+        // no bit: a line's control margin is never −0 (stored as +0), and
+        // `m + 0 = m` for every other `m` (one addition fewer, a library
+        // call on a soft-float core).
         // Both finite without a test: the control margin of a validated line
         // lies in [0, 1] (interpolated between two margins in [0, 1), or one
-        // of them; 0 with a bad lookup) and `added` is finite and >= 0, so
-        // the sum is at most the largest finite value rounded (never
+        // of them; 0 with a bad lookup) and the added margin is finite and
+        // > 0, so the sum is at most the largest finite value rounded (never
         // infinite); a finite margin is `√q − 1` of a finite `q`, so
         // `|m| <= √MAX + 1` (< 2e19 for f32, < 2e154 for f64), and a bad one
         // is 0: far below the spacing of floats near the largest finite
         // value, so the difference is finite too (`tests` below).
-        let control = derived_finite(look.control_margin + added, lq);
+        let control_value = if T::is_finite(added_margin) && added_margin > T::ZERO {
+            look.control_margin + added_margin
+        } else {
+            look.control_margin
+        };
+        let control = derived_finite(control_value, lq);
         let clearance = derived_finite(
             margin.value - control.value,
             margin.quality.worst(control.quality),
@@ -541,8 +551,9 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         SurgeState {
             flow_number: x,
             head_number: y,
-            // Finite from a validated line (0 with a bad lookup), `lq` never
-            // not applicable: `derived` would change nothing.
+            // Finite from a validated line (0 with a bad lookup: also where
+            // the extended last segment overflows), `lq` never not
+            // applicable: `derived` would change nothing.
             surge_flow_number: Measured::new(look.surge_flow_number, lq),
             margin,
             control_margin: control,
@@ -563,15 +574,21 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         let mut ln_ratio = LnRatio::new();
         self.update_exponent(scan, dt, &mut ln_ratio);
         let mut state = self.evaluate_sharing(scan, added_margin, &mut ln_ratio);
-        // `dt > 0 && dt <= gap` is false for NaN and for +inf too.
-        let dt_ok = dt > T::ZERO && dt <= self.gap;
+        // `gain_dt` is NaN or an interval that passed the test below, so an
+        // interval equal to it passes without testing again. The gain is
+        // formed again only when the interval changes (the same expression,
+        // so the same bits). `dt > 0 && dt <= gap` is false for NaN and for
+        // +inf too.
+        let dt_ok = if dt == self.gain_dt {
+            true
+        } else if dt > T::ZERO && dt <= self.gap {
+            self.gain = dt / (self.config.rate_filter_time + dt);
+            self.gain_dt = dt;
+            true
+        } else {
+            false
+        };
         if state.margin.quality.is_usable() && dt_ok {
-            // The gain is formed again only when the interval changes (the
-            // same expression, so the same bits).
-            if dt != self.gain_dt {
-                self.gain = dt / (self.config.rate_filter_time + dt);
-                self.gain_dt = dt;
-            }
             self.rate
                 .update(state.margin.value, dt, self.gain, self.settle);
         } else if state.margin.quality.is_usable() {
@@ -825,6 +842,135 @@ mod tests {
                     assert_eq!(clearance, st.clearance, "{added} {dp} {pd}");
                 }
             }
+        }
+    }
+
+    /// An absurd but valid line (the last segment nearly flat in head and
+    /// steep in flow: two ratios 1e-5 apart, flows 1 and 1000 m³/s, n = 9.9)
+    /// at an absurd but finite head (discharge 3e38 Pa over 1 Pa suction):
+    /// the extended last segment overflows `f32`. Every output stays finite
+    /// (the issue: the surge flow number was reported as +inf, and the
+    /// margin as a good −1 formed from it), and the surge flow, the margin,
+    /// the clearance and the rate are bad; an ordinary scan on the same line
+    /// after it is usable again.
+    #[test]
+    fn an_overflowing_line_extension_is_bad_not_infinite() {
+        let p = |n: f32, q: f32, r: f32| SurgePoint {
+            speed_rpm: n,
+            suction_volume_flow: q,
+            pressure_ratio: r,
+            control_margin: 0.1,
+        };
+        let line = SurgeLine::<f32, 4>::new(&SurgeLineConfig {
+            points: &[p(7000.0, 1.0, 1.5), p(8000.0, 1000.0, 1.50001)],
+            map: MapConditions {
+                suction_pressure: PressureAbs::from_pa(1.0e5),
+                suction_temperature: Kelvin::new(293.15),
+                molar_mass: 28.96,
+                compressibility: 1.0,
+            },
+            polytropic_exponent: 9.9,
+            flow_coefficient: 0.04,
+        })
+        .unwrap();
+        let config = MonitorConfig {
+            scan_period: 0.02,
+            time_to_surge_horizon: 60.0,
+            rate_filter_time: 0.05,
+        };
+        let mut m = SurgeMonitor::new(line, config).unwrap();
+        let scan = |ps: f32, pd: f32, dp: f32| {
+            SurgeScan::pressures_only(
+                Measured::good(PressureAbs::from_pa(ps)),
+                Measured::good(PressureAbs::from_pa(pd)),
+                Measured::good(dp),
+            )
+        };
+        let absurd = scan(1.0, 3.0e38, 0.1);
+        for _ in 0..3 {
+            let st = *m.update(&absurd, 0.0, 0.02);
+            // The precondition: a finite head whose extension overflows.
+            assert!(st.head_number.quality.is_usable());
+            let pts = m.line().points();
+            let (a, b) = (pts[0], pts[1]);
+            let f = (st.head_number.value - a.head_number) / (b.head_number - a.head_number);
+            assert!(!(a.flow_number + f * (b.flow_number - a.flow_number)).is_finite());
+            let all = [
+                st.flow_number,
+                st.head_number,
+                st.surge_flow_number,
+                st.margin,
+                st.control_margin,
+                st.clearance,
+                st.rate_of_approach,
+                st.time_to_surge,
+            ];
+            for v in all {
+                assert!(v.value.is_finite(), "{st:?}");
+            }
+            for v in [
+                st.surge_flow_number,
+                st.margin,
+                st.clearance,
+                st.rate_of_approach,
+            ] {
+                assert_eq!(v.quality, Quality::Bad, "{st:?}");
+            }
+            assert_eq!(st.fault, SurgeFault::InputBad);
+        }
+        // The same line at an ordinary operating point (above the mapped
+        // heads, extended: uncertain) gives a usable margin again.
+        let st = *m.update(&scan(1.0e5, 1.6e5, 2.0e3), 0.0, 0.02);
+        assert_eq!(st.margin.quality, Quality::Uncertain, "{st:?}");
+        assert!(st.surge_flow_number.value.is_finite());
+    }
+
+    /// A zero added margin is not added, which changes no bit: with
+    /// control margins configured as −0 (a valid zero margin) the control
+    /// margin comes out +0, as `m + 0` made it, below, inside and above
+    /// the mapped heads, for added margins +0, −0, negative, NaN and ∞;
+    /// a positive added margin is added.
+    #[test]
+    fn a_zero_added_margin_changes_no_bit() {
+        let p = |n: f64, q: f64, r: f64| SurgePoint {
+            speed_rpm: n,
+            suction_volume_flow: q,
+            pressure_ratio: r,
+            control_margin: -0.0,
+        };
+        let line = SurgeLine::<f64, 4>::new(&SurgeLineConfig {
+            points: &[p(8000.0, 1.6, 1.75), p(10000.0, 2.05, 2.3)],
+            map: MapConditions {
+                suction_pressure: PressureAbs::from_pa(1.0e5),
+                suction_temperature: Kelvin::new(293.15),
+                molar_mass: 28.96,
+                compressibility: 1.0,
+            },
+            polytropic_exponent: 1.45,
+            flow_coefficient: 0.04,
+        })
+        .unwrap();
+        let m = SurgeMonitor::new(
+            line,
+            MonitorConfig {
+                scan_period: 0.02,
+                time_to_surge_horizon: 60.0,
+                rate_filter_time: 0.05,
+            },
+        )
+        .unwrap();
+        for pd in [1.2e5, 2.0e5, 3.0e5] {
+            let scan = SurgeScan::pressures_only(
+                Measured::good(PressureAbs::from_pa(1.0e5)),
+                Measured::good(PressureAbs::from_pa(pd)),
+                Measured::good(2.0e3),
+            );
+            for added in [0.0, -0.0, -1.0, f64::NAN, f64::INFINITY] {
+                let st = m.evaluate(&scan, added);
+                assert!(st.control_margin.quality.is_usable());
+                assert_eq!(st.control_margin.value.to_bits(), 0.0_f64.to_bits());
+            }
+            assert_eq!(m.evaluate(&scan, 0.05).control_margin.value, 0.05);
         }
     }
 

@@ -22,7 +22,9 @@
 //! Outside the mapped heads nothing is extrapolated silently: below the
 //! lowest point the lowest surge flow is held (conservative: the true line
 //! keeps falling); above the highest the last segment is extended (it
-//! rises, conservative). Both are reported [`Quality::Uncertain`].
+//! rises, conservative). Both are reported [`Quality::Uncertain`]; an
+//! extension whose surge flow is not finite (a steep last segment at an
+//! absurd head) is [`Quality::Bad`].
 
 use super::coordinates::{
     flow_number_from_volume_flow, head_number, reduced_speed, sigma_from_exponent, z_r_t,
@@ -125,11 +127,16 @@ struct Segment<T> {
 #[derive(Clone, Debug)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct SurgeLine<T, const N: usize> {
-    /// The points in rising head; the first `count` are the line (fixed
-    /// slots, so the lookup indexes them without a length check).
+    /// The points in rising head; the first `count = last_segment + 2`
+    /// are the line (fixed slots, so the lookup indexes them without a
+    /// length check).
     points: [LinePoint<T>; N],
-    /// Number of points, in `[2, N]`.
-    count: usize,
+    /// Every point has the same control margin, and it is positive: the
+    /// interpolated margin is then that margin, bit for bit (`m + f·0` with
+    /// `f >= 0` finite is `m + 0 = m` for `m > 0`), and the lookup skips
+    /// forming it (a multiplication and an addition: library calls on a
+    /// soft-float core). Takes the word the point count took.
+    uniform_margin: bool,
     /// Segment `i` (point `i` to `i + 1`) in slot `i` for `i < count − 1`;
     /// the slots from `count − 1` on (at least one: `N` points make `N − 1`
     /// segments) have an unbounded upper head and nothing else.
@@ -260,9 +267,16 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             }
             count = i + 1;
         }
+        // Every point's margin the same (every segment's difference 0:
+        // `b − a = 0` exactly when `b = a`) and positive.
+        let uniform_margin = points.first().is_some_and(|p| p.control_margin > T::ZERO)
+            && segments
+                .iter()
+                .take(count.saturating_sub(1))
+                .all(|s| s.margin_span == T::ZERO);
         Ok(SurgeLine {
             points,
-            count,
+            uniform_margin,
             segments,
             last_segment: count.saturating_sub(2),
             sigma,
@@ -276,28 +290,19 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
 
     /// The transformed points, in rising head.
     pub fn points(&self) -> &[LinePoint<T>] {
-        self.points.get(..self.count).unwrap_or(&[])
+        self.points.get(..self.last_segment + 2).unwrap_or(&[])
     }
 
     /// Surge flow and control margin at head number `Y` (finite assumed).
-    /// At most `N` iterations.
+    /// At most `N` iterations. Bad (both 0) where the extended last segment
+    /// does not give a finite surge flow (a steep last segment at an absurd
+    /// head, or a head that is not finite).
     pub fn lookup(&self, head: T) -> LineLookup<T> {
         let bad = LineLookup {
             surge_flow_number: T::ZERO,
             control_margin: T::ZERO,
             quality: Quality::Bad,
         };
-        // `N >= 2`: the slot exists.
-        let Some(first) = self.points.first() else {
-            return bad;
-        };
-        if head < first.head_number {
-            return LineLookup {
-                surge_flow_number: first.flow_number,
-                control_margin: first.control_margin,
-                quality: Quality::Uncertain,
-            };
-        }
         // The first slot whose upper head reaches `head`: a segment, or the
         // first unbounded slot above the mapped heads (a NaN head reaches
         // none and takes the last slot, also unbounded). Above the mapped
@@ -307,6 +312,23 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             if head <= segment.head_hi {
                 k = i;
                 break;
+            }
+        }
+        // Below the first point (only a head in the first slot can be; the
+        // test made here, not before the search, is one comparison fewer
+        // for a head in any other slot) the first point is held.
+        if k == 0 {
+            // `N >= 2`: the slot exists.
+            let Some(first) = self.points.first() else {
+                return bad;
+            };
+            if head < first.head_number {
+                return LineLookup {
+                    surge_flow_number: first.flow_number,
+                    // `+ 0`: a configured −0 comes out +0 (see below).
+                    control_margin: first.control_margin + T::ZERO,
+                    quality: Quality::Uncertain,
+                };
             }
         }
         let j = k.min(self.last_segment);
@@ -320,10 +342,28 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
         let f = (head - a.head_number) / s.head_span;
         let q2 = a.flow_number + f * s.flow_span;
         let (cm, quality) = if k == j {
-            (a.control_margin + f * s.margin_span, Quality::Good)
+            let cm = if self.uniform_margin {
+                a.control_margin
+            } else {
+                a.control_margin + f * s.margin_span
+            };
+            (cm, Quality::Good)
         } else {
-            // The last point's.
-            let last = self.points.get(j + 1).map_or(T::ZERO, |p| p.control_margin);
+            // Extended: a steep last segment at an absurd head (or a NaN or
+            // infinite one) gives a surge flow that is not finite: bad.
+            if !T::is_finite(q2) {
+                return bad;
+            }
+            // The last point's, `+ 0`: a configured −0 comes out +0, so
+            // that no control margin from the lookup is −0 (an interpolated
+            // one never is: `m_a + f·(m_b − m_a)` with `m_a >= 0`, `f >= 0`
+            // and `m_b − m_a` not −0), and adding a zero margin to it changes
+            // no bit (see `SurgeMonitor`). Here, not at construction: the
+            // held points are the rare path.
+            let last = self
+                .points
+                .get(j + 1)
+                .map_or(T::ZERO, |p| p.control_margin + T::ZERO);
             (last, Quality::Uncertain)
         };
         LineLookup {
@@ -368,14 +408,22 @@ mod tests {
         } else {
             pts[pts.len() - 1].control_margin
         };
+        let q2 = a.flow_number + f * (b.flow_number - a.flow_number);
+        if !T::is_finite(q2) {
+            return LineLookup {
+                surge_flow_number: T::ZERO,
+                control_margin: T::ZERO,
+                quality: Quality::Bad,
+            };
+        }
         LineLookup {
-            surge_flow_number: a.flow_number + f * (b.flow_number - a.flow_number),
+            surge_flow_number: q2,
             control_margin: cm,
             quality,
         }
     }
 
-    fn line<T: Real, const N: usize>(count: usize) -> SurgeLine<T, N> {
+    fn line<T: Real, const N: usize>(count: usize, uniform: bool) -> SurgeLine<T, N> {
         // Invented demo points (rising speed, flow and ratio).
         let all = [
             (7000.0, 1.40, 1.55, 0.14),
@@ -389,7 +437,7 @@ mod tests {
                 speed_rpm: T::of(n),
                 suction_volume_flow: T::of(q),
                 pressure_ratio: T::of(r),
-                control_margin: T::of(m),
+                control_margin: T::of(if uniform { 0.1 } else { m }),
             })
             .collect();
         SurgeLine::new(&SurgeLineConfig {
@@ -408,10 +456,13 @@ mod tests {
 
     /// Consistency check: the table lookup gives the plain scan's bits (and
     /// quality) at every head tried, below, on, between and above the
-    /// points, at the extremes and for NaN, for 2 to 4 points in 4 slots.
+    /// points, at the extremes and for NaN, for 2 to 4 points in 4 slots,
+    /// with a control margin per speed line and with one margin for all
+    /// (the lookup then skips interpolating it).
     fn same_bits<T: Real>(bits: fn(T) -> u64) {
-        for count in 2..=4 {
-            let l = line::<T, 4>(count);
+        for (count, uniform) in (2..=4).flat_map(|c| [(c, false), (c, true)]) {
+            let l = line::<T, 4>(count, uniform);
+            assert_eq!(l.uniform_margin, uniform);
             let pts = l.points();
             assert_eq!(pts.len(), count);
             let mut heads = std::vec![
@@ -444,11 +495,13 @@ mod tests {
                     "head {h}"
                 );
             }
-            let nan = l.lookup(T::of(f64::NAN));
-            let want = reference(pts, T::of(f64::NAN));
-            assert_eq!(nan.quality, want.quality);
-            assert!(!T::is_finite(nan.surge_flow_number));
-            assert_eq!(bits(nan.control_margin), bits(want.control_margin));
+            // A head that is not finite: a bad lookup with finite values.
+            for h in [f64::NAN, f64::INFINITY] {
+                let got = l.lookup(T::of(h));
+                assert_eq!(got.quality, Quality::Bad);
+                assert_eq!(reference(pts, T::of(h)), got);
+                assert_eq!(bits(got.surge_flow_number), bits(T::ZERO));
+            }
         }
     }
 

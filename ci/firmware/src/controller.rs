@@ -166,6 +166,33 @@ fn section_monitor() -> Result<SectionMonitor, ConfigError> {
     )
 }
 
+/// One stage's three channels (suction, discharge, flow-element Δp) at
+/// `t_ms`: writes the filtered pressures into the stage's scan and returns
+/// its monitor's scan (the unfiltered values; the temperatures ride along,
+/// a configured-exponent monitor does not read them).
+#[inline(always)]
+fn read_stage(
+    stage: &mut polytrope::scan::StageScan<f32>,
+    ch: &mut [TransmitterChannel],
+    r: &[f32],
+    t_ms: u32,
+) -> SurgeScan<f32> {
+    // Chunks of exactly three (`chunks_exact(3)`): the indices fold away
+    // once inlined.
+    let ps = ch[0].update(r[0], t_ms);
+    let pd = ch[1].update(r[1], t_ms);
+    let dp = ch[2].update(r[2], t_ms);
+    stage.suction_pressure = ps.pressure();
+    stage.discharge_pressure = pd.pressure();
+    SurgeScan {
+        suction_pressure: ps.raw_pressure(),
+        discharge_pressure: pd.raw_pressure(),
+        flow_dp: dp.raw,
+        suction_temperature: stage.suction_temperature,
+        discharge_temperature: stage.discharge_temperature,
+    }
+}
+
 impl<G: GasModel<f32>> Controller<G> {
     /// Builds the train, the channels (ranges from the stages' design
     /// pressures) and the monitors into `slot`, in place: the state is
@@ -243,12 +270,15 @@ impl<G: GasModel<f32>> Controller<G> {
     }
 
     /// Phases 1 and 2 of [`Controller::scan`] (the protection path): every
-    /// channel, then every surge monitor; the margins. A function of its
-    /// own, not inlined: the monitors' inputs (each channel's unfiltered
-    /// value, about 170 bytes) then live in its frame only and are off the
-    /// stack while the train updates; inlined into `scan`, its one frame
-    /// held them under the train's whole call chain (the whole scan's stack
-    /// peak was that frame plus the train's).
+    /// channel and every surge monitor; the margins. Stage by stage: a
+    /// stage's three channels, then its monitor (each monitor reads only its
+    /// own stage's channels, so the results are those of all channels first,
+    /// then all monitors, as [`Controller::read_channels`] and
+    /// [`Controller::update_monitors`] do it); a monitor's scan is built
+    /// where its update reads it, not gathered into an array of all four
+    /// and copied. A function of its own, not inlined: its frame is off the
+    /// stack while the train updates (inlined into `scan`, that frame was
+    /// held under the train's whole call chain).
     #[inline(never)]
     pub fn protect(
         &mut self,
@@ -256,8 +286,37 @@ impl<G: GasModel<f32>> Controller<G> {
         t_ms: u32,
         scan: &mut polytrope::scan::Scan<f32, SECTIONS>,
     ) -> [f32; SECTIONS] {
-        let (surge, dt) = self.read_channels(raw, t_ms, scan);
-        self.update_monitors(&surge, dt)
+        let dt = self.tick(t_ms);
+        let mut margins = [0.0_f32; SECTIONS];
+        for ((((stage, ch), r), m), margin) in scan
+            .stages
+            .iter_mut()
+            .zip(self.channels.chunks_exact_mut(3))
+            .zip(raw.chunks_exact(3))
+            .zip(self.monitors.iter_mut())
+            .zip(margins.iter_mut())
+        {
+            let s = read_stage(stage, ch, r, t_ms);
+            *margin = m.update(&s, 0.0, dt).margin.value;
+        }
+        margins
+    }
+
+    /// The time since the previous scan, s, from a 32-bit millisecond tick:
+    /// the wrapping difference, a step back (a negative one) counting as no
+    /// time; the nominal period at the first scan.
+    #[inline(always)]
+    fn tick(&mut self, t_ms: u32) -> f32 {
+        let dt_ms = self.last_ms.map_or(SCAN_MS, |l| {
+            let d = t_ms.wrapping_sub(l);
+            if d > i32::MAX as u32 {
+                0
+            } else {
+                d
+            }
+        });
+        self.last_ms = Some(t_ms);
+        dt_ms as f32 * 1.0e-3
     }
 
     /// Phase 1 of [`Controller::scan`]: every channel; writes the filtered
@@ -270,18 +329,7 @@ impl<G: GasModel<f32>> Controller<G> {
         t_ms: u32,
         scan: &mut polytrope::scan::Scan<f32, SECTIONS>,
     ) -> ([SurgeScan<f32>; SECTIONS], f32) {
-        // A 32-bit millisecond tick: the wrapping difference, a step back
-        // (a negative one) counting as no time.
-        let dt_ms = self.last_ms.map_or(SCAN_MS, |l| {
-            let d = t_ms.wrapping_sub(l);
-            if d > i32::MAX as u32 {
-                0
-            } else {
-                d
-            }
-        });
-        self.last_ms = Some(t_ms);
-        let dt = dt_ms as f32 * 1.0e-3;
+        let dt = self.tick(t_ms);
         let none = polytrope::Measured::<f32>::bad();
         let mut surge = [SurgeScan::pressures_only(
             none.map(PressureAbs::from_pa),
@@ -295,20 +343,7 @@ impl<G: GasModel<f32>> Controller<G> {
             .zip(raw.chunks_exact(3))
             .zip(surge.iter_mut())
         {
-            let ps = ch[0].update(r[0], t_ms);
-            let pd = ch[1].update(r[1], t_ms);
-            let dp = ch[2].update(r[2], t_ms);
-            stage.suction_pressure = ps.pressure();
-            stage.discharge_pressure = pd.pressure();
-            // The temperatures ride along (a configured-exponent monitor
-            // does not read them).
-            *s = SurgeScan {
-                suction_pressure: ps.raw_pressure(),
-                discharge_pressure: pd.raw_pressure(),
-                flow_dp: dp.raw,
-                suction_temperature: stage.suction_temperature,
-                discharge_temperature: stage.discharge_temperature,
-            };
+            *s = read_stage(stage, ch, r, t_ms);
         }
         (surge, dt)
     }
