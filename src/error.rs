@@ -106,32 +106,45 @@ impl ConfigError {
 /// Checks that `value` is finite and in `[min, max]`; returns it.
 ///
 /// NaN or infinity gives [`Problem::NotFinite`], anything else outside the
-/// range [`Problem::OutOfRange`].
+/// range [`Problem::OutOfRange`]. Inlined (the bounds fold into the
+/// comparisons); the refusal itself is built out of line, once for every
+/// check of the firmware (configuration-time flash).
+#[inline(always)]
 pub(crate) fn check_range<T: Real>(
     field: &'static str,
     value: T,
     min: f64,
     max: f64,
 ) -> Result<T, ConfigError> {
-    if !T::is_finite(value) {
-        return Err(ConfigError::not_finite(field));
+    if T::is_finite(value) && value >= T::of(min) && value <= T::of(max) {
+        Ok(value)
+    } else {
+        Err(refusal(field, T::is_finite(value), min, max))
     }
-    if value < T::of(min) || value > T::of(max) {
-        return Err(ConfigError::out_of_range(field, min, max));
-    }
-    Ok(value)
 }
 
 /// Checks that `value` is finite and strictly above zero (the range is
 /// reported as `[0, inf]`, open at 0); returns it.
+#[inline(always)]
 pub(crate) fn check_positive<T: Real>(field: &'static str, value: T) -> Result<T, ConfigError> {
-    if !T::is_finite(value) {
-        return Err(ConfigError::not_finite(field));
+    if T::is_finite(value) && value > T::ZERO {
+        Ok(value)
+    } else {
+        Err(refusal(field, T::is_finite(value), 0.0, f64::INFINITY))
     }
-    if !(value > T::ZERO) {
-        return Err(ConfigError::out_of_range(field, 0.0, f64::INFINITY));
+}
+
+/// The refusal of a range check: [`Problem::NotFinite`] for a NaN or
+/// infinite value, [`Problem::OutOfRange`] otherwise. Cold and out of line:
+/// one copy serves every check (configuration-time flash).
+#[cold]
+#[inline(never)]
+pub(crate) fn refusal(field: &'static str, finite: bool, min: f64, max: f64) -> ConfigError {
+    if finite {
+        ConfigError::out_of_range(field, min, max)
+    } else {
+        ConfigError::not_finite(field)
     }
-    Ok(value)
 }
 
 /// A setting outside the range its documentation states (used where a list
