@@ -884,7 +884,11 @@ pub struct TableGas<'a, T> {
     span_x: T,
     t_min: T,
     span_t: T,
-    lattice_bits: u32,
+    /// The largest lattice coordinate, 2^lattice_bits − 1, and the shift
+    /// from a lattice coordinate to its part of the start-of-descent grid,
+    /// lattice_bits − JUMP_BITS (or 0), for `locate`.
+    top: u16,
+    part: u16,
     /// One lattice unit in ln p and its inverse.
     unit_x: T,
     inv_unit_x: T,
@@ -950,7 +954,9 @@ impl<'a, T: Real> TableGas<'a, T> {
             span_x: T::of(span_x),
             t_min: T::of(h.t_min),
             span_t: T::of(span_t),
-            lattice_bits: u32::from(h.lattice_bits),
+            // Validated: 1 ≤ lattice_bits ≤ 16.
+            top: u16::try_from((1u32 << h.lattice_bits) - 1).unwrap_or(u16::MAX),
+            part: u16::from(h.lattice_bits.saturating_sub(JUMP_BITS as u8)),
             unit_x: T::of(span_x / n),
             inv_unit_x: T::of(n / span_x),
             unit_t: T::of(span_t / n),
@@ -985,7 +991,7 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// the child holding the part's first lattice point is still at least as
     /// large as the part in both variables.
     fn build_jump(&mut self) {
-        let bits = self.lattice_bits;
+        let bits = u32::from(self.data.header.lattice_bits);
         let part = bits.saturating_sub(JUMP_BITS);
         let per_axis = 1u32 << JUMP_BITS;
         let cells: &'a [Cell] = self.data.cells;
@@ -1069,14 +1075,13 @@ impl<'a, T: Real> TableGas<'a, T> {
     fn locate(&self, x: T, y: T) -> Option<Leaf<'a, T>> {
         // Integer lattice coordinates of the point; each split cell names
         // the bit of them that picks its child.
-        let bits = self.lattice_bits;
-        let top = (1u32 << bits) - 1;
+        let top = u32::from(self.top);
         let ix = u32::min(T::trunc_u32(x * self.inv_unit_x), top);
         let iy = u32::min(T::trunc_u32(y * self.inv_unit_t), top);
         let cells: &'a [Cell] = self.data.cells;
         // Start from the deepest cell known to hold the point's part of the
         // envelope; track the cell's size as powers of two of lattice units.
-        let part = bits.saturating_sub(JUMP_BITS);
+        let part = u32::from(self.part) & 31;
         let k = ((iy >> part) << JUMP_BITS) + (ix >> part);
         let &(start, sx0, sy0) = self.jump.get(k as usize)?;
         let (mut sx, mut sy) = (u32::from(sx0) & 31, u32::from(sy0) & 31);
@@ -1540,7 +1545,8 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// the leaf's cut at ln p2 (`cut`, reused from the discharge state's
     /// evaluation when it holds the start): each step evaluates one cubic in
     /// T (s and ∂s/∂T); a step into another leaf cuts that leaf (`CUT`,
-    /// which must include [`W_DS`] and `FIN`).
+    /// which must include [`W_DS`] and `FIN`). A cut passed in must lie at
+    /// ln p2.
     #[inline(always)]
     fn isentropic_ln<const CUT: u8, const FIN: u8>(
         &self,
@@ -1559,9 +1565,14 @@ impl<'a, T: Real> TableGas<'a, T> {
         if !(T::is_finite(s_target) && T::is_finite(t_start)) {
             return bad;
         }
-        let x2 = match self.coordinates(ln_p2, self.t_min) {
-            Ok((x, _)) => x,
-            Err(flag) => return Isentropic { flag, ..bad },
+        // A cut passed in lies at ln p2 (the discharge state's): its x is
+        // the relative ln p2, inside the envelope.
+        let x2 = match cut.as_ref() {
+            Some(c) => c.x,
+            None => match self.coordinates(ln_p2, self.t_min) {
+                Ok((x, _)) => x,
+                Err(flag) => return Isentropic { flag, ..bad },
+            },
         };
         let (mut lo, mut hi) = (T::ZERO, self.span_t);
         let mut y = T::clamp(t_start - self.t_min, lo, hi);
