@@ -1358,28 +1358,19 @@ impl<'a, T: Real> TableGas<'a, T> {
         y: T,
         cut: &mut Option<Cut<'a, T>>,
     ) -> (Patch<T>, Quality, TableFlag) {
-        let (pt, quality, flag, _) = self.eval_xy_basis::<CUT, OUT>(x, y, cut);
-        (pt, quality, flag)
+        self.eval_xy_checking::<CUT, OUT, OUT>(x, y, cut)
     }
 
-    /// [`TableGas::eval_xy`] that also returns the T-basis it used (on the
-    /// cut it leaves in `cut`), so more outputs at the same state cost only
-    /// their sums ([`TableGas::combine_at`]).
+    /// [`TableGas::eval_xy`] that checks (finite, physical) only the
+    /// outputs `CHECK` of those it computes (`OUT`).
     #[inline(always)]
-    fn eval_xy_basis<const CUT: u8, const OUT: u8>(
+    fn eval_xy_checking<const CUT: u8, const OUT: u8, const CHECK: u8>(
         &self,
         x: T,
         y: T,
         cut: &mut Option<Cut<'a, T>>,
-    ) -> (Patch<T>, Quality, TableFlag, TBasis<T>) {
-        let zero = T::ZERO;
-        let no_basis = TBasis {
-            b: [zero; 2],
-            bd: [zero; 2],
-            db: [zero; 2],
-            dbd: [zero; 2],
-        };
-        let bad = (Patch::ZERO, Quality::Bad, TableFlag::NotFinite, no_basis);
+    ) -> (Patch<T>, Quality, TableFlag) {
+        let bad = (Patch::ZERO, Quality::Bad, TableFlag::NotFinite);
         if !matches!(cut, Some(c) if c.holds(x, y)) {
             *cut = None;
             let Some(leaf) = self.locate(x, y) else {
@@ -1387,7 +1378,7 @@ impl<'a, T: Real> TableGas<'a, T> {
             };
             let (quality, flag) = Self::flag_quality(leaf.cell);
             if quality == Quality::Bad {
-                return (Patch::ZERO, quality, flag, no_basis);
+                return (Patch::ZERO, quality, flag);
             }
             let Some(n) = self.corners(&leaf) else {
                 return bad;
@@ -1397,17 +1388,16 @@ impl<'a, T: Real> TableGas<'a, T> {
         let Some(c) = cut.as_ref() else {
             return bad;
         };
-        let tb = Self::t_basis(&c.leaf, y);
         let pt = if OUT & W_W != 0 {
             let Some(n) = self.corners(&c.leaf) else {
                 return bad;
             };
             Self::patch::<OUT>(c, n, y)
         } else {
-            Self::combine_at::<OUT>(c, &tb)
+            Self::combine::<OUT>(c, y)
         };
-        match self.finish::<OUT>(pt) {
-            Some(pt) => (pt, c.quality, c.flag, tb),
+        match self.finish::<CHECK>(pt) {
+            Some(pt) => (pt, c.quality, c.flag),
             None => bad,
         }
     }
@@ -1418,6 +1408,13 @@ impl<'a, T: Real> TableGas<'a, T> {
     fn finish<const OUT: u8>(&self, mut pt: Patch<T>) -> Option<Patch<T>> {
         pt.h += self.h_offset;
         pt.s += self.s_offset;
+        Self::checked::<OUT>(pt)
+    }
+
+    /// A patch (offsets added) if its outputs `OUT` are finite and physical
+    /// (Z and cp positive).
+    #[inline(always)]
+    fn checked<const OUT: u8>(pt: Patch<T>) -> Option<Patch<T>> {
         // One test for every output asked for: a NaN or infinity in any of
         // them makes their sum non-finite (outputs not asked for are not
         // computed at all).
@@ -1583,11 +1580,13 @@ impl<'a, T: Real> TableGas<'a, T> {
         let edge_margin = T::of(2e-4);
         let residual_tolerance = self.s_tolerance;
         let mut converged = false;
-        // The converged evaluation's T-basis, quality and flag, and the step
-        // taken from it.
+        // The converged evaluation, its quality and flag, and the step taken
+        // from it. Each step's patch has every output the cut has (`CUT`:
+        // s and ∂s/∂T for the step, `FIN` for the end; only the former
+        // checked here), so the end needs no second pass over the edges.
         let mut last = None;
         for _ in 0..ISENTROPIC_MAX_ITERATIONS {
-            let (pt, q, f, tb) = self.eval_xy_basis::<CUT, W_DS>(x2, y, cut);
+            let (pt, q, f) = self.eval_xy_checking::<CUT, CUT, W_DS>(x2, y, cut);
             if q == Quality::Bad {
                 return bad;
             }
@@ -1595,7 +1594,7 @@ impl<'a, T: Real> TableGas<'a, T> {
             let residual = s - s_target;
             if T::abs(residual) <= residual_tolerance {
                 converged = true;
-                last = Some((tb, q, f, T::ZERO));
+                last = Some((pt, q, f, T::ZERO));
                 break;
             }
             if residual > T::ZERO {
@@ -1615,7 +1614,7 @@ impl<'a, T: Real> TableGas<'a, T> {
             y = next;
             if T::abs(delta) < step_tolerance {
                 converged = true;
-                last = Some((tb, q, f, delta));
+                last = Some((pt, q, f, delta));
                 break;
             }
         }
@@ -1623,8 +1622,7 @@ impl<'a, T: Real> TableGas<'a, T> {
         if y <= edge_margin || y >= self.span_t - edge_margin {
             return bad;
         }
-        // h (and Z) at the root from the converged evaluation (its T-basis:
-        // only the sums are left), carried over the final step δ (below
+        // h (and Z) at the root from the converged evaluation, carried over the final step δ (below
         // 0.25 K) to first order, h + cp·δ and Z + ∂Z/∂T·δ, if the root lies
         // in the same leaf. The remainder ½·(∂cp/∂T)·δ² is within what the
         // step tolerance already allows in h (a temperature error of
@@ -1635,9 +1633,9 @@ impl<'a, T: Real> TableGas<'a, T> {
         // on the natural-gas table, 0.49 on CO2, before and after).
         // Otherwise (the step left the leaf, or no convergence) evaluated
         // at the root.
-        if let (Some((tb, quality, flag, delta)), Some(c)) = (last, cut.as_ref()) {
+        if let (Some((pt, quality, flag, delta)), Some(c)) = (last, cut.as_ref()) {
             if c.holds(x2, y) {
-                if let Some(pt) = self.finish::<FIN>(Self::combine_at::<FIN>(c, &tb)) {
+                if let Some(pt) = Self::checked::<FIN>(pt) {
                     let z = if FIN & W_Z != 0 {
                         pt.z + pt.dz_dt * delta
                     } else {
