@@ -781,7 +781,13 @@ impl<'a, T: Real> Cut<'a, T> {
     /// Whether the state (x, y) lies on this cut.
     #[inline(always)]
     fn holds(&self, x: T, y: T) -> bool {
-        x == self.x && y >= self.leaf.y0 && y <= self.leaf.y0 + self.leaf.dy
+        x == self.x && self.holds_t(y)
+    }
+
+    /// Whether relative temperature `y` lies in this cut's leaf.
+    #[inline(always)]
+    fn holds_t(&self, y: T) -> bool {
+        y >= self.leaf.y0 && y <= self.leaf.y0 + self.leaf.dy
     }
 }
 
@@ -1634,7 +1640,8 @@ impl<'a, T: Real> TableGas<'a, T> {
         // Otherwise (the step left the leaf, or no convergence) evaluated
         // at the root.
         if let (Some((pt, quality, flag, delta)), Some(c)) = (last, cut.as_ref()) {
-            if c.holds(x2, y) {
+            // Every cut here is at x2: only y is left to test.
+            if c.holds_t(y) {
                 if let Some(pt) = Self::checked::<FIN>(pt) {
                     let z = if FIN & W_Z != 0 {
                         pt.z + pt.dz_dt * delta
