@@ -1092,7 +1092,9 @@ impl<'a, T: Real> TableGas<'a, T> {
         let &(start, sx0, sy0) = self.jump.get(k as usize)?;
         let (mut sx, mut sy) = (u32::from(sx0) & 31, u32::from(sy0) & 31);
         let mut index = usize::from(start);
-        for _ in 0..=MAX_DEPTH {
+        // MAX_DEPTH splits and the leaf (a half-open range: an inclusive one
+        // costs a second bound test per step).
+        for _ in 0..MAX_DEPTH + 1 {
             let cell = cells.get(index)?;
             if cell.children == 0 {
                 let (i0, j0) = ((ix >> sx) << sx, (iy >> sy) << sy);
