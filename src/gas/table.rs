@@ -1496,6 +1496,32 @@ impl<'a, T: Real> TableGas<'a, T> {
                 }
             }
         }
+        if LOOKUP {
+            // Out of line: a remembered state returns without the fresh
+            // evaluation's register saves.
+            return self.fresh_end_state_cold::<KEEP>(p, t, known);
+        }
+        self.fresh_end_state::<KEEP>(p, t, ln_p, known, cut)
+    }
+
+    /// [`TableGas::fresh_end_state`] for a state that was looked up and not
+    /// found (`known`: ln p from a remembered state at the same pressure).
+    #[inline(never)]
+    fn fresh_end_state_cold<const KEEP: bool>(&self, p: T, t: T, known: Option<T>) -> Memo<T> {
+        self.fresh_end_state::<KEEP>(p, t, None, known, &mut None)
+    }
+
+    /// The seam's end state at (p, t) evaluated (see
+    /// [`TableGas::end_state`]), remembered with `KEEP`.
+    #[inline(always)]
+    fn fresh_end_state<const KEEP: bool>(
+        &self,
+        p: T,
+        t: T,
+        ln_p: Option<T>,
+        known: Option<T>,
+        cut: &mut Option<Cut<'a, T>>,
+    ) -> Memo<T> {
         let (ln_p, ln_exact) = match (ln_p, known) {
             (Some(l), _) => (l, false),
             (None, Some(l)) => (l, true),
