@@ -781,7 +781,13 @@ impl<'a, T: Real> Cut<'a, T> {
     /// Whether the state (x, y) lies on this cut.
     #[inline(always)]
     fn holds(&self, x: T, y: T) -> bool {
-        x == self.x && y >= self.leaf.y0 && y <= self.leaf.y0 + self.leaf.dy
+        x == self.x && self.holds_t(y)
+    }
+
+    /// Whether relative temperature `y` lies in this cut's leaf.
+    #[inline(always)]
+    fn holds_t(&self, y: T) -> bool {
+        y >= self.leaf.y0 && y <= self.leaf.y0 + self.leaf.dy
     }
 }
 
@@ -884,7 +890,11 @@ pub struct TableGas<'a, T> {
     span_x: T,
     t_min: T,
     span_t: T,
-    lattice_bits: u32,
+    /// The largest lattice coordinate, 2^lattice_bits − 1, and the shift
+    /// from a lattice coordinate to its part of the start-of-descent grid,
+    /// lattice_bits − JUMP_BITS (or 0), for `locate`.
+    top: u16,
+    part: u16,
     /// One lattice unit in ln p and its inverse.
     unit_x: T,
     inv_unit_x: T,
@@ -950,7 +960,9 @@ impl<'a, T: Real> TableGas<'a, T> {
             span_x: T::of(span_x),
             t_min: T::of(h.t_min),
             span_t: T::of(span_t),
-            lattice_bits: u32::from(h.lattice_bits),
+            // Validated: 1 ≤ lattice_bits ≤ 16.
+            top: u16::try_from((1u32 << h.lattice_bits) - 1).unwrap_or(u16::MAX),
+            part: u16::from(h.lattice_bits.saturating_sub(JUMP_BITS as u8)),
             unit_x: T::of(span_x / n),
             inv_unit_x: T::of(n / span_x),
             unit_t: T::of(span_t / n),
@@ -985,7 +997,7 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// the child holding the part's first lattice point is still at least as
     /// large as the part in both variables.
     fn build_jump(&mut self) {
-        let bits = self.lattice_bits;
+        let bits = u32::from(self.data.header.lattice_bits);
         let part = bits.saturating_sub(JUMP_BITS);
         let per_axis = 1u32 << JUMP_BITS;
         let cells: &'a [Cell] = self.data.cells;
@@ -1069,19 +1081,20 @@ impl<'a, T: Real> TableGas<'a, T> {
     fn locate(&self, x: T, y: T) -> Option<Leaf<'a, T>> {
         // Integer lattice coordinates of the point; each split cell names
         // the bit of them that picks its child.
-        let bits = self.lattice_bits;
-        let top = (1u32 << bits) - 1;
+        let top = u32::from(self.top);
         let ix = u32::min(T::trunc_u32(x * self.inv_unit_x), top);
         let iy = u32::min(T::trunc_u32(y * self.inv_unit_t), top);
         let cells: &'a [Cell] = self.data.cells;
         // Start from the deepest cell known to hold the point's part of the
         // envelope; track the cell's size as powers of two of lattice units.
-        let part = bits.saturating_sub(JUMP_BITS);
+        let part = u32::from(self.part) & 31;
         let k = ((iy >> part) << JUMP_BITS) + (ix >> part);
         let &(start, sx0, sy0) = self.jump.get(k as usize)?;
         let (mut sx, mut sy) = (u32::from(sx0) & 31, u32::from(sy0) & 31);
         let mut index = usize::from(start);
-        for _ in 0..=MAX_DEPTH {
+        // MAX_DEPTH splits and the leaf (a half-open range: an inclusive one
+        // costs a second bound test per step).
+        for _ in 0..MAX_DEPTH + 1 {
             let cell = cells.get(index)?;
             if cell.children == 0 {
                 let (i0, j0) = ((ix >> sx) << sx, (iy >> sy) << sy);
@@ -1353,28 +1366,19 @@ impl<'a, T: Real> TableGas<'a, T> {
         y: T,
         cut: &mut Option<Cut<'a, T>>,
     ) -> (Patch<T>, Quality, TableFlag) {
-        let (pt, quality, flag, _) = self.eval_xy_basis::<CUT, OUT>(x, y, cut);
-        (pt, quality, flag)
+        self.eval_xy_checking::<CUT, OUT, OUT>(x, y, cut)
     }
 
-    /// [`TableGas::eval_xy`] that also returns the T-basis it used (on the
-    /// cut it leaves in `cut`), so more outputs at the same state cost only
-    /// their sums ([`TableGas::combine_at`]).
+    /// [`TableGas::eval_xy`] that checks (finite, physical) only the
+    /// outputs `CHECK` of those it computes (`OUT`).
     #[inline(always)]
-    fn eval_xy_basis<const CUT: u8, const OUT: u8>(
+    fn eval_xy_checking<const CUT: u8, const OUT: u8, const CHECK: u8>(
         &self,
         x: T,
         y: T,
         cut: &mut Option<Cut<'a, T>>,
-    ) -> (Patch<T>, Quality, TableFlag, TBasis<T>) {
-        let zero = T::ZERO;
-        let no_basis = TBasis {
-            b: [zero; 2],
-            bd: [zero; 2],
-            db: [zero; 2],
-            dbd: [zero; 2],
-        };
-        let bad = (Patch::ZERO, Quality::Bad, TableFlag::NotFinite, no_basis);
+    ) -> (Patch<T>, Quality, TableFlag) {
+        let bad = (Patch::ZERO, Quality::Bad, TableFlag::NotFinite);
         if !matches!(cut, Some(c) if c.holds(x, y)) {
             *cut = None;
             let Some(leaf) = self.locate(x, y) else {
@@ -1382,7 +1386,7 @@ impl<'a, T: Real> TableGas<'a, T> {
             };
             let (quality, flag) = Self::flag_quality(leaf.cell);
             if quality == Quality::Bad {
-                return (Patch::ZERO, quality, flag, no_basis);
+                return (Patch::ZERO, quality, flag);
             }
             let Some(n) = self.corners(&leaf) else {
                 return bad;
@@ -1392,17 +1396,16 @@ impl<'a, T: Real> TableGas<'a, T> {
         let Some(c) = cut.as_ref() else {
             return bad;
         };
-        let tb = Self::t_basis(&c.leaf, y);
         let pt = if OUT & W_W != 0 {
             let Some(n) = self.corners(&c.leaf) else {
                 return bad;
             };
             Self::patch::<OUT>(c, n, y)
         } else {
-            Self::combine_at::<OUT>(c, &tb)
+            Self::combine::<OUT>(c, y)
         };
-        match self.finish::<OUT>(pt) {
-            Some(pt) => (pt, c.quality, c.flag, tb),
+        match self.finish::<CHECK>(pt) {
+            Some(pt) => (pt, c.quality, c.flag),
             None => bad,
         }
     }
@@ -1413,6 +1416,13 @@ impl<'a, T: Real> TableGas<'a, T> {
     fn finish<const OUT: u8>(&self, mut pt: Patch<T>) -> Option<Patch<T>> {
         pt.h += self.h_offset;
         pt.s += self.s_offset;
+        Self::checked::<OUT>(pt)
+    }
+
+    /// A patch (offsets added) if its outputs `OUT` are finite and physical
+    /// (Z and cp positive).
+    #[inline(always)]
+    fn checked<const OUT: u8>(pt: Patch<T>) -> Option<Patch<T>> {
         // One test for every output asked for: a NaN or infinity in any of
         // them makes their sum non-finite (outputs not asked for are not
         // computed at all).
@@ -1486,6 +1496,32 @@ impl<'a, T: Real> TableGas<'a, T> {
                 }
             }
         }
+        if LOOKUP {
+            // Out of line: a remembered state returns without the fresh
+            // evaluation's register saves.
+            return self.fresh_end_state_cold::<KEEP>(p, t, known);
+        }
+        self.fresh_end_state::<KEEP>(p, t, ln_p, known, cut)
+    }
+
+    /// [`TableGas::fresh_end_state`] for a state that was looked up and not
+    /// found (`known`: ln p from a remembered state at the same pressure).
+    #[inline(never)]
+    fn fresh_end_state_cold<const KEEP: bool>(&self, p: T, t: T, known: Option<T>) -> Memo<T> {
+        self.fresh_end_state::<KEEP>(p, t, None, known, &mut None)
+    }
+
+    /// The seam's end state at (p, t) evaluated (see
+    /// [`TableGas::end_state`]), remembered with `KEEP`.
+    #[inline(always)]
+    fn fresh_end_state<const KEEP: bool>(
+        &self,
+        p: T,
+        t: T,
+        ln_p: Option<T>,
+        known: Option<T>,
+        cut: &mut Option<Cut<'a, T>>,
+    ) -> Memo<T> {
         let (ln_p, ln_exact) = match (ln_p, known) {
             (Some(l), _) => (l, false),
             (None, Some(l)) => (l, true),
@@ -1540,7 +1576,8 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// the leaf's cut at ln p2 (`cut`, reused from the discharge state's
     /// evaluation when it holds the start): each step evaluates one cubic in
     /// T (s and ∂s/∂T); a step into another leaf cuts that leaf (`CUT`,
-    /// which must include [`W_DS`] and `FIN`).
+    /// which must include [`W_DS`] and `FIN`). A cut passed in must lie at
+    /// ln p2.
     #[inline(always)]
     fn isentropic_ln<const CUT: u8, const FIN: u8>(
         &self,
@@ -1559,9 +1596,14 @@ impl<'a, T: Real> TableGas<'a, T> {
         if !(T::is_finite(s_target) && T::is_finite(t_start)) {
             return bad;
         }
-        let x2 = match self.coordinates(ln_p2, self.t_min) {
-            Ok((x, _)) => x,
-            Err(flag) => return Isentropic { flag, ..bad },
+        // A cut passed in lies at ln p2 (the discharge state's): its x is
+        // the relative ln p2, inside the envelope.
+        let x2 = match cut.as_ref() {
+            Some(c) => c.x,
+            None => match self.coordinates(ln_p2, self.t_min) {
+                Ok((x, _)) => x,
+                Err(flag) => return Isentropic { flag, ..bad },
+            },
         };
         let (mut lo, mut hi) = (T::ZERO, self.span_t);
         let mut y = T::clamp(t_start - self.t_min, lo, hi);
@@ -1572,11 +1614,13 @@ impl<'a, T: Real> TableGas<'a, T> {
         let edge_margin = T::of(2e-4);
         let residual_tolerance = self.s_tolerance;
         let mut converged = false;
-        // The converged evaluation's T-basis, quality and flag, and the step
-        // taken from it.
+        // The converged evaluation, its quality and flag, and the step taken
+        // from it. Each step's patch has every output the cut has (`CUT`:
+        // s and ∂s/∂T for the step, `FIN` for the end; only the former
+        // checked here), so the end needs no second pass over the edges.
         let mut last = None;
         for _ in 0..ISENTROPIC_MAX_ITERATIONS {
-            let (pt, q, f, tb) = self.eval_xy_basis::<CUT, W_DS>(x2, y, cut);
+            let (pt, q, f) = self.eval_xy_checking::<CUT, CUT, W_DS>(x2, y, cut);
             if q == Quality::Bad {
                 return bad;
             }
@@ -1584,7 +1628,7 @@ impl<'a, T: Real> TableGas<'a, T> {
             let residual = s - s_target;
             if T::abs(residual) <= residual_tolerance {
                 converged = true;
-                last = Some((tb, q, f, T::ZERO));
+                last = Some((pt, q, f, T::ZERO));
                 break;
             }
             if residual > T::ZERO {
@@ -1604,7 +1648,7 @@ impl<'a, T: Real> TableGas<'a, T> {
             y = next;
             if T::abs(delta) < step_tolerance {
                 converged = true;
-                last = Some((tb, q, f, delta));
+                last = Some((pt, q, f, delta));
                 break;
             }
         }
@@ -1612,8 +1656,7 @@ impl<'a, T: Real> TableGas<'a, T> {
         if y <= edge_margin || y >= self.span_t - edge_margin {
             return bad;
         }
-        // h (and Z) at the root from the converged evaluation (its T-basis:
-        // only the sums are left), carried over the final step δ (below
+        // h (and Z) at the root from the converged evaluation, carried over the final step δ (below
         // 0.25 K) to first order, h + cp·δ and Z + ∂Z/∂T·δ, if the root lies
         // in the same leaf. The remainder ½·(∂cp/∂T)·δ² is within what the
         // step tolerance already allows in h (a temperature error of
@@ -1624,9 +1667,10 @@ impl<'a, T: Real> TableGas<'a, T> {
         // on the natural-gas table, 0.49 on CO2, before and after).
         // Otherwise (the step left the leaf, or no convergence) evaluated
         // at the root.
-        if let (Some((tb, quality, flag, delta)), Some(c)) = (last, cut.as_ref()) {
-            if c.holds(x2, y) {
-                if let Some(pt) = self.finish::<FIN>(Self::combine_at::<FIN>(c, &tb)) {
+        if let (Some((pt, quality, flag, delta)), Some(c)) = (last, cut.as_ref()) {
+            // Every cut here is at x2: only y is left to test.
+            if c.holds_t(y) {
+                if let Some(pt) = Self::checked::<FIN>(pt) {
                     let z = if FIN & W_Z != 0 {
                         pt.z + pt.dz_dt * delta
                     } else {
