@@ -149,7 +149,8 @@ use crate::fields::{Derivation, FieldSpec, FieldValue, QuantityKind, ResultField
 use crate::gas::GasModel;
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
-use crate::scan::{compressibility, mass_flow_kg_s, pressure_pa, temperature_k, Scan};
+use crate::scan::{compressibility, mass_flow_kg_s, pressure_pa, temperature_k, Scan, StageScan};
+use crate::stage::CompressorResult;
 use crate::staging::Sum;
 use crate::train::{Snapshot, TrainConfig};
 
@@ -581,6 +582,12 @@ struct Work<T> {
 }
 
 impl<T: Real> Work<T> {
+    fn of(m: Measured<T>) -> Self {
+        Work {
+            value: m.value,
+            quality: m.quality,
+        }
+    }
     fn zero() -> Self {
         Work {
             value: T::ZERO,
@@ -607,10 +614,11 @@ fn isentropic<T: Real, G: GasModel<T>>(
     (cs.isentropic_enthalpy_rise, cs.isentropic_validity.quality)
 }
 
-/// Line `m · (to − from)` with the worst quality of both and the flow.
+/// Line `m · (to − from)` with the worst quality of both and the flow,
+/// not yet checked: [`close_ledger`] makes it a [`Measured::derived`].
 #[inline]
 fn line<T: Real>(m: Measured<T>, from: Work<T>, to: Work<T>) -> Measured<T> {
-    Measured::derived(
+    Measured::new(
         m.value * (to.value - from.value),
         m.quality.worst(from.quality).worst(to.quality),
     )
@@ -712,8 +720,13 @@ pub fn evaluate_ledger_into<T: Real, G: GasModel<T>, const N: usize>(
         out.coolant_temperature = bad;
     }
 
-    // The remainder closes the ledger on the measured total (the lines
-    // added in the order of attribution).
+    close_ledger(out);
+}
+
+/// Sum of the lines in the order of attribution with the worst of their
+/// qualities and the measured total's.
+#[inline]
+fn sum_lines<T: Real, const N: usize>(out: &Ledger<T, N>) -> (T, Quality) {
     let mut q = out.measured_total.quality;
     let mut attributed = T::ZERO;
     for m in [
@@ -736,6 +749,74 @@ pub fn evaluate_ledger_into<T: Real, G: GasModel<T>, const N: usize>(
         attributed += m.value;
         q = q.worst(m.quality);
     }
+    (attributed, q)
+}
+
+/// Makes every line the chain wrote a [`Measured::derived`] and closes the
+/// ledger on the measured total with the remainder (the lines added in the
+/// order of attribution).
+///
+/// The chain's lines arrive unchecked. A finite sum of finite and
+/// non-finite addends does not exist (an infinity stays infinite or becomes
+/// NaN, a NaN stays NaN), so when the sum is finite and every quality
+/// usable, every line already is what `Measured::derived` would return, and
+/// the sum is the one of the checked lines: one test instead of one per
+/// line. Otherwise every line is checked and the sum taken again.
+#[inline]
+fn close_ledger<T: Real, const N: usize>(out: &mut Ledger<T, N>) {
+    // The usable qualities are Good (0) and Uncertain (1): where every
+    // quality is one of them, their bitwise or is their worst (one `or`
+    // per line instead of a comparison).
+    const _: () = assert!(Quality::Good as u8 == 0 && Quality::Uncertain as u8 == 1);
+    let mut or = out.measured_total.quality as u8;
+    let mut attributed = T::ZERO;
+    for m in [
+        out.isothermal_power,
+        out.stage_count,
+        out.pressure_drops,
+        out.pressure_split,
+        out.coolant_temperature,
+        out.recycle,
+        out.pumps,
+    ] {
+        attributed += m.value;
+        or |= m.quality as u8;
+    }
+    for m in out.intercooling.iter() {
+        attributed += m.value;
+        or |= m.quality as u8;
+    }
+    for m in out.stage_inefficiency.iter() {
+        attributed += m.value;
+        or |= m.quality as u8;
+    }
+    let q = if or <= Quality::Uncertain as u8 && T::is_finite(attributed) {
+        if or == 0 {
+            Quality::Good
+        } else {
+            Quality::Uncertain
+        }
+    } else {
+        for m in [
+            &mut out.isothermal_power,
+            &mut out.stage_count,
+            &mut out.pressure_drops,
+            &mut out.pressure_split,
+            &mut out.coolant_temperature,
+        ] {
+            *m = Measured::derived(m.value, m.quality);
+        }
+        for m in out
+            .intercooling
+            .iter_mut()
+            .chain(out.stage_inefficiency.iter_mut())
+        {
+            *m = Measured::derived(m.value, m.quality);
+        }
+        let q;
+        (attributed, q) = sum_lines(out);
+        q
+    };
     out.remainder = Measured::derived(out.measured_total.value - attributed, q);
 }
 
@@ -766,7 +847,8 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
     );
     let q_base = p_s.quality.worst(t_s.quality).worst(p_d.quality);
     let overall = p_d.value / p_s.value;
-    if q_base == Quality::Bad || !(overall > T::ONE) || !T::is_finite(overall) {
+    // In (1, ∞): above one and finite (NaN fails both comparisons).
+    if q_base == Quality::Bad || !(overall > T::ONE && overall < T::of(f64::INFINITY)) {
         return false;
     }
 
@@ -777,72 +859,50 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
         value: totals.isothermal_work.value,
         quality: totals.isothermal_work.quality,
     };
-    out.isothermal_power =
-        Measured::derived(m_fwd.value * iso.value, m_fwd.quality.worst(iso.quality));
+    out.isothermal_power = Measured::new(m_fwd.value * iso.value, m_fwd.quality.worst(iso.quality));
 
     // Steps 3 to 6, stage by stage; the measured ratios on the way.
-    let mut n = T::ZERO;
-    let mut ratio_product = T::ONE;
-    let mut q_pressures = Quality::Good;
-    let mut uniform = gas.ratio_only();
-    let mut ref_c = Work::zero();
-    let mut ref_d = Work::zero();
-    let coolant_approach = match ledger.cooling_reference {
-        CoolingReference::CoolantInletPlusApproach { design_approach } => Some(design_approach),
-        CoolingReference::FirstSuction => None,
+    // The stage loop runs exactly `nc` times (`nc` <= N: the last
+    // compressor stage's scan exists).
+    let n = T::from_u32(u32::try_from(nc).unwrap_or(0));
+    let scan_stages = scan.stages.get(..nc).unwrap_or_default();
+    // Without any supplied Z (the usual scan) the loop leaves Z out.
+    // With the coolant reference, the intercooling lines are priced by
+    // [`coolant_reference`] alone.
+    let first_suction = matches!(ledger.cooling_reference, CoolingReference::FirstSuction);
+    let priced = if scan_stages.iter().any(|s| s.compressibility.is_some()) {
+        price_stages::<T, G, N, true>(gas, scan_stages, snapshot, t_s, m_fwd, first_suction, out)
+    } else {
+        price_stages::<T, G, N, false>(gas, scan_stages, snapshot, t_s, m_fwd, first_suction, out)
     };
-    for (i, (ic, ie)) in out
-        .intercooling
-        .iter_mut()
-        .zip(out.stage_inefficiency.iter_mut())
-        .enumerate()
-        .take(nc)
-    {
-        let e = stage_read(scan, snapshot, i);
-        n += T::ONE;
-        ratio_product = ratio_product * e.ratio.value;
-        q_pressures = q_pressures.worst(e.ratio.quality);
-        uniform &= e.z.is_none();
-        let (head, actual) = (e.head, e.actual);
-        let c_stage = reference_head(gas, &e, t_s, head);
-        ref_c.add(c_stage.value, c_stage.quality);
-        // The cooling reference of this stage's suction.
-        let coolant = match coolant_approach {
-            Some(design_approach) if i > 0 => scan
-                .stages
-                .get(i - 1)
-                .and_then(|s| s.cooler)
-                .map(|c| {
-                    let t = temperature_k(c.coolant_inlet_temperature);
-                    Measured::derived(t.value + design_approach, t.quality)
-                })
-                .or_else(|| {
-                    // A configured cooler without its readings: unknown.
-                    config_has_cooler(snapshot, i - 1).then(Measured::bad)
-                }),
-            _ => None,
-        };
-        let d_stage = match coolant {
-            Some(t_ref) => reference_head(gas, &e, t_ref, head),
-            None => c_stage,
-        };
-        ref_d.add(d_stage.value, d_stage.quality);
-        let head = Work {
-            value: head.value,
-            quality: head.quality,
-        };
-        let actual = Work {
-            value: actual.value,
-            quality: actual.quality,
-        };
-        if i > 0 {
-            *ic = line(m_fwd, d_stage, head);
-        }
-        *ie = line(m_fwd, head, actual);
-    }
+    let Priced {
+        ratio_product,
+        q_pressures,
+        uniform,
+        mut ref_c,
+        c_first,
+    } = priced;
     let q_chain = q_base.worst(q_pressures);
+    // Step 4 (the coolant reference, pricing the intercooling lines).
+    let ref_d = match ledger.cooling_reference {
+        CoolingReference::FirstSuction => None,
+        CoolingReference::CoolantInletPlusApproach { design_approach } => {
+            let mut d = coolant_reference(
+                gas,
+                scan,
+                snapshot,
+                nc,
+                t_s,
+                design_approach,
+                m_fwd,
+                c_first,
+                out,
+            );
+            d.quality = d.quality.worst(q_chain);
+            Some(d)
+        }
+    };
     ref_c.quality = ref_c.quality.worst(q_chain);
-    ref_d.quality = ref_d.quality.worst(q_chain);
 
     // Step 1: equal ratios, no drops. Step 2: equal ratios, measured drops.
     let ln_b = T::ln(ratio_product) / n;
@@ -873,11 +933,126 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
     out.stage_count = line(m_fwd, iso, ref_a);
     out.pressure_drops = line(m_fwd, ref_a, ref_b);
     out.pressure_split = line(m_fwd, ref_b, ref_c);
-    out.coolant_temperature = match coolant_approach {
+    out.coolant_temperature = match ref_d {
         None => Measured::good(T::ZERO),
-        Some(_) => line(m_fwd, ref_c, ref_d),
+        Some(ref_d) => line(m_fwd, ref_c, ref_d),
     };
     true
+}
+
+/// What [`price_stages`] gathers for the whole-train references.
+struct Priced<T> {
+    /// Product of the measured stage pressure ratios.
+    ratio_product: T,
+    /// Worst quality of the measured stage pressure ratios.
+    q_pressures: Quality,
+    /// The model is [`GasModel::ratio_only`] and no stage has a usable
+    /// supplied Z: one stage stands for all.
+    uniform: bool,
+    /// Step 3: the stages' isentropic heads from the first suction
+    /// temperature (without the chain's pressure quality).
+    ref_c: Work<T>,
+    /// The first stage's share of `ref_c`.
+    c_first: Work<T>,
+}
+
+/// Steps 3, 5 and 6 stage by stage, over `stages` (the compressor stages'
+/// scans): the step-3 reference, the intercooling lines against it if
+/// `intercooling` (the first-suction reference; the coolant reference
+/// prices them, [`coolant_reference`]) and the stage-inefficiency lines.
+/// `SUPPLIED_Z`: whether any stage's scan carries a Z (without, the reads
+/// of it are left out; the same result).
+#[inline(always)]
+fn price_stages<T: Real, G: GasModel<T>, const N: usize, const SUPPLIED_Z: bool>(
+    gas: &G,
+    stages: &[StageScan<T>],
+    snapshot: &Snapshot<T, N>,
+    t_s: Measured<T>,
+    m_fwd: Measured<T>,
+    intercooling: bool,
+    out: &mut Ledger<T, N>,
+) -> Priced<T> {
+    let mut p = Priced {
+        ratio_product: T::ONE,
+        q_pressures: Quality::Good,
+        uniform: gas.ratio_only(),
+        ref_c: Work::zero(),
+        c_first: Work::zero(),
+    };
+    // By iterator over the scan, the snapshot and the two per-stage lines
+    // (no index checks).
+    let stages = stages
+        .iter()
+        .zip(snapshot.stages.iter())
+        .zip(
+            out.intercooling
+                .iter_mut()
+                .zip(out.stage_inefficiency.iter_mut()),
+        )
+        .enumerate();
+    for (i, ((s, st), (ic, ie))) in stages {
+        let mut e = stage_read_of(Some(s), st.compressor(), SUPPLIED_Z);
+        if !SUPPLIED_Z {
+            // (Already so; stated for the optimiser, which otherwise kept
+            // a per-stage test of the supplied Z: 21 instructions more.)
+            e.z = None;
+            e.q_z = Quality::Good;
+        }
+        p.ratio_product = p.ratio_product * e.ratio.value;
+        p.q_pressures = p.q_pressures.worst(e.ratio.quality);
+        p.uniform &= e.z.is_none();
+        let c_stage = reference_head(gas, &e, t_s, e.head);
+        p.ref_c.add(c_stage.value, c_stage.quality);
+        let head = Work::of(e.head);
+        if i == 0 {
+            p.c_first = c_stage;
+        } else if intercooling {
+            *ic = line(m_fwd, c_stage, head);
+        }
+        *ie = line(m_fwd, head, Work::of(e.actual));
+    }
+    p
+}
+
+/// Step 4: the reference with each later stage's suction at its cooler's
+/// coolant inlet plus `design_approach` (the first stage's, `c_first`, and
+/// a stage's without a cooler stay at the first suction temperature), and
+/// the intercooling lines priced against it; returns the reference's work
+/// (without the chain's pressure quality).
+#[inline(never)]
+#[allow(clippy::too_many_arguments)]
+fn coolant_reference<T: Real, G: GasModel<T>, const N: usize>(
+    gas: &G,
+    scan: &Scan<T, N>,
+    snapshot: &Snapshot<T, N>,
+    nc: usize,
+    t_s: Measured<T>,
+    design_approach: T,
+    m_fwd: Measured<T>,
+    c_first: Work<T>,
+    out: &mut Ledger<T, N>,
+) -> Work<T> {
+    let mut ref_d = Work::zero();
+    ref_d.add(c_first.value, c_first.quality);
+    for (i, ic) in out.intercooling.iter_mut().enumerate().take(nc).skip(1) {
+        let e = stage_read(scan, snapshot, i);
+        let t_ref = match scan.stages.get(i - 1) {
+            Some(StageScan {
+                cooler: Some(c), ..
+            }) => {
+                let t = temperature_k(c.coolant_inlet_temperature);
+                Some(Measured::derived(t.value + design_approach, t.quality))
+            }
+            // A configured cooler without its readings: unknown.
+            _ => config_has_cooler(snapshot, i - 1).then(Measured::bad),
+        };
+        // Without a cooler before it, the stage's suction keeps the first
+        // suction temperature as its reference.
+        let d_stage = reference_head(gas, &e, t_ref.unwrap_or(t_s), e.head);
+        ref_d.add(d_stage.value, d_stage.quality);
+        *ic = line(m_fwd, d_stage, Work::of(e.head));
+    }
+    ref_d
 }
 
 /// Steps 1 and 2 stage by stage, where one stage cannot stand for all
@@ -942,13 +1117,28 @@ fn stage_read<T: Real, const N: usize>(
     snapshot: &Snapshot<T, N>,
     i: usize,
 ) -> StageRead<T> {
-    let c = snapshot.stages.get(i).and_then(|s| s.compressor());
+    stage_read_of(
+        scan.stages.get(i),
+        snapshot.stages.get(i).and_then(|s| s.compressor()),
+        true,
+    )
+}
+
+/// [`stage_read`] of a stage's scan and compressor results; its supplied Z
+/// is read only if `read_z` (a caller that knows there is none passes
+/// `false`).
+#[inline]
+fn stage_read_of<T: Real>(
+    s: Option<&StageScan<T>>,
+    c: Option<&CompressorResult<T>>,
+    read_z: bool,
+) -> StageRead<T> {
     let b = Measured::bad();
-    match (scan.stages.get(i), c) {
+    match (s, c) {
         (Some(s), Some(c)) => {
-            let (z, q_z) = match compressibility(s.compressibility) {
-                Some((z, q)) => (Some(z), q),
-                None => (None, Quality::Good),
+            let (z, q_z) = match s.compressibility {
+                supplied @ Some(_) if read_z => supplied_z(supplied),
+                _ => (None, Quality::Good),
             };
             StageRead {
                 p1: s.suction_pressure.value.pa(),
@@ -971,6 +1161,17 @@ fn stage_read<T: Real, const N: usize>(
             head: b,
             actual: b,
         },
+    }
+}
+
+/// A stage's supplied Z through the sensor boundary, with its quality
+/// (`None`, good, where it is not usable). Out of line: most scans supply
+/// none, and inlined its range checks ran for every stage.
+#[inline(never)]
+fn supplied_z<T: Real>(m: Option<Measured<T>>) -> (Option<T>, Quality) {
+    match compressibility(m) {
+        Some((z, q)) => (Some(z), q),
+        None => (None, Quality::Good),
     }
 }
 

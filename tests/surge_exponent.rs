@@ -32,18 +32,21 @@
 
 use polytrope::surge::exponent::{measured_sigma, SIGMA_MAX, SIGMA_MIN};
 use polytrope::surge::{
-    ExponentConfig, ExponentFault, ExponentSource, MapConditions, MonitorConfig, SurgeFault,
-    SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
+    demo_map, ExponentConfig, ExponentFault, ExponentSource, MapConditions, MonitorConfig,
+    SurgeFault, SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
 };
 use polytrope::units::{Kelvin, PressureAbs};
 use polytrope::{Measured, Quality, Real};
 
 const CSV: &str = include_str!("reference/coolprop_polytropic.csv");
 const RU: f64 = 8314.46261815324; // J/(kmol K), CODATA 2018 (exact)
-const C_ELEM: f64 = 0.04; // m2
+                                  // The invented surge map of the tests (`polytrope::surge::demo_map`): its
+                                  // flow element and map suction state; its own line and, for the CoolProp
+                                  // paths, CoolProp's air molar mass.
+const C_ELEM: f64 = demo_map::FLOW_COEFFICIENT; // m2
 const LINE_SLOPE: f64 = 0.02; // X_s = 0.02 Y (invented)
-const MAP_P: f64 = 1.0e5;
-const MAP_T: f64 = 293.15;
+const MAP_P: f64 = demo_map::MAP_SUCTION_PRESSURE_PA;
+const MAP_T: f64 = demo_map::MAP_SUCTION_TEMPERATURE_K;
 const MAP_M: f64 = 28.9586; // CoolProp's pseudo-pure air
 
 #[derive(Clone, Debug)]
@@ -123,9 +126,8 @@ fn monitor<T: Real>() -> SurgeMonitor<T, 6> {
     SurgeMonitor::new(
         line,
         MonitorConfig {
-            scan_period: T::of(0.02),
-            time_to_surge_horizon: T::of(60.0),
             rate_filter_time: T::of(0.1),
+            ..demo_map::monitor_config()
         },
     )
     .unwrap()

@@ -11,7 +11,8 @@
 //! transform's algebra (suction pressure, temperature, molar mass, Z), not of
 //! the physics of a gas with another exponent. That check, against CoolProp
 //! real-gas paths, is tests/surge_exponent.rs.
-//! The map is invented demo data.
+//! The map is invented demo data (an invented scenario,
+//! `polytrope::surge::demo_map`).
 
 #![allow(
     clippy::unwrap_used,
@@ -21,59 +22,30 @@
 )]
 
 use polytrope::surge::{
-    MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
+    demo_map, MapConditions, SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
 };
 use polytrope::units::{Kelvin, PressureAbs};
 use polytrope::{ConfigError, Measured, Problem, Quality, Real};
 use proptest::prelude::*;
 
 const RU: f64 = 8314.46261815324; // J/(kmol K), CODATA 2018 (exact)
-const N_EXP: f64 = 1.45;
-const C_ELEM: f64 = 0.04; // m2
-const MAP_P: f64 = 1.0e5;
-const MAP_T: f64 = 293.15;
-const MAP_M: f64 = 28.96;
-const MAP_Z: f64 = 1.0;
+                                  // The invented surge map of the tests (one copy: `polytrope::surge::demo_map`).
+const N_EXP: f64 = demo_map::POLYTROPIC_EXPONENT;
+const C_ELEM: f64 = demo_map::FLOW_COEFFICIENT; // m2
+const MAP_P: f64 = demo_map::MAP_SUCTION_PRESSURE_PA;
+const MAP_T: f64 = demo_map::MAP_SUCTION_TEMPERATURE_K;
+const MAP_M: f64 = demo_map::MAP_MOLAR_MASS;
+const MAP_Z: f64 = demo_map::MAP_COMPRESSIBILITY;
 
-/// Invented 4-speed surge line (demo data).
+/// The invented 4-speed surge line (demo data).
 fn points<T: Real>() -> [SurgePoint<T>; 4] {
-    let p = |rpm: f64, q: f64, r: f64, m: f64| SurgePoint {
-        speed_rpm: T::of(rpm),
-        suction_volume_flow: T::of(q),
-        pressure_ratio: T::of(r),
-        control_margin: T::of(m),
-    };
-    [
-        p(7000.0, 1.40, 1.55, 0.14),
-        p(8000.0, 1.60, 1.75, 0.12),
-        p(9000.0, 1.82, 2.00, 0.10),
-        p(10000.0, 2.05, 2.30, 0.10),
-    ]
+    demo_map::points()
 }
 
 fn monitor<T: Real>() -> SurgeMonitor<T, 6> {
     let pts = points::<T>();
-    let line = SurgeLine::new(&SurgeLineConfig {
-        points: &pts,
-        map: MapConditions {
-            suction_pressure: PressureAbs::from_pa(T::of(MAP_P)),
-            suction_temperature: Kelvin::new(T::of(MAP_T)),
-            molar_mass: T::of(MAP_M),
-            compressibility: T::of(MAP_Z),
-        },
-        polytropic_exponent: T::of(N_EXP),
-        flow_coefficient: T::of(C_ELEM),
-    })
-    .unwrap();
-    SurgeMonitor::new(
-        line,
-        MonitorConfig {
-            scan_period: T::of(0.02),
-            time_to_surge_horizon: T::of(60.0),
-            rate_filter_time: T::of(0.05),
-        },
-    )
-    .unwrap()
+    let line = SurgeLine::new(&demo_map::line_config(&pts)).unwrap();
+    SurgeMonitor::new(line, demo_map::monitor_config()).unwrap()
 }
 
 #[derive(Clone, Copy, Debug)]

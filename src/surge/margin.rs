@@ -663,7 +663,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
 mod tests {
     #![allow(clippy::unwrap_used, clippy::indexing_slicing)]
     use super::*;
-    use crate::surge::{MapConditions, SurgeLineConfig, SurgePoint};
+    use crate::surge::demo_map;
 
     /// The plausibility checks exactly as the module docs list them, one
     /// after the other: `None` for a plausible scan.
@@ -687,35 +687,11 @@ mod tests {
         None
     }
 
+    /// The monitor on the invented surge map of the tests.
     fn monitor<T: Real>() -> SurgeMonitor<T, 4> {
-        // Invented demo points.
-        let p = |n: f64, q: f64, r: f64| SurgePoint {
-            speed_rpm: T::of(n),
-            suction_volume_flow: T::of(q),
-            pressure_ratio: T::of(r),
-            control_margin: T::of(0.1),
-        };
-        let line = SurgeLine::new(&SurgeLineConfig {
-            points: &[p(8000.0, 1.6, 1.75), p(10000.0, 2.05, 2.3)],
-            map: MapConditions {
-                suction_pressure: PressureAbs::from_pa(T::of(1.0e5)),
-                suction_temperature: Kelvin::new(T::of(293.15)),
-                molar_mass: T::of(28.96),
-                compressibility: T::ONE,
-            },
-            polytropic_exponent: T::of(1.45),
-            flow_coefficient: T::of(0.04),
-        })
-        .unwrap();
-        SurgeMonitor::new(
-            line,
-            MonitorConfig {
-                scan_period: T::of(0.02),
-                time_to_surge_horizon: T::of(60.0),
-                rate_filter_time: T::of(0.05),
-            },
-        )
-        .unwrap()
+        let points = demo_map::points::<T>();
+        let line = SurgeLine::new(&demo_map::line_config(&points)).unwrap();
+        SurgeMonitor::new(line, demo_map::monitor_config()).unwrap()
     }
 
     /// Consistency check: the one-pass plausibility test accepts exactly the

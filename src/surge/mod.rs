@@ -64,6 +64,8 @@
 //! ```
 
 pub mod coordinates;
+#[cfg(any(test, feature = "demo"))]
+pub mod demo_map;
 pub mod detection;
 pub mod exponent;
 pub mod margin;

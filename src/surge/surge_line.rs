@@ -423,35 +423,22 @@ mod tests {
         }
     }
 
+    /// The first `count` points of the invented surge map of the tests,
+    /// with the fourth point's control margin set to 0.11 (unlike the
+    /// third's), so that with all four the margin held above the last point
+    /// differs from the last segment's extension; with `uniform`, every
+    /// point's control margin 0.1 instead.
     fn line<T: Real, const N: usize>(count: usize, uniform: bool) -> SurgeLine<T, N> {
-        // Invented demo points (rising speed, flow and ratio).
-        let all = [
-            (7000.0, 1.40, 1.55, 0.14),
-            (8000.0, 1.60, 1.75, 0.12),
-            (9000.0, 1.82, 2.00, 0.10),
-            (10000.0, 2.05, 2.30, 0.11),
-        ];
-        let points: heapless::Vec<SurgePoint<T>, 4> = all[..count]
-            .iter()
-            .map(|&(n, q, r, m)| SurgePoint {
-                speed_rpm: T::of(n),
-                suction_volume_flow: T::of(q),
-                pressure_ratio: T::of(r),
-                control_margin: T::of(if uniform { 0.1 } else { m }),
-            })
-            .collect();
-        SurgeLine::new(&SurgeLineConfig {
-            points: &points,
-            map: MapConditions {
-                suction_pressure: PressureAbs::from_pa(T::of(1.0e5)),
-                suction_temperature: Kelvin::new(T::of(293.15)),
-                molar_mass: T::of(28.96),
-                compressibility: T::ONE,
-            },
-            polytropic_exponent: T::of(1.45),
-            flow_coefficient: T::of(0.04),
-        })
-        .unwrap()
+        let mut points = crate::surge::demo_map::points::<T>();
+        if let Some(last) = points.last_mut() {
+            last.control_margin = T::of(0.11);
+        }
+        if uniform {
+            for p in points.iter_mut() {
+                p.control_margin = T::of(0.1);
+            }
+        }
+        SurgeLine::new(&crate::surge::demo_map::line_config(&points[..count])).unwrap()
     }
 
     /// Consistency check: the table lookup gives the plain scan's bits (and

@@ -47,7 +47,9 @@ use polytrope_firmware::table::SCANS;
 /// Stages of the budget train: four compressors, three intercoolers.
 const BUDGET_STAGES: usize = 4;
 type BudgetTrain = Train<f32, IdealGas<f32>, BUDGET_STAGES, { demo::WINDOW }>;
-/// The budget train on a GERG-2008 property table.
+/// The budget train on a GERG-2008 property table (Cortex-M4F only: it
+/// runs on the CO2 table decoded into 61 kB of RAM, see `measure_tables`).
+#[cfg(target_abi = "eabihf")]
 type BudgetTrainTable<'a> = Train<f32, TableGas<'a, f32>, BUDGET_STAGES, { demo::WINDOW }>;
 /// The same train on the demo's Peng–Robinson CO2.
 type BudgetTrainPr = Train<f32, PengRobinson<f32, 1>, BUDGET_STAGES, { demo::WINDOW }>;
@@ -505,6 +507,7 @@ fn table_stage(gas: &TableGas<'_, f32>, p1: f32, t1: f32, p2: f32, t2: f32) -> f
     s.polytropic_efficiency.value + s.isentropic_head.value
 }
 
+#[cfg(target_abi = "eabihf")]
 #[inline(never)]
 fn update_budget_table(t: &mut BudgetTrainTable<'_>, s: &Scan<f32, BUDGET_STAGES>) -> f32 {
     t.update(s).totals.total_power.value
