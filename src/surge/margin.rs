@@ -663,7 +663,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
 mod tests {
     #![allow(clippy::unwrap_used, clippy::indexing_slicing)]
     use super::*;
-    use crate::surge::demo_map;
+    use crate::surge::{demo_map, MapConditions, SurgeLineConfig, SurgePoint};
 
     /// The plausibility checks exactly as the module docs list them, one
     /// after the other: `None` for a plausible scan.
