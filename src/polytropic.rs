@@ -31,7 +31,7 @@
 
 use crate::gas::{CompressionStates, GasModel};
 use crate::quality::Quality;
-use crate::real::Real;
+use crate::real::{Real, HARD_FLOAT};
 
 /// Which method produced a polytropic head and efficiency.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
@@ -74,8 +74,18 @@ fn volume_exponent<T: Real>(ln_ratio: T, ln_pv: T) -> T {
 /// Schultz's method; `None` without a discharge state or with a
 /// degenerate path (p·v not rising).
 pub fn schultz<T: Real>(cs: &CompressionStates<T>, ln_ratio: T) -> Option<Polytropic<T>> {
-    let rising = cs.ln_pv_ratio > T::ZERO && cs.ln_pv_ratio < ln_ratio;
-    if !cs.has_discharge || !rising || !(cs.isentropic_ln_pv_ratio > T::ZERO) {
+    // 0 < ln(p2v2/(p1v1)) < ln(p2/p1); without an FPU on the bit patterns
+    // (positive floats order as their bits; `less_than` once both are
+    // known positive, so not NaN).
+    let inf = T::of(f64::INFINITY);
+    let rising = if HARD_FLOAT {
+        cs.ln_pv_ratio > T::ZERO && cs.ln_pv_ratio < ln_ratio
+    } else {
+        T::positive_at_most(cs.ln_pv_ratio, inf)
+            && T::positive_at_most(ln_ratio, inf)
+            && T::less_than(cs.ln_pv_ratio, ln_ratio)
+    };
+    if !cs.has_discharge || !rising || !T::positive_at_most(cs.isentropic_ln_pv_ratio, inf) {
         return None;
     }
     // f comes with the states (the model computes it; 1 for the ideal gas).

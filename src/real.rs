@@ -110,6 +110,12 @@ pub trait Real:
     fn clamp(x: Self, lo: Self, hi: Self) -> Self {
         Self::min(Self::max(x, lo), hi)
     }
+    /// `0 < x && x <= hi` for a bound `hi > 0` (finite or +∞), exactly
+    /// (NaN, zeros and negative values outside). With a floating-point unit
+    /// the float compares; without one on the bit patterns (positive floats
+    /// order as their bits): one integer compare instead of two library
+    /// calls.
+    fn positive_at_most(x: Self, hi: Self) -> bool;
 
     /// `true` if every value of `xs` is finite ([`Real::is_finite`] of
     /// each). With a floating-point unit as one sum Σ 0·x (0·x is ±0 for a
@@ -169,10 +175,25 @@ pub(crate) mod bits {
     }
     less_bits!(less_than_f32, f32, i32);
     less_bits!(less_than_f64, f64, i64);
+
+    macro_rules! positive_bits {
+        ($name:ident, $t:ty) => {
+            /// [`crate::real::Real::positive_at_most`] on the bit patterns:
+            /// `x` in [1, bits(hi)] as unsigned bits (+0 wraps to the top,
+            /// negative values and NaN lie above the bits of any `hi` up to
+            /// +∞).
+            #[inline]
+            pub(crate) fn $name(x: $t, hi: $t) -> bool {
+                x.to_bits().wrapping_sub(1) < hi.to_bits()
+            }
+        };
+    }
+    positive_bits!(positive_at_most_f32, f32);
+    positive_bits!(positive_at_most_f64, f64);
 }
 
 macro_rules! impl_real {
-    ($t:ty, $bits:path, $less:path, $ln:path, $exp:path, $sqrt:path, $pow:path, $abs:path) => {
+    ($t:ty, $bits:path, $less:path, $positive:path, $ln:path, $exp:path, $sqrt:path, $pow:path, $abs:path) => {
         impl Real for $t {
             const ZERO: Self = 0.0;
             const ONE: Self = 1.0;
@@ -234,6 +255,14 @@ macro_rules! impl_real {
             fn less_than(a: Self, b: Self) -> bool {
                 $less(a, b)
             }
+            #[inline]
+            fn positive_at_most(x: Self, hi: Self) -> bool {
+                if HARD_FLOAT {
+                    x > 0.0 && x <= hi
+                } else {
+                    $positive(x, hi)
+                }
+            }
         }
     };
 }
@@ -242,6 +271,7 @@ impl_real!(
     f64,
     bits::within_nonnegative_f64,
     bits::less_than_f64,
+    bits::positive_at_most_f64,
     libm::log,
     libm::exp,
     libm::sqrt,
@@ -272,6 +302,7 @@ impl_real!(
     f32,
     bits::within_nonnegative_f32,
     bits::less_than_f32,
+    bits::positive_at_most_f32,
     outline::ln,
     outline::exp,
     libm::sqrtf,
@@ -284,6 +315,7 @@ impl_real!(
     f32,
     bits::within_nonnegative_f32,
     bits::less_than_f32,
+    bits::positive_at_most_f32,
     libm::logf,
     libm::expf,
     libm::sqrtf,
@@ -353,6 +385,7 @@ impl_real!(
     f32,
     bits::within_nonnegative_f32,
     bits::less_than_f32,
+    bits::positive_at_most_f32,
     approx::ln,
     approx::exp,
     libm::sqrtf,
@@ -384,6 +417,54 @@ mod tests {
         }
         check(f32::MAX, [f32::NAN, f32::INFINITY, f32::NEG_INFINITY]);
         check(f64::MAX, [f64::NAN, f64::INFINITY, f64::NEG_INFINITY]);
+    }
+
+    /// Consistency check (two forms of one comparison): the bit-pattern
+    /// form of `positive_at_most` (used without an FPU) equals
+    /// `0 < x && x <= hi` for zeros of both signs, subnormals, the bounds
+    /// and their neighbours, negative values, the infinities and NaN of
+    /// either sign, for finite bounds and +inf, in both widths.
+    #[test]
+    fn positive_at_most_bits_equal_the_float_compares() {
+        macro_rules! check {
+            ($t:ty, $f:path) => {
+                let next = |x: $t| <$t>::from_bits(x.to_bits() + 1);
+                let prev = |x: $t| <$t>::from_bits(x.to_bits() - 1);
+                for hi in [
+                    <$t>::MIN_POSITIVE,
+                    1.0,
+                    2.0,
+                    1.25,
+                    <$t>::MAX,
+                    <$t>::INFINITY,
+                ] {
+                    let xs = [
+                        0.0,
+                        -0.0,
+                        <$t>::from_bits(1),
+                        -<$t>::from_bits(1),
+                        <$t>::MIN_POSITIVE,
+                        hi,
+                        prev(hi),
+                        next(hi),
+                        -hi,
+                        0.5,
+                        -1.0,
+                        <$t>::MAX,
+                        <$t>::INFINITY,
+                        <$t>::NEG_INFINITY,
+                        <$t>::NAN,
+                        -<$t>::NAN,
+                    ];
+                    for x in xs {
+                        assert_eq!($f(x, hi), x > 0.0 && x <= hi, "{x:?} {hi:?}");
+                        assert_eq!(<$t as Real>::positive_at_most(x, hi), x > 0.0 && x <= hi);
+                    }
+                }
+            };
+        }
+        check!(f32, bits::positive_at_most_f32);
+        check!(f64, bits::positive_at_most_f64);
     }
 
     /// Largest relative error of the f32 function against the f64 one over

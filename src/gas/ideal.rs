@@ -192,7 +192,8 @@ impl<T: Real> IdealGas<T> {
     #[inline]
     fn z_of(&self, z_supplied: Option<T>) -> T {
         match z_supplied {
-            Some(z) if T::is_finite(z) && z > T::ZERO && z <= T::of(2.0) => z,
+            // 0 < z <= 2 (so finite): integer compares without an FPU.
+            Some(z) if T::positive_at_most(z, T::of(2.0)) => z,
             _ => self.compressibility,
         }
     }

@@ -225,13 +225,26 @@ pub(crate) struct StageThresholds<T> {
 }
 
 impl<T: Real> StageThresholds<T> {
-    /// The thresholds of `limits` (the same values bit for bit).
+    /// The thresholds of `limits` (the same values bit for bit, except
+    /// that a NaN of limits not validated becomes the infinity that gives
+    /// the same results in the stage's compares of values that are not NaN:
+    /// they can then be decided on the bit patterns, see [`less`]).
     #[inline]
     pub(crate) fn of(limits: &Limits<T>) -> Self {
+        let or_if_nan = |x: T, instead: T| {
+            if x.partial_cmp(&T::ZERO).is_some() {
+                x
+            } else {
+                instead
+            }
+        };
+        let inf = T::of(f64::INFINITY);
         StageThresholds {
-            max_stage_ratio: limits.max_stage_ratio,
-            min_temperature_rise: limits.min_temperature_rise(),
-            min_log_ratio: limits.min_log_ratio(),
+            // `ratio > NaN` and `ratio > +inf` are both false for a finite
+            // ratio; `x < NaN` and `x < -inf` both false.
+            max_stage_ratio: or_if_nan(limits.max_stage_ratio, inf),
+            min_temperature_rise: or_if_nan(limits.min_temperature_rise(), -inf),
+            min_log_ratio: or_if_nan(limits.min_log_ratio(), -inf),
             stationary_flow: limits.stationary_flow,
         }
     }
@@ -349,7 +362,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     }
     let fit = gas.fit_quality(t1_path, t2_path);
     let ratio_ok = p_ok && T::is_finite(ratio);
-    let compressing = ratio_ok && ratio > T::ONE;
+    let compressing = ratio_ok && less(T::ONE, ratio);
     // Without usable pressures the states are evaluated at a nominal
     // pressure, as for T1 (a pressure-independent model's enthalpy rise is
     // then still good; the rule marks what used the pressures).
@@ -439,7 +452,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     };
     // Work from the enthalpy rise h2 - h1 (ideal gas: Z·cp·(T2 - T1)): T1,
     // T2, Z and the model's states.
-    let rising = t1_ok && t2_ok && dt > T::ZERO;
+    let rising = t1_ok && t2_ok && T::positive_at_most(dt, T::of(f64::INFINITY));
     let actual = cs.enthalpy_rise;
     if rising && all_ok {
         done |= 1 << 6;
@@ -451,7 +464,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     } else if t1_ok && t2_ok && !rising {
         checks.no_rise = true;
     }
-    if ratio_ok && ratio > thresholds.max_stage_ratio {
+    if ratio_ok && less(thresholds.max_stage_ratio, ratio) {
         checks.ratio_out_of_range = true;
     }
     if compressing && iso_ok {
@@ -486,8 +499,9 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
             } else {
                 checks.exponent_implausible = true;
             }
-            checks.below_resolution =
-                dt < thresholds.min_temperature_rise || ln_path < thresholds.min_log_ratio;
+            // dt > 0 (rising) and ln_path >= 0 (compressing): not NaN.
+            checks.below_resolution = less(dt, thresholds.min_temperature_rise)
+                || less(ln_path, thresholds.min_log_ratio);
         }
     } else if ratio_ok && !compressing {
         checks.no_compression = true;
@@ -547,12 +561,25 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     };
 }
 
+/// `a < b` for operands that are not NaN (the callers say why): without an
+/// FPU on the bit patterns ([`Real::less_than`]: no library call), with one
+/// the float compare.
+#[inline]
+fn less<T: Real>(a: T, b: T) -> bool {
+    if HARD_FLOAT {
+        a < b
+    } else {
+        T::less_than(a, b)
+    }
+}
+
 /// The worse of the two efficiencies' grades ([`efficiency_grade`]), the
-/// common case (both in (0, 1 + allowance]: good) in four comparisons.
+/// common case (both in (0, 1 + allowance]: good) in four comparisons (two
+/// integer ones without an FPU).
 #[inline]
 fn efficiency_pair_grade<T: Real>(a: T, b: T) -> Quality {
     let good_max = T::ONE + efficiency_allowance::<T>();
-    if a > T::ZERO && b > T::ZERO && a <= good_max && b <= good_max {
+    if T::positive_at_most(a, good_max) && T::positive_at_most(b, good_max) {
         Quality::Good
     } else {
         efficiency_grade(a).worst(efficiency_grade(b))
