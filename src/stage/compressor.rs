@@ -446,10 +446,13 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
         out.k.value = cs.isentropic_exponent;
     }
 
-    let mut checks = CompressorChecks {
-        model: validity.quality,
-        ..CompressorChecks::default()
-    };
+    // The reasons of the condition, each set where its check is made.
+    let mut checks = CompressorChecks::default();
+    checks.set(CompressorChecks::INPUT_BAD, !(p_ok && t1_ok));
+    checks.set(CompressorChecks::RATING_POINT, rating_point);
+    checks.set(CompressorChecks::T2_BAD, !t2_ok);
+    checks.model(validity.quality);
+    let mut efficiency = Quality::Good;
     // Work from the enthalpy rise h2 - h1 (ideal gas: Z·cp·(T2 - T1)): T1,
     // T2, Z and the model's states.
     let rising = t1_ok && t2_ok && T::positive_at_most(dt, T::of(f64::INFINITY));
@@ -462,10 +465,10 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
             out.gas_power.value = flow.value * actual;
         }
     } else if t1_ok && t2_ok && !rising {
-        checks.no_rise = true;
+        checks.set(CompressorChecks::NO_RISE, true);
     }
     if ratio_ok && less(thresholds.max_stage_ratio, ratio) {
-        checks.ratio_out_of_range = true;
+        checks.set(CompressorChecks::RATIO_OUT_OF_RANGE, true);
     }
     if compressing && iso_ok {
         let hs = cs.isentropic_enthalpy_rise;
@@ -495,18 +498,25 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
                 out.polytropic_exponent.value = poly.exponent;
                 done |= 1 << 8;
                 out.polytropic_efficiency.value = poly.efficiency;
-                checks.efficiency = efficiency_pair_grade(eta_s, poly.efficiency);
+                efficiency = efficiency_pair_grade(eta_s, poly.efficiency);
+                checks.set(CompressorChecks::EFFICIENCY, efficiency != Quality::Good);
             } else {
-                checks.exponent_implausible = true;
+                checks.set(CompressorChecks::EXPONENT_IMPLAUSIBLE, true);
             }
             // dt > 0 (rising) and ln_path >= 0 (compressing): not NaN.
-            checks.below_resolution = less(dt, thresholds.min_temperature_rise)
-                || less(ln_path, thresholds.min_log_ratio);
+            checks.set(
+                CompressorChecks::BELOW_RESOLUTION,
+                less(dt, thresholds.min_temperature_rise)
+                    || less(ln_path, thresholds.min_log_ratio),
+            );
         }
     } else if ratio_ok && !compressing {
-        checks.no_compression = true;
+        checks.set(CompressorChecks::NO_COMPRESSION, true);
     }
-    checks.stationary = flow.quality.is_usable() && !(flow.value > thresholds.stationary_flow);
+    checks.set(
+        CompressorChecks::STATIONARY,
+        flow.quality.is_usable() && !(flow.value > thresholds.stationary_flow),
+    );
 
     // Qualities: the dependency rule over the slots and checks.
     let mut g = Grades::new();
@@ -516,7 +526,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
         .first_slot(slot::T2, t2.quality)
         .first_slot(slot::FLOW, flow.quality)
         .first_slot(slot::Z, q_z);
-    if checks.ratio_out_of_range {
+    if checks.has(CompressorChecks::RATIO_OUT_OF_RANGE) {
         g.check(check::RATIO, Quality::Bad);
     }
     // MODEL: the fitted range of the properties and the gas model's
@@ -524,22 +534,22 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     // high reduced pressure, no vapour root).
     g.check(check::MODEL, fit.worst(iso_validity.quality));
     g.check(check::MODEL_DISCHARGE, discharge_validity);
-    if checks.exponent_implausible {
+    if checks.has(CompressorChecks::EXPONENT_IMPLAUSIBLE) {
         // n itself, the polytropic head and efficiency were not computed
         // (bad); what remains (the isentropic efficiency, the work) is a
         // number, but of a suspect reading.
         g.check(check::EXPONENT, Quality::Uncertain);
     }
-    g.check(check::CONSISTENT, checks.efficiency);
-    if checks.no_compression {
+    g.check(check::CONSISTENT, efficiency);
+    if checks.has(CompressorChecks::NO_COMPRESSION) {
         // A temperature rise without a pressure rise is not compression
         // work: the work from it is suspect.
         g.check(check::CONSISTENT, Quality::Uncertain);
     }
-    if checks.below_resolution {
+    if checks.has(CompressorChecks::BELOW_RESOLUTION) {
         g.check(check::RESOLVED, Quality::Uncertain);
     }
-    if checks.stationary {
+    if checks.has(CompressorChecks::STATIONARY) {
         g.check(check::RUNNING, Quality::Uncertain);
     }
     // The table kept for measured stages; a rating-point query (rare) or a
@@ -551,14 +561,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
         }
         _ => settle_compressor_untabled(&g, gas.property_inputs(), rating_point, done, out),
     }
-    // Every slot and check good (and a temperature rise): nothing for the
-    // condition to report (each reason below is a bad input or a check
-    // that made a slot or check grade not good, except `no_rise`).
-    out.condition = if g.all_good() && !checks.no_rise && !rating_point {
-        StageCondition::Normal
-    } else {
-        checks.condition(p1, t1, p2, t2, rating_point)
-    };
+    out.condition = checks.condition();
 }
 
 /// `a < b` for operands that are not NaN (the callers say why): without an
@@ -586,30 +589,52 @@ fn efficiency_pair_grade<T: Real>(a: T, b: T) -> Quality {
     }
 }
 
-/// What the plausibility checks of one stage found.
+/// What the plausibility checks of one stage found: the reasons of a
+/// [`StageCondition`] as bits in their order of precedence (the first set
+/// one wins: one bit scan instead of a chain of branches), each set where
+/// its check is made (no flags gathered again afterwards).
 #[derive(Clone, Copy, Debug, Default)]
-struct CompressorChecks {
-    ratio_out_of_range: bool,
-    model: Quality,
-    no_compression: bool,
-    no_rise: bool,
-    exponent_implausible: bool,
-    efficiency: Quality,
-    below_resolution: bool,
-    stationary: bool,
-}
+struct CompressorChecks(u16);
 
 impl CompressorChecks {
-    fn condition<T>(
-        &self,
-        p1: Measured<T>,
-        t1: Measured<T>,
-        p2: Measured<T>,
-        t2: Measured<T>,
-        rating_point: bool,
-    ) -> StageCondition {
-        // The reasons as bits in order of precedence, the first set one
-        // wins (one bit scan instead of a chain of branches).
+    /// P1, P2 or T1 not usable.
+    const INPUT_BAD: u16 = 1 << 0;
+    const RATIO_OUT_OF_RANGE: u16 = 1 << 1;
+    /// The model's validity bad.
+    const MODEL_BAD: u16 = 1 << 2;
+    const NO_COMPRESSION: u16 = 1 << 3;
+    const RATING_POINT: u16 = 1 << 4;
+    /// T2 not usable.
+    const T2_BAD: u16 = 1 << 5;
+    const NO_RISE: u16 = 1 << 6;
+    const EXPONENT_IMPLAUSIBLE: u16 = 1 << 7;
+    /// The efficiency pair's grade not good.
+    const EFFICIENCY: u16 = 1 << 8;
+    /// The model's validity not good.
+    const MODEL: u16 = 1 << 9;
+    const STATIONARY: u16 = 1 << 10;
+    const BELOW_RESOLUTION: u16 = 1 << 11;
+
+    #[inline]
+    fn set(&mut self, reason: u16, found: bool) {
+        if found {
+            self.0 |= reason;
+        }
+    }
+
+    #[inline]
+    fn has(self, reason: u16) -> bool {
+        self.0 & reason != 0
+    }
+
+    /// The reasons from the model's validity grade.
+    #[inline]
+    fn model(&mut self, q: Quality) {
+        self.set(Self::MODEL_BAD, q == Quality::Bad);
+        self.set(Self::MODEL, q != Quality::Good);
+    }
+
+    fn condition(self) -> StageCondition {
         use StageCondition as C;
         const PRECEDENCE: [StageCondition; 13] = [
             C::InputBad,
@@ -626,22 +651,8 @@ impl CompressorChecks {
             C::BelowResolution,
             C::Normal,
         ];
-        let bad = |m: Measured<T>| !m.quality.is_usable();
-        let reasons: u16 = u16::from(bad(p1) || bad(p2) || bad(t1))
-            | u16::from(self.ratio_out_of_range) << 1
-            | u16::from(self.model == Quality::Bad) << 2
-            | u16::from(self.no_compression) << 3
-            | u16::from(rating_point) << 4
-            | u16::from(bad(t2)) << 5
-            | u16::from(self.no_rise) << 6
-            | u16::from(self.exponent_implausible) << 7
-            | u16::from(self.efficiency != Quality::Good) << 8
-            | u16::from(self.model != Quality::Good) << 9
-            | u16::from(self.stationary) << 10
-            | u16::from(self.below_resolution) << 11
-            | 1 << 12;
         PRECEDENCE
-            .get(reasons.trailing_zeros() as usize)
+            .get((self.0 | 1 << 12).trailing_zeros() as usize)
             .copied()
             .unwrap_or(C::Normal)
     }
@@ -935,70 +946,59 @@ mod tests {
     /// and the efficiency's grades and of the four inputs' usability.
     #[test]
     fn condition_bits_equal_the_precedence_chain() {
-        fn chain(c: &CompressorChecks, bad_in: [bool; 4], rating_point: bool) -> StageCondition {
-            use StageCondition as C;
-            let [p1, p2, t1, t2] = bad_in;
-            if p1 || p2 || t1 {
-                C::InputBad
-            } else if c.ratio_out_of_range {
-                C::RatioOutOfRange
-            } else if c.model == Quality::Bad {
-                C::OutsideGasModel
-            } else if c.no_compression {
-                C::NoCompression
-            } else if rating_point {
-                C::RatingPoint
-            } else if t2 {
-                C::InputBad
-            } else if c.no_rise {
-                C::NoTemperatureRise
-            } else if c.exponent_implausible {
-                C::ImplausibleTemperatureRise
-            } else if c.efficiency != Quality::Good {
-                C::EfficiencyAboveOne
-            } else if c.model != Quality::Good {
-                C::OutsideGasModel
-            } else if c.stationary {
-                C::Stationary
-            } else if c.below_resolution {
-                C::BelowResolution
-            } else {
-                C::Normal
-            }
-        }
+        type K = CompressorChecks;
         let grades = [Quality::Good, Quality::Uncertain, Quality::Bad];
         let mut seen = 0;
         for flags in 0u32..1 << 11 {
             let bit = |i: u32| flags & (1 << i) != 0;
             for model in grades {
                 for efficiency in grades {
-                    let c = CompressorChecks {
-                        ratio_out_of_range: bit(0),
-                        model,
-                        no_compression: bit(1),
-                        no_rise: bit(2),
-                        exponent_implausible: bit(3),
-                        efficiency,
-                        below_resolution: bit(4),
-                        stationary: bit(5),
-                    };
-                    let bad_in = [bit(6), bit(7), bit(8), bit(9)];
+                    let [ratio_out_of_range, no_compression, no_rise, exponent_implausible] =
+                        [bit(0), bit(1), bit(2), bit(3)];
+                    let [below_resolution, stationary] = [bit(4), bit(5)];
+                    let [p1, p2, t1, t2] = [bit(6), bit(7), bit(8), bit(9)];
                     let rating_point = bit(10);
-                    let m = |b: bool| {
-                        Measured::new(1.0_f32, if b { Quality::Bad } else { Quality::Good })
+                    let mut c = K::default();
+                    c.set(K::INPUT_BAD, p1 || p2 || t1);
+                    c.set(K::RATING_POINT, rating_point);
+                    c.set(K::T2_BAD, t2);
+                    c.model(model);
+                    c.set(K::NO_RISE, no_rise);
+                    c.set(K::RATIO_OUT_OF_RANGE, ratio_out_of_range);
+                    c.set(K::EFFICIENCY, efficiency != Quality::Good);
+                    c.set(K::EXPONENT_IMPLAUSIBLE, exponent_implausible);
+                    c.set(K::BELOW_RESOLUTION, below_resolution);
+                    c.set(K::NO_COMPRESSION, no_compression);
+                    c.set(K::STATIONARY, stationary);
+                    use StageCondition as C;
+                    let chain = if p1 || p2 || t1 {
+                        C::InputBad
+                    } else if ratio_out_of_range {
+                        C::RatioOutOfRange
+                    } else if model == Quality::Bad {
+                        C::OutsideGasModel
+                    } else if no_compression {
+                        C::NoCompression
+                    } else if rating_point {
+                        C::RatingPoint
+                    } else if t2 {
+                        C::InputBad
+                    } else if no_rise {
+                        C::NoTemperatureRise
+                    } else if exponent_implausible {
+                        C::ImplausibleTemperatureRise
+                    } else if efficiency != Quality::Good {
+                        C::EfficiencyAboveOne
+                    } else if model != Quality::Good {
+                        C::OutsideGasModel
+                    } else if stationary {
+                        C::Stationary
+                    } else if below_resolution {
+                        C::BelowResolution
+                    } else {
+                        C::Normal
                     };
-                    let got = c.condition(
-                        m(bad_in[0]),
-                        m(bad_in[2]),
-                        m(bad_in[1]),
-                        m(bad_in[3]),
-                        rating_point,
-                    );
-                    assert_eq!(
-                        got,
-                        chain(&c, bad_in, rating_point),
-                        "{flags:b} {model:?} {efficiency:?}"
-                    );
+                    assert_eq!(c.condition(), chain, "{flags:b} {model:?} {efficiency:?}");
                     seen += 1;
                 }
             }
