@@ -30,7 +30,7 @@ use crate::dependency::{cooler_users, slot, Grades, OutputGrades};
 use crate::gas::PropertyInputs;
 use crate::plausibility::Limits;
 use crate::quality::{Measured, Quality};
-use crate::real::Real;
+use crate::real::{Real, HARD_FLOAT};
 
 /// Smallest inlet temperature difference (gas in - coolant in) for which the
 /// effectiveness is defined, K.
@@ -167,23 +167,74 @@ const F_BALANCE: u16 = 1 << 9;
 /// ratio at least 1.5 (f32) or 1.02 (f64) away from one.
 #[inline]
 pub fn lmtd_counterflow<T: Real>(dt_a: T, dt_b: T) -> Option<T> {
-    if !(dt_a > T::ZERO && dt_b > T::ZERO) {
+    lmtd_counterflow_ordered::<T, false, { !HARD_FLOAT }>(dt_a, dt_b)
+}
+
+/// [`lmtd_counterflow`]; `NOT_NAN`: neither difference is NaN (the
+/// bounded cooler evaluation's differences of finite inputs), so without an
+/// FPU the positivity tests may be compares on the bits
+/// ([`Real::less_than`]: no library call).
+///
+/// The series test |u| < 0.2 (f32) needs u = (a - b)/(a + b), a division
+/// the logarithm's branch does not use. `RATIO_FIRST` (without an FPU,
+/// where a division is a library call): it is made only where the ratio
+/// a/b (which that branch needs anyway) is within [0.66, 1.51] (f32) or
+/// [0.98, 1.021] (f64). Outside, |u| exceeds the series bound by more
+/// than 1 % (|u| = |r - 1|/(r + 1) is at least 0.2032 for r = 1.51 and
+/// 0.2048 for r = 0.66), far more than the few roundings between r, u and
+/// their computed values, so the computed |u| is not below the bound
+/// either and the branch taken is the same (an infinite or NaN ratio lies
+/// outside the bit range, as its NaN u fails the test): the same result,
+/// bit for bit.
+#[inline(always)]
+fn lmtd_counterflow_ordered<T: Real, const NOT_NAN: bool, const RATIO_FIRST: bool>(
+    dt_a: T,
+    dt_b: T,
+) -> Option<T> {
+    let positive = |x: T| {
+        if NOT_NAN && !HARD_FLOAT {
+            T::less_than(T::ZERO, x)
+        } else {
+            x > T::ZERO
+        }
+    };
+    if !(positive(dt_a) && positive(dt_b)) {
         return None;
     }
-    let sum = dt_a + dt_b;
     let diff = dt_a - dt_b;
-    let u = diff / sum;
+    let ratio = dt_a / dt_b;
     // Series range: where its truncation (about u^10/11) is below the
-    // type's rounding: |u| < 0.2 in f32, |u| < 0.01 in f64.
-    let series_below = if T::EPSILON > T::of(1e-10) { 0.2 } else { 0.01 };
-    if T::abs(u) < T::of(series_below) {
-        let u2 = u * u;
-        let series = T::ONE
-            + u2 * (T::of(1.0 / 3.0)
-                + u2 * (T::of(1.0 / 5.0) + u2 * (T::of(1.0 / 7.0) + u2 * T::of(1.0 / 9.0))));
-        return Some(T::of(0.5) * sum / series);
+    // type's rounding: |u| < 0.2 in f32, |u| < 0.01 in f64; the ratios
+    // outside which |u| is surely not below it (see above).
+    let f32_like = T::EPSILON > T::of(1e-10);
+    let (series_below, ratio_lo, ratio_hi) = if f32_like {
+        (0.2, 0.66, 1.51)
+    } else {
+        (0.01, 0.98, 1.021)
+    };
+    // `ratio` is positive, infinite or NaN: ordered as its bits. With an
+    // FPU the division is as cheap as the range test: always made.
+    if !RATIO_FIRST || T::within_positive(ratio, T::of(ratio_lo), T::of(ratio_hi)) {
+        let sum = dt_a + dt_b;
+        let u = diff / sum;
+        if T::abs(u) < T::of(series_below) {
+            return Some(lmtd_series(sum, u));
+        }
     }
-    Some(diff / T::ln(dt_a / dt_b))
+    Some(diff / T::ln(ratio))
+}
+
+/// (a + b)/2 · u/atanh(u) by the series (module header), for |u| below the
+/// series bound. Out of line: the rare branch, whose constants would
+/// otherwise be held in registers across a caller's whole loop.
+#[cold]
+#[inline(never)]
+fn lmtd_series<T: Real>(sum: T, u: T) -> T {
+    let u2 = u * u;
+    let series = T::ONE
+        + u2 * (T::of(1.0 / 3.0)
+            + u2 * (T::of(1.0 / 5.0) + u2 * (T::of(1.0 / 7.0) + u2 * T::of(1.0 / 9.0))));
+    T::of(0.5) * sum / series
 }
 
 /// Evaluates one cooler with the default [`Limits`] and a gas cp that
@@ -369,13 +420,16 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
         set(&mut out.coolant_temperature_rise, F_COOLANT_RISE, rise);
     }
     if ok(I_TIN | I_TOUT | I_TC | I_TCO) {
-        if let Some(lmtd) = lmtd_counterflow(tin.value - tco.value, tout.value - tc.value) {
+        let (dt_hot, dt_cold) = (tin.value - tco.value, tout.value - tc.value);
+        if let Some(lmtd) = lmtd_counterflow_ordered::<T, BOUNDED, { !HARD_FLOAT }>(dt_hot, dt_cold)
+        {
             set(&mut out.lmtd, F_LMTD, lmtd);
             if duty_ok {
                 set(&mut out.ua, F_UA, duty / lmtd);
             }
         }
-        if duty_ok && duty > T::ZERO && ok(I_MC) {
+        // The duty is finite here (`duty_ok`): not NaN.
+        if duty_ok && lt(T::ZERO, duty) && ok(I_MC) {
             let coolant_duty = mc.value * inp.coolant_cp * rise;
             set(
                 &mut out.heat_balance_error,
@@ -393,11 +447,21 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
     // zero duty is not fouling; a negative duty in the noise band gives a
     // negative UA).
     let weak_duty = within_noise || cp_suspect;
+    // `0 <= eff <= 1` (false for NaN); without an FPU on the bits
+    // ([`Real::within_nonnegative`], exact for every value, NaN and -0.0
+    // included: no library call).
+    let effectiveness_in_unit_range = |e: T| {
+        if HARD_FLOAT {
+            e >= T::ZERO && e <= T::ONE
+        } else {
+            T::within_nonnegative(e, T::ZERO, T::ONE)
+        }
+    };
     let flag = |c: bool, bits: u16| if c { bits } else { 0 };
     let suspect = flag(lt(dp, T::ZERO), F_DP | F_REL_DP)
         | flag(outlet_above_inlet, F_DROP)
         | flag(below_coolant, F_APPROACH)
-        | flag(!(eff >= T::ZERO && eff <= T::ONE), F_EFF)
+        | flag(!effectiveness_in_unit_range(eff), F_EFF)
         | flag(lt(rise, -noise), F_COOLANT_RISE)
         | flag(weak_duty, F_DUTY | F_BALANCE)
         | flag(weak_duty || stationary, F_UA);
@@ -602,6 +666,89 @@ mod tests {
         assert_eq!(r.condition, CoolerCondition::OutletAboveInlet);
         assert_eq!(r.effectiveness.quality, Quality::Bad);
         assert_eq!(r.heat_duty.quality, Quality::Bad);
+    }
+
+    /// The LMTD as it was before the series test moved behind the ratio
+    /// range: u = (a - b)/(a + b) always, the series where |u| is below
+    /// the bound, else (a - b)/ln(a/b).
+    fn lmtd_always_u<T: Real>(dt_a: T, dt_b: T) -> Option<T> {
+        if !(dt_a > T::ZERO && dt_b > T::ZERO) {
+            return None;
+        }
+        let sum = dt_a + dt_b;
+        let diff = dt_a - dt_b;
+        let u = diff / sum;
+        let series_below = if T::EPSILON > T::of(1e-10) { 0.2 } else { 0.01 };
+        if T::abs(u) < T::of(series_below) {
+            let u2 = u * u;
+            let series = T::ONE
+                + u2 * (T::of(1.0 / 3.0)
+                    + u2 * (T::of(1.0 / 5.0) + u2 * (T::of(1.0 / 7.0) + u2 * T::of(1.0 / 9.0))));
+            return Some(T::of(0.5) * sum / series);
+        }
+        Some(diff / T::ln(dt_a / dt_b))
+    }
+
+    /// Consistency check (the project's own LMTD, two forms): deciding the
+    /// series branch from the ratio range first gives bit for bit the LMTD
+    /// that always computes u, in f32 and f64, over seeded random terminal
+    /// differences concentrated around the branch bounds (ratios 1.5 and
+    /// 2/3 in f32, 1.0202 and 0.9802 in f64), over the whole ratio range,
+    /// and for zeros, negatives, infinities and NaN.
+    #[test]
+    fn lmtd_ratio_range_gives_the_same_branch_and_bits() {
+        let mut seed = 0x2545_f491_u32;
+        let mut next = || {
+            seed ^= seed << 13;
+            seed ^= seed >> 17;
+            seed ^= seed << 5;
+            f64::from(seed) / f64::from(u32::MAX)
+        };
+        let same32 = |a: f32, b: f32| {
+            let y = lmtd_always_u(a, b).map(f32::to_bits);
+            let first = lmtd_counterflow_ordered::<f32, false, true>(a, b);
+            assert_eq!(first.map(f32::to_bits), y, "{a} {b}");
+            assert_eq!(lmtd_counterflow(a, b).map(f32::to_bits), y, "{a} {b}");
+            if !a.is_nan() && !b.is_nan() {
+                let ordered = lmtd_counterflow_ordered::<f32, true, true>(a, b);
+                assert_eq!(ordered.map(f32::to_bits), y, "{a} {b}");
+            }
+        };
+        let same64 = |a: f64, b: f64| {
+            let y = lmtd_always_u(a, b).map(f64::to_bits);
+            let first = lmtd_counterflow_ordered::<f64, false, true>(a, b);
+            assert_eq!(first.map(f64::to_bits), y, "{a} {b}");
+            assert_eq!(lmtd_counterflow(a, b).map(f64::to_bits), y, "{a} {b}");
+        };
+        for _ in 0..200_000 {
+            let b = 0.01 + 500.0 * next();
+            // Around each bound: within 2 % of the ratio where |u| = bound.
+            for r in [1.5, 2.0 / 3.0, 1.01 / 0.99, 0.99 / 1.01] {
+                let ratio = r * (1.0 + 0.04 * (next() - 0.5));
+                same32((b * ratio) as f32, b as f32);
+                same64(b * ratio, b);
+            }
+            // Anywhere: ratios 1e-3 .. 1e3.
+            let ratio = 10f64.powf(6.0 * next() - 3.0);
+            same32((b * ratio) as f32, b as f32);
+            same64(b * ratio, b);
+        }
+        for (a, b) in [
+            (0.0, 1.0),
+            (1.0, 0.0),
+            (-1.0, 2.0),
+            (-0.0, 3.0),
+            (f32::INFINITY, 2.0),
+            (2.0, f32::INFINITY),
+            (f32::INFINITY, f32::INFINITY),
+            (f32::NAN, 2.0),
+            (2.0, f32::NAN),
+            (f32::MIN_POSITIVE / 4.0, 1.0),
+            (5.0, 5.0),
+        ] {
+            same32(a, b);
+            same64(f64::from(a), f64::from(b));
+        }
     }
 
     #[test]

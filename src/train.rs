@@ -539,7 +539,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                     .map_or(Measured::not_applicable(), |c| c.temperature_rise),
                 None => Measured::not_applicable(),
             };
-            let Some(raw) = raw_stage.cooler else {
+            let Some(raw) = &raw_stage.cooler else {
                 *out = Some(CoolerResult {
                     next_stage_temperature_rise: next_rise,
                     ..CoolerResult::bad()

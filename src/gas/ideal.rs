@@ -19,7 +19,7 @@ use crate::quality::Quality;
 /// Largest heat-capacity ratio of an ideal gas: 5/3 (monatomic), as 1.67
 /// (tables quote it to two decimals).
 pub const MAX_IDEAL_GAS_K: f64 = 1.67;
-use crate::real::Real;
+use crate::real::{Real, HARD_FLOAT};
 
 /// Largest value of Pr/Tr³ (reduced pressure over the cube of the reduced
 /// temperature) at which the ideal-gas model reports good.
@@ -192,8 +192,7 @@ impl<T: Real> IdealGas<T> {
     #[inline]
     fn z_of(&self, z_supplied: Option<T>) -> T {
         match z_supplied {
-            // 0 < z <= 2 (so finite): integer compares without an FPU.
-            Some(z) if T::positive_at_most(z, T::of(2.0)) => z,
+            Some(z) if supplied_z_usable::<T, { !HARD_FLOAT }>(z) => z,
             _ => self.compressibility,
         }
     }
@@ -319,6 +318,26 @@ impl<T: Real> IdealGas<T> {
 
 /// Iteration cap of the polynomial model's entropy match.
 const ISENTROPIC_ITERATIONS: usize = 4;
+
+/// A supplied Z is used if finite and in (0, 2]. `BITS` (without an FPU,
+/// where each float compare is a library call): decided on the bit
+/// patterns, [`Real::within_positive`] from the type's smallest positive
+/// (subnormal) value to 2, the same result for every value (zeros,
+/// negatives, infinities and NaN lie outside either way).
+#[inline]
+fn supplied_z_usable<T: Real, const BITS: bool>(z: T) -> bool {
+    if BITS {
+        // 2^-149 (f32) or 2^-1074 (f64), both exact in f64.
+        let smallest_positive = if T::EPSILON > T::of(1e-10) {
+            f64::from(f32::from_bits(1))
+        } else {
+            f64::from_bits(1)
+        };
+        T::within_positive(z, T::of(smallest_positive), T::of(2.0))
+    } else {
+        T::is_finite(z) && z > T::ZERO && z <= T::of(2.0)
+    }
+}
 
 /// The ideal gas's states exist at finite, positive pressure and
 /// temperature ([`GasModel::state`] and [`GasModel::uncompressed`] test the
@@ -601,6 +620,86 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
 mod tests {
     use super::*;
     use crate::gas::{AIR, BUILTIN_GASES};
+
+    /// Consistency check (the project's own test of a supplied Z, two
+    /// forms): the bit-pattern form gives the float compares' result for
+    /// special values and seeded random bit patterns of f32 and f64.
+    #[test]
+    fn supplied_z_test_on_the_bits_equals_the_float_one() {
+        let specials = [
+            0.0,
+            -0.0,
+            1.0,
+            2.0,
+            -2.0,
+            0.97,
+            f64::MIN_POSITIVE,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            f64::NAN,
+            -f64::NAN,
+        ];
+        for z in specials {
+            assert_eq!(
+                supplied_z_usable::<f64, true>(z),
+                supplied_z_usable::<f64, false>(z),
+                "{z}"
+            );
+            let z = z as f32;
+            assert_eq!(
+                supplied_z_usable::<f32, true>(z),
+                supplied_z_usable::<f32, false>(z),
+                "{z}"
+            );
+        }
+        for z in [
+            f32::from_bits(1),
+            f32::from_bits(0x4000_0001),
+            f32::from_bits(0x3fff_ffff),
+        ] {
+            assert_eq!(
+                supplied_z_usable::<f32, true>(z),
+                supplied_z_usable::<f32, false>(z),
+                "{z}"
+            );
+        }
+        for z in [
+            f64::from_bits(1),
+            f64::from_bits(2.0f64.to_bits() + 1),
+            f64::from_bits(2.0f64.to_bits() - 1),
+        ] {
+            assert_eq!(
+                supplied_z_usable::<f64, true>(z),
+                supplied_z_usable::<f64, false>(z),
+                "{z}"
+            );
+        }
+        let mut seed = 0x1234_5678_9abc_def1_u64;
+        for _ in 0..1_000_000 {
+            seed ^= seed << 13;
+            seed ^= seed >> 7;
+            seed ^= seed << 17;
+            let a = f32::from_bits(seed as u32);
+            assert_eq!(
+                supplied_z_usable::<f32, true>(a),
+                supplied_z_usable::<f32, false>(a),
+                "{a}"
+            );
+            let b = f64::from_bits(seed);
+            assert_eq!(
+                supplied_z_usable::<f64, true>(b),
+                supplied_z_usable::<f64, false>(b),
+                "{b}"
+            );
+            // Near the accepted range too (random bits rarely land there).
+            let c = f32::from_bits((seed >> 32) as u32 % 0x4000_0100);
+            assert_eq!(
+                supplied_z_usable::<f32, true>(c),
+                supplied_z_usable::<f32, false>(c),
+                "{c}"
+            );
+        }
+    }
 
     #[test]
     fn air_gas_constant_matches_cengel_table_a1() {
