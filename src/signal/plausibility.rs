@@ -7,7 +7,7 @@
 //! Cost per sample: one pass over the `W`-sample window.
 
 use super::channel::ChannelConfig;
-use super::FaultCode;
+use super::{above, below, FaultCode};
 use crate::quality::Quality;
 use crate::real::Real;
 use crate::window::Window;
@@ -82,7 +82,9 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
             self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
             return (signal_fault, Quality::Bad);
         }
-        if v < cfg.plausible_low || v > cfg.plausible_high {
+        // `v` is finite here, the limits are (validated): compares by
+        // [`below`] and [`above`] (no soft-float call on a Cortex-M0).
+        if below(v, cfg.plausible_low) || above(v, cfg.plausible_high) {
             self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
             return (FaultCode::OutOfRange, Quality::Bad);
         }
@@ -94,11 +96,12 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         if let Some(last) = self.last_accepted {
             let step = T::abs(v - last);
             let since = self.since_accepted_ms.saturating_add(dt_ms);
-            if step > allowance(since) {
+            // `step` may be infinite, never NaN (two finite values).
+            if above(step, allowance(since)) {
                 self.since_accepted_ms = since;
                 return (FaultCode::Spike, Quality::Bad);
             }
-            calm = !(step > cfg.noise_floor);
+            calm = !above(step, cfg.noise_floor);
         }
         self.last_accepted = Some(v);
         self.since_accepted_ms = 0;
@@ -145,9 +148,13 @@ fn within_band<T: Real>(values: &[T], v: T, floor: T) -> bool {
     let mut lo = v;
     let mut hi = v;
     for &x in values {
-        lo = T::min(lo, x);
-        hi = T::max(hi, x);
-        if hi - lo > floor {
+        if below(x, lo) {
+            lo = x;
+        }
+        if above(x, hi) {
+            hi = x;
+        }
+        if above(hi - lo, floor) {
             return false;
         }
     }
