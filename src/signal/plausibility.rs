@@ -15,8 +15,9 @@ use crate::window::Window;
 /// Plausibility state of one channel with a frozen window of `W` samples.
 #[derive(Clone, Copy, Debug)]
 pub struct Plausibility<T, const W: usize> {
+    /// The last `W` accepted samples; the latest is the reference of the
+    /// rate test.
     window: Window<T, W>,
-    last_accepted: Option<T>,
     since_accepted_ms: u32,
 }
 
@@ -33,7 +34,6 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         const { assert!(W >= 2, "the frozen window needs at least 2 samples") };
         Plausibility {
             window: Window::filled_with(T::ZERO),
-            last_accepted: None,
             since_accepted_ms: 0,
         }
     }
@@ -93,7 +93,9 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         // least the step, and rounding keeps the order), so the window
         // scan is needed only after a step within the floor.
         let mut calm = true;
-        if let Some(last) = self.last_accepted {
+        // The previous accepted sample (every accepted sample, and only
+        // those, goes to the window; a reset clears it).
+        if let Some(last) = self.window.back(1) {
             let step = T::abs(v - last);
             let since = self.since_accepted_ms.saturating_add(dt_ms);
             // `step` may be infinite, never NaN (two finite values).
@@ -103,7 +105,6 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
             }
             calm = !above(step, cfg.noise_floor);
         }
-        self.last_accepted = Some(v);
         self.since_accepted_ms = 0;
         self.window.write(v);
         if calm && self.window.len() >= W && within_band(self.window.as_slice(), v, cfg.noise_floor)
@@ -125,7 +126,6 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
     /// Forgets the history (after a configuration change or restart).
     pub fn reset(&mut self) {
         self.window.clear();
-        self.last_accepted = None;
         self.since_accepted_ms = 0;
     }
 }
