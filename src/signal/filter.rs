@@ -238,19 +238,43 @@ fn first_index<T: Copy, const M: usize>(s: &[T; M], is: impl Fn(T) -> bool) -> u
 }
 
 /// [`place_sorted`] on a whole array (every index provably in bounds, so
-/// no checks are left in the loops).
+/// no checks are left in the loops). After a move up no move down is
+/// possible (the entry below is then one that was below `v`): with a
+/// floating-point unit the first compare picks the direction and the other
+/// pass is skipped; without one both passes run as in [`place_sorted`]
+/// (measured: fewer instructions each way, see the commit).
 #[inline]
 fn place_in_full<T: Real, const M: usize>(s: &mut [T; M], at: usize, v: T) {
     let mut j = at.min(M - 1);
-    while j + 1 < M {
-        let up = match s.get(j + 1) {
-            Some(&a) if below(a, v) => a,
-            _ => break,
-        };
-        if let Some(e) = s.get_mut(j) {
-            *e = up;
+    if HARD_FLOAT {
+        if let Some(&first) = s.get(j + 1).filter(|&&a| below(a, v)) {
+            let mut up = first;
+            loop {
+                if let Some(e) = s.get_mut(j) {
+                    *e = up;
+                }
+                j += 1;
+                match s.get(j + 1) {
+                    Some(&a) if below(a, v) => up = a,
+                    _ => break,
+                }
+            }
+            if let Some(e) = s.get_mut(j) {
+                *e = v;
+            }
+            return;
         }
-        j += 1;
+    } else {
+        while j + 1 < M {
+            let up = match s.get(j + 1) {
+                Some(&a) if below(a, v) => a,
+                _ => break,
+            };
+            if let Some(e) = s.get_mut(j) {
+                *e = up;
+            }
+            j += 1;
+        }
     }
     while j > 0 {
         let down = match s.get(j - 1) {
