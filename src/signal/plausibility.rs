@@ -7,7 +7,7 @@
 //! Cost per sample: one pass over the `W`-sample window.
 
 use super::channel::ChannelConfig;
-use super::FaultCode;
+use super::{above, below, FaultCode};
 use crate::quality::Quality;
 use crate::real::Real;
 use crate::window::Window;
@@ -15,8 +15,9 @@ use crate::window::Window;
 /// Plausibility state of one channel with a frozen window of `W` samples.
 #[derive(Clone, Copy, Debug)]
 pub struct Plausibility<T, const W: usize> {
+    /// The last `W` accepted samples; the latest is the reference of the
+    /// rate test.
     window: Window<T, W>,
-    last_accepted: Option<T>,
     since_accepted_ms: u32,
 }
 
@@ -33,7 +34,6 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         const { assert!(W >= 2, "the frozen window needs at least 2 samples") };
         Plausibility {
             window: Window::filled_with(T::ZERO),
-            last_accepted: None,
             since_accepted_ms: 0,
         }
     }
@@ -82,7 +82,9 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
             self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
             return (signal_fault, Quality::Bad);
         }
-        if v < cfg.plausible_low || v > cfg.plausible_high {
+        // `v` is finite here, the limits are (validated): compares by
+        // [`below`] and [`above`] (no soft-float call on a Cortex-M0).
+        if below(v, cfg.plausible_low) || above(v, cfg.plausible_high) {
             self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
             return (FaultCode::OutOfRange, Quality::Bad);
         }
@@ -91,16 +93,18 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         // least the step, and rounding keeps the order), so the window
         // scan is needed only after a step within the floor.
         let mut calm = true;
-        if let Some(last) = self.last_accepted {
+        // The previous accepted sample (every accepted sample, and only
+        // those, goes to the window; a reset clears it).
+        if let Some(last) = self.window.back(1) {
             let step = T::abs(v - last);
             let since = self.since_accepted_ms.saturating_add(dt_ms);
-            if step > allowance(since) {
+            // `step` may be infinite, never NaN (two finite values).
+            if above(step, allowance(since)) {
                 self.since_accepted_ms = since;
                 return (FaultCode::Spike, Quality::Bad);
             }
-            calm = !(step > cfg.noise_floor);
+            calm = !above(step, cfg.noise_floor);
         }
-        self.last_accepted = Some(v);
         self.since_accepted_ms = 0;
         self.window.write(v);
         if calm && self.window.len() >= W && within_band(self.window.as_slice(), v, cfg.noise_floor)
@@ -122,7 +126,6 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
     /// Forgets the history (after a configuration change or restart).
     pub fn reset(&mut self) {
         self.window.clear();
-        self.last_accepted = None;
         self.since_accepted_ms = 0;
     }
 }
@@ -145,9 +148,13 @@ fn within_band<T: Real>(values: &[T], v: T, floor: T) -> bool {
     let mut lo = v;
     let mut hi = v;
     for &x in values {
-        lo = T::min(lo, x);
-        hi = T::max(hi, x);
-        if hi - lo > floor {
+        if below(x, lo) {
+            lo = x;
+        }
+        if above(x, hi) {
+            hi = x;
+        }
+        if above(hi - lo, floor) {
             return false;
         }
     }
