@@ -28,11 +28,7 @@ use crate::real::{Real, HARD_FLOAT};
 /// `a > b` for values that are not NaN.
 #[inline(always)]
 fn greater<T: Real>(a: T, b: T) -> bool {
-    if HARD_FLOAT {
-        a > b
-    } else {
-        T::less_than(b, a)
-    }
+    T::greater_not_nan(a, b)
 }
 
 /// `a < b` for values that are not NaN.
