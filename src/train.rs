@@ -722,7 +722,9 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             self.snapshot.totals = totals;
             return;
         }
-        totals.overall_pressure_ratio = Measured::derived(ratio, q_ratio);
+        // Finite without a test (both pressures in the validated limits,
+        // so at most 1e10 / 1e-3) and usable here: `derived` would keep it.
+        totals.overall_pressure_ratio = Measured::new(ratio, q_ratio);
         let z_mean = z_sum.get();
         let q_ref = q_ratio
             .worst(first.t1.quality)
