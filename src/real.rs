@@ -117,6 +117,18 @@ pub trait Real:
     /// calls.
     fn positive_at_most(x: Self, hi: Self) -> bool;
 
+    /// `a > b` for operands that are not NaN: the FPU's compare where there
+    /// is one, [`Real::less_than`]`(b, a)` on the bit patterns where a float
+    /// compare is a library call (Cortex-M0). The same result either way.
+    #[inline(always)]
+    fn greater_not_nan(a: Self, b: Self) -> bool {
+        if HARD_FLOAT {
+            a > b
+        } else {
+            Self::less_than(b, a)
+        }
+    }
+
     /// `true` if every value of `xs` is finite ([`Real::is_finite`] of
     /// each). With a floating-point unit as one sum Σ 0·x (0·x is ±0 for a
     /// finite x, NaN for an infinite or NaN one, and NaN stays NaN):

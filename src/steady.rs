@@ -16,7 +16,68 @@
 
 use crate::error::{check_positive, ConfigError};
 use crate::quality::Measured;
-use crate::real::Real;
+use crate::real::{Real, HARD_FLOAT};
+
+// The windows' compares. Every value they compare is finite (the detector
+// takes usable readings only, and the kernel's usable values are finite),
+// and the spreads formed from them are never NaN, so a compare on the bit
+// patterns ([`Real::less_than`]: -0.0 equals +0.0 as in the float compare)
+// gives the float compare's result. With an FPU its own compare is cheaper;
+// without one (Cortex-M0) each float compare is a library call.
+
+/// `a > b` for values that are not NaN.
+#[inline(always)]
+fn greater<T: Real>(a: T, b: T) -> bool {
+    T::greater_not_nan(a, b)
+}
+
+/// `a < b` for values that are not NaN.
+#[inline(always)]
+fn less<T: Real>(a: T, b: T) -> bool {
+    if HARD_FLOAT {
+        a < b
+    } else {
+        T::less_than(a, b)
+    }
+}
+
+/// [`Real::max`] for values that are not NaN.
+#[inline(always)]
+fn larger<T: Real>(a: T, b: T) -> T {
+    if greater(b, a) {
+        b
+    } else {
+        a
+    }
+}
+
+/// [`Real::min`] for values that are not NaN.
+#[inline(always)]
+fn smaller<T: Real>(a: T, b: T) -> T {
+    if less(b, a) {
+        b
+    } else {
+        a
+    }
+}
+
+/// `x <= max` for an `x` that is not NaN (a spread) and any `max` (a
+/// configured tolerance): false for a NaN `max`, as the float compare.
+#[inline(always)]
+fn at_most<T: Real>(x: T, max: T) -> bool {
+    if HARD_FLOAT {
+        x <= max
+    } else {
+        at_most_on_bits(x, max)
+    }
+}
+
+/// [`at_most`] without a float compare: the bit-pattern order, and a NaN
+/// `max` (neither finite nor infinite) refused.
+#[inline(always)]
+fn at_most_on_bits<T: Real>(x: T, max: T) -> bool {
+    !T::less_than(max, x) && (T::is_finite(max) || T::same_bits(T::abs(max), T::of(f64::INFINITY)))
+}
 
 /// Tolerances of the steady-state test.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -185,7 +246,7 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
         let (hi, lo) = if at == 0 {
             (v, v)
         } else {
-            (T::max(self.lap_high, v), T::min(self.lap_low, v))
+            (larger(self.lap_high, v), smaller(self.lap_low, v))
         };
         (self.lap_high, self.lap_low) = (hi, lo);
         if at + 1 < W {
@@ -195,7 +256,7 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
             self.next = k.wrapping_add(1);
             // The previous lap's suffix extremes from the next slot.
             match (self.high.get(at + 1), self.low.get(at + 1)) {
-                (Some(&h), Some(&l)) => (T::min(lo, self.at(l)), T::max(hi, self.at(h))),
+                (Some(&h), Some(&l)) => (smaller(lo, self.at(l)), larger(hi, self.at(h))),
                 _ => (lo, hi),
             }
         } else {
@@ -241,10 +302,10 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
         for (i, (&x, (h, l))) in slots.enumerate().skip(1).rev() {
             let slot = u8::try_from(i).unwrap_or(0);
             let (mut hv, mut hs, mut lv, mut ls) = best.unwrap_or((x, slot, x, slot));
-            if x > hv {
+            if greater(x, hv) {
                 (hv, hs) = (x, slot);
             }
-            if x < lv {
+            if less(x, lv) {
                 (lv, ls) = (x, slot);
             }
             best = Some((hv, hs, lv, ls));
@@ -257,11 +318,11 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
     fn extremes(&self) -> (T, T) {
         let k = usize::from(self.next);
         let hi = match self.high.get(k) {
-            Some(&h) => T::max(self.lap_high, self.at(h)),
+            Some(&h) => larger(self.lap_high, self.at(h)),
             None => self.lap_high,
         };
         let lo = match self.low.get(k) {
-            Some(&l) => T::min(self.lap_low, self.at(l)),
+            Some(&l) => smaller(self.lap_low, self.at(l)),
             None => self.lap_low,
         };
         (lo, hi)
@@ -352,13 +413,7 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
         };
         let flow_extremes = flow.map(|f| self.flow.write(f.value));
         let t_spread = t_hi - t_lo;
-        let r_spread = r_hi - r_lo;
-        let r_mag = T::max(T::abs(r_hi), T::abs(r_lo));
-        let r_rel = if r_mag > T::ZERO {
-            r_spread / r_mag
-        } else {
-            T::ZERO
-        };
+        let r_rel = relative_spread(r_lo, r_hi);
         let full = (self.ratio.len() == W)
             && (temperature.is_none() || (self.temperature.len() == W))
             && (flow.is_none() || (self.flow.len() == W));
@@ -369,7 +424,7 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
         // A window not written this scan keeps its values.
         let flow_quiet = match flow_extremes {
             Some((lo, hi)) => relative_spread_within(lo, hi, cfg.max_flow_spread),
-            None if self.flow.len() == 0 => T::ZERO <= cfg.max_flow_spread,
+            None if self.flow.len() == 0 => at_most(T::ZERO, cfg.max_flow_spread),
             None => {
                 let (lo, hi) = self.flow.extremes();
                 relative_spread_within(lo, hi, cfg.max_flow_spread)
@@ -377,8 +432,8 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
         };
         SteadyState {
             steady: full
-                && t_spread <= cfg.max_temperature_spread
-                && r_rel <= cfg.max_ratio_spread
+                && at_most(t_spread, cfg.max_temperature_spread)
+                && at_most(r_rel, cfg.max_ratio_spread)
                 && flow_quiet,
             samples: u16::try_from(self.ratio.len()).unwrap_or(u16::MAX),
             temperature_spread: t_spread,
@@ -392,14 +447,26 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
 /// inlined: kept out of the path of stages without a flow reading).
 #[inline(never)]
 fn relative_spread_within<T: Real>(lo: T, hi: T, max: T) -> bool {
+    at_most(relative_spread(lo, hi), max)
+}
+
+/// (hi - lo) / max(|hi|, |lo|) of a window's extremes, 0 when both are 0
+/// (never NaN: the extremes are finite).
+#[inline(always)]
+fn relative_spread<T: Real>(lo: T, hi: T) -> T {
     let spread = hi - lo;
-    let magnitude = T::max(T::abs(hi), T::abs(lo));
-    let relative = if magnitude > T::ZERO {
+    let magnitude = larger(T::abs(hi), T::abs(lo));
+    // An absolute value is +0.0 or above: above zero unless +0.0.
+    let positive = if HARD_FLOAT {
+        magnitude > T::ZERO
+    } else {
+        !T::same_bits(magnitude, T::ZERO)
+    };
+    if positive {
         spread / magnitude
     } else {
         T::ZERO
-    };
-    relative <= max
+    }
 }
 
 #[cfg(test)]
@@ -641,6 +708,46 @@ mod tests {
                 };
                 assert_eq!(got, want, "stage {stage}, scan {i}");
             }
+        }
+    }
+
+    /// The compares without an FPU (the Cortex-M0 path, which a host build
+    /// does not take) against the float compares, over zeros of both signs,
+    /// subnormals, infinities and, for the tolerance, NaN (consistency
+    /// check against IEEE 754 ordering).
+    #[test]
+    fn bit_pattern_compares_equal_the_float_compares() {
+        let values = [
+            0.0_f32,
+            -0.0,
+            f32::from_bits(1),
+            -f32::from_bits(1),
+            f32::MIN_POSITIVE,
+            1e-3,
+            0.01,
+            0.5,
+            1.0,
+            1.0 + f32::EPSILON,
+            3.0,
+            400.0,
+            -2.5,
+            -400.0,
+            f32::MAX,
+            f32::MIN,
+            f32::INFINITY,
+            f32::NEG_INFINITY,
+        ];
+        for &a in &values {
+            for &b in &values {
+                assert_eq!(bits_less(a, b), a < b, "{a} < {b}");
+                assert_eq!(at_most_on_bits(a, b), a <= b, "{a} <= {b}");
+            }
+            for nan in [f32::NAN, -f32::NAN] {
+                assert!(!at_most_on_bits(a, nan), "{a} <= NaN");
+            }
+        }
+        fn bits_less(a: f32, b: f32) -> bool {
+            <f32 as Real>::less_than(a, b)
         }
     }
 

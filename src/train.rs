@@ -11,7 +11,7 @@ use crate::error::{check_positive, check_range, ConfigError, Problem};
 use crate::gas::GasModel;
 use crate::plausibility::{compressibility, efficiency_allowance, Limits};
 use crate::quality::{Measured, Quality};
-use crate::real::Real;
+use crate::real::{Real, HARD_FLOAT};
 use crate::scan::Scan;
 use crate::stage::compressor::{
     evaluate_compressor_tabled, StageReadings, StageThresholds, StageUses,
@@ -669,22 +669,23 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         };
         let q_ratio = first.p1.quality.worst(last_c.p2.quality);
         let ratio = last_c.p2.value / first.p1.value;
-        let q_ratio = if q_ratio.is_usable() && !(ratio <= self.limits.max_overall_ratio) {
-            Quality::Bad
-        } else {
-            q_ratio
-        };
-        // ln of the overall ratio once, for the interstage optimum and the
-        // ideal references.
-        let ln_overall = if q_ratio.is_usable() && ratio > T::ONE {
-            T::ln(ratio)
-        } else {
-            T::ZERO
-        };
+        // Compared only when usable: both pressures then passed the sensor
+        // boundary (positive, finite), so the ratio is not NaN and
+        // `Real::greater_not_nan` is the float compare (on the bit patterns
+        // without an FPU).
+        let q_ratio =
+            if q_ratio.is_usable() && T::greater_not_nan(ratio, self.limits.max_overall_ratio) {
+                Quality::Bad
+            } else {
+                q_ratio
+            };
         // Interstage entries exist for every compressor stage but the last.
         // The equal-ratio optima walk up from the first suction by the
         // stage ratio r^(1/stages) (one exponential for all).
-        let optimum_ok = q_ratio.is_usable() && ratio > T::ONE;
+        let optimum_ok = q_ratio.is_usable() && T::greater_not_nan(ratio, T::ONE);
+        // ln of the overall ratio once, for the interstage optimum and the
+        // ideal references.
+        let ln_overall = if optimum_ok { T::ln(ratio) } else { T::ZERO };
         let stage_ratio = if optimum_ok && last > 0 {
             equal_ratio_stage_ratio_from_log(ln_overall, self.equal_ratio_exponent)
         } else {
@@ -717,11 +718,13 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             }
             *out = Some(entry);
         }
-        if !q_ratio.is_usable() || !(ratio > T::ONE) {
+        if !optimum_ok {
             self.snapshot.totals = totals;
             return;
         }
-        totals.overall_pressure_ratio = Measured::derived(ratio, q_ratio);
+        // Finite without a test (both pressures in the validated limits,
+        // so at most 1e10 / 1e-3) and usable here: `derived` would keep it.
+        totals.overall_pressure_ratio = Measured::new(ratio, q_ratio);
         let z_mean = z_sum.get();
         let q_ref = q_ratio
             .worst(first.t1.quality)
@@ -734,7 +737,17 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         let t1 = first.t1.value;
         // The whole-train references use the mean of the stages' Z, so they
         // compare like with like.
-        let z_mean = z_mean.value / T::of(f64::from(z_sum.count.max(1)));
+        // Every compressor stage adds its Z, so the count is `nc` (at least
+        // one here). For a power of two, 1/nc (`equal_ratio_exponent`) is
+        // exact and the product equals the quotient bit for bit (both the
+        // correctly rounded z/nc): a multiplication instead of a division
+        // where both are library calls (Cortex-M0).
+        let count = z_sum.count.max(1);
+        let z_mean = if !HARD_FLOAT && count == nc && nc.is_power_of_two() {
+            z_mean.value * self.equal_ratio_exponent
+        } else {
+            z_mean.value / T::of(f64::from(count))
+        };
         let props = self
             .config
             .gas
@@ -763,12 +776,14 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         totals.ideal_staged_isentropic_work = Measured::derived(staged, q_ref);
         totals.ideal_staging_saving = Measured::derived(single - staged, q_ref);
         let w = totals.compressor_work;
-        if w.quality.is_usable() && w.value > T::ZERO {
+        // A usable work is finite; a NaN `eta` (a NaN `iso`) gives a bad
+        // efficiency whatever `q` is (`Measured::derived`).
+        if w.quality.is_usable() && T::greater_not_nan(w.value, T::ZERO) {
             let eta = iso / w.value;
             // Above one (beyond rounding) the train did better than
             // isothermal from its first suction: possible only with
             // coolant colder than that suction; suspect, not good.
-            let q = if eta > T::ONE + efficiency_allowance::<T>() {
+            let q = if T::greater_not_nan(eta, T::ONE + efficiency_allowance::<T>()) {
                 Quality::Uncertain
             } else {
                 Quality::Good
