@@ -476,9 +476,18 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         } else {
             ps.value > T::ZERO
         };
+        // (On the bits also the test for `0.52`, or it is formed ahead of
+        // its branch: a library call every scan.)
+        let possible = |abs_x: T| {
+            if BITS {
+                T::within_nonnegative(abs_x, T::ZERO, T::of(FLOW_DP_RATIO_IMPOSSIBLE))
+            } else {
+                abs_x <= T::of(FLOW_DP_RATIO_IMPOSSIBLE)
+            }
+        };
         let plausible = inputs_q.is_usable()
             && ps_positive
-            && (within_validity || abs_x <= T::of(FLOW_DP_RATIO_IMPOSSIBLE))
+            && (within_validity || possible(abs_x))
             && T::within_positive(ratio, T::ONE, largest_finite());
         if !plausible {
             return (Measured::bad(), Measured::bad(), implausible(ps, pd, dp));

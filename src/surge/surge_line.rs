@@ -87,7 +87,7 @@ pub struct LinePoint<T> {
     pub head_number: T,
     /// Flow number X = Δp/ps, -.
     pub flow_number: T,
-    /// Control margin of this speed line, -.
+    /// Control margin of this speed line, - (a configured −0 kept as +0).
     pub control_margin: T,
     /// Reduced speed N/√(Z R Ts), rpm/(m/s).
     pub reduced_speed: T,
@@ -233,7 +233,14 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
                     config.flow_coefficient,
                     zrt,
                 ),
-                control_margin: p.control_margin,
+                // `+ 0`: a configured −0 is kept as +0, so that no control
+                // margin from the lookup is −0 (an interpolated one never
+                // is: `m_a + f·(m_b − m_a)` with `m_a >= +0` and `f >= 0`
+                // is +0 or positive) and adding a zero margin to it changes
+                // no bit (see `SurgeMonitor`). Here, not in the lookup: there
+                // the addition was formed ahead of its branch (speculated: a
+                // library call on a soft-float core every scan).
+                control_margin: p.control_margin + T::ZERO,
                 reduced_speed: reduced_speed(p.speed_rpm, zrt),
             };
             if !(finite_pos(r.head_number) && finite_pos(r.flow_number)) {
@@ -339,8 +346,7 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
         };
         let held = LineLookup {
             surge_flow_number: first.flow_number,
-            // `+ 0`: a configured −0 comes out +0 (see below).
-            control_margin: first.control_margin + T::ZERO,
+            control_margin: first.control_margin,
             quality: Quality::Uncertain,
         };
         if k == 0 {
@@ -382,16 +388,8 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             if !T::is_finite(q2) {
                 return bad;
             }
-            // The last point's, `+ 0`: a configured −0 comes out +0, so
-            // that no control margin from the lookup is −0 (an interpolated
-            // one never is: `m_a + f·(m_b − m_a)` with `m_a >= 0`, `f >= 0`
-            // and `m_b − m_a` not −0), and adding a zero margin to it changes
-            // no bit (see `SurgeMonitor`). Here, not at construction: the
-            // held points are the rare path.
-            let last = self
-                .points
-                .get(j + 1)
-                .map_or(T::ZERO, |p| p.control_margin + T::ZERO);
+            // The last point's (never −0: see the construction).
+            let last = self.points.get(j + 1).map_or(T::ZERO, |p| p.control_margin);
             (last, Quality::Uncertain)
         };
         LineLookup {
