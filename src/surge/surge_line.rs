@@ -378,9 +378,10 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             };
             (cm, Quality::Good)
         } else {
-            // A negative head (it reached no slot) lies below the first
-            // point: held (a float comparison: false for NaN; the rare path).
-            if head < first.head_number {
+            // With `BITS` a negative head (it reached no slot) lies below
+            // the first point: held (a float comparison: false for NaN; the
+            // rare path). Compared as floats it was held above.
+            if BITS && head < first.head_number {
                 return held;
             }
             // Extended: a steep last segment at an absurd head (or a NaN or
