@@ -89,26 +89,28 @@ pub fn ratio_from_head_number<T: Real>(head_number: T, sigma: T) -> T {
 /// repeated ratio is bit-for-bit the same one and its logarithm is reused).
 #[derive(Clone, Copy, Debug)]
 pub(crate) struct LnRatio<T> {
-    /// The ratio whose logarithm is held; NaN (equal to nothing) until one
-    /// is taken.
+    /// The ratio whose logarithm is held (1 until one is taken).
     ratio: T,
+    /// `T::ln(ratio)`, bit for bit.
     ln: T,
 }
 
 impl<T: Real> LnRatio<T> {
-    /// Nothing taken yet.
+    /// Nothing taken yet: the pair `ln 1 = +0` (exact in every `ln` the
+    /// kernel builds with; `tests` below).
     pub(crate) fn new() -> Self {
         LnRatio {
-            ratio: T::of(f64::NAN),
+            ratio: T::ONE,
             ln: T::ZERO,
         }
     }
 
-    /// `ln(ratio)`, reusing the last one if `ratio` is the same value (a NaN
-    /// never is; ±0 give the same `ln`).
+    /// `ln(ratio)`, reusing the held one if `ratio` has the same bits (the
+    /// same input gives the same `ln`, NaN too). Compared as integers: no
+    /// library call on a soft-float core.
     #[inline]
     pub(crate) fn of(&mut self, ratio: T) -> T {
-        if ratio != self.ratio {
+        if !T::same_bits(ratio, self.ratio) {
             self.ratio = ratio;
             self.ln = T::ln(ratio);
         }
@@ -210,11 +212,13 @@ pub fn heron_root<T: Real>(q: T) -> T {
     heron_steps(q)
 }
 
-/// Whether [`heron_root`] iterates for `q`: an `f32` in `[1/4, 4]`.
+/// Whether [`heron_root`] iterates for `q`: an `f32` in `[1/4, 4]`
+/// (decided on the bit pattern, one integer comparison; NaN, zeros and
+/// negatives fall outside as in the float comparisons).
 #[inline(always)]
 fn heron_range<T: Real>(q: T) -> bool {
     let single = T::EPSILON > T::of(1.0e-10);
-    single && q >= T::of(ROOT_LOW) && q <= T::of(ROOT_HIGH)
+    single && T::within_positive(q, T::of(ROOT_LOW), T::of(ROOT_HIGH))
 }
 
 /// Heron's steps of [`heron_root`] for a `q` in its range.
@@ -235,7 +239,15 @@ fn signed_root_by<T: Real>(x: T, heron: bool) -> T {
     if heron && heron_range(x) {
         return heron_steps(x);
     }
-    if x < T::ZERO {
+    // The sign on the bit patterns without an FPU (a float comparison is a
+    // library call there): the same branch for every `x` but a NaN, which
+    // gives a NaN either way.
+    let negative = if heron {
+        x < T::ZERO
+    } else {
+        T::less_than(x, T::ZERO)
+    };
+    if negative {
         -root_by(-x, heron)
     } else {
         root_by(x, heron)
@@ -308,6 +320,20 @@ mod tests {
             let (h, l) = (signed_root_by(x, true), signed_root_by(x, false));
             assert_eq!(h.to_bits(), before(x, heron_root).to_bits(), "{x}");
             assert_eq!(l.to_bits(), before(x, libm::sqrtf).to_bits(), "{x}");
+        }
+    }
+
+    /// The pair a fresh [`LnRatio`] holds is the logarithm's own: `ln 1`
+    /// is `+0`, bit for bit (IEEE 754 `log(1) = +0`; libm), for both widths,
+    /// and a held logarithm is the one `T::ln` gives, NaN included.
+    #[test]
+    fn ln_ratio_holds_the_logarithms_bits() {
+        assert_eq!(<f32 as Real>::ln(1.0).to_bits(), 0.0_f32.to_bits());
+        assert_eq!(<f64 as Real>::ln(1.0).to_bits(), 0.0_f64.to_bits());
+        let mut l = LnRatio::<f32>::new();
+        assert_eq!(l.of(1.0).to_bits(), 0);
+        for r in [2.5_f32, 2.5, 1.0, -0.0, 0.0, f32::NAN, f32::NAN, 1.0e38] {
+            assert_eq!(l.of(r).to_bits(), <f32 as Real>::ln(r).to_bits(), "{r}");
         }
     }
 

@@ -55,10 +55,10 @@
 //! shared with the head number) and three divisions (figures:
 //! `ci/measurements.md`).
 
-use super::check_setting;
 use super::coordinates::{flow_number, head_number_from_ln, signed_margin_root, LnRatio};
 use super::exponent::{ExponentConfig, ExponentEstimator, ExponentSource, ExponentState};
 use super::surge_line::SurgeLine;
+use super::{above_zero, at_most, check_setting, largest_finite, positive_finite, BIT_COMPARES};
 use crate::error::{ConfigError, Problem};
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
@@ -330,8 +330,9 @@ pub struct SurgeMonitor<T, const N: usize> {
     gap: T,
     /// The rate filter's settling time, [`SETTLE_TIME_CONSTANTS`] `τ_a`.
     settle: T,
-    /// The scan interval the rate filter's gain was last formed for, s (NaN:
-    /// none yet); always one that passed the interval test.
+    /// The scan interval the rate filter's gain was last formed for, s (the
+    /// configured scan period until another is seen); always one that
+    /// passed the interval test.
     gain_dt: T,
     /// The rate filter's gain `dt / (τ_a + dt)` for `gain_dt`.
     gain: T,
@@ -370,8 +371,10 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             config,
             gap: config.rate_filter_time * T::of(MAX_RATE_GAP),
             settle: T::of(SETTLE_TIME_CONSTANTS) * config.rate_filter_time,
-            gain_dt: T::of(f64::NAN),
-            gain: T::ZERO,
+            // The scan period passes the interval test (`0 < period <=
+            // τ_a < 4 τ_a`), and its gain is the expression `update` forms.
+            gain_dt: config.scan_period,
+            gain: config.scan_period / (config.rate_filter_time + config.scan_period),
             rate: RateFilter::new(),
             exponent,
             state: SurgeState::bad(),
@@ -430,11 +433,13 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
     /// verdict; bad if an input is not finite, a pressure is not positive,
     /// Δp/ps is impossible or discharge is below suction.
     pub fn map_point(&self, scan: &SurgeScan<T>) -> (Measured<T>, Measured<T>, SurgeFault) {
-        self.map_point_sharing(scan, &mut LnRatio::new())
+        self.map_point_sharing::<BIT_COMPARES>(scan, &mut LnRatio::new())
     }
 
-    /// [`Self::map_point`] taking `ln r` from (and leaving it in) `ln_ratio`.
-    fn map_point_sharing(
+    /// [`Self::map_point`] taking `ln r` from (and leaving it in) `ln_ratio`;
+    /// `BITS`: see [`BIT_COMPARES`].
+    #[inline(always)]
+    fn map_point_sharing<const BITS: bool>(
         &self,
         scan: &SurgeScan<T>,
         ln_ratio: &mut LnRatio<T>,
@@ -453,13 +458,37 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         // rules out a non-finite `Δp` and `X`. A rejected scan is classified
         // there, in the documented order.
         // `|X| <= 0.25` (the usual case) settles both flow-element tests
-        // with one comparison (false for NaN, as the other is).
-        let within_validity = T::abs(x) <= T::of(FLOW_DP_RATIO_VALID);
+        // with one comparison (false for NaN, as the other is). `r >= 1`
+        // and finite is one test on the bits (`r` in `[1, largest finite]`,
+        // NaN outside; fewer instructions than two float compares, with an
+        // FPU too). With `BITS` the other usual tests are made on the bits
+        // as well, with the same verdicts: `|X|` in `[0, 0.25]` (NaN
+        // outside), `ps` positive and finite (a non-finite `ps` fails the
+        // ratio test in any case).
+        let abs_x = T::abs(x);
+        let within_validity = if BITS {
+            T::within_nonnegative(abs_x, T::ZERO, T::of(FLOW_DP_RATIO_VALID))
+        } else {
+            abs_x <= T::of(FLOW_DP_RATIO_VALID)
+        };
+        let ps_positive = if BITS {
+            positive_finite(ps.value)
+        } else {
+            ps.value > T::ZERO
+        };
+        // (On the bits also the test for `0.52`, or it is formed ahead of
+        // its branch: a library call every scan.)
+        let possible = |abs_x: T| {
+            if BITS {
+                T::within_nonnegative(abs_x, T::ZERO, T::of(FLOW_DP_RATIO_IMPOSSIBLE))
+            } else {
+                abs_x <= T::of(FLOW_DP_RATIO_IMPOSSIBLE)
+            }
+        };
         let plausible = inputs_q.is_usable()
-            && ps.value > T::ZERO
-            && (within_validity || T::abs(x) <= T::of(FLOW_DP_RATIO_IMPOSSIBLE))
-            && ratio >= T::ONE
-            && T::is_finite(ratio);
+            && ps_positive
+            && (within_validity || possible(abs_x))
+            && T::within_positive(ratio, T::ONE, largest_finite());
         if !plausible {
             return (Measured::bad(), Measured::bad(), implausible(ps, pd, dp));
         }
@@ -491,25 +520,26 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
     /// present σ (in measured-exponent mode the σ filter is advanced only by
     /// [`Self::update`]; the scan's temperatures are not read here).
     pub fn evaluate(&self, scan: &SurgeScan<T>, added_margin: T) -> SurgeState<T> {
-        self.evaluate_sharing(scan, added_margin, &mut LnRatio::new())
+        self.evaluate_sharing::<BIT_COMPARES>(scan, added_margin, &mut LnRatio::new())
     }
 
-    /// [`Self::evaluate`] taking `ln r` from (and leaving it in) `ln_ratio`.
+    /// [`Self::evaluate`] taking `ln r` from (and leaving it in) `ln_ratio`;
+    /// `BITS`: see [`BIT_COMPARES`].
     #[inline(always)]
-    fn evaluate_sharing(
+    fn evaluate_sharing<const BITS: bool>(
         &self,
         scan: &SurgeScan<T>,
         added_margin: T,
         ln_ratio: &mut LnRatio<T>,
     ) -> SurgeState<T> {
-        let (x, y, mut fault) = self.map_point_sharing(scan, ln_ratio);
+        let (x, y, mut fault) = self.map_point_sharing::<BITS>(scan, ln_ratio);
         if !x.quality.is_usable() || !y.quality.is_usable() {
             return SurgeState {
                 exponent: self.exponent.state(),
                 ..SurgeState::bad_because(fault)
             };
         }
-        let look = self.line.lookup(y.value);
+        let look = self.line.lookup_by::<BITS>(y.value);
         if look.quality != Quality::Good && fault == SurgeFault::None {
             fault = SurgeFault::BeyondMap;
         }
@@ -535,7 +565,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         // `|m| <= √MAX + 1` (< 2e19 for f32, < 2e154 for f64), and a bad one
         // is 0: far below the spacing of floats near the largest finite
         // value, so the difference is finite too (`tests` below).
-        let control_value = if T::is_finite(added_margin) && added_margin > T::ZERO {
+        let control_value = if positive_finite(added_margin) {
             look.control_margin + added_margin
         } else {
             look.control_margin
@@ -569,17 +599,30 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
     /// `added_margin` is the margin added after surge cycles (from
     /// [`super::detection::SurgeDetector`]; 0 without one). Never panics; bad
     /// inputs give a bad margin and restart the rate filter.
+    #[inline(always)]
     pub fn update(&mut self, scan: &SurgeScan<T>, added_margin: T, dt: T) -> &SurgeState<T> {
+        self.update_by::<BIT_COMPARES>(scan, added_margin, dt)
+    }
+
+    /// [`Self::update`]; `BITS`: see [`BIT_COMPARES`].
+    fn update_by<const BITS: bool>(
+        &mut self,
+        scan: &SurgeScan<T>,
+        added_margin: T,
+        dt: T,
+    ) -> &SurgeState<T> {
         // One `ln r` per scan, shared by σ (measured mode) and the head.
         let mut ln_ratio = LnRatio::new();
         self.update_exponent(scan, dt, &mut ln_ratio);
-        let mut state = self.evaluate_sharing(scan, added_margin, &mut ln_ratio);
-        // `gain_dt` is NaN or an interval that passed the test below, so an
-        // interval equal to it passes without testing again. The gain is
-        // formed again only when the interval changes (the same expression,
-        // so the same bits). `dt > 0 && dt <= gap` is false for NaN and for
-        // +inf too.
-        let dt_ok = if dt == self.gain_dt {
+        let mut state = self.evaluate_sharing::<BITS>(scan, added_margin, &mut ln_ratio);
+        // `gain_dt` is an interval that passed the test below (the scan
+        // period at first), so an interval with the same bits passes without
+        // testing again (compared as integers: no library call on a
+        // soft-float core; `gain_dt` is positive, so bit equality is float
+        // equality). The gain is formed again only when the interval changes
+        // (the same expression, so the same bits). `dt > 0 && dt <= gap` is
+        // false for NaN and for +inf too.
+        let dt_ok = if T::same_bits(dt, self.gain_dt) {
             true
         } else if dt > T::ZERO && dt <= self.gap {
             self.gain = dt / (self.config.rate_filter_time + dt);
@@ -597,7 +640,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         } else {
             self.rate = RateFilter::new();
         }
-        let (rate, time) = self.rate_and_time(state.margin);
+        let (rate, time) = self.rate_and_time::<BITS>(state.margin);
         state.rate_of_approach = rate;
         state.time_to_surge = time;
         // The σ of this scan copied from where it is kept, after the rest
@@ -631,7 +674,8 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
 
     /// Rate of approach from the filter, and the time to surge. Bad before
     /// the second sample, uncertain until the filter has run `4 τ_a`.
-    fn rate_and_time(&self, margin: Measured<T>) -> (Measured<T>, Measured<T>) {
+    /// `BITS`: see [`BIT_COMPARES`].
+    fn rate_and_time<const BITS: bool>(&self, margin: Measured<T>) -> (Measured<T>, Measured<T>) {
         let settled = match self.rate.phase {
             Phase::Settled => Quality::Good,
             Phase::Running => Quality::Uncertain,
@@ -647,11 +691,19 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         // at most the horizon and `q` is usable: `Measured::derived` would
         // change neither value nor quality.
         let rate = Measured::new(approach, q);
+        // The margin and the rate are finite, and `t = m/a` of a positive
+        // `m` and `a` is `+0` to `+∞`, never NaN, against a positive finite
+        // horizon: the compares may be made on the bits.
         let horizon = self.config.time_to_surge_horizon;
-        let t = if margin.value <= T::ZERO {
+        let t = if !above_zero::<T, BITS>(margin.value) {
             T::ZERO
-        } else if approach > T::ZERO {
-            T::min(margin.value / approach, horizon)
+        } else if above_zero::<T, BITS>(approach) {
+            let t = margin.value / approach;
+            if at_most::<T, BITS>(t, horizon) {
+                t
+            } else {
+                horizon
+            }
         } else {
             horizon
         };
@@ -685,6 +737,116 @@ mod tests {
             return Some(SurgeFault::DischargeBelowSuction);
         }
         None
+    }
+
+    /// The same value bits and quality.
+    fn same<T: Real>(a: Measured<T>, b: Measured<T>) -> bool {
+        T::same_bits(a.value, b.value) && a.quality == b.quality
+    }
+
+    /// Every output of two states, bit for bit.
+    fn same_state<T: Real>(a: &SurgeState<T>, b: &SurgeState<T>) -> bool {
+        let pairs = [
+            (a.flow_number, b.flow_number),
+            (a.head_number, b.head_number),
+            (a.surge_flow_number, b.surge_flow_number),
+            (a.margin, b.margin),
+            (a.control_margin, b.control_margin),
+            (a.clearance, b.clearance),
+            (a.rate_of_approach, b.rate_of_approach),
+            (a.time_to_surge, b.time_to_surge),
+            (a.exponent.sigma, b.exponent.sigma),
+        ];
+        pairs.iter().all(|&(x, y)| same(x, y))
+            && a.fault == b.fault
+            && a.exponent.source == b.exponent.source
+            && a.exponent.fault == b.exponent.fault
+    }
+
+    /// Consistency check: the monitor comparing on the bit patterns (the
+    /// soft-float form) and with float compares (the FPU form) gives every
+    /// output bit for bit alike, scan after scan, over operating points
+    /// below, on, between and above the mapped heads, approaching and
+    /// leaving the line (time to surge capped and not), reverse flow, bad
+    /// and special inputs (NaN of both signs, ±∞, ±0), clock faults (zero,
+    /// negative, NaN, infinite, long and changing intervals) and added
+    /// margins, in both modes of the exponent.
+    fn bit_compares_match<T: Real>() {
+        let configured = monitor::<T>();
+        let measured = monitor::<T>()
+            .with_measured_exponent(ExponentConfig {
+                filter_time: T::of(2.0),
+                temperature_accuracy: T::of(0.2),
+            })
+            .unwrap();
+        for start in [configured, measured] {
+            let start_line = start.line().clone();
+            // Seen: time to surge 0, below the horizon, capped; beyond the
+            // mapped heads above and below; Δp outside ISO 5167 validity.
+            let mut seen = [false; 6];
+            let (mut f, mut b) = (start.clone(), start);
+            let specials = [
+                f64::NAN,
+                -f64::NAN,
+                f64::INFINITY,
+                -f64::INFINITY,
+                0.0,
+                -0.0,
+            ];
+            for i in 0..600_usize {
+                // Which special value, interval or added margin this time.
+                let k = i / 23;
+                let phase = (i % 200) as f64;
+                // A slow swing through the map and across the line.
+                let ps = 1.0e5;
+                let pd = 1.05e5 + 1.6e3 * phase;
+                let mut dp = 2.6e3 - 12.0 * phase + 40.0 * ((i % 7) as f64);
+                let mut pd_v = pd;
+                let mut dt = 0.02;
+                let mut added = 0.0;
+                match i % 23 {
+                    3 => dp = -dp,
+                    5 => dp = specials[k % specials.len()],
+                    7 => pd_v = specials[k % specials.len()],
+                    11 => dt = [0.0, -0.02, f64::NAN, f64::INFINITY, 0.5, 0.01, 0.03][k % 7],
+                    13 => added = [0.05, -0.05, f64::NAN, f64::INFINITY, 1.0e30][k % 5],
+                    17 => dp = 0.6 * ps,
+                    19 => dp = 0.3 * ps,
+                    _ => {}
+                }
+                let t_s = 293.15;
+                let t_d = t_s * (pd_v / ps).powf(0.3);
+                let scan = SurgeScan {
+                    suction_pressure: Measured::good(PressureAbs::from_pa(T::of(ps))),
+                    discharge_pressure: Measured::good(PressureAbs::from_pa(T::of(pd_v))),
+                    flow_dp: Measured::good(T::of(dp)),
+                    suction_temperature: Measured::good(Kelvin::new(T::of(t_s))),
+                    discharge_temperature: Measured::good(Kelvin::new(T::of(t_d))),
+                };
+                let sf = *f.update_by::<false>(&scan, T::of(added), T::of(dt));
+                let sb = *b.update_by::<true>(&scan, T::of(added), T::of(dt));
+                assert!(same_state(&sf, &sb), "scan {i}: {sf:?} {sb:?}");
+                if sf.time_to_surge.quality.is_usable() {
+                    let t = sf.time_to_surge.value;
+                    seen[usize::from(t > T::ZERO) + usize::from(t == T::of(60.0))] = true;
+                }
+                if sf.surge_flow_number.quality == Quality::Uncertain {
+                    let below = sf.head_number.value < start_line.points()[0].head_number;
+                    seen[3 + usize::from(below)] = true;
+                }
+                seen[5] |= sf.fault == SurgeFault::FlowDpOutsideValidity;
+                let ef = f.evaluate_sharing::<false>(&scan, T::of(added), &mut LnRatio::new());
+                let eb = b.evaluate_sharing::<true>(&scan, T::of(added), &mut LnRatio::new());
+                assert!(same_state(&ef, &eb), "scan {i}: {ef:?} {eb:?}");
+            }
+            assert_eq!(seen, [true; 6]);
+        }
+    }
+
+    #[test]
+    fn bit_compares_give_the_float_compares_bits() {
+        bit_compares_match::<f64>();
+        bit_compares_match::<f32>();
     }
 
     /// The monitor on the invented surge map of the tests.
@@ -742,6 +904,15 @@ mod tests {
                             dp,
                         );
                         let (x, y, fault) = m.map_point(&scan);
+                        // Both ways of comparing, the same bits.
+                        let mut l = (LnRatio::new(), LnRatio::new());
+                        let by_float = m.map_point_sharing::<false>(&scan, &mut l.0);
+                        let by_bits = m.map_point_sharing::<true>(&scan, &mut l.1);
+                        assert!(
+                            same(by_float.0, by_bits.0)
+                                && same(by_float.1, by_bits.1)
+                                && by_float.2 == by_bits.2
+                        );
                         match documented(ps, pd, dp) {
                             Some(want) => {
                                 assert_eq!(fault, want, "{a} {b} {c} {qa:?}");

@@ -90,3 +90,66 @@ pub(crate) fn check_setting<T: crate::real::Real>(
 ) -> Result<T, crate::error::ConfigError> {
     crate::error::check_range(field, value, min, max)
 }
+
+/// How the surge path compares floats: on their bit patterns (`true`) where
+/// a float comparison is a library call (no FPU: Cortex-M0; some 30
+/// instructions each), with the FPU's compare (`false`) where there is one
+/// (two or three instructions, fewer than the integer forms). The functions
+/// that compare take it as a const parameter, so that the tests run both.
+pub(crate) const BIT_COMPARES: bool = !crate::real::HARD_FLOAT;
+
+/// `x > 0` for an `x` known finite: the FPU's compare, or
+/// [`positive_finite`] on the bits (`BITS`; the same verdict for every
+/// finite `x`).
+#[inline(always)]
+pub(crate) fn above_zero<T: crate::real::Real, const BITS: bool>(x: T) -> bool {
+    if BITS {
+        positive_finite(x)
+    } else {
+        x > T::ZERO
+    }
+}
+
+/// `x <= hi` for `x` from `+0` to `+∞` (not NaN) and a finite `hi > 0`:
+/// the FPU's compare, or on the bits (`BITS`; for non-negative floats the
+/// order of the bits is the numeric one).
+#[inline(always)]
+pub(crate) fn at_most<T: crate::real::Real, const BITS: bool>(x: T, hi: T) -> bool {
+    if BITS {
+        T::within_nonnegative(x, T::ZERO, hi)
+    } else {
+        x <= hi
+    }
+}
+
+/// The largest finite value of `T` (`f32` or `f64`; a constant once `T` is
+/// known).
+#[inline(always)]
+pub(crate) fn largest_finite<T: crate::real::Real>() -> T {
+    if T::EPSILON > T::of(1.0e-10) {
+        T::of(f64::from(f32::MAX))
+    } else {
+        T::of(f64::MAX)
+    }
+}
+
+/// The smallest positive (subnormal) value of `T` (`f32` or `f64`).
+#[inline(always)]
+pub(crate) fn smallest_positive<T: crate::real::Real>() -> T {
+    if T::EPSILON > T::of(1.0e-10) {
+        T::of(f64::from(f32::from_bits(1)))
+    } else {
+        T::of(f64::from_bits(1))
+    }
+}
+
+/// `x > 0 && x` finite, decided on the bit pattern
+/// ([`crate::real::Real::within_positive`] from the smallest positive to the
+/// largest finite value): one integer comparison, where a float comparison
+/// is a library call on a soft-float core (Cortex-M0) and two or three
+/// instructions with an FPU. NaN, zeros, negatives and infinities are
+/// outside, as in the float comparisons.
+#[inline(always)]
+pub(crate) fn positive_finite<T: crate::real::Real>(x: T) -> bool {
+    T::within_positive(x, smallest_positive(), largest_finite())
+}

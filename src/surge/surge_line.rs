@@ -87,7 +87,7 @@ pub struct LinePoint<T> {
     pub head_number: T,
     /// Flow number X = Δp/ps, -.
     pub flow_number: T,
-    /// Control margin of this speed line, -.
+    /// Control margin of this speed line, - (a configured −0 kept as +0).
     pub control_margin: T,
     /// Reduced speed N/√(Z R Ts), rpm/(m/s).
     pub reduced_speed: T,
@@ -233,7 +233,14 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
                     config.flow_coefficient,
                     zrt,
                 ),
-                control_margin: p.control_margin,
+                // `+ 0`: a configured −0 is kept as +0, so that no control
+                // margin from the lookup is −0 (an interpolated one never
+                // is: `m_a + f·(m_b − m_a)` with `m_a >= +0` and `f >= 0`
+                // is +0 or positive) and adding a zero margin to it changes
+                // no bit (see `SurgeMonitor`). Here, not in the lookup: there
+                // the addition was formed ahead of its branch (speculated: a
+                // library call on a soft-float core every scan).
+                control_margin: p.control_margin + T::ZERO,
                 reduced_speed: reduced_speed(p.speed_rpm, zrt),
             };
             if !(finite_pos(r.head_number) && finite_pos(r.flow_number)) {
@@ -298,37 +305,59 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
     /// does not give a finite surge flow (a steep last segment at an absurd
     /// head, or a head that is not finite).
     pub fn lookup(&self, head: T) -> LineLookup<T> {
+        self.lookup_by::<{ super::BIT_COMPARES }>(head)
+    }
+
+    /// [`Self::lookup`]; `BITS`: see [`super::BIT_COMPARES`].
+    #[inline]
+    pub(crate) fn lookup_by<const BITS: bool>(&self, head: T) -> LineLookup<T> {
         let bad = LineLookup {
             surge_flow_number: T::ZERO,
             control_margin: T::ZERO,
             quality: Quality::Bad,
         };
         // The first slot whose upper head reaches `head`: a segment, or the
-        // first unbounded slot above the mapped heads (a NaN head reaches
-        // none and takes the last slot, also unbounded). Above the mapped
-        // heads the last segment is extended.
+        // first unbounded slot above the mapped heads. A NaN head reaches
+        // none and takes the last slot, also unbounded. With `BITS`
+        // compared on the bit patterns (`−0 <= head <= upper`; from −0 up
+        // the order of the bits is the numeric one, `+∞` included), where a
+        // negative head reaches none either (see the extension below).
+        // Above the mapped heads the last segment is extended.
         let mut k = N - 1;
         for (i, segment) in self.segments.iter().enumerate() {
-            if head <= segment.head_hi {
+            let reaches = if BITS {
+                T::within_nonnegative(head, T::ZERO, segment.head_hi)
+            } else {
+                head <= segment.head_hi
+            };
+            if reaches {
                 k = i;
                 break;
             }
         }
-        // Below the first point (only a head in the first slot can be; the
-        // test made here, not before the search, is one comparison fewer
-        // for a head in any other slot) the first point is held.
+        // Below the first point the first point is held: a head in the
+        // first slot (the test made here, not before the search, is one
+        // comparison fewer for a head in any other slot; with `BITS` on the
+        // bits, the head lying in `[−0, upper]`), or a negative one that
+        // reached no slot (below).
+        let Some(first) = self.points.first() else {
+            // Unreachable (`N >= 2`: the slot exists).
+            return bad;
+        };
+        let held = LineLookup {
+            surge_flow_number: first.flow_number,
+            control_margin: first.control_margin,
+            quality: Quality::Uncertain,
+        };
         if k == 0 {
-            // `N >= 2`: the slot exists.
-            let Some(first) = self.points.first() else {
-                return bad;
+            let below = if BITS {
+                let upper = self.segments.first().map_or(T::ZERO, |s| s.head_hi);
+                !T::within_nonnegative(head, first.head_number, upper)
+            } else {
+                head < first.head_number
             };
-            if head < first.head_number {
-                return LineLookup {
-                    surge_flow_number: first.flow_number,
-                    // `+ 0`: a configured −0 comes out +0 (see below).
-                    control_margin: first.control_margin + T::ZERO,
-                    quality: Quality::Uncertain,
-                };
+            if below {
+                return held;
             }
         }
         let j = k.min(self.last_segment);
@@ -349,21 +378,19 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             };
             (cm, Quality::Good)
         } else {
+            // With `BITS` a negative head (it reached no slot) lies below
+            // the first point: held (a float comparison: false for NaN; the
+            // rare path). Compared as floats it was held above.
+            if BITS && head < first.head_number {
+                return held;
+            }
             // Extended: a steep last segment at an absurd head (or a NaN or
             // infinite one) gives a surge flow that is not finite: bad.
             if !T::is_finite(q2) {
                 return bad;
             }
-            // The last point's, `+ 0`: a configured −0 comes out +0, so
-            // that no control margin from the lookup is −0 (an interpolated
-            // one never is: `m_a + f·(m_b − m_a)` with `m_a >= 0`, `f >= 0`
-            // and `m_b − m_a` not −0), and adding a zero margin to it changes
-            // no bit (see `SurgeMonitor`). Here, not at construction: the
-            // held points are the rare path.
-            let last = self
-                .points
-                .get(j + 1)
-                .map_or(T::ZERO, |p| p.control_margin + T::ZERO);
+            // The last point's (never −0: see the construction).
+            let last = self.points.get(j + 1).map_or(T::ZERO, |p| p.control_margin);
             (last, Quality::Uncertain)
         };
         LineLookup {
@@ -445,7 +472,8 @@ mod tests {
     /// quality) at every head tried, below, on, between and above the
     /// points, at the extremes and for NaN, for 2 to 4 points in 4 slots,
     /// with a control margin per speed line and with one margin for all
-    /// (the lookup then skips interpolating it).
+    /// (the lookup then skips interpolating it), comparing heads with the
+    /// FPU's compares and on the bit patterns alike.
     fn same_bits<T: Real>(bits: fn(T) -> u64) {
         for (count, uniform) in (2..=4).flat_map(|c| [(c, false), (c, true)]) {
             let l = line::<T, 4>(count, uniform);
@@ -454,6 +482,8 @@ mod tests {
             assert_eq!(pts.len(), count);
             let mut heads = std::vec![
                 T::ZERO,
+                -T::ZERO,
+                -T::of(1e-30),
                 -T::ONE,
                 T::of(1e-30),
                 T::of(1e30),
@@ -468,8 +498,13 @@ mod tests {
             for p in pts {
                 heads.push(p.head_number);
             }
-            for h in heads {
-                let (got, want) = (l.lookup(h), reference(pts, h));
+            for (h, bits_first) in heads.iter().flat_map(|&h| [(h, false), (h, true)]) {
+                let got = if bits_first {
+                    l.lookup_by::<true>(h)
+                } else {
+                    l.lookup_by::<false>(h)
+                };
+                let want = reference(pts, h);
                 assert_eq!(got.quality, want.quality, "head {h}");
                 assert_eq!(
                     bits(got.surge_flow_number),
@@ -482,12 +517,17 @@ mod tests {
                     "head {h}"
                 );
             }
-            // A head that is not finite: a bad lookup with finite values.
-            for h in [f64::NAN, f64::INFINITY] {
-                let got = l.lookup(T::of(h));
-                assert_eq!(got.quality, Quality::Bad);
-                assert_eq!(reference(pts, T::of(h)), got);
-                assert_eq!(bits(got.surge_flow_number), bits(T::ZERO));
+            // A head that is not finite: a bad lookup with finite values
+            // (NaN of either sign), both ways of comparing.
+            for h in [f64::NAN, -f64::NAN, f64::INFINITY] {
+                for got in [
+                    l.lookup_by::<false>(T::of(h)),
+                    l.lookup_by::<true>(T::of(h)),
+                ] {
+                    assert_eq!(got.quality, Quality::Bad);
+                    assert_eq!(reference(pts, T::of(h)), got);
+                    assert_eq!(bits(got.surge_flow_number), bits(T::ZERO));
+                }
             }
         }
     }

@@ -316,7 +316,16 @@ impl<G: GasModel<f32>> Controller<G> {
             }
         });
         self.last_ms = Some(t_ms);
-        dt_ms as f32 * 1.0e-3
+        // Without an FPU (Cortex-M0) the usual interval's value is formed at
+        // compile time (the same product, so the same bits): the conversion
+        // and the multiplication are two soft-float calls every scan there
+        // (with an FPU two instructions, fewer than the test).
+        const NOMINAL_S: f32 = SCAN_MS as f32 * 1.0e-3;
+        if cfg!(not(target_abi = "eabihf")) && dt_ms == SCAN_MS {
+            NOMINAL_S
+        } else {
+            dt_ms as f32 * 1.0e-3
+        }
     }
 
     /// Phase 1 of [`Controller::scan`]: every channel; writes the filtered
