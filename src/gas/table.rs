@@ -1478,11 +1478,15 @@ impl<'a, T: Real> TableGas<'a, T> {
         }
         let mut known = None;
         if LOOKUP {
+            // Keys compared on their bit patterns (integer compares): equal
+            // bits give the state a fresh evaluation would (also for a NaN
+            // temperature: bad either way), a zero of the other sign is
+            // evaluated afresh.
             for (k, kp) in self.memo_p.iter().enumerate() {
-                if kp.get() == p {
+                if T::same_bits(kp.get(), p) {
                     if let (Some(kt), Some(memo)) = (self.memo_t.get(k), self.memo.get(k)) {
                         let m = memo.get();
-                        if kt.get() == t && (m.ln_exact || !EXACT) {
+                        if T::same_bits(kt.get(), t) && (m.ln_exact || !EXACT) {
                             return m;
                         }
                         if m.ln_exact {
