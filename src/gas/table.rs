@@ -1155,7 +1155,11 @@ impl<'a, T: Real> TableGas<'a, T> {
     #[inline(always)]
     fn cut<const WANT: u8>(&self, leaf: Leaf<'a, T>, n: [&Node; 4], x: T) -> Cut<'a, T> {
         let zero = T::ZERO;
-        let u = T::clamp((x - leaf.x0) * leaf.inv_dx, zero, T::ONE);
+        // Not clamped to [0, 1]: the leaf holds x (`locate`), so u leaves
+        // [0, 1] only by the rounding of the lattice coordinate (below
+        // 1e-4 of the leaf in f32), where the cubic continued is as close
+        // as the one at the leaf's edge.
+        let u = (x - leaf.x0) * leaf.inv_dx;
         let (hu, du) = hermite(u);
         let (a0, a1) = (hu[0], hu[1]);
         let (ad0, ad1) = (hu[2] * leaf.dx, hu[3] * leaf.dx);
@@ -1217,7 +1221,8 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// per edge (low T, high T).
     #[inline(always)]
     fn t_basis(leaf: &Leaf<'a, T>, y: T) -> TBasis<T> {
-        let v = T::clamp((y - leaf.y0) * leaf.inv_dy, T::ZERO, T::ONE);
+        // Not clamped: the leaf holds y (as u in `cut`).
+        let v = (y - leaf.y0) * leaf.inv_dy;
         let (hv, dv) = hermite(v);
         TBasis {
             b: [hv[0], hv[1]],
