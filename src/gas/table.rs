@@ -1155,7 +1155,11 @@ impl<'a, T: Real> TableGas<'a, T> {
     #[inline(always)]
     fn cut<const WANT: u8>(&self, leaf: Leaf<'a, T>, n: [&Node; 4], x: T) -> Cut<'a, T> {
         let zero = T::ZERO;
-        let u = T::clamp((x - leaf.x0) * leaf.inv_dx, zero, T::ONE);
+        // Not clamped to [0, 1]: the leaf holds x (`locate`), so u leaves
+        // [0, 1] only by the rounding of the lattice coordinate (below
+        // 1e-4 of the leaf in f32), where the cubic continued is as close
+        // as the one at the leaf's edge.
+        let u = (x - leaf.x0) * leaf.inv_dx;
         let (hu, du) = hermite(u);
         let (a0, a1) = (hu[0], hu[1]);
         let (ad0, ad1) = (hu[2] * leaf.dx, hu[3] * leaf.dx);
@@ -1217,7 +1221,8 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// per edge (low T, high T).
     #[inline(always)]
     fn t_basis(leaf: &Leaf<'a, T>, y: T) -> TBasis<T> {
-        let v = T::clamp((y - leaf.y0) * leaf.inv_dy, T::ZERO, T::ONE);
+        // Not clamped: the leaf holds y (as u in `cut`).
+        let v = (y - leaf.y0) * leaf.inv_dy;
         let (hv, dv) = hermite(v);
         TBasis {
             b: [hv[0], hv[1]],
@@ -1230,40 +1235,27 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// [`TableGas::combine`] with the T-basis already known.
     #[inline(always)]
     fn combine_at<const WANT: u8>(cut: &Cut<'a, T>, tb: &TBasis<T>) -> Patch<T> {
-        let zero = T::ZERO;
-        let mut out = Patch {
-            z: zero,
-            h: zero,
-            s: zero,
-            dh_dt: zero,
-            ds_dt: zero,
-            dz_dt: zero,
-            dz_dx: zero,
-            w: zero,
-        };
-        for (k, e) in cut.edges.iter().enumerate() {
-            // T-basis of the edge: value, tangent; their T-derivatives.
-            let (b, bd, db, dbd) = if k == 0 {
-                (tb.b[0], tb.bd[0], tb.db[0], tb.dbd[0])
-            } else {
-                (tb.b[1], tb.bd[1], tb.db[1], tb.dbd[1])
-            };
-            if WANT & W_Z != 0 {
-                out.z += b * e.z + bd * e.z_t;
-                out.dz_dt += db * e.z + dbd * e.z_t;
-                if WANT & W_ZX != 0 {
-                    out.dz_dx += b * e.z_x + bd * e.z_xt;
-                }
+        let mut out = Patch::ZERO;
+        let [e0, e1] = &cut.edges;
+        // Each output is the low edge's term plus the high edge's, with the
+        // T-basis of each edge (value, tangent; their T-derivatives).
+        let (b0, bd0, db0, dbd0) = (tb.b[0], tb.bd[0], tb.db[0], tb.dbd[0]);
+        let (b1, bd1, db1, dbd1) = (tb.b[1], tb.bd[1], tb.db[1], tb.dbd[1]);
+        if WANT & W_Z != 0 {
+            out.z = (b0 * e0.z + bd0 * e0.z_t) + (b1 * e1.z + bd1 * e1.z_t);
+            out.dz_dt = (db0 * e0.z + dbd0 * e0.z_t) + (db1 * e1.z + dbd1 * e1.z_t);
+            if WANT & W_ZX != 0 {
+                out.dz_dx = (b0 * e0.z_x + bd0 * e0.z_xt) + (b1 * e1.z_x + bd1 * e1.z_xt);
             }
-            if WANT & W_H != 0 {
-                out.h += b * e.h + bd * e.cp;
-                out.dh_dt += db * e.h + dbd * e.cp;
-            }
-            if WANT & (W_S | W_DS) != 0 {
-                out.s += b * e.s + bd * e.s_t;
-                if WANT & W_DS != 0 {
-                    out.ds_dt += db * e.s + dbd * e.s_t;
-                }
+        }
+        if WANT & W_H != 0 {
+            out.h = (b0 * e0.h + bd0 * e0.cp) + (b1 * e1.h + bd1 * e1.cp);
+            out.dh_dt = (db0 * e0.h + dbd0 * e0.cp) + (db1 * e1.h + dbd1 * e1.cp);
+        }
+        if WANT & (W_S | W_DS) != 0 {
+            out.s = (b0 * e0.s + bd0 * e0.s_t) + (b1 * e1.s + bd1 * e1.s_t);
+            if WANT & W_DS != 0 {
+                out.ds_dt = (db0 * e0.s + dbd0 * e0.s_t) + (db1 * e1.s + dbd1 * e1.s_t);
             }
         }
         out
@@ -1426,25 +1418,34 @@ impl<'a, T: Real> TableGas<'a, T> {
         // One test for every output asked for: a NaN or infinity in any of
         // them makes their sum non-finite (outputs not asked for are not
         // computed at all).
-        let mut sum = T::ZERO;
+        // (Started from the first output asked for, not from zero: the
+        // same finiteness, one addition less.)
+        let mut sum: Option<T> = None;
+        let mut add = |v: T| {
+            sum = Some(match sum {
+                Some(s) => s + v,
+                None => v,
+            });
+        };
         if OUT & W_Z != 0 {
-            sum += pt.z + pt.dz_dt;
+            add(pt.z + pt.dz_dt);
         }
         if OUT & W_ZX != 0 {
-            sum += pt.dz_dx;
+            add(pt.dz_dx);
         }
         if OUT & W_H != 0 {
-            sum += pt.h + pt.dh_dt;
+            add(pt.h + pt.dh_dt);
         }
         if OUT & (W_S | W_DS) != 0 {
-            sum += pt.s;
+            add(pt.s);
         }
         if OUT & W_DS != 0 {
-            sum += pt.ds_dt;
+            add(pt.ds_dt);
         }
         if OUT & W_W != 0 {
-            sum += pt.w;
+            add(pt.w);
         }
+        let sum = sum.unwrap_or(T::ZERO);
         let finite = T::is_finite(sum);
         let physical = (OUT & W_Z == 0 || pt.z > T::ZERO) && (OUT & W_H == 0 || pt.dh_dt > T::ZERO);
         if finite && physical {
@@ -1482,11 +1483,15 @@ impl<'a, T: Real> TableGas<'a, T> {
         }
         let mut known = None;
         if LOOKUP {
+            // Keys compared on their bit patterns (integer compares): equal
+            // bits give the state a fresh evaluation would (also for a NaN
+            // temperature: bad either way), a zero of the other sign is
+            // evaluated afresh.
             for (k, kp) in self.memo_p.iter().enumerate() {
-                if kp.get() == p {
+                if T::same_bits(kp.get(), p) {
                     if let (Some(kt), Some(memo)) = (self.memo_t.get(k), self.memo.get(k)) {
                         let m = memo.get();
-                        if kt.get() == t && (m.ln_exact || !EXACT) {
+                        if T::same_bits(kt.get(), t) && (m.ln_exact || !EXACT) {
                             return m;
                         }
                         if m.ln_exact {
