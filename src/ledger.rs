@@ -147,12 +147,14 @@ use crate::control::recycle_power;
 use crate::error::{check_range, ConfigError, Problem};
 use crate::fields::{Derivation, FieldSpec, FieldValue, QuantityKind, ResultFields};
 use crate::gas::GasModel;
+use crate::plausibility::Limits;
 use crate::quality::{Measured, Quality};
 use crate::real::Real;
-use crate::scan::{compressibility, mass_flow_kg_s, pressure_pa, temperature_k, Scan, StageScan};
+use crate::scan::{compressibility, mass_flow_kg_s, temperature_k, Scan, StageScan};
 use crate::stage::CompressorResult;
 use crate::staging::Sum;
 use crate::train::{Snapshot, TrainConfig};
+use crate::units::{Kelvin, PressureAbs};
 
 /// What a later stage's suction temperature is compared with.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -741,7 +743,9 @@ fn sum_lines<T: Real, const N: usize>(out: &Ledger<T, N>) -> (T, Quality) {
         attributed += m.value;
         q = q.worst(m.quality);
     }
-    for m in out.intercooling.iter() {
+    // The first stage's intercooling line is always a good +0 (see
+    // `close_ledger`): left out.
+    for m in out.intercooling.iter().skip(1) {
         attributed += m.value;
         q = q.worst(m.quality);
     }
@@ -782,7 +786,12 @@ fn close_ledger<T: Real, const N: usize>(out: &mut Ledger<T, N>) {
         attributed += m.value;
         or |= m.quality as u8;
     }
-    for m in out.intercooling.iter() {
+    // The first stage's intercooling line is a good +0 (written so, and
+    // `Measured::derived` keeps it): its quality changes nothing, and
+    // neither does adding it, because no partial sum is -0 (the first is
+    // +0 + x, and x + y is -0 only for two -0 addends), and s + (+0) is s
+    // for every other s, NaN and the infinities included. Left out.
+    for m in out.intercooling.iter().skip(1) {
         attributed += m.value;
         or |= m.quality as u8;
     }
@@ -836,14 +845,17 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
         return false;
     }
     // The train's ends through the sensor boundary (only the three values
-    // the references use).
+    // the references use). The default limits are finite: the boundary's
+    // form for validated limits, without the separate finiteness test, is
+    // `pressure_pa` / `temperature_k` to the bit.
     let (Some(s0), Some(sl)) = (scan.stages.first(), scan.stages.get(nc - 1)) else {
         return false;
     };
+    let limits = Limits::<T>::default();
     let (p_s, t_s, p_d) = (
-        pressure_pa(s0.suction_pressure),
-        temperature_k(s0.suction_temperature),
-        pressure_pa(sl.discharge_pressure),
+        limits.pressure_valid(s0.suction_pressure.map(PressureAbs::pa)),
+        limits.temperature_valid(s0.suction_temperature.map(Kelvin::kelvin)),
+        limits.pressure_valid(sl.discharge_pressure.map(PressureAbs::pa)),
     );
     let q_base = p_s.quality.worst(t_s.quality).worst(p_d.quality);
     let overall = p_d.value / p_s.value;
