@@ -879,10 +879,13 @@ fn evaluate_chain<T: Real, G: GasModel<T>, const N: usize>(
     let n = T::from_u32(u32::try_from(nc).unwrap_or(0));
     let scan_stages = scan.stages.get(..nc).unwrap_or_default();
     // Without any supplied Z (the usual scan) the loop leaves Z out.
+    // Tested over every stage of the scan (a fixed-length array: no loop
+    // bound): a pump's Z only selects the loop that reads Z, which finds
+    // none on the compressor stages (the same result).
     // With the coolant reference, the intercooling lines are priced by
     // [`coolant_reference`] alone.
     let first_suction = matches!(ledger.cooling_reference, CoolingReference::FirstSuction);
-    let priced = if scan_stages.iter().any(|s| s.compressibility.is_some()) {
+    let priced = if scan.stages.iter().any(|s| s.compressibility.is_some()) {
         price_stages::<T, G, N, true>(gas, scan_stages, snapshot, t_s, m_fwd, first_suction, out)
     } else {
         price_stages::<T, G, N, false>(gas, scan_stages, snapshot, t_s, m_fwd, first_suction, out)
