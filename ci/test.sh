@@ -46,6 +46,11 @@ rm -rf target/msrv  # only needed to prove the build; frees disk for what follow
 step "clippy (deny warnings)"
 cargo clippy -q --workspace --all-targets -- -D warnings
 cargo clippy -q -p polytrope --all-targets --all-features -- -D warnings
+# The firmware harness is its own workspace (ci/firmware): lint its binaries
+# for both device targets too.
+for target in thumbv7em-none-eabihf thumbv6m-none-eabi; do
+  (cd ci/firmware && cargo clippy -q --release --target "$target" --bins -- -D warnings)
+done
 
 step "docs (deny warnings)"
 RUSTDOCFLAGS="-D warnings" cargo doc -q --workspace --no-deps --all-features
