@@ -96,7 +96,7 @@ impl<T: Real> LowPass<T> {
 /// Running median of the last `M` samples (`M` odd, 1..=15; checked at
 /// compile time).
 ///
-/// The samples are also kept sorted ([`SortedWindow`]): each update writes
+/// The samples are also kept sorted (a private `SortedWindow`): each update writes
 /// the new sample over the evicted one in the sorted copy and moves it to
 /// its place (at most `2 M` compares and moves) instead of sorting a copy of
 /// the window (up to `M·M/2`); the median is the same value.
