@@ -715,7 +715,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
 mod tests {
     #![allow(clippy::unwrap_used, clippy::indexing_slicing)]
     use super::*;
-    use crate::surge::{demo_map, MapConditions, SurgeLineConfig, SurgePoint};
+    use crate::surge::{demo_map, SurgeLineConfig, SurgePoint};
 
     /// The plausibility checks exactly as the module docs list them, one
     /// after the other: `None` for a plausible scan.
@@ -1008,24 +1008,14 @@ mod tests {
             pressure_ratio: r,
             control_margin: 0.1,
         };
+        // The demo map's conditions with a steep head exponent.
+        let points = [p(7000.0, 1.0, 1.5), p(8000.0, 1000.0, 1.50001)];
         let line = SurgeLine::<f32, 4>::new(&SurgeLineConfig {
-            points: &[p(7000.0, 1.0, 1.5), p(8000.0, 1000.0, 1.50001)],
-            map: MapConditions {
-                suction_pressure: PressureAbs::from_pa(1.0e5),
-                suction_temperature: Kelvin::new(293.15),
-                molar_mass: 28.96,
-                compressibility: 1.0,
-            },
             polytropic_exponent: 9.9,
-            flow_coefficient: 0.04,
+            ..demo_map::line_config(&points)
         })
         .unwrap();
-        let config = MonitorConfig {
-            scan_period: 0.02,
-            time_to_surge_horizon: 60.0,
-            rate_filter_time: 0.05,
-        };
-        let mut m = SurgeMonitor::new(line, config).unwrap();
+        let mut m = SurgeMonitor::new(line, demo_map::monitor_config()).unwrap();
         let scan = |ps: f32, pd: f32, dp: f32| {
             SurgeScan::pressures_only(
                 Measured::good(PressureAbs::from_pa(ps)),
@@ -1085,27 +1075,9 @@ mod tests {
             pressure_ratio: r,
             control_margin: -0.0,
         };
-        let line = SurgeLine::<f64, 4>::new(&SurgeLineConfig {
-            points: &[p(8000.0, 1.6, 1.75), p(10000.0, 2.05, 2.3)],
-            map: MapConditions {
-                suction_pressure: PressureAbs::from_pa(1.0e5),
-                suction_temperature: Kelvin::new(293.15),
-                molar_mass: 28.96,
-                compressibility: 1.0,
-            },
-            polytropic_exponent: 1.45,
-            flow_coefficient: 0.04,
-        })
-        .unwrap();
-        let m = SurgeMonitor::new(
-            line,
-            MonitorConfig {
-                scan_period: 0.02,
-                time_to_surge_horizon: 60.0,
-                rate_filter_time: 0.05,
-            },
-        )
-        .unwrap();
+        let points = [p(8000.0, 1.6, 1.75), p(10000.0, 2.05, 2.3)];
+        let line = SurgeLine::<f64, 4>::new(&demo_map::line_config(&points)).unwrap();
+        let m = SurgeMonitor::new(line, demo_map::monitor_config()).unwrap();
         for pd in [1.2e5, 2.0e5, 3.0e5] {
             let scan = SurgeScan::pressures_only(
                 Measured::good(PressureAbs::from_pa(1.0e5)),
