@@ -586,13 +586,7 @@ mod tests {
     /// one gives, over seeded random values and qualities of every input.
     #[test]
     fn bounded_evaluation_equals_the_checked_one() {
-        let mut seed = 0x9e37_79b9_u32;
-        let mut next = || {
-            seed ^= seed << 13;
-            seed ^= seed >> 17;
-            seed ^= seed << 5;
-            seed
-        };
+        let mut next = crate::xorshift32(0x9e37_79b9);
         let limits = Limits::<f32>::default();
         let quality = |r: u32| match r % 7 {
             0 => Quality::Uncertain,
@@ -697,13 +691,8 @@ mod tests {
     /// and for zeros, negatives, infinities and NaN.
     #[test]
     fn lmtd_ratio_range_gives_the_same_branch_and_bits() {
-        let mut seed = 0x2545_f491_u32;
-        let mut next = || {
-            seed ^= seed << 13;
-            seed ^= seed >> 17;
-            seed ^= seed << 5;
-            f64::from(seed) / f64::from(u32::MAX)
-        };
+        let mut bits = crate::xorshift32(0x2545_f491);
+        let mut next = || f64::from(bits()) / f64::from(u32::MAX);
         let same32 = |a: f32, b: f32| {
             let y = lmtd_always_u(a, b).map(f32::to_bits);
             let first = lmtd_counterflow_ordered::<f32, false, true>(a, b);

@@ -803,13 +803,7 @@ mod tests {
     /// cooler table.
     #[test]
     fn output_grades_equal_the_per_output_rule() {
-        let mut seed = 0x2545_f491_u32;
-        let mut next = || {
-            seed ^= seed << 13;
-            seed ^= seed >> 17;
-            seed ^= seed << 5;
-            seed
-        };
+        let mut next = crate::xorshift32(0x2545_f491);
         let q = |r: u32| match r % 4 {
             0 => Quality::Good,
             1 => Quality::Uncertain,

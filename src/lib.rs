@@ -117,3 +117,16 @@ pub use real::Real;
 #[cfg(all(doctest, feature = "demo"))]
 #[doc = include_str!("../README.md")]
 struct ReadmeDoctests;
+
+/// The seeded pseudo-random source of the crate's unit tests: Marsaglia's
+/// xorshift32 (13, 17, 5), "Xorshift RNGs", J. Stat. Softw. 8 (14), 2003.
+/// One copy, so every test draws the same way.
+#[cfg(test)]
+pub(crate) fn xorshift32(mut seed: u32) -> impl FnMut() -> u32 {
+    move || {
+        seed ^= seed << 13;
+        seed ^= seed >> 17;
+        seed ^= seed << 5;
+        seed
+    }
+}

@@ -521,13 +521,7 @@ mod tests {
     /// non-NaN values (signed zeros, subnormals, infinities, random).
     #[test]
     fn bit_pattern_compares_equal_the_float_compares() {
-        let mut seed = 0x2545_f491_u32;
-        let mut next = || {
-            seed ^= seed << 13;
-            seed ^= seed >> 17;
-            seed ^= seed << 5;
-            seed
-        };
+        let mut next = crate::xorshift32(0x2545_f491);
         let bounds32 = [
             (0.0_f32, 1e5_f32),
             (1e-3, 1e10),
