@@ -129,6 +129,18 @@ pub trait Real:
         }
     }
 
+    /// `a < b` for operands that are not NaN, as [`Real::greater_not_nan`]:
+    /// the FPU's compare where there is one, [`Real::less_than`] on the bit
+    /// patterns where a float compare is a library call (Cortex-M0).
+    #[inline(always)]
+    fn less_not_nan(a: Self, b: Self) -> bool {
+        if HARD_FLOAT {
+            a < b
+        } else {
+            Self::less_than(a, b)
+        }
+    }
+
     /// `true` if every value of `xs` is finite ([`Real::is_finite`] of
     /// each). With a floating-point unit as one sum Σ 0·x (0·x is ±0 for a
     /// finite x, NaN for an infinite or NaN one, and NaN stays NaN):

@@ -25,26 +25,10 @@ use crate::real::{Real, HARD_FLOAT};
 // gives the float compare's result. With an FPU its own compare is cheaper;
 // without one (Cortex-M0) each float compare is a library call.
 
-/// `a > b` for values that are not NaN.
-#[inline(always)]
-fn greater<T: Real>(a: T, b: T) -> bool {
-    T::greater_not_nan(a, b)
-}
-
-/// `a < b` for values that are not NaN.
-#[inline(always)]
-fn less<T: Real>(a: T, b: T) -> bool {
-    if HARD_FLOAT {
-        a < b
-    } else {
-        T::less_than(a, b)
-    }
-}
-
 /// [`Real::max`] for values that are not NaN.
 #[inline(always)]
 fn larger<T: Real>(a: T, b: T) -> T {
-    if greater(b, a) {
+    if T::greater_not_nan(b, a) {
         b
     } else {
         a
@@ -54,7 +38,7 @@ fn larger<T: Real>(a: T, b: T) -> T {
 /// [`Real::min`] for values that are not NaN.
 #[inline(always)]
 fn smaller<T: Real>(a: T, b: T) -> T {
-    if less(b, a) {
+    if T::less_not_nan(b, a) {
         b
     } else {
         a
@@ -302,10 +286,10 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
         for (i, (&x, (h, l))) in slots.enumerate().skip(1).rev() {
             let slot = u8::try_from(i).unwrap_or(0);
             let (mut hv, mut hs, mut lv, mut ls) = best.unwrap_or((x, slot, x, slot));
-            if greater(x, hv) {
+            if T::greater_not_nan(x, hv) {
                 (hv, hs) = (x, slot);
             }
-            if less(x, lv) {
+            if T::less_not_nan(x, lv) {
                 (lv, ls) = (x, slot);
             }
             best = Some((hv, hs, lv, ls));

@@ -47,7 +47,7 @@ pub use rtd_class::RtdClass;
 
 pub use crate::quality::FaultCode;
 use crate::quality::Quality;
-use crate::real::{Real, HARD_FLOAT};
+use crate::real::Real;
 
 /// `a < b` for values that are not NaN (the channel's accepted samples,
 /// its validated limits and the differences of finite values; infinities
@@ -56,22 +56,14 @@ use crate::real::{Real, HARD_FLOAT};
 /// pair, `-0.0` equal to `+0.0`) where it is a soft-float call (Cortex-M0).
 #[inline(always)]
 pub(crate) fn below<T: Real>(a: T, b: T) -> bool {
-    if HARD_FLOAT {
-        a < b
-    } else {
-        T::less_than(a, b)
-    }
+    T::less_not_nan(a, b)
 }
 
 /// `a > b`, as [`below`] (written as the float compare it replaces, which
 /// keeps the code with a floating-point unit as it was).
 #[inline(always)]
 pub(crate) fn above<T: Real>(a: T, b: T) -> bool {
-    if HARD_FLOAT {
-        a > b
-    } else {
-        T::less_than(b, a)
-    }
+    T::greater_not_nan(a, b)
 }
 
 /// Per-channel status after the latest sample.

@@ -362,7 +362,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     }
     let fit = gas.fit_quality(t1_path, t2_path);
     let ratio_ok = p_ok && T::is_finite(ratio);
-    let compressing = ratio_ok && less(T::ONE, ratio);
+    let compressing = ratio_ok && T::less_not_nan(T::ONE, ratio);
     // Without usable pressures the states are evaluated at a nominal
     // pressure, as for T1 (a pressure-independent model's enthalpy rise is
     // then still good; the rule marks what used the pressures).
@@ -467,7 +467,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     } else if t1_ok && t2_ok && !rising {
         checks.set(CompressorChecks::NO_RISE, true);
     }
-    if ratio_ok && less(thresholds.max_stage_ratio, ratio) {
+    if ratio_ok && T::less_not_nan(thresholds.max_stage_ratio, ratio) {
         checks.set(CompressorChecks::RATIO_OUT_OF_RANGE, true);
     }
     if compressing && iso_ok {
@@ -506,8 +506,8 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
             // dt > 0 (rising) and ln_path >= 0 (compressing): not NaN.
             checks.set(
                 CompressorChecks::BELOW_RESOLUTION,
-                less(dt, thresholds.min_temperature_rise)
-                    || less(ln_path, thresholds.min_log_ratio),
+                T::less_not_nan(dt, thresholds.min_temperature_rise)
+                    || T::less_not_nan(ln_path, thresholds.min_log_ratio),
             );
         }
     } else if ratio_ok && !compressing {
@@ -562,18 +562,6 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
         _ => settle_compressor_untabled(&g, gas.property_inputs(), rating_point, done, out),
     }
     out.condition = checks.condition();
-}
-
-/// `a < b` for operands that are not NaN (the callers say why): without an
-/// FPU on the bit patterns ([`Real::less_than`]: no library call), with one
-/// the float compare.
-#[inline]
-fn less<T: Real>(a: T, b: T) -> bool {
-    if HARD_FLOAT {
-        a < b
-    } else {
-        T::less_than(a, b)
-    }
 }
 
 /// The worse of the two efficiencies' grades ([`efficiency_grade`]), the
