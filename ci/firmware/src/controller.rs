@@ -15,6 +15,8 @@
 //! this invented controller a slower RTD scanner and a flow computer deliver
 //! them already validated); the scan period is 20 ms.
 
+use core::mem::MaybeUninit;
+
 use polytrope::demo;
 use polytrope::gas::{GasModel, IdealGas, CARBON_DIOXIDE};
 use polytrope::signal::{Channel, ChannelConfig, InstrumentClass, SignalKind, Unit};
@@ -195,14 +197,20 @@ fn read_stage(
 
 impl<G: GasModel<f32>> Controller<G> {
     /// Builds the train, the channels (ranges from the stages' design
-    /// pressures) and the monitors into `slot`, in place: the state is
-    /// about 6 KB and the Cortex-M0 board has 16 KiB of RAM, so it must not
-    /// be built on the stack and then moved.
+    /// pressures) and the monitors into `slot`, in place, field by field:
+    /// the state is about 6.7 KB and the Cortex-M0 board has 16 KiB of RAM,
+    /// so neither it nor any of its arrays may be built on the stack and
+    /// then moved (a struct literal with the channel and monitor arrays
+    /// built them there first: about 8 KB of start-up stack). Each channel
+    /// and monitor is written where it lives, one at a time, by one loop
+    /// (one copy of the construction code, not one per channel). On a
+    /// refusal the slot stays uninitialised (none of the fields needs a
+    /// drop).
     #[inline(never)]
     pub fn build_in(
-        slot: &mut Option<Self>,
+        slot: &mut MaybeUninit<Self>,
         config: TrainConfig<f32, G, SECTIONS>,
-    ) -> Result<(), ConfigError> {
+    ) -> Result<&mut Self, ConfigError> {
         let mut ranges = [0.0_f32; CHANNELS];
         for (r, s) in ranges.chunks_exact_mut(3).zip(config.stages.iter()) {
             let ps = s.design_suction_pressure.pa();
@@ -210,23 +218,31 @@ impl<G: GasModel<f32>> Controller<G> {
             r[1] = 1.5 * s.design_discharge_pressure.pa();
             r[2] = 2.0 * FLOW_NUMBER * 2.0 * ps;
         }
-        let placeholder = transmitter(0, Unit::PressureAbs, 1.0)?;
         let monitor = section_monitor()?;
-        let ctl = slot.insert(Controller {
-            train: SectionTrain::new(config)?,
-            channels: [placeholder; CHANNELS],
-            monitors: core::array::from_fn(|_| monitor.clone()),
-            last_ms: None,
-        });
-        for (i, (c, &r)) in ctl.channels.iter_mut().zip(ranges.iter()).enumerate() {
-            let unit = if i % 3 == 2 {
-                Unit::DifferentialPressure
-            } else {
-                Unit::PressureAbs
-            };
-            *c = transmitter(i as u8, unit, r)?;
+        let p = slot.as_mut_ptr();
+        // SAFETY: every write goes to a field (or an element of an array
+        // field) of `*p`, which `slot` owns and which is valid for writes;
+        // `write` drops nothing. `assume_init_mut` runs only after every
+        // field (`last_ms`, `train`, all `CHANNELS` channels, all `SECTIONS`
+        // monitors) has been written.
+        unsafe {
+            core::ptr::addr_of_mut!((*p).last_ms).write(None);
+            core::ptr::addr_of_mut!((*p).train).write(SectionTrain::new(config)?);
+            let channels = core::ptr::addr_of_mut!((*p).channels).cast::<TransmitterChannel>();
+            for (i, &r) in ranges.iter().enumerate() {
+                let unit = if i % 3 == 2 {
+                    Unit::DifferentialPressure
+                } else {
+                    Unit::PressureAbs
+                };
+                channels.add(i).write(transmitter(i as u8, unit, r)?);
+            }
+            let monitors = core::ptr::addr_of_mut!((*p).monitors).cast::<SectionMonitor>();
+            for i in 0..SECTIONS {
+                monitors.add(i).write(monitor.clone());
+            }
+            Ok(slot.assume_init_mut())
         }
-        Ok(())
     }
 
     /// The raw samples (mA) the transmitters send at scan `k` for the

@@ -15,10 +15,9 @@ use polytrope_firmware::table::MINIMAL_SCAN;
 fn main() -> ! {
     let ok = match (demo::config::<f32>(), controller::ideal_gas()) {
         (Ok(cfg), Ok(gas)) => {
-            let mut slot = None;
-            let built = Controller::build_in(&mut slot, controller::train_config(&cfg, gas));
-            match (built, slot.as_mut()) {
-                (Ok(()), Some(ctl)) => {
+            let mut slot = core::mem::MaybeUninit::uninit();
+            match Controller::build_in(&mut slot, controller::train_config(&cfg, gas)) {
+                Ok(ctl) => {
                     let mut slow = controller::section_scan(core::hint::black_box(&MINIMAL_SCAN));
                     // Raw samples (mA) unknown at compile time; the transmitter
                     // simulation of `Controller::samples` stays out of this

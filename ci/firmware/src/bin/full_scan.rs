@@ -185,6 +185,21 @@ fn run(h: &mut Host, label: &mut impl FnMut(&mut Host, &str) -> u32, ctl: &mut C
     out!(h, "S state_full_scan {}", core::mem::size_of::<Ctl>());
 }
 
+/// Bytes of RAM between the end of the statics and the lowest stack word
+/// reached by a call that used `used` bytes below the caller's stack pointer
+/// (RAM left; meaningful where the stack and the statics share one RAM
+/// block, as on the Cortex-M0 board).
+fn stack_left(used: usize) -> usize {
+    extern "C" {
+        static mut __ebss: u32;
+    }
+    let sp: usize;
+    // SAFETY: reads the stack pointer only.
+    unsafe { core::arch::asm!("mov {}, sp", out(reg) sp) };
+    sp.saturating_sub(used)
+        .saturating_sub(core::ptr::addr_of!(__ebss) as usize)
+}
+
 #[entry]
 fn main() -> ! {
     let mut h = Host::open();
@@ -204,13 +219,19 @@ fn main() -> ! {
     let Ok(gas) = controller::ideal_gas() else {
         fail(&mut h, "ideal gas");
     };
-    let mut slot = None;
-    if Ctl::build_in(&mut slot, controller::train_config(&demo_cfg, gas)).is_err() {
-        fail(&mut h, "controller config");
-    }
-    let Some(ctl) = slot.as_mut() else {
+    let mut slot = core::mem::MaybeUninit::uninit();
+    let mut built = None;
+    // Start-up stack (the Cortex-M0 board's 16 KiB of RAM hold main's frame
+    // with the controller's state and this): the construction's high-water
+    // mark, and what is left below it.
+    let used = stack_used(|| {
+        built = Ctl::build_in(&mut slot, controller::train_config(&demo_cfg, gas)).ok();
+    });
+    let Some(ctl) = built else {
         fail(&mut h, "controller config");
     };
+    out!(h, "S stack_build_controller {}", used);
+    out!(h, "S stack_left_build_controller {}", stack_left(used));
     run(&mut h, &mut label, ctl);
     out!(
         h,
