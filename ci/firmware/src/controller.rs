@@ -27,7 +27,7 @@ use polytrope::train::{Snapshot, Train, TrainConfig};
 use polytrope::units::{Kelvin, PressureAbs};
 use polytrope::ConfigError;
 
-use crate::codec::{decode_scan, RawStage};
+use crate::codec::{decode_stage, RawStage};
 
 /// Compressor stages (and surge monitors) of the controller's train.
 pub const SECTIONS: usize = 4;
@@ -96,12 +96,12 @@ pub fn train_config<D, G>(
 
 /// The first four stages of a committed scan, the fourth without cooler:
 /// what the slower inputs deliver.
+/// Decodes only those four stages (the fifth is never used: decoding the
+/// whole scan and copying four of its stages took more flash than this).
+#[inline(never)]
 pub fn section_scan(raw: &[RawStage; demo::STAGES]) -> polytrope::scan::Scan<f32, SECTIONS> {
-    let full = decode_scan::<f32, { demo::STAGES }>(raw);
-    let mut stages = [full.stages[0]; SECTIONS];
-    for (s, f) in stages.iter_mut().zip(full.stages.iter()) {
-        *s = *f;
-    }
+    const { assert!(SECTIONS <= demo::STAGES) };
+    let mut stages = core::array::from_fn(|i| decode_stage::<f32>(&raw[i]));
     stages[SECTIONS - 1].cooler = None;
     polytrope::scan::Scan { stages }
 }
