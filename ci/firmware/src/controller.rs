@@ -81,10 +81,8 @@ pub fn train_config<D, G>(
     demo: &TrainConfig<f32, D, { demo::STAGES }>,
     gas: G,
 ) -> TrainConfig<f32, G, SECTIONS> {
-    let mut stages = [demo.stages[0]; SECTIONS];
-    for (s, d) in stages.iter_mut().zip(demo.stages.iter()) {
-        *s = *d;
-    }
+    const { assert!(SECTIONS <= demo::STAGES) };
+    let mut stages: [_; SECTIONS] = core::array::from_fn(|i| demo.stages[i]);
     stages[SECTIONS - 1].cooler = None;
     TrainConfig {
         gas,
