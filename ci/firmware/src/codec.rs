@@ -58,12 +58,16 @@ fn quality(code: u8) -> Quality {
 /// Decodes one stage scan (kept out of line: one copy for every stage).
 #[inline(never)]
 pub fn decode_stage<T: FromF32>(raw: &RawStage) -> StageScan<T> {
-    StageScan::from_inputs(|w| {
-        let i = w.index();
-        let code = raw.q.get(i).copied().unwrap_or(ABSENT);
-        let bits = raw.bits.get(i).copied().unwrap_or(0);
-        (code != ABSENT).then(|| Measured::new(T::from_f32(f32::from_bits(bits)), quality(code)))
-    })
+    StageScan::from_inputs(|w| decode_field(raw, w.index()))
+}
+
+/// Decodes field `i` of `raw` (out of line: one copy for every field, not
+/// one inlined per input of [`StageScan::from_inputs`]).
+#[inline(never)]
+fn decode_field<T: FromF32>(raw: &RawStage, i: usize) -> Option<Measured<T>> {
+    let code = raw.q.get(i).copied().unwrap_or(ABSENT);
+    let bits = raw.bits.get(i).copied().unwrap_or(0);
+    (code != ABSENT).then(|| Measured::new(T::from_f32(f32::from_bits(bits)), quality(code)))
 }
 
 /// Decodes one scan of `N` stages.
