@@ -197,18 +197,26 @@ impl<T: Real> StageReadings<T> for StageSi<T> {
 }
 
 impl<T: Real> StageSi<T> {
-    fn bad() -> Self {
-        let b = Measured::bad();
+    /// The scratch before the first scan: every bit zero. Never read (every
+    /// update writes the scratch in full before reading it), so any value
+    /// does; an all-zero constant lets the construction clear the array with
+    /// one call instead of storing every field of every stage (start-up
+    /// flash).
+    const CLEARED: Self = {
+        let zero = Measured {
+            value: T::ZERO,
+            quality: Quality::Good,
+        };
         StageSi {
-            p1: b,
-            t1: b,
-            p2: b,
-            t2: b,
-            flow: b,
+            p1: zero,
+            t1: zero,
+            p2: zero,
+            t2: zero,
+            flow: zero,
             flow_measured: false,
-            z: None,
+            z: Some(zero),
         }
-    }
+    };
 }
 
 /// Pump liquid density range, kg/m3: from liquid hydrogen (about 71) to
@@ -376,7 +384,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 totals: TrainTotals::bad(compressor_stages),
                 scan_count: 0,
             },
-            si: [StageSi::bad(); N],
+            si: [StageSi::CLEARED; N],
         })
     }
 
