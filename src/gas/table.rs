@@ -883,6 +883,11 @@ fn f<T: Real>(x: f32) -> T {
 /// It remembers its last two end states (interior mutability, so it is not
 /// `Sync`: one model per train, not shared between threads or interrupt
 /// priorities).
+///
+/// `repr(C)` in this order: the scalars every evaluation reads come first,
+/// at offsets a single-precision load reaches directly (below 1020 bytes on
+/// Cortex-M), the tables and the remembered states after them.
+#[repr(C)]
 pub struct TableGas<'a, T> {
     data: TableData<'a>,
     gas_constant: T,
@@ -890,17 +895,18 @@ pub struct TableGas<'a, T> {
     span_x: T,
     t_min: T,
     span_t: T,
-    /// The largest lattice coordinate, 2^lattice_bits − 1, and the shift
-    /// from a lattice coordinate to its part of the start-of-descent grid,
-    /// lattice_bits − JUMP_BITS (or 0), for `locate`.
-    top: u16,
-    part: u16,
     /// One lattice unit in ln p and its inverse.
     unit_x: T,
     inv_unit_x: T,
     /// One lattice unit in T and its inverse.
     unit_t: T,
     inv_unit_t: T,
+    h_offset: T,
+    s_offset: T,
+    /// Entropy residual that ends the entropy match: 1/16 of the table's
+    /// entropy tolerance (the interpolant is not more accurate than that;
+    /// across a cell edge it may jump by about the tolerance).
+    s_tolerance: T,
     /// A leaf's width 2^s lattice units in ln p and its inverse, and its
     /// height in T and its inverse, for s = 0..=16 (built once by
     /// [`TableGas::new`], so `locate` only looks them up).
@@ -910,17 +916,16 @@ pub struct TableGas<'a, T> {
     /// with its size as powers of two of lattice units (ln p, T); built once
     /// by [`TableGas::new`].
     jump: [(u16, u8, u8); 1 << (2 * JUMP_BITS)],
-    h_offset: T,
-    s_offset: T,
-    /// Entropy residual that ends the entropy match: 1/16 of the table's
-    /// entropy tolerance (the interpolant is not more accurate than that;
-    /// across a cell edge it may jump by about the tolerance).
-    s_tolerance: T,
     /// Keys (p, T) and values of the remembered end states, and the slot
     /// the next one goes to (see `end_state`).
     memo_p: [core::cell::Cell<T>; MEMO_SLOTS],
     memo_t: [core::cell::Cell<T>; MEMO_SLOTS],
     memo: [core::cell::Cell<Memo<T>>; MEMO_SLOTS],
+    /// The largest lattice coordinate, 2^lattice_bits − 1, and the shift
+    /// from a lattice coordinate to its part of the start-of-descent grid,
+    /// lattice_bits − JUMP_BITS (or 0), for `locate`.
+    top: u16,
+    part: u16,
     memo_next: core::cell::Cell<u8>,
 }
 
