@@ -665,9 +665,13 @@ const JUMP_BITS: u32 = 3;
 const W_Z: u8 = 1;
 /// Patch outputs: ∂Z/∂ln p (with [`W_Z`]).
 const W_ZX: u8 = 32;
+/// Patch outputs: with [`W_Z`], Z without ∂Z/∂T (the seam's end states:
+/// only the entropy match's start without a discharge state uses it, and
+/// evaluates it there).
+const W_NO_DZ: u8 = 64;
 /// What the gas seam's `compression` asks of the patch at its two ends (Z,
-/// h, s) and in the entropy match (s, ∂s/∂T, h and Z).
-pub(crate) const SEAM_ENDS: u8 = W_Z | W_H | W_S;
+/// h, cp, s) and in the entropy match (s, ∂s/∂T, h and Z).
+pub(crate) const SEAM_ENDS: u8 = W_Z | W_NO_DZ | W_H | W_S;
 /// See [`SEAM_ENDS`].
 pub(crate) const SEAM_ISO: u8 = W_DS | W_H | W_Z;
 /// What the seam asks at the isentropic state's end (h and Z).
@@ -803,7 +807,6 @@ struct Memo<T> {
     /// state at this pressure may take it unchanged.
     ln_exact: bool,
     z: T,
-    dz_dt: T,
     h: T,
     cp: T,
     s: T,
@@ -843,7 +846,6 @@ impl<T: Real> Memo<T> {
             ln_p: T::ZERO,
             ln_exact: false,
             z: T::ONE,
-            dz_dt: T::ZERO,
             h: T::ZERO,
             cp: T::ZERO,
             s: T::ZERO,
@@ -1248,7 +1250,9 @@ impl<'a, T: Real> TableGas<'a, T> {
         let (b1, bd1, db1, dbd1) = (tb.b[1], tb.bd[1], tb.db[1], tb.dbd[1]);
         if WANT & W_Z != 0 {
             out.z = (b0 * e0.z + bd0 * e0.z_t) + (b1 * e1.z + bd1 * e1.z_t);
-            out.dz_dt = (db0 * e0.z + dbd0 * e0.z_t) + (db1 * e1.z + dbd1 * e1.z_t);
+            if WANT & W_NO_DZ == 0 {
+                out.dz_dt = (db0 * e0.z + dbd0 * e0.z_t) + (db1 * e1.z + dbd1 * e1.z_t);
+            }
             if WANT & W_ZX != 0 {
                 out.dz_dx = (b0 * e0.z_x + bd0 * e0.z_xt) + (b1 * e1.z_x + bd1 * e1.z_xt);
             }
@@ -1433,7 +1437,11 @@ impl<'a, T: Real> TableGas<'a, T> {
             });
         };
         if OUT & W_Z != 0 {
-            add(pt.z + pt.dz_dt);
+            add(if OUT & W_NO_DZ != 0 {
+                pt.z
+            } else {
+                pt.z + pt.dz_dt
+            });
         }
         if OUT & W_ZX != 0 {
             add(pt.dz_dx);
@@ -1542,7 +1550,6 @@ impl<'a, T: Real> TableGas<'a, T> {
             ln_p,
             ln_exact,
             z: pt.z,
-            dz_dt: pt.dz_dt,
             h: pt.h,
             cp: pt.dh_dt,
             s: pt.s,
@@ -1793,7 +1800,6 @@ impl<'a, T: Real> TableGas<'a, T> {
             let m = self.end_state::<false, true, false>(p, t, ln_p, cut);
             let pt = Patch {
                 z: m.z,
-                dz_dt: m.dz_dt,
                 h: m.h,
                 dh_dt: m.cp,
                 s: m.s,
@@ -1848,7 +1854,17 @@ impl<'a, T: Real> TableGas<'a, T> {
             return out;
         }
         let r = self.gas_constant;
-        let along_isentrope = || t1 * T::exp(r * (end1.z + t1 * end1.dz_dt) / end1.dh_dt * ln_r);
+        let along_isentrope = || {
+            // ∂Z/∂T at the suction, evaluated here if the end states leave
+            // it out (the same cut and cubic: the same value).
+            let dz_dt = if END & W_NO_DZ != 0 {
+                let (pt, _, _) = self.eval::<{ W_Z | W_H }>(ln_p1, t1);
+                pt.dz_dt
+            } else {
+                end1.dz_dt
+            };
+            t1 * T::exp(r * (end1.z + t1 * dz_dt) / end1.dh_dt * ln_r)
+        };
         let mut cut = None;
         let guess = match t2 {
             Some(t2) => {
