@@ -1758,31 +1758,69 @@ impl<'a, T: Real> TableGas<'a, T> {
         head
     }
 
-    /// Z, cp and h at (p, t) with the quality (the seam's mean path
-    /// properties; a remembered end state).
-    pub(crate) fn z_cp(&self, p: T, t: T) -> (T, T, Quality) {
-        if !(p > T::ZERO) {
-            return (T::ONE, T::ZERO, Quality::Bad);
-        }
+    /// Z, cp and the quality at (p, t) (the seam's mean path properties; a
+    /// remembered end state). A pressure that is not positive gives the bad
+    /// state's Z = 1, cp = 0 (`end_state`).
+    #[inline(always)]
+    fn z_cp_at(&self, p: T, t: T) -> (T, T, Quality) {
         let m = self.end_state::<true, true, false>(p, t, None, &mut None);
         (m.z, m.cp, m.quality)
     }
 
+    /// [`TableGas::z_cp_at`] at both ends of a path, in one call.
+    #[inline(never)]
+    pub(crate) fn z_cp_pair(&self, a: (T, T), b: (T, T)) -> [(T, T, Quality); 2] {
+        [self.z_cp_at(a.0, a.1), self.z_cp_at(b.0, b.1)]
+    }
+
     /// Enthalpy at (p, t) with its quality and flag (a remembered end
-    /// state if there is one, not remembered otherwise: see `end_state`).
-    pub(crate) fn enthalpy(&self, p: T, t: T) -> (T, Quality, TableFlag) {
-        if !(p > T::ZERO) {
-            return (T::ZERO, Quality::Bad, TableFlag::NotFinite);
-        }
+    /// state if there is one, not remembered otherwise: see `end_state`;
+    /// h = 0 where the pressure is not positive).
+    #[inline(always)]
+    fn enthalpy_at(&self, p: T, t: T) -> (T, Quality, TableFlag) {
         let m = self.end_state::<true, false, false>(p, t, None, &mut None);
         (m.h, m.quality, m.flag)
     }
 
+    /// [`TableGas::enthalpy_at`] at a cooler's inlet and outlet, in one
+    /// call.
+    #[inline(never)]
+    pub(crate) fn enthalpy_pair(&self, a: (T, T), b: (T, T)) -> [(T, Quality, TableFlag); 2] {
+        [self.enthalpy_at(a.0, a.1), self.enthalpy_at(b.0, b.1)]
+    }
+
     /// Enthalpy and entropy at (p, t) with the quality and flag (a
     /// remembered end state evaluated at ln p itself: see `end_state`).
-    pub(crate) fn enthalpy_entropy(&self, p: T, t: T) -> (T, T, Quality, TableFlag) {
+    #[inline(always)]
+    fn enthalpy_entropy_at(&self, p: T, t: T) -> (T, T, Quality, TableFlag) {
         let m = self.end_state::<true, true, true>(p, t, None, &mut None);
         (m.h, m.s, m.quality, m.flag)
+    }
+
+    /// [`TableGas::enthalpy_entropy_at`] at both ends of an isotherm, in
+    /// one call.
+    #[inline(never)]
+    pub(crate) fn enthalpy_entropy_pair(
+        &self,
+        a: (T, T),
+        b: (T, T),
+    ) -> [(T, T, Quality, TableFlag); 2] {
+        [
+            self.enthalpy_entropy_at(a.0, a.1),
+            self.enthalpy_entropy_at(b.0, b.1),
+        ]
+    }
+
+    /// [`TableGas::z_cp_at`] alone (the tests).
+    #[cfg(test)]
+    fn z_cp(&self, p: T, t: T) -> (T, T, Quality) {
+        self.z_cp_at(p, t)
+    }
+
+    /// [`TableGas::enthalpy_at`] alone (the tests).
+    #[cfg(test)]
+    fn enthalpy(&self, p: T, t: T) -> (T, Quality, TableFlag) {
+        self.enthalpy_at(p, t)
     }
 
     /// One end state of a compression at (ln p, t) asking `END` of the
