@@ -71,6 +71,39 @@ fn stages(gas: &TableGas<'_, f64>, n: usize) -> Vec<(f64, f64, f64, f64)> {
     out
 }
 
+/// A remembered state's fresh evaluation starts its descent from the leaf
+/// the last one found when that leaf holds the point: the mean path
+/// properties from a long-lived model (its remembered leaf anywhere) equal
+/// a fresh model's (descent from the start-of-descent grid), bit for bit,
+/// over small steps (the same leaf, its neighbours) and jumps across the
+/// CO2 table (deep near the critical point): a consistency check of this
+/// model.
+#[test]
+fn remembered_leaf_gives_the_same_states() {
+    let table = Box::new(Table::from_blob(CO2).unwrap());
+    let gas = TableGas::<f64>::new(table.data()).unwrap();
+    let ((p_min, p_max), (t_min, t_max)) = gas.envelope();
+    let mut rng = Rng(0x6c65_6166);
+    // Near CO2's critical point (7.38 MPa, 304.1 K), where the tree is
+    // deepest.
+    let (mut p, mut t) = (7.0e6_f64, 306.0_f64);
+    for i in 0..3000 {
+        if rng.next() < 0.1 {
+            p = rng.range(p_min.ln(), p_max.ln()).exp();
+            t = rng.range(t_min, t_max);
+        } else {
+            p = (p * (1.0 + rng.range(-2e-3, 2e-3))).clamp(p_min, p_max);
+            t = (t + rng.range(-0.3, 0.3)).clamp(t_min, t_max);
+        }
+        let fresh = TableGas::<f64>::new(table.data()).unwrap();
+        assert_eq!(
+            gas.path(p, t, p * 1.01, t, None),
+            fresh.path(p, t, p * 1.01, t, None),
+            "{i} {p} {t}"
+        );
+    }
+}
+
 #[test]
 fn fast_compression_agrees_with_the_models_own_state_functions() {
     let table = Box::new(Table::from_blob(NG).unwrap());

@@ -669,6 +669,9 @@ const W_ZX: u8 = 32;
 /// only the entropy match's start without a discharge state uses it, and
 /// evaluates it there).
 const W_NO_DZ: u8 = 64;
+/// Not an output: with `CUT`, the descent starts from the leaf the last
+/// such descent found when it holds the point (`TableGas::last_leaf`).
+const W_LAST_LEAF: u8 = 128;
 /// What the gas seam's `compression` asks of the patch at its two ends (Z,
 /// h, cp, s) and in the entropy match (s, ∂s/∂T, h and Z).
 pub(crate) const SEAM_ENDS: u8 = W_Z | W_NO_DZ | W_H | W_S;
@@ -923,6 +926,12 @@ pub struct TableGas<'a, T> {
     memo_p: [core::cell::Cell<T>; MEMO_SLOTS],
     memo_t: [core::cell::Cell<T>; MEMO_SLOTS],
     memo: [core::cell::Cell<Memo<T>>; MEMO_SLOTS],
+    /// The leaf the last descent asked to remember it found ([`W_LAST_LEAF`]:
+    /// a remembered state's fresh evaluation, e.g. the train totals' state
+    /// at the last discharge pressure, deep in the tree near CO2's critical
+    /// point), as (cell, size exponents in ln p and T, the point's lattice
+    /// coordinates shifted by them); the root (the whole lattice) at first.
+    last_leaf: core::cell::Cell<(u16, u8, u8, u16, u16)>,
     /// The largest lattice coordinate, 2^lattice_bits − 1, and the shift
     /// from a lattice coordinate to its part of the start-of-descent grid,
     /// lattice_bits − JUMP_BITS (or 0), for `locate`.
@@ -938,6 +947,7 @@ impl<'a, T: Real> Clone for TableGas<'a, T> {
             memo_t: self.memo_t.clone(),
             memo: self.memo.clone(),
             memo_next: self.memo_next.clone(),
+            last_leaf: self.last_leaf.clone(),
             ..*self
         }
     }
@@ -982,6 +992,7 @@ impl<'a, T: Real> TableGas<'a, T> {
             memo_t: core::array::from_fn(|_| core::cell::Cell::new(T::ZERO)),
             memo: core::array::from_fn(|_| core::cell::Cell::new(Memo::bad(TableFlag::NotFinite))),
             memo_next: core::cell::Cell::new(0),
+            last_leaf: core::cell::Cell::new((0, h.lattice_bits, h.lattice_bits, 0, 0)),
             leaf_sizes: [[T::ZERO; 4]; 17],
         };
         for (shift, sizes) in gas.leaf_sizes.iter_mut().enumerate() {
@@ -1083,9 +1094,11 @@ impl<'a, T: Real> TableGas<'a, T> {
         Ok((x, y))
     }
 
-    /// Descends the tree to the leaf holding relative coordinates (x, y).
+    /// Descends the tree to the leaf holding relative coordinates (x, y);
+    /// with `last`, from the remembered leaf if it holds the point, and
+    /// remembers the leaf found.
     #[inline(always)]
-    fn locate(&self, x: T, y: T) -> Option<Leaf<'a, T>> {
+    fn locate(&self, x: T, y: T, last: bool) -> Option<Leaf<'a, T>> {
         // Integer lattice coordinates of the point; each split cell names
         // the bit of them that picks its child.
         let top = u32::from(self.top);
@@ -1096,7 +1109,17 @@ impl<'a, T: Real> TableGas<'a, T> {
         // envelope; track the cell's size as powers of two of lattice units.
         let part = u32::from(self.part) & 31;
         let k = ((iy >> part) << JUMP_BITS) + (ix >> part);
-        let &(start, sx0, sy0) = self.jump.get(k as usize)?;
+        let &(mut start, mut sx0, mut sy0) = self.jump.get(k as usize)?;
+        if last {
+            // A cell of 2^sx × 2^sy lattice units holds the points whose
+            // coordinates shifted by its sizes equal its own (the tree
+            // splits at halves).
+            let (cell, lx, ly, kx, ky) = self.last_leaf.get();
+            let (lx, ly) = (u32::from(lx) & 31, u32::from(ly) & 31);
+            if ix >> lx == u32::from(kx) && iy >> ly == u32::from(ky) {
+                (start, sx0, sy0) = (cell, lx as u8, ly as u8);
+            }
+        }
         let (mut sx, mut sy) = (u32::from(sx0) & 31, u32::from(sy0) & 31);
         let mut index = usize::from(start);
         // MAX_DEPTH splits and the leaf (a half-open range: an inclusive one
@@ -1104,6 +1127,16 @@ impl<'a, T: Real> TableGas<'a, T> {
         for _ in 0..MAX_DEPTH + 1 {
             let cell = cells.get(index)?;
             if cell.children == 0 {
+                if last {
+                    // Below 2^16 cells and lattice units (validated).
+                    self.last_leaf.set((
+                        index as u16,
+                        sx as u8,
+                        sy as u8,
+                        (ix >> sx) as u16,
+                        (iy >> sy) as u16,
+                    ));
+                }
                 let (i0, j0) = ((ix >> sx) << sx, (iy >> sy) << sy);
                 let &[dx, inv_dx, _, _] = self.leaf_sizes.get(sx as usize)?;
                 let &[_, _, dy, inv_dy] = self.leaf_sizes.get(sy as usize)?;
@@ -1382,7 +1415,7 @@ impl<'a, T: Real> TableGas<'a, T> {
         let bad = (Patch::ZERO, Quality::Bad, TableFlag::NotFinite);
         if !matches!(cut, Some(c) if c.holds(x, y)) {
             *cut = None;
-            let Some(leaf) = self.locate(x, y) else {
+            let Some(leaf) = self.locate(x, y, CUT & W_LAST_LEAF != 0) else {
                 return bad;
             };
             let (quality, flag) = Self::flag_quality(leaf.cell);
@@ -1519,20 +1552,20 @@ impl<'a, T: Real> TableGas<'a, T> {
             // evaluation's register saves.
             return self.fresh_end_state_cold::<KEEP>(p, t, known);
         }
-        self.fresh_end_state::<KEEP>(p, t, ln_p, known, cut)
+        self.fresh_end_state::<KEEP, SEAM_ENDS>(p, t, ln_p, known, cut)
     }
 
     /// [`TableGas::fresh_end_state`] for a state that was looked up and not
     /// found (`known`: ln p from a remembered state at the same pressure).
     #[inline(never)]
     fn fresh_end_state_cold<const KEEP: bool>(&self, p: T, t: T, known: Option<T>) -> Memo<T> {
-        self.fresh_end_state::<KEEP>(p, t, None, known, &mut None)
+        self.fresh_end_state::<KEEP, { SEAM_ENDS | W_LAST_LEAF }>(p, t, None, known, &mut None)
     }
 
     /// The seam's end state at (p, t) evaluated (see
     /// [`TableGas::end_state`]), remembered with `KEEP`.
     #[inline(always)]
-    fn fresh_end_state<const KEEP: bool>(
+    fn fresh_end_state<const KEEP: bool, const CUT: u8>(
         &self,
         p: T,
         t: T,
@@ -1545,7 +1578,7 @@ impl<'a, T: Real> TableGas<'a, T> {
             (None, Some(l)) => (l, true),
             (None, None) => (T::ln(p), true),
         };
-        let (pt, quality, flag) = self.eval_on::<SEAM_ENDS, SEAM_ENDS>(ln_p, t, cut);
+        let (pt, quality, flag) = self.eval_on::<CUT, SEAM_ENDS>(ln_p, t, cut);
         let m = Memo {
             ln_p,
             ln_exact,
