@@ -759,14 +759,15 @@ struct Edge<T> {
     s_t: T,
 }
 
-/// The cubic Hermite basis in T at one temperature of a leaf, per edge
-/// (low T, high T): the value's and the tangent's weights (the tangent's
-/// scaled by the leaf's height) and their T-derivatives.
+/// The cubic Hermite basis in T at one temperature of a leaf: the high
+/// edge's value weight h01 and its T-derivative (the low edge's are 1 − h01
+/// and the opposite derivative), and per edge (low T, high T) the tangent's
+/// weight (scaled by the leaf's height) and its T-derivative.
 #[derive(Clone, Copy)]
 struct TBasis<T> {
-    b: [T; 2],
+    b1: T,
+    db1: T,
     bd: [T; 2],
-    db: [T; 2],
     dbd: [T; 2],
 }
 
@@ -1265,9 +1266,9 @@ impl<'a, T: Real> TableGas<'a, T> {
         let v = (y - leaf.y0) * leaf.inv_dy;
         let (hv, dv) = hermite(v);
         TBasis {
-            b: [hv[0], hv[1]],
+            b1: hv[1],
+            db1: dv[1] * leaf.inv_dy,
             bd: [hv[2] * leaf.dy, hv[3] * leaf.dy],
-            db: [dv[0] * leaf.inv_dy, dv[1] * leaf.inv_dy],
             dbd: [dv[2], dv[3]],
         }
     }
@@ -1277,27 +1278,33 @@ impl<'a, T: Real> TableGas<'a, T> {
     fn combine_at<const WANT: u8>(cut: &Cut<'a, T>, tb: &TBasis<T>) -> Patch<T> {
         let mut out = Patch::ZERO;
         let [e0, e1] = &cut.edges;
-        // Each output is the low edge's term plus the high edge's, with the
-        // T-basis of each edge (value, tangent; their T-derivatives).
-        let (b0, bd0, db0, dbd0) = (tb.b[0], tb.bd[0], tb.db[0], tb.dbd[0]);
-        let (b1, bd1, db1, dbd1) = (tb.b[1], tb.bd[1], tb.db[1], tb.dbd[1]);
+        // Each output is the low edge's value, plus the high edge's weight
+        // times the difference of the values (the value weights sum to one,
+        // their T-derivatives to zero: one difference serves the value and
+        // its derivative), plus each edge's tangent term.
+        let (b1, db1) = (tb.b1, tb.db1);
+        let [bd0, bd1] = tb.bd;
+        let [dbd0, dbd1] = tb.dbd;
         if WANT & W_Z != 0 {
-            out.z = (b0 * e0.z + bd0 * e0.z_t) + (b1 * e1.z + bd1 * e1.z_t);
+            let d = e1.z - e0.z;
+            out.z = e0.z + b1 * d + bd0 * e0.z_t + bd1 * e1.z_t;
             if WANT & W_NO_DZ == 0 {
-                out.dz_dt = (db0 * e0.z + dbd0 * e0.z_t) + (db1 * e1.z + dbd1 * e1.z_t);
+                out.dz_dt = db1 * d + dbd0 * e0.z_t + dbd1 * e1.z_t;
             }
             if WANT & W_ZX != 0 {
-                out.dz_dx = (b0 * e0.z_x + bd0 * e0.z_xt) + (b1 * e1.z_x + bd1 * e1.z_xt);
+                out.dz_dx = e0.z_x + b1 * (e1.z_x - e0.z_x) + bd0 * e0.z_xt + bd1 * e1.z_xt;
             }
         }
         if WANT & W_H != 0 {
-            out.h = (b0 * e0.h + bd0 * e0.cp) + (b1 * e1.h + bd1 * e1.cp);
-            out.dh_dt = (db0 * e0.h + dbd0 * e0.cp) + (db1 * e1.h + dbd1 * e1.cp);
+            let d = e1.h - e0.h;
+            out.h = e0.h + b1 * d + bd0 * e0.cp + bd1 * e1.cp;
+            out.dh_dt = db1 * d + dbd0 * e0.cp + dbd1 * e1.cp;
         }
         if WANT & (W_S | W_DS) != 0 {
-            out.s = (b0 * e0.s + bd0 * e0.s_t) + (b1 * e1.s + bd1 * e1.s_t);
+            let d = e1.s - e0.s;
+            out.s = e0.s + b1 * d + bd0 * e0.s_t + bd1 * e1.s_t;
             if WANT & W_DS != 0 {
-                out.ds_dt = (db0 * e0.s + dbd0 * e0.s_t) + (db1 * e1.s + dbd1 * e1.s_t);
+                out.ds_dt = db1 * d + dbd0 * e0.s_t + dbd1 * e1.s_t;
             }
         }
         out
