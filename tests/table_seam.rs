@@ -133,8 +133,10 @@ fn fast_compression_agrees_with_the_models_own_state_functions() {
 }
 
 /// The isothermal work and the enthalpy drop from the remembered end states
-/// equal, bit for bit, the same differences of the model's own state
-/// functions (a consistency check of this model), whatever was remembered
+/// equal the same differences of the model's own state functions, bit for
+/// bit or (where a state at a discharge pressure took the discharge's
+/// ln p1 + ln r for ln p2) to rounding (a consistency check of this
+/// model), whatever was remembered
 /// before (states at the same pressure and other temperatures, repeats,
 /// more states than slots), and outside the envelope they are bad the
 /// same way.
@@ -174,7 +176,13 @@ fn remembered_isothermal_work_and_enthalpy_drop_equal_the_state_functions() {
         for t in [t1, t_out, t2] {
             let (w, v) = gas.isothermal_work(p1, p2, ln_r, t, None);
             let (a, b) = (state(p1, t), state(p2, t));
-            assert_eq!(w, (b.enthalpy - a.enthalpy) - t * (b.entropy - a.entropy));
+            // The state at p2 evaluated at ln p1 + ln r (the discharge's
+            // logarithm): the work may differ in the last bits.
+            let expect = (b.enthalpy - a.enthalpy) - t * (b.entropy - a.entropy);
+            assert!(
+                (w - expect).abs() <= 1e-12 * expect.abs().max(1.0),
+                "{w} {expect}"
+            );
             assert_eq!(v, a.validity.worst(b.validity));
         }
     }

@@ -803,13 +803,13 @@ impl<'a, T: Real> Cut<'a, T> {
 /// at (p, T) with ln p, so a state shared by two calls (a stage's discharge
 /// and the next cooler's inlet; a stage's suction and the train totals) is
 /// interpolated once, and a state at a remembered pressure (a cooler's
-/// outlet at the next stage's suction pressure) reuses its logarithm.
+/// outlet at the next stage's suction pressure; the train totals' state at
+/// the last discharge pressure) reuses its logarithm.
 #[derive(Clone, Copy, Debug)]
 struct Memo<T> {
+    /// ln p: `T::ln(p)`, or ln p1 + ln r for a compression's discharge
+    /// (equal to within rounding).
     ln_p: T,
-    /// Whether `ln_p` is `T::ln(p)` itself (not ln p1 + ln r), so another
-    /// state at this pressure may take it unchanged.
-    ln_exact: bool,
     z: T,
     h: T,
     cp: T,
@@ -848,7 +848,6 @@ impl<T: Real> Memo<T> {
     fn bad(flag: TableFlag) -> Self {
         Memo {
             ln_p: T::ZERO,
-            ln_exact: false,
             z: T::ONE,
             h: T::ZERO,
             cp: T::ZERO,
@@ -1515,16 +1514,16 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// the train's totals, is interpolated once per update. `ln_p` is
     /// ln p1 + ln r if the caller has it (a compression's discharge);
     /// otherwise ln p is `T::ln(p)`, taken from a remembered state at the
-    /// same pressure when one has it. A fresh evaluation leaves its cut in
+    /// same pressure when one has it (also a discharge's ln p1 + ln r: the
+    /// state then differs from the state function's at `T::ln(p)` only by
+    /// rounding). A fresh evaluation leaves its cut in
     /// `cut`. With `LOOKUP` false the state is not looked up (a
     /// compression's states: a train evaluates its stages first, so they are
     /// new); with `KEEP` false a fresh state is not remembered (a cooler's
     /// outlet: nothing later in a train update asks for it again, and
-    /// keeping it would push out a stage's state the totals use). With
-    /// `EXACT` a remembered state counts only if it was evaluated at
-    /// `T::ln(p)` (the isothermal work: bit for bit the state functions').
+    /// keeping it would push out a stage's state the totals use).
     #[inline(always)]
-    fn end_state<const LOOKUP: bool, const KEEP: bool, const EXACT: bool>(
+    fn end_state<const LOOKUP: bool, const KEEP: bool>(
         &self,
         p: T,
         t: T,
@@ -1544,12 +1543,10 @@ impl<'a, T: Real> TableGas<'a, T> {
                 if T::same_bits(kp.get(), p) {
                     if let (Some(kt), Some(memo)) = (self.memo_t.get(k), self.memo.get(k)) {
                         let m = memo.get();
-                        if T::same_bits(kt.get(), t) && (m.ln_exact || !EXACT) {
+                        if T::same_bits(kt.get(), t) {
                             return m;
                         }
-                        if m.ln_exact {
-                            known = Some(m.ln_p);
-                        }
+                        known = Some(m.ln_p);
                     }
                 }
             }
@@ -1580,15 +1577,13 @@ impl<'a, T: Real> TableGas<'a, T> {
         known: Option<T>,
         cut: &mut Option<Cut<'a, T>>,
     ) -> Memo<T> {
-        let (ln_p, ln_exact) = match (ln_p, known) {
-            (Some(l), _) => (l, false),
-            (None, Some(l)) => (l, true),
-            (None, None) => (T::ln(p), true),
+        let ln_p = match (ln_p, known) {
+            (Some(l), _) | (None, Some(l)) => l,
+            (None, None) => T::ln(p),
         };
         let (pt, quality, flag) = self.eval_on::<CUT, SEAM_ENDS>(ln_p, t, cut);
         let m = Memo {
             ln_p,
-            ln_exact,
             z: pt.z,
             h: pt.h,
             cp: pt.dh_dt,
@@ -1803,7 +1798,7 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// state's Z = 1, cp = 0 (`end_state`).
     #[inline(always)]
     fn z_cp_at(&self, p: T, t: T) -> (T, T, Quality) {
-        let m = self.end_state::<true, true, false>(p, t, None, &mut None);
+        let m = self.end_state::<true, true>(p, t, None, &mut None);
         (m.z, m.cp, m.quality)
     }
 
@@ -1818,7 +1813,7 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// h = 0 where the pressure is not positive).
     #[inline(always)]
     fn enthalpy_at(&self, p: T, t: T) -> (T, Quality, TableFlag) {
-        let m = self.end_state::<true, false, false>(p, t, None, &mut None);
+        let m = self.end_state::<true, false>(p, t, None, &mut None);
         (m.h, m.quality, m.flag)
     }
 
@@ -1830,10 +1825,10 @@ impl<'a, T: Real> TableGas<'a, T> {
     }
 
     /// Enthalpy and entropy at (p, t) with the quality and flag (a
-    /// remembered end state evaluated at ln p itself: see `end_state`).
+    /// remembered end state: see `end_state`).
     #[inline(always)]
     fn enthalpy_entropy_at(&self, p: T, t: T) -> (T, T, Quality, TableFlag) {
-        let m = self.end_state::<true, true, true>(p, t, None, &mut None);
+        let m = self.end_state::<true, true>(p, t, None, &mut None);
         (m.h, m.s, m.quality, m.flag)
     }
 
@@ -1875,7 +1870,7 @@ impl<'a, T: Real> TableGas<'a, T> {
         cut: &mut Option<Cut<'a, T>>,
     ) -> (Patch<T>, Quality, TableFlag, T) {
         if END == SEAM_ENDS {
-            let m = self.end_state::<false, true, false>(p, t, ln_p, cut);
+            let m = self.end_state::<false, true>(p, t, ln_p, cut);
             let pt = Patch {
                 z: m.z,
                 h: m.h,
