@@ -20,21 +20,21 @@ use super::{CompressionStates, GasModel, GasState, PathProperties, Validity, Val
 use crate::quality::Quality;
 use crate::real::Real;
 
-/// ln q for q near 1 (the discharge state's p·v over the isentropic
+/// ln q for q = x/y near 1 (the discharge state's p·v over the isentropic
 /// discharge state's: both at p2, so only the temperatures and Z differ) by
-/// the series ln q = 2·atanh(u), u = (q − 1)/(q + 1), to u⁷ (Abramowitz &
-/// Stegun 4.1.27; truncation below 2.5e-10 for |u| < 0.1, i.e. q in
-/// (0.82, 1.22)); `T::ln` outside that range.
+/// the series ln q = 2·atanh(u), u = (q − 1)/(q + 1) = (x − y)/(x + y) (one
+/// division), to u⁷ (Abramowitz & Stegun 4.1.27; truncation below 2.5e-10
+/// for |u| < 0.1, i.e. q in (0.82, 1.22)); `T::ln(x/y)` outside that range.
 #[inline(always)]
-fn ln_near_one<T: Real>(q: T) -> T {
-    let u = (q - T::ONE) / (q + T::ONE);
+fn ln_near_one<T: Real>(x: T, y: T) -> T {
+    let u = (x - y) / (x + y);
     let bound = T::of(0.1);
     if u > -bound && u < bound {
         let u2 = u * u;
         let series = T::ONE + u2 * (T::of(1.0 / 3.0) + u2 * (T::of(0.2) + u2 * T::of(1.0 / 7.0)));
         T::of(2.0) * u * series
     } else {
-        T::ln(q)
+        T::ln(x / y)
     }
 }
 
@@ -237,7 +237,7 @@ impl<'a, T: Real> GasModel<T> for TableGas<'a, T> {
                 // nothing to cancellation.
                 let pv2s = iso.z * iso.t;
                 out.ln_pv_ratio = if iso.quality != Quality::Bad {
-                    iso_ln_pv + ln_near_one(pv2 / pv2s)
+                    iso_ln_pv + ln_near_one(pv2, pv2s)
                 } else {
                     T::ln(pv2 / zt1)
                 };
