@@ -1201,15 +1201,19 @@ impl<'a, T: Real> TableGas<'a, T> {
         // as the one at the leaf's edge.
         let u = (x - leaf.x0) * leaf.inv_dx;
         let (hu, du) = hermite(u);
-        let (a0, a1) = (hu[0], hu[1]);
+        // The value weights sum to one and their derivatives to zero: each
+        // function is its low node's value plus a1 times the nodes'
+        // difference (one difference serves the value and its ln p
+        // derivative), plus the tangent terms.
+        let a1 = hu[1];
         let (ad0, ad1) = (hu[2] * leaf.dx, hu[3] * leaf.dx);
-        let (dux0, dux1) = (du[0] * leaf.inv_dx, du[1] * leaf.inv_dx);
+        let dux1 = du[1] * leaf.inv_dx;
         let r = self.gas_constant;
         let t_lo = self.t_min + leaf.y0;
         let mut edges = [Edge::default(); 2];
         let corners = [(n[0], n[1], t_lo), (n[2], n[3], t_lo + leaf.dy)];
         for (e, (c0, c1, t)) in edges.iter_mut().zip(corners) {
-            let edge = |f0: T, fx0: T, f1: T, fx1: T| a0 * f0 + ad0 * fx0 + a1 * f1 + ad1 * fx1;
+            let edge = |f0: T, fx0: T, f1: T, fx1: T| f0 + a1 * (f1 - f0) + ad0 * fx0 + ad1 * fx1;
             let (z0, z1, zt0, zt1) = (f::<T>(c0.z), f::<T>(c1.z), f::<T>(c0.z_t), f::<T>(c1.z_t));
             let cp = if WANT & (W_H | W_S | W_DS) != 0 {
                 edge(f(c0.cp), f(c0.cp_lnp), f(c1.cp), f(c1.cp_lnp))
@@ -1220,21 +1224,24 @@ impl<'a, T: Real> TableGas<'a, T> {
             if WANT & W_Z != 0 {
                 let (zx0, zx1) = (f::<T>(c0.z_lnp), f::<T>(c1.z_lnp));
                 let (ztx0, ztx1) = (f::<T>(c0.z_lnp_t), f::<T>(c1.z_lnp_t));
-                e.z = edge(z0, zx0, z1, zx1);
-                e.z_t = edge(zt0, ztx0, zt1, ztx1);
+                let (dz, dzt) = (z1 - z0, zt1 - zt0);
+                e.z = z0 + a1 * dz + ad0 * zx0 + ad1 * zx1;
+                e.z_t = zt0 + a1 * dzt + ad0 * ztx0 + ad1 * ztx1;
                 if WANT & W_ZX != 0 {
-                    e.z_x = dux0 * z0 + dux1 * z1 + du[2] * zx0 + du[3] * zx1;
-                    e.z_xt = dux0 * zt0 + dux1 * zt1 + du[2] * ztx0 + du[3] * ztx1;
+                    e.z_x = dux1 * dz + du[2] * zx0 + du[3] * zx1;
+                    e.z_xt = dux1 * dzt + du[2] * ztx0 + du[3] * ztx1;
                 }
             }
             if WANT & W_H != 0 {
                 // ∂h/∂ln p = −R·T²·∂Z/∂T.
-                e.h = a0 * f(c0.h) + a1 * f(c1.h) - r * t * t * (ad0 * zt0 + ad1 * zt1);
+                let h0 = f::<T>(c0.h);
+                e.h = h0 + a1 * (f::<T>(c1.h) - h0) - r * t * t * (ad0 * zt0 + ad1 * zt1);
             }
             if WANT & (W_S | W_DS) != 0 {
                 // ∂s/∂ln p = −R·(Z + T·∂Z/∂T); ∂s/∂T = cp/T.
                 let sx = ad0 * (z0 + t * zt0) + ad1 * (z1 + t * zt1);
-                e.s = a0 * f(c0.s) + a1 * f(c1.s) - r * sx;
+                let s0 = f::<T>(c0.s);
+                e.s = s0 + a1 * (f::<T>(c1.s) - s0) - r * sx;
                 e.s_t = cp / t;
             }
         }
