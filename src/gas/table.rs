@@ -759,10 +759,10 @@ struct Edge<T> {
     s_t: T,
 }
 
-/// The cubic Hermite basis in T at one temperature of a leaf: the high
-/// edge's value weight h01 and its T-derivative (the low edge's are 1 − h01
-/// and the opposite derivative), and per edge (low T, high T) the tangent's
-/// weight (scaled by the leaf's height) and its T-derivative.
+/// The cubic Hermite basis at one point of a leaf (in ln p or in T; see
+/// `hermite`): the high end's value weight h01 and its derivative (the low
+/// end's are 1 − h01 and the opposite derivative), and per end (low, high)
+/// the tangent's weight (scaled by the leaf's size) and its derivative.
 #[derive(Clone, Copy)]
 struct TBasis<T> {
     b1: T,
@@ -858,24 +858,23 @@ impl<T: Real> Memo<T> {
     }
 }
 
-/// Cubic Hermite basis at t in [0, 1]: values (h00, h01, h10, h11) and their
-/// derivatives in t.
+/// The cubic Hermite basis at t in [0, 1] of a cell `d` wide (in ln p or
+/// T; `inv_d` = 1/d), in factored form with w = 1 − t: the high end's value
+/// weight h01 = t²(3 − 2t) (the low end's is 1 − h01) and its derivative
+/// in the cell's variable 6·t·w/d (the low end's opposite), the tangent
+/// weights h10·d = t·w²·d and h11·d = −t²·w·d and their derivatives
+/// h10' = w(1 − 3t), h11' = t(3t − 2).
 #[inline(always)]
-fn hermite<T: Real>(t: T) -> ([T; 4], [T; 4]) {
-    let one = T::ONE;
-    let two = T::of(2.0);
+fn hermite<T: Real>(t: T, d: T, inv_d: T) -> TBasis<T> {
+    let w = T::ONE - t;
+    let (t2, tw) = (t * t, t * w);
     let three = T::of(3.0);
-    let t2 = t * t;
-    let t3 = t2 * t;
-    let h01 = three * t2 - two * t3;
-    let h00 = one - h01;
-    let h10 = t3 - two * t2 + t;
-    let h11 = t3 - t2;
-    let d01 = T::of(6.0) * (t - t2);
-    let d00 = -d01;
-    let d10 = three * t2 - T::of(4.0) * t + one;
-    let d11 = three * t2 - two * t;
-    ([h00, h01, h10, h11], [d00, d01, d10, d11])
+    TBasis {
+        b1: t2 * (three - T::of(2.0) * t),
+        db1: T::of(6.0) * tw * inv_d,
+        bd: [tw * w * d, -(t2 * w) * d],
+        dbd: [w * (T::ONE - three * t), t * (three * t - T::of(2.0))],
+    }
 }
 
 #[inline(always)]
@@ -1200,14 +1199,15 @@ impl<'a, T: Real> TableGas<'a, T> {
         // 1e-4 of the leaf in f32), where the cubic continued is as close
         // as the one at the leaf's edge.
         let u = (x - leaf.x0) * leaf.inv_dx;
-        let (hu, du) = hermite(u);
+        let hu = hermite(u, leaf.dx, leaf.inv_dx);
         // The value weights sum to one and their derivatives to zero: each
         // function is its low node's value plus a1 times the nodes'
         // difference (one difference serves the value and its ln p
         // derivative), plus the tangent terms.
-        let a1 = hu[1];
-        let (ad0, ad1) = (hu[2] * leaf.dx, hu[3] * leaf.dx);
-        let dux1 = du[1] * leaf.inv_dx;
+        let a1 = hu.b1;
+        let [ad0, ad1] = hu.bd;
+        let dux1 = hu.db1;
+        let [dux_t0, dux_t1] = hu.dbd;
         let r = self.gas_constant;
         let t_lo = self.t_min + leaf.y0;
         let mut edges = [Edge::default(); 2];
@@ -1228,8 +1228,8 @@ impl<'a, T: Real> TableGas<'a, T> {
                 e.z = z0 + a1 * dz + ad0 * zx0 + ad1 * zx1;
                 e.z_t = zt0 + a1 * dzt + ad0 * ztx0 + ad1 * ztx1;
                 if WANT & W_ZX != 0 {
-                    e.z_x = dux1 * dz + du[2] * zx0 + du[3] * zx1;
-                    e.z_xt = dux1 * dzt + du[2] * ztx0 + du[3] * ztx1;
+                    e.z_x = dux1 * dz + dux_t0 * zx0 + dux_t1 * zx1;
+                    e.z_xt = dux1 * dzt + dux_t0 * ztx0 + dux_t1 * ztx1;
                 }
             }
             if WANT & W_H != 0 {
@@ -1270,13 +1270,7 @@ impl<'a, T: Real> TableGas<'a, T> {
     fn t_basis(leaf: &Leaf<'a, T>, y: T) -> TBasis<T> {
         // Not clamped: the leaf holds y (as u in `cut`).
         let v = (y - leaf.y0) * leaf.inv_dy;
-        let (hv, dv) = hermite(v);
-        TBasis {
-            b1: hv[1],
-            db1: dv[1] * leaf.inv_dy,
-            bd: [hv[2] * leaf.dy, hv[3] * leaf.dy],
-            dbd: [dv[2], dv[3]],
-        }
+        hermite(v, leaf.dy, leaf.inv_dy)
     }
 
     /// [`TableGas::combine`] with the T-basis already known.
