@@ -665,9 +665,16 @@ const JUMP_BITS: u32 = 3;
 const W_Z: u8 = 1;
 /// Patch outputs: ∂Z/∂ln p (with [`W_Z`]).
 const W_ZX: u8 = 32;
+/// Patch outputs: with [`W_Z`], Z without ∂Z/∂T (the seam's end states:
+/// only the entropy match's start without a discharge state uses it, and
+/// evaluates it there).
+const W_NO_DZ: u8 = 64;
+/// Not an output: with `CUT`, the descent starts from the leaf the last
+/// such descent found when it holds the point (`TableGas::last_leaf`).
+const W_LAST_LEAF: u8 = 128;
 /// What the gas seam's `compression` asks of the patch at its two ends (Z,
-/// h, s) and in the entropy match (s, ∂s/∂T, h and Z).
-pub(crate) const SEAM_ENDS: u8 = W_Z | W_H | W_S;
+/// h, cp, s) and in the entropy match (s, ∂s/∂T, h and Z).
+pub(crate) const SEAM_ENDS: u8 = W_Z | W_NO_DZ | W_H | W_S;
 /// See [`SEAM_ENDS`].
 pub(crate) const SEAM_ISO: u8 = W_DS | W_H | W_Z;
 /// What the seam asks at the isentropic state's end (h and Z).
@@ -752,14 +759,15 @@ struct Edge<T> {
     s_t: T,
 }
 
-/// The cubic Hermite basis in T at one temperature of a leaf, per edge
-/// (low T, high T): the value's and the tangent's weights (the tangent's
-/// scaled by the leaf's height) and their T-derivatives.
+/// The cubic Hermite basis at one point of a leaf (in ln p or in T; see
+/// `hermite`): the high end's value weight h01 and its derivative (the low
+/// end's are 1 − h01 and the opposite derivative), and per end (low, high)
+/// the tangent's weight (scaled by the leaf's size) and its derivative.
 #[derive(Clone, Copy)]
 struct TBasis<T> {
-    b: [T; 2],
+    b1: T,
+    db1: T,
     bd: [T; 2],
-    db: [T; 2],
     dbd: [T; 2],
 }
 
@@ -795,15 +803,14 @@ impl<'a, T: Real> Cut<'a, T> {
 /// at (p, T) with ln p, so a state shared by two calls (a stage's discharge
 /// and the next cooler's inlet; a stage's suction and the train totals) is
 /// interpolated once, and a state at a remembered pressure (a cooler's
-/// outlet at the next stage's suction pressure) reuses its logarithm.
+/// outlet at the next stage's suction pressure; the train totals' state at
+/// the last discharge pressure) reuses its logarithm.
 #[derive(Clone, Copy, Debug)]
 struct Memo<T> {
+    /// ln p: `T::ln(p)`, or ln p1 + ln r for a compression's discharge
+    /// (equal to within rounding).
     ln_p: T,
-    /// Whether `ln_p` is `T::ln(p)` itself (not ln p1 + ln r), so another
-    /// state at this pressure may take it unchanged.
-    ln_exact: bool,
     z: T,
-    dz_dt: T,
     h: T,
     cp: T,
     s: T,
@@ -841,9 +848,7 @@ impl<T: Real> Memo<T> {
     fn bad(flag: TableFlag) -> Self {
         Memo {
             ln_p: T::ZERO,
-            ln_exact: false,
             z: T::ONE,
-            dz_dt: T::ZERO,
             h: T::ZERO,
             cp: T::ZERO,
             s: T::ZERO,
@@ -853,24 +858,23 @@ impl<T: Real> Memo<T> {
     }
 }
 
-/// Cubic Hermite basis at t in [0, 1]: values (h00, h01, h10, h11) and their
-/// derivatives in t.
+/// The cubic Hermite basis at t in [0, 1] of a cell `d` wide (in ln p or
+/// T; `inv_d` = 1/d), in factored form with w = 1 − t: the high end's value
+/// weight h01 = t²(3 − 2t) (the low end's is 1 − h01) and its derivative
+/// in the cell's variable 6·t·w/d (the low end's opposite), the tangent
+/// weights h10·d = t·w²·d and h11·d = −t²·w·d and their derivatives
+/// h10' = w(1 − 3t), h11' = t(3t − 2).
 #[inline(always)]
-fn hermite<T: Real>(t: T) -> ([T; 4], [T; 4]) {
-    let one = T::ONE;
-    let two = T::of(2.0);
+fn hermite<T: Real>(t: T, d: T, inv_d: T) -> TBasis<T> {
+    let w = T::ONE - t;
+    let (t2, tw) = (t * t, t * w);
     let three = T::of(3.0);
-    let t2 = t * t;
-    let t3 = t2 * t;
-    let h01 = three * t2 - two * t3;
-    let h00 = one - h01;
-    let h10 = t3 - two * t2 + t;
-    let h11 = t3 - t2;
-    let d01 = T::of(6.0) * (t - t2);
-    let d00 = -d01;
-    let d10 = three * t2 - T::of(4.0) * t + one;
-    let d11 = three * t2 - two * t;
-    ([h00, h01, h10, h11], [d00, d01, d10, d11])
+    TBasis {
+        b1: t2 * (three - T::of(2.0) * t),
+        db1: T::of(6.0) * tw * inv_d,
+        bd: [tw * w * d, -(t2 * w) * d],
+        dbd: [w * (T::ONE - three * t), t * (three * t - T::of(2.0))],
+    }
 }
 
 #[inline(always)]
@@ -883,6 +887,11 @@ fn f<T: Real>(x: f32) -> T {
 /// It remembers its last two end states (interior mutability, so it is not
 /// `Sync`: one model per train, not shared between threads or interrupt
 /// priorities).
+///
+/// `repr(C)` in this order: the scalars every evaluation reads come first,
+/// at offsets a single-precision load reaches directly (below 1020 bytes on
+/// Cortex-M), the tables and the remembered states after them.
+#[repr(C)]
 pub struct TableGas<'a, T> {
     data: TableData<'a>,
     gas_constant: T,
@@ -890,17 +899,18 @@ pub struct TableGas<'a, T> {
     span_x: T,
     t_min: T,
     span_t: T,
-    /// The largest lattice coordinate, 2^lattice_bits − 1, and the shift
-    /// from a lattice coordinate to its part of the start-of-descent grid,
-    /// lattice_bits − JUMP_BITS (or 0), for `locate`.
-    top: u16,
-    part: u16,
     /// One lattice unit in ln p and its inverse.
     unit_x: T,
     inv_unit_x: T,
     /// One lattice unit in T and its inverse.
     unit_t: T,
     inv_unit_t: T,
+    h_offset: T,
+    s_offset: T,
+    /// Entropy residual that ends the entropy match: 1/16 of the table's
+    /// entropy tolerance (the interpolant is not more accurate than that;
+    /// across a cell edge it may jump by about the tolerance).
+    s_tolerance: T,
     /// A leaf's width 2^s lattice units in ln p and its inverse, and its
     /// height in T and its inverse, for s = 0..=16 (built once by
     /// [`TableGas::new`], so `locate` only looks them up).
@@ -910,17 +920,22 @@ pub struct TableGas<'a, T> {
     /// with its size as powers of two of lattice units (ln p, T); built once
     /// by [`TableGas::new`].
     jump: [(u16, u8, u8); 1 << (2 * JUMP_BITS)],
-    h_offset: T,
-    s_offset: T,
-    /// Entropy residual that ends the entropy match: 1/16 of the table's
-    /// entropy tolerance (the interpolant is not more accurate than that;
-    /// across a cell edge it may jump by about the tolerance).
-    s_tolerance: T,
     /// Keys (p, T) and values of the remembered end states, and the slot
     /// the next one goes to (see `end_state`).
     memo_p: [core::cell::Cell<T>; MEMO_SLOTS],
     memo_t: [core::cell::Cell<T>; MEMO_SLOTS],
     memo: [core::cell::Cell<Memo<T>>; MEMO_SLOTS],
+    /// The leaf the last descent asked to remember it found ([`W_LAST_LEAF`]:
+    /// a remembered state's fresh evaluation, e.g. the train totals' state
+    /// at the last discharge pressure, deep in the tree near CO2's critical
+    /// point), as (cell, size exponents in ln p and T, the point's lattice
+    /// coordinates shifted by them); the root (the whole lattice) at first.
+    last_leaf: core::cell::Cell<(u16, u8, u8, u16, u16)>,
+    /// The largest lattice coordinate, 2^lattice_bits − 1, and the shift
+    /// from a lattice coordinate to its part of the start-of-descent grid,
+    /// lattice_bits − JUMP_BITS (or 0), for `locate`.
+    top: u16,
+    part: u16,
     memo_next: core::cell::Cell<u8>,
 }
 
@@ -931,6 +946,7 @@ impl<'a, T: Real> Clone for TableGas<'a, T> {
             memo_t: self.memo_t.clone(),
             memo: self.memo.clone(),
             memo_next: self.memo_next.clone(),
+            last_leaf: self.last_leaf.clone(),
             ..*self
         }
     }
@@ -975,6 +991,7 @@ impl<'a, T: Real> TableGas<'a, T> {
             memo_t: core::array::from_fn(|_| core::cell::Cell::new(T::ZERO)),
             memo: core::array::from_fn(|_| core::cell::Cell::new(Memo::bad(TableFlag::NotFinite))),
             memo_next: core::cell::Cell::new(0),
+            last_leaf: core::cell::Cell::new((0, h.lattice_bits, h.lattice_bits, 0, 0)),
             leaf_sizes: [[T::ZERO; 4]; 17],
         };
         for (shift, sizes) in gas.leaf_sizes.iter_mut().enumerate() {
@@ -1076,9 +1093,11 @@ impl<'a, T: Real> TableGas<'a, T> {
         Ok((x, y))
     }
 
-    /// Descends the tree to the leaf holding relative coordinates (x, y).
+    /// Descends the tree to the leaf holding relative coordinates (x, y);
+    /// with `last`, from the remembered leaf if it holds the point, and
+    /// remembers the leaf found.
     #[inline(always)]
-    fn locate(&self, x: T, y: T) -> Option<Leaf<'a, T>> {
+    fn locate(&self, x: T, y: T, last: bool) -> Option<Leaf<'a, T>> {
         // Integer lattice coordinates of the point; each split cell names
         // the bit of them that picks its child.
         let top = u32::from(self.top);
@@ -1089,7 +1108,17 @@ impl<'a, T: Real> TableGas<'a, T> {
         // envelope; track the cell's size as powers of two of lattice units.
         let part = u32::from(self.part) & 31;
         let k = ((iy >> part) << JUMP_BITS) + (ix >> part);
-        let &(start, sx0, sy0) = self.jump.get(k as usize)?;
+        let &(mut start, mut sx0, mut sy0) = self.jump.get(k as usize)?;
+        if last {
+            // A cell of 2^sx × 2^sy lattice units holds the points whose
+            // coordinates shifted by its sizes equal its own (the tree
+            // splits at halves).
+            let (cell, lx, ly, kx, ky) = self.last_leaf.get();
+            let (lx, ly) = (u32::from(lx) & 31, u32::from(ly) & 31);
+            if ix >> lx == u32::from(kx) && iy >> ly == u32::from(ky) {
+                (start, sx0, sy0) = (cell, lx as u8, ly as u8);
+            }
+        }
         let (mut sx, mut sy) = (u32::from(sx0) & 31, u32::from(sy0) & 31);
         let mut index = usize::from(start);
         // MAX_DEPTH splits and the leaf (a half-open range: an inclusive one
@@ -1097,6 +1126,16 @@ impl<'a, T: Real> TableGas<'a, T> {
         for _ in 0..MAX_DEPTH + 1 {
             let cell = cells.get(index)?;
             if cell.children == 0 {
+                if last {
+                    // Below 2^16 cells and lattice units (validated).
+                    self.last_leaf.set((
+                        index as u16,
+                        sx as u8,
+                        sy as u8,
+                        (ix >> sx) as u16,
+                        (iy >> sy) as u16,
+                    ));
+                }
                 let (i0, j0) = ((ix >> sx) << sx, (iy >> sy) << sy);
                 let &[dx, inv_dx, _, _] = self.leaf_sizes.get(sx as usize)?;
                 let &[_, _, dy, inv_dy] = self.leaf_sizes.get(sy as usize)?;
@@ -1160,16 +1199,21 @@ impl<'a, T: Real> TableGas<'a, T> {
         // 1e-4 of the leaf in f32), where the cubic continued is as close
         // as the one at the leaf's edge.
         let u = (x - leaf.x0) * leaf.inv_dx;
-        let (hu, du) = hermite(u);
-        let (a0, a1) = (hu[0], hu[1]);
-        let (ad0, ad1) = (hu[2] * leaf.dx, hu[3] * leaf.dx);
-        let (dux0, dux1) = (du[0] * leaf.inv_dx, du[1] * leaf.inv_dx);
+        let hu = hermite(u, leaf.dx, leaf.inv_dx);
+        // The value weights sum to one and their derivatives to zero: each
+        // function is its low node's value plus a1 times the nodes'
+        // difference (one difference serves the value and its ln p
+        // derivative), plus the tangent terms.
+        let a1 = hu.b1;
+        let [ad0, ad1] = hu.bd;
+        let dux1 = hu.db1;
+        let [dux_t0, dux_t1] = hu.dbd;
         let r = self.gas_constant;
         let t_lo = self.t_min + leaf.y0;
         let mut edges = [Edge::default(); 2];
         let corners = [(n[0], n[1], t_lo), (n[2], n[3], t_lo + leaf.dy)];
         for (e, (c0, c1, t)) in edges.iter_mut().zip(corners) {
-            let edge = |f0: T, fx0: T, f1: T, fx1: T| a0 * f0 + ad0 * fx0 + a1 * f1 + ad1 * fx1;
+            let edge = |f0: T, fx0: T, f1: T, fx1: T| f0 + a1 * (f1 - f0) + ad0 * fx0 + ad1 * fx1;
             let (z0, z1, zt0, zt1) = (f::<T>(c0.z), f::<T>(c1.z), f::<T>(c0.z_t), f::<T>(c1.z_t));
             let cp = if WANT & (W_H | W_S | W_DS) != 0 {
                 edge(f(c0.cp), f(c0.cp_lnp), f(c1.cp), f(c1.cp_lnp))
@@ -1180,21 +1224,24 @@ impl<'a, T: Real> TableGas<'a, T> {
             if WANT & W_Z != 0 {
                 let (zx0, zx1) = (f::<T>(c0.z_lnp), f::<T>(c1.z_lnp));
                 let (ztx0, ztx1) = (f::<T>(c0.z_lnp_t), f::<T>(c1.z_lnp_t));
-                e.z = edge(z0, zx0, z1, zx1);
-                e.z_t = edge(zt0, ztx0, zt1, ztx1);
+                let (dz, dzt) = (z1 - z0, zt1 - zt0);
+                e.z = z0 + a1 * dz + ad0 * zx0 + ad1 * zx1;
+                e.z_t = zt0 + a1 * dzt + ad0 * ztx0 + ad1 * ztx1;
                 if WANT & W_ZX != 0 {
-                    e.z_x = dux0 * z0 + dux1 * z1 + du[2] * zx0 + du[3] * zx1;
-                    e.z_xt = dux0 * zt0 + dux1 * zt1 + du[2] * ztx0 + du[3] * ztx1;
+                    e.z_x = dux1 * dz + dux_t0 * zx0 + dux_t1 * zx1;
+                    e.z_xt = dux1 * dzt + dux_t0 * ztx0 + dux_t1 * ztx1;
                 }
             }
             if WANT & W_H != 0 {
                 // ∂h/∂ln p = −R·T²·∂Z/∂T.
-                e.h = a0 * f(c0.h) + a1 * f(c1.h) - r * t * t * (ad0 * zt0 + ad1 * zt1);
+                let h0 = f::<T>(c0.h);
+                e.h = h0 + a1 * (f::<T>(c1.h) - h0) - r * t * t * (ad0 * zt0 + ad1 * zt1);
             }
             if WANT & (W_S | W_DS) != 0 {
                 // ∂s/∂ln p = −R·(Z + T·∂Z/∂T); ∂s/∂T = cp/T.
                 let sx = ad0 * (z0 + t * zt0) + ad1 * (z1 + t * zt1);
-                e.s = a0 * f(c0.s) + a1 * f(c1.s) - r * sx;
+                let s0 = f::<T>(c0.s);
+                e.s = s0 + a1 * (f::<T>(c1.s) - s0) - r * sx;
                 e.s_t = cp / t;
             }
         }
@@ -1223,13 +1270,7 @@ impl<'a, T: Real> TableGas<'a, T> {
     fn t_basis(leaf: &Leaf<'a, T>, y: T) -> TBasis<T> {
         // Not clamped: the leaf holds y (as u in `cut`).
         let v = (y - leaf.y0) * leaf.inv_dy;
-        let (hv, dv) = hermite(v);
-        TBasis {
-            b: [hv[0], hv[1]],
-            bd: [hv[2] * leaf.dy, hv[3] * leaf.dy],
-            db: [dv[0] * leaf.inv_dy, dv[1] * leaf.inv_dy],
-            dbd: [dv[2], dv[3]],
-        }
+        hermite(v, leaf.dy, leaf.inv_dy)
     }
 
     /// [`TableGas::combine`] with the T-basis already known.
@@ -1237,25 +1278,33 @@ impl<'a, T: Real> TableGas<'a, T> {
     fn combine_at<const WANT: u8>(cut: &Cut<'a, T>, tb: &TBasis<T>) -> Patch<T> {
         let mut out = Patch::ZERO;
         let [e0, e1] = &cut.edges;
-        // Each output is the low edge's term plus the high edge's, with the
-        // T-basis of each edge (value, tangent; their T-derivatives).
-        let (b0, bd0, db0, dbd0) = (tb.b[0], tb.bd[0], tb.db[0], tb.dbd[0]);
-        let (b1, bd1, db1, dbd1) = (tb.b[1], tb.bd[1], tb.db[1], tb.dbd[1]);
+        // Each output is the low edge's value, plus the high edge's weight
+        // times the difference of the values (the value weights sum to one,
+        // their T-derivatives to zero: one difference serves the value and
+        // its derivative), plus each edge's tangent term.
+        let (b1, db1) = (tb.b1, tb.db1);
+        let [bd0, bd1] = tb.bd;
+        let [dbd0, dbd1] = tb.dbd;
         if WANT & W_Z != 0 {
-            out.z = (b0 * e0.z + bd0 * e0.z_t) + (b1 * e1.z + bd1 * e1.z_t);
-            out.dz_dt = (db0 * e0.z + dbd0 * e0.z_t) + (db1 * e1.z + dbd1 * e1.z_t);
+            let d = e1.z - e0.z;
+            out.z = e0.z + b1 * d + bd0 * e0.z_t + bd1 * e1.z_t;
+            if WANT & W_NO_DZ == 0 {
+                out.dz_dt = db1 * d + dbd0 * e0.z_t + dbd1 * e1.z_t;
+            }
             if WANT & W_ZX != 0 {
-                out.dz_dx = (b0 * e0.z_x + bd0 * e0.z_xt) + (b1 * e1.z_x + bd1 * e1.z_xt);
+                out.dz_dx = e0.z_x + b1 * (e1.z_x - e0.z_x) + bd0 * e0.z_xt + bd1 * e1.z_xt;
             }
         }
         if WANT & W_H != 0 {
-            out.h = (b0 * e0.h + bd0 * e0.cp) + (b1 * e1.h + bd1 * e1.cp);
-            out.dh_dt = (db0 * e0.h + dbd0 * e0.cp) + (db1 * e1.h + dbd1 * e1.cp);
+            let d = e1.h - e0.h;
+            out.h = e0.h + b1 * d + bd0 * e0.cp + bd1 * e1.cp;
+            out.dh_dt = db1 * d + dbd0 * e0.cp + dbd1 * e1.cp;
         }
         if WANT & (W_S | W_DS) != 0 {
-            out.s = (b0 * e0.s + bd0 * e0.s_t) + (b1 * e1.s + bd1 * e1.s_t);
+            let d = e1.s - e0.s;
+            out.s = e0.s + b1 * d + bd0 * e0.s_t + bd1 * e1.s_t;
             if WANT & W_DS != 0 {
-                out.ds_dt = (db0 * e0.s + dbd0 * e0.s_t) + (db1 * e1.s + dbd1 * e1.s_t);
+                out.ds_dt = db1 * d + dbd0 * e0.s_t + dbd1 * e1.s_t;
             }
         }
         out
@@ -1373,7 +1422,7 @@ impl<'a, T: Real> TableGas<'a, T> {
         let bad = (Patch::ZERO, Quality::Bad, TableFlag::NotFinite);
         if !matches!(cut, Some(c) if c.holds(x, y)) {
             *cut = None;
-            let Some(leaf) = self.locate(x, y) else {
+            let Some(leaf) = self.locate(x, y, CUT & W_LAST_LEAF != 0) else {
                 return bad;
             };
             let (quality, flag) = Self::flag_quality(leaf.cell);
@@ -1428,7 +1477,11 @@ impl<'a, T: Real> TableGas<'a, T> {
             });
         };
         if OUT & W_Z != 0 {
-            add(pt.z + pt.dz_dt);
+            add(if OUT & W_NO_DZ != 0 {
+                pt.z
+            } else {
+                pt.z + pt.dz_dt
+            });
         }
         if OUT & W_ZX != 0 {
             add(pt.dz_dx);
@@ -1462,16 +1515,16 @@ impl<'a, T: Real> TableGas<'a, T> {
     /// the train's totals, is interpolated once per update. `ln_p` is
     /// ln p1 + ln r if the caller has it (a compression's discharge);
     /// otherwise ln p is `T::ln(p)`, taken from a remembered state at the
-    /// same pressure when one has it. A fresh evaluation leaves its cut in
+    /// same pressure when one has it (also a discharge's ln p1 + ln r: the
+    /// state then differs from the state function's at `T::ln(p)` only by
+    /// rounding). A fresh evaluation leaves its cut in
     /// `cut`. With `LOOKUP` false the state is not looked up (a
     /// compression's states: a train evaluates its stages first, so they are
     /// new); with `KEEP` false a fresh state is not remembered (a cooler's
     /// outlet: nothing later in a train update asks for it again, and
-    /// keeping it would push out a stage's state the totals use). With
-    /// `EXACT` a remembered state counts only if it was evaluated at
-    /// `T::ln(p)` (the isothermal work: bit for bit the state functions').
+    /// keeping it would push out a stage's state the totals use).
     #[inline(always)]
-    fn end_state<const LOOKUP: bool, const KEEP: bool, const EXACT: bool>(
+    fn end_state<const LOOKUP: bool, const KEEP: bool>(
         &self,
         p: T,
         t: T,
@@ -1491,12 +1544,10 @@ impl<'a, T: Real> TableGas<'a, T> {
                 if T::same_bits(kp.get(), p) {
                     if let (Some(kt), Some(memo)) = (self.memo_t.get(k), self.memo.get(k)) {
                         let m = memo.get();
-                        if T::same_bits(kt.get(), t) && (m.ln_exact || !EXACT) {
+                        if T::same_bits(kt.get(), t) {
                             return m;
                         }
-                        if m.ln_exact {
-                            known = Some(m.ln_p);
-                        }
+                        known = Some(m.ln_p);
                     }
                 }
             }
@@ -1506,20 +1557,20 @@ impl<'a, T: Real> TableGas<'a, T> {
             // evaluation's register saves.
             return self.fresh_end_state_cold::<KEEP>(p, t, known);
         }
-        self.fresh_end_state::<KEEP>(p, t, ln_p, known, cut)
+        self.fresh_end_state::<KEEP, SEAM_ENDS>(p, t, ln_p, known, cut)
     }
 
     /// [`TableGas::fresh_end_state`] for a state that was looked up and not
     /// found (`known`: ln p from a remembered state at the same pressure).
     #[inline(never)]
     fn fresh_end_state_cold<const KEEP: bool>(&self, p: T, t: T, known: Option<T>) -> Memo<T> {
-        self.fresh_end_state::<KEEP>(p, t, None, known, &mut None)
+        self.fresh_end_state::<KEEP, { SEAM_ENDS | W_LAST_LEAF }>(p, t, None, known, &mut None)
     }
 
     /// The seam's end state at (p, t) evaluated (see
     /// [`TableGas::end_state`]), remembered with `KEEP`.
     #[inline(always)]
-    fn fresh_end_state<const KEEP: bool>(
+    fn fresh_end_state<const KEEP: bool, const CUT: u8>(
         &self,
         p: T,
         t: T,
@@ -1527,17 +1578,14 @@ impl<'a, T: Real> TableGas<'a, T> {
         known: Option<T>,
         cut: &mut Option<Cut<'a, T>>,
     ) -> Memo<T> {
-        let (ln_p, ln_exact) = match (ln_p, known) {
-            (Some(l), _) => (l, false),
-            (None, Some(l)) => (l, true),
-            (None, None) => (T::ln(p), true),
+        let ln_p = match (ln_p, known) {
+            (Some(l), _) | (None, Some(l)) => l,
+            (None, None) => T::ln(p),
         };
-        let (pt, quality, flag) = self.eval_on::<SEAM_ENDS, SEAM_ENDS>(ln_p, t, cut);
+        let (pt, quality, flag) = self.eval_on::<CUT, SEAM_ENDS>(ln_p, t, cut);
         let m = Memo {
             ln_p,
-            ln_exact,
             z: pt.z,
-            dz_dt: pt.dz_dt,
             h: pt.h,
             cp: pt.dh_dt,
             s: pt.s,
@@ -1746,31 +1794,69 @@ impl<'a, T: Real> TableGas<'a, T> {
         head
     }
 
-    /// Z, cp and h at (p, t) with the quality (the seam's mean path
-    /// properties; a remembered end state).
-    pub(crate) fn z_cp(&self, p: T, t: T) -> (T, T, Quality) {
-        if !(p > T::ZERO) {
-            return (T::ONE, T::ZERO, Quality::Bad);
-        }
-        let m = self.end_state::<true, true, false>(p, t, None, &mut None);
+    /// Z, cp and the quality at (p, t) (the seam's mean path properties; a
+    /// remembered end state). A pressure that is not positive gives the bad
+    /// state's Z = 1, cp = 0 (`end_state`).
+    #[inline(always)]
+    fn z_cp_at(&self, p: T, t: T) -> (T, T, Quality) {
+        let m = self.end_state::<true, true>(p, t, None, &mut None);
         (m.z, m.cp, m.quality)
     }
 
+    /// [`TableGas::z_cp_at`] at both ends of a path, in one call.
+    #[inline(never)]
+    pub(crate) fn z_cp_pair(&self, a: (T, T), b: (T, T)) -> [(T, T, Quality); 2] {
+        [self.z_cp_at(a.0, a.1), self.z_cp_at(b.0, b.1)]
+    }
+
     /// Enthalpy at (p, t) with its quality and flag (a remembered end
-    /// state if there is one, not remembered otherwise: see `end_state`).
-    pub(crate) fn enthalpy(&self, p: T, t: T) -> (T, Quality, TableFlag) {
-        if !(p > T::ZERO) {
-            return (T::ZERO, Quality::Bad, TableFlag::NotFinite);
-        }
-        let m = self.end_state::<true, false, false>(p, t, None, &mut None);
+    /// state if there is one, not remembered otherwise: see `end_state`;
+    /// h = 0 where the pressure is not positive).
+    #[inline(always)]
+    fn enthalpy_at(&self, p: T, t: T) -> (T, Quality, TableFlag) {
+        let m = self.end_state::<true, false>(p, t, None, &mut None);
         (m.h, m.quality, m.flag)
     }
 
+    /// [`TableGas::enthalpy_at`] at a cooler's inlet and outlet, in one
+    /// call.
+    #[inline(never)]
+    pub(crate) fn enthalpy_pair(&self, a: (T, T), b: (T, T)) -> [(T, Quality, TableFlag); 2] {
+        [self.enthalpy_at(a.0, a.1), self.enthalpy_at(b.0, b.1)]
+    }
+
     /// Enthalpy and entropy at (p, t) with the quality and flag (a
-    /// remembered end state evaluated at ln p itself: see `end_state`).
-    pub(crate) fn enthalpy_entropy(&self, p: T, t: T) -> (T, T, Quality, TableFlag) {
-        let m = self.end_state::<true, true, true>(p, t, None, &mut None);
+    /// remembered end state: see `end_state`).
+    #[inline(always)]
+    fn enthalpy_entropy_at(&self, p: T, t: T) -> (T, T, Quality, TableFlag) {
+        let m = self.end_state::<true, true>(p, t, None, &mut None);
         (m.h, m.s, m.quality, m.flag)
+    }
+
+    /// [`TableGas::enthalpy_entropy_at`] at both ends of an isotherm, in
+    /// one call.
+    #[inline(never)]
+    pub(crate) fn enthalpy_entropy_pair(
+        &self,
+        a: (T, T),
+        b: (T, T),
+    ) -> [(T, T, Quality, TableFlag); 2] {
+        [
+            self.enthalpy_entropy_at(a.0, a.1),
+            self.enthalpy_entropy_at(b.0, b.1),
+        ]
+    }
+
+    /// [`TableGas::z_cp_at`] alone (the tests).
+    #[cfg(test)]
+    fn z_cp(&self, p: T, t: T) -> (T, T, Quality) {
+        self.z_cp_at(p, t)
+    }
+
+    /// [`TableGas::enthalpy_at`] alone (the tests).
+    #[cfg(test)]
+    fn enthalpy(&self, p: T, t: T) -> (T, Quality, TableFlag) {
+        self.enthalpy_at(p, t)
     }
 
     /// One end state of a compression at (ln p, t) asking `END` of the
@@ -1785,10 +1871,9 @@ impl<'a, T: Real> TableGas<'a, T> {
         cut: &mut Option<Cut<'a, T>>,
     ) -> (Patch<T>, Quality, TableFlag, T) {
         if END == SEAM_ENDS {
-            let m = self.end_state::<false, true, false>(p, t, ln_p, cut);
+            let m = self.end_state::<false, true>(p, t, ln_p, cut);
             let pt = Patch {
                 z: m.z,
-                dz_dt: m.dz_dt,
                 h: m.h,
                 dh_dt: m.cp,
                 s: m.s,
@@ -1843,7 +1928,17 @@ impl<'a, T: Real> TableGas<'a, T> {
             return out;
         }
         let r = self.gas_constant;
-        let along_isentrope = || t1 * T::exp(r * (end1.z + t1 * end1.dz_dt) / end1.dh_dt * ln_r);
+        let along_isentrope = || {
+            // ∂Z/∂T at the suction, evaluated here if the end states leave
+            // it out (the same cut and cubic: the same value).
+            let dz_dt = if END & W_NO_DZ != 0 {
+                let (pt, _, _) = self.eval::<{ W_Z | W_H }>(ln_p1, t1);
+                pt.dz_dt
+            } else {
+                end1.dz_dt
+            };
+            t1 * T::exp(r * (end1.z + t1 * dz_dt) / end1.dh_dt * ln_r)
+        };
         let mut cut = None;
         let guess = match t2 {
             Some(t2) => {

@@ -20,21 +20,21 @@ use super::{CompressionStates, GasModel, GasState, PathProperties, Validity, Val
 use crate::quality::Quality;
 use crate::real::Real;
 
-/// ln q for q near 1 (the discharge state's p·v over the isentropic
+/// ln q for q = x/y near 1 (the discharge state's p·v over the isentropic
 /// discharge state's: both at p2, so only the temperatures and Z differ) by
-/// the series ln q = 2·atanh(u), u = (q − 1)/(q + 1), to u⁷ (Abramowitz &
-/// Stegun 4.1.27; truncation below 2.5e-10 for |u| < 0.1, i.e. q in
-/// (0.82, 1.22)); `T::ln` outside that range.
+/// the series ln q = 2·atanh(u), u = (q − 1)/(q + 1) = (x − y)/(x + y) (one
+/// division), to u⁷ (Abramowitz & Stegun 4.1.27; truncation below 2.5e-10
+/// for |u| < 0.1, i.e. q in (0.82, 1.22)); `T::ln(x/y)` outside that range.
 #[inline(always)]
-fn ln_near_one<T: Real>(q: T) -> T {
-    let u = (q - T::ONE) / (q + T::ONE);
+fn ln_near_one<T: Real>(x: T, y: T) -> T {
+    let u = (x - y) / (x + y);
     let bound = T::of(0.1);
     if u > -bound && u < bound {
         let u2 = u * u;
         let series = T::ONE + u2 * (T::of(1.0 / 3.0) + u2 * (T::of(0.2) + u2 * T::of(1.0 / 7.0)));
         T::of(2.0) * u * series
     } else {
-        T::ln(q)
+        T::ln(x / y)
     }
 }
 
@@ -112,8 +112,7 @@ impl<'a, T: Real> GasModel<T> for TableGas<'a, T> {
     /// the cp of k = 1.3 (finite placeholders; the train flags the states).
     fn path(&self, p1: T, t1: T, p2: T, t2: T, _z_supplied: Option<T>) -> PathProperties<T> {
         let r = TableGas::gas_constant(self);
-        let (z1, cp1, q1) = self.z_cp(p1, t1);
-        let (z2, cp2, q2) = self.z_cp(p2, t2);
+        let [(z1, cp1, q1), (z2, cp2, q2)] = self.z_cp_pair((p1, t1), (p2, t2));
         let half = T::of(0.5);
         let (cp, z) = match (q1 != Quality::Bad, q2 != Quality::Bad) {
             (true, true) => (half * (cp1 + cp2), half * (z1 + z2)),
@@ -160,8 +159,13 @@ impl<'a, T: Real> GasModel<T> for TableGas<'a, T> {
 
     /// Two enthalpy evaluations (h and cp only).
     fn enthalpy_drop(&self, p_in: T, t_in: T, p_out: T, t_out: T, _z: Option<T>) -> (T, Validity) {
-        let (h_in, q_in, f_in) = self.enthalpy(p_in, t_in);
-        let (h_out, q_out, f_out) = self.enthalpy(p_out, t_out);
+        let [(h_in, q_in, f_in), (h_out, q_out, f_out)] =
+            self.enthalpy_pair((p_in, t_in), (p_out, t_out));
+        // Both good: in range (what `validity` gives), without its two
+        // out-of-line calls (a train's coolers, every update).
+        if q_in == Quality::Good && q_out == Quality::Good {
+            return (h_in - h_out, Validity::IN_RANGE);
+        }
         let v = self
             .validity(q_in, f_in, p_in)
             .worst(self.validity(q_out, f_out, p_out));
@@ -175,8 +179,7 @@ impl<'a, T: Real> GasModel<T> for TableGas<'a, T> {
     /// remembered end states (a train's totals ask for the two states its
     /// mean path properties have just evaluated).
     fn isothermal_work(&self, p1: T, p2: T, _ln_ratio: T, t: T, _z: Option<T>) -> (T, Validity) {
-        let (h1, s1, q1, f1) = self.enthalpy_entropy(p1, t);
-        let (h2, s2, q2, f2) = self.enthalpy_entropy(p2, t);
+        let [(h1, s1, q1, f1), (h2, s2, q2, f2)] = self.enthalpy_entropy_pair((p1, t), (p2, t));
         (
             (h2 - h1) - t * (s2 - s1),
             self.validity(q1, f1, p1).worst(self.validity(q2, f2, p2)),
@@ -239,7 +242,7 @@ impl<'a, T: Real> GasModel<T> for TableGas<'a, T> {
                 // nothing to cancellation.
                 let pv2s = iso.z * iso.t;
                 out.ln_pv_ratio = if iso.quality != Quality::Bad {
-                    iso_ln_pv + ln_near_one(pv2 / pv2s)
+                    iso_ln_pv + ln_near_one(pv2, pv2s)
                 } else {
                     T::ln(pv2 / zt1)
                 };
