@@ -49,7 +49,7 @@
 //! `4 τ_a`, uncertain before).
 //!
 //! Cost per scan: one `ln`, one `exp`, one `sqrt`, at most `N` table steps
-//! (segment differences are taken at construction) and a handful of
+//! (segment slopes are taken at construction: no division) and a handful of
 //! multiplications for the rate (its gain is formed again only when the scan
 //! interval changes); the measured-exponent mode adds one `ln` (`ln r` is
 //! shared with the head number) and three divisions (figures:
