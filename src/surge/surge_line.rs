@@ -144,6 +144,8 @@ pub struct SurgeLine<T, const N: usize> {
     /// Index of the last segment, `count − 2`.
     last_segment: usize,
     sigma: T,
+    /// `1/σ`, for the live head number (see [`Self::reciprocal_sigma`]).
+    reciprocal_sigma: T,
 }
 
 fn finite_pos<T: Real>(x: T) -> bool {
@@ -292,12 +294,19 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             segments,
             last_segment: count.saturating_sub(2),
             sigma,
+            reciprocal_sigma: T::ONE / sigma,
         })
     }
 
     /// σ = (n − 1)/n used for the head number.
     pub fn sigma(&self) -> T {
         self.sigma
+    }
+
+    /// `1/σ = n/(n − 1)` (σ > 0: `n > 1` is checked), taken once here: the
+    /// monitor multiplies by it where it divided by σ every scan.
+    pub(crate) fn reciprocal_sigma(&self) -> T {
+        self.reciprocal_sigma
     }
 
     /// The transformed points, in rising head.
