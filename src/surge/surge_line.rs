@@ -28,6 +28,7 @@
 
 use super::coordinates::{
     flow_number_from_volume_flow, head_number, reduced_speed, sigma_from_exponent, z_r_t,
+    BinomialSeries,
 };
 use crate::error::{outside_documented_range, ConfigError, Problem};
 use crate::quality::Quality;
@@ -146,6 +147,8 @@ pub struct SurgeLine<T, const N: usize> {
     sigma: T,
     /// `1/σ`, for the live head number (see [`Self::reciprocal_sigma`]).
     reciprocal_sigma: T,
+    /// The binomial series of σ (see [`super::coordinates::HeadAnchor`]).
+    series: BinomialSeries<T>,
 }
 
 fn finite_pos<T: Real>(x: T) -> bool {
@@ -295,6 +298,7 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             last_segment: count.saturating_sub(2),
             sigma,
             reciprocal_sigma: T::ONE / sigma,
+            series: BinomialSeries::new(sigma),
         })
     }
 
@@ -307,6 +311,11 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
     /// monitor multiplies by it where it divided by σ every scan.
     pub(crate) fn reciprocal_sigma(&self) -> T {
         self.reciprocal_sigma
+    }
+
+    /// The binomial series of σ, for head numbers near an anchor.
+    pub(crate) fn series(&self) -> &BinomialSeries<T> {
+        &self.series
     }
 
     /// The transformed points, in rising head.
