@@ -118,23 +118,34 @@ impl<T: Real> LnRatio<T> {
     }
 }
 
-/// Head number from `ln r` (the same bits as [`head_number`]).
+/// Head number from `r^σ`: `(r^σ − 1)/σ` (the same bits as
+/// [`head_number`] given its `r^σ = exp(σ ln r)`), or without an FPU and
+/// with `by_reciprocal` `(r^σ − 1)·(1/σ)`, `1/σ` taken once where σ is
+/// fixed: one library call fewer per scan on a soft-float core, within one
+/// unit in the last place (two roundings instead of one). Without an FPU
+/// the division is out of line: inline, the compiler formed it ahead of
+/// the branch (a float division is an ordinary operation to it, a library
+/// call of some 150 instructions there).
 #[inline]
-pub(crate) fn head_number_from_ln<T: Real>(ln_ratio: T, sigma: T) -> T {
-    (T::exp(sigma * ln_ratio) - T::ONE) / sigma
-}
-
-/// Head number from `ln r`, multiplying by `1/σ` (taken once, where σ is
-/// fixed) instead of dividing by σ: one library call fewer per scan on a
-/// soft-float core, within one unit in the last place of
-/// [`head_number_from_ln`] (two roundings instead of one).
-#[inline]
-pub(crate) fn head_number_from_ln_by_reciprocal<T: Real>(
-    ln_ratio: T,
+pub(crate) fn head_number_from_power<T: Real>(
+    power: T,
     sigma: T,
     reciprocal_sigma: T,
+    by_reciprocal: bool,
 ) -> T {
-    (T::exp(sigma * ln_ratio) - T::ONE) * reciprocal_sigma
+    if HARD_FLOAT {
+        (power - T::ONE) / sigma
+    } else if by_reciprocal {
+        (power - T::ONE) * reciprocal_sigma
+    } else {
+        head_number_dividing(power, sigma)
+    }
+}
+
+/// `(r^σ − 1)/σ`, out of line (see [`head_number_from_power`]).
+#[inline(never)]
+fn head_number_dividing<T: Real>(power: T, sigma: T) -> T {
+    (power - T::ONE) / sigma
 }
 
 /// Largest `|r/r₀ − 1|` for which [`HeadAnchor`] forms the head number by
@@ -174,12 +185,12 @@ pub(crate) struct HeadAnchor<T> {
     scale: T,
 }
 
-/// The series' coefficients of one σ: `σ`, `C(σ,2) = σ(σ−1)/2` and
-/// `C(σ,3) = C(σ,2)(σ−2)/3`, formed once (see [`HeadAnchor`]).
+/// The series' coefficients of one σ beyond the first (σ itself):
+/// `C(σ,2) = σ(σ−1)/2` and `C(σ,3) = C(σ,2)(σ−2)/3`, formed once (see
+/// [`HeadAnchor`]).
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub(crate) struct BinomialSeries<T> {
-    sigma: T,
     second: T,
     third: T,
 }
@@ -188,7 +199,6 @@ impl<T: Real> BinomialSeries<T> {
     pub(crate) fn new(sigma: T) -> Self {
         let second = sigma * (sigma - T::ONE) * T::of(0.5);
         BinomialSeries {
-            sigma,
             second,
             third: second * (sigma - T::of(2.0)) / T::of(3.0),
         }
@@ -207,35 +217,28 @@ impl<T: Real> HeadAnchor<T> {
         }
     }
 
-    /// The head number at `ratio` by the series, if it lies within the
-    /// anchor's reach (`None` otherwise: NaN `h` fails the test).
+    /// The head number at `ratio` by the series of `sigma`, if it lies
+    /// within the anchor's reach (`None` otherwise: NaN `h` fails the test).
     #[inline]
-    pub(crate) fn near(&self, ratio: T, series: &BinomialSeries<T>) -> Option<T> {
+    pub(crate) fn near(&self, ratio: T, sigma: T, series: &BinomialSeries<T>) -> Option<T> {
         let h = (ratio - self.ratio) * self.reciprocal_ratio;
         if !T::within_nonnegative(T::abs(h), T::ZERO, T::of(ANCHOR_REACH)) {
             return None;
         }
-        let p = h * (series.sigma + h * (series.second + h * series.third));
+        let p = h * (sigma + h * (series.second + h * series.third));
         Some(self.head + self.scale * p)
     }
 
-    /// Anchors at `ratio` with `power = ratio^σ` and `reciprocal_sigma =
-    /// 1/σ`; returns `Y₀ = (power − 1)/σ` (as [`head_number_from_ln`] forms
-    /// it, or times `1/σ` without an FPU).
+    /// Anchors at `ratio`, whose head number `Y₀` was formed directly,
+    /// with `scale = r^σ/σ`.
     #[inline]
-    pub(crate) fn set(&mut self, ratio: T, power: T, sigma: T, reciprocal_sigma: T) -> T {
-        let head = if HARD_FLOAT {
-            (power - T::ONE) / sigma
-        } else {
-            (power - T::ONE) * reciprocal_sigma
-        };
+    pub(crate) fn set(&mut self, ratio: T, head: T, scale: T) {
         *self = HeadAnchor {
             ratio,
             reciprocal_ratio: T::ONE / ratio,
             head,
-            scale: power * reciprocal_sigma,
+            scale,
         };
-        head
     }
 }
 
@@ -478,15 +481,16 @@ mod tests {
             let reciprocal = 1.0 / sigma;
             for r0 in [1.005_f32, 1.05, 1.3, 1.85, 2.7, 4.0, 7.5, 12.0] {
                 let mut anchor = HeadAnchor::new();
-                assert!(anchor.near(r0, &series).is_none());
+                assert!(anchor.near(r0, sigma, &series).is_none());
                 let power = <f32 as Real>::exp(sigma * <f32 as Real>::ln(r0));
-                let y0 = anchor.set(r0, power, sigma, reciprocal);
-                assert_eq!(anchor.near(r0, &series), Some(y0));
+                let y0 = head_number_from_power(power, sigma, reciprocal, false);
+                anchor.set(r0, y0, power * reciprocal);
+                assert_eq!(anchor.near(r0, sigma, &series), Some(y0));
                 let (mut series_ulps, mut direct_ulps) = (0.0_f64, 0.0_f64);
                 for i in -200..=200 {
                     let r = r0 * (1.0 + i as f32 / 200.0 * 0.0039);
                     let want = (f64::from(r).powf(f64::from(sigma)) - 1.0) / f64::from(sigma);
-                    let got = anchor.near(r, &series).unwrap();
+                    let got = anchor.near(r, sigma, &series).unwrap();
                     series_ulps = series_ulps.max(ulps(got, want));
                     direct_ulps = direct_ulps.max(ulps(head_number(r, sigma), want));
                 }
@@ -495,7 +499,7 @@ mod tests {
                     "σ {sigma}, r₀ {r0}: series {series_ulps} ulp, direct {direct_ulps} ulp"
                 );
                 for far in [r0 * 1.0045, r0 * 0.9955, f32::NAN, f32::INFINITY] {
-                    assert!(anchor.near(far, &series).is_none(), "{far}");
+                    assert!(anchor.near(far, sigma, &series).is_none(), "{far}");
                 }
             }
         }

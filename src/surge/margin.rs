@@ -51,23 +51,22 @@
 //! Cost per scan: for the head number a short series within 0.4 % of the
 //! last pressure ratio it was formed at directly (see
 //! [`super::coordinates`]), else one `ln` and one `exp`; one `sqrt`, at most
-//! `N` table steps (segment slopes are taken at construction: no division)
-//! and a handful of multiplications for the rate (its gain and `1/(τ_a + dt)` are formed
-//! again only when the scan interval changes; without an FPU `1/σ` is taken
-//! at construction too); the measured-exponent mode adds one `ln` (`ln r`
+//! `N` table steps (segment differences are taken at construction) and a
+//! handful of multiplications for the rate (its gain and `1/(τ_a + dt)` are
+//! formed again only when the scan interval changes; without an FPU `1/σ` is
+//! taken at construction too); the measured-exponent mode adds one `ln` (`ln r`
 //! is shared with the head number) and three divisions (figures:
 //! `ci/measurements.md`).
 
 use super::coordinates::{
-    flow_number, head_number_from_ln, head_number_from_ln_by_reciprocal, signed_margin_root,
-    HeadAnchor, LnRatio,
+    flow_number, head_number_from_power, signed_margin_root, HeadAnchor, LnRatio,
 };
 use super::exponent::{ExponentConfig, ExponentEstimator, ExponentSource, ExponentState};
 use super::surge_line::SurgeLine;
 use super::{above_zero, at_most, check_setting, largest_finite, positive_finite, BIT_COMPARES};
 use crate::error::{ConfigError, Problem};
 use crate::quality::{Measured, Quality};
-use crate::real::{Real, HARD_FLOAT};
+use crate::real::Real;
 use crate::units::{Kelvin, PressureAbs};
 
 /// Above this `|Δp|/ps` the flow element reading is impossible (bad).
@@ -539,25 +538,20 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         // division (a library call of some 170 instructions; with an FPU a
         // division is one instruction, fewer than the test).
         let line_sigma = T::same_bits(sigma.value, self.line.sigma());
-        let head = match anchor {
-            Some(anchor) if line_sigma => match anchor.near(ratio, self.line.series()) {
-                Some(head) => head,
-                None => {
-                    let power = T::exp(sigma.value * ln_ratio.of(ratio));
-                    anchor.set(ratio, power, sigma.value, self.line.reciprocal_sigma())
+        let near = match &anchor {
+            Some(anchor) if line_sigma => anchor.near(ratio, sigma.value, self.line.series()),
+            _ => None,
+        };
+        let head = match near {
+            Some(head) => head,
+            None => {
+                let power = T::exp(sigma.value * ln_ratio.of(ratio));
+                let reciprocal = self.line.reciprocal_sigma();
+                let head = head_number_from_power(power, sigma.value, reciprocal, line_sigma);
+                if let (Some(anchor), true) = (anchor, line_sigma) {
+                    anchor.set(ratio, head, power * reciprocal);
                 }
-            },
-            _ => {
-                let ln_r = ln_ratio.of(ratio);
-                if !HARD_FLOAT && line_sigma {
-                    head_number_from_ln_by_reciprocal(
-                        ln_r,
-                        sigma.value,
-                        self.line.reciprocal_sigma(),
-                    )
-                } else {
-                    head_number_from_ln(ln_r, sigma.value)
-                }
+                head
             }
         };
         let y = Measured::derived(head, q.worst(sigma.quality));
