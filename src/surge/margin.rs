@@ -48,14 +48,19 @@
 //! the rate filter (rate and time to surge bad until it settles again, after
 //! `4 τ_a`, uncertain before).
 //!
-//! Cost per scan: one `ln`, one `exp`, one `sqrt`, at most `N` table steps
-//! (segment differences are taken at construction) and a handful of
-//! multiplications for the rate (its gain is formed again only when the scan
-//! interval changes); the measured-exponent mode adds one `ln` (`ln r` is
-//! shared with the head number) and three divisions (figures:
+//! Cost per scan: for the head number a short series within 0.4 % of the
+//! last pressure ratio it was formed at directly (see
+//! [`super::coordinates`]), else one `ln` and one `exp`; one `sqrt`, at most
+//! `N` table steps (segment differences are taken at construction) and a
+//! handful of multiplications for the rate (its gain and `1/(τ_a + dt)` are
+//! formed again only when the scan interval changes; without an FPU `1/σ` is
+//! taken at construction too); the measured-exponent mode adds one `ln` (`ln r`
+//! is shared with the head number) and three divisions (figures:
 //! `ci/measurements.md`).
 
-use super::coordinates::{flow_number, head_number_from_ln, signed_margin_root, LnRatio};
+use super::coordinates::{
+    flow_number, head_number_from_power, signed_margin_root, HeadAnchor, LnRatio,
+};
 use super::exponent::{ExponentConfig, ExponentEstimator, ExponentSource, ExponentState};
 use super::surge_line::SurgeLine;
 use super::{above_zero, at_most, check_setting, largest_finite, positive_finite, BIT_COMPARES};
@@ -254,15 +259,22 @@ impl<T: Real> RateFilter<T> {
     }
 
     /// One sample `m`, `dt` s after the last (finite, positive), with the
-    /// gain `alpha = dt / (τ_a + dt)`; `settle` is `4 τ_a`.
-    fn update(&mut self, m: T, dt: T, alpha: T, settle: T) {
+    /// gain `alpha = dt / (τ_a + dt)` and `per_time = 1 / (τ_a + dt)`;
+    /// `settle` is `4 τ_a`.
+    fn update(&mut self, m: T, dt: T, alpha: T, per_time: T, settle: T) {
         if self.phase == Phase::Empty {
             *self = Self::first(m);
             return;
         }
         let level = self.level;
-        let next = level + alpha * (m - level);
-        let derivative = (next - level) / dt;
+        let step = m - level;
+        let next = level + alpha * step;
+        // The level's change per second, `(next − level)/dt = alpha·step/dt
+        // = step/(τ_a + dt)`: one multiplication by the stored reciprocal,
+        // no division and no subtraction (and no cancellation: `next −
+        // level` kept only the bits of `alpha·step` above the level's last
+        // place).
+        let derivative = step * per_time;
         let slope = self.slope + alpha * (derivative - self.slope);
         // `next` lies between two finite values; a non-finite `next` or
         // derivative would make `slope` non-finite too (`alpha >= 0`), so
@@ -336,7 +348,13 @@ pub struct SurgeMonitor<T, const N: usize> {
     gain_dt: T,
     /// The rate filter's gain `dt / (τ_a + dt)` for `gain_dt`.
     gain: T,
+    /// `1 / (τ_a + dt)` for `gain_dt`: the level's change times it is the
+    /// derivative.
+    per_time: T,
     rate: RateFilter<T>,
+    /// The last ratio whose head number was formed directly (see
+    /// [`HeadAnchor`]).
+    anchor: HeadAnchor<T>,
     exponent: ExponentEstimator<T>,
     state: SurgeState<T>,
 }
@@ -375,7 +393,9 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             // τ_a < 4 τ_a`), and its gain is the expression `update` forms.
             gain_dt: config.scan_period,
             gain: config.scan_period / (config.rate_filter_time + config.scan_period),
+            per_time: T::ONE / (config.rate_filter_time + config.scan_period),
             rate: RateFilter::new(),
+            anchor: HeadAnchor::new(),
             exponent,
             state: SurgeState::bad(),
         })
@@ -425,6 +445,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
     /// Forgets the rate history and the last result (after a restart).
     pub fn reset(&mut self) {
         self.rate = RateFilter::new();
+        self.anchor = HeadAnchor::new();
         self.exponent.reset();
         self.state = SurgeState::bad();
     }
@@ -433,7 +454,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
     /// verdict; bad if an input is not finite, a pressure is not positive,
     /// Δp/ps is impossible or discharge is below suction.
     pub fn map_point(&self, scan: &SurgeScan<T>) -> (Measured<T>, Measured<T>, SurgeFault) {
-        self.map_point_sharing::<BIT_COMPARES>(scan, &mut LnRatio::new())
+        self.map_point_sharing::<BIT_COMPARES>(scan, &mut LnRatio::new(), None)
     }
 
     /// [`Self::map_point`] taking `ln r` from (and leaving it in) `ln_ratio`;
@@ -443,6 +464,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         &self,
         scan: &SurgeScan<T>,
         ln_ratio: &mut LnRatio<T>,
+        anchor: Option<&mut HeadAnchor<T>>,
     ) -> (Measured<T>, Measured<T>, SurgeFault) {
         let ps = scan.suction_pressure.map(|p| p.pa());
         let pd = scan.discharge_pressure.map(|p| p.pa());
@@ -508,10 +530,31 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         if sigma.quality != Quality::Good && fault == SurgeFault::None {
             fault = SurgeFault::Exponent;
         }
-        let y = Measured::derived(
-            head_number_from_ln(ln_ratio.of(ratio), sigma.value),
-            q.worst(sigma.quality),
-        );
+        // The line's σ (always in configured-exponent mode, and as the
+        // fallback in measured mode; compared on the bits): with an anchor
+        // (the monitor's update) near the last anchored ratio by the
+        // series, else formed and anchored there (see [`HeadAnchor`]);
+        // without an FPU its reciprocal is at hand: a multiplication, not a
+        // division (a library call of some 170 instructions; with an FPU a
+        // division is one instruction, fewer than the test).
+        let line_sigma = T::same_bits(sigma.value, self.line.sigma());
+        let near = match &anchor {
+            Some(anchor) if line_sigma => anchor.near(ratio, sigma.value, self.line.series()),
+            _ => None,
+        };
+        let head = match near {
+            Some(head) => head,
+            None => {
+                let power = T::exp(sigma.value * ln_ratio.of(ratio));
+                let reciprocal = self.line.reciprocal_sigma();
+                let head = head_number_from_power(power, sigma.value, reciprocal, line_sigma);
+                if let (Some(anchor), true) = (anchor, line_sigma) {
+                    anchor.set(ratio, head, power * reciprocal);
+                }
+                head
+            }
+        };
+        let y = Measured::derived(head, q.worst(sigma.quality));
         (x, y, fault)
     }
 
@@ -520,7 +563,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
     /// present σ (in measured-exponent mode the σ filter is advanced only by
     /// [`Self::update`]; the scan's temperatures are not read here).
     pub fn evaluate(&self, scan: &SurgeScan<T>, added_margin: T) -> SurgeState<T> {
-        self.evaluate_sharing::<BIT_COMPARES>(scan, added_margin, &mut LnRatio::new())
+        self.evaluate_sharing::<BIT_COMPARES>(scan, added_margin, &mut LnRatio::new(), None)
     }
 
     /// [`Self::evaluate`] taking `ln r` from (and leaving it in) `ln_ratio`;
@@ -531,8 +574,9 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         scan: &SurgeScan<T>,
         added_margin: T,
         ln_ratio: &mut LnRatio<T>,
+        anchor: Option<&mut HeadAnchor<T>>,
     ) -> SurgeState<T> {
-        let (x, y, mut fault) = self.map_point_sharing::<BITS>(scan, ln_ratio);
+        let (x, y, mut fault) = self.map_point_sharing::<BITS>(scan, ln_ratio, anchor);
         if !x.quality.is_usable() || !y.quality.is_usable() {
             return SurgeState {
                 exponent: self.exponent.state(),
@@ -614,7 +658,12 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         // One `ln r` per scan, shared by σ (measured mode) and the head.
         let mut ln_ratio = LnRatio::new();
         self.update_exponent(scan, dt, &mut ln_ratio);
-        let mut state = self.evaluate_sharing::<BITS>(scan, added_margin, &mut ln_ratio);
+        // The head anchor copied out and back (the evaluation borrows the
+        // monitor whole).
+        let mut anchor = self.anchor;
+        let mut state =
+            self.evaluate_sharing::<BITS>(scan, added_margin, &mut ln_ratio, Some(&mut anchor));
+        self.anchor = anchor;
         // `gain_dt` is an interval that passed the test below (the scan
         // period at first), so an interval with the same bits passes without
         // testing again (compared as integers: no library call on a
@@ -625,15 +674,22 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         let dt_ok = if T::same_bits(dt, self.gain_dt) {
             true
         } else if dt > T::ZERO && dt <= self.gap {
-            self.gain = dt / (self.config.rate_filter_time + dt);
+            let span = self.config.rate_filter_time + dt;
+            self.gain = dt / span;
+            self.per_time = T::ONE / span;
             self.gain_dt = dt;
             true
         } else {
             false
         };
         if state.margin.quality.is_usable() && dt_ok {
-            self.rate
-                .update(state.margin.value, dt, self.gain, self.settle);
+            self.rate.update(
+                state.margin.value,
+                dt,
+                self.gain,
+                self.per_time,
+                self.settle,
+            );
         } else if state.margin.quality.is_usable() {
             // Clock fault or a gap: restart from this sample.
             self.rate = RateFilter::first(state.margin.value);
@@ -835,8 +891,9 @@ mod tests {
                     seen[3 + usize::from(below)] = true;
                 }
                 seen[5] |= sf.fault == SurgeFault::FlowDpOutsideValidity;
-                let ef = f.evaluate_sharing::<false>(&scan, T::of(added), &mut LnRatio::new());
-                let eb = b.evaluate_sharing::<true>(&scan, T::of(added), &mut LnRatio::new());
+                let ef =
+                    f.evaluate_sharing::<false>(&scan, T::of(added), &mut LnRatio::new(), None);
+                let eb = b.evaluate_sharing::<true>(&scan, T::of(added), &mut LnRatio::new(), None);
                 assert!(same_state(&ef, &eb), "scan {i}: {ef:?} {eb:?}");
             }
             assert_eq!(seen, [true; 6]);
@@ -906,8 +963,8 @@ mod tests {
                         let (x, y, fault) = m.map_point(&scan);
                         // Both ways of comparing, the same bits.
                         let mut l = (LnRatio::new(), LnRatio::new());
-                        let by_float = m.map_point_sharing::<false>(&scan, &mut l.0);
-                        let by_bits = m.map_point_sharing::<true>(&scan, &mut l.1);
+                        let by_float = m.map_point_sharing::<false>(&scan, &mut l.0, None);
+                        let by_bits = m.map_point_sharing::<true>(&scan, &mut l.1, None);
                         assert!(
                             same(by_float.0, by_bits.0)
                                 && same(by_float.1, by_bits.1)
@@ -1103,5 +1160,41 @@ mod tests {
     fn one_pass_plausibility_matches_the_documented_checks() {
         same_verdict::<f64>();
         same_verdict::<f32>();
+    }
+
+    /// Consistency check (the f64 build of the same monitor as the
+    /// reference): over a slow approach to the line at the demo scan
+    /// period, the f32 rate of approach, once settled, lies within 2e-4 of
+    /// the f64 one, relative (measured: 1.6e-4; the f32 margin's own
+    /// rounding, some 3e-8 against a change of some 1e-4 per scan, is
+    /// most of it).
+    #[test]
+    fn f32_rate_of_approach_tracks_the_f64_one() {
+        let (mut m32, mut m64) = (monitor::<f32>(), monitor::<f64>());
+        let dt = demo_map::SCAN_PERIOD_S;
+        let mut worst = 0.0_f64;
+        for i in 0..2000_u32 {
+            // Flow Δp falling 1 Pa per scan from 9 kPa at 1 bar suction and
+            // 1.9 bar discharge: the margin falls towards the line.
+            let (ps, pd, dp) = (1.0e5, 1.9e5, 9.0e3 - f64::from(i));
+            let s64 = SurgeScan::pressures_only(
+                Measured::good(PressureAbs::from_pa(ps)),
+                Measured::good(PressureAbs::from_pa(pd)),
+                Measured::good(dp),
+            );
+            let s32 = SurgeScan::pressures_only(
+                Measured::good(PressureAbs::from_pa(ps as f32)),
+                Measured::good(PressureAbs::from_pa(pd as f32)),
+                Measured::good(dp as f32),
+            );
+            let a = m32.update(&s32, 0.0, dt as f32).rate_of_approach;
+            let b = m64.update(&s64, 0.0, dt).rate_of_approach;
+            assert_eq!(a.quality, b.quality, "scan {i}");
+            if b.quality == Quality::Good && i > 1000 {
+                assert!(b.value > 0.0);
+                worst = worst.max((f64::from(a.value) - b.value).abs() / b.value);
+            }
+        }
+        assert!(worst > 0.0 && worst < 2.0e-4, "worst {worst}");
     }
 }

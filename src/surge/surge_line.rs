@@ -28,6 +28,7 @@
 
 use super::coordinates::{
     flow_number_from_volume_flow, head_number, reduced_speed, sigma_from_exponent, z_r_t,
+    BinomialSeries,
 };
 use crate::error::{outside_documented_range, ConfigError, Problem};
 use crate::quality::Quality;
@@ -144,6 +145,10 @@ pub struct SurgeLine<T, const N: usize> {
     /// Index of the last segment, `count − 2`.
     last_segment: usize,
     sigma: T,
+    /// `1/σ`, for the live head number (see [`Self::reciprocal_sigma`]).
+    reciprocal_sigma: T,
+    /// The binomial series of σ (see [`super::coordinates::HeadAnchor`]).
+    series: BinomialSeries<T>,
 }
 
 fn finite_pos<T: Real>(x: T) -> bool {
@@ -287,12 +292,25 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             segments,
             last_segment: count.saturating_sub(2),
             sigma,
+            reciprocal_sigma: T::ONE / sigma,
+            series: BinomialSeries::new(sigma),
         })
     }
 
     /// σ = (n − 1)/n used for the head number.
     pub fn sigma(&self) -> T {
         self.sigma
+    }
+
+    /// `1/σ = n/(n − 1)` (σ > 0: `n > 1` is checked), taken once here: the
+    /// monitor multiplies by it where it divided by σ every scan.
+    pub(crate) fn reciprocal_sigma(&self) -> T {
+        self.reciprocal_sigma
+    }
+
+    /// The binomial series of σ, for head numbers near an anchor.
+    pub(crate) fn series(&self) -> &BinomialSeries<T> {
+        &self.series
     }
 
     /// The transformed points, in rising head.
