@@ -142,7 +142,7 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         config.validate()?;
         Ok(Channel {
             config,
-            scaling: Scaling::new(&config),
+            scaling: Scaling::for_channel(&config),
             plausibility: Plausibility::new(),
             median: SortedWindow::new(),
             low_pass: LowPass::new(),
@@ -204,7 +204,7 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         if tick == Tick::SteppedBack {
             self.resync_left = u32::try_from(M).unwrap_or(u32::MAX).max(1);
         }
-        let (v, signal_fault) = self.scaling.scale(raw);
+        let (v, signal_fault, signal_quality) = self.scaling.scale_classified(raw);
         // The sample leaving the median's last `M` if this one is accepted
         // (read before the plausibility check writes it to the window).
         let (leaving, held) = self.plausibility.accepted_back(M);
@@ -214,13 +214,18 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         } else {
             // `v` is finite unless the signal fault is bad (`scale`).
             let (max_rate, allowance) = (self.config.max_rate, &mut self.allowance);
-            self.plausibility
-                .check_scaled(&self.config, v, dt_ms, signal_fault, |ms| {
+            self.plausibility.check_scaled(
+                &self.config,
+                v,
+                dt_ms,
+                (signal_fault, signal_quality),
+                |ms| {
                     if allowance.0 != ms {
                         *allowance = (ms, rate_allowance(max_rate, ms));
                     }
                     allowance.1
-                })
+                },
+            )
         };
         if tick != Tick::Stalled && self.resync_left > 0 {
             self.resync_left -= 1;

@@ -54,9 +54,13 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
             self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
             return FaultCode::NotFinite;
         }
-        self.check_scaled(cfg, v, dt_ms, signal_fault, |ms| {
-            rate_allowance(cfg.max_rate, ms)
-        })
+        self.check_scaled(
+            cfg,
+            v,
+            dt_ms,
+            (signal_fault, signal_fault.quality()),
+            |ms| rate_allowance(cfg.max_rate, ms),
+        )
         .0
     }
 
@@ -64,20 +68,22 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
     /// signal-level fault is bad (what [`ChannelConfig::scale`] returns),
     /// with the allowed change over `ms` milliseconds given by `allowance`
     /// (the channel caches it: [`rate_allowance`] of the usual interval).
+    /// `signal` is the signal-level fault with its quality
+    /// (`fault.quality()`, which the scaling knows on its usual path).
     /// Returns the fault and its quality (`fault.quality()`, known on every
-    /// path but one, so the caller need not classify the fault again).
+    /// path, so the caller need not classify the fault again).
     #[inline]
     pub(crate) fn check_scaled(
         &mut self,
         cfg: &ChannelConfig<T>,
         v: T,
         dt_ms: u32,
-        signal_fault: FaultCode,
+        signal: (FaultCode, Quality),
         allowance: impl FnOnce(u32) -> T,
     ) -> (FaultCode, Quality) {
         // The time since the last accepted sample grows by `dt_ms` if this
         // one is rejected; an accepted one restarts it at 0.
-        let signal_quality = signal_fault.quality();
+        let (signal_fault, signal_quality) = signal;
         if signal_quality == Quality::Bad {
             self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
             return (signal_fault, Quality::Bad);
