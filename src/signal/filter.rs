@@ -43,6 +43,26 @@ pub fn low_pass_gain<T: Real>(dt_ms: u32, tau_s: T) -> Option<T> {
     }
 }
 
+/// One step of [`LowPass::update_with`] on a state kept in one value: `y`
+/// the output, NaN before the first sample (for `None`), and `a` the gain,
+/// NaN for no gain (`None`; a gain of [`low_pass_gain`] is never NaN: Δt
+/// finite over a positive τ + Δt). The same result: y + a·(x − y) is NaN
+/// when either is, which sends the step to the rare branch, and there a
+/// finite (seen) `y` with a NaN gain is kept and anything else gives `x`,
+/// as [`LowPass::update_with`] does. The usual step (seen, a gain, finite
+/// result) costs no test of either state.
+#[inline(always)]
+pub(crate) fn low_pass_step<T: Real>(y: T, x: T, a: T) -> T {
+    let next = y + a * (x - y);
+    if T::is_finite(next) {
+        next
+    } else if T::is_finite(y) && !T::is_finite(a) {
+        y
+    } else {
+        x
+    }
+}
+
 impl<T: Real> LowPass<T> {
     /// Uninitialised: the first sample passes through.
     pub const fn new() -> Self {
@@ -430,6 +450,40 @@ mod tests {
         shared_window_matches_median::<7, 3>(13);
         shared_window_matches_median::<4, 1>(14);
         shared_window_matches_median::<16, 15>(15);
+    }
+
+    /// [`low_pass_step`] with NaN for `None` gives the bits of
+    /// [`LowPass::update_with`] (consistency check) over a seeded stream of
+    /// samples (including ones that overflow x − y), gains (including none)
+    /// and restarts.
+    #[test]
+    fn low_pass_step_equals_update_with() {
+        let mut lp = LowPass::<f32>::new();
+        let mut y = f32::NAN;
+        let mut state = 11_u64;
+        for i in 0..20_000 {
+            state = state
+                .wrapping_mul(6_364_136_223_846_793_005)
+                .wrapping_add(1_442_695_040_888_963_407);
+            let x = match (state >> 33) % 5 {
+                0 => f32::MAX,
+                1 => -f32::MAX,
+                2 => -0.0,
+                _ => ((state >> 40) % 1000) as f32 * 0.37 - 150.0,
+            };
+            let gain = match (state >> 20) % 6 {
+                0 => None,
+                1 => Some(1.0),
+                _ => low_pass_gain((state >> 24) as u32 % 200, 0.05_f32),
+            };
+            if i % 101 == 100 {
+                lp.reset();
+                y = f32::NAN;
+            }
+            let want = lp.update_with(x, gain);
+            y = low_pass_step(y, x, gain.unwrap_or(f32::NAN));
+            assert_eq!(y.to_bits(), want.to_bits(), "step {i}: {x} {gain:?}");
+        }
     }
 
     #[test]

@@ -9,7 +9,7 @@
 use super::channel::{ChannelConfig, Scaling};
 use super::clock::{SampleClock, Tick};
 use super::events::{Event, EventLog};
-use super::filter::{low_pass_gain, LowPass, SortedWindow};
+use super::filter::{low_pass_gain, low_pass_step, SortedWindow};
 use super::plausibility::{rate_allowance, Plausibility};
 use super::substitution::Substitution;
 use super::{ChannelStatus, FaultCode};
@@ -82,7 +82,9 @@ pub struct Channel<T, const W: usize, const M: usize> {
     /// arrival order is the frozen window's (every accepted sample, and only
     /// those, goes to both; a reset clears both).
     median: SortedWindow<T, M>,
-    low_pass: LowPass<T>,
+    /// The low-pass output ([`super::filter::LowPass`]'s), NaN before the
+    /// first filtered sample ([`low_pass_step`]).
+    low_pass: T,
     substitution: Substitution<T>,
     clock: SampleClock,
     /// The smallest gap limit, ms: `max(hold_ms, 1)`.
@@ -91,8 +93,8 @@ pub struct Channel<T, const W: usize, const M: usize> {
     since_filtered_ms: u32,
     resync_left: u32,
     /// The low-pass gain of the latest interval (the usual one): interval,
-    /// gain.
-    gain: (u32, Option<T>),
+    /// gain (NaN for none, [`low_pass_step`]).
+    gain: (u32, T),
     /// The spike allowance of the latest interval: interval, allowance.
     allowance: (u32, T),
     last: ChannelOutput<T>,
@@ -145,13 +147,13 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             scaling: Scaling::for_channel(&config),
             plausibility: Plausibility::new(),
             median: SortedWindow::new(),
-            low_pass: LowPass::new(),
+            low_pass: T::of(f64::NAN),
             substitution: Substitution::new(),
             clock: SampleClock::new(),
             gap_floor_ms: config.hold_ms.max(1),
             since_filtered_ms: 0,
             resync_left: 0,
-            gain: (0, low_pass_gain(0, config.filter_time_constant_s)),
+            gain: (0, Self::gain_or_nan(0, config.filter_time_constant_s)),
             allowance: (0, rate_allowance(config.max_rate, 0)),
             last: ChannelOutput::bad(config.id),
         })
@@ -161,12 +163,17 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
     /// maintenance period or a clock change): the channel is as new.
     pub fn reset(&mut self) {
         self.plausibility.reset();
-        self.low_pass.reset();
+        self.low_pass = T::of(f64::NAN);
         self.substitution = Substitution::new();
         self.clock.reset();
         self.since_filtered_ms = 0;
         self.resync_left = 0;
         self.last = ChannelOutput::bad(self.config.id);
+    }
+
+    /// [`low_pass_gain`], NaN for none ([`low_pass_step`]).
+    fn gain_or_nan(ms: u32, tau_s: T) -> T {
+        low_pass_gain(ms, tau_s).unwrap_or(T::of(f64::NAN))
     }
 
     /// The validated configuration.
@@ -198,7 +205,7 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             dt > gap_floor_ms && dt > period.saturating_mul(8)
         });
         if matches!(tick, Tick::Gap | Tick::SteppedBack) {
-            self.low_pass.reset();
+            self.low_pass = T::of(f64::NAN);
             self.plausibility.reset();
         }
         if tick == Tick::SteppedBack {
@@ -243,9 +250,13 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             let ms = self.since_filtered_ms.saturating_add(dt_ms);
             self.since_filtered_ms = 0;
             if self.gain.0 != ms {
-                self.gain = (ms, low_pass_gain(ms, self.config.filter_time_constant_s));
+                self.gain = (
+                    ms,
+                    Self::gain_or_nan(ms, self.config.filter_time_constant_s),
+                );
             }
-            let f = self.low_pass.update_with(m, self.gain.1);
+            let f = low_pass_step(self.low_pass, m, self.gain.1);
+            self.low_pass = f;
             (v, f)
         };
         let s = self
