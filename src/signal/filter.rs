@@ -8,7 +8,7 @@
 //! impulse-noise filter (common practice). Both delay the signal; see the
 //! module note in [`super`] on the surge path.
 
-use super::{above, below};
+use super::below;
 use crate::real::{Real, HARD_FLOAT};
 
 /// First-order low-pass with time constant `tau_s`, driven by sample
@@ -209,16 +209,40 @@ impl<T: Real, const M: usize> SortedWindow<T, M> {
     /// `held < M`.
     #[inline]
     pub(crate) fn update(&mut self, x: T, leaving: Option<T>, held: usize) -> T {
+        self.update_by(x, leaving, held, below)
+    }
+
+    /// As [`SortedWindow::update`] for samples that are all positive and
+    /// finite (a channel whose plausible range lies above zero): every
+    /// compare on the bit patterns ([`Real::less_positive_bits`], the same
+    /// answer as the float compare for such values, so the same order and
+    /// the same median), an integer compare where a float one is a
+    /// soft-float call (Cortex-M0).
+    #[inline]
+    pub(crate) fn update_positive(&mut self, x: T, leaving: Option<T>, held: usize) -> T {
+        self.update_by(x, leaving, held, T::less_positive_bits)
+    }
+
+    /// [`SortedWindow::update`] with `a < b` decided by `less` (NaN-free
+    /// values).
+    #[inline(always)]
+    fn update_by(
+        &mut self,
+        x: T,
+        leaving: Option<T>,
+        held: usize,
+        less: impl Fn(T, T) -> bool + Copy,
+    ) -> T {
         if let Some(evicted) = leaving {
             // Full: the evicted sample's place in the sorted copy (it is
             // there; the last place is never reached otherwise): the first
             // entry equal to it.
-            let at = evicted_place(&self.sorted, evicted, HARD_FLOAT);
-            place_in_full(&mut self.sorted, at, x);
+            let at = evicted_place(&self.sorted, evicted, HARD_FLOAT, less);
+            place_in_full(&mut self.sorted, at, x, less);
             self.sorted.get(M / 2).copied().unwrap_or(x)
         } else {
             let used = self.sorted.get_mut(..=held).unwrap_or(&mut []);
-            place_sorted(used, held, x);
+            place_sorted(used, held, x, less);
             used.get(held / 2).copied().unwrap_or(x)
         }
     }
@@ -231,9 +255,14 @@ impl<T: Real, const M: usize> SortedWindow<T, M> {
 /// one the zero test is a soft-float call (the compiler turns the test of
 /// the bits into a float compare), so: the first entry not below it, which
 /// in an ascending array holding it is the first equal one, compared on the
-/// bits ([`Real::less_than`]; finite values).
+/// bits ([`Real::less_than`]; finite values), by `less`.
 #[inline(always)]
-fn evicted_place<T: Real, const M: usize>(s: &[T; M], evicted: T, hard_float: bool) -> usize {
+fn evicted_place<T: Real, const M: usize>(
+    s: &[T; M],
+    evicted: T,
+    hard_float: bool,
+    less: impl Fn(T, T) -> bool,
+) -> usize {
     if hard_float {
         let mut at = first_index(s, |e| T::same_bits(e, evicted));
         if T::same_bits(T::abs(evicted), T::ZERO) {
@@ -241,7 +270,7 @@ fn evicted_place<T: Real, const M: usize>(s: &[T; M], evicted: T, hard_float: bo
         }
         at
     } else {
-        first_index(s, |e| !T::less_than(e, evicted))
+        first_index(s, |e| !less(e, evicted))
     }
 }
 
@@ -264,10 +293,15 @@ fn first_index<T: Copy, const M: usize>(s: &[T; M], is: impl Fn(T) -> bool) -> u
 /// pass is skipped; without one both passes run as in [`place_sorted`]
 /// (measured: fewer instructions each way, see the commit).
 #[inline]
-fn place_in_full<T: Real, const M: usize>(s: &mut [T; M], at: usize, v: T) {
+fn place_in_full<T: Real, const M: usize>(
+    s: &mut [T; M],
+    at: usize,
+    v: T,
+    less: impl Fn(T, T) -> bool,
+) {
     let mut j = at.min(M - 1);
     if HARD_FLOAT {
-        if let Some(&first) = s.get(j + 1).filter(|&&a| below(a, v)) {
+        if let Some(&first) = s.get(j + 1).filter(|&&a| less(a, v)) {
             let mut up = first;
             loop {
                 if let Some(e) = s.get_mut(j) {
@@ -275,7 +309,7 @@ fn place_in_full<T: Real, const M: usize>(s: &mut [T; M], at: usize, v: T) {
                 }
                 j += 1;
                 match s.get(j + 1) {
-                    Some(&a) if below(a, v) => up = a,
+                    Some(&a) if less(a, v) => up = a,
                     _ => break,
                 }
             }
@@ -287,7 +321,7 @@ fn place_in_full<T: Real, const M: usize>(s: &mut [T; M], at: usize, v: T) {
     } else {
         while j + 1 < M {
             let up = match s.get(j + 1) {
-                Some(&a) if below(a, v) => a,
+                Some(&a) if less(a, v) => a,
                 _ => break,
             };
             if let Some(e) = s.get_mut(j) {
@@ -298,7 +332,7 @@ fn place_in_full<T: Real, const M: usize>(s: &mut [T; M], at: usize, v: T) {
     }
     while j > 0 {
         let down = match s.get(j - 1) {
-            Some(&b) if above(b, v) => b,
+            Some(&b) if less(v, b) => b,
             _ => break,
         };
         if let Some(e) = s.get_mut(j) {
@@ -314,11 +348,11 @@ fn place_in_full<T: Real, const M: usize>(s: &mut [T; M], at: usize, v: T) {
 /// Writes `v` into ascending `s` at slot `at`, whose old content is
 /// discarded, and moves it up or down to its place (the other entries stay
 /// ascending): one pass of an insertion sort. NaN-free values assumed
-/// (compares by [`below`] and [`above`]).
-fn place_sorted<T: Real>(s: &mut [T], at: usize, v: T) {
+/// (`less`: `a < b`, [`below`] or an equivalent).
+fn place_sorted<T: Real>(s: &mut [T], at: usize, v: T, less: impl Fn(T, T) -> bool) {
     let mut j = at;
     while let Some(&up) = s.get(j + 1) {
-        if !below(up, v) {
+        if !less(up, v) {
             break;
         }
         if let Some(e) = s.get_mut(j) {
@@ -328,7 +362,7 @@ fn place_sorted<T: Real>(s: &mut [T], at: usize, v: T) {
     }
     while j > 0 {
         match s.get(j - 1) {
-            Some(&b) if above(b, v) => {
+            Some(&b) if less(v, b) => {
                 if let Some(e) = s.get_mut(j) {
                     *e = b;
                 }
@@ -394,6 +428,9 @@ mod tests {
         let mut m = Median::<f64, M>::new();
         let mut w = crate::window::Window::<f64, W>::filled_with(0.0);
         let mut s = SortedWindow::<f64, M>::new();
+        // The positive form on the same samples shifted above zero.
+        let mut m_pos = Median::<f64, M>::new();
+        let mut s_pos = SortedWindow::<f64, M>::new();
         let mut state = seed;
         for i in 0..3000 {
             state = state
@@ -402,11 +439,14 @@ mod tests {
             let x = ((state >> 33) % 9) as f64 * 0.5 - 2.0;
             if (state >> 20) % 89 == 0 {
                 m.reset();
+                m_pos.reset();
                 w.clear();
             }
             let (leaving, held) = (w.back(M), w.len());
             w.write(x);
             assert_eq!(s.update(x, leaving, held), m.update(x), "sample {i}");
+            let got = s_pos.update_positive(x + 3.0, leaving.map(|l| l + 3.0), held);
+            assert_eq!(got.to_bits(), m_pos.update(x + 3.0).to_bits(), "sample {i}");
         }
     }
 
@@ -431,8 +471,21 @@ mod tests {
             let mut s = SortedWindow::<f32, 5> { sorted: w };
             let want = w.iter().position(|&e| e == evicted).unwrap();
             // Both forms (with and without a floating-point unit).
-            assert_eq!(evicted_place(&w, evicted, true), want, "{w:?} {evicted}");
-            assert_eq!(evicted_place(&w, evicted, false), want, "{w:?} {evicted}");
+            assert_eq!(
+                evicted_place(&w, evicted, true, below),
+                want,
+                "{w:?} {evicted}"
+            );
+            assert_eq!(
+                evicted_place(&w, evicted, false, below),
+                want,
+                "{w:?} {evicted}"
+            );
+            // The positive form on the same window shifted above zero.
+            let p = w.map(|e| e + 4.0);
+            let pw = p.iter().position(|&e| e == evicted + 4.0).unwrap();
+            let by_bits = evicted_place(&p, evicted + 4.0, false, f32::less_positive_bits);
+            assert_eq!(by_bits, pw, "{p:?}");
             // Replacing the evicted entry by a value above all shows where
             // it was found.
             s.update(9.0, Some(evicted), 5);

@@ -15,7 +15,7 @@ use super::substitution::Substitution;
 use super::{ChannelStatus, FaultCode};
 use crate::error::ConfigError;
 use crate::quality::{Measured, Quality};
-use crate::real::Real;
+use crate::real::{Real, HARD_FLOAT};
 use crate::units::{Kelvin, PressureAbs};
 
 /// What a channel reports for one sample.
@@ -89,6 +89,11 @@ pub struct Channel<T, const W: usize, const M: usize> {
     clock: SampleClock,
     /// The smallest gap limit, ms: `max(hold_ms, 1)`.
     gap_floor_ms: u32,
+    /// `true` if the plausible range lies above zero: every accepted sample
+    /// is then positive and finite, and the median compares on the bit
+    /// patterns where a float compare is a soft-float call
+    /// ([`SortedWindow::update_positive`]).
+    positive: bool,
     /// Sanitised time since the low-pass last ran, ms (saturating).
     since_filtered_ms: u32,
     resync_left: u32,
@@ -151,6 +156,7 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             substitution: Substitution::new(),
             clock: SampleClock::new(),
             gap_floor_ms: config.hold_ms.max(1),
+            positive: config.plausible_low > T::ZERO,
             since_filtered_ms: 0,
             resync_left: 0,
             gain: (0, Self::gain_or_nan(0, config.filter_time_constant_s)),
@@ -246,7 +252,11 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             self.since_filtered_ms = self.since_filtered_ms.saturating_add(dt_ms);
             (T::ZERO, T::ZERO)
         } else {
-            let m = self.median.update(v, leaving, held);
+            let m = if !HARD_FLOAT && self.positive {
+                self.median.update_positive(v, leaving, held)
+            } else {
+                self.median.update(v, leaving, held)
+            };
             let ms = self.since_filtered_ms.saturating_add(dt_ms);
             self.since_filtered_ms = 0;
             if self.gain.0 != ms {
