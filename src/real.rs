@@ -110,8 +110,8 @@ pub trait Real:
     fn clamp(x: Self, lo: Self, hi: Self) -> Self {
         Self::min(Self::max(x, lo), hi)
     }
-    /// `a < b` for positive finite operands (neither zero, NaN, infinite nor
-    /// negative), on the bit patterns: positive floats order as their bits.
+    /// `a < b` for operands whose sign bit is clear (+0, positive values,
+    /// +∞; not NaN), on the bit patterns: such floats order as their bits.
     /// One integer compare (no soft-float call on a Cortex-M0).
     fn less_positive_bits(a: Self, b: Self) -> bool;
     /// `0 < x && x <= hi` for a bound `hi > 0` (finite or +∞), exactly

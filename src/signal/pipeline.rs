@@ -89,11 +89,13 @@ pub struct Channel<T, const W: usize, const M: usize> {
     clock: SampleClock,
     /// The smallest gap limit, ms: `max(hold_ms, 1)`.
     gap_floor_ms: u32,
-    /// `true` if the plausible range lies above zero: every accepted sample
-    /// is then positive and finite, and the median compares on the bit
-    /// patterns where a float compare is a soft-float call
-    /// ([`SortedWindow::update_positive`]).
-    positive: bool,
+    /// `true` where a float compare is a soft-float call (Cortex-M0) and
+    /// the plausible range lies above zero and the noise floor is not −0:
+    /// every accepted sample is then positive and finite, and the
+    /// plausibility tests and the median compare on the bit patterns (the
+    /// same answers; [`SortedWindow::update_positive`],
+    /// [`Plausibility`]'s `check_scaled`).
+    by_bits: bool,
     /// Sanitised time since the low-pass last ran, ms (saturating).
     since_filtered_ms: u32,
     resync_left: u32,
@@ -156,7 +158,9 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             substitution: Substitution::new(),
             clock: SampleClock::new(),
             gap_floor_ms: config.hold_ms.max(1),
-            positive: config.plausible_low > T::ZERO,
+            by_bits: !HARD_FLOAT
+                && config.plausible_low > T::ZERO
+                && !T::same_bits(config.noise_floor, T::of(-0.0)),
             since_filtered_ms: 0,
             resync_left: 0,
             gain: (0, Self::gain_or_nan(0, config.filter_time_constant_s)),
@@ -232,6 +236,8 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
                 v,
                 dt_ms,
                 (signal_fault, signal_quality),
+                // (Known false at compile time with a floating-point unit.)
+                !HARD_FLOAT && self.by_bits,
                 |ms| {
                     if allowance.0 != ms {
                         *allowance = (ms, rate_allowance(max_rate, ms));
@@ -252,7 +258,7 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             self.since_filtered_ms = self.since_filtered_ms.saturating_add(dt_ms);
             (T::ZERO, T::ZERO)
         } else {
-            let m = if !HARD_FLOAT && self.positive {
+            let m = if !HARD_FLOAT && self.by_bits {
                 self.median.update_positive(v, leaving, held)
             } else {
                 self.median.update(v, leaving, held)
