@@ -11,7 +11,7 @@ use super::clock::{SampleClock, Tick};
 use super::events::{Event, EventLog};
 use super::filter::{low_pass_gain, low_pass_step, SortedWindow};
 use super::plausibility::{rate_allowance, Plausibility};
-use super::substitution::Substitution;
+use super::substitution::{Substituted, Substitution};
 use super::{ChannelStatus, FaultCode};
 use crate::error::ConfigError;
 use crate::quality::{Measured, Quality};
@@ -275,9 +275,34 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             self.low_pass = f;
             (v, f)
         };
-        let s = self
-            .substitution
-            .apply(r, f, q, t_ms, dt_ms, self.config.hold_ms);
+        // Substitution, with a good sample remembered lazily: a good sample
+        // passes as it is (what `apply` returns for it) and stays readable
+        // in `self.last` (its output: its values, good, its stamp), which
+        // `apply` is given as the good sample it would have recorded once
+        // the next sample is not good, before that sample (the same state:
+        // no time elapses between the two, and a reset makes `self.last` bad).
+        let s = if q == Quality::Good {
+            Substituted {
+                raw: r,
+                filtered: f,
+                quality: Quality::Good,
+                held: false,
+            }
+        } else {
+            let hold_ms = self.config.hold_ms;
+            let last = &self.last;
+            if last.status.quality == Quality::Good {
+                self.substitution.apply(
+                    last.raw.value,
+                    last.filtered.value,
+                    Quality::Good,
+                    last.status.last_good_ms,
+                    0,
+                    hold_ms,
+                );
+            }
+            self.substitution.apply(r, f, q, t_ms, dt_ms, hold_ms)
+        };
         // Both values are finite by construction (a sample that is not is
         // bad and replaced by 0; the low-pass falls back to its finite input;
         // a held value was a good one) and the quality is good, uncertain or
@@ -324,5 +349,90 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             });
         }
         out
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::signal::{InstrumentClass, SignalKind, Unit};
+
+    /// The channel's substitution (a good sample remembered lazily) gives
+    /// what an eagerly driven [`Substitution`] gives on the same samples
+    /// (consistency check): held values, qualities, the held flag and the
+    /// last good stamp, over a seeded stream of good, saturated, failed, NaN,
+    /// out-of-range and spiking currents, with stalls, steps back and gaps
+    /// of the clock, and resets.
+    #[test]
+    fn lazy_substitution_equals_the_eager_one() {
+        let cfg = ChannelConfig {
+            id: 3,
+            signal: SignalKind::Current4To20,
+            unit: Unit::PressureAbs,
+            range_low: 0.0_f32,
+            range_high: 1.0e6,
+            plausible_low: 1.0e4,
+            plausible_high: 1.05e6,
+            noise_floor: 10.0,
+            instrument: InstrumentClass::Absolute(0.0),
+            max_rate: 2.0e6,
+            filter_time_constant_s: 0.1,
+            hold_ms: 100,
+        };
+        let mut ch = Channel::<f32, 8, 5>::new(cfg).unwrap();
+        let mut clock = SampleClock::new();
+        let mut eager = Substitution::<f32>::new();
+        let mut t = 0_u32;
+        let mut state = 23_u64;
+        let mut held_seen = 0;
+        for i in 0..50_000 {
+            state = state
+                .wrapping_mul(6_364_136_223_846_793_005)
+                .wrapping_add(1_442_695_040_888_963_407);
+            let raw = match (state >> 33) % 16 {
+                0 => f32::NAN,
+                1 => 2.0,
+                2 => 20.8,
+                3 => 4.05,
+                4 => 19.0 + ((state >> 40) % 4) as f32,
+                _ => 8.0 + ((state >> 40) % 100) as f32 * 0.001,
+            };
+            t = match (state >> 20) % 32 {
+                0 => t,
+                1 => t.wrapping_sub(30),
+                2 => t.wrapping_add(400),
+                _ => t.wrapping_add(20),
+            };
+            if i % 997 == 996 {
+                ch.reset();
+                clock.reset();
+                eager = Substitution::new();
+            }
+            let out = ch.update(raw, t);
+            let gap_floor = cfg.hold_ms.max(1);
+            let (_, dt) = clock.tick_gap_if(t, |dt, period| {
+                dt > gap_floor && dt > period.saturating_mul(8)
+            });
+            let q = out.status.fault.quality();
+            let s = eager.apply(out.raw.value, out.filtered.value, q, t, dt, cfg.hold_ms);
+            held_seen += usize::from(s.held);
+            assert_eq!(
+                (s.raw.to_bits(), s.filtered.to_bits(), s.quality, s.held),
+                (
+                    out.raw.value.to_bits(),
+                    out.filtered.value.to_bits(),
+                    out.status.quality,
+                    out.status.substituted
+                ),
+                "sample {i}"
+            );
+            let last_good = if q == Quality::Good {
+                t
+            } else {
+                eager.last_good_ms().unwrap_or(0)
+            };
+            assert_eq!(out.status.last_good_ms, last_good, "sample {i}");
+        }
+        assert!(held_seen > 1000, "{held_seen} held samples");
     }
 }
