@@ -209,7 +209,7 @@ impl<T: Real, const M: usize> SortedWindow<T, M> {
     /// `held < M`.
     #[inline]
     pub(crate) fn update(&mut self, x: T, leaving: Option<T>, held: usize) -> T {
-        self.update_by(x, leaving, held, below)
+        self.update_by(x, leaving, held, below, true)
     }
 
     /// As [`SortedWindow::update`] for samples that are all positive and
@@ -218,13 +218,15 @@ impl<T: Real, const M: usize> SortedWindow<T, M> {
     /// answer as the float compare for such values, so the same order and
     /// the same median), an integer compare where a float one is a
     /// soft-float call (Cortex-M0).
+    /// No sample is then zero, so the evicted one is found by its bits
+    /// alone (no zero test).
     #[inline]
     pub(crate) fn update_positive(&mut self, x: T, leaving: Option<T>, held: usize) -> T {
-        self.update_by(x, leaving, held, T::less_positive_bits)
+        self.update_by(x, leaving, held, T::less_positive_bits, false)
     }
 
     /// [`SortedWindow::update`] with `a < b` decided by `less` (NaN-free
-    /// values).
+    /// values), `zeros` if a sample may be zero.
     #[inline(always)]
     fn update_by(
         &mut self,
@@ -232,12 +234,13 @@ impl<T: Real, const M: usize> SortedWindow<T, M> {
         leaving: Option<T>,
         held: usize,
         less: impl Fn(T, T) -> bool + Copy,
+        zeros: bool,
     ) -> T {
         if let Some(evicted) = leaving {
             // Full: the evicted sample's place in the sorted copy (it is
             // there; the last place is never reached otherwise): the first
             // entry equal to it.
-            let at = evicted_place(&self.sorted, evicted, HARD_FLOAT, less);
+            let at = evicted_place(&self.sorted, evicted, HARD_FLOAT, less, zeros);
             place_in_full(&mut self.sorted, at, x, less);
             self.sorted.get(M / 2).copied().unwrap_or(x)
         } else {
@@ -262,10 +265,11 @@ fn evicted_place<T: Real, const M: usize>(
     evicted: T,
     hard_float: bool,
     less: impl Fn(T, T) -> bool,
+    zeros: bool,
 ) -> usize {
     if hard_float {
         let mut at = first_index(s, |e| T::same_bits(e, evicted));
-        if T::same_bits(T::abs(evicted), T::ZERO) {
+        if zeros && T::same_bits(T::abs(evicted), T::ZERO) {
             at = first_index(s, |e| e == evicted);
         }
         at
@@ -472,20 +476,28 @@ mod tests {
             let want = w.iter().position(|&e| e == evicted).unwrap();
             // Both forms (with and without a floating-point unit).
             assert_eq!(
-                evicted_place(&w, evicted, true, below),
+                evicted_place(&w, evicted, true, below, true),
                 want,
                 "{w:?} {evicted}"
             );
             assert_eq!(
-                evicted_place(&w, evicted, false, below),
+                evicted_place(&w, evicted, false, below, true),
                 want,
                 "{w:?} {evicted}"
             );
             // The positive form on the same window shifted above zero.
             let p = w.map(|e| e + 4.0);
             let pw = p.iter().position(|&e| e == evicted + 4.0).unwrap();
-            let by_bits = evicted_place(&p, evicted + 4.0, false, f32::less_positive_bits);
-            assert_eq!(by_bits, pw, "{p:?}");
+            for hard_float in [true, false] {
+                let by_bits = evicted_place(
+                    &p,
+                    evicted + 4.0,
+                    hard_float,
+                    f32::less_positive_bits,
+                    false,
+                );
+                assert_eq!(by_bits, pw, "{p:?}");
+            }
             // Replacing the evicted entry by a value above all shows where
             // it was found.
             s.update(9.0, Some(evicted), 5);

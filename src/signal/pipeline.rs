@@ -91,11 +91,13 @@ pub struct Channel<T, const W: usize, const M: usize> {
     gap_floor_ms: u32,
     /// `true` where a float compare is a soft-float call (Cortex-M0) and
     /// the plausible range lies above zero and the noise floor is not −0:
-    /// every accepted sample is then positive and finite, and the
-    /// plausibility tests and the median compare on the bit patterns (the
-    /// same answers; [`SortedWindow::update_positive`],
-    /// [`Plausibility`]'s `check_scaled`).
+    /// the plausibility tests compare on the bit patterns (the same
+    /// answers; [`Plausibility`]'s `check_scaled`).
     by_bits: bool,
+    /// `true` if the plausible range lies above zero: every accepted sample
+    /// is then positive and finite, and the median compares on the bit
+    /// patterns ([`SortedWindow::update_positive`]).
+    positive: bool,
     /// Sanitised time since the low-pass last ran, ms (saturating).
     since_filtered_ms: u32,
     resync_left: u32,
@@ -161,6 +163,7 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             by_bits: !HARD_FLOAT
                 && config.plausible_low > T::ZERO
                 && !T::same_bits(config.noise_floor, T::of(-0.0)),
+            positive: config.plausible_low > T::ZERO,
             since_filtered_ms: 0,
             resync_left: 0,
             gain: (0, Self::gain_or_nan(0, config.filter_time_constant_s)),
@@ -258,7 +261,7 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             self.since_filtered_ms = self.since_filtered_ms.saturating_add(dt_ms);
             (T::ZERO, T::ZERO)
         } else {
-            let m = if !HARD_FLOAT && self.by_bits {
+            let m = if self.positive {
                 self.median.update_positive(v, leaving, held)
             } else {
                 self.median.update(v, leaving, held)
