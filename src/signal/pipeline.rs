@@ -89,6 +89,10 @@ pub struct Channel<T, const W: usize, const M: usize> {
     clock: SampleClock,
     /// The smallest gap limit, ms: `max(hold_ms, 1)`.
     gap_floor_ms: u32,
+    /// Once the clock has started: the largest advance that is a normal
+    /// interval whatever the period, ms (`min(gap_floor_ms, 2^31 − 1)`); 0
+    /// before (then every stamp takes the clock's full rules).
+    normal_max_ms: u32,
     /// `true` where a float compare is a soft-float call (Cortex-M0) and
     /// the plausible range lies above zero and the noise floor is not −0:
     /// the plausibility tests compare on the bit patterns (the same
@@ -160,6 +164,7 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             substitution: Substitution::new(),
             clock: SampleClock::new(),
             gap_floor_ms: config.hold_ms.max(1),
+            normal_max_ms: 0,
             by_bits: !HARD_FLOAT
                 && config.plausible_low > T::ZERO
                 && !T::same_bits(config.noise_floor, T::of(-0.0)),
@@ -179,6 +184,7 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         self.low_pass = T::of(f64::NAN);
         self.substitution = Substitution::new();
         self.clock.reset();
+        self.normal_max_ms = 0;
         self.since_filtered_ms = 0;
         self.resync_left = 0;
         self.last = ChannelOutput::bad(self.config.id);
@@ -214,9 +220,20 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
     pub fn update(&mut self, raw: T, t_ms: u32) -> ChannelOutput<T> {
         // Gap limit max(hold_ms, 8 periods, 1 ms).
         let gap_floor_ms = self.gap_floor_ms;
-        let (tick, dt_ms) = self.clock.tick_gap_if(t_ms, |dt, period| {
-            dt > gap_floor_ms && dt > period.saturating_mul(8)
-        });
+        // The usual stamp first: an advance of 1 ms up to the gap floor (and
+        // at most 2^31 − 1 ms) of a started clock is normal whatever the
+        // period (the gap test below is false for it), which is what the
+        // clock's rules make of it.
+        let d = t_ms.wrapping_sub(self.clock.last_ms());
+        let (tick, dt_ms) = if d.wrapping_sub(1) < self.normal_max_ms {
+            self.clock.advance_normal(t_ms, d);
+            (Tick::Normal, d)
+        } else {
+            self.normal_max_ms = gap_floor_ms.min(i32::MAX as u32);
+            self.clock.tick_gap_if(t_ms, |dt, period| {
+                dt > gap_floor_ms && dt > period.saturating_mul(8)
+            })
+        };
         if matches!(tick, Tick::Gap | Tick::SteppedBack) {
             self.low_pass = T::of(f64::NAN);
             self.plausibility.reset();
