@@ -72,27 +72,33 @@ impl<T: Real> ChannelOutput<T> {
     }
 }
 
-/// A configured channel with its state.
+/// A configured channel with its state. Laid out in the order written
+/// (`repr(C)`), the state every sample reads first: on a Cortex-M0 a load
+/// reaches 124 bytes past its base register at most.
 #[derive(Clone, Copy, Debug)]
+#[repr(C)]
 pub struct Channel<T, const W: usize, const M: usize> {
-    config: ChannelConfig<T>,
-    scaling: Scaling<T>,
+    clock: SampleClock,
+    /// Once the clock has started: the largest advance that is a normal
+    /// interval whatever the period, ms (`min(gap_floor_ms, 2^31 − 1)`); 0
+    /// before (then every stamp takes the clock's full rules).
+    normal_max_ms: u32,
+    /// Sanitised time since the low-pass last ran, ms (saturating).
+    since_filtered_ms: u32,
+    /// The low-pass gain of the latest interval (the usual one): interval,
+    /// gain (NaN for none, [`low_pass_step`]).
+    gain: (u32, T),
+    /// The spike allowance of the latest interval: interval, allowance.
+    allowance: (u32, T),
+    /// The low-pass output ([`super::filter::LowPass`]'s), NaN before the
+    /// first filtered sample ([`low_pass_step`]).
+    low_pass: T,
     plausibility: Plausibility<T, W>,
     /// The median's samples, ascending: the last `M` accepted ones, whose
     /// arrival order is the frozen window's (every accepted sample, and only
     /// those, goes to both; a reset clears both).
     median: SortedWindow<T, M>,
-    /// The low-pass output ([`super::filter::LowPass`]'s), NaN before the
-    /// first filtered sample ([`low_pass_step`]).
-    low_pass: T,
-    substitution: Substitution<T>,
-    clock: SampleClock,
-    /// The smallest gap limit, ms: `max(hold_ms, 1)`.
-    gap_floor_ms: u32,
-    /// Once the clock has started: the largest advance that is a normal
-    /// interval whatever the period, ms (`min(gap_floor_ms, 2^31 − 1)`); 0
-    /// before (then every stamp takes the clock's full rules).
-    normal_max_ms: u32,
+    resync_left: u32,
     /// `true` where a float compare is a soft-float call (Cortex-M0) and
     /// the plausible range lies above zero and the noise floor is not −0:
     /// the plausibility tests compare on the bit patterns (the same
@@ -102,14 +108,11 @@ pub struct Channel<T, const W: usize, const M: usize> {
     /// is then positive and finite, and the median compares on the bit
     /// patterns ([`SortedWindow::update_positive`]).
     positive: bool,
-    /// Sanitised time since the low-pass last ran, ms (saturating).
-    since_filtered_ms: u32,
-    resync_left: u32,
-    /// The low-pass gain of the latest interval (the usual one): interval,
-    /// gain (NaN for none, [`low_pass_step`]).
-    gain: (u32, T),
-    /// The spike allowance of the latest interval: interval, allowance.
-    allowance: (u32, T),
+    scaling: Scaling<T>,
+    /// The smallest gap limit, ms: `max(hold_ms, 1)`.
+    gap_floor_ms: u32,
+    config: ChannelConfig<T>,
+    substitution: Substitution<T>,
     last: ChannelOutput<T>,
 }
 
