@@ -115,6 +115,22 @@ impl SampleClock {
         }
     }
 
+    /// The previous stamp (meaningless before the first).
+    #[inline]
+    pub(crate) fn last_ms(&self) -> u32 {
+        self.last_ms
+    }
+
+    /// Records stamp `t_ms`, `dt_ms` after the previous one, as a normal
+    /// interval: what [`SampleClock::tick_gap_if`] does for a started clock
+    /// and `1 <= dt_ms <= 2^31 − 1` that is not a gap. For a caller that
+    /// knows this of the stamp (and then has `(Tick::Normal, dt_ms)`).
+    #[inline]
+    pub(crate) fn advance_normal(&mut self, t_ms: u32, dt_ms: u32) {
+        self.last_ms = t_ms;
+        self.period_ms = dt_ms;
+    }
+
     /// Forgets every stamp.
     pub fn reset(&mut self) {
         *self = Self::new();

@@ -110,6 +110,10 @@ pub trait Real:
     fn clamp(x: Self, lo: Self, hi: Self) -> Self {
         Self::min(Self::max(x, lo), hi)
     }
+    /// `a < b` for operands whose sign bit is clear (+0, positive values,
+    /// +∞; not NaN), on the bit patterns: such floats order as their bits.
+    /// One integer compare (no soft-float call on a Cortex-M0).
+    fn less_positive_bits(a: Self, b: Self) -> bool;
     /// `0 < x && x <= hi` for a bound `hi > 0` (finite or +∞), exactly
     /// (NaN, zeros and negative values outside). With a floating-point unit
     /// the float compares; without one on the bit patterns (positive floats
@@ -257,6 +261,10 @@ macro_rules! impl_real {
             #[inline]
             fn same_bits(a: Self, b: Self) -> bool {
                 a.to_bits() == b.to_bits()
+            }
+            #[inline]
+            fn less_positive_bits(a: Self, b: Self) -> bool {
+                a.to_bits() < b.to_bits()
             }
             #[inline]
             fn within_positive(x: Self, lo: Self, hi: Self) -> bool {

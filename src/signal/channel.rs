@@ -10,6 +10,7 @@ use super::ne43;
 use super::rtd_class::RtdClass;
 use super::FaultCode;
 use crate::error::{check_positive, check_range, ConfigError, Problem};
+use crate::quality::Quality;
 use crate::real::Real;
 use crate::units::{PressureAbs, ZERO_CELSIUS_K};
 
@@ -225,6 +226,13 @@ pub(crate) struct Scaling<T> {
 /// The raw signal, as the scaling reads it.
 #[derive(Clone, Copy, Debug, PartialEq)]
 enum Source<T> {
+    /// [`Source::Current`] whose every value in the NE 43 measuring band
+    /// (3.8–20.5 mA) is finite: the scaling at both band edges is (checked at
+    /// construction), and every step of it (I − 4 mA, × a positive gain, the
+    /// additions of finite constants) is monotonic in I, rounding included,
+    /// so the values in between lie between them. A current in the band then
+    /// needs no finiteness test and no classification (its fault is none).
+    CurrentInBandFinite,
     /// 4–20 mA, scaled as (I − 4 mA) × (span / 16 mA): the same bits as
     /// ((I − 4 mA) / 16 mA) × span whenever span / 16 is exact (checked at
     /// construction). Division by 16 only lowers the exponent, so
@@ -300,6 +308,34 @@ impl<T: Real> Scaling<T> {
         }
     }
 
+    /// As [`Scaling::new`], for a channel that scales every sample: a
+    /// current source whose band-edge values are finite becomes
+    /// [`Source::CurrentInBandFinite`] (the same values and faults).
+    pub(crate) fn for_channel(cfg: &ChannelConfig<T>) -> Self {
+        let mut scaling = Self::new(cfg);
+        // At the band edges the fault is none exactly when the value is
+        // finite.
+        if scaling.source == Source::Current
+            && [ne43::VALID_LOW_MA, ne43::VALID_HIGH_MA]
+                .iter()
+                .all(|&ma| scaling.scale(T::of(ma)).1 == FaultCode::None)
+        {
+            scaling.source = Source::CurrentInBandFinite;
+        }
+        scaling
+    }
+
+    /// The additions after fraction × span (see [`Adds`]).
+    #[inline(always)]
+    fn add_low_and_offset(&self, p: T) -> T {
+        match self.adds {
+            Adds::None => p,
+            Adds::Low => self.range_low + p,
+            Adds::Offset => p + self.offset,
+            Adds::LowOffset => (self.range_low + p) + self.offset,
+        }
+    }
+
     #[inline]
     pub(crate) fn si_of(&self, engineering: T) -> T {
         match self.adds {
@@ -311,10 +347,43 @@ impl<T: Real> Scaling<T> {
     /// [`ChannelConfig::scale`].
     #[inline]
     pub(crate) fn scale(&self, raw: T) -> (T, FaultCode) {
+        let (v, fault, _) = self.scale_classified(raw);
+        (v, fault)
+    }
+
+    /// [`Scaling::scale`] with the fault's quality (`fault.quality()`),
+    /// known without classifying the fault again on the usual path (a
+    /// current in the measuring band).
+    #[inline]
+    pub(crate) fn scale_classified(&self, raw: T) -> (T, FaultCode, Quality) {
+        let (v, fault) = match self.source {
+            // (`ne43::classify`'s first test: its fault is none.)
+            Source::CurrentInBandFinite
+                if T::within_positive(
+                    raw,
+                    T::of(ne43::VALID_LOW_MA),
+                    T::of(ne43::VALID_HIGH_MA),
+                ) =>
+            {
+                let fraction = raw - T::of(ne43::RANGE_LOW_MA);
+                let v = self.add_low_and_offset(fraction * self.gain);
+                return (v, FaultCode::None, Quality::Good);
+            }
+            _ => self.scale_general(raw),
+        };
+        (v, fault, fault.quality())
+    }
+
+    /// [`Scaling::scale`] of every source but the usual path of
+    /// [`Source::CurrentInBandFinite`].
+    #[inline]
+    fn scale_general(&self, raw: T) -> (T, FaultCode) {
         let (fraction, fault) = match self.source {
             // A current in the measuring band is finite: the band test
             // comes first, the finiteness test only outside it.
-            Source::Current => (raw - T::of(ne43::RANGE_LOW_MA), ne43::classify(raw)),
+            Source::Current | Source::CurrentInBandFinite => {
+                (raw - T::of(ne43::RANGE_LOW_MA), ne43::classify(raw))
+            }
             Source::CurrentBySpan => (ne43::fraction(raw), ne43::classify(raw)),
             _ if !T::is_finite(raw) => return (T::ZERO, FaultCode::NotFinite),
             Source::Voltage => span_fraction(raw / T::of(10.0)),
@@ -328,14 +397,15 @@ impl<T: Real> Scaling<T> {
                 };
             }
         };
+        self.scale_fraction(fraction, fault)
+    }
+
+    /// The value of fraction `fraction` (for a current source I − 4 mA) of a
+    /// signal whose level fault is `fault`.
+    #[inline(always)]
+    fn scale_fraction(&self, fraction: T, fault: FaultCode) -> (T, FaultCode) {
         // × span, or for `Source::Current` (I − 4 mA) × span / 16 mA.
-        let p = fraction * self.gain;
-        let v = match self.adds {
-            Adds::None => p,
-            Adds::Low => self.range_low + p,
-            Adds::Offset => p + self.offset,
-            Adds::LowOffset => (self.range_low + p) + self.offset,
-        };
+        let v = self.add_low_and_offset(fraction * self.gain);
         if T::is_finite(v) {
             (v, fault)
         } else if fault != FaultCode::None {
@@ -377,7 +447,8 @@ mod tests {
     }
 
     /// (I − 4 mA) × (span / 16) gives the bits of ((I − 4 mA) / 16) × span
-    /// (consistency check of `Source::Current`): seeded currents of every
+    /// (consistency check of `Source::Current`, and of
+    /// `Source::CurrentInBandFinite` with its fault's quality): seeded currents of every
     /// exponent and sign, the NE 43 band edges, infinities and NaN, over
     /// spans from subnormal (where span / 16 rounds and the as-written form
     /// is kept) to the largest; values compared bit for bit (a NaN as NaN).
@@ -446,6 +517,10 @@ mod tests {
                     hold_ms: 0,
                 };
                 let s = Scaling::new(&cfg);
+                // A channel's scaling (in-band fast path where the band
+                // edges are finite) gives the same bits, faults and their
+                // qualities.
+                let c = Scaling::for_channel(&cfg);
                 for &ma in &currents {
                     let (v, f) = s.scale(ma);
                     let (w, g) = scale_as_written(&cfg, ma);
@@ -453,6 +528,12 @@ mod tests {
                         (v.to_bits(), f),
                         (w.to_bits(), g),
                         "{ma:e} mA, span {span:e}, low {low:e}"
+                    );
+                    let (x, h, q) = c.scale_classified(ma);
+                    assert_eq!(
+                        (x.to_bits(), h, q),
+                        (w.to_bits(), g, g.quality()),
+                        "channel scaling, {ma:e} mA, span {span:e}, low {low:e}"
                     );
                 }
             }

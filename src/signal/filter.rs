@@ -8,7 +8,7 @@
 //! impulse-noise filter (common practice). Both delay the signal; see the
 //! module note in [`super`] on the surge path.
 
-use super::{above, below};
+use super::below;
 use crate::real::{Real, HARD_FLOAT};
 
 /// First-order low-pass with time constant `tau_s`, driven by sample
@@ -40,6 +40,26 @@ pub fn low_pass_gain<T: Real>(dt_ms: u32, tau_s: T) -> Option<T> {
         Some(dt / denom)
     } else {
         None
+    }
+}
+
+/// One step of [`LowPass::update_with`] on a state kept in one value: `y`
+/// the output, NaN before the first sample (for `None`), and `a` the gain,
+/// NaN for no gain (`None`; a gain of [`low_pass_gain`] is never NaN: Δt
+/// finite over a positive τ + Δt). The same result: y + a·(x − y) is NaN
+/// when either is, which sends the step to the rare branch, and there a
+/// finite (seen) `y` with a NaN gain is kept and anything else gives `x`,
+/// as [`LowPass::update_with`] does. The usual step (seen, a gain, finite
+/// result) costs no test of either state.
+#[inline(always)]
+pub(crate) fn low_pass_step<T: Real>(y: T, x: T, a: T) -> T {
+    let next = y + a * (x - y);
+    if T::is_finite(next) {
+        next
+    } else if T::is_finite(y) && !T::is_finite(a) {
+        y
+    } else {
+        x
     }
 }
 
@@ -189,16 +209,43 @@ impl<T: Real, const M: usize> SortedWindow<T, M> {
     /// `held < M`.
     #[inline]
     pub(crate) fn update(&mut self, x: T, leaving: Option<T>, held: usize) -> T {
+        self.update_by(x, leaving, held, below, true)
+    }
+
+    /// As [`SortedWindow::update`] for samples that are all positive and
+    /// finite (a channel whose plausible range lies above zero): every
+    /// compare on the bit patterns ([`Real::less_positive_bits`], the same
+    /// answer as the float compare for such values, so the same order and
+    /// the same median), an integer compare where a float one is a
+    /// soft-float call (Cortex-M0).
+    /// No sample is then zero, so the evicted one is found by its bits
+    /// alone (no zero test).
+    #[inline]
+    pub(crate) fn update_positive(&mut self, x: T, leaving: Option<T>, held: usize) -> T {
+        self.update_by(x, leaving, held, T::less_positive_bits, false)
+    }
+
+    /// [`SortedWindow::update`] with `a < b` decided by `less` (NaN-free
+    /// values), `zeros` if a sample may be zero.
+    #[inline(always)]
+    fn update_by(
+        &mut self,
+        x: T,
+        leaving: Option<T>,
+        held: usize,
+        less: impl Fn(T, T) -> bool + Copy,
+        zeros: bool,
+    ) -> T {
         if let Some(evicted) = leaving {
             // Full: the evicted sample's place in the sorted copy (it is
             // there; the last place is never reached otherwise): the first
             // entry equal to it.
-            let at = evicted_place(&self.sorted, evicted, HARD_FLOAT);
-            place_in_full(&mut self.sorted, at, x);
+            let at = evicted_place(&self.sorted, evicted, HARD_FLOAT, less, zeros);
+            place_in_full(&mut self.sorted, at, x, less);
             self.sorted.get(M / 2).copied().unwrap_or(x)
         } else {
             let used = self.sorted.get_mut(..=held).unwrap_or(&mut []);
-            place_sorted(used, held, x);
+            place_sorted(used, held, x, less);
             used.get(held / 2).copied().unwrap_or(x)
         }
     }
@@ -211,17 +258,23 @@ impl<T: Real, const M: usize> SortedWindow<T, M> {
 /// one the zero test is a soft-float call (the compiler turns the test of
 /// the bits into a float compare), so: the first entry not below it, which
 /// in an ascending array holding it is the first equal one, compared on the
-/// bits ([`Real::less_than`]; finite values).
+/// bits ([`Real::less_than`]; finite values), by `less`.
 #[inline(always)]
-fn evicted_place<T: Real, const M: usize>(s: &[T; M], evicted: T, hard_float: bool) -> usize {
+fn evicted_place<T: Real, const M: usize>(
+    s: &[T; M],
+    evicted: T,
+    hard_float: bool,
+    less: impl Fn(T, T) -> bool,
+    zeros: bool,
+) -> usize {
     if hard_float {
         let mut at = first_index(s, |e| T::same_bits(e, evicted));
-        if T::same_bits(T::abs(evicted), T::ZERO) {
+        if zeros && T::same_bits(T::abs(evicted), T::ZERO) {
             at = first_index(s, |e| e == evicted);
         }
         at
     } else {
-        first_index(s, |e| !T::less_than(e, evicted))
+        first_index(s, |e| !less(e, evicted))
     }
 }
 
@@ -244,10 +297,15 @@ fn first_index<T: Copy, const M: usize>(s: &[T; M], is: impl Fn(T) -> bool) -> u
 /// pass is skipped; without one both passes run as in [`place_sorted`]
 /// (measured: fewer instructions each way, see the commit).
 #[inline]
-fn place_in_full<T: Real, const M: usize>(s: &mut [T; M], at: usize, v: T) {
+fn place_in_full<T: Real, const M: usize>(
+    s: &mut [T; M],
+    at: usize,
+    v: T,
+    less: impl Fn(T, T) -> bool,
+) {
     let mut j = at.min(M - 1);
     if HARD_FLOAT {
-        if let Some(&first) = s.get(j + 1).filter(|&&a| below(a, v)) {
+        if let Some(&first) = s.get(j + 1).filter(|&&a| less(a, v)) {
             let mut up = first;
             loop {
                 if let Some(e) = s.get_mut(j) {
@@ -255,7 +313,7 @@ fn place_in_full<T: Real, const M: usize>(s: &mut [T; M], at: usize, v: T) {
                 }
                 j += 1;
                 match s.get(j + 1) {
-                    Some(&a) if below(a, v) => up = a,
+                    Some(&a) if less(a, v) => up = a,
                     _ => break,
                 }
             }
@@ -267,7 +325,7 @@ fn place_in_full<T: Real, const M: usize>(s: &mut [T; M], at: usize, v: T) {
     } else {
         while j + 1 < M {
             let up = match s.get(j + 1) {
-                Some(&a) if below(a, v) => a,
+                Some(&a) if less(a, v) => a,
                 _ => break,
             };
             if let Some(e) = s.get_mut(j) {
@@ -278,7 +336,7 @@ fn place_in_full<T: Real, const M: usize>(s: &mut [T; M], at: usize, v: T) {
     }
     while j > 0 {
         let down = match s.get(j - 1) {
-            Some(&b) if above(b, v) => b,
+            Some(&b) if less(v, b) => b,
             _ => break,
         };
         if let Some(e) = s.get_mut(j) {
@@ -294,11 +352,11 @@ fn place_in_full<T: Real, const M: usize>(s: &mut [T; M], at: usize, v: T) {
 /// Writes `v` into ascending `s` at slot `at`, whose old content is
 /// discarded, and moves it up or down to its place (the other entries stay
 /// ascending): one pass of an insertion sort. NaN-free values assumed
-/// (compares by [`below`] and [`above`]).
-fn place_sorted<T: Real>(s: &mut [T], at: usize, v: T) {
+/// (`less`: `a < b`, [`below`] or an equivalent).
+fn place_sorted<T: Real>(s: &mut [T], at: usize, v: T, less: impl Fn(T, T) -> bool) {
     let mut j = at;
     while let Some(&up) = s.get(j + 1) {
-        if !below(up, v) {
+        if !less(up, v) {
             break;
         }
         if let Some(e) = s.get_mut(j) {
@@ -308,7 +366,7 @@ fn place_sorted<T: Real>(s: &mut [T], at: usize, v: T) {
     }
     while j > 0 {
         match s.get(j - 1) {
-            Some(&b) if above(b, v) => {
+            Some(&b) if less(v, b) => {
                 if let Some(e) = s.get_mut(j) {
                     *e = b;
                 }
@@ -374,6 +432,9 @@ mod tests {
         let mut m = Median::<f64, M>::new();
         let mut w = crate::window::Window::<f64, W>::filled_with(0.0);
         let mut s = SortedWindow::<f64, M>::new();
+        // The positive form on the same samples shifted above zero.
+        let mut m_pos = Median::<f64, M>::new();
+        let mut s_pos = SortedWindow::<f64, M>::new();
         let mut state = seed;
         for i in 0..3000 {
             state = state
@@ -382,11 +443,14 @@ mod tests {
             let x = ((state >> 33) % 9) as f64 * 0.5 - 2.0;
             if (state >> 20) % 89 == 0 {
                 m.reset();
+                m_pos.reset();
                 w.clear();
             }
             let (leaving, held) = (w.back(M), w.len());
             w.write(x);
             assert_eq!(s.update(x, leaving, held), m.update(x), "sample {i}");
+            let got = s_pos.update_positive(x + 3.0, leaving.map(|l| l + 3.0), held);
+            assert_eq!(got.to_bits(), m_pos.update(x + 3.0).to_bits(), "sample {i}");
         }
     }
 
@@ -411,8 +475,29 @@ mod tests {
             let mut s = SortedWindow::<f32, 5> { sorted: w };
             let want = w.iter().position(|&e| e == evicted).unwrap();
             // Both forms (with and without a floating-point unit).
-            assert_eq!(evicted_place(&w, evicted, true), want, "{w:?} {evicted}");
-            assert_eq!(evicted_place(&w, evicted, false), want, "{w:?} {evicted}");
+            assert_eq!(
+                evicted_place(&w, evicted, true, below, true),
+                want,
+                "{w:?} {evicted}"
+            );
+            assert_eq!(
+                evicted_place(&w, evicted, false, below, true),
+                want,
+                "{w:?} {evicted}"
+            );
+            // The positive form on the same window shifted above zero.
+            let p = w.map(|e| e + 4.0);
+            let pw = p.iter().position(|&e| e == evicted + 4.0).unwrap();
+            for hard_float in [true, false] {
+                let by_bits = evicted_place(
+                    &p,
+                    evicted + 4.0,
+                    hard_float,
+                    f32::less_positive_bits,
+                    false,
+                );
+                assert_eq!(by_bits, pw, "{p:?}");
+            }
             // Replacing the evicted entry by a value above all shows where
             // it was found.
             s.update(9.0, Some(evicted), 5);
@@ -430,6 +515,40 @@ mod tests {
         shared_window_matches_median::<7, 3>(13);
         shared_window_matches_median::<4, 1>(14);
         shared_window_matches_median::<16, 15>(15);
+    }
+
+    /// [`low_pass_step`] with NaN for `None` gives the bits of
+    /// [`LowPass::update_with`] (consistency check) over a seeded stream of
+    /// samples (including ones that overflow x − y), gains (including none)
+    /// and restarts.
+    #[test]
+    fn low_pass_step_equals_update_with() {
+        let mut lp = LowPass::<f32>::new();
+        let mut y = f32::NAN;
+        let mut state = 11_u64;
+        for i in 0..20_000 {
+            state = state
+                .wrapping_mul(6_364_136_223_846_793_005)
+                .wrapping_add(1_442_695_040_888_963_407);
+            let x = match (state >> 33) % 5 {
+                0 => f32::MAX,
+                1 => -f32::MAX,
+                2 => -0.0,
+                _ => ((state >> 40) % 1000) as f32 * 0.37 - 150.0,
+            };
+            let gain = match (state >> 20) % 6 {
+                0 => None,
+                1 => Some(1.0),
+                _ => low_pass_gain((state >> 24) as u32 % 200, 0.05_f32),
+            };
+            if i % 101 == 100 {
+                lp.reset();
+                y = f32::NAN;
+            }
+            let want = lp.update_with(x, gain);
+            y = low_pass_step(y, x, gain.unwrap_or(f32::NAN));
+            assert_eq!(y.to_bits(), want.to_bits(), "step {i}: {x} {gain:?}");
+        }
     }
 
     #[test]

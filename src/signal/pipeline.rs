@@ -9,13 +9,13 @@
 use super::channel::{ChannelConfig, Scaling};
 use super::clock::{SampleClock, Tick};
 use super::events::{Event, EventLog};
-use super::filter::{low_pass_gain, LowPass, SortedWindow};
+use super::filter::{low_pass_gain, low_pass_step, SortedWindow};
 use super::plausibility::{rate_allowance, Plausibility};
-use super::substitution::Substitution;
+use super::substitution::{Substituted, Substitution};
 use super::{ChannelStatus, FaultCode};
 use crate::error::ConfigError;
 use crate::quality::{Measured, Quality};
-use crate::real::Real;
+use crate::real::{Real, HARD_FLOAT};
 use crate::units::{Kelvin, PressureAbs};
 
 /// What a channel reports for one sample.
@@ -72,29 +72,47 @@ impl<T: Real> ChannelOutput<T> {
     }
 }
 
-/// A configured channel with its state.
+/// A configured channel with its state. Laid out in the order written
+/// (`repr(C)`), the state every sample reads first: on a Cortex-M0 a load
+/// reaches 124 bytes past its base register at most.
 #[derive(Clone, Copy, Debug)]
+#[repr(C)]
 pub struct Channel<T, const W: usize, const M: usize> {
-    config: ChannelConfig<T>,
-    scaling: Scaling<T>,
+    clock: SampleClock,
+    /// Once the clock has started: the largest advance that is a normal
+    /// interval whatever the period, ms (`min(gap_floor_ms, 2^31 − 1)`); 0
+    /// before (then every stamp takes the clock's full rules).
+    normal_max_ms: u32,
+    /// Sanitised time since the low-pass last ran, ms (saturating).
+    since_filtered_ms: u32,
+    /// The low-pass gain of the latest interval (the usual one): interval,
+    /// gain (NaN for none, [`low_pass_step`]).
+    gain: (u32, T),
+    /// The spike allowance of the latest interval: interval, allowance.
+    allowance: (u32, T),
+    /// The low-pass output ([`super::filter::LowPass`]'s), NaN before the
+    /// first filtered sample ([`low_pass_step`]).
+    low_pass: T,
     plausibility: Plausibility<T, W>,
     /// The median's samples, ascending: the last `M` accepted ones, whose
     /// arrival order is the frozen window's (every accepted sample, and only
     /// those, goes to both; a reset clears both).
     median: SortedWindow<T, M>,
-    low_pass: LowPass<T>,
-    substitution: Substitution<T>,
-    clock: SampleClock,
+    resync_left: u32,
+    /// `true` where a float compare is a soft-float call (Cortex-M0) and
+    /// the plausible range lies above zero and the noise floor is not −0:
+    /// the plausibility tests compare on the bit patterns (the same
+    /// answers; [`Plausibility`]'s `check_scaled`).
+    by_bits: bool,
+    /// `true` if the plausible range lies above zero: every accepted sample
+    /// is then positive and finite, and the median compares on the bit
+    /// patterns ([`SortedWindow::update_positive`]).
+    positive: bool,
+    scaling: Scaling<T>,
     /// The smallest gap limit, ms: `max(hold_ms, 1)`.
     gap_floor_ms: u32,
-    /// Sanitised time since the low-pass last ran, ms (saturating).
-    since_filtered_ms: u32,
-    resync_left: u32,
-    /// The low-pass gain of the latest interval (the usual one): interval,
-    /// gain.
-    gain: (u32, Option<T>),
-    /// The spike allowance of the latest interval: interval, allowance.
-    allowance: (u32, T),
+    config: ChannelConfig<T>,
+    substitution: Substitution<T>,
     last: ChannelOutput<T>,
 }
 
@@ -142,16 +160,21 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         config.validate()?;
         Ok(Channel {
             config,
-            scaling: Scaling::new(&config),
+            scaling: Scaling::for_channel(&config),
             plausibility: Plausibility::new(),
             median: SortedWindow::new(),
-            low_pass: LowPass::new(),
+            low_pass: T::of(f64::NAN),
             substitution: Substitution::new(),
             clock: SampleClock::new(),
             gap_floor_ms: config.hold_ms.max(1),
+            normal_max_ms: 0,
+            by_bits: !HARD_FLOAT
+                && config.plausible_low > T::ZERO
+                && !T::same_bits(config.noise_floor, T::of(-0.0)),
+            positive: config.plausible_low > T::ZERO,
             since_filtered_ms: 0,
             resync_left: 0,
-            gain: (0, low_pass_gain(0, config.filter_time_constant_s)),
+            gain: (0, Self::gain_or_nan(0, config.filter_time_constant_s)),
             allowance: (0, rate_allowance(config.max_rate, 0)),
             last: ChannelOutput::bad(config.id),
         })
@@ -161,12 +184,18 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
     /// maintenance period or a clock change): the channel is as new.
     pub fn reset(&mut self) {
         self.plausibility.reset();
-        self.low_pass.reset();
+        self.low_pass = T::of(f64::NAN);
         self.substitution = Substitution::new();
         self.clock.reset();
+        self.normal_max_ms = 0;
         self.since_filtered_ms = 0;
         self.resync_left = 0;
         self.last = ChannelOutput::bad(self.config.id);
+    }
+
+    /// [`low_pass_gain`], NaN for none ([`low_pass_step`]).
+    fn gain_or_nan(ms: u32, tau_s: T) -> T {
+        low_pass_gain(ms, tau_s).unwrap_or(T::of(f64::NAN))
     }
 
     /// The validated configuration.
@@ -194,17 +223,28 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
     pub fn update(&mut self, raw: T, t_ms: u32) -> ChannelOutput<T> {
         // Gap limit max(hold_ms, 8 periods, 1 ms).
         let gap_floor_ms = self.gap_floor_ms;
-        let (tick, dt_ms) = self.clock.tick_gap_if(t_ms, |dt, period| {
-            dt > gap_floor_ms && dt > period.saturating_mul(8)
-        });
+        // The usual stamp first: an advance of 1 ms up to the gap floor (and
+        // at most 2^31 − 1 ms) of a started clock is normal whatever the
+        // period (the gap test below is false for it), which is what the
+        // clock's rules make of it.
+        let d = t_ms.wrapping_sub(self.clock.last_ms());
+        let (tick, dt_ms) = if d.wrapping_sub(1) < self.normal_max_ms {
+            self.clock.advance_normal(t_ms, d);
+            (Tick::Normal, d)
+        } else {
+            self.normal_max_ms = gap_floor_ms.min(i32::MAX as u32);
+            self.clock.tick_gap_if(t_ms, |dt, period| {
+                dt > gap_floor_ms && dt > period.saturating_mul(8)
+            })
+        };
         if matches!(tick, Tick::Gap | Tick::SteppedBack) {
-            self.low_pass.reset();
+            self.low_pass = T::of(f64::NAN);
             self.plausibility.reset();
         }
         if tick == Tick::SteppedBack {
             self.resync_left = u32::try_from(M).unwrap_or(u32::MAX).max(1);
         }
-        let (v, signal_fault) = self.scaling.scale(raw);
+        let (v, signal_fault, signal_quality) = self.scaling.scale_classified(raw);
         // The sample leaving the median's last `M` if this one is accepted
         // (read before the plausibility check writes it to the window).
         let (leaving, held) = self.plausibility.accepted_back(M);
@@ -214,13 +254,20 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         } else {
             // `v` is finite unless the signal fault is bad (`scale`).
             let (max_rate, allowance) = (self.config.max_rate, &mut self.allowance);
-            self.plausibility
-                .check_scaled(&self.config, v, dt_ms, signal_fault, |ms| {
+            self.plausibility.check_scaled(
+                &self.config,
+                v,
+                dt_ms,
+                (signal_fault, signal_quality),
+                // (Known false at compile time with a floating-point unit.)
+                !HARD_FLOAT && self.by_bits,
+                |ms| {
                     if allowance.0 != ms {
                         *allowance = (ms, rate_allowance(max_rate, ms));
                     }
                     allowance.1
-                })
+                },
+            )
         };
         if tick != Tick::Stalled && self.resync_left > 0 {
             self.resync_left -= 1;
@@ -234,18 +281,51 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             self.since_filtered_ms = self.since_filtered_ms.saturating_add(dt_ms);
             (T::ZERO, T::ZERO)
         } else {
-            let m = self.median.update(v, leaving, held);
+            let m = if self.positive {
+                self.median.update_positive(v, leaving, held)
+            } else {
+                self.median.update(v, leaving, held)
+            };
             let ms = self.since_filtered_ms.saturating_add(dt_ms);
             self.since_filtered_ms = 0;
             if self.gain.0 != ms {
-                self.gain = (ms, low_pass_gain(ms, self.config.filter_time_constant_s));
+                self.gain = (
+                    ms,
+                    Self::gain_or_nan(ms, self.config.filter_time_constant_s),
+                );
             }
-            let f = self.low_pass.update_with(m, self.gain.1);
+            let f = low_pass_step(self.low_pass, m, self.gain.1);
+            self.low_pass = f;
             (v, f)
         };
-        let s = self
-            .substitution
-            .apply(r, f, q, t_ms, dt_ms, self.config.hold_ms);
+        // Substitution, with a good sample remembered lazily: a good sample
+        // passes as it is (what `apply` returns for it) and stays readable
+        // in `self.last` (its output: its values, good, its stamp), which
+        // `apply` is given as the good sample it would have recorded once
+        // the next sample is not good, before that sample (the same state:
+        // no time elapses between the two, and a reset makes `self.last` bad).
+        let s = if q == Quality::Good {
+            Substituted {
+                raw: r,
+                filtered: f,
+                quality: Quality::Good,
+                held: false,
+            }
+        } else {
+            let hold_ms = self.config.hold_ms;
+            let last = &self.last;
+            if last.status.quality == Quality::Good {
+                self.substitution.apply(
+                    last.raw.value,
+                    last.filtered.value,
+                    Quality::Good,
+                    last.status.last_good_ms,
+                    0,
+                    hold_ms,
+                );
+            }
+            self.substitution.apply(r, f, q, t_ms, dt_ms, hold_ms)
+        };
         // Both values are finite by construction (a sample that is not is
         // bad and replaced by 0; the low-pass falls back to its finite input;
         // a held value was a good one) and the quality is good, uncertain or
@@ -292,5 +372,90 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             });
         }
         out
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::signal::{InstrumentClass, SignalKind, Unit};
+
+    /// The channel's substitution (a good sample remembered lazily) gives
+    /// what an eagerly driven [`Substitution`] gives on the same samples
+    /// (consistency check): held values, qualities, the held flag and the
+    /// last good stamp, over a seeded stream of good, saturated, failed, NaN,
+    /// out-of-range and spiking currents, with stalls, steps back and gaps
+    /// of the clock, and resets.
+    #[test]
+    fn lazy_substitution_equals_the_eager_one() {
+        let cfg = ChannelConfig {
+            id: 3,
+            signal: SignalKind::Current4To20,
+            unit: Unit::PressureAbs,
+            range_low: 0.0_f32,
+            range_high: 1.0e6,
+            plausible_low: 1.0e4,
+            plausible_high: 1.05e6,
+            noise_floor: 10.0,
+            instrument: InstrumentClass::Absolute(0.0),
+            max_rate: 2.0e6,
+            filter_time_constant_s: 0.1,
+            hold_ms: 100,
+        };
+        let mut ch = Channel::<f32, 8, 5>::new(cfg).unwrap();
+        let mut clock = SampleClock::new();
+        let mut eager = Substitution::<f32>::new();
+        let mut t = 0_u32;
+        let mut state = 23_u64;
+        let mut held_seen = 0;
+        for i in 0..50_000 {
+            state = state
+                .wrapping_mul(6_364_136_223_846_793_005)
+                .wrapping_add(1_442_695_040_888_963_407);
+            let raw = match (state >> 33) % 16 {
+                0 => f32::NAN,
+                1 => 2.0,
+                2 => 20.8,
+                3 => 4.05,
+                4 => 19.0 + ((state >> 40) % 4) as f32,
+                _ => 8.0 + ((state >> 40) % 100) as f32 * 0.001,
+            };
+            t = match (state >> 20) % 32 {
+                0 => t,
+                1 => t.wrapping_sub(30),
+                2 => t.wrapping_add(400),
+                _ => t.wrapping_add(20),
+            };
+            if i % 997 == 996 {
+                ch.reset();
+                clock.reset();
+                eager = Substitution::new();
+            }
+            let out = ch.update(raw, t);
+            let gap_floor = cfg.hold_ms.max(1);
+            let (_, dt) = clock.tick_gap_if(t, |dt, period| {
+                dt > gap_floor && dt > period.saturating_mul(8)
+            });
+            let q = out.status.fault.quality();
+            let s = eager.apply(out.raw.value, out.filtered.value, q, t, dt, cfg.hold_ms);
+            held_seen += usize::from(s.held);
+            assert_eq!(
+                (s.raw.to_bits(), s.filtered.to_bits(), s.quality, s.held),
+                (
+                    out.raw.value.to_bits(),
+                    out.filtered.value.to_bits(),
+                    out.status.quality,
+                    out.status.substituted
+                ),
+                "sample {i}"
+            );
+            let last_good = if q == Quality::Good {
+                t
+            } else {
+                eager.last_good_ms().unwrap_or(0)
+            };
+            assert_eq!(out.status.last_good_ms, last_good, "sample {i}");
+        }
+        assert!(held_seen > 1000, "{held_seen} held samples");
     }
 }

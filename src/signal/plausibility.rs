@@ -54,9 +54,14 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
             self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
             return FaultCode::NotFinite;
         }
-        self.check_scaled(cfg, v, dt_ms, signal_fault, |ms| {
-            rate_allowance(cfg.max_rate, ms)
-        })
+        self.check_scaled(
+            cfg,
+            v,
+            dt_ms,
+            (signal_fault, signal_fault.quality()),
+            false,
+            |ms| rate_allowance(cfg.max_rate, ms),
+        )
         .0
     }
 
@@ -64,27 +69,41 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
     /// signal-level fault is bad (what [`ChannelConfig::scale`] returns),
     /// with the allowed change over `ms` milliseconds given by `allowance`
     /// (the channel caches it: [`rate_allowance`] of the usual interval).
+    /// `signal` is the signal-level fault with its quality
+    /// (`fault.quality()`, which the scaling knows on its usual path).
+    /// `by_bits` may be set when the plausible range lies above zero and
+    /// the noise floor is not −0: the compares are then made on the bit
+    /// patterns (the same answers; see below), for a core whose float
+    /// compare is a soft-float call.
     /// Returns the fault and its quality (`fault.quality()`, known on every
-    /// path but one, so the caller need not classify the fault again).
+    /// path, so the caller need not classify the fault again).
     #[inline]
     pub(crate) fn check_scaled(
         &mut self,
         cfg: &ChannelConfig<T>,
         v: T,
         dt_ms: u32,
-        signal_fault: FaultCode,
+        signal: (FaultCode, Quality),
+        by_bits: bool,
         allowance: impl FnOnce(u32) -> T,
     ) -> (FaultCode, Quality) {
         // The time since the last accepted sample grows by `dt_ms` if this
         // one is rejected; an accepted one restarts it at 0.
-        let signal_quality = signal_fault.quality();
+        let (signal_fault, signal_quality) = signal;
         if signal_quality == Quality::Bad {
             self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
             return (signal_fault, Quality::Bad);
         }
         // `v` is finite here, the limits are (validated): compares by
         // [`below`] and [`above`] (no soft-float call on a Cortex-M0).
-        if below(v, cfg.plausible_low) || above(v, cfg.plausible_high) {
+        // By the bits (`by_bits`): `plausible_low <= v <= plausible_high`
+        // for finite `v` and limits 0 < low < high ([`Real::within_positive`]).
+        let out_of_range = if by_bits {
+            !T::within_positive(v, cfg.plausible_low, cfg.plausible_high)
+        } else {
+            below(v, cfg.plausible_low) || above(v, cfg.plausible_high)
+        };
+        if out_of_range {
             self.since_accepted_ms = self.since_accepted_ms.saturating_add(dt_ms);
             return (FaultCode::OutOfRange, Quality::Bad);
         }
@@ -98,12 +117,25 @@ impl<T: Real, const W: usize> Plausibility<T, W> {
         if let Some(last) = self.window.back(1) {
             let step = T::abs(v - last);
             let since = self.since_accepted_ms.saturating_add(dt_ms);
-            // `step` may be infinite, never NaN (two finite values).
-            if above(step, allowance(since)) {
+            // `step` may be infinite, never NaN (two finite values). It,
+            // the allowance (a positive rate times a time, never NaN) and,
+            // with `by_bits`, the noise floor have a clear sign bit: by the
+            // bits, the same answers ([`Real::less_positive_bits`]).
+            let allowed = allowance(since);
+            let spike = if by_bits {
+                T::less_positive_bits(allowed, step)
+            } else {
+                above(step, allowed)
+            };
+            if spike {
                 self.since_accepted_ms = since;
                 return (FaultCode::Spike, Quality::Bad);
             }
-            calm = !above(step, cfg.noise_floor);
+            calm = if by_bits {
+                !T::less_positive_bits(cfg.noise_floor, step)
+            } else {
+                !above(step, cfg.noise_floor)
+            };
         }
         self.since_accepted_ms = 0;
         self.window.write(v);
@@ -164,6 +196,54 @@ fn within_band<T: Real>(values: &[T], v: T, floor: T) -> bool {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::signal::{InstrumentClass, SignalKind, Unit};
+
+    /// The plausibility tests by the bit patterns (`by_bits`, for a range
+    /// above zero and a noise floor that is not −0) give the faults and
+    /// qualities of the float compares (consistency check), over a seeded
+    /// stream of samples in, at the edges of and outside the range (zero,
+    /// negative), steps within and beyond the noise floor and the rate
+    /// allowance, and intervals including 0 ms.
+    #[test]
+    fn checks_by_bits_equal_the_float_checks() {
+        for (noise_floor, low) in [(0.0_f32, 1.0_f32), (0.5, 1.0e-30), (2.0, 10.0)] {
+            let cfg = ChannelConfig {
+                id: 0,
+                signal: SignalKind::Engineering,
+                unit: Unit::Other,
+                range_low: 0.0,
+                range_high: 100.0,
+                plausible_low: low,
+                plausible_high: 90.0,
+                noise_floor,
+                instrument: InstrumentClass::Absolute(0.0),
+                max_rate: 400.0,
+                filter_time_constant_s: 0.0,
+                hold_ms: 0,
+            };
+            let (mut a, mut b) = (Plausibility::<f32, 4>::new(), Plausibility::<f32, 4>::new());
+            let mut state = 17_u64;
+            for i in 0..20_000 {
+                state = state
+                    .wrapping_mul(6_364_136_223_846_793_005)
+                    .wrapping_add(1_442_695_040_888_963_407);
+                let v = match (state >> 33) % 9 {
+                    0 => low,
+                    1 => 90.0,
+                    2 => 0.0,
+                    3 => -5.0,
+                    4 => 95.0,
+                    _ => 40.0 + ((state >> 40) % 64) as f32 * 0.25,
+                };
+                let dt = ((state >> 20) % 30) as u32;
+                let rate = |ms| rate_allowance(cfg.max_rate, ms);
+                let ok = (FaultCode::None, Quality::Good);
+                let want = a.check_scaled(&cfg, v, dt, ok, false, rate);
+                let got = b.check_scaled(&cfg, v, dt, ok, true, rate);
+                assert_eq!(got, want, "sample {i}: {v} after {dt} ms");
+            }
+        }
+    }
 
     /// The early-exit band test gives the full-window answer
     /// (`max − min <= floor` over all values; consistency check) on a
