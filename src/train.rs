@@ -6,6 +6,7 @@
 //! allocates, never panics and runs bounded loops over `N` stages and `W`
 //! window samples.
 
+use crate::compression::isentropic_exponent_term;
 use crate::cooler::{evaluate_cooler_bounded, CoolerConfig, CoolerInputs, CoolerResult};
 use crate::error::{check_positive, check_range, ConfigError, Problem};
 use crate::gas::GasModel;
@@ -752,14 +753,26 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             .config
             .gas
             .path(first.p1.value, t1, last_c.p2.value, t1, Some(z_mean));
-        let (single, staged) = isentropic_references_from_log(
-            props.z,
-            props.gas_constant,
-            t1,
-            ln_overall,
-            props.k,
-            u32::from(nc),
-        );
+        let (single, staged) = if nc.is_power_of_two() {
+            isentropic_references_halving(
+                props.z,
+                props.gas_constant,
+                t1,
+                ln_overall,
+                props.k,
+                nc,
+                self.equal_ratio_exponent,
+            )
+        } else {
+            isentropic_references_from_log(
+                props.z,
+                props.gas_constant,
+                t1,
+                ln_overall,
+                props.k,
+                u32::from(nc),
+            )
+        };
         // The isothermal reference through the gas model (the Gibbs energy
         // rise; Z·R·T·ln r for the ideal gas): the one definition the loss
         // ledger also starts from (it reads this row).
@@ -799,4 +812,42 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         }
         self.snapshot.totals = totals;
     }
+}
+
+/// [`isentropic_references_from_log`] for a power-of-two number of
+/// compressor stages `stages` (`inverse` = 1/`stages`, exact), with one
+/// exponential instead of two. The staged reference is the same bit for
+/// bit (ln r · 1/stages equals ln r / stages exactly for a power of two,
+/// and the head's factors are formed in the same order). The single-stage
+/// one uses r^m - 1 = (e^s - 1) with e = r^(m/s): for s = 2^j the
+/// factorisation e^s - 1 = (e - 1)·(e + 1)·(e² + 1)···(e^(s/2) + 1) (an
+/// algebraic identity; no cancellation beyond that of e - 1, which is
+/// exact for e in [1, 2] by Sterbenz's lemma). A rounding change only:
+/// relative error a few f32 ulps of e over (e - 1), inside
+/// `tolerance::SPECIFIC_WORK` (f32_vs_f64 and firmware_outputs tests).
+#[inline(always)]
+fn isentropic_references_halving<T: Real>(
+    z: T,
+    gas_constant: T,
+    t1: T,
+    ln_overall: T,
+    k: T,
+    stages: u8,
+    inverse: T,
+) -> (T, T) {
+    let m = isentropic_exponent_term(k);
+    let zrt = z * gas_constant * t1;
+    let e = T::exp(m * (ln_overall * inverse));
+    let e_minus_one = e - T::ONE;
+    let mut single_factor = e_minus_one;
+    let mut power = e;
+    let mut left = stages;
+    while left > 1 {
+        single_factor = single_factor * (power + T::ONE);
+        power = power * power;
+        left >>= 1;
+    }
+    let single = zrt * single_factor / m;
+    let staged = T::from_u32(u32::from(stages)) * (zrt * e_minus_one / m);
+    (single, staged)
 }
