@@ -381,22 +381,45 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
             done |= bit;
         }
     };
-    let dp = pin.value - pout.value;
+    // Outputs a field-local plausibility check makes suspect (`suspect`):
+    // a negative pressure drop; the outlet above the inlet; the outlet
+    // below the coolant; an effectiveness outside [0, 1]; a falling
+    // coolant; the duty and what uses it inside the noise band or from a
+    // gas model outside its fitted or valid range; UA also without flow (a
+    // zero duty is not fouling; a negative duty in the noise band gives a
+    // negative UA). A suspect bit counts only for a computed output (one
+    // not computed is bad, which uncertain does not change), so each check
+    // is made where its output is set. What the evaluation found
+    // (`found`), in order of precedence (an outlet above the inlet implies
+    // usable gas temperatures): the first of its bits. Both are collected
+    // as the checks are made (fewer flags live at once).
+    let flag = |c: bool, bits: u16| if c { bits } else { 0 };
+    let mut suspect: u16 = 0;
+    let mut found: u32 = 0;
     if ok(I_PIN | I_POUT) {
+        let dp = pin.value - pout.value;
         set(&mut out.pressure_drop, F_DP, dp);
         set(&mut out.relative_pressure_drop, F_REL_DP, dp / pin.value);
+        suspect |= flag(lt(dp, T::ZERO), F_DP | F_REL_DP);
     }
     let gas_ok = ok(I_TIN | I_TOUT);
     let drop = tin.value - tout.value;
     let outlet_above_inlet = gas_ok && lt(drop, -noise);
     let within_noise = gas_ok && !outlet_above_inlet && lt(drop, noise);
     let stationary = ok(I_FLOW) && !lt(limits.stationary_flow, flow.value);
+    found |= u32::from(outlet_above_inlet)
+        | u32::from(within_noise && ok(I_FLOW)) << 3
+        | u32::from(stationary) << 4;
     // Duty from the gas model's enthalpy drop (its quality: the model's
     // validity at the two states and the supplied Z); a model outside its
     // fitted or valid range makes the duty and what uses it suspect, no
     // valid state makes them bad.
     let duty = flow.value * dh.value;
     let cp_suspect = cp_fit.worst(dh.quality) != Quality::Good;
+    let weak_duty = within_noise || cp_suspect;
+    suspect |= flag(outlet_above_inlet, F_DROP)
+        | flag(weak_duty, F_DUTY | F_BALANCE)
+        | flag(weak_duty || stationary, F_UA);
     let duty_ok = gas_ok && !outlet_above_inlet && ok(I_FLOW | I_DH) && T::is_finite(duty);
     if gas_ok {
         set(&mut out.gas_temperature_drop, F_DROP, drop);
@@ -404,23 +427,41 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
             set(&mut out.heat_duty, F_DUTY, duty);
         }
     }
+    // Also the LMTD's cold-end difference (one subtraction for both).
     let approach = tout.value - tc.value;
-    let below_coolant = ok(I_TOUT | I_TC) && lt(approach, -noise);
     if ok(I_TOUT | I_TC) {
         set(&mut out.approach, F_APPROACH, approach);
+        let below_coolant = lt(approach, -noise);
+        suspect |= flag(below_coolant, F_APPROACH);
+        found |= u32::from(below_coolant) << 1;
     }
-    let span = tin.value - tc.value;
-    let no_span = ok(I_TIN | I_TOUT | I_TC) && !lt(T::of(MIN_EFFECTIVENESS_SPAN_K), span);
-    let eff = drop / span;
-    if ok(I_TIN | I_TOUT | I_TC) && !outlet_above_inlet && !no_span {
-        set(&mut out.effectiveness, F_EFF, eff);
+    // `0 <= eff <= 1` (false for NaN); without an FPU on the bits
+    // ([`Real::within_nonnegative`], exact for every value, NaN and -0.0
+    // included: no library call).
+    let effectiveness_in_unit_range = |e: T| {
+        if HARD_FLOAT {
+            e >= T::ZERO && e <= T::ONE
+        } else {
+            T::within_nonnegative(e, T::ZERO, T::ONE)
+        }
+    };
+    if ok(I_TIN | I_TOUT | I_TC) {
+        let span = tin.value - tc.value;
+        let no_span = !lt(T::of(MIN_EFFECTIVENESS_SPAN_K), span);
+        found |= u32::from(no_span) << 2;
+        if !outlet_above_inlet && !no_span {
+            let eff = drop / span;
+            set(&mut out.effectiveness, F_EFF, eff);
+            suspect |= flag(!effectiveness_in_unit_range(eff), F_EFF);
+        }
     }
     let rise = tco.value - tc.value;
     if ok(I_TC | I_TCO) {
         set(&mut out.coolant_temperature_rise, F_COOLANT_RISE, rise);
+        suspect |= flag(lt(rise, -noise), F_COOLANT_RISE);
     }
     if ok(I_TIN | I_TOUT | I_TC | I_TCO) {
-        let (dt_hot, dt_cold) = (tin.value - tco.value, tout.value - tc.value);
+        let (dt_hot, dt_cold) = (tin.value - tco.value, approach);
         if let Some(lmtd) = lmtd_counterflow_ordered::<T, BOUNDED, { !HARD_FLOAT }>(dt_hot, dt_cold)
         {
             set(&mut out.lmtd, F_LMTD, lmtd);
@@ -438,41 +479,7 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
             );
         }
     }
-    // Outputs a field-local plausibility check makes suspect, set whether
-    // computed or not (one not computed is bad, which uncertain does not
-    // change): a negative pressure drop; the outlet above the inlet; the
-    // outlet below the coolant; an effectiveness outside [0, 1]; a falling
-    // coolant; the duty and what uses it inside the noise band or from a
-    // gas model outside its fitted or valid range; UA also without flow (a
-    // zero duty is not fouling; a negative duty in the noise band gives a
-    // negative UA).
-    let weak_duty = within_noise || cp_suspect;
-    // `0 <= eff <= 1` (false for NaN); without an FPU on the bits
-    // ([`Real::within_nonnegative`], exact for every value, NaN and -0.0
-    // included: no library call).
-    let effectiveness_in_unit_range = |e: T| {
-        if HARD_FLOAT {
-            e >= T::ZERO && e <= T::ONE
-        } else {
-            T::within_nonnegative(e, T::ZERO, T::ONE)
-        }
-    };
-    let flag = |c: bool, bits: u16| if c { bits } else { 0 };
-    let suspect = flag(lt(dp, T::ZERO), F_DP | F_REL_DP)
-        | flag(outlet_above_inlet, F_DROP)
-        | flag(below_coolant, F_APPROACH)
-        | flag(!effectiveness_in_unit_range(eff), F_EFF)
-        | flag(lt(rise, -noise), F_COOLANT_RISE)
-        | flag(weak_duty, F_DUTY | F_BALANCE)
-        | flag(weak_duty || stationary, F_UA);
 
-    // What the evaluation found, in order of precedence (an outlet above
-    // the inlet implies usable gas temperatures): the first of `found`.
-    let found = u32::from(outlet_above_inlet)
-        | u32::from(below_coolant) << 1
-        | u32::from(no_span) << 2
-        | u32::from(within_noise && ok(I_FLOW)) << 3
-        | u32::from(stationary) << 4;
     let condition = if !ok(I_TIN | I_TOUT | I_TC) {
         CoolerCondition::InputBad
     } else if found == 0 {
