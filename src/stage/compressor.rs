@@ -270,11 +270,11 @@ pub(crate) struct StageUses {
 impl StageUses {
     /// The table for a model with `inputs`.
     pub(crate) fn new(inputs: PropertyInputs) -> Self {
-        let users = Users::of(&Self::uses(inputs, false).in_order());
+        let uses = Self::uses(inputs, false).in_order();
         let uncertain_users = |c| {
             let mut g = Grades::new();
             g.check(c, Quality::Uncertain);
-            let o = OutputGrades::new(&g, &users, u16::MAX, 0);
+            let o = OutputGrades::from_uses(&g, || uses, u16::MAX, 0);
             (0..16).fold(0u16, |m, i| {
                 if o.none_uncertain(1 << i) {
                     m
@@ -285,7 +285,7 @@ impl StageUses {
         };
         StageUses {
             inputs,
-            users,
+            users: Users::of(&uses),
             model_uncertain: [
                 uncertain_users(check::MODEL),
                 uncertain_users(check::MODEL_DISCHARGE),
