@@ -259,14 +259,37 @@ pub(crate) struct StageUses {
     pub(crate) inputs: PropertyInputs,
     /// The table turned around ([`Users`]).
     users: Users,
+    /// The outputs an uncertain [`check::MODEL`] and an uncertain
+    /// [`check::MODEL_DISCHARGE`] make uncertain (bit i = i-th output):
+    /// the common not-good checks of a stage (an ideal gas at high reduced
+    /// pressure), graded with one OR each instead of a pass over their
+    /// bits of the table.
+    model_uncertain: [u16; 2],
 }
 
 impl StageUses {
     /// The table for a model with `inputs`.
     pub(crate) fn new(inputs: PropertyInputs) -> Self {
+        let uses = Self::uses(inputs, false).in_order();
+        let uncertain_users = |c| {
+            let mut g = Grades::new();
+            g.check(c, Quality::Uncertain);
+            let o = OutputGrades::from_uses(&g, || uses, u16::MAX, 0);
+            (0..16).fold(0u16, |m, i| {
+                if o.none_uncertain(1 << i) {
+                    m
+                } else {
+                    m | 1 << i
+                }
+            })
+        };
         StageUses {
             inputs,
-            users: Users::of(&Self::uses(inputs, false).in_order()),
+            users: Users::of(&uses),
+            model_uncertain: [
+                uncertain_users(check::MODEL),
+                uncertain_users(check::MODEL_DISCHARGE),
+            ],
         }
     }
 
@@ -531,9 +554,25 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     }
     // MODEL: the fitted range of the properties and the gas model's
     // validity at the states used (near-critical, liquid-like, ideal gas at
-    // high reduced pressure, no vapour root).
-    g.check(check::MODEL, fit.worst(iso_validity.quality));
-    g.check(check::MODEL_DISCHARGE, discharge_validity);
+    // high reduced pressure, no vapour root). Uncertain ones are kept aside
+    // (bit 0 MODEL, bit 1 MODEL_DISCHARGE): the train's table grades them
+    // with one mask each (below).
+    let model = fit.worst(iso_validity.quality);
+    let mut model_uncertain = 0u8;
+    // Both good (the common case): one test (`Quality::Good` is 0).
+    if model as u8 | discharge_validity as u8 != 0 {
+        let tabled = tables.is_some() && !rating_point;
+        if tabled && model == Quality::Uncertain {
+            model_uncertain |= 1;
+        } else {
+            g.check(check::MODEL, model);
+        }
+        if tabled && discharge_validity == Quality::Uncertain {
+            model_uncertain |= 2;
+        } else {
+            g.check(check::MODEL_DISCHARGE, discharge_validity);
+        }
+    }
     if checks.has(CompressorChecks::EXPONENT_IMPLAUSIBLE) {
         // n itself, the polytropic head and efficiency were not computed
         // (bad); what remains (the isentropic efficiency, the work) is a
@@ -557,7 +596,18 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     // stack of every call).
     match tables {
         Some(t) if !rating_point => {
-            settle_compressor_outputs(&OutputGrades::new(&g, &t.users, done, 0), out);
+            // An uncertain check adds exactly its users to the uncertain
+            // outputs: the same grades as through `g`.
+            let mut suspect = 0;
+            if model_uncertain != 0 {
+                if model_uncertain & 1 != 0 {
+                    suspect |= t.model_uncertain[0];
+                }
+                if model_uncertain & 2 != 0 {
+                    suspect |= t.model_uncertain[1];
+                }
+            }
+            settle_compressor_outputs(&OutputGrades::new(&g, &t.users, done, suspect), out);
         }
         _ => settle_compressor_untabled(&g, gas.property_inputs(), rating_point, done, out),
     }
@@ -893,6 +943,14 @@ mod tests {
         check(&IdealGas::<f64>::from_spec(&AIR, false, 1.0).unwrap());
         check(&IdealGas::<f64>::from_spec(&AIR, true, 1.0).unwrap());
         check(&PengRobinson::<f64, 1>::pure(components::METHANE).unwrap());
+        // Outside the ideal gas's validity (p·K > T³ at these states): the
+        // model checks uncertain, graded through the table's masks.
+        let outside = IdealGas::<f64>::from_spec(&AIR, false, 1.0)
+            .unwrap()
+            .with_validity_limit(1e3);
+        let r = evaluate_compressor(&outside, &inputs(100e3, 300.0, 300e3, 420.0));
+        assert_eq!(r.gas_validity.quality, Quality::Uncertain);
+        check(&outside);
     }
 
     /// Consistency check: the pair grade is the worse of the two single
