@@ -69,13 +69,12 @@ fn bench_stage<T: Real>(c: &mut Criterion, name: &str) {
 /// iteration also synthesises the 12 raw samples (a few dozen flops).
 fn bench_full_scan(c: &mut Criterion) {
     let demo_cfg = demo::config::<f32>().expect("demo config");
-    let mut slot = None;
-    controller::Controller::build_in(
+    let mut slot = core::mem::MaybeUninit::uninit();
+    let ctl = controller::Controller::build_in(
         &mut slot,
         controller::train_config(&demo_cfg, controller::ideal_gas().expect("gas")),
     )
     .expect("controller");
-    let ctl = slot.as_mut().expect("built");
     let mut slow: Vec<_> = (0..64)
         .map(|i| {
             let full = demo::scan::<f32>(i * 7);

@@ -131,6 +131,30 @@ fn transmitter(
     })
 }
 
+/// The upper range value (SI) of each of the [`CHANNELS`] transmitters
+/// (per stage: suction pressure, discharge pressure, flow-element Δp),
+/// from the stages' design pressures.
+fn channel_ranges<G: GasModel<f32>>(config: &TrainConfig<f32, G, SECTIONS>) -> [f32; CHANNELS] {
+    let mut ranges = [0.0_f32; CHANNELS];
+    for (r, s) in ranges.chunks_exact_mut(3).zip(config.stages.iter()) {
+        let ps = s.design_suction_pressure.pa();
+        r[0] = 2.0 * ps;
+        r[1] = 1.5 * s.design_discharge_pressure.pa();
+        r[2] = 2.0 * FLOW_NUMBER * 2.0 * ps;
+    }
+    ranges
+}
+
+/// Transmitter `i` of [`channel_ranges`]: every third one a Δp.
+fn channel(i: usize, ranges: &[f32; CHANNELS]) -> Result<TransmitterChannel, ConfigError> {
+    let unit = if i % 3 == 2 {
+        Unit::DifferentialPressure
+    } else {
+        Unit::PressureAbs
+    };
+    transmitter(i as u8, unit, ranges[i])
+}
+
 /// The invented surge line of every stage (map: CO2 near 1 bar, 293 K).
 /// [`Controller::build_in`] builds each monitor with it where the monitor
 /// lives: inlined into that loop its settings fold to constants, and no
@@ -208,18 +232,13 @@ impl<G: GasModel<f32>> Controller<G> {
     /// (one copy of the construction code, not one per channel). On a
     /// refusal the slot stays uninitialised (none of the fields needs a
     /// drop).
+    #[cfg(target_os = "none")]
     #[inline(never)]
     pub fn build_in(
         slot: &mut MaybeUninit<Self>,
         config: TrainConfig<f32, G, SECTIONS>,
     ) -> Result<&mut Self, ConfigError> {
-        let mut ranges = [0.0_f32; CHANNELS];
-        for (r, s) in ranges.chunks_exact_mut(3).zip(config.stages.iter()) {
-            let ps = s.design_suction_pressure.pa();
-            r[0] = 2.0 * ps;
-            r[1] = 1.5 * s.design_discharge_pressure.pa();
-            r[2] = 2.0 * FLOW_NUMBER * 2.0 * ps;
-        }
+        let ranges = channel_ranges(&config);
         let p = slot.as_mut_ptr();
         // SAFETY: every write goes to a field (or an element of an array
         // field) of `*p`, which `slot` owns and which is valid for writes;
@@ -230,13 +249,8 @@ impl<G: GasModel<f32>> Controller<G> {
             core::ptr::addr_of_mut!((*p).last_ms).write(None);
             core::ptr::addr_of_mut!((*p).train).write(SectionTrain::new(config)?);
             let channels = core::ptr::addr_of_mut!((*p).channels).cast::<TransmitterChannel>();
-            for (i, &r) in ranges.iter().enumerate() {
-                let unit = if i % 3 == 2 {
-                    Unit::DifferentialPressure
-                } else {
-                    Unit::PressureAbs
-                };
-                channels.add(i).write(transmitter(i as u8, unit, r)?);
+            for i in 0..CHANNELS {
+                channels.add(i).write(channel(i, &ranges)?);
             }
             let monitors = core::ptr::addr_of_mut!((*p).monitors).cast::<SectionMonitor>();
             for i in 0..SECTIONS {
@@ -244,6 +258,30 @@ impl<G: GasModel<f32>> Controller<G> {
             }
             Ok(slot.assume_init_mut())
         }
+    }
+
+    /// The same build on the host (the criterion bench includes this file
+    /// into the kernel package, which forbids `unsafe`): the same parts
+    /// ([`channel_ranges`], [`channel`], [`section_monitor`]), assembled on
+    /// the stack and moved into `slot` (the host has the stack for it).
+    #[cfg(not(target_os = "none"))]
+    pub fn build_in(
+        slot: &mut MaybeUninit<Self>,
+        config: TrainConfig<f32, G, SECTIONS>,
+    ) -> Result<&mut Self, ConfigError> {
+        let ranges = channel_ranges(&config);
+        let train = SectionTrain::new(config)?;
+        let mut channels = [channel(0, &ranges)?; CHANNELS];
+        for (i, c) in channels.iter_mut().enumerate().skip(1) {
+            *c = channel(i, &ranges)?;
+        }
+        let monitor = section_monitor()?;
+        Ok(slot.write(Controller {
+            train,
+            channels,
+            monitors: core::array::from_fn(|_| monitor.clone()),
+            last_ms: None,
+        }))
     }
 
     /// The raw samples (mA) the transmitters send at scan `k` for the
