@@ -1927,35 +1927,47 @@ impl<'a, T: Real> TableGas<'a, T> {
         if q1 == Quality::Bad {
             return out;
         }
-        let r = self.gas_constant;
-        let along_isentrope = || {
-            // ∂Z/∂T at the suction, evaluated here if the end states leave
-            // it out (the same cut and cubic: the same value).
-            let dz_dt = if END & W_NO_DZ != 0 {
-                let (pt, _, _) = self.eval::<{ W_Z | W_H }>(ln_p1, t1);
-                pt.dz_dt
-            } else {
-                end1.dz_dt
-            };
-            t1 * T::exp(r * (end1.z + t1 * dz_dt) / end1.dh_dt * ln_r)
-        };
         let mut cut = None;
         let guess = match t2 {
             Some(t2) => {
                 let (end2, q2, flag2, _) = self.end::<END>(p2, Some(ln_p2), t2, &mut cut);
                 (out.end2, out.q2, out.flag2) = (end2, q2, flag2);
                 if q2 == Quality::Bad {
-                    along_isentrope()
+                    if END & W_NO_DZ != 0 {
+                        self.along_isentrope::<END>(&end1, ln_p1, t1, ln_r)
+                    } else {
+                        t1 * T::exp(
+                            self.gas_constant * (end1.z + t1 * end1.dz_dt) / end1.dh_dt * ln_r,
+                        )
+                    }
                 } else {
                     // T2·exp(d), d = (s1 − s2)/cp2, to second order.
                     let d = (end1.s - end2.s) / end2.dh_dt;
                     t2 * (T::ONE + d * (T::ONE + T::of(0.5) * d))
                 }
             }
-            None => along_isentrope(),
+            None => self.along_isentrope::<END>(&end1, ln_p1, t1, ln_r),
         };
         out.iso = self.isentropic_ln::<ISO, FIN>(ln_p2, end1.s, guess, &mut cut);
         out
+    }
+
+    /// The entropy match's start without a discharge state:
+    /// T1·r^(R·(Z + T·∂Z/∂T)/cp) from the suction state `end1` (asked
+    /// `END` of the patch). Out of line: a train's compressions have a
+    /// discharge state, and an inline closure made them build its captures
+    /// on the stack.
+    #[cold]
+    #[inline(never)]
+    fn along_isentrope<const END: u8>(&self, end1: &Patch<T>, ln_p1: T, t1: T, ln_r: T) -> T {
+        // ∂Z/∂T at the suction, evaluated here if the end states leave it
+        // out (the same cut and cubic: the same value).
+        let dz_dt = if END & W_NO_DZ != 0 {
+            self.eval::<{ W_Z | W_H }>(ln_p1, t1).0.dz_dt
+        } else {
+            end1.dz_dt
+        };
+        t1 * T::exp(self.gas_constant * (end1.z + t1 * dz_dt) / end1.dh_dt * ln_r)
     }
 
     /// One compression stage from its measured suction (p1, t1) and
