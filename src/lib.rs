@@ -130,3 +130,13 @@ pub(crate) fn xorshift32(mut seed: u32) -> impl FnMut() -> u32 {
         seed
     }
 }
+
+/// One step of the 64-bit linear congruential generator of the signal
+/// tests (Knuth's MMIX multiplier and increment; the tests draw from the
+/// high bits). One copy, so those tests draw the same way.
+#[cfg(test)]
+pub(crate) fn lcg64_step(state: u64) -> u64 {
+    state
+        .wrapping_mul(6_364_136_223_846_793_005)
+        .wrapping_add(1_442_695_040_888_963_407)
+}

@@ -456,9 +456,7 @@ mod tests {
     fn current_scaling_by_span_per_ma_gives_the_same_bits() {
         let mut state = 3_u64;
         let mut next = || {
-            state = state
-                .wrapping_mul(6_364_136_223_846_793_005)
-                .wrapping_add(1_442_695_040_888_963_407);
+            state = crate::lcg64_step(state);
             (state >> 32) as u32
         };
         let spans = [

@@ -406,9 +406,7 @@ mod tests {
         let mut history: std::vec::Vec<f64> = std::vec::Vec::new();
         let mut state = seed;
         for i in 0..2000 {
-            state = state
-                .wrapping_mul(6_364_136_223_846_793_005)
-                .wrapping_add(1_442_695_040_888_963_407);
+            state = crate::lcg64_step(state);
             // Few distinct values, so repeats and ties are common.
             let x = ((state >> 33) % 7) as f64 - 3.0;
             if i % 97 == 96 {
@@ -437,9 +435,7 @@ mod tests {
         let mut s_pos = SortedWindow::<f64, M>::new();
         let mut state = seed;
         for i in 0..3000 {
-            state = state
-                .wrapping_mul(6_364_136_223_846_793_005)
-                .wrapping_add(1_442_695_040_888_963_407);
+            state = crate::lcg64_step(state);
             let x = ((state >> 33) % 9) as f64 * 0.5 - 2.0;
             if (state >> 20) % 89 == 0 {
                 m.reset();
@@ -465,9 +461,7 @@ mod tests {
         for _ in 0..20_000 {
             let mut w = [0.0_f32; 5];
             for x in w.iter_mut() {
-                state = state
-                    .wrapping_mul(6_364_136_223_846_793_005)
-                    .wrapping_add(1_442_695_040_888_963_407);
+                state = crate::lcg64_step(state);
                 *x = values[((state >> 33) % 5) as usize];
             }
             sort_ascending(&mut w);
@@ -527,9 +521,7 @@ mod tests {
         let mut y = f32::NAN;
         let mut state = 11_u64;
         for i in 0..20_000 {
-            state = state
-                .wrapping_mul(6_364_136_223_846_793_005)
-                .wrapping_add(1_442_695_040_888_963_407);
+            state = crate::lcg64_step(state);
             let x = match (state >> 33) % 5 {
                 0 => f32::MAX,
                 1 => -f32::MAX,

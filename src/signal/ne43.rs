@@ -90,9 +90,7 @@ mod tests {
         }
         let mut state = 9_u64;
         for _ in 0..200_000 {
-            state = state
-                .wrapping_mul(6_364_136_223_846_793_005)
-                .wrapping_add(1_442_695_040_888_963_407);
+            state = crate::lcg64_step(state);
             check(f32::from_bits((state >> 32) as u32));
             check(f64::from_bits(state));
         }

@@ -409,9 +409,7 @@ mod tests {
         let mut state = 23_u64;
         let mut held_seen = 0;
         for i in 0..50_000 {
-            state = state
-                .wrapping_mul(6_364_136_223_846_793_005)
-                .wrapping_add(1_442_695_040_888_963_407);
+            state = crate::lcg64_step(state);
             let raw = match (state >> 33) % 16 {
                 0 => f32::NAN,
                 1 => 2.0,

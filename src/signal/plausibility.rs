@@ -224,9 +224,7 @@ mod tests {
             let (mut a, mut b) = (Plausibility::<f32, 4>::new(), Plausibility::<f32, 4>::new());
             let mut state = 17_u64;
             for i in 0..20_000 {
-                state = state
-                    .wrapping_mul(6_364_136_223_846_793_005)
-                    .wrapping_add(1_442_695_040_888_963_407);
+                state = crate::lcg64_step(state);
                 let v = match (state >> 33) % 9 {
                     0 => low,
                     1 => 90.0,
@@ -254,9 +252,7 @@ mod tests {
         for _ in 0..5000 {
             let mut w = [0.0_f32; 8];
             for x in w.iter_mut() {
-                state = state
-                    .wrapping_mul(6_364_136_223_846_793_005)
-                    .wrapping_add(1_442_695_040_888_963_407);
+                state = crate::lcg64_step(state);
                 *x = 100.0 + ((state >> 40) % 9) as f32 * 0.25;
             }
             let v = 100.5_f32;
