@@ -885,6 +885,17 @@ mod tests {
     /// random ratios (1.02 to 1000), k, Z, R and suction temperatures.
     #[test]
     fn halving_references_equal_the_two_exponential_ones() {
+        // With `approx-math` the f32 `exp` is micromath's, whose own error
+        // (against the f64 reference) the one-exponential form carries into
+        // e^s - 1, where two exponentials partly cancel theirs: a looser
+        // slack there (measured: worse by at most 2.4e-3, halving form 3.1e-3
+        // from the f64 value, inside that build's 5e-2 specific-work
+        // tolerance).
+        const SLACK: f64 = if cfg!(feature = "approx-math") {
+            5e-3
+        } else {
+            2e-6
+        };
         let mut next = crate::xorshift32(0x5eed_c001);
         let mut unit = || f64::from(next()) / f64::from(u32::MAX);
         let mut worst = (0.0_f64, 0.0_f64);
@@ -922,7 +933,7 @@ mod tests {
                 // exponentials (whose own error near a ratio of one is
                 // larger than that).
                 assert!(
-                    rel(single) <= rel(single_ref) + 2e-6,
+                    rel(single) <= rel(single_ref) + SLACK,
                     "{ratio} {k} {stages}: {} {}",
                     rel(single),
                     rel(single_ref)

@@ -1195,6 +1195,13 @@ mod tests {
                 worst = worst.max((f64::from(a.value) - b.value).abs() / b.value);
             }
         }
-        assert!(worst > 0.0 && worst < 2.0e-4, "worst {worst}");
+        // With `approx-math` (micromath's ln and exp in the f32 build):
+        // measured 2.01e-4.
+        let bound = if cfg!(feature = "approx-math") {
+            5.0e-4
+        } else {
+            2.0e-4
+        };
+        assert!(worst > 0.0 && worst < bound, "worst {worst}");
     }
 }
