@@ -6,7 +6,6 @@
 //! allocates, never panics and runs bounded loops over `N` stages and `W`
 //! window samples.
 
-use crate::compression::isentropic_exponent_term;
 use crate::cooler::{evaluate_cooler_bounded, CoolerConfig, CoolerInputs, CoolerResult};
 use crate::error::{check_positive, check_range, ConfigError, Problem};
 use crate::gas::GasModel;
@@ -19,8 +18,8 @@ use crate::stage::compressor::{
 };
 use crate::stage::{evaluate_pump_within, CompressorResult, PumpResult};
 use crate::staging::{
-    equal_ratio_fraction, equal_ratio_stage_ratio_from_log, isothermal_reference_quality,
-    InterstagePressure, Sum, TrainTotals,
+    equal_ratio_fraction, equal_ratio_stage_ratio_from_log, isentropic_references_halving,
+    isothermal_reference_quality, InterstagePressure, Sum, TrainTotals,
 };
 use crate::steady::{SteadyState, SteadyStateConfig, SteadyStateDetector};
 use crate::units::{Kelvin, PressureAbs};
@@ -808,143 +807,5 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             totals.staging_saving = Measured::derived(single - ms.value, q_ref.worst(ms.quality));
         }
         self.snapshot.totals = totals;
-    }
-}
-
-/// [`crate::staging::isentropic_references_from_log`] (the same staged reference bit for
-/// bit: ln r · 1/stages equals ln r / stages exactly for a power of two,
-/// and the head's factors are formed in the same order; `inverse` =
-/// 1/`stages`), with one exponential instead of two for a power-of-two
-/// number of compressor stages up to 8 where the pressure ratio is not
-/// close to one (else the same single-stage reference bit for bit too).
-/// The single-stage one then uses
-/// r^m - 1 = e^s - 1 with e = r^(m/s), s = `stages` = 2^j, and the
-/// factorisation e^s - 1 = (e - 1)·(e + 1)·(e² + 1)···(e^(s/2) + 1) (an
-/// algebraic identity): its error is that of e relative to e - 1 (e - 1
-/// itself is exact for e up to 2, Sterbenz's lemma) plus a few roundings,
-/// so it is used from e - 1 = 1/16 on (there at most about 17 roundings of
-/// e; below, the single-stage exponential as before, bit for bit). A
-/// rounding change only: never more than 2e-6 relative above the
-/// two-exponential form's error (unit test below), inside
-/// `tolerance::SPECIFIC_WORK`.
-#[inline(always)]
-fn isentropic_references_halving<T: Real>(
-    z: T,
-    gas_constant: T,
-    t1: T,
-    ln_overall: T,
-    k: T,
-    stages: u8,
-    inverse: T,
-) -> (T, T) {
-    let m = isentropic_exponent_term(k);
-    let zrt = z * gas_constant * t1;
-    let s = T::from_u32(u32::from(stages));
-    let halving = stages.is_power_of_two() && stages <= 8;
-    // ln r / stages: exactly ln r · 1/stages for a power of two.
-    let stage_log = if halving {
-        ln_overall * inverse
-    } else {
-        ln_overall / s
-    };
-    let e = T::exp(m * stage_log);
-    let e_minus_one = e - T::ONE;
-    // Near a ratio of one, e - 1 cancels: its relative error (that of e
-    // over e - 1) would pass to the single-stage reference `stages` times
-    // magnified. From e - 1 = 1/16 on it is at most about 17 roundings of
-    // e; below, the single-stage exponential of its own, as before.
-    let single_factor = if halving && T::greater_not_nan(e_minus_one, T::of(0.0625)) {
-        let mut factor = e_minus_one;
-        let mut power = e;
-        let mut left = stages;
-        while left > 1 {
-            factor = factor * (power + T::ONE);
-            power = power * power;
-            left >>= 1;
-        }
-        factor
-    } else {
-        T::exp(m * ln_overall) - T::ONE
-    };
-    let single = zrt * single_factor / m;
-    let staged = s * (zrt * e_minus_one / m);
-    (single, staged)
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-    use crate::staging::isentropic_references_from_log;
-
-    /// Consistency check (the project's own isentropic references, two
-    /// forms, against their f64 evaluation from the same f32 inputs): the
-    /// one-exponential form gives the staged reference bit for bit for
-    /// every stage count, the single-stage one too for stage counts that
-    /// are not a power of two up to 8, and for those never more than 2e-6
-    /// (relative) less accurate than the two-exponential form, over seeded
-    /// random ratios (1.02 to 1000), k, Z, R and suction temperatures.
-    #[test]
-    fn halving_references_equal_the_two_exponential_ones() {
-        // With `approx-math` the f32 `exp` is micromath's, whose own error
-        // (against the f64 reference) the one-exponential form carries into
-        // e^s - 1, where two exponentials partly cancel theirs: a looser
-        // slack there (measured: worse by at most 2.4e-3, halving form 3.1e-3
-        // from the f64 value, inside that build's 5e-2 specific-work
-        // tolerance).
-        const SLACK: f64 = if cfg!(feature = "approx-math") {
-            5e-3
-        } else {
-            2e-6
-        };
-        let mut next = crate::xorshift32(0x5eed_c001);
-        let mut unit = || f64::from(next()) / f64::from(u32::MAX);
-        let mut worst = (0.0_f64, 0.0_f64);
-        let mut worse_by = 0.0_f64;
-        for _ in 0..20_000 {
-            let ratio = 10f64.powf(0.0086 + 2.99 * unit()) as f32;
-            let k = (1.05 + 0.62 * unit()) as f32;
-            let t1 = (250.0 + 150.0 * unit()) as f32;
-            let z = (0.8 + 0.2 * unit()) as f32;
-            let r = (100.0 + 400.0 * unit()) as f32;
-            let ln = <f32 as Real>::ln(ratio);
-            for stages in [1_u8, 2, 3, 4, 5, 6, 8, 16] {
-                let inverse = 1.0 / f32::from(stages);
-                let (single, staged) =
-                    isentropic_references_halving(z, r, t1, ln, k, stages, inverse);
-                let (single_ref, staged_ref) =
-                    isentropic_references_from_log(z, r, t1, ln, k, u32::from(stages));
-                assert_eq!(
-                    staged.to_bits(),
-                    staged_ref.to_bits(),
-                    "{ratio} {k} {stages}"
-                );
-                let (exact, _) = isentropic_references_from_log(
-                    f64::from(z),
-                    f64::from(r),
-                    f64::from(t1),
-                    f64::from(ln),
-                    f64::from(k),
-                    u32::from(stages),
-                );
-                let rel = |x: f32| ((f64::from(x) - exact) / exact).abs();
-                worst = (worst.0.max(rel(single)), worst.1.max(rel(single_ref)));
-                worse_by = worse_by.max(rel(single) - rel(single_ref));
-                // Never more than 2e-6 (relative) worse than two
-                // exponentials (whose own error near a ratio of one is
-                // larger than that).
-                assert!(
-                    rel(single) <= rel(single_ref) + SLACK,
-                    "{ratio} {k} {stages}: {} {}",
-                    rel(single),
-                    rel(single_ref)
-                );
-            }
-        }
-        std::println!(
-            "worst relative error: halving {:.2e}, two exponentials {:.2e}, worse by at most {:.2e}",
-            worst.0,
-            worst.1,
-            worse_by
-        );
     }
 }
