@@ -228,7 +228,7 @@ impl<T: Real> StageThresholds<T> {
     /// The thresholds of `limits` (the same values bit for bit, except
     /// that a NaN of limits not validated becomes the infinity that gives
     /// the same results in the stage's compares of values that are not NaN:
-    /// they can then be decided on the bit patterns, see [`less`]).
+    /// they can then be decided on the bit patterns, see [`Real::less_not_nan`]).
     #[inline]
     pub(crate) fn of(limits: &Limits<T>) -> Self {
         let or_if_nan = |x: T, instead: T| {
