@@ -444,10 +444,10 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             };
             upstream_flow = flow;
             *out = StageSi {
-                p1: limits.pressure_valid(s.suction_pressure.map(PressureAbs::pa)),
-                t1: limits.temperature_valid(s.suction_temperature.map(Kelvin::kelvin)),
-                p2: limits.pressure_valid(s.discharge_pressure.map(PressureAbs::pa)),
-                t2: limits.temperature_valid(s.discharge_temperature.map(Kelvin::kelvin)),
+                p1: limits.pressure_reading(s.suction_pressure.map(PressureAbs::pa)),
+                t1: limits.temperature_reading(s.suction_temperature.map(Kelvin::kelvin)),
+                p2: limits.pressure_reading(s.discharge_pressure.map(PressureAbs::pa)),
+                t2: limits.temperature_reading(s.discharge_temperature.map(Kelvin::kelvin)),
                 flow,
                 flow_measured,
                 z: s.compressibility.map(compressibility),
