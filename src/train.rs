@@ -637,6 +637,12 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         let si = &self.si;
         let nc = self.compressor_stages;
         let mut totals = TrainTotals::bad(nc);
+        // The sums without counts: the train has `nc` compressor stages, at
+        // least one (`validate_stages`), each a `StageWork::Compressor` slot
+        // (set at construction from the same configuration), so each
+        // compressor sum has `nc` terms and its total is never the
+        // placeholder of an empty sum ([`Sum::get`]); the pumps are the
+        // other `N - nc` stages.
         let mut work = Sum::new();
         let mut comp_power = Sum::new();
         let mut pump_power = Sum::new();
@@ -648,26 +654,31 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 StageWork::Compressor(c) => {
                     // The stage's Z input, whatever its evaluation reached
                     // (not the placeholder of an early return).
-                    z_sum.add(match s.z {
+                    z_sum.add_term(match s.z {
                         Some(z) => z,
                         None => Measured::good(configured_z),
                     });
-                    work.add(c.actual_work);
-                    comp_power.add(c.gas_power);
-                    staged_s.add(c.isentropic_head);
+                    work.add_term(c.actual_work);
+                    comp_power.add_term(c.gas_power);
+                    staged_s.add_term(c.isentropic_head);
                 }
-                StageWork::Pump(p) => pump_power.add(p.power),
+                StageWork::Pump(p) => pump_power.add_term(p.power),
             }
         }
-        totals.compressor_work = work.get();
-        totals.compressor_power = comp_power.get();
-        totals.pump_power = pump_power.get();
+        let pumps = usize::from(nc) < N;
+        totals.compressor_work = work.total();
+        totals.compressor_power = comp_power.total();
+        totals.pump_power = if pumps {
+            pump_power.total()
+        } else {
+            Measured::bad()
+        };
         let mut all_power = comp_power;
-        if pump_power.count > 0 {
-            all_power.add(pump_power.get());
+        if pumps {
+            all_power.add_term(pump_power.total());
         }
-        totals.total_power = all_power.get();
-        totals.measured_staged_isentropic_work = staged_s.get();
+        totals.total_power = all_power.total();
+        totals.measured_staged_isentropic_work = staged_s.total();
 
         let last = usize::from(nc).saturating_sub(1);
         self.snapshot.interstage = [None; N];
@@ -733,7 +744,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         // Finite without a test (both pressures in the validated limits,
         // so at most 1e10 / 1e-3) and usable here: `derived` would keep it.
         totals.overall_pressure_ratio = Measured::new(ratio, q_ratio);
-        let z_mean = z_sum.get();
+        let z_mean = z_sum.total();
         let q_ref = q_ratio
             .worst(first.t1.quality)
             .worst(z_mean.quality)
@@ -750,11 +761,10 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         // exact and the product equals the quotient bit for bit (both the
         // correctly rounded z/nc): a multiplication instead of a division
         // where both are library calls (Cortex-M0).
-        let count = z_sum.count.max(1);
-        let z_mean = if !HARD_FLOAT && count == nc && nc.is_power_of_two() {
+        let z_mean = if !HARD_FLOAT && nc.is_power_of_two() {
             z_mean.value * self.equal_ratio_exponent
         } else {
-            z_mean.value / T::of(f64::from(count))
+            z_mean.value / T::of(f64::from(nc))
         };
         let props = self
             .config
