@@ -666,19 +666,32 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             }
         }
         let pumps = usize::from(nc) < N;
-        totals.compressor_work = work.total();
-        totals.compressor_power = comp_power.total();
-        totals.pump_power = if pumps {
-            pump_power.total()
+        if HARD_FLOAT && T::all_finite(&[work.value, comp_power.value, staged_s.value]) {
+            // One finiteness test for the three (the common case; with an
+            // FPU, where `Real::all_finite` is one sum, else no saving):
+            // each sum is then graded by its quality alone, as `Sum::total`
+            // would.
+            let graded = |sum: Sum<T>| match sum.quality {
+                Quality::Good | Quality::Uncertain => Measured::new(sum.value, sum.quality),
+                _ => sum.total(),
+            };
+            totals.compressor_work = graded(work);
+            totals.compressor_power = graded(comp_power);
+            totals.measured_staged_isentropic_work = graded(staged_s);
         } else {
-            Measured::bad()
-        };
-        let mut all_power = comp_power;
-        if pumps {
-            all_power.add_term(pump_power.total());
+            totals.compressor_work = work.total();
+            totals.compressor_power = comp_power.total();
+            totals.measured_staged_isentropic_work = staged_s.total();
         }
-        totals.total_power = all_power.total();
-        totals.measured_staged_isentropic_work = staged_s.total();
+        if pumps {
+            totals.pump_power = pump_power.total();
+            let mut all_power = comp_power;
+            all_power.add_term(totals.pump_power);
+            totals.total_power = all_power.total();
+        } else {
+            // Without pumps the total is the compressor sum's.
+            totals.total_power = totals.compressor_power;
+        }
 
         let last = usize::from(nc).saturating_sub(1);
         self.snapshot.interstage = [None; N];
@@ -789,11 +802,27 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             t1,
             Some(z_mean),
         );
-        totals.isothermal_work =
-            Measured::derived(iso, q_ref.worst(isothermal_reference_quality(iso_validity)));
-        totals.single_stage_isentropic_work = Measured::derived(single, q_ref);
-        totals.ideal_staged_isentropic_work = Measured::derived(staged, q_ref);
-        totals.ideal_staging_saving = Measured::derived(single - staged, q_ref);
+        let q_iso = q_ref.worst(isothermal_reference_quality(iso_validity));
+        let ideal_saving = single - staged;
+        if HARD_FLOAT && T::all_finite(&[iso, single, staged, ideal_saving]) {
+            // One finiteness test for the four (the common case, with an
+            // FPU as above): with a
+            // usable `q_ref` and finite values, `Measured::derived` keeps
+            // each value with its quality; the isothermal one is graded by
+            // its quality alone.
+            totals.isothermal_work = match q_iso {
+                Quality::Good | Quality::Uncertain => Measured::new(iso, q_iso),
+                _ => Measured::derived(iso, q_iso),
+            };
+            totals.single_stage_isentropic_work = Measured::new(single, q_ref);
+            totals.ideal_staged_isentropic_work = Measured::new(staged, q_ref);
+            totals.ideal_staging_saving = Measured::new(ideal_saving, q_ref);
+        } else {
+            totals.isothermal_work = Measured::derived(iso, q_iso);
+            totals.single_stage_isentropic_work = Measured::derived(single, q_ref);
+            totals.ideal_staged_isentropic_work = Measured::derived(staged, q_ref);
+            totals.ideal_staging_saving = Measured::derived(ideal_saving, q_ref);
+        }
         let w = totals.compressor_work;
         // A usable work is finite; a NaN `eta` (a NaN `iso`) gives a bad
         // efficiency whatever `q` is (`Measured::derived`).
