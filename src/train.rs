@@ -443,15 +443,15 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 None => (upstream_flow, false),
             };
             upstream_flow = flow;
-            *out = StageSi {
-                p1: limits.pressure_reading(s.suction_pressure.map(PressureAbs::pa)),
-                t1: limits.temperature_reading(s.suction_temperature.map(Kelvin::kelvin)),
-                p2: limits.pressure_reading(s.discharge_pressure.map(PressureAbs::pa)),
-                t2: limits.temperature_reading(s.discharge_temperature.map(Kelvin::kelvin)),
-                flow,
-                flow_measured,
-                z: s.compressibility.map(compressibility),
-            };
+            // Field by field (every field written): each reading stored as
+            // soon as it is checked, so few values are live at once.
+            out.p1 = limits.pressure_reading(s.suction_pressure.map(PressureAbs::pa));
+            out.t1 = limits.temperature_reading(s.suction_temperature.map(Kelvin::kelvin));
+            out.p2 = limits.pressure_reading(s.discharge_pressure.map(PressureAbs::pa));
+            out.t2 = limits.temperature_reading(s.discharge_temperature.map(Kelvin::kelvin));
+            out.flow = flow;
+            out.flow_measured = flow_measured;
+            out.z = s.compressibility.map(compressibility);
         }
     }
 
