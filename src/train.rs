@@ -692,11 +692,23 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             // Without pumps the total is the compressor sum's.
             totals.total_power = totals.compressor_power;
         }
+        // The sums are final: stored now, so that they are not held across
+        // the logarithm and exponentials below (the other fields are
+        // stored by `store_references` on every way out).
+        let out = &mut self.snapshot.totals;
+        out.compressor_stages = nc;
+        out.compressor_work = totals.compressor_work;
+        out.compressor_power = totals.compressor_power;
+        out.pump_power = totals.pump_power;
+        out.total_power = totals.total_power;
+        out.measured_staged_isentropic_work = totals.measured_staged_isentropic_work;
+        let w = totals.compressor_work;
+        let ms = totals.measured_staged_isentropic_work;
 
         let last = usize::from(nc).saturating_sub(1);
         self.snapshot.interstage = [None; N];
         let (Some(first), Some(last_c)) = (si.first(), si.get(last)) else {
-            self.snapshot.totals = totals;
+            store_references(&mut self.snapshot.totals, &totals);
             return;
         };
         let q_ratio = first.p1.quality.worst(last_c.p2.quality);
@@ -751,7 +763,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             *out = Some(entry);
         }
         if !optimum_ok {
-            self.snapshot.totals = totals;
+            store_references(&mut self.snapshot.totals, &totals);
             return;
         }
         // Finite without a test (both pressures in the validated limits,
@@ -763,7 +775,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             .worst(z_mean.quality)
             .worst(self.config.gas.fit_quality(first.t1.value, first.t1.value));
         if !q_ref.is_usable() {
-            self.snapshot.totals = totals;
+            store_references(&mut self.snapshot.totals, &totals);
             return;
         }
         let t1 = first.t1.value;
@@ -823,7 +835,6 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             totals.ideal_staged_isentropic_work = Measured::derived(staged, q_ref);
             totals.ideal_staging_saving = Measured::derived(ideal_saving, q_ref);
         }
-        let w = totals.compressor_work;
         // A usable work is finite; a NaN `eta` (a NaN `iso`) gives a bad
         // efficiency whatever `q` is (`Measured::derived`).
         if w.quality.is_usable() && T::greater_not_nan(w.value, T::ZERO) {
@@ -841,10 +852,22 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 totals.isothermal_work.quality.worst(w.quality).worst(q),
             );
         }
-        let ms = totals.measured_staged_isentropic_work;
         if ms.quality.is_usable() {
             totals.staging_saving = Measured::derived(single - ms.value, q_ref.worst(ms.quality));
         }
-        self.snapshot.totals = totals;
+        store_references(&mut self.snapshot.totals, &totals);
     }
+}
+
+/// Stores the totals' fields other than the sums (which
+/// `Train::evaluate_totals` stores as soon as they are final).
+#[inline(always)]
+fn store_references<T: Real>(out: &mut TrainTotals<T>, t: &TrainTotals<T>) {
+    out.overall_pressure_ratio = t.overall_pressure_ratio;
+    out.isothermal_work = t.isothermal_work;
+    out.isothermal_efficiency = t.isothermal_efficiency;
+    out.single_stage_isentropic_work = t.single_stage_isentropic_work;
+    out.ideal_staged_isentropic_work = t.ideal_staged_isentropic_work;
+    out.staging_saving = t.staging_saving;
+    out.ideal_staging_saving = t.ideal_staging_saving;
 }
