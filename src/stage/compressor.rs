@@ -361,14 +361,6 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
 
     // Values, each from what it uses.
     let ratio = p2.value / p1.value;
-    if p_ok {
-        done |= 1 << 0;
-        out.pressure_ratio.value = ratio;
-    }
-    if flow.quality.is_usable() {
-        done |= 1 << 10;
-        out.mass_flow.value = flow.value;
-    }
     // The gas-model states: at the measured end states; without a usable
     // T1 at a nominal temperature (only a temperature-independent model's
     // outputs can then be good, and the rule sees to that).
@@ -379,10 +371,6 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     // values so that an inlined model's own T2 − T1 is the same expression
     // and computed once (on a soft-float device a library call saved).
     let dt = t2_path - t1_path;
-    if t1_ok && t2_ok {
-        done |= 1 << 2;
-        out.temperature_rise.value = dt;
-    }
     let fit = gas.fit_quality(t1_path, t2_path);
     let ratio_ok = p_ok && T::is_finite(ratio);
     let compressing = ratio_ok && T::less_not_nan(T::ONE, ratio);
@@ -455,6 +443,18 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
             settle_usable(out, uncertain);
             return;
         }
+    }
+    if p_ok {
+        done |= 1 << 0;
+        out.pressure_ratio.value = ratio;
+    }
+    if flow.quality.is_usable() {
+        done |= 1 << 10;
+        out.mass_flow.value = flow.value;
+    }
+    if t1_ok && t2_ok {
+        done |= 1 << 2;
+        out.temperature_rise.value = dt;
     }
     // The model's validity counts only where its states were evaluated at
     // usable inputs (a check that cannot be evaluated downgrades nothing:
