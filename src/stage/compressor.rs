@@ -262,8 +262,8 @@ pub(crate) struct StageUses {
     /// The outputs an uncertain [`check::MODEL`] and an uncertain
     /// [`check::MODEL_DISCHARGE`] make uncertain (bit i = i-th output):
     /// the common not-good checks of a stage (an ideal gas at high reduced
-    /// pressure), graded with one OR each instead of a pass over their
-    /// bits of the table.
+    /// pressure), graded by the nominal finish ([`nominal_stage`]) with
+    /// one OR each instead of a pass over their bits of the table.
     model_uncertain: [u16; 2],
 }
 
@@ -576,12 +576,9 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     }
     // MODEL: the fitted range of the properties and the gas model's
     // validity at the states used (near-critical, liquid-like, ideal gas at
-    // high reduced pressure, no vapour root). Uncertain ones are kept aside
-    // (bit 0 MODEL, bit 1 MODEL_DISCHARGE): the train's table grades them
-    // with one mask each (below).
-    // (The common uncertain model of a train's stage is graded by
-    // `nominal_stage` with one mask each; here through `g`: the same
-    // grades.)
+    // high reduced pressure, no vapour root). (The common uncertain model
+    // of a train's stage is graded by `nominal_stage` with one mask each;
+    // here through `g`: the same grades.)
     g.check(check::MODEL, fit.worst(iso_validity.quality));
     g.check(check::MODEL_DISCHARGE, discharge_validity);
     if checks.has(CompressorChecks::EXPONENT_IMPLAUSIBLE) {
@@ -625,8 +622,8 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
 /// overwrite, and returns `None`.
 ///
 /// Why the grades are the general path's: no slot is bad or not
-/// applicable, no check fails but the model's (uncertain, graded by
-/// [`StageUses`]'s masks as there), and every output is computed
+/// applicable, no check fails but the model's (uncertain: [`StageUses`]'s
+/// masks, the same grades as through [`Grades`]), and every output is computed
 /// (`done` all set): `OutputGrades::new` has no bad and no not-applicable
 /// output, and an output is uncertain exactly if it uses an uncertain slot
 /// or an uncertain model check.
