@@ -275,16 +275,24 @@ pub fn evaluate_cooler_within<T: Real>(
 
 // The inputs' two-bit quality fields in `evaluate_cooler_bounded`'s packed
 // word (in this order), by their high bit (set: not usable).
-const I_TIN: u32 = 2;
-const I_TOUT: u32 = 2 << 2;
-const I_TC: u32 = 2 << 4;
-const I_TCO: u32 = 2 << 6;
-const I_PIN: u32 = 2 << 8;
-const I_POUT: u32 = 2 << 10;
-const I_FLOW: u32 = 2 << 12;
-const I_MC: u32 = 2 << 14;
-const I_DH: u32 = 2 << 16;
+pub(crate) const I_TIN: u32 = 2;
+pub(crate) const I_TOUT: u32 = 2 << 2;
+pub(crate) const I_TC: u32 = 2 << 4;
+pub(crate) const I_TCO: u32 = 2 << 6;
+pub(crate) const I_PIN: u32 = 2 << 8;
+pub(crate) const I_POUT: u32 = 2 << 10;
+pub(crate) const I_FLOW: u32 = 2 << 12;
+pub(crate) const I_MC: u32 = 2 << 14;
+pub(crate) const I_DH: u32 = 2 << 16;
 const NOT_USABLE: u32 = I_TIN | I_TOUT | I_TC | I_TCO | I_PIN | I_POUT | I_FLOW | I_MC | I_DH;
+/// `q` as the two-bit field `input` of the packed word (`input` is the
+/// field's `I_*` high bit): the word [`evaluate_cooler_packed`] takes,
+/// built by its caller as each input is produced.
+#[inline(always)]
+pub(crate) const fn packed_quality(q: Quality, input: u32) -> u32 {
+    (q as u32) * (input >> 1)
+}
+
 /// Both bits of the eight inputs that are dependency slots (all but the
 /// enthalpy drop, which enters through the duty's checks).
 const SLOT_INPUTS: u32 = (1 << 16) - 1;
@@ -353,6 +361,35 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
         .iter()
         .enumerate()
         .fold(0u32, |a, (i, &q)| a | (q as u32) << (2 * i));
+    evaluate_cooler_packed::<T, BOUNDED>(inp, packed, limits, cp_inputs, cp_fit, out);
+}
+
+/// [`evaluate_cooler_bounded`] with the inputs' qualities given as its
+/// packed word (`packed`: the [`packed_quality`] of every input; their
+/// qualities in `inp` are not read), which the train builds as it
+/// validates each input: one register then, not nine live qualities.
+#[inline(always)]
+pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
+    inp: &CoolerInputs<T>,
+    packed: u32,
+    limits: &Limits<T>,
+    cp_inputs: PropertyInputs,
+    cp_fit: Quality,
+    out: &mut CoolerResult<T>,
+) {
+    let (tin, tout, tc, tco) = (
+        inp.gas_inlet_temperature.value,
+        inp.gas_outlet_temperature.value,
+        inp.coolant_inlet_temperature.value,
+        inp.coolant_outlet_temperature.value,
+    );
+    let (pin, pout, flow, mc) = (
+        inp.gas_inlet_pressure.value,
+        inp.gas_outlet_pressure.value,
+        inp.gas_mass_flow.value,
+        inp.coolant_mass_flow.value,
+    );
+    let dh = inp.gas_enthalpy_drop.value;
     let unusable = packed & NOT_USABLE;
     let ok = |inputs: u32| unusable & inputs == 0;
     let noise = limits.temperature_noise;
@@ -393,19 +430,19 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
     // output: one not computed is bad, which uncertain does not change).
     // Bounded, unusable values are the boundary's zero, so every
     // difference is finite and the ordered compares apply.
-    let dp = pin.value - pout.value;
-    let relative_dp = dp / pin.value;
-    let drop = tin.value - tout.value;
+    let dp = pin - pout;
+    let relative_dp = dp / pin;
+    let drop = tin - tout;
     // Also the LMTD's cold-end difference (one subtraction for both).
-    let approach = tout.value - tc.value;
-    let span = tin.value - tc.value;
-    let rise = tco.value - tc.value;
+    let approach = tout - tc;
+    let span = tin - tc;
+    let rise = tco - tc;
     let eff = drop / span;
     // Duty from the gas model's enthalpy drop (its quality: the model's
     // validity at the two states and the supplied Z); a model outside its
     // fitted or valid range makes the duty and what uses it suspect, no
     // valid state makes them bad.
-    let duty = flow.value * dh.value;
+    let duty = flow * dh;
     // The field-local checks (each counts for its output where that is
     // computed, which implies the inputs the check reads are usable): a
     // negative pressure drop; the outlet above the inlet; the outlet below
@@ -418,7 +455,7 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
     let within_noise = !outlet_above_inlet && lt(drop, noise);
     let below_coolant = lt(approach, -noise);
     let no_span = !lt(T::of(MIN_EFFECTIVENESS_SPAN_K), span);
-    let stationary = !lt(limits.stationary_flow, flow.value);
+    let stationary = !lt(limits.stationary_flow, flow);
     // `0 <= eff <= 1` (false for NaN); without an FPU on the bits
     // ([`Real::within_nonnegative`], exact for every value, NaN and -0.0
     // included: no library call).
@@ -427,7 +464,7 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
     } else {
         T::within_nonnegative(eff, T::ZERO, T::ONE)
     };
-    let cp_suspect = cp_fit.worst(dh.quality) != Quality::Good;
+    let cp_suspect = cp_fit != Quality::Good || packed & (3 * (I_DH >> 1)) != 0;
     let weak_duty = within_noise || cp_suspect;
     let flag = |c: bool, bits: u16| if c { bits } else { 0 };
     let suspect = flag(lt(dp, T::ZERO), F_DP | F_REL_DP)
@@ -457,7 +494,7 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
         & !flag(!T::is_finite(duty), F_DUTY | F_UA | F_BALANCE);
     let (mut lmtd, mut ua, mut balance) = (T::ZERO, T::ZERO, T::ZERO);
     if done & F_LMTD != 0 {
-        let dt_hot = tin.value - tco.value;
+        let dt_hot = tin - tco;
         match lmtd_counterflow_ordered::<T, BOUNDED, { !HARD_FLOAT }>(dt_hot, approach) {
             Some(l) => {
                 lmtd = l;
@@ -469,7 +506,7 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
     }
     // The duty is finite here (`done`): not NaN.
     if done & F_BALANCE != 0 && lt(T::ZERO, duty) {
-        let coolant_duty = mc.value * inp.coolant_cp * rise;
+        let coolant_duty = mc * inp.coolant_cp * rise;
         balance = (duty - coolant_duty) / duty;
         done &= !flag(!T::is_finite(balance), F_BALANCE);
     } else {
@@ -539,7 +576,13 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
             slot::COOLANT_FLOW,
         ];
         let mut g = Grades::new();
-        for (s, q) in slots.into_iter().zip(qualities) {
+        for (i, s) in slots.into_iter().enumerate() {
+            let q = match (packed >> (2 * i)) & 3 {
+                0 => Quality::Good,
+                1 => Quality::Uncertain,
+                2 => Quality::Bad,
+                _ => Quality::NotApplicable,
+            };
             g.first_slot(s, q);
         }
         OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect)
