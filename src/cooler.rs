@@ -488,10 +488,14 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
     // effectiveness without a driving difference, no duty that is not
     // finite, and what uses them). A value that is not finite counts as not
     // computed (bad, as the rule says).
+    // The duty's finiteness: with an FPU tested below with the other
+    // results that may overflow, without one here (where LLVM keeps the
+    // test on the bits: measured, no library compare).
+    let duty_users = F_DUTY | F_UA | F_BALANCE;
     let mut done = usable_fields
         & !flag(outlet_above_inlet, F_EFF | F_DUTY | F_UA | F_BALANCE)
         & !flag(no_span, F_EFF)
-        & !flag(!T::is_finite(duty), F_DUTY | F_UA | F_BALANCE);
+        & !flag(!HARD_FLOAT && !T::is_finite(duty), duty_users);
     let (mut lmtd, mut ua, mut balance) = (T::ZERO, T::ZERO, T::ZERO);
     if done & F_LMTD != 0 {
         let dt_hot = tin - tco;
@@ -499,18 +503,32 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
             Some(l) => {
                 lmtd = l;
                 ua = duty / l;
-                done &= !flag(!T::is_finite(l), F_LMTD) & !flag(!T::is_finite(ua), F_UA);
             }
             None => done &= !(F_LMTD | F_UA),
         }
     }
-    // The duty is finite here (`done`): not NaN.
+    // A duty that is not finite (NaN or not) leaves the heat balance out
+    // below, whatever this compare gives.
     if done & F_BALANCE != 0 && lt(T::ZERO, duty) {
         let coolant_duty = mc * inp.coolant_cp * rise;
         balance = (duty - coolant_duty) / duty;
-        done &= !flag(!T::is_finite(balance), F_BALANCE);
     } else {
         done &= !F_BALANCE;
+    }
+    // The results that may not be finite with bounded inputs (the duty: a
+    // product of the model's drop; the others a ratio or logarithm; one
+    // not computed is zero here). With an FPU usually all finite, one test
+    // ([`Real::all_finite`]), then each; without one each (on its bits).
+    let may_overflow = [
+        (duty, if HARD_FLOAT { duty_users } else { 0 }),
+        (lmtd, F_LMTD),
+        (ua, F_UA),
+        (balance, F_BALANCE),
+    ];
+    if !HARD_FLOAT || !T::all_finite(&may_overflow.map(|(v, _)| v)) {
+        for (v, bits) in may_overflow {
+            done &= !flag(!T::is_finite(v), bits);
+        }
     }
     out.gas_temperature_drop.value = drop;
     out.approach.value = approach;
@@ -533,8 +551,9 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
             (relative_dp, F_REL_DP),
             (rise, F_COOLANT_RISE),
         ];
-        // Usually all finite: one test ([`Real::all_finite`]), then each.
-        if !T::all_finite(&values.map(|(v, _)| v)) {
+        // With an FPU usually all finite: one test ([`Real::all_finite`]),
+        // then each; without one each.
+        if !HARD_FLOAT || !T::all_finite(&values.map(|(v, _)| v)) {
             for (v, bit) in values {
                 done &= !flag(!T::is_finite(v), bit);
             }
@@ -1026,7 +1045,13 @@ mod tests {
                 let pout = pin * (1.0 + pick(&mut next, &[-0.05, -0.01, 0.0, 0.002]));
                 let flow = pick(&mut next, &[0.0, still, still * 1.01, 2.0, 30.0]);
                 let mc = pick(&mut next, &[0.0, 3.5, 70.0]);
-                let dh = pick(&mut next, &[-2e4, 0.0, 1e3, 1e5]);
+                // Also a finite drop whose duty overflows.
+                let huge = if T::EPSILON > T::of(1e-10) {
+                    3e38
+                } else {
+                    1e308
+                };
+                let dh = pick(&mut next, &[-2e4, 0.0, 1e3, 1e5, huge, -huge]);
                 let mut m = |v: f64| (v, quality(&mut next));
                 let raw = [
                     m(tin),
