@@ -466,6 +466,20 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         ln_ratio: &mut LnRatio<T>,
         anchor: Option<&mut HeadAnchor<T>>,
     ) -> (Measured<T>, Measured<T>, SurgeFault) {
+        Self::map_point_of::<BITS>(&self.line, &self.exponent, scan, ln_ratio, anchor)
+    }
+
+    /// [`Self::map_point_sharing`] of the monitor's `line` and `exponent`
+    /// borrowed apart (the monitor's update lends its head anchor beside
+    /// them: no copy of the anchor out and back).
+    #[inline(always)]
+    fn map_point_of<const BITS: bool>(
+        line: &SurgeLine<T, N>,
+        exponent: &ExponentEstimator<T>,
+        scan: &SurgeScan<T>,
+        ln_ratio: &mut LnRatio<T>,
+        anchor: Option<&mut HeadAnchor<T>>,
+    ) -> (Measured<T>, Measured<T>, SurgeFault) {
         let ps = scan.suction_pressure.map(|p| p.pa());
         let pd = scan.discharge_pressure.map(|p| p.pa());
         let dp = scan.flow_dp;
@@ -526,7 +540,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         }
         // x is finite (checked above) and xq usable: no `derived` checks.
         let x = Measured::new(x, xq);
-        let sigma = self.exponent.state().sigma;
+        let sigma = exponent.state().sigma;
         if sigma.quality != Quality::Good && fault == SurgeFault::None {
             fault = SurgeFault::Exponent;
         }
@@ -537,16 +551,16 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         // without an FPU its reciprocal is at hand: a multiplication, not a
         // division (a library call of some 170 instructions; with an FPU a
         // division is one instruction, fewer than the test).
-        let line_sigma = T::same_bits(sigma.value, self.line.sigma());
+        let line_sigma = T::same_bits(sigma.value, line.sigma());
         let near = match &anchor {
-            Some(anchor) if line_sigma => anchor.near(ratio, sigma.value, self.line.series()),
+            Some(anchor) if line_sigma => anchor.near(ratio, sigma.value, line.series()),
             _ => None,
         };
         let head = match near {
             Some(head) => head,
             None => {
                 let power = T::exp(sigma.value * ln_ratio.of(ratio));
-                let reciprocal = self.line.reciprocal_sigma();
+                let reciprocal = line.reciprocal_sigma();
                 let head = head_number_from_power(power, sigma.value, reciprocal, line_sigma);
                 if let (Some(anchor), true) = (anchor, line_sigma) {
                     anchor.set(ratio, head, power * reciprocal);
@@ -576,14 +590,35 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         ln_ratio: &mut LnRatio<T>,
         anchor: Option<&mut HeadAnchor<T>>,
     ) -> SurgeState<T> {
-        let (x, y, mut fault) = self.map_point_sharing::<BITS>(scan, ln_ratio, anchor);
+        Self::evaluate_of::<BITS>(
+            &self.line,
+            &self.exponent,
+            scan,
+            added_margin,
+            ln_ratio,
+            anchor,
+        )
+    }
+
+    /// [`Self::evaluate_sharing`] of `line` and `exponent` borrowed apart
+    /// (see [`Self::map_point_of`]).
+    #[inline(always)]
+    fn evaluate_of<const BITS: bool>(
+        line: &SurgeLine<T, N>,
+        exponent: &ExponentEstimator<T>,
+        scan: &SurgeScan<T>,
+        added_margin: T,
+        ln_ratio: &mut LnRatio<T>,
+        anchor: Option<&mut HeadAnchor<T>>,
+    ) -> SurgeState<T> {
+        let (x, y, mut fault) = Self::map_point_of::<BITS>(line, exponent, scan, ln_ratio, anchor);
         if !x.quality.is_usable() || !y.quality.is_usable() {
             return SurgeState {
-                exponent: self.exponent.state(),
+                exponent: exponent.state(),
                 ..SurgeState::bad_because(fault)
             };
         }
-        let look = self.line.lookup_by::<BITS>(y.value);
+        let look = line.lookup_by::<BITS>(y.value);
         if look.quality != Quality::Good && fault == SurgeFault::None {
             fault = SurgeFault::BeyondMap;
         }
@@ -634,7 +669,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             clearance,
             rate_of_approach: Measured::bad(),
             time_to_surge: Measured::bad(),
-            exponent: self.exponent.state(),
+            exponent: exponent.state(),
             fault,
         }
     }
@@ -658,12 +693,16 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         // One `ln r` per scan, shared by σ (measured mode) and the head.
         let mut ln_ratio = LnRatio::new();
         self.update_exponent(scan, dt, &mut ln_ratio);
-        // The head anchor copied out and back (the evaluation borrows the
-        // monitor whole).
-        let mut anchor = self.anchor;
-        let mut state =
-            self.evaluate_sharing::<BITS>(scan, added_margin, &mut ln_ratio, Some(&mut anchor));
-        self.anchor = anchor;
+        // The head anchor lent where it lives (the line and σ borrowed
+        // beside it; copied out and back it was stored every scan).
+        let mut state = Self::evaluate_of::<BITS>(
+            &self.line,
+            &self.exponent,
+            scan,
+            added_margin,
+            &mut ln_ratio,
+            Some(&mut self.anchor),
+        );
         // `gain_dt` is an interval that passed the test below (the scan
         // period at first), so an interval with the same bits passes without
         // testing again (compared as integers: no library call on a
