@@ -220,7 +220,18 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
     /// `M` samples at most uncertain ([`FaultCode::ClockStep`]); a jump ahead
     /// by more than the gap limit (`hold_ms`, or 8 sample periods if longer)
     /// restarts the filters from the new sample.
+    #[inline]
     pub fn update(&mut self, raw: T, t_ms: u32) -> ChannelOutput<T> {
+        *self.update_in_place(raw, t_ms)
+    }
+
+    /// [`Channel::update`] leaving the output only where the channel keeps
+    /// it (what [`Channel::output`] reads) and returning it by reference:
+    /// not built in the caller's frame and copied into the channel, nor
+    /// copied out again by a caller that reads a part of it (a controller's
+    /// scan). Out of line: one copy of the code for all channels.
+    #[inline(never)]
+    pub fn update_in_place(&mut self, raw: T, t_ms: u32) -> &ChannelOutput<T> {
         // Gap limit max(hold_ms, 8 periods, 1 ms).
         let gap_floor_ms = self.gap_floor_ms;
         // The usual stamp first: an advance of 1 ms up to the gap floor (and
@@ -350,7 +361,7 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             },
         };
         self.last = out;
-        out
+        &self.last
     }
 
     /// As [`Channel::update`], and logs a quality transition in `log`.
