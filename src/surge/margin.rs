@@ -466,12 +466,16 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         ln_ratio: &mut LnRatio<T>,
         anchor: Option<&mut HeadAnchor<T>>,
     ) -> (Measured<T>, Measured<T>, SurgeFault) {
-        Self::map_point_of::<BITS>(&self.line, &self.exponent, scan, ln_ratio, anchor)
+        let (x, (head, yq), fault) =
+            Self::map_point_of::<BITS>(&self.line, &self.exponent, scan, ln_ratio, anchor);
+        (x, Measured::derived(head, yq), fault)
     }
 
     /// [`Self::map_point_sharing`] of the monitor's `line` and `exponent`
     /// borrowed apart (the monitor's update lends its head anchor beside
-    /// them: no copy of the anchor out and back).
+    /// them: no copy of the anchor out and back), with the head number as
+    /// its value and quality before [`Measured::derived`] (which the
+    /// evaluation folds into its own test of the head).
     #[inline(always)]
     fn map_point_of<const BITS: bool>(
         line: &SurgeLine<T, N>,
@@ -479,7 +483,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         scan: &SurgeScan<T>,
         ln_ratio: &mut LnRatio<T>,
         anchor: Option<&mut HeadAnchor<T>>,
-    ) -> (Measured<T>, Measured<T>, SurgeFault) {
+    ) -> (Measured<T>, (T, Quality), SurgeFault) {
         let ps = scan.suction_pressure.map(|p| p.pa());
         let pd = scan.discharge_pressure.map(|p| p.pa());
         let dp = scan.flow_dp;
@@ -526,7 +530,11 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             && (within_validity || possible(abs_x))
             && T::within_positive(ratio, T::ONE, largest_finite());
         if !plausible {
-            return (Measured::bad(), Measured::bad(), implausible(ps, pd, dp));
+            return (
+                Measured::bad(),
+                (T::ZERO, Quality::Bad),
+                implausible(ps, pd, dp),
+            );
         }
         let mut fault = if inputs_q == Quality::Good {
             SurgeFault::None
@@ -568,8 +576,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
                 head
             }
         };
-        let y = Measured::derived(head, q.worst(sigma.quality));
-        (x, y, fault)
+        (x, (head, q.worst(sigma.quality)), fault)
     }
 
     /// The margin of one operating point, without history (rate and time to
@@ -611,13 +618,17 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         ln_ratio: &mut LnRatio<T>,
         anchor: Option<&mut HeadAnchor<T>>,
     ) -> SurgeState<T> {
-        let (x, y, mut fault) = Self::map_point_of::<BITS>(line, exponent, scan, ln_ratio, anchor);
-        if !x.quality.is_usable() || !y.quality.is_usable() {
+        let (x, (head, yq), mut fault) =
+            Self::map_point_of::<BITS>(line, exponent, scan, ln_ratio, anchor);
+        // `Measured::derived(head, yq)` is usable exactly when `yq` is and
+        // the head is finite, and then it is `(head, yq)`: one test.
+        if !x.quality.is_usable() || !(yq.is_usable() && T::is_finite(head)) {
             return SurgeState {
                 exponent: exponent.state(),
                 ..SurgeState::bad_because(fault)
             };
         }
+        let y = Measured::new(head, yq);
         let look = line.lookup_by::<BITS>(y.value);
         if look.quality != Quality::Good && fault == SurgeFault::None {
             fault = SurgeFault::BeyondMap;
