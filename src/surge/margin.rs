@@ -622,7 +622,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             Self::map_point_of::<BITS>(line, exponent, scan, ln_ratio, anchor);
         // `Measured::derived(head, yq)` is usable exactly when `yq` is and
         // the head is finite, and then it is `(head, yq)`: one test.
-        if !x.quality.is_usable() || !(yq.is_usable() && T::is_finite(head)) {
+        if !(x.quality.is_usable() && yq.is_usable() && T::is_finite(head)) {
             return SurgeState {
                 exponent: exponent.state(),
                 ..SurgeState::bad_because(fault)
