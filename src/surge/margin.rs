@@ -695,12 +695,46 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
     }
 
     /// [`Self::update`]; `BITS`: see [`BIT_COMPARES`].
+    #[inline(always)]
     fn update_by<const BITS: bool>(
         &mut self,
         scan: &SurgeScan<T>,
         added_margin: T,
         dt: T,
     ) -> &SurgeState<T> {
+        self.update_parts::<BITS>(
+            scan.suction_pressure,
+            scan.discharge_pressure,
+            scan.flow_dp,
+            scan.suction_temperature,
+            scan.discharge_temperature,
+            (added_margin, dt),
+        )
+    }
+
+    /// [`Self::update_by`] with the scan's five readings passed one by one
+    /// (each a value and a quality, in registers and argument slots) and
+    /// `(added_margin, dt)`: out of line, the scan is not built in the
+    /// caller's frame to be read back here (a caller that writes its scan
+    /// just before the call, as a controller's scan does, passes the
+    /// readings straight from where they are kept).
+    #[inline(never)]
+    fn update_parts<const BITS: bool>(
+        &mut self,
+        suction_pressure: Measured<PressureAbs<T>>,
+        discharge_pressure: Measured<PressureAbs<T>>,
+        flow_dp: Measured<T>,
+        suction_temperature: Measured<Kelvin<T>>,
+        discharge_temperature: Measured<Kelvin<T>>,
+        (added_margin, dt): (T, T),
+    ) -> &SurgeState<T> {
+        let scan = &SurgeScan {
+            suction_pressure,
+            discharge_pressure,
+            flow_dp,
+            suction_temperature,
+            discharge_temperature,
+        };
         // One `ln r` per scan, shared by σ (measured mode) and the head.
         let mut ln_ratio = LnRatio::new();
         self.update_exponent(scan, dt, &mut ln_ratio);
