@@ -343,24 +343,27 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         // bad, never not applicable: `Measured::derived`'s finiteness and
         // quality checks would change nothing (measured: 34 instructions per
         // update on Cortex-M4F).
-        let out = ChannelOutput {
-            raw: Measured::new(s.raw, s.quality),
-            filtered: Measured::new(s.filtered, s.quality),
-            status: ChannelStatus {
-                channel: self.config.id,
-                quality: s.quality,
-                fault,
-                substituted: s.held,
-                // A good sample is the last good one (as substitution just
-                // recorded it).
-                last_good_ms: if q == Quality::Good {
-                    t_ms
-                } else {
-                    self.substitution.last_good_ms().unwrap_or(0)
-                },
-            },
+        // Written in place, all but the channel number: the output kept is
+        // `ChannelOutput::bad(config.id)` from construction and every reset
+        // on, and only this writes it, so its channel is `config.id`
+        // already (a load and a store fewer per sample).
+        let last_good_ms = if q == Quality::Good {
+            // A good sample is the last good one (as substitution just
+            // recorded it).
+            t_ms
+        } else {
+            self.substitution.last_good_ms().unwrap_or(0)
         };
-        self.last = out;
+        let last = &mut self.last;
+        last.raw = Measured::new(s.raw, s.quality);
+        last.filtered = Measured::new(s.filtered, s.quality);
+        last.status = ChannelStatus {
+            channel: last.status.channel,
+            quality: s.quality,
+            fault,
+            substituted: s.held,
+            last_good_ms,
+        };
         &self.last
     }
 
