@@ -296,17 +296,6 @@ impl<T: Real> RateFilter<T> {
     }
 }
 
-/// [`Measured::derived`] of a value known to be finite: the same result
-/// without the finiteness test.
-#[inline(always)]
-fn derived_finite<T: Real>(value: T, quality: Quality) -> Measured<T> {
-    match quality {
-        Quality::Good | Quality::Uncertain => Measured::new(value, quality),
-        Quality::Bad => Measured::bad(),
-        Quality::NotApplicable => Measured::not_applicable(),
-    }
-}
-
 /// Why a scan that failed the plausibility checks of
 /// [`SurgeMonitor::map_point`] is bad, in the documented order: an input bad,
 /// not finite or a pressure not positive; `|Δp|/ps` impossible; discharge
@@ -639,8 +628,6 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         // rises from a positive first point; an extension that overflows is
         // a bad lookup); a bad lookup makes the margin bad.
         let xs = look.surge_flow_number;
-        let mq = lq.worst(x.quality);
-        let margin = Measured::derived(signed_margin_root(x.value / xs) - T::ONE, mq);
         // The added margin counts when finite and positive: the line's
         // margin plus `max(added, 0)` as before, except that a zero (or
         // negative, or not finite) one is not added at all, which changes
@@ -660,14 +647,37 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         } else {
             look.control_margin
         };
-        let control = derived_finite(control_value, lq);
-        let clearance = derived_finite(
-            margin.value - control.value,
-            margin.quality.worst(control.quality),
-        );
-        if !margin.quality.is_usable() {
+        // Graded in one pass. `lq` is good, uncertain or bad (the lookup's
+        // quality, the head's usable one), never not applicable, and so is
+        // `mq`, at least as bad as `lq`. A bad lookup makes the margin, the
+        // control margin and the clearance bad (what `Measured::derived` of
+        // each gives). Otherwise the control margin is `(value, lq)`, the
+        // margin `(m, mq)` if finite, else bad (the fault then says so),
+        // and the clearance `m − control` graded as the worse of the two,
+        // which is `mq` (bad with a bad margin).
+        let mq = lq.worst(x.quality);
+        let bad = Measured::bad();
+        let (margin, control, clearance) = if lq == Quality::Bad {
             fault = SurgeFault::InputBad;
-        }
+            (bad, bad, bad)
+        } else {
+            // sign(X)·√|X| / √X_s = sign(X)·√(|X|/X_s): one square root, not
+            // two. X_s > 0 and finite wherever the lookup is usable (a
+            // validated line rises from a positive first point; an extension
+            // that overflows is a bad lookup).
+            let m = signed_margin_root(x.value / xs) - T::ONE;
+            let control = Measured::new(control_value, lq);
+            if T::is_finite(m) {
+                (
+                    Measured::new(m, mq),
+                    control,
+                    Measured::new(m - control_value, mq),
+                )
+            } else {
+                fault = SurgeFault::InputBad;
+                (bad, control, bad)
+            }
+        };
         SurgeState {
             flow_number: x,
             head_number: y,
