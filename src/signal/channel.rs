@@ -354,7 +354,7 @@ impl<T: Real> Scaling<T> {
     /// [`Scaling::scale`] with the fault's quality (`fault.quality()`),
     /// known without classifying the fault again on the usual path (a
     /// current in the measuring band).
-    #[inline]
+    #[inline(always)]
     pub(crate) fn scale_classified(&self, raw: T) -> (T, FaultCode, Quality) {
         let (v, fault) = match self.source {
             // (`ne43::classify`'s first test: its fault is none.)

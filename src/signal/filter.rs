@@ -322,6 +322,29 @@ fn place_in_full<T: Real, const M: usize>(
             }
             return;
         }
+        // Down, in the same form (the first compare, then a loop that
+        // carries the entry moved).
+        if let Some(&first) = j
+            .checked_sub(1)
+            .and_then(|i| s.get(i))
+            .filter(|&&b| less(v, b))
+        {
+            let mut down = first;
+            loop {
+                if let Some(e) = s.get_mut(j) {
+                    *e = down;
+                }
+                j -= 1;
+                match j.checked_sub(1).and_then(|i| s.get(i)) {
+                    Some(&b) if less(v, b) => down = b,
+                    _ => break,
+                }
+            }
+        }
+        if let Some(e) = s.get_mut(j) {
+            *e = v;
+        }
+        return;
     } else {
         while j + 1 < M {
             let up = match s.get(j + 1) {

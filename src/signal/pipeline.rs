@@ -220,7 +220,18 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
     /// `M` samples at most uncertain ([`FaultCode::ClockStep`]); a jump ahead
     /// by more than the gap limit (`hold_ms`, or 8 sample periods if longer)
     /// restarts the filters from the new sample.
+    #[inline]
     pub fn update(&mut self, raw: T, t_ms: u32) -> ChannelOutput<T> {
+        *self.update_in_place(raw, t_ms)
+    }
+
+    /// [`Channel::update`] leaving the output only where the channel keeps
+    /// it (what [`Channel::output`] reads) and returning it by reference:
+    /// not built in the caller's frame and copied into the channel, nor
+    /// copied out again by a caller that reads a part of it (a controller's
+    /// scan). Out of line: one copy of the code for all channels.
+    #[inline(never)]
+    pub fn update_in_place(&mut self, raw: T, t_ms: u32) -> &ChannelOutput<T> {
         // Gap limit max(hold_ms, 8 periods, 1 ms).
         let gap_floor_ms = self.gap_floor_ms;
         // The usual stamp first: an advance of 1 ms up to the gap floor (and
@@ -332,25 +343,28 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
         // bad, never not applicable: `Measured::derived`'s finiteness and
         // quality checks would change nothing (measured: 34 instructions per
         // update on Cortex-M4F).
-        let out = ChannelOutput {
-            raw: Measured::new(s.raw, s.quality),
-            filtered: Measured::new(s.filtered, s.quality),
-            status: ChannelStatus {
-                channel: self.config.id,
-                quality: s.quality,
-                fault,
-                substituted: s.held,
-                // A good sample is the last good one (as substitution just
-                // recorded it).
-                last_good_ms: if q == Quality::Good {
-                    t_ms
-                } else {
-                    self.substitution.last_good_ms().unwrap_or(0)
-                },
-            },
+        // Written in place, all but the channel number: the output kept is
+        // `ChannelOutput::bad(config.id)` from construction and every reset
+        // on, and only this writes it, so its channel is `config.id`
+        // already (a load and a store fewer per sample).
+        let last_good_ms = if q == Quality::Good {
+            // A good sample is the last good one (as substitution just
+            // recorded it).
+            t_ms
+        } else {
+            self.substitution.last_good_ms().unwrap_or(0)
         };
-        self.last = out;
-        out
+        let last = &mut self.last;
+        last.raw = Measured::new(s.raw, s.quality);
+        last.filtered = Measured::new(s.filtered, s.quality);
+        last.status = ChannelStatus {
+            channel: last.status.channel,
+            quality: s.quality,
+            fault,
+            substituted: s.held,
+            last_good_ms,
+        };
+        &self.last
     }
 
     /// As [`Channel::update`], and logs a quality transition in `log`.

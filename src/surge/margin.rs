@@ -296,17 +296,6 @@ impl<T: Real> RateFilter<T> {
     }
 }
 
-/// [`Measured::derived`] of a value known to be finite: the same result
-/// without the finiteness test.
-#[inline(always)]
-fn derived_finite<T: Real>(value: T, quality: Quality) -> Measured<T> {
-    match quality {
-        Quality::Good | Quality::Uncertain => Measured::new(value, quality),
-        Quality::Bad => Measured::bad(),
-        Quality::NotApplicable => Measured::not_applicable(),
-    }
-}
-
 /// Why a scan that failed the plausibility checks of
 /// [`SurgeMonitor::map_point`] is bad, in the documented order: an input bad,
 /// not finite or a pressure not positive; `|Δp|/ps` impossible; discharge
@@ -466,6 +455,24 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         ln_ratio: &mut LnRatio<T>,
         anchor: Option<&mut HeadAnchor<T>>,
     ) -> (Measured<T>, Measured<T>, SurgeFault) {
+        let (x, (head, yq), fault) =
+            Self::map_point_of::<BITS>(&self.line, &self.exponent, scan, ln_ratio, anchor);
+        (x, Measured::derived(head, yq), fault)
+    }
+
+    /// [`Self::map_point_sharing`] of the monitor's `line` and `exponent`
+    /// borrowed apart (the monitor's update lends its head anchor beside
+    /// them: no copy of the anchor out and back), with the head number as
+    /// its value and quality before [`Measured::derived`] (which the
+    /// evaluation folds into its own test of the head).
+    #[inline(always)]
+    fn map_point_of<const BITS: bool>(
+        line: &SurgeLine<T, N>,
+        exponent: &ExponentEstimator<T>,
+        scan: &SurgeScan<T>,
+        ln_ratio: &mut LnRatio<T>,
+        anchor: Option<&mut HeadAnchor<T>>,
+    ) -> (Measured<T>, (T, Quality), SurgeFault) {
         let ps = scan.suction_pressure.map(|p| p.pa());
         let pd = scan.discharge_pressure.map(|p| p.pa());
         let dp = scan.flow_dp;
@@ -512,7 +519,11 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             && (within_validity || possible(abs_x))
             && T::within_positive(ratio, T::ONE, largest_finite());
         if !plausible {
-            return (Measured::bad(), Measured::bad(), implausible(ps, pd, dp));
+            return (
+                Measured::bad(),
+                (T::ZERO, Quality::Bad),
+                implausible(ps, pd, dp),
+            );
         }
         let mut fault = if inputs_q == Quality::Good {
             SurgeFault::None
@@ -526,7 +537,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         }
         // x is finite (checked above) and xq usable: no `derived` checks.
         let x = Measured::new(x, xq);
-        let sigma = self.exponent.state().sigma;
+        let sigma = exponent.state().sigma;
         if sigma.quality != Quality::Good && fault == SurgeFault::None {
             fault = SurgeFault::Exponent;
         }
@@ -537,16 +548,16 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         // without an FPU its reciprocal is at hand: a multiplication, not a
         // division (a library call of some 170 instructions; with an FPU a
         // division is one instruction, fewer than the test).
-        let line_sigma = T::same_bits(sigma.value, self.line.sigma());
+        let line_sigma = T::same_bits(sigma.value, line.sigma());
         let near = match &anchor {
-            Some(anchor) if line_sigma => anchor.near(ratio, sigma.value, self.line.series()),
+            Some(anchor) if line_sigma => anchor.near(ratio, sigma.value, line.series()),
             _ => None,
         };
         let head = match near {
             Some(head) => head,
             None => {
                 let power = T::exp(sigma.value * ln_ratio.of(ratio));
-                let reciprocal = self.line.reciprocal_sigma();
+                let reciprocal = line.reciprocal_sigma();
                 let head = head_number_from_power(power, sigma.value, reciprocal, line_sigma);
                 if let (Some(anchor), true) = (anchor, line_sigma) {
                     anchor.set(ratio, head, power * reciprocal);
@@ -554,8 +565,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
                 head
             }
         };
-        let y = Measured::derived(head, q.worst(sigma.quality));
-        (x, y, fault)
+        (x, (head, q.worst(sigma.quality)), fault)
     }
 
     /// The margin of one operating point, without history (rate and time to
@@ -576,14 +586,39 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         ln_ratio: &mut LnRatio<T>,
         anchor: Option<&mut HeadAnchor<T>>,
     ) -> SurgeState<T> {
-        let (x, y, mut fault) = self.map_point_sharing::<BITS>(scan, ln_ratio, anchor);
-        if !x.quality.is_usable() || !y.quality.is_usable() {
+        Self::evaluate_of::<BITS>(
+            &self.line,
+            &self.exponent,
+            scan,
+            added_margin,
+            ln_ratio,
+            anchor,
+        )
+    }
+
+    /// [`Self::evaluate_sharing`] of `line` and `exponent` borrowed apart
+    /// (see [`Self::map_point_of`]).
+    #[inline(always)]
+    fn evaluate_of<const BITS: bool>(
+        line: &SurgeLine<T, N>,
+        exponent: &ExponentEstimator<T>,
+        scan: &SurgeScan<T>,
+        added_margin: T,
+        ln_ratio: &mut LnRatio<T>,
+        anchor: Option<&mut HeadAnchor<T>>,
+    ) -> SurgeState<T> {
+        let (x, (head, yq), mut fault) =
+            Self::map_point_of::<BITS>(line, exponent, scan, ln_ratio, anchor);
+        // `Measured::derived(head, yq)` is usable exactly when `yq` is and
+        // the head is finite, and then it is `(head, yq)`: one test.
+        if !(x.quality.is_usable() && yq.is_usable() && T::is_finite(head)) {
             return SurgeState {
-                exponent: self.exponent.state(),
+                exponent: exponent.state(),
                 ..SurgeState::bad_because(fault)
             };
         }
-        let look = self.line.lookup_by::<BITS>(y.value);
+        let y = Measured::new(head, yq);
+        let look = line.lookup_by::<BITS>(y.value);
         if look.quality != Quality::Good && fault == SurgeFault::None {
             fault = SurgeFault::BeyondMap;
         }
@@ -593,8 +628,6 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         // rises from a positive first point; an extension that overflows is
         // a bad lookup); a bad lookup makes the margin bad.
         let xs = look.surge_flow_number;
-        let mq = lq.worst(x.quality);
-        let margin = Measured::derived(signed_margin_root(x.value / xs) - T::ONE, mq);
         // The added margin counts when finite and positive: the line's
         // margin plus `max(added, 0)` as before, except that a zero (or
         // negative, or not finite) one is not added at all, which changes
@@ -614,14 +647,37 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
         } else {
             look.control_margin
         };
-        let control = derived_finite(control_value, lq);
-        let clearance = derived_finite(
-            margin.value - control.value,
-            margin.quality.worst(control.quality),
-        );
-        if !margin.quality.is_usable() {
+        // Graded in one pass. `lq` is good, uncertain or bad (the lookup's
+        // quality, the head's usable one), never not applicable, and so is
+        // `mq`, at least as bad as `lq`. A bad lookup makes the margin, the
+        // control margin and the clearance bad (what `Measured::derived` of
+        // each gives). Otherwise the control margin is `(value, lq)`, the
+        // margin `(m, mq)` if finite, else bad (the fault then says so),
+        // and the clearance `m − control` graded as the worse of the two,
+        // which is `mq` (bad with a bad margin).
+        let mq = lq.worst(x.quality);
+        let bad = Measured::bad();
+        let (margin, control, clearance) = if lq == Quality::Bad {
             fault = SurgeFault::InputBad;
-        }
+            (bad, bad, bad)
+        } else {
+            // sign(X)·√|X| / √X_s = sign(X)·√(|X|/X_s): one square root, not
+            // two. X_s > 0 and finite wherever the lookup is usable (a
+            // validated line rises from a positive first point; an extension
+            // that overflows is a bad lookup).
+            let m = signed_margin_root(x.value / xs) - T::ONE;
+            let control = Measured::new(control_value, lq);
+            if T::is_finite(m) {
+                (
+                    Measured::new(m, mq),
+                    control,
+                    Measured::new(m - control_value, mq),
+                )
+            } else {
+                fault = SurgeFault::InputBad;
+                (bad, control, bad)
+            }
+        };
         SurgeState {
             flow_number: x,
             head_number: y,
@@ -634,7 +690,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             clearance,
             rate_of_approach: Measured::bad(),
             time_to_surge: Measured::bad(),
-            exponent: self.exponent.state(),
+            exponent: exponent.state(),
             fault,
         }
     }
@@ -649,21 +705,59 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
     }
 
     /// [`Self::update`]; `BITS`: see [`BIT_COMPARES`].
+    #[inline(always)]
     fn update_by<const BITS: bool>(
         &mut self,
         scan: &SurgeScan<T>,
         added_margin: T,
         dt: T,
     ) -> &SurgeState<T> {
+        self.update_parts::<BITS>(
+            scan.suction_pressure,
+            scan.discharge_pressure,
+            scan.flow_dp,
+            scan.suction_temperature,
+            scan.discharge_temperature,
+            (added_margin, dt),
+        )
+    }
+
+    /// [`Self::update_by`] with the scan's five readings passed one by one
+    /// (each a value and a quality, in registers and argument slots) and
+    /// `(added_margin, dt)`: out of line, the scan is not built in the
+    /// caller's frame to be read back here (a caller that writes its scan
+    /// just before the call, as a controller's scan does, passes the
+    /// readings straight from where they are kept).
+    #[inline(never)]
+    fn update_parts<const BITS: bool>(
+        &mut self,
+        suction_pressure: Measured<PressureAbs<T>>,
+        discharge_pressure: Measured<PressureAbs<T>>,
+        flow_dp: Measured<T>,
+        suction_temperature: Measured<Kelvin<T>>,
+        discharge_temperature: Measured<Kelvin<T>>,
+        (added_margin, dt): (T, T),
+    ) -> &SurgeState<T> {
+        let scan = &SurgeScan {
+            suction_pressure,
+            discharge_pressure,
+            flow_dp,
+            suction_temperature,
+            discharge_temperature,
+        };
         // One `ln r` per scan, shared by σ (measured mode) and the head.
         let mut ln_ratio = LnRatio::new();
         self.update_exponent(scan, dt, &mut ln_ratio);
-        // The head anchor copied out and back (the evaluation borrows the
-        // monitor whole).
-        let mut anchor = self.anchor;
-        let mut state =
-            self.evaluate_sharing::<BITS>(scan, added_margin, &mut ln_ratio, Some(&mut anchor));
-        self.anchor = anchor;
+        // The head anchor lent where it lives (the line and σ borrowed
+        // beside it; copied out and back it was stored every scan).
+        let mut state = Self::evaluate_of::<BITS>(
+            &self.line,
+            &self.exponent,
+            scan,
+            added_margin,
+            &mut ln_ratio,
+            Some(&mut self.anchor),
+        );
         // `gain_dt` is an interval that passed the test below (the scan
         // period at first), so an interval with the same bits passes without
         // testing again (compared as integers: no library call on a

@@ -207,9 +207,11 @@ fn read_stage(
 ) -> SurgeScan<f32> {
     // Chunks of exactly three (`chunks_exact(3)`): the indices fold away
     // once inlined.
-    let ps = ch[0].update(r[0], t_ms);
-    let pd = ch[1].update(r[1], t_ms);
-    let dp = ch[2].update(r[2], t_ms);
+    // Each output read where its channel keeps it (no copy of all of it).
+    for (c, &r) in ch.iter_mut().zip(r).take(3) {
+        c.update_in_place(r, t_ms);
+    }
+    let (ps, pd, dp) = (ch[0].output(), ch[1].output(), ch[2].output());
     stage.suction_pressure = ps.pressure();
     stage.discharge_pressure = pd.pressure();
     SurgeScan {
