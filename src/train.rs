@@ -171,6 +171,32 @@ pub struct Train<T, G, const N: usize, const W: usize> {
     si: [StageSi<T>; N],
 }
 
+impl<T: Real> StageResult<T> {
+    /// The result of `stage` before the first scan: every value bad, the
+    /// steady state unknown. Out of line: one copy of its stores serves
+    /// every stage (configuration-time flash).
+    #[inline(never)]
+    fn before_first_scan(stage: &StageConfig<T>) -> Self {
+        StageResult {
+            work: match stage.kind {
+                StageKind::Compressor => StageWork::Compressor(CompressorResult::bad()),
+                StageKind::Pump { .. } => StageWork::Pump(PumpResult::bad()),
+            },
+            steady_state: SteadyState::unknown(),
+        }
+    }
+}
+
+impl<T: Real> CoolerResult<T> {
+    /// The result of the cooler after `stage` before the first scan: every
+    /// value bad (`None` without a cooler). Out of line, as
+    /// [`StageResult::before_first_scan`].
+    #[inline(never)]
+    fn before_first_scan(stage: &StageConfig<T>) -> Option<Self> {
+        stage.cooler.map(|_| CoolerResult::bad())
+    }
+}
+
 /// Per-stage inputs after the sensor boundary, SI.
 #[derive(Clone, Copy, Debug)]
 struct StageSi<T> {
@@ -353,14 +379,8 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         config.steady_state.validate()?;
         let compressor_stages =
             validate_stages(&config.stages, config.max_interstage_pressure_drop, &limits)?;
-        let stages = config.stages.map(|s| StageResult {
-            work: match s.kind {
-                StageKind::Compressor => StageWork::Compressor(CompressorResult::bad()),
-                StageKind::Pump { .. } => StageWork::Pump(PumpResult::bad()),
-            },
-            steady_state: SteadyState::unknown(),
-        });
-        let coolers = config.stages.map(|s| s.cooler.map(|_| CoolerResult::bad()));
+        let stages = config.stages.map(|s| StageResult::before_first_scan(&s));
+        let coolers = config.stages.map(|s| CoolerResult::before_first_scan(&s));
         let configured_z = config
             .gas
             .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
