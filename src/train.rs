@@ -262,79 +262,11 @@ fn validate_stages<T: Real, const N: usize>(
     let mut seen_pump = false;
     let mut previous_discharge: Option<T> = None;
     for (i, s) in stages.iter().enumerate() {
-        let p1 = s.design_suction_pressure.pa();
-        let p2 = s.design_discharge_pressure.pa();
-        check_positive("stages.design_suction_pressure", p1).map_err(|e| e.at(i))?;
-        // Design pressures inside the sensor boundary (a design point the
-        // boundary would call bad cannot be right).
-        let (lo, hi) = (limits.min_pressure.to_f64(), limits.max_pressure.to_f64());
-        check_range("stages.design_suction_pressure", p1, lo, hi).map_err(|e| e.at(i))?;
-        check_range("stages.design_discharge_pressure", p2, lo, hi).map_err(|e| e.at(i))?;
-        if !(p2 > p1) {
-            return Err(ConfigError::new(
-                "stages.design_discharge_pressure",
-                Problem::NotAbove {
-                    other: "stages.design_suction_pressure",
-                },
-            )
-            .at(i));
-        }
-        if let Some(prev) = previous_discharge {
-            let lowest = prev * (T::ONE - max_drop);
-            if p1 > prev || p1 < lowest {
-                return Err(ConfigError::new(
-                    "stages.design_suction_pressure",
-                    Problem::Inconsistent {
-                        with: "previous stage's design_discharge_pressure and max_interstage_pressure_drop",
-                    },
-                )
-                .at(i));
-            }
-        }
-        previous_discharge = Some(p2);
+        check_stage(s, previous_discharge, seen_pump, max_drop, limits).map_err(|e| e.at(i))?;
+        previous_discharge = Some(s.design_discharge_pressure.pa());
         match s.kind {
-            StageKind::Compressor => {
-                if seen_pump {
-                    return Err(ConfigError::new(
-                        "stages.kind",
-                        Problem::Inconsistent {
-                            with: "a pump before it (pumps may only end a train)",
-                        },
-                    )
-                    .at(i));
-                }
-                compressors = compressors.saturating_add(1);
-            }
-            StageKind::Pump {
-                density,
-                efficiency,
-            } => {
-                seen_pump = true;
-                check_range(
-                    "stages.pump.density",
-                    density,
-                    PUMP_DENSITY_RANGE.0,
-                    PUMP_DENSITY_RANGE.1,
-                )
-                .map_err(|e| e.at(i))?;
-                if !(T::is_finite(efficiency) && efficiency > T::ZERO && efficiency <= T::ONE) {
-                    return Err(if T::is_finite(efficiency) {
-                        ConfigError::out_of_range("stages.pump.efficiency", 0.0, 1.0)
-                    } else {
-                        ConfigError::not_finite("stages.pump.efficiency")
-                    }
-                    .at(i));
-                }
-            }
-        }
-        if let Some(c) = s.cooler {
-            check_range(
-                "stages.cooler.coolant_cp",
-                c.coolant_cp,
-                COOLANT_CP_RANGE.0,
-                COOLANT_CP_RANGE.1,
-            )
-            .map_err(|e| e.at(i))?;
+            StageKind::Compressor => compressors = compressors.saturating_add(1),
+            StageKind::Pump { .. } => seen_pump = true,
         }
     }
     if compressors == 0 {
@@ -346,6 +278,87 @@ fn validate_stages<T: Real, const N: usize>(
         ));
     }
     Ok(compressors)
+}
+
+/// The checks of one stage of [`validate_stages`] (its refusal without the
+/// stage index, which the caller adds): after the stage before it
+/// (`previous_discharge`, its design discharge pressure) and any pump
+/// (`seen_pump`). Out of line: one copy of the checks, however the loop over
+/// the stages is unrolled (configuration-time flash).
+#[inline(never)]
+fn check_stage<T: Real>(
+    s: &StageConfig<T>,
+    previous_discharge: Option<T>,
+    seen_pump: bool,
+    max_drop: T,
+    limits: &Limits<T>,
+) -> Result<(), ConfigError> {
+    let p1 = s.design_suction_pressure.pa();
+    let p2 = s.design_discharge_pressure.pa();
+    check_positive("stages.design_suction_pressure", p1)?;
+    // Design pressures inside the sensor boundary (a design point the
+    // boundary would call bad cannot be right).
+    let (lo, hi) = (limits.min_pressure.to_f64(), limits.max_pressure.to_f64());
+    check_range("stages.design_suction_pressure", p1, lo, hi)?;
+    check_range("stages.design_discharge_pressure", p2, lo, hi)?;
+    if !(p2 > p1) {
+        return Err(ConfigError::new(
+            "stages.design_discharge_pressure",
+            Problem::NotAbove {
+                other: "stages.design_suction_pressure",
+            },
+        ));
+    }
+    if let Some(prev) = previous_discharge {
+        let lowest = prev * (T::ONE - max_drop);
+        if p1 > prev || p1 < lowest {
+            return Err(ConfigError::new(
+                "stages.design_suction_pressure",
+                Problem::Inconsistent {
+                    with: "previous stage's design_discharge_pressure and max_interstage_pressure_drop",
+                },
+            ));
+        }
+    }
+    match s.kind {
+        StageKind::Compressor => {
+            if seen_pump {
+                return Err(ConfigError::new(
+                    "stages.kind",
+                    Problem::Inconsistent {
+                        with: "a pump before it (pumps may only end a train)",
+                    },
+                ));
+            }
+        }
+        StageKind::Pump {
+            density,
+            efficiency,
+        } => {
+            check_range(
+                "stages.pump.density",
+                density,
+                PUMP_DENSITY_RANGE.0,
+                PUMP_DENSITY_RANGE.1,
+            )?;
+            if !(T::is_finite(efficiency) && efficiency > T::ZERO && efficiency <= T::ONE) {
+                return Err(if T::is_finite(efficiency) {
+                    ConfigError::out_of_range("stages.pump.efficiency", 0.0, 1.0)
+                } else {
+                    ConfigError::not_finite("stages.pump.efficiency")
+                });
+            }
+        }
+    }
+    if let Some(c) = s.cooler {
+        check_range(
+            "stages.cooler.coolant_cp",
+            c.coolant_cp,
+            COOLANT_CP_RANGE.0,
+            COOLANT_CP_RANGE.1,
+        )?;
+    }
+    Ok(())
 }
 
 impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> {
