@@ -6,6 +6,8 @@
 //! allocates, never panics and runs bounded loops over `N` stages and `W`
 //! window samples.
 
+use core::mem::MaybeUninit;
+
 use crate::cooler::{evaluate_cooler_bounded, CoolerConfig, CoolerInputs, CoolerResult};
 use crate::error::{check_positive, check_range, ConfigError, Problem};
 use crate::gas::GasModel;
@@ -385,13 +387,38 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         config: TrainConfig<T, G, N>,
         limits: Limits<T>,
     ) -> Result<Self, ConfigError> {
+        let compressor_stages = Self::validate(&config, &limits)?;
+        Ok(Self::build(config, limits, compressor_stages))
+    }
+
+    /// As [`Train::new`], built in place in `slot` (for a device whose RAM
+    /// holds the train once: no copy of it is built on the stack and moved).
+    /// On a refusal `slot` is left as it was.
+    pub fn new_in(
+        slot: &mut MaybeUninit<Self>,
+        config: TrainConfig<T, G, N>,
+    ) -> Result<&mut Self, ConfigError> {
+        let limits = Limits::default();
+        let compressor_stages = Self::validate(&config, &limits)?;
+        Ok(slot.write(Self::build(config, limits, compressor_stages)))
+    }
+
+    /// The checks of [`Train::with_limits`]: the number of compressor
+    /// stages, or the refusal.
+    #[inline(always)]
+    fn validate(config: &TrainConfig<T, G, N>, limits: &Limits<T>) -> Result<u8, ConfigError> {
         const { assert!(N >= 1 && N <= 255, "a train needs 1 to 255 stages") };
         if let Some((field, min, max)) = limits.first_invalid() {
             return Err(ConfigError::out_of_range(field, min, max));
         }
         config.steady_state.validate()?;
-        let compressor_stages =
-            validate_stages(&config.stages, config.max_interstage_pressure_drop, &limits)?;
+        validate_stages(&config.stages, config.max_interstage_pressure_drop, limits)
+    }
+
+    /// The train of a validated `config` (infallible: built where it is
+    /// written).
+    #[inline(always)]
+    fn build(config: TrainConfig<T, G, N>, limits: Limits<T>, compressor_stages: u8) -> Self {
         let stages = config.stages.map(|s| StageResult::before_first_scan(&s));
         let coolers = config.stages.map(|s| CoolerResult::before_first_scan(&s));
         let configured_z = config
@@ -401,7 +428,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         let stage_uses = StageUses::new(config.gas.property_inputs());
         let equal_ratio_exponent = equal_ratio_fraction(u32::from(compressor_stages), 0);
         let stage_thresholds = StageThresholds::of(&limits);
-        Ok(Train {
+        Train {
             config,
             limits,
             configured_z,
@@ -418,7 +445,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 scan_count: 0,
             },
             si: [StageSi::CLEARED; N],
-        })
+        }
     }
 
     /// The validated configuration.

@@ -247,7 +247,9 @@ impl<G: GasModel<f32>> Controller<G> {
         // monitors) has been written.
         unsafe {
             core::ptr::addr_of_mut!((*p).last_ms).write(None);
-            core::ptr::addr_of_mut!((*p).train).write(SectionTrain::new(config)?);
+            // In place (no train-sized copy on the stack, no move code).
+            let train = core::ptr::addr_of_mut!((*p).train).cast::<MaybeUninit<SectionTrain<G>>>();
+            SectionTrain::new_in(&mut *train, config)?;
             let channels = core::ptr::addr_of_mut!((*p).channels).cast::<TransmitterChannel>();
             for i in 0..CHANNELS {
                 channels.add(i).write(channel(i, &ranges)?);
