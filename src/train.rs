@@ -388,7 +388,9 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         limits: Limits<T>,
     ) -> Result<Self, ConfigError> {
         let compressor_stages = Self::validate(&config, &limits)?;
-        Ok(Self::build(config, limits, compressor_stages))
+        let mut train = Self::build(config, limits, compressor_stages);
+        train.reset_snapshot();
+        Ok(train)
     }
 
     /// As [`Train::new`], built in place in `slot` (for a device whose RAM
@@ -400,7 +402,9 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     ) -> Result<&mut Self, ConfigError> {
         let limits = Limits::default();
         let compressor_stages = Self::validate(&config, &limits)?;
-        Ok(slot.write(Self::build(config, limits, compressor_stages)))
+        let train = slot.write(Self::build(config, limits, compressor_stages));
+        train.reset_snapshot();
+        Ok(train)
     }
 
     /// The checks of [`Train::with_limits`]: the number of compressor
@@ -416,11 +420,19 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     }
 
     /// The train of a validated `config` (infallible: built where it is
-    /// written).
+    /// written), its stages' and coolers' results not yet set: every stage
+    /// holds the first stage's initial result and no cooler one until
+    /// [`Train::reset_snapshot`] writes them in place (no array of them
+    /// built on the stack and moved).
     #[inline(always)]
     fn build(config: TrainConfig<T, G, N>, limits: Limits<T>, compressor_stages: u8) -> Self {
-        let stages = config.stages.map(|s| StageResult::before_first_scan(&s));
-        let coolers = config.stages.map(|s| CoolerResult::before_first_scan(&s));
+        let placeholder = config.stages.first().map_or(
+            StageResult {
+                work: StageWork::Compressor(CompressorResult::bad()),
+                steady_state: SteadyState::unknown(),
+            },
+            StageResult::before_first_scan,
+        );
         let configured_z = config
             .gas
             .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
@@ -438,13 +450,30 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             stage_uses,
             detectors: core::array::from_fn(SteadyStateDetector::staggered),
             snapshot: Snapshot {
-                stages,
-                coolers,
+                stages: [placeholder; N],
+                coolers: [None; N],
                 interstage: [None; N],
                 totals: TrainTotals::bad(compressor_stages),
                 scan_count: 0,
             },
             si: [StageSi::CLEARED; N],
+        }
+    }
+
+    /// Sets every stage's and cooler's result to its value before the
+    /// first scan ([`StageResult::before_first_scan`],
+    /// [`CoolerResult::before_first_scan`]), in place.
+    #[inline(never)]
+    fn reset_snapshot(&mut self) {
+        let snapshot = &mut self.snapshot;
+        for ((r, c), s) in snapshot
+            .stages
+            .iter_mut()
+            .zip(snapshot.coolers.iter_mut())
+            .zip(self.config.stages.iter())
+        {
+            *r = StageResult::before_first_scan(s);
+            *c = CoolerResult::before_first_scan(s);
         }
     }
 

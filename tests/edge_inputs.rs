@@ -581,6 +581,37 @@ fn new_in_builds_what_new_builds() {
     same(bad, &scan);
 }
 
+/// Before the first scan every stage's result is the all-bad result of its
+/// kind (the demo train ends in a pump), its steady state unknown, and
+/// every configured cooler (and only those) has an all-bad result
+/// (consistency check of the constructor's in-place initial snapshot).
+#[test]
+fn snapshot_before_the_first_scan_follows_the_configuration() {
+    use polytrope::cooler::CoolerResult;
+    use polytrope::stage::{CompressorResult, PumpResult};
+    use polytrope::steady::SteadyState;
+    let t = polytrope::demo::train::<f64>().unwrap();
+    let snap = t.snapshot();
+    let mut pumps = 0;
+    for ((r, c), s) in snap
+        .stages
+        .iter()
+        .zip(snap.coolers.iter())
+        .zip(t.config().stages.iter())
+    {
+        match s.kind {
+            StageKind::Compressor => assert_eq!(r.compressor(), Some(&CompressorResult::bad())),
+            StageKind::Pump { .. } => {
+                pumps += 1;
+                assert_eq!(r.pump(), Some(&PumpResult::bad()));
+            }
+        }
+        assert_eq!(r.steady_state, SteadyState::unknown());
+        assert_eq!(*c, s.cooler.map(|_| CoolerResult::bad()));
+    }
+    assert_eq!(pumps, 1);
+}
+
 // ---- arbitrary bit patterns ----
 
 fn quality_of(q: u8) -> Quality {
