@@ -179,6 +179,13 @@ impl<T: Real> StageResult<T> {
     /// every stage (configuration-time flash).
     #[inline(never)]
     fn before_first_scan(stage: &StageConfig<T>) -> Self {
+        Self::initial(stage)
+    }
+
+    /// [`StageResult::before_first_scan`], inlined (where it is built in
+    /// place with the rest of a train returned by value).
+    #[inline(always)]
+    fn initial(stage: &StageConfig<T>) -> Self {
         StageResult {
             work: match stage.kind {
                 StageKind::Compressor => StageWork::Compressor(CompressorResult::bad()),
@@ -195,6 +202,13 @@ impl<T: Real> CoolerResult<T> {
     /// [`StageResult::before_first_scan`].
     #[inline(never)]
     fn before_first_scan(stage: &StageConfig<T>) -> Option<Self> {
+        Self::initial(stage)
+    }
+
+    /// [`CoolerResult::before_first_scan`], inlined (as
+    /// [`StageResult::initial`]).
+    #[inline(always)]
+    fn initial(stage: &StageConfig<T>) -> Option<Self> {
         stage.cooler.map(|_| CoolerResult::bad())
     }
 }
@@ -363,6 +377,44 @@ fn check_stage<T: Real>(
     Ok(())
 }
 
+/// The train of a validated configuration (`Train<T, G, N, W>` in the
+/// `impl` where it is expanded), its snapshot's stage and cooler results
+/// given: the one build of [`Train::with_limits`] and [`Train::new_in`]. A
+/// macro, not a function: the train is built where the caller writes it (a
+/// function's result was copied, a whole train, in `Train::with_limits`).
+macro_rules! built_train {
+    ($config:expr, $limits:expr, $compressor_stages:expr, $stages:expr, $coolers:expr) => {{
+        let config = $config;
+        let limits = $limits;
+        let compressor_stages: u8 = $compressor_stages;
+        let configured_z = config
+            .gas
+            .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
+            .z;
+        let stage_uses = StageUses::new(config.gas.property_inputs());
+        let equal_ratio_exponent = equal_ratio_fraction(u32::from(compressor_stages), 0);
+        let stage_thresholds = StageThresholds::of(&limits);
+        Train {
+            config,
+            limits,
+            configured_z,
+            compressor_stages,
+            equal_ratio_exponent,
+            stage_thresholds,
+            stage_uses,
+            detectors: core::array::from_fn(SteadyStateDetector::staggered),
+            snapshot: Snapshot {
+                stages: $stages,
+                coolers: $coolers,
+                interstage: [None; N],
+                totals: TrainTotals::bad(compressor_stages),
+                scan_count: 0,
+            },
+            si: [StageSi::CLEARED; N],
+        }
+    }};
+}
+
 impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> {
     /// Validates `config` and builds the train.
     ///
@@ -388,9 +440,15 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         limits: Limits<T>,
     ) -> Result<Self, ConfigError> {
         let compressor_stages = Self::validate(&config, &limits)?;
-        let mut train = Self::build(config, limits, compressor_stages);
-        train.reset_snapshot();
-        Ok(train)
+        let stages = config.stages.map(|s| StageResult::initial(&s));
+        let coolers = config.stages.map(|s| CoolerResult::initial(&s));
+        Ok(built_train!(
+            config,
+            limits,
+            compressor_stages,
+            stages,
+            coolers
+        ))
     }
 
     /// As [`Train::new`], built in place in `slot` (for a device whose RAM
@@ -402,7 +460,23 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     ) -> Result<&mut Self, ConfigError> {
         let limits = Limits::default();
         let compressor_stages = Self::validate(&config, &limits)?;
-        let train = slot.write(Self::build(config, limits, compressor_stages));
+        // Every stage holds the first stage's initial result and no cooler
+        // one until `reset_snapshot` writes them in place (no array of them
+        // built on the stack and moved).
+        let placeholder = config.stages.first().map_or(
+            StageResult {
+                work: StageWork::Compressor(CompressorResult::bad()),
+                steady_state: SteadyState::unknown(),
+            },
+            StageResult::before_first_scan,
+        );
+        let train = slot.write(built_train!(
+            config,
+            limits,
+            compressor_stages,
+            [placeholder; N],
+            [None; N]
+        ));
         train.reset_snapshot();
         Ok(train)
     }
@@ -417,47 +491,6 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         }
         config.steady_state.validate()?;
         validate_stages(&config.stages, config.max_interstage_pressure_drop, limits)
-    }
-
-    /// The train of a validated `config` (infallible: built where it is
-    /// written), its stages' and coolers' results not yet set: every stage
-    /// holds the first stage's initial result and no cooler one until
-    /// [`Train::reset_snapshot`] writes them in place (no array of them
-    /// built on the stack and moved).
-    #[inline(always)]
-    fn build(config: TrainConfig<T, G, N>, limits: Limits<T>, compressor_stages: u8) -> Self {
-        let placeholder = config.stages.first().map_or(
-            StageResult {
-                work: StageWork::Compressor(CompressorResult::bad()),
-                steady_state: SteadyState::unknown(),
-            },
-            StageResult::before_first_scan,
-        );
-        let configured_z = config
-            .gas
-            .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
-            .z;
-        let stage_uses = StageUses::new(config.gas.property_inputs());
-        let equal_ratio_exponent = equal_ratio_fraction(u32::from(compressor_stages), 0);
-        let stage_thresholds = StageThresholds::of(&limits);
-        Train {
-            config,
-            limits,
-            configured_z,
-            compressor_stages,
-            equal_ratio_exponent,
-            stage_thresholds,
-            stage_uses,
-            detectors: core::array::from_fn(SteadyStateDetector::staggered),
-            snapshot: Snapshot {
-                stages: [placeholder; N],
-                coolers: [None; N],
-                interstage: [None; N],
-                totals: TrainTotals::bad(compressor_stages),
-                scan_count: 0,
-            },
-            si: [StageSi::CLEARED; N],
-        }
     }
 
     /// Sets every stage's and cooler's result to its value before the
