@@ -275,16 +275,24 @@ pub fn evaluate_cooler_within<T: Real>(
 
 // The inputs' two-bit quality fields in `evaluate_cooler_bounded`'s packed
 // word (in this order), by their high bit (set: not usable).
-const I_TIN: u32 = 2;
-const I_TOUT: u32 = 2 << 2;
-const I_TC: u32 = 2 << 4;
-const I_TCO: u32 = 2 << 6;
-const I_PIN: u32 = 2 << 8;
-const I_POUT: u32 = 2 << 10;
-const I_FLOW: u32 = 2 << 12;
-const I_MC: u32 = 2 << 14;
-const I_DH: u32 = 2 << 16;
+pub(crate) const I_TIN: u32 = 2;
+pub(crate) const I_TOUT: u32 = 2 << 2;
+pub(crate) const I_TC: u32 = 2 << 4;
+pub(crate) const I_TCO: u32 = 2 << 6;
+pub(crate) const I_PIN: u32 = 2 << 8;
+pub(crate) const I_POUT: u32 = 2 << 10;
+pub(crate) const I_FLOW: u32 = 2 << 12;
+pub(crate) const I_MC: u32 = 2 << 14;
+pub(crate) const I_DH: u32 = 2 << 16;
 const NOT_USABLE: u32 = I_TIN | I_TOUT | I_TC | I_TCO | I_PIN | I_POUT | I_FLOW | I_MC | I_DH;
+/// `q` as the two-bit field `input` of the packed word (`input` is the
+/// field's `I_*` high bit): the word [`evaluate_cooler_packed`] takes,
+/// built by its caller as each input is produced.
+#[inline(always)]
+pub(crate) const fn packed_quality(q: Quality, input: u32) -> u32 {
+    (q as u32) * (input >> 1)
+}
+
 /// Both bits of the eight inputs that are dependency slots (all but the
 /// enthalpy drop, which enters through the duty's checks).
 const SLOT_INPUTS: u32 = (1 << 16) - 1;
@@ -296,14 +304,6 @@ const _: () = assert!(
     "the packed qualities of the cooler evaluation rely on these discriminants"
 );
 
-/// Results that can be computed from usable inputs and still not be finite
-/// (a ratio or logarithm); the others are differences of the inputs, a
-/// ratio over a span of at least [`MIN_EFFECTIVENESS_SPAN_K`], or the duty
-/// (tested where it is computed), finite when the inputs are. With inputs
-/// that passed validated limits ([`Limits::first_invalid`]: every bound
-/// finite, temperatures in [1, 2000] K, pressures in [1e-3, 1e10] Pa) the
-/// inputs are finite and only these are tested.
-const MAY_OVERFLOW: u16 = F_LMTD | F_UA | F_BALANCE;
 /// Every result field's bit.
 const ALL_FIELDS: u16 = (1 << 10) - 1;
 
@@ -311,9 +311,16 @@ const ALL_FIELDS: u16 = (1 << 10) - 1;
 /// inputs struct in memory, no call). `BOUNDED`: every usable input value
 /// is within limits that passed [`Limits::first_invalid`] (the train's
 /// sensor boundary) and every unusable one is the boundary's zero, so only
-/// [`MAY_OVERFLOW`] results need a finiteness test and the compares of
-/// input differences may be ordered compares ([`Real::less_than`]); otherwise (a caller's own inputs) every result but the duty gets
-/// one. Either way a computed value that is not finite is bad.
+/// the results that can be computed from usable inputs and still not be
+/// finite (the LMTD, UA and heat balance: a ratio or logarithm) need a
+/// finiteness test and the compares of input differences may be ordered
+/// compares ([`Real::less_than`]). The others are differences of the
+/// inputs, a ratio over a span of at least [`MIN_EFFECTIVENESS_SPAN_K`], or
+/// the duty (tested where it is computed), finite when the inputs are
+/// (validated limits, [`Limits::first_invalid`]: every bound finite,
+/// temperatures in [1, 2000] K, pressures in [1e-3, 1e10] Pa). Otherwise (a
+/// caller's own inputs) every result but the duty gets one. Either way a
+/// computed value that is not finite is bad.
 #[inline(always)]
 pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
     inp: &CoolerInputs<T>,
@@ -354,6 +361,35 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
         .iter()
         .enumerate()
         .fold(0u32, |a, (i, &q)| a | (q as u32) << (2 * i));
+    evaluate_cooler_packed::<T, BOUNDED>(inp, packed, limits, cp_inputs, cp_fit, out);
+}
+
+/// [`evaluate_cooler_bounded`] with the inputs' qualities given as its
+/// packed word (`packed`: the [`packed_quality`] of every input; their
+/// qualities in `inp` are not read), which the train builds as it
+/// validates each input: one register then, not nine live qualities.
+#[inline(always)]
+pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
+    inp: &CoolerInputs<T>,
+    packed: u32,
+    limits: &Limits<T>,
+    cp_inputs: PropertyInputs,
+    cp_fit: Quality,
+    out: &mut CoolerResult<T>,
+) {
+    let (tin, tout, tc, tco) = (
+        inp.gas_inlet_temperature.value,
+        inp.gas_outlet_temperature.value,
+        inp.coolant_inlet_temperature.value,
+        inp.coolant_outlet_temperature.value,
+    );
+    let (pin, pout, flow, mc) = (
+        inp.gas_inlet_pressure.value,
+        inp.gas_outlet_pressure.value,
+        inp.gas_mass_flow.value,
+        inp.coolant_mass_flow.value,
+    );
+    let dh = inp.gas_enthalpy_drop.value;
     let unusable = packed & NOT_USABLE;
     let ok = |inputs: u32| unusable & inputs == 0;
     let noise = limits.temperature_noise;
@@ -366,117 +402,161 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
     let lt = |a: T, b: T| if BOUNDED { T::less_than(a, b) } else { a < b };
     #[cfg(not(all(target_arch = "arm", not(target_abi = "eabihf"))))]
     let lt = |a: T, b: T| a < b;
-    let checked = if BOUNDED {
-        MAY_OVERFLOW
+    // Which outputs the inputs' usability allows (bit i: the i-th field in
+    // declaration order): each output needs the inputs it is computed
+    // from. With every input usable (the usual scan) all of them, without
+    // a test per output.
+    let usable_fields = if unusable == 0 {
+        ALL_FIELDS
     } else {
-        ALL_FIELDS & !F_DUTY
+        let allow = |inputs: u32, bits: u16| if ok(inputs) { bits } else { 0 };
+        allow(I_PIN | I_POUT, F_DP | F_REL_DP)
+            | allow(I_TIN | I_TOUT, F_DROP)
+            | allow(I_TIN | I_TOUT | I_FLOW | I_DH, F_DUTY)
+            | allow(I_TOUT | I_TC, F_APPROACH)
+            | allow(I_TIN | I_TOUT | I_TC, F_EFF)
+            | allow(I_TC | I_TCO, F_COOLANT_RISE)
+            | allow(I_TIN | I_TOUT | I_TC | I_TCO, F_LMTD)
+            | allow(I_TIN | I_TOUT | I_TC | I_TCO | I_FLOW | I_DH, F_UA)
+            | allow(
+                I_TIN | I_TOUT | I_TC | I_TCO | I_FLOW | I_DH | I_MC,
+                F_BALANCE,
+            )
     };
-    // Computed outputs (bit i: the i-th field in declaration order). A
-    // value that is not finite counts as not computed (bad, as the rule
-    // says).
-    let mut done: u16 = 0;
-    let mut set = |m: &mut Measured<T>, bit: u16, v: T| {
-        m.value = v;
-        if checked & bit == 0 || T::is_finite(v) {
-            done |= bit;
-        }
-    };
-    // Outputs a field-local plausibility check makes suspect (`suspect`):
-    // a negative pressure drop; the outlet above the inlet; the outlet
-    // below the coolant; an effectiveness outside [0, 1]; a falling
-    // coolant; the duty and what uses it inside the noise band or from a
-    // gas model outside its fitted or valid range; UA also without flow (a
-    // zero duty is not fouling; a negative duty in the noise band gives a
-    // negative UA). A suspect bit counts only for a computed output (one
-    // not computed is bad, which uncertain does not change), so each check
-    // is made where its output is set. What the evaluation found
-    // (`found`), in order of precedence (an outlet above the inlet implies
-    // usable gas temperatures): the first of its bits. Both are collected
-    // as the checks are made (fewer flags live at once).
-    let flag = |c: bool, bits: u16| if c { bits } else { 0 };
-    let mut suspect: u16 = 0;
-    let mut found: u32 = 0;
-    if ok(I_PIN | I_POUT) {
-        let dp = pin.value - pout.value;
-        set(&mut out.pressure_drop, F_DP, dp);
-        set(&mut out.relative_pressure_drop, F_REL_DP, dp / pin.value);
-        suspect |= flag(lt(dp, T::ZERO), F_DP | F_REL_DP);
-    }
-    let gas_ok = ok(I_TIN | I_TOUT);
-    let drop = tin.value - tout.value;
-    let outlet_above_inlet = gas_ok && lt(drop, -noise);
-    let within_noise = gas_ok && !outlet_above_inlet && lt(drop, noise);
-    let stationary = ok(I_FLOW) && !lt(limits.stationary_flow, flow.value);
-    found |= u32::from(outlet_above_inlet)
-        | u32::from(within_noise && ok(I_FLOW)) << 3
-        | u32::from(stationary) << 4;
+    // Every difference and ratio of the inputs at once, whether its output
+    // is computed or not: an output whose inputs are not usable is not in
+    // `done` and is settled bad below (its value overwritten), and a
+    // check on it does not count (a suspect bit counts only for a computed
+    // output: one not computed is bad, which uncertain does not change).
+    // Bounded, unusable values are the boundary's zero, so every
+    // difference is finite and the ordered compares apply.
+    let dp = pin - pout;
+    let relative_dp = dp / pin;
+    let drop = tin - tout;
+    // Also the LMTD's cold-end difference (one subtraction for both).
+    let approach = tout - tc;
+    let span = tin - tc;
+    let rise = tco - tc;
+    let eff = drop / span;
     // Duty from the gas model's enthalpy drop (its quality: the model's
     // validity at the two states and the supplied Z); a model outside its
     // fitted or valid range makes the duty and what uses it suspect, no
     // valid state makes them bad.
-    let duty = flow.value * dh.value;
-    let cp_suspect = cp_fit.worst(dh.quality) != Quality::Good;
-    let weak_duty = within_noise || cp_suspect;
-    suspect |= flag(outlet_above_inlet, F_DROP)
-        | flag(weak_duty, F_DUTY | F_BALANCE)
-        | flag(weak_duty || stationary, F_UA);
-    let duty_ok = gas_ok && !outlet_above_inlet && ok(I_FLOW | I_DH) && T::is_finite(duty);
-    if gas_ok {
-        set(&mut out.gas_temperature_drop, F_DROP, drop);
-        if duty_ok {
-            set(&mut out.heat_duty, F_DUTY, duty);
-        }
-    }
-    // Also the LMTD's cold-end difference (one subtraction for both).
-    let approach = tout.value - tc.value;
-    if ok(I_TOUT | I_TC) {
-        set(&mut out.approach, F_APPROACH, approach);
-        let below_coolant = lt(approach, -noise);
-        suspect |= flag(below_coolant, F_APPROACH);
-        found |= u32::from(below_coolant) << 1;
-    }
+    let duty = flow * dh;
+    // The field-local checks (each counts for its output where that is
+    // computed, which implies the inputs the check reads are usable): a
+    // negative pressure drop; the outlet above the inlet; the outlet below
+    // the coolant; an effectiveness outside [0, 1]; a falling coolant; the
+    // duty and what uses it inside the noise band or from a gas model
+    // outside its fitted or valid range; UA also without flow (a zero duty
+    // is not fouling; a negative duty in the noise band gives a negative
+    // UA).
+    let outlet_above_inlet = lt(drop, -noise);
+    let within_noise = !outlet_above_inlet && lt(drop, noise);
+    let below_coolant = lt(approach, -noise);
+    let no_span = !lt(T::of(MIN_EFFECTIVENESS_SPAN_K), span);
+    let stationary = !lt(limits.stationary_flow, flow);
     // `0 <= eff <= 1` (false for NaN); without an FPU on the bits
     // ([`Real::within_nonnegative`], exact for every value, NaN and -0.0
     // included: no library call).
-    let effectiveness_in_unit_range = |e: T| {
-        if HARD_FLOAT {
-            e >= T::ZERO && e <= T::ONE
-        } else {
-            T::within_nonnegative(e, T::ZERO, T::ONE)
-        }
+    let effectiveness_in_unit_range = if HARD_FLOAT {
+        eff >= T::ZERO && eff <= T::ONE
+    } else {
+        T::within_nonnegative(eff, T::ZERO, T::ONE)
     };
-    if ok(I_TIN | I_TOUT | I_TC) {
-        let span = tin.value - tc.value;
-        let no_span = !lt(T::of(MIN_EFFECTIVENESS_SPAN_K), span);
-        found |= u32::from(no_span) << 2;
-        if !outlet_above_inlet && !no_span {
-            let eff = drop / span;
-            set(&mut out.effectiveness, F_EFF, eff);
-            suspect |= flag(!effectiveness_in_unit_range(eff), F_EFF);
-        }
-    }
-    let rise = tco.value - tc.value;
-    if ok(I_TC | I_TCO) {
-        set(&mut out.coolant_temperature_rise, F_COOLANT_RISE, rise);
-        suspect |= flag(lt(rise, -noise), F_COOLANT_RISE);
-    }
-    if ok(I_TIN | I_TOUT | I_TC | I_TCO) {
-        let (dt_hot, dt_cold) = (tin.value - tco.value, approach);
-        if let Some(lmtd) = lmtd_counterflow_ordered::<T, BOUNDED, { !HARD_FLOAT }>(dt_hot, dt_cold)
-        {
-            set(&mut out.lmtd, F_LMTD, lmtd);
-            if duty_ok {
-                set(&mut out.ua, F_UA, duty / lmtd);
+    let cp_suspect = cp_fit != Quality::Good || packed & (3 * (I_DH >> 1)) != 0;
+    let weak_duty = within_noise || cp_suspect;
+    let flag = |c: bool, bits: u16| if c { bits } else { 0 };
+    let suspect = flag(lt(dp, T::ZERO), F_DP | F_REL_DP)
+        | flag(outlet_above_inlet, F_DROP)
+        | flag(weak_duty, F_DUTY | F_BALANCE)
+        | flag(weak_duty || stationary, F_UA)
+        | flag(below_coolant, F_APPROACH)
+        | flag(!effectiveness_in_unit_range, F_EFF)
+        | flag(lt(rise, -noise), F_COOLANT_RISE);
+    // What the evaluation found, in order of precedence: the first of its
+    // bits (read only with usable gas and coolant inlet temperatures; the
+    // flow's usability is tested here).
+    let flow_usable = ok(I_FLOW);
+    let found = u32::from(outlet_above_inlet)
+        | u32::from(below_coolant) << 1
+        | u32::from(no_span) << 2
+        | u32::from(within_noise && flow_usable) << 3
+        | u32::from(stationary && flow_usable) << 4;
+    // Computed outputs: the usable ones, less those the checks exclude (no
+    // effectiveness or duty with the outlet above the inlet, no
+    // effectiveness without a driving difference, no duty that is not
+    // finite, and what uses them). A value that is not finite counts as not
+    // computed (bad, as the rule says).
+    // The duty's finiteness: with an FPU tested below with the other
+    // results that may overflow, without one here (where LLVM keeps the
+    // test on the bits: measured, no library compare).
+    let duty_users = F_DUTY | F_UA | F_BALANCE;
+    let mut done = usable_fields
+        & !flag(outlet_above_inlet, F_EFF | F_DUTY | F_UA | F_BALANCE)
+        & !flag(no_span, F_EFF)
+        & !flag(!HARD_FLOAT && !T::is_finite(duty), duty_users);
+    let (mut lmtd, mut ua, mut balance) = (T::ZERO, T::ZERO, T::ZERO);
+    if done & F_LMTD != 0 {
+        let dt_hot = tin - tco;
+        match lmtd_counterflow_ordered::<T, BOUNDED, { !HARD_FLOAT }>(dt_hot, approach) {
+            Some(l) => {
+                lmtd = l;
+                ua = duty / l;
             }
+            None => done &= !(F_LMTD | F_UA),
         }
-        // The duty is finite here (`duty_ok`): not NaN.
-        if duty_ok && lt(T::ZERO, duty) && ok(I_MC) {
-            let coolant_duty = mc.value * inp.coolant_cp * rise;
-            set(
-                &mut out.heat_balance_error,
-                F_BALANCE,
-                (duty - coolant_duty) / duty,
-            );
+    }
+    // A duty that is not finite (NaN or not) leaves the heat balance out
+    // below, whatever this compare gives.
+    if done & F_BALANCE != 0 && lt(T::ZERO, duty) {
+        let coolant_duty = mc * inp.coolant_cp * rise;
+        balance = (duty - coolant_duty) / duty;
+    } else {
+        done &= !F_BALANCE;
+    }
+    // The results that may not be finite with bounded inputs (the duty: a
+    // product of the model's drop; the others a ratio or logarithm; one
+    // not computed is zero here). With an FPU usually all finite, one test
+    // ([`Real::all_finite`]), then each; without one each (on its bits).
+    let may_overflow = [
+        (duty, if HARD_FLOAT { duty_users } else { 0 }),
+        (lmtd, F_LMTD),
+        (ua, F_UA),
+        (balance, F_BALANCE),
+    ];
+    if !HARD_FLOAT || !T::all_finite(&may_overflow.map(|(v, _)| v)) {
+        for (v, bits) in may_overflow {
+            done &= !flag(!T::is_finite(v), bits);
+        }
+    }
+    out.gas_temperature_drop.value = drop;
+    out.approach.value = approach;
+    out.effectiveness.value = eff;
+    out.heat_duty.value = duty;
+    out.pressure_drop.value = dp;
+    out.relative_pressure_drop.value = relative_dp;
+    out.coolant_temperature_rise.value = rise;
+    out.lmtd.value = lmtd;
+    out.ua.value = ua;
+    out.heat_balance_error.value = balance;
+    // A caller's own inputs: every result but the duty (tested above) may
+    // be computed from values that are not finite.
+    if !BOUNDED {
+        let values = [
+            (drop, F_DROP),
+            (approach, F_APPROACH),
+            (eff, F_EFF),
+            (dp, F_DP),
+            (relative_dp, F_REL_DP),
+            (rise, F_COOLANT_RISE),
+        ];
+        // With an FPU usually all finite: one test ([`Real::all_finite`]),
+        // then each; without one each.
+        if !HARD_FLOAT || !T::all_finite(&values.map(|(v, _)| v)) {
+            for (v, bit) in values {
+                done &= !flag(!T::is_finite(v), bit);
+            }
         }
     }
 
@@ -515,7 +595,13 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
             slot::COOLANT_FLOW,
         ];
         let mut g = Grades::new();
-        for (s, q) in slots.into_iter().zip(qualities) {
+        for (i, s) in slots.into_iter().enumerate() {
+            let q = match (packed >> (2 * i)) & 3 {
+                0 => Quality::Good,
+                1 => Quality::Uncertain,
+                2 => Quality::Bad,
+                _ => Quality::NotApplicable,
+            };
             g.first_slot(s, q);
         }
         OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect)
@@ -553,6 +639,247 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The bounded evaluation as it was before it computed every difference
+    /// at once and took the computed outputs from one mask (a test-only
+    /// copy, the reference of
+    /// `one_pass_evaluation_equals_the_branch_per_output_one`).
+    #[allow(clippy::too_many_lines)]
+    fn reference_bounded<T: Real, const BOUNDED: bool>(
+        inp: &CoolerInputs<T>,
+        limits: &Limits<T>,
+        cp_inputs: PropertyInputs,
+        cp_fit: Quality,
+        out: &mut CoolerResult<T>,
+    ) {
+        let (tin, tout, tc, tco) = (
+            inp.gas_inlet_temperature,
+            inp.gas_outlet_temperature,
+            inp.coolant_inlet_temperature,
+            inp.coolant_outlet_temperature,
+        );
+        let (pin, pout, flow, mc) = (
+            inp.gas_inlet_pressure,
+            inp.gas_outlet_pressure,
+            inp.gas_mass_flow,
+            inp.coolant_mass_flow,
+        );
+        let dh = inp.gas_enthalpy_drop;
+        // The inputs' qualities two bits each, in one word (the discriminants:
+        // good 0, uncertain 1, bad 2, not applicable 3; the high bit of a pair
+        // is set exactly when the input is not usable). One register instead
+        // of nine flags: every usability test below is one mask test.
+        let qualities = [
+            tin.quality,
+            tout.quality,
+            tc.quality,
+            tco.quality,
+            pin.quality,
+            pout.quality,
+            flow.quality,
+            mc.quality,
+            dh.quality,
+        ];
+        let packed = qualities
+            .iter()
+            .enumerate()
+            .fold(0u32, |a, (i, &q)| a | (q as u32) << (2 * i));
+        let unusable = packed & NOT_USABLE;
+        let ok = |inputs: u32| unusable & inputs == 0;
+        let noise = limits.temperature_noise;
+        // `a < b` of values that are not NaN: differences of finite inputs and
+        // the limits. Bounded, every input value is finite (usable ones within
+        // validated limits, the others the boundary's zero), so without an FPU
+        // the ordered compare on the bits applies ([`Real::less_than`]: no
+        // library call); otherwise, and with an FPU, the float compare.
+        #[cfg(all(target_arch = "arm", not(target_abi = "eabihf")))]
+        let lt = |a: T, b: T| if BOUNDED { T::less_than(a, b) } else { a < b };
+        #[cfg(not(all(target_arch = "arm", not(target_abi = "eabihf"))))]
+        let lt = |a: T, b: T| a < b;
+        let checked = if BOUNDED {
+            F_LMTD | F_UA | F_BALANCE
+        } else {
+            ALL_FIELDS & !F_DUTY
+        };
+        // Computed outputs (bit i: the i-th field in declaration order). A
+        // value that is not finite counts as not computed (bad, as the rule
+        // says).
+        let mut done: u16 = 0;
+        let mut set = |m: &mut Measured<T>, bit: u16, v: T| {
+            m.value = v;
+            if checked & bit == 0 || T::is_finite(v) {
+                done |= bit;
+            }
+        };
+        // Outputs a field-local plausibility check makes suspect (`suspect`):
+        // a negative pressure drop; the outlet above the inlet; the outlet
+        // below the coolant; an effectiveness outside [0, 1]; a falling
+        // coolant; the duty and what uses it inside the noise band or from a
+        // gas model outside its fitted or valid range; UA also without flow (a
+        // zero duty is not fouling; a negative duty in the noise band gives a
+        // negative UA). A suspect bit counts only for a computed output (one
+        // not computed is bad, which uncertain does not change), so each check
+        // is made where its output is set. What the evaluation found
+        // (`found`), in order of precedence (an outlet above the inlet implies
+        // usable gas temperatures): the first of its bits. Both are collected
+        // as the checks are made (fewer flags live at once).
+        let flag = |c: bool, bits: u16| if c { bits } else { 0 };
+        let mut suspect: u16 = 0;
+        let mut found: u32 = 0;
+        if ok(I_PIN | I_POUT) {
+            let dp = pin.value - pout.value;
+            set(&mut out.pressure_drop, F_DP, dp);
+            set(&mut out.relative_pressure_drop, F_REL_DP, dp / pin.value);
+            suspect |= flag(lt(dp, T::ZERO), F_DP | F_REL_DP);
+        }
+        let gas_ok = ok(I_TIN | I_TOUT);
+        let drop = tin.value - tout.value;
+        let outlet_above_inlet = gas_ok && lt(drop, -noise);
+        let within_noise = gas_ok && !outlet_above_inlet && lt(drop, noise);
+        let stationary = ok(I_FLOW) && !lt(limits.stationary_flow, flow.value);
+        found |= u32::from(outlet_above_inlet)
+            | u32::from(within_noise && ok(I_FLOW)) << 3
+            | u32::from(stationary) << 4;
+        // Duty from the gas model's enthalpy drop (its quality: the model's
+        // validity at the two states and the supplied Z); a model outside its
+        // fitted or valid range makes the duty and what uses it suspect, no
+        // valid state makes them bad.
+        let duty = flow.value * dh.value;
+        let cp_suspect = cp_fit.worst(dh.quality) != Quality::Good;
+        let weak_duty = within_noise || cp_suspect;
+        suspect |= flag(outlet_above_inlet, F_DROP)
+            | flag(weak_duty, F_DUTY | F_BALANCE)
+            | flag(weak_duty || stationary, F_UA);
+        let duty_ok = gas_ok && !outlet_above_inlet && ok(I_FLOW | I_DH) && T::is_finite(duty);
+        if gas_ok {
+            set(&mut out.gas_temperature_drop, F_DROP, drop);
+            if duty_ok {
+                set(&mut out.heat_duty, F_DUTY, duty);
+            }
+        }
+        // Also the LMTD's cold-end difference (one subtraction for both).
+        let approach = tout.value - tc.value;
+        if ok(I_TOUT | I_TC) {
+            set(&mut out.approach, F_APPROACH, approach);
+            let below_coolant = lt(approach, -noise);
+            suspect |= flag(below_coolant, F_APPROACH);
+            found |= u32::from(below_coolant) << 1;
+        }
+        // `0 <= eff <= 1` (false for NaN); without an FPU on the bits
+        // ([`Real::within_nonnegative`], exact for every value, NaN and -0.0
+        // included: no library call).
+        let effectiveness_in_unit_range = |e: T| {
+            if HARD_FLOAT {
+                e >= T::ZERO && e <= T::ONE
+            } else {
+                T::within_nonnegative(e, T::ZERO, T::ONE)
+            }
+        };
+        if ok(I_TIN | I_TOUT | I_TC) {
+            let span = tin.value - tc.value;
+            let no_span = !lt(T::of(MIN_EFFECTIVENESS_SPAN_K), span);
+            found |= u32::from(no_span) << 2;
+            if !outlet_above_inlet && !no_span {
+                let eff = drop / span;
+                set(&mut out.effectiveness, F_EFF, eff);
+                suspect |= flag(!effectiveness_in_unit_range(eff), F_EFF);
+            }
+        }
+        let rise = tco.value - tc.value;
+        if ok(I_TC | I_TCO) {
+            set(&mut out.coolant_temperature_rise, F_COOLANT_RISE, rise);
+            suspect |= flag(lt(rise, -noise), F_COOLANT_RISE);
+        }
+        if ok(I_TIN | I_TOUT | I_TC | I_TCO) {
+            let (dt_hot, dt_cold) = (tin.value - tco.value, approach);
+            if let Some(lmtd) =
+                lmtd_counterflow_ordered::<T, BOUNDED, { !HARD_FLOAT }>(dt_hot, dt_cold)
+            {
+                set(&mut out.lmtd, F_LMTD, lmtd);
+                if duty_ok {
+                    set(&mut out.ua, F_UA, duty / lmtd);
+                }
+            }
+            // The duty is finite here (`duty_ok`): not NaN.
+            if duty_ok && lt(T::ZERO, duty) && ok(I_MC) {
+                let coolant_duty = mc.value * inp.coolant_cp * rise;
+                set(
+                    &mut out.heat_balance_error,
+                    F_BALANCE,
+                    (duty - coolant_duty) / duty,
+                );
+            }
+        }
+
+        let condition = if !ok(I_TIN | I_TOUT | I_TC) {
+            CoolerCondition::InputBad
+        } else if found == 0 {
+            CoolerCondition::Normal
+        } else {
+            const FIRST_FOUND: [CoolerCondition; 5] = [
+                CoolerCondition::OutletAboveInlet,
+                CoolerCondition::OutletBelowCoolant,
+                CoolerCondition::NoDrivingDifference,
+                CoolerCondition::DutyWithinNoise,
+                CoolerCondition::NoGasFlow,
+            ];
+            let first = found.trailing_zeros() as usize;
+            FIRST_FOUND
+                .get(first)
+                .copied()
+                .unwrap_or(CoolerCondition::Normal)
+        };
+
+        // Every output at once: the table's bits (`F_*` = declaration order).
+        // With every input slot good the table is not looked at.
+        let o = if packed & SLOT_INPUTS == 0 {
+            OutputGrades::all_slots_good(done, suspect)
+        } else {
+            let slots = [
+                slot::T2,
+                slot::GAS_OUT_T,
+                slot::COOLANT_IN_T,
+                slot::COOLANT_OUT_T,
+                slot::P2,
+                slot::GAS_OUT_P,
+                slot::FLOW,
+                slot::COOLANT_FLOW,
+            ];
+            let mut g = Grades::new();
+            for (s, q) in slots.into_iter().zip(qualities) {
+                g.first_slot(s, q);
+            }
+            OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect)
+        };
+        let fields = [
+            (&mut out.gas_temperature_drop, F_DROP),
+            (&mut out.approach, F_APPROACH),
+            (&mut out.effectiveness, F_EFF),
+            (&mut out.heat_duty, F_DUTY),
+            (&mut out.pressure_drop, F_DP),
+            (&mut out.relative_pressure_drop, F_REL_DP),
+            (&mut out.coolant_temperature_rise, F_COOLANT_RISE),
+            (&mut out.lmtd, F_LMTD),
+            (&mut out.ua, F_UA),
+            (&mut out.heat_balance_error, F_BALANCE),
+        ];
+        if o.all_usable(ALL_FIELDS) && o.none_uncertain(ALL_FIELDS) {
+            for (m, _) in fields {
+                m.quality = Quality::Good;
+            }
+        } else if o.all_usable(ALL_FIELDS) {
+            for (m, bit) in fields {
+                m.quality = o.usable_quality(bit);
+            }
+        } else {
+            for (m, bit) in fields {
+                o.settle_finite(m, bit);
+            }
+        }
+        // Set by the train (the next stage's result).
+        out.next_stage_temperature_rise = Measured::bad();
+        out.condition = condition;
+    }
 
     fn inputs() -> CoolerInputs<f64> {
         let g = Measured::good;
@@ -657,6 +984,151 @@ mod tests {
             assert_eq!(bits(&a), bits(&b), "case {case}");
             assert_eq!(a.condition, b.condition, "case {case}");
         }
+    }
+
+    /// Consistency check (the project's own evaluation, two forms): the
+    /// one-pass evaluation (every difference at once, the computed outputs
+    /// from one mask) gives bit for bit the values, qualities and condition
+    /// of the branch-per-output evaluation it replaced
+    /// ([`reference_bounded`]), bounded and not, in f32 and f64, over
+    /// seeded random qualities of every input and values concentrated at
+    /// every check's threshold (noise band, span, stationary flow, zero
+    /// and negative terminal differences, pressure drop and duty signs),
+    /// with each result written over the previous case's (in place, as the
+    /// train does); not bounded also with NaN and infinite inputs.
+    #[test]
+    fn one_pass_evaluation_equals_the_branch_per_output_one() {
+        fn unit(next: &mut impl FnMut() -> u32) -> f64 {
+            f64::from(next() % 1_000_000) / 1_000_000.0
+        }
+        fn pick(next: &mut impl FnMut() -> u32, choices: &[f64]) -> f64 {
+            let i = (unit(next) * choices.len() as f64) as usize;
+            choices.get(i).copied().unwrap_or(0.0)
+        }
+        fn quality(next: &mut impl FnMut() -> u32) -> Quality {
+            match next() % 9 {
+                0 => Quality::Uncertain,
+                1 => Quality::Bad,
+                2 => Quality::NotApplicable,
+                _ => Quality::Good,
+            }
+        }
+        fn run<T: Real>(seed: u32, cases: usize) {
+            let mut next = crate::xorshift32(seed);
+            let limits = Limits::<T>::default();
+            let noise = limits.temperature_noise.to_f64();
+            let still = limits.stationary_flow.to_f64();
+            let (mut a, mut b) = (CoolerResult::<T>::bad(), CoolerResult::<T>::bad());
+            let (mut a_free, mut b_free) = (CoolerResult::<T>::bad(), CoolerResult::<T>::bad());
+            for case in 0..cases {
+                let tc = 280.0 + 40.0 * pick(&mut next, &[0.0, 0.25, 0.5, 1.0]);
+                // The gas outlet around the coolant inlet (approach at
+                // -noise, 0) or well above it.
+                let approach = pick(
+                    &mut next,
+                    &[-2.0 * noise, -noise, -0.3, 0.0, 0.3, 5.0, 20.0],
+                );
+                let tout = tc + approach + 0.01 * pick(&mut next, &[-1.0, 0.0, 1.0]);
+                // The gas drop at the noise band's edges, zero, negative or
+                // large.
+                let drop = pick(
+                    &mut next,
+                    &[-5.0, -noise, -0.2, 0.0, 0.2, noise, 0.6, 40.0, 120.0],
+                );
+                let tin = tout + drop + 0.001 * pick(&mut next, &[-1.0, 0.0, 1.0]);
+                // Coolant outlet: falling, equal, rising, above the gas
+                // inlet (no hot-end difference).
+                let tco = tc
+                    + pick(&mut next, &[-2.0 * noise, -0.2, 0.0, 9.0, 20.0])
+                    + pick(&mut next, &[0.0, 200.0]);
+                let pin = 1e5 + 4e6 * unit(&mut next);
+                let pout = pin * (1.0 + pick(&mut next, &[-0.05, -0.01, 0.0, 0.002]));
+                let flow = pick(&mut next, &[0.0, still, still * 1.01, 2.0, 30.0]);
+                let mc = pick(&mut next, &[0.0, 3.5, 70.0]);
+                // Also a finite drop whose duty overflows.
+                let huge = if T::EPSILON > T::of(1e-10) {
+                    3e38
+                } else {
+                    1e308
+                };
+                let dh = pick(&mut next, &[-2e4, 0.0, 1e3, 1e5, huge, -huge]);
+                let mut m = |v: f64| (v, quality(&mut next));
+                let raw = [
+                    m(tin),
+                    m(tout),
+                    m(tc),
+                    m(tco),
+                    m(pin),
+                    m(pout),
+                    m(flow),
+                    m(mc),
+                    m(dh),
+                ];
+                // Bounded: unusable readings carry the boundary's zero.
+                let bounded =
+                    raw.map(|(v, q)| Measured::new(T::of(if q.is_usable() { v } else { 0.0 }), q));
+                // Not bounded: unusable readings may be anything.
+                let wild = [0.0, f64::NAN, f64::INFINITY, -1.0, 1e30];
+                let free = raw.map(|(v, q)| {
+                    let w = wild.get((next() % 5) as usize).copied().unwrap_or(0.0);
+                    Measured::new(T::of(if q.is_usable() { v } else { w }), q)
+                });
+                let inputs = |r: [Measured<T>; 9]| {
+                    let [tin, tout, tc, tco, pin, pout, flow, mc, dh] = r;
+                    CoolerInputs {
+                        gas_inlet_temperature: tin,
+                        gas_outlet_temperature: tout,
+                        coolant_inlet_temperature: tc,
+                        coolant_outlet_temperature: tco,
+                        gas_inlet_pressure: pin,
+                        gas_outlet_pressure: pout,
+                        gas_mass_flow: flow,
+                        coolant_mass_flow: mc,
+                        gas_enthalpy_drop: dh,
+                        coolant_cp: T::of(4180.0),
+                    }
+                };
+                let fit = if next() % 4 == 0 {
+                    Quality::Uncertain
+                } else {
+                    Quality::Good
+                };
+                let p = PropertyInputs {
+                    temperature: next() % 2 == 0,
+                    pressure: next() % 2 == 0,
+                    compressibility_from_state: false,
+                    state_functions: false,
+                };
+                let bits = |r: &CoolerResult<T>| {
+                    [
+                        r.gas_temperature_drop,
+                        r.approach,
+                        r.effectiveness,
+                        r.heat_duty,
+                        r.pressure_drop,
+                        r.relative_pressure_drop,
+                        r.coolant_temperature_rise,
+                        r.lmtd,
+                        r.ua,
+                        r.heat_balance_error,
+                        r.next_stage_temperature_rise,
+                    ]
+                    .map(|m| (m.value.to_f64().to_bits(), m.quality))
+                };
+                let i = inputs(bounded);
+                reference_bounded::<T, true>(&i, &limits, p, fit, &mut a);
+                evaluate_cooler_bounded::<T, true>(&i, &limits, p, fit, &mut b);
+                assert_eq!(bits(&a), bits(&b), "bounded case {case}");
+                assert_eq!(a.condition, b.condition, "bounded case {case}");
+                let i = inputs(free);
+                reference_bounded::<T, false>(&i, &limits, p, fit, &mut a_free);
+                evaluate_cooler_bounded::<T, false>(&i, &limits, p, fit, &mut b_free);
+                assert_eq!(bits(&a_free), bits(&b_free), "free case {case}");
+                assert_eq!(a_free.condition, b_free.condition, "free case {case}");
+            }
+        }
+        run::<f32>(0x1234_5677, 200_000);
+        run::<f64>(0x7654_3211, 100_000);
     }
 
     #[test]

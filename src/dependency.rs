@@ -655,7 +655,7 @@ impl Users {
 
     /// The outputs using any bit of `mask`.
     #[inline]
-    fn spread(&self, mut mask: u32) -> u16 {
+    pub(crate) fn spread(&self, mut mask: u32) -> u16 {
         let mut out = 0;
         while mask != 0 {
             let b = mask.trailing_zeros() as usize;
@@ -739,6 +739,12 @@ impl OutputGrades {
     #[inline]
     pub fn all_usable(&self, mask: u16) -> bool {
         (self.not_applicable | self.bad) & mask == 0
+    }
+
+    /// The uncertain outputs (bit i = i-th output).
+    #[inline]
+    pub(crate) fn uncertain(&self) -> u16 {
+        self.uncertain
     }
 
     /// `true` if no output of `mask` is uncertain.

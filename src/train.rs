@@ -8,7 +8,10 @@
 
 use core::mem::MaybeUninit;
 
-use crate::cooler::{evaluate_cooler_bounded, CoolerConfig, CoolerInputs, CoolerResult};
+use crate::cooler::{
+    evaluate_cooler_packed, packed_quality, CoolerConfig, CoolerInputs, CoolerResult, I_DH, I_FLOW,
+    I_MC, I_PIN, I_POUT, I_TC, I_TCO, I_TIN, I_TOUT,
+};
 use crate::error::{check_positive, check_range, ConfigError, Problem};
 use crate::gas::GasModel;
 use crate::plausibility::{compressibility, efficiency_allowance, Limits};
@@ -663,7 +666,8 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             let next = si.get(i + 1);
             // The next stage's rise exists only if a compressor follows:
             // after the last stage or before a pump it does not apply.
-            let next_rise = match stages.get(i + 1) {
+            // Read where it is stored (not held across the evaluation).
+            let next_rise = || match stages.get(i + 1) {
                 Some(st) => st
                     .compressor()
                     .map_or(Measured::not_applicable(), |c| c.temperature_rise),
@@ -671,17 +675,24 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             };
             let Some(raw) = &raw_stage.cooler else {
                 *out = Some(CoolerResult {
-                    next_stage_temperature_rise: next_rise,
+                    next_stage_temperature_rise: next_rise(),
                     ..CoolerResult::bad()
                 });
                 continue;
             };
             let limits = &self.limits;
+            // The inputs' qualities packed as each is produced (one register
+            // instead of nine live qualities): see `evaluate_cooler_packed`.
+            let mut packed = packed_quality(s.t2.quality, I_TIN)
+                | packed_quality(s.p2.quality, I_PIN)
+                | packed_quality(s.flow.quality, I_FLOW);
             let gas_out_p = match raw.gas_outlet_pressure {
                 Some(p) => limits.pressure_valid(p.map(PressureAbs::pa)),
                 None => next.map_or(Measured::bad(), |n| n.p1),
             };
+            packed |= packed_quality(gas_out_p.quality, I_POUT);
             let tout = limits.temperature_valid(raw.gas_outlet_temperature.map(Kelvin::kelvin));
+            packed |= packed_quality(tout.quality, I_TOUT);
             // Enthalpy drop on the stage's basis (same model, same supplied
             // Z), so stage power and cooler duty balance; at a nominal
             // temperature where one is missing (the rule marks what used it).
@@ -708,10 +719,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             // The model's validity counts where its states were evaluated at
             // usable inputs (otherwise the outputs using the bad input are
             // bad by their own slots).
-            let states_ok = s.p2.quality.is_usable()
-                && gas_out_p.quality.is_usable()
-                && s.t2.quality.is_usable()
-                && tout.quality.is_usable();
+            let states_ok = packed & (I_PIN | I_POUT | I_TIN | I_TOUT) == 0;
             let q_model = if states_ok {
                 validity.quality
             } else {
@@ -722,30 +730,37 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             } else {
                 Measured::bad()
             };
+            packed |= packed_quality(gas_enthalpy_drop.quality, I_DH);
             let temperature = |m: Option<Measured<Kelvin<T>>>| {
                 m.map_or(Measured::bad(), |m| {
                     limits.temperature_valid(m.map(Kelvin::kelvin))
                 })
             };
+            let coolant_in = temperature(Some(raw.coolant_inlet_temperature));
+            packed |= packed_quality(coolant_in.quality, I_TC);
+            let coolant_out = temperature(raw.coolant_outlet_temperature);
+            packed |= packed_quality(coolant_out.quality, I_TCO);
+            let coolant_flow = raw
+                .coolant_mass_flow
+                .map_or(Measured::bad(), |m| limits.mass_flow_valid(m));
+            packed |= packed_quality(coolant_flow.quality, I_MC);
             let inputs = CoolerInputs {
                 gas_inlet_temperature: s.t2,
                 gas_outlet_temperature: tout,
-                coolant_inlet_temperature: temperature(Some(raw.coolant_inlet_temperature)),
-                coolant_outlet_temperature: temperature(raw.coolant_outlet_temperature),
+                coolant_inlet_temperature: coolant_in,
+                coolant_outlet_temperature: coolant_out,
                 gas_inlet_pressure: s.p2,
                 gas_outlet_pressure: gas_out_p,
                 gas_mass_flow: s.flow,
-                coolant_mass_flow: raw
-                    .coolant_mass_flow
-                    .map_or(Measured::bad(), |m| limits.mass_flow_valid(m)),
+                coolant_mass_flow: coolant_flow,
                 gas_enthalpy_drop,
                 coolant_cp: cooler_cfg.coolant_cp,
             };
             // In place, as for the stages (saves a ~92-byte copy).
             let r = out.get_or_insert_with(CoolerResult::bad);
             let cp_fit = self.config.gas.fit_quality(t_in, t_out);
-            evaluate_cooler_bounded::<T, true>(&inputs, limits, cp_inputs, cp_fit, r);
-            r.next_stage_temperature_rise = next_rise;
+            evaluate_cooler_packed::<T, true>(&inputs, packed, limits, cp_inputs, cp_fit, r);
+            r.next_stage_temperature_rise = next_rise();
         }
     }
 

@@ -17,9 +17,9 @@
 use crate::compression::isothermal_head_from_log;
 use crate::dependency::{
     check, compressor_uses, property_slots, slot, suction_slots, CompressorUses, Grades,
-    OutputGrades, Users,
+    OutputGrades, Slots, Users,
 };
-use crate::gas::{GasModel, PropertyInputs, Validity};
+use crate::gas::{CompressionStates, GasModel, PropertyInputs, Validity};
 use crate::plausibility::{efficiency_allowance, efficiency_grade, Limits};
 use crate::polytropic::{schultz, PolytropicMethod};
 use crate::quality::{Measured, Quality};
@@ -262,8 +262,8 @@ pub(crate) struct StageUses {
     /// The outputs an uncertain [`check::MODEL`] and an uncertain
     /// [`check::MODEL_DISCHARGE`] make uncertain (bit i = i-th output):
     /// the common not-good checks of a stage (an ideal gas at high reduced
-    /// pressure), graded with one OR each instead of a pass over their
-    /// bits of the table.
+    /// pressure), graded by the nominal finish ([`nominal_stage`]) with
+    /// one OR each instead of a pass over their bits of the table.
     model_uncertain: [u16; 2],
 }
 
@@ -361,14 +361,6 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
 
     // Values, each from what it uses.
     let ratio = p2.value / p1.value;
-    if p_ok {
-        done |= 1 << 0;
-        out.pressure_ratio.value = ratio;
-    }
-    if flow.quality.is_usable() {
-        done |= 1 << 10;
-        out.mass_flow.value = flow.value;
-    }
     // The gas-model states: at the measured end states; without a usable
     // T1 at a nominal temperature (only a temperature-independent model's
     // outputs can then be good, and the rule sees to that).
@@ -379,10 +371,6 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     // values so that an inlined model's own T2 − T1 is the same expression
     // and computed once (on a soft-float device a library call saved).
     let dt = t2_path - t1_path;
-    if t1_ok && t2_ok {
-        done |= 1 << 2;
-        out.temperature_rise.value = dt;
-    }
     let fit = gas.fit_quality(t1_path, t2_path);
     let ratio_ok = p_ok && T::is_finite(ratio);
     let compressing = ratio_ok && T::less_not_nan(T::ONE, ratio);
@@ -433,6 +421,40 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
         cs.isentropic_validity = v1;
         cs.validity = v;
         cs.isentropic_exponent = k;
+    }
+    // The common case of a train's measured stage, finished in one pass:
+    // every input usable, a compression with a temperature rise, the
+    // model's checks good or uncertain, every plausibility check passed and
+    // every value finite. The rule then makes no output bad, and each is
+    // uncertain exactly where an uncertain slot or model check reaches it
+    // (the same grades as the general path below, which handles the rest).
+    if let Some(t) = tables {
+        if let Some(uncertain) = nominal_stage(
+            &cs,
+            [p1, t1, p2, t2, flow],
+            q_z,
+            fit,
+            compressing,
+            [ratio, dt, ln_path, h_iso],
+            thresholds,
+            t,
+            out,
+        ) {
+            settle_usable(out, uncertain);
+            return;
+        }
+    }
+    if p_ok {
+        done |= 1 << 0;
+        out.pressure_ratio.value = ratio;
+    }
+    if flow.quality.is_usable() {
+        done |= 1 << 10;
+        out.mass_flow.value = flow.value;
+    }
+    if t1_ok && t2_ok {
+        done |= 1 << 2;
+        out.temperature_rise.value = dt;
     }
     // The model's validity counts only where its states were evaluated at
     // usable inputs (a check that cannot be evaluated downgrades nothing:
@@ -554,25 +576,11 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     }
     // MODEL: the fitted range of the properties and the gas model's
     // validity at the states used (near-critical, liquid-like, ideal gas at
-    // high reduced pressure, no vapour root). Uncertain ones are kept aside
-    // (bit 0 MODEL, bit 1 MODEL_DISCHARGE): the train's table grades them
-    // with one mask each (below).
-    let model = fit.worst(iso_validity.quality);
-    let mut model_uncertain = 0u8;
-    // Both good (the common case): one test (`Quality::Good` is 0).
-    if model as u8 | discharge_validity as u8 != 0 {
-        let tabled = tables.is_some() && !rating_point;
-        if tabled && model == Quality::Uncertain {
-            model_uncertain |= 1;
-        } else {
-            g.check(check::MODEL, model);
-        }
-        if tabled && discharge_validity == Quality::Uncertain {
-            model_uncertain |= 2;
-        } else {
-            g.check(check::MODEL_DISCHARGE, discharge_validity);
-        }
-    }
+    // high reduced pressure, no vapour root). (The common uncertain model
+    // of a train's stage is graded by `nominal_stage` with one mask each;
+    // here through `g`: the same grades.)
+    g.check(check::MODEL, fit.worst(iso_validity.quality));
+    g.check(check::MODEL_DISCHARGE, discharge_validity);
     if checks.has(CompressorChecks::EXPONENT_IMPLAUSIBLE) {
         // n itself, the polytropic head and efficiency were not computed
         // (bad); what remains (the isentropic efficiency, the work) is a
@@ -596,22 +604,192 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     // stack of every call).
     match tables {
         Some(t) if !rating_point => {
-            // An uncertain check adds exactly its users to the uncertain
-            // outputs: the same grades as through `g`.
-            let mut suspect = 0;
-            if model_uncertain != 0 {
-                if model_uncertain & 1 != 0 {
-                    suspect |= t.model_uncertain[0];
-                }
-                if model_uncertain & 2 != 0 {
-                    suspect |= t.model_uncertain[1];
-                }
-            }
-            settle_compressor_outputs(&OutputGrades::new(&g, &t.users, done, suspect), out);
+            settle_compressor_outputs(&OutputGrades::new(&g, &t.users, done, 0), out);
         }
         _ => settle_compressor_untabled(&g, gas.property_inputs(), rating_point, done, out),
     }
     out.condition = checks.condition();
+}
+
+/// The nominal finish of [`evaluate_compressor_tabled`]: if every input
+/// slot is usable (good or uncertain), the stage compresses with a rise
+/// (`compressing`, T2 − T1 > 0), the model's fit and validity at the
+/// suction, isentropic and discharge states are good or uncertain, the
+/// ratio, resolution, running and efficiency checks pass and all sixteen
+/// values are finite, writes the values, the validity, the method and the
+/// condition into `out` and returns the outputs the rule makes uncertain
+/// (the rest good). Otherwise writes nothing that the general path does not
+/// overwrite, and returns `None`.
+///
+/// Why the grades are the general path's: no slot is bad or not
+/// applicable, no check fails but the model's (uncertain: [`StageUses`]'s
+/// masks, the same grades as through [`Grades`]), and every output is computed
+/// (`done` all set): `OutputGrades::new` has no bad and no not-applicable
+/// output, and an output is uncertain exactly if it uses an uncertain slot
+/// or an uncertain model check.
+#[allow(clippy::too_many_arguments)]
+#[inline(always)]
+fn nominal_stage<T: Real>(
+    cs: &CompressionStates<T>,
+    [p1, t1, p2, t2, flow]: [Measured<T>; 5],
+    q_z: Quality,
+    fit: Quality,
+    compressing: bool,
+    [ratio, dt, ln_path, h_iso]: [T; 4],
+    thresholds: &StageThresholds<T>,
+    tables: &StageUses,
+    out: &mut CompressorResult<T>,
+) -> Option<u16> {
+    // Good is 0, uncertain 1: usable slots and good-or-uncertain model
+    // checks in one test.
+    let model = fit.worst(cs.isentropic_validity.quality);
+    let discharge = cs.validity.quality;
+    let worst = p1.quality as u8
+        | t1.quality as u8
+        | p2.quality as u8
+        | t2.quality as u8
+        | flow.quality as u8
+        | q_z as u8
+        | model as u8
+        | discharge as u8;
+    if worst > Quality::Uncertain as u8
+        || !cs.has_discharge
+        || !compressing
+        || !T::positive_at_most(dt, T::of(f64::INFINITY))
+        || T::less_not_nan(thresholds.max_stage_ratio, ratio)
+        || !(flow.value > thresholds.stationary_flow)
+        || T::less_not_nan(dt, thresholds.min_temperature_rise)
+        || T::less_not_nan(ln_path, thresholds.min_log_ratio)
+    {
+        return None;
+    }
+    let poly = schultz(cs, ln_path)?;
+    let actual = cs.enthalpy_rise;
+    let hs = cs.isentropic_enthalpy_rise;
+    let eta_s = hs / actual;
+    if efficiency_pair_grade(eta_s, poly.efficiency) != Quality::Good {
+        return None;
+    }
+    let above = actual - h_iso;
+    // Written before the finiteness test (read back from `out`, no copy
+    // on the stack): without it, the general path overwrites them all.
+    out.pressure_ratio.value = ratio;
+    out.isentropic_discharge_temperature.value = cs.isentropic_temperature;
+    out.temperature_rise.value = dt;
+    out.isentropic_head.value = hs;
+    out.polytropic_head.value = poly.head;
+    out.isothermal_head.value = h_iso;
+    out.actual_work.value = actual;
+    out.isentropic_efficiency.value = eta_s;
+    out.polytropic_efficiency.value = poly.efficiency;
+    out.polytropic_exponent.value = poly.exponent;
+    out.mass_flow.value = flow.value;
+    out.gas_power.value = flow.value * actual;
+    out.work_above_isothermal.value = above;
+    out.power_above_isothermal.value = flow.value * above;
+    out.compressibility.value = cs.suction_z;
+    out.k.value = cs.isentropic_exponent;
+    if !T::all_finite(&compressor_values(out)) {
+        return None;
+    }
+    out.gas_validity = cs.validity;
+    out.polytropic_method = poly.method;
+    out.condition = if discharge == Quality::Good {
+        StageCondition::Normal
+    } else {
+        StageCondition::OutsideGasModel
+    };
+    let uncertain_slot = |s: Slots, q: Quality| u32::from(s.0) * u32::from(q as u8);
+    let slots = uncertain_slot(slot::P1, p1.quality)
+        | uncertain_slot(slot::T1, t1.quality)
+        | uncertain_slot(slot::P2, p2.quality)
+        | uncertain_slot(slot::T2, t2.quality)
+        | uncertain_slot(slot::FLOW, flow.quality)
+        | uncertain_slot(slot::Z, q_z);
+    let mut uncertain = tables.users.spread(slots);
+    if model != Quality::Good {
+        uncertain |= tables.model_uncertain[0];
+    }
+    if discharge != Quality::Good {
+        uncertain |= tables.model_uncertain[1];
+    }
+    Some(uncertain)
+}
+
+/// The sixteen values of a result, in the order of `done`.
+#[inline(always)]
+fn compressor_values<T: Real>(o: &CompressorResult<T>) -> [T; 16] {
+    [
+        o.pressure_ratio.value,
+        o.isentropic_discharge_temperature.value,
+        o.temperature_rise.value,
+        o.isentropic_head.value,
+        o.polytropic_head.value,
+        o.isothermal_head.value,
+        o.actual_work.value,
+        o.isentropic_efficiency.value,
+        o.polytropic_efficiency.value,
+        o.polytropic_exponent.value,
+        o.mass_flow.value,
+        o.gas_power.value,
+        o.work_above_isothermal.value,
+        o.power_above_isothermal.value,
+        o.compressibility.value,
+        o.k.value,
+    ]
+}
+
+/// The sixteen outputs of a result, in the order of `done`.
+#[inline(always)]
+fn compressor_outputs<T>(o: &mut CompressorResult<T>) -> [&mut Measured<T>; 16] {
+    [
+        &mut o.pressure_ratio,
+        &mut o.isentropic_discharge_temperature,
+        &mut o.temperature_rise,
+        &mut o.isentropic_head,
+        &mut o.polytropic_head,
+        &mut o.isothermal_head,
+        &mut o.actual_work,
+        &mut o.isentropic_efficiency,
+        &mut o.polytropic_efficiency,
+        &mut o.polytropic_exponent,
+        &mut o.mass_flow,
+        &mut o.gas_power,
+        &mut o.work_above_isothermal,
+        &mut o.power_above_isothermal,
+        &mut o.compressibility,
+        &mut o.k,
+    ]
+}
+
+/// Every output usable: uncertain where `uncertain` has its bit (the
+/// order of `done`), else good. Out of line: one copy for the nominal
+/// finish and [`settle_compressor_outputs`].
+#[inline(never)]
+fn settle_usable<T: Real>(o: &mut CompressorResult<T>, uncertain: u16) {
+    let q = |bit: u16| {
+        if uncertain & bit != 0 {
+            Quality::Uncertain
+        } else {
+            Quality::Good
+        }
+    };
+    o.pressure_ratio.quality = q(1 << 0);
+    o.isentropic_discharge_temperature.quality = q(1 << 1);
+    o.temperature_rise.quality = q(1 << 2);
+    o.isentropic_head.quality = q(1 << 3);
+    o.polytropic_head.quality = q(1 << 4);
+    o.isothermal_head.quality = q(1 << 5);
+    o.actual_work.quality = q(1 << 6);
+    o.isentropic_efficiency.quality = q(1 << 7);
+    o.polytropic_efficiency.quality = q(1 << 8);
+    o.polytropic_exponent.quality = q(1 << 9);
+    o.mass_flow.quality = q(1 << 10);
+    o.gas_power.quality = q(1 << 11);
+    o.work_above_isothermal.quality = q(1 << 12);
+    o.power_above_isothermal.quality = q(1 << 13);
+    o.compressibility.quality = q(1 << 14);
+    o.k.quality = q(1 << 15);
 }
 
 /// The worse of the two efficiencies' grades ([`efficiency_grade`]), the
@@ -709,59 +887,17 @@ fn settle_compressor_outputs<T: Real>(g: &OutputGrades, o: &mut CompressorResult
     // it. Otherwise (and always with soft float, where the one test saves
     // nothing: measured 60 instructions per stage slower on Cortex-M0)
     // output by output.
-    let values = [
-        o.pressure_ratio.value,
-        o.isentropic_discharge_temperature.value,
-        o.temperature_rise.value,
-        o.isentropic_head.value,
-        o.polytropic_head.value,
-        o.isothermal_head.value,
-        o.actual_work.value,
-        o.isentropic_efficiency.value,
-        o.polytropic_efficiency.value,
-        o.polytropic_exponent.value,
-        o.mass_flow.value,
-        o.gas_power.value,
-        o.work_above_isothermal.value,
-        o.power_above_isothermal.value,
-        o.compressibility.value,
-        o.k.value,
-    ];
-    if HARD_FLOAT && g.all_usable(u16::MAX) && T::all_finite(&values) {
-        o.pressure_ratio.quality = g.usable_quality(1 << 0);
-        o.isentropic_discharge_temperature.quality = g.usable_quality(1 << 1);
-        o.temperature_rise.quality = g.usable_quality(1 << 2);
-        o.isentropic_head.quality = g.usable_quality(1 << 3);
-        o.polytropic_head.quality = g.usable_quality(1 << 4);
-        o.isothermal_head.quality = g.usable_quality(1 << 5);
-        o.actual_work.quality = g.usable_quality(1 << 6);
-        o.isentropic_efficiency.quality = g.usable_quality(1 << 7);
-        o.polytropic_efficiency.quality = g.usable_quality(1 << 8);
-        o.polytropic_exponent.quality = g.usable_quality(1 << 9);
-        o.mass_flow.quality = g.usable_quality(1 << 10);
-        o.gas_power.quality = g.usable_quality(1 << 11);
-        o.work_above_isothermal.quality = g.usable_quality(1 << 12);
-        o.power_above_isothermal.quality = g.usable_quality(1 << 13);
-        o.compressibility.quality = g.usable_quality(1 << 14);
-        o.k.quality = g.usable_quality(1 << 15);
+    if HARD_FLOAT && g.all_usable(u16::MAX) && T::all_finite(&compressor_values(o)) {
+        settle_usable(o, g.uncertain());
         return;
     }
-    g.settle(&mut o.pressure_ratio, 1 << 0);
-    g.settle(&mut o.isentropic_discharge_temperature, 1 << 1);
-    g.settle(&mut o.temperature_rise, 1 << 2);
-    g.settle(&mut o.isentropic_head, 1 << 3);
-    g.settle(&mut o.polytropic_head, 1 << 4);
-    g.settle(&mut o.isothermal_head, 1 << 5);
-    g.settle(&mut o.actual_work, 1 << 6);
-    g.settle(&mut o.isentropic_efficiency, 1 << 7);
-    g.settle(&mut o.polytropic_efficiency, 1 << 8);
-    g.settle(&mut o.polytropic_exponent, 1 << 9);
-    g.settle(&mut o.mass_flow, 1 << 10);
-    g.settle(&mut o.gas_power, 1 << 11);
-    g.settle(&mut o.work_above_isothermal, 1 << 12);
-    g.settle(&mut o.power_above_isothermal, 1 << 13);
-    g.settle(&mut o.compressibility, 1 << 14);
-    g.settle(&mut o.k, 1 << 15);
+    // A loop: the rare case since the nominal finish (16 inlined copies
+    // were 594 bytes more flash on Cortex-M4F).
+    let mut bit = 1;
+    for m in compressor_outputs(o) {
+        g.settle(m, bit);
+        bit <<= 1;
+    }
 }
 
 /// The turned-around measured-stage tables ([`StageUses`]) for the
@@ -951,6 +1087,133 @@ mod tests {
         let r = evaluate_compressor(&outside, &inputs(100e3, 300.0, 300e3, 420.0));
         assert_eq!(r.gas_validity.quality, Quality::Uncertain);
         check(&outside);
+    }
+
+    /// Consistency check (the project's own rule, two implementations):
+    /// a train's stage, which finishes the common case in
+    /// `nominal_stage`, gives the result of the general path (a caller
+    /// without the table never takes it) bit for bit, for seeded random
+    /// stages around every check's boundary: input qualities, ratios near
+    /// 1 and the stage maximum, rises near 0 and the resolution limit,
+    /// flows near the stationary threshold, efficiencies above 1, supplied
+    /// Z, models inside and outside their validity, f32 and f64.
+    #[test]
+    fn nominal_finish_equals_the_general_path() {
+        use crate::gas::{components, PengRobinson};
+        fn check<T: Real, G: GasModel<T>>(gas: &G, seed: u32) -> usize {
+            let mut next = crate::xorshift32(seed);
+            let table = StageUses::new(gas.property_inputs());
+            let limits = Limits::<T> {
+                stationary_flow: T::of(0.5),
+                ..Limits::default()
+            };
+            let thresholds = StageThresholds::of(&limits);
+            let mut nominal = 0;
+            for case in 0..20_000 {
+                let mut draw = [0.0; 10];
+                for d in &mut draw {
+                    *d = f64::from(next() >> 8) / f64::from(1u32 << 24);
+                }
+                let [u0, u1, u2, u3, u4, u5, u6, u7, u8, u9] = draw;
+                // Six 4-bit draws: good 11 in 16, uncertain 3, bad and
+                // not applicable 1 each.
+                let qualities = next();
+                let quality = |k: u32| match (qualities >> (4 * k)) & 15 {
+                    0 => Quality::Bad,
+                    1 => Quality::NotApplicable,
+                    2..=4 => Quality::Uncertain,
+                    _ => Quality::Good,
+                };
+                let p1 = 50e3 + 5e6 * u0;
+                let ratio = match (u1 * 6.0) as u32 {
+                    0 => 1.0 + 0.02 * (u2 - 0.5),
+                    1 => 50.0 * (1.0 + 0.01 * (u2 - 0.5)),
+                    _ => 1.0 + 4.0 * u2,
+                };
+                let t1 = 220.0 + 200.0 * u3;
+                let ideal_rise = t1 * (ratio.powf(0.2857) - 1.0);
+                let rise = match (u4 * 6.0) as u32 {
+                    0 => 10.0 * (u5 - 0.5),
+                    1 => ideal_rise * (0.9 + 0.2 * u5),
+                    _ => ideal_rise * (1.0 + 0.6 * u5),
+                };
+                let flow = if u6 < 0.2 { u7 } else { 10.0 * u7 };
+                let m = |x: f64, k: u32| Measured::new(T::of(x), quality(k));
+                let i = CompressorInputs {
+                    suction_pressure: m(p1, 0),
+                    suction_temperature: m(t1, 1),
+                    discharge_pressure: m(p1 * ratio, 2),
+                    discharge_temperature: m(t1 + rise, 3),
+                    mass_flow: m(flow, 4),
+                    compressibility: if u8 < 0.3 {
+                        Some((T::of(0.9 + 0.15 * u9), quality(5)))
+                    } else {
+                        None
+                    },
+                };
+                let (mut a, mut b) = (CompressorResult::bad(), CompressorResult::bad());
+                evaluate_compressor_tabled(gas, &i, &thresholds, None, &mut a);
+                evaluate_compressor_tabled(gas, &i, &thresholds, Some(&table), &mut b);
+                // Bit for bit (`==` would let -0.0 equal 0.0).
+                assert_eq!(
+                    compressor_values(&a).map(|x| T::to_f64(x).to_bits()),
+                    compressor_values(&b).map(|x| T::to_f64(x).to_bits()),
+                    "case {case}: {i:?}"
+                );
+                assert_eq!(a, b, "case {case}: {i:?}");
+                let usable = [
+                    a.pressure_ratio,
+                    a.isentropic_discharge_temperature,
+                    a.temperature_rise,
+                    a.isentropic_head,
+                    a.polytropic_head,
+                    a.isothermal_head,
+                    a.actual_work,
+                    a.isentropic_efficiency,
+                    a.polytropic_efficiency,
+                    a.polytropic_exponent,
+                    a.mass_flow,
+                    a.gas_power,
+                    a.work_above_isothermal,
+                    a.power_above_isothermal,
+                    a.compressibility,
+                    a.k,
+                ]
+                .iter()
+                .all(|m| m.quality.is_usable());
+                if usable
+                    && matches!(
+                        a.condition,
+                        StageCondition::Normal | StageCondition::OutsideGasModel
+                    )
+                {
+                    nominal += 1;
+                }
+            }
+            nominal
+        }
+        let air = IdealGas::<f64>::from_spec(&AIR, false, 1.0).unwrap();
+        let counts = [
+            check(&air, 1),
+            check(&air.with_validity_limit(1e3), 2),
+            check(&IdealGas::<f64>::from_spec(&AIR, true, 1.0).unwrap(), 3),
+            check(&IdealGas::<f32>::from_spec(&AIR, false, 1.0).unwrap(), 4),
+            check(
+                &IdealGas::<f32>::from_spec(&AIR, false, 1.0)
+                    .unwrap()
+                    .with_validity_limit(1e3),
+                5,
+            ),
+            check(&IdealGas::<f32>::from_spec(&AIR, true, 1.0).unwrap(), 6),
+            check(
+                &PengRobinson::<f64, 1>::pure(components::METHANE).unwrap(),
+                7,
+            ),
+        ];
+        // The common case is among them (the nominal finish is exercised).
+        for n in counts {
+            assert!(n > 2_000, "{counts:?}");
+        }
     }
 
     /// Consistency check: the pair grade is the worse of the two single
