@@ -6,6 +6,8 @@
 //! allocates, never panics and runs bounded loops over `N` stages and `W`
 //! window samples.
 
+use core::mem::MaybeUninit;
+
 use crate::cooler::{
     evaluate_cooler_packed, packed_quality, CoolerConfig, CoolerInputs, CoolerResult, I_DH, I_FLOW,
     I_MC, I_PIN, I_POUT, I_TC, I_TCO, I_TIN, I_TOUT,
@@ -174,6 +176,46 @@ pub struct Train<T, G, const N: usize, const W: usize> {
     si: [StageSi<T>; N],
 }
 
+impl<T: Real> StageResult<T> {
+    /// The result of `stage` before the first scan: every value bad, the
+    /// steady state unknown. Out of line: one copy of its stores serves
+    /// every stage (configuration-time flash).
+    #[inline(never)]
+    fn before_first_scan(stage: &StageConfig<T>) -> Self {
+        Self::initial(stage)
+    }
+
+    /// [`StageResult::before_first_scan`], inlined (where it is built in
+    /// place with the rest of a train returned by value).
+    #[inline(always)]
+    fn initial(stage: &StageConfig<T>) -> Self {
+        StageResult {
+            work: match stage.kind {
+                StageKind::Compressor => StageWork::Compressor(CompressorResult::bad()),
+                StageKind::Pump { .. } => StageWork::Pump(PumpResult::bad()),
+            },
+            steady_state: SteadyState::unknown(),
+        }
+    }
+}
+
+impl<T: Real> CoolerResult<T> {
+    /// The result of the cooler after `stage` before the first scan: every
+    /// value bad (`None` without a cooler). Out of line, as
+    /// [`StageResult::before_first_scan`].
+    #[inline(never)]
+    fn before_first_scan(stage: &StageConfig<T>) -> Option<Self> {
+        Self::initial(stage)
+    }
+
+    /// [`CoolerResult::before_first_scan`], inlined (as
+    /// [`StageResult::initial`]).
+    #[inline(always)]
+    fn initial(stage: &StageConfig<T>) -> Option<Self> {
+        stage.cooler.map(|_| CoolerResult::bad())
+    }
+}
+
 /// Per-stage inputs after the sensor boundary, SI.
 #[derive(Clone, Copy, Debug)]
 struct StageSi<T> {
@@ -239,79 +281,11 @@ fn validate_stages<T: Real, const N: usize>(
     let mut seen_pump = false;
     let mut previous_discharge: Option<T> = None;
     for (i, s) in stages.iter().enumerate() {
-        let p1 = s.design_suction_pressure.pa();
-        let p2 = s.design_discharge_pressure.pa();
-        check_positive("stages.design_suction_pressure", p1).map_err(|e| e.at(i))?;
-        // Design pressures inside the sensor boundary (a design point the
-        // boundary would call bad cannot be right).
-        let (lo, hi) = (limits.min_pressure.to_f64(), limits.max_pressure.to_f64());
-        check_range("stages.design_suction_pressure", p1, lo, hi).map_err(|e| e.at(i))?;
-        check_range("stages.design_discharge_pressure", p2, lo, hi).map_err(|e| e.at(i))?;
-        if !(p2 > p1) {
-            return Err(ConfigError::new(
-                "stages.design_discharge_pressure",
-                Problem::NotAbove {
-                    other: "stages.design_suction_pressure",
-                },
-            )
-            .at(i));
-        }
-        if let Some(prev) = previous_discharge {
-            let lowest = prev * (T::ONE - max_drop);
-            if p1 > prev || p1 < lowest {
-                return Err(ConfigError::new(
-                    "stages.design_suction_pressure",
-                    Problem::Inconsistent {
-                        with: "previous stage's design_discharge_pressure and max_interstage_pressure_drop",
-                    },
-                )
-                .at(i));
-            }
-        }
-        previous_discharge = Some(p2);
+        check_stage(s, previous_discharge, seen_pump, max_drop, limits).map_err(|e| e.at(i))?;
+        previous_discharge = Some(s.design_discharge_pressure.pa());
         match s.kind {
-            StageKind::Compressor => {
-                if seen_pump {
-                    return Err(ConfigError::new(
-                        "stages.kind",
-                        Problem::Inconsistent {
-                            with: "a pump before it (pumps may only end a train)",
-                        },
-                    )
-                    .at(i));
-                }
-                compressors = compressors.saturating_add(1);
-            }
-            StageKind::Pump {
-                density,
-                efficiency,
-            } => {
-                seen_pump = true;
-                check_range(
-                    "stages.pump.density",
-                    density,
-                    PUMP_DENSITY_RANGE.0,
-                    PUMP_DENSITY_RANGE.1,
-                )
-                .map_err(|e| e.at(i))?;
-                if !(T::is_finite(efficiency) && efficiency > T::ZERO && efficiency <= T::ONE) {
-                    return Err(if T::is_finite(efficiency) {
-                        ConfigError::out_of_range("stages.pump.efficiency", 0.0, 1.0)
-                    } else {
-                        ConfigError::not_finite("stages.pump.efficiency")
-                    }
-                    .at(i));
-                }
-            }
-        }
-        if let Some(c) = s.cooler {
-            check_range(
-                "stages.cooler.coolant_cp",
-                c.coolant_cp,
-                COOLANT_CP_RANGE.0,
-                COOLANT_CP_RANGE.1,
-            )
-            .map_err(|e| e.at(i))?;
+            StageKind::Compressor => compressors = compressors.saturating_add(1),
+            StageKind::Pump { .. } => seen_pump = true,
         }
     }
     if compressors == 0 {
@@ -323,6 +297,125 @@ fn validate_stages<T: Real, const N: usize>(
         ));
     }
     Ok(compressors)
+}
+
+/// The checks of one stage of [`validate_stages`] (its refusal without the
+/// stage index, which the caller adds): after the stage before it
+/// (`previous_discharge`, its design discharge pressure) and any pump
+/// (`seen_pump`). Out of line: one copy of the checks, however the loop over
+/// the stages is unrolled (configuration-time flash).
+#[inline(never)]
+fn check_stage<T: Real>(
+    s: &StageConfig<T>,
+    previous_discharge: Option<T>,
+    seen_pump: bool,
+    max_drop: T,
+    limits: &Limits<T>,
+) -> Result<(), ConfigError> {
+    let p1 = s.design_suction_pressure.pa();
+    let p2 = s.design_discharge_pressure.pa();
+    check_positive("stages.design_suction_pressure", p1)?;
+    // Design pressures inside the sensor boundary (a design point the
+    // boundary would call bad cannot be right).
+    let (lo, hi) = (limits.min_pressure.to_f64(), limits.max_pressure.to_f64());
+    check_range("stages.design_suction_pressure", p1, lo, hi)?;
+    check_range("stages.design_discharge_pressure", p2, lo, hi)?;
+    if !(p2 > p1) {
+        return Err(ConfigError::new(
+            "stages.design_discharge_pressure",
+            Problem::NotAbove {
+                other: "stages.design_suction_pressure",
+            },
+        ));
+    }
+    if let Some(prev) = previous_discharge {
+        let lowest = prev * (T::ONE - max_drop);
+        if p1 > prev || p1 < lowest {
+            return Err(ConfigError::new(
+                "stages.design_suction_pressure",
+                Problem::Inconsistent {
+                    with: "previous stage's design_discharge_pressure and max_interstage_pressure_drop",
+                },
+            ));
+        }
+    }
+    match s.kind {
+        StageKind::Compressor => {
+            if seen_pump {
+                return Err(ConfigError::new(
+                    "stages.kind",
+                    Problem::Inconsistent {
+                        with: "a pump before it (pumps may only end a train)",
+                    },
+                ));
+            }
+        }
+        StageKind::Pump {
+            density,
+            efficiency,
+        } => {
+            check_range(
+                "stages.pump.density",
+                density,
+                PUMP_DENSITY_RANGE.0,
+                PUMP_DENSITY_RANGE.1,
+            )?;
+            if !(T::is_finite(efficiency) && efficiency > T::ZERO && efficiency <= T::ONE) {
+                return Err(if T::is_finite(efficiency) {
+                    ConfigError::out_of_range("stages.pump.efficiency", 0.0, 1.0)
+                } else {
+                    ConfigError::not_finite("stages.pump.efficiency")
+                });
+            }
+        }
+    }
+    if let Some(c) = s.cooler {
+        check_range(
+            "stages.cooler.coolant_cp",
+            c.coolant_cp,
+            COOLANT_CP_RANGE.0,
+            COOLANT_CP_RANGE.1,
+        )?;
+    }
+    Ok(())
+}
+
+/// The train of a validated configuration (`Train<T, G, N, W>` in the
+/// `impl` where it is expanded), its snapshot's stage and cooler results
+/// given: the one build of [`Train::with_limits`] and [`Train::new_in`]. A
+/// macro, not a function: the train is built where the caller writes it (a
+/// function's result was copied, a whole train, in `Train::with_limits`).
+macro_rules! built_train {
+    ($config:expr, $limits:expr, $compressor_stages:expr, $stages:expr, $coolers:expr) => {{
+        let config = $config;
+        let limits = $limits;
+        let compressor_stages: u8 = $compressor_stages;
+        let configured_z = config
+            .gas
+            .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
+            .z;
+        let stage_uses = StageUses::new(config.gas.property_inputs());
+        let equal_ratio_exponent = equal_ratio_fraction(u32::from(compressor_stages), 0);
+        let stage_thresholds = StageThresholds::of(&limits);
+        Train {
+            config,
+            limits,
+            configured_z,
+            compressor_stages,
+            equal_ratio_exponent,
+            stage_thresholds,
+            stage_uses,
+            detectors: core::array::from_fn(SteadyStateDetector::staggered),
+            snapshot: Snapshot {
+                stages: $stages,
+                coolers: $coolers,
+                interstage: [None; N],
+                totals: TrainTotals::bad(compressor_stages),
+                scan_count: 0,
+            },
+            si: [StageSi::CLEARED; N],
+        }
+    }};
 }
 
 impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> {
@@ -349,46 +442,75 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         config: TrainConfig<T, G, N>,
         limits: Limits<T>,
     ) -> Result<Self, ConfigError> {
+        let compressor_stages = Self::validate(&config, &limits)?;
+        let stages = config.stages.map(|s| StageResult::initial(&s));
+        let coolers = config.stages.map(|s| CoolerResult::initial(&s));
+        Ok(built_train!(
+            config,
+            limits,
+            compressor_stages,
+            stages,
+            coolers
+        ))
+    }
+
+    /// As [`Train::new`], built in place in `slot` (for a device whose RAM
+    /// holds the train once: no copy of it is built on the stack and moved).
+    /// On a refusal `slot` is left as it was.
+    pub fn new_in(
+        slot: &mut MaybeUninit<Self>,
+        config: TrainConfig<T, G, N>,
+    ) -> Result<&mut Self, ConfigError> {
+        let limits = Limits::default();
+        let compressor_stages = Self::validate(&config, &limits)?;
+        // Every stage holds the first stage's initial result and no cooler
+        // one until `reset_snapshot` writes them in place (no array of them
+        // built on the stack and moved).
+        let placeholder = config.stages.first().map_or(
+            StageResult {
+                work: StageWork::Compressor(CompressorResult::bad()),
+                steady_state: SteadyState::unknown(),
+            },
+            StageResult::before_first_scan,
+        );
+        let train = slot.write(built_train!(
+            config,
+            limits,
+            compressor_stages,
+            [placeholder; N],
+            [None; N]
+        ));
+        train.reset_snapshot();
+        Ok(train)
+    }
+
+    /// The checks of [`Train::with_limits`]: the number of compressor
+    /// stages, or the refusal.
+    #[inline(always)]
+    fn validate(config: &TrainConfig<T, G, N>, limits: &Limits<T>) -> Result<u8, ConfigError> {
         const { assert!(N >= 1 && N <= 255, "a train needs 1 to 255 stages") };
         if let Some((field, min, max)) = limits.first_invalid() {
             return Err(ConfigError::out_of_range(field, min, max));
         }
         config.steady_state.validate()?;
-        let compressor_stages =
-            validate_stages(&config.stages, config.max_interstage_pressure_drop, &limits)?;
-        let stages = config.stages.map(|s| StageResult {
-            work: match s.kind {
-                StageKind::Compressor => StageWork::Compressor(CompressorResult::bad()),
-                StageKind::Pump { .. } => StageWork::Pump(PumpResult::bad()),
-            },
-            steady_state: SteadyState::unknown(),
-        });
-        let coolers = config.stages.map(|s| s.cooler.map(|_| CoolerResult::bad()));
-        let configured_z = config
-            .gas
-            .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
-            .z;
-        let stage_uses = StageUses::new(config.gas.property_inputs());
-        let equal_ratio_exponent = equal_ratio_fraction(u32::from(compressor_stages), 0);
-        let stage_thresholds = StageThresholds::of(&limits);
-        Ok(Train {
-            config,
-            limits,
-            configured_z,
-            compressor_stages,
-            equal_ratio_exponent,
-            stage_thresholds,
-            stage_uses,
-            detectors: core::array::from_fn(SteadyStateDetector::staggered),
-            snapshot: Snapshot {
-                stages,
-                coolers,
-                interstage: [None; N],
-                totals: TrainTotals::bad(compressor_stages),
-                scan_count: 0,
-            },
-            si: [StageSi::CLEARED; N],
-        })
+        validate_stages(&config.stages, config.max_interstage_pressure_drop, limits)
+    }
+
+    /// Sets every stage's and cooler's result to its value before the
+    /// first scan ([`StageResult::before_first_scan`],
+    /// [`CoolerResult::before_first_scan`]), in place.
+    #[inline(never)]
+    fn reset_snapshot(&mut self) {
+        let snapshot = &mut self.snapshot;
+        for ((r, c), s) in snapshot
+            .stages
+            .iter_mut()
+            .zip(snapshot.coolers.iter_mut())
+            .zip(self.config.stages.iter())
+        {
+            *r = StageResult::before_first_scan(s);
+            *c = CoolerResult::before_first_scan(s);
+        }
     }
 
     /// The validated configuration.
