@@ -3,7 +3,11 @@
 //!
 //! Every transcendental function forwards to a `libm` free function, so the
 //! host runs exactly the maths the device runs (calling `x.powf(y)` on a host
-//! would silently use the platform's `std` maths instead). With the
+//! would silently use the platform's `std` maths instead); the exceptions
+//! are the default `f32` build's `ln` and `exp`, the crate's own
+//! table-driven functions (`table_log_exp`: at most 1 ulp from the
+//! correctly rounded result, measured exhaustively), equally the same code
+//! on host and device. With the
 //! `approx-math` feature the `f32` logarithm, exponential and power go to
 //! `micromath` approximations (measured here: relative error at most 9.3e-4
 //! for `ln` and 7.6e-4 for `exp`; the bounds the tests enforce are 1.2e-3);
@@ -311,21 +315,28 @@ impl_real!(
     libm::fabs
 );
 
-// `ln` and `exp` go through out-of-line wrappers: with LTO, `logf` and
-// `expf` were inlined at every call site (about 140 bytes each, some 20
-// copies). Measured on Cortex-M4F (ci/measure.sh, the `inline-math` column):
+// The `f32` `ln` and `exp` of the default build: table-driven (Tang's
+// method, in `table_log_exp`), at most 1 ulp from the correctly rounded
+// result, with an out-of-line `libm` fall-back for the rare arguments. Compiled in
+// tests of every build so its accuracy tests run there too.
+#[cfg(any(test, not(feature = "approx-math")))]
+mod table_log_exp;
+
+// `ln` and `exp` go through out-of-line wrappers: with LTO, the bodies were
+// inlined at every call site (some 20 copies). Measured on Cortex-M4F
+// (ci/measure.sh, the `inline-math` column, with `libm`'s `logf`/`expf`):
 // out of line the whole controller scan is both smaller and faster (fewer
-// spills around the inlined bodies); results are bit-identical. The
-// `inline-math` feature restores the inlined form.
+// spills around the inlined bodies). The `inline-math` feature inlines the
+// same table-driven functions: results bit-identical either way.
 #[cfg(all(not(feature = "approx-math"), not(feature = "inline-math")))]
 mod outline {
     #[inline(never)]
     pub fn ln(x: f32) -> f32 {
-        libm::logf(x)
+        super::table_log_exp::ln(x)
     }
     #[inline(never)]
     pub fn exp(x: f32) -> f32 {
-        libm::expf(x)
+        super::table_log_exp::exp(x)
     }
 }
 
@@ -348,8 +359,8 @@ impl_real!(
     bits::within_nonnegative_f32,
     bits::less_than_f32,
     bits::positive_at_most_f32,
-    libm::logf,
-    libm::expf,
+    table_log_exp::ln,
+    table_log_exp::exp,
     libm::sqrtf,
     libm::powf,
     libm::fabsf
