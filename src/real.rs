@@ -317,7 +317,7 @@ impl_real!(
 
 // The `f32` `ln` and `exp` of the default build: table-driven (Tang's
 // method, in `table_log_exp`), at most 1 ulp from the correctly rounded
-// result, with an out-of-line `libm` fall-back for the rare arguments. Compiled in
+// result, with an out-of-line path for the rare arguments. Compiled in
 // tests of every build so its accuracy tests run there too.
 #[cfg(any(test, not(feature = "approx-math")))]
 mod table_log_exp;
@@ -329,25 +329,13 @@ mod table_log_exp;
 // spills around the inlined bodies). The `inline-math` feature inlines the
 // same table-driven functions: results bit-identical either way.
 #[cfg(all(not(feature = "approx-math"), not(feature = "inline-math")))]
-mod outline {
-    #[inline(never)]
-    pub fn ln(x: f32) -> f32 {
-        super::table_log_exp::ln(x)
-    }
-    #[inline(never)]
-    pub fn exp(x: f32) -> f32 {
-        super::table_log_exp::exp(x)
-    }
-}
-
-#[cfg(all(not(feature = "approx-math"), not(feature = "inline-math")))]
 impl_real!(
     f32,
     bits::within_nonnegative_f32,
     bits::less_than_f32,
     bits::positive_at_most_f32,
-    outline::ln,
-    outline::exp,
+    table_log_exp::ln_out_of_line,
+    table_log_exp::exp_out_of_line,
     libm::sqrtf,
     libm::powf,
     libm::fabsf

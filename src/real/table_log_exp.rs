@@ -29,69 +29,72 @@
 //!
 //! **Exponential.** x = (32·m + j)·ln2/32 + r with n = 32·m + j the
 //! nearest integer to x·32/ln 2 (by the 1.5·2^23 shifter), ln2/32 split
-//! into a 12-bit high part (n·hi exact for |n| < 2^12) and a low part, so
+//! into an 11-bit high part (n·hi exact for |n| < 2^13) and a low part, so
 //! |r| ≤ ln2/64 + tiny; then exp x = 2^m · 2^(j/32) · (1 + p(r)) with
-//! p(r) = r + r²/2 + r³/6 (truncation r⁴/24 < 2^-30) and 2^m added to the
-//! exponent bits.
+//! p(r) = r + r²/2 + r³/6 (truncation r⁴/24 < 2^-30), 2^(j/32) as an
+//! `f32` plus its rounded rest (added after the product: within about
+//! half an ulp), and 2^m added to the exponent bits.
 //!
 //! Accuracy, measured (the tests below, and the exhaustive runs recorded in
 //! their documentation): at most 1 ulp from the correctly rounded result for
-//! every positive normal `x` (ln) and every `x` with |x| ≤ 64 (exp). The
-//! rare arguments (zero, negative, subnormal, infinite, NaN for ln; |x| > 64,
-//! infinite, NaN for exp) go to an out-of-line `libm` call, so the
-//! special values are exactly `libm`'s.
+//! every positive `x` (ln) and every `x` with a finite nonzero result (exp).
+//! The rare arguments (zero, negative, subnormal, infinite, NaN for ln;
+//! |x| > 64, infinite, NaN for exp) go to an out-of-line function that
+//! gives `libm`'s special values (−∞, +∞, NaN, 0) and computes the rest
+//! (ln of a subnormal, exp with a huge or subnormal result) by the same
+//! tables.
 
 /// Lower end of the reduced argument z (bits): the 32 intervals of z are
 /// placed so that the twentieth, [0.98958, 1.01042], straddles 1 about
 /// symmetrically.
 const LN_REDUCED_FROM: u32 = 0x3f31_5556;
 /// ln 2 to 16 significant bits (k·LN2_HI exact for |k| ≤ 256).
-const LN2_HI: f32 = 6.931457520e-01;
+const LN2_HI: f32 = 6.9314575e-1;
 /// ln 2 − LN2_HI.
-const LN2_LO: f32 = 1.428606765e-06;
+const LN2_LO: f32 = 1.4286068e-6;
 /// 1/3 (the r³ coefficient of ln(1 + r)).
-const ONE_THIRD: f32 = 3.333333433e-01;
+const ONE_THIRD: f32 = 3.3333334e-1;
 
 /// Breakpoint c, 1/c rounded, and ln c (the stored value includes the
 /// tiny c·(1/c) − 1, see the module documentation) for each interval of z.
 #[rustfmt::skip]
 const LN_TABLE: [[f32; 3]; 32] = [
-    [7.003872395e-01, 1.427781582e+00, -3.561218977e-01],
-    [7.161279917e-01, 1.396398425e+00, -3.338963687e-01],
-    [7.319141626e-01, 1.366280437e+00, -3.120920360e-01],
-    [7.474126220e-01, 1.337949038e+00, -2.911378741e-01],
-    [7.628606558e-01, 1.310855389e+00, -2.706798911e-01],
-    [7.784386277e-01, 1.284622788e+00, -2.504651248e-01],
-    [7.941197753e-01, 1.259255886e+00, -2.305209786e-01],
-    [8.099711537e-01, 1.234611869e+00, -2.107566446e-01],
-    [8.254519105e-01, 1.211457610e+00, -1.918242723e-01],
-    [8.408854008e-01, 1.189222693e+00, -1.732998937e-01],
-    [8.568235040e-01, 1.167101502e+00, -1.545233279e-01],
-    [8.724102974e-01, 1.146249652e+00, -1.364954412e-01],
-    [8.880173564e-01, 1.126104116e+00, -1.187639907e-01],
-    [9.037399292e-01, 1.106513023e+00, -1.012136489e-01],
-    [9.192073345e-01, 1.087893844e+00, -8.424357325e-02],
-    [9.347105026e-01, 1.069849968e+00, -6.751842052e-02],
-    [9.504828453e-01, 1.052096844e+00, -5.078516528e-02],
-    [9.661735892e-01, 1.035010695e+00, -3.441176191e-02],
-    [9.817638993e-01, 1.018574834e+00, -1.840442792e-02],
-    [1.000000000e+00, 1.000000000e+00, 0.000000000e+00],
-    [1.025963068e+00, 9.746939540e-01, 2.563175000e-02],
-    [1.057329297e+00, 9.457791448e-01, 5.574619770e-02],
-    [1.088917255e+00, 9.183434248e-01, 8.518385887e-02],
-    [1.119857669e+00, 8.929706216e-01, 1.132015958e-01],
-    [1.151071191e+00, 8.687559962e-01, 1.406929791e-01],
-    [1.182206154e+00, 8.458761573e-01, 1.673823148e-01],
-    [1.213610053e+00, 8.239879012e-01, 1.935994327e-01],
-    [1.244881153e+00, 8.032895327e-01, 2.190400660e-01],
-    [1.276115537e+00, 7.836281061e-01, 2.438207269e-01],
-    [1.307347655e+00, 7.649074793e-01, 2.680003941e-01],
-    [1.338644862e+00, 7.470241189e-01, 2.916578054e-01],
-    [1.369684935e+00, 7.300949097e-01, 3.145807385e-01],
+    [7.0038724e-1, 1.4277816, -3.561219e-1],
+    [7.16128e-1, 1.3963984, -3.3389637e-1],
+    [7.3191416e-1, 1.3662804, -3.1209204e-1],
+    [7.474126e-1, 1.337949, -2.9113787e-1],
+    [7.6286066e-1, 1.3108554, -2.706799e-1],
+    [7.784386e-1, 1.2846228, -2.5046512e-1],
+    [7.941198e-1, 1.2592559, -2.3052098e-1],
+    [8.0997115e-1, 1.2346119, -2.1075664e-1],
+    [8.254519e-1, 1.2114576, -1.9182427e-1],
+    [8.408854e-1, 1.1892227, -1.732999e-1],
+    [8.568235e-1, 1.1671015, -1.5452333e-1],
+    [8.724103e-1, 1.1462497, -1.3649544e-1],
+    [8.8801736e-1, 1.1261041, -1.1876399e-1],
+    [9.037399e-1, 1.106513, -1.0121365e-1],
+    [9.1920733e-1, 1.0878938, -8.424357e-2],
+    [9.347105e-1, 1.06985, -6.751842e-2],
+    [9.5048285e-1, 1.0520968, -5.0785165e-2],
+    [9.661736e-1, 1.0350107, -3.4411762e-2],
+    [9.817639e-1, 1.0185748, -1.8404428e-2],
+    [1.0, 1.0, 0.0],
+    [1.0259631, 9.7469395e-1, 2.563175e-2],
+    [1.0573293, 9.4577914e-1, 5.5746198e-2],
+    [1.0889173, 9.183434e-1, 8.518386e-2],
+    [1.1198577, 8.929706e-1, 1.13201596e-1],
+    [1.1510712, 8.68756e-1, 1.4069298e-1],
+    [1.1822062, 8.4587616e-1, 1.6738231e-1],
+    [1.21361, 8.239879e-1, 1.9359943e-1],
+    [1.2448812, 8.0328953e-1, 2.1904007e-1],
+    [1.2761155, 7.836281e-1, 2.4382073e-1],
+    [1.3073477, 7.649075e-1, 2.680004e-1],
+    [1.3386449, 7.470241e-1, 2.916578e-1],
+    [1.3696849, 7.300949e-1, 3.1458074e-1],
 ];
 
-/// ln x for positive normal `x`; everything else goes to the out-of-line
-/// `libm` path.
+/// ln x, at most 1 ulp from the correctly rounded result for positive
+/// `x`; ln ±0 = −∞, ln +∞ = +∞, NaN for negative `x` and NaN (as `libm`).
 #[inline(always)]
 pub(crate) fn ln(x: f32) -> f32 {
     let ix = x.to_bits();
@@ -118,82 +121,98 @@ pub(crate) fn ln(x: f32) -> f32 {
     }
 }
 
-/// The rare arguments of [`ln`]. Not `#[cold]`: with that hint LLVM
-/// predicated the whole common path (one IT instruction per four, measured
-/// on Cortex-M4F).
+/// [`ln`] out of line (the default build; see `crate::real`).
+#[inline(never)]
+pub(crate) fn ln_out_of_line(x: f32) -> f32 {
+    ln(x)
+}
+
+/// The rare arguments of [`ln`]: zeros, negative values, infinities, NaN
+/// (the values of `libm`'s `logf`) and subnormals: ln(x·2^25) − 25·ln 2
+/// (x·2^25 exact and normal; ln 2 in two parts, the first subtraction
+/// exact: both terms lie on the grid of the result's binade). It calls
+/// the out-of-line [`ln`] rather than a second inlined copy, which the
+/// size-optimised build factored into outlined fragments that the common
+/// path then called (measured on Cortex-M4F: 5 instructions more per
+/// call). Not `#[cold]`: with that hint LLVM predicated the whole common
+/// path (one IT instruction per four, measured on Cortex-M4F).
 #[inline(never)]
 fn ln_rare(x: f32) -> f32 {
-    libm::logf(x)
+    let ix = x.to_bits();
+    if ix << 1 == 0 {
+        f32::NEG_INFINITY
+    } else if ix >= 0x7f80_0000 {
+        // +∞ stays; negative values and NaN (either sign) give NaN.
+        if ix == 0x7f80_0000 {
+            x
+        } else {
+            f32::NAN
+        }
+    } else {
+        const SCALE: f32 = 33_554_432.0; // 2^25
+        (ln_out_of_line(x * SCALE) - 25.0 * LN2_HI) - 25.0 * LN2_LO
+    }
 }
 
 /// 32/ln 2.
-const INV_LN2_32: f32 = 4.616624069e+01;
+const INV_LN2_32: f32 = 4.616624e1;
 /// 1.5·2^23: adding it rounds a value of magnitude below 2^22 to an
 /// integer, which then sits in the low bits of the sum.
 const SHIFTER: f32 = 12_582_912.0;
-/// ln2/32 to 12 significant bits (n·LN2_32_HI exact for |n| < 2^12).
-const LN2_32_HI: f32 = 2.165985107e-02;
+/// ln2/32 to 11 significant bits (n·LN2_32_HI exact for |n| < 2^13, that
+/// is |x| < 177).
+const LN2_32_HI: f32 = 2.166748e-2;
 /// ln2/32 − LN2_32_HI.
-const LN2_32_LO: f32 = 9.983182281e-07;
+const LN2_32_LO: f32 = -6.6310763e-6;
 /// 1/6 (the r³ coefficient of exp r).
-const ONE_SIXTH: f32 = 1.666666716e-01;
+const ONE_SIXTH: f32 = 1.6666667e-1;
 /// Bits of 64.0: beyond it (and for infinities and NaN) the out-of-line path.
 const EXP_TABLE_RANGE_BITS: u32 = 0x4280_0000;
 
-/// 2^(j/32) rounded to `f32`, j = 0..31.
+/// 2^(j/32) rounded to `f32` and the rest (2^(j/32) − that, rounded),
+/// j = 0..31.
 #[rustfmt::skip]
-const EXP_TABLE: [f32; 32] = [
-    1.000000000e+00,
-    1.021897197e+00,
-    1.044273734e+00,
-    1.067140460e+00,
-    1.090507746e+00,
-    1.114386797e+00,
-    1.138788581e+00,
-    1.163724899e+00,
-    1.189207077e+00,
-    1.215247393e+00,
-    1.241857767e+00,
-    1.269050956e+00,
-    1.296839595e+00,
-    1.325236678e+00,
-    1.354255557e+00,
-    1.383909941e+00,
-    1.414213538e+00,
-    1.445180774e+00,
-    1.476826191e+00,
-    1.509164453e+00,
-    1.542210817e+00,
-    1.575980902e+00,
-    1.610490322e+00,
-    1.645755529e+00,
-    1.681792855e+00,
-    1.718619347e+00,
-    1.756252170e+00,
-    1.794709086e+00,
-    1.834008098e+00,
-    1.874167681e+00,
-    1.915206552e+00,
-    1.957144141e+00,
+const EXP_TABLE: [[f32; 2]; 32] = [
+    [1.0, 0.0],
+    [1.0218972, -4.81156e-8],
+    [1.0442737, 4.83347e-8],
+    [1.0671405, -5.933752e-8],
+    [1.0905077, -1.307754e-8],
+    [1.1143868, -5.43554e-8],
+    [1.1387886, 5.3862223e-8],
+    [1.1637249, -4.0514415e-8],
+    [1.1892071, 3.7976353e-8],
+    [1.2152474, -3.267395e-8],
+    [1.2418578, 4.496838e-8],
+    [1.269051, 1.4193333e-9],
+    [1.2968396, -4.0189995e-8],
+    [1.3252367, -3.4963733e-8],
+    [1.3542556, -1.0123349e-8],
+    [1.38391, -5.8755774e-8],
+    [core::f32::consts::SQRT_2, 2.4203235e-8],
+    [1.4451808, 3.3242e-8],
+    [1.4768262, -4.500899e-8],
+    [1.5091645, -2.4959373e-8],
+    [1.5422108, 8.070905e-9],
+    [1.5759809, -5.6610254e-8],
+    [1.6104903, 9.836217e-9],
+    [1.6457555, -5.124972e-8],
+    [1.6817929, -2.4755327e-8],
+    [1.7186193, -4.8496176e-8],
+    [1.7562522, -9.23577e-9],
+    [1.7947091, -1.1415045e-8],
+    [1.8340081, -1.1239278e-8],
+    [1.8741677, -4.6630056e-8],
+    [1.9152066, 9.845328e-9],
+    [1.9571441, -1.7021804e-8],
 ];
 
-/// exp x for |x| ≤ 64 (results normal); everything else goes to the
-/// out-of-line `libm` path (overflow to +inf, underflow to subnormals and 0, NaN).
+/// exp x, at most 1 ulp from the correctly rounded result wherever that
+/// is finite and nonzero; +∞ above 88.722839, 0 at and below −103.972084,
+/// NaN for NaN (as `libm`).
 #[inline(always)]
 pub(crate) fn exp(x: f32) -> f32 {
-    let shifted = x * INV_LN2_32 + SHIFTER;
-    // n = 32·m + j in the low bits (the shifter's own low 14 bits are 0).
-    let n_bits = shifted.to_bits();
-    let nf = shifted - SHIFTER;
-    let r = (x - nf * LN2_32_HI) - nf * LN2_32_LO;
-    // The index is below 32: the fall-back is never taken.
-    let two_j = EXP_TABLE
-        .get((n_bits % 32) as usize)
-        .copied()
-        .unwrap_or(1.0);
-    let r2 = r * r;
-    let p = r + r2 * (0.5 + r * ONE_SIXTH);
-    let y = two_j + two_j * p;
+    let (y, n_bits) = exp_parts(x);
     // 2^m: m = n >> 5 in the exponent field (the shifter's bits shift out).
     let y = f32::from_bits(y.to_bits().wrapping_add((n_bits >> 5) << 23));
     // The range test comes last (straight-line common path; the value
@@ -205,10 +224,62 @@ pub(crate) fn exp(x: f32) -> f32 {
     }
 }
 
-/// The rare arguments of [`exp`] (not `#[cold]`, as for [`ln_rare`]).
+/// 2^(j/32)·exp(r) (in [0.98, 2)) and the bits of the shifted sum with
+/// n = 32·m + j in their low bits, for |x| < 104 (the table method of the
+/// module documentation).
+#[inline(always)]
+fn exp_parts(x: f32) -> (f32, u32) {
+    let shifted = x * INV_LN2_32 + SHIFTER;
+    // n = 32·m + j in the low bits (the shifter's own low 14 bits are 0).
+    let n_bits = shifted.to_bits();
+    let nf = shifted - SHIFTER;
+    let r = (x - nf * LN2_32_HI) - nf * LN2_32_LO;
+    // The index is below 32: the fall-back is never taken.
+    let [two_j, two_j_rest] = EXP_TABLE
+        .get((n_bits % 32) as usize)
+        .copied()
+        .unwrap_or([1.0, 0.0]);
+    let r2 = r * r;
+    let p = r + r2 * (0.5 + r * ONE_SIXTH);
+    (two_j + (two_j * p + two_j_rest), n_bits)
+}
+
+/// [`exp`] out of line (the default build; see `crate::real`).
+#[cfg_attr(
+    any(feature = "approx-math", feature = "inline-math"),
+    allow(dead_code)
+)]
+#[inline(never)]
+pub(crate) fn exp_out_of_line(x: f32) -> f32 {
+    exp(x)
+}
+
+/// The rare arguments of [`exp`]: NaN, overflow (+∞ from 88.722839 on, as
+/// `libm`), underflow (0 at and below −103.972084, as `libm`), and
+/// 64 < |x| below those: the table method with 2^m applied by the bits
+/// (normal results) or by one final multiplication by 2^-100 (one rounding
+/// into the subnormal range). Not `#[cold]`, as for [`ln_rare`].
 #[inline(never)]
 fn exp_rare(x: f32) -> f32 {
-    libm::expf(x)
+    let ix = x.to_bits();
+    if ix & 0x7fff_ffff > 0x7f80_0000 {
+        x
+    } else if (0x42b1_7218..0x8000_0000).contains(&ix) {
+        f32::INFINITY
+    } else if ix >= 0xc2cf_f1b5 {
+        0.0
+    } else {
+        let (y, n_bits) = exp_parts(x);
+        let m = ((n_bits >> 5) << 23) as i32;
+        if m >= 0 {
+            f32::from_bits(y.to_bits().wrapping_add(m as u32))
+        } else {
+            // 2^-100, exactly.
+            const TWO_POW_MINUS_100: f32 = 7.888609e-31;
+            let scaled = y.to_bits().wrapping_add(m.wrapping_add(100 << 23) as u32);
+            f32::from_bits(scaled) * TWO_POW_MINUS_100
+        }
+    }
 }
 
 #[cfg(test)]
@@ -247,7 +318,7 @@ mod tests {
     /// (about 2.1 million, all binades and table intervals) and the 2^16
     /// patterns nearest to 1 on each side: at most 1 ulp from the
     /// correctly rounded result. (The exhaustive run over all positive
-    /// normal `f32` is `ln_every_positive_normal_within_one_ulp`.)
+    /// finite `f32` is `ln_every_positive_finite_within_one_ulp`.)
     #[test]
     fn ln_within_one_ulp_strided_and_near_one() {
         assert!(max_ulps(ln, libm::log, 0x0080_0000, 0x7f80_0000, 1009) <= 1);
@@ -256,9 +327,9 @@ mod tests {
     }
 
     /// Reference: `libm::exp` (f64). Every 1013th `f32` in [-64, 64] (the
-    /// table path) of either sign and every 4099th up to the overflow and
-    /// underflow thresholds (the fall-back): at most 1 ulp from the
-    /// correctly rounded result.
+    /// common path) of either sign and every 4099th up to the overflow and
+    /// underflow thresholds (the rare path, subnormal results included):
+    /// at most 1 ulp from the correctly rounded result.
     #[test]
     fn exp_within_one_ulp_strided() {
         let to = EXP_TABLE_RANGE_BITS + 1;
@@ -269,13 +340,13 @@ mod tests {
         assert!(max_ulps(exp, libm::exp, 0x8000_0000 | to, 0xc2cf_f1b4, 4099) <= 1);
     }
 
-    /// The special and rare arguments give exactly `libm`'s `logf` and
-    /// `expf` (reference library): zeros, negative values, subnormals,
-    /// infinities, NaN, the overflow and underflow ranges of exp.
+    /// Where `libm`'s `logf` and `expf` (reference library) give a
+    /// non-finite value or 0 (zeros, negative values, infinities, NaN, the
+    /// overflow and underflow ranges of exp), the same value here.
     #[test]
     fn rare_arguments_are_exactly_libm() {
         let same = |a: f32, b: f32| a.to_bits() == b.to_bits() || (a.is_nan() && b.is_nan());
-        let mut xs = std::vec![
+        let xs = [
             0.0_f32,
             -0.0,
             -1.0,
@@ -296,18 +367,18 @@ mod tests {
             f32::MAX,
             f32::MIN,
         ];
-        xs.extend((0..0x0080_0000).step_by(997).map(f32::from_bits));
         for x in xs {
-            assert!(
-                same(ln(x), libm::logf(x)),
-                "ln {x:e}: {} vs {}",
-                ln(x),
-                libm::logf(x)
-            );
-            if !(-64.0..=64.0).contains(&x) {
-                assert!(same(exp(x), libm::expf(x)), "exp {x:e}");
+            let (l, e) = (libm::logf(x), libm::expf(x));
+            if !l.is_finite() {
+                assert!(same(ln(x), l), "ln {x:e}: {} vs {l}", ln(x));
+            }
+            if !e.is_finite() || e == 0.0 {
+                assert!(same(exp(x), e), "exp {x:e}: {} vs {e}", exp(x));
             }
         }
+        // Subnormal arguments of ln (scaled here, not by libm): within 1 ulp
+        // of the correctly rounded result.
+        assert!(max_ulps(ln, libm::log, 1, 0x0080_0000, 997) <= 1);
         assert_eq!(ln(0.0), f32::NEG_INFINITY);
         assert!(ln(-1.0).is_nan());
         assert_eq!(exp(100.0), f32::INFINITY);
@@ -336,37 +407,44 @@ mod tests {
                 assert!(c == 1.0 && inv_c == 1.0 && ln_c == 0.0);
             }
         }
-        for (j, &t) in EXP_TABLE.iter().enumerate() {
-            assert_eq!(t, libm::exp2(j as f64 / 32.0) as f32, "{j}");
+        for (j, &[t, rest]) in EXP_TABLE.iter().enumerate() {
+            let want = libm::exp2(j as f64 / 32.0);
+            assert_eq!(t, want as f32, "{j}");
+            assert_eq!(rest, (want - f64::from(t)) as f32, "{j}");
         }
         assert_eq!(LN2_HI.to_bits() & 0xff, 0);
-        assert_eq!(LN2_32_HI.to_bits() & 0xfff, 0);
+        assert_eq!(LN2_32_HI.to_bits() & 0x1fff, 0);
         let ln2 = core::f64::consts::LN_2;
         // The low parts are correctly rounded (half an ulp: 2^-24 relative).
         let lo_err = |hi: f32, lo: f32, want: f64| (f64::from(hi) + f64::from(lo) - want).abs();
         assert!(lo_err(LN2_HI, LN2_LO, ln2) <= f64::from(LN2_LO) * 2f64.powi(-24));
-        assert!(lo_err(LN2_32_HI, LN2_32_LO, ln2 / 32.0) <= f64::from(LN2_32_LO) * 2f64.powi(-24));
+        assert!(
+            lo_err(LN2_32_HI, LN2_32_LO, ln2 / 32.0) <= f64::from(LN2_32_LO).abs() * 2f64.powi(-24)
+        );
     }
 
     /// Exhaustive (release build: `cargo test --release -p polytrope --lib
-    /// every_ -- --ignored`, about two minutes each): every positive normal
+    /// every_ -- --ignored`, about two minutes each): every positive finite
     /// `f32` for ln, every `f32` for exp, against `libm::log` /
-    /// `libm::exp` (f64, reference library). Measured 2026-12-03 (x86-64):
-    /// ln 2,139,095,038 arguments, 12,131,788 (0.57 %) 1 ulp from the
-    /// correctly rounded result, none further; exp over all 2^32 patterns
-    /// with a finite nonzero normal result, 57,565,895 (2.6 %) 1 ulp off,
-    /// none further, and the rare ones equal to `libm`.
+    /// `libm::exp` (f64, reference library). Measured 2026-12-03 (x86-64,
+    /// a stand-alone run of this file over every bit pattern, the rare
+    /// paths included): ln of the 2,139,095,038 positive finite `f32`
+    /// other than 1, 14,795,687 (0.69 %) 1 ulp from the correctly rounded
+    /// result, none further; exp of the 2,239,849,421 `f32` with a finite
+    /// nonzero result, 1,100,104 (0.05 %) 1 ulp off, none further; largest
+    /// error 1.17 ulp (ln, near 1) and 0.76 ulp (exp); the special values
+    /// those of `libm`.
     #[test]
     #[ignore]
-    fn ln_every_positive_normal_within_one_ulp() {
-        assert!(max_ulps(ln, libm::log, 0x0080_0000, 0x7f80_0000, 1) <= 1);
+    fn ln_every_positive_finite_within_one_ulp() {
+        assert!(max_ulps(ln, libm::log, 1, 0x7f80_0000, 1) <= 1);
     }
 
-    /// See [`ln_every_positive_normal_within_one_ulp`].
+    /// See [`ln_every_positive_finite_within_one_ulp`].
     #[test]
     #[ignore]
-    fn exp_every_normal_result_within_one_ulp() {
+    fn exp_every_finite_result_within_one_ulp() {
         assert!(max_ulps(exp, libm::exp, 0, 0x42b1_7218, 1) <= 1);
-        assert!(max_ulps(exp, libm::exp, 0x8000_0000, 0xc2ae_ac50, 1) <= 1);
+        assert!(max_ulps(exp, libm::exp, 0x8000_0000, 0xc2cf_f1b5, 1) <= 1);
     }
 }
