@@ -412,7 +412,13 @@ fn nominal_readings<T: Real, G: GasModel<T>, I: StageReadings<T>>(
         return None;
     }
     let ratio = p2.value / p1.value;
-    if !(T::is_finite(ratio) && T::less_not_nan(T::ONE, ratio)) {
+    // Finite and above 1 (with an FPU two compares: a NaN fails both).
+    let compressing = if HARD_FLOAT {
+        T::ONE < ratio && ratio < T::of(f64::INFINITY)
+    } else {
+        T::is_finite(ratio) && T::less_not_nan(T::ONE, ratio)
+    };
+    if !compressing {
         return None;
     }
     let dt = t2.value - t1.value;
@@ -772,7 +778,24 @@ fn nominal_stage<T: Real>(
     out.power_above_isothermal.value = flow.value * above;
     out.compressibility.value = cs.suction_z;
     out.k.value = cs.isentropic_exponent;
-    if !T::all_finite(&compressor_values(out)) {
+    // Finite but where a check above has shown it: the ratio (finite by
+    // the gate) and the two efficiencies (in (0, 1 + allowance]).
+    let unchecked = [
+        out.isentropic_discharge_temperature.value,
+        out.temperature_rise.value,
+        out.isentropic_head.value,
+        out.polytropic_head.value,
+        out.isothermal_head.value,
+        out.actual_work.value,
+        out.polytropic_exponent.value,
+        out.mass_flow.value,
+        out.gas_power.value,
+        out.work_above_isothermal.value,
+        out.power_above_isothermal.value,
+        out.compressibility.value,
+        out.k.value,
+    ];
+    if !T::all_finite(&unchecked) {
         return None;
     }
     out.gas_validity = cs.validity;
