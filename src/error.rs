@@ -119,7 +119,7 @@ pub(crate) fn check_range<T: Real>(
     if T::is_finite(value) && value >= T::of(min) && value <= T::of(max) {
         Ok(value)
     } else {
-        Err(refusal(field, T::is_finite(value), min, max))
+        Err(unindexed(refusal(field, T::is_finite(value), min, max)))
     }
 }
 
@@ -130,7 +130,12 @@ pub(crate) fn check_positive<T: Real>(field: &'static str, value: T) -> Result<T
     if T::is_finite(value) && value > T::ZERO {
         Ok(value)
     } else {
-        Err(refusal(field, T::is_finite(value), 0.0, f64::INFINITY))
+        Err(unindexed(refusal(
+            field,
+            T::is_finite(value),
+            0.0,
+            f64::INFINITY,
+        )))
     }
 }
 
@@ -144,6 +149,19 @@ pub(crate) fn refusal(field: &'static str, finite: bool, min: f64, max: f64) -> 
         ConfigError::out_of_range(field, min, max)
     } else {
         ConfigError::not_finite(field)
+    }
+}
+
+/// `error` with its index restated as `None` (which [`refusal`] returns):
+/// inlined at each check, it tells the optimiser that the out-of-line
+/// refusal's result is an error (its `Result` tag lives in the index's
+/// niche), so nothing after a refusal is kept live across the call
+/// (configuration-time flash).
+#[inline(always)]
+const fn unindexed(error: ConfigError) -> ConfigError {
+    ConfigError {
+        index: None,
+        ..error
     }
 }
 

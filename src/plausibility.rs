@@ -267,6 +267,21 @@ impl<T: Real> Limits<T> {
         within_finite(m, self.min_temperature, self.max_temperature)
     }
 
+    /// [`Limits::pressure_valid`] in the form of the train's sensor
+    /// boundary, where almost every reading passes: the same result, with
+    /// a refused reading's placeholder formed out of line
+    /// (see `within_positive_bounds`).
+    #[inline]
+    pub(crate) fn pressure_reading(&self, m: Measured<T>) -> Measured<T> {
+        within_positive_bounds(m, self.min_pressure, self.max_pressure)
+    }
+
+    /// [`Limits::temperature_valid`] as [`Limits::pressure_reading`].
+    #[inline]
+    pub(crate) fn temperature_reading(&self, m: Measured<T>) -> Measured<T> {
+        within_positive_bounds(m, self.min_temperature, self.max_temperature)
+    }
+
     /// [`Limits::mass_flow`] for validated limits (as
     /// [`Limits::pressure_valid`]).
     #[inline]
@@ -320,6 +335,36 @@ fn within_finite<T: Real>(m: Measured<T>, lo: T, hi: T) -> Measured<T> {
         Measured::not_applicable()
     } else if T::within_nonnegative(m.value, lo, hi) && m.quality != Quality::Bad {
         m
+    } else {
+        Measured::bad()
+    }
+}
+
+/// [`within_finite`] for finite bounds `0 < lo <= hi` (validated pressure
+/// and temperature limits), by [`Real::within_positive`] (integer compares
+/// on the bit patterns: the float compares' result for such bounds, NaN, the
+/// infinities, zeros and negative values outside), on every target. The
+/// usable reading in range is tested first, in one pass (the common case);
+/// a not-applicable reading stays not applicable and anything else is bad,
+/// as in [`within_finite`].
+#[inline]
+fn within_positive_bounds<T: Real>(m: Measured<T>, lo: T, hi: T) -> Measured<T> {
+    if m.quality.is_usable() && T::within_positive(m.value, lo, hi) {
+        m
+    } else {
+        refused_reading(m.quality)
+    }
+}
+
+/// The placeholder for a reading [`within_positive_bounds`] refuses: not
+/// applicable stays not applicable, anything else is bad. Out of line and
+/// cold: the accepted reading is then copied as it is, without a select
+/// per field.
+#[cold]
+#[inline(never)]
+fn refused_reading<T: Real>(q: Quality) -> Measured<T> {
+    if q == Quality::NotApplicable {
+        Measured::not_applicable()
     } else {
         Measured::bad()
     }
@@ -434,14 +479,29 @@ mod tests {
             1e9,
             2e9,
             f32::MAX,
+            -0.0,
+            -f32::NAN,
+            f32::from_bits(1),
         ];
+        // Each bound, and one step of the bit pattern below and above it.
+        let bounds = [
+            l.min_pressure,
+            l.max_pressure,
+            l.min_temperature,
+            l.max_temperature,
+        ];
+        let near_bounds = bounds.iter().flat_map(|b| {
+            let bits = b.to_bits();
+            [f32::from_bits(bits - 1), *b, f32::from_bits(bits + 1)]
+        });
+        let values: std::vec::Vec<f32> = values.into_iter().chain(near_bounds).collect();
         for q in [
             Quality::Good,
             Quality::Uncertain,
             Quality::Bad,
             Quality::NotApplicable,
         ] {
-            for v in values {
+            for &v in &values {
                 let m = Measured::new(v, q);
                 let same = |a: Measured<f32>, b: Measured<f32>| {
                     a.quality == b.quality && a.value.to_bits() == b.value.to_bits()
@@ -449,6 +509,13 @@ mod tests {
                 assert!(same(l.pressure(m), l.pressure_valid(m)), "{v} {q:?}");
                 assert!(same(l.temperature(m), l.temperature_valid(m)), "{v} {q:?}");
                 assert!(same(l.mass_flow(m), l.mass_flow_valid(m)), "{v} {q:?}");
+                // The sensor boundary's form (integer compares, the refused
+                // reading out of line).
+                assert!(same(l.pressure(m), l.pressure_reading(m)), "{v} {q:?}");
+                assert!(
+                    same(l.temperature(m), l.temperature_reading(m)),
+                    "{v} {q:?}"
+                );
             }
         }
     }

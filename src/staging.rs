@@ -310,6 +310,18 @@ impl<T: Real> Sum<T> {
             Measured::derived(self.value, self.quality)
         }
     }
+    /// [`Sum::add`] without the count, for a caller that knows how many
+    /// terms it adds.
+    #[inline(always)]
+    pub fn add_term(&mut self, m: Measured<T>) {
+        self.value += m.value;
+        self.quality = self.quality.worst(m.quality);
+    }
+    /// [`Sum::get`] of a sum known to have at least one term.
+    #[inline(always)]
+    pub fn total(&self) -> Measured<T> {
+        Measured::derived(self.value, self.quality)
+    }
 }
 
 #[cfg(test)]

@@ -6,6 +6,8 @@
 //! allocates, never panics and runs bounded loops over `N` stages and `W`
 //! window samples.
 
+use core::mem::MaybeUninit;
+
 use crate::cooler::{
     evaluate_cooler_packed, packed_quality, CoolerConfig, CoolerInputs, CoolerResult, I_DH, I_FLOW,
     I_MC, I_PIN, I_POUT, I_TC, I_TCO, I_TIN, I_TOUT,
@@ -174,6 +176,46 @@ pub struct Train<T, G, const N: usize, const W: usize> {
     si: [StageSi<T>; N],
 }
 
+impl<T: Real> StageResult<T> {
+    /// The result of `stage` before the first scan: every value bad, the
+    /// steady state unknown. Out of line: one copy of its stores serves
+    /// every stage (configuration-time flash).
+    #[inline(never)]
+    fn before_first_scan(stage: &StageConfig<T>) -> Self {
+        Self::initial(stage)
+    }
+
+    /// [`StageResult::before_first_scan`], inlined (where it is built in
+    /// place with the rest of a train returned by value).
+    #[inline(always)]
+    fn initial(stage: &StageConfig<T>) -> Self {
+        StageResult {
+            work: match stage.kind {
+                StageKind::Compressor => StageWork::Compressor(CompressorResult::bad()),
+                StageKind::Pump { .. } => StageWork::Pump(PumpResult::bad()),
+            },
+            steady_state: SteadyState::unknown(),
+        }
+    }
+}
+
+impl<T: Real> CoolerResult<T> {
+    /// The result of the cooler after `stage` before the first scan: every
+    /// value bad (`None` without a cooler). Out of line, as
+    /// [`StageResult::before_first_scan`].
+    #[inline(never)]
+    fn before_first_scan(stage: &StageConfig<T>) -> Option<Self> {
+        Self::initial(stage)
+    }
+
+    /// [`CoolerResult::before_first_scan`], inlined (as
+    /// [`StageResult::initial`]).
+    #[inline(always)]
+    fn initial(stage: &StageConfig<T>) -> Option<Self> {
+        stage.cooler.map(|_| CoolerResult::bad())
+    }
+}
+
 /// Per-stage inputs after the sensor boundary, SI.
 #[derive(Clone, Copy, Debug)]
 struct StageSi<T> {
@@ -239,79 +281,11 @@ fn validate_stages<T: Real, const N: usize>(
     let mut seen_pump = false;
     let mut previous_discharge: Option<T> = None;
     for (i, s) in stages.iter().enumerate() {
-        let p1 = s.design_suction_pressure.pa();
-        let p2 = s.design_discharge_pressure.pa();
-        check_positive("stages.design_suction_pressure", p1).map_err(|e| e.at(i))?;
-        // Design pressures inside the sensor boundary (a design point the
-        // boundary would call bad cannot be right).
-        let (lo, hi) = (limits.min_pressure.to_f64(), limits.max_pressure.to_f64());
-        check_range("stages.design_suction_pressure", p1, lo, hi).map_err(|e| e.at(i))?;
-        check_range("stages.design_discharge_pressure", p2, lo, hi).map_err(|e| e.at(i))?;
-        if !(p2 > p1) {
-            return Err(ConfigError::new(
-                "stages.design_discharge_pressure",
-                Problem::NotAbove {
-                    other: "stages.design_suction_pressure",
-                },
-            )
-            .at(i));
-        }
-        if let Some(prev) = previous_discharge {
-            let lowest = prev * (T::ONE - max_drop);
-            if p1 > prev || p1 < lowest {
-                return Err(ConfigError::new(
-                    "stages.design_suction_pressure",
-                    Problem::Inconsistent {
-                        with: "previous stage's design_discharge_pressure and max_interstage_pressure_drop",
-                    },
-                )
-                .at(i));
-            }
-        }
-        previous_discharge = Some(p2);
+        check_stage(s, previous_discharge, seen_pump, max_drop, limits).map_err(|e| e.at(i))?;
+        previous_discharge = Some(s.design_discharge_pressure.pa());
         match s.kind {
-            StageKind::Compressor => {
-                if seen_pump {
-                    return Err(ConfigError::new(
-                        "stages.kind",
-                        Problem::Inconsistent {
-                            with: "a pump before it (pumps may only end a train)",
-                        },
-                    )
-                    .at(i));
-                }
-                compressors = compressors.saturating_add(1);
-            }
-            StageKind::Pump {
-                density,
-                efficiency,
-            } => {
-                seen_pump = true;
-                check_range(
-                    "stages.pump.density",
-                    density,
-                    PUMP_DENSITY_RANGE.0,
-                    PUMP_DENSITY_RANGE.1,
-                )
-                .map_err(|e| e.at(i))?;
-                if !(T::is_finite(efficiency) && efficiency > T::ZERO && efficiency <= T::ONE) {
-                    return Err(if T::is_finite(efficiency) {
-                        ConfigError::out_of_range("stages.pump.efficiency", 0.0, 1.0)
-                    } else {
-                        ConfigError::not_finite("stages.pump.efficiency")
-                    }
-                    .at(i));
-                }
-            }
-        }
-        if let Some(c) = s.cooler {
-            check_range(
-                "stages.cooler.coolant_cp",
-                c.coolant_cp,
-                COOLANT_CP_RANGE.0,
-                COOLANT_CP_RANGE.1,
-            )
-            .map_err(|e| e.at(i))?;
+            StageKind::Compressor => compressors = compressors.saturating_add(1),
+            StageKind::Pump { .. } => seen_pump = true,
         }
     }
     if compressors == 0 {
@@ -323,6 +297,125 @@ fn validate_stages<T: Real, const N: usize>(
         ));
     }
     Ok(compressors)
+}
+
+/// The checks of one stage of [`validate_stages`] (its refusal without the
+/// stage index, which the caller adds): after the stage before it
+/// (`previous_discharge`, its design discharge pressure) and any pump
+/// (`seen_pump`). Out of line: one copy of the checks, however the loop over
+/// the stages is unrolled (configuration-time flash).
+#[inline(never)]
+fn check_stage<T: Real>(
+    s: &StageConfig<T>,
+    previous_discharge: Option<T>,
+    seen_pump: bool,
+    max_drop: T,
+    limits: &Limits<T>,
+) -> Result<(), ConfigError> {
+    let p1 = s.design_suction_pressure.pa();
+    let p2 = s.design_discharge_pressure.pa();
+    check_positive("stages.design_suction_pressure", p1)?;
+    // Design pressures inside the sensor boundary (a design point the
+    // boundary would call bad cannot be right).
+    let (lo, hi) = (limits.min_pressure.to_f64(), limits.max_pressure.to_f64());
+    check_range("stages.design_suction_pressure", p1, lo, hi)?;
+    check_range("stages.design_discharge_pressure", p2, lo, hi)?;
+    if !(p2 > p1) {
+        return Err(ConfigError::new(
+            "stages.design_discharge_pressure",
+            Problem::NotAbove {
+                other: "stages.design_suction_pressure",
+            },
+        ));
+    }
+    if let Some(prev) = previous_discharge {
+        let lowest = prev * (T::ONE - max_drop);
+        if p1 > prev || p1 < lowest {
+            return Err(ConfigError::new(
+                "stages.design_suction_pressure",
+                Problem::Inconsistent {
+                    with: "previous stage's design_discharge_pressure and max_interstage_pressure_drop",
+                },
+            ));
+        }
+    }
+    match s.kind {
+        StageKind::Compressor => {
+            if seen_pump {
+                return Err(ConfigError::new(
+                    "stages.kind",
+                    Problem::Inconsistent {
+                        with: "a pump before it (pumps may only end a train)",
+                    },
+                ));
+            }
+        }
+        StageKind::Pump {
+            density,
+            efficiency,
+        } => {
+            check_range(
+                "stages.pump.density",
+                density,
+                PUMP_DENSITY_RANGE.0,
+                PUMP_DENSITY_RANGE.1,
+            )?;
+            if !(T::is_finite(efficiency) && efficiency > T::ZERO && efficiency <= T::ONE) {
+                return Err(if T::is_finite(efficiency) {
+                    ConfigError::out_of_range("stages.pump.efficiency", 0.0, 1.0)
+                } else {
+                    ConfigError::not_finite("stages.pump.efficiency")
+                });
+            }
+        }
+    }
+    if let Some(c) = s.cooler {
+        check_range(
+            "stages.cooler.coolant_cp",
+            c.coolant_cp,
+            COOLANT_CP_RANGE.0,
+            COOLANT_CP_RANGE.1,
+        )?;
+    }
+    Ok(())
+}
+
+/// The train of a validated configuration (`Train<T, G, N, W>` in the
+/// `impl` where it is expanded), its snapshot's stage and cooler results
+/// given: the one build of [`Train::with_limits`] and [`Train::new_in`]. A
+/// macro, not a function: the train is built where the caller writes it (a
+/// function's result was copied, a whole train, in `Train::with_limits`).
+macro_rules! built_train {
+    ($config:expr, $limits:expr, $compressor_stages:expr, $stages:expr, $coolers:expr) => {{
+        let config = $config;
+        let limits = $limits;
+        let compressor_stages: u8 = $compressor_stages;
+        let configured_z = config
+            .gas
+            .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
+            .z;
+        let stage_uses = StageUses::new(config.gas.property_inputs());
+        let equal_ratio_exponent = equal_ratio_fraction(u32::from(compressor_stages), 0);
+        let stage_thresholds = StageThresholds::of(&limits);
+        Train {
+            config,
+            limits,
+            configured_z,
+            compressor_stages,
+            equal_ratio_exponent,
+            stage_thresholds,
+            stage_uses,
+            detectors: core::array::from_fn(SteadyStateDetector::staggered),
+            snapshot: Snapshot {
+                stages: $stages,
+                coolers: $coolers,
+                interstage: [None; N],
+                totals: TrainTotals::bad(compressor_stages),
+                scan_count: 0,
+            },
+            si: [StageSi::CLEARED; N],
+        }
+    }};
 }
 
 impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> {
@@ -349,46 +442,75 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         config: TrainConfig<T, G, N>,
         limits: Limits<T>,
     ) -> Result<Self, ConfigError> {
+        let compressor_stages = Self::validate(&config, &limits)?;
+        let stages = config.stages.map(|s| StageResult::initial(&s));
+        let coolers = config.stages.map(|s| CoolerResult::initial(&s));
+        Ok(built_train!(
+            config,
+            limits,
+            compressor_stages,
+            stages,
+            coolers
+        ))
+    }
+
+    /// As [`Train::new`], built in place in `slot` (for a device whose RAM
+    /// holds the train once: no copy of it is built on the stack and moved).
+    /// On a refusal `slot` is left as it was.
+    pub fn new_in(
+        slot: &mut MaybeUninit<Self>,
+        config: TrainConfig<T, G, N>,
+    ) -> Result<&mut Self, ConfigError> {
+        let limits = Limits::default();
+        let compressor_stages = Self::validate(&config, &limits)?;
+        // Every stage holds the first stage's initial result and no cooler
+        // one until `reset_snapshot` writes them in place (no array of them
+        // built on the stack and moved).
+        let placeholder = config.stages.first().map_or(
+            StageResult {
+                work: StageWork::Compressor(CompressorResult::bad()),
+                steady_state: SteadyState::unknown(),
+            },
+            StageResult::before_first_scan,
+        );
+        let train = slot.write(built_train!(
+            config,
+            limits,
+            compressor_stages,
+            [placeholder; N],
+            [None; N]
+        ));
+        train.reset_snapshot();
+        Ok(train)
+    }
+
+    /// The checks of [`Train::with_limits`]: the number of compressor
+    /// stages, or the refusal.
+    #[inline(always)]
+    fn validate(config: &TrainConfig<T, G, N>, limits: &Limits<T>) -> Result<u8, ConfigError> {
         const { assert!(N >= 1 && N <= 255, "a train needs 1 to 255 stages") };
         if let Some((field, min, max)) = limits.first_invalid() {
             return Err(ConfigError::out_of_range(field, min, max));
         }
         config.steady_state.validate()?;
-        let compressor_stages =
-            validate_stages(&config.stages, config.max_interstage_pressure_drop, &limits)?;
-        let stages = config.stages.map(|s| StageResult {
-            work: match s.kind {
-                StageKind::Compressor => StageWork::Compressor(CompressorResult::bad()),
-                StageKind::Pump { .. } => StageWork::Pump(PumpResult::bad()),
-            },
-            steady_state: SteadyState::unknown(),
-        });
-        let coolers = config.stages.map(|s| s.cooler.map(|_| CoolerResult::bad()));
-        let configured_z = config
-            .gas
-            .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
-            .z;
-        let stage_uses = StageUses::new(config.gas.property_inputs());
-        let equal_ratio_exponent = equal_ratio_fraction(u32::from(compressor_stages), 0);
-        let stage_thresholds = StageThresholds::of(&limits);
-        Ok(Train {
-            config,
-            limits,
-            configured_z,
-            compressor_stages,
-            equal_ratio_exponent,
-            stage_thresholds,
-            stage_uses,
-            detectors: core::array::from_fn(SteadyStateDetector::staggered),
-            snapshot: Snapshot {
-                stages,
-                coolers,
-                interstage: [None; N],
-                totals: TrainTotals::bad(compressor_stages),
-                scan_count: 0,
-            },
-            si: [StageSi::CLEARED; N],
-        })
+        validate_stages(&config.stages, config.max_interstage_pressure_drop, limits)
+    }
+
+    /// Sets every stage's and cooler's result to its value before the
+    /// first scan ([`StageResult::before_first_scan`],
+    /// [`CoolerResult::before_first_scan`]), in place.
+    #[inline(never)]
+    fn reset_snapshot(&mut self) {
+        let snapshot = &mut self.snapshot;
+        for ((r, c), s) in snapshot
+            .stages
+            .iter_mut()
+            .zip(snapshot.coolers.iter_mut())
+            .zip(self.config.stages.iter())
+        {
+            *r = StageResult::before_first_scan(s);
+            *c = CoolerResult::before_first_scan(s);
+        }
     }
 
     /// The validated configuration.
@@ -446,15 +568,15 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 None => (upstream_flow, false),
             };
             upstream_flow = flow;
-            *out = StageSi {
-                p1: limits.pressure_valid(s.suction_pressure.map(PressureAbs::pa)),
-                t1: limits.temperature_valid(s.suction_temperature.map(Kelvin::kelvin)),
-                p2: limits.pressure_valid(s.discharge_pressure.map(PressureAbs::pa)),
-                t2: limits.temperature_valid(s.discharge_temperature.map(Kelvin::kelvin)),
-                flow,
-                flow_measured,
-                z: s.compressibility.map(compressibility),
-            };
+            // Field by field (every field written): each reading stored as
+            // soon as it is checked, so few values are live at once.
+            out.p1 = limits.pressure_reading(s.suction_pressure.map(PressureAbs::pa));
+            out.t1 = limits.temperature_reading(s.suction_temperature.map(Kelvin::kelvin));
+            out.p2 = limits.pressure_reading(s.discharge_pressure.map(PressureAbs::pa));
+            out.t2 = limits.temperature_reading(s.discharge_temperature.map(Kelvin::kelvin));
+            out.flow = flow;
+            out.flow_measured = flow_measured;
+            out.z = s.compressibility.map(compressibility);
         }
     }
 
@@ -652,6 +774,12 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         let si = &self.si;
         let nc = self.compressor_stages;
         let mut totals = TrainTotals::bad(nc);
+        // The sums without counts: the train has `nc` compressor stages, at
+        // least one (`validate_stages`), each a `StageWork::Compressor` slot
+        // (set at construction from the same configuration), so each
+        // compressor sum has `nc` terms and its total is never the
+        // placeholder of an empty sum ([`Sum::get`]); the pumps are the
+        // other `N - nc` stages.
         let mut work = Sum::new();
         let mut comp_power = Sum::new();
         let mut pump_power = Sum::new();
@@ -663,31 +791,61 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 StageWork::Compressor(c) => {
                     // The stage's Z input, whatever its evaluation reached
                     // (not the placeholder of an early return).
-                    z_sum.add(match s.z {
+                    z_sum.add_term(match s.z {
                         Some(z) => z,
                         None => Measured::good(configured_z),
                     });
-                    work.add(c.actual_work);
-                    comp_power.add(c.gas_power);
-                    staged_s.add(c.isentropic_head);
+                    work.add_term(c.actual_work);
+                    comp_power.add_term(c.gas_power);
+                    staged_s.add_term(c.isentropic_head);
                 }
-                StageWork::Pump(p) => pump_power.add(p.power),
+                StageWork::Pump(p) => pump_power.add_term(p.power),
             }
         }
-        totals.compressor_work = work.get();
-        totals.compressor_power = comp_power.get();
-        totals.pump_power = pump_power.get();
-        let mut all_power = comp_power;
-        if pump_power.count > 0 {
-            all_power.add(pump_power.get());
+        let pumps = usize::from(nc) < N;
+        if HARD_FLOAT && T::all_finite(&[work.value, comp_power.value, staged_s.value]) {
+            // One finiteness test for the three (the common case; with an
+            // FPU, where `Real::all_finite` is one sum, else no saving):
+            // each sum is then graded by its quality alone, as `Sum::total`
+            // would.
+            let graded = |sum: Sum<T>| match sum.quality {
+                Quality::Good | Quality::Uncertain => Measured::new(sum.value, sum.quality),
+                _ => sum.total(),
+            };
+            totals.compressor_work = graded(work);
+            totals.compressor_power = graded(comp_power);
+            totals.measured_staged_isentropic_work = graded(staged_s);
+        } else {
+            totals.compressor_work = work.total();
+            totals.compressor_power = comp_power.total();
+            totals.measured_staged_isentropic_work = staged_s.total();
         }
-        totals.total_power = all_power.get();
-        totals.measured_staged_isentropic_work = staged_s.get();
+        if pumps {
+            totals.pump_power = pump_power.total();
+            let mut all_power = comp_power;
+            all_power.add_term(totals.pump_power);
+            totals.total_power = all_power.total();
+        } else {
+            // Without pumps the total is the compressor sum's.
+            totals.total_power = totals.compressor_power;
+        }
+        // The sums are final: stored now, so that they are not held across
+        // the logarithm and exponentials below (the other fields are
+        // stored by `store_references` on every way out).
+        let out = &mut self.snapshot.totals;
+        out.compressor_stages = nc;
+        out.compressor_work = totals.compressor_work;
+        out.compressor_power = totals.compressor_power;
+        out.pump_power = totals.pump_power;
+        out.total_power = totals.total_power;
+        out.measured_staged_isentropic_work = totals.measured_staged_isentropic_work;
+        let w = totals.compressor_work;
+        let ms = totals.measured_staged_isentropic_work;
 
         let last = usize::from(nc).saturating_sub(1);
         self.snapshot.interstage = [None; N];
         let (Some(first), Some(last_c)) = (si.first(), si.get(last)) else {
-            self.snapshot.totals = totals;
+            store_references(&mut self.snapshot.totals, &totals);
             return;
         };
         let q_ratio = first.p1.quality.worst(last_c.p2.quality);
@@ -742,19 +900,19 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             *out = Some(entry);
         }
         if !optimum_ok {
-            self.snapshot.totals = totals;
+            store_references(&mut self.snapshot.totals, &totals);
             return;
         }
         // Finite without a test (both pressures in the validated limits,
         // so at most 1e10 / 1e-3) and usable here: `derived` would keep it.
         totals.overall_pressure_ratio = Measured::new(ratio, q_ratio);
-        let z_mean = z_sum.get();
+        let z_mean = z_sum.total();
         let q_ref = q_ratio
             .worst(first.t1.quality)
             .worst(z_mean.quality)
             .worst(self.config.gas.fit_quality(first.t1.value, first.t1.value));
         if !q_ref.is_usable() {
-            self.snapshot.totals = totals;
+            store_references(&mut self.snapshot.totals, &totals);
             return;
         }
         let t1 = first.t1.value;
@@ -765,11 +923,10 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         // exact and the product equals the quotient bit for bit (both the
         // correctly rounded z/nc): a multiplication instead of a division
         // where both are library calls (Cortex-M0).
-        let count = z_sum.count.max(1);
-        let z_mean = if !HARD_FLOAT && count == nc && nc.is_power_of_two() {
+        let z_mean = if !HARD_FLOAT && nc.is_power_of_two() {
             z_mean.value * self.equal_ratio_exponent
         } else {
-            z_mean.value / T::of(f64::from(count))
+            z_mean.value / T::of(f64::from(nc))
         };
         let props = self
             .config
@@ -794,12 +951,27 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             t1,
             Some(z_mean),
         );
-        totals.isothermal_work =
-            Measured::derived(iso, q_ref.worst(isothermal_reference_quality(iso_validity)));
-        totals.single_stage_isentropic_work = Measured::derived(single, q_ref);
-        totals.ideal_staged_isentropic_work = Measured::derived(staged, q_ref);
-        totals.ideal_staging_saving = Measured::derived(single - staged, q_ref);
-        let w = totals.compressor_work;
+        let q_iso = q_ref.worst(isothermal_reference_quality(iso_validity));
+        let ideal_saving = single - staged;
+        if HARD_FLOAT && T::all_finite(&[iso, single, staged, ideal_saving]) {
+            // One finiteness test for the four (the common case, with an
+            // FPU as above): with a
+            // usable `q_ref` and finite values, `Measured::derived` keeps
+            // each value with its quality; the isothermal one is graded by
+            // its quality alone.
+            totals.isothermal_work = match q_iso {
+                Quality::Good | Quality::Uncertain => Measured::new(iso, q_iso),
+                _ => Measured::derived(iso, q_iso),
+            };
+            totals.single_stage_isentropic_work = Measured::new(single, q_ref);
+            totals.ideal_staged_isentropic_work = Measured::new(staged, q_ref);
+            totals.ideal_staging_saving = Measured::new(ideal_saving, q_ref);
+        } else {
+            totals.isothermal_work = Measured::derived(iso, q_iso);
+            totals.single_stage_isentropic_work = Measured::derived(single, q_ref);
+            totals.ideal_staged_isentropic_work = Measured::derived(staged, q_ref);
+            totals.ideal_staging_saving = Measured::derived(ideal_saving, q_ref);
+        }
         // A usable work is finite; a NaN `eta` (a NaN `iso`) gives a bad
         // efficiency whatever `q` is (`Measured::derived`).
         if w.quality.is_usable() && T::greater_not_nan(w.value, T::ZERO) {
@@ -817,10 +989,22 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 totals.isothermal_work.quality.worst(w.quality).worst(q),
             );
         }
-        let ms = totals.measured_staged_isentropic_work;
         if ms.quality.is_usable() {
             totals.staging_saving = Measured::derived(single - ms.value, q_ref.worst(ms.quality));
         }
-        self.snapshot.totals = totals;
+        store_references(&mut self.snapshot.totals, &totals);
     }
+}
+
+/// Stores the totals' fields other than the sums (which
+/// `Train::evaluate_totals` stores as soon as they are final).
+#[inline(always)]
+fn store_references<T: Real>(out: &mut TrainTotals<T>, t: &TrainTotals<T>) {
+    out.overall_pressure_ratio = t.overall_pressure_ratio;
+    out.isothermal_work = t.isothermal_work;
+    out.isothermal_efficiency = t.isothermal_efficiency;
+    out.single_stage_isentropic_work = t.single_stage_isentropic_work;
+    out.ideal_staged_isentropic_work = t.ideal_staged_isentropic_work;
+    out.staging_saving = t.staging_saving;
+    out.ideal_staging_saving = t.ideal_staging_saving;
 }

@@ -548,6 +548,70 @@ fn every_configuration_error_names_its_field() {
     assert!(Train::<f32, _, 2, 4>::new(air2_config::<f32>()).is_ok());
 }
 
+/// `Train::new_in` (built in place) is `Train::new`: the same refusal for a
+/// bad configuration, and for a good one the same configuration, limits and
+/// snapshot before the first scan and after a scan (consistency check of
+/// the two constructors; f32 and f64).
+#[test]
+fn new_in_builds_what_new_builds() {
+    fn same<T: Real + core::fmt::Debug>(cfg: TrainConfig<T, IdealGas<T>, 2>, scan: &Scan<T, 2>) {
+        let mut slot = core::mem::MaybeUninit::uninit();
+        match (Air2::<T>::new(cfg), Air2::<T>::new_in(&mut slot, cfg)) {
+            (Ok(mut a), Ok(b)) => {
+                assert_eq!(a.config(), b.config());
+                assert_eq!(a.limits(), b.limits());
+                assert_eq!(a.snapshot(), b.snapshot());
+                assert_eq!(a.update(scan), b.update(scan));
+            }
+            (Err(a), Err(b)) => assert_eq!(a, b),
+            (a, b) => panic!("new: {:?}, new_in: {:?}", a.err(), b.err()),
+        }
+    }
+    same(air2_config::<f32>(), &air2_scan::<f32>());
+    same(air2_config::<f64>(), &air2_scan::<f64>());
+    let scan = air2_scan::<f64>();
+    let mut bad = air2_config::<f64>();
+    bad.stages[1].design_suction_pressure = PressureAbs::from_pa(f64::NAN);
+    same(bad, &scan);
+    let mut bad = air2_config::<f64>();
+    bad.stages[0] = pump(1e5, 3e5, 800.0, 0.7);
+    same(bad, &scan);
+    let mut bad = air2_config::<f64>();
+    bad.steady_state.max_ratio_spread = 0.0;
+    same(bad, &scan);
+}
+
+/// Before the first scan every stage's result is the all-bad result of its
+/// kind (the demo train ends in a pump), its steady state unknown, and
+/// every configured cooler (and only those) has an all-bad result
+/// (consistency check of the constructor's in-place initial snapshot).
+#[test]
+fn snapshot_before_the_first_scan_follows_the_configuration() {
+    use polytrope::cooler::CoolerResult;
+    use polytrope::stage::{CompressorResult, PumpResult};
+    use polytrope::steady::SteadyState;
+    let t = polytrope::demo::train::<f64>().unwrap();
+    let snap = t.snapshot();
+    let mut pumps = 0;
+    for ((r, c), s) in snap
+        .stages
+        .iter()
+        .zip(snap.coolers.iter())
+        .zip(t.config().stages.iter())
+    {
+        match s.kind {
+            StageKind::Compressor => assert_eq!(r.compressor(), Some(&CompressorResult::bad())),
+            StageKind::Pump { .. } => {
+                pumps += 1;
+                assert_eq!(r.pump(), Some(&PumpResult::bad()));
+            }
+        }
+        assert_eq!(r.steady_state, SteadyState::unknown());
+        assert_eq!(*c, s.cooler.map(|_| CoolerResult::bad()));
+    }
+    assert_eq!(pumps, 1);
+}
+
 // ---- arbitrary bit patterns ----
 
 fn quality_of(q: u8) -> Quality {

@@ -269,3 +269,32 @@ fn channel_logs_transitions_only() {
     );
     assert_eq!(FaultCode::Ne43FailureLow.code(), 1);
 }
+
+/// `Channel::new_in` (built in place) is `Channel::new`: the same refusal,
+/// and for a good configuration the same outputs over a run of samples
+/// (a step, a spike, a gap; consistency check of the two constructors).
+#[test]
+fn new_in_builds_what_new_builds() {
+    let mut good = base(SignalKind::Current4To20, Unit::Other, 0.0, 100.0);
+    good.filter_time_constant_s = 0.5;
+    good.max_rate = 500.0;
+    good.hold_ms = 300;
+    let mut slot = core::mem::MaybeUninit::uninit();
+    let mut a = Channel::<f64, 4, 3>::new(good).unwrap();
+    let b = Channel::<f64, 4, 3>::new_in(&mut slot, good).unwrap();
+    for (k, raw) in [8.0, 8.1, 12.0, 19.5, 12.1, 3.0, 12.2, 12.2]
+        .into_iter()
+        .enumerate()
+    {
+        let t = 100 * k as u32 + if k > 5 { 1000 } else { 0 };
+        assert_eq!(a.update(raw, t), b.update(raw, t), "sample {k}");
+    }
+    let mut bad = good;
+    bad.max_rate = -1.0;
+    let mut slot = core::mem::MaybeUninit::uninit();
+    assert_eq!(
+        Channel::<f64, 4, 3>::new(bad).map(|_| ()),
+        Channel::<f64, 4, 3>::new_in(&mut slot, bad).map(|_| ())
+    );
+    assert!(Channel::<f64, 4, 3>::new(bad).is_err());
+}

@@ -15,52 +15,23 @@ use polytrope::control::{
 };
 use polytrope::signal::cross_check::{mass_balance, DischargeTemperatureConfig};
 use polytrope::surge::{
-    DetectionConfig, DetectionScan, MapConditions, MonitorConfig, SurgeDetector, SurgeFault,
-    SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
+    demo_map, DetectionConfig, DetectionScan, MonitorConfig, SurgeDetector, SurgeFault, SurgeLine,
+    SurgeMonitor, SurgeScan,
 };
-use polytrope::units::{Kelvin, PressureAbs};
+use polytrope::units::PressureAbs;
 use polytrope::{Measured, Quality};
 
 const RU: f64 = 8_314.462_618_153_24; // J/(kmol K), CODATA 2018 (exact)
-const C_ELEM: f64 = 0.04; // m2, flow element coefficient in Δp = ρ (Q/C)²
-const PS: f64 = 1.0e5;
-const TS: f64 = 293.15;
-const M_AIR: f64 = 28.96;
+const C_ELEM: f64 = demo_map::FLOW_COEFFICIENT; // m2, in Δp = ρ (Q/C)²
+const PS: f64 = demo_map::MAP_SUCTION_PRESSURE_PA;
+const TS: f64 = demo_map::MAP_SUCTION_TEMPERATURE_K;
+const M_AIR: f64 = demo_map::MAP_MOLAR_MASS;
 
+/// The monitor on the crate's invented surge map (`surge::demo_map`).
 fn monitor() -> SurgeMonitor<f64, 4> {
-    let p = |rpm: f64, q: f64, r: f64, m: f64| SurgePoint {
-        speed_rpm: rpm,
-        suction_volume_flow: q,
-        pressure_ratio: r,
-        control_margin: m,
-    };
-    let points = [
-        p(7000.0, 1.40, 1.55, 0.14),
-        p(8000.0, 1.60, 1.75, 0.12),
-        p(9000.0, 1.82, 2.00, 0.10),
-        p(10000.0, 2.05, 2.30, 0.10),
-    ];
-    let line = SurgeLine::new(&SurgeLineConfig {
-        points: &points,
-        map: MapConditions {
-            suction_pressure: PressureAbs::from_pa(PS),
-            suction_temperature: Kelvin::new(TS),
-            molar_mass: M_AIR,
-            compressibility: 1.0,
-        },
-        polytropic_exponent: 1.45,
-        flow_coefficient: C_ELEM,
-    })
-    .unwrap();
-    SurgeMonitor::new(
-        line,
-        MonitorConfig {
-            scan_period: 0.02,
-            time_to_surge_horizon: 60.0,
-            rate_filter_time: 0.05,
-        },
-    )
-    .unwrap()
+    let points = demo_map::points::<f64>();
+    let line = SurgeLine::new(&demo_map::line_config(&points)).unwrap();
+    SurgeMonitor::new(line, demo_map::monitor_config()).unwrap()
 }
 
 /// Flow element Δp of air at the map's suction for volume flow `q` (m³/s):

@@ -344,3 +344,33 @@ fn table_validation_names_the_problem() {
         Some("surge_line.polytropic_exponent")
     );
 }
+
+/// `SurgeMonitor::new_in` (built in place) is `SurgeMonitor::new`: the same
+/// refusal, and for good settings the same states over a falling-flow ramp
+/// (consistency check of the two constructors).
+#[test]
+fn new_in_builds_what_new_builds() {
+    let pts = points::<f64>();
+    let line = SurgeLine::<f64, 6>::new(&demo_map::line_config(&pts)).unwrap();
+    let mut a = SurgeMonitor::new(line.clone(), demo_map::monitor_config()).unwrap();
+    let mut slot = core::mem::MaybeUninit::uninit();
+    let b = SurgeMonitor::new_in(&mut slot, line.clone(), demo_map::monitor_config()).unwrap();
+    for i in 0..30 {
+        let s = scan::<f64>(signals(1.82 * (1.9 - 0.03 * f64::from(i)), 2.0, MAP_GAS));
+        assert_eq!(
+            *a.update(&s, 0.0, 0.02),
+            *b.update(&s, 0.0, 0.02),
+            "scan {i}"
+        );
+    }
+    let mut bad = demo_map::monitor_config::<f64>();
+    bad.rate_filter_time = bad.scan_period / 2.0;
+    let mut slot = core::mem::MaybeUninit::uninit();
+    let refused = SurgeMonitor::new(line.clone(), bad)
+        .map(|_| ())
+        .unwrap_err();
+    assert_eq!(
+        SurgeMonitor::new_in(&mut slot, line, bad).map(|_| ()),
+        Err(refused)
+    );
+}

@@ -6,6 +6,8 @@
 //! by the held last good value. Fixed memory: a `W`-sample frozen window
 //! and an `M`-sample median.
 
+use core::mem::MaybeUninit;
+
 use super::channel::{ChannelConfig, Scaling};
 use super::clock::{SampleClock, Tick};
 use super::events::{Event, EventLog};
@@ -158,7 +160,31 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             )
         };
         config.validate()?;
-        Ok(Channel {
+        Ok(Self::build(config))
+    }
+
+    /// As [`Channel::new`], built in place in `slot` (for a device that
+    /// keeps its channels in one array: no copy of a channel is built on the
+    /// stack and moved). On a refusal `slot` is left as it was.
+    pub fn new_in(
+        slot: &mut MaybeUninit<Self>,
+        config: ChannelConfig<T>,
+    ) -> Result<&mut Self, ConfigError> {
+        config.validate()?;
+        Ok(slot.write(Self::build(config)))
+    }
+
+    /// The channel of a validated `config` (infallible: built where it is
+    /// written).
+    #[inline(always)]
+    fn build(config: ChannelConfig<T>) -> Self {
+        const {
+            assert!(
+                M <= W,
+                "the median window takes its samples from the frozen window: M <= W"
+            )
+        };
+        Channel {
             config,
             scaling: Scaling::for_channel(&config),
             plausibility: Plausibility::new(),
@@ -177,7 +203,7 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             gain: (0, Self::gain_or_nan(0, config.filter_time_constant_s)),
             allowance: (0, rate_allowance(config.max_rate, 0)),
             last: ChannelOutput::bad(config.id),
-        })
+        }
     }
 
     /// Forgets every sample, stamp and held value (after a restart, a

@@ -58,6 +58,8 @@
 //! is shared with the head number) and three divisions (figures:
 //! `ci/measurements.md`).
 
+use core::mem::MaybeUninit;
+
 use super::coordinates::{
     flow_number, head_number_from_power, signed_margin_root, HeadAnchor, LnRatio,
 };
@@ -351,6 +353,25 @@ pub struct SurgeMonitor<T, const N: usize> {
 impl<T: Real, const N: usize> SurgeMonitor<T, N> {
     /// A monitor on a validated line. Errors name the offending field.
     pub fn new(line: SurgeLine<T, N>, config: MonitorConfig<T>) -> Result<Self, ConfigError> {
+        Self::validate(&config)?;
+        Ok(Self::build(line, config))
+    }
+
+    /// As [`SurgeMonitor::new`], built in place in `slot` (for a device that
+    /// keeps its monitors in one array: no copy of a monitor is built on the
+    /// stack and moved). On a refusal `slot` is left as it was.
+    pub fn new_in(
+        slot: &mut MaybeUninit<Self>,
+        line: SurgeLine<T, N>,
+        config: MonitorConfig<T>,
+    ) -> Result<&mut Self, ConfigError> {
+        Self::validate(&config)?;
+        Ok(slot.write(Self::build(line, config)))
+    }
+
+    /// The checks of [`SurgeMonitor::new`].
+    #[inline(always)]
+    fn validate(config: &MonitorConfig<T>) -> Result<(), ConfigError> {
         check_setting("surge_monitor.scan_period", config.scan_period, 5.0e-4, 1.0)?;
         check_setting(
             "surge_monitor.time_to_surge_horizon",
@@ -372,8 +393,15 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
                 },
             ));
         }
+        Ok(())
+    }
+
+    /// The monitor of a validated `config` (infallible: built where it is
+    /// written).
+    #[inline(always)]
+    fn build(line: SurgeLine<T, N>, config: MonitorConfig<T>) -> Self {
         let exponent = ExponentEstimator::configured(line.sigma());
-        Ok(SurgeMonitor {
+        SurgeMonitor {
             line,
             config,
             gap: config.rate_filter_time * T::of(MAX_RATE_GAP),
@@ -387,7 +415,7 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N> {
             anchor: HeadAnchor::new(),
             exponent,
             state: SurgeState::bad(),
-        })
+        }
     }
 
     /// Switches to the measured-exponent mode: σ from the measured suction

@@ -104,18 +104,22 @@ pub fn section_scan(raw: &[RawStage; demo::STAGES]) -> polytrope::scan::Scan<f32
     polytrope::scan::Scan { stages }
 }
 
-/// A transmitter over `0..range_high` (SI) of kind `unit` (invented
-/// settings: 0.1 % of span, 100 % of span per second plausible, 100 ms
-/// low-pass, 500 ms hold). Out of line: its result is built in one frame
-/// slot, not one per channel of [`Controller::build_in`] (the Cortex-M0
-/// board's 16 KiB of RAM hold the controller and the set-up stack).
-#[inline(never)]
+/// A transmitter of [`transmitter_config`] (the host build; the device
+/// builds each in place, [`build_channel`]).
+#[cfg(not(target_os = "none"))]
 fn transmitter(
     id: u8,
     unit: Unit<f32>,
     range_high: f32,
 ) -> Result<TransmitterChannel, ConfigError> {
-    TransmitterChannel::new(ChannelConfig {
+    TransmitterChannel::new(transmitter_config(id, unit, range_high))
+}
+
+/// A transmitter over `0..range_high` (SI) of kind `unit` (invented
+/// settings: 0.1 % of span, 100 % of span per second plausible, 100 ms
+/// low-pass, 500 ms hold).
+fn transmitter_config(id: u8, unit: Unit<f32>, range_high: f32) -> ChannelConfig<f32> {
+    ChannelConfig {
         id,
         signal: SignalKind::Current4To20,
         unit,
@@ -128,7 +132,7 @@ fn transmitter(
         max_rate: range_high,
         filter_time_constant_s: 0.1,
         hold_ms: 500,
-    })
+    }
 }
 
 /// The upper range value (SI) of each of the [`CHANNELS`] transmitters
@@ -146,21 +150,39 @@ fn channel_ranges<G: GasModel<f32>>(config: &TrainConfig<f32, G, SECTIONS>) -> [
 }
 
 /// Transmitter `i` of [`channel_ranges`]: every third one a Δp.
+#[cfg(not(target_os = "none"))]
 fn channel(i: usize, ranges: &[f32; CHANNELS]) -> Result<TransmitterChannel, ConfigError> {
-    let unit = if i % 3 == 2 {
+    transmitter(i as u8, channel_unit(i), ranges[i])
+}
+
+/// The unit of transmitter `i`: every third one a Δp.
+fn channel_unit(i: usize) -> Unit<f32> {
+    if i % 3 == 2 {
         Unit::DifferentialPressure
     } else {
         Unit::PressureAbs
-    };
-    transmitter(i as u8, unit, ranges[i])
+    }
+}
+
+/// Builds transmitter `i` (over `0..range_high`, its [`channel_ranges`]
+/// entry) in `slot`, in place. Out of line: one copy for every channel of
+/// [`Controller::build_in`]'s loop.
+#[cfg(target_os = "none")]
+#[inline(never)]
+fn build_channel(
+    slot: &mut MaybeUninit<TransmitterChannel>,
+    i: usize,
+    range_high: f32,
+) -> Result<(), ConfigError> {
+    TransmitterChannel::new_in(
+        slot,
+        transmitter_config(i as u8, channel_unit(i), range_high),
+    )?;
+    Ok(())
 }
 
 /// The invented surge line of every stage (map: CO2 near 1 bar, 293 K).
-/// [`Controller::build_in`] builds each monitor with it where the monitor
-/// lives: inlined into that loop its settings fold to constants, and no
-/// clone of a built monitor (a 316-byte state copied field by field) is
-/// needed.
-fn section_monitor() -> Result<SectionMonitor, ConfigError> {
+fn section_line() -> Result<SurgeLine<f32, 4>, ConfigError> {
     let p = |rpm: f32, q: f32, r: f32| SurgePoint {
         speed_rpm: rpm,
         suction_volume_flow: q,
@@ -173,7 +195,7 @@ fn section_monitor() -> Result<SectionMonitor, ConfigError> {
         p(9000.0, 1.60, 3.0),
         p(10000.0, 1.68, 3.4),
     ];
-    let line = SurgeLine::new(&SurgeLineConfig {
+    SurgeLine::new(&SurgeLineConfig {
         points: &points,
         map: MapConditions {
             suction_pressure: PressureAbs::from_pa(1.0e5),
@@ -183,15 +205,32 @@ fn section_monitor() -> Result<SectionMonitor, ConfigError> {
         },
         polytropic_exponent: 1.30,
         flow_coefficient: 0.04,
-    })?;
-    SurgeMonitor::new(
-        line,
-        MonitorConfig {
-            scan_period: 0.02,
-            time_to_surge_horizon: 60.0,
-            rate_filter_time: 0.05,
-        },
-    )
+    })
+}
+
+/// The invented monitor settings of every stage (20 ms scan, 60 s
+/// time-to-surge horizon, 50 ms rate filter).
+const MONITOR: MonitorConfig<f32> = MonitorConfig {
+    scan_period: 0.02,
+    time_to_surge_horizon: 60.0,
+    rate_filter_time: 0.05,
+};
+
+/// The monitor of every stage: [`section_line`], [`MONITOR`] (the host
+/// build; the device builds each in place, [`build_monitor`]).
+#[cfg(not(target_os = "none"))]
+fn section_monitor() -> Result<SectionMonitor, ConfigError> {
+    SurgeMonitor::new(section_line()?, MONITOR)
+}
+
+/// Builds the monitor of every stage ([`section_line`], [`MONITOR`]) in
+/// `slot`, in place. Out of line: one copy for every monitor of
+/// [`Controller::build_in`]'s loop.
+#[cfg(target_os = "none")]
+#[inline(never)]
+fn build_monitor(slot: &mut MaybeUninit<SectionMonitor>) -> Result<(), ConfigError> {
+    SurgeMonitor::new_in(slot, section_line()?, MONITOR)?;
+    Ok(())
 }
 
 /// One stage's three channels (suction, discharge, flow-element Δp) at
@@ -249,14 +288,18 @@ impl<G: GasModel<f32>> Controller<G> {
         // monitors) has been written.
         unsafe {
             core::ptr::addr_of_mut!((*p).last_ms).write(None);
-            core::ptr::addr_of_mut!((*p).train).write(SectionTrain::new(config)?);
-            let channels = core::ptr::addr_of_mut!((*p).channels).cast::<TransmitterChannel>();
-            for i in 0..CHANNELS {
-                channels.add(i).write(channel(i, &ranges)?);
+            // In place (no train-sized copy on the stack, no move code).
+            let train = core::ptr::addr_of_mut!((*p).train).cast::<MaybeUninit<SectionTrain<G>>>();
+            SectionTrain::new_in(&mut *train, config)?;
+            let channels =
+                core::ptr::addr_of_mut!((*p).channels).cast::<MaybeUninit<TransmitterChannel>>();
+            for (i, range_high) in ranges.iter().enumerate() {
+                build_channel(&mut *channels.add(i), i, *range_high)?;
             }
-            let monitors = core::ptr::addr_of_mut!((*p).monitors).cast::<SectionMonitor>();
+            let monitors =
+                core::ptr::addr_of_mut!((*p).monitors).cast::<MaybeUninit<SectionMonitor>>();
             for i in 0..SECTIONS {
-                monitors.add(i).write(section_monitor()?);
+                build_monitor(&mut *monitors.add(i))?;
             }
             Ok(slot.assume_init_mut())
         }

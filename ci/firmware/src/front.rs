@@ -3,10 +3,7 @@
 //! (demo data): a 4-point surge line and a suction-pressure transmitter.
 
 use polytrope::signal::{Channel, ChannelConfig, InstrumentClass, SignalKind, Unit};
-use polytrope::surge::{
-    ExponentConfig, MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig, SurgeMonitor,
-    SurgePoint, SurgeScan,
-};
+use polytrope::surge::{demo_map, ExponentConfig, SurgeLine, SurgeMonitor, SurgeScan};
 use polytrope::units::{Kelvin, PressureAbs};
 use polytrope::{ConfigError, Measured};
 
@@ -19,39 +16,13 @@ pub type PressureChannel = Channel<f32, 8, 5>;
 /// Scans to run before measuring, so the rate filter has settled (4 τ).
 pub const WARM_SCANS: u32 = 12;
 
-/// The monitor on an invented 4-speed surge line (demo data).
+/// The monitor on the kernel's invented 4-speed surge line
+/// (`polytrope::surge::demo_map`, demo data): one copy of the map for the
+/// tests, the host tools and the firmware.
 pub fn surge_monitor() -> Result<Monitor, ConfigError> {
-    let p = |rpm: f32, q: f32, r: f32, m: f32| SurgePoint {
-        speed_rpm: rpm,
-        suction_volume_flow: q,
-        pressure_ratio: r,
-        control_margin: m,
-    };
-    let points = [
-        p(7000.0, 1.40, 1.55, 0.14),
-        p(8000.0, 1.60, 1.75, 0.12),
-        p(9000.0, 1.82, 2.00, 0.10),
-        p(10000.0, 2.05, 2.30, 0.10),
-    ];
-    let line = SurgeLine::new(&SurgeLineConfig {
-        points: &points,
-        map: MapConditions {
-            suction_pressure: PressureAbs::from_pa(1.0e5),
-            suction_temperature: Kelvin::new(293.15),
-            molar_mass: 28.96,
-            compressibility: 1.0,
-        },
-        polytropic_exponent: 1.45,
-        flow_coefficient: 0.04,
-    })?;
-    SurgeMonitor::new(
-        line,
-        MonitorConfig {
-            scan_period: 0.02,
-            time_to_surge_horizon: 60.0,
-            rate_filter_time: 0.05,
-        },
-    )
+    let points = demo_map::points::<f32>();
+    let line = SurgeLine::new(&demo_map::line_config(&points))?;
+    SurgeMonitor::new(line, demo_map::monitor_config())
 }
 
 /// Scans to run before measuring the measured-exponent monitor, so its σ
