@@ -338,7 +338,118 @@ impl<T: Copy> StageReadings<T> for CompressorInputs<T> {
 /// [`evaluate_compressor_within`] with the check thresholds and the
 /// dependency tables built beforehand (`tables` for
 /// `gas.property_inputs()`; `None` builds them).
+///
+/// With a train's tables the common case is finished in one pass from the
+/// readings ([`nominal_readings`]); everything else (and every caller
+/// without tables) takes the general path, out of line
+/// ([`evaluate_compressor_general`]), which starts again from the readings
+/// (the nominal attempt writes nothing that it does not overwrite).
+#[inline(always)]
 pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadings<T>>(
+    gas: &G,
+    inp: &I,
+    thresholds: &StageThresholds<T>,
+    tables: Option<&StageUses>,
+    out: &mut CompressorResult<T>,
+) {
+    match tables {
+        Some(t) => {
+            if let Some(uncertain) = nominal_readings(gas, inp, thresholds, t, out) {
+                settle_usable(out, uncertain);
+            } else {
+                evaluate_compressor_with_table(gas, inp, thresholds, t, out);
+            }
+        }
+        None => evaluate_compressor_general(gas, inp, thresholds, None, out),
+    }
+}
+
+/// The general path with a train's tables, out of line and cold: a train's
+/// stage takes it only when the nominal finish does not apply. (Its own
+/// copy: with the tables known to be there, the built-in tables of callers
+/// without one are not linked into a train's code.)
+#[cold]
+#[inline(never)]
+fn evaluate_compressor_with_table<T: Real, G: GasModel<T>, I: StageReadings<T>>(
+    gas: &G,
+    inp: &I,
+    thresholds: &StageThresholds<T>,
+    tables: &StageUses,
+    out: &mut CompressorResult<T>,
+) {
+    evaluate_compressor_general(gas, inp, thresholds, Some(tables), out);
+}
+
+/// The common case of a train's measured stage straight from the readings:
+/// every input slot usable (good or uncertain; a supplied Z too), a
+/// compression (a finite ratio above 1), then the states at the measured
+/// end states and the nominal finish ([`nominal_stage`]). Without a
+/// selection of path values: with every input usable the general path's
+/// path values are the measured ones, and its ratio, logarithm, states,
+/// fit and isothermal head are these, the same expressions on the same
+/// values. `None` if any of that does not hold.
+#[inline(always)]
+fn nominal_readings<T: Real, G: GasModel<T>, I: StageReadings<T>>(
+    gas: &G,
+    inp: &I,
+    thresholds: &StageThresholds<T>,
+    tables: &StageUses,
+    out: &mut CompressorResult<T>,
+) -> Option<u16> {
+    let [p1, p2, t1, t2, flow] = inp.readings();
+    let (z_supplied, q_z) = match inp.compressibility() {
+        Some((z, q)) => (Some(z), q),
+        None => (None, Quality::Good),
+    };
+    // Good is 0, uncertain 1: every slot usable in one test.
+    let worst = p1.quality as u8
+        | t1.quality as u8
+        | p2.quality as u8
+        | t2.quality as u8
+        | flow.quality as u8
+        | q_z as u8;
+    if worst > Quality::Uncertain as u8 {
+        return None;
+    }
+    let ratio = p2.value / p1.value;
+    // Finite and above 1 (with an FPU two compares: a NaN fails both).
+    let compressing = if HARD_FLOAT {
+        T::ONE < ratio && ratio < T::of(f64::INFINITY)
+    } else {
+        T::is_finite(ratio) && T::less_not_nan(T::ONE, ratio)
+    };
+    if !compressing {
+        return None;
+    }
+    let dt = t2.value - t1.value;
+    let fit = gas.fit_quality(t1.value, t2.value);
+    let ln_path = T::ln(ratio);
+    let cs = gas.compression(
+        p1.value,
+        t1.value,
+        p2.value,
+        ln_path,
+        Some(t2.value),
+        z_supplied,
+    );
+    let h_iso = isothermal_head_from_log(cs.suction_z, gas.gas_constant(), t1.value, ln_path);
+    nominal_stage(
+        &cs,
+        [p1, t1, p2, t2, flow],
+        q_z,
+        fit,
+        true,
+        [ratio, dt, ln_path, h_iso],
+        thresholds,
+        tables,
+        out,
+    )
+}
+
+/// The general path of [`evaluate_compressor_tabled`]: every case, from
+/// the readings.
+#[inline(always)]
+fn evaluate_compressor_general<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     gas: &G,
     inp: &I,
     thresholds: &StageThresholds<T>,
@@ -421,28 +532,6 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
         cs.isentropic_validity = v1;
         cs.validity = v;
         cs.isentropic_exponent = k;
-    }
-    // The common case of a train's measured stage, finished in one pass:
-    // every input usable, a compression with a temperature rise, the
-    // model's checks good or uncertain, every plausibility check passed and
-    // every value finite. The rule then makes no output bad, and each is
-    // uncertain exactly where an uncertain slot or model check reaches it
-    // (the same grades as the general path below, which handles the rest).
-    if let Some(t) = tables {
-        if let Some(uncertain) = nominal_stage(
-            &cs,
-            [p1, t1, p2, t2, flow],
-            q_z,
-            fit,
-            compressing,
-            [ratio, dt, ln_path, h_iso],
-            thresholds,
-            t,
-            out,
-        ) {
-            settle_usable(out, uncertain);
-            return;
-        }
     }
     if p_ok {
         done |= 1 << 0;
@@ -689,7 +778,24 @@ fn nominal_stage<T: Real>(
     out.power_above_isothermal.value = flow.value * above;
     out.compressibility.value = cs.suction_z;
     out.k.value = cs.isentropic_exponent;
-    if !T::all_finite(&compressor_values(out)) {
+    // Finite but where a check above has shown it: the ratio (finite by
+    // the gate) and the two efficiencies (in (0, 1 + allowance]).
+    let unchecked = [
+        out.isentropic_discharge_temperature.value,
+        out.temperature_rise.value,
+        out.isentropic_head.value,
+        out.polytropic_head.value,
+        out.isothermal_head.value,
+        out.actual_work.value,
+        out.polytropic_exponent.value,
+        out.mass_flow.value,
+        out.gas_power.value,
+        out.work_above_isothermal.value,
+        out.power_above_isothermal.value,
+        out.compressibility.value,
+        out.k.value,
+    ];
+    if !T::all_finite(&unchecked) {
         return None;
     }
     out.gas_validity = cs.validity;
