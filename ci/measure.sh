@@ -64,8 +64,8 @@ for target in thumbv7em-none-eabihf thumbv6m-none-eabi; do
 done
 
 # The feature builds, each in a target directory of its own: approx-math
-# (micromath ln/exp/pow) on both targets, inline-math (libm's logf/expf
-# inlined at every call site instead of kept out of line) on Cortex-M4F.
+# (micromath ln/exp/pow) on both targets, inline-math (the f32 table-driven
+# ln/exp inlined at every call site instead of kept out of line) on Cortex-M4F.
 # `opt-s` is no feature but the release profile at opt-level "s" (what a
 # user trading speed for flash would build): the same sources, smaller code.
 for build in thumbv7em-none-eabihf+approx-math thumbv7em-none-eabihf+inline-math \
@@ -261,7 +261,7 @@ L.append("Static RAM is zero because the minimal firmware keeps the train on the
          "to link.")
 L.append("")
 L.append("Feature builds (same harness, same scans): `approx-math` routes `ln`, `exp`, "
-         "`powf` to `micromath`; `inline-math` lets LTO inline libm's `logf`/`expf` at every call site "
+         "`powf` to `micromath`; `inline-math` lets LTO inline the f32 `ln`/`exp` (table-driven, `src/real/table_log_exp.rs`) at every call site "
          "(the default keeps one out-of-line copy of each; results bit-identical); `opt-level s` is "
          "no feature but the release profile built for size (`CARGO_PROFILE_RELEASE_OPT_LEVEL=s`; "
          "same sources, results bit-identical).")
