@@ -7,8 +7,8 @@
 //! exponential function in IEEE floating-point arithmetic", ACM Trans.
 //! Math. Softw. 15(2), 1989, 144–157; the breakpoints are chosen by the
 //! "accurate tables" idea of S. Gal, "Computing elementary functions: a
-//! new approach for achieving high accuracy and good performance", Lecture
-//! Notes in Computer Science 235, 1986.
+//! new approach for achieving high accuracy and good performance", in
+//! Accurate Scientific Computations, LNCS 235, Springer, 1986.
 //!
 //! **Logarithm.** x = 2^k·z with z in [`LN_REDUCED_FROM`], 2·that) (integer
 //! operations on the bits); z falls in one of 32 intervals, each with a
