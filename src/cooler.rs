@@ -451,38 +451,65 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
     // outside its fitted or valid range; UA also without flow (a zero duty
     // is not fouling; a negative duty in the noise band gives a negative
     // UA).
-    let outlet_above_inlet = lt(drop, -noise);
-    let within_noise = !outlet_above_inlet && lt(drop, noise);
-    let below_coolant = lt(approach, -noise);
-    let no_span = !lt(T::of(MIN_EFFECTIVENESS_SPAN_K), span);
-    let stationary = !lt(limits.stationary_flow, flow);
-    // `0 <= eff <= 1` (false for NaN); without an FPU on the bits
-    // ([`Real::within_nonnegative`], exact for every value, NaN and -0.0
-    // included: no library call).
-    let effectiveness_in_unit_range = if HARD_FLOAT {
-        eff >= T::ZERO && eff <= T::ONE
-    } else {
-        T::within_nonnegative(eff, T::ZERO, T::ONE)
+    let effectiveness_in_unit_range = || {
+        // `0 <= eff <= 1` (false for NaN); without an FPU on the bits
+        // ([`Real::within_nonnegative`], exact for every value, NaN and
+        // -0.0 included: no library call).
+        if HARD_FLOAT {
+            eff >= T::ZERO && eff <= T::ONE
+        } else {
+            T::within_nonnegative(eff, T::ZERO, T::ONE)
+        }
     };
     let cp_suspect = cp_fit != Quality::Good || packed & (3 * (I_DH >> 1)) != 0;
-    let weak_duty = within_noise || cp_suspect;
     let flag = |c: bool, bits: u16| if c { bits } else { 0 };
-    let suspect = flag(lt(dp, T::ZERO), F_DP | F_REL_DP)
-        | flag(outlet_above_inlet, F_DROP)
-        | flag(weak_duty, F_DUTY | F_BALANCE)
-        | flag(weak_duty || stationary, F_UA)
-        | flag(below_coolant, F_APPROACH)
-        | flag(!effectiveness_in_unit_range, F_EFF)
-        | flag(lt(rise, -noise), F_COOLANT_RISE);
-    // What the evaluation found, in order of precedence: the first of its
-    // bits (read only with usable gas and coolant inlet temperatures; the
-    // flow's usability is tested here).
-    let flow_usable = ok(I_FLOW);
-    let found = u32::from(outlet_above_inlet)
-        | u32::from(below_coolant) << 1
-        | u32::from(no_span) << 2
-        | u32::from(within_noise && flow_usable) << 3
-        | u32::from(stationary && flow_usable) << 4;
+    // The usual cooler first: no check fires (the same compares as below,
+    // each false, tested in turn and left at the first that is not), so
+    // only the gas model's suspicion is left to mark. The drop not below
+    // +noise implies it is not below -noise where the noise is not
+    // negative (bounded: validated limits, noise in [0, 10] K); a caller's
+    // own limits get the second test too.
+    let typical = !lt(drop, noise)
+        && (BOUNDED || !lt(drop, -noise))
+        && !lt(approach, -noise)
+        && lt(T::of(MIN_EFFECTIVENESS_SPAN_K), span)
+        && lt(limits.stationary_flow, flow)
+        && !lt(dp, T::ZERO)
+        && !lt(rise, -noise)
+        && effectiveness_in_unit_range();
+    // `suspect`: the outputs a check marks uncertain; `found`: the
+    // condition's bits; `excluded`: the outputs the checks leave out.
+    let (suspect, found, excluded) = if typical {
+        (flag(cp_suspect, F_DUTY | F_BALANCE | F_UA), 0, 0)
+    } else {
+        let outlet_above_inlet = lt(drop, -noise);
+        let within_noise = !outlet_above_inlet && lt(drop, noise);
+        let below_coolant = lt(approach, -noise);
+        let no_span = !lt(T::of(MIN_EFFECTIVENESS_SPAN_K), span);
+        let stationary = !lt(limits.stationary_flow, flow);
+        let weak_duty = within_noise || cp_suspect;
+        let suspect = flag(lt(dp, T::ZERO), F_DP | F_REL_DP)
+            | flag(outlet_above_inlet, F_DROP)
+            | flag(weak_duty, F_DUTY | F_BALANCE)
+            | flag(weak_duty || stationary, F_UA)
+            | flag(below_coolant, F_APPROACH)
+            | flag(!effectiveness_in_unit_range(), F_EFF)
+            | flag(lt(rise, -noise), F_COOLANT_RISE);
+        // What the evaluation found, in order of precedence: the first of
+        // its bits (read only with usable gas and coolant inlet
+        // temperatures; the flow's usability is tested here).
+        let flow_usable = ok(I_FLOW);
+        let found = u32::from(outlet_above_inlet)
+            | u32::from(below_coolant) << 1
+            | u32::from(no_span) << 2
+            | u32::from(within_noise && flow_usable) << 3
+            | u32::from(stationary && flow_usable) << 4;
+        // No effectiveness or duty with the outlet above the inlet, no
+        // effectiveness without a driving difference (and what uses them).
+        let excluded =
+            flag(outlet_above_inlet, F_EFF | F_DUTY | F_UA | F_BALANCE) | flag(no_span, F_EFF);
+        (suspect, found, excluded)
+    };
     // Computed outputs: the usable ones, less those the checks exclude (no
     // effectiveness or duty with the outlet above the inlet, no
     // effectiveness without a driving difference, no duty that is not
@@ -492,10 +519,8 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
     // results that may overflow, without one here (where LLVM keeps the
     // test on the bits: measured, no library compare).
     let duty_users = F_DUTY | F_UA | F_BALANCE;
-    let mut done = usable_fields
-        & !flag(outlet_above_inlet, F_EFF | F_DUTY | F_UA | F_BALANCE)
-        & !flag(no_span, F_EFF)
-        & !flag(!HARD_FLOAT && !T::is_finite(duty), duty_users);
+    let mut done =
+        usable_fields & !excluded & !flag(!HARD_FLOAT && !T::is_finite(duty), duty_users);
     let (mut lmtd, mut ua, mut balance) = (T::ZERO, T::ZERO, T::ZERO);
     if done & F_LMTD != 0 {
         let dt_hot = tin - tco;
