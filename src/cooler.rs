@@ -362,6 +362,8 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
         .enumerate()
         .fold(0u32, |a, (i, &q)| a | (q as u32) << (2 * i));
     evaluate_cooler_packed::<T, BOUNDED>(inp, packed, limits, cp_inputs, cp_fit, out);
+    // A lone cooler: no next stage (the train sets the next stage's rise).
+    out.next_stage_temperature_rise = Measured::bad();
 }
 
 /// [`evaluate_cooler_bounded`] with the inputs' qualities given as its
@@ -604,33 +606,6 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
             .unwrap_or(CoolerCondition::Normal)
     };
 
-    // Every output at once: the table's bits (`F_*` = declaration order).
-    // With every input slot good the table is not looked at.
-    let o = if packed & SLOT_INPUTS == 0 {
-        OutputGrades::all_slots_good(done, suspect)
-    } else {
-        let slots = [
-            slot::T2,
-            slot::GAS_OUT_T,
-            slot::COOLANT_IN_T,
-            slot::COOLANT_OUT_T,
-            slot::P2,
-            slot::GAS_OUT_P,
-            slot::FLOW,
-            slot::COOLANT_FLOW,
-        ];
-        let mut g = Grades::new();
-        for (i, s) in slots.into_iter().enumerate() {
-            let q = match (packed >> (2 * i)) & 3 {
-                0 => Quality::Good,
-                1 => Quality::Uncertain,
-                2 => Quality::Bad,
-                _ => Quality::NotApplicable,
-            };
-            g.first_slot(s, q);
-        }
-        OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect)
-    };
     let fields = [
         (&mut out.gas_temperature_drop, F_DROP),
         (&mut out.approach, F_APPROACH),
@@ -643,21 +618,63 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
         (&mut out.ua, F_UA),
         (&mut out.heat_balance_error, F_BALANCE),
     ];
-    if o.all_usable(ALL_FIELDS) && o.none_uncertain(ALL_FIELDS) {
-        for (m, _) in fields {
-            m.quality = Quality::Good;
-        }
-    } else if o.all_usable(ALL_FIELDS) {
+    // The usual cooler: every input slot good, every output computed and
+    // at most the gas model's suspicion marked (the duty and what uses it
+    // uncertain): the grades below give exactly these qualities.
+    let weak = F_DUTY | F_UA | F_BALANCE;
+    if packed & SLOT_INPUTS == 0 && done == ALL_FIELDS && (suspect == 0 || suspect == weak) {
+        let q_weak = if suspect == 0 {
+            Quality::Good
+        } else {
+            Quality::Uncertain
+        };
         for (m, bit) in fields {
-            m.quality = o.usable_quality(bit);
+            m.quality = if bit & weak != 0 {
+                q_weak
+            } else {
+                Quality::Good
+            };
         }
     } else {
-        for (m, bit) in fields {
-            o.settle_finite(m, bit);
+        // Every output at once: the table's bits (`F_*` = declaration order).
+        // With every input slot good the table is not looked at.
+        let o = if packed & SLOT_INPUTS == 0 {
+            OutputGrades::all_slots_good(done, suspect)
+        } else {
+            let slots = [
+                slot::T2,
+                slot::GAS_OUT_T,
+                slot::COOLANT_IN_T,
+                slot::COOLANT_OUT_T,
+                slot::P2,
+                slot::GAS_OUT_P,
+                slot::FLOW,
+                slot::COOLANT_FLOW,
+            ];
+            let mut g = Grades::new();
+            for (i, s) in slots.into_iter().enumerate() {
+                let q = match (packed >> (2 * i)) & 3 {
+                    0 => Quality::Good,
+                    1 => Quality::Uncertain,
+                    2 => Quality::Bad,
+                    _ => Quality::NotApplicable,
+                };
+                g.first_slot(s, q);
+            }
+            OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect)
+        };
+        if o.all_usable(ALL_FIELDS) {
+            for (m, bit) in fields {
+                m.quality = o.usable_quality(bit);
+            }
+        } else {
+            for (m, bit) in fields {
+                o.settle_finite(m, bit);
+            }
         }
     }
-    // Set by the train (the next stage's result).
-    out.next_stage_temperature_rise = Measured::bad();
+    // The next stage's rise is not written here: the train writes it (the
+    // next stage's result), `evaluate_cooler_bounded` sets it bad.
     out.condition = condition;
 }
 
