@@ -1053,3 +1053,87 @@ fn store_references<T: Real>(out: &mut TrainTotals<T>, t: &TrainTotals<T>) {
     out.staging_saving = t.staging_saving;
     out.ideal_staging_saving = t.ideal_staging_saving;
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Consistency check (the project's own range checks, two forms): a
+    /// cooler reading checked by `reading_within` equals what
+    /// `Limits::temperature_valid`, `Limits::pressure_valid` and
+    /// `Limits::mass_flow_valid` give (value bits and quality) for the
+    /// default limits, every quality, the bounds and their neighbours,
+    /// zeros of both signs, negative values, the infinities, NaN and seeded
+    /// random bit patterns, in f32 and f64.
+    #[test]
+    fn cooler_reading_check_equals_the_limits_checks() {
+        fn run<T: Real>(values: &[T], random: impl Fn(u32, u32) -> T) {
+            let limits = Limits::<T>::default();
+            let qualities = [
+                Quality::Good,
+                Quality::Uncertain,
+                Quality::Bad,
+                Quality::NotApplicable,
+            ];
+            let same = |a: Measured<T>, b: Measured<T>| {
+                a.quality == b.quality && a.value.to_f64().to_bits() == b.value.to_f64().to_bits()
+            };
+            let mut next = crate::xorshift32(0x0bad_cafe);
+            let check = |v: T| {
+                for q in qualities {
+                    let m = Measured::new(v, q);
+                    let t = reading_within(m, limits.min_temperature, limits.max_temperature);
+                    assert!(same(t, limits.temperature_valid(m)), "{v:?} {q:?}");
+                    let p = reading_within(m, limits.min_pressure, limits.max_pressure);
+                    assert!(same(p, limits.pressure_valid(m)), "{v:?} {q:?}");
+                    let f = reading_within(m, T::ZERO, limits.max_mass_flow);
+                    assert!(same(f, limits.mass_flow_valid(m)), "{v:?} {q:?}");
+                }
+            };
+            for &v in values {
+                check(v);
+            }
+            for _ in 0..20_000 {
+                let (a, b) = (next(), next());
+                check(random(a, b));
+            }
+        }
+        let l32 = Limits::<f32>::default();
+        let mut v32 = [0.0_f32; 26];
+        let specials = [
+            0.0,
+            -0.0,
+            1.0,
+            -1.0,
+            300.0,
+            f32::INFINITY,
+            f32::NEG_INFINITY,
+            f32::NAN,
+            -f32::NAN,
+            f32::MIN_POSITIVE,
+            f32::from_bits(1),
+        ];
+        let bounds = [
+            l32.min_temperature,
+            l32.max_temperature,
+            l32.min_pressure,
+            l32.max_pressure,
+            l32.max_mass_flow,
+        ];
+        let near = bounds.iter().flat_map(|b| {
+            [
+                *b,
+                f32::from_bits(b.to_bits() - 1),
+                f32::from_bits(b.to_bits() + 1),
+            ]
+        });
+        for (slot, v) in v32.iter_mut().zip(specials.into_iter().chain(near)) {
+            *slot = v;
+        }
+        run::<f32>(&v32, |a, _| f32::from_bits(a));
+        let v64 = v32.map(f64::from);
+        run::<f64>(&v64, |a, b| {
+            f64::from_bits(u64::from(a) << 32 | u64::from(b))
+        });
+    }
+}
