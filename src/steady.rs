@@ -134,33 +134,30 @@ impl<T: Real> SteadyState<T> {
 /// The ring is filled in laps of `W` writes. After a write at slot `k`, the
 /// window holds this lap's slots `0..=k` and the previous lap's slots
 /// `k+1..W`; its maximum is the larger of this lap's running maximum and the
-/// previous lap's largest value in slots `k+1..W` (its suffix maximum). The
-/// slots of a lap's suffix extremes are found once, when the lap completes
-/// (`W` steps every `W` writes, outlined), so a write costs two comparisons
-/// and the extremes two more, whatever the data (the earlier ring rescanned
-/// all `W` values whenever an extreme left the window, which a trend does
-/// at every scan). Suffix extremes are kept as one-byte slots into the ring
-/// rather than values (the state stays within 8 bytes of a plain ring's on
-/// the 16 KiB Cortex-M0 target), so `W` is at most 256.
+/// previous lap's largest value in slots `k+1..W` (its suffix maximum). A
+/// lap's suffix extremes are found once, when the lap completes (`W` steps
+/// every `W` writes, outlined), so a write costs two comparisons and the
+/// extremes two more, whatever the data (the earlier ring rescanned all `W`
+/// values whenever an extreme left the window, which a trend does at every
+/// scan). The suffix extremes are stored as values beside the slot's value
+/// (one slot record, read with no indirection), so `W` is limited only by
+/// the one-byte slot position: at most 256.
 ///
 /// Exactness: every value compared is a value of the window (or, after a
 /// clear, a copy of the first value written, which stays in the window
-/// until every slot holding a copy has been overwritten), so the extremes
-/// equal a full rescan's.
+/// until every slot holding a copy has been overwritten; or an infinite
+/// start of a running extreme, which the first value of a lap replaces), so
+/// the extremes equal a full rescan's.
 #[derive(Clone, Debug)]
 struct RangeWindow<T, const W: usize> {
-    /// The last `W` values, slot `i` written at the lap's `i`-th write
-    /// (after a clear, unwritten slots hold the first value).
-    values: [T; W],
-    /// Slots `next..W`: for slot `i`, the slot of the previous lap's largest
-    /// value in slots `i..W` (after a lap completes, that lap's, for every
-    /// slot).
-    high: [u8; W],
-    /// Same for the smallest value.
-    low: [u8; W],
+    /// Slot `i`: the value of the lap's `i`-th write (after a clear,
+    /// unwritten slots hold the first value), and the previous lap's
+    /// largest and smallest values in slots `i..W` (meaningful for slots
+    /// `next..W`; after a lap completes, that lap's, for every slot).
+    slots: [Slot<T>; W],
     /// Largest and smallest of this lap's values (slots `0..next`, from the
-    /// first write's slot in the first lap after a clear; the whole lap just
-    /// after it completed). 0 while the window is empty.
+    /// first write's slot in the first lap after a clear): -inf and +inf at
+    /// the start of a lap, 0 while the window is empty.
     lap_high: T,
     lap_low: T,
     /// Slot of the next write, `< W`.
@@ -171,6 +168,15 @@ struct RangeWindow<T, const W: usize> {
     phase: u8,
     /// Values held, `<= W`.
     len: u16,
+}
+
+/// One slot of a [`RangeWindow`]: its value and the previous lap's suffix
+/// extremes from it on.
+#[derive(Clone, Copy, Debug)]
+struct Slot<T> {
+    value: T,
+    high: T,
+    low: T,
 }
 
 impl<T: Real, const W: usize> RangeWindow<T, W> {
@@ -185,9 +191,11 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
         // W <= 256, so the remainder fits in u8.
         let phase = (phase as usize % W) as u8;
         RangeWindow {
-            values: [T::ZERO; W],
-            high: [0; W],
-            low: [0; W],
+            slots: [Slot {
+                value: T::ZERO,
+                high: T::ZERO,
+                low: T::ZERO,
+            }; W],
             lap_high: T::ZERO,
             lap_low: T::ZERO,
             next: phase,
@@ -206,47 +214,36 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
         usize::from(self.len)
     }
 
-    /// The value in a slot read from `high` or `low` (always `< W`; masked
-    /// when `W` is a power of two, so that the bounds check folds away).
-    #[inline(always)]
-    fn at(&self, slot: u8) -> T {
-        let i = usize::from(slot);
-        let i = if W.is_power_of_two() { i & (W - 1) } else { i };
-        self.values.get(i).copied().unwrap_or(T::ZERO)
-    }
-
     /// Adds a finite value; returns the window's minimum and maximum.
     #[inline(always)]
     fn write(&mut self, v: T) -> (T, T) {
-        // W <= 256 (asserted in `new`), so a slot fits in u8.
         if usize::from(self.len) < W {
             if self.len == 0 {
                 self.start(v);
             }
             self.len += 1;
         }
-        let k = self.next;
-        let at = usize::from(k);
-        let (hi, lo) = if at == 0 {
-            (v, v)
-        } else {
-            (larger(self.lap_high, v), smaller(self.lap_low, v))
-        };
-        (self.lap_high, self.lap_low) = (hi, lo);
+        let at = usize::from(self.next);
+        // At the start of a lap the running extremes are -inf and +inf,
+        // which `v` (finite) replaces.
+        let hi = larger(self.lap_high, v);
+        let lo = smaller(self.lap_low, v);
         if at + 1 < W {
-            if let Some(slot) = self.values.get_mut(at) {
-                *slot = v;
+            (self.lap_high, self.lap_low) = (hi, lo);
+            if let Some(slot) = self.slots.get_mut(at) {
+                slot.value = v;
             }
-            self.next = k.wrapping_add(1);
+            // W <= 256 (asserted in `new`), so a slot fits in u8.
+            self.next = self.next.wrapping_add(1);
             // The previous lap's suffix extremes from the next slot.
-            match (self.high.get(at + 1), self.low.get(at + 1)) {
-                (Some(&h), Some(&l)) => (smaller(lo, self.at(l)), larger(hi, self.at(h))),
-                _ => (lo, hi),
+            match self.slots.get(at + 1) {
+                Some(s) => (smaller(lo, s.low), larger(hi, s.high)),
+                None => (lo, hi),
             }
         } else {
             // The lap is complete: the window is this lap.
-            if let Some(slot) = self.values.get_mut(at) {
-                *slot = v;
+            if let Some(slot) = self.slots.get_mut(at) {
+                slot.value = v;
             }
             self.next = 0;
             self.close_lap();
@@ -261,55 +258,41 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
     #[cold]
     #[inline(never)]
     fn start(&mut self, v: T) {
-        self.values = [v; W];
+        self.slots = [Slot {
+            value: v,
+            high: v,
+            low: v,
+        }; W];
         (self.lap_high, self.lap_low) = (v, v);
-        for (i, (h, l)) in self.high.iter_mut().zip(self.low.iter_mut()).enumerate() {
-            let slot = u8::try_from(i).unwrap_or(0);
-            (*h, *l) = (slot, slot);
-        }
     }
 
-    /// The lap completed: records, for every slot from 1 on, the slots of
-    /// its largest and smallest values from that slot on. Slot 0's entries
-    /// are left as they are: they are read only while the next write goes to
-    /// slot 0, that is while the window is exactly this lap (`lap_high` and
-    /// `lap_low` are its extremes), and they name a slot `< W`, whose value is
-    /// then of this lap too, so they cannot change the extremes.
+    /// The lap completed: records, for every slot, its largest and smallest
+    /// values from that slot on, and starts the next lap's running extremes
+    /// at -inf and +inf (so that slot 0's entries, read while the next write
+    /// goes to slot 0, are the extremes of the window, this lap).
     #[cold]
     #[inline(never)]
     fn close_lap(&mut self) {
-        let mut best: Option<(T, u8, T, u8)> = None;
-        let slots = self
-            .values
-            .iter()
-            .zip(self.high.iter_mut().zip(self.low.iter_mut()));
-        for (i, (&x, (h, l))) in slots.enumerate().skip(1).rev() {
-            let slot = u8::try_from(i).unwrap_or(0);
-            let (mut hv, mut hs, mut lv, mut ls) = best.unwrap_or((x, slot, x, slot));
-            if T::greater_not_nan(x, hv) {
-                (hv, hs) = (x, slot);
+        let mut slots = self.slots.iter_mut().rev();
+        if let Some(last) = slots.next() {
+            let (mut hi, mut lo) = (last.value, last.value);
+            (last.high, last.low) = (hi, lo);
+            for s in slots {
+                hi = larger(hi, s.value);
+                lo = smaller(lo, s.value);
+                (s.high, s.low) = (hi, lo);
             }
-            if T::less_not_nan(x, lv) {
-                (lv, ls) = (x, slot);
-            }
-            best = Some((hv, hs, lv, ls));
-            (*h, *l) = (hs, ls);
         }
+        (self.lap_high, self.lap_low) = (T::of(f64::NEG_INFINITY), T::of(f64::INFINITY));
     }
 
     /// Minimum and maximum of the window (0, 0 when empty).
     #[inline(always)]
     fn extremes(&self) -> (T, T) {
-        let k = usize::from(self.next);
-        let hi = match self.high.get(k) {
-            Some(&h) => larger(self.lap_high, self.at(h)),
-            None => self.lap_high,
-        };
-        let lo = match self.low.get(k) {
-            Some(&l) => smaller(self.lap_low, self.at(l)),
-            None => self.lap_low,
-        };
-        (lo, hi)
+        match self.slots.get(usize::from(self.next)) {
+            Some(s) => (smaller(self.lap_low, s.low), larger(self.lap_high, s.high)),
+            None => (self.lap_low, self.lap_high),
+        }
     }
 }
 
@@ -368,6 +351,13 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
 
     /// Forgets the window.
     pub fn clear(&mut self) {
+        self.restart();
+    }
+
+    /// [`SteadyStateDetector::clear`] out of the scan's path.
+    #[cold]
+    #[inline(never)]
+    fn restart(&mut self) {
         self.temperature.clear();
         self.ratio.clear();
         self.flow.clear();
@@ -376,7 +366,22 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
     /// Adds one scan. `temperature` may be a bad placeholder for stages
     /// without a meaningful discharge temperature (pumps): pass `None`.
     /// `flow` is `None` when the stage has no flow measurement.
+    #[inline(never)]
     pub fn update(
+        &mut self,
+        cfg: &SteadyStateConfig<T>,
+        ratio: Measured<T>,
+        temperature: Option<Measured<T>>,
+        flow: Option<Measured<T>>,
+    ) -> SteadyState<T> {
+        self.update_inline(cfg, ratio, temperature, flow)
+    }
+
+    /// [`SteadyStateDetector::update`] inlined into its caller (a train's
+    /// compressor stages: no call, and the branches on a temperature that
+    /// is always there fold away).
+    #[inline(always)]
+    pub(crate) fn update_inline(
         &mut self,
         cfg: &SteadyStateConfig<T>,
         ratio: Measured<T>,
@@ -387,7 +392,7 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
             || temperature.is_some_and(|t| !t.quality.is_usable())
             || flow.is_some_and(|f| !f.quality.is_usable());
         if bad {
-            self.clear();
+            self.restart();
             return SteadyState::unknown();
         }
         let (r_lo, r_hi) = self.ratio.write(ratio.value);
@@ -395,24 +400,20 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
             Some(t) => self.temperature.write(t.value),
             None => self.temperature.extremes(),
         };
-        let flow_extremes = flow.map(|f| self.flow.write(f.value));
         let t_spread = t_hi - t_lo;
         let r_rel = relative_spread(r_lo, r_hi);
-        let full = (self.ratio.len() == W)
-            && (temperature.is_none() || (self.temperature.len() == W))
-            && (flow.is_none() || (self.flow.len() == W));
+        let full =
+            (self.ratio.len() == W) && (temperature.is_none() || (self.temperature.len() == W));
         // The flow test as a branch of its own: an empty flow window (a
         // stage without a flow reading) has spread and magnitude 0, so its
         // relative spread is 0; written as one expression, the compiler
         // computed the division anyway (a soft-float call on Cortex-M0).
-        // A window not written this scan keeps its values.
-        let flow_quiet = match flow_extremes {
-            Some((lo, hi)) => relative_spread_within(lo, hi, cfg.max_flow_spread),
-            None if self.flow.len() == 0 => at_most(T::ZERO, cfg.max_flow_spread),
-            None => {
-                let (lo, hi) = self.flow.extremes();
-                relative_spread_within(lo, hi, cfg.max_flow_spread)
-            }
+        // Any other case out of line (kept out of the path of stages
+        // without a flow reading).
+        let flow_quiet = if flow.is_none() && self.flow.len() == 0 {
+            at_most(T::ZERO, cfg.max_flow_spread)
+        } else {
+            flow_window_quiet(&mut self.flow, flow, cfg.max_flow_spread)
         };
         SteadyState {
             steady: full
@@ -426,11 +427,26 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
     }
 }
 
-/// Whether the relative spread of a window with extremes `lo`, `hi`,
-/// (hi - lo) / max(|hi|, |lo|) (0 when both are 0), is within `max` (not
-/// inlined: kept out of the path of stages without a flow reading).
+/// The flow part of [`SteadyStateDetector::update`]: writes `flow` if there
+/// is one (a window not written this scan keeps its values) and tells
+/// whether the window is quiet: full if written this scan, and its relative
+/// spread, (hi - lo) / max(|hi|, |lo|) (0 when both are 0), within `max`.
 #[inline(never)]
-fn relative_spread_within<T: Real>(lo: T, hi: T, max: T) -> bool {
+fn flow_window_quiet<T: Real, const W: usize>(
+    window: &mut RangeWindow<T, W>,
+    flow: Option<Measured<T>>,
+    max: T,
+) -> bool {
+    let (lo, hi) = match flow {
+        Some(f) => {
+            let extremes = window.write(f.value);
+            if window.len() != W {
+                return false;
+            }
+            extremes
+        }
+        None => window.extremes(),
+    };
     at_most(relative_spread(lo, hi), max)
 }
 

@@ -616,7 +616,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                             c,
                         );
                     }
-                    out.steady_state = detector.update(
+                    out.steady_state = detector.update_inline(
                         &self.config.steady_state,
                         out.pressure_ratio(),
                         Some(s.t2),
