@@ -56,6 +56,17 @@ fn at_most<T: Real>(x: T, max: T) -> bool {
     }
 }
 
+/// [`at_most`], or for a `max` known not to be NaN (`NOT_NAN`: a validated
+/// tolerance) the bit-pattern order alone without an FPU.
+#[inline(always)]
+fn at_most_of<T: Real, const NOT_NAN: bool>(x: T, max: T) -> bool {
+    if NOT_NAN && !HARD_FLOAT {
+        !T::less_than(max, x)
+    } else {
+        at_most(x, max)
+    }
+}
+
 /// [`at_most`] without a float compare: the bit-pattern order, and a NaN
 /// `max` (neither finite nor infinite) refused.
 #[inline(always)]
@@ -217,12 +228,31 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
     /// Adds a finite value; returns the window's minimum and maximum.
     #[inline(always)]
     fn write(&mut self, v: T) -> (T, T) {
-        if usize::from(self.len) < W {
+        let (lo, hi, _) = self.write_counted(v);
+        (lo, hi)
+    }
+
+    /// [`RangeWindow::write`], and the number of values held after it (`W`
+    /// as a constant once the window is full, so that a caller's test for a
+    /// full window folds away on that path).
+    #[inline(always)]
+    fn write_counted(&mut self, v: T) -> (T, T, usize) {
+        let held = if usize::from(self.len) < W {
             if self.len == 0 {
                 self.start(v);
             }
             self.len += 1;
-        }
+            usize::from(self.len)
+        } else {
+            W
+        };
+        let (lo, hi) = self.write_held(v);
+        (lo, hi, held)
+    }
+
+    /// The ring part of [`RangeWindow::write`] (`len` already counted).
+    #[inline(always)]
+    fn write_held(&mut self, v: T) -> (T, T) {
         let at = usize::from(self.next);
         // At the start of a lap the running extremes are -inf and +inf,
         // which `v` (finite) replaces.
@@ -374,14 +404,16 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
         temperature: Option<Measured<T>>,
         flow: Option<Measured<T>>,
     ) -> SteadyState<T> {
-        self.update_inline(cfg, ratio, temperature, flow)
+        self.update_inline::<false>(cfg, ratio, temperature, flow)
     }
 
     /// [`SteadyStateDetector::update`] inlined into its caller (a train's
     /// compressor stages: no call, and the branches on a temperature that
-    /// is always there fold away).
+    /// is always there fold away). `VALIDATED`: `cfg` passed
+    /// [`SteadyStateConfig::validate`] (finite tolerances above zero), so an
+    /// empty flow window is always quiet and no tolerance is NaN.
     #[inline(always)]
-    pub(crate) fn update_inline(
+    pub(crate) fn update_inline<const VALIDATED: bool>(
         &mut self,
         cfg: &SteadyStateConfig<T>,
         ratio: Measured<T>,
@@ -395,15 +427,20 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
             self.restart();
             return SteadyState::unknown();
         }
-        let (r_lo, r_hi) = self.ratio.write(ratio.value);
-        let (t_lo, t_hi) = match temperature {
-            Some(t) => self.temperature.write(t.value),
-            None => self.temperature.extremes(),
+        let (r_lo, r_hi, samples) = self.ratio.write_counted(ratio.value);
+        let (t_lo, t_hi, t_full) = match temperature {
+            Some(t) => {
+                let (lo, hi, held) = self.temperature.write_counted(t.value);
+                (lo, hi, held == W)
+            }
+            None => {
+                let (lo, hi) = self.temperature.extremes();
+                (lo, hi, true)
+            }
         };
         let t_spread = t_hi - t_lo;
         let r_rel = relative_spread(r_lo, r_hi);
-        let full =
-            (self.ratio.len() == W) && (temperature.is_none() || (self.temperature.len() == W));
+        let full = samples == W && t_full;
         // The flow test as a branch of its own: an empty flow window (a
         // stage without a flow reading) has spread and magnitude 0, so its
         // relative spread is 0; written as one expression, the compiler
@@ -411,16 +448,16 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
         // Any other case out of line (kept out of the path of stages
         // without a flow reading).
         let flow_quiet = if flow.is_none() && self.flow.len() == 0 {
-            at_most(T::ZERO, cfg.max_flow_spread)
+            VALIDATED || at_most(T::ZERO, cfg.max_flow_spread)
         } else {
             flow_window_quiet(&mut self.flow, flow, cfg.max_flow_spread)
         };
         SteadyState {
             steady: full
-                && at_most(t_spread, cfg.max_temperature_spread)
-                && at_most(r_rel, cfg.max_ratio_spread)
+                && at_most_of::<T, VALIDATED>(t_spread, cfg.max_temperature_spread)
+                && at_most_of::<T, VALIDATED>(r_rel, cfg.max_ratio_spread)
                 && flow_quiet,
-            samples: u16::try_from(self.ratio.len()).unwrap_or(u16::MAX),
+            samples: u16::try_from(samples).unwrap_or(u16::MAX),
             temperature_spread: t_spread,
             ratio_spread: r_rel,
         }

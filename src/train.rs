@@ -616,7 +616,9 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                             c,
                         );
                     }
-                    out.steady_state = detector.update_inline(
+                    // The configuration passed `SteadyStateConfig::validate` in
+                    // `Train::validate` (every constructor) and is immutable.
+                    out.steady_state = detector.update_inline::<true>(
                         &self.config.steady_state,
                         out.pressure_ratio(),
                         Some(s.t2),
