@@ -267,17 +267,22 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
             self.next = self.next.wrapping_add(1);
             // The previous lap's suffix extremes from the next slot.
             match self.slots.get(at + 1) {
-                Some(s) => (smaller(lo, s.low), larger(hi, s.high)),
+                Some(s) => (smaller(s.low, lo), larger(s.high, hi)),
                 None => (lo, hi),
             }
         } else {
-            // The lap is complete: the window is this lap.
+            // The lap is complete: the window is this lap, whose extremes
+            // are now slot 0's suffix extremes (read back from there rather
+            // than kept across the call: no registers to merge).
             if let Some(slot) = self.slots.get_mut(at) {
                 slot.value = v;
             }
             self.next = 0;
             self.close_lap();
-            (lo, hi)
+            match self.slots.first() {
+                Some(s) => (s.low, s.high),
+                None => (lo, hi),
+            }
         }
     }
 
@@ -308,8 +313,8 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
             let (mut hi, mut lo) = (last.value, last.value);
             (last.high, last.low) = (hi, lo);
             for s in slots {
-                hi = larger(hi, s.value);
-                lo = smaller(lo, s.value);
+                hi = larger(s.value, hi);
+                lo = smaller(s.value, lo);
                 (s.high, s.low) = (hi, lo);
             }
         }
