@@ -150,9 +150,10 @@ impl<T: Real> SteadyState<T> {
 /// every `W` writes, outlined), so a write costs two comparisons and the
 /// extremes two more, whatever the data (the earlier ring rescanned all `W`
 /// values whenever an extreme left the window, which a trend does at every
-/// scan). The suffix extremes are stored as values beside the slot's value
-/// (one slot record, read with no indirection), so `W` is limited only by
-/// the one-byte slot position: at most 256.
+/// scan). The suffix extremes are stored as values (read with no
+/// indirection), in arrays beside the values' (one address per slot
+/// serves all three), so `W` is limited only by the one-byte slot
+/// position: at most 256.
 ///
 /// Exactness: every value compared is a value of the window (or, after a
 /// clear, a copy of the first value written, which stays in the window
@@ -162,10 +163,14 @@ impl<T: Real> SteadyState<T> {
 #[derive(Clone, Debug)]
 struct RangeWindow<T, const W: usize> {
     /// Slot `i`: the value of the lap's `i`-th write (after a clear,
-    /// unwritten slots hold the first value), and the previous lap's
-    /// largest and smallest values in slots `i..W` (meaningful for slots
-    /// `next..W`; after a lap completes, that lap's, for every slot).
-    slots: [Slot<T>; W],
+    /// unwritten slots hold the first value).
+    values: [T; W],
+    /// Slot `i`: the previous lap's largest value in slots `i..W`
+    /// (meaningful for slots `next..W`; after a lap completes, that lap's,
+    /// for every slot).
+    high: [T; W],
+    /// Same for the smallest value.
+    low: [T; W],
     /// Largest and smallest of this lap's values (slots `0..next`, from the
     /// first write's slot in the first lap after a clear): -inf and +inf at
     /// the start of a lap, 0 while the window is empty.
@@ -181,15 +186,6 @@ struct RangeWindow<T, const W: usize> {
     len: u16,
 }
 
-/// One slot of a [`RangeWindow`]: its value and the previous lap's suffix
-/// extremes from it on.
-#[derive(Clone, Copy, Debug)]
-struct Slot<T> {
-    value: T,
-    high: T,
-    low: T,
-}
-
 impl<T: Real, const W: usize> RangeWindow<T, W> {
     /// An empty window whose laps start at slot `phase` (taken modulo `W`).
     const fn new(phase: u8) -> Self {
@@ -202,11 +198,9 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
         // W <= 256, so the remainder fits in u8.
         let phase = (phase as usize % W) as u8;
         RangeWindow {
-            slots: [Slot {
-                value: T::ZERO,
-                high: T::ZERO,
-                low: T::ZERO,
-            }; W],
+            values: [T::ZERO; W],
+            high: [T::ZERO; W],
+            low: [T::ZERO; W],
             lap_high: T::ZERO,
             lap_low: T::ZERO,
             next: phase,
@@ -260,28 +254,29 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
         let lo = smaller(self.lap_low, v);
         if at + 1 < W {
             (self.lap_high, self.lap_low) = (hi, lo);
-            if let Some(slot) = self.slots.get_mut(at) {
-                slot.value = v;
-            }
-            // W <= 256 (asserted in `new`), so a slot fits in u8.
+            // W <= 256 (asserted in `new`), so a slot fits in u8. Stored
+            // before the value (no reload of `next` after a store).
             self.next = self.next.wrapping_add(1);
+            if let Some(slot) = self.values.get_mut(at) {
+                *slot = v;
+            }
             // The previous lap's suffix extremes from the next slot.
-            match self.slots.get(at + 1) {
-                Some(s) => (smaller(s.low, lo), larger(s.high, hi)),
-                None => (lo, hi),
+            match (self.low.get(at + 1), self.high.get(at + 1)) {
+                (Some(&l), Some(&h)) => (smaller(l, lo), larger(h, hi)),
+                _ => (lo, hi),
             }
         } else {
             // The lap is complete: the window is this lap, whose extremes
             // are now slot 0's suffix extremes (read back from there rather
             // than kept across the call: no registers to merge).
-            if let Some(slot) = self.slots.get_mut(at) {
-                slot.value = v;
+            if let Some(slot) = self.values.get_mut(at) {
+                *slot = v;
             }
             self.next = 0;
             self.close_lap();
-            match self.slots.first() {
-                Some(s) => (s.low, s.high),
-                None => (lo, hi),
+            match (self.low.first(), self.high.first()) {
+                (Some(&l), Some(&h)) => (l, h),
+                _ => (lo, hi),
             }
         }
     }
@@ -293,11 +288,7 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
     #[cold]
     #[inline(never)]
     fn start(&mut self, v: T) {
-        self.slots = [Slot {
-            value: v,
-            high: v,
-            low: v,
-        }; W];
+        (self.values, self.high, self.low) = ([v; W], [v; W], [v; W]);
         (self.lap_high, self.lap_low) = (v, v);
     }
 
@@ -308,14 +299,18 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
     #[cold]
     #[inline(never)]
     fn close_lap(&mut self) {
-        let mut slots = self.slots.iter_mut().rev();
-        if let Some(last) = slots.next() {
-            let (mut hi, mut lo) = (last.value, last.value);
-            (last.high, last.low) = (hi, lo);
-            for s in slots {
-                hi = larger(s.value, hi);
-                lo = smaller(s.value, lo);
-                (s.high, s.low) = (hi, lo);
+        let mut slots = self
+            .values
+            .iter()
+            .zip(self.high.iter_mut().zip(self.low.iter_mut()))
+            .rev();
+        if let Some((&last, (h, l))) = slots.next() {
+            let (mut hi, mut lo) = (last, last);
+            (*h, *l) = (hi, lo);
+            for (&x, (h, l)) in slots {
+                hi = larger(x, hi);
+                lo = smaller(x, lo);
+                (*h, *l) = (hi, lo);
             }
         }
         (self.lap_high, self.lap_low) = (T::of(f64::NEG_INFINITY), T::of(f64::INFINITY));
@@ -324,9 +319,10 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
     /// Minimum and maximum of the window (0, 0 when empty).
     #[inline(always)]
     fn extremes(&self) -> (T, T) {
-        match self.slots.get(usize::from(self.next)) {
-            Some(s) => (smaller(self.lap_low, s.low), larger(self.lap_high, s.high)),
-            None => (self.lap_low, self.lap_high),
+        let k = usize::from(self.next);
+        match (self.low.get(k), self.high.get(k)) {
+            (Some(&l), Some(&h)) => (smaller(self.lap_low, l), larger(self.lap_high, h)),
+            _ => (self.lap_low, self.lap_high),
         }
     }
 }
@@ -459,9 +455,9 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
         };
         SteadyState {
             steady: full
+                && flow_quiet
                 && at_most_of::<T, VALIDATED>(t_spread, cfg.max_temperature_spread)
-                && at_most_of::<T, VALIDATED>(r_rel, cfg.max_ratio_spread)
-                && flow_quiet,
+                && at_most_of::<T, VALIDATED>(r_rel, cfg.max_ratio_spread),
             samples: u16::try_from(samples).unwrap_or(u16::MAX),
             temperature_spread: t_spread,
             ratio_spread: r_rel,
