@@ -405,22 +405,6 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
         temperature: Option<Measured<T>>,
         flow: Option<Measured<T>>,
     ) -> SteadyState<T> {
-        self.update_inline::<false>(cfg, ratio, temperature, flow)
-    }
-
-    /// [`SteadyStateDetector::update`] inlined into its caller (a train's
-    /// compressor stages: no call, and the branches on a temperature that
-    /// is always there fold away). `VALIDATED`: `cfg` passed
-    /// [`SteadyStateConfig::validate`] (finite tolerances above zero), so an
-    /// empty flow window is always quiet and no tolerance is NaN.
-    #[inline(always)]
-    pub(crate) fn update_inline<const VALIDATED: bool>(
-        &mut self,
-        cfg: &SteadyStateConfig<T>,
-        ratio: Measured<T>,
-        temperature: Option<Measured<T>>,
-        flow: Option<Measured<T>>,
-    ) -> SteadyState<T> {
         let bad = !ratio.quality.is_usable()
             || temperature.is_some_and(|t| !t.quality.is_usable())
             || flow.is_some_and(|f| !f.quality.is_usable());
@@ -439,6 +423,66 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
                 (lo, hi, true)
             }
         };
+        self.finish::<false>(cfg, (r_lo, r_hi), samples, (t_lo, t_hi), t_full, flow)
+    }
+
+    /// [`SteadyStateDetector::update`] for a train's compressor stage,
+    /// inlined into the train's scan (no call). Every update of such a
+    /// detector passes a temperature: its ratio and temperature windows are
+    /// written on the same scans and cleared together, so they always hold
+    /// the same number of values, and that count is kept once for both (one
+    /// test for a window still filling). Only for a detector whose every
+    /// update since it was built passed a temperature, with a `cfg` that
+    /// passed [`SteadyStateConfig::validate`] (see
+    /// [`SteadyStateDetector::finish`]).
+    #[inline(always)]
+    pub(crate) fn update_compressor(
+        &mut self,
+        cfg: &SteadyStateConfig<T>,
+        ratio: Measured<T>,
+        temperature: Measured<T>,
+        flow: Option<Measured<T>>,
+    ) -> SteadyState<T> {
+        let bad = !ratio.quality.is_usable()
+            || !temperature.quality.is_usable()
+            || flow.is_some_and(|f| !f.quality.is_usable());
+        if bad {
+            self.restart();
+            return SteadyState::unknown();
+        }
+        // RangeWindow::write_counted for both windows at once.
+        let samples = if self.ratio.len() < W {
+            if self.ratio.len == 0 {
+                self.ratio.start(ratio.value);
+                self.temperature.start(temperature.value);
+            }
+            self.ratio.len += 1;
+            self.temperature.len = self.ratio.len;
+            self.ratio.len()
+        } else {
+            W
+        };
+        let r = self.ratio.write_held(ratio.value);
+        let t = self.temperature.write_held(temperature.value);
+        self.finish::<true>(cfg, r, samples, t, true, flow)
+    }
+
+    /// The tests of [`SteadyStateDetector::update`] once the ratio and
+    /// temperature windows are written: their extremes, the ratio window's
+    /// count, whether the temperature window is full (or not written), and
+    /// the flow reading. `VALIDATED`: `cfg` passed
+    /// [`SteadyStateConfig::validate`] (finite tolerances above zero), so an
+    /// empty flow window is always quiet and no tolerance is NaN.
+    #[inline(always)]
+    fn finish<const VALIDATED: bool>(
+        &mut self,
+        cfg: &SteadyStateConfig<T>,
+        (r_lo, r_hi): (T, T),
+        samples: usize,
+        (t_lo, t_hi): (T, T),
+        t_full: bool,
+        flow: Option<Measured<T>>,
+    ) -> SteadyState<T> {
         let t_spread = t_hi - t_lo;
         let r_rel = relative_spread(r_lo, r_hi);
         let full = samples == W && t_full;
@@ -746,6 +790,45 @@ mod tests {
                 };
                 assert_eq!(got, want, "stage {stage}, scan {i}");
             }
+        }
+    }
+
+    /// A train's compressor path (`update_compressor`: one count for the
+    /// ratio and temperature windows, validated tolerances) against the
+    /// general `update` with the same temperature on every scan, at every
+    /// lap phase, over a pseudo-random sequence with bad inputs of each
+    /// kind and scans with and without a flow reading (consistency check
+    /// against the general detector, itself checked against a naive one).
+    #[test]
+    fn compressor_path_equals_the_general_update() {
+        const W: usize = 6;
+        let cfg = SteadyStateConfig {
+            max_temperature_spread: 0.5_f32,
+            max_ratio_spread: 0.004,
+            max_flow_spread: 0.01,
+        };
+        for stage in 0..=W {
+            let mut general = SteadyStateDetector::<f32, W>::staggered(stage);
+            let mut compressor = SteadyStateDetector::<f32, W>::staggered(stage);
+            let mut seed = 7_u32 + stage as u32;
+            let mut steady_scans = 0;
+            for i in 0..5_000 {
+                let mut next = |n: u32| {
+                    seed = seed.wrapping_mul(1_103_515_245).wrapping_add(12_345);
+                    (seed >> 16) % n
+                };
+                let q = |bad: bool| if bad { Quality::Bad } else { Quality::Good };
+                let ratio = Measured::new(3.0 + 0.002 * next(4) as f32, q(next(97) == 0));
+                let temp = Measured::new(400.0 + 0.1 * next(6) as f32, q(next(89) == 0));
+                let flow = (i % 300 > 40)
+                    .then(|| Measured::new(10.0 + 0.02 * next(5) as f32, q(next(83) == 0)));
+                let want = general.update(&cfg, ratio, Some(temp), flow);
+                let got = compressor.update_compressor(&cfg, ratio, temp, flow);
+                assert_eq!(got, want, "stage {stage}, scan {i}");
+                steady_scans += usize::from(got.steady);
+            }
+            // Both outcomes occur (the comparison covers steady scans too).
+            assert!(steady_scans > 100 && steady_scans < 4_900, "{steady_scans}");
         }
     }
 
