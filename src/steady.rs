@@ -532,17 +532,22 @@ fn flow_window_quiet<T: Real, const W: usize>(
     at_most(relative_spread(lo, hi), max)
 }
 
-/// (hi - lo) / max(|hi|, |lo|) of a window's extremes, 0 when both are 0
-/// (never NaN: the extremes are finite).
+/// (hi - lo) / max(|hi|, |lo|) of a window's extremes (`lo <= hi`), 0 when
+/// both are 0 (never NaN: the extremes are finite).
 #[inline(always)]
 fn relative_spread<T: Real>(lo: T, hi: T) -> T {
     let spread = hi - lo;
-    let magnitude = larger(T::abs(hi), T::abs(lo));
-    // An absolute value is +0.0 or above: above zero unless +0.0.
-    let positive = if HARD_FLOAT {
-        magnitude > T::ZERO
+    // With an FPU: as `lo <= hi`, max(|hi|, |lo|) is max(hi, -lo), one
+    // negation for two absolute values (the same value; a zero of either
+    // sign when both extremes are zeros, which the compare refuses).
+    // Without one, the absolute values: an absolute value is +0.0 or
+    // above, so above zero unless +0.0 (a bit test).
+    let (magnitude, positive) = if HARD_FLOAT {
+        let m = larger(hi, -lo);
+        (m, m > T::ZERO)
     } else {
-        !T::same_bits(magnitude, T::ZERO)
+        let m = larger(T::abs(hi), T::abs(lo));
+        (m, !T::same_bits(m, T::ZERO))
     };
     if positive {
         spread / magnitude
