@@ -587,6 +587,40 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
         }
     }
 
+    // The usual cooler (no check fired, every input slot good, every output
+    // computed): no condition found, the inputs usable, so `Normal`, and at
+    // most the gas model's suspicion marked (the duty and what uses it
+    // uncertain): what the grades below give, without their tests.
+    let weak = F_DUTY | F_UA | F_BALANCE;
+    if typical && packed & SLOT_INPUTS == 0 && done == ALL_FIELDS {
+        let q_weak = if cp_suspect {
+            Quality::Uncertain
+        } else {
+            Quality::Good
+        };
+        let usual = [
+            (&mut out.gas_temperature_drop, F_DROP),
+            (&mut out.approach, F_APPROACH),
+            (&mut out.effectiveness, F_EFF),
+            (&mut out.heat_duty, F_DUTY),
+            (&mut out.pressure_drop, F_DP),
+            (&mut out.relative_pressure_drop, F_REL_DP),
+            (&mut out.coolant_temperature_rise, F_COOLANT_RISE),
+            (&mut out.lmtd, F_LMTD),
+            (&mut out.ua, F_UA),
+            (&mut out.heat_balance_error, F_BALANCE),
+        ];
+        for (m, bit) in usual {
+            m.quality = if bit & weak != 0 {
+                q_weak
+            } else {
+                Quality::Good
+            };
+        }
+        out.condition = CoolerCondition::Normal;
+        return;
+    }
+
     let condition = if !ok(I_TIN | I_TOUT | I_TC) {
         CoolerCondition::InputBad
     } else if found == 0 {
@@ -618,59 +652,40 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
         (&mut out.ua, F_UA),
         (&mut out.heat_balance_error, F_BALANCE),
     ];
-    // The usual cooler: every input slot good, every output computed and
-    // at most the gas model's suspicion marked (the duty and what uses it
-    // uncertain): the grades below give exactly these qualities.
-    let weak = F_DUTY | F_UA | F_BALANCE;
-    if packed & SLOT_INPUTS == 0 && done == ALL_FIELDS && (suspect == 0 || suspect == weak) {
-        let q_weak = if suspect == 0 {
-            Quality::Good
-        } else {
-            Quality::Uncertain
-        };
-        for (m, bit) in fields {
-            m.quality = if bit & weak != 0 {
-                q_weak
-            } else {
-                Quality::Good
+    // Every output at once: the table's bits (`F_*` = declaration order).
+    // With every input slot good the table is not looked at.
+    let o = if packed & SLOT_INPUTS == 0 {
+        OutputGrades::all_slots_good(done, suspect)
+    } else {
+        let slots = [
+            slot::T2,
+            slot::GAS_OUT_T,
+            slot::COOLANT_IN_T,
+            slot::COOLANT_OUT_T,
+            slot::P2,
+            slot::GAS_OUT_P,
+            slot::FLOW,
+            slot::COOLANT_FLOW,
+        ];
+        let mut g = Grades::new();
+        for (i, s) in slots.into_iter().enumerate() {
+            let q = match (packed >> (2 * i)) & 3 {
+                0 => Quality::Good,
+                1 => Quality::Uncertain,
+                2 => Quality::Bad,
+                _ => Quality::NotApplicable,
             };
+            g.first_slot(s, q);
+        }
+        OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect)
+    };
+    if o.all_usable(ALL_FIELDS) {
+        for (m, bit) in fields {
+            m.quality = o.usable_quality(bit);
         }
     } else {
-        // Every output at once: the table's bits (`F_*` = declaration order).
-        // With every input slot good the table is not looked at.
-        let o = if packed & SLOT_INPUTS == 0 {
-            OutputGrades::all_slots_good(done, suspect)
-        } else {
-            let slots = [
-                slot::T2,
-                slot::GAS_OUT_T,
-                slot::COOLANT_IN_T,
-                slot::COOLANT_OUT_T,
-                slot::P2,
-                slot::GAS_OUT_P,
-                slot::FLOW,
-                slot::COOLANT_FLOW,
-            ];
-            let mut g = Grades::new();
-            for (i, s) in slots.into_iter().enumerate() {
-                let q = match (packed >> (2 * i)) & 3 {
-                    0 => Quality::Good,
-                    1 => Quality::Uncertain,
-                    2 => Quality::Bad,
-                    _ => Quality::NotApplicable,
-                };
-                g.first_slot(s, q);
-            }
-            OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect)
-        };
-        if o.all_usable(ALL_FIELDS) {
-            for (m, bit) in fields {
-                m.quality = o.usable_quality(bit);
-            }
-        } else {
-            for (m, bit) in fields {
-                o.settle_finite(m, bit);
-            }
+        for (m, bit) in fields {
+            o.settle_finite(m, bit);
         }
     }
     // The next stage's rise is not written here: the train writes it (the
@@ -872,8 +887,6 @@ mod tests {
                 .unwrap_or(CoolerCondition::Normal)
         };
 
-        // Every output at once: the table's bits (`F_*` = declaration order).
-        // With every input slot good the table is not looked at.
         let o = if packed & SLOT_INPUTS == 0 {
             OutputGrades::all_slots_good(done, suspect)
         } else {
