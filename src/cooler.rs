@@ -481,8 +481,10 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
         && effectiveness_in_unit_range();
     // `suspect`: the outputs a check marks uncertain; `found`: the
     // condition's bits; `excluded`: the outputs the checks leave out.
+    // (The usual cooler's suspect bits, the gas model's only, are set where
+    // they are used, after its early exit below.)
     let (suspect, found, excluded) = if typical {
-        (flag(cp_suspect, F_DUTY | F_BALANCE | F_UA), 0, 0)
+        (0, 0, 0)
     } else {
         let outlet_above_inlet = lt(drop, -noise);
         let within_noise = !outlet_above_inlet && lt(drop, noise);
@@ -620,6 +622,11 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
         out.condition = CoolerCondition::Normal;
         return;
     }
+    let suspect = if typical {
+        flag(cp_suspect, weak)
+    } else {
+        suspect
+    };
 
     let condition = if !ok(I_TIN | I_TOUT | I_TC) {
         CoolerCondition::InputBad
