@@ -594,7 +594,12 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
     // most the gas model's suspicion marked (the duty and what uses it
     // uncertain): what the grades below give, without their tests.
     let weak = F_DUTY | F_UA | F_BALANCE;
-    if typical && packed & SLOT_INPUTS == 0 && done == ALL_FIELDS {
+    // (One test of one word: the slots' bits, the outputs not computed,
+    // and a bit above both where a check fired.)
+    let not_usual = (packed & SLOT_INPUTS)
+        | u32::from(done ^ ALL_FIELDS) << 16
+        | u32::from(!typical) << 31;
+    if not_usual == 0 {
         let q_weak = if cp_suspect {
             Quality::Uncertain
         } else {
