@@ -479,6 +479,9 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
         && !lt(dp, T::ZERO)
         && !lt(rise, -noise)
         && effectiveness_in_unit_range();
+    // Whether the inputs allow the usual cooler's early exit below: every
+    // slot good and no check fired (one word, held across the LMTD).
+    let usual_inputs = (packed & SLOT_INPUTS) | u32::from(!typical) << 31;
     // `suspect`: the outputs a check marks uncertain; `found`: the
     // condition's bits; `excluded`: the outputs the checks leave out.
     // (The usual cooler's suspect bits, the gas model's only, are set where
@@ -596,9 +599,7 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
     let weak = F_DUTY | F_UA | F_BALANCE;
     // (One test of one word: the slots' bits, the outputs not computed,
     // and a bit above both where a check fired.)
-    let not_usual = (packed & SLOT_INPUTS)
-        | u32::from(done ^ ALL_FIELDS) << 16
-        | u32::from(!typical) << 31;
+    let not_usual = usual_inputs | u32::from(done ^ ALL_FIELDS) << 16;
     if not_usual == 0 {
         let q_weak = if cp_suspect {
             Quality::Uncertain
