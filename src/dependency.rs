@@ -626,7 +626,12 @@ impl Grades {
 /// check), the outputs that use it (bit i = the i-th output in declaration
 /// order). Built once from the per-output table; grading a whole result is
 /// then one pass over the bits that are not good, not one over every output.
+///
+/// Word-aligned: cleared and copied with word stores (as two-byte-aligned
+/// data a clear was a call of the byte-wise `memclr`, 208 bytes of flash on
+/// Cortex-M4F).
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[repr(align(4))]
 pub struct Users(pub [u16; 32]);
 
 impl Users {
@@ -651,6 +656,22 @@ impl Users {
             i += 1;
         }
         Users(t)
+    }
+
+    /// [`Users::of`], written over `self` in place (a construction-time
+    /// table rebuilt where it lives: no 64-byte copy through `memcpy`).
+    pub(crate) fn fill(&mut self, uses: &[Use]) {
+        self.0 = [0; 32];
+        for (i, u) in uses.iter().take(16).enumerate() {
+            // Over the set bits only (a use has a handful).
+            let mut u = u.0;
+            while u != 0 {
+                if let Some(t) = self.0.get_mut(u.trailing_zeros() as usize) {
+                    *t |= 1 << i;
+                }
+                u &= u - 1;
+            }
+        }
     }
 
     /// The outputs using any bit of `mask`.

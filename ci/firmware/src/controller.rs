@@ -27,7 +27,7 @@ use polytrope::train::{Snapshot, Train, TrainConfig};
 use polytrope::units::{Kelvin, PressureAbs};
 use polytrope::ConfigError;
 
-use crate::codec::{decode_stage, RawStage};
+use crate::codec::RawStage;
 
 /// Compressor stages (and surge monitors) of the controller's train.
 pub const SECTIONS: usize = 4;
@@ -96,12 +96,49 @@ pub fn train_config<D, G>(
 /// what the slower inputs deliver.
 /// Decodes only those four stages (the fifth is never used: decoding the
 /// whole scan and copying four of its stages took more flash than this).
-#[inline(never)]
 pub fn section_scan(raw: &[RawStage; demo::STAGES]) -> polytrope::scan::Scan<f32, SECTIONS> {
+    let mut slot = MaybeUninit::uninit();
+    *section_scan_in(&mut slot, raw)
+}
+
+/// [`section_scan`] decoded into `slot`, in place (what the `controller`
+/// firmware links: a scan built in a local and returned was copied into
+/// the caller's, and each stage scan on its way into the array four times).
+#[cfg(target_os = "none")]
+#[inline(never)]
+pub fn section_scan_in<'a>(
+    slot: &'a mut MaybeUninit<polytrope::scan::Scan<f32, SECTIONS>>,
+    raw: &[RawStage; demo::STAGES],
+) -> &'a mut polytrope::scan::Scan<f32, SECTIONS> {
     const { assert!(SECTIONS <= demo::STAGES) };
-    let mut stages = core::array::from_fn(|i| decode_stage::<f32>(&raw[i]));
+    // SAFETY: `stages` points at the scan's array of `SECTIONS` stage
+    // scans, valid for writes; each element is written (in place, by
+    // `decode_stage_into`) before `assume_init_mut`, and `stages` is the
+    // scan's only field.
+    let scan = unsafe {
+        let stages = core::ptr::addr_of_mut!((*slot.as_mut_ptr()).stages)
+            .cast::<MaybeUninit<polytrope::scan::StageScan<f32>>>();
+        for (i, r) in raw.iter().take(SECTIONS).enumerate() {
+            crate::codec::decode_stage_into(&mut *stages.add(i), r);
+        }
+        slot.assume_init_mut()
+    };
+    scan.stages[SECTIONS - 1].cooler = None;
+    scan
+}
+
+/// The same decoding on the host (the criterion bench includes this file
+/// into the kernel package, which forbids `unsafe`): the stages decoded by
+/// value and written into `slot`.
+#[cfg(not(target_os = "none"))]
+pub fn section_scan_in<'a>(
+    slot: &'a mut MaybeUninit<polytrope::scan::Scan<f32, SECTIONS>>,
+    raw: &[RawStage; demo::STAGES],
+) -> &'a mut polytrope::scan::Scan<f32, SECTIONS> {
+    const { assert!(SECTIONS <= demo::STAGES) };
+    let mut stages = core::array::from_fn(|i| crate::codec::decode_stage::<f32>(&raw[i]));
     stages[SECTIONS - 1].cooler = None;
-    polytrope::scan::Scan { stages }
+    slot.write(polytrope::scan::Scan { stages })
 }
 
 /// A transmitter of [`transmitter_config`] (the host build; the device
