@@ -425,11 +425,13 @@ fn check_stage<T: Real>(
 
 /// The train of a validated configuration (`Train<T, G, N, W>` in the
 /// `impl` where it is expanded), its snapshot's stage and cooler results
-/// given: the one build of [`Train::with_limits`] and [`Train::new_in`]. A
+/// given, and the function that makes its stage dependency table from the
+/// gas model's property inputs: the one build of [`Train::with_limits`] and [`Train::new_in`]. A
 /// macro, not a function: the train is built where the caller writes it (a
 /// function's result was copied, a whole train, in `Train::with_limits`).
 macro_rules! built_train {
-    ($config:expr, $limits:expr, $compressor_stages:expr, $stages:expr, $coolers:expr) => {{
+    ($config:expr, $limits:expr, $compressor_stages:expr, $stages:expr, $coolers:expr,
+     $stage_uses:expr) => {{
         let config = $config;
         let limits = $limits;
         let compressor_stages: u8 = $compressor_stages;
@@ -437,9 +439,7 @@ macro_rules! built_train {
             .gas
             .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
             .z;
-        // Rebuilt in place by the caller once the train is written
-        // (`StageUses::rebuild`): no table built on the stack and copied.
-        let stage_uses = StageUses::unbuilt(config.gas.property_inputs());
+        let stage_uses = $stage_uses(config.gas.property_inputs());
         let equal_ratio_exponent = equal_ratio_fraction(u32::from(compressor_stages), 0);
         let stage_thresholds = StageThresholds::of(&limits);
         Train {
@@ -490,9 +490,17 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         let compressor_stages = Self::validate(&config, &limits)?;
         let stages = config.stages.map(|s| StageResult::initial(&s));
         let coolers = config.stages.map(|s| CoolerResult::initial(&s));
-        let mut train = built_train!(config, limits, compressor_stages, stages, coolers);
-        train.rebuild_stage_uses();
-        Ok(train)
+        // Built where it is returned (a train in a local, then returned,
+        // was one more train-sized frame: the Cortex-M0 harness's stack
+        // overflowed).
+        Ok(built_train!(
+            config,
+            limits,
+            compressor_stages,
+            stages,
+            coolers,
+            StageUses::new
+        ))
     }
 
     /// As [`Train::new`], built in place in `slot` (for a device whose RAM
@@ -524,7 +532,10 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             limits,
             compressor_stages,
             [StageResult::PLACEHOLDER; N],
-            [None; N]
+            [None; N],
+            // Rebuilt in place below (`rebuild_stage_uses`): no table built
+            // on the stack and copied.
+            StageUses::unbuilt
         ));
         for (d, s) in train.config.stages.iter_mut().zip(config.stages.iter()) {
             *d = *s;

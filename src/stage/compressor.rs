@@ -268,8 +268,10 @@ pub(crate) struct StageUses {
 }
 
 impl StageUses {
-    /// The table for a model with `inputs`.
-    #[cfg(test)]
+    /// The table for a model with `inputs` (by value: [`Train::with_limits`]
+    /// builds it where the train is returned).
+    ///
+    /// [`Train::with_limits`]: crate::train::Train::with_limits
     pub(crate) fn new(inputs: PropertyInputs) -> Self {
         let mut table = Self::unbuilt(inputs);
         table.rebuild(inputs);
