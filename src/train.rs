@@ -751,17 +751,28 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 continue;
             };
             let limits = &self.limits;
+            let temperature = |m: Measured<Kelvin<T>>| {
+                reading_within(
+                    m.map(Kelvin::kelvin),
+                    limits.min_temperature,
+                    limits.max_temperature,
+                )
+            };
             // The inputs' qualities packed as each is produced (one register
             // instead of nine live qualities): see `evaluate_cooler_packed`.
             let mut packed = packed_quality(s.t2.quality, I_TIN)
                 | packed_quality(s.p2.quality, I_PIN)
                 | packed_quality(s.flow.quality, I_FLOW);
             let gas_out_p = match raw.gas_outlet_pressure {
-                Some(p) => limits.pressure_valid(p.map(PressureAbs::pa)),
+                Some(p) => reading_within(
+                    p.map(PressureAbs::pa),
+                    limits.min_pressure,
+                    limits.max_pressure,
+                ),
                 None => next.map_or(Measured::bad(), |n| n.p1),
             };
             packed |= packed_quality(gas_out_p.quality, I_POUT);
-            let tout = limits.temperature_valid(raw.gas_outlet_temperature.map(Kelvin::kelvin));
+            let tout = temperature(raw.gas_outlet_temperature);
             packed |= packed_quality(tout.quality, I_TOUT);
             // Enthalpy drop on the stage's basis (same model, same supplied
             // Z), so stage power and cooler duty balance; at a nominal
@@ -801,18 +812,15 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 Measured::bad()
             };
             packed |= packed_quality(gas_enthalpy_drop.quality, I_DH);
-            let temperature = |m: Option<Measured<Kelvin<T>>>| {
-                m.map_or(Measured::bad(), |m| {
-                    limits.temperature_valid(m.map(Kelvin::kelvin))
-                })
-            };
-            let coolant_in = temperature(Some(raw.coolant_inlet_temperature));
+            let coolant_in = temperature(raw.coolant_inlet_temperature);
             packed |= packed_quality(coolant_in.quality, I_TC);
-            let coolant_out = temperature(raw.coolant_outlet_temperature);
+            let coolant_out = raw
+                .coolant_outlet_temperature
+                .map_or(Measured::bad(), temperature);
             packed |= packed_quality(coolant_out.quality, I_TCO);
-            let coolant_flow = raw
-                .coolant_mass_flow
-                .map_or(Measured::bad(), |m| limits.mass_flow_valid(m));
+            let coolant_flow = raw.coolant_mass_flow.map_or(Measured::bad(), |m| {
+                reading_within(m, T::ZERO, limits.max_mass_flow)
+            });
             packed |= packed_quality(coolant_flow.quality, I_MC);
             let inputs = CoolerInputs {
                 gas_inlet_temperature: s.t2,
@@ -1066,6 +1074,43 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     }
 }
 
+/// A cooler's own reading after the sensor boundary, for validated limits
+/// (`lo` positive or `+0.0`, both finite): what [`Limits::temperature_valid`],
+/// [`Limits::pressure_valid`] and [`Limits::mass_flow_valid`] give, by the
+/// same float compares, the usable reading inside its range tested first
+/// (one test fewer where almost every reading passes). With an FPU; always
+/// inlined (measured: 24 instructions fewer for the three coolers of the
+/// 4-stage train than those checks, about 100 more when left to LLVM).
+#[cfg(not(all(target_arch = "arm", not(target_abi = "eabihf"))))]
+#[inline(always)]
+fn reading_within<T: Real>(m: Measured<T>, lo: T, hi: T) -> Measured<T> {
+    // The range first, then the quality (measured: the other order cost
+    // about 100 instructions more for the three coolers).
+    let inside = m.value >= lo && m.value <= hi;
+    if m.quality.is_usable() && inside {
+        m
+    } else if m.quality == Quality::NotApplicable {
+        Measured::not_applicable()
+    } else {
+        Measured::bad()
+    }
+}
+
+/// [`reading_within`] without an FPU: the form of those checks there (not
+/// applicable first, the range on the bits by [`Real::within_nonnegative`]),
+/// which measured cheaper on a Cortex-M0 than the reordered one.
+#[cfg(all(target_arch = "arm", not(target_abi = "eabihf")))]
+#[inline]
+fn reading_within<T: Real>(m: Measured<T>, lo: T, hi: T) -> Measured<T> {
+    if m.quality == Quality::NotApplicable {
+        Measured::not_applicable()
+    } else if T::within_nonnegative(m.value, lo, hi) && m.quality != Quality::Bad {
+        m
+    } else {
+        Measured::bad()
+    }
+}
+
 /// Stores the totals' fields other than the sums (which
 /// `Train::evaluate_totals` stores as soon as they are final).
 #[inline(always)]
@@ -1077,4 +1122,88 @@ fn store_references<T: Real>(out: &mut TrainTotals<T>, t: &TrainTotals<T>) {
     out.ideal_staged_isentropic_work = t.ideal_staged_isentropic_work;
     out.staging_saving = t.staging_saving;
     out.ideal_staging_saving = t.ideal_staging_saving;
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Consistency check (the project's own range checks, two forms): a
+    /// cooler reading checked by `reading_within` equals what
+    /// `Limits::temperature_valid`, `Limits::pressure_valid` and
+    /// `Limits::mass_flow_valid` give (value bits and quality) for the
+    /// default limits, every quality, the bounds and their neighbours,
+    /// zeros of both signs, negative values, the infinities, NaN and seeded
+    /// random bit patterns, in f32 and f64.
+    #[test]
+    fn cooler_reading_check_equals_the_limits_checks() {
+        fn run<T: Real>(values: &[T], random: impl Fn(u32, u32) -> T) {
+            let limits = Limits::<T>::default();
+            let qualities = [
+                Quality::Good,
+                Quality::Uncertain,
+                Quality::Bad,
+                Quality::NotApplicable,
+            ];
+            let same = |a: Measured<T>, b: Measured<T>| {
+                a.quality == b.quality && a.value.to_f64().to_bits() == b.value.to_f64().to_bits()
+            };
+            let mut next = crate::xorshift32(0x0bad_cafe);
+            let check = |v: T| {
+                for q in qualities {
+                    let m = Measured::new(v, q);
+                    let t = reading_within(m, limits.min_temperature, limits.max_temperature);
+                    assert!(same(t, limits.temperature_valid(m)), "{v:?} {q:?}");
+                    let p = reading_within(m, limits.min_pressure, limits.max_pressure);
+                    assert!(same(p, limits.pressure_valid(m)), "{v:?} {q:?}");
+                    let f = reading_within(m, T::ZERO, limits.max_mass_flow);
+                    assert!(same(f, limits.mass_flow_valid(m)), "{v:?} {q:?}");
+                }
+            };
+            for &v in values {
+                check(v);
+            }
+            for _ in 0..20_000 {
+                let (a, b) = (next(), next());
+                check(random(a, b));
+            }
+        }
+        let l32 = Limits::<f32>::default();
+        let mut v32 = [0.0_f32; 26];
+        let specials = [
+            0.0,
+            -0.0,
+            1.0,
+            -1.0,
+            300.0,
+            f32::INFINITY,
+            f32::NEG_INFINITY,
+            f32::NAN,
+            -f32::NAN,
+            f32::MIN_POSITIVE,
+            f32::from_bits(1),
+        ];
+        let bounds = [
+            l32.min_temperature,
+            l32.max_temperature,
+            l32.min_pressure,
+            l32.max_pressure,
+            l32.max_mass_flow,
+        ];
+        let near = bounds.iter().flat_map(|b| {
+            [
+                *b,
+                f32::from_bits(b.to_bits() - 1),
+                f32::from_bits(b.to_bits() + 1),
+            ]
+        });
+        for (slot, v) in v32.iter_mut().zip(specials.into_iter().chain(near)) {
+            *slot = v;
+        }
+        run::<f32>(&v32, |a, _| f32::from_bits(a));
+        let v64 = v32.map(f64::from);
+        run::<f64>(&v64, |a, b| {
+            f64::from_bits(u64::from(a) << 32 | u64::from(b))
+        });
+    }
 }
