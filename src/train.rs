@@ -780,41 +780,74 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         // compressor sum has `nc` terms and its total is never the
         // placeholder of an empty sum ([`Sum::get`]); the pumps are the
         // other `N - nc` stages.
-        let mut work = Sum::new();
-        let mut comp_power = Sum::new();
+        // The compressor sums' values, and their qualities as the OR of
+        // the terms' (`Quality` as its discriminant): while every term is
+        // good (0) or uncertain (1) the OR is the worst of them, one
+        // instruction a term instead of a compare and a select; a bad or
+        // not-applicable term (an OR above one) sends the qualities to
+        // `compressor_sum_qualities`, which takes the worst of each.
+        let mut work = T::ZERO;
+        let mut comp_power = T::ZERO;
+        let mut staged_s = T::ZERO;
+        let mut z_total = T::ZERO;
+        let (mut q_work, mut q_power, mut q_staged, mut q_z) = (0_u8, 0_u8, 0_u8, 0_u8);
         let mut pump_power = Sum::new();
-        let mut staged_s = Sum::new();
-        let mut z_sum = Sum::new();
         let configured_z = self.configured_z;
         for (st, s) in self.snapshot.stages.iter().zip(si.iter()) {
             match &st.work {
                 StageWork::Compressor(c) => {
                     // The stage's Z input, whatever its evaluation reached
                     // (not the placeholder of an early return).
-                    z_sum.add_term(match s.z {
+                    let z = match s.z {
                         Some(z) => z,
                         None => Measured::good(configured_z),
-                    });
-                    work.add_term(c.actual_work);
-                    comp_power.add_term(c.gas_power);
-                    staged_s.add_term(c.isentropic_head);
+                    };
+                    z_total += z.value;
+                    q_z |= z.quality as u8;
+                    work += c.actual_work.value;
+                    q_work |= c.actual_work.quality as u8;
+                    comp_power += c.gas_power.value;
+                    q_power |= c.gas_power.quality as u8;
+                    staged_s += c.isentropic_head.value;
+                    q_staged |= c.isentropic_head.quality as u8;
                 }
                 StageWork::Pump(p) => pump_power.add_term(p.power),
             }
         }
+        // Every term good or uncertain: each OR is 0 or 1, the
+        // discriminant of the worst (`& 1` lets the optimiser see that).
+        let usable = q_work | q_power | q_staged | q_z <= 1;
+        let [q_work, q_power, q_staged, q_z] = if usable {
+            let worst = |q: u8| {
+                if q & 1 == 0 {
+                    Quality::Good
+                } else {
+                    Quality::Uncertain
+                }
+            };
+            [worst(q_work), worst(q_power), worst(q_staged), worst(q_z)]
+        } else {
+            compressor_sum_qualities(&self.snapshot.stages, si)
+        };
+        let sum = |value: T, quality: Quality| Sum {
+            value,
+            quality,
+            count: 0,
+        };
+        let work = sum(work, q_work);
+        let comp_power = sum(comp_power, q_power);
+        let staged_s = sum(staged_s, q_staged);
+        let z_sum = sum(z_total, q_z);
         let pumps = usize::from(nc) < N;
-        if HARD_FLOAT && T::all_finite(&[work.value, comp_power.value, staged_s.value]) {
+        if HARD_FLOAT && usable && T::all_finite(&[work.value, comp_power.value, staged_s.value])
+        {
             // One finiteness test for the three (the common case; with an
             // FPU, where `Real::all_finite` is one sum, else no saving):
-            // each sum is then graded by its quality alone, as `Sum::total`
-            // would.
-            let graded = |sum: Sum<T>| match sum.quality {
-                Quality::Good | Quality::Uncertain => Measured::new(sum.value, sum.quality),
-                _ => sum.total(),
-            };
-            totals.compressor_work = graded(work);
-            totals.compressor_power = graded(comp_power);
-            totals.measured_staged_isentropic_work = graded(staged_s);
+            // with usable qualities each sum is then kept as it is, as
+            // `Sum::total` would.
+            totals.compressor_work = Measured::new(work.value, work.quality);
+            totals.compressor_power = Measured::new(comp_power.value, comp_power.quality);
+            totals.measured_staged_isentropic_work = Measured::new(staged_s.value, staged_s.quality);
         } else {
             totals.compressor_work = work.total();
             totals.compressor_power = comp_power.total();
@@ -994,6 +1027,34 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         }
         store_references(&mut self.snapshot.totals, &totals);
     }
+}
+
+/// The worst quality of each compressor sum's terms (work, gas power,
+/// isentropic head, Z, in that order) over the stages, for
+/// `Train::evaluate_totals` when a term is neither good nor uncertain (the
+/// OR of the discriminants is then not the worst). Out of line and cold.
+#[cold]
+#[inline(never)]
+fn compressor_sum_qualities<T: Real, const N: usize>(
+    stages: &[StageResult<T>; N],
+    si: &[StageSi<T>; N],
+) -> [Quality; 4] {
+    let mut q = [Quality::Good; 4];
+    for (st, s) in stages.iter().zip(si.iter()) {
+        if let StageWork::Compressor(c) = &st.work {
+            let z = s.z.map_or(Quality::Good, |z| z.quality);
+            let terms = [
+                c.actual_work.quality,
+                c.gas_power.quality,
+                c.isentropic_head.quality,
+                z,
+            ];
+            for (q, t) in q.iter_mut().zip(terms) {
+                *q = q.worst(t);
+            }
+        }
+    }
+    q
 }
 
 /// Stores the totals' fields other than the sums (which
