@@ -839,20 +839,24 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         let staged_s = sum(staged_s, q_staged);
         let z_sum = sum(z_total, q_z);
         let pumps = usize::from(nc) < N;
-        if HARD_FLOAT && usable && T::all_finite(&[work.value, comp_power.value, staged_s.value])
+        let z_sum = if HARD_FLOAT
+            && usable
+            && T::all_finite(&[work.value, comp_power.value, staged_s.value, z_sum.value])
         {
-            // One finiteness test for the three (the common case; with an
+            // One finiteness test for the four (the common case; with an
             // FPU, where `Real::all_finite` is one sum, else no saving):
             // with usable qualities each sum is then kept as it is, as
             // `Sum::total` would.
             totals.compressor_work = Measured::new(work.value, work.quality);
             totals.compressor_power = Measured::new(comp_power.value, comp_power.quality);
             totals.measured_staged_isentropic_work = Measured::new(staged_s.value, staged_s.quality);
+            Measured::new(z_sum.value, z_sum.quality)
         } else {
             totals.compressor_work = work.total();
             totals.compressor_power = comp_power.total();
             totals.measured_staged_isentropic_work = staged_s.total();
-        }
+            z_sum.total()
+        };
         if pumps {
             totals.pump_power = pump_power.total();
             let mut all_power = comp_power;
@@ -939,7 +943,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         // Finite without a test (both pressures in the validated limits,
         // so at most 1e10 / 1e-3) and usable here: `derived` would keep it.
         totals.overall_pressure_ratio = Measured::new(ratio, q_ratio);
-        let z_mean = z_sum.total();
+        let z_mean = z_sum;
         let q_ref = q_ratio
             .worst(first.t1.quality)
             .worst(z_mean.quality)
