@@ -818,14 +818,12 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         // discriminant of the worst (`& 1` lets the optimiser see that).
         let usable = q_work | q_power | q_staged | q_z <= 1;
         let [q_work, q_power, q_staged, q_z] = if usable {
-            let worst = |q: u8| {
-                if q & 1 == 0 {
-                    Quality::Good
-                } else {
-                    Quality::Uncertain
-                }
-            };
-            [worst(q_work), worst(q_power), worst(q_staged), worst(q_z)]
+            [
+                usable_of_or(q_work),
+                usable_of_or(q_power),
+                usable_of_or(q_staged),
+                usable_of_or(q_z),
+            ]
         } else {
             compressor_sum_qualities(&self.snapshot.stages, si)
         };
@@ -885,7 +883,15 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             store_references(&mut self.snapshot.totals, &totals);
             return;
         };
-        let q_ratio = first.p1.quality.worst(last_c.p2.quality);
+        // The OR of the two discriminants: the worst of the two where both
+        // are usable (`usable_of_or`), above one (not usable) otherwise, and
+        // only a usable one is used below.
+        let q_or = first.p1.quality as u8 | last_c.p2.quality as u8;
+        let q_ratio = if q_or <= 1 {
+            usable_of_or(q_or)
+        } else {
+            Quality::Bad
+        };
         let ratio = last_c.p2.value / first.p1.value;
         // Compared only when usable: both pressures then passed the sensor
         // boundary (positive, finite), so the ratio is not NaN and
@@ -910,31 +916,42 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             T::ONE
         };
         let mut opt = first.p1.value;
-        for (s, out) in si
+        let entries = si
             .iter()
             .zip(self.snapshot.interstage.iter_mut())
-            .take(last)
-        {
-            let mut entry = InterstagePressure {
-                measured: s.p2,
-                optimum: Measured::bad(),
-                deviation: Measured::bad(),
-            };
-            if optimum_ok {
+            .take(last);
+        if optimum_ok {
+            for (s, out) in entries {
                 // Finite without a test: with validated limits the first
                 // suction is in [1e-3, 1e10] Pa and the ratio (usable, so
                 // at most `max_overall_ratio` <= 1e5) above one, so the
                 // optima lie between the first suction and about the last
                 // discharge, and the deviation's divisor is at least 1e-3;
-                // the qualities are usable (`optimum_ok`, `is_usable`).
+                // the qualities are usable (`optimum_ok`, `is_usable`), so
+                // the worst of two is their discriminants' OR.
                 opt = opt * stage_ratio;
-                entry.optimum = Measured::new(opt, q_ratio);
-                if s.p2.quality.is_usable() {
-                    entry.deviation =
-                        Measured::new(s.p2.value / opt - T::ONE, q_ratio.worst(s.p2.quality));
-                }
+                let deviation = if s.p2.quality.is_usable() {
+                    Measured::new(
+                        s.p2.value / opt - T::ONE,
+                        usable_of_or(q_ratio as u8 | s.p2.quality as u8),
+                    )
+                } else {
+                    Measured::bad()
+                };
+                *out = Some(InterstagePressure {
+                    measured: s.p2,
+                    optimum: Measured::new(opt, q_ratio),
+                    deviation,
+                });
             }
-            *out = Some(entry);
+        } else {
+            for (s, out) in entries {
+                *out = Some(InterstagePressure {
+                    measured: s.p2,
+                    optimum: Measured::bad(),
+                    deviation: Measured::bad(),
+                });
+            }
         }
         if !optimum_ok {
             store_references(&mut self.snapshot.totals, &totals);
@@ -944,11 +961,15 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         // so at most 1e10 / 1e-3) and usable here: `derived` would keep it.
         totals.overall_pressure_ratio = Measured::new(ratio, q_ratio);
         let z_mean = z_sum;
-        let q_ref = q_ratio
-            .worst(first.t1.quality)
-            .worst(z_mean.quality)
-            .worst(self.config.gas.fit_quality(first.t1.value, first.t1.value));
-        if !q_ref.is_usable() {
+        // The worst of four as their discriminants' OR: at most one (then
+        // the worst, `usable_of_or`) exactly when all four are usable, and
+        // only a usable `q_ref` is used.
+        let q_or = q_ratio as u8
+            | first.t1.quality as u8
+            | z_mean.quality as u8
+            | self.config.gas.fit_quality(first.t1.value, first.t1.value) as u8;
+        let q_ref = usable_of_or(q_or);
+        if q_or > 1 {
             store_references(&mut self.snapshot.totals, &totals);
             return;
         }
@@ -1027,7 +1048,11 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             );
         }
         if ms.quality.is_usable() {
-            totals.staging_saving = Measured::derived(single - ms.value, q_ref.worst(ms.quality));
+            // Both usable: the worst is the OR.
+            totals.staging_saving = Measured::derived(
+                single - ms.value,
+                usable_of_or(q_ref as u8 | ms.quality as u8),
+            );
         }
         store_references(&mut self.snapshot.totals, &totals);
     }
@@ -1059,6 +1084,19 @@ fn compressor_sum_qualities<T: Real, const N: usize>(
         }
     }
     q
+}
+
+/// The worst of usable qualities from the OR of their discriminants
+/// (`Quality as u8`): good (0) and uncertain (1) are the only usable ones,
+/// so for them the OR is the largest, the worst. For `q` at most one
+/// (`& 1` lets the optimiser see that the result is the discriminant).
+#[inline(always)]
+fn usable_of_or(q: u8) -> Quality {
+    if q & 1 == 0 {
+        Quality::Good
+    } else {
+        Quality::Uncertain
+    }
 }
 
 /// Stores the totals' fields other than the sums (which
