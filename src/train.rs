@@ -23,7 +23,8 @@ use crate::stage::compressor::{
 };
 use crate::stage::{evaluate_pump_within, CompressorResult, PumpResult};
 use crate::staging::{
-    equal_ratio_fraction, equal_ratio_stage_ratio_from_log, isentropic_references_halving,
+    equal_ratio_fraction, equal_ratio_stage_ratio_from_log, halving_applies,
+    isentropic_references_halving,
     isothermal_reference_quality, InterstagePressure, Sum, TrainTotals,
 };
 use crate::steady::{SteadyState, SteadyStateConfig, SteadyStateDetector};
@@ -174,6 +175,12 @@ pub struct Train<T, G, const N: usize, const W: usize> {
     /// stack: beside the stage evaluation's frames it set the update's
     /// stack peak (52 bytes per stage in f32).
     si: [StageSi<T>; N],
+    /// The number of compressor stages as `T` (the Z mean's divisor and
+    /// the staged reference's factor), a constant of the train.
+    totals_stage_count: T,
+    /// Whether the isentropic references take their one-exponential form
+    /// (`staging::halving_applies`), a constant of the train.
+    totals_halving: bool,
 }
 
 impl<T: Real> StageResult<T> {
@@ -414,6 +421,8 @@ macro_rules! built_train {
                 scan_count: 0,
             },
             si: [StageSi::CLEARED; N],
+            totals_stage_count: T::from_u32(u32::from(compressor_stages)),
+            totals_halving: halving_applies(compressor_stages),
         }
     }};
 }
@@ -984,7 +993,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         let z_mean = if !HARD_FLOAT && nc.is_power_of_two() {
             z_mean.value * self.equal_ratio_exponent
         } else {
-            z_mean.value / T::of(f64::from(nc))
+            z_mean.value / self.totals_stage_count
         };
         let props = self
             .config
@@ -997,7 +1006,9 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             ln_overall,
             props.k,
             nc,
+            self.totals_stage_count,
             self.equal_ratio_exponent,
+            self.totals_halving,
         );
         // The isothermal reference through the gas model (the Gibbs energy
         // rise; Z·R·T·ln r for the ideal gas): the one definition the loss
