@@ -864,30 +864,34 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             totals.measured_staged_isentropic_work = staged_s.total();
             z_sum.total()
         };
+        // The sums are final: stored now, so that they are not held across
+        // the logarithm and exponentials below (the other fields are
+        // stored by `store_references` on every way out). The stage count
+        // was stored at construction (`TrainTotals::bad`) and never
+        // changes; so was the pump power's placeholder, which stays without
+        // pumps.
+        let out = &mut self.snapshot.totals;
         if pumps {
             totals.pump_power = pump_power.total();
             let mut all_power = comp_power;
             all_power.add_term(totals.pump_power);
             totals.total_power = all_power.total();
+            out.pump_power = totals.pump_power;
         } else {
             // Without pumps the total is the compressor sum's.
             totals.total_power = totals.compressor_power;
         }
-        // The sums are final: stored now, so that they are not held across
-        // the logarithm and exponentials below (the other fields are
-        // stored by `store_references` on every way out).
-        let out = &mut self.snapshot.totals;
-        out.compressor_stages = nc;
         out.compressor_work = totals.compressor_work;
         out.compressor_power = totals.compressor_power;
-        out.pump_power = totals.pump_power;
         out.total_power = totals.total_power;
         out.measured_staged_isentropic_work = totals.measured_staged_isentropic_work;
         let w = totals.compressor_work;
         let ms = totals.measured_staged_isentropic_work;
 
+        // Interstage entries exist for the compressor stages but the last
+        // (the loop below writes each of them on every scan); the others
+        // keep the `None` of the construction (`nc` is a constant).
         let last = usize::from(nc).saturating_sub(1);
-        self.snapshot.interstage = [None; N];
         let (Some(first), Some(last_c)) = (si.first(), si.get(last)) else {
             store_references(&mut self.snapshot.totals, &totals);
             return;
