@@ -806,13 +806,16 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             match &st.work {
                 StageWork::Compressor(c) => {
                     // The stage's Z input, whatever its evaluation reached
-                    // (not the placeholder of an early return).
-                    let z = match s.z {
-                        Some(z) => z,
-                        None => Measured::good(configured_z),
+                    // (not the placeholder of an early return). Without a
+                    // supplied one the configured Z (good) and a 4 into the
+                    // quality OR, a bit no quality has, cleared below: the
+                    // `Option`'s own tag byte, so no select of it.
+                    let (z, q) = match s.z {
+                        Some(z) => (z.value, z.quality as u8),
+                        None => (configured_z, 4),
                     };
-                    z_total += z.value;
-                    q_z |= z.quality as u8;
+                    z_total += z;
+                    q_z |= q;
                     work += c.actual_work.value;
                     q_work |= c.actual_work.quality as u8;
                     comp_power += c.gas_power.value;
@@ -823,6 +826,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 StageWork::Pump(p) => pump_power.add_term(p.power),
             }
         }
+        let q_z = q_z & 3;
         // Every term good or uncertain: each OR is 0 or 1, the
         // discriminant of the worst (`& 1` lets the optimiser see that).
         let usable = q_work | q_power | q_staged | q_z <= 1;
