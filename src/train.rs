@@ -585,7 +585,11 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             out.t2 = limits.temperature_reading(s.discharge_temperature.map(Kelvin::kelvin));
             out.flow = flow;
             out.flow_measured = flow_measured;
-            out.z = s.compressibility.map(compressibility);
+            // Only the tag without a supplied Z (no placeholder value).
+            match s.compressibility {
+                Some(m) => out.z = Some(compressibility(m)),
+                None => out.z = None,
+            }
         }
     }
 
