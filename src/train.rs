@@ -24,8 +24,8 @@ use crate::stage::compressor::{
 use crate::stage::{evaluate_pump_within, CompressorResult, PumpResult};
 use crate::staging::{
     equal_ratio_fraction, equal_ratio_stage_ratio_from_log, halving_applies,
-    isentropic_references_halving,
-    isothermal_reference_quality, InterstagePressure, Sum, TrainTotals,
+    isentropic_references_halving, isothermal_reference_quality, InterstagePressure, Sum,
+    TrainTotals,
 };
 use crate::steady::{SteadyState, SteadyStateConfig, SteadyStateDetector};
 use crate::units::{Kelvin, PressureAbs};
@@ -864,7 +864,8 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             // `Sum::total` would.
             totals.compressor_work = Measured::new(work.value, work.quality);
             totals.compressor_power = Measured::new(comp_power.value, comp_power.quality);
-            totals.measured_staged_isentropic_work = Measured::new(staged_s.value, staged_s.quality);
+            totals.measured_staged_isentropic_work =
+                Measured::new(staged_s.value, staged_s.quality);
             Measured::new(z_sum.value, z_sum.quality)
         } else {
             totals.compressor_work = work.total();
