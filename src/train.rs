@@ -1135,3 +1135,34 @@ fn store_references<T: Real>(out: &mut TrainTotals<T>, t: &TrainTotals<T>) {
     out.staging_saving = t.staging_saving;
     out.ideal_staging_saving = t.ideal_staging_saving;
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Consistency check (the project's own quality order, `Quality::worst`,
+    /// against the OR form the totals use): over every pair and triple of
+    /// qualities, the OR of the discriminants is at most one exactly when
+    /// all are usable, and then `usable_of_or` of it is the worst.
+    #[test]
+    fn or_of_usable_qualities_is_the_worst() {
+        let all = [
+            Quality::Good,
+            Quality::Uncertain,
+            Quality::Bad,
+            Quality::NotApplicable,
+        ];
+        for a in all {
+            for b in all {
+                for c in all {
+                    let or = a as u8 | b as u8 | c as u8;
+                    let usable = a.is_usable() && b.is_usable() && c.is_usable();
+                    assert_eq!(or <= 1, usable, "{a:?} {b:?} {c:?}");
+                    if usable {
+                        assert_eq!(usable_of_or(or), a.worst(b).worst(c), "{a:?} {b:?} {c:?}");
+                    }
+                }
+            }
+        }
+    }
+}
