@@ -798,7 +798,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         // good (0) or uncertain (1) the OR is the worst of them, one
         // instruction a term instead of a compare and a select; a bad or
         // not-applicable term (an OR above one) sends the qualities to
-        // `compressor_sum_qualities`, which takes the worst of each.
+        // `worsen_by_stage`, which takes the worst of each.
         let mut work = T::ZERO;
         let mut comp_power = T::ZERO;
         let mut staged_s = T::ZERO;
@@ -842,7 +842,11 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 usable_of_or(q_z),
             ]
         } else {
-            compressor_sum_qualities(&self.snapshot.stages, si)
+            let mut q = [Quality::Good; 4];
+            for (st, s) in self.snapshot.stages.iter().zip(si.iter()) {
+                worsen_by_stage(&mut q, st, s);
+            }
+            q
         };
         let sum = |value: T, quality: Quality| Sum {
             value,
@@ -1082,32 +1086,27 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     }
 }
 
-/// The worst quality of each compressor sum's terms (work, gas power,
-/// isentropic head, Z, in that order) over the stages, for
-/// `Train::evaluate_totals` when a term is neither good nor uncertain (the
-/// OR of the discriminants is then not the worst). Out of line and cold.
+/// Worsens each compressor sum's quality in `q` (work, gas power,
+/// isentropic head, Z, in that order) by the stage's term, for a compressor
+/// stage (a pump adds to none of them): `Train::evaluate_totals` calls it
+/// per stage when a term is neither good nor uncertain (the OR of the
+/// discriminants is then not the worst). Out of line and cold (one copy of
+/// the compares for all stages).
 #[cold]
 #[inline(never)]
-fn compressor_sum_qualities<T: Real, const N: usize>(
-    stages: &[StageResult<T>; N],
-    si: &[StageSi<T>; N],
-) -> [Quality; 4] {
-    let mut q = [Quality::Good; 4];
-    for (st, s) in stages.iter().zip(si.iter()) {
-        if let StageWork::Compressor(c) = &st.work {
-            let z = s.z.map_or(Quality::Good, |z| z.quality);
-            let terms = [
-                c.actual_work.quality,
-                c.gas_power.quality,
-                c.isentropic_head.quality,
-                z,
-            ];
-            for (q, t) in q.iter_mut().zip(terms) {
-                *q = q.worst(t);
-            }
+fn worsen_by_stage<T: Real>(q: &mut [Quality; 4], st: &StageResult<T>, s: &StageSi<T>) {
+    if let StageWork::Compressor(c) = &st.work {
+        let z = s.z.map_or(Quality::Good, |z| z.quality);
+        let terms = [
+            c.actual_work.quality,
+            c.gas_power.quality,
+            c.isentropic_head.quality,
+            z,
+        ];
+        for (q, t) in q.iter_mut().zip(terms) {
+            *q = q.worst(t);
         }
     }
-    q
 }
 
 /// The worst of usable qualities from the OR of their discriminants
