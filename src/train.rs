@@ -904,7 +904,9 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         // Interstage entries exist for the compressor stages but the last
         // (the loop below writes each of them on every scan); the others
         // keep the `None` of the construction (`nc` is a constant).
-        let last = usize::from(nc).saturating_sub(1);
+        // `nc` is at least one (`validate_stages`); were it zero, the
+        // wrapped index would find no stage below (no panic either way).
+        let last = usize::from(nc).wrapping_sub(1);
         let (Some(first), Some(last_c)) = (si.first(), si.get(last)) else {
             store_references(&mut self.snapshot.totals, &totals);
             return;
