@@ -964,7 +964,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                         usable_of_or(q_ratio as u8 | s.p2.quality as u8),
                     )
                 } else {
-                    Measured::bad()
+                    refused_deviation()
                 };
                 *out = Some(InterstagePressure {
                     measured: s.p2,
@@ -1086,6 +1086,15 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         }
         store_references(&mut self.snapshot.totals, &totals);
     }
+}
+
+/// The deviation of an interstage pressure that is not usable: bad. Out of
+/// line and cold, so that the usable one is a branch, not a select per
+/// field (`Train::evaluate_totals`).
+#[cold]
+#[inline(never)]
+fn refused_deviation<T: Real>() -> Measured<T> {
+    Measured::bad()
 }
 
 /// Worsens each compressor sum's quality in `q` (work, gas power,
