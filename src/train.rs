@@ -1067,15 +1067,18 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             // Above one (beyond rounding) the train did better than
             // isothermal from its first suction: possible only with
             // coolant colder than that suction; suspect, not good.
-            let q = if T::greater_not_nan(eta, T::ONE + efficiency_allowance::<T>()) {
-                Quality::Uncertain
+            let above = T::greater_not_nan(eta, T::ONE + efficiency_allowance::<T>());
+            let q_iso_work = totals.isothermal_work.quality;
+            // The common case by a branch: all three usable (the OR of the
+            // discriminants, `above` as good or uncertain, at most one; then
+            // the worst) and `eta` finite, where `Measured::derived` keeps
+            // the value; else `efficiency_graded`, the same rule in full.
+            let q_or = q_iso_work as u8 | w.quality as u8 | u8::from(above);
+            totals.isothermal_efficiency = if q_or <= 1 && T::is_finite(eta) {
+                Measured::new(eta, usable_of_or(q_or))
             } else {
-                Quality::Good
+                efficiency_graded(eta, q_iso_work, w.quality, above)
             };
-            totals.isothermal_efficiency = Measured::derived(
-                eta,
-                totals.isothermal_work.quality.worst(w.quality).worst(q),
-            );
         }
         if ms.quality.is_usable() {
             // Both usable: the worst is the OR.
@@ -1095,6 +1098,26 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
 #[inline(never)]
 fn refused_deviation<T: Real>() -> Measured<T> {
     Measured::bad()
+}
+
+/// The isothermal efficiency `eta` as `Measured::derived` grades it: with
+/// the worst of the isothermal work's and the work's qualities, and
+/// uncertain if `above` one beyond rounding. For `Train::evaluate_totals`
+/// outside its common case; out of line and cold.
+#[cold]
+#[inline(never)]
+fn efficiency_graded<T: Real>(
+    eta: T,
+    q_iso_work: Quality,
+    q_work: Quality,
+    above: bool,
+) -> Measured<T> {
+    let q = if above {
+        Quality::Uncertain
+    } else {
+        Quality::Good
+    };
+    Measured::derived(eta, q_iso_work.worst(q_work).worst(q))
 }
 
 /// Worsens each compressor sum's quality in `q` (work, gas power,
