@@ -184,15 +184,58 @@ pub struct Train<T, G, const N: usize, const W: usize> {
 }
 
 impl<T: Real> StageResult<T> {
-    /// The result of `stage` before the first scan: every value bad, the
-    /// steady state unknown. Out of line: one copy of its stores serves
-    /// every stage (configuration-time flash).
+    /// What a train is built with until [`Train::reset_snapshot`] writes
+    /// each stage's result in place: a constant (every value zero and good,
+    /// never read), so the build stores it where it lives (a result of the
+    /// first stage copied into every element was an array built on the
+    /// stack and copied through `memcpy`).
+    const PLACEHOLDER: Self = {
+        let zero = Measured {
+            value: T::ZERO,
+            quality: Quality::Good,
+        };
+        StageResult {
+            work: StageWork::Compressor(CompressorResult {
+                pressure_ratio: zero,
+                isentropic_discharge_temperature: zero,
+                temperature_rise: zero,
+                isentropic_head: zero,
+                polytropic_head: zero,
+                isothermal_head: zero,
+                actual_work: zero,
+                isentropic_efficiency: zero,
+                polytropic_efficiency: zero,
+                polytropic_exponent: zero,
+                mass_flow: zero,
+                gas_power: zero,
+                work_above_isothermal: zero,
+                power_above_isothermal: zero,
+                compressibility: zero,
+                k: zero,
+                polytropic_method: crate::polytropic::PolytropicMethod::Schultz,
+                gas_validity: crate::gas::Validity::IN_RANGE,
+                condition: crate::stage::compressor::StageCondition::Normal,
+            }),
+            steady_state: SteadyState {
+                steady: false,
+                samples: 0,
+                temperature_spread: T::ZERO,
+                ratio_spread: T::ZERO,
+            },
+        }
+    };
+
+    /// Sets `self` to the result of `stage` before the first scan: every
+    /// value bad, the steady state unknown. In place (a result returned by
+    /// value was built on the stack and copied through `memcpy`); out of
+    /// line: one copy of its stores serves every stage (configuration-time
+    /// flash).
     #[inline(never)]
-    fn before_first_scan(stage: &StageConfig<T>) -> Self {
-        Self::initial(stage)
+    fn reset_before_first_scan(&mut self, stage: &StageConfig<T>) {
+        *self = Self::initial(stage);
     }
 
-    /// [`StageResult::before_first_scan`], inlined (where it is built in
+    /// [`StageResult::reset_before_first_scan`]'s value, inlined (where it is built in
     /// place with the rest of a train returned by value).
     #[inline(always)]
     fn initial(stage: &StageConfig<T>) -> Self {
@@ -207,15 +250,15 @@ impl<T: Real> StageResult<T> {
 }
 
 impl<T: Real> CoolerResult<T> {
-    /// The result of the cooler after `stage` before the first scan: every
-    /// value bad (`None` without a cooler). Out of line, as
-    /// [`StageResult::before_first_scan`].
+    /// Sets `out` to the result of the cooler after `stage` before the
+    /// first scan: every value bad (`None` without a cooler). In place and
+    /// out of line, as [`StageResult::reset_before_first_scan`].
     #[inline(never)]
-    fn before_first_scan(stage: &StageConfig<T>) -> Option<Self> {
-        Self::initial(stage)
+    fn reset_before_first_scan(out: &mut Option<Self>, stage: &StageConfig<T>) {
+        *out = Self::initial(stage);
     }
 
-    /// [`CoolerResult::before_first_scan`], inlined (as
+    /// [`CoolerResult::reset_before_first_scan`]'s value, inlined (as
     /// [`StageResult::initial`]).
     #[inline(always)]
     fn initial(stage: &StageConfig<T>) -> Option<Self> {
@@ -389,11 +432,13 @@ fn check_stage<T: Real>(
 
 /// The train of a validated configuration (`Train<T, G, N, W>` in the
 /// `impl` where it is expanded), its snapshot's stage and cooler results
-/// given: the one build of [`Train::with_limits`] and [`Train::new_in`]. A
+/// given, and the function that makes its stage dependency table from the
+/// gas model's property inputs: the one build of [`Train::with_limits`] and [`Train::new_in`]. A
 /// macro, not a function: the train is built where the caller writes it (a
 /// function's result was copied, a whole train, in `Train::with_limits`).
 macro_rules! built_train {
-    ($config:expr, $limits:expr, $compressor_stages:expr, $stages:expr, $coolers:expr) => {{
+    ($config:expr, $limits:expr, $compressor_stages:expr, $stages:expr, $coolers:expr,
+     $stage_uses:expr) => {{
         let config = $config;
         let limits = $limits;
         let compressor_stages: u8 = $compressor_stages;
@@ -401,7 +446,7 @@ macro_rules! built_train {
             .gas
             .path(T::of(1e5), T::of(288.15), T::of(2e5), T::of(288.15), None)
             .z;
-        let stage_uses = StageUses::new(config.gas.property_inputs());
+        let stage_uses = $stage_uses(config.gas.property_inputs());
         let equal_ratio_exponent = equal_ratio_fraction(u32::from(compressor_stages), 0);
         let stage_thresholds = StageThresholds::of(&limits);
         Train {
@@ -454,12 +499,16 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         let compressor_stages = Self::validate(&config, &limits)?;
         let stages = config.stages.map(|s| StageResult::initial(&s));
         let coolers = config.stages.map(|s| CoolerResult::initial(&s));
+        // Built where it is returned (a train in a local, then returned,
+        // was one more train-sized frame: the Cortex-M0 harness's stack
+        // overflowed).
         Ok(built_train!(
             config,
             limits,
             compressor_stages,
             stages,
-            coolers
+            coolers,
+            StageUses::new
         ))
     }
 
@@ -472,25 +521,45 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     ) -> Result<&mut Self, ConfigError> {
         let limits = Limits::default();
         let compressor_stages = Self::validate(&config, &limits)?;
-        // Every stage holds the first stage's initial result and no cooler
-        // one until `reset_snapshot` writes them in place (no array of them
-        // built on the stack and moved).
-        let placeholder = config.stages.first().map_or(
-            StageResult {
-                work: StageWork::Compressor(CompressorResult::bad()),
-                steady_state: SteadyState::unknown(),
-            },
-            StageResult::before_first_scan,
-        );
+        // Every stage holds a placeholder and no cooler result until
+        // `reset_snapshot` writes them in place (no array of them built on
+        // the stack and moved).
+        // The stages' configuration goes in one stage at a time, after the
+        // train (written whole, the array was one 100-odd-byte copy through
+        // `memcpy`; a stage is copied inline).
+        let placeholder = StageConfig {
+            kind: StageKind::Compressor,
+            design_suction_pressure: PressureAbs::from_pa(T::ZERO),
+            design_discharge_pressure: PressureAbs::from_pa(T::ZERO),
+            cooler: None,
+        };
         let train = slot.write(built_train!(
-            config,
+            TrainConfig {
+                stages: [placeholder; N],
+                ..config
+            },
             limits,
             compressor_stages,
-            [placeholder; N],
-            [None; N]
+            [StageResult::PLACEHOLDER; N],
+            [None; N],
+            // Rebuilt in place below (`rebuild_stage_uses`): no table built
+            // on the stack and copied.
+            StageUses::unbuilt
         ));
+        for (d, s) in train.config.stages.iter_mut().zip(config.stages.iter()) {
+            *d = *s;
+        }
         train.reset_snapshot();
+        train.rebuild_stage_uses();
         Ok(train)
+    }
+
+    /// Builds the compressor stages' dependency table for the gas model's
+    /// property inputs in place (the construction's last step).
+    #[inline(always)]
+    fn rebuild_stage_uses(&mut self) {
+        let inputs = self.config.gas.property_inputs();
+        self.stage_uses.rebuild(inputs);
     }
 
     /// The checks of [`Train::with_limits`]: the number of compressor
@@ -506,8 +575,8 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     }
 
     /// Sets every stage's and cooler's result to its value before the
-    /// first scan ([`StageResult::before_first_scan`],
-    /// [`CoolerResult::before_first_scan`]), in place.
+    /// first scan ([`StageResult::reset_before_first_scan`],
+    /// [`CoolerResult::reset_before_first_scan`]), in place.
     #[inline(never)]
     fn reset_snapshot(&mut self) {
         let snapshot = &mut self.snapshot;
@@ -517,8 +586,8 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             .zip(snapshot.coolers.iter_mut())
             .zip(self.config.stages.iter())
         {
-            *r = StageResult::before_first_scan(s);
-            *c = CoolerResult::before_first_scan(s);
+            r.reset_before_first_scan(s);
+            CoolerResult::reset_before_first_scan(c, s);
         }
     }
 
@@ -598,10 +667,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     #[inline(never)]
     fn evaluate_stages(&mut self, scan: &Scan<T, N>) {
         let si = &self.si;
-        let property_inputs = self.config.gas.property_inputs();
-        if property_inputs != self.stage_uses.inputs {
-            self.stage_uses = StageUses::new(property_inputs);
-        }
+        self.stage_uses.refresh(self.config.gas.property_inputs());
         let parts = self
             .config
             .stages
