@@ -19,7 +19,7 @@ use crate::quality::{Measured, Quality};
 use crate::real::{Real, HARD_FLOAT};
 use crate::scan::Scan;
 use crate::stage::compressor::{
-    evaluate_compressor_tabled, StageReadings, StageThresholds, StageUses,
+    evaluate_compressor_tabled, StageReadings, StageThresholds, StageUses, NOT_SETTLED,
 };
 use crate::stage::{evaluate_pump_within, CompressorResult, PumpResult};
 use crate::staging::{
@@ -174,6 +174,10 @@ pub struct Train<T, G, const N: usize, const W: usize> {
     /// stack: beside the stage evaluation's frames it set the update's
     /// stack peak (52 bytes per stage in f32).
     si: [StageSi<T>; N],
+    /// Per stage: from which grading key the nominal finish last wrote the
+    /// compressor result's qualities (`settled` of
+    /// `evaluate_compressor_tabled`; [`NOT_SETTLED`] until then).
+    stage_settled: [u16; N],
 }
 
 impl<T: Real> StageResult<T> {
@@ -414,6 +418,7 @@ macro_rules! built_train {
                 scan_count: 0,
             },
             si: [StageSi::CLEARED; N],
+            stage_settled: [NOT_SETTLED; N],
         }
     }};
 }
@@ -588,6 +593,8 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         let property_inputs = self.config.gas.property_inputs();
         if property_inputs != self.stage_uses.inputs {
             self.stage_uses = StageUses::new(property_inputs);
+            // The kept qualities were graded with the tables replaced.
+            self.stage_settled = [NOT_SETTLED; N];
         }
         let parts = self
             .config
@@ -596,8 +603,9 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             .zip(scan.stages.iter())
             .zip(si.iter())
             .zip(self.detectors.iter_mut())
-            .zip(self.snapshot.stages.iter_mut());
-        for ((((cfg, _raw), s), detector), out) in parts {
+            .zip(self.snapshot.stages.iter_mut())
+            .zip(self.stage_settled.iter_mut());
+        for (((((cfg, _raw), s), detector), out), settled) in parts {
             let flow = if s.flow_measured { Some(s.flow) } else { None };
             match cfg.kind {
                 StageKind::Compressor => {
@@ -614,6 +622,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                             &self.stage_thresholds,
                             Some(&self.stage_uses),
                             c,
+                            settled,
                         );
                     }
                     out.steady_state = detector.update(

@@ -205,9 +205,31 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     limits: &Limits<T>,
     out: &mut CompressorResult<T>,
 ) {
-    evaluate_compressor_tabled(gas, inp, &StageThresholds::of(limits), None, out);
+    let mut settled = NOT_SETTLED;
+    evaluate_compressor_tabled(
+        gas,
+        inp,
+        &StageThresholds::of(limits),
+        None,
+        out,
+        &mut settled,
+    );
 }
 
+/// What a stage's `settled` holds when its result's qualities were not
+/// written by the nominal finish ([`evaluate_compressor_tabled`]): no
+/// grading key equals it.
+pub(crate) const NOT_SETTLED: u16 = 0;
+
+/// Set in every kept grading key (so that none is [`NOT_SETTLED`]): the
+/// high bit of the first pair, clear in every key of usable qualities.
+const SETTLED: u16 = 1 << 1;
+
+/// The input slots' qualities in a grading key, two bits each (P1, T1, P2,
+/// T2, flow, Z from bit 0; the model's two checks follow at bits 12 and
+/// 14): every one usable (good 0 or uncertain 1) exactly if no high bit of
+/// a pair is set.
+const KEY_NOT_USABLE: u16 = 0xaaaa;
 /// The thresholds of a stage's plausibility checks, from [`Limits`]: built
 /// once (a train keeps them; its limits do not change) instead of every
 /// scan (the two resolution products are three multiplications, each a
@@ -344,6 +366,15 @@ impl<T: Copy> StageReadings<T> for CompressorInputs<T> {
 /// without tables) takes the general path, out of line
 /// ([`evaluate_compressor_general`]), which starts again from the readings
 /// (the nominal attempt writes nothing that it does not overwrite).
+///
+/// `settled` belongs to `out`: the grading key of the slot and model
+/// qualities from which the nominal finish last wrote `out`'s sixteen
+/// qualities, or [`NOT_SETTLED`] if anything else wrote them (the general
+/// path sets it so). In the nominal finish the qualities follow from that
+/// key alone (with these `tables`), so with an equal key they are already
+/// in `out` and are not written again (a plant's qualities rarely change
+/// from scan to scan). A caller that writes `out` otherwise, or changes
+/// `tables`, resets `settled` to [`NOT_SETTLED`].
 #[inline(always)]
 pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     gas: &G,
@@ -351,16 +382,19 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     thresholds: &StageThresholds<T>,
     tables: Option<&StageUses>,
     out: &mut CompressorResult<T>,
+    settled: &mut u16,
 ) {
     match tables {
         Some(t) => {
-            if let Some(uncertain) = nominal_readings(gas, inp, thresholds, t, out) {
-                settle_usable(out, uncertain);
-            } else {
+            if nominal_readings(gas, inp, thresholds, t, out, settled).is_none() {
+                *settled = NOT_SETTLED;
                 evaluate_compressor_with_table(gas, inp, thresholds, t, out);
             }
         }
-        None => evaluate_compressor_general(gas, inp, thresholds, None, out),
+        None => {
+            *settled = NOT_SETTLED;
+            evaluate_compressor_general(gas, inp, thresholds, None, out);
+        }
     }
 }
 
@@ -395,20 +429,21 @@ fn nominal_readings<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     thresholds: &StageThresholds<T>,
     tables: &StageUses,
     out: &mut CompressorResult<T>,
-) -> Option<u16> {
+    settled: &mut u16,
+) -> Option<()> {
     let [p1, p2, t1, t2, flow] = inp.readings();
     let (z_supplied, q_z) = match inp.compressibility() {
         Some((z, q)) => (Some(z), q),
         None => (None, Quality::Good),
     };
-    // Good is 0, uncertain 1: every slot usable in one test.
-    let worst = p1.quality as u8
-        | t1.quality as u8
-        | p2.quality as u8
-        | t2.quality as u8
-        | flow.quality as u8
-        | q_z as u8;
-    if worst > Quality::Uncertain as u8 {
+    // The slots' part of the grading key; every slot usable in one test.
+    let key = u16::from(p1.quality as u8)
+        | u16::from(t1.quality as u8) << 2
+        | u16::from(p2.quality as u8) << 4
+        | u16::from(t2.quality as u8) << 6
+        | u16::from(flow.quality as u8) << 8
+        | u16::from(q_z as u8) << 10;
+    if key & KEY_NOT_USABLE != 0 {
         return None;
     }
     let ratio = p2.value / p1.value;
@@ -435,14 +470,15 @@ fn nominal_readings<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     let h_iso = isothermal_head_from_log(cs.suction_z, gas.gas_constant(), t1.value, ln_path);
     nominal_stage(
         &cs,
-        [p1, t1, p2, t2, flow],
-        q_z,
+        flow.value,
+        key,
         fit,
         true,
         [ratio, dt, ln_path, h_iso],
         thresholds,
         tables,
         out,
+        settled,
     )
 }
 
@@ -701,13 +737,15 @@ fn evaluate_compressor_general<T: Real, G: GasModel<T>, I: StageReadings<T>>(
 }
 
 /// The nominal finish of [`evaluate_compressor_tabled`]: if every input
-/// slot is usable (good or uncertain), the stage compresses with a rise
+/// slot is usable (good or uncertain; `key`, the slots' part of the grading
+/// key, says so), the stage compresses with a rise
 /// (`compressing`, T2 − T1 > 0), the model's fit and validity at the
 /// suction, isentropic and discharge states are good or uncertain, the
 /// ratio, resolution, running and efficiency checks pass and all sixteen
 /// values are finite, writes the values, the validity, the method and the
-/// condition into `out` and returns the outputs the rule makes uncertain
-/// (the rest good). Otherwise writes nothing that the general path does not
+/// condition into `out`, and the qualities: uncertain for the outputs the
+/// rule makes uncertain, the rest good (unless `settled` shows them there
+/// already). Otherwise writes nothing that the general path does not
 /// overwrite, and returns `None`.
 ///
 /// Why the grades are the general path's: no slot is bad or not
@@ -720,33 +758,27 @@ fn evaluate_compressor_general<T: Real, G: GasModel<T>, I: StageReadings<T>>(
 #[inline(always)]
 fn nominal_stage<T: Real>(
     cs: &CompressionStates<T>,
-    [p1, t1, p2, t2, flow]: [Measured<T>; 5],
-    q_z: Quality,
+    flow: T,
+    key: u16,
     fit: Quality,
     compressing: bool,
     [ratio, dt, ln_path, h_iso]: [T; 4],
     thresholds: &StageThresholds<T>,
     tables: &StageUses,
     out: &mut CompressorResult<T>,
-) -> Option<u16> {
-    // Good is 0, uncertain 1: usable slots and good-or-uncertain model
-    // checks in one test.
+    settled: &mut u16,
+) -> Option<()> {
+    // The grading key: usable slots and good-or-uncertain model checks in
+    // one test.
     let model = fit.worst(cs.isentropic_validity.quality);
     let discharge = cs.validity.quality;
-    let worst = p1.quality as u8
-        | t1.quality as u8
-        | p2.quality as u8
-        | t2.quality as u8
-        | flow.quality as u8
-        | q_z as u8
-        | model as u8
-        | discharge as u8;
-    if worst > Quality::Uncertain as u8
+    let key = key | u16::from(model as u8) << 12 | u16::from(discharge as u8) << 14;
+    if key & KEY_NOT_USABLE != 0
         || !cs.has_discharge
         || !compressing
         || !T::positive_at_most(dt, T::of(f64::INFINITY))
         || T::less_not_nan(thresholds.max_stage_ratio, ratio)
-        || !(flow.value > thresholds.stationary_flow)
+        || !(flow > thresholds.stationary_flow)
         || T::less_not_nan(dt, thresholds.min_temperature_rise)
         || T::less_not_nan(ln_path, thresholds.min_log_ratio)
     {
@@ -772,10 +804,10 @@ fn nominal_stage<T: Real>(
     out.isentropic_efficiency.value = eta_s;
     out.polytropic_efficiency.value = poly.efficiency;
     out.polytropic_exponent.value = poly.exponent;
-    out.mass_flow.value = flow.value;
-    out.gas_power.value = flow.value * actual;
+    out.mass_flow.value = flow;
+    out.gas_power.value = flow * actual;
     out.work_above_isothermal.value = above;
-    out.power_above_isothermal.value = flow.value * above;
+    out.power_above_isothermal.value = flow * above;
     out.compressibility.value = cs.suction_z;
     out.k.value = cs.isentropic_exponent;
     // Finite but where a check above has shown it: the ratio (finite by
@@ -805,21 +837,37 @@ fn nominal_stage<T: Real>(
     } else {
         StageCondition::OutsideGasModel
     };
-    let uncertain_slot = |s: Slots, q: Quality| u32::from(s.0) * u32::from(q as u8);
-    let slots = uncertain_slot(slot::P1, p1.quality)
-        | uncertain_slot(slot::T1, t1.quality)
-        | uncertain_slot(slot::P2, p2.quality)
-        | uncertain_slot(slot::T2, t2.quality)
-        | uncertain_slot(slot::FLOW, flow.quality)
-        | uncertain_slot(slot::Z, q_z);
+    // The qualities follow from the key (with these tables): written only
+    // if `out` does not hold them from an equal key already.
+    let key = key | SETTLED;
+    if *settled != key {
+        settle_nominal(tables, key, out);
+        *settled = key;
+    }
+    Some(())
+}
+
+/// The qualities of a nominal finish with grading `key`
+/// ([`nominal_stage`]): an output is uncertain exactly if it uses an
+/// uncertain slot or an uncertain model check, else good. Out of line:
+/// taken when a stage's qualities change.
+#[inline(never)]
+fn settle_nominal<T: Real>(tables: &StageUses, key: u16, out: &mut CompressorResult<T>) {
+    let uncertain_slot = |s: Slots, pair: u16| u32::from(s.0) * u32::from(key >> (2 * pair) & 1);
+    let slots = uncertain_slot(slot::P1, 0)
+        | uncertain_slot(slot::T1, 1)
+        | uncertain_slot(slot::P2, 2)
+        | uncertain_slot(slot::T2, 3)
+        | uncertain_slot(slot::FLOW, 4)
+        | uncertain_slot(slot::Z, 5);
     let mut uncertain = tables.users.spread(slots);
-    if model != Quality::Good {
+    if key >> 12 & 1 != 0 {
         uncertain |= tables.model_uncertain[0];
     }
-    if discharge != Quality::Good {
+    if key >> 14 & 1 != 0 {
         uncertain |= tables.model_uncertain[1];
     }
-    Some(uncertain)
+    settle_usable(out, uncertain);
 }
 
 /// The sixteen values of a result, in the order of `done`.
@@ -1176,6 +1224,7 @@ mod tests {
                             &StageThresholds::of(&limits),
                             Some(&table),
                             &mut b,
+                            &mut 0,
                         );
                         assert_eq!(a, b, "case {case} slot {slot} {q:?}");
                     }
@@ -1202,7 +1251,10 @@ mod tests {
     /// stages around every check's boundary: input qualities, ratios near
     /// 1 and the stage maximum, rises near 0 and the resolution limit,
     /// flows near the stationary threshold, efficiencies above 1, supplied
-    /// Z, models inside and outside their validity, f32 and f64.
+    /// Z, models inside and outside their validity, f32 and f64. The
+    /// tabled result is evaluated into one result for all cases, as a
+    /// train's stage is: its qualities are kept from the case before when
+    /// its grading key is the same (counted: it happens).
     #[test]
     fn nominal_finish_equals_the_general_path() {
         use crate::gas::{components, PengRobinson};
@@ -1215,6 +1267,9 @@ mod tests {
             };
             let thresholds = StageThresholds::of(&limits);
             let mut nominal = 0;
+            let mut b = CompressorResult::bad();
+            let mut settled = NOT_SETTLED;
+            let mut kept = 0;
             for case in 0..20_000 {
                 let mut draw = [0.0; 10];
                 for d in &mut draw {
@@ -1257,16 +1312,31 @@ mod tests {
                         None
                     },
                 };
-                let (mut a, mut b) = (CompressorResult::bad(), CompressorResult::bad());
-                evaluate_compressor_tabled(gas, &i, &thresholds, None, &mut a);
-                evaluate_compressor_tabled(gas, &i, &thresholds, Some(&table), &mut b);
-                // Bit for bit (`==` would let -0.0 equal 0.0).
-                assert_eq!(
-                    compressor_values(&a).map(|x| T::to_f64(x).to_bits()),
-                    compressor_values(&b).map(|x| T::to_f64(x).to_bits()),
-                    "case {case}: {i:?}"
-                );
-                assert_eq!(a, b, "case {case}: {i:?}");
+                let mut a = CompressorResult::bad();
+                evaluate_compressor_tabled(gas, &i, &thresholds, None, &mut a, &mut 0);
+                // Twice: after the case before, then after itself (the
+                // qualities kept whenever the nominal finish applies).
+                for _ in 0..2 {
+                    let before = settled;
+                    evaluate_compressor_tabled(
+                        gas,
+                        &i,
+                        &thresholds,
+                        Some(&table),
+                        &mut b,
+                        &mut settled,
+                    );
+                    if before != NOT_SETTLED && settled == before {
+                        kept += 1;
+                    }
+                    // Bit for bit (`==` would let -0.0 equal 0.0).
+                    assert_eq!(
+                        compressor_values(&a).map(|x| T::to_f64(x).to_bits()),
+                        compressor_values(&b).map(|x| T::to_f64(x).to_bits()),
+                        "case {case}: {i:?}"
+                    );
+                    assert_eq!(a, b, "case {case}: {i:?}");
+                }
                 let usable = [
                     a.pressure_ratio,
                     a.isentropic_discharge_temperature,
@@ -1296,6 +1366,7 @@ mod tests {
                     nominal += 1;
                 }
             }
+            assert!(kept > 2_000, "{kept}");
             nominal
         }
         let air = IdealGas::<f64>::from_spec(&AIR, false, 1.0).unwrap();
