@@ -244,6 +244,39 @@ pub(crate) struct StageThresholds<T> {
     min_log_ratio: T,
     /// [`Limits::stationary_flow`].
     stationary_flow: T,
+    /// The ratios of the nominal finish, (1, max_stage_ratio] and finite,
+    /// as the bounds [lo, hi] of one test on the bit patterns
+    /// ([`Real::within_positive`]): the value next above 1 and the maximum
+    /// (the largest finite value for an infinite one; +0 twice for a
+    /// maximum not above 1, which no compression passes: see
+    /// [`StageThresholds::of`]).
+    nominal_ratio: [T; 2],
+    /// The temperature rises of the nominal finish, above 0 and not below
+    /// `min_temperature_rise`, as the bounds [lo, +∞] of one test on the
+    /// bit patterns: lo the larger of `min_temperature_rise` and the
+    /// smallest positive value.
+    nominal_rise: [T; 2],
+}
+
+/// The smallest positive (subnormal) value of `T`: 2^-149 (f32) or
+/// 2^-1074 (f64), both exact in f64.
+#[inline]
+fn smallest_positive<T: Real>() -> T {
+    T::of(if T::EPSILON > T::of(1e-10) {
+        f64::from(f32::from_bits(1))
+    } else {
+        f64::from_bits(1)
+    })
+}
+
+/// The largest finite value of `T` (f32 or f64).
+#[inline]
+fn largest_finite<T: Real>() -> T {
+    T::of(if T::EPSILON > T::of(1e-10) {
+        f64::from(f32::MAX)
+    } else {
+        f64::MAX
+    })
 }
 
 impl<T: Real> StageThresholds<T> {
@@ -261,13 +294,33 @@ impl<T: Real> StageThresholds<T> {
             }
         };
         let inf = T::of(f64::INFINITY);
+        // `ratio > NaN` and `ratio > +inf` are both false for a finite
+        // ratio; `x < NaN` and `x < -inf` both false.
+        let max_stage_ratio = or_if_nan(limits.max_stage_ratio, inf);
+        let min_temperature_rise = or_if_nan(limits.min_temperature_rise(), -inf);
+        // A finite ratio above 1 and not above the maximum. With a maximum
+        // not above 1 (limits not validated; a train's are) no ratio is:
+        // [+0, +0] then passes +0 alone, and a ratio of +0 has ln −∞, which
+        // fails the nominal finish's test 0 < ln(p·v ratio) < ln ratio.
+        let nominal_ratio = if max_stage_ratio > T::ONE {
+            [
+                T::ONE + T::EPSILON,
+                T::min(max_stage_ratio, largest_finite()),
+            ]
+        } else {
+            [T::ZERO; 2]
+        };
+        // dt > 0 and !(dt < min): dt >= the larger of the two (the
+        // smallest positive value for dt > 0), up to +∞ (both tests admit
+        // it).
+        let nominal_rise = [T::max(min_temperature_rise, smallest_positive()), inf];
         StageThresholds {
-            // `ratio > NaN` and `ratio > +inf` are both false for a finite
-            // ratio; `x < NaN` and `x < -inf` both false.
-            max_stage_ratio: or_if_nan(limits.max_stage_ratio, inf),
-            min_temperature_rise: or_if_nan(limits.min_temperature_rise(), -inf),
+            max_stage_ratio,
+            min_temperature_rise,
             min_log_ratio: or_if_nan(limits.min_log_ratio(), -inf),
             stationary_flow: limits.stationary_flow,
+            nominal_ratio,
+            nominal_rise,
         }
     }
 }
@@ -447,13 +500,10 @@ fn nominal_readings<T: Real, G: GasModel<T>, I: StageReadings<T>>(
         return None;
     }
     let ratio = p2.value / p1.value;
-    // Finite and above 1 (with an FPU two compares: a NaN fails both).
-    let compressing = if HARD_FLOAT {
-        T::ONE < ratio && ratio < T::of(f64::INFINITY)
-    } else {
-        T::is_finite(ratio) && T::less_not_nan(T::ONE, ratio)
-    };
-    if !compressing {
+    // Finite, above 1 and not above the stage maximum: one test on the
+    // bits (a NaN, a negative value and zero lie outside).
+    let [ratio_lo, ratio_hi] = thresholds.nominal_ratio;
+    if !T::within_positive(ratio, ratio_lo, ratio_hi) {
         return None;
     }
     let dt = t2.value - t1.value;
@@ -473,7 +523,6 @@ fn nominal_readings<T: Real, G: GasModel<T>, I: StageReadings<T>>(
         flow.value,
         key,
         fit,
-        true,
         [ratio, dt, ln_path, h_iso],
         thresholds,
         tables,
@@ -738,8 +787,9 @@ fn evaluate_compressor_general<T: Real, G: GasModel<T>, I: StageReadings<T>>(
 
 /// The nominal finish of [`evaluate_compressor_tabled`]: if every input
 /// slot is usable (good or uncertain; `key`, the slots' part of the grading
-/// key, says so), the stage compresses with a rise
-/// (`compressing`, T2 − T1 > 0), the model's fit and validity at the
+/// key, says so), the stage compresses (a finite ratio above 1 and not
+/// above the maximum: the caller has tested it) with a rise
+/// (T2 − T1 > 0), the model's fit and validity at the
 /// suction, isentropic and discharge states are good or uncertain, the
 /// ratio, resolution, running and efficiency checks pass and all sixteen
 /// values are finite, writes the values, the validity, the method and the
@@ -761,7 +811,6 @@ fn nominal_stage<T: Real>(
     flow: T,
     key: u16,
     fit: Quality,
-    compressing: bool,
     [ratio, dt, ln_path, h_iso]: [T; 4],
     thresholds: &StageThresholds<T>,
     tables: &StageUses,
@@ -773,13 +822,11 @@ fn nominal_stage<T: Real>(
     let model = fit.worst(cs.isentropic_validity.quality);
     let discharge = cs.validity.quality;
     let key = key | u16::from(model as u8) << 12 | u16::from(discharge as u8) << 14;
+    let [rise_lo, rise_hi] = thresholds.nominal_rise;
     if key & KEY_NOT_USABLE != 0
         || !cs.has_discharge
-        || !compressing
-        || !T::positive_at_most(dt, T::of(f64::INFINITY))
-        || T::less_not_nan(thresholds.max_stage_ratio, ratio)
+        || !T::within_positive(dt, rise_lo, rise_hi)
         || !(flow > thresholds.stationary_flow)
-        || T::less_not_nan(dt, thresholds.min_temperature_rise)
         || T::less_not_nan(ln_path, thresholds.min_log_ratio)
     {
         return None;
@@ -947,12 +994,15 @@ fn settle_usable<T: Real>(o: &mut CompressorResult<T>, uncertain: u16) {
 }
 
 /// The worse of the two efficiencies' grades ([`efficiency_grade`]), the
-/// common case (both in (0, 1 + allowance]: good) in four comparisons (two
-/// integer ones without an FPU).
+/// common case (both in (0, 1 + allowance]: good) in two integer
+/// comparisons on the bit patterns ([`Real::within_positive`] from the
+/// smallest positive value: the same as 0 < x <= max, with or without an
+/// FPU; with one, four float compares were six instructions more).
 #[inline]
 fn efficiency_pair_grade<T: Real>(a: T, b: T) -> Quality {
     let good_max = T::ONE + efficiency_allowance::<T>();
-    if T::positive_at_most(a, good_max) && T::positive_at_most(b, good_max) {
+    let good = |x: T| T::within_positive(x, smallest_positive(), good_max);
+    if good(a) && good(b) {
         Quality::Good
     } else {
         efficiency_grade(a).worst(efficiency_grade(b))
