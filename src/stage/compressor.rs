@@ -439,7 +439,15 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
 ) {
     match tables {
         Some(t) => {
-            if nominal_readings(gas, inp, thresholds, t, out, settled).is_none() {
+            if let Some(key) = nominal_readings(gas, inp, thresholds, out) {
+                // The qualities follow from the key (with these tables):
+                // written only if `out` does not hold them from an equal
+                // key already.
+                if *settled != key {
+                    settle_nominal(t, key, out);
+                    *settled = key;
+                }
+            } else {
                 *settled = NOT_SETTLED;
                 evaluate_compressor_with_table(gas, inp, thresholds, t, out);
             }
@@ -480,10 +488,8 @@ fn nominal_readings<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     gas: &G,
     inp: &I,
     thresholds: &StageThresholds<T>,
-    tables: &StageUses,
     out: &mut CompressorResult<T>,
-    settled: &mut u16,
-) -> Option<()> {
+) -> Option<u16> {
     let [p1, p2, t1, t2, flow] = inp.readings();
     let (z_supplied, q_z) = match inp.compressibility() {
         Some((z, q)) => (Some(z), q),
@@ -525,9 +531,7 @@ fn nominal_readings<T: Real, G: GasModel<T>, I: StageReadings<T>>(
         fit,
         [ratio, dt, ln_path, h_iso],
         thresholds,
-        tables,
         out,
-        settled,
     )
 }
 
@@ -793,10 +797,9 @@ fn evaluate_compressor_general<T: Real, G: GasModel<T>, I: StageReadings<T>>(
 /// suction, isentropic and discharge states are good or uncertain, the
 /// ratio, resolution, running and efficiency checks pass and all sixteen
 /// values are finite, writes the values, the validity, the method and the
-/// condition into `out`, and the qualities: uncertain for the outputs the
-/// rule makes uncertain, the rest good (unless `settled` shows them there
-/// already). Otherwise writes nothing that the general path does not
-/// overwrite, and returns `None`.
+/// condition into `out` and returns the grading key of the qualities
+/// ([`settle_nominal`] gives them). Otherwise writes nothing that the
+/// general path does not overwrite, and returns `None`.
 ///
 /// Why the grades are the general path's: no slot is bad or not
 /// applicable, no check fails but the model's (uncertain: [`StageUses`]'s
@@ -813,10 +816,8 @@ fn nominal_stage<T: Real>(
     fit: Quality,
     [ratio, dt, ln_path, h_iso]: [T; 4],
     thresholds: &StageThresholds<T>,
-    tables: &StageUses,
     out: &mut CompressorResult<T>,
-    settled: &mut u16,
-) -> Option<()> {
+) -> Option<u16> {
     // The grading key: usable slots and good-or-uncertain model checks in
     // one test.
     let model = fit.worst(cs.isentropic_validity.quality);
@@ -884,18 +885,12 @@ fn nominal_stage<T: Real>(
     } else {
         StageCondition::OutsideGasModel
     };
-    // The qualities follow from the key (with these tables): written only
-    // if `out` does not hold them from an equal key already.
-    let key = key | SETTLED;
-    if *settled != key {
-        settle_nominal(tables, key, out);
-        *settled = key;
-    }
-    Some(())
+    Some(key | SETTLED)
 }
 
-/// The qualities of a nominal finish with grading `key`
-/// ([`nominal_stage`]): an output is uncertain exactly if it uses an
+/// The qualities of a nominal finish with grading `key` (from
+/// [`nominal_stage`]; the slot qualities and the two model checks, two
+/// bits each): an output is uncertain exactly if it uses an
 /// uncertain slot or an uncertain model check, else good. Out of line:
 /// taken when a stage's qualities change.
 #[inline(never)]
