@@ -251,10 +251,11 @@ pub(crate) struct StageThresholds<T> {
     /// maximum not above 1, which no compression passes: see
     /// [`StageThresholds::of`]).
     nominal_ratio: [T; 2],
-    /// The temperature rises of the nominal finish, above 0 and not below
-    /// `min_temperature_rise`, as the bounds [lo, +∞] of one test on the
-    /// bit patterns: lo the larger of `min_temperature_rise` and the
-    /// smallest positive value.
+    /// The temperature rises of the nominal finish, above 0, not below
+    /// `min_temperature_rise` and finite, as the bounds [lo, hi] of one
+    /// test on the bit patterns: lo the larger of `min_temperature_rise`
+    /// and the smallest positive value, hi the largest finite value (lo
+    /// when that is +∞; then no ratio passes `nominal_ratio`).
     nominal_rise: [T; 2],
 }
 
@@ -298,11 +299,16 @@ impl<T: Real> StageThresholds<T> {
         // ratio; `x < NaN` and `x < -inf` both false.
         let max_stage_ratio = or_if_nan(limits.max_stage_ratio, inf);
         let min_temperature_rise = or_if_nan(limits.min_temperature_rise(), -inf);
+        // dt > 0 and !(dt < min): dt >= the larger of the two (the
+        // smallest positive value for dt > 0); and finite.
+        let rise_lo = T::max(min_temperature_rise, smallest_positive());
+        let nominal_rise = [rise_lo, T::max(rise_lo, largest_finite())];
         // A finite ratio above 1 and not above the maximum. With a maximum
-        // not above 1 (limits not validated; a train's are) no ratio is:
-        // [+0, +0] then passes +0 alone, and a ratio of +0 has ln −∞, which
-        // fails the nominal finish's test 0 < ln(p·v ratio) < ln ratio.
-        let nominal_ratio = if max_stage_ratio > T::ONE {
+        // not above 1, or a minimum rise above every finite value (limits
+        // not validated; a train's are), no stage is nominal: [+0, +0]
+        // then passes a ratio of +0 alone, whose ln −∞ fails the nominal
+        // finish's test 0 < ln(p·v ratio) < ln ratio.
+        let nominal_ratio = if max_stage_ratio > T::ONE && rise_lo <= largest_finite() {
             [
                 T::ONE + T::EPSILON,
                 T::min(max_stage_ratio, largest_finite()),
@@ -310,10 +316,6 @@ impl<T: Real> StageThresholds<T> {
         } else {
             [T::ZERO; 2]
         };
-        // dt > 0 and !(dt < min): dt >= the larger of the two (the
-        // smallest positive value for dt > 0), up to +∞ (both tests admit
-        // it).
-        let nominal_rise = [T::max(min_temperature_rise, smallest_positive()), inf];
         StageThresholds {
             max_stage_ratio,
             min_temperature_rise,
@@ -858,17 +860,17 @@ fn nominal_stage<T: Real>(
     out.power_above_isothermal.value = flow * above;
     out.compressibility.value = cs.suction_z;
     out.k.value = cs.isentropic_exponent;
-    // Finite but where a check above has shown it: the ratio (finite by
-    // the gate) and the two efficiencies (in (0, 1 + allowance]).
+    // Finite but where a check above has shown it: the ratio and the rise
+    // (finite by their gates), the two efficiencies (in (0, 1 +
+    // allowance]) and the flow (a flow not finite, above the stationary
+    // one, is +inf, and +inf times the finite work is not finite).
     let unchecked = [
         out.isentropic_discharge_temperature.value,
-        out.temperature_rise.value,
         out.isentropic_head.value,
         out.polytropic_head.value,
         out.isothermal_head.value,
         out.actual_work.value,
         out.polytropic_exponent.value,
-        out.mass_flow.value,
         out.gas_power.value,
         out.work_above_isothermal.value,
         out.power_above_isothermal.value,
@@ -1436,6 +1438,61 @@ mod tests {
         for n in counts {
             assert!(n > 2_000, "{counts:?}");
         }
+    }
+
+    /// Consistency check (the project's own rule, two implementations): the
+    /// nominal finish's ranges of ratio and rise, built from limits that a
+    /// train would refuse (maximum ratio not above 1, NaN, infinite or
+    /// huge thresholds), give the general path's result bit for bit, at
+    /// ratios and rises around 1, the maximum and the resolution limit.
+    #[test]
+    fn nominal_ranges_follow_unvalidated_limits() {
+        let gas = IdealGas::<f64>::from_spec(&AIR, false, 1.0).unwrap();
+        let table = StageUses::new(gas.property_inputs());
+        let variants: [fn(&mut Limits<f64>); 8] = [
+            |_| {},
+            |l| l.max_stage_ratio = 1.0,
+            |l| l.max_stage_ratio = 0.5,
+            |l| l.max_stage_ratio = f64::NAN,
+            |l| l.max_stage_ratio = f64::INFINITY,
+            |l| l.resolution_factor = f64::NAN,
+            |l| l.resolution_factor = f64::MAX,
+            |l| l.temperature_accuracy = f64::INFINITY,
+        ];
+        let mut nominal = 0;
+        for (v, set) in variants.iter().enumerate() {
+            let mut limits = Limits::default();
+            set(&mut limits);
+            let thresholds = StageThresholds::of(&limits);
+            for ratio in [1.0_f64 + 1e-15, 1.001, 1.5, 3.0, 49.99, 50.0, 50.01, 1e300] {
+                for rise_factor in [1e-12, 0.01, 1.0, 1.2, 1e300] {
+                    let t2 = 300.0 + 300.0 * (ratio.powf(0.2857) - 1.0) * rise_factor;
+                    let i = inputs(100e3, 300.0, 100e3 * ratio, t2);
+                    let (mut a, mut b) = (CompressorResult::bad(), CompressorResult::bad());
+                    evaluate_compressor_tabled(&gas, &i, &thresholds, None, &mut a, &mut 0);
+                    let mut settled = NOT_SETTLED;
+                    evaluate_compressor_tabled(
+                        &gas,
+                        &i,
+                        &thresholds,
+                        Some(&table),
+                        &mut b,
+                        &mut settled,
+                    );
+                    if settled != NOT_SETTLED {
+                        nominal += 1;
+                    }
+                    assert_eq!(
+                        compressor_values(&a).map(f64::to_bits),
+                        compressor_values(&b).map(f64::to_bits),
+                        "variant {v} ratio {ratio} rise {rise_factor}"
+                    );
+                    assert_eq!(a, b, "variant {v} ratio {ratio} rise {rise_factor}");
+                }
+            }
+        }
+        // The nominal finish is among them.
+        assert!(nominal > 20, "{nominal}");
     }
 
     /// Consistency check: the pair grade is the worse of the two single
