@@ -591,7 +591,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     fn evaluate_stages(&mut self, scan: &Scan<T, N>) {
         let si = &self.si;
         let property_inputs = self.config.gas.property_inputs();
-        if property_inputs != self.stage_uses.inputs {
+        if !self.stage_uses.built_for(property_inputs) {
             self.stage_uses = StageUses::new(property_inputs);
             // The kept qualities were graded with the tables replaced.
             self.stage_settled = [NOT_SETTLED; N];

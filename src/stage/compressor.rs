@@ -332,8 +332,9 @@ impl<T: Real> StageThresholds<T> {
 /// keeps it) instead of every scan.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub(crate) struct StageUses {
-    /// What the table was built for.
-    pub(crate) inputs: PropertyInputs,
+    /// What the table was built for, as [`StageUses::input_bits`] (a
+    /// train tests it every scan: one byte compare instead of four).
+    input_bits: u8,
     /// The table turned around ([`Users`]).
     users: Users,
     /// The outputs an uncertain [`check::MODEL`] and an uncertain
@@ -361,13 +362,28 @@ impl StageUses {
             })
         };
         StageUses {
-            inputs,
+            input_bits: Self::input_bits(inputs),
             users: Users::of(&uses),
             model_uncertain: [
                 uncertain_users(check::MODEL),
                 uncertain_users(check::MODEL_DISCHARGE),
             ],
         }
+    }
+
+    /// Whether this is the table for a model with `inputs`.
+    #[inline(always)]
+    pub(crate) fn built_for(&self, inputs: PropertyInputs) -> bool {
+        self.input_bits == Self::input_bits(inputs)
+    }
+
+    /// The four flags of `inputs`, one bit each.
+    #[inline(always)]
+    const fn input_bits(inputs: PropertyInputs) -> u8 {
+        inputs.temperature as u8
+            | (inputs.pressure as u8) << 1
+            | (inputs.compressibility_from_state as u8) << 2
+            | (inputs.state_functions as u8) << 3
     }
 
     const fn uses(inputs: PropertyInputs, rating_point: bool) -> CompressorUses {
