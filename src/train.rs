@@ -177,7 +177,7 @@ pub struct Train<T, G, const N: usize, const W: usize> {
     /// Per stage: from which grading key the nominal finish last wrote the
     /// compressor result's qualities (`settled` of
     /// `evaluate_compressor_tabled`; [`NOT_SETTLED`] until then).
-    stage_settled: [u16; N],
+    stage_settled: [u32; N],
 }
 
 impl<T: Real> StageResult<T> {

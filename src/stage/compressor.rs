@@ -219,17 +219,17 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
 /// What a stage's `settled` holds when its result's qualities were not
 /// written by the nominal finish ([`evaluate_compressor_tabled`]): no
 /// grading key equals it.
-pub(crate) const NOT_SETTLED: u16 = 0;
+pub(crate) const NOT_SETTLED: u32 = 0;
 
 /// Set in every kept grading key (so that none is [`NOT_SETTLED`]): the
 /// high bit of the first pair, clear in every key of usable qualities.
-const SETTLED: u16 = 1 << 1;
+const SETTLED: u32 = 1 << 1;
 
 /// The input slots' qualities in a grading key, two bits each (P1, T1, P2,
 /// T2, flow, Z from bit 0; the model's two checks follow at bits 12 and
 /// 14): every one usable (good 0 or uncertain 1) exactly if no high bit of
 /// a pair is set.
-const KEY_NOT_USABLE: u16 = 0xaaaa;
+const KEY_NOT_USABLE: u32 = 0xaaaa;
 /// The thresholds of a stage's plausibility checks, from [`Limits`]: built
 /// once (a train keeps them; its limits do not change) instead of every
 /// scan (the two resolution products are three multiplications, each a
@@ -453,7 +453,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     thresholds: &StageThresholds<T>,
     tables: Option<&StageUses>,
     out: &mut CompressorResult<T>,
-    settled: &mut u16,
+    settled: &mut u32,
 ) {
     match tables {
         Some(t) => {
@@ -507,19 +507,19 @@ fn nominal_readings<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     inp: &I,
     thresholds: &StageThresholds<T>,
     out: &mut CompressorResult<T>,
-) -> Option<u16> {
+) -> Option<u32> {
     let [p1, p2, t1, t2, flow] = inp.readings();
     let (z_supplied, q_z) = match inp.compressibility() {
         Some((z, q)) => (Some(z), q),
         None => (None, Quality::Good),
     };
     // The slots' part of the grading key; every slot usable in one test.
-    let key = u16::from(p1.quality as u8)
-        | u16::from(t1.quality as u8) << 2
-        | u16::from(p2.quality as u8) << 4
-        | u16::from(t2.quality as u8) << 6
-        | u16::from(flow.quality as u8) << 8
-        | u16::from(q_z as u8) << 10;
+    let key = u32::from(p1.quality as u8)
+        | u32::from(t1.quality as u8) << 2
+        | u32::from(p2.quality as u8) << 4
+        | u32::from(t2.quality as u8) << 6
+        | u32::from(flow.quality as u8) << 8
+        | u32::from(q_z as u8) << 10;
     if key & KEY_NOT_USABLE != 0 {
         return None;
     }
@@ -830,17 +830,17 @@ fn evaluate_compressor_general<T: Real, G: GasModel<T>, I: StageReadings<T>>(
 fn nominal_stage<T: Real>(
     cs: &CompressionStates<T>,
     flow: T,
-    key: u16,
+    key: u32,
     fit: Quality,
     [ratio, dt, ln_path, h_iso]: [T; 4],
     thresholds: &StageThresholds<T>,
     out: &mut CompressorResult<T>,
-) -> Option<u16> {
+) -> Option<u32> {
     // The grading key: usable slots and good-or-uncertain model checks in
     // one test.
     let model = fit.worst(cs.isentropic_validity.quality);
     let discharge = cs.validity.quality;
-    let key = key | u16::from(model as u8) << 12 | u16::from(discharge as u8) << 14;
+    let key = key | u32::from(model as u8) << 12 | u32::from(discharge as u8) << 14;
     let [rise_lo, rise_hi] = thresholds.nominal_rise;
     if key & KEY_NOT_USABLE != 0
         || !cs.has_discharge
@@ -912,8 +912,8 @@ fn nominal_stage<T: Real>(
 /// uncertain slot or an uncertain model check, else good. Out of line:
 /// taken when a stage's qualities change.
 #[inline(never)]
-fn settle_nominal<T: Real>(tables: &StageUses, key: u16, out: &mut CompressorResult<T>) {
-    let uncertain_slot = |s: Slots, pair: u16| u32::from(s.0) * u32::from(key >> (2 * pair) & 1);
+fn settle_nominal<T: Real>(tables: &StageUses, key: u32, out: &mut CompressorResult<T>) {
+    let uncertain_slot = |s: Slots, pair: u32| u32::from(s.0) * (key >> (2 * pair) & 1);
     let slots = uncertain_slot(slot::P1, 0)
         | uncertain_slot(slot::T1, 1)
         | uncertain_slot(slot::P2, 2)
