@@ -814,8 +814,8 @@ fn evaluate_compressor_general<T: Real, G: GasModel<T>, I: StageReadings<T>>(
 /// (T2 − T1 > 0), the model's fit and validity at the
 /// suction, isentropic and discharge states are good or uncertain, the
 /// ratio, resolution, running and efficiency checks pass and all sixteen
-/// values are finite, writes the values, the validity, the method and the
-/// condition into `out` and returns the grading key of the qualities
+/// values are finite, writes the values and the validity into `out` and
+/// returns the grading key of the qualities, the method and the condition
 /// ([`settle_nominal`] gives them). Otherwise writes nothing that the
 /// general path does not overwrite, and returns `None`.
 ///
@@ -897,20 +897,18 @@ fn nominal_stage<T: Real>(
         return None;
     }
     out.gas_validity = cs.validity;
-    out.polytropic_method = poly.method;
-    out.condition = if discharge == Quality::Good {
-        StageCondition::Normal
-    } else {
-        StageCondition::OutsideGasModel
-    };
+    // The method (Schultz, as `schultz` gives it) and the condition (from
+    // the discharge check, in the key) are written with the qualities.
     Some(key | SETTLED)
 }
 
 /// The qualities of a nominal finish with grading `key` (from
 /// [`nominal_stage`]; the slot qualities and the two model checks, two
 /// bits each): an output is uncertain exactly if it uses an
-/// uncertain slot or an uncertain model check, else good. Out of line:
-/// taken when a stage's qualities change.
+/// uncertain slot or an uncertain model check, else good; with them the
+/// method and the condition, which follow from the key too (Schultz;
+/// normal, or outside the gas model with an uncertain discharge check).
+/// Out of line: taken when a stage's qualities change.
 #[inline(never)]
 fn settle_nominal<T: Real>(tables: &StageUses, key: u32, out: &mut CompressorResult<T>) {
     let uncertain_slot = |s: Slots, pair: u32| u32::from(s.0) * (key >> (2 * pair) & 1);
@@ -928,6 +926,12 @@ fn settle_nominal<T: Real>(tables: &StageUses, key: u32, out: &mut CompressorRes
         uncertain |= tables.model_uncertain[1];
     }
     settle_usable(out, uncertain);
+    out.polytropic_method = PolytropicMethod::Schultz;
+    out.condition = if key >> 14 & 1 == 0 {
+        StageCondition::Normal
+    } else {
+        StageCondition::OutsideGasModel
+    };
 }
 
 /// The sixteen values of a result, in the order of `done`.
