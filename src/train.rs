@@ -625,10 +625,14 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                             settled,
                         );
                     }
-                    out.steady_state = detector.update(
+                    // The configuration passed `SteadyStateConfig::validate` in
+                    // `Train::validate` (every constructor) and is immutable;
+                    // a compressor stage's detector gets a temperature on
+                    // every scan (the stage kind is immutable too).
+                    out.steady_state = detector.update_compressor(
                         &self.config.steady_state,
                         out.pressure_ratio(),
-                        Some(s.t2),
+                        s.t2,
                         flow,
                     );
                 }
