@@ -219,17 +219,17 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
 /// What a stage's `settled` holds when its result's qualities were not
 /// written by the nominal finish ([`evaluate_compressor_tabled`]): no
 /// grading key equals it.
-pub(crate) const NOT_SETTLED: u32 = 0;
+pub(crate) const NOT_SETTLED: u16 = 0;
 
 /// Set in every kept grading key (so that none is [`NOT_SETTLED`]): the
 /// high bit of the first pair, clear in every key of usable qualities.
-const SETTLED: u32 = 1 << 1;
+const SETTLED: u16 = 1 << 1;
 
 /// The input slots' qualities in a grading key, two bits each (P1, T1, P2,
 /// T2, flow, Z from bit 0; the model's two checks follow at bits 12 and
 /// 14): every one usable (good 0 or uncertain 1) exactly if no high bit of
 /// a pair is set.
-const KEY_NOT_USABLE: u32 = 0xaaaa;
+const KEY_NOT_USABLE: u16 = 0xaaaa;
 /// The thresholds of a stage's plausibility checks, from [`Limits`]: built
 /// once (a train keeps them; its limits do not change) instead of every
 /// scan (the two resolution products are three multiplications, each a
@@ -238,7 +238,10 @@ const KEY_NOT_USABLE: u32 = 0xaaaa;
 pub(crate) struct StageThresholds<T> {
     /// [`Limits::max_stage_ratio`].
     max_stage_ratio: T,
-    /// [`Limits::min_temperature_rise`].
+    /// [`Limits::min_temperature_rise`], at least the smallest positive
+    /// value (the same results: every rise it is compared with is
+    /// positive). The nominal finish tests the rise against [it, +∞] on
+    /// the bit patterns: dt > 0 and not below the minimum in one test.
     min_temperature_rise: T,
     /// [`Limits::min_log_ratio`].
     min_log_ratio: T,
@@ -251,12 +254,6 @@ pub(crate) struct StageThresholds<T> {
     /// maximum not above 1, which no compression passes: see
     /// [`StageThresholds::of`]).
     nominal_ratio: [T; 2],
-    /// The temperature rises of the nominal finish, above 0, not below
-    /// `min_temperature_rise` and finite, as the bounds [lo, hi] of one
-    /// test on the bit patterns: lo the larger of `min_temperature_rise`
-    /// and the smallest positive value, hi the largest finite value (lo
-    /// when that is +∞; then no ratio passes `nominal_ratio`).
-    nominal_rise: [T; 2],
 }
 
 /// The smallest positive (subnormal) value of `T`: 2^-149 (f32) or
@@ -298,17 +295,18 @@ impl<T: Real> StageThresholds<T> {
         // `ratio > NaN` and `ratio > +inf` are both false for a finite
         // ratio; `x < NaN` and `x < -inf` both false.
         let max_stage_ratio = or_if_nan(limits.max_stage_ratio, inf);
-        let min_temperature_rise = or_if_nan(limits.min_temperature_rise(), -inf);
         // dt > 0 and !(dt < min): dt >= the larger of the two (the
-        // smallest positive value for dt > 0); and finite.
-        let rise_lo = T::max(min_temperature_rise, smallest_positive());
-        let nominal_rise = [rise_lo, T::max(rise_lo, largest_finite())];
+        // smallest positive value for dt > 0). The general path compares
+        // only positive rises with it: the same results.
+        let min_temperature_rise = T::max(
+            or_if_nan(limits.min_temperature_rise(), -inf),
+            smallest_positive(),
+        );
         // A finite ratio above 1 and not above the maximum. With a maximum
-        // not above 1, or a minimum rise above every finite value (limits
-        // not validated; a train's are), no stage is nominal: [+0, +0]
-        // then passes a ratio of +0 alone, whose ln −∞ fails the nominal
-        // finish's test 0 < ln(p·v ratio) < ln ratio.
-        let nominal_ratio = if max_stage_ratio > T::ONE && rise_lo <= largest_finite() {
+        // not above 1 (limits not validated; a train's are), no stage is
+        // nominal: [+0, +0] then passes a ratio of +0 alone, whose ln −∞
+        // fails the nominal finish's test 0 < ln(p·v ratio) < ln ratio.
+        let nominal_ratio = if max_stage_ratio > T::ONE {
             [
                 T::ONE + T::EPSILON,
                 T::min(max_stage_ratio, largest_finite()),
@@ -322,7 +320,6 @@ impl<T: Real> StageThresholds<T> {
             min_log_ratio: or_if_nan(limits.min_log_ratio(), -inf),
             stationary_flow: limits.stationary_flow,
             nominal_ratio,
-            nominal_rise,
         }
     }
 }
@@ -453,7 +450,7 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     thresholds: &StageThresholds<T>,
     tables: Option<&StageUses>,
     out: &mut CompressorResult<T>,
-    settled: &mut u32,
+    settled: &mut u16,
 ) {
     match tables {
         Some(t) => {
@@ -507,19 +504,19 @@ fn nominal_readings<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     inp: &I,
     thresholds: &StageThresholds<T>,
     out: &mut CompressorResult<T>,
-) -> Option<u32> {
+) -> Option<u16> {
     let [p1, p2, t1, t2, flow] = inp.readings();
     let (z_supplied, q_z) = match inp.compressibility() {
         Some((z, q)) => (Some(z), q),
         None => (None, Quality::Good),
     };
     // The slots' part of the grading key; every slot usable in one test.
-    let key = u32::from(p1.quality as u8)
-        | u32::from(t1.quality as u8) << 2
-        | u32::from(p2.quality as u8) << 4
-        | u32::from(t2.quality as u8) << 6
-        | u32::from(flow.quality as u8) << 8
-        | u32::from(q_z as u8) << 10;
+    let key = u16::from(p1.quality as u8)
+        | u16::from(t1.quality as u8) << 2
+        | u16::from(p2.quality as u8) << 4
+        | u16::from(t2.quality as u8) << 6
+        | u16::from(flow.quality as u8) << 8
+        | u16::from(q_z as u8) << 10;
     if key & KEY_NOT_USABLE != 0 {
         return None;
     }
@@ -830,18 +827,18 @@ fn evaluate_compressor_general<T: Real, G: GasModel<T>, I: StageReadings<T>>(
 fn nominal_stage<T: Real>(
     cs: &CompressionStates<T>,
     flow: T,
-    key: u32,
+    key: u16,
     fit: Quality,
     [ratio, dt, ln_path, h_iso]: [T; 4],
     thresholds: &StageThresholds<T>,
     out: &mut CompressorResult<T>,
-) -> Option<u32> {
+) -> Option<u16> {
     // The grading key: usable slots and good-or-uncertain model checks in
     // one test.
     let model = fit.worst(cs.isentropic_validity.quality);
     let discharge = cs.validity.quality;
-    let key = key | u32::from(model as u8) << 12 | u32::from(discharge as u8) << 14;
-    let [rise_lo, rise_hi] = thresholds.nominal_rise;
+    let key = key | u16::from(model as u8) << 12 | u16::from(discharge as u8) << 14;
+    let (rise_lo, rise_hi) = (thresholds.min_temperature_rise, T::of(f64::INFINITY));
     if key & KEY_NOT_USABLE != 0
         || !cs.has_discharge
         || !T::within_positive(dt, rise_lo, rise_hi)
@@ -876,12 +873,13 @@ fn nominal_stage<T: Real>(
     out.power_above_isothermal.value = flow * above;
     out.compressibility.value = cs.suction_z;
     out.k.value = cs.isentropic_exponent;
-    // Finite but where a check above has shown it: the ratio and the rise
-    // (finite by their gates), the two efficiencies (in (0, 1 +
-    // allowance]) and the flow (a flow not finite, above the stationary
-    // one, is +inf, and +inf times the finite work is not finite).
+    // Finite but where a check above has shown it: the ratio (finite by
+    // its gate), the two efficiencies (in (0, 1 + allowance]) and the flow
+    // (a flow not finite, above the stationary one, is +inf, and +inf
+    // times the finite work is not finite).
     let unchecked = [
         out.isentropic_discharge_temperature.value,
+        out.temperature_rise.value,
         out.isentropic_head.value,
         out.polytropic_head.value,
         out.isothermal_head.value,
@@ -910,8 +908,8 @@ fn nominal_stage<T: Real>(
 /// normal, or outside the gas model with an uncertain discharge check).
 /// Out of line: taken when a stage's qualities change.
 #[inline(never)]
-fn settle_nominal<T: Real>(tables: &StageUses, key: u32, out: &mut CompressorResult<T>) {
-    let uncertain_slot = |s: Slots, pair: u32| u32::from(s.0) * (key >> (2 * pair) & 1);
+fn settle_nominal<T: Real>(tables: &StageUses, key: u16, out: &mut CompressorResult<T>) {
+    let uncertain_slot = |s: Slots, pair: u16| u32::from(s.0) * u32::from(key >> (2 * pair) & 1);
     let slots = uncertain_slot(slot::P1, 0)
         | uncertain_slot(slot::T1, 1)
         | uncertain_slot(slot::P2, 2)
