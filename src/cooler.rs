@@ -362,6 +362,8 @@ pub(crate) fn evaluate_cooler_bounded<T: Real, const BOUNDED: bool>(
         .enumerate()
         .fold(0u32, |a, (i, &q)| a | (q as u32) << (2 * i));
     evaluate_cooler_packed::<T, BOUNDED>(inp, packed, limits, cp_inputs, cp_fit, out);
+    // A lone cooler: no next stage (the train sets the next stage's rise).
+    out.next_stage_temperature_rise = Measured::bad();
 }
 
 /// [`evaluate_cooler_bounded`] with the inputs' qualities given as its
@@ -451,38 +453,65 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
     // outside its fitted or valid range; UA also without flow (a zero duty
     // is not fouling; a negative duty in the noise band gives a negative
     // UA).
-    let outlet_above_inlet = lt(drop, -noise);
-    let within_noise = !outlet_above_inlet && lt(drop, noise);
-    let below_coolant = lt(approach, -noise);
-    let no_span = !lt(T::of(MIN_EFFECTIVENESS_SPAN_K), span);
-    let stationary = !lt(limits.stationary_flow, flow);
-    // `0 <= eff <= 1` (false for NaN); without an FPU on the bits
-    // ([`Real::within_nonnegative`], exact for every value, NaN and -0.0
-    // included: no library call).
-    let effectiveness_in_unit_range = if HARD_FLOAT {
-        eff >= T::ZERO && eff <= T::ONE
-    } else {
-        T::within_nonnegative(eff, T::ZERO, T::ONE)
+    let effectiveness_in_unit_range = || {
+        // `0 <= eff <= 1` (false for NaN); without an FPU on the bits
+        // ([`Real::within_nonnegative`], exact for every value, NaN and
+        // -0.0 included: no library call).
+        if HARD_FLOAT {
+            eff >= T::ZERO && eff <= T::ONE
+        } else {
+            T::within_nonnegative(eff, T::ZERO, T::ONE)
+        }
     };
     let cp_suspect = cp_fit != Quality::Good || packed & (3 * (I_DH >> 1)) != 0;
-    let weak_duty = within_noise || cp_suspect;
     let flag = |c: bool, bits: u16| if c { bits } else { 0 };
-    let suspect = flag(lt(dp, T::ZERO), F_DP | F_REL_DP)
-        | flag(outlet_above_inlet, F_DROP)
-        | flag(weak_duty, F_DUTY | F_BALANCE)
-        | flag(weak_duty || stationary, F_UA)
-        | flag(below_coolant, F_APPROACH)
-        | flag(!effectiveness_in_unit_range, F_EFF)
-        | flag(lt(rise, -noise), F_COOLANT_RISE);
-    // What the evaluation found, in order of precedence: the first of its
-    // bits (read only with usable gas and coolant inlet temperatures; the
-    // flow's usability is tested here).
-    let flow_usable = ok(I_FLOW);
-    let found = u32::from(outlet_above_inlet)
-        | u32::from(below_coolant) << 1
-        | u32::from(no_span) << 2
-        | u32::from(within_noise && flow_usable) << 3
-        | u32::from(stationary && flow_usable) << 4;
+    // The usual cooler first: no check fires (the same compares as below,
+    // each false, tested in turn and left at the first that is not), so
+    // only the gas model's suspicion is left to mark. The drop not below
+    // +noise implies it is not below -noise where the noise is not
+    // negative (bounded: validated limits, noise in [0, 10] K); a caller's
+    // own limits get the second test too.
+    let typical = !lt(drop, noise)
+        && (BOUNDED || !lt(drop, -noise))
+        && !lt(approach, -noise)
+        && lt(T::of(MIN_EFFECTIVENESS_SPAN_K), span)
+        && lt(limits.stationary_flow, flow)
+        && !lt(dp, T::ZERO)
+        && !lt(rise, -noise)
+        && effectiveness_in_unit_range();
+    // `suspect`: the outputs a check marks uncertain; `found`: the
+    // condition's bits; `excluded`: the outputs the checks leave out.
+    let (suspect, found, excluded) = if typical {
+        (flag(cp_suspect, F_DUTY | F_BALANCE | F_UA), 0, 0)
+    } else {
+        let outlet_above_inlet = lt(drop, -noise);
+        let within_noise = !outlet_above_inlet && lt(drop, noise);
+        let below_coolant = lt(approach, -noise);
+        let no_span = !lt(T::of(MIN_EFFECTIVENESS_SPAN_K), span);
+        let stationary = !lt(limits.stationary_flow, flow);
+        let weak_duty = within_noise || cp_suspect;
+        let suspect = flag(lt(dp, T::ZERO), F_DP | F_REL_DP)
+            | flag(outlet_above_inlet, F_DROP)
+            | flag(weak_duty, F_DUTY | F_BALANCE)
+            | flag(weak_duty || stationary, F_UA)
+            | flag(below_coolant, F_APPROACH)
+            | flag(!effectiveness_in_unit_range(), F_EFF)
+            | flag(lt(rise, -noise), F_COOLANT_RISE);
+        // What the evaluation found, in order of precedence: the first of
+        // its bits (read only with usable gas and coolant inlet
+        // temperatures; the flow's usability is tested here).
+        let flow_usable = ok(I_FLOW);
+        let found = u32::from(outlet_above_inlet)
+            | u32::from(below_coolant) << 1
+            | u32::from(no_span) << 2
+            | u32::from(within_noise && flow_usable) << 3
+            | u32::from(stationary && flow_usable) << 4;
+        // No effectiveness or duty with the outlet above the inlet, no
+        // effectiveness without a driving difference (and what uses them).
+        let excluded =
+            flag(outlet_above_inlet, F_EFF | F_DUTY | F_UA | F_BALANCE) | flag(no_span, F_EFF);
+        (suspect, found, excluded)
+    };
     // Computed outputs: the usable ones, less those the checks exclude (no
     // effectiveness or duty with the outlet above the inlet, no
     // effectiveness without a driving difference, no duty that is not
@@ -492,10 +521,8 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
     // results that may overflow, without one here (where LLVM keeps the
     // test on the bits: measured, no library compare).
     let duty_users = F_DUTY | F_UA | F_BALANCE;
-    let mut done = usable_fields
-        & !flag(outlet_above_inlet, F_EFF | F_DUTY | F_UA | F_BALANCE)
-        & !flag(no_span, F_EFF)
-        & !flag(!HARD_FLOAT && !T::is_finite(duty), duty_users);
+    let mut done =
+        usable_fields & !excluded & !flag(!HARD_FLOAT && !T::is_finite(duty), duty_users);
     let (mut lmtd, mut ua, mut balance) = (T::ZERO, T::ZERO, T::ZERO);
     if done & F_LMTD != 0 {
         let dt_hot = tin - tco;
@@ -579,33 +606,6 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
             .unwrap_or(CoolerCondition::Normal)
     };
 
-    // Every output at once: the table's bits (`F_*` = declaration order).
-    // With every input slot good the table is not looked at.
-    let o = if packed & SLOT_INPUTS == 0 {
-        OutputGrades::all_slots_good(done, suspect)
-    } else {
-        let slots = [
-            slot::T2,
-            slot::GAS_OUT_T,
-            slot::COOLANT_IN_T,
-            slot::COOLANT_OUT_T,
-            slot::P2,
-            slot::GAS_OUT_P,
-            slot::FLOW,
-            slot::COOLANT_FLOW,
-        ];
-        let mut g = Grades::new();
-        for (i, s) in slots.into_iter().enumerate() {
-            let q = match (packed >> (2 * i)) & 3 {
-                0 => Quality::Good,
-                1 => Quality::Uncertain,
-                2 => Quality::Bad,
-                _ => Quality::NotApplicable,
-            };
-            g.first_slot(s, q);
-        }
-        OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect)
-    };
     let fields = [
         (&mut out.gas_temperature_drop, F_DROP),
         (&mut out.approach, F_APPROACH),
@@ -618,21 +618,63 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
         (&mut out.ua, F_UA),
         (&mut out.heat_balance_error, F_BALANCE),
     ];
-    if o.all_usable(ALL_FIELDS) && o.none_uncertain(ALL_FIELDS) {
-        for (m, _) in fields {
-            m.quality = Quality::Good;
-        }
-    } else if o.all_usable(ALL_FIELDS) {
+    // The usual cooler: every input slot good, every output computed and
+    // at most the gas model's suspicion marked (the duty and what uses it
+    // uncertain): the grades below give exactly these qualities.
+    let weak = F_DUTY | F_UA | F_BALANCE;
+    if packed & SLOT_INPUTS == 0 && done == ALL_FIELDS && (suspect == 0 || suspect == weak) {
+        let q_weak = if suspect == 0 {
+            Quality::Good
+        } else {
+            Quality::Uncertain
+        };
         for (m, bit) in fields {
-            m.quality = o.usable_quality(bit);
+            m.quality = if bit & weak != 0 {
+                q_weak
+            } else {
+                Quality::Good
+            };
         }
     } else {
-        for (m, bit) in fields {
-            o.settle_finite(m, bit);
+        // Every output at once: the table's bits (`F_*` = declaration order).
+        // With every input slot good the table is not looked at.
+        let o = if packed & SLOT_INPUTS == 0 {
+            OutputGrades::all_slots_good(done, suspect)
+        } else {
+            let slots = [
+                slot::T2,
+                slot::GAS_OUT_T,
+                slot::COOLANT_IN_T,
+                slot::COOLANT_OUT_T,
+                slot::P2,
+                slot::GAS_OUT_P,
+                slot::FLOW,
+                slot::COOLANT_FLOW,
+            ];
+            let mut g = Grades::new();
+            for (i, s) in slots.into_iter().enumerate() {
+                let q = match (packed >> (2 * i)) & 3 {
+                    0 => Quality::Good,
+                    1 => Quality::Uncertain,
+                    2 => Quality::Bad,
+                    _ => Quality::NotApplicable,
+                };
+                g.first_slot(s, q);
+            }
+            OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect)
+        };
+        if o.all_usable(ALL_FIELDS) {
+            for (m, bit) in fields {
+                m.quality = o.usable_quality(bit);
+            }
+        } else {
+            for (m, bit) in fields {
+                o.settle_finite(m, bit);
+            }
         }
     }
-    // Set by the train (the next stage's result).
-    out.next_stage_temperature_rise = Measured::bad();
+    // The next stage's rise is not written here: the train writes it (the
+    // next stage's result), `evaluate_cooler_bounded` sets it bad.
     out.condition = condition;
 }
 

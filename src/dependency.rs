@@ -626,7 +626,12 @@ impl Grades {
 /// check), the outputs that use it (bit i = the i-th output in declaration
 /// order). Built once from the per-output table; grading a whole result is
 /// then one pass over the bits that are not good, not one over every output.
+///
+/// Word-aligned: cleared and copied with word stores (as two-byte-aligned
+/// data a clear was a call of the byte-wise `memclr`, 208 bytes of flash on
+/// Cortex-M4F).
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[repr(align(4))]
 pub struct Users(pub [u16; 32]);
 
 impl Users {
@@ -651,6 +656,22 @@ impl Users {
             i += 1;
         }
         Users(t)
+    }
+
+    /// [`Users::of`], written over `self` in place (a construction-time
+    /// table rebuilt where it lives: no 64-byte copy through `memcpy`).
+    pub(crate) fn fill(&mut self, uses: &[Use]) {
+        self.0 = [0; 32];
+        for (i, u) in uses.iter().take(16).enumerate() {
+            // Over the set bits only (a use has a handful).
+            let mut u = u.0;
+            while u != 0 {
+                if let Some(t) = self.0.get_mut(u.trailing_zeros() as usize) {
+                    *t |= 1 << i;
+                }
+                u &= u - 1;
+            }
+        }
     }
 
     /// The outputs using any bit of `mask`.
@@ -801,6 +822,41 @@ impl OutputGrades {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn users_filled_in_place_equal_users_of() {
+        // Consistency check (two implementations of the same table):
+        // `Users::fill` over a table holding anything gives `Users::of`, for
+        // every compressor table, the cooler table and seeded random uses
+        // of 0 to 20 entries (beyond 16 both ignore the rest).
+        let mut next = crate::xorshift32(0x9e37_79b9);
+        let check = |uses: &[Use], next: &mut dyn FnMut() -> u32| {
+            let mut t = Users(core::array::from_fn(|_| next() as u16));
+            t.fill(uses);
+            assert_eq!(t, Users::of(uses), "uses {:?}", uses);
+        };
+        for n in 0..8 {
+            let p = PropertyInputs {
+                temperature: n & 1 != 0,
+                pressure: n & 2 != 0,
+                compressibility_from_state: n & 4 != 0,
+                state_functions: n & 4 != 0,
+            };
+            let (props, z) = property_slots(p, true);
+            let (iso, z1) = suction_slots(p, props, z);
+            let t = compressor_uses(props, z, iso, z1, p.compressibility_from_state).in_order();
+            check(&t, &mut next);
+        }
+        check(
+            &cooler_uses(slot::T2.or(slot::GAS_OUT_T)).in_order(),
+            &mut next,
+        );
+        for case in 0..500 {
+            let uses: [Use; 20] = core::array::from_fn(|_| Use(next() & next()));
+            let n = case % 21;
+            check(&uses[..n], &mut next);
+        }
+    }
 
     /// Consistency check (the project's own rule, two implementations):
     /// grading all outputs at once from the turned-around table gives what

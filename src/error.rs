@@ -116,7 +116,17 @@ pub(crate) fn check_range<T: Real>(
     min: f64,
     max: f64,
 ) -> Result<T, ConfigError> {
-    if T::is_finite(value) && value >= T::of(min) && value <= T::of(max) {
+    let (lo, hi) = (T::of(min), T::of(max));
+    // With finite bounds (the usual case, known at compile time where the
+    // bounds are constants) the two compares alone refuse NaN and both
+    // infinities: the finiteness test is left out of the accepting path
+    // (configuration-time flash); the refusal still tells them apart.
+    let within = if T::is_finite(lo) && T::is_finite(hi) {
+        value >= lo && value <= hi
+    } else {
+        T::is_finite(value) && value >= lo && value <= hi
+    };
+    if within {
         Ok(value)
     } else {
         Err(unindexed(refusal(field, T::is_finite(value), min, max)))

@@ -224,8 +224,11 @@ pub fn isentropic_references_from_log<T: Real>(
 /// e; below, the single-stage exponential as before, bit for bit). A
 /// rounding change only: never more than 2e-6 relative above the
 /// two-exponential form's error (unit test below), inside
-/// `tolerance::SPECIFIC_WORK`.
+/// `tolerance::SPECIFIC_WORK`. `count` (`stages` as `T`) and `halving`
+/// ([`halving_applies`]`(stages)`) are constants of the train, computed
+/// once at construction.
 #[inline(always)]
+#[allow(clippy::too_many_arguments)]
 pub(crate) fn isentropic_references_halving<T: Real>(
     z: T,
     gas_constant: T,
@@ -233,12 +236,13 @@ pub(crate) fn isentropic_references_halving<T: Real>(
     ln_overall: T,
     k: T,
     stages: u8,
+    count: T,
     inverse: T,
+    halving: bool,
 ) -> (T, T) {
     let m = isentropic_exponent_term(k);
     let zrt = z * gas_constant * t1;
-    let s = T::from_u32(u32::from(stages));
-    let halving = stages.is_power_of_two() && stages <= 8;
+    let s = count;
     // ln r / stages: exactly ln r · 1/stages for a power of two.
     let stage_log = if halving {
         ln_overall * inverse
@@ -267,6 +271,13 @@ pub(crate) fn isentropic_references_halving<T: Real>(
     let single = zrt * single_factor / m;
     let staged = s * (zrt * e_minus_one / m);
     (single, staged)
+}
+
+/// Whether [`isentropic_references_halving`] may take its one-exponential
+/// form for `stages` compressor stages: a power of two up to 8.
+#[inline]
+pub(crate) fn halving_applies(stages: u8) -> bool {
+    stages.is_power_of_two() && stages <= 8
 }
 
 /// Quality of the isothermal reference's end states. Isothermal
@@ -399,8 +410,17 @@ mod tests {
             let ln = <f32 as Real>::ln(ratio);
             for stages in [1_u8, 2, 3, 4, 5, 6, 8, 16] {
                 let inverse = 1.0 / f32::from(stages);
-                let (single, staged) =
-                    isentropic_references_halving(z, r, t1, ln, k, stages, inverse);
+                let (single, staged) = isentropic_references_halving(
+                    z,
+                    r,
+                    t1,
+                    ln,
+                    k,
+                    stages,
+                    f32::from(stages),
+                    inverse,
+                    halving_applies(stages),
+                );
                 let (single_ref, staged_ref) =
                     isentropic_references_from_log(z, r, t1, ln, k, u32::from(stages));
                 assert_eq!(

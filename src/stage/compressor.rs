@@ -329,9 +329,8 @@ impl<T: Real> StageThresholds<T> {
 /// keeps it) instead of every scan.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub(crate) struct StageUses {
-    /// What the table was built for, as [`StageUses::input_bits`] (a
-    /// train tests it every scan: one byte compare instead of four).
-    input_bits: u8,
+    /// What the table was built for.
+    pub(crate) inputs: PropertyInputs,
     /// The table turned around ([`Users`]).
     users: Users,
     /// The outputs an uncertain [`check::MODEL`] and an uncertain
@@ -343,8 +342,68 @@ pub(crate) struct StageUses {
 }
 
 impl StageUses {
-    /// The table for a model with `inputs`.
+    /// The table for a model with `inputs` (by value: [`Train::with_limits`]
+    /// builds it where the train is returned).
+    ///
+    /// [`Train::with_limits`]: crate::train::Train::with_limits
     pub(crate) fn new(inputs: PropertyInputs) -> Self {
+        let mut table = Self::unbuilt(inputs);
+        table.rebuild(inputs);
+        table
+    }
+
+    /// Rebuilds the table in place if `inputs` are not those it was built
+    /// for (a gas model replaced between scans); `true` if it did (a
+    /// train's stages then forget their kept qualities, graded with the
+    /// table replaced).
+    /// Compared as one word ([`StageUses::packed`]: the four flags), not
+    /// flag by flag.
+    #[inline(never)]
+    pub(crate) fn refresh(&mut self, inputs: PropertyInputs) -> bool {
+        if Self::packed(inputs) != Self::packed(self.inputs) {
+            self.rebuild(inputs);
+            true
+        } else {
+            false
+        }
+    }
+
+    /// The four flags of `inputs` in one word, a byte each (in their
+    /// declaration order: the word the struct's four bytes load as).
+    #[inline(always)]
+    fn packed(inputs: PropertyInputs) -> u32 {
+        let PropertyInputs {
+            temperature,
+            pressure,
+            compressibility_from_state,
+            state_functions,
+        } = inputs;
+        u32::from(temperature)
+            | u32::from(pressure) << 8
+            | u32::from(compressibility_from_state) << 16
+            | u32::from(state_functions) << 24
+    }
+
+    /// A table for `inputs` that uses nothing: what [`StageUses::rebuild`]
+    /// writes over (a train is built with it and rebuilds it in place).
+    #[inline(always)]
+    pub(crate) const fn unbuilt(inputs: PropertyInputs) -> Self {
+        StageUses {
+            inputs,
+            users: Users([0; 32]),
+            model_uncertain: [0; 2],
+        }
+    }
+
+    /// Rebuilds the table in place for a model with `inputs` (what a train
+    /// does at construction and after its gas model's inputs changed: a
+    /// table returned by value was built on the stack and copied, 72 bytes,
+    /// through `memcpy`). Out of line and cold (it runs at construction and
+    /// after a model change, never in a steady scan): one copy for both
+    /// callers.
+    #[cold]
+    #[inline(never)]
+    pub(crate) fn rebuild(&mut self, inputs: PropertyInputs) {
         let uses = Self::uses(inputs, false).in_order();
         let uncertain_users = |c| {
             let mut g = Grades::new();
@@ -358,29 +417,12 @@ impl StageUses {
                 }
             })
         };
-        StageUses {
-            input_bits: Self::input_bits(inputs),
-            users: Users::of(&uses),
-            model_uncertain: [
-                uncertain_users(check::MODEL),
-                uncertain_users(check::MODEL_DISCHARGE),
-            ],
-        }
-    }
-
-    /// Whether this is the table for a model with `inputs`.
-    #[inline(always)]
-    pub(crate) fn built_for(&self, inputs: PropertyInputs) -> bool {
-        self.input_bits == Self::input_bits(inputs)
-    }
-
-    /// The four flags of `inputs`, one bit each.
-    #[inline(always)]
-    const fn input_bits(inputs: PropertyInputs) -> u8 {
-        inputs.temperature as u8
-            | (inputs.pressure as u8) << 1
-            | (inputs.compressibility_from_state as u8) << 2
-            | (inputs.state_functions as u8) << 3
+        self.inputs = inputs;
+        self.users.fill(&uses);
+        self.model_uncertain = [
+            uncertain_users(check::MODEL),
+            uncertain_users(check::MODEL_DISCHARGE),
+        ];
     }
 
     const fn uses(inputs: PropertyInputs, rating_point: bool) -> CompressorUses {

@@ -55,10 +55,22 @@ fn quality(code: u8) -> Quality {
     }
 }
 
-/// Decodes one stage scan (kept out of line: one copy for every stage).
-#[inline(never)]
+/// Decodes one stage scan.
+#[inline]
 pub fn decode_stage<T: FromF32>(raw: &RawStage) -> StageScan<T> {
     StageScan::from_inputs(|w| decode_field(raw, w.index()))
+}
+
+/// Decodes one stage scan into `out`, in place (kept out of line: one copy
+/// for every stage; a stage scan returned by value was copied four times on
+/// its way into an array). The device's decoding (`section_scan_in`).
+#[cfg(target_os = "none")]
+#[inline(never)]
+pub fn decode_stage_into<T: FromF32>(
+    out: &mut core::mem::MaybeUninit<StageScan<T>>,
+    raw: &RawStage,
+) {
+    out.write(decode_stage(raw));
 }
 
 /// Decodes field `i` of `raw` (out of line: one copy for every field, not

@@ -27,7 +27,7 @@ use polytrope::train::{Snapshot, Train, TrainConfig};
 use polytrope::units::{Kelvin, PressureAbs};
 use polytrope::ConfigError;
 
-use crate::codec::{decode_stage, RawStage};
+use crate::codec::RawStage;
 
 /// Compressor stages (and surge monitors) of the controller's train.
 pub const SECTIONS: usize = 4;
@@ -96,16 +96,53 @@ pub fn train_config<D, G>(
 /// what the slower inputs deliver.
 /// Decodes only those four stages (the fifth is never used: decoding the
 /// whole scan and copying four of its stages took more flash than this).
-#[inline(never)]
 pub fn section_scan(raw: &[RawStage; demo::STAGES]) -> polytrope::scan::Scan<f32, SECTIONS> {
+    let mut slot = MaybeUninit::uninit();
+    *section_scan_in(&mut slot, raw)
+}
+
+/// [`section_scan`] decoded into `slot`, in place (what the `controller`
+/// firmware links: a scan built in a local and returned was copied into
+/// the caller's, and each stage scan on its way into the array four times).
+#[cfg(target_os = "none")]
+#[inline(never)]
+pub fn section_scan_in<'a>(
+    slot: &'a mut MaybeUninit<polytrope::scan::Scan<f32, SECTIONS>>,
+    raw: &[RawStage; demo::STAGES],
+) -> &'a mut polytrope::scan::Scan<f32, SECTIONS> {
     const { assert!(SECTIONS <= demo::STAGES) };
-    let mut stages = core::array::from_fn(|i| decode_stage::<f32>(&raw[i]));
+    // SAFETY: `stages` points at the scan's array of `SECTIONS` stage
+    // scans, valid for writes; each element is written (in place, by
+    // `decode_stage_into`) before `assume_init_mut`, and `stages` is the
+    // scan's only field.
+    let scan = unsafe {
+        let stages = core::ptr::addr_of_mut!((*slot.as_mut_ptr()).stages)
+            .cast::<MaybeUninit<polytrope::scan::StageScan<f32>>>();
+        for (i, r) in raw.iter().take(SECTIONS).enumerate() {
+            crate::codec::decode_stage_into(&mut *stages.add(i), r);
+        }
+        slot.assume_init_mut()
+    };
+    scan.stages[SECTIONS - 1].cooler = None;
+    scan
+}
+
+/// The same decoding on the host (the criterion bench includes this file
+/// into the kernel package, which forbids `unsafe`): the stages decoded by
+/// value and written into `slot`.
+#[cfg(not(target_os = "none"))]
+pub fn section_scan_in<'a>(
+    slot: &'a mut MaybeUninit<polytrope::scan::Scan<f32, SECTIONS>>,
+    raw: &[RawStage; demo::STAGES],
+) -> &'a mut polytrope::scan::Scan<f32, SECTIONS> {
+    const { assert!(SECTIONS <= demo::STAGES) };
+    let mut stages = core::array::from_fn(|i| crate::codec::decode_stage::<f32>(&raw[i]));
     stages[SECTIONS - 1].cooler = None;
-    polytrope::scan::Scan { stages }
+    slot.write(polytrope::scan::Scan { stages })
 }
 
 /// A transmitter of [`transmitter_config`] (the host build; the device
-/// builds each in place, [`build_channel`]).
+/// builds each in place, [`build_channels`]).
 #[cfg(not(target_os = "none"))]
 fn transmitter(
     id: u8,
@@ -164,20 +201,22 @@ fn channel_unit(i: usize) -> Unit<f32> {
     }
 }
 
-/// Builds transmitter `i` (over `0..range_high`, its [`channel_ranges`]
-/// entry) in `slot`, in place. Out of line: one copy for every channel of
-/// [`Controller::build_in`]'s loop.
+/// Builds every transmitter (transmitter `i` over `0..ranges[i]`, its
+/// [`channel_ranges`] entry) in `slots`, in place, one after the other. Out
+/// of line and a loop: one copy of the construction for every channel (the
+/// loop of [`Controller::build_in`] was unrolled into twelve calls).
 #[cfg(target_os = "none")]
 #[inline(never)]
-fn build_channel(
-    slot: &mut MaybeUninit<TransmitterChannel>,
-    i: usize,
-    range_high: f32,
+fn build_channels(
+    slots: &mut [MaybeUninit<TransmitterChannel>; CHANNELS],
+    ranges: &[f32; CHANNELS],
 ) -> Result<(), ConfigError> {
-    TransmitterChannel::new_in(
-        slot,
-        transmitter_config(i as u8, channel_unit(i), range_high),
-    )?;
+    for (i, (slot, range_high)) in slots.iter_mut().zip(ranges).enumerate() {
+        TransmitterChannel::new_in(
+            slot,
+            transmitter_config(i as u8, channel_unit(i), *range_high),
+        )?;
+    }
     Ok(())
 }
 
@@ -217,19 +256,21 @@ const MONITOR: MonitorConfig<f32> = MonitorConfig {
 };
 
 /// The monitor of every stage: [`section_line`], [`MONITOR`] (the host
-/// build; the device builds each in place, [`build_monitor`]).
+/// build; the device builds each in place, [`build_monitors`]).
 #[cfg(not(target_os = "none"))]
 fn section_monitor() -> Result<SectionMonitor, ConfigError> {
     SurgeMonitor::new(section_line()?, MONITOR)
 }
 
 /// Builds the monitor of every stage ([`section_line`], [`MONITOR`]) in
-/// `slot`, in place. Out of line: one copy for every monitor of
-/// [`Controller::build_in`]'s loop.
+/// `slots`, in place, one after the other. Out of line and a loop, as
+/// [`build_channels`].
 #[cfg(target_os = "none")]
 #[inline(never)]
-fn build_monitor(slot: &mut MaybeUninit<SectionMonitor>) -> Result<(), ConfigError> {
-    SurgeMonitor::new_in(slot, section_line()?, MONITOR)?;
+fn build_monitors(slots: &mut [MaybeUninit<SectionMonitor>; SECTIONS]) -> Result<(), ConfigError> {
+    for slot in slots.iter_mut() {
+        SurgeMonitor::new_in(slot, section_line()?, MONITOR)?;
+    }
     Ok(())
 }
 
@@ -291,16 +332,14 @@ impl<G: GasModel<f32>> Controller<G> {
             // In place (no train-sized copy on the stack, no move code).
             let train = core::ptr::addr_of_mut!((*p).train).cast::<MaybeUninit<SectionTrain<G>>>();
             SectionTrain::new_in(&mut *train, config)?;
-            let channels =
-                core::ptr::addr_of_mut!((*p).channels).cast::<MaybeUninit<TransmitterChannel>>();
-            for (i, range_high) in ranges.iter().enumerate() {
-                build_channel(&mut *channels.add(i), i, *range_high)?;
-            }
-            let monitors =
-                core::ptr::addr_of_mut!((*p).monitors).cast::<MaybeUninit<SectionMonitor>>();
-            for i in 0..SECTIONS {
-                build_monitor(&mut *monitors.add(i))?;
-            }
+            // `MaybeUninit<[X; K]>` and `[MaybeUninit<X>; K]` have the same
+            // layout.
+            let channels = core::ptr::addr_of_mut!((*p).channels)
+                .cast::<[MaybeUninit<TransmitterChannel>; CHANNELS]>();
+            build_channels(&mut *channels, &ranges)?;
+            let monitors = core::ptr::addr_of_mut!((*p).monitors)
+                .cast::<[MaybeUninit<SectionMonitor>; SECTIONS]>();
+            build_monitors(&mut *monitors)?;
             Ok(slot.assume_init_mut())
         }
     }

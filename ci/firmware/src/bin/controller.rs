@@ -18,13 +18,17 @@ fn main() -> ! {
             let mut slot = core::mem::MaybeUninit::uninit();
             match Controller::build_in(&mut slot, controller::train_config(&cfg, gas)) {
                 Ok(ctl) => {
-                    let mut slow = controller::section_scan(core::hint::black_box(&MINIMAL_SCAN));
+                    let mut slow = core::mem::MaybeUninit::uninit();
+                    let slow = controller::section_scan_in(
+                        &mut slow,
+                        core::hint::black_box(&MINIMAL_SCAN),
+                    );
                     // Raw samples (mA) unknown at compile time; the transmitter
                     // simulation of `Controller::samples` stays out of this
                     // firmware's flash.
                     let raw = core::hint::black_box([8.0_f32; controller::CHANNELS]);
                     let t = core::hint::black_box(0_u32);
-                    core::hint::black_box(ctl.scan(core::hint::black_box(&raw), t, &mut slow));
+                    core::hint::black_box(ctl.scan(core::hint::black_box(&raw), t, slow));
                     true
                 }
                 _ => false,
