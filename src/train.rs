@@ -19,7 +19,7 @@ use crate::quality::{Measured, Quality};
 use crate::real::{Real, HARD_FLOAT};
 use crate::scan::Scan;
 use crate::stage::compressor::{
-    evaluate_compressor_tabled, StageReadings, StageThresholds, StageUses,
+    evaluate_compressor_tabled, StageReadings, StageThresholds, StageUses, NOT_SETTLED,
 };
 use crate::stage::{evaluate_pump_within, CompressorResult, PumpResult};
 use crate::staging::{
@@ -171,8 +171,9 @@ pub struct Train<T, G, const N: usize, const W: usize> {
     detectors: [SteadyStateDetector<T, W>; N],
     snapshot: Snapshot<T, N>,
     /// This scan's inputs after the sensor boundary: scratch that every
-    /// update writes in full before reading. Kept in the train, not on the
-    /// stack: beside the stage evaluation's frames it set the update's
+    /// update writes in full before reading (but for each stage's kept
+    /// grading key, `StageSi::stage_settled`). Kept in the train, not on
+    /// the stack: beside the stage evaluation's frames it set the update's
     /// stack peak (52 bytes per stage in f32).
     si: [StageSi<T>; N],
     /// The number of compressor stages as `T` (the Z mean's divisor and
@@ -277,6 +278,14 @@ struct StageSi<T> {
     flow_measured: bool,
     /// Supplied compressibility after the boundary, if any.
     z: Option<Measured<T>>,
+    /// Not the boundary's (it never writes it; kept from scan to scan):
+    /// from which grading key the nominal finish last wrote this stage's
+    /// compressor result's qualities (`settled` of
+    /// `evaluate_compressor_tabled`; [`NOT_SETTLED`] until then). Here,
+    /// beside the readings the stage reads anyway: one base address
+    /// fewer per stage than an array of its own, and in the padding
+    /// after `flow_measured` (no byte more of state).
+    stage_settled: u16,
 }
 
 /// The stage evaluation reads the boundary's values in place.
@@ -294,7 +303,8 @@ impl<T: Real> StageReadings<T> for StageSi<T> {
 impl<T: Real> StageSi<T> {
     /// The scratch before the first scan: every bit zero. Never read (every
     /// update writes the scratch in full before reading it), so any value
-    /// does; an all-zero constant lets the construction clear the array with
+    /// does, but for the kept grading key, which must start as
+    /// [`NOT_SETTLED`] (0); an all-zero constant lets the construction clear the array with
     /// one call instead of storing every field of every stage (start-up
     /// flash).
     const CLEARED: Self = {
@@ -310,6 +320,7 @@ impl<T: Real> StageSi<T> {
             flow: zero,
             flow_measured: false,
             z: Some(zero),
+            stage_settled: NOT_SETTLED,
         }
     };
 }
@@ -673,14 +684,19 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
     // locals share one frame and the stack peak is their sum, not their max.
     #[inline(never)]
     fn evaluate_stages(&mut self, scan: &Scan<T, N>) {
-        let si = &self.si;
-        self.stage_uses.refresh(self.config.gas.property_inputs());
+        if self.stage_uses.refresh(self.config.gas.property_inputs()) {
+            // The kept qualities were graded with the table replaced.
+            for s in &mut self.si {
+                s.stage_settled = NOT_SETTLED;
+            }
+        }
+        let si = &mut self.si;
         let parts = self
             .config
             .stages
             .iter()
             .zip(scan.stages.iter())
-            .zip(si.iter())
+            .zip(si.iter_mut())
             .zip(self.detectors.iter_mut())
             .zip(self.snapshot.stages.iter_mut());
         for ((((cfg, _raw), s), detector), out) in parts {
@@ -694,13 +710,16 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                     // `Train::new` set this slot's variant from the same
                     // (immutable) configuration, so it is a compressor.
                     if let StageWork::Compressor(c) = &mut out.work {
+                        let mut settled = s.stage_settled;
                         evaluate_compressor_tabled(
                             &self.config.gas,
-                            s,
+                            &*s,
                             &self.stage_thresholds,
                             Some(&self.stage_uses),
                             c,
+                            &mut settled,
                         );
+                        s.stage_settled = settled;
                     }
                     // The configuration passed `SteadyStateConfig::validate` in
                     // `Train::validate` (every constructor) and is immutable;

@@ -205,9 +205,31 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
     limits: &Limits<T>,
     out: &mut CompressorResult<T>,
 ) {
-    evaluate_compressor_tabled(gas, inp, &StageThresholds::of(limits), None, out);
+    let mut settled = NOT_SETTLED;
+    evaluate_compressor_tabled(
+        gas,
+        inp,
+        &StageThresholds::of(limits),
+        None,
+        out,
+        &mut settled,
+    );
 }
 
+/// What a stage's `settled` holds when its result's qualities were not
+/// written by the nominal finish ([`evaluate_compressor_tabled`]): no
+/// grading key equals it.
+pub(crate) const NOT_SETTLED: u16 = 0;
+
+/// Set in every kept grading key (so that none is [`NOT_SETTLED`]): the
+/// high bit of the first pair, clear in every key of usable qualities.
+const SETTLED: u16 = 1 << 1;
+
+/// The input slots' qualities in a grading key, two bits each (P1, T1, P2,
+/// T2, flow, Z from bit 0; the model's two checks follow at bits 12 and
+/// 14): every one usable (good 0 or uncertain 1) exactly if no high bit of
+/// a pair is set.
+const KEY_NOT_USABLE: u16 = 0xaaaa;
 /// The thresholds of a stage's plausibility checks, from [`Limits`]: built
 /// once (a train keeps them; its limits do not change) instead of every
 /// scan (the two resolution products are three multiplications, each a
@@ -216,12 +238,43 @@ pub fn evaluate_compressor_within<T: Real, G: GasModel<T>>(
 pub(crate) struct StageThresholds<T> {
     /// [`Limits::max_stage_ratio`].
     max_stage_ratio: T,
-    /// [`Limits::min_temperature_rise`].
+    /// [`Limits::min_temperature_rise`], at least the smallest positive
+    /// value (the same results: every rise it is compared with is
+    /// positive). The nominal finish tests the rise against [it, +∞] on
+    /// the bit patterns: dt > 0 and not below the minimum in one test.
     min_temperature_rise: T,
     /// [`Limits::min_log_ratio`].
     min_log_ratio: T,
     /// [`Limits::stationary_flow`].
     stationary_flow: T,
+    /// The ratios of the nominal finish, (1, max_stage_ratio] and finite,
+    /// as the bounds [lo, hi] of one test on the bit patterns
+    /// ([`Real::within_positive`]): the value next above 1 and the maximum
+    /// (the largest finite value for an infinite one; +0 twice for a
+    /// maximum not above 1, which no compression passes: see
+    /// [`StageThresholds::of`]).
+    nominal_ratio: [T; 2],
+}
+
+/// The smallest positive (subnormal) value of `T`: 2^-149 (f32) or
+/// 2^-1074 (f64), both exact in f64.
+#[inline]
+fn smallest_positive<T: Real>() -> T {
+    T::of(if T::EPSILON > T::of(1e-10) {
+        f64::from(f32::from_bits(1))
+    } else {
+        f64::from_bits(1)
+    })
+}
+
+/// The largest finite value of `T` (f32 or f64).
+#[inline]
+fn largest_finite<T: Real>() -> T {
+    T::of(if T::EPSILON > T::of(1e-10) {
+        f64::from(f32::MAX)
+    } else {
+        f64::MAX
+    })
 }
 
 impl<T: Real> StageThresholds<T> {
@@ -239,13 +292,34 @@ impl<T: Real> StageThresholds<T> {
             }
         };
         let inf = T::of(f64::INFINITY);
+        // `ratio > NaN` and `ratio > +inf` are both false for a finite
+        // ratio; `x < NaN` and `x < -inf` both false.
+        let max_stage_ratio = or_if_nan(limits.max_stage_ratio, inf);
+        // dt > 0 and !(dt < min): dt >= the larger of the two (the
+        // smallest positive value for dt > 0). The general path compares
+        // only positive rises with it: the same results.
+        let min_temperature_rise = T::max(
+            or_if_nan(limits.min_temperature_rise(), -inf),
+            smallest_positive(),
+        );
+        // A finite ratio above 1 and not above the maximum. With a maximum
+        // not above 1 (limits not validated; a train's are), no stage is
+        // nominal: [+0, +0] then passes a ratio of +0 alone, whose ln −∞
+        // fails the nominal finish's test 0 < ln(p·v ratio) < ln ratio.
+        let nominal_ratio = if max_stage_ratio > T::ONE {
+            [
+                T::ONE + T::EPSILON,
+                T::min(max_stage_ratio, largest_finite()),
+            ]
+        } else {
+            [T::ZERO; 2]
+        };
         StageThresholds {
-            // `ratio > NaN` and `ratio > +inf` are both false for a finite
-            // ratio; `x < NaN` and `x < -inf` both false.
-            max_stage_ratio: or_if_nan(limits.max_stage_ratio, inf),
-            min_temperature_rise: or_if_nan(limits.min_temperature_rise(), -inf),
+            max_stage_ratio,
+            min_temperature_rise,
             min_log_ratio: or_if_nan(limits.min_log_ratio(), -inf),
             stationary_flow: limits.stationary_flow,
+            nominal_ratio,
         }
     }
 }
@@ -279,13 +353,18 @@ impl StageUses {
     }
 
     /// Rebuilds the table in place if `inputs` are not those it was built
-    /// for (a gas model replaced between scans).
+    /// for (a gas model replaced between scans); `true` if it did (a
+    /// train's stages then forget their kept qualities, graded with the
+    /// table replaced).
     /// Compared as one word ([`StageUses::packed`]: the four flags), not
     /// flag by flag.
     #[inline(never)]
-    pub(crate) fn refresh(&mut self, inputs: PropertyInputs) {
+    pub(crate) fn refresh(&mut self, inputs: PropertyInputs) -> bool {
         if Self::packed(inputs) != Self::packed(self.inputs) {
             self.rebuild(inputs);
+            true
+        } else {
+            false
         }
     }
 
@@ -397,6 +476,15 @@ impl<T: Copy> StageReadings<T> for CompressorInputs<T> {
 /// without tables) takes the general path, out of line
 /// ([`evaluate_compressor_general`]), which starts again from the readings
 /// (the nominal attempt writes nothing that it does not overwrite).
+///
+/// `settled` belongs to `out`: the grading key of the slot and model
+/// qualities from which the nominal finish last wrote `out`'s sixteen
+/// qualities, or [`NOT_SETTLED`] if anything else wrote them (the general
+/// path sets it so). In the nominal finish the qualities follow from that
+/// key alone (with these `tables`), so with an equal key they are already
+/// in `out` and are not written again (a plant's qualities rarely change
+/// from scan to scan). A caller that writes `out` otherwise, or changes
+/// `tables`, resets `settled` to [`NOT_SETTLED`].
 #[inline(always)]
 pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     gas: &G,
@@ -404,16 +492,27 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     thresholds: &StageThresholds<T>,
     tables: Option<&StageUses>,
     out: &mut CompressorResult<T>,
+    settled: &mut u16,
 ) {
     match tables {
         Some(t) => {
-            if let Some(uncertain) = nominal_readings(gas, inp, thresholds, t, out) {
-                settle_usable(out, uncertain);
+            if let Some(key) = nominal_readings(gas, inp, thresholds, out) {
+                // The qualities follow from the key (with these tables):
+                // written only if `out` does not hold them from an equal
+                // key already.
+                if *settled != key {
+                    settle_nominal(t, key, out);
+                    *settled = key;
+                }
             } else {
+                *settled = NOT_SETTLED;
                 evaluate_compressor_with_table(gas, inp, thresholds, t, out);
             }
         }
-        None => evaluate_compressor_general(gas, inp, thresholds, None, out),
+        None => {
+            *settled = NOT_SETTLED;
+            evaluate_compressor_general(gas, inp, thresholds, None, out);
+        }
     }
 }
 
@@ -446,7 +545,6 @@ fn nominal_readings<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     gas: &G,
     inp: &I,
     thresholds: &StageThresholds<T>,
-    tables: &StageUses,
     out: &mut CompressorResult<T>,
 ) -> Option<u16> {
     let [p1, p2, t1, t2, flow] = inp.readings();
@@ -454,24 +552,21 @@ fn nominal_readings<T: Real, G: GasModel<T>, I: StageReadings<T>>(
         Some((z, q)) => (Some(z), q),
         None => (None, Quality::Good),
     };
-    // Good is 0, uncertain 1: every slot usable in one test.
-    let worst = p1.quality as u8
-        | t1.quality as u8
-        | p2.quality as u8
-        | t2.quality as u8
-        | flow.quality as u8
-        | q_z as u8;
-    if worst > Quality::Uncertain as u8 {
+    // The slots' part of the grading key; every slot usable in one test.
+    let key = u16::from(p1.quality as u8)
+        | u16::from(t1.quality as u8) << 2
+        | u16::from(p2.quality as u8) << 4
+        | u16::from(t2.quality as u8) << 6
+        | u16::from(flow.quality as u8) << 8
+        | u16::from(q_z as u8) << 10;
+    if key & KEY_NOT_USABLE != 0 {
         return None;
     }
     let ratio = p2.value / p1.value;
-    // Finite and above 1 (with an FPU two compares: a NaN fails both).
-    let compressing = if HARD_FLOAT {
-        T::ONE < ratio && ratio < T::of(f64::INFINITY)
-    } else {
-        T::is_finite(ratio) && T::less_not_nan(T::ONE, ratio)
-    };
-    if !compressing {
+    // Finite, above 1 and not above the stage maximum: one test on the
+    // bits (a NaN, a negative value and zero lie outside).
+    let [ratio_lo, ratio_hi] = thresholds.nominal_ratio;
+    if !T::within_positive(ratio, ratio_lo, ratio_hi) {
         return None;
     }
     let dt = t2.value - t1.value;
@@ -488,13 +583,11 @@ fn nominal_readings<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     let h_iso = isothermal_head_from_log(cs.suction_z, gas.gas_constant(), t1.value, ln_path);
     nominal_stage(
         &cs,
-        [p1, t1, p2, t2, flow],
-        q_z,
+        flow.value,
+        key,
         fit,
-        true,
         [ratio, dt, ln_path, h_iso],
         thresholds,
-        tables,
         out,
     )
 }
@@ -754,14 +847,16 @@ fn evaluate_compressor_general<T: Real, G: GasModel<T>, I: StageReadings<T>>(
 }
 
 /// The nominal finish of [`evaluate_compressor_tabled`]: if every input
-/// slot is usable (good or uncertain), the stage compresses with a rise
-/// (`compressing`, T2 − T1 > 0), the model's fit and validity at the
+/// slot is usable (good or uncertain; `key`, the slots' part of the grading
+/// key, says so), the stage compresses (a finite ratio above 1 and not
+/// above the maximum: the caller has tested it) with a rise
+/// (T2 − T1 > 0), the model's fit and validity at the
 /// suction, isentropic and discharge states are good or uncertain, the
 /// ratio, resolution, running and efficiency checks pass and all sixteen
-/// values are finite, writes the values, the validity, the method and the
-/// condition into `out` and returns the outputs the rule makes uncertain
-/// (the rest good). Otherwise writes nothing that the general path does not
-/// overwrite, and returns `None`.
+/// values are finite, writes the values and the validity into `out` and
+/// returns the grading key of the qualities, the method and the condition
+/// ([`settle_nominal`] gives them). Otherwise writes nothing that the
+/// general path does not overwrite, and returns `None`.
 ///
 /// Why the grades are the general path's: no slot is bad or not
 /// applicable, no check fails but the model's (uncertain: [`StageUses`]'s
@@ -773,34 +868,23 @@ fn evaluate_compressor_general<T: Real, G: GasModel<T>, I: StageReadings<T>>(
 #[inline(always)]
 fn nominal_stage<T: Real>(
     cs: &CompressionStates<T>,
-    [p1, t1, p2, t2, flow]: [Measured<T>; 5],
-    q_z: Quality,
+    flow: T,
+    key: u16,
     fit: Quality,
-    compressing: bool,
     [ratio, dt, ln_path, h_iso]: [T; 4],
     thresholds: &StageThresholds<T>,
-    tables: &StageUses,
     out: &mut CompressorResult<T>,
 ) -> Option<u16> {
-    // Good is 0, uncertain 1: usable slots and good-or-uncertain model
-    // checks in one test.
+    // The grading key: usable slots and good-or-uncertain model checks in
+    // one test.
     let model = fit.worst(cs.isentropic_validity.quality);
     let discharge = cs.validity.quality;
-    let worst = p1.quality as u8
-        | t1.quality as u8
-        | p2.quality as u8
-        | t2.quality as u8
-        | flow.quality as u8
-        | q_z as u8
-        | model as u8
-        | discharge as u8;
-    if worst > Quality::Uncertain as u8
+    let key = key | u16::from(model as u8) << 12 | u16::from(discharge as u8) << 14;
+    let (rise_lo, rise_hi) = (thresholds.min_temperature_rise, T::of(f64::INFINITY));
+    if key & KEY_NOT_USABLE != 0
         || !cs.has_discharge
-        || !compressing
-        || !T::positive_at_most(dt, T::of(f64::INFINITY))
-        || T::less_not_nan(thresholds.max_stage_ratio, ratio)
-        || !(flow.value > thresholds.stationary_flow)
-        || T::less_not_nan(dt, thresholds.min_temperature_rise)
+        || !T::within_positive(dt, rise_lo, rise_hi)
+        || !(flow > thresholds.stationary_flow)
         || T::less_not_nan(ln_path, thresholds.min_log_ratio)
     {
         return None;
@@ -825,14 +909,16 @@ fn nominal_stage<T: Real>(
     out.isentropic_efficiency.value = eta_s;
     out.polytropic_efficiency.value = poly.efficiency;
     out.polytropic_exponent.value = poly.exponent;
-    out.mass_flow.value = flow.value;
-    out.gas_power.value = flow.value * actual;
+    out.mass_flow.value = flow;
+    out.gas_power.value = flow * actual;
     out.work_above_isothermal.value = above;
-    out.power_above_isothermal.value = flow.value * above;
+    out.power_above_isothermal.value = flow * above;
     out.compressibility.value = cs.suction_z;
     out.k.value = cs.isentropic_exponent;
     // Finite but where a check above has shown it: the ratio (finite by
-    // the gate) and the two efficiencies (in (0, 1 + allowance]).
+    // its gate), the two efficiencies (in (0, 1 + allowance]) and the flow
+    // (a flow not finite, above the stationary one, is +inf, and +inf
+    // times the finite work is not finite).
     let unchecked = [
         out.isentropic_discharge_temperature.value,
         out.temperature_rise.value,
@@ -841,7 +927,6 @@ fn nominal_stage<T: Real>(
         out.isothermal_head.value,
         out.actual_work.value,
         out.polytropic_exponent.value,
-        out.mass_flow.value,
         out.gas_power.value,
         out.work_above_isothermal.value,
         out.power_above_isothermal.value,
@@ -852,27 +937,41 @@ fn nominal_stage<T: Real>(
         return None;
     }
     out.gas_validity = cs.validity;
-    out.polytropic_method = poly.method;
-    out.condition = if discharge == Quality::Good {
+    // The method (Schultz, as `schultz` gives it) and the condition (from
+    // the discharge check, in the key) are written with the qualities.
+    Some(key | SETTLED)
+}
+
+/// The qualities of a nominal finish with grading `key` (from
+/// [`nominal_stage`]; the slot qualities and the two model checks, two
+/// bits each): an output is uncertain exactly if it uses an
+/// uncertain slot or an uncertain model check, else good; with them the
+/// method and the condition, which follow from the key too (Schultz;
+/// normal, or outside the gas model with an uncertain discharge check).
+/// Out of line: taken when a stage's qualities change.
+#[inline(never)]
+fn settle_nominal<T: Real>(tables: &StageUses, key: u16, out: &mut CompressorResult<T>) {
+    let uncertain_slot = |s: Slots, pair: u16| u32::from(s.0) * u32::from(key >> (2 * pair) & 1);
+    let slots = uncertain_slot(slot::P1, 0)
+        | uncertain_slot(slot::T1, 1)
+        | uncertain_slot(slot::P2, 2)
+        | uncertain_slot(slot::T2, 3)
+        | uncertain_slot(slot::FLOW, 4)
+        | uncertain_slot(slot::Z, 5);
+    let mut uncertain = tables.users.spread(slots);
+    if key >> 12 & 1 != 0 {
+        uncertain |= tables.model_uncertain[0];
+    }
+    if key >> 14 & 1 != 0 {
+        uncertain |= tables.model_uncertain[1];
+    }
+    settle_usable(out, uncertain);
+    out.polytropic_method = PolytropicMethod::Schultz;
+    out.condition = if key >> 14 & 1 == 0 {
         StageCondition::Normal
     } else {
         StageCondition::OutsideGasModel
     };
-    let uncertain_slot = |s: Slots, q: Quality| u32::from(s.0) * u32::from(q as u8);
-    let slots = uncertain_slot(slot::P1, p1.quality)
-        | uncertain_slot(slot::T1, t1.quality)
-        | uncertain_slot(slot::P2, p2.quality)
-        | uncertain_slot(slot::T2, t2.quality)
-        | uncertain_slot(slot::FLOW, flow.quality)
-        | uncertain_slot(slot::Z, q_z);
-    let mut uncertain = tables.users.spread(slots);
-    if model != Quality::Good {
-        uncertain |= tables.model_uncertain[0];
-    }
-    if discharge != Quality::Good {
-        uncertain |= tables.model_uncertain[1];
-    }
-    Some(uncertain)
 }
 
 /// The sixteen values of a result, in the order of `done`.
@@ -952,12 +1051,15 @@ fn settle_usable<T: Real>(o: &mut CompressorResult<T>, uncertain: u16) {
 }
 
 /// The worse of the two efficiencies' grades ([`efficiency_grade`]), the
-/// common case (both in (0, 1 + allowance]: good) in four comparisons (two
-/// integer ones without an FPU).
+/// common case (both in (0, 1 + allowance]: good) in two integer
+/// comparisons on the bit patterns ([`Real::within_positive`] from the
+/// smallest positive value: the same as 0 < x <= max, with or without an
+/// FPU; with one, four float compares were six instructions more).
 #[inline]
 fn efficiency_pair_grade<T: Real>(a: T, b: T) -> Quality {
     let good_max = T::ONE + efficiency_allowance::<T>();
-    if T::positive_at_most(a, good_max) && T::positive_at_most(b, good_max) {
+    let good = |x: T| T::within_positive(x, smallest_positive(), good_max);
+    if good(a) && good(b) {
         Quality::Good
     } else {
         efficiency_grade(a).worst(efficiency_grade(b))
@@ -1229,6 +1331,7 @@ mod tests {
                             &StageThresholds::of(&limits),
                             Some(&table),
                             &mut b,
+                            &mut 0,
                         );
                         assert_eq!(a, b, "case {case} slot {slot} {q:?}");
                     }
@@ -1255,7 +1358,10 @@ mod tests {
     /// stages around every check's boundary: input qualities, ratios near
     /// 1 and the stage maximum, rises near 0 and the resolution limit,
     /// flows near the stationary threshold, efficiencies above 1, supplied
-    /// Z, models inside and outside their validity, f32 and f64.
+    /// Z, models inside and outside their validity, f32 and f64. The
+    /// tabled result is evaluated into one result for all cases, as a
+    /// train's stage is: its qualities are kept from the case before when
+    /// its grading key is the same (counted: it happens).
     #[test]
     fn nominal_finish_equals_the_general_path() {
         use crate::gas::{components, PengRobinson};
@@ -1268,6 +1374,9 @@ mod tests {
             };
             let thresholds = StageThresholds::of(&limits);
             let mut nominal = 0;
+            let mut b = CompressorResult::bad();
+            let mut settled = NOT_SETTLED;
+            let mut kept = 0;
             for case in 0..20_000 {
                 let mut draw = [0.0; 10];
                 for d in &mut draw {
@@ -1310,16 +1419,31 @@ mod tests {
                         None
                     },
                 };
-                let (mut a, mut b) = (CompressorResult::bad(), CompressorResult::bad());
-                evaluate_compressor_tabled(gas, &i, &thresholds, None, &mut a);
-                evaluate_compressor_tabled(gas, &i, &thresholds, Some(&table), &mut b);
-                // Bit for bit (`==` would let -0.0 equal 0.0).
-                assert_eq!(
-                    compressor_values(&a).map(|x| T::to_f64(x).to_bits()),
-                    compressor_values(&b).map(|x| T::to_f64(x).to_bits()),
-                    "case {case}: {i:?}"
-                );
-                assert_eq!(a, b, "case {case}: {i:?}");
+                let mut a = CompressorResult::bad();
+                evaluate_compressor_tabled(gas, &i, &thresholds, None, &mut a, &mut 0);
+                // Twice: after the case before, then after itself (the
+                // qualities kept whenever the nominal finish applies).
+                for _ in 0..2 {
+                    let before = settled;
+                    evaluate_compressor_tabled(
+                        gas,
+                        &i,
+                        &thresholds,
+                        Some(&table),
+                        &mut b,
+                        &mut settled,
+                    );
+                    if before != NOT_SETTLED && settled == before {
+                        kept += 1;
+                    }
+                    // Bit for bit (`==` would let -0.0 equal 0.0).
+                    assert_eq!(
+                        compressor_values(&a).map(|x| T::to_f64(x).to_bits()),
+                        compressor_values(&b).map(|x| T::to_f64(x).to_bits()),
+                        "case {case}: {i:?}"
+                    );
+                    assert_eq!(a, b, "case {case}: {i:?}");
+                }
                 let usable = [
                     a.pressure_ratio,
                     a.isentropic_discharge_temperature,
@@ -1349,6 +1473,7 @@ mod tests {
                     nominal += 1;
                 }
             }
+            assert!(kept > 2_000, "{kept}");
             nominal
         }
         let air = IdealGas::<f64>::from_spec(&AIR, false, 1.0).unwrap();
@@ -1373,6 +1498,61 @@ mod tests {
         for n in counts {
             assert!(n > 2_000, "{counts:?}");
         }
+    }
+
+    /// Consistency check (the project's own rule, two implementations): the
+    /// nominal finish's ranges of ratio and rise, built from limits that a
+    /// train would refuse (maximum ratio not above 1, NaN, infinite or
+    /// huge thresholds), give the general path's result bit for bit, at
+    /// ratios and rises around 1, the maximum and the resolution limit.
+    #[test]
+    fn nominal_ranges_follow_unvalidated_limits() {
+        let gas = IdealGas::<f64>::from_spec(&AIR, false, 1.0).unwrap();
+        let table = StageUses::new(gas.property_inputs());
+        let variants: [fn(&mut Limits<f64>); 8] = [
+            |_| {},
+            |l| l.max_stage_ratio = 1.0,
+            |l| l.max_stage_ratio = 0.5,
+            |l| l.max_stage_ratio = f64::NAN,
+            |l| l.max_stage_ratio = f64::INFINITY,
+            |l| l.resolution_factor = f64::NAN,
+            |l| l.resolution_factor = f64::MAX,
+            |l| l.temperature_accuracy = f64::INFINITY,
+        ];
+        let mut nominal = 0;
+        for (v, set) in variants.iter().enumerate() {
+            let mut limits = Limits::default();
+            set(&mut limits);
+            let thresholds = StageThresholds::of(&limits);
+            for ratio in [1.0_f64 + 1e-15, 1.001, 1.5, 3.0, 49.99, 50.0, 50.01, 1e300] {
+                for rise_factor in [1e-12, 0.01, 1.0, 1.2, 1e300] {
+                    let t2 = 300.0 + 300.0 * (ratio.powf(0.2857) - 1.0) * rise_factor;
+                    let i = inputs(100e3, 300.0, 100e3 * ratio, t2);
+                    let (mut a, mut b) = (CompressorResult::bad(), CompressorResult::bad());
+                    evaluate_compressor_tabled(&gas, &i, &thresholds, None, &mut a, &mut 0);
+                    let mut settled = NOT_SETTLED;
+                    evaluate_compressor_tabled(
+                        &gas,
+                        &i,
+                        &thresholds,
+                        Some(&table),
+                        &mut b,
+                        &mut settled,
+                    );
+                    if settled != NOT_SETTLED {
+                        nominal += 1;
+                    }
+                    assert_eq!(
+                        compressor_values(&a).map(f64::to_bits),
+                        compressor_values(&b).map(f64::to_bits),
+                        "variant {v} ratio {ratio} rise {rise_factor}"
+                    );
+                    assert_eq!(a, b, "variant {v} ratio {ratio} rise {rise_factor}");
+                }
+            }
+        }
+        // The nominal finish is among them.
+        assert!(nominal > 20, "{nominal}");
     }
 
     /// Consistency check: the pair grade is the worse of the two single
