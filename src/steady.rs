@@ -369,15 +369,44 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
     /// scans that depend on `stage`, so that the detectors of a train do
     /// not all do that work in the same scan.
     pub const fn staggered(stage: usize) -> Self {
+        let [ratio, temperature, flow] = Self::phases(stage);
+        SteadyStateDetector {
+            ratio: RangeWindow::new(ratio),
+            temperature: RangeWindow::new(temperature),
+            flow: RangeWindow::new(flow),
+        }
+    }
+
+    /// An empty detector whose windows all start at slot 0 (all bits zero
+    /// for a float `T`): a placeholder built in place (a memory fill, not
+    /// a copy of a constant) before [`SteadyStateDetector::init_staggered`].
+    pub(crate) const fn unstaggered() -> Self {
+        SteadyStateDetector {
+            ratio: RangeWindow::new(0),
+            temperature: RangeWindow::new(0),
+            flow: RangeWindow::new(0),
+        }
+    }
+
+    /// Makes this detector equal to [`SteadyStateDetector::staggered`]`(stage)`
+    /// in place (for a train built in place: the windows are reset where
+    /// they are, no detector is built elsewhere and copied in).
+    pub fn init_staggered(&mut self, stage: usize) {
+        let [ratio, temperature, flow] = Self::phases(stage);
+        self.ratio.phase = ratio;
+        self.temperature.phase = temperature;
+        self.flow.phase = flow;
+        self.restart();
+    }
+
+    /// The first slots of the ratio, temperature and flow windows of the
+    /// `stage`-th stage's detector (see [`SteadyStateDetector::staggered`]).
+    const fn phases(stage: usize) -> [u8; 3] {
         const { assert!(W >= 2, "a steady-state window needs at least 2 scans") };
         // Offsets modulo W (at most 256, asserted by the windows), so they
         // fit in u8.
         let at = stage % W;
-        SteadyStateDetector {
-            ratio: RangeWindow::new(at as u8),
-            temperature: RangeWindow::new(((at + W / 2) % W) as u8),
-            flow: RangeWindow::new(((at + W / 4) % W) as u8),
-        }
+        [at as u8, ((at + W / 2) % W) as u8, ((at + W / 4) % W) as u8]
     }
 
     /// Forgets the window.
@@ -715,6 +744,48 @@ mod tests {
                 Ok(())
             })
             .unwrap();
+    }
+
+    #[test]
+    fn init_staggered_equals_staggered() {
+        // Consistency check: the in-place build is the by-value one, field
+        // for field (the whole state, compared through `Debug`), whether the
+        // detector was a placeholder or already held values; and they then
+        // give the same results.
+        const W: usize = 8;
+        let cfg = SteadyStateConfig::<f32>::default();
+        for stage in 0..=2 * W + 1 {
+            let want = SteadyStateDetector::<f32, W>::staggered(stage);
+            let mut fresh = SteadyStateDetector::<f32, W>::unstaggered();
+            fresh.init_staggered(stage);
+            let mut used = SteadyStateDetector::<f32, W>::staggered(stage + 3);
+            for i in 0..13_u16 {
+                let x = 2.0 + f32::from(i % 5) * 0.01;
+                let _ = used.update(
+                    &cfg,
+                    Measured::good(x),
+                    Some(Measured::good(300.0 + x)),
+                    Some(Measured::good(10.0 * x)),
+                );
+            }
+            assert_ne!(format!("{used:?}"), format!("{want:?}"));
+            used.init_staggered(stage);
+            let mut want = want;
+            for d in [&mut fresh, &mut used] {
+                assert_eq!(format!("{d:?}"), format!("{want:?}"), "stage {stage}");
+            }
+            for i in 0..3 * W as u16 {
+                let x = 3.0 + f32::from(i % 7) * 0.002;
+                let args = (
+                    Measured::good(x),
+                    Some(Measured::good(400.0 - x)),
+                    Some(Measured::good(5.0 + x)),
+                );
+                let w = want.update(&cfg, args.0, args.1, args.2);
+                assert_eq!(fresh.update(&cfg, args.0, args.1, args.2), w);
+                assert_eq!(used.update(&cfg, args.0, args.1, args.2), w);
+            }
+        }
     }
 
     /// The detector at every lap phase against a naive detector (full

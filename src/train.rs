@@ -449,7 +449,7 @@ fn check_stage<T: Real>(
 /// function's result was copied, a whole train, in `Train::with_limits`).
 macro_rules! built_train {
     ($config:expr, $limits:expr, $compressor_stages:expr, $stages:expr, $coolers:expr,
-     $stage_uses:expr) => {{
+     $stage_uses:expr, $detectors:expr) => {{
         let config = $config;
         let limits = $limits;
         let compressor_stages: u8 = $compressor_stages;
@@ -468,7 +468,7 @@ macro_rules! built_train {
             equal_ratio_exponent,
             stage_thresholds,
             stage_uses,
-            detectors: core::array::from_fn(SteadyStateDetector::staggered),
+            detectors: $detectors,
             snapshot: Snapshot {
                 stages: $stages,
                 coolers: $coolers,
@@ -519,7 +519,8 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             compressor_stages,
             stages,
             coolers,
-            StageUses::new
+            StageUses::new,
+            core::array::from_fn(SteadyStateDetector::staggered)
         ))
     }
 
@@ -555,10 +556,16 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             [None; N],
             // Rebuilt in place below (`rebuild_stage_uses`): no table built
             // on the stack and copied.
-            StageUses::unbuilt
+            StageUses::unbuilt,
+            // Staggered in place below (built by `staggered` inside the
+            // train, each detector was a window-sized copy through `memcpy`).
+            [const { SteadyStateDetector::unstaggered() }; N]
         ));
         for (d, s) in train.config.stages.iter_mut().zip(config.stages.iter()) {
             *d = *s;
+        }
+        for (stage, d) in train.detectors.iter_mut().enumerate() {
+            d.init_staggered(stage);
         }
         train.reset_snapshot();
         train.rebuild_stage_uses();

@@ -550,8 +550,9 @@ fn every_configuration_error_names_its_field() {
 
 /// `Train::new_in` (built in place) is `Train::new`: the same refusal for a
 /// bad configuration, and for a good one the same configuration, limits and
-/// snapshot before the first scan and after a scan (consistency check of
-/// the two constructors; f32 and f64).
+/// snapshot before the first scan and after a scan, and the same whole state
+/// (compared through `Debug`: the steady-state detectors' staggered windows
+/// too) (consistency check of the two constructors; f32 and f64).
 #[test]
 fn new_in_builds_what_new_builds() {
     fn same<T: Real + core::fmt::Debug>(cfg: TrainConfig<T, IdealGas<T>, 2>, scan: &Scan<T, 2>) {
@@ -561,6 +562,7 @@ fn new_in_builds_what_new_builds() {
                 assert_eq!(a.config(), b.config());
                 assert_eq!(a.limits(), b.limits());
                 assert_eq!(a.snapshot(), b.snapshot());
+                assert_eq!(format!("{a:?}"), format!("{b:?}"));
                 assert_eq!(a.update(scan), b.update(scan));
             }
             (Err(a), Err(b)) => assert_eq!(a, b),

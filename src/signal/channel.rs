@@ -312,17 +312,21 @@ impl<T: Real> Scaling<T> {
     /// current source whose band-edge values are finite becomes
     /// [`Source::CurrentInBandFinite`] (the same values and faults).
     pub(crate) fn for_channel(cfg: &ChannelConfig<T>) -> Self {
-        let mut scaling = Self::new(cfg);
+        let scaling = Self::new(cfg);
         // At the band edges the fault is none exactly when the value is
         // finite.
-        if scaling.source == Source::Current
+        let in_band_finite = scaling.source == Source::Current
             && [ne43::VALID_LOW_MA, ne43::VALID_HIGH_MA]
                 .iter()
-                .all(|&ma| scaling.scale(T::of(ma)).1 == FaultCode::None)
-        {
-            scaling.source = Source::CurrentInBandFinite;
+                .all(|&ma| scaling.scale(T::of(ma)).1 == FaultCode::None);
+        Scaling {
+            source: if in_band_finite {
+                Source::CurrentInBandFinite
+            } else {
+                scaling.source
+            },
+            ..scaling
         }
-        scaling
     }
 
     /// The additions after fraction × span (see [`Adds`]).
