@@ -479,10 +479,15 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
         && !lt(dp, T::ZERO)
         && !lt(rise, -noise)
         && effectiveness_in_unit_range();
+    // Whether the inputs allow the usual cooler's early exit below: every
+    // slot good and no check fired (one word, held across the LMTD).
+    let usual_inputs = (packed & SLOT_INPUTS) | u32::from(!typical) << 31;
     // `suspect`: the outputs a check marks uncertain; `found`: the
     // condition's bits; `excluded`: the outputs the checks leave out.
+    // (The usual cooler's suspect bits, the gas model's only, are set where
+    // they are used, after its early exit below.)
     let (suspect, found, excluded) = if typical {
-        (flag(cp_suspect, F_DUTY | F_BALANCE | F_UA), 0, 0)
+        (0, 0, 0)
     } else {
         let outlet_above_inlet = lt(drop, -noise);
         let within_noise = !outlet_above_inlet && lt(drop, noise);
@@ -587,6 +592,48 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
         }
     }
 
+    // The usual cooler (no check fired, every input slot good, every output
+    // computed): no condition found, the inputs usable, so `Normal`, and at
+    // most the gas model's suspicion marked (the duty and what uses it
+    // uncertain): what the grades below give, without their tests.
+    let weak = F_DUTY | F_UA | F_BALANCE;
+    // (One test of one word: the slots' bits, the outputs not computed,
+    // and a bit above both where a check fired.)
+    let not_usual = usual_inputs | u32::from(done ^ ALL_FIELDS) << 16;
+    if not_usual == 0 {
+        let q_weak = if cp_suspect {
+            Quality::Uncertain
+        } else {
+            Quality::Good
+        };
+        let usual = [
+            (&mut out.gas_temperature_drop, F_DROP),
+            (&mut out.approach, F_APPROACH),
+            (&mut out.effectiveness, F_EFF),
+            (&mut out.heat_duty, F_DUTY),
+            (&mut out.pressure_drop, F_DP),
+            (&mut out.relative_pressure_drop, F_REL_DP),
+            (&mut out.coolant_temperature_rise, F_COOLANT_RISE),
+            (&mut out.lmtd, F_LMTD),
+            (&mut out.ua, F_UA),
+            (&mut out.heat_balance_error, F_BALANCE),
+        ];
+        for (m, bit) in usual {
+            m.quality = if bit & weak != 0 {
+                q_weak
+            } else {
+                Quality::Good
+            };
+        }
+        out.condition = CoolerCondition::Normal;
+        return;
+    }
+    let suspect = if typical {
+        flag(cp_suspect, weak)
+    } else {
+        suspect
+    };
+
     let condition = if !ok(I_TIN | I_TOUT | I_TC) {
         CoolerCondition::InputBad
     } else if found == 0 {
@@ -618,59 +665,40 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
         (&mut out.ua, F_UA),
         (&mut out.heat_balance_error, F_BALANCE),
     ];
-    // The usual cooler: every input slot good, every output computed and
-    // at most the gas model's suspicion marked (the duty and what uses it
-    // uncertain): the grades below give exactly these qualities.
-    let weak = F_DUTY | F_UA | F_BALANCE;
-    if packed & SLOT_INPUTS == 0 && done == ALL_FIELDS && (suspect == 0 || suspect == weak) {
-        let q_weak = if suspect == 0 {
-            Quality::Good
-        } else {
-            Quality::Uncertain
-        };
-        for (m, bit) in fields {
-            m.quality = if bit & weak != 0 {
-                q_weak
-            } else {
-                Quality::Good
+    // Every output at once: the table's bits (`F_*` = declaration order).
+    // With every input slot good the table is not looked at.
+    let o = if packed & SLOT_INPUTS == 0 {
+        OutputGrades::all_slots_good(done, suspect)
+    } else {
+        let slots = [
+            slot::T2,
+            slot::GAS_OUT_T,
+            slot::COOLANT_IN_T,
+            slot::COOLANT_OUT_T,
+            slot::P2,
+            slot::GAS_OUT_P,
+            slot::FLOW,
+            slot::COOLANT_FLOW,
+        ];
+        let mut g = Grades::new();
+        for (i, s) in slots.into_iter().enumerate() {
+            let q = match (packed >> (2 * i)) & 3 {
+                0 => Quality::Good,
+                1 => Quality::Uncertain,
+                2 => Quality::Bad,
+                _ => Quality::NotApplicable,
             };
+            g.first_slot(s, q);
+        }
+        OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect)
+    };
+    if o.all_usable(ALL_FIELDS) {
+        for (m, bit) in fields {
+            m.quality = o.usable_quality(bit);
         }
     } else {
-        // Every output at once: the table's bits (`F_*` = declaration order).
-        // With every input slot good the table is not looked at.
-        let o = if packed & SLOT_INPUTS == 0 {
-            OutputGrades::all_slots_good(done, suspect)
-        } else {
-            let slots = [
-                slot::T2,
-                slot::GAS_OUT_T,
-                slot::COOLANT_IN_T,
-                slot::COOLANT_OUT_T,
-                slot::P2,
-                slot::GAS_OUT_P,
-                slot::FLOW,
-                slot::COOLANT_FLOW,
-            ];
-            let mut g = Grades::new();
-            for (i, s) in slots.into_iter().enumerate() {
-                let q = match (packed >> (2 * i)) & 3 {
-                    0 => Quality::Good,
-                    1 => Quality::Uncertain,
-                    2 => Quality::Bad,
-                    _ => Quality::NotApplicable,
-                };
-                g.first_slot(s, q);
-            }
-            OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect)
-        };
-        if o.all_usable(ALL_FIELDS) {
-            for (m, bit) in fields {
-                m.quality = o.usable_quality(bit);
-            }
-        } else {
-            for (m, bit) in fields {
-                o.settle_finite(m, bit);
-            }
+        for (m, bit) in fields {
+            o.settle_finite(m, bit);
         }
     }
     // The next stage's rise is not written here: the train writes it (the
@@ -872,8 +900,6 @@ mod tests {
                 .unwrap_or(CoolerCondition::Normal)
         };
 
-        // Every output at once: the table's bits (`F_*` = declaration order).
-        // With every input slot good the table is not looked at.
         let o = if packed & SLOT_INPUTS == 0 {
             OutputGrades::all_slots_good(done, suspect)
         } else {

@@ -768,8 +768,10 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             .zip(self.snapshot.coolers.iter_mut())
             .enumerate();
         for (i, ((cfg, raw_stage), out)) in parts {
+            // Without a cooler the result is `None`, as set at construction
+            // (`CoolerResult::before_first_scan`) and never changed: not
+            // rewritten per scan.
             let (Some(cooler_cfg), Some(s)) = (cfg.cooler, si.get(i)) else {
-                *out = None;
                 continue;
             };
             let next = si.get(i + 1);
