@@ -17,7 +17,7 @@
 use crate::compression::isothermal_head_from_log;
 use crate::dependency::{
     check, compressor_uses, property_slots, slot, suction_slots, CompressorUses, Grades,
-    OutputGrades, Slots, Users,
+    OutputGrades, Users,
 };
 use crate::gas::{CompressionStates, GasModel, PropertyInputs, Validity};
 use crate::plausibility::{efficiency_allowance, efficiency_grade, Limits};
@@ -951,13 +951,21 @@ fn nominal_stage<T: Real>(
 /// Out of line: taken when a stage's qualities change.
 #[inline(never)]
 fn settle_nominal<T: Real>(tables: &StageUses, key: u16, out: &mut CompressorResult<T>) {
-    let uncertain_slot = |s: Slots, pair: u16| u32::from(s.0) * u32::from(key >> (2 * pair) & 1);
-    let slots = uncertain_slot(slot::P1, 0)
-        | uncertain_slot(slot::T1, 1)
-        | uncertain_slot(slot::P2, 2)
-        | uncertain_slot(slot::T2, 3)
-        | uncertain_slot(slot::FLOW, 4)
-        | uncertain_slot(slot::Z, 5);
+    // The uncertain slots: pair i's low bit (key bit 2i) gathered to bit
+    // i, which is slot i (P1, T1, P2, T2, flow, Z: asserted below), by
+    // three shift-or-mask steps instead of one test per slot.
+    const _: () = assert!(
+        slot::P1.0 == 1 << 0
+            && slot::T1.0 == 1 << 1
+            && slot::P2.0 == 1 << 2
+            && slot::T2.0 == 1 << 3
+            && slot::FLOW.0 == 1 << 4
+            && slot::Z.0 == 1 << 5
+    );
+    let mut slots = u32::from(key) & 0x555;
+    slots = (slots | slots >> 1) & 0x333;
+    slots = (slots | slots >> 2) & 0x0f0f;
+    slots = (slots | slots >> 4) & 0x3f;
     let mut uncertain = tables.users.spread(slots);
     if key >> 12 & 1 != 0 {
         uncertain |= tables.model_uncertain[0];
