@@ -159,6 +159,25 @@ const F_LMTD: u16 = 1 << 7;
 const F_UA: u16 = 1 << 8;
 const F_BALANCE: u16 = 1 << 9;
 
+/// Every output of a cooler result with its `F_*` bit, in declaration
+/// order (the one list both grading paths of [`evaluate_cooler_packed`]
+/// walk).
+#[inline(always)]
+fn fields_with_bits<T: Real>(out: &mut CoolerResult<T>) -> [(&mut Measured<T>, u16); 10] {
+    [
+        (&mut out.gas_temperature_drop, F_DROP),
+        (&mut out.approach, F_APPROACH),
+        (&mut out.effectiveness, F_EFF),
+        (&mut out.heat_duty, F_DUTY),
+        (&mut out.pressure_drop, F_DP),
+        (&mut out.relative_pressure_drop, F_REL_DP),
+        (&mut out.coolant_temperature_rise, F_COOLANT_RISE),
+        (&mut out.lmtd, F_LMTD),
+        (&mut out.ua, F_UA),
+        (&mut out.heat_balance_error, F_BALANCE),
+    ]
+}
+
 /// Counterflow LMTD from the two terminal differences; returns `None` unless
 /// both are positive. Well conditioned everywhere: near equal differences
 /// (|u| = |a - b|/(a + b) below 0.2 in f32, 0.01 in f64) it uses the atanh
@@ -606,19 +625,7 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
         } else {
             Quality::Good
         };
-        let usual = [
-            (&mut out.gas_temperature_drop, F_DROP),
-            (&mut out.approach, F_APPROACH),
-            (&mut out.effectiveness, F_EFF),
-            (&mut out.heat_duty, F_DUTY),
-            (&mut out.pressure_drop, F_DP),
-            (&mut out.relative_pressure_drop, F_REL_DP),
-            (&mut out.coolant_temperature_rise, F_COOLANT_RISE),
-            (&mut out.lmtd, F_LMTD),
-            (&mut out.ua, F_UA),
-            (&mut out.heat_balance_error, F_BALANCE),
-        ];
-        for (m, bit) in usual {
+        for (m, bit) in fields_with_bits(out) {
             m.quality = if bit & weak != 0 {
                 q_weak
             } else {
@@ -653,18 +660,7 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
             .unwrap_or(CoolerCondition::Normal)
     };
 
-    let fields = [
-        (&mut out.gas_temperature_drop, F_DROP),
-        (&mut out.approach, F_APPROACH),
-        (&mut out.effectiveness, F_EFF),
-        (&mut out.heat_duty, F_DUTY),
-        (&mut out.pressure_drop, F_DP),
-        (&mut out.relative_pressure_drop, F_REL_DP),
-        (&mut out.coolant_temperature_rise, F_COOLANT_RISE),
-        (&mut out.lmtd, F_LMTD),
-        (&mut out.ua, F_UA),
-        (&mut out.heat_balance_error, F_BALANCE),
-    ];
+    let fields = fields_with_bits(out);
     // Every output at once: the table's bits (`F_*` = declaration order).
     // With every input slot good the table is not looked at.
     let o = if packed & SLOT_INPUTS == 0 {
