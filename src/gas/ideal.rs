@@ -527,6 +527,14 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
         true
     }
 
+    /// The discharge state of [`GasModel::compression`] only adds its own
+    /// fields; the path-mean properties are taken to `t2.unwrap_or(t1)`,
+    /// and the validity is that of the suction either way.
+    #[inline]
+    fn discharge_separable(&self) -> bool {
+        true
+    }
+
     /// Closed form on the path-mean cp (the `fluids` convention):
     /// T2s = T1·r^((k−1)/k), h2s − h1 = Z·R·T1·k/(k−1)·(r^((k−1)/k) − 1),
     /// h2 − h1 = Z·cp·(T2 − T1), p·v = Z·R·T.
@@ -859,6 +867,53 @@ mod tests {
                                 (s1.z.to_bits(), s1.validity, v, k.to_bits()),
                                 "{p1} {t1} {p2} {t2:?} {z:?}"
                             );
+                        }
+                    }
+                }
+            }
+        }
+    }
+
+    /// The contract of `GasModel::discharge_separable` (consistency check
+    /// of the model against itself): asked for a discharge state at T1,
+    /// the suction and isentropic results and both validities are those
+    /// without one, bit for bit, over ordinary and degenerate inputs, for
+    /// constant k and a cp polynomial.
+    #[test]
+    fn discharge_state_at_t1_changes_nothing_else() {
+        let spec = crate::gas::CARBON_DIOXIDE;
+        for g in [
+            IdealGas::<f64>::from_spec(&spec, false, 0.95).unwrap(),
+            IdealGas::<f64>::from_spec(&spec, true, 1.0).unwrap(),
+        ] {
+            assert!(g.discharge_separable());
+            let pressures = [f64::NAN, -1.0, 0.0, 1e5, 3e6, 2e7, f64::INFINITY];
+            let temps = [f64::NAN, 0.0, 250.0, 300.0, 450.0, 3000.0];
+            for &p1 in &pressures {
+                for &t1 in &temps {
+                    for &p2 in &pressures {
+                        for z in [None, Some(0.9), Some(f64::NAN)] {
+                            let ln_r = (p2 / p1).ln();
+                            let a = g.compression(p1, t1, p2, ln_r, None, z);
+                            let b = g.compression(p1, t1, p2, ln_r, Some(t1), z);
+                            let key = |c: &CompressionStates<f64>| {
+                                (
+                                    [
+                                        c.suction_z,
+                                        c.isentropic_temperature,
+                                        c.isentropic_enthalpy_rise,
+                                        c.isentropic_pv_rise,
+                                        c.isentropic_ln_pv_ratio,
+                                        c.isentropic_exponent,
+                                        c.head_factor,
+                                    ]
+                                    .map(f64::to_bits),
+                                    c.isentropic_validity,
+                                    c.validity,
+                                )
+                            };
+                            assert_eq!(key(&a), key(&b), "{p1} {t1} {p2} {z:?}");
+                            assert!(!a.has_discharge && b.has_discharge);
                         }
                     }
                 }

@@ -450,6 +450,17 @@ pub trait GasModel<T: Real> {
         false
     }
 
+    /// `true` if [`GasModel::compression`] asked for a discharge state at
+    /// the suction temperature (`t2 = Some(t1)`) gives, besides the
+    /// discharge fields, exactly what it gives without one (`t2 = None`):
+    /// the same suction and isentropic results, the same validities, and
+    /// nothing else done (the ideal gas, whose discharge state is a few
+    /// products apart). A stage then evaluates every case on one code path
+    /// and drops the discharge state where it has none. Default `false`.
+    fn discharge_separable(&self) -> bool {
+        false
+    }
+
     /// What [`GasModel::path`] depends on. The default (everything) is
     /// always safe; a model that ignores an input says so to keep outputs
     /// good when that measurement fails.

@@ -471,11 +471,13 @@ impl<T: Copy> StageReadings<T> for CompressorInputs<T> {
 /// dependency tables built beforehand (`tables` for
 /// `gas.property_inputs()`; `None` builds them).
 ///
-/// With a train's tables the common case is finished in one pass from the
-/// readings ([`nominal_readings`]); everything else (and every caller
-/// without tables) takes the general path, out of line
-/// ([`evaluate_compressor_general`]), which starts again from the readings
-/// (the nominal attempt writes nothing that it does not overwrite).
+/// With a train's tables the stage's states are found once, inline
+/// ([`stage_states`]), and the common case is finished from them
+/// ([`nominal_stage`]); everything else (and every caller without tables)
+/// is finished by the general path ([`finish_general`]; out of line and
+/// cold for a train), from the same states: one copy of the stage's maths
+/// in a train's code (the nominal attempt writes nothing that the general
+/// finish does not overwrite).
 ///
 /// `settled` belongs to `out`: the grading key of the slot and model
 /// qualities from which the nominal finish last wrote `out`'s sixteen
@@ -496,18 +498,88 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
 ) {
     match tables {
         Some(t) => {
-            if let Some(key) = nominal_readings(gas, inp, thresholds, out) {
-                // The qualities follow from the key (with these tables):
-                // written only if `out` does not hold them from an equal
-                // key already.
-                if *settled != key {
-                    settle_nominal(t, key, out);
-                    *settled = key;
+            let [p1, p2, t1, t2, flow] = inp.readings();
+            let q_z = match inp.compressibility() {
+                Some((_, q)) => q,
+                None => Quality::Good,
+            };
+            // The slots' part of the grading key; every slot usable in one
+            // test.
+            let key = u16::from(p1.quality as u8)
+                | u16::from(t1.quality as u8) << 2
+                | u16::from(p2.quality as u8) << 4
+                | u16::from(t2.quality as u8) << 6
+                | u16::from(flow.quality as u8) << 8
+                | u16::from(q_z as u8) << 10;
+            let usable = key & KEY_NOT_USABLE == 0;
+            // Every slot usable: the path values are the readings (as
+            // `path_values` gives them then), without its selections.
+            let path = if usable {
+                PathValues {
+                    p1: p1.value,
+                    t1: t1.value,
+                    p2: p2.value,
+                    t2: t2.value,
+                    has_t2: true,
+                    z_supplied: inp.compressibility().map(|(z, _)| z),
+                    ln_argument: p2.value / p1.value,
                 }
             } else {
-                *settled = NOT_SETTLED;
-                evaluate_compressor_with_table(gas, inp, thresholds, t, out);
+                // With an FPU out of line, and a copy: the call's result is
+                // then not the place of `path`, whose values stay in
+                // registers in the common case (not stored and read back).
+                // Without one inline (a few integer selections; the
+                // call's result in memory cost 32 bytes of stack or, as
+                // the place of `path`, its values reloaded after every
+                // library call: 500 instructions per stage on Cortex-M0).
+                #[cfg(not(all(target_arch = "arm", not(target_abi = "eabihf"))))]
+                let p = PathValues { ..path_values(inp) };
+                #[cfg(all(target_arch = "arm", not(target_abi = "eabihf")))]
+                let p = path_values_of(inp);
+                p
+            };
+            let st = stage_states(gas, &p1, &p2, &path);
+            // Finite, above 1 and not above the stage maximum: one test on
+            // the bits (a NaN, a negative value and zero lie outside).
+            // (Every slot usable: tested by `nominal_stage` on the key.)
+            let [ratio_lo, ratio_hi] = thresholds.nominal_ratio;
+            if T::within_positive(st.ratio, ratio_lo, ratio_hi) {
+                if let Some(key) = nominal_stage(
+                    &st.cs,
+                    flow.value,
+                    key,
+                    st.fit,
+                    [st.ratio, st.dt, st.ln_path, st.h_iso],
+                    thresholds,
+                    out,
+                ) {
+                    // The qualities follow from the key (with these
+                    // tables): written only if `out` does not hold them
+                    // from an equal key already.
+                    if *settled != key {
+                        settle_nominal(t, key, out);
+                        *settled = key;
+                    }
+                    return;
+                }
             }
+            *settled = NOT_SETTLED;
+            // With an FPU a copy made here, so that the common case's
+            // states stay in registers (not stored for the call); without
+            // one the states themselves (spilled anyway: a copy was 112
+            // bytes more stack for a Peng-Robinson stage on Cortex-M0).
+            #[cfg(not(all(target_arch = "arm", not(target_abi = "eabihf"))))]
+            let st = &StageStates {
+                cs: st.cs,
+                ratio: st.ratio,
+                dt: st.dt,
+                ln_path: st.ln_path,
+                h_iso: st.h_iso,
+                fit: st.fit,
+            };
+            #[cfg(all(target_arch = "arm", not(target_abi = "eabihf")))]
+            let st = &st;
+            evaluate_compressor_with_table(gas, inp, thresholds, t, st, out);
         }
         None => {
             *settled = NOT_SETTLED;
@@ -516,10 +588,11 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     }
 }
 
-/// The general path with a train's tables, out of line and cold: a train's
-/// stage takes it only when the nominal finish does not apply. (Its own
-/// copy: with the tables known to be there, the built-in tables of callers
-/// without one are not linked into a train's code.)
+/// The general finish with a train's tables, out of line and cold: a
+/// train's stage takes it only when the nominal finish does not apply.
+/// (Its own copy: with the tables known to be there, the built-in tables
+/// of callers without one are not linked into a train's code.) The states
+/// come from the caller's [`stage_states`]: they are the general path's.
 #[cold]
 #[inline(never)]
 fn evaluate_compressor_with_table<T: Real, G: GasModel<T>, I: StageReadings<T>>(
@@ -527,69 +600,132 @@ fn evaluate_compressor_with_table<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     inp: &I,
     thresholds: &StageThresholds<T>,
     tables: &StageUses,
+    states: &StageStates<T>,
     out: &mut CompressorResult<T>,
 ) {
-    evaluate_compressor_general(gas, inp, thresholds, Some(tables), out);
+    finish_general(gas, inp, thresholds, Some(tables), states, out);
 }
 
-/// The common case of a train's measured stage straight from the readings:
-/// every input slot usable (good or uncertain; a supplied Z too), a
-/// compression (a finite ratio above 1), then the states at the measured
-/// end states and the nominal finish ([`nominal_stage`]). Without a
-/// selection of path values: with every input usable the general path's
-/// path values are the measured ones, and its ratio, logarithm, states,
-/// fit and isothermal head are these, the same expressions on the same
-/// values. `None` if any of that does not hold.
+/// Where the general path evaluates the gas model: the measured end states
+/// where usable; without a usable T1 at a nominal temperature (only a
+/// temperature-independent model's outputs can then be good, and the rule
+/// sees to that), without a usable T2 no discharge state (and T2 at T1),
+/// without usable pressures at a nominal pressure, as for T1 (a
+/// pressure-independent model's enthalpy rise is then still good; the rule
+/// marks what used the pressures), and a supplied Z only if usable.
+#[derive(Clone, Copy)]
+struct PathValues<T> {
+    p1: T,
+    t1: T,
+    p2: T,
+    t2: T,
+    has_t2: bool,
+    z_supplied: Option<T>,
+    /// The ratio whose logarithm the states use: the measured one with
+    /// usable pressures, else exactly 1 (both path pressures one value).
+    ln_argument: T,
+}
+
+/// [`path_values_of`] out of line: one copy for the general finish and
+/// the rare case of a train's stage.
+#[inline(never)]
+fn path_values<T: Real, I: StageReadings<T>>(inp: &I) -> PathValues<T> {
+    path_values_of(inp)
+}
+
+/// The [`PathValues`] of `inp`, for any slot qualities.
 #[inline(always)]
-fn nominal_readings<T: Real, G: GasModel<T>, I: StageReadings<T>>(
-    gas: &G,
-    inp: &I,
-    thresholds: &StageThresholds<T>,
-    out: &mut CompressorResult<T>,
-) -> Option<u16> {
-    let [p1, p2, t1, t2, flow] = inp.readings();
-    let (z_supplied, q_z) = match inp.compressibility() {
-        Some((z, q)) => (Some(z), q),
-        None => (None, Quality::Good),
+fn path_values_of<T: Real, I: StageReadings<T>>(inp: &I) -> PathValues<T> {
+    let [p1, p2, t1, t2, _] = inp.readings();
+    let p_ok = p1.quality.is_usable() && p2.quality.is_usable();
+    let t1_ok = t1.quality.is_usable();
+    let t2_ok = t2.quality.is_usable();
+    let t1_path = if t1_ok { t1.value } else { T::of(288.15) };
+    let p1_path = if p1.quality.is_usable() {
+        p1.value
+    } else {
+        T::of(101_325.0)
     };
-    // The slots' part of the grading key; every slot usable in one test.
-    let key = u16::from(p1.quality as u8)
-        | u16::from(t1.quality as u8) << 2
-        | u16::from(p2.quality as u8) << 4
-        | u16::from(t2.quality as u8) << 6
-        | u16::from(flow.quality as u8) << 8
-        | u16::from(q_z as u8) << 10;
-    if key & KEY_NOT_USABLE != 0 {
-        return None;
+    PathValues {
+        p1: p1_path,
+        t1: t1_path,
+        p2: if p_ok { p2.value } else { p1_path },
+        t2: if t2_ok { t2.value } else { t1_path },
+        has_t2: t2_ok,
+        z_supplied: match inp.compressibility() {
+            Some((z, q)) if q.is_usable() => Some(z),
+            _ => None,
+        },
+        ln_argument: if p_ok { p2.value / p1.value } else { T::ONE },
     }
+}
+
+/// The gas model's states along a stage's path and what follows from them
+/// alone: the measured ratio, the rise T2 − T1, the logarithm of the path
+/// ratio, the isothermal head and the fit of the properties.
+#[derive(Clone, Copy)]
+struct StageStates<T> {
+    cs: CompressionStates<T>,
+    ratio: T,
+    dt: T,
+    ln_path: T,
+    h_iso: T,
+    fit: Quality,
+}
+
+/// The [`StageStates`] at `path` (the measured ratio from the readings
+/// `p1`, `p2`): the one copy of the stage's maths, for the nominal and the
+/// general finish.
+#[inline(always)]
+fn stage_states<T: Real, G: GasModel<T>>(
+    gas: &G,
+    p1: &Measured<T>,
+    p2: &Measured<T>,
+    path: &PathValues<T>,
+) -> StageStates<T> {
     let ratio = p2.value / p1.value;
-    // Finite, above 1 and not above the stage maximum: one test on the
-    // bits (a NaN, a negative value and zero lie outside).
-    let [ratio_lo, ratio_hi] = thresholds.nominal_ratio;
-    if !T::within_positive(ratio, ratio_lo, ratio_hi) {
-        return None;
-    }
-    let dt = t2.value - t1.value;
-    let fit = gas.fit_quality(t1.value, t2.value);
-    let ln_path = T::ln(ratio);
-    let cs = gas.compression(
-        p1.value,
-        t1.value,
-        p2.value,
+    // The measured rise T2 − T1 wherever it is used (both temperatures
+    // usable: the path temperatures are the measured ones), from the path
+    // values so that an inlined model's own T2 − T1 is the same expression
+    // and computed once (on a soft-float device a library call saved).
+    let dt = path.t2 - path.t1;
+    let fit = gas.fit_quality(path.t1, path.t2);
+    // One logarithm of the ratio for the model, the polytropic method and
+    // the isothermal head (compressing implies usable pressures, so the
+    // path ratio is the measured one). Without usable pressures both path
+    // pressures are one value, their ratio exactly 1: no second division.
+    let ln_path = T::ln(path.ln_argument);
+    // Suction, isentropic and (with a usable T2) discharge states in one
+    // call. A model whose discharge state is separable is always asked for
+    // one (without a usable T2 the path T2 is the path T1: the same
+    // suction and isentropic results and validities as without one); the
+    // general finish drops it where T2 is not usable, and the nominal
+    // finish needs a usable T2. Asked for by `has_t2` alone, the common
+    // case's states took a branch and the other case's placeholders (8
+    // instructions per stage on Cortex-M4F).
+    let t2 = if path.has_t2 || gas.discharge_separable() {
+        Some(path.t2)
+    } else {
+        None
+    };
+    let mut st = StageStates {
+        cs: CompressionStates::invalid(),
+        ratio,
+        dt,
         ln_path,
-        Some(t2.value),
-        z_supplied,
-    );
-    let h_iso = isothermal_head_from_log(cs.suction_z, gas.gas_constant(), t1.value, ln_path);
-    nominal_stage(
-        &cs,
-        flow.value,
-        key,
+        h_iso: T::ZERO,
         fit,
-        [ratio, dt, ln_path, h_iso],
-        thresholds,
-        out,
-    )
+    };
+    // The states written in place (an out-of-line model's result not
+    // copied into `st`: 80 bytes of stack on Cortex-M0).
+    st.cs = gas.compression(path.p1, path.t1, path.p2, ln_path, t2, path.z_supplied);
+    // The isothermal head, used only when compressing (where the general
+    // finish leaves the suction Z as it is) and T1 is usable (where the
+    // path T1 is the measured one). Formed right after the states: an
+    // inlined model's own Z·R·T1 is then found the same and reused (two
+    // multiplications fewer, library calls on a soft-float device).
+    st.h_iso = isothermal_head_from_log(st.cs.suction_z, gas.gas_constant(), path.t1, ln_path);
+    st
 }
 
 /// The general path of [`evaluate_compressor_tabled`]: every case, from
@@ -602,77 +738,67 @@ fn evaluate_compressor_general<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     tables: Option<&StageUses>,
     out: &mut CompressorResult<T>,
 ) {
+    let [p1, p2, ..] = inp.readings();
+    let st = stage_states(gas, &p1, &p2, &path_values(inp));
+    finish_general(gas, inp, thresholds, tables, &st, out);
+}
+
+/// The general finish: every case, from the readings and their
+/// [`stage_states`].
+#[inline(always)]
+fn finish_general<T: Real, G: GasModel<T>, I: StageReadings<T>>(
+    gas: &G,
+    inp: &I,
+    thresholds: &StageThresholds<T>,
+    tables: Option<&StageUses>,
+    st: &StageStates<T>,
+    out: &mut CompressorResult<T>,
+) {
     // Which outputs were computed (bit i: the i-th field in declaration
     // order); the rest are bad or not applicable once settled.
     let mut done: u16 = 0;
     let [p1, p2, t1, t2, flow] = inp.readings();
-    let (z_supplied, q_z) = match inp.compressibility() {
-        Some((z, q)) if q.is_usable() => (Some(z), q),
-        Some((_, q)) => (None, q.worst(Quality::Bad)),
-        None => (None, Quality::Good),
+    let q_z = match inp.compressibility() {
+        Some((_, q)) if q.is_usable() => q,
+        Some((_, q)) => q.worst(Quality::Bad),
+        None => Quality::Good,
     };
     let p_ok = p1.quality.is_usable() && p2.quality.is_usable();
     let t1_ok = t1.quality.is_usable();
     let t2_ok = t2.quality.is_usable();
     let rating_point = t2.quality == Quality::NotApplicable;
-
-    // Values, each from what it uses.
-    let ratio = p2.value / p1.value;
-    // The gas-model states: at the measured end states; without a usable
-    // T1 at a nominal temperature (only a temperature-independent model's
-    // outputs can then be good, and the rule sees to that).
-    let t1_path = if t1_ok { t1.value } else { T::of(288.15) };
-    let t2_path = if t2_ok { t2.value } else { t1_path };
-    // The measured rise T2 − T1 wherever it is used (both temperatures
-    // usable: the path temperatures are the measured ones), from the path
-    // values so that an inlined model's own T2 − T1 is the same expression
-    // and computed once (on a soft-float device a library call saved).
-    let dt = t2_path - t1_path;
-    let fit = gas.fit_quality(t1_path, t2_path);
+    let StageStates {
+        mut cs,
+        ratio,
+        dt,
+        ln_path,
+        h_iso,
+        fit,
+    } = *st;
+    if !t2_ok {
+        // A separable model's discharge state at T1 ([`stage_states`])
+        // dropped, as if not asked for: no discharge, the validity the
+        // isentropic one, as every model gives them without a T2 (the
+        // discharge fields are read only with a discharge). Without one
+        // asked for, these are the values already.
+        cs.has_discharge = false;
+        cs.validity = cs.isentropic_validity;
+    }
     let ratio_ok = p_ok && T::is_finite(ratio);
     let compressing = ratio_ok && T::less_not_nan(T::ONE, ratio);
-    // Without usable pressures the states are evaluated at a nominal
-    // pressure, as for T1 (a pressure-independent model's enthalpy rise is
-    // then still good; the rule marks what used the pressures).
-    let p1_path = if p1.quality.is_usable() {
-        p1.value
-    } else {
-        T::of(101_325.0)
-    };
-    let p2_path = if p_ok { p2.value } else { p1_path };
-    // One logarithm of the ratio for the model, the polytropic method and
-    // the isothermal head (compressing implies usable pressures, so the
-    // path ratio is the measured one). Without usable pressures both path
-    // pressures are one value, their ratio exactly 1: no second division.
-    let ln_path = T::ln(if p_ok { ratio } else { T::ONE });
-    // Suction, isentropic and (with a usable T2) discharge states in one
-    // call.
-    let mut cs = gas.compression(
-        p1_path,
-        t1_path,
-        p2_path,
-        ln_path,
-        if t2_ok { Some(t2_path) } else { None },
-        z_supplied,
-    );
-    // The isothermal head, used only when compressing (where the block
-    // below leaves the suction Z as it is) and T1 is usable (where the
-    // path T1 is the measured one). Formed right after the states: an
-    // inlined model's own Z·R·T1 is then found the same and reused (two
-    // multiplications fewer, library calls on a soft-float device).
-    let h_iso = isothermal_head_from_log(cs.suction_z, gas.gas_constant(), t1_path, ln_path);
     if !compressing {
         // No compression: no isentropic outputs, so the model's validity is
         // that of the suction and discharge states alone (an entropy match
         // towards a lower pressure may fail without touching them), and the
         // isentropic exponent of such a path is 0/0 for a state-function
         // model: the path-mean k instead.
+        let path = path_values(inp);
         let (z1, v1, v, k) = gas.uncompressed(
-            p1_path,
-            t1_path,
-            p2_path,
-            if t2_ok { Some(t2_path) } else { None },
-            z_supplied,
+            path.p1,
+            path.t1,
+            path.p2,
+            if path.has_t2 { Some(path.t2) } else { None },
+            path.z_supplied,
         );
         cs.suction_z = z1;
         cs.isentropic_validity = v1;
