@@ -15,7 +15,7 @@
 //! constant and ideal-gas heat-capacity ratio.
 
 use crate::compression::isentropic_head;
-use crate::dependency::{check, property_slots, pump_uses, slot, Grades};
+use crate::dependency::{check, property_slots, pump_uses, slot, Grades, Use};
 use crate::gas::GasModel;
 use crate::plausibility::Limits;
 use crate::quality::{Measured, Quality};
@@ -194,23 +194,61 @@ pub fn evaluate_pump_within<T: Real, G: GasModel<T>>(
     }
     let (props, _) = property_slots(gas.property_inputs(), false);
     let u = pump_uses(props, model_density.is_some());
-    let c = |bit: u8| done & (1 << bit) != 0;
-    g.settle_computed(&mut out.density, c(8), u.density);
-    g.settle_computed(&mut out.pressure_ratio, c(0), u.pressure_ratio);
     let falling = condition == PumpCondition::NoPressureRise;
-    g.settle_suspect(&mut out.pressure_rise, c(1), falling, u.pressure_rise);
-    g.settle_computed(&mut out.reversible_work, c(2), u.reversible_work);
-    g.settle_computed(&mut out.shaft_work, c(3), u.shaft_work);
-    g.settle_computed(&mut out.mass_flow, c(4), u.mass_flow);
-    g.settle_computed(&mut out.power, c(5), u.power);
-    g.settle_computed(
-        &mut out.gas_compression_equivalent,
-        c(6),
+    // One loop over the outputs in the order of `done`, over one
+    // out-of-line copy of the rule (nine inlined copies were 904 bytes more
+    // flash in the Cortex-M4F controller); only the pressure rise is
+    // suspect (falling pressure).
+    let uses = [
+        u.pressure_ratio,
+        u.pressure_rise,
+        u.reversible_work,
+        u.shaft_work,
+        u.mass_flow,
+        u.power,
         u.gas_compression_equivalent,
-    );
-    g.settle_computed(&mut out.work_ratio_to_gas, c(7), u.work_ratio_to_gas);
+        u.work_ratio_to_gas,
+        u.density,
+    ];
+    let mut bit: u16 = 1;
+    for (m, u) in pump_outputs(&mut out).into_iter().zip(uses) {
+        *m = settle_pump_output(&g, *m, done & bit != 0, falling && bit == 1 << 1, u);
+        bit <<= 1;
+    }
     out.condition = condition;
     out
+}
+
+/// One output by the rule ([`Grades::settle_suspect`]), out of line: one
+/// copy for the nine outputs. By value (in registers), so that the result
+/// is not kept in memory for it.
+#[inline(never)]
+fn settle_pump_output<T: Real>(
+    g: &Grades,
+    mut m: Measured<T>,
+    computed: bool,
+    suspect: bool,
+    u: Use,
+) -> Measured<T> {
+    g.settle_suspect(&mut m, computed, suspect, u);
+    m
+}
+
+/// The outputs of a pump result in the order of the bits of `done` in
+/// [`evaluate_pump_within`].
+#[inline(always)]
+fn pump_outputs<T>(o: &mut PumpResult<T>) -> [&mut Measured<T>; 9] {
+    [
+        &mut o.pressure_ratio,
+        &mut o.pressure_rise,
+        &mut o.reversible_work,
+        &mut o.shaft_work,
+        &mut o.mass_flow,
+        &mut o.power,
+        &mut o.gas_compression_equivalent,
+        &mut o.work_ratio_to_gas,
+        &mut o.density,
+    ]
 }
 
 #[cfg(test)]
