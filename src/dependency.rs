@@ -484,6 +484,18 @@ impl Grades {
         }
     }
 
+    /// The slots in `uncertain`, `bad` and `not_applicable` (disjoint) so
+    /// graded, the others and every check good: as [`Grades::first_slot`]
+    /// for each slot, from the three sets at once.
+    #[inline]
+    pub const fn of_slots(uncertain: Slots, bad: Slots, not_applicable: Slots) -> Self {
+        Grades {
+            not_applicable: not_applicable.0 as u32,
+            bad: bad.0 as u32,
+            uncertain: uncertain.0 as u32,
+        }
+    }
+
     /// Sets the quality of the slots in `s`.
     #[inline]
     pub fn slot(&mut self, s: Slots, q: Quality) -> &mut Self {
