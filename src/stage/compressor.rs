@@ -1115,7 +1115,7 @@ fn settle_nominal<T: Real>(tables: &StageUses, key: u16, out: &mut CompressorRes
 /// the high bit): gathered by three shift-or-mask steps instead of one
 /// test per slot.
 #[inline(always)]
-fn key_slots(key: u16, shift: u32) -> u16 {
+pub(super) fn key_slots(key: u16, shift: u32) -> u16 {
     let mut slots = (key >> shift) & 0x555;
     slots = (slots | slots >> 1) & 0x333;
     slots = (slots | slots >> 2) & 0x0f0f;

@@ -14,8 +14,9 @@
 //! pressure ratio from the pump's suction temperature, with the train's gas
 //! constant and ideal-gas heat-capacity ratio.
 
+use super::compressor::key_slots;
 use crate::compression::isentropic_head;
-use crate::dependency::{check, property_slots, pump_uses, slot, Grades, Use};
+use crate::dependency::{check, property_slots, pump_uses, Grades, Slots, Use};
 use crate::gas::GasModel;
 use crate::plausibility::Limits;
 use crate::quality::{Measured, Quality};
@@ -116,11 +117,14 @@ pub fn evaluate_pump_within<T: Real, G: GasModel<T>>(
     let p_ok = p1.quality.is_usable() && p2.quality.is_usable();
     let dp = p2.value - p1.value;
     let ratio = p2.value / p1.value;
-    let mut g = Grades::new();
-    g.slot(slot::P1, p1.quality)
-        .slot(slot::P2, p2.quality)
-        .slot(slot::T1, t1.quality)
-        .slot(slot::FLOW, mass_flow.quality);
+    // The slots' grades from their qualities' discriminants by shifts, as
+    // `Grades::slot` for each gives them (see `key_slots`).
+    let key = u16::from(p1.quality as u8)
+        | u16::from(t1.quality as u8) << 2
+        | u16::from(p2.quality as u8) << 4
+        | u16::from(mass_flow.quality as u8) << 8;
+    let (lo, hi) = (key_slots(key, 0), key_slots(key, 1));
+    let mut g = Grades::of_slots(Slots(lo & !hi), Slots(hi & !lo), Slots(lo & hi));
     let mut condition = PumpCondition::Normal;
     if mass_flow.quality.is_usable() {
         out.mass_flow.value = mass_flow.value;
