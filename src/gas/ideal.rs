@@ -447,7 +447,16 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
             Some(t2) => v1.worst(state(p2, t2).1),
             None => v1,
         };
-        let k = self.path(p1, t1, p2, t2.unwrap_or(t1), z_supplied).k;
+        // The path k as `path` gives it; for a cp polynomial from the
+        // out-of-line path terms (the same `path` call) rather than a
+        // second inlined copy of the path means.
+        let k = match self.heat_capacity {
+            HeatCapacity::ConstantK(k) => k,
+            HeatCapacity::Polynomial { .. } => {
+                self.polynomial_path_terms(p1, t1, p2, t2.unwrap_or(t1), z_supplied)
+                    .k
+            }
+        };
         (z1, v1, validity, k)
     }
 
