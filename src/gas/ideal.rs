@@ -269,20 +269,28 @@ impl<T: Real> IdealGas<T> {
     }
 
     /// Mean cp over [t1, t2], J/(kg K).
+    #[inline]
     pub fn mean_cp(&self, t1: T, t2: T) -> T {
         match self.heat_capacity {
             HeatCapacity::ConstantK(_) => self.constant_cp,
             HeatCapacity::Polynomial {
-                coefficients: c,
+                coefficients,
                 t_min,
                 t_max,
-            } => {
-                let a = T::clamp(t1, t_min, t_max);
-                let b = T::clamp(t2, t_min, t_max);
-                mean_cubic(&c, a, b)
-            }
+            } => polynomial_mean_cp(&coefficients, t_min, t_max, t1, t2),
         }
     }
+}
+
+/// [`IdealGas::mean_cp`] of a cp polynomial: the mean of the cubic over the
+/// temperatures clamped to its fit range. Out of line: one copy for every
+/// user of the mean (the path, the cooler's enthalpy drop, the totals' and
+/// the pump's path properties), while constant k stays inline.
+#[inline(never)]
+fn polynomial_mean_cp<T: Real>(c: &[T; 4], t_min: T, t_max: T, t1: T, t2: T) -> T {
+    let a = T::clamp(t1, t_min, t_max);
+    let b = T::clamp(t2, t_min, t_max);
+    mean_cubic(c, a, b)
 }
 
 /// The path properties a compression needs, with (k−1)/k.
