@@ -777,11 +777,17 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         let si = &self.si;
         let cp_inputs = self.config.gas.property_inputs();
         let stages = &self.snapshot.stages;
-        // By index, one for every array (measured: fewer registers held
-        // across the loop than a pointer per array).
-        for (i, out) in self.snapshot.coolers.iter_mut().enumerate() {
-            let (Some(cfg), Some(raw_stage)) = (self.config.stages.get(i), scan.stages.get(i))
-            else {
+        // The configurations and results by iterator, the scan's stage by
+        // index (measured: fewer instructions than an iterator for every
+        // array or an index for every array, whose registers the loop then
+        // kept on the stack).
+        let parts = self
+            .config
+            .stages
+            .iter()
+            .zip(self.snapshot.coolers.iter_mut());
+        for (i, (cfg, out)) in parts.enumerate() {
+            let Some(raw_stage) = scan.stages.get(i) else {
                 continue;
             };
             // Without a cooler the result is `None`, as set at construction
