@@ -83,8 +83,19 @@ mod tests {
             assert!(same, "{bits:#010x}: {got:e} vs {want:e}");
         };
         for bits in [
-            0, 0x8000_0000, 0x7f80_0000, 0xff80_0000, 0x7fc0_0000, 0xffc0_0000, 0x7f80_0001,
-            1, 0x007f_ffff, 0x0080_0000, 0x7f7f_ffff, 0x8000_0001, 0xbf80_0000,
+            0,
+            0x8000_0000,
+            0x7f80_0000,
+            0xff80_0000,
+            0x7fc0_0000,
+            0xffc0_0000,
+            0x7f80_0001,
+            1,
+            0x007f_ffff,
+            0x0080_0000,
+            0x7f7f_ffff,
+            0x8000_0001,
+            0xbf80_0000,
         ] {
             check(bits);
         }
