@@ -385,10 +385,15 @@ impl<T: Real> Scaling<T> {
         let (fraction, fault) = match self.source {
             // A current in the measuring band is finite: the band test
             // comes first, the finiteness test only outside it.
-            Source::Current | Source::CurrentInBandFinite => {
-                (raw - T::of(ne43::RANGE_LOW_MA), ne43::classify(raw))
+            // One NE 43 classification for the three current sources.
+            Source::Current | Source::CurrentInBandFinite | Source::CurrentBySpan => {
+                let fraction = if self.source == Source::CurrentBySpan {
+                    ne43::fraction(raw)
+                } else {
+                    raw - T::of(ne43::RANGE_LOW_MA)
+                };
+                (fraction, ne43::classify(raw))
             }
-            Source::CurrentBySpan => (ne43::fraction(raw), ne43::classify(raw)),
             _ if !T::is_finite(raw) => return (T::ZERO, FaultCode::NotFinite),
             Source::Voltage => span_fraction(raw / T::of(10.0)),
             Source::Counts { zero } => span_fraction((raw - zero) / self.counts_span),
