@@ -367,12 +367,19 @@ fn heron_steps<T: Real>(q: T) -> T {
 #[inline(always)]
 fn signed_root_by<T: Real>(x: T, heron: bool) -> T {
     if heron {
-        // One copy of the steps for both signs: the root of `|x|` (Heron's
-        // in its range, else the library's) with the sign of `x` put back;
-        // `−√(−x)` for a negative `x` as before, `√x` otherwise (a −0 gives
-        // +0 here, −0 before: the margin `root − 1` is −1 either way).
-        let root = heron_root(T::abs(x));
-        return if x < T::ZERO { -root } else { root };
+        // One copy of the steps for both signs: `−√(−x)` for a negative
+        // `x`, `√x` otherwise, each root Heron's in its range, else the
+        // library's. `|x|` is `−x` for a negative `x` and `x` itself for
+        // any other in the range; out of it the library's root takes `x`
+        // itself where it is not negative (a −0 gives −0, as before).
+        let negative = x < T::ZERO;
+        let magnitude = T::abs(x);
+        let root = if heron_range(magnitude) {
+            heron_steps(magnitude)
+        } else {
+            T::sqrt(if negative { magnitude } else { x })
+        };
+        return if negative { -root } else { root };
     }
     // The sign on the bit patterns without an FPU (a float comparison is a
     // library call there): the same branch for every `x` but a NaN, which
