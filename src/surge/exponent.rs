@@ -193,14 +193,14 @@ fn rejected<T: Real>(
 ) -> ExponentFault {
     let t1 = suction_temperature.value.kelvin();
     let t2 = discharge_temperature.value.kelvin();
-    let good = suction_temperature.quality == Quality::Good
-        && discharge_temperature.quality == Quality::Good
-        && T::is_finite(t1)
-        && T::is_finite(t2)
-        && T::is_finite(ratio)
-        && t1 > T::ZERO
-        && t2 > T::ZERO
-        && ratio > T::ZERO;
+    // Finite and positive: one test on the bits each (the same verdicts).
+    let good = suction_temperature
+        .quality
+        .worst(discharge_temperature.quality)
+        == Quality::Good
+        && super::positive_finite(t1)
+        && super::positive_finite(t2)
+        && super::positive_finite(ratio);
     if !good {
         return ExponentFault::InputBad;
     }
