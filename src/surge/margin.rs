@@ -314,12 +314,14 @@ fn implausible<T: Real>(ps: Measured<T>, pd: Measured<T>, dp: Measured<T>) -> Su
     if !inputs_ok {
         return SurgeFault::InputBad;
     }
+    // `|X| <= 0.52` is false for a NaN and an infinite `X` too; `r` in
+    // `[1, largest finite]` is one test on the bits (NaN outside).
     let x = flow_number(dp.value, ps.value);
-    if !(T::is_finite(x) && T::abs(x) <= T::of(FLOW_DP_RATIO_IMPOSSIBLE)) {
+    if !(T::abs(x) <= T::of(FLOW_DP_RATIO_IMPOSSIBLE)) {
         return SurgeFault::FlowDpImpossible;
     }
     let ratio = pd.value / ps.value;
-    if !(T::is_finite(ratio) && ratio >= T::ONE) {
+    if !T::within_positive(ratio, T::ONE, largest_finite()) {
         return SurgeFault::DischargeBelowSuction;
     }
     // Not reached (the one-pass check accepts exactly these scans); bad in
