@@ -435,7 +435,9 @@ impl<T: Real> Scaling<T> {
 
 fn span_fraction<T: Real>(f: T) -> (T, FaultCode) {
     let a = T::of(SPAN_ALLOWANCE);
-    if T::is_finite(f) && f >= -a && f <= T::ONE + a {
+    // (The two compares are false for a NaN and for either infinity: no
+    // finiteness test of its own.)
+    if f >= -a && f <= T::ONE + a {
         (f, FaultCode::None)
     } else {
         (f, FaultCode::SignalOutOfRange)
