@@ -163,8 +163,10 @@ fn measured_sigma_with<T: Real>(
     // infinite, NaN or 0, outside the bounds; `T2 > 0` and `r > 0` follow
     // from the rise and `r > 1`. A rejected sample is classified in the
     // documented order.
-    let early = suction_temperature.quality == Quality::Good
-        && discharge_temperature.quality == Quality::Good
+    let early = suction_temperature
+        .quality
+        .worst(discharge_temperature.quality)
+        == Quality::Good
         && t1 > T::ZERO
         && t2 - t1 >= T::of(RISE_PER_ACCURACY) * temperature_accuracy
         && ratio > T::ONE;
@@ -309,7 +311,8 @@ impl<T: Real> ExponentEstimator<T> {
         let Some(config) = self.measured else {
             return self.state;
         };
-        let dt_ok = T::is_finite(dt) && dt > T::ZERO;
+        // Finite and positive: one test on the bits.
+        let dt_ok = super::positive_finite(dt);
         let raw = match ratio {
             Some(r) => measured_sigma_with(
                 suction_temperature,
