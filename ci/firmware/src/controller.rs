@@ -447,12 +447,16 @@ impl<G: GasModel<f32>> Controller<G> {
         for ((((stage, ch), r), m), margin) in scan
             .stages
             .iter_mut()
-            .zip(self.channels.as_chunks_mut::<3>().0)
-            .zip(raw.as_chunks::<3>().0)
+            .zip(self.channels.chunks_exact_mut(3))
+            .zip(raw.chunks_exact(3))
             .zip(self.monitors.iter_mut())
             .zip(margins.iter_mut())
         {
-            *margin = protect_section(stage, ch, r, m, t_ms, dt);
+            // Chunks of exactly three: the conversions cannot fail (and
+            // fold away).
+            if let (Ok(ch), Ok(r)) = (<&mut [_; 3]>::try_from(ch), <&[f32; 3]>::try_from(r)) {
+                *margin = protect_section(stage, ch, r, m, t_ms, dt);
+            }
         }
         margins
     }
