@@ -640,8 +640,68 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
     } else {
         suspect
     };
+    settle_outside_usual(out, packed, cp_inputs, done, suspect, found);
+}
 
-    let condition = if !ok(I_TIN | I_TOUT | I_TC) {
+/// Grades a cooler's outputs in `out` outside the usual cooler: the
+/// integer work on the masks by [`cooler_grades`], then each field's
+/// quality written and, where it is not usable, its value set to the
+/// placeholder zero (what `Measured::bad` and `Measured::not_applicable`
+/// give). Out of line and cold: the caller's usual path keeps its registers.
+/// The next stage's rise is not written here: the train writes it (the next
+/// stage's result), `evaluate_cooler_bounded` sets it bad.
+#[cold]
+#[inline(never)]
+fn settle_outside_usual<T: Real>(
+    out: &mut CoolerResult<T>,
+    packed: u32,
+    cp_inputs: PropertyInputs,
+    done: u16,
+    suspect: u16,
+    found: u32,
+) {
+    let (grades, condition) = cooler_grades(packed, cp_inputs, done, suspect, found);
+    for (i, (m, _)) in fields_with_bits(out).into_iter().enumerate() {
+        let bits = grades >> (2 * i);
+        m.quality = quality_of_bits(bits);
+        // Bad or not applicable (the discriminant's high bit).
+        if bits & 2 != 0 {
+            m.value = T::ZERO;
+        }
+    }
+    out.condition = condition;
+}
+
+/// A quality from its discriminant in the low two bits of `bits` (good 0,
+/// uncertain 1, bad 2, not applicable 3).
+#[inline(always)]
+const fn quality_of_bits(bits: u32) -> Quality {
+    match bits & 3 {
+        0 => Quality::Good,
+        1 => Quality::Uncertain,
+        2 => Quality::Bad,
+        _ => Quality::NotApplicable,
+    }
+}
+
+/// The grading of [`evaluate_cooler_packed`] outside the usual cooler (a
+/// slot not good, an output not computed or a check fired): the condition
+/// (from the inputs' `packed` qualities and the `found` bits) and every
+/// output's quality by the dependency rule ([`OutputGrades::new`] over the
+/// cooler table for `cp_inputs`; the outputs not in `done` bad, those in
+/// `suspect` at most uncertain), output i as the discriminant in bits
+/// 2i..2i + 2 of the word. Integer work only, so not generic: one compact
+/// copy, out of line and cold, whatever the float type and the caller.
+#[cold]
+#[inline(never)]
+fn cooler_grades(
+    packed: u32,
+    cp_inputs: PropertyInputs,
+    done: u16,
+    suspect: u16,
+    found: u32,
+) -> (u32, CoolerCondition) {
+    let condition = if packed & (I_TIN | I_TOUT | I_TC) != 0 {
         CoolerCondition::InputBad
     } else if found == 0 {
         CoolerCondition::Normal
@@ -659,8 +719,6 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
             .copied()
             .unwrap_or(CoolerCondition::Normal)
     };
-
-    let fields = fields_with_bits(out);
     // Every output at once: the table's bits (`F_*` = declaration order).
     // With every input slot good the table is not looked at.
     let o = if packed & SLOT_INPUTS == 0 {
@@ -678,28 +736,15 @@ pub(crate) fn evaluate_cooler_packed<T: Real, const BOUNDED: bool>(
         ];
         let mut g = Grades::new();
         for (i, s) in slots.into_iter().enumerate() {
-            let q = match (packed >> (2 * i)) & 3 {
-                0 => Quality::Good,
-                1 => Quality::Uncertain,
-                2 => Quality::Bad,
-                _ => Quality::NotApplicable,
-            };
-            g.first_slot(s, q);
+            g.first_slot(s, quality_of_bits(packed >> (2 * i)));
         }
         OutputGrades::new(&g, cooler_users(cp_inputs), done, suspect)
     };
-    if o.all_usable(ALL_FIELDS) {
-        for (m, bit) in fields {
-            m.quality = o.usable_quality(bit);
-        }
-    } else {
-        for (m, bit) in fields {
-            o.settle_finite(m, bit);
-        }
+    let mut grades = 0;
+    for i in 0..10 {
+        grades |= (o.quality_of(1 << i) as u32) << (2 * i);
     }
-    // The next stage's rise is not written here: the train writes it (the
-    // next stage's result), `evaluate_cooler_bounded` sets it bad.
-    out.condition = condition;
+    (grades, condition)
 }
 
 #[cfg(test)]

@@ -799,6 +799,19 @@ impl OutputGrades {
         }
     }
 
+    /// The quality [`OutputGrades::settle_finite`] gives output `bit`: not
+    /// applicable, bad, uncertain or good, in that order of precedence.
+    #[inline]
+    pub fn quality_of(&self, bit: u16) -> Quality {
+        if self.not_applicable & bit != 0 {
+            Quality::NotApplicable
+        } else if self.bad & bit != 0 {
+            Quality::Bad
+        } else {
+            self.usable_quality(bit)
+        }
+    }
+
     /// Settles output `bit` (as [`Grades::settle_suspect`]): not applicable
     /// if it uses a slot that does not apply; bad if not computed, not finite
     /// or of bad uses; else uncertain or good as its uses and check say.

@@ -12,7 +12,7 @@ use crate::cooler::{
     evaluate_cooler_packed, packed_quality, CoolerConfig, CoolerInputs, CoolerResult, I_DH, I_FLOW,
     I_MC, I_PIN, I_POUT, I_TC, I_TCO, I_TIN, I_TOUT,
 };
-use crate::error::{check_positive, check_range, ConfigError, Problem};
+use crate::error::{check_range, refusal, ConfigError, Problem};
 use crate::gas::GasModel;
 use crate::plausibility::{compressibility, efficiency_allowance, Limits};
 use crate::quality::{Measured, Quality};
@@ -375,70 +375,89 @@ fn check_stage<T: Real>(
 ) -> Result<(), ConfigError> {
     let p1 = s.design_suction_pressure.pa();
     let p2 = s.design_discharge_pressure.pa();
-    check_positive("stages.design_suction_pressure", p1)?;
     // Design pressures inside the sensor boundary (a design point the
     // boundary would call bad cannot be right).
-    let (lo, hi) = (limits.min_pressure.to_f64(), limits.max_pressure.to_f64());
-    check_range("stages.design_suction_pressure", p1, lo, hi)?;
-    check_range("stages.design_discharge_pressure", p2, lo, hi)?;
-    if !(p2 > p1) {
-        return Err(ConfigError::new(
-            "stages.design_discharge_pressure",
-            Problem::NotAbove {
-                other: "stages.design_suction_pressure",
-            },
-        ));
-    }
-    if let Some(prev) = previous_discharge {
-        let lowest = prev * (T::ONE - max_drop);
-        if p1 > prev || p1 < lowest {
-            return Err(ConfigError::new(
+    let (lo, hi) = (limits.min_pressure, limits.max_pressure);
+    // `lo <= x <= hi` for finite bounds (NaN and the infinities outside).
+    let within = |x: T, lo: T, hi: T| x >= lo && x <= hi;
+    // The range checks in their order: the first that refuses gives
+    // (field, value, min, max), and one refusal serves them all
+    // ([`crate::error::refusal`]: not finite, or out of `[min, max]`; the
+    // same errors as a `check_positive` or `check_range` each, with one
+    // copy of the refusal's code: configuration-time flash).
+    let (field, value, min, max) = 'refused: {
+        if !crate::surge::positive_finite(p1) {
+            break 'refused ("stages.design_suction_pressure", p1, 0.0, f64::INFINITY);
+        }
+        if !within(p1, lo, hi) {
+            break 'refused (
                 "stages.design_suction_pressure",
-                Problem::Inconsistent {
-                    with: "previous stage's design_discharge_pressure and max_interstage_pressure_drop",
+                p1,
+                lo.to_f64(),
+                hi.to_f64(),
+            );
+        }
+        if !within(p2, lo, hi) {
+            break 'refused (
+                "stages.design_discharge_pressure",
+                p2,
+                lo.to_f64(),
+                hi.to_f64(),
+            );
+        }
+        if !(p2 > p1) {
+            return Err(ConfigError::new(
+                "stages.design_discharge_pressure",
+                Problem::NotAbove {
+                    other: "stages.design_suction_pressure",
                 },
             ));
         }
-    }
-    match s.kind {
-        StageKind::Compressor => {
-            if seen_pump {
+        if let Some(prev) = previous_discharge {
+            let lowest = prev * (T::ONE - max_drop);
+            if p1 > prev || p1 < lowest {
                 return Err(ConfigError::new(
-                    "stages.kind",
+                    "stages.design_suction_pressure",
                     Problem::Inconsistent {
-                        with: "a pump before it (pumps may only end a train)",
+                        with: "previous stage's design_discharge_pressure and max_interstage_pressure_drop",
                     },
                 ));
             }
         }
-        StageKind::Pump {
-            density,
-            efficiency,
-        } => {
-            check_range(
-                "stages.pump.density",
+        match s.kind {
+            StageKind::Compressor => {
+                if seen_pump {
+                    return Err(ConfigError::new(
+                        "stages.kind",
+                        Problem::Inconsistent {
+                            with: "a pump before it (pumps may only end a train)",
+                        },
+                    ));
+                }
+            }
+            StageKind::Pump {
                 density,
-                PUMP_DENSITY_RANGE.0,
-                PUMP_DENSITY_RANGE.1,
-            )?;
-            if !(T::is_finite(efficiency) && efficiency > T::ZERO && efficiency <= T::ONE) {
-                return Err(if T::is_finite(efficiency) {
-                    ConfigError::out_of_range("stages.pump.efficiency", 0.0, 1.0)
-                } else {
-                    ConfigError::not_finite("stages.pump.efficiency")
-                });
+                efficiency,
+            } => {
+                let (d_lo, d_hi) = PUMP_DENSITY_RANGE;
+                if !within(density, T::of(d_lo), T::of(d_hi)) {
+                    break 'refused ("stages.pump.density", density, d_lo, d_hi);
+                }
+                // In (0, 1]: refused as out of [0, 1].
+                if !(crate::surge::positive_finite(efficiency) && efficiency <= T::ONE) {
+                    break 'refused ("stages.pump.efficiency", efficiency, 0.0, 1.0);
+                }
             }
         }
-    }
-    if let Some(c) = s.cooler {
-        check_range(
-            "stages.cooler.coolant_cp",
-            c.coolant_cp,
-            COOLANT_CP_RANGE.0,
-            COOLANT_CP_RANGE.1,
-        )?;
-    }
-    Ok(())
+        if let Some(c) = s.cooler {
+            let (c_lo, c_hi) = COOLANT_CP_RANGE;
+            if !within(c.coolant_cp, T::of(c_lo), T::of(c_hi)) {
+                break 'refused ("stages.cooler.coolant_cp", c.coolant_cp, c_lo, c_hi);
+            }
+        }
+        return Ok(());
+    };
+    Err(refusal(field, T::is_finite(value), min, max))
 }
 
 /// The train of a validated configuration (`Train<T, G, N, W>` in the
@@ -777,15 +796,19 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
         let si = &self.si;
         let cp_inputs = self.config.gas.property_inputs();
         let stages = &self.snapshot.stages;
-        // By reference and by iterator (no index arithmetic per array).
+        // The configurations and results by iterator, the scan's stage by
+        // index (measured: fewer instructions than an iterator for every
+        // array or an index for every array, whose registers the loop then
+        // kept on the stack).
         let parts = self
             .config
             .stages
             .iter()
-            .zip(scan.stages.iter())
-            .zip(self.snapshot.coolers.iter_mut())
-            .enumerate();
-        for (i, ((cfg, raw_stage), out)) in parts {
+            .zip(self.snapshot.coolers.iter_mut());
+        for (i, (cfg, out)) in parts.enumerate() {
+            let Some(raw_stage) = scan.stages.get(i) else {
+                continue;
+            };
             // Without a cooler the result is `None`, as set at construction
             // (`CoolerResult::before_first_scan`) and never changed: not
             // rewritten per scan.

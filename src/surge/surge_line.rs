@@ -27,8 +27,7 @@
 //! absurd head) is [`Quality::Bad`].
 
 use super::coordinates::{
-    flow_number_from_volume_flow, head_number, reduced_speed, sigma_from_exponent, z_r_t,
-    BinomialSeries,
+    flow_number_from_volume_flow, head_number, sigma_from_exponent, z_r_t, BinomialSeries,
 };
 use crate::error::{outside_documented_range, ConfigError, Problem};
 use crate::quality::Quality;
@@ -205,6 +204,9 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
             m.molar_mass,
             m.suction_temperature.kelvin(),
         );
+        // The reference velocity `a* = √(Z R Ts)` of
+        // `super::coordinates::reduced_speed`.
+        let reference_velocity = T::sqrt(zrt);
         let unset = LinePoint {
             head_number: T::ZERO,
             flow_number: T::ZERO,
@@ -246,7 +248,10 @@ impl<T: Real, const N: usize> SurgeLine<T, N> {
                 // the addition was formed ahead of its branch (speculated: a
                 // library call on a soft-float core every scan).
                 control_margin: p.control_margin + T::ZERO,
-                reduced_speed: reduced_speed(p.speed_rpm, zrt),
+                // `reduced_speed(speed, zrt)` with its `√(Z R Ts)` taken
+                // once for every point (the same division, so the same
+                // bits; configuration-time flash).
+                reduced_speed: p.speed_rpm / reference_velocity,
             };
             if !(finite_pos(r.head_number) && finite_pos(r.flow_number)) {
                 return Err(outside_documented_range("surge_line.points").at(i));

@@ -23,7 +23,7 @@ use polytrope::signal::{Channel, ChannelConfig, InstrumentClass, SignalKind, Uni
 use polytrope::surge::{
     MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
 };
-use polytrope::train::{Snapshot, Train, TrainConfig};
+use polytrope::train::{Snapshot, StageConfig, Train, TrainConfig};
 use polytrope::units::{Kelvin, PressureAbs};
 use polytrope::ConfigError;
 
@@ -172,24 +172,32 @@ fn transmitter_config(id: u8, unit: Unit<f32>, range_high: f32) -> ChannelConfig
     }
 }
 
-/// The upper range value (SI) of each of the [`CHANNELS`] transmitters
-/// (per stage: suction pressure, discharge pressure, flow-element Δp),
-/// from the stages' design pressures.
-fn channel_ranges<G: GasModel<f32>>(config: &TrainConfig<f32, G, SECTIONS>) -> [f32; CHANNELS] {
-    let mut ranges = [0.0_f32; CHANNELS];
-    for (r, s) in ranges.chunks_exact_mut(3).zip(config.stages.iter()) {
-        let ps = s.design_suction_pressure.pa();
-        r[0] = 2.0 * ps;
-        r[1] = 1.5 * s.design_discharge_pressure.pa();
-        r[2] = 2.0 * FLOW_NUMBER * 2.0 * ps;
-    }
-    ranges
+/// The upper range value (SI) of transmitter `i` (per stage: suction
+/// pressure, discharge pressure, flow-element Δp), from its stage's design
+/// pressures. One channel at a time, where the channel is built (an array
+/// of all twelve, formed first, was its own unrolled code).
+fn channel_range(i: usize, stages: &[StageConfig<f32>; SECTIONS]) -> f32 {
+    // Per kind: 2 · suction pressure, 1.5 · discharge pressure, and for the
+    // flow element 2 · FLOW_NUMBER · 2 · suction pressure (its constant
+    // factor formed first, as the expression always evaluated it: the same
+    // bits).
+    const FACTOR: [f32; 3] = [2.0, 1.5, 2.0 * FLOW_NUMBER * 2.0];
+    let s = &stages[(i / 3) % SECTIONS];
+    let p = if i % 3 == 1 {
+        s.design_discharge_pressure
+    } else {
+        s.design_suction_pressure
+    };
+    FACTOR[i % 3] * p.pa()
 }
 
-/// Transmitter `i` of [`channel_ranges`]: every third one a Δp.
+/// Transmitter `i` of [`channel_range`]: every third one a Δp.
 #[cfg(not(target_os = "none"))]
-fn channel(i: usize, ranges: &[f32; CHANNELS]) -> Result<TransmitterChannel, ConfigError> {
-    transmitter(i as u8, channel_unit(i), ranges[i])
+fn channel(
+    i: usize,
+    stages: &[StageConfig<f32>; SECTIONS],
+) -> Result<TransmitterChannel, ConfigError> {
+    transmitter(i as u8, channel_unit(i), channel_range(i, stages))
 }
 
 /// The unit of transmitter `i`: every third one a Δp.
@@ -201,20 +209,20 @@ fn channel_unit(i: usize) -> Unit<f32> {
     }
 }
 
-/// Builds every transmitter (transmitter `i` over `0..ranges[i]`, its
-/// [`channel_ranges`] entry) in `slots`, in place, one after the other. Out
+/// Builds every transmitter (transmitter `i` over `0..`[`channel_range`])
+/// in `slots`, in place, one after the other. Out
 /// of line and a loop: one copy of the construction for every channel (the
 /// loop of [`Controller::build_in`] was unrolled into twelve calls).
 #[cfg(target_os = "none")]
 #[inline(never)]
 fn build_channels(
     slots: &mut [MaybeUninit<TransmitterChannel>; CHANNELS],
-    ranges: &[f32; CHANNELS],
+    stages: &[StageConfig<f32>; SECTIONS],
 ) -> Result<(), ConfigError> {
-    for (i, (slot, range_high)) in slots.iter_mut().zip(ranges).enumerate() {
+    for (i, slot) in slots.iter_mut().enumerate() {
         TransmitterChannel::new_in(
             slot,
-            transmitter_config(i as u8, channel_unit(i), *range_high),
+            transmitter_config(i as u8, channel_unit(i), channel_range(i, stages)),
         )?;
     }
     Ok(())
@@ -337,7 +345,6 @@ impl<G: GasModel<f32>> Controller<G> {
         slot: &mut MaybeUninit<Self>,
         config: TrainConfig<f32, G, SECTIONS>,
     ) -> Result<&mut Self, ConfigError> {
-        let ranges = channel_ranges(&config);
         let p = slot.as_mut_ptr();
         // SAFETY: every write goes to a field (or an element of an array
         // field) of `*p`, which `slot` owns and which is valid for writes;
@@ -348,12 +355,12 @@ impl<G: GasModel<f32>> Controller<G> {
             core::ptr::addr_of_mut!((*p).last_ms).write(None);
             // In place (no train-sized copy on the stack, no move code).
             let train = core::ptr::addr_of_mut!((*p).train).cast::<MaybeUninit<SectionTrain<G>>>();
-            SectionTrain::new_in(&mut *train, config)?;
+            let stages = &SectionTrain::new_in(&mut *train, config)?.config().stages;
             // `MaybeUninit<[X; K]>` and `[MaybeUninit<X>; K]` have the same
             // layout.
             let channels = core::ptr::addr_of_mut!((*p).channels)
                 .cast::<[MaybeUninit<TransmitterChannel>; CHANNELS]>();
-            build_channels(&mut *channels, &ranges)?;
+            build_channels(&mut *channels, stages)?;
             let monitors = core::ptr::addr_of_mut!((*p).monitors)
                 .cast::<[MaybeUninit<SectionMonitor>; SECTIONS]>();
             build_monitors(&mut *monitors)?;
@@ -363,18 +370,18 @@ impl<G: GasModel<f32>> Controller<G> {
 
     /// The same build on the host (the criterion bench includes this file
     /// into the kernel package, which forbids `unsafe`): the same parts
-    /// ([`channel_ranges`], [`channel`], [`section_monitor`]), assembled on
+    /// ([`channel_range`], [`channel`], [`section_monitor`]), assembled on
     /// the stack and moved into `slot` (the host has the stack for it).
     #[cfg(not(target_os = "none"))]
     pub fn build_in(
         slot: &mut MaybeUninit<Self>,
         config: TrainConfig<f32, G, SECTIONS>,
     ) -> Result<&mut Self, ConfigError> {
-        let ranges = channel_ranges(&config);
         let train = SectionTrain::new(config)?;
-        let mut channels = [channel(0, &ranges)?; CHANNELS];
+        let stages = &train.config().stages;
+        let mut channels = [channel(0, stages)?; CHANNELS];
         for (i, c) in channels.iter_mut().enumerate().skip(1) {
-            *c = channel(i, &ranges)?;
+            *c = channel(i, stages)?;
         }
         let monitor = section_monitor()?;
         Ok(slot.write(Controller {
