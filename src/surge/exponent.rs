@@ -176,7 +176,7 @@ fn measured_sigma_with<T: Real>(
     let sigma = T::ln(t2 / t1) / ln_ratio.of(ratio);
     if sigma >= T::of(SIGMA_MIN) && sigma <= T::of(SIGMA_MAX) {
         Ok(sigma)
-    } else if T::is_finite(t1) && T::is_finite(t2) && T::is_finite(ratio) {
+    } else if T::all_finite(&[t1, t2, ratio]) {
         Err(ExponentFault::OutOfBounds)
     } else {
         Err(ExponentFault::InputBad)
