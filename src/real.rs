@@ -322,6 +322,10 @@ impl_real!(
 #[cfg(any(test, not(feature = "approx-math")))]
 mod table_log_exp;
 
+// The `f32` square root of every build: correctly rounded, so bit for bit
+// `libm::sqrtf`'s, in a loop instead of `libm`'s table (less flash).
+mod sqrt_bitwise;
+
 // `ln` and `exp` go through out-of-line wrappers: with LTO, the bodies were
 // inlined at every call site (some 20 copies). Measured on Cortex-M4F
 // (ci/measure.sh, the `inline-math` column, with `libm`'s `logf`/`expf`):
@@ -336,7 +340,7 @@ impl_real!(
     bits::positive_at_most_f32,
     table_log_exp::ln_out_of_line,
     table_log_exp::exp_out_of_line,
-    libm::sqrtf,
+    sqrt_bitwise::sqrtf,
     libm::powf,
     libm::fabsf
 );
@@ -349,7 +353,7 @@ impl_real!(
     bits::positive_at_most_f32,
     table_log_exp::ln,
     table_log_exp::exp,
-    libm::sqrtf,
+    sqrt_bitwise::sqrtf,
     libm::powf,
     libm::fabsf
 );
@@ -410,7 +414,7 @@ mod approx {
 
 // The square root stays exact: micromath's approximation was measured at
 // 6 % relative error by the sweep below, too coarse for flow from a
-// differential pressure, and libm's is cheap.
+// differential pressure, and the correctly rounded one is cheap.
 #[cfg(feature = "approx-math")]
 impl_real!(
     f32,
@@ -419,7 +423,7 @@ impl_real!(
     bits::positive_at_most_f32,
     approx::ln,
     approx::exp,
-    libm::sqrtf,
+    sqrt_bitwise::sqrtf,
     approx::pow,
     libm::fabsf
 );

@@ -385,13 +385,25 @@ impl<T: Real> Scaling<T> {
         let (fraction, fault) = match self.source {
             // A current in the measuring band is finite: the band test
             // comes first, the finiteness test only outside it.
-            Source::Current | Source::CurrentInBandFinite => {
-                (raw - T::of(ne43::RANGE_LOW_MA), ne43::classify(raw))
+            // One NE 43 classification for the three current sources.
+            Source::Current | Source::CurrentInBandFinite | Source::CurrentBySpan => {
+                let fraction = if self.source == Source::CurrentBySpan {
+                    ne43::fraction(raw)
+                } else {
+                    raw - T::of(ne43::RANGE_LOW_MA)
+                };
+                (fraction, ne43::classify(raw))
             }
-            Source::CurrentBySpan => (ne43::fraction(raw), ne43::classify(raw)),
             _ if !T::is_finite(raw) => return (T::ZERO, FaultCode::NotFinite),
-            Source::Voltage => span_fraction(raw / T::of(10.0)),
-            Source::Counts { zero } => span_fraction((raw - zero) / self.counts_span),
+            // A 0–10 V signal as counts from zero over a span of 10 (`raw −
+            // 0` is `raw`, bit for bit, −0 included): one copy of the code.
+            Source::Voltage | Source::Counts { .. } => {
+                let (zero, span) = match self.source {
+                    Source::Counts { zero } => (zero, self.counts_span),
+                    _ => (T::ZERO, T::of(10.0)),
+                };
+                span_fraction((raw - zero) / span)
+            }
             Source::Engineering => {
                 let v = self.si_of(raw);
                 return if T::is_finite(v) {
@@ -423,7 +435,9 @@ impl<T: Real> Scaling<T> {
 
 fn span_fraction<T: Real>(f: T) -> (T, FaultCode) {
     let a = T::of(SPAN_ALLOWANCE);
-    if T::is_finite(f) && f >= -a && f <= T::ONE + a {
+    // (The two compares are false for a NaN and for either infinity: no
+    // finiteness test of its own.)
+    if f >= -a && f <= T::ONE + a {
         (f, FaultCode::None)
     } else {
         (f, FaultCode::SignalOutOfRange)
@@ -433,6 +447,61 @@ fn span_fraction<T: Real>(f: T) -> (T, FaultCode) {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A 0–10 V signal scaled as counts from 0 over 10 gives the bits of
+    /// its own form, `raw / 10` (consistency check of the shared arm):
+    /// seeded voltages of every exponent and sign, the span edges, ±0,
+    /// infinities and NaN; values compared bit for bit, faults equal.
+    #[test]
+    fn voltage_as_counts_from_zero_gives_the_same_bits() {
+        let cfg = ChannelConfig {
+            id: 0,
+            signal: SignalKind::Voltage0To10,
+            unit: Unit::Celsius,
+            range_low: -50.0_f32,
+            range_high: 150.0,
+            plausible_low: -60.0,
+            plausible_high: 160.0,
+            noise_floor: 0.0,
+            instrument: InstrumentClass::Absolute(0.0),
+            max_rate: 1.0,
+            filter_time_constant_s: 0.0,
+            hold_ms: 0,
+        };
+        let c = Scaling::for_channel(&cfg);
+        let mut raws = std::vec![
+            0.0_f32,
+            -0.0,
+            10.0,
+            -0.25,
+            10.25,
+            f32::INFINITY,
+            f32::NEG_INFINITY,
+            f32::NAN,
+            f32::MAX,
+            1.0e-45,
+        ];
+        let mut state = 29_u64;
+        for _ in 0..50_000 {
+            state = crate::lcg64_step(state);
+            raws.push(f32::from_bits((state >> 32) as u32));
+            raws.push(((state >> 40) % 11_000) as f32 * 1.0e-3 - 0.5);
+        }
+        for raw in raws {
+            let (want, fault) = if raw.is_finite() {
+                let (f, fault) = span_fraction(raw / 10.0);
+                c.scale_fraction(f, fault)
+            } else {
+                (0.0, FaultCode::NotFinite)
+            };
+            let (got, got_fault) = c.scale(raw);
+            assert_eq!(
+                (got.to_bits(), got_fault),
+                (want.to_bits(), fault),
+                "{raw:e} V"
+            );
+        }
+    }
 
     /// The scaling as the configuration's formulas write it (fraction of
     /// span, then × span, then the additions): the reference for

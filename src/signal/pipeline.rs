@@ -107,8 +107,10 @@ pub struct Channel<T, const W: usize, const M: usize> {
     /// answers; [`Plausibility`]'s `check_scaled`).
     by_bits: bool,
     /// `true` if the plausible range lies above zero: every accepted sample
-    /// is then positive and finite, and the median compares on the bit
-    /// patterns ([`SortedWindow::update_positive`]).
+    /// is then positive and finite, and without a floating-point unit the
+    /// median compares on the bit patterns
+    /// ([`SortedWindow::update_positive`]; with one, the float compare
+    /// costs the same and one copy of the median serves every channel).
     positive: bool,
     scaling: Scaling<T>,
     /// The smallest gap limit, ms: `max(hold_ms, 1)`.
@@ -318,7 +320,10 @@ impl<T: Real, const W: usize, const M: usize> Channel<T, W, M> {
             self.since_filtered_ms = self.since_filtered_ms.saturating_add(dt_ms);
             (T::ZERO, T::ZERO)
         } else {
-            let m = if self.positive {
+            // With a floating-point unit the float compare costs what the
+            // integer one does: one copy of the median code (the same
+            // order, so the same median) instead of two.
+            let m = if !HARD_FLOAT && self.positive {
                 self.median.update_positive(v, leaving, held)
             } else {
                 self.median.update(v, leaving, held)

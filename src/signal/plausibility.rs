@@ -175,19 +175,25 @@ pub fn rate_allowance<T: Real>(max_rate: T, ms: u32) -> T {
 /// (`max − min <= floor`). Stops at the first value that widens the band
 /// beyond `floor`: the running range only grows, so the answer is that of
 /// the whole window, and a live signal is told from a frozen one after a
-/// sample or two instead of a pass over the window. NaN-free values assumed.
+/// sample or two instead of a pass over the window. NaN-free values and
+/// `floor >= 0` (validated) assumed: the band is tested where it widens
+/// only (a value inside it leaves the answer as it was, and the band of
+/// `v` alone, 0, is within any such floor). Two exits where the band
+/// widens, which also keeps the loop one copy (Cortex-M4F: not unrolled).
 fn within_band<T: Real>(values: &[T], v: T, floor: T) -> bool {
     let mut lo = v;
     let mut hi = v;
     for &x in values {
         if below(x, lo) {
             lo = x;
-        }
-        if above(x, hi) {
+            if above(hi - lo, floor) {
+                return false;
+            }
+        } else if above(x, hi) {
             hi = x;
-        }
-        if above(hi - lo, floor) {
-            return false;
+            if above(hi - lo, floor) {
+                return false;
+            }
         }
     }
     true

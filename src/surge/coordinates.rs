@@ -320,9 +320,8 @@ const ROOT_HIGH: f64 = 4.0;
 /// moves by at most 1.2e-7, far inside
 /// [`crate::tolerance::SURGE_MARGIN`]. Everywhere else, and for `f64`, it is
 /// `T::sqrt` (on a soft-float core the library root is the cheaper one).
-/// With Heron's root, a `q` in its range (positive: every operating point
-/// near the line on the forward side) goes straight to the iteration, one
-/// comparison (the sign) fewer; the same results.
+/// With Heron's root, the root of `|q|` is taken by one copy of the code
+/// and the sign put back (one copy of the steps for both signs).
 #[inline]
 pub(crate) fn signed_margin_root<T: Real>(q: T) -> T {
     signed_root_by(q, cfg!(target_abi = "eabihf"))
@@ -367,8 +366,20 @@ fn heron_steps<T: Real>(q: T) -> T {
 /// [`signed_margin_root`] with Heron's root (`heron`) or the library's.
 #[inline(always)]
 fn signed_root_by<T: Real>(x: T, heron: bool) -> T {
-    if heron && heron_range(x) {
-        return heron_steps(x);
+    if heron {
+        // One copy of the steps for both signs: `−√(−x)` for a negative
+        // `x`, `√x` otherwise, each root Heron's in its range, else the
+        // library's. `|x|` is `−x` for a negative `x` and `x` itself for
+        // any other in the range; out of it the library's root takes `x`
+        // itself where it is not negative (a −0 gives −0, as before).
+        let negative = x < T::ZERO;
+        let magnitude = T::abs(x);
+        let root = if heron_range(magnitude) {
+            heron_steps(magnitude)
+        } else {
+            T::sqrt(if negative { magnitude } else { x })
+        };
+        return if negative { -root } else { root };
     }
     // The sign on the bit patterns without an FPU (a float comparison is a
     // library call there): the same branch for every `x` but a NaN, which

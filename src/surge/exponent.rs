@@ -163,8 +163,10 @@ fn measured_sigma_with<T: Real>(
     // infinite, NaN or 0, outside the bounds; `T2 > 0` and `r > 0` follow
     // from the rise and `r > 1`. A rejected sample is classified in the
     // documented order.
-    let early = suction_temperature.quality == Quality::Good
-        && discharge_temperature.quality == Quality::Good
+    let early = suction_temperature
+        .quality
+        .worst(discharge_temperature.quality)
+        == Quality::Good
         && t1 > T::ZERO
         && t2 - t1 >= T::of(RISE_PER_ACCURACY) * temperature_accuracy
         && ratio > T::ONE;
@@ -174,7 +176,7 @@ fn measured_sigma_with<T: Real>(
     let sigma = T::ln(t2 / t1) / ln_ratio.of(ratio);
     if sigma >= T::of(SIGMA_MIN) && sigma <= T::of(SIGMA_MAX) {
         Ok(sigma)
-    } else if T::is_finite(t1) && T::is_finite(t2) && T::is_finite(ratio) {
+    } else if T::all_finite(&[t1, t2, ratio]) {
         Err(ExponentFault::OutOfBounds)
     } else {
         Err(ExponentFault::InputBad)
@@ -193,14 +195,14 @@ fn rejected<T: Real>(
 ) -> ExponentFault {
     let t1 = suction_temperature.value.kelvin();
     let t2 = discharge_temperature.value.kelvin();
-    let good = suction_temperature.quality == Quality::Good
-        && discharge_temperature.quality == Quality::Good
-        && T::is_finite(t1)
-        && T::is_finite(t2)
-        && T::is_finite(ratio)
-        && t1 > T::ZERO
-        && t2 > T::ZERO
-        && ratio > T::ZERO;
+    // Finite and positive: one test on the bits each (the same verdicts).
+    let good = suction_temperature
+        .quality
+        .worst(discharge_temperature.quality)
+        == Quality::Good
+        && super::positive_finite(t1)
+        && super::positive_finite(t2)
+        && super::positive_finite(ratio);
     if !good {
         return ExponentFault::InputBad;
     }
@@ -309,7 +311,8 @@ impl<T: Real> ExponentEstimator<T> {
         let Some(config) = self.measured else {
             return self.state;
         };
-        let dt_ok = T::is_finite(dt) && dt > T::ZERO;
+        // Finite and positive: one test on the bits.
+        let dt_ok = super::positive_finite(dt);
         let raw = match ratio {
             Some(r) => measured_sigma_with(
                 suction_temperature,

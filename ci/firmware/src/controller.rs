@@ -311,6 +311,23 @@ fn read_stage(
     }
 }
 
+/// One section of [`Controller::protect`]: its three channels, then its
+/// monitor; the margin. Out of line: one copy for the four sections
+/// (unrolled, the loop held four copies of the channel calls and of the
+/// monitor's arguments).
+#[inline(never)]
+fn protect_section(
+    stage: &mut polytrope::scan::StageScan<f32>,
+    ch: &mut [TransmitterChannel; 3],
+    r: &[f32; 3],
+    monitor: &mut SectionMonitor,
+    t_ms: u32,
+    dt: f32,
+) -> f32 {
+    let s = read_stage(stage, ch, r, t_ms);
+    monitor.update(&s, 0.0, dt).margin.value
+}
+
 impl<G: GasModel<f32>> Controller<G> {
     /// Builds the train, the channels (ranges from the stages' design
     /// pressures) and the monitors into `slot`, in place, field by field:
@@ -442,8 +459,11 @@ impl<G: GasModel<f32>> Controller<G> {
             .zip(self.monitors.iter_mut())
             .zip(margins.iter_mut())
         {
-            let s = read_stage(stage, ch, r, t_ms);
-            *margin = m.update(&s, 0.0, dt).margin.value;
+            // Chunks of exactly three: the conversions cannot fail (and
+            // fold away).
+            if let (Ok(ch), Ok(r)) = (<&mut [_; 3]>::try_from(ch), <&[f32; 3]>::try_from(r)) {
+                *margin = protect_section(stage, ch, r, m, t_ms, dt);
+            }
         }
         margins
     }
