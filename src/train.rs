@@ -775,10 +775,11 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                             [s.p1, s.p2, s.t1, s.flow],
                             &self.limits,
                         );
-                        let steady = detector.update(
+                        // A pump stage's detector never gets a temperature
+                        // (the stage kind is immutable).
+                        let steady = detector.update_without_temperature(
                             &self.config.steady_state,
                             r.pressure_ratio,
-                            None,
                             flow,
                         );
                         *out = StageResult {
