@@ -720,7 +720,8 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
             .zip(self.snapshot.stages.iter_mut());
         for ((((cfg, _raw), s), detector), out) in parts {
             let flow = if s.flow_measured { Some(s.flow) } else { None };
-            match cfg.kind {
+            // The ratio and temperature the stage's detector gets.
+            let (ratio, temperature) = match cfg.kind {
                 StageKind::Compressor => {
                     // The boundary's values read in place (no
                     // `CompressorInputs` copy), the result written in
@@ -740,16 +741,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                         );
                         s.stage_settled = settled;
                     }
-                    // The configuration passed `SteadyStateConfig::validate` in
-                    // `Train::validate` (every constructor) and is immutable;
-                    // a compressor stage's detector gets a temperature on
-                    // every scan (the stage kind is immutable too).
-                    out.steady_state = detector.update_compressor(
-                        &self.config.steady_state,
-                        out.pressure_ratio(),
-                        s.t2,
-                        flow,
-                    );
+                    (out.pressure_ratio(), s.t2)
                 }
                 StageKind::Pump {
                     density,
@@ -757,15 +749,18 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                 } => {
                     // Without an FPU out of line: see `pump_stage`.
                     #[cfg(all(target_arch = "arm", not(target_abi = "eabihf")))]
-                    pump_stage(
-                        &self.config.gas,
-                        &self.config.steady_state,
-                        &self.limits,
-                        [density, efficiency],
-                        s,
-                        detector,
-                        out,
-                    );
+                    {
+                        pump_stage(
+                            &self.config.gas,
+                            &self.config.steady_state,
+                            &self.limits,
+                            [density, efficiency],
+                            s,
+                            detector,
+                            out,
+                        );
+                        continue;
+                    }
                     #[cfg(not(all(target_arch = "arm", not(target_abi = "eabihf"))))]
                     {
                         let r = evaluate_pump_within(
@@ -775,20 +770,24 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                             [s.p1, s.p2, s.t1, s.flow],
                             &self.limits,
                         );
-                        // A pump stage's detector never gets a temperature
-                        // (the stage kind is immutable).
-                        let steady = detector.update_without_temperature(
-                            &self.config.steady_state,
-                            r.pressure_ratio,
-                            flow,
-                        );
-                        *out = StageResult {
-                            work: StageWork::Pump(r),
-                            steady_state: steady,
-                        };
+                        let ratio = r.pressure_ratio;
+                        out.work = StageWork::Pump(r);
+                        // A pump has no meaningful discharge temperature:
+                        // a constant stands in for it on every scan (the
+                        // stage kind is immutable), so its window's spread
+                        // is 0, as an empty window's (what the general
+                        // update gives without a temperature), and the
+                        // compressor's update serves (one inlined copy).
+                        (ratio, Measured::good(T::ZERO))
                     }
                 }
-            }
+            };
+            // The configuration passed `SteadyStateConfig::validate` in
+            // `Train::validate` (every constructor) and is immutable; every
+            // stage's detector gets a temperature on every scan (the stage
+            // kind is immutable too).
+            out.steady_state =
+                detector.update_compressor(&self.config.steady_state, ratio, temperature, flow);
         }
     }
 
