@@ -760,20 +760,27 @@ impl OutputGrades {
             uncertain: suspect,
         };
         if g.not_good() != 0 {
-            for (i, u) in uses().iter().enumerate().take(16) {
-                let bit = 1 << i;
-                if u.0 & g.not_applicable != 0 {
-                    o.not_applicable |= bit;
-                }
-                if u.0 & g.bad != 0 {
-                    o.bad |= bit;
-                }
-                if u.0 & g.uncertain != 0 {
-                    o.uncertain |= bit;
-                }
-            }
+            o.add_uses(g, &uses());
         }
         o
+    }
+
+    /// The grading loop of [`OutputGrades::from_uses`], out of line (off
+    /// the steady scan's path: inlined, it was unrolled at every use).
+    #[inline(never)]
+    fn add_uses(&mut self, g: &Grades, uses: &[Use]) {
+        for (i, u) in uses.iter().enumerate().take(16) {
+            let bit = 1 << i;
+            if u.0 & g.not_applicable != 0 {
+                self.not_applicable |= bit;
+            }
+            if u.0 & g.bad != 0 {
+                self.bad |= bit;
+            }
+            if u.0 & g.uncertain != 0 {
+                self.uncertain |= bit;
+            }
+        }
     }
 
     /// `true` if no output of `mask` is bad or not applicable (before the
