@@ -408,14 +408,7 @@ impl StageUses {
         let uncertain_users = |c| {
             let mut g = Grades::new();
             g.check(c, Quality::Uncertain);
-            let o = OutputGrades::from_uses(&g, || uses, u16::MAX, 0);
-            (0..16).fold(0u16, |m, i| {
-                if o.none_uncertain(1 << i) {
-                    m
-                } else {
-                    m | 1 << i
-                }
-            })
+            OutputGrades::from_uses(&g, || uses, u16::MAX, 0).uncertain()
         };
         self.inputs = inputs;
         self.users.fill(&uses);
