@@ -93,6 +93,7 @@ work, out_md = sys.argv[1], sys.argv[2]
 targets = [("thumbv7em-none-eabihf", "Cortex-M4F", 120), ("thumbv6m-none-eabi", "Cortex-M0", 48)]
 labels_doc = {
     "full_scan": "**whole controller scan**: 12 × `Channel::update` → 4 × `SurgeMonitor::update` (protection first) → 4-stage + 3-intercooler `Train::update` (one call; `ci/firmware/src/controller.rs`)",
+    "full_scan_regraded": "the same whole scan when every stage's output qualities change from the scan before (regraded: uncertain suction temperatures in every other scan; the line above is a steady scan's)",
     "full_scan_channels": "… of which the 12 channels (phase 1, measured as its own call in the same firmware)",
     "full_scan_train": "… of which the train update on their pressures (phase 3, same firmware)",
     "full_scan_monitors": "… of which the 4 surge monitors (phase 2, same firmware)",
