@@ -750,16 +750,15 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
                     // Without an FPU out of line: see `pump_stage`.
                     #[cfg(all(target_arch = "arm", not(target_abi = "eabihf")))]
                     {
-                        pump_stage(
+                        let ratio = pump_stage(
                             &self.config.gas,
-                            &self.config.steady_state,
                             &self.limits,
                             [density, efficiency],
                             s,
-                            detector,
                             out,
                         );
-                        continue;
+                        // As with an FPU below.
+                        (ratio, Measured::good(T::ZERO))
                     }
                     #[cfg(not(all(target_arch = "arm", not(target_abi = "eabihf"))))]
                     {
@@ -1239,29 +1238,25 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize> Train<T, G, N, W> 
 }
 
 /// A pump stage of [`Train::evaluate_stages`] without an FPU: its result
-/// and its detector, out of line so that the pump result's temporaries are
-/// not in the frame of the stage loop, whose deepest call (a compressor
-/// stage's gas model) sets the scan's stack (measured on a Cortex-M0: the
-/// Peng-Robinson 4+3 update 1,020 -> 948 B). With an FPU the pump stage
-/// stays inline in the loop (out of line it cost instructions there).
+/// (its pressure ratio returned for the stage's detector), out of line so
+/// that the pump result's temporaries are not in the frame of the stage
+/// loop, whose deepest call (a compressor stage's gas model) sets the
+/// scan's stack (measured on a Cortex-M0: the Peng-Robinson 4+3 update
+/// 1,020 -> 948 B). With an FPU the pump stage stays inline in the loop
+/// (out of line it cost instructions there).
 #[cfg(all(target_arch = "arm", not(target_abi = "eabihf")))]
 #[inline(never)]
-fn pump_stage<T: Real, G: GasModel<T>, const W: usize>(
+fn pump_stage<T: Real, G: GasModel<T>>(
     gas: &G,
-    steady: &SteadyStateConfig<T>,
     limits: &Limits<T>,
     [density, efficiency]: [T; 2],
     s: &StageSi<T>,
-    detector: &mut SteadyStateDetector<T, W>,
     out: &mut StageResult<T>,
-) {
-    let flow = if s.flow_measured { Some(s.flow) } else { None };
+) -> Measured<T> {
     let r = evaluate_pump_within(gas, density, efficiency, [s.p1, s.p2, s.t1, s.flow], limits);
-    let steady_state = detector.update(steady, r.pressure_ratio, None, flow);
-    *out = StageResult {
-        work: StageWork::Pump(r),
-        steady_state,
-    };
+    let ratio = r.pressure_ratio;
+    out.work = StageWork::Pump(r);
+    ratio
 }
 
 /// A cooler's own reading after the sensor boundary, for validated limits
