@@ -498,12 +498,14 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
             };
             // The slots' part of the grading key; every slot usable in one
             // test.
-            let key = u16::from(p1.quality as u8)
-                | u16::from(t1.quality as u8) << 2
-                | u16::from(p2.quality as u8) << 4
-                | u16::from(t2.quality as u8) << 6
-                | u16::from(flow.quality as u8) << 8
-                | u16::from(q_z as u8) << 10;
+            let key = slot_key([
+                p1.quality,
+                t1.quality,
+                p2.quality,
+                t2.quality,
+                flow.quality,
+                q_z,
+            ]);
             let usable = key & KEY_NOT_USABLE == 0;
             // Every slot usable: the path values are the readings (as
             // `path_values` gives them then), without its selections.
@@ -922,12 +924,14 @@ fn finish_general<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     // low bit alone uncertain, high bit alone bad, both not applicable) by
     // shifts and masks, as `Grades::first_slot` for each slot gives them
     // (six inlined matches were 112 bytes more flash on Cortex-M4F).
-    let key = u16::from(p1.quality as u8)
-        | u16::from(t1.quality as u8) << 2
-        | u16::from(p2.quality as u8) << 4
-        | u16::from(t2.quality as u8) << 6
-        | u16::from(flow.quality as u8) << 8
-        | u16::from(q_z as u8) << 10;
+    let key = slot_key([
+        p1.quality,
+        t1.quality,
+        p2.quality,
+        t2.quality,
+        flow.quality,
+        q_z,
+    ]);
     let (lo, hi) = (key_slots(key, 0), key_slots(key, 1));
     let mut g = Grades::of_slots(Slots(lo & !hi), Slots(hi & !lo), Slots(lo & hi));
     if checks.has(CompressorChecks::RATIO_OUT_OF_RANGE) {
@@ -1100,6 +1104,20 @@ fn settle_nominal<T: Real>(tables: &StageUses, key: u16, out: &mut CompressorRes
     } else {
         StageCondition::OutsideGasModel
     };
+}
+
+/// The slots' part of a grading key: the qualities of P1, T1, P2, T2, the
+/// flow and Z (slot order, asserted in [`settle_nominal`]), two bits each
+/// (the quality's discriminant), slot i at bits 2i and 2i + 1. The one
+/// packing of the nominal path's key and the general finish's slots.
+#[inline(always)]
+fn slot_key([p1, t1, p2, t2, flow, z]: [Quality; 6]) -> u16 {
+    u16::from(p1 as u8)
+        | u16::from(t1 as u8) << 2
+        | u16::from(p2 as u8) << 4
+        | u16::from(t2 as u8) << 6
+        | u16::from(flow as u8) << 8
+        | u16::from(z as u8) << 10
 }
 
 /// The slots (bit i = slot i: P1, T1, P2, T2, flow, Z, asserted in
