@@ -178,7 +178,7 @@ pub fn rate_allowance<T: Real>(max_rate: T, ms: u32) -> T {
 /// sample or two instead of a pass over the window. NaN-free values and
 /// `floor >= 0` (validated) assumed: the band is tested where it widens
 /// only (a value inside it leaves the answer as it was, and the band of
-/// `v` alone, 0, is within any such floor). Two exits where the band
+/// `v` alone, 0, is within any such floor). One exit, taken where the band
 /// widens, which also keeps the loop one copy (Cortex-M4F: not unrolled).
 fn within_band<T: Real>(values: &[T], v: T, floor: T) -> bool {
     let mut lo = v;
@@ -186,14 +186,13 @@ fn within_band<T: Real>(values: &[T], v: T, floor: T) -> bool {
     for &x in values {
         if below(x, lo) {
             lo = x;
-            if above(hi - lo, floor) {
-                return false;
-            }
         } else if above(x, hi) {
             hi = x;
-            if above(hi - lo, floor) {
-                return false;
-            }
+        } else {
+            continue;
+        }
+        if above(hi - lo, floor) {
+            return false;
         }
     }
     true
