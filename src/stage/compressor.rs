@@ -1109,9 +1109,10 @@ fn settle_nominal<T: Real>(tables: &StageUses, key: u16, out: &mut CompressorRes
 /// The slots' part of a grading key: the qualities of P1, T1, P2, T2, the
 /// flow and Z (slot order, asserted in [`settle_nominal`]), two bits each
 /// (the quality's discriminant), slot i at bits 2i and 2i + 1. The one
-/// packing of the nominal path's key and the general finish's slots.
+/// packing of the nominal path's key, the general finish's slots and the
+/// pump's ([`super::pump`]).
 #[inline(always)]
-fn slot_key([p1, t1, p2, t2, flow, z]: [Quality; 6]) -> u16 {
+pub(super) fn slot_key([p1, t1, p2, t2, flow, z]: [Quality; 6]) -> u16 {
     u16::from(p1 as u8)
         | u16::from(t1 as u8) << 2
         | u16::from(p2 as u8) << 4

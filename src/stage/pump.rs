@@ -14,7 +14,7 @@
 //! pressure ratio from the pump's suction temperature, with the train's gas
 //! constant and ideal-gas heat-capacity ratio.
 
-use super::compressor::key_slots;
+use super::compressor::{key_slots, slot_key};
 use crate::compression::isentropic_head;
 use crate::dependency::{check, property_slots, pump_uses, Grades, Slots, Use};
 use crate::gas::GasModel;
@@ -118,11 +118,16 @@ pub fn evaluate_pump_within<T: Real, G: GasModel<T>>(
     let dp = p2.value - p1.value;
     let ratio = p2.value / p1.value;
     // The slots' grades from their qualities' discriminants by shifts, as
-    // `Grades::slot` for each gives them (see `key_slots`).
-    let key = u16::from(p1.quality as u8)
-        | u16::from(t1.quality as u8) << 2
-        | u16::from(p2.quality as u8) << 4
-        | u16::from(mass_flow.quality as u8) << 8;
+    // `Grades::slot` for each gives them (see `key_slots`); a pump has no
+    // T2 or Z slot (good: a zero pair).
+    let key = slot_key([
+        p1.quality,
+        t1.quality,
+        p2.quality,
+        Quality::Good,
+        mass_flow.quality,
+        Quality::Good,
+    ]);
     let (lo, hi) = (key_slots(key, 0), key_slots(key, 1));
     let mut g = Grades::of_slots(Slots(lo & !hi), Slots(hi & !lo), Slots(lo & hi));
     let mut condition = PumpCondition::Normal;
