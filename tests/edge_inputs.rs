@@ -23,7 +23,7 @@ use polytrope::gas::{HeatCapacity, IdealGas, AIR};
 use polytrope::scan::{CoolerScan, Scan, StageScan};
 use polytrope::stage::StageCondition;
 use polytrope::steady::SteadyStateConfig;
-use polytrope::train::{Snapshot, StageConfig, StageKind, Train, TrainConfig};
+use polytrope::train::{CompressorTrain, Snapshot, StageConfig, StageKind, Train, TrainConfig};
 use polytrope::units::{Kelvin, PressureAbs};
 use polytrope::{ConfigError, Measured, Quality, Real};
 use proptest::prelude::*;
@@ -583,6 +583,29 @@ fn new_in_builds_what_new_builds() {
     same(bad, &scan);
 }
 
+/// A train type without pump stages (`CompressorTrain`, `PUMPS = false`)
+/// refuses a pump stage, naming the stage's kind and its index, from both
+/// constructors; the same configuration builds a default `Train`, so the
+/// refusal is the type's.
+#[test]
+fn a_compressor_train_refuses_a_pump_stage() {
+    let mut cfg = air2_config::<f64>();
+    cfg.stages[1] = pump(2.95e5, 9e5, 800.0, 0.7);
+    assert!(Train::<f64, _, 2, 4>::new(cfg).is_ok());
+    let e = CompressorTrain::<f64, _, 2, 4>::new(cfg)
+        .map(|_| ())
+        .unwrap_err();
+    assert_eq!((e.field, e.index), ("stages.kind", Some(1)), "{e:?}");
+    assert!(e.to_string().contains("without pump stages"), "{e}");
+    let mut slot = core::mem::MaybeUninit::uninit();
+    let e2 = CompressorTrain::<f64, _, 2, 4>::new_in(&mut slot, cfg)
+        .map(|_| ())
+        .unwrap_err();
+    assert_eq!(e, e2);
+    // A compressor-only configuration builds both.
+    assert!(CompressorTrain::<f64, _, 2, 4>::new(air2_config()).is_ok());
+}
+
 /// Before the first scan every stage's result is the all-bad result of its
 /// kind (the demo train ends in a pump), its steady state unknown, and
 /// every configured cooler (and only those) has an all-bad result
@@ -624,8 +647,9 @@ fn quality_of(q: u8) -> Quality {
     }
 }
 
-/// A demo-shaped f32 scan whose every number is an arbitrary bit pattern.
-fn wild_scan(bits: &[u32], q: &[u8]) -> Scan<f32, { polytrope::demo::STAGES }> {
+/// An f32 scan (demo-shaped where the demo train takes it) whose every
+/// number is an arbitrary bit pattern.
+fn wild_scan<const N: usize>(bits: &[u32], q: &[u8]) -> Scan<f32, N> {
     let mut i = 0;
     let mut next = || {
         let v = (
@@ -690,6 +714,34 @@ proptest! {
             snap.stages[0].compressor().unwrap().isentropic_efficiency.quality,
             Quality::Good
         );
+    }
+
+    /// A train without pump stages (`CompressorTrain`) gives the snapshot of
+    /// the default `Train` (`PUMPS = true`) of the same configuration, bit
+    /// for bit, over scans that mix the good air-train scan, arbitrary bit
+    /// patterns in every input and in one slot (consistency check of the
+    /// `PUMPS` parameter: it removes code, not behaviour).
+    #[test]
+    fn a_compressor_train_gives_the_general_trains_snapshot(
+        bits in proptest::collection::vec(any::<u32>(), 40),
+        q in proptest::collection::vec(any::<u8>(), 40),
+        slot in 0usize..SLOTS,
+    ) {
+        let mut general = air2::<f32>();
+        let mut compressors = CompressorTrain::<f32, _, 2, 4>::new(air2_config()).unwrap();
+        let mut one_wild = air2_scan::<f32>();
+        set_slot(&mut one_wild, slot, f32::from_bits(bits[0]));
+        let scans = [air2_scan(), wild_scan(&bits, &q), one_wild, air2_scan()];
+        for scan in &scans {
+            let (a, b) = (fields(general.update(scan)), fields(compressors.update(scan)));
+            prop_assert_eq!(a.len(), b.len());
+            for (x, y) in a.iter().zip(b.iter()) {
+                prop_assert_eq!(&x.name, &y.name);
+                prop_assert_eq!(x.value.to_bits(), y.value.to_bits(), "{}", x.name);
+                prop_assert_eq!(x.quality, y.quality, "{}", x.name);
+            }
+            prop_assert_eq!(format!("{:?}", general.snapshot()), format!("{:?}", compressors.snapshot()));
+        }
     }
 
     /// Mixed: a good demo scan with arbitrary bit patterns in a few slots

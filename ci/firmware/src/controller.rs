@@ -23,7 +23,7 @@ use polytrope::signal::{Channel, ChannelConfig, InstrumentClass, SignalKind, Uni
 use polytrope::surge::{
     MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
 };
-use polytrope::train::{Snapshot, StageConfig, Train, TrainConfig};
+use polytrope::train::{CompressorTrain, Snapshot, StageConfig, TrainConfig};
 use polytrope::units::{Kelvin, PressureAbs};
 use polytrope::ConfigError;
 
@@ -39,8 +39,9 @@ pub const SCAN_MS: u32 = 20;
 /// (4 τ), the steady-state window full.
 pub const WARM_SCANS: usize = 13;
 
-/// The train: the demo's first four stages, three intercoolers.
-pub type SectionTrain<G> = Train<f32, G, SECTIONS, { demo::WINDOW }>;
+/// The train: the demo's first four stages, three intercoolers; compressor
+/// stages only, so the pump evaluation is not linked (`CompressorTrain`).
+pub type SectionTrain<G> = CompressorTrain<f32, G, SECTIONS, { demo::WINDOW }>;
 /// One transmitter channel: 8-sample frozen window, 5-sample median.
 pub type TransmitterChannel = Channel<f32, 8, 5>;
 /// One surge-margin monitor: a 4-point line.
