@@ -19,7 +19,7 @@ mod snapshot_fields;
 
 use polytrope::cooler::{CoolerCondition, CoolerConfig};
 use polytrope::fields::StageInput;
-use polytrope::gas::{HeatCapacity, IdealGas, AIR};
+use polytrope::gas::{GasModel, HeatCapacity, IdealGas, IdealGasConstantK, AIR, BUILTIN_GASES};
 use polytrope::scan::{CoolerScan, Scan, StageScan};
 use polytrope::stage::StageCondition;
 use polytrope::steady::SteadyStateConfig;
@@ -34,6 +34,11 @@ type Air2<T> = Train<T, IdealGas<T>, 2, 4>;
 type Air2Config = TrainConfig<f64, IdealGas<f64>, 2>;
 
 fn air2_config<T: Real>() -> TrainConfig<T, IdealGas<T>, 2> {
+    air2_config_on(IdealGas::from_spec(&AIR, true, T::ONE).unwrap())
+}
+
+/// The air train's stages on `gas`.
+fn air2_config_on<T: Real, G>(gas: G) -> TrainConfig<T, G, 2> {
     let st = |a: f64, b: f64, cooled: bool| StageConfig {
         kind: StageKind::Compressor,
         design_suction_pressure: PressureAbs::from_pa(T::of(a)),
@@ -43,7 +48,7 @@ fn air2_config<T: Real>() -> TrainConfig<T, IdealGas<T>, 2> {
         }),
     };
     TrainConfig {
-        gas: IdealGas::from_spec(&AIR, true, T::ONE).unwrap(),
+        gas,
         stages: [st(1e5, 3e5, true), st(2.95e5, 9e5, false)],
         max_interstage_pressure_drop: T::of(0.1),
         steady_state: SteadyStateConfig::default(),
@@ -606,6 +611,81 @@ fn a_compressor_train_refuses_a_pump_stage() {
     assert!(CompressorTrain::<f64, _, 2, 4>::new(air2_config()).is_ok());
 }
 
+/// The constant-k gas type (`IdealGasConstantK`, `CP_POLYNOMIAL = false`)
+/// is the default `IdealGas` with a constant k: for every built-in gas and
+/// supplied Z (none, usable, unusable) the same state functions, path
+/// properties, compression states, cooler enthalpy drop, isothermal work
+/// and validity over a grid that includes invalid pressures and
+/// temperatures (compared through `Debug`, which shows every finite value
+/// exactly), and the same refusals (consistency check of the
+/// `CP_POLYNOMIAL` parameter: it removes code, not behaviour).
+#[test]
+fn the_constant_k_gas_type_is_the_constant_k_ideal_gas() {
+    let pressures = [f64::NAN, -1.0, 0.0, 1e3, 1e5, 3e6, 2e7, f64::INFINITY];
+    let temps = [f64::NAN, 0.0, 60.0, 250.0, 300.0, 450.0, 3000.0];
+    let mut compared = 0;
+    for spec in BUILTIN_GASES {
+        for z in [0.93, 1.0] {
+            let a = IdealGas::<f64>::from_spec(&spec, false, z).unwrap();
+            let b = IdealGasConstantK::<f64>::constant_k_from_spec(&spec, z).unwrap();
+            assert_eq!(format!("{a:?}"), format!("{b:?}"), "{}", spec.name);
+            assert_eq!(a.property_inputs(), b.property_inputs());
+            for &p1 in &pressures {
+                for &t1 in &temps {
+                    for zs in [None, Some(0.9), Some(f64::NAN)] {
+                        let same = |x: String, y: String| {
+                            assert_eq!(x, y, "{} {p1} {t1} {zs:?}", spec.name)
+                        };
+                        same(
+                            format!("{:?}", a.state(p1, t1, zs)),
+                            format!("{:?}", b.state(p1, t1, zs)),
+                        );
+                        for &p2 in &pressures[3..7] {
+                            let ln_r = (p2 / p1).ln();
+                            for t2 in [None, Some(t1 + 40.0)] {
+                                same(
+                                    format!("{:?}", a.compression(p1, t1, p2, ln_r, t2, zs)),
+                                    format!("{:?}", b.compression(p1, t1, p2, ln_r, t2, zs)),
+                                );
+                            }
+                            same(
+                                format!("{:?}", a.path(p1, t1, p2, t1 + 40.0, zs)),
+                                format!("{:?}", b.path(p1, t1, p2, t1 + 40.0, zs)),
+                            );
+                            same(
+                                format!("{:?}", a.enthalpy_drop(p2, t1 + 40.0, p1, t1, zs)),
+                                format!("{:?}", b.enthalpy_drop(p2, t1 + 40.0, p1, t1, zs)),
+                            );
+                            same(
+                                format!("{:?}", a.isothermal_work(p1, p2, ln_r, t1, zs)),
+                                format!("{:?}", b.isothermal_work(p1, p2, ln_r, t1, zs)),
+                            );
+                            compared += 1;
+                        }
+                        assert_eq!(a.fit_quality(t1, t1 + 40.0), b.fit_quality(t1, t1 + 40.0));
+                    }
+                }
+            }
+        }
+    }
+    assert!(compared > 1000, "{compared}");
+    // The same refusals, naming the same fields.
+    for (m, k, z) in [
+        (0.0, 1.4, 1.0),
+        (28.0, 1.0, 1.0),
+        (28.0, 2.99, 1.0),
+        (28.0, 1.4, 2.5),
+        (f64::NAN, 1.4, 1.0),
+    ] {
+        assert_eq!(
+            IdealGas::<f64>::new(m, HeatCapacity::ConstantK(k), z).map(|_| ()),
+            IdealGasConstantK::<f64>::constant_k(m, k, z).map(|_| ()),
+            "{m} {k} {z}"
+        );
+    }
+    assert!(IdealGasConstantK::<f64>::constant_k(28.0, 1.4, 1.0).is_ok());
+}
+
 /// Before the first scan every stage's result is the all-bad result of its
 /// kind (the demo train ends in a pump), its steady state unknown, and
 /// every configured cooler (and only those) has an all-bad result
@@ -635,6 +715,27 @@ fn snapshot_before_the_first_scan_follows_the_configuration() {
         assert_eq!(*c, s.cooler.map(|_| CoolerResult::bad()));
     }
     assert_eq!(pumps, 1);
+}
+
+/// Runs both trains over `scans` and requires bit-identical snapshots after
+/// each (every field's value bits and quality, and the whole snapshot
+/// through `Debug`).
+fn same_snapshots<A: GasModel<f32>, B: GasModel<f32>, const P: bool, const Q: bool>(
+    mut a: Train<f32, A, 2, 4, P>,
+    mut b: Train<f32, B, 2, 4, Q>,
+    scans: &[Scan<f32, 2>],
+) -> Result<(), TestCaseError> {
+    for scan in scans {
+        let (x, y) = (fields(a.update(scan)), fields(b.update(scan)));
+        prop_assert_eq!(x.len(), y.len());
+        for (x, y) in x.iter().zip(y.iter()) {
+            prop_assert_eq!(&x.name, &y.name);
+            prop_assert_eq!(x.value.to_bits(), y.value.to_bits(), "{}", x.name);
+            prop_assert_eq!(x.quality, y.quality, "{}", x.name);
+        }
+        prop_assert_eq!(format!("{:?}", a.snapshot()), format!("{:?}", b.snapshot()));
+    }
+    Ok(())
 }
 
 // ---- arbitrary bit patterns ----
@@ -718,30 +819,37 @@ proptest! {
 
     /// A train without pump stages (`CompressorTrain`) gives the snapshot of
     /// the default `Train` (`PUMPS = true`) of the same configuration, bit
-    /// for bit, over scans that mix the good air-train scan, arbitrary bit
+    /// for bit, and so does one on the constant-k gas type
+    /// (`IdealGasConstantK`) against the default gas with the same constant
+    /// k, over scans that mix the good air-train scan, arbitrary bit
     /// patterns in every input and in one slot (consistency check of the
-    /// `PUMPS` parameter: it removes code, not behaviour).
+    /// `PUMPS` and `CP_POLYNOMIAL` parameters: they remove code, not
+    /// behaviour).
     #[test]
     fn a_compressor_train_gives_the_general_trains_snapshot(
         bits in proptest::collection::vec(any::<u32>(), 40),
         q in proptest::collection::vec(any::<u8>(), 40),
         slot in 0usize..SLOTS,
     ) {
-        let mut general = air2::<f32>();
-        let mut compressors = CompressorTrain::<f32, _, 2, 4>::new(air2_config()).unwrap();
         let mut one_wild = air2_scan::<f32>();
         set_slot(&mut one_wild, slot, f32::from_bits(bits[0]));
         let scans = [air2_scan(), wild_scan(&bits, &q), one_wild, air2_scan()];
-        for scan in &scans {
-            let (a, b) = (fields(general.update(scan)), fields(compressors.update(scan)));
-            prop_assert_eq!(a.len(), b.len());
-            for (x, y) in a.iter().zip(b.iter()) {
-                prop_assert_eq!(&x.name, &y.name);
-                prop_assert_eq!(x.value.to_bits(), y.value.to_bits(), "{}", x.name);
-                prop_assert_eq!(x.quality, y.quality, "{}", x.name);
-            }
-            prop_assert_eq!(format!("{:?}", general.snapshot()), format!("{:?}", compressors.snapshot()));
-        }
+        // A cp(T) polynomial: the default train and the train without pump
+        // stages.
+        same_snapshots(
+            air2::<f32>(),
+            CompressorTrain::<f32, _, 2, 4>::new(air2_config()).unwrap(),
+            &scans,
+        )?;
+        // A constant k: the default train and gas, and the train without
+        // pump stages on the constant-k gas type (the controller's form).
+        let k_gas = IdealGas::from_spec(&AIR, false, 1.0).unwrap();
+        let k_type = IdealGasConstantK::constant_k_from_spec(&AIR, 1.0).unwrap();
+        same_snapshots(
+            Train::<f32, _, 2, 4>::new(air2_config_on(k_gas)).unwrap(),
+            CompressorTrain::<f32, _, 2, 4>::new(air2_config_on(k_type)).unwrap(),
+            &scans,
+        )?;
     }
 
     /// Mixed: a good demo scan with arbitrary bit patterns in a few slots

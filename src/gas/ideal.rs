@@ -56,9 +56,19 @@ pub enum HeatCapacity<T> {
 
 /// An ideal gas with a mean compressibility factor; validated at
 /// construction.
+///
+/// `CP_POLYNOMIAL` (default `true`) says whether the gas may take a cp(T)
+/// polynomial ([`HeatCapacity::Polynomial`]). A gas type with
+/// `CP_POLYNOMIAL = false` ([`IdealGasConstantK`], built by
+/// [`IdealGas::constant_k`] or [`IdealGas::constant_k_from_spec`]) cannot
+/// hold one and does not link the polynomial's code: on a device whose gas
+/// has a constant k that is less flash (measured on the controller firmware
+/// of `ci/firmware`: 808 bytes on Cortex-M4F, 1,008 on Cortex-M0). Its
+/// results are those of the same gas with `CP_POLYNOMIAL = true`, bit for
+/// bit (seeded and grid tests in `tests/edge_inputs.rs`).
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct IdealGas<T> {
+pub struct IdealGas<T, const CP_POLYNOMIAL: bool = true> {
     gas_constant: T,
     /// cp model, stored per kg: `ConstantK(k)` or polynomial in J/(kg K).
     heat_capacity: HeatCapacity<T>,
@@ -72,10 +82,51 @@ pub struct IdealGas<T> {
     reduced_limit: T,
 }
 
+/// An ideal gas with a constant k only (`CP_POLYNOMIAL = false`): see
+/// [`IdealGas`].
+pub type IdealGasConstantK<T> = IdealGas<T, false>;
+
 impl<T: Real> IdealGas<T> {
     /// A gas from its molar mass (kg/kmol), heat-capacity model and mean
     /// compressibility factor Z.
     pub fn new(
+        molar_mass: T,
+        heat_capacity: HeatCapacity<T>,
+        compressibility: T,
+    ) -> Result<Self, ConfigError> {
+        Self::build(molar_mass, heat_capacity, compressibility)
+    }
+
+    /// A built-in gas with constant k (`polynomial = false`) or cp(T).
+    pub fn from_spec(
+        spec: &GasSpec,
+        polynomial: bool,
+        compressibility: T,
+    ) -> Result<Self, ConfigError> {
+        Self::build_from_spec(spec, polynomial, compressibility)
+    }
+}
+
+impl<T: Real> IdealGas<T, false> {
+    /// A gas with a constant k from its molar mass (kg/kmol), heat-capacity
+    /// ratio k and mean compressibility factor Z: [`IdealGas::new`] with
+    /// [`HeatCapacity::ConstantK`] (the same checks and refusals), as the
+    /// constant-k type.
+    pub fn constant_k(molar_mass: T, k: T, compressibility: T) -> Result<Self, ConfigError> {
+        Self::build(molar_mass, HeatCapacity::ConstantK(k), compressibility)
+    }
+
+    /// A built-in gas with its constant k: [`IdealGas::from_spec`] with
+    /// `polynomial = false`, as the constant-k type.
+    pub fn constant_k_from_spec(spec: &GasSpec, compressibility: T) -> Result<Self, ConfigError> {
+        Self::build_from_spec(spec, false, compressibility)
+    }
+}
+
+impl<T: Real, const CP_POLYNOMIAL: bool> IdealGas<T, CP_POLYNOMIAL> {
+    /// The one construction of both gas types ([`IdealGas::new`],
+    /// [`IdealGas::constant_k`]).
+    fn build(
         molar_mass: T,
         heat_capacity: HeatCapacity<T>,
         compressibility: T,
@@ -112,6 +163,16 @@ impl<T: Real> IdealGas<T> {
                 t_min,
                 t_max,
             } => {
+                // (Not reached from the constant-k type's constructors,
+                // which pass a constant k; refused all the same.)
+                if !CP_POLYNOMIAL {
+                    return Err(ConfigError::new(
+                        "gas.cp_polynomial",
+                        Problem::Inconsistent {
+                            with: "a gas type with a constant k only (its `CP_POLYNOMIAL` parameter is false)",
+                        },
+                    ));
+                }
                 let per_kg = T::of(1.0e3) / molar_mass;
                 let c = coefficients.map(|c| c * per_kg);
                 if !(T::is_finite(t_min) && T::is_finite(t_max) && t_min > T::ZERO && t_max > t_min)
@@ -180,6 +241,19 @@ impl<T: Real> IdealGas<T> {
         Ok(self)
     }
 
+    /// The heat-capacity model as the type admits it: a gas type without
+    /// cp polynomials (`CP_POLYNOMIAL = false`) never holds one (its
+    /// construction refuses it and the model cannot be changed after), so
+    /// for it every polynomial arm below is known unreachable and is not
+    /// compiled in (the placeholder k of the impossible case is never read).
+    #[inline(always)]
+    fn cp_model(&self) -> HeatCapacity<T> {
+        match self.heat_capacity {
+            HeatCapacity::Polynomial { .. } if !CP_POLYNOMIAL => HeatCapacity::ConstantK(T::ZERO),
+            model => model,
+        }
+    }
+
     #[inline]
     fn validity(&self, p: T, t: T) -> Validity {
         if p * self.reduced_limit > t * t * t {
@@ -200,7 +274,7 @@ impl<T: Real> IdealGas<T> {
     /// ∫cp dT from T0 and ∫cp/T dT from T0 (per kg, without Z), and cp(t).
     fn integrals(&self, t: T) -> (T, T, T) {
         let t0 = T::of(REFERENCE_TEMPERATURE);
-        match self.heat_capacity {
+        match self.cp_model() {
             HeatCapacity::ConstantK(_) => {
                 let cp = self.constant_cp;
                 (cp * (t - t0), cp * T::ln(t / t0), cp)
@@ -223,8 +297,9 @@ impl<T: Real> IdealGas<T> {
         }
     }
 
-    /// A built-in gas with constant k (`polynomial = false`) or cp(T).
-    pub fn from_spec(
+    /// The one construction from a built-in gas ([`IdealGas::from_spec`],
+    /// [`IdealGas::constant_k_from_spec`]).
+    fn build_from_spec(
         spec: &GasSpec,
         polynomial: bool,
         compressibility: T,
@@ -238,7 +313,7 @@ impl<T: Real> IdealGas<T> {
         } else {
             HeatCapacity::ConstantK(T::of(spec.k))
         };
-        Self::new(T::of(spec.molar_mass), hc, compressibility)?.with_critical_point(
+        Self::build(T::of(spec.molar_mass), hc, compressibility)?.with_critical_point(
             T::of(spec.critical_temperature),
             T::of(spec.critical_pressure),
         )
@@ -270,7 +345,7 @@ impl<T: Real> IdealGas<T> {
 
     /// Mean cp over [t1, t2], J/(kg K).
     pub fn mean_cp(&self, t1: T, t2: T) -> T {
-        match self.heat_capacity {
+        match self.cp_model() {
             HeatCapacity::ConstantK(_) => self.constant_cp,
             HeatCapacity::Polynomial {
                 coefficients: c,
@@ -288,7 +363,7 @@ impl<T: Real> IdealGas<T> {
     /// ([`polynomial_mean_cp`]), for the path properties.
     #[inline]
     fn path_mean_cp(&self, t1: T, t2: T) -> T {
-        match self.heat_capacity {
+        match self.cp_model() {
             HeatCapacity::ConstantK(_) => self.constant_cp,
             HeatCapacity::Polynomial {
                 coefficients,
@@ -322,7 +397,7 @@ struct PathTerms<T> {
     m_k: T,
 }
 
-impl<T: Real> IdealGas<T> {
+impl<T: Real, const CP_POLYNOMIAL: bool> IdealGas<T, CP_POLYNOMIAL> {
     /// [`PathTerms`] of a cp polynomial: the path means of
     /// [`GasModel::path`].
     #[inline(never)]
@@ -409,7 +484,7 @@ fn mean_cubic<T: Real>(c: &[T; 4], a: T, b: T) -> T {
     c0 + c1 * s * T::of(0.5) + c2 * (q + a * b) * T::of(1.0 / 3.0) + c3 * s * q * T::of(0.25)
 }
 
-impl<T: Real> GasModel<T> for IdealGas<T> {
+impl<T: Real, const CP_POLYNOMIAL: bool> GasModel<T> for IdealGas<T, CP_POLYNOMIAL> {
     #[inline]
     fn gas_constant(&self) -> T {
         self.gas_constant
@@ -419,7 +494,7 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
     fn path(&self, _p1: T, t1: T, _p2: T, t2: T, z_supplied: Option<T>) -> PathProperties<T> {
         let z = self.z_of(z_supplied);
         let cp = self.path_mean_cp(t1, t2);
-        let k = match self.heat_capacity {
+        let k = match self.cp_model() {
             HeatCapacity::ConstantK(k) => k,
             HeatCapacity::Polynomial { .. } => cp / (cp - self.gas_constant),
         };
@@ -478,7 +553,7 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
         // The path k as `path` gives it; for a cp polynomial from the
         // out-of-line path terms (the same `path` call) rather than a
         // second inlined copy of the path means.
-        let k = match self.heat_capacity {
+        let k = match self.cp_model() {
             HeatCapacity::ConstantK(k) => k,
             HeatCapacity::Polynomial { .. } => {
                 self.polynomial_path_terms(p1, t1, p2, t2.unwrap_or(t1), z_supplied)
@@ -491,14 +566,14 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
     fn isentropic_state(&self, inlet: &GasState<T>, p2: T, z_supplied: Option<T>) -> GasState<T> {
         let ln_r = T::ln(p2 / inlet.pressure);
         let t1 = inlet.temperature;
-        let mut t = match self.heat_capacity {
+        let mut t = match self.cp_model() {
             HeatCapacity::ConstantK(_) => t1 * T::exp(self.constant_exponent_term * ln_r),
             HeatCapacity::Polynomial { .. } => {
                 let cp = self.mean_cp(t1, t1);
                 t1 * T::exp(self.gas_constant / cp * ln_r)
             }
         };
-        if let HeatCapacity::Polynomial { .. } = self.heat_capacity {
+        if let HeatCapacity::Polynomial { .. } = self.cp_model() {
             // s(T, p2) = s1: Newton on T with ds/dT = cp/T (monotone; a
             // few steps from the constant-cp estimate).
             for _ in 0..ISENTROPIC_ITERATIONS {
@@ -553,7 +628,7 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
         p_high: T,
         _z_supplied: Option<T>,
     ) -> Option<(T, Validity)> {
-        match self.heat_capacity {
+        match self.cp_model() {
             HeatCapacity::ConstantK(_) => Some((head * (t / t1), self.validity(p_high, t))),
             HeatCapacity::Polynomial { .. } => None,
         }
@@ -591,7 +666,7 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
         // Constant k: cp and (k−1)/k from the construction, nothing
         // divided here; a cp polynomial: the path means, out of line (no
         // division of theirs is hoisted into the constant-k path).
-        let props = match self.heat_capacity {
+        let props = match self.cp_model() {
             HeatCapacity::ConstantK(k) => PathTerms {
                 z: self.z_of(z_supplied),
                 cp: self.constant_cp,
@@ -638,7 +713,7 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
     /// mean cp is that of the clamped temperature (uncertain).
     #[inline]
     fn fit_quality(&self, t_a: T, t_b: T) -> Quality {
-        match self.heat_capacity {
+        match self.cp_model() {
             HeatCapacity::ConstantK(_) => Quality::Good,
             HeatCapacity::Polynomial { t_min, t_max, .. } => {
                 if T::min(t_a, t_b) >= t_min && T::max(t_a, t_b) <= t_max {
@@ -653,7 +728,7 @@ impl<T: Real> GasModel<T> for IdealGas<T> {
     #[inline]
     fn property_inputs(&self) -> PropertyInputs {
         PropertyInputs {
-            temperature: matches!(self.heat_capacity, HeatCapacity::Polynomial { .. }),
+            temperature: matches!(self.cp_model(), HeatCapacity::Polynomial { .. }),
             pressure: false,
             compressibility_from_state: false,
             state_functions: false,

@@ -10,7 +10,8 @@
 //!
 //! Two models implement the seam:
 //! - [`IdealGas`]: ideal gas with a configured mean compressibility factor Z
-//!   (constant k or cp(T)). Read as an equation of state v = Z·R·T/p with
+//!   (constant k or cp(T); [`IdealGasConstantK`] admits only a constant k,
+//!   and links less code). Read as an equation of state v = Z·R·T/p with
 //!   constant Z it is an ideal gas with gas constant Z·R, so its cp is
 //!   Z·R·k/(k−1) and enthalpy differences are Z·cp·ΔT: the heads it gave
 //!   before this seam existed are unchanged, and cooler duty now uses the same
@@ -35,7 +36,7 @@ pub use builtin::{
     METHANE, NITROGEN,
 };
 pub use components::{Component, ComponentId};
-pub use ideal::{HeatCapacity, IdealGas, IDEAL_GAS_MAX_REDUCED_PRESSURE};
+pub use ideal::{HeatCapacity, IdealGas, IdealGasConstantK, IDEAL_GAS_MAX_REDUCED_PRESSURE};
 pub use peng_robinson::PengRobinson;
 
 use crate::quality::Quality;

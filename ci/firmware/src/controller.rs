@@ -18,7 +18,7 @@
 use core::mem::MaybeUninit;
 
 use polytrope::demo;
-use polytrope::gas::{GasModel, IdealGas, CARBON_DIOXIDE};
+use polytrope::gas::{GasModel, IdealGasConstantK, CARBON_DIOXIDE};
 use polytrope::signal::{Channel, ChannelConfig, InstrumentClass, SignalKind, Unit};
 use polytrope::surge::{
     MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
@@ -71,9 +71,10 @@ pub struct ScanSummary {
 
 /// The controller's gas: the demo's CO2 as an ideal gas with constant k
 /// and the configured Z (the ideal-gas path whose figures the budgets
-/// track).
-pub fn ideal_gas() -> Result<IdealGas<f32>, ConfigError> {
-    IdealGas::from_spec(&CARBON_DIOXIDE, false, 1.0)
+/// track), as the constant-k type (`IdealGasConstantK`: the cp
+/// polynomial's code is not linked).
+pub fn ideal_gas() -> Result<IdealGasConstantK<f32>, ConfigError> {
+    IdealGasConstantK::constant_k_from_spec(&CARBON_DIOXIDE, 1.0)
 }
 
 /// The train configuration: the demo's first four stages, the fourth

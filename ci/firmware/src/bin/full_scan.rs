@@ -16,7 +16,7 @@ use core::hint::black_box;
 use cortex_m_rt::entry;
 use polytrope::demo;
 use polytrope::fields::FieldValue;
-use polytrope::gas::IdealGas;
+use polytrope::gas::IdealGasConstantK;
 use polytrope::quality::Quality;
 use polytrope::scan::Scan;
 use polytrope::surge::SurgeScan;
@@ -26,7 +26,7 @@ use polytrope_firmware::measure;
 use polytrope_firmware::report::{stack_used, Host};
 use polytrope_firmware::table::SCANS;
 
-type Ctl = Controller<IdealGas<f32>>;
+type Ctl = Controller<IdealGasConstantK<f32>>;
 
 macro_rules! out {
     ($h:expr, $($t:tt)*) => { $h.line(format_args!($($t)*)) };
