@@ -25,7 +25,8 @@
 //! σ is the configured one, or, with
 //! [`SurgeMonitor::with_measured_exponent`], the one the measured suction
 //! and discharge temperatures give (filtered, bounded, with a fallback to the
-//! configured σ; see [`exponent`]). The
+//! configured σ; see [`exponent`]); a monitor that never needs that is a
+//! [`ConfiguredExponentMonitor`], which links none of its code. The
 //! control line sits at a per-speed-line control margin (common practice:
 //! about 10 % in flow); [`surge_line`] explains how line and margin vary
 //! with speed. The clearance is the margin above the control line.
@@ -73,7 +74,9 @@ pub mod surge_line;
 
 pub use detection::{DetectionConfig, DetectionScan, DetectionState, SurgeDetector};
 pub use exponent::{ExponentConfig, ExponentFault, ExponentSource, ExponentState};
-pub use margin::{MonitorConfig, SurgeFault, SurgeMonitor, SurgeScan, SurgeState};
+pub use margin::{
+    ConfiguredExponentMonitor, MonitorConfig, SurgeFault, SurgeMonitor, SurgeScan, SurgeState,
+};
 pub use surge_line::{
     LineLookup, LinePoint, MapConditions, SurgeLine, SurgeLineConfig, SurgePoint,
 };

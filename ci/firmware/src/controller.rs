@@ -21,7 +21,8 @@ use polytrope::demo;
 use polytrope::gas::{GasModel, IdealGasConstantK, CARBON_DIOXIDE};
 use polytrope::signal::{Channel, ChannelConfig, InstrumentClass, SignalKind, Unit};
 use polytrope::surge::{
-    MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig, SurgeMonitor, SurgePoint, SurgeScan,
+    ConfiguredExponentMonitor, MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig,
+    SurgeMonitor, SurgePoint, SurgeScan,
 };
 use polytrope::train::{CompressorTrain, Snapshot, StageConfig, TrainConfig};
 use polytrope::units::{Kelvin, PressureAbs};
@@ -44,8 +45,9 @@ pub const WARM_SCANS: usize = 13;
 pub type SectionTrain<G> = CompressorTrain<f32, G, SECTIONS, { demo::WINDOW }>;
 /// One transmitter channel: 8-sample frozen window, 5-sample median.
 pub type TransmitterChannel = Channel<f32, 8, 5>;
-/// One surge-margin monitor: a 4-point line.
-pub type SectionMonitor = SurgeMonitor<f32, 4>;
+/// One surge-margin monitor: a 4-point line, the line's configured σ (no
+/// measured-exponent mode: its code is not linked).
+pub type SectionMonitor = ConfiguredExponentMonitor<f32, 4>;
 
 /// Flow-element differential pressure over suction pressure of the invented
 /// operating point (about 20 % above the surge line).
