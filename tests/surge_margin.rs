@@ -352,9 +352,8 @@ fn table_validation_names_the_problem() {
 fn new_in_builds_what_new_builds() {
     let pts = points::<f64>();
     let line = SurgeLine::<f64, 6>::new(&demo_map::line_config(&pts)).unwrap();
-    let mut a: SurgeMonitor<f64, 6> =
-        SurgeMonitor::new(line.clone(), demo_map::monitor_config()).unwrap();
-    let mut slot = core::mem::MaybeUninit::<SurgeMonitor<f64, 6>>::uninit();
+    let mut a = SurgeMonitor::new(line.clone(), demo_map::monitor_config()).unwrap();
+    let mut slot = core::mem::MaybeUninit::uninit();
     let b = SurgeMonitor::new_in(&mut slot, line.clone(), demo_map::monitor_config()).unwrap();
     for i in 0..30 {
         let s = scan::<f64>(signals(1.82 * (1.9 - 0.03 * f64::from(i)), 2.0, MAP_GAS));
@@ -366,8 +365,8 @@ fn new_in_builds_what_new_builds() {
     }
     let mut bad = demo_map::monitor_config::<f64>();
     bad.rate_filter_time = bad.scan_period / 2.0;
-    let mut slot = core::mem::MaybeUninit::<SurgeMonitor<f64, 6>>::uninit();
-    let refused = SurgeMonitor::<f64, 6>::new(line.clone(), bad)
+    let mut slot = core::mem::MaybeUninit::uninit();
+    let refused = SurgeMonitor::new(line.clone(), bad)
         .map(|_| ())
         .unwrap_err();
     assert_eq!(

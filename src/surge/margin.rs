@@ -379,6 +379,22 @@ pub struct SurgeMonitor<T, const N: usize, const MEASURED_EXPONENT: bool = true>
 pub type ConfiguredExponentMonitor<T, const N: usize> = SurgeMonitor<T, N, false>;
 
 impl<T: Real, const N: usize> SurgeMonitor<T, N, true> {
+    /// A monitor on a validated line. Errors name the offending field.
+    pub fn new(line: SurgeLine<T, N>, config: MonitorConfig<T>) -> Result<Self, ConfigError> {
+        Self::create(line, config)
+    }
+
+    /// As [`SurgeMonitor::new`], built in place in `slot` (for a device that
+    /// keeps its monitors in one array: no copy of a monitor is built on the
+    /// stack and moved). On a refusal `slot` is left as it was.
+    pub fn new_in(
+        slot: &mut MaybeUninit<Self>,
+        line: SurgeLine<T, N>,
+        config: MonitorConfig<T>,
+    ) -> Result<&mut Self, ConfigError> {
+        Self::create_in(slot, line, config)
+    }
+
     /// Switches to the measured-exponent mode: σ from the measured suction
     /// and discharge temperatures (see [`super::exponent`]), the line's
     /// configured σ as the fallback. Keep the configured mode on machines
@@ -407,17 +423,41 @@ impl<T: Real, const N: usize> SurgeMonitor<T, N, true> {
     }
 }
 
+impl<T: Real, const N: usize> SurgeMonitor<T, N, false> {
+    /// A configured-exponent monitor ([`ConfiguredExponentMonitor`]) on a
+    /// validated line: [`SurgeMonitor::new`] (the same checks and refusals)
+    /// as that type. (Its own name: with one `new` for both types, a call
+    /// that does not name the type could not tell which it builds.)
+    pub fn configured(
+        line: SurgeLine<T, N>,
+        config: MonitorConfig<T>,
+    ) -> Result<Self, ConfigError> {
+        Self::create(line, config)
+    }
+
+    /// As [`SurgeMonitor::configured`], built in place in `slot`
+    /// ([`SurgeMonitor::new_in`]).
+    pub fn configured_in(
+        slot: &mut MaybeUninit<Self>,
+        line: SurgeLine<T, N>,
+        config: MonitorConfig<T>,
+    ) -> Result<&mut Self, ConfigError> {
+        Self::create_in(slot, line, config)
+    }
+}
+
 impl<T: Real, const N: usize, const MEASURED_EXPONENT: bool> SurgeMonitor<T, N, MEASURED_EXPONENT> {
-    /// A monitor on a validated line. Errors name the offending field.
-    pub fn new(line: SurgeLine<T, N>, config: MonitorConfig<T>) -> Result<Self, ConfigError> {
+    /// The one construction of both monitor types ([`SurgeMonitor::new`],
+    /// [`SurgeMonitor::configured`]).
+    #[inline(always)]
+    fn create(line: SurgeLine<T, N>, config: MonitorConfig<T>) -> Result<Self, ConfigError> {
         Self::validate(&config)?;
         Ok(Self::build(line, config))
     }
 
-    /// As [`SurgeMonitor::new`], built in place in `slot` (for a device that
-    /// keeps its monitors in one array: no copy of a monitor is built on the
-    /// stack and moved). On a refusal `slot` is left as it was.
-    pub fn new_in(
+    /// The one construction in place of both monitor types.
+    #[inline(always)]
+    fn create_in(
         slot: &mut MaybeUninit<Self>,
         line: SurgeLine<T, N>,
         config: MonitorConfig<T>,
@@ -1134,7 +1174,7 @@ mod tests {
             let mut g = Seeded(seed);
             let mut with: SurgeMonitor<T, 4> = SurgeMonitor::new(line.clone(), config).unwrap();
             let mut slot = MaybeUninit::<ConfiguredExponentMonitor<T, 4>>::uninit();
-            let without = SurgeMonitor::new_in(&mut slot, line.clone(), config).unwrap();
+            let without = SurgeMonitor::configured_in(&mut slot, line.clone(), config).unwrap();
             // Seen: margin good, uncertain, bad; time to surge good; a
             // rate restarted by a clock fault (bad rate with a usable
             // margin); beyond the map.

@@ -22,7 +22,7 @@ use polytrope::gas::{GasModel, IdealGasConstantK, CARBON_DIOXIDE};
 use polytrope::signal::{Channel, ChannelConfig, InstrumentClass, SignalKind, Unit};
 use polytrope::surge::{
     ConfiguredExponentMonitor, MapConditions, MonitorConfig, SurgeLine, SurgeLineConfig,
-    SurgeMonitor, SurgePoint, SurgeScan,
+    SurgePoint, SurgeScan,
 };
 use polytrope::train::{CompressorTrain, Snapshot, StageConfig, TrainConfig};
 use polytrope::units::{Kelvin, PressureAbs};
@@ -271,7 +271,7 @@ const MONITOR: MonitorConfig<f32> = MonitorConfig {
 /// build; the device builds each in place, [`build_monitors`]).
 #[cfg(not(target_os = "none"))]
 fn section_monitor() -> Result<SectionMonitor, ConfigError> {
-    SurgeMonitor::new(section_line()?, MONITOR)
+    SectionMonitor::configured(section_line()?, MONITOR)
 }
 
 /// Builds the monitor of every stage ([`section_line`], [`MONITOR`]) in
@@ -281,7 +281,7 @@ fn section_monitor() -> Result<SectionMonitor, ConfigError> {
 #[inline(never)]
 fn build_monitors(slots: &mut [MaybeUninit<SectionMonitor>; SECTIONS]) -> Result<(), ConfigError> {
     for slot in slots.iter_mut() {
-        SurgeMonitor::new_in(slot, section_line()?, MONITOR)?;
+        SectionMonitor::configured_in(slot, section_line()?, MONITOR)?;
     }
     Ok(())
 }
