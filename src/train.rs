@@ -344,23 +344,23 @@ pub const PUMP_DENSITY_RANGE: (f64, f64) = (50.0, 3000.0);
 /// water (4180) and liquid ammonia (about 4700) (common practice).
 pub const COOLANT_CP_RANGE: (f64, f64) = (500.0, 6000.0);
 
-fn validate_stages<T: Real, const N: usize>(
+fn validate_stages<T: Real, const N: usize, const PUMPS: bool>(
     stages: &[StageConfig<T>; N],
     max_drop: T,
     limits: &Limits<T>,
-    pumps: bool,
 ) -> Result<u8, ConfigError> {
     check_range("max_interstage_pressure_drop", max_drop, 0.0, 0.9)?;
     let mut compressors: u8 = 0;
     let mut seen_pump = false;
     let mut previous_discharge: Option<T> = None;
     for (i, s) in stages.iter().enumerate() {
-        check_stage(s, previous_discharge, [pumps, seen_pump], max_drop, limits)
+        check_stage::<T, PUMPS>(s, previous_discharge, seen_pump, max_drop, limits)
             .map_err(|e| e.at(i))?;
         previous_discharge = Some(s.design_discharge_pressure.pa());
         match s.kind {
             StageKind::Compressor => compressors = compressors.saturating_add(1),
-            StageKind::Pump { .. } => seen_pump = true,
+            // (A train without pump stages has refused one already.)
+            StageKind::Pump { .. } => seen_pump = PUMPS,
         }
     }
     if compressors == 0 {
@@ -377,14 +377,15 @@ fn validate_stages<T: Real, const N: usize>(
 /// The checks of one stage of [`validate_stages`] (its refusal without the
 /// stage index, which the caller adds): after the stage before it
 /// (`previous_discharge`, its design discharge pressure) and any pump
-/// (`seen_pump`), in a train that allows pump stages or not (`pumps`: the
-/// train's `PUMPS`). Out of line: one copy of the checks, however the loop over
+/// (`seen_pump`), in a train that allows pump stages or not (`PUMPS`: the
+/// train's; a compile-time parameter, so that a train without pump stages
+/// does not link the pump stage's checks). Out of line: one copy of the checks, however the loop over
 /// the stages is unrolled (configuration-time flash).
 #[inline(never)]
-fn check_stage<T: Real>(
+fn check_stage<T: Real, const PUMPS: bool>(
     s: &StageConfig<T>,
     previous_discharge: Option<T>,
-    [pumps, seen_pump]: [bool; 2],
+    seen_pump: bool,
     max_drop: T,
     limits: &Limits<T>,
 ) -> Result<(), ConfigError> {
@@ -454,7 +455,7 @@ fn check_stage<T: Real>(
                 density,
                 efficiency,
             } => {
-                if !pumps {
+                if !PUMPS {
                     return Err(ConfigError::new(
                         "stages.kind",
                         Problem::Inconsistent {
@@ -634,12 +635,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize, const PUMPS: bool>
             return Err(ConfigError::out_of_range(field, min, max));
         }
         config.steady_state.validate()?;
-        validate_stages(
-            &config.stages,
-            config.max_interstage_pressure_drop,
-            limits,
-            PUMPS,
-        )
+        validate_stages::<T, N, PUMPS>(&config.stages, config.max_interstage_pressure_drop, limits)
     }
 
     /// Sets every stage's and cooler's result to its value before the
