@@ -342,9 +342,13 @@ impl<G: GasModel<f32>> Controller<G> {
     /// and monitor is written where it lives, one at a time, by one loop
     /// (one copy of the construction code, not one per channel). On a
     /// refusal the slot stays uninitialised (none of the fields needs a
-    /// drop).
+    /// drop). Inlined into its caller (a firmware builds its controller
+    /// once): there the configuration is usually a constant, its checks
+    /// fold with it, and it is written into the train where it lives, not
+    /// first into the caller's frame (out of line, this took 608 B more
+    /// flash and 152 B more start-up stack).
     #[cfg(target_os = "none")]
-    #[inline(never)]
+    #[inline(always)]
     pub fn build_in(
         slot: &mut MaybeUninit<Self>,
         config: TrainConfig<f32, G, SECTIONS>,
