@@ -27,6 +27,9 @@ for tool in gcc nm size python3; do
   command -v "$tool" >/dev/null || { echo "firmware: missing $tool" >&2; exit 1; }
 done
 rustup target add thumbv7em-none-eabihf thumbv6m-none-eabi >/dev/null 2>&1 || true
+# llvm-objdump, llvm-nm and llvm-size of the toolchain, for ci/reach_flash.py
+# (the flash the scan links).
+rustup component add llvm-tools >/dev/null 2>&1 || true
 
 # 1 + 2: build (panic-freedom link included), run, measure.
 table=$(mktemp)

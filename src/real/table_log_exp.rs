@@ -58,7 +58,7 @@ const ONE_THIRD: f32 = 3.3333334e-1;
 /// Breakpoint c, 1/c rounded, and ln c (the stored value includes the
 /// tiny c·(1/c) − 1, see the module documentation) for each interval of z.
 #[rustfmt::skip]
-const LN_TABLE: [[f32; 3]; 32] = [
+static LN_TABLE: [[f32; 3]; 32] = [
     [7.0038724e-1, 1.4277816, -3.561219e-1],
     [7.16128e-1, 1.3963984, -3.3389637e-1],
     [7.3191416e-1, 1.3662804, -3.1209204e-1],
@@ -172,7 +172,7 @@ const EXP_TABLE_RANGE_BITS: u32 = 0x4280_0000;
 /// 2^(j/32) rounded to `f32` and the rest (2^(j/32) − that, rounded),
 /// j = 0..31.
 #[rustfmt::skip]
-const EXP_TABLE: [[f32; 2]; 32] = [
+static EXP_TABLE: [[f32; 2]; 32] = [
     [1.0, 0.0],
     [1.0218972, -4.81156e-8],
     [1.0442737, 4.83347e-8],
