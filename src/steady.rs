@@ -102,50 +102,32 @@ impl<T: Real> SteadyStateConfig<T> {
     /// [`crate::error::check_positive`] does: out of `[0, +inf]`, or not
     /// finite), naming the first. The three checks' refusals differ only in
     /// the field: one refusal serves all three, each test on the bit
-    /// pattern. The checks out of line ([`validate_spreads`]): the train's
-    /// construction calls them once (configuration-time flash; inlined, the
-    /// change of the constructor's code moved the register allocation of a
-    /// measured harness function that inlines a train's construction beside
-    /// a stage evaluation). The three tolerances go to them as values, not
-    /// behind a reference: a configuration the firmware builds where its
-    /// train is built then need not be laid out in memory first (the
-    /// `controller` firmware: 372 B less flash).
-    #[inline(always)]
+    /// pattern. Out of line: the train's construction calls it once
+    /// (configuration-time flash; inlined, the change of the constructor's
+    /// code moved the register allocation of a measured harness function
+    /// that inlines a train's construction beside a stage evaluation).
+    #[inline(never)]
     pub(crate) fn validate(&self) -> Result<(), ConfigError> {
-        validate_spreads(
-            self.max_temperature_spread,
-            self.max_ratio_spread,
-            self.max_flow_spread,
-        )
+        let positive_finite = crate::surge::positive_finite::<T>;
+        let (field, value) = if !positive_finite(self.max_temperature_spread) {
+            (
+                "steady_state.max_temperature_spread",
+                self.max_temperature_spread,
+            )
+        } else if !positive_finite(self.max_ratio_spread) {
+            ("steady_state.max_ratio_spread", self.max_ratio_spread)
+        } else if !positive_finite(self.max_flow_spread) {
+            ("steady_state.max_flow_spread", self.max_flow_spread)
+        } else {
+            return Ok(());
+        };
+        Err(crate::error::refusal(
+            field,
+            T::is_finite(value),
+            0.0,
+            f64::INFINITY,
+        ))
     }
-}
-
-/// The checks of [`SteadyStateConfig::validate`], on the three tolerances.
-#[inline(never)]
-fn validate_spreads<T: Real>(
-    max_temperature_spread: T,
-    max_ratio_spread: T,
-    max_flow_spread: T,
-) -> Result<(), ConfigError> {
-    let positive_finite = crate::surge::positive_finite::<T>;
-    let (field, value) = if !positive_finite(max_temperature_spread) {
-        (
-            "steady_state.max_temperature_spread",
-            max_temperature_spread,
-        )
-    } else if !positive_finite(max_ratio_spread) {
-        ("steady_state.max_ratio_spread", max_ratio_spread)
-    } else if !positive_finite(max_flow_spread) {
-        ("steady_state.max_flow_spread", max_flow_spread)
-    } else {
-        return Ok(());
-    };
-    Err(crate::error::refusal(
-        field,
-        T::is_finite(value),
-        0.0,
-        f64::INFINITY,
-    ))
 }
 
 /// Result of the steady-state test for one scan.
