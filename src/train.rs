@@ -379,13 +379,11 @@ fn validate_stages<T: Real, const N: usize, const PUMPS: bool>(
 /// (`previous_discharge`, its design discharge pressure) and any pump
 /// (`seen_pump`), in a train that allows pump stages or not (`PUMPS`: the
 /// train's; a compile-time parameter, so that a train without pump stages
-/// does not link the pump stage's checks). An inlining hint, not forced
-/// either way: where the configuration is a constant (a firmware's built-in
-/// train) the optimiser inlines the checks and they fold away (the
-/// `controller` firmware: 760 B less flash than one out-of-line copy called
-/// per stage); where it is not, one copy serves every stage, however the
-/// loop over the stages is unrolled (configuration-time flash).
-#[inline]
+/// does not link the pump stage's checks). Out of line: one copy of the
+/// checks, however the loop over the stages is unrolled (configuration-time
+/// flash; an inlining hint instead inlined a copy per stage of the
+/// `controller` firmware's opaque configuration: 528 B more flash).
+#[inline(never)]
 fn check_stage<T: Real, const PUMPS: bool>(
     s: &StageConfig<T>,
     previous_discharge: Option<T>,
@@ -645,7 +643,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize, const PUMPS: bool>
     /// Sets every stage's and cooler's result to its value before the
     /// first scan ([`StageResult::reset_before_first_scan`],
     /// [`CoolerResult::reset_before_first_scan`]), in place. An inlining
-    /// hint ([`Train::new_in`] is its one caller; out of line it took 24 B
+    /// hint ([`Train::new_in`] is its one caller; out of line it took 48 B
     /// more of the `controller` firmware's flash).
     #[inline]
     fn reset_snapshot(&mut self) {
