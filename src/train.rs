@@ -358,9 +358,11 @@ fn validate_stages<T: Real, const N: usize, const PUMPS: bool>(
             .map_err(|e| e.at(i))?;
         previous_discharge = Some(s.design_discharge_pressure.pa());
         match s.kind {
+            // A train without pump stages has refused one already: every
+            // stage that passed is a compressor (its kind not read again).
+            _ if !PUMPS => compressors = compressors.saturating_add(1),
             StageKind::Compressor => compressors = compressors.saturating_add(1),
-            // (A train without pump stages has refused one already.)
-            StageKind::Pump { .. } => seen_pump = PUMPS,
+            StageKind::Pump { .. } => seen_pump = true,
         }
     }
     if compressors == 0 {
