@@ -41,11 +41,12 @@ fn budget_sentence_quotes_the_measured_figures() {
     for row in [
         "| **whole controller scan**",
         "| **stack high-water mark of one whole controller scan**",
-        "| **kernel flash of the whole controller scan**",
+        "| **flash the whole controller scan links**",
+        "| kernel flash of the controller firmware",
         "| **full update, 4 stages + 3 intercoolers**",
         "| stack high-water mark of one update, 4 stages + 3 intercoolers",
         "| train state, 4 stages + 3 intercoolers",
-        "| kernel flash",
+        "| kernel flash (text + rodata): minimal",
         "| surge margin, one `SurgeMonitor::update`",
         "| signal front end, one 4–20 mA channel",
     ] {
