@@ -30,6 +30,12 @@ rustup target add thumbv7em-none-eabihf thumbv6m-none-eabi >/dev/null 2>&1 || tr
 # llvm-objdump, llvm-nm and llvm-size of the toolchain, for ci/reach_flash.py
 # (the flash the scan links).
 rustup component add llvm-tools >/dev/null 2>&1 || true
+if ! ls "$(rustc --print sysroot)"/lib/rustlib/*/bin/llvm-objdump >/dev/null 2>&1 \
+   && ! command -v llvm-objdump >/dev/null; then
+  echo "firmware: installing llvm (llvm-objdump) for ci/reach_flash.py"
+  as_root apt-get update -qq
+  DEBIAN_FRONTEND=noninteractive as_root apt-get install -y -qq llvm >/dev/null
+fi
 
 # 1 + 2: build (panic-freedom link included), run, measure.
 table=$(mktemp)
