@@ -92,6 +92,8 @@ for build in thumbv7em-none-eabihf+approx-math thumbv7em-none-eabihf+inline-math
   for bin in controller empty; do
     size -A "$fw/target/$feature/$target/release/$bin" > "$work/$tag.$bin.size"
   done
+  python3 ci/reach_flash.py "$fw/target/$feature/$target/release/controller" Reset --min-coverage=0.99 \
+    > "$work/$tag.reach_reset"
   python3 ci/reach_flash.py "$fw/target/$feature/$target/release/controller" scan_once --list \
     > "$work/$tag.reach"
 done

@@ -6,15 +6,25 @@
 ROOT is a substring of a demangled function name (the shortest match is
 taken). The closure follows, from the root: direct branches and calls
 (`b`, `bl`, conditional branches, `cbz`/`cbnz`) to another symbol; the
-addresses a function forms (a `movw`/`movt` pair or a lone `movw`, and
-the literal-pool words of its code) that fall in `.rodata`, or exactly on
-a function's entry (Thumb bit set); and the addresses held in each reached
+addresses a function forms (a `movw`/`movt` pair, or a `movw` no `movt`
+completes, for data only; and the literal-pool words of its code) that fall
+in `.rodata`, or exactly on a function's entry (Thumb bit set: an address
+taken for an indirect call); and the addresses held in each reached
 `.rodata` object. A reached address in `.rodata` that no symbol covers
-counts the whole gap between the symbols around it (an over-count, never
-an under-count). Prints the bytes reached (code, read-only data), and with
-`--list` each symbol. `--min-coverage=F` fails unless the bytes reached are
-at least the share F of `.text` + `.rodata` (run from the reset handler,
-a check that no reference was missed).
+counts every byte from it to the next symbol (an over-count where unnamed
+objects share the stretch; every byte is counted once). Prints the bytes
+reached (code, read-only data) and the `.text` bytes no symbol covers, and
+with `--list` each symbol and the function that reached it.
+
+Limits: code is followed only as far as its symbol's size (a hand-written
+routine's literal pool beyond it is not read; the start-up code's are the
+only ones, the uncovered bytes printed), and an address the root's code
+reaches only through memory written elsewhere (a function pointer stored at
+construction) is not followed; the kernel has no such pointers.
+`--min-coverage=F` fails unless the bytes reached are at least the share F
+of `.text` + `.rodata`: run from the reset handler, it catches a misread
+disassembly (branch or address forms not understood), not an edge missed
+from one root that start-up code also reaches.
 
 What it measures is the code a call of ROOT can execute and the constant
 data it can read: the "flash a scan links" of `ci/measure.sh`, as opposed
@@ -115,19 +125,15 @@ def main():
         return None
 
     # `.rodata` that no symbol covers (merged strings, a library's
-    # constants) is cut at every address any code or data of the image
-    # forms into it: a reference to such an address counts the bytes up to
-    # the next such address or symbol (the object it starts, with any
-    # padding after it).
-    cuts = []
-
+    # constants): a reference into it counts every byte from the address
+    # referenced up to the next symbol (or the end of `.rodata`), an
+    # over-count where several unnamed objects share the stretch (the
+    # bytes are counted once: the totals are the union of the reached
+    # ranges). The kernel's own tables are statics, so they are named.
     def unnamed(addr):
         gap = rodata_gap(addr)
-        i = bisect.bisect_right(cuts, addr) - 1
-        lo = max(gap[0], cuts[i]) if i >= 0 else gap[0]
-        j = bisect.bisect_right(cuts, addr)
-        hi = min(gap[0] + gap[1], cuts[j]) if j < len(cuts) else gap[0] + gap[1]
-        return (lo, hi - lo, "r", f"<unnamed .rodata at {lo:#x}>")
+        hi = gap[0] + gap[1]
+        return (addr, hi - addr, "r", f"<unnamed .rodata at {addr:#x}>")
 
     def rodata_gap(addr):
         """The uncovered stretch of .rodata around `addr`."""
@@ -158,14 +164,23 @@ def main():
     # Each function's outgoing references, from one disassembly.
     edges = {}
     vals = {}
-    formed = set()
     current = None
     movw = {}
+
+    def lone_movw():
+        """A `movw` no `movt` completed: the address it forms (below 64
+        KiB), taken for data only (a small integer equal to a function's
+        address is too likely)."""
+        for v in movw.values():
+            vals.setdefault(current, set()).add((v, True))
+        movw.clear()
+
     for line in run(tool("llvm-objdump"), "-d", "--no-show-raw-insn", elf).splitlines():
         m = re.match(r"^([0-9a-f]+) <(.*)>:$", line)
         if m:
+            if current is not None:
+                lone_movw()
             current = containing(int(m.group(1), 16))
-            movw = {}
             continue
         if current is None:
             continue
@@ -181,7 +196,6 @@ def main():
             continue
         if op == ".word":
             v = int(rest.split()[0], 16)
-            formed.add(v)
             vals.setdefault(current, set()).add((v, False))
             continue
         if op.startswith(("b", "cb")):
@@ -196,23 +210,20 @@ def main():
         # (Immediates in decimal or, newer disassemblers, hexadecimal.)
         mm = re.match(r"^(r\d+|sb|sl|fp|ip|lr),\s*#(0x[0-9a-f]+|\d+)\b", rest)
         if op.startswith("movw") and mm:
-            v = int(mm.group(2), 0)
-            formed.add(v)
-            movw[mm.group(1)] = v
-            # A lone `movw` forms an address below 64 KiB: taken for data
-            # only (a small integer equal to a function's address is too
-            # likely).
-            vals.setdefault(current, set()).add((v, True))
+            # The low half of an address or constant; a `movt` to the same
+            # register completes it (a float constant, or an address above
+            # 64 KiB), another `movw` to it first leaves it lone.
+            reg = mm.group(1)
+            if reg in movw:
+                vals.setdefault(current, set()).add((movw.pop(reg), True))
+            movw[reg] = int(mm.group(2), 0)
             continue
         if op.startswith("movt") and mm and mm.group(1) in movw:
             v = (int(mm.group(2), 0) << 16) | movw.pop(mm.group(1))
-            formed.add(v)
             vals.setdefault(current, set()).add((v, False))
+    if current is not None:
+        lone_movw()
     ro_words = rodata_words(elf, ro_lo, ro_lo + ro_size)
-    cuts.extend(sorted({
-        v for v in formed | set(ro_words.values())
-        if ro_lo <= v < ro_lo + ro_size and containing(v) is None
-    }))
     for f, vs in vals.items():
         for v, data_only in vs:
             r = referenced(v)
@@ -241,10 +252,24 @@ def main():
                 seen.add(n)
                 parent[n] = s
                 todo.append(n)
-    code = sum(s[1] for s in seen if s[2] == "t")
-    data = sum(s[1] for s in seen if s[2] == "r")
+    def union(kind):
+        """Bytes covered by the reached ranges of one kind, each once."""
+        total, end = 0, -1
+        for lo, size, _, _ in sorted(x for x in seen if x[2] == kind):
+            hi = lo + size
+            if hi > end:
+                total += hi - max(lo, end)
+                end = hi
+        return total
+
+    code = union("t")
+    data = union("r")
+    uncovered_text = text_size - sum(
+        min(x[0] + x[1], text_lo + text_size) - max(x[0], text_lo)
+        for x in syms if x[2] == "t" and x[0] < text_lo + text_size and x[0] + x[1] > text_lo)
     print(f"root {start[3]}")
     print(f"reached {code + data} bytes: code {code}, read-only data {data} ({len(seen)} symbols)")
+    print(f".text not covered by any symbol (start-up literals, padding): {uncovered_text} bytes")
     # Self-check: from the reset handler the closure must cover (almost)
     # the whole image, or the disassembly was misread (a missed edge would
     # under-count every root's figure).

@@ -439,7 +439,7 @@ pub const fn cooler_cp_slots(p: PropertyInputs) -> Slots {
 /// [`Users`] of the cooler table for cp depending on (temperature,
 /// pressure): index `temperature as usize + 2 * pressure as usize`; built at
 /// compile time from [`cooler_uses`].
-const COOLER_USERS: [Users; 4] = {
+static COOLER_USERS: [Users; 4] = {
     const fn users(temperature: bool, pressure: bool) -> Users {
         let p = PropertyInputs {
             temperature,

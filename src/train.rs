@@ -645,8 +645,8 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize, const PUMPS: bool>
     /// Sets every stage's and cooler's result to its value before the
     /// first scan ([`StageResult::reset_before_first_scan`],
     /// [`CoolerResult::reset_before_first_scan`]), in place. An inlining
-    /// hint ([`Train::new_in`] is its one caller; out of line it took 48 B
-    /// more of the `controller` firmware's flash).
+    /// hint ([`Train::new_in`] is its one caller; out of line it took
+    /// 24 to 48 B more of the `controller` firmware's flash, as measured).
     #[inline]
     fn reset_snapshot(&mut self) {
         let snapshot = &mut self.snapshot;

@@ -1326,7 +1326,7 @@ fn settle_compressor_outputs<T: Real>(g: &OutputGrades, o: &mut CompressorResult
 /// gas with constant k and with cp(T), Peng–Robinson, and the default a
 /// table model keeps. A caller without a train's table grades from them as
 /// a train does.
-const BUILT_IN_USERS: [(PropertyInputs, Users); 4] = {
+static BUILT_IN_USERS: [(PropertyInputs, Users); 4] = {
     const fn entry(
         temperature: bool,
         pressure: bool,
