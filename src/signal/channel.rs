@@ -9,7 +9,7 @@
 use super::ne43;
 use super::rtd_class::RtdClass;
 use super::FaultCode;
-use crate::error::{refusal, ConfigError, Problem};
+use crate::error::{check_positive, check_range, ConfigError, Problem};
 use crate::quality::Quality;
 use crate::real::Real;
 use crate::units::{PressureAbs, ZERO_CELSIUS_K};
@@ -147,57 +147,39 @@ impl<T: Real> ChannelConfig<T> {
                 .at(channel));
             }
         }
-        // The range checks after the signal's, in their order: the first
-        // that refuses gives (field, value), and one refusal serves them all
-        // ([`crate::error::refusal`], indexed once: the same errors as a
-        // `check_positive` or `check_range(field, v, 0, +inf)` each, with
-        // one copy of the refusal's code: configuration-time flash). Every
-        // one of them is refused as out of `[0, +inf]`.
-        let (field, value) = 'refused: {
-            if let Unit::PressureGauge { atmosphere } = self.unit {
-                let a = atmosphere.pa();
-                // `check_positive`: finite and above 0.
-                if !(finite(a) && a > T::ZERO) {
-                    break 'refused ("channel.unit.atmosphere", a);
-                }
+        if let Unit::PressureGauge { atmosphere } = self.unit {
+            let a = atmosphere.pa();
+            check_positive("channel.unit.atmosphere", a).map_err(|e| e.at(channel))?;
+        }
+        for (field, v) in [
+            ("channel.plausible_low", self.plausible_low),
+            ("channel.plausible_high", self.plausible_high),
+        ] {
+            if !finite(v) {
+                return Err(not_finite(field));
             }
-            for (field, v) in [
-                ("channel.plausible_low", self.plausible_low),
-                ("channel.plausible_high", self.plausible_high),
-            ] {
-                if !finite(v) {
-                    return Err(not_finite(field));
-                }
+        }
+        if !(self.plausible_high > self.plausible_low) {
+            return Err(not_above("channel.plausible_high", "channel.plausible_low"));
+        }
+        match self.instrument {
+            InstrumentClass::Rtd(_) => {}
+            InstrumentClass::FractionOfSpan(x) | InstrumentClass::Absolute(x) => {
+                check_range("channel.instrument", x, 0.0, f64::INFINITY)
+                    .map_err(|e| e.at(channel))?;
             }
-            if !(self.plausible_high > self.plausible_low) {
-                return Err(not_above("channel.plausible_high", "channel.plausible_low"));
-            }
-            // `check_range(field, v, 0, +inf)`: finite and at least 0.
-            let non_negative = |v: T| finite(v) && v >= T::ZERO;
-            match self.instrument {
-                InstrumentClass::Rtd(_) => {}
-                InstrumentClass::FractionOfSpan(x) | InstrumentClass::Absolute(x) => {
-                    if !non_negative(x) {
-                        break 'refused ("channel.instrument", x);
-                    }
-                }
-            }
-            if !non_negative(self.noise_floor) {
-                break 'refused ("channel.noise_floor", self.noise_floor);
-            }
-            // `check_positive`: finite and above 0.
-            if !(finite(self.max_rate) && self.max_rate > T::ZERO) {
-                break 'refused ("channel.max_rate", self.max_rate);
-            }
-            if !non_negative(self.filter_time_constant_s) {
-                break 'refused (
-                    "channel.filter_time_constant_s",
-                    self.filter_time_constant_s,
-                );
-            }
-            return Ok(());
-        };
-        Err(refusal(field, finite(value), 0.0, f64::INFINITY).at(channel))
+        }
+        check_range("channel.noise_floor", self.noise_floor, 0.0, f64::INFINITY)
+            .map_err(|e| e.at(channel))?;
+        check_positive("channel.max_rate", self.max_rate).map_err(|e| e.at(channel))?;
+        check_range(
+            "channel.filter_time_constant_s",
+            self.filter_time_constant_s,
+            0.0,
+            f64::INFINITY,
+        )
+        .map_err(|e| e.at(channel))?;
+        Ok(())
     }
 
     /// Converts an engineering value in `unit` to SI.
@@ -465,151 +447,6 @@ fn span_fraction<T: Real>(f: T) -> (T, FaultCode) {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    /// [`ChannelConfig::validate`] as it was written before its range checks
-    /// shared one refusal (one `check_positive` or `check_range` each): the
-    /// reference of the consistency check below.
-    fn validate_per_check<T: Real>(c: &ChannelConfig<T>) -> Result<(), ConfigError> {
-        use crate::error::{check_positive, check_range};
-        let channel = usize::from(c.id);
-        let not_above =
-            |field, other| ConfigError::new(field, Problem::NotAbove { other }).at(channel);
-        let not_finite = |field| ConfigError::not_finite(field).at(channel);
-        for (field, v) in [
-            ("channel.range_low", c.range_low),
-            ("channel.range_high", c.range_high),
-        ] {
-            if !finite(v) {
-                return Err(not_finite(field));
-            }
-        }
-        if !(c.range_high > c.range_low) {
-            return Err(not_above("channel.range_high", "channel.range_low"));
-        }
-        if let SignalKind::Counts { zero, full } = c.signal {
-            if !(finite(zero) && finite(full)) {
-                return Err(not_finite("channel.signal"));
-            }
-            if zero == full {
-                return Err(ConfigError::new(
-                    "channel.signal",
-                    Problem::Inconsistent {
-                        with: "itself (zero and full scale are equal)",
-                    },
-                )
-                .at(channel));
-            }
-        }
-        if let Unit::PressureGauge { atmosphere } = c.unit {
-            check_positive("channel.unit.atmosphere", atmosphere.pa())
-                .map_err(|e| e.at(channel))?;
-        }
-        for (field, v) in [
-            ("channel.plausible_low", c.plausible_low),
-            ("channel.plausible_high", c.plausible_high),
-        ] {
-            if !finite(v) {
-                return Err(not_finite(field));
-            }
-        }
-        if !(c.plausible_high > c.plausible_low) {
-            return Err(not_above("channel.plausible_high", "channel.plausible_low"));
-        }
-        match c.instrument {
-            InstrumentClass::Rtd(_) => {}
-            InstrumentClass::FractionOfSpan(x) | InstrumentClass::Absolute(x) => {
-                check_range("channel.instrument", x, 0.0, f64::INFINITY)
-                    .map_err(|e| e.at(channel))?;
-            }
-        }
-        check_range("channel.noise_floor", c.noise_floor, 0.0, f64::INFINITY)
-            .map_err(|e| e.at(channel))?;
-        check_positive("channel.max_rate", c.max_rate).map_err(|e| e.at(channel))?;
-        check_range(
-            "channel.filter_time_constant_s",
-            c.filter_time_constant_s,
-            0.0,
-            f64::INFINITY,
-        )
-        .map_err(|e| e.at(channel))?;
-        Ok(())
-    }
-
-    /// Every refusal of [`ChannelConfig::validate`] (field, index, problem,
-    /// and which comes first) equals the per-check form's
-    /// ([`validate_per_check`]; consistency check): every field after the
-    /// signal's set, alone and two at a time, to NaN, ±inf, negative, ±0,
-    /// the smallest subnormal and a good value, under a gauge and an
-    /// absolute unit, an RTD and a span-fraction instrument, in f32 and f64.
-    /// Fails if a check is left out, reordered or refused differently.
-    #[test]
-    fn range_checks_refuse_as_one_check_each() {
-        fn sweep<T: Real>() -> usize {
-            let values = [
-                f64::NAN,
-                f64::INFINITY,
-                f64::NEG_INFINITY,
-                -1.0,
-                -0.0,
-                0.0,
-                1.0e-45,
-                5.0,
-            ];
-            let base = ChannelConfig {
-                id: 9,
-                signal: SignalKind::Current4To20,
-                unit: Unit::PressureAbs,
-                range_low: T::ZERO,
-                range_high: T::of(10.0),
-                plausible_low: T::of(1.0),
-                plausible_high: T::of(9.0),
-                noise_floor: T::ZERO,
-                instrument: InstrumentClass::FractionOfSpan(T::of(0.001)),
-                max_rate: T::ONE,
-                filter_time_constant_s: T::ZERO,
-                hold_ms: 0,
-            };
-            // Field k of the checks after the signal's set to `v`.
-            let set = |c: &mut ChannelConfig<T>, k: usize, v: T| match k {
-                0 => {
-                    c.unit = Unit::PressureGauge {
-                        atmosphere: PressureAbs::from_pa(v),
-                    }
-                }
-                1 => c.plausible_low = v,
-                2 => c.plausible_high = v,
-                3 => c.instrument = InstrumentClass::FractionOfSpan(v),
-                4 => c.instrument = InstrumentClass::Absolute(v),
-                5 => c.noise_floor = v,
-                6 => c.max_rate = v,
-                _ => c.filter_time_constant_s = v,
-            };
-            let mut refused = 0;
-            for rtd in [false, true] {
-                for (a, b) in (0..8).flat_map(|a| (a..8).map(move |b| (a, b))) {
-                    for (&va, &vb) in values
-                        .iter()
-                        .flat_map(|va| values.iter().map(move |vb| (va, vb)))
-                    {
-                        let mut c = base;
-                        set(&mut c, a, T::of(va));
-                        set(&mut c, b, T::of(vb));
-                        if rtd && !matches!(a, 3 | 4) && !matches!(b, 3 | 4) {
-                            c.instrument = InstrumentClass::Rtd(RtdClass::A);
-                        }
-                        let want = validate_per_check(&c);
-                        assert_eq!(c.validate(), want, "fields {a} {b}: {va:e} {vb:e}");
-                        refused += usize::from(want.is_err());
-                    }
-                }
-            }
-            refused
-        }
-        // Both forms refuse most of the grid, so the comparison is not
-        // between two `Ok`s.
-        assert!(sweep::<f32>() > 1000);
-        assert!(sweep::<f64>() > 1000);
-    }
 
     /// A 0–10 V signal scaled as counts from 0 over 10 gives the bits of
     /// its own form, `raw / 10` (consistency check of the shared arm):
