@@ -191,6 +191,11 @@ pub struct Train<T, G, const N: usize, const W: usize, const PUMPS: bool = true>
     /// Whether the isentropic references take their one-exponential form
     /// (`staging::halving_applies`), a constant of the train.
     totals_halving: bool,
+    /// Set by [`Train::gas_mut`], the one way to change the gas model
+    /// after construction: the next update compares the model's property
+    /// inputs with those `stage_uses` was built for (and rebuilds it if
+    /// they differ). Without it, that comparison (a call) ran every scan.
+    gas_touched: bool,
 }
 
 /// A train of compressor stages only (`PUMPS = false`): see [`Train`].
@@ -527,6 +532,7 @@ macro_rules! built_train {
             si: [StageSi::CLEARED; N],
             totals_stage_count: T::from_u32(u32::from(compressor_stages)),
             totals_halving: halving_applies(compressor_stages),
+            gas_touched: false,
         }
     }};
 }
@@ -672,6 +678,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize, const PUMPS: bool>
     /// recomputes the mixture constants without allocating. Only the gas
     /// changes; the stage configuration stays validated.
     pub fn gas_mut(&mut self) -> &mut G {
+        self.gas_touched = true;
         &mut self.config.gas
     }
 
@@ -736,10 +743,14 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize, const PUMPS: bool>
     // locals share one frame and the stack peak is their sum, not their max.
     #[inline(never)]
     fn evaluate_stages(&mut self, scan: &Scan<T, N>) {
-        if self.stage_uses.refresh(self.config.gas.property_inputs()) {
-            // The kept qualities were graded with the table replaced.
-            for s in &mut self.si {
-                s.stage_settled = NOT_SETTLED;
+        // The gas model can have changed only through `gas_mut`.
+        if self.gas_touched {
+            self.gas_touched = false;
+            if self.stage_uses.refresh(self.config.gas.property_inputs()) {
+                // The kept qualities were graded with the table replaced.
+                for s in &mut self.si {
+                    s.stage_settled = NOT_SETTLED;
+                }
             }
         }
         let si = &mut self.si;

@@ -717,6 +717,51 @@ fn snapshot_before_the_first_scan_follows_the_configuration() {
     assert_eq!(pumps, 1);
 }
 
+/// A gas model replaced between scans through `Train::gas_mut` (here a
+/// constant k for a cp(T) polynomial and back, which changes the model's
+/// property inputs and so the stages' dependency table) grades every later
+/// scan as a train built on the new model from the start (fed the same
+/// scans: the steady-state windows hold readings only). Consistency check
+/// (the train against itself): the scans make each input of each stage
+/// uncertain in turn, so a table not rebuilt after the replacement shows
+/// in the qualities; it fails if `gas_mut` does not mark the model touched.
+#[test]
+fn a_gas_model_replaced_between_scans_grades_as_a_train_built_on_it() {
+    let polynomial = IdealGas::<f32>::from_spec(&AIR, true, 1.0).unwrap();
+    let constant_k = IdealGas::<f32>::from_spec(&AIR, false, 1.0).unwrap();
+    assert_ne!(polynomial.property_inputs(), constant_k.property_inputs());
+    let mut scans = vec![air2_scan::<f32>()];
+    for stage in 0..2 {
+        for w in StageInput::ALL {
+            let mut s = air2_scan::<f32>();
+            if let Some(m) = s.stages[stage].input(w) {
+                s.stages[stage].set_input(w, Some(Measured::new(m.value, Quality::Uncertain)));
+                scans.push(s);
+                scans.push(air2_scan());
+            }
+        }
+    }
+    assert!(scans.len() > 20, "{} scans", scans.len());
+    for (from, to) in [(constant_k, polynomial), (polynomial, constant_k)] {
+        let mut replaced = Train::<f32, _, 2, 4>::new(air2_config_on(from)).unwrap();
+        let mut built = Train::<f32, _, 2, 4>::new(air2_config_on(to)).unwrap();
+        let (before, after) = scans.split_at(3);
+        for scan in before {
+            replaced.update(scan);
+            built.update(scan);
+        }
+        *replaced.gas_mut() = to;
+        for (i, scan) in after.iter().enumerate() {
+            let (x, y) = (*replaced.update(scan), built.update(scan));
+            for (x, y) in fields(&x).iter().zip(fields(y).iter()) {
+                assert_eq!(x.name, y.name);
+                assert_eq!(x.value.to_bits(), y.value.to_bits(), "scan {i}: {}", x.name);
+                assert_eq!(x.quality, y.quality, "scan {i}: {}", x.name);
+            }
+        }
+    }
+}
+
 /// Runs both trains over `scans` and requires bit-identical snapshots after
 /// each (every field's value bits and quality, and the whole snapshot
 /// through `Debug`).
