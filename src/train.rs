@@ -17,7 +17,7 @@ use crate::gas::GasModel;
 use crate::plausibility::{compressibility, efficiency_allowance, Limits};
 use crate::quality::{Measured, Quality};
 use crate::real::{Real, HARD_FLOAT};
-use crate::scan::Scan;
+use crate::scan::{Scan, StageScan};
 use crate::stage::compressor::{
     evaluate_compressor_tabled, StageReadings, StageThresholds, StageUses, NOT_SETTLED,
 };
@@ -697,7 +697,6 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize, const PUMPS: bool>
     /// Never panics, never allocates; every number in the snapshot is finite
     /// and carries its quality.
     pub fn update(&mut self, scan: &Scan<T, N>) -> &Snapshot<T, N> {
-        Self::boundary(&self.limits, scan, &mut self.si);
         self.evaluate_stages(scan);
         self.evaluate_coolers(scan);
         self.evaluate_totals();
@@ -705,37 +704,37 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize, const PUMPS: bool>
         &self.snapshot
     }
 
-    /// Sensor boundary: units stripped, impossible values bad, flows
-    /// inherited from upstream where a stage has none.
-    /// Not inlined: unrolled into `update`, its spills would add to the
-    /// stack peak of the phases after it.
-    #[inline(never)]
-    fn boundary(limits: &Limits<T>, scan: &Scan<T, N>, si: &mut [StageSi<T>; N]) {
-        let mut upstream_flow = Measured::bad();
-        // By reference: `scan.stages.map` would copy the whole scan onto
-        // the stack first.
-        for (out, s) in si.iter_mut().zip(scan.stages.iter()) {
-            // The train's limits passed `Limits::first_invalid` at
-            // construction (finite bounds): the `_valid` range checks give
-            // the same result without a separate finiteness test.
-            let (flow, flow_measured) = match s.mass_flow {
-                Some(m) => (limits.mass_flow_valid(m), true),
-                None => (upstream_flow, false),
-            };
-            upstream_flow = flow;
-            // Field by field (every field written): each reading stored as
-            // soon as it is checked, so few values are live at once.
-            out.p1 = limits.pressure_reading(s.suction_pressure.map(PressureAbs::pa));
-            out.t1 = limits.temperature_reading(s.suction_temperature.map(Kelvin::kelvin));
-            out.p2 = limits.pressure_reading(s.discharge_pressure.map(PressureAbs::pa));
-            out.t2 = limits.temperature_reading(s.discharge_temperature.map(Kelvin::kelvin));
-            out.flow = flow;
-            out.flow_measured = flow_measured;
-            // Only the tag without a supplied Z (no placeholder value).
-            match s.compressibility {
-                Some(m) => out.z = Some(compressibility(m)),
-                None => out.z = None,
-            }
+    /// Sensor boundary of one stage: units stripped, impossible values
+    /// bad, the flow inherited from upstream (`upstream_flow`, the stage
+    /// before's) where the stage has none. Inlined into the stage's scan,
+    /// which then reads the checked values where they are.
+    #[inline(always)]
+    fn boundary(
+        limits: &Limits<T>,
+        s: &StageScan<T>,
+        out: &mut StageSi<T>,
+        upstream_flow: &mut Measured<T>,
+    ) {
+        // The train's limits passed `Limits::first_invalid` at
+        // construction (finite bounds): the `_valid` range checks give
+        // the same result without a separate finiteness test.
+        let (flow, flow_measured) = match s.mass_flow {
+            Some(m) => (limits.mass_flow_valid(m), true),
+            None => (*upstream_flow, false),
+        };
+        *upstream_flow = flow;
+        // Field by field (every field written): each reading stored as
+        // soon as it is checked, so few values are live at once.
+        out.p1 = limits.pressure_reading(s.suction_pressure.map(PressureAbs::pa));
+        out.t1 = limits.temperature_reading(s.suction_temperature.map(Kelvin::kelvin));
+        out.p2 = limits.pressure_reading(s.discharge_pressure.map(PressureAbs::pa));
+        out.t2 = limits.temperature_reading(s.discharge_temperature.map(Kelvin::kelvin));
+        out.flow = flow;
+        out.flow_measured = flow_measured;
+        // Only the tag without a supplied Z (no placeholder value).
+        match s.compressibility {
+            Some(m) => out.z = Some(compressibility(m)),
+            None => out.z = None,
         }
     }
 
@@ -762,7 +761,9 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize, const PUMPS: bool>
             .zip(si.iter_mut())
             .zip(self.detectors.iter_mut())
             .zip(self.snapshot.stages.iter_mut());
-        for ((((cfg, _raw), s), detector), out) in parts {
+        let mut upstream_flow = Measured::bad();
+        for ((((cfg, raw), s), detector), out) in parts {
+            Self::boundary(&self.limits, raw, s, &mut upstream_flow);
             let flow = if s.flow_measured { Some(s.flow) } else { None };
             // The ratio and temperature the stage's detector gets.
             let (ratio, temperature) = match cfg.kind {
