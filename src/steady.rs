@@ -235,6 +235,18 @@ impl<T: Real, const W: usize> RangeWindow<T, W> {
         *self = Self::new(self.phase);
     }
 
+    /// [`RangeWindow::clear`] unless the window is empty: an empty window
+    /// is already in that state (`len` is 0 only as built or cleared, and
+    /// its phase changes only with a clear), so it is not rewritten. A
+    /// stage whose inputs stay bad forgets its windows on every scan, and
+    /// rewriting them (three arrays of `W` values each) was a `memclr`
+    /// call per window.
+    fn forget(&mut self) {
+        if self.len != 0 {
+            self.clear();
+        }
+    }
+
     #[inline(always)]
     fn len(&self) -> usize {
         usize::from(self.len)
@@ -417,7 +429,10 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
         self.ratio.phase = ratio;
         self.temperature.phase = temperature;
         self.flow.phase = flow;
-        self.restart();
+        // Cleared whether empty or not: the phases changed.
+        self.temperature.clear();
+        self.ratio.clear();
+        self.flow.clear();
     }
 
     /// The first slots of the ratio, temperature and flow windows of the
@@ -439,9 +454,9 @@ impl<T: Real, const W: usize> SteadyStateDetector<T, W> {
     #[cold]
     #[inline(never)]
     fn restart(&mut self) {
-        self.temperature.clear();
-        self.ratio.clear();
-        self.flow.clear();
+        self.temperature.forget();
+        self.ratio.forget();
+        self.flow.forget();
     }
 
     /// Adds one scan. `temperature` may be a bad placeholder for stages
@@ -806,6 +821,40 @@ mod tests {
                 Ok(())
             })
             .unwrap();
+    }
+
+    #[test]
+    fn bad_scans_leave_the_state_of_a_fresh_detector() {
+        // Consistency check of `RangeWindow::forget`: after a bad scan, and
+        // after every further bad scan (which forgets windows that are
+        // already empty), a detector's whole state (through `Debug`) is that
+        // of a fresh detector of its stage, whatever it held before.
+        const W: usize = 8;
+        let cfg = SteadyStateConfig::<f32>::default();
+        for stage in 0..W + 2 {
+            for held in [0_u16, 1, 5, 8, 13] {
+                let mut d = SteadyStateDetector::<f32, W>::staggered(stage);
+                for i in 0..held {
+                    let x = 2.0 + f32::from(i % 5) * 0.01;
+                    let flow = (i % 3 != 0).then_some(Measured::good(10.0 * x));
+                    let _ = d.update(
+                        &cfg,
+                        Measured::good(x),
+                        Some(Measured::good(300.0 + x)),
+                        flow,
+                    );
+                }
+                for _ in 0..3 {
+                    let _ = d.update(&cfg, Measured::bad(), None, None);
+                    let want = SteadyStateDetector::<f32, W>::staggered(stage);
+                    assert_eq!(
+                        format!("{d:?}"),
+                        format!("{want:?}"),
+                        "stage {stage}, {held} held"
+                    );
+                }
+            }
+        }
     }
 
     #[test]

@@ -445,6 +445,31 @@ fn measure_trains(
         let r = label(h, "update_4_stages_3_intercoolers_regraded");
         measure(r, || update_budget(&mut budget, &s));
     }
+    // The same update when no stage can take the nominal finish, each scan
+    // for another reason on every stage: a failed discharge temperature
+    // sensor (bad), a stopped machine (the first stage's measured flow,
+    // which the others inherit, at zero: below the stationary flow), and a
+    // discharge temperature equal to the suction temperature (no rise: an
+    // implausible efficiency). Every stage then takes the general finish
+    // (out of line); the largest of the three is the most a scan of this
+    // train costs on the paths measured here.
+    for (i, raw) in SCANS.iter().skip(10).take(3).enumerate() {
+        let mut s = budget_scan(black_box(raw));
+        for st in s.stages.iter_mut() {
+            match i {
+                0 => st.discharge_temperature.quality = Quality::Bad,
+                1 => {
+                    if st.mass_flow.is_some() {
+                        st.mass_flow = Some(Measured::good(0.0));
+                    }
+                }
+                _ => st.discharge_temperature = st.suction_temperature,
+            }
+        }
+        let s = black_box(s);
+        let r = label(h, "update_4_stages_3_intercoolers_general");
+        measure(r, || update_budget(&mut budget, &s));
+    }
 }
 
 /// `Train::new` of the demo train, in its own frame.
