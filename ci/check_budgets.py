@@ -10,6 +10,8 @@
         a met target stays the budget); used after a measured change
 
 FIGURES.json is written by ci/measure.sh: {target: {key: value}}.
+A budget without `goal` is a guard: a figure issue 14 sets no target for,
+enforced at the measured figure + 2 % so that it cannot grow unnoticed.
 """
 import json
 import math
@@ -40,12 +42,15 @@ def markdown(rows):
     out = ["| budget (`ci/budgets.toml`) | issue 14 target | enforced budget | measured | |",
            "|---|---:|---:|---:|---|"]
     for b, v in rows:
-        met = v is not None and v <= b["goal"]
-        basis = "the target" if b["max"] == b["goal"] else f"measured + {b['margin']}"
+        goal = b.get("goal")
+        met = v is not None and goal is not None and v <= goal
+        basis = "the target" if b["max"] == goal else f"measured + {b['margin']}"
+        status = ("guard, no target" if goal is None
+                  else "target met" if met else "**target not met**")
         out.append(
-            f"| {b['what']}, {NAMES.get(b['target'], b['target'])} | {b['goal']:,} | "
-            f"{b['max']:,} ({basis}) | {'–' if v is None else f'{v:,}'} | "
-            f"{'target met' if met else '**target not met**'} |")
+            f"| {b['what']}, {NAMES.get(b['target'], b['target'])} | "
+            f"{'none' if goal is None else f'{goal:,}'} | "
+            f"{b['max']:,} ({basis}) | {'–' if v is None else f'{v:,}'} | {status} |")
     return "\n".join(out)
 
 
@@ -60,12 +65,15 @@ def check(rows, quiet=False):
                 print(f"budget: FAIL: {name}: {why}")
         else:
             if not quiet:
-                print(f"budget: ok: {name}: {v:,} <= {b['max']:,} (target {b['goal']:,})")
+                goal = b.get("goal")
+                target = "no target" if goal is None else f"target {goal:,}"
+                print(f"budget: ok: {name}: {v:,} <= {b['max']:,} ({target})")
     return failed
 
 
 def reset(argv):
-    """Rewrites `max` in the budget file: measured + 2 % where the target is unmet."""
+    """Rewrites `max` in the budget file: measured + 2 % where the target is
+    unmet or there is none (a guard)."""
     rows = load(argv)
     path = argv[1] if len(argv) > 1 else "ci/budgets.toml"
     blocks = open(path).read().split("[[budget]]")
@@ -74,8 +82,9 @@ def reset(argv):
         if v is None:
             print(f"budget: FAIL: {b['what']} ({b['target']}, {b['key']}): not measured")
             return 1
-        new = b["goal"] if v <= b["goal"] else math.ceil(v * 1.02)
-        margin = "target" if new == b["goal"] else "2 %"
+        goal = b.get("goal")
+        new = goal if goal is not None and v <= goal else math.ceil(v * 1.02)
+        margin = "target" if new == goal else "2 %"
         blk = re.sub(r"(?m)^max = .*$", f"max = {new}", blocks[i + 1])
         blocks[i + 1] = re.sub(r'(?m)^margin = .*$', f'margin = "{margin}"', blk)
         print(f"budget: {b['what']} ({b['target']}): {b['max']:,} -> {new:,} (measured {v:,})")

@@ -114,6 +114,7 @@ labels_doc = {
     "pump_stage": "one pump stage",
     "update_4_stages_3_intercoolers": "**full update, 4 stages + 3 intercoolers** (ideal gas, CO2 with constant k)",
     "update_4_stages_3_intercoolers_regraded": "the same update when every stage's output qualities change from the scan before (regraded: every other scan has uncertain suction temperatures; the line above is a steady scan's, whose stages keep their qualities)",
+    "update_4_stages_3_intercoolers_general": "the same update when no stage can take the nominal finish (the slowest of three scans: every discharge temperature bad, the machine stopped, no temperature rise; every stage takes the general finish)",
     "update_4_stages_3_intercoolers_peng_robinson": "**full update, 4 stages + 3 intercoolers, Peng–Robinson CO2**",
     "update_demo_5_stages": "full update, demo train (Peng–Robinson CO2: 4 compressors, 3 intercoolers, aftercooler, pump)",
     "train_new_demo_5_stages": "`Train::new` of the demo train (once, at start-up)",
