@@ -700,7 +700,7 @@ mod tests {
         assert_eq!((s.steady, s.samples), (false, 0));
     }
 
-    /// Feeds `values` (a clear where `None`) to a window and to a naive
+    /// Feeds `values` (a forget, as on a bad input, where `None`) to a window and to a naive
     /// history of the last `W` values, comparing minimum, maximum and spread
     /// with a full rescan after every write (a consistency check against
     /// the definition of the range over a moving window).
@@ -730,7 +730,9 @@ mod tests {
                     Some(r.write(v))
                 }
                 None => {
-                    r.clear();
+                    // What a detector does on a bad input (the old values
+                    // stay in the arrays).
+                    r.forget();
                     history.clear();
                     None
                 }
