@@ -267,19 +267,15 @@ impl<T: Real> Limits<T> {
         within_finite(m, self.min_temperature, self.max_temperature)
     }
 
-    /// [`Limits::pressure_valid`] in the form of the train's sensor
-    /// boundary, where almost every reading passes: the same result, with
-    /// a refused reading's placeholder formed out of line
-    /// (see `within_positive_bounds`).
-    #[inline]
-    pub(crate) fn pressure_reading(&self, m: Measured<T>) -> Measured<T> {
-        within_positive_bounds(m, self.min_pressure, self.max_pressure)
-    }
-
-    /// [`Limits::temperature_valid`] as [`Limits::pressure_reading`].
-    #[inline]
-    pub(crate) fn temperature_reading(&self, m: Measured<T>) -> Measured<T> {
-        within_positive_bounds(m, self.min_temperature, self.max_temperature)
+    /// The pressure and temperature ranges in the form of the train's
+    /// sensor boundary ([`within_span`]): each as [`Real::positive_span`]
+    /// bounds, made once (at the train's construction) instead of a span
+    /// per reading. For validated limits (finite, `0 < min < max`).
+    pub(crate) fn reading_spans(&self) -> [[T; 2]; 2] {
+        [
+            T::positive_span(self.min_pressure, self.max_pressure),
+            T::positive_span(self.min_temperature, self.max_temperature),
+        ]
     }
 
     /// [`Limits::mass_flow`] for validated limits (as
@@ -341,22 +337,23 @@ fn within_finite<T: Real>(m: Measured<T>, lo: T, hi: T) -> Measured<T> {
 }
 
 /// [`within_finite`] for finite bounds `0 < lo <= hi` (validated pressure
-/// and temperature limits), by [`Real::within_positive`] (integer compares
-/// on the bit patterns: the float compares' result for such bounds, NaN, the
-/// infinities, zeros and negative values outside), on every target. The
-/// usable reading in range is tested first, in one pass (the common case);
-/// a not-applicable reading stays not applicable and anything else is bad,
-/// as in [`within_finite`].
+/// and temperature limits) given as [`Real::positive_span`] bounds
+/// ([`Limits::reading_spans`]), by [`Real::within_positive_span`] (integer
+/// compares on the bit patterns: the float compares' result for such
+/// bounds, NaN, the infinities, zeros and negative values outside), on
+/// every target. The usable reading in range is tested first, in one pass
+/// (the common case); a not-applicable reading stays not applicable and
+/// anything else is bad, as in [`within_finite`].
 #[inline]
-fn within_positive_bounds<T: Real>(m: Measured<T>, lo: T, hi: T) -> Measured<T> {
-    if m.quality.is_usable() && T::within_positive(m.value, lo, hi) {
+pub(crate) fn within_span<T: Real>(m: Measured<T>, bounds: [T; 2]) -> Measured<T> {
+    if m.quality.is_usable() && T::within_positive_span(m.value, bounds) {
         m
     } else {
         refused_reading(m.quality)
     }
 }
 
-/// The placeholder for a reading [`within_positive_bounds`] refuses: not
+/// The placeholder for a reading [`within_span`] refuses: not
 /// applicable stays not applicable, anything else is bad. Out of line and
 /// cold: the accepted reading is then copied as it is, without a select
 /// per field.
@@ -509,11 +506,12 @@ mod tests {
                 assert!(same(l.pressure(m), l.pressure_valid(m)), "{v} {q:?}");
                 assert!(same(l.temperature(m), l.temperature_valid(m)), "{v} {q:?}");
                 assert!(same(l.mass_flow(m), l.mass_flow_valid(m)), "{v} {q:?}");
-                // The sensor boundary's form (integer compares, the refused
-                // reading out of line).
-                assert!(same(l.pressure(m), l.pressure_reading(m)), "{v} {q:?}");
+                // The sensor boundary's form (integer compares on the
+                // spans made beforehand, the refused reading out of line).
+                let [pressure, temperature] = l.reading_spans();
+                assert!(same(l.pressure(m), within_span(m, pressure)), "{v} {q:?}");
                 assert!(
-                    same(l.temperature(m), l.temperature_reading(m)),
+                    same(l.temperature(m), within_span(m, temperature)),
                     "{v} {q:?}"
                 );
             }

@@ -124,6 +124,15 @@ pub trait Real:
     /// order as their bits): one integer compare instead of two library
     /// calls.
     fn positive_at_most(x: Self, hi: Self) -> bool;
+    /// The bounds `0 < lo <= hi` of [`Real::within_positive`] as `lo` and
+    /// a value whose bit pattern is `hi`'s less `lo`'s (not a number to
+    /// compute with: a carrier of those bits), for
+    /// [`Real::within_positive_span`].
+    fn positive_span(lo: Self, hi: Self) -> [Self; 2];
+    /// [`Real::within_positive`] with bounds [`Real::positive_span`] made
+    /// beforehand: one subtraction and one compare (no span computed per
+    /// test).
+    fn within_positive_span(x: Self, bounds: [Self; 2]) -> bool;
 
     /// `a > b` for operands that are not NaN: the FPU's compare where there
     /// is one, [`Real::less_than`]`(b, a)` on the bit patterns where a float
@@ -274,6 +283,14 @@ macro_rules! impl_real {
             fn within_positive(x: Self, lo: Self, hi: Self) -> bool {
                 let from = lo.to_bits();
                 x.to_bits().wrapping_sub(from) <= hi.to_bits().wrapping_sub(from)
+            }
+            #[inline]
+            fn positive_span(lo: Self, hi: Self) -> [Self; 2] {
+                [lo, <$t>::from_bits(hi.to_bits().wrapping_sub(lo.to_bits()))]
+            }
+            #[inline]
+            fn within_positive_span(x: Self, [lo, span]: [Self; 2]) -> bool {
+                x.to_bits().wrapping_sub(lo.to_bits()) <= span.to_bits()
             }
             #[inline]
             fn from_u32(n: u32) -> Self {
@@ -500,6 +517,63 @@ mod tests {
         }
         check!(f32, bits::positive_at_most_f32);
         check!(f64, bits::positive_at_most_f64);
+    }
+
+    /// Consistency check (three forms of one comparison): for bounds
+    /// `0 < lo <= hi` (finite), `within_positive_span` on the bounds made
+    /// by `positive_span` equals `within_positive` and `lo <= x && x <= hi`
+    /// for zeros of both signs, subnormals, the bounds and their
+    /// neighbours, negative values, the infinities and NaN of either sign,
+    /// in both widths. (It fails with the span's subtraction left out.)
+    #[test]
+    fn within_positive_span_equals_the_float_compares() {
+        macro_rules! check {
+            ($t:ty) => {
+                let next = |x: $t| <$t>::from_bits(x.to_bits() + 1);
+                let prev = |x: $t| <$t>::from_bits(x.to_bits() - 1);
+                let bounds: [($t, $t); 5] = [
+                    (100.0, 1e9),
+                    (60.0, 1000.0),
+                    (1.0, 1.0),
+                    (<$t>::from_bits(1), <$t>::MAX),
+                    (1e-3, 2.0),
+                ];
+                for (lo, hi) in bounds {
+                    let span = <$t as Real>::positive_span(lo, hi);
+                    let xs = [
+                        0.0,
+                        -0.0,
+                        <$t>::from_bits(1),
+                        -<$t>::from_bits(1),
+                        lo,
+                        prev(lo),
+                        next(lo),
+                        hi,
+                        prev(hi),
+                        next(hi),
+                        -lo,
+                        -hi,
+                        0.5 * (lo + hi),
+                        <$t>::MAX,
+                        <$t>::INFINITY,
+                        <$t>::NEG_INFINITY,
+                        <$t>::NAN,
+                        -<$t>::NAN,
+                    ];
+                    for x in xs {
+                        let expected = x >= lo && x <= hi;
+                        assert_eq!(
+                            <$t as Real>::within_positive_span(x, span),
+                            expected,
+                            "{x:?} in [{lo:?}, {hi:?}]"
+                        );
+                        assert_eq!(<$t as Real>::within_positive(x, lo, hi), expected, "{x:?}");
+                    }
+                }
+            };
+        }
+        check!(f32);
+        check!(f64);
     }
 
     /// Largest relative error of the f32 function against the f64 one over

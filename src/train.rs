@@ -14,7 +14,7 @@ use crate::cooler::{
 };
 use crate::error::{check_range, refusal, ConfigError, Problem};
 use crate::gas::GasModel;
-use crate::plausibility::{compressibility, efficiency_allowance, Limits};
+use crate::plausibility::{compressibility, efficiency_allowance, within_span, Limits};
 use crate::quality::{Measured, Quality};
 use crate::real::{Real, HARD_FLOAT};
 use crate::scan::{Scan, StageScan};
@@ -174,6 +174,10 @@ pub struct Train<T, G, const N: usize, const W: usize, const PUMPS: bool = true>
     /// The compressor stages' check thresholds from `limits` (which do not
     /// change after construction).
     stage_thresholds: StageThresholds<T>,
+    /// The pressure and temperature limits as [`Real::positive_span`]
+    /// bounds (constants of the train): the sensor boundary's range tests
+    /// without the span computed per reading.
+    reading_spans: [[T; 2]; 2],
     /// The compressor stages' dependency tables for the gas model's
     /// property inputs (rebuilt if a replaced model's inputs differ).
     stage_uses: StageUses,
@@ -513,9 +517,11 @@ macro_rules! built_train {
         let stage_uses = $stage_uses(config.gas.property_inputs());
         let equal_ratio_exponent = equal_ratio_fraction(u32::from(compressor_stages), 0);
         let stage_thresholds = StageThresholds::of(&limits);
+        let reading_spans = limits.reading_spans();
         Train {
             config,
             limits,
+            reading_spans,
             configured_z,
             compressor_stages,
             equal_ratio_exponent,
@@ -711,6 +717,7 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize, const PUMPS: bool>
     #[inline(always)]
     fn boundary(
         limits: &Limits<T>,
+        spans: &[[T; 2]; 2],
         s: &StageScan<T>,
         out: &mut StageSi<T>,
         upstream_flow: &mut Measured<T>,
@@ -725,10 +732,13 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize, const PUMPS: bool>
         *upstream_flow = flow;
         // Field by field (every field written): each reading stored as
         // soon as it is checked, so few values are live at once.
-        out.p1 = limits.pressure_reading(s.suction_pressure.map(PressureAbs::pa));
-        out.t1 = limits.temperature_reading(s.suction_temperature.map(Kelvin::kelvin));
-        out.p2 = limits.pressure_reading(s.discharge_pressure.map(PressureAbs::pa));
-        out.t2 = limits.temperature_reading(s.discharge_temperature.map(Kelvin::kelvin));
+        // The pressure and temperature ranges as spans made at
+        // construction (`Limits::reading_spans`: no span per reading).
+        let [pressure, temperature] = *spans;
+        out.p1 = within_span(s.suction_pressure.map(PressureAbs::pa), pressure);
+        out.t1 = within_span(s.suction_temperature.map(Kelvin::kelvin), temperature);
+        out.p2 = within_span(s.discharge_pressure.map(PressureAbs::pa), pressure);
+        out.t2 = within_span(s.discharge_temperature.map(Kelvin::kelvin), temperature);
         out.flow = flow;
         out.flow_measured = flow_measured;
         // Only the tag without a supplied Z (no placeholder value).
@@ -763,7 +773,13 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize, const PUMPS: bool>
             .zip(self.snapshot.stages.iter_mut());
         let mut upstream_flow = Measured::bad();
         for ((((cfg, raw), s), detector), out) in parts {
-            Self::boundary(&self.limits, raw, s, &mut upstream_flow);
+            Self::boundary(
+                &self.limits,
+                &self.reading_spans,
+                raw,
+                s,
+                &mut upstream_flow,
+            );
             let flow = if s.flow_measured { Some(s.flow) } else { None };
             // The ratio and temperature the stage's detector gets.
             let (ratio, temperature) = match cfg.kind {
