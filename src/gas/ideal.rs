@@ -680,7 +680,9 @@ impl<T: Real, const CP_POLYNOMIAL: bool> GasModel<T> for IdealGas<T, CP_POLYNOMI
         let m_k = props.m_k;
         let zr = props.z * self.gas_constant;
         let zrt1 = zr * t1;
-        let t2s_over_t1 = T::exp(m_k * ln_ratio);
+        // Inlined here, as the discharge state's logarithm below: a
+        // compressor stage's scan (`Real::ln_inline`).
+        let t2s_over_t1 = T::exp_inline(m_k * ln_ratio);
         let validity = self.validity(T::max(p1, p2), t1);
         let mut out = CompressionStates {
             suction_z: props.z,
@@ -698,7 +700,7 @@ impl<T: Real, const CP_POLYNOMIAL: bool> GasModel<T> for IdealGas<T, CP_POLYNOMI
         };
         if let Some(t2) = t2 {
             let dt = t2 - t1;
-            let ln_t = T::ln(t2 / t1);
+            let ln_t = T::ln_inline(t2 / t1);
             out.has_discharge = true;
             out.discharge_z = props.z;
             out.enthalpy_rise = props.z * props.cp * dt;

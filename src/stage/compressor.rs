@@ -689,7 +689,8 @@ fn stage_states<T: Real, G: GasModel<T>>(
     // the isothermal head (compressing implies usable pressures, so the
     // path ratio is the measured one). Without usable pressures both path
     // pressures are one value, their ratio exactly 1: no second division.
-    let ln_path = T::ln(path.ln_argument);
+    // Inlined (`Real::ln_inline`: the stage's scan).
+    let ln_path = T::ln_inline(path.ln_argument);
     // Suction, isentropic and (with a usable T2) discharge states in one
     // call. A model whose discharge state is separable is always asked for
     // one (without a usable T2 the path T2 is the path T1: the same
