@@ -441,6 +441,25 @@ pub(crate) trait StageReadings<T> {
     fn readings(&self) -> [Measured<T>; 5];
     /// [`CompressorInputs::compressibility`].
     fn compressibility(&self) -> Option<(T, Quality)>;
+    /// The slots' part of the grading key of these readings
+    /// ([`slot_key`]; a supplied Z's quality, good without one). A train
+    /// gives the key its sensor boundary built as it checked each reading.
+    #[inline(always)]
+    fn slot_key(&self) -> u16 {
+        let [p1, p2, t1, t2, flow] = self.readings();
+        let q_z = match self.compressibility() {
+            Some((_, q)) => q,
+            None => Quality::Good,
+        };
+        slot_key([
+            p1.quality,
+            t1.quality,
+            p2.quality,
+            t2.quality,
+            flow.quality,
+            q_z,
+        ])
+    }
 }
 
 impl<T: Copy> StageReadings<T> for CompressorInputs<T> {
@@ -492,20 +511,9 @@ pub(crate) fn evaluate_compressor_tabled<T: Real, G: GasModel<T>, I: StageReadin
     match tables {
         Some(t) => {
             let [p1, p2, t1, t2, flow] = inp.readings();
-            let q_z = match inp.compressibility() {
-                Some((_, q)) => q,
-                None => Quality::Good,
-            };
             // The slots' part of the grading key; every slot usable in one
             // test.
-            let key = slot_key([
-                p1.quality,
-                t1.quality,
-                p2.quality,
-                t2.quality,
-                flow.quality,
-                q_z,
-            ]);
+            let key = inp.slot_key();
             let usable = key & KEY_NOT_USABLE == 0;
             // Every slot usable: the path values are the readings (as
             // `path_values` gives them then), without its selections.
