@@ -842,57 +842,53 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize, const PUMPS: bool>
                 &mut upstream_flow,
             );
             let flow = if s.flow_measured { Some(s.flow) } else { None };
-            // The ratio and temperature the stage's detector gets.
-            let (ratio, temperature) = match cfg.kind {
-                StageKind::Compressor => {
-                    // The boundary's values read in place (no
-                    // `CompressorInputs` copy), the result written in
-                    // place: building one and copying it costs a ~124-byte
-                    // memcpy per stage on the device.
-                    // `Train::new` set this slot's variant from the same
-                    // (immutable) configuration, so it is a compressor.
-                    if let StageWork::Compressor(c) = &mut out.work {
-                        let mut settled = s.stage_settled;
-                        evaluate_compressor_tabled(
-                            &self.config.gas,
-                            &Keyed { si: &*s, key },
-                            &self.stage_thresholds,
-                            Some(&self.stage_uses),
-                            c,
-                            &mut settled,
-                        );
-                        s.stage_settled = settled;
-                    }
-                    (out.pressure_ratio(), s.t2)
-                }
-                StageKind::Pump {
-                    density,
-                    efficiency,
-                } => {
-                    // Out of line: see `pump_stage`. A train without pump
-                    // stages refused any at construction (`check_stage`) and
-                    // its stage kinds are immutable, so this arm is never
-                    // taken there and `PUMPS` removes it, and the pump code
-                    // with it, at compile time.
-                    let ratio = if PUMPS {
-                        pump_stage(
-                            &self.config.gas,
-                            &self.limits,
-                            [density, efficiency],
-                            s,
-                            out,
-                        )
-                    } else {
-                        Measured::bad()
-                    };
-                    // A pump has no meaningful discharge temperature: a
-                    // constant stands in for it on every scan (the stage
-                    // kind is immutable), so its window's spread is 0, as
-                    // an empty window's (what the general update gives
-                    // without a temperature), and the compressor's update
-                    // serves (one inlined copy).
-                    (ratio, Measured::good(T::ZERO))
-                }
+            // The ratio and temperature the stage's detector gets. The
+            // stage's kind read from its result's variant, which
+            // `Train::new` set from the same (immutable) configuration: one
+            // test, and a compressor stage's scan does not read its
+            // configuration.
+            let (ratio, temperature) = if let StageWork::Compressor(c) = &mut out.work {
+                // The boundary's values read in place (no `CompressorInputs`
+                // copy), the result written in place: building one and
+                // copying it costs a ~124-byte memcpy per stage on the
+                // device.
+                let mut settled = s.stage_settled;
+                evaluate_compressor_tabled(
+                    &self.config.gas,
+                    &Keyed { si: &*s, key },
+                    &self.stage_thresholds,
+                    Some(&self.stage_uses),
+                    c,
+                    &mut settled,
+                );
+                s.stage_settled = settled;
+                (c.pressure_ratio, s.t2)
+            } else {
+                // Out of line: see `pump_stage`. A train without pump
+                // stages refused any at construction (`check_stage`) and its
+                // stage kinds are immutable, so this arm is never taken there
+                // and `PUMPS` removes it, and the pump code with it, at
+                // compile time.
+                let ratio = match cfg.kind {
+                    StageKind::Pump {
+                        density,
+                        efficiency,
+                    } if PUMPS => pump_stage(
+                        &self.config.gas,
+                        &self.limits,
+                        [density, efficiency],
+                        s,
+                        out,
+                    ),
+                    _ => Measured::bad(),
+                };
+                // A pump has no meaningful discharge temperature: a
+                // constant stands in for it on every scan (the stage kind is
+                // immutable), so its window's spread is 0, as an empty
+                // window's (what the general update gives without a
+                // temperature), and the compressor's update serves (one
+                // inlined copy).
+                (ratio, Measured::good(T::ZERO))
             };
             // The configuration passed `SteadyStateConfig::validate` in
             // `Train::validate` (every constructor) and is immutable; every
