@@ -446,20 +446,27 @@ pub(crate) trait StageReadings<T> {
     /// gives the key its sensor boundary built as it checked each reading.
     #[inline(always)]
     fn slot_key(&self) -> u16 {
-        let [p1, p2, t1, t2, flow] = self.readings();
-        let q_z = match self.compressibility() {
-            Some((_, q)) => q,
-            None => Quality::Good,
-        };
-        slot_key([
-            p1.quality,
-            t1.quality,
-            p2.quality,
-            t2.quality,
-            flow.quality,
-            q_z,
-        ])
+        readings_key(self.readings(), self.compressibility())
     }
+}
+
+/// The slots' part of the grading key ([`slot_key`]) of readings in the
+/// order of [`StageReadings::readings`] and a supplied Z (good without
+/// one).
+#[inline(always)]
+fn readings_key<T>([p1, p2, t1, t2, flow]: [Measured<T>; 5], z: Option<(T, Quality)>) -> u16 {
+    let q_z = match z {
+        Some((_, q)) => q,
+        None => Quality::Good,
+    };
+    slot_key([
+        p1.quality,
+        t1.quality,
+        p2.quality,
+        t2.quality,
+        flow.quality,
+        q_z,
+    ])
 }
 
 impl<T: Copy> StageReadings<T> for CompressorInputs<T> {
@@ -762,11 +769,6 @@ fn finish_general<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     // order); the rest are bad or not applicable once settled.
     let mut done: u16 = 0;
     let [p1, p2, t1, t2, flow] = inp.readings();
-    let q_z = match inp.compressibility() {
-        Some((_, q)) if q.is_usable() => q,
-        Some((_, q)) => q.worst(Quality::Bad),
-        None => Quality::Good,
-    };
     let p_ok = p1.quality.is_usable() && p2.quality.is_usable();
     let t1_ok = t1.quality.is_usable();
     let t2_ok = t2.quality.is_usable();
@@ -933,14 +935,7 @@ fn finish_general<T: Real, G: GasModel<T>, I: StageReadings<T>>(
     // low bit alone uncertain, high bit alone bad, both not applicable) by
     // shifts and masks, as `Grades::first_slot` for each slot gives them
     // (six inlined matches were 112 bytes more flash on Cortex-M4F).
-    let key = slot_key([
-        p1.quality,
-        t1.quality,
-        p2.quality,
-        t2.quality,
-        flow.quality,
-        q_z,
-    ]);
+    let key = readings_key([p1, p2, t1, t2, flow], inp.compressibility());
     let (lo, hi) = (key_slots(key, 0), key_slots(key, 1));
     let mut g = Grades::of_slots(Slots(lo & !hi), Slots(hi & !lo), Slots(lo & hi));
     if checks.has(CompressorChecks::RATIO_OUT_OF_RANGE) {
