@@ -353,18 +353,25 @@ pub(crate) fn within_span<T: Real>(m: Measured<T>, bounds: [T; 2]) -> Measured<T
     }
 }
 
-/// The placeholder for a reading [`within_span`] refuses: not
-/// applicable stays not applicable, anything else is bad. Out of line and
-/// cold: the accepted reading is then copied as it is, without a select
-/// per field.
+/// The quality of a reading [`within_span`] refuses: not applicable
+/// stays not applicable, anything else is bad (the one statement of that
+/// rule; the train's sensor boundary reads it for its grading key).
+#[inline(always)]
+pub(crate) fn refused_quality(q: Quality) -> Quality {
+    if q == Quality::NotApplicable {
+        Quality::NotApplicable
+    } else {
+        Quality::Bad
+    }
+}
+
+/// The placeholder for a reading [`within_span`] refuses: the value 0
+/// with [`refused_quality`]. Out of line and cold: the accepted reading is
+/// then copied as it is, without a select per field.
 #[cold]
 #[inline(never)]
 fn refused_reading<T: Real>(q: Quality) -> Measured<T> {
-    if q == Quality::NotApplicable {
-        Measured::not_applicable()
-    } else {
-        Measured::bad()
-    }
+    Measured::new(T::ZERO, refused_quality(q))
 }
 
 /// A supplied compressibility factor: bad unless finite and within

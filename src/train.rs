@@ -14,7 +14,9 @@ use crate::cooler::{
 };
 use crate::error::{check_range, refusal, ConfigError, Problem};
 use crate::gas::GasModel;
-use crate::plausibility::{compressibility, efficiency_allowance, within_span, Limits};
+use crate::plausibility::{
+    compressibility, efficiency_allowance, refused_quality, within_span, Limits,
+};
 use crate::quality::{Measured, Quality};
 use crate::real::{Real, HARD_FLOAT};
 use crate::scan::{Scan, StageScan};
@@ -757,8 +759,6 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize, const PUMPS: bool>
             None => (*upstream_flow, false),
         };
         *upstream_flow = flow;
-        // Field by field (every field written): each reading stored as
-        // soon as it is checked, so few values are live at once.
         // The pressure and temperature ranges as spans made at
         // construction (`Limits::reading_spans`: no span per reading).
         let [pressure, temperature] = *spans;
@@ -767,22 +767,22 @@ impl<T: Real, G: GasModel<T>, const N: usize, const W: usize, const PUMPS: bool>
         // quality stays live for the key; returned for the stage's
         // evaluation (`Keyed`). A checked reading's bits are its own
         // quality's where it is accepted and the refused placeholder's
-        // (`within_span`: not applicable 3, else bad 2) otherwise, formed
-        // here rather than read from the placeholder (measured on
-        // Cortex-M4F: 4 instructions fewer for the 4-stage update, which
-        // no longer zero-extends the placeholders' qualities).
+        // (`refused_quality`) otherwise, formed here rather than read from
+        // the placeholder (measured on Cortex-M4F: 4 instructions fewer for
+        // the 4-stage update, which no longer zero-extends the
+        // placeholders' qualities).
         let q = |m: Measured<T>, slot: u32| u16::from(m.quality as u8) << (2 * slot);
         let checked = |m: Measured<T>, span: [T; 2], slot: u32| {
             let inside = m.quality.is_usable() && T::within_positive_span(m.value, span);
-            let bits = if inside {
-                m.quality as u16
-            } else if m.quality == Quality::NotApplicable {
-                3
+            let quality = if inside {
+                m.quality
             } else {
-                2
+                refused_quality(m.quality)
             };
-            (within_span(m, span), bits << (2 * slot))
+            (within_span(m, span), (quality as u16) << (2 * slot))
         };
+        // Field by field (every field written): each reading stored as
+        // soon as it is checked, so few values are live at once.
         let (p1, mut key) = checked(s.suction_pressure.map(PressureAbs::pa), pressure, 0);
         out.p1 = p1;
         let (t1, bits) = checked(s.suction_temperature.map(Kelvin::kelvin), temperature, 1);
